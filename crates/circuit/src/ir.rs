@@ -1,0 +1,897 @@
+//! The elaborated circuit: the plain-data value every later stage consumes.
+//!
+//! Everything here is already checked and evaluated to SI numbers: nodes are
+//! numbered (ground is `None`), models are bound by kind, parameters are
+//! evaluated. Solvers, measurements and studies read these types and never
+//! look back at text.
+
+use std::collections::BTreeMap;
+
+/// Where something came from in the input, for messages after elaboration.
+#[derive(Debug, Clone, PartialEq, Eq, Default)]
+pub struct Origin {
+    /// File path as given (or as resolved for includes).
+    pub file: String,
+    /// 1-based line.
+    pub line: u32,
+    /// 1-based column.
+    pub column: u32,
+}
+
+/// A node reference: `None` is ground (`gnd`), `Some(i)` indexes [`Circuit::nodes`].
+pub type NodeId = Option<usize>;
+
+/// Index into [`Circuit::elements`].
+pub type ElementId = usize;
+
+/// Index into [`Circuit::models`].
+pub type ModelId = usize;
+
+/// A whole elaborated stage.
+#[derive(Debug, Clone, Default)]
+pub struct Circuit {
+    /// `title "..."`, if given.
+    pub title: Option<String>,
+    /// Ambient temperature in kelvin (`temperature`, default 25 °C = 298.15 K).
+    pub temperature_k: f64,
+    /// Names of the non-ground nodes; `NodeId` `Some(i)` is `nodes[i]`.
+    pub nodes: Vec<String>,
+    /// Every element in file order.
+    pub elements: Vec<Element>,
+    /// Every model that some element uses or that is declared.
+    pub models: Vec<Model>,
+    /// The element whose absorbed power is the stage's output (`output NAME`).
+    pub output: Option<ElementId>,
+    /// The drive source (`input NAME`).
+    pub input: Option<ElementId>,
+    /// Analyses in file order.
+    pub analyses: Vec<Analysis>,
+    /// User masks (built-in masks live in the measure crate and are named by `MaskRef::Builtin`).
+    pub masks: Vec<Mask>,
+    /// Requirements in file order.
+    pub requirements: Vec<Requirement>,
+    /// Sweeps, tolerances and Monte Carlo settings.
+    pub study: StudySpec,
+    /// Every `let` parameter, evaluated (after overrides).
+    pub params: BTreeMap<String, f64>,
+}
+
+/// One element instance.
+#[derive(Debug, Clone)]
+pub struct Element {
+    /// Instance name, unique in the circuit.
+    pub name: String,
+    /// What it is and its evaluated values.
+    pub kind: ElementKind,
+    /// Where it was written.
+    pub origin: Origin,
+}
+
+/// Element kinds with their evaluated values (SI units).
+#[derive(Debug, Clone)]
+pub enum ElementKind {
+    /// `resistor NAME a b VALUE [rating=W]`.
+    Resistor {
+        /// Terminal a.
+        a: NodeId,
+        /// Terminal b.
+        b: NodeId,
+        /// Resistance, Ω (> 0).
+        r: f64,
+        /// Power rating, W.
+        rating_w: Option<f64>,
+    },
+    /// `capacitor NAME a b VALUE [rating=V]`.
+    Capacitor {
+        /// Terminal a.
+        a: NodeId,
+        /// Terminal b.
+        b: NodeId,
+        /// Capacitance, F (> 0).
+        c: f64,
+        /// Voltage rating, V.
+        rating_v: Option<f64>,
+    },
+    /// `inductor NAME a b VALUE [r=Ω | q=Q [qfreq=Hz]] [rating=A]`.
+    Inductor {
+        /// Terminal a (branch current flows a → b through the inductor).
+        a: NodeId,
+        /// Terminal b.
+        b: NodeId,
+        /// Inductance, H (> 0).
+        l: f64,
+        /// Series loss resistance, Ω (≥ 0); a `q=` is converted to r = 2π f L / Q.
+        series_r: f64,
+        /// Current rating (RMS), A.
+        rating_a: Option<f64>,
+    },
+    /// `coupling NAME L1 L2 [L3 ...] k=K`: mutual inductance M = k √(L_i L_j) for every pair.
+    Coupling {
+        /// The coupled inductors (element ids of `Inductor`s), at least two.
+        inductors: Vec<ElementId>,
+        /// Coupling coefficient, |k| ≤ 1.
+        k: f64,
+    },
+    /// `vsource NAME p n [dc=V] [wave=...] [rs=Ω]`: v(p) − v(n) = dc + wave(t) behind rs.
+    VSource {
+        /// Positive terminal.
+        p: NodeId,
+        /// Negative terminal.
+        n: NodeId,
+        /// The source value over time.
+        wave: Waveform,
+        /// Source resistance, Ω (0 = ideal).
+        rs: f64,
+    },
+    /// `isource NAME p n [dc=A] [wave=...]`: current dc + wave(t) flows from p through the source to n.
+    ISource {
+        /// Terminal the current leaves the external circuit into.
+        p: NodeId,
+        /// Terminal the current returns to the external circuit from.
+        n: NodeId,
+        /// The source value over time.
+        wave: Waveform,
+    },
+    /// `diode NAME anode cathode model=M [area=X]`.
+    Diode {
+        /// Anode.
+        a: NodeId,
+        /// Cathode.
+        k: NodeId,
+        /// Bound diode model.
+        model: ModelId,
+        /// Area factor (scales currents and capacitances), default 1.
+        area: f64,
+    },
+    /// `bjt NAME c=.. b=.. e=.. model=M [area=X]`.
+    Bjt {
+        /// Collector.
+        c: NodeId,
+        /// Base.
+        b: NodeId,
+        /// Emitter.
+        e: NodeId,
+        /// Bound npn or pnp model.
+        model: ModelId,
+        /// Area factor, default 1.
+        area: f64,
+    },
+}
+
+impl ElementKind {
+    /// The terminals of this element (empty for a coupling).
+    pub fn terminals(&self) -> Vec<NodeId> {
+        match self {
+            ElementKind::Resistor { a, b, .. }
+            | ElementKind::Capacitor { a, b, .. }
+            | ElementKind::Inductor { a, b, .. } => vec![*a, *b],
+            ElementKind::VSource { p, n, .. } | ElementKind::ISource { p, n, .. } => vec![*p, *n],
+            ElementKind::Diode { a, k, .. } => vec![*a, *k],
+            ElementKind::Bjt { c, b, e, .. } => vec![*c, *b, *e],
+            ElementKind::Coupling { .. } => vec![],
+        }
+    }
+    /// The statement keyword of this kind (`"resistor"`, …).
+    pub fn keyword(&self) -> &'static str {
+        match self {
+            ElementKind::Resistor { .. } => "resistor",
+            ElementKind::Capacitor { .. } => "capacitor",
+            ElementKind::Inductor { .. } => "inductor",
+            ElementKind::Coupling { .. } => "coupling",
+            ElementKind::VSource { .. } => "vsource",
+            ElementKind::ISource { .. } => "isource",
+            ElementKind::Diode { .. } => "diode",
+            ElementKind::Bjt { .. } => "bjt",
+        }
+    }
+}
+
+/// A source value over time: `dc + shape(t)`.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Waveform {
+    /// Constant part (`dc=`), V or A.
+    pub dc: f64,
+    /// Time-varying part (`wave=`), if any.
+    pub shape: Option<Shape>,
+}
+
+/// Time-varying source shapes.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Shape {
+    /// `sine(amp, freq, phase, offset, delay, rise)`:
+    /// `offset + amp·env(t)·sin(2π freq (t − delay) + phase)` for t ≥ delay, `offset` before,
+    /// where env ramps from 0 to 1 over `rise` seconds after `delay` (raised cosine), 1 if rise = 0.
+    Sine {
+        /// Peak amplitude.
+        amp: f64,
+        /// Frequency, Hz (> 0).
+        freq: f64,
+        /// Phase, radians (written in degrees with `deg`, or as a plain number of degrees).
+        phase: f64,
+        /// Constant offset.
+        offset: f64,
+        /// Start delay, s.
+        delay: f64,
+        /// Amplitude rise time, s (0 = none).
+        rise: f64,
+    },
+    /// `pulse(low, high, delay, rise, fall, width, period)`.
+    Pulse {
+        /// Initial value.
+        low: f64,
+        /// Pulsed value.
+        high: f64,
+        /// Delay before the first edge, s.
+        delay: f64,
+        /// Rise time, s.
+        rise: f64,
+        /// Fall time, s.
+        fall: f64,
+        /// Time at `high`, s.
+        width: f64,
+        /// Period, s (0 or ∞ = single pulse).
+        period: f64,
+    },
+    /// `pwl(t1 v1 t2 v2 ...)`: piecewise linear, held flat outside, times strictly increasing.
+    Pwl(Vec<(f64, f64)>),
+}
+
+/// Kind of a model block.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ModelKind {
+    /// npn bipolar transistor.
+    Npn,
+    /// pnp bipolar transistor.
+    Pnp,
+    /// Junction diode.
+    Diode,
+}
+
+/// A bound model with typed, evaluated parameters.
+#[derive(Debug, Clone)]
+pub struct Model {
+    /// Model name.
+    pub name: String,
+    /// The parameters.
+    pub params: ModelParams,
+    /// Where it was declared.
+    pub origin: Origin,
+}
+
+/// Typed model parameters, by kind.
+#[derive(Debug, Clone)]
+pub enum ModelParams {
+    /// Diode parameters.
+    Diode(DiodeParams),
+    /// Bipolar parameters; `polarity` tells npn from pnp.
+    Bjt(BjtParams),
+}
+
+impl Model {
+    /// The kind of this model.
+    pub fn kind(&self) -> ModelKind {
+        match &self.params {
+            ModelParams::Diode(_) => ModelKind::Diode,
+            ModelParams::Bjt(p) => {
+                if p.pnp {
+                    ModelKind::Pnp
+                } else {
+                    ModelKind::Npn
+                }
+            }
+        }
+    }
+}
+
+/// Junction diode parameters (names are the stage-file spellings; see docs/models.md).
+#[derive(Debug, Clone, PartialEq)]
+pub struct DiodeParams {
+    /// `sat_current` — saturation current I_S, A. Default 1e-14.
+    pub sat_current: f64,
+    /// `emission` — emission coefficient n. Default 1.
+    pub emission: f64,
+    /// `r_series` — ohmic series resistance, Ω. Default 0.
+    pub r_series: f64,
+    /// `cj0` — zero-bias depletion capacitance C_j0, F. Default 0.
+    pub cj0: f64,
+    /// `v_junction` — built-in potential V_j, V. Default 0.7.
+    pub v_junction: f64,
+    /// `grading` — grading exponent m. Default 0.5.
+    pub grading: f64,
+    /// `linear_from` — fraction of V_j above which depletion charge is linearised (F_C). Default 0.5.
+    pub linear_from: f64,
+    /// `transit` — transit time τ_T, s. Default 0.
+    pub transit: f64,
+    /// `breakdown` — reverse breakdown voltage, V (positive). Default ∞ (none).
+    pub breakdown: f64,
+    /// `breakdown_current` — current at the breakdown voltage, A. Default 1e-10.
+    pub breakdown_current: f64,
+    /// `gap` — band-gap energy E_g, eV. Default 1.11.
+    pub gap: f64,
+    /// `sat_temp_exp` — saturation-current temperature exponent X_TI. Default 3.
+    pub sat_temp_exp: f64,
+    /// `t_measured` — temperature the parameters were taken at, K. Default 298.15 (25 °C).
+    pub t_measured: f64,
+}
+
+impl Default for DiodeParams {
+    fn default() -> Self {
+        Self {
+            sat_current: 1e-14,
+            emission: 1.0,
+            r_series: 0.0,
+            cj0: 0.0,
+            v_junction: 0.7,
+            grading: 0.5,
+            linear_from: 0.5,
+            transit: 0.0,
+            breakdown: f64::INFINITY,
+            breakdown_current: 1e-10,
+            gap: 1.11,
+            sat_temp_exp: 3.0,
+            t_measured: 298.15,
+        }
+    }
+}
+
+/// Bipolar transistor parameters (Gummel–Poon type), stage-file spellings; see docs/models.md.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BjtParams {
+    /// true for a pnp model.
+    pub pnp: bool,
+    /// `sat_current` — transport saturation current I_S, A. Default 1e-15.
+    pub sat_current: f64,
+    /// `gain_fwd` — ideal maximum forward current gain β_F. Default 100.
+    pub gain_fwd: f64,
+    /// `gain_rev` — ideal maximum reverse current gain β_R. Default 1.
+    pub gain_rev: f64,
+    /// `emission_fwd` — forward emission coefficient n_F. Default 1.
+    pub emission_fwd: f64,
+    /// `emission_rev` — reverse emission coefficient n_R. Default 1.
+    pub emission_rev: f64,
+    /// `early_fwd` — forward Early voltage V_AF, V. Default ∞.
+    pub early_fwd: f64,
+    /// `early_rev` — reverse Early voltage V_AR, V. Default ∞.
+    pub early_rev: f64,
+    /// `knee_fwd` — forward high-injection knee current I_KF, A. Default ∞.
+    pub knee_fwd: f64,
+    /// `knee_rev` — reverse high-injection knee current I_KR, A. Default ∞.
+    pub knee_rev: f64,
+    /// `leak_be` — base–emitter recombination saturation current I_SE, A. Default 0.
+    pub leak_be: f64,
+    /// `leak_be_emission` — its emission coefficient n_E. Default 1.5.
+    pub leak_be_emission: f64,
+    /// `leak_bc` — base–collector recombination saturation current I_SC, A. Default 0.
+    pub leak_bc: f64,
+    /// `leak_bc_emission` — its emission coefficient n_C. Default 2.
+    pub leak_bc_emission: f64,
+    /// `r_base` — ohmic base resistance, Ω. Default 0.
+    pub r_base: f64,
+    /// `r_collector` — ohmic collector resistance, Ω. Default 0.
+    pub r_collector: f64,
+    /// `r_emitter` — ohmic emitter resistance, Ω. Default 0.
+    pub r_emitter: f64,
+    /// `cj_be` — base–emitter zero-bias depletion capacitance, F. Default 0.
+    pub cj_be: f64,
+    /// `vj_be` — base–emitter built-in potential, V. Default 0.75.
+    pub vj_be: f64,
+    /// `grading_be` — base–emitter grading exponent. Default 0.33.
+    pub grading_be: f64,
+    /// `cj_bc` — base–collector zero-bias depletion capacitance, F. Default 0.
+    pub cj_bc: f64,
+    /// `vj_bc` — base–collector built-in potential, V. Default 0.75.
+    pub vj_bc: f64,
+    /// `grading_bc` — base–collector grading exponent. Default 0.33.
+    pub grading_bc: f64,
+    /// `linear_from` — depletion linearisation fraction F_C. Default 0.5.
+    pub linear_from: f64,
+    /// `transit_fwd` — forward transit time τ_F, s. Default 0.
+    pub transit_fwd: f64,
+    /// `transit_rev` — reverse transit time τ_R, s. Default 0.
+    pub transit_rev: f64,
+    /// `gap` — band-gap energy E_g, eV. Default 1.11.
+    pub gap: f64,
+    /// `sat_temp_exp` — I_S temperature exponent X_TI. Default 3.
+    pub sat_temp_exp: f64,
+    /// `gain_temp_exp` — current-gain temperature exponent X_TB. Default 0.
+    pub gain_temp_exp: f64,
+    /// `t_measured` — temperature the parameters were taken at, K. Default 298.15 (25 °C).
+    pub t_measured: f64,
+    /// `max_vce` — collector–emitter voltage rating, V. Default ∞ (unrated).
+    pub max_vce: f64,
+    /// `max_ic` — collector current rating, A. Default ∞.
+    pub max_ic: f64,
+    /// `max_power` — dissipation rating, W. Default ∞.
+    pub max_power: f64,
+    /// `max_tj` — junction temperature rating, K (written in degC). Default ∞.
+    pub max_tj: f64,
+    /// `rth_ja` — thermal resistance junction to ambient, K/W. Default ∞ (unset: use rth_jc + rth_sink if given).
+    pub rth_ja: f64,
+    /// `rth_jc` — thermal resistance junction to case, K/W. Default ∞.
+    pub rth_jc: f64,
+    /// `rth_sink` — thermal resistance case to ambient through the heatsink, K/W. Default ∞.
+    pub rth_sink: f64,
+}
+
+impl Default for BjtParams {
+    fn default() -> Self {
+        Self {
+            pnp: false,
+            sat_current: 1e-15,
+            gain_fwd: 100.0,
+            gain_rev: 1.0,
+            emission_fwd: 1.0,
+            emission_rev: 1.0,
+            early_fwd: f64::INFINITY,
+            early_rev: f64::INFINITY,
+            knee_fwd: f64::INFINITY,
+            knee_rev: f64::INFINITY,
+            leak_be: 0.0,
+            leak_be_emission: 1.5,
+            leak_bc: 0.0,
+            leak_bc_emission: 2.0,
+            r_base: 0.0,
+            r_collector: 0.0,
+            r_emitter: 0.0,
+            cj_be: 0.0,
+            vj_be: 0.75,
+            grading_be: 0.33,
+            cj_bc: 0.0,
+            vj_bc: 0.75,
+            grading_bc: 0.33,
+            linear_from: 0.5,
+            transit_fwd: 0.0,
+            transit_rev: 0.0,
+            gap: 1.11,
+            sat_temp_exp: 3.0,
+            gain_temp_exp: 0.0,
+            t_measured: 298.15,
+            max_vce: f64::INFINITY,
+            max_ic: f64::INFINITY,
+            max_power: f64::INFINITY,
+            max_tj: f64::INFINITY,
+            rth_ja: f64::INFINITY,
+            rth_jc: f64::INFINITY,
+            rth_sink: f64::INFINITY,
+        }
+    }
+}
+
+impl BjtParams {
+    /// Junction-to-ambient thermal resistance in K/W: `rth_ja` if set, else
+    /// `rth_jc + rth_sink` if both are set, else `None`.
+    pub fn thermal_resistance(&self) -> Option<f64> {
+        if self.rth_ja.is_finite() {
+            Some(self.rth_ja)
+        } else if self.rth_jc.is_finite() && self.rth_sink.is_finite() {
+            Some(self.rth_jc + self.rth_sink)
+        } else {
+            None
+        }
+    }
+}
+
+/// Integration method for transient analysis.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Integration {
+    /// Trapezoidal rule (default).
+    #[default]
+    Trapezoidal,
+    /// Second-order backward differentiation.
+    Bdf2,
+}
+
+/// How a transient starts.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum StartFrom {
+    /// From the DC operating point (default).
+    #[default]
+    OperatingPoint,
+    /// From all-zero state.
+    Zero,
+}
+
+/// Periodic steady-state method.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum SteadyMethod {
+    /// Pick balance or shooting, fall back to the other.
+    #[default]
+    Auto,
+    /// Harmonic balance.
+    Balance,
+    /// Shooting Newton.
+    Shooting,
+    /// Plain transient until settled.
+    Settle,
+}
+
+/// Frequency scale of an AC sweep.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Scale {
+    /// Linearly spaced points.
+    #[default]
+    Linear,
+    /// Logarithmically spaced points.
+    Log,
+}
+
+/// An `analyze` statement.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Analysis {
+    /// `analyze op`.
+    Op,
+    /// `analyze transient stop=.. [step=..] [max_step=..] [start=op|zero] [method=trapezoidal|bdf2] [tolerance=..]`.
+    Transient {
+        /// End time, s.
+        stop: f64,
+        /// Output (and initial) step, s.
+        step: f64,
+        /// Largest internal step, s (default: `step`).
+        max_step: Option<f64>,
+        /// Start from the operating point or from zero.
+        start: StartFrom,
+        /// Integration method.
+        method: Integration,
+        /// Relative tolerance of the local truncation error (default 1e-4... see docs/analyses.md).
+        reltol: Option<f64>,
+    },
+    /// `analyze ac from=.. to=.. points=.. [scale=linear|log] [source=NAME] [impedance=NAME]`.
+    Ac {
+        /// Start frequency, Hz.
+        from: f64,
+        /// Stop frequency, Hz.
+        to: f64,
+        /// Number of points (≥ 1).
+        points: usize,
+        /// Spacing.
+        scale: Scale,
+        /// The source driven with unit amplitude (default: the `input` element).
+        source: Option<ElementId>,
+        /// Element at whose position the impedance is reported (seen by that element, looking into the rest).
+        impedance_at: Option<ElementId>,
+    },
+    /// `analyze steady freq=.. [harmonics=K] [method=auto|balance|shooting|settle] [steps=N]`.
+    Steady {
+        /// Fundamental frequency, Hz.
+        freq: f64,
+        /// Number of harmonics K (default 32).
+        harmonics: usize,
+        /// Method.
+        method: SteadyMethod,
+        /// Time steps per period for shooting/settle (power of two, default 256).
+        steps_per_period: usize,
+    },
+}
+
+/// A mask: spurious-emission limits as rules.
+#[derive(Debug, Clone)]
+pub struct Mask {
+    /// Mask name.
+    pub name: String,
+    /// Rules; where several cover one harmonic, all must hold.
+    pub rules: Vec<MaskRule>,
+    /// Where it was declared.
+    pub origin: Origin,
+}
+
+/// Which spurious emissions a rule covers.
+#[derive(Debug, Clone, PartialEq)]
+pub enum MaskRange {
+    /// Harmonic numbers `from..=to` (to `None` = every harmonic computed from `from` on).
+    Harmonics {
+        /// First harmonic number (≥ 2).
+        from: u32,
+        /// Last harmonic number, inclusive.
+        to: Option<u32>,
+    },
+    /// Emission frequency range in Hz, inclusive.
+    Frequency {
+        /// Lower edge, Hz.
+        from: f64,
+        /// Upper edge, Hz.
+        to: f64,
+    },
+    /// Fundamental-frequency condition: the rule applies only when the carrier is in range.
+    /// Combined with another range through [`MaskRule::carrier`].
+    Any,
+}
+
+/// A limit on one spurious emission, evaluated against the carrier power.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Limit {
+    /// At most this many dB relative to the carrier (negative, e.g. −43). The
+    /// expression may use `pcarrier` (carrier power, W).
+    Dbc(LimitExpr),
+    /// At most this absolute power, W. The expression may use `pcarrier`.
+    Watts(LimitExpr),
+    /// Every sub-limit must hold (the most stringent applies).
+    All(Vec<Limit>),
+    /// The least stringent sub-limit applies.
+    Lenient(Vec<Limit>),
+}
+
+/// A limit value: a constant, or a closed-form function of the carrier power.
+#[derive(Debug, Clone, PartialEq)]
+pub enum LimitExpr {
+    /// A constant number (dBc or W by context).
+    Const(f64),
+    /// `a + b·log10(pcarrier / 1 W)` — enough for every published rule we ship.
+    LogCarrier {
+        /// Constant term.
+        a: f64,
+        /// Coefficient of log10(P/1 W).
+        b: f64,
+    },
+}
+
+impl LimitExpr {
+    /// Evaluate at carrier power `pcarrier_w` (W).
+    pub fn eval(&self, pcarrier_w: f64) -> f64 {
+        match *self {
+            LimitExpr::Const(v) => v,
+            LimitExpr::LogCarrier { a, b } => a + b * (pcarrier_w.max(1e-30)).log10(),
+        }
+    }
+}
+
+impl Limit {
+    /// The allowed level of one spurious emission, in dB relative to a carrier of
+    /// `pcarrier_w` watts (e.g. −43.0). Absolute limits are converted.
+    pub fn allowed_dbc(&self, pcarrier_w: f64) -> f64 {
+        let pc = pcarrier_w.max(1e-30);
+        match self {
+            Limit::Dbc(e) => e.eval(pc),
+            Limit::Watts(e) => 10.0 * (e.eval(pc).max(1e-30) / pc).log10(),
+            Limit::All(v) => v
+                .iter()
+                .map(|l| l.allowed_dbc(pc))
+                .fold(f64::INFINITY, f64::min),
+            Limit::Lenient(v) => v
+                .iter()
+                .map(|l| l.allowed_dbc(pc))
+                .fold(f64::NEG_INFINITY, f64::max),
+        }
+    }
+}
+
+/// One rule of a mask.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MaskRule {
+    /// Which emissions it covers.
+    pub range: MaskRange,
+    /// Optional carrier-frequency condition (Hz, inclusive): the rule applies only then.
+    pub carrier: Option<(f64, f64)>,
+    /// The limit.
+    pub limit: Limit,
+}
+
+/// Comparison in a requirement.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Cmp {
+    /// `<=`
+    Le,
+    /// `>=`
+    Ge,
+    /// `<`
+    Lt,
+    /// `>`
+    Gt,
+}
+
+/// A figure a requirement constrains (the names are the stage-file spellings).
+#[derive(Debug, Clone, PartialEq)]
+pub enum Metric {
+    /// `pout` — output power at the fundamental, W.
+    Pout,
+    /// `efficiency` — collector efficiency, fraction.
+    Efficiency,
+    /// `pae` — power-added efficiency, fraction.
+    Pae,
+    /// `gain` — transducer gain, dB.
+    Gain,
+    /// `harmonic N` — level of harmonic N, dBc.
+    Harmonic(u32),
+    /// `harmonics` — every harmonic against a mask.
+    Harmonics,
+    /// `thd` — total harmonic distortion, fraction.
+    Thd,
+    /// `input_vswr` — input VSWR against the source resistance.
+    InputVswr,
+    /// `vce_peak [Q]` — peak collector–emitter voltage, V.
+    VcePeak(Option<ElementId>),
+    /// `ic_peak [Q]` — peak collector current, A.
+    IcPeak(Option<ElementId>),
+    /// `dissipation [Q]` — average transistor dissipation, W.
+    Dissipation(Option<ElementId>),
+    /// `tj [Q]` — junction temperature, K (written in degC).
+    JunctionTemp(Option<ElementId>),
+    /// `stress [ELEMENT]` — fraction of the element's rating used (all rated elements if none).
+    Stress(Option<ElementId>),
+    /// `pdc` — total DC input power, W.
+    Pdc,
+    /// `conduction [Q]` — conduction angle, degrees.
+    Conduction(Option<ElementId>),
+}
+
+/// What a requirement compares against.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Bound {
+    /// A number in SI (fractions for %, dB for dB/dBc figures, K for temperatures).
+    Value(f64),
+    /// A user mask (index into [`Circuit::masks`]).
+    Mask(usize),
+    /// A built-in mask, by its name.
+    BuiltinMask(String),
+}
+
+/// A `require` statement.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Requirement {
+    /// The figure.
+    pub metric: Metric,
+    /// The comparison (for masks always `Le`).
+    pub cmp: Cmp,
+    /// The bound.
+    pub bound: Bound,
+    /// The statement's text as written, for reports.
+    pub text: String,
+    /// Where it was written.
+    pub origin: Origin,
+}
+
+/// What a `vary` changes.
+#[derive(Debug, Clone, PartialEq)]
+pub enum VaryTarget {
+    /// A `let` parameter by name.
+    Param(String),
+    /// The main value of an element by name.
+    Element(String),
+}
+
+/// The values a `vary` takes.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Sweep {
+    /// An explicit list.
+    List(Vec<f64>),
+    /// `from A to B step S` or `from A to B points N` (linear).
+    Linear {
+        /// First value.
+        from: f64,
+        /// Last value.
+        to: f64,
+        /// Number of points (≥ 1), derived from a step if one was given.
+        points: usize,
+    },
+    /// `from A to B points N log`.
+    Log {
+        /// First value (> 0).
+        from: f64,
+        /// Last value (> 0).
+        to: f64,
+        /// Number of points (≥ 1).
+        points: usize,
+    },
+}
+
+impl Sweep {
+    /// The values in order.
+    pub fn values(&self) -> Vec<f64> {
+        match self {
+            Sweep::List(v) => v.clone(),
+            Sweep::Linear { from, to, points } => {
+                if *points <= 1 {
+                    return vec![*from];
+                }
+                (0..*points)
+                    .map(|i| from + (to - from) * i as f64 / (*points - 1) as f64)
+                    .collect()
+            }
+            Sweep::Log { from, to, points } => {
+                if *points <= 1 {
+                    return vec![*from];
+                }
+                let (la, lb) = (from.ln(), to.ln());
+                (0..*points)
+                    .map(|i| (la + (lb - la) * i as f64 / (*points - 1) as f64).exp())
+                    .collect()
+            }
+        }
+    }
+}
+
+/// A `vary` statement.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Vary {
+    /// What changes.
+    pub target: VaryTarget,
+    /// The values.
+    pub sweep: Sweep,
+    /// Where it was written.
+    pub origin: Origin,
+}
+
+/// Tolerance distribution.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Distribution {
+    /// Uniform over ±tolerance.
+    #[default]
+    Uniform,
+    /// Gaussian with ±tolerance = 3σ.
+    Gaussian,
+}
+
+/// A `tolerance` statement.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Tolerance {
+    /// The element whose main value varies.
+    pub element: ElementId,
+    /// Relative tolerance as a fraction (5% = 0.05).
+    pub fraction: f64,
+    /// Distribution.
+    pub distribution: Distribution,
+}
+
+/// Study settings collected from the file.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct StudySpec {
+    /// Sweeps, nested as a full grid in file order (first is outermost).
+    pub vary: Vec<Vary>,
+    /// Tolerances.
+    pub tolerances: Vec<Tolerance>,
+    /// `montecarlo runs=N seed=S`.
+    pub montecarlo: Option<MonteCarlo>,
+    /// `tune` statements.
+    pub tune: Vec<Tune>,
+}
+
+/// Monte Carlo settings.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct MonteCarlo {
+    /// Number of runs.
+    pub runs: usize,
+    /// Seed.
+    pub seed: u64,
+}
+
+/// A `tune PARAM from A to B` statement: a parameter the tuner may move.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Tune {
+    /// Parameter name.
+    pub param: String,
+    /// Lower bound.
+    pub from: f64,
+    /// Upper bound.
+    pub to: f64,
+}
+
+/// Overrides applied at elaboration to make a variant.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct Overrides {
+    /// Parameter values replacing `let` definitions (by name).
+    pub params: BTreeMap<String, f64>,
+    /// Element main-value replacements (by element name).
+    pub element_values: BTreeMap<String, f64>,
+    /// Element main-value multipliers (by element name), applied after replacements.
+    pub element_factors: BTreeMap<String, f64>,
+}
+
+impl Circuit {
+    /// Look up a node by name (`gnd` gives `Some(None)`).
+    pub fn node(&self, name: &str) -> Option<NodeId> {
+        if name == "gnd" {
+            return Some(None);
+        }
+        self.nodes.iter().position(|n| n == name).map(Some)
+    }
+    /// Look up an element by name.
+    pub fn element(&self, name: &str) -> Option<ElementId> {
+        self.elements.iter().position(|e| e.name == name)
+    }
+    /// Display name of a node.
+    pub fn node_name(&self, n: NodeId) -> &str {
+        match n {
+            None => "gnd",
+            Some(i) => self.nodes.get(i).map(|s| s.as_str()).unwrap_or("?"),
+        }
+    }
+}

@@ -1,0 +1,2 @@
+//! tankwave-design (placeholder overview).
+#![deny(missing_docs)]

@@ -1,0 +1,260 @@
+//! The device contract every element is written against.
+//!
+//! The circuit equations are written in charge-oriented MNA form
+//!
+//! ```text
+//!     F(x, t) = i(x, t) + d/dt q(x) = 0
+//! ```
+//!
+//! where `x` holds the node voltages followed by the extra unknowns (branch
+//! currents of voltage sources and inductors, internal nodes of devices),
+//! `i` collects resistive currents (and the algebraic parts of branch
+//! equations, including independent sources), and `q` collects charges and
+//! (negated) fluxes. Each row of a node is a KCL sum of currents *leaving*
+//! the node through the devices.
+//!
+//! A device, given `x`, adds its contributions to `i`, `q`, `G = ∂i/∂x` and
+//! `C = ∂q/∂x` through a [`Stamp`]. Every analysis uses only this:
+//! DC solves `i = 0`; transient discretises `dq/dt`; AC uses `G + jωC` at the
+//! operating point with [`Device::ac_excitation`]; harmonic balance samples
+//! `i` and `q` over a period; shooting reuses the transient step.
+//!
+//! Junction limiting: when [`EvalCtx::limit`] is set, a nonlinear device may
+//! replace the junction voltages implied by `x` with limited ones (kept in its
+//! slice of the state vector between calls). It then stamps the Newton
+//! linearisation about the limited point, `i(v_lim) + G·(v − v_lim)`, so the
+//! residual stays consistent with `x`, and reports that it limited.
+
+/// Unknown index: `None` is ground (and is ignored by a [`Stamp`]).
+pub type Idx = Option<usize>;
+
+/// Receives a device's contributions. Entries at ground (`None`) are dropped by
+/// the implementer.
+pub trait Stamp {
+    /// Add `v` to the resistive current / residual of row `row`.
+    fn add_i(&mut self, row: Idx, v: f64);
+    /// Add `v` to the charge / flux of row `row`.
+    fn add_q(&mut self, row: Idx, v: f64);
+    /// Add `v` to `G[row][col] = ∂i_row/∂x_col`.
+    fn add_g(&mut self, row: Idx, col: Idx, v: f64);
+    /// Add `v` to `C[row][col] = ∂q_row/∂x_col`.
+    fn add_c(&mut self, row: Idx, col: Idx, v: f64);
+}
+
+/// Conditions of one evaluation.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct EvalCtx {
+    /// Time, s (DC analyses use 0).
+    pub time: f64,
+    /// Multiplier on the constant (dc) part of every independent source (source stepping).
+    pub dc_scale: f64,
+    /// Multiplier on the time-varying part of every independent source (drive continuation).
+    pub wave_scale: f64,
+    /// Conductance a nonlinear device puts across each junction, S.
+    pub gmin: f64,
+    /// Apply junction limiting (Newton iterations) or evaluate exactly at `x`.
+    pub limit: bool,
+}
+
+impl Default for EvalCtx {
+    fn default() -> Self {
+        Self {
+            time: 0.0,
+            dc_scale: 1.0,
+            wave_scale: 1.0,
+            gmin: 1e-12,
+            limit: false,
+        }
+    }
+}
+
+/// What an evaluation reports besides its stamps.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct EvalInfo {
+    /// A junction voltage was limited: the Newton step is not yet converged.
+    pub limited: bool,
+}
+
+/// Kind of an extra unknown a device owns.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum UnknownKind {
+    /// A node voltage (V).
+    Voltage,
+    /// A branch current (A).
+    Current,
+}
+
+/// One element, written once, serving every analysis.
+pub trait Device: Send + Sync + std::fmt::Debug {
+    /// Index of the element in [`tankwave_circuit::Circuit::elements`] it was built from.
+    fn element(&self) -> usize;
+    /// External terminal unknowns in the element's terminal order (ground = `None`).
+    fn terminals(&self) -> &[Idx];
+    /// True when `i` is affine in `x` and `q` linear in `x` (G and C constant).
+    fn is_linear(&self) -> bool;
+    /// Number of state slots it keeps between evaluations (for limiting).
+    fn state_len(&self) -> usize {
+        0
+    }
+    /// Initialise its state slots (called once before an analysis).
+    fn init_state(&self, _state: &mut [f64]) {}
+    /// Add i, q, G, C at `x` under `ctx`. `state` is this device's slice.
+    fn eval(&self, x: &[f64], ctx: &EvalCtx, state: &mut [f64], out: &mut dyn Stamp) -> EvalInfo;
+    /// Add the right-hand side of a unit small-signal excitation of this source
+    /// (`G + jωC) X = b`: for a voltage source, `b` on its branch row; for a current
+    /// source, on its node rows). Non-sources add nothing.
+    fn ac_excitation(&self, _out: &mut dyn FnMut(usize, f64)) {}
+    /// Times in `[t0, t1)` where its waveform has a corner (transient breakpoints).
+    fn breakpoints(&self, _t0: f64, _t1: f64, _out: &mut Vec<f64>) {}
+    /// Named operating-point figures at `x` (e.g. `vbe`, `ic`, `gm`), SI units.
+    fn op_info(&self, _x: &[f64], _ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
+        Vec::new()
+    }
+    /// The unknown carrying its branch current, if it has one (voltage sources, inductors).
+    fn branch(&self) -> Option<usize> {
+        None
+    }
+}
+
+/// A [`Stamp`] that records everything into dense row-major vectors of size n
+/// (and n×n). Handy for tests and for evaluating a single device.
+#[derive(Debug, Clone)]
+pub struct DenseStamp {
+    /// Order of the system.
+    pub n: usize,
+    /// Resistive currents.
+    pub i: Vec<f64>,
+    /// Charges / fluxes.
+    pub q: Vec<f64>,
+    /// ∂i/∂x, row-major.
+    pub g: Vec<f64>,
+    /// ∂q/∂x, row-major.
+    pub c: Vec<f64>,
+}
+
+impl DenseStamp {
+    /// An all-zero stamp of order `n`.
+    pub fn new(n: usize) -> Self {
+        Self {
+            n,
+            i: vec![0.0; n],
+            q: vec![0.0; n],
+            g: vec![0.0; n * n],
+            c: vec![0.0; n * n],
+        }
+    }
+    /// Reset to zero.
+    pub fn clear(&mut self) {
+        self.i.fill(0.0);
+        self.q.fill(0.0);
+        self.g.fill(0.0);
+        self.c.fill(0.0);
+    }
+    /// `G[r][c]`.
+    pub fn g_at(&self, r: usize, c: usize) -> f64 {
+        self.g[r * self.n + c]
+    }
+    /// `C[r][c]`.
+    pub fn c_at(&self, r: usize, c: usize) -> f64 {
+        self.c[r * self.n + c]
+    }
+}
+
+impl Stamp for DenseStamp {
+    fn add_i(&mut self, row: Idx, v: f64) {
+        if let Some(r) = row {
+            self.i[r] += v;
+        }
+    }
+    fn add_q(&mut self, row: Idx, v: f64) {
+        if let Some(r) = row {
+            self.q[r] += v;
+        }
+    }
+    fn add_g(&mut self, row: Idx, col: Idx, v: f64) {
+        if let (Some(r), Some(c)) = (row, col) {
+            self.g[r * self.n + c] += v;
+        }
+    }
+    fn add_c(&mut self, row: Idx, col: Idx, v: f64) {
+        if let (Some(r), Some(c)) = (row, col) {
+            self.c[r * self.n + c] += v;
+        }
+    }
+}
+
+/// Value of an unknown, ground reading 0.
+#[inline]
+pub fn val(x: &[f64], i: Idx) -> f64 {
+    match i {
+        Some(k) => x[k],
+        None => 0.0,
+    }
+}
+
+/// The unknowns of an instantiated circuit and its devices.
+#[derive(Debug)]
+pub struct DeviceSet {
+    /// Every device.
+    pub devices: Vec<Box<dyn Device>>,
+    /// Total number of unknowns (node voltages first, `circuit.nodes.len()` of them).
+    pub n_unknowns: usize,
+    /// Number of external node voltages (the first unknowns).
+    pub n_nodes: usize,
+    /// Display name of every unknown (`v(coll)`, `i(vsup)`, `v(q1#b)`).
+    pub names: Vec<String>,
+    /// Kind of every unknown.
+    pub kinds: Vec<UnknownKind>,
+    /// Offset of each device's state slice in the state vector.
+    pub state_offsets: Vec<usize>,
+    /// Length of the state vector.
+    pub state_len: usize,
+}
+
+impl DeviceSet {
+    /// A fresh state vector with every device's initial state.
+    pub fn initial_state(&self) -> Vec<f64> {
+        let mut s = vec![0.0; self.state_len];
+        for (d, &off) in self.devices.iter().zip(&self.state_offsets) {
+            let len = d.state_len();
+            d.init_state(&mut s[off..off + len]);
+        }
+        s
+    }
+    /// Evaluate every device (or only the nonlinear / linear ones) into `out`.
+    pub fn eval_all(
+        &self,
+        x: &[f64],
+        ctx: &EvalCtx,
+        state: &mut [f64],
+        out: &mut dyn Stamp,
+        filter: Filter,
+    ) -> EvalInfo {
+        let mut info = EvalInfo::default();
+        for (d, &off) in self.devices.iter().zip(&self.state_offsets) {
+            let take = match filter {
+                Filter::All => true,
+                Filter::Linear => d.is_linear(),
+                Filter::Nonlinear => !d.is_linear(),
+            };
+            if !take {
+                continue;
+            }
+            let len = d.state_len();
+            let r = d.eval(x, ctx, &mut state[off..off + len], out);
+            info.limited |= r.limited;
+        }
+        info
+    }
+}
+
+/// Which devices [`DeviceSet::eval_all`] evaluates.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Filter {
+    /// All devices.
+    All,
+    /// Only devices with [`Device::is_linear`].
+    Linear,
+    /// Only the others.
+    Nonlinear,
+}

@@ -1,0 +1,6 @@
+//! tankwave-devices: element models written once against the charge-oriented
+//! device contract ([`contract`]).
+#![deny(missing_docs)]
+
+pub mod contract;
+pub use contract::*;

@@ -1,0 +1,2 @@
+//! tankwave-measure (placeholder overview).
+#![deny(missing_docs)]

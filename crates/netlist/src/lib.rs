@@ -1,0 +1,2 @@
+//! tankwave-netlist (placeholder overview).
+#![deny(missing_docs)]

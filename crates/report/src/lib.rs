@@ -1,0 +1,2 @@
+//! tankwave-report (placeholder overview).
+#![deny(missing_docs)]

@@ -1,0 +1,2 @@
+//! tankwave-solve (placeholder overview).
+#![deny(missing_docs)]

@@ -1,0 +1,2 @@
+//! tankwave-study (placeholder overview).
+#![deny(missing_docs)]
