@@ -2,5 +2,6 @@
 //! device contract ([`contract`]).
 #![deny(missing_docs)]
 
+pub mod bjt;
 pub mod contract;
 pub use contract::*;
