@@ -1,0 +1,160 @@
+"""Independent reference for the bipolar transistor model of tankwave-devices.
+
+Evaluates the published large-signal equations directly (numpy, float64) at
+bias points spanning cut-off, forward active, saturation, reverse active and
+high injection, and writes points.csv for crates/devices/tests/bjt_reference.rs.
+
+Sources (forms from memory, as listed in the project's check-values):
+  H. K. Gummel, H. C. Poon, "An integral charge control model of bipolar
+  transistors", Bell Syst. Tech. J. 49(5), 1970 -- transport current over the
+  normalised base charge qb, qb = (q1/2)(1 + sqrt(1 + 4 q2)).
+  L. W. Nagel, ERL M520, 1975 -- reciprocal Early factor
+  q1 = 1/(1 - VBC/VAF - VBE/VAR).
+  I. Getreu, Modeling the Bipolar Transistor, 1976 -- base-current terms with
+  the two low-current recombination components, depletion charge with the
+  linear continuation above FC*Vj, diffusion charges, temperature scaling of
+  IS, BF, BR, ISE, ISC.
+Physical constants: CODATA 2018 (exact), k = 1.380649e-23 J/K,
+q = 1.602176634e-19 C.
+
+Run:  python3 gen.py   (writes points.csv next to this file)
+"""
+
+import csv
+import os
+
+import numpy as np
+
+K_BOLTZ = 1.380649e-23
+Q_E = 1.602176634e-19
+
+# Parameter sets. Keys are the stage-file parameter names of tankwave; the Rust
+# test reads them back from the '# set' header lines of points.csv, so the two
+# sides cannot drift apart. Every set is evaluated at 'temp' kelvin.
+SETS = {
+    # The check point of check-values.md plus charges and BC leakage.
+    "A": dict(sat_current=1e-15, gain_fwd=100.0, gain_rev=1.0, emission_fwd=1.0,
+              emission_rev=1.0, early_fwd=50.0, early_rev=10.0, knee_fwd=0.1,
+              knee_rev=0.01, leak_be=1e-13, leak_be_emission=1.5, leak_bc=1e-14,
+              leak_bc_emission=2.0, cj_be=500e-12, vj_be=0.75, grading_be=0.33,
+              cj_bc=200e-12, vj_bc=0.6, grading_bc=0.4, linear_from=0.5,
+              transit_fwd=1e-9, transit_rev=100e-9, gap=1.11, sat_temp_exp=3.0,
+              gain_temp_exp=0.0, t_measured=300.15, temp=300.15, area=1.0),
+    # An invented HF power transistor, non-ideal emission coefficients, area 2.
+    "B": dict(sat_current=5e-13, gain_fwd=60.0, gain_rev=3.0, emission_fwd=1.02,
+              emission_rev=1.05, early_fwd=80.0, early_rev=8.0, knee_fwd=3.0,
+              knee_rev=0.5, leak_be=2e-11, leak_be_emission=1.7, leak_bc=1e-11,
+              leak_bc_emission=1.9, cj_be=2e-9, vj_be=0.8, grading_be=0.35,
+              cj_bc=300e-12, vj_bc=0.55, grading_bc=0.45, linear_from=0.6,
+              transit_fwd=0.5e-9, transit_rev=50e-9, gap=1.11, sat_temp_exp=3.0,
+              gain_temp_exp=1.5, t_measured=300.15, temp=300.15, area=2.0),
+    # Set B at 350 K with parameters taken at 298.15 K: temperature scaling.
+    "C": dict(sat_current=5e-13, gain_fwd=60.0, gain_rev=3.0, emission_fwd=1.02,
+              emission_rev=1.05, early_fwd=80.0, early_rev=8.0, knee_fwd=3.0,
+              knee_rev=0.5, leak_be=2e-11, leak_be_emission=1.7, leak_bc=1e-11,
+              leak_bc_emission=1.9, cj_be=2e-9, vj_be=0.8, grading_be=0.35,
+              cj_bc=300e-12, vj_bc=0.55, grading_bc=0.45, linear_from=0.6,
+              transit_fwd=0.5e-9, transit_rev=50e-9, gap=1.11, sat_temp_exp=3.0,
+              gain_temp_exp=1.5, t_measured=298.15, temp=350.0, area=1.0),
+}
+
+
+def depletion_charge(v, cj0, vj, m, fc):
+    """Depletion charge Q(v) with Q(0) = 0: the integral of Cj0 (1 - v/Vj)^-m
+    below fc*Vj and of its tangent-line continuation above (Getreu 1976)."""
+    if cj0 == 0.0:
+        return 0.0
+    vlin = fc * vj
+    if v < vlin:
+        return cj0 * vj / (1.0 - m) * (1.0 - (1.0 - v / vj) ** (1.0 - m))
+    q_lin = cj0 * vj / (1.0 - m) * (1.0 - (1.0 - fc) ** (1.0 - m))
+    f2 = (1.0 - fc) ** (-1.0 - m)
+    return q_lin + cj0 * f2 * ((1.0 - fc * (1.0 + m)) * (v - vlin)
+                               + m / (2.0 * vj) * (v * v - vlin * vlin))
+
+
+def evaluate(p, vbe, vbc):
+    """IC, IB, IE (currents into the terminals) and the BE, BC charges."""
+    t, tm = p["temp"], p["t_measured"]
+    vt = K_BOLTZ * t / Q_E
+    vt_m = K_BOLTZ * tm / Q_E
+    ratio = t / tm
+    a = p["area"]
+    # IS(T) = IS (T/Tm)^XTI exp(Eg/k (1/Tm - 1/T))  (Getreu 1976, memory)
+    is_t = p["sat_current"] * ratio ** p["sat_temp_exp"] * np.exp(
+        p["gap"] / vt_m - p["gap"] / vt)
+    # gains by (T/Tm)^XTB; ISE, ISC by (T/Tm)^-XTB (IS(T)/IS)^(1/n_leak)
+    gain_f = p["gain_fwd"] * ratio ** p["gain_temp_exp"]
+    gain_r = p["gain_rev"] * ratio ** p["gain_temp_exp"]
+    is_ratio = is_t / p["sat_current"]
+    ise_t = p["leak_be"] * ratio ** (-p["gain_temp_exp"]) * is_ratio ** (1.0 / p["leak_be_emission"])
+    isc_t = p["leak_bc"] * ratio ** (-p["gain_temp_exp"]) * is_ratio ** (1.0 / p["leak_bc_emission"])
+    i_s, ise, isc = a * is_t, a * ise_t, a * isc_t
+    ikf, ikr = a * p["knee_fwd"], a * p["knee_rev"]
+
+    i_f = i_s * np.expm1(vbe / (p["emission_fwd"] * vt))
+    i_r = i_s * np.expm1(vbc / (p["emission_rev"] * vt))
+    q1 = 1.0 / (1.0 - vbc / p["early_fwd"] - vbe / p["early_rev"])
+    q2 = i_f / ikf + i_r / ikr
+    qb = q1 / 2.0 * (1.0 + np.sqrt(1.0 + 4.0 * q2))
+    i_ct = (i_f - i_r) / qb
+    i_le = ise * np.expm1(vbe / (p["leak_be_emission"] * vt))
+    i_lc = isc * np.expm1(vbc / (p["leak_bc_emission"] * vt))
+    ib = i_f / gain_f + i_le + i_r / gain_r + i_lc
+    ic = i_ct - i_r / gain_r - i_lc
+    ie = -(ic + ib)
+    q_be = (depletion_charge(vbe, a * p["cj_be"], p["vj_be"], p["grading_be"], p["linear_from"])
+            + p["transit_fwd"] * i_f / qb)
+    q_bc = (depletion_charge(vbc, a * p["cj_bc"], p["vj_bc"], p["grading_bc"], p["linear_from"])
+            + p["transit_rev"] * i_r)
+    return dict(q1=q1, q2=q2, qb=qb, ic=ic, ib=ib, ie=ie, qbe=q_be, qbc=q_bc)
+
+
+def bias_points():
+    """(region, vbe, vbc) covering every operating region."""
+    pts = []
+    for vbe in (-2.0, -0.5, 0.0, 0.2, 0.3):
+        for vbc in (-10.0, -1.0, 0.0):
+            pts.append(("cutoff", vbe, vbc))
+    for vbe in (0.55, 0.62, 0.68, 0.72, 0.76):
+        for vbc in (-20.0, -5.0, -0.5):
+            pts.append(("forward", vbe, vbc))
+    for vbe, vbc in ((0.7, 0.5), (0.75, 0.6), (0.78, 0.7), (0.8, 0.75), (0.72, 0.65),
+                     (0.66, 0.62), (0.85, 0.7), (0.9, 0.85)):
+        pts.append(("saturation", vbe, vbc))
+    for vbc in (0.55, 0.65, 0.72, 0.8):
+        for vbe in (-5.0, -0.3):
+            pts.append(("reverse", vbe, vbc))
+    for vbe in (0.8, 0.86, 0.92, 0.98, 1.05):
+        for vbc in (-10.0, -1.0):
+            pts.append(("high", vbe, vbc))
+    return pts
+
+
+def main():
+    here = os.path.dirname(os.path.abspath(__file__))
+    path = os.path.join(here, "points.csv")
+    pts = bias_points()
+    with open(path, "w", newline="") as f:
+        f.write("# generated by tests/reference/bjt/gen.py (numpy %s); do not edit\n"
+                % np.__version__)
+        for name, p in SETS.items():
+            f.write("# set %s: %s\n" % (name, " ".join("%s=%r" % kv for kv in p.items())))
+        w = csv.writer(f, lineterminator="\n")
+        w.writerow(["set", "region", "vbe", "vbc", "q1", "q2", "qb", "ic", "ib", "ie",
+                    "qbe", "qbc"])
+        for name, p in SETS.items():
+            for region, vbe, vbc in pts:
+                r = evaluate(p, vbe, vbc)
+                w.writerow([name, region, repr(vbe), repr(vbc)]
+                           + ["%.17e" % r[k] for k in ("q1", "q2", "qb", "ic", "ib", "ie",
+                                                       "qbe", "qbc")])
+    # The check point of check-values.md, printed for the record.
+    chk = evaluate(SETS["A"], 0.80, -5.0)
+    print("check point: q1 %.6f q2 %.7f qb %.6f IC %.4f mA IB %.6f mA" % (
+        chk["q1"], chk["q2"], chk["qb"], chk["ic"] * 1e3, chk["ib"] * 1e3))
+    print("wrote %d rows to %s" % (len(pts) * len(SETS), path))
+
+
+if __name__ == "__main__":
+    main()
