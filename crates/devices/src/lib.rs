@@ -7,6 +7,7 @@
 //! solve matrices: that belongs to the solver crate.
 #![deny(missing_docs)]
 
+pub mod bjt;
 pub mod contract;
 pub mod error;
 pub mod waveform;
