@@ -5,11 +5,22 @@
 //! inductor, coupling, sources and their waveforms, diode, bipolar transistor)
 //! and the allocation of unknowns ([`instantiate`]). It must not assemble or
 //! solve matrices: that belongs to the solver crate.
+//!
+//! Conventions shared by every model (details in each module):
+//! * unknowns are the node voltages first (in `circuit.nodes` order), then the
+//!   extra unknowns allocated by [`instantiate`] in element order (branch
+//!   currents of vsources and inductors, internal nodes of devices);
+//! * `F(x,t) = i(x,t) + dq/dt = 0`, each node row the sum of currents leaving
+//!   the node through the devices;
+//! * source and branch sign conventions: see [`linear`].
 #![deny(missing_docs)]
 
 pub mod bjt;
 pub mod contract;
 pub mod error;
+pub mod instance;
+pub mod linear;
 pub mod waveform;
 pub use contract::*;
 pub use error::DeviceError;
+pub use instance::instantiate;

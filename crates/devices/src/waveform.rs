@@ -133,10 +133,10 @@ fn pwl_value(pts: &[(f64, f64)], t: f64) -> f64 {
 /// Append the corners of `shape` in `[t0, t1)` to `out` (in increasing order,
 /// at most [`MAX_BREAKPOINTS`]).
 pub fn breakpoints(shape: &Shape, t0: f64, t1: f64, out: &mut Vec<f64>) {
-    if !(t0 < t1) {
+    if t0.partial_cmp(&t1) != Some(std::cmp::Ordering::Less) {
         return;
     }
-    let mut push = |t: f64, out: &mut Vec<f64>| {
+    let push = |t: f64, out: &mut Vec<f64>| {
         if t >= t0 && t < t1 && t.is_finite() {
             out.push(t);
         }

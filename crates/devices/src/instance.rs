@@ -1,0 +1,276 @@
+//! Building the devices of a circuit and numbering its unknowns.
+//!
+//! Unknown order:
+//! 1. the node voltages, in [`Circuit::nodes`] order (`v(node)`), `n_nodes` of them;
+//! 2. then, walking the elements in file order, the extra unknowns each one owns:
+//!    * vsource, inductor: its branch current `i(name)`;
+//!    * diode with `r_series > 0`: its internal anode `v(name:a')`;
+//!    * bjt: its internal collector, base and emitter nodes `v(name:c')`,
+//!      `v(name:b')`, `v(name:e')`, each only when that ohmic resistance is
+//!      nonzero (the order is c', b', e').
+//!
+//! Couplings own no unknowns; they are built after every inductor branch is
+//! known, so a coupling may name inductors declared after it.
+//!
+//! Every parameter that would make an equation undefined (a zero resistance,
+//! a non-finite value, |k| > 1, …) is refused with a [`DeviceError`] carrying
+//! the number.
+
+use crate::bjt::{Bjt, BjtNodes};
+use crate::contract::{Device, DeviceSet, Idx, UnknownKind};
+use crate::error::DeviceError;
+use crate::linear::{Capacitor, Coupling, ISource, Inductor, Resistor, VSource};
+use crate::waveform;
+use tankwave_circuit::ir::{Circuit, ElementKind, ModelParams, NodeId};
+
+fn bad(element: &str, param: &'static str, value: f64, reason: &'static str) -> DeviceError {
+    DeviceError::BadParameter {
+        element: element.to_string(),
+        param,
+        value,
+        reason,
+    }
+}
+
+fn positive(element: &str, param: &'static str, v: f64) -> Result<f64, DeviceError> {
+    if v.is_finite() && v > 0.0 {
+        Ok(v)
+    } else {
+        Err(bad(element, param, v, "must be finite and > 0"))
+    }
+}
+
+fn nonneg(element: &str, param: &'static str, v: f64) -> Result<f64, DeviceError> {
+    if v.is_finite() && v >= 0.0 {
+        Ok(v)
+    } else {
+        Err(bad(element, param, v, "must be finite and ≥ 0"))
+    }
+}
+
+struct Builder<'c> {
+    circuit: &'c Circuit,
+    names: Vec<String>,
+    kinds: Vec<UnknownKind>,
+}
+
+impl Builder<'_> {
+    fn node(&self, element: &str, n: NodeId) -> Result<Idx, DeviceError> {
+        match n {
+            None => Ok(None),
+            Some(i) if i < self.circuit.nodes.len() => Ok(Some(i)),
+            Some(i) => Err(DeviceError::BadReference {
+                element: element.to_string(),
+                what: "node",
+                index: i,
+                available: self.circuit.nodes.len(),
+            }),
+        }
+    }
+    fn alloc(&mut self, name: String, kind: UnknownKind) -> usize {
+        self.names.push(name);
+        self.kinds.push(kind);
+        self.names.len() - 1
+    }
+}
+
+/// Build every device of `circuit`, allocating the extra unknowns and naming all of them.
+pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
+    let temp = circuit.temperature_k;
+    let mut b = Builder {
+        circuit,
+        names: circuit.nodes.iter().map(|n| format!("v({n})")).collect(),
+        kinds: vec![UnknownKind::Voltage; circuit.nodes.len()],
+    };
+    let mut devices: Vec<Box<dyn Device>> = Vec::with_capacity(circuit.elements.len());
+    // (branch, inductance) of each inductor element, for couplings.
+    let mut coils: Vec<Option<(usize, f64)>> = vec![None; circuit.elements.len()];
+    let mut couplings = Vec::new();
+
+    for (id, el) in circuit.elements.iter().enumerate() {
+        let name = el.name.as_str();
+        match &el.kind {
+            ElementKind::Resistor { a, b: bn, r, .. } => {
+                let r = positive(name, "resistance", *r)?;
+                devices.push(Box::new(Resistor::new(
+                    id,
+                    b.node(name, *a)?,
+                    b.node(name, *bn)?,
+                    r,
+                )));
+            }
+            ElementKind::Capacitor { a, b: bn, c, .. } => {
+                let c = nonneg(name, "capacitance", *c)?;
+                devices.push(Box::new(Capacitor::new(
+                    id,
+                    b.node(name, *a)?,
+                    b.node(name, *bn)?,
+                    c,
+                )));
+            }
+            ElementKind::Inductor {
+                a,
+                b: bn,
+                l,
+                series_r,
+                ..
+            } => {
+                let l = positive(name, "inductance", *l)?;
+                let r = nonneg(name, "r", *series_r)?;
+                let (na, nb) = (b.node(name, *a)?, b.node(name, *bn)?);
+                let j = b.alloc(format!("i({name})"), UnknownKind::Current);
+                coils[id] = Some((j, l));
+                devices.push(Box::new(Inductor::new(id, na, nb, j, l, r)));
+            }
+            ElementKind::Coupling { inductors, k } => {
+                if !(k.is_finite() && k.abs() <= 1.0) {
+                    return Err(bad(
+                        name,
+                        "k",
+                        *k,
+                        "coupling coefficient must satisfy |k| ≤ 1",
+                    ));
+                }
+                if inductors.len() < 2 {
+                    return Err(DeviceError::WrongKind {
+                        element: name.to_string(),
+                        reason: format!(
+                            "a coupling needs at least 2 inductors, got {}",
+                            inductors.len()
+                        ),
+                    });
+                }
+                couplings.push((id, inductors.clone(), *k));
+            }
+            ElementKind::VSource { p, n, wave, rs } => {
+                waveform::check(wave, name)?;
+                let rs = nonneg(name, "rs", *rs)?;
+                let (np, nn) = (b.node(name, *p)?, b.node(name, *n)?);
+                let j = b.alloc(format!("i({name})"), UnknownKind::Current);
+                devices.push(Box::new(VSource::new(id, np, nn, j, wave.clone(), rs)));
+            }
+            ElementKind::ISource { p, n, wave } => {
+                waveform::check(wave, name)?;
+                devices.push(Box::new(ISource::new(
+                    id,
+                    b.node(name, *p)?,
+                    b.node(name, *n)?,
+                    wave.clone(),
+                )));
+            }
+            ElementKind::Diode { .. } => {
+                return Err(DeviceError::Unsupported {
+                    element: name.to_string(),
+                    kind: "diode",
+                })
+            }
+            ElementKind::Bjt {
+                c,
+                b: bb,
+                e,
+                model,
+                area,
+            } => {
+                let p = match circuit.models.get(*model).map(|m| &m.params) {
+                    Some(ModelParams::Bjt(p)) => p,
+                    Some(_) => {
+                        return Err(DeviceError::WrongKind {
+                            element: name.to_string(),
+                            reason: format!(
+                                "model `{}` is not a bipolar model",
+                                circuit.models[*model].name
+                            ),
+                        })
+                    }
+                    None => {
+                        return Err(DeviceError::BadReference {
+                            element: name.to_string(),
+                            what: "model",
+                            index: *model,
+                            available: circuit.models.len(),
+                        })
+                    }
+                };
+                let area = positive(name, "area", *area)?;
+                positive(name, "temperature", temp)?;
+                let (nc, nb, ne) = (b.node(name, *c)?, b.node(name, *bb)?, b.node(name, *e)?);
+                let need = Bjt::internal_nodes_needed(p);
+                let mut internal = |need: bool, ext: Idx, tag: &str| {
+                    if need {
+                        Some(b.alloc(format!("v({name}:{tag}')"), UnknownKind::Voltage))
+                    } else {
+                        ext
+                    }
+                };
+                let ci = internal(need[0], nc, "c");
+                let bi = internal(need[1], nb, "b");
+                let ei = internal(need[2], ne, "e");
+                let nodes = BjtNodes {
+                    c: nc,
+                    b: nb,
+                    e: ne,
+                    ci,
+                    bi,
+                    ei,
+                };
+                devices.push(Box::new(Bjt::new(id, nodes, p, area, temp)));
+            }
+        }
+    }
+
+    for (id, members, k) in couplings {
+        let name = &circuit.elements[id].name;
+        let mut list = Vec::with_capacity(members.len());
+        for m in members {
+            match coils.get(m) {
+                Some(Some(c)) => {
+                    if list.iter().any(|&(j, _)| j == c.0) {
+                        return Err(DeviceError::WrongKind {
+                            element: name.clone(),
+                            reason: format!(
+                                "inductor `{}` is listed twice",
+                                circuit.elements[m].name
+                            ),
+                        });
+                    }
+                    list.push(*c);
+                }
+                Some(None) => {
+                    return Err(DeviceError::WrongKind {
+                        element: name.clone(),
+                        reason: format!(
+                            "`{}` is a {}, not an inductor",
+                            circuit.elements[m].name,
+                            circuit.elements[m].kind.keyword()
+                        ),
+                    })
+                }
+                None => {
+                    return Err(DeviceError::BadReference {
+                        element: name.clone(),
+                        what: "element",
+                        index: m,
+                        available: circuit.elements.len(),
+                    })
+                }
+            }
+        }
+        devices.push(Box::new(Coupling::new(id, list, k)));
+    }
+
+    let mut state_offsets = Vec::with_capacity(devices.len());
+    let mut state_len = 0;
+    for d in &devices {
+        state_offsets.push(state_len);
+        state_len += d.state_len();
+    }
+    Ok(DeviceSet {
+        devices,
+        n_unknowns: b.names.len(),
+        n_nodes: circuit.nodes.len(),
+        names: b.names,
+        kinds: b.kinds,
+        state_offsets,
+        state_len,
+    })
+}

@@ -1,0 +1,364 @@
+//! Linear elements: resistor, capacitor, inductor, coupling, independent sources.
+//!
+//! Conventions (shared with every device, see [`crate::contract`]):
+//! each node row of `F(x,t) = i(x,t) + dq/dt = 0` is the sum of currents
+//! *leaving* the node through the devices.
+//!
+//! | element | stamps |
+//! | --- | --- |
+//! | resistor a–b, R | `i_a = (v_a − v_b)/R`, `i_b = −i_a` |
+//! | capacitor a–b, C | `q_a = C (v_a − v_b)`, `q_b = −q_a` |
+//! | inductor a–b, L, r, branch j (a → b through it) | rows a/b: `±j`; branch row: i-part `v_a − v_b − r j`, q-part `−φ`, `φ = L j` |
+//! | coupling of inductors k, l | adds `−M j_l` to the q-part of branch row k and `−M j_k` to row l, `M = k √(L_k L_l)`, every pair |
+//! | vsource p–n, branch j | rows p/n: `±j` (j flows into p from the circuit, through the source, out of n); branch row: `v_p − v_n − V(t) − rs j` |
+//! | isource p–n | rows p/n: `±I(t)` (I flows from p through the source to n) |
+//!
+//! with `V(t) = dc_scale·dc + wave_scale·shape(t)` (see [`crate::waveform`]).
+//! A source delivering power has `j < 0`.
+//!
+//! Small-signal excitation ([`Device::ac_excitation`]), for `(G + jωC) X = b`:
+//! a vsource puts `b = +1` on its branch row (so the linearised branch row
+//! reads `v_p − v_n − rs j = 1`: node voltages are the response to a 1 V source
+//! amplitude); an isource puts `b_p = −1`, `b_n = +1` (the response to 1 A
+//! flowing from p through the source to n).
+
+use crate::contract::{val, Device, EvalCtx, EvalInfo, Idx, Stamp};
+use crate::waveform::{breakpoints, Waveform as _};
+use tankwave_circuit::ir::Waveform;
+
+/// Linear resistor between `a` and `b`.
+#[derive(Debug, Clone)]
+pub struct Resistor {
+    element: usize,
+    nodes: [Idx; 2],
+    g: f64,
+}
+
+impl Resistor {
+    /// Resistor of `r` Ω (must be > 0 and finite; checked by [`crate::instantiate`]).
+    pub fn new(element: usize, a: Idx, b: Idx, r: f64) -> Self {
+        Self {
+            element,
+            nodes: [a, b],
+            g: 1.0 / r,
+        }
+    }
+}
+
+impl Device for Resistor {
+    fn element(&self) -> usize {
+        self.element
+    }
+    fn terminals(&self) -> &[Idx] {
+        &self.nodes
+    }
+    fn is_linear(&self) -> bool {
+        true
+    }
+    fn eval(&self, x: &[f64], _ctx: &EvalCtx, _s: &mut [f64], out: &mut dyn Stamp) -> EvalInfo {
+        let [a, b] = self.nodes;
+        let i = self.g * (val(x, a) - val(x, b));
+        out.add_i(a, i);
+        out.add_i(b, -i);
+        out.add_g(a, a, self.g);
+        out.add_g(a, b, -self.g);
+        out.add_g(b, a, -self.g);
+        out.add_g(b, b, self.g);
+        EvalInfo::default()
+    }
+    fn op_info(&self, x: &[f64], _ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
+        let v = val(x, self.nodes[0]) - val(x, self.nodes[1]);
+        vec![("v", v), ("i", self.g * v), ("p", self.g * v * v)]
+    }
+}
+
+/// Linear capacitor between `a` and `b`.
+#[derive(Debug, Clone)]
+pub struct Capacitor {
+    element: usize,
+    nodes: [Idx; 2],
+    c: f64,
+}
+
+impl Capacitor {
+    /// Capacitor of `c` F.
+    pub fn new(element: usize, a: Idx, b: Idx, c: f64) -> Self {
+        Self {
+            element,
+            nodes: [a, b],
+            c,
+        }
+    }
+}
+
+impl Device for Capacitor {
+    fn element(&self) -> usize {
+        self.element
+    }
+    fn terminals(&self) -> &[Idx] {
+        &self.nodes
+    }
+    fn is_linear(&self) -> bool {
+        true
+    }
+    fn eval(&self, x: &[f64], _ctx: &EvalCtx, _s: &mut [f64], out: &mut dyn Stamp) -> EvalInfo {
+        let [a, b] = self.nodes;
+        let q = self.c * (val(x, a) - val(x, b));
+        out.add_q(a, q);
+        out.add_q(b, -q);
+        out.add_c(a, a, self.c);
+        out.add_c(a, b, -self.c);
+        out.add_c(b, a, -self.c);
+        out.add_c(b, b, self.c);
+        EvalInfo::default()
+    }
+    fn op_info(&self, x: &[f64], _ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
+        let v = val(x, self.nodes[0]) - val(x, self.nodes[1]);
+        vec![("v", v), ("q", self.c * v)]
+    }
+}
+
+/// Inductor between `a` and `b` with series loss `r`; owns branch unknown `j`.
+#[derive(Debug, Clone)]
+pub struct Inductor {
+    element: usize,
+    nodes: [Idx; 2],
+    branch: usize,
+    l: f64,
+    r: f64,
+}
+
+impl Inductor {
+    /// Inductor of `l` H with series resistance `r` Ω and branch current unknown `branch`.
+    pub fn new(element: usize, a: Idx, b: Idx, branch: usize, l: f64, r: f64) -> Self {
+        Self {
+            element,
+            nodes: [a, b],
+            branch,
+            l,
+            r,
+        }
+    }
+    /// Inductance, H.
+    pub fn inductance(&self) -> f64 {
+        self.l
+    }
+}
+
+impl Device for Inductor {
+    fn element(&self) -> usize {
+        self.element
+    }
+    fn terminals(&self) -> &[Idx] {
+        &self.nodes
+    }
+    fn is_linear(&self) -> bool {
+        true
+    }
+    fn eval(&self, x: &[f64], _ctx: &EvalCtx, _s: &mut [f64], out: &mut dyn Stamp) -> EvalInfo {
+        let [a, b] = self.nodes;
+        let jr = Some(self.branch);
+        let j = x[self.branch];
+        out.add_i(a, j);
+        out.add_i(b, -j);
+        out.add_g(a, jr, 1.0);
+        out.add_g(b, jr, -1.0);
+        out.add_i(jr, val(x, a) - val(x, b) - self.r * j);
+        out.add_g(jr, a, 1.0);
+        out.add_g(jr, b, -1.0);
+        out.add_g(jr, jr, -self.r);
+        out.add_q(jr, -self.l * j);
+        out.add_c(jr, jr, -self.l);
+        EvalInfo::default()
+    }
+    fn branch(&self) -> Option<usize> {
+        Some(self.branch)
+    }
+    fn op_info(&self, x: &[f64], _ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
+        let j = x[self.branch];
+        vec![("i", j), ("flux", self.l * j)]
+    }
+}
+
+/// Magnetic coupling between two or more inductors (mutual fluxes only).
+#[derive(Debug, Clone)]
+pub struct Coupling {
+    element: usize,
+    /// (branch unknown, inductance) of every coupled inductor.
+    coils: Vec<(usize, f64)>,
+    k: f64,
+}
+
+impl Coupling {
+    /// Couple the inductors given as (branch unknown, inductance H) with coefficient `k`.
+    pub fn new(element: usize, coils: Vec<(usize, f64)>, k: f64) -> Self {
+        Self { element, coils, k }
+    }
+    /// Mutual inductance of the coupled pair (m, n), H.
+    fn mutual(&self, lm: f64, ln: f64) -> f64 {
+        self.k * (lm * ln).sqrt()
+    }
+}
+
+impl Device for Coupling {
+    fn element(&self) -> usize {
+        self.element
+    }
+    fn terminals(&self) -> &[Idx] {
+        &[]
+    }
+    fn is_linear(&self) -> bool {
+        true
+    }
+    fn eval(&self, x: &[f64], _ctx: &EvalCtx, _s: &mut [f64], out: &mut dyn Stamp) -> EvalInfo {
+        for (m, &(jm, lm)) in self.coils.iter().enumerate() {
+            for (n, &(jn, ln)) in self.coils.iter().enumerate() {
+                if m == n {
+                    continue;
+                }
+                let mu = self.mutual(lm, ln);
+                out.add_q(Some(jm), -mu * x[jn]);
+                out.add_c(Some(jm), Some(jn), -mu);
+            }
+        }
+        EvalInfo::default()
+    }
+}
+
+/// Independent voltage source with series resistance; owns branch unknown `j`.
+#[derive(Debug, Clone)]
+pub struct VSource {
+    element: usize,
+    nodes: [Idx; 2],
+    branch: usize,
+    wave: Waveform,
+    rs: f64,
+}
+
+impl VSource {
+    /// Source between `p` and `n` with branch current unknown `branch`.
+    pub fn new(element: usize, p: Idx, n: Idx, branch: usize, wave: Waveform, rs: f64) -> Self {
+        Self {
+            element,
+            nodes: [p, n],
+            branch,
+            wave,
+            rs,
+        }
+    }
+    /// Source value `V(t)` under the scales of `ctx`.
+    pub fn value(&self, ctx: &EvalCtx) -> f64 {
+        self.wave.value(ctx.time, ctx.dc_scale, ctx.wave_scale)
+    }
+}
+
+impl Device for VSource {
+    fn element(&self) -> usize {
+        self.element
+    }
+    fn terminals(&self) -> &[Idx] {
+        &self.nodes
+    }
+    fn is_linear(&self) -> bool {
+        true
+    }
+    fn eval(&self, x: &[f64], ctx: &EvalCtx, _s: &mut [f64], out: &mut dyn Stamp) -> EvalInfo {
+        let [p, n] = self.nodes;
+        let jr = Some(self.branch);
+        let j = x[self.branch];
+        out.add_i(p, j);
+        out.add_i(n, -j);
+        out.add_g(p, jr, 1.0);
+        out.add_g(n, jr, -1.0);
+        out.add_i(jr, val(x, p) - val(x, n) - self.value(ctx) - self.rs * j);
+        out.add_g(jr, p, 1.0);
+        out.add_g(jr, n, -1.0);
+        if self.rs != 0.0 {
+            out.add_g(jr, jr, -self.rs);
+        }
+        EvalInfo::default()
+    }
+    fn ac_excitation(&self, out: &mut dyn FnMut(usize, f64)) {
+        out(self.branch, 1.0);
+    }
+    fn breakpoints(&self, t0: f64, t1: f64, out: &mut Vec<f64>) {
+        if let Some(s) = &self.wave.shape {
+            breakpoints(s, t0, t1, out);
+        }
+    }
+    fn branch(&self) -> Option<usize> {
+        Some(self.branch)
+    }
+    fn op_info(&self, x: &[f64], ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
+        let j = x[self.branch];
+        let v = val(x, self.nodes[0]) - val(x, self.nodes[1]);
+        // Power delivered to the circuit: current leaves p into the circuit as −j.
+        vec![
+            ("v", v),
+            ("i", j),
+            ("p_delivered", -v * j),
+            ("source", self.value(ctx)),
+        ]
+    }
+}
+
+/// Independent current source: I(t) flows from `p` through the source to `n`.
+#[derive(Debug, Clone)]
+pub struct ISource {
+    element: usize,
+    nodes: [Idx; 2],
+    wave: Waveform,
+}
+
+impl ISource {
+    /// Source between `p` and `n`.
+    pub fn new(element: usize, p: Idx, n: Idx, wave: Waveform) -> Self {
+        Self {
+            element,
+            nodes: [p, n],
+            wave,
+        }
+    }
+    /// Source value `I(t)` under the scales of `ctx`.
+    pub fn value(&self, ctx: &EvalCtx) -> f64 {
+        self.wave.value(ctx.time, ctx.dc_scale, ctx.wave_scale)
+    }
+}
+
+impl Device for ISource {
+    fn element(&self) -> usize {
+        self.element
+    }
+    fn terminals(&self) -> &[Idx] {
+        &self.nodes
+    }
+    fn is_linear(&self) -> bool {
+        true
+    }
+    fn eval(&self, _x: &[f64], ctx: &EvalCtx, _s: &mut [f64], out: &mut dyn Stamp) -> EvalInfo {
+        let [p, n] = self.nodes;
+        let i = self.value(ctx);
+        out.add_i(p, i);
+        out.add_i(n, -i);
+        EvalInfo::default()
+    }
+    fn ac_excitation(&self, out: &mut dyn FnMut(usize, f64)) {
+        if let Some(p) = self.nodes[0] {
+            out(p, -1.0);
+        }
+        if let Some(n) = self.nodes[1] {
+            out(n, 1.0);
+        }
+    }
+    fn breakpoints(&self, t0: f64, t1: f64, out: &mut Vec<f64>) {
+        if let Some(s) = &self.wave.shape {
+            breakpoints(s, t0, t1, out);
+        }
+    }
+    fn op_info(&self, x: &[f64], ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
+        let i = self.value(ctx);
+        let v = val(x, self.nodes[0]) - val(x, self.nodes[1]);
+        // I enters the source at p: it absorbs v·I, so it delivers −v·I to the circuit.
+        vec![("v", v), ("i", i), ("p_delivered", -v * i)]
+    }
+}
