@@ -19,6 +19,7 @@ pub mod bjt;
 pub mod contract;
 pub mod error;
 pub mod instance;
+pub mod junction;
 pub mod linear;
 pub mod waveform;
 pub use contract::*;
