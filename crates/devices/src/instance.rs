@@ -18,6 +18,7 @@
 
 use crate::bjt::{Bjt, BjtNodes};
 use crate::contract::{Device, DeviceSet, Idx, UnknownKind};
+use crate::diode::Diode;
 use crate::error::DeviceError;
 use crate::linear::{Capacitor, Coupling, ISource, Inductor, Resistor, VSource};
 use crate::waveform;
@@ -158,11 +159,37 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                     wave.clone(),
                 )));
             }
-            ElementKind::Diode { .. } => {
-                return Err(DeviceError::Unsupported {
-                    element: name.to_string(),
-                    kind: "diode",
-                })
+            ElementKind::Diode { a, k, model, area } => {
+                let p = match circuit.models.get(*model).map(|m| &m.params) {
+                    Some(ModelParams::Diode(p)) => p,
+                    Some(_) => {
+                        return Err(DeviceError::WrongKind {
+                            element: name.to_string(),
+                            reason: format!(
+                                "model `{}` is not a diode model",
+                                circuit.models[*model].name
+                            ),
+                        })
+                    }
+                    None => {
+                        return Err(DeviceError::BadReference {
+                            element: name.to_string(),
+                            what: "model",
+                            index: *model,
+                            available: circuit.models.len(),
+                        })
+                    }
+                };
+                let area = positive(name, "area", *area)?;
+                positive(name, "temperature", temp)?;
+                crate::diode::check_params(p, name)?;
+                let (na, nk) = (b.node(name, *a)?, b.node(name, *k)?);
+                let ai = if p.r_series > 0.0 {
+                    Some(b.alloc(format!("v({name}:a')"), UnknownKind::Voltage))
+                } else {
+                    na
+                };
+                devices.push(Box::new(Diode::new(id, na, nk, ai, p, area, temp)));
             }
             ElementKind::Bjt {
                 c,

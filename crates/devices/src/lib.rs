@@ -17,6 +17,7 @@
 
 pub mod bjt;
 pub mod contract;
+pub mod diode;
 pub mod error;
 pub mod instance;
 pub mod junction;
