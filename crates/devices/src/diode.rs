@@ -38,7 +38,8 @@
 use crate::contract::{val, Device, EvalCtx, EvalInfo, Idx, Stamp};
 use crate::error::DeviceError;
 use crate::junction::{
-    critical_voltage, exp_guarded, limit_junction, sat_current_at, thermal_voltage, Depletion,
+    critical_voltage, exp_guarded, exp_m1_guarded, limit_junction, sat_current_at, thermal_voltage,
+    Depletion,
 };
 use tankwave_circuit::ir::DiodeParams;
 
@@ -188,8 +189,8 @@ impl Diode {
     /// Current, conductance, charge and capacitance of the junction at `v`
     /// (exact, no limiting), with `gmin` across it.
     pub fn junction(&self, v: f64, gmin: f64) -> JunctionEval {
-        let (e, de) = exp_guarded(v / self.n_vt);
-        let i_f = self.is_t * (e - 1.0);
+        let (em1, de) = exp_m1_guarded(v / self.n_vt);
+        let i_f = self.is_t * em1;
         let g_f = self.is_t * de / self.n_vt;
         let (i_b, g_b) = if self.bv.is_finite() {
             let (eb, deb) = exp_guarded(-(v + self.bv) / self.n_vt);

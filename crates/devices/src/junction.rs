@@ -57,8 +57,21 @@ pub fn exp_guarded(x: f64) -> (f64, f64) {
 /// Ideal junction current and conductance `(IS (exp(v/nVt) − 1), dI/dv)`,
 /// with `n_vt` = n·V_t, through [`exp_guarded`].
 pub fn junction_current(v: f64, is: f64, n_vt: f64) -> (f64, f64) {
-    let (e, de) = exp_guarded(v / n_vt);
-    (is * (e - 1.0), is * de / n_vt)
+    let x = v / n_vt;
+    let (em1, de) = exp_m1_guarded(x);
+    (is * em1, is * de / n_vt)
+}
+
+/// `(exp(x) − 1, d/dx exp(x))` through the same guard as [`exp_guarded`];
+/// uses `exp_m1` below the joint so small-signal currents near zero bias keep
+/// full relative precision.
+pub fn exp_m1_guarded(x: f64) -> (f64, f64) {
+    if x > EXP_ARG_MAX {
+        let (e, de) = exp_guarded(x);
+        (e - 1.0, de)
+    } else {
+        (x.exp_m1(), x.exp())
+    }
 }
 
 /// Critical voltage `nVt ln(nVt/(√2 IS))`, V: the voltage where the junction's
