@@ -1,2 +1,231 @@
-//! tankwave-netlist (placeholder overview).
+//! tankwave-netlist: the stage-file language — lexing, parsing, units,
+//! expressions, includes, spans and diagnostics.
+//!
+//! This crate turns text into a syntax tree ([`ast::Statement`]s) with every
+//! value kept as an unevaluated expression, plus a [`SourceMap`] and every
+//! [`Diagnostic`] found. It knows nothing about circuits or solving: the
+//! meaning of statements (node numbering, models, topology) belongs to the
+//! circuit crate. It never panics on any input bytes.
+//!
+//! ```
+//! let parsed = tankwave_netlist::parse_str("stage.tank", "resistor r1 a gnd 50Ohm\n");
+//! assert!(parsed.diagnostics.is_empty());
+//! assert_eq!(parsed.statements.len(), 1);
+//! ```
 #![deny(missing_docs)]
+
+pub mod ast;
+pub mod diag;
+pub mod expr;
+pub mod lexer;
+pub mod parser;
+pub mod source;
+pub mod suggest;
+pub mod units;
+
+pub use ast::Statement;
+pub use diag::{Diagnostic, Severity, CODES};
+pub use source::{FileId, SourceMap, Span};
+pub use units::{Slot, Unit};
+
+use parser::Item;
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+
+/// Largest file read (bigger files are refused with `io-error`).
+pub const MAX_FILE_BYTES: u64 = 64 << 20;
+/// Deepest include nesting.
+pub const MAX_INCLUDE_DEPTH: usize = 64;
+
+/// The result of parsing: statements (includes spliced in), sources and diagnostics.
+#[derive(Debug, Clone)]
+pub struct Parsed {
+    /// Statements in order, with included files' statements in place of each `include`.
+    pub statements: Vec<Statement>,
+    /// Every file read.
+    pub sources: Arc<SourceMap>,
+    /// Every problem found while reading and parsing.
+    pub diagnostics: Vec<Diagnostic>,
+}
+
+impl Parsed {
+    /// True if any diagnostic is an error.
+    pub fn has_errors(&self) -> bool {
+        self.diagnostics.iter().any(|d| d.is_error())
+    }
+}
+
+struct State {
+    map: SourceMap,
+    diags: Vec<Diagnostic>,
+    stmts: Vec<Statement>,
+}
+
+/// Parse a stage file from disk (includes are resolved relative to each including file).
+pub fn parse_file(path: impl AsRef<Path>) -> Parsed {
+    let path = path.as_ref();
+    let name = path.display().to_string();
+    let mut st = State {
+        map: SourceMap::new(),
+        diags: Vec::new(),
+        stmts: Vec::new(),
+    };
+    match read_limited(path) {
+        Ok(bytes) => {
+            let mut stack = vec![canonical(path)];
+            let dir = path.parent().map(Path::to_path_buf).unwrap_or_default();
+            st.source(&name, &bytes, None, &dir, &mut stack);
+        }
+        Err(e) => st.diags.push(Diagnostic::global(
+            "io-error",
+            Severity::Error,
+            format!("cannot read {name}: {e}"),
+        )),
+    }
+    st.finish()
+}
+
+/// Parse text given in memory; `name` is used in messages and as the base for includes.
+pub fn parse_str(name: &str, text: &str) -> Parsed {
+    parse_bytes(name, text.as_bytes())
+}
+
+/// Parse bytes given in memory (non-UTF-8 input gives a `not-utf8` diagnostic).
+pub fn parse_bytes(name: &str, bytes: &[u8]) -> Parsed {
+    let mut st = State {
+        map: SourceMap::new(),
+        diags: Vec::new(),
+        stmts: Vec::new(),
+    };
+    let p = Path::new(name);
+    let dir = p.parent().map(Path::to_path_buf).unwrap_or_default();
+    let mut stack = vec![canonical(p)];
+    st.source(name, bytes, None, &dir, &mut stack);
+    st.finish()
+}
+
+fn canonical(p: &Path) -> PathBuf {
+    std::fs::canonicalize(p).unwrap_or_else(|_| p.to_path_buf())
+}
+
+fn read_limited(p: &Path) -> Result<Vec<u8>, String> {
+    let md = std::fs::metadata(p).map_err(|e| e.to_string())?;
+    if !md.is_file() {
+        return Err("not a regular file".into());
+    }
+    if md.len() > MAX_FILE_BYTES {
+        return Err(format!(
+            "file is {} bytes, more than the {} byte limit",
+            md.len(),
+            MAX_FILE_BYTES
+        ));
+    }
+    std::fs::read(p).map_err(|e| e.to_string())
+}
+
+impl State {
+    fn finish(self) -> Parsed {
+        Parsed {
+            statements: self.stmts,
+            sources: Arc::new(self.map),
+            diagnostics: self.diags,
+        }
+    }
+
+    fn source(
+        &mut self,
+        name: &str,
+        bytes: &[u8],
+        from: Option<(FileId, u32)>,
+        dir: &Path,
+        stack: &mut Vec<PathBuf>,
+    ) {
+        let (text, bad_at) = match std::str::from_utf8(bytes) {
+            Ok(s) => (s.to_string(), None),
+            Err(e) => (
+                String::from_utf8_lossy(bytes).into_owned(),
+                Some(e.valid_up_to()),
+            ),
+        };
+        let file = self.map.add(name, text, from);
+        if let Some(at) = bad_at {
+            // Offsets in the lossy text equal the original ones up to the first bad byte.
+            let d = self.map.error(
+                "not-utf8",
+                Span::new(file, at, at + 1),
+                format!("{name} is not UTF-8 text (bad byte at offset {at})"),
+            );
+            self.diags.push(d);
+            return;
+        }
+        let text = self
+            .map
+            .file(file)
+            .map(|f| f.text.clone())
+            .unwrap_or_default();
+        let toks = lexer::lex(&text, file, &self.map, &mut self.diags);
+        let items = parser::parse_tokens(&toks, &self.map, &mut self.diags);
+        for item in items {
+            match item {
+                Item::Stmt(s) => self.stmts.push(s),
+                Item::Include(rel, span) => self.include(&rel, span, dir, stack),
+            }
+        }
+    }
+
+    fn include(&mut self, rel: &str, span: Span, dir: &Path, stack: &mut Vec<PathBuf>) {
+        let path = dir.join(rel);
+        let canon = canonical(&path);
+        if let Some(pos) = stack.iter().position(|p| *p == canon) {
+            let chain: Vec<String> = stack[pos..]
+                .iter()
+                .chain(std::iter::once(&canon))
+                .map(|p| {
+                    p.file_name()
+                        .map(|f| f.to_string_lossy().into_owned())
+                        .unwrap_or_default()
+                })
+                .collect();
+            let d = self.map.error(
+                "include-cycle",
+                span,
+                format!("include cycle: {}", chain.join(" -> ")),
+            );
+            self.diags.push(d);
+            return;
+        }
+        if stack.len() >= MAX_INCLUDE_DEPTH {
+            let d = self.map.error(
+                "include-cycle",
+                span,
+                format!("includes nested more than {MAX_INCLUDE_DEPTH} deep"),
+            );
+            self.diags.push(d);
+            return;
+        }
+        match read_limited(&path) {
+            Ok(bytes) => {
+                stack.push(canon);
+                let sub = path.parent().map(Path::to_path_buf).unwrap_or_default();
+                let name = path.display().to_string();
+                self.source(&name, &bytes, Some((span.file, span.start)), &sub, stack);
+                stack.pop();
+            }
+            Err(e) => {
+                let d = self.map.error(
+                    "include-missing",
+                    span,
+                    format!("cannot include '{rel}': {e}"),
+                );
+                self.diags.push(d.with_help(format!(
+                    "the path is taken relative to {}",
+                    if dir.as_os_str().is_empty() {
+                        "the current directory".into()
+                    } else {
+                        dir.display().to_string()
+                    }
+                )));
+            }
+        }
+    }
+}

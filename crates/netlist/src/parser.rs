@@ -1,0 +1,860 @@
+//! The statement parser: tokens to [`Statement`]s.
+//!
+//! Each statement is parsed on its own; on a problem the parser reports it,
+//! skips to the end of the statement and carries on, so one run reports every
+//! broken statement. `include` statements are handed back to the caller
+//! (see [`crate::parse_file`]), which reads the file and splices its
+//! statements in place.
+
+use crate::ast::*;
+use crate::diag::Diagnostic;
+use crate::lexer::{TokKind, Token, STATEMENT_KEYWORDS};
+use crate::source::{SourceMap, Span};
+use crate::suggest::did_you_mean;
+
+/// One parsed item of a file.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Item {
+    /// A statement.
+    Stmt(Statement),
+    /// `include "path"` with the span of the statement.
+    Include(String, Span),
+}
+
+struct Parser<'a> {
+    toks: &'a [Token],
+    pos: usize,
+    map: &'a SourceMap,
+    diags: &'a mut Vec<Diagnostic>,
+}
+
+type P<T> = Result<T, ()>;
+
+/// Parse a token stream (from [`crate::lexer::lex`]) into items.
+pub fn parse_tokens(toks: &[Token], map: &SourceMap, diags: &mut Vec<Diagnostic>) -> Vec<Item> {
+    let mut p = Parser {
+        toks,
+        pos: 0,
+        map,
+        diags,
+    };
+    let mut items = Vec::new();
+    loop {
+        match p.peek() {
+            TokKind::Eof => break,
+            TokKind::Newline => {
+                p.pos += 1;
+                continue;
+            }
+            _ => {}
+        }
+        let start = p.pos;
+        match p.statement() {
+            Ok(item) => {
+                if matches!(p.peek(), TokKind::Newline | TokKind::Eof) {
+                    items.push(item);
+                } else {
+                    if !matches!(p.peek(), TokKind::Error) {
+                        let t = p.tok().clone();
+                        let kw = match &p.toks.get(start).map(|t| &t.kind) {
+                            Some(TokKind::Ident(s)) => s.clone(),
+                            _ => String::new(),
+                        };
+                        p.err(
+                            t.span,
+                            format!(
+                                "unexpected {} at the end of the '{kw}' statement",
+                                t.kind.describe()
+                            ),
+                        );
+                    }
+                    p.skip_statement();
+                }
+            }
+            Err(()) => p.skip_statement(),
+        }
+    }
+    items
+}
+
+impl<'a> Parser<'a> {
+    fn tok(&self) -> &Token {
+        let i = self.pos.min(self.toks.len().saturating_sub(1));
+        &self.toks[i]
+    }
+    fn peek(&self) -> &TokKind {
+        &self.tok().kind
+    }
+    fn peek_at(&self, n: usize) -> &TokKind {
+        let i = (self.pos + n).min(self.toks.len().saturating_sub(1));
+        &self.toks[i].kind
+    }
+    fn bump(&mut self) -> Token {
+        let t = self.tok().clone();
+        if self.pos < self.toks.len() {
+            self.pos += 1;
+        }
+        t
+    }
+    fn prev_end(&self) -> Span {
+        let i = self
+            .pos
+            .saturating_sub(1)
+            .min(self.toks.len().saturating_sub(1));
+        self.toks[i].span
+    }
+    fn err(&mut self, span: Span, msg: impl Into<String>) {
+        let d = self.map.error("syntax", span, msg);
+        self.diags.push(d);
+    }
+    fn err_help(
+        &mut self,
+        code: &'static str,
+        span: Span,
+        msg: impl Into<String>,
+        help: Option<String>,
+    ) {
+        let d = self.map.error(code, span, msg).with_help_opt(help);
+        self.diags.push(d);
+    }
+    /// Report "expected X" at the current token (unless it is an already-reported bad token).
+    fn expected<T>(&mut self, what: &str) -> P<T> {
+        let t = self.tok().clone();
+        if t.kind != TokKind::Error {
+            self.err(
+                t.span,
+                format!("expected {what}, got {}", t.kind.describe()),
+            );
+        }
+        Err(())
+    }
+    fn skip_statement(&mut self) {
+        while !matches!(self.peek(), TokKind::Newline | TokKind::Eof) {
+            self.pos += 1;
+        }
+    }
+    fn eat(&mut self, k: &TokKind) -> bool {
+        if self.peek() == k {
+            self.pos += 1;
+            true
+        } else {
+            false
+        }
+    }
+    fn expect(&mut self, k: TokKind, what: &str) -> P<Token> {
+        if self.peek() == &k {
+            Ok(self.bump())
+        } else {
+            self.expected(what)
+        }
+    }
+    fn is_word(&self, w: &str) -> bool {
+        matches!(self.peek(), TokKind::Ident(s) if s == w)
+    }
+    fn eat_word(&mut self, w: &str) -> bool {
+        if self.is_word(w) {
+            self.pos += 1;
+            true
+        } else {
+            false
+        }
+    }
+    fn expect_word(&mut self, w: &str) -> P<()> {
+        if self.eat_word(w) {
+            Ok(())
+        } else {
+            self.expected(&format!("'{w}'"))
+        }
+    }
+    fn ident(&mut self, what: &str) -> P<Ident> {
+        match self.peek().clone() {
+            TokKind::Ident(name) => {
+                let t = self.bump();
+                Ok(Ident { name, span: t.span })
+            }
+            TokKind::Number { .. } if what.contains("node") => {
+                let t = self.tok().clone();
+                self.err_help(
+                    "syntax",
+                    t.span,
+                    format!("expected {what}, got a number"),
+                    Some("names start with a letter or '_' (e.g. n1)".into()),
+                );
+                Err(())
+            }
+            _ => self.expected(what),
+        }
+    }
+
+    fn statement(&mut self) -> P<Item> {
+        let t = self.tok().clone();
+        let kw = match &t.kind {
+            TokKind::Ident(s) => s.clone(),
+            TokKind::Error => return Err(()),
+            other => {
+                let d = other.describe();
+                self.err_help(
+                    "unknown-statement",
+                    t.span,
+                    format!("a statement starts with a keyword, got {d}"),
+                    None,
+                );
+                return Err(());
+            }
+        };
+        let keyword = Ident {
+            name: kw.clone(),
+            span: t.span,
+        };
+        self.pos += 1;
+        let stmt = match kw.as_str() {
+            "title" => match self.peek().clone() {
+                TokKind::Str(s) => {
+                    self.pos += 1;
+                    Stmt::Title(s)
+                }
+                _ => return self.expected("a quoted title"),
+            },
+            "include" => match self.peek().clone() {
+                TokKind::Str(s) => {
+                    self.pos += 1;
+                    return Ok(Item::Include(s, t.span.to(self.prev_end())));
+                }
+                _ => return self.expected("a quoted file name"),
+            },
+            "temperature" => Stmt::Temperature(self.value()?),
+            "let" => {
+                let name = self.ident("a parameter name")?;
+                self.expect(TokKind::Eq, "'='")?;
+                Stmt::Let {
+                    name,
+                    value: self.value()?,
+                }
+            }
+            "resistor" | "capacitor" | "inductor" | "coupling" | "vsource" | "isource"
+            | "diode" | "bjt" => {
+                let kind = ElemKeyword::from_keyword(&kw).ok_or(())?;
+                Stmt::Element(self.element(kind)?)
+            }
+            "model" => Stmt::Model(self.model()?),
+            "output" => Stmt::Output(self.ident("an element name")?),
+            "input" => Stmt::Input(self.ident("an element name")?),
+            "analyze" => {
+                let kind = self.ident("an analysis (op, transient, ac or steady)")?;
+                Stmt::Analyze {
+                    kind,
+                    options: self.options()?,
+                }
+            }
+            "mask" => Stmt::Mask(self.mask()?),
+            "require" => Stmt::Require(self.require()?),
+            "vary" => self.vary()?,
+            "tolerance" => {
+                let element = self.ident("an element name")?;
+                let value = self.value()?;
+                let distribution = match self.peek() {
+                    TokKind::Ident(_) => Some(self.ident("a distribution")?),
+                    _ => None,
+                };
+                Stmt::Tolerance {
+                    element,
+                    value,
+                    distribution,
+                }
+            }
+            "montecarlo" => Stmt::MonteCarlo(self.options()?),
+            "tune" => {
+                let param = self.ident("a parameter name")?;
+                self.expect_word("from")?;
+                let from = self.value()?;
+                self.expect_word("to")?;
+                let to = self.value()?;
+                Stmt::Tune { param, from, to }
+            }
+            _ => {
+                let help = did_you_mean(&kw, STATEMENT_KEYWORDS.iter());
+                let msg = if matches!(self.peek(), TokKind::Eq) {
+                    format!(
+                        "unknown statement '{kw}' (parameters are defined with 'let {kw} = ...')"
+                    )
+                } else {
+                    format!("unknown statement '{kw}'")
+                };
+                self.err_help("unknown-statement", t.span, msg, help);
+                return Err(());
+            }
+        };
+        Ok(Item::Stmt(Statement {
+            stmt,
+            keyword,
+            span: t.span.to(self.prev_end()),
+        }))
+    }
+
+    fn element(&mut self, kind: ElemKeyword) -> P<ElementStmt> {
+        let name = self.ident(&format!("a name for the {}", kind.keyword()))?;
+        let mut nodes = Vec::new();
+        let mut value = None;
+        match kind {
+            ElemKeyword::Resistor | ElemKeyword::Capacitor | ElemKeyword::Inductor => {
+                nodes.push(self.ident("a node name")?);
+                nodes.push(self.ident("a second node name")?);
+                if matches!(self.peek(), TokKind::Newline | TokKind::Eof) || self.option_ahead() {
+                    let sp = self.tok().span;
+                    self.err_help(
+                        "missing-option",
+                        sp,
+                        format!(
+                            "{} {} needs a value after its two nodes",
+                            kind.keyword(),
+                            name.name
+                        ),
+                        None,
+                    );
+                    return Err(());
+                }
+                value = Some(self.value()?);
+            }
+            ElemKeyword::VSource | ElemKeyword::ISource | ElemKeyword::Diode => {
+                nodes.push(self.ident("a node name")?);
+                nodes.push(self.ident("a second node name")?);
+            }
+            ElemKeyword::Coupling => {
+                while matches!(self.peek(), TokKind::Ident(_)) && !self.option_ahead() {
+                    nodes.push(self.ident("an inductor name")?);
+                }
+            }
+            ElemKeyword::Bjt => {}
+        }
+        let options = self.options()?;
+        Ok(ElementStmt {
+            kind,
+            name,
+            nodes,
+            value,
+            options,
+        })
+    }
+
+    fn option_ahead(&self) -> bool {
+        matches!(self.peek(), TokKind::Ident(_)) && matches!(self.peek_at(1), TokKind::Eq)
+    }
+
+    fn options(&mut self) -> P<Vec<Opt>> {
+        let mut out = Vec::new();
+        loop {
+            match self.peek() {
+                TokKind::Newline | TokKind::Eof | TokKind::RBrace => return Ok(out),
+                TokKind::Ident(_) if matches!(self.peek_at(1), TokKind::Eq) => {
+                    let key = self.ident("an option name")?;
+                    self.pos += 1; // '='
+                    let value = if key.name == "wave"
+                        || (matches!(self.peek(), TokKind::Ident(s) if s == "sine" || s == "pulse" || s == "pwl")
+                            && matches!(self.peek_at(1), TokKind::LParen))
+                    {
+                        OptValue::Wave(self.wave()?)
+                    } else {
+                        OptValue::Expr(self.value()?)
+                    };
+                    out.push(Opt { key, value });
+                }
+                _ => return self.expected("a name=value option"),
+            }
+        }
+    }
+
+    fn wave(&mut self) -> P<WaveAst> {
+        let shape = self.ident("a wave shape (sine, pulse or pwl)")?;
+        if !matches!(shape.name.as_str(), "sine" | "pulse" | "pwl") {
+            let help = did_you_mean(&shape.name, ["sine", "pulse", "pwl"].iter());
+            self.err_help(
+                "unknown-keyword",
+                shape.span,
+                format!("unknown wave shape '{}' (sine, pulse or pwl)", shape.name),
+                help,
+            );
+            return Err(());
+        }
+        self.expect(TokKind::LParen, "'(' after the wave shape")?;
+        let mut args = Vec::new();
+        loop {
+            if self.eat(&TokKind::RParen) {
+                break;
+            }
+            let name = if self.option_ahead() {
+                let n = self.ident("an argument name")?;
+                self.pos += 1;
+                Some(n)
+            } else {
+                None
+            };
+            let value = self.value()?;
+            args.push(WaveArg { name, value });
+            self.eat(&TokKind::Comma);
+        }
+        Ok(WaveAst {
+            span: shape.span.to(self.prev_end()),
+            shape,
+            args,
+        })
+    }
+
+    /// A value: a number, a name, a function call or a parenthesised expression.
+    pub fn value(&mut self) -> P<Expr> {
+        match self.peek().clone() {
+            TokKind::Minus => {
+                let m = self.bump();
+                match self.peek().clone() {
+                    TokKind::Number { value, unit } => {
+                        let t = self.bump();
+                        Ok(Expr {
+                            kind: ExprKind::Number {
+                                value: -value,
+                                unit,
+                            },
+                            span: m.span.to(t.span),
+                            paren: false,
+                        })
+                    }
+                    TokKind::Ident(_) | TokKind::LParen => {
+                        let inner = self.value()?;
+                        let span = m.span.to(inner.span);
+                        Ok(Expr {
+                            kind: ExprKind::Neg(Box::new(inner)),
+                            span,
+                            paren: true,
+                        })
+                    }
+                    _ => self.expected("a value after '-'"),
+                }
+            }
+            TokKind::Number { value, unit } => {
+                let t = self.bump();
+                Ok(Expr {
+                    kind: ExprKind::Number { value, unit },
+                    span: t.span,
+                    paren: false,
+                })
+            }
+            TokKind::Ident(name) => {
+                if matches!(self.peek_at(1), TokKind::LParen) {
+                    let mut e = self.atom()?;
+                    e.paren = true;
+                    return Ok(e);
+                }
+                let t = self.bump();
+                Ok(Expr {
+                    kind: ExprKind::Name(name),
+                    span: t.span,
+                    paren: false,
+                })
+            }
+            TokKind::LParen => {
+                let mut e = self.atom()?;
+                e.paren = true;
+                Ok(e)
+            }
+            _ => self.expected("a value"),
+        }
+    }
+
+    fn expr(&mut self) -> P<Expr> {
+        let mut lhs = self.term()?;
+        loop {
+            let op = match self.peek() {
+                TokKind::Plus => BinOp::Add,
+                TokKind::Minus => BinOp::Sub,
+                _ => return Ok(lhs),
+            };
+            self.pos += 1;
+            let rhs = self.term()?;
+            let span = lhs.span.to(rhs.span);
+            lhs = Expr {
+                kind: ExprKind::Binary(op, Box::new(lhs), Box::new(rhs)),
+                span,
+                paren: false,
+            };
+        }
+    }
+
+    fn term(&mut self) -> P<Expr> {
+        let mut lhs = self.unary()?;
+        loop {
+            let op = match self.peek() {
+                TokKind::Star => BinOp::Mul,
+                TokKind::Slash => BinOp::Div,
+                _ => return Ok(lhs),
+            };
+            self.pos += 1;
+            let rhs = self.unary()?;
+            let span = lhs.span.to(rhs.span);
+            lhs = Expr {
+                kind: ExprKind::Binary(op, Box::new(lhs), Box::new(rhs)),
+                span,
+                paren: false,
+            };
+        }
+    }
+
+    fn unary(&mut self) -> P<Expr> {
+        if matches!(self.peek(), TokKind::Minus) {
+            let m = self.bump();
+            if let TokKind::Number { value, unit } = self.peek().clone() {
+                if !matches!(self.peek_at(1), TokKind::Caret) {
+                    let t = self.bump();
+                    return Ok(Expr {
+                        kind: ExprKind::Number {
+                            value: -value,
+                            unit,
+                        },
+                        span: m.span.to(t.span),
+                        paren: false,
+                    });
+                }
+            }
+            let inner = self.unary()?;
+            let span = m.span.to(inner.span);
+            return Ok(Expr {
+                kind: ExprKind::Neg(Box::new(inner)),
+                span,
+                paren: false,
+            });
+        }
+        let base = self.atom()?;
+        if self.eat(&TokKind::Caret) {
+            let exp = self.unary()?;
+            let span = base.span.to(exp.span);
+            return Ok(Expr {
+                kind: ExprKind::Binary(BinOp::Pow, Box::new(base), Box::new(exp)),
+                span,
+                paren: false,
+            });
+        }
+        Ok(base)
+    }
+
+    fn atom(&mut self) -> P<Expr> {
+        match self.peek().clone() {
+            TokKind::Number { value, unit } => {
+                let t = self.bump();
+                Ok(Expr {
+                    kind: ExprKind::Number { value, unit },
+                    span: t.span,
+                    paren: false,
+                })
+            }
+            TokKind::Ident(name) => {
+                let t = self.bump();
+                if matches!(self.peek(), TokKind::LParen) {
+                    let Some(func) = Func::from_name(&name) else {
+                        let help = did_you_mean(&name, Func::ALL.iter().map(|(n, _)| n));
+                        self.err_help(
+                            "unknown-function",
+                            t.span,
+                            format!("unknown function '{name}'"),
+                            help,
+                        );
+                        return Err(());
+                    };
+                    self.pos += 1;
+                    let mut args = Vec::new();
+                    if !self.eat(&TokKind::RParen) {
+                        loop {
+                            args.push(self.expr()?);
+                            if self.eat(&TokKind::Comma) {
+                                continue;
+                            }
+                            self.expect(TokKind::RParen, "',' or ')'")?;
+                            break;
+                        }
+                    }
+                    let span = t.span.to(self.prev_end());
+                    let ok = if func.variadic() {
+                        args.len() >= 2
+                    } else {
+                        args.len() == 1
+                    };
+                    if !ok {
+                        let want = if func.variadic() {
+                            "two or more arguments"
+                        } else {
+                            "one argument"
+                        };
+                        self.err_help(
+                            "bad-call",
+                            span,
+                            format!("{name}() takes {want}, got {}", args.len()),
+                            None,
+                        );
+                        return Err(());
+                    }
+                    return Ok(Expr {
+                        kind: ExprKind::Call(func, args),
+                        span,
+                        paren: false,
+                    });
+                }
+                Ok(Expr {
+                    kind: ExprKind::Name(name),
+                    span: t.span,
+                    paren: false,
+                })
+            }
+            TokKind::LParen => {
+                let open = self.bump();
+                let mut e = self.expr()?;
+                self.expect(TokKind::RParen, "')'")?;
+                e.span = open.span.to(self.prev_end());
+                e.paren = true;
+                Ok(e)
+            }
+            _ => self.expected("a number, a name or '('"),
+        }
+    }
+
+    fn model(&mut self) -> P<ModelStmt> {
+        let name = self.ident("a model name")?;
+        let kind = self.ident("a model kind (npn, pnp or diode)")?;
+        self.expect(TokKind::LBrace, "'{' to open the model parameters")?;
+        let mut params = Vec::new();
+        loop {
+            if self.eat(&TokKind::RBrace) {
+                break;
+            }
+            if self.eat(&TokKind::Comma) {
+                continue;
+            }
+            let key = self.ident("a model parameter name or '}'")?;
+            self.expect(TokKind::Eq, "'=' after the parameter name")?;
+            let v = self.value()?;
+            params.push((key, v));
+        }
+        Ok(ModelStmt { name, kind, params })
+    }
+
+    fn mask(&mut self) -> P<MaskStmt> {
+        let name = self.ident("a mask name")?;
+        self.expect(TokKind::LBrace, "'{' to open the mask rules")?;
+        let mut rules = Vec::new();
+        let mut ok = true;
+        loop {
+            if self.eat(&TokKind::RBrace) {
+                break;
+            }
+            if matches!(
+                self.peek(),
+                TokKind::Eof | TokKind::Newline | TokKind::Error
+            ) {
+                return Err(());
+            }
+            if self.eat(&TokKind::Comma) {
+                continue;
+            }
+            match self.rule() {
+                Ok(r) => rules.push(r),
+                Err(()) => {
+                    ok = false;
+                    // Skip to the next rule word or the closing brace.
+                    while !matches!(
+                        self.peek(),
+                        TokKind::RBrace | TokKind::Eof | TokKind::Newline
+                    ) && !(self.is_word("harmonics")
+                        || self.is_word("frequency")
+                        || self.is_word("all"))
+                    {
+                        self.pos += 1;
+                    }
+                }
+            }
+        }
+        if ok {
+            Ok(MaskStmt { name, rules })
+        } else {
+            Err(())
+        }
+    }
+
+    fn rule(&mut self) -> P<RuleAst> {
+        let start = self.tok().span;
+        let range = if self.eat_word("harmonics") {
+            if self.eat_word("from") {
+                RangeAst::Harmonics {
+                    from: self.value()?,
+                    to: None,
+                }
+            } else {
+                let from = self.value()?;
+                let to = if self.eat_word("to") {
+                    self.value()?
+                } else {
+                    from.clone()
+                };
+                RangeAst::Harmonics { from, to: Some(to) }
+            }
+        } else if self.eat_word("frequency") {
+            let from = self.value()?;
+            self.expect_word("to")?;
+            let to = self.value()?;
+            RangeAst::Frequency { from, to }
+        } else if self.eat_word("all") {
+            RangeAst::All
+        } else {
+            let t = self.tok().clone();
+            let help = match &t.kind {
+                TokKind::Ident(s) => did_you_mean(s, ["harmonics", "frequency", "all"].iter()),
+                _ => None,
+            };
+            self.err_help(
+                "syntax",
+                t.span,
+                format!(
+                    "expected a mask rule (harmonics, frequency or all), got {}",
+                    t.kind.describe()
+                ),
+                help,
+            );
+            return Err(());
+        };
+        let limit = self.limit()?;
+        let carrier = if self.eat_word("when") {
+            self.expect_word("carrier")?;
+            let a = self.value()?;
+            self.expect_word("to")?;
+            let b = self.value()?;
+            Some((a, b))
+        } else {
+            None
+        };
+        Ok(RuleAst {
+            range,
+            limit,
+            carrier,
+            span: start.to(self.prev_end()),
+        })
+    }
+
+    fn limit(&mut self) -> P<LimitAst> {
+        let t = self.tok().clone();
+        if self.eat_word("below") {
+            return Ok(LimitAst::Below(self.value()?));
+        }
+        if self.eat_word("at_most") {
+            return Ok(LimitAst::AtMost(self.value()?));
+        }
+        let strict = self.is_word("stricter");
+        if strict || self.is_word("looser") {
+            self.pos += 1;
+            self.expect(TokKind::LParen, "'('")?;
+            let mut v = vec![self.limit()?];
+            while self.eat(&TokKind::Comma) {
+                v.push(self.limit()?);
+            }
+            self.expect(TokKind::RParen, "',' or ')'")?;
+            let span = t.span.to(self.prev_end());
+            return Ok(if strict {
+                LimitAst::Stricter(v, span)
+            } else {
+                LimitAst::Looser(v, span)
+            });
+        }
+        let help = match &t.kind {
+            TokKind::Ident(s) => did_you_mean(s, ["below", "at_most", "stricter", "looser"].iter()),
+            _ => None,
+        };
+        self.err_help(
+            "syntax",
+            t.span,
+            format!(
+                "expected a limit (below, at_most, stricter or looser), got {}",
+                t.kind.describe()
+            ),
+            help,
+        );
+        Err(())
+    }
+
+    fn require(&mut self) -> P<RequireStmt> {
+        let metric = self.ident("a figure to require (pout, efficiency, harmonics, ...)")?;
+        let number = if matches!(self.peek(), TokKind::Number { .. } | TokKind::LParen) {
+            Some(self.value()?)
+        } else {
+            None
+        };
+        let element = if self.eat(&TokKind::LBrack) {
+            let e = self.ident("an element name")?;
+            self.expect(TokKind::RBrack, "']'")?;
+            Some(e)
+        } else if matches!(self.peek(), TokKind::Ident(_)) {
+            Some(self.ident("an element name")?)
+        } else {
+            None
+        };
+        let ct = self.tok().clone();
+        let cmp = match ct.kind {
+            TokKind::Le => CmpAst::Le,
+            TokKind::Ge => CmpAst::Ge,
+            TokKind::Lt => CmpAst::Lt,
+            TokKind::Gt => CmpAst::Gt,
+            _ => return self.expected("a comparison (<=, >=, < or >)"),
+        };
+        self.pos += 1;
+        let bound = self.value()?;
+        Ok(RequireStmt {
+            metric,
+            number,
+            element,
+            cmp,
+            cmp_span: ct.span,
+            bound,
+        })
+    }
+
+    fn vary(&mut self) -> P<Stmt> {
+        let target = self.ident("a parameter or element name")?;
+        if self.eat(&TokKind::LBrack) {
+            let mut v = Vec::new();
+            loop {
+                if self.eat(&TokKind::RBrack) {
+                    break;
+                }
+                v.push(self.value()?);
+                if !self.eat(&TokKind::Comma) {
+                    self.expect(TokKind::RBrack, "',' or ']'")?;
+                    break;
+                }
+            }
+            return Ok(Stmt::Vary {
+                target,
+                sweep: SweepAst::List(v),
+            });
+        }
+        if !self.is_word("from") {
+            return self.expected("'[' with a list of values, or 'from'");
+        }
+        self.pos += 1;
+        let from = self.value()?;
+        self.expect_word("to")?;
+        let to = self.value()?;
+        if self.eat_word("step") {
+            let step = self.value()?;
+            return Ok(Stmt::Vary {
+                target,
+                sweep: SweepAst::Step { from, to, step },
+            });
+        }
+        if self.eat_word("points") {
+            let points = self.value()?;
+            let log = self.eat_word("log");
+            return Ok(Stmt::Vary {
+                target,
+                sweep: SweepAst::Points {
+                    from,
+                    to,
+                    points,
+                    log,
+                },
+            });
+        }
+        self.expected("'step' or 'points'")
+    }
+}

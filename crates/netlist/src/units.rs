@@ -1,0 +1,303 @@
+//! SI prefixes, unit symbols and value slots.
+//!
+//! A number in a stage file may carry an SI prefix and a unit symbol. The
+//! prefixes are exactly those of the BIPM SI Brochure, 9th edition (2019),
+//! table 7, restricted to the ones this language accepts (f p n u µ m k M G T).
+//! Where a value goes, a [`Slot`] says which units fit; a bare prefix takes
+//! the slot's unit. Conversion to plain SI numbers is done by [`to_si`]:
+//! `%` becomes a fraction, `dBm` becomes watts, `degC` becomes kelvin.
+
+use std::fmt;
+
+/// A unit symbol a number may carry.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum Unit {
+    /// `Ohm` or `Ω`.
+    Ohm,
+    /// `F`.
+    Farad,
+    /// `H`.
+    Henry,
+    /// `V`.
+    Volt,
+    /// `A`.
+    Ampere,
+    /// `W`.
+    Watt,
+    /// `Hz`.
+    Hertz,
+    /// `s`.
+    Second,
+    /// `%` (converted to a fraction).
+    Percent,
+    /// `dB` (a ratio in decibels, kept in dB).
+    Db,
+    /// `dBm` (power relative to 1 mW, converted to watts).
+    Dbm,
+    /// `dBc` (relative to the carrier, kept in dB).
+    Dbc,
+    /// `degC` (converted to kelvin).
+    DegC,
+    /// `deg` (an angle in degrees, kept in degrees).
+    Deg,
+}
+
+impl Unit {
+    /// The symbol as written in stage files.
+    pub fn symbol(self) -> &'static str {
+        match self {
+            Unit::Ohm => "Ohm",
+            Unit::Farad => "F",
+            Unit::Henry => "H",
+            Unit::Volt => "V",
+            Unit::Ampere => "A",
+            Unit::Watt => "W",
+            Unit::Hertz => "Hz",
+            Unit::Second => "s",
+            Unit::Percent => "%",
+            Unit::Db => "dB",
+            Unit::Dbm => "dBm",
+            Unit::Dbc => "dBc",
+            Unit::DegC => "degC",
+            Unit::Deg => "deg",
+        }
+    }
+    /// Whether an SI prefix may go in front of this unit.
+    pub fn takes_prefix(self) -> bool {
+        matches!(
+            self,
+            Unit::Ohm
+                | Unit::Farad
+                | Unit::Henry
+                | Unit::Volt
+                | Unit::Ampere
+                | Unit::Watt
+                | Unit::Hertz
+                | Unit::Second
+        )
+    }
+}
+
+impl fmt::Display for Unit {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.symbol())
+    }
+}
+
+/// Unit symbols by spelling.
+const UNITS: &[(&str, Unit)] = &[
+    ("Ohm", Unit::Ohm),
+    ("Ω", Unit::Ohm),
+    ("F", Unit::Farad),
+    ("H", Unit::Henry),
+    ("V", Unit::Volt),
+    ("A", Unit::Ampere),
+    ("W", Unit::Watt),
+    ("Hz", Unit::Hertz),
+    ("s", Unit::Second),
+    ("%", Unit::Percent),
+    ("dB", Unit::Db),
+    ("dBm", Unit::Dbm),
+    ("dBc", Unit::Dbc),
+    ("degC", Unit::DegC),
+    ("deg", Unit::Deg),
+];
+
+/// The accepted SI prefixes with their decimal exponents (BIPM SI Brochure,
+/// 9th ed. 2019, table 7). `u` is accepted as an ASCII spelling of micro, and
+/// both the micro sign U+00B5 and the Greek mu U+03BC are accepted.
+pub const PREFIXES: &[(&str, i32)] = &[
+    ("f", -15),
+    ("p", -12),
+    ("n", -9),
+    ("u", -6),
+    ("µ", -6),
+    ("μ", -6),
+    ("m", -3),
+    ("k", 3),
+    ("M", 6),
+    ("G", 9),
+    ("T", 12),
+];
+
+/// Split a number suffix like `nF`, `MHz`, `k`, `dBm` into (decimal exponent, unit).
+/// Whole-unit spellings are tried before prefix + unit, so `dB` is decibel, not deci-B.
+pub fn split_suffix(s: &str) -> Result<(i32, Option<Unit>), String> {
+    if s.is_empty() {
+        return Ok((0, None));
+    }
+    if let Some((_, u)) = UNITS.iter().find(|(n, _)| *n == s) {
+        return Ok((0, Some(*u)));
+    }
+    for (p, e) in PREFIXES {
+        if let Some(rest) = s.strip_prefix(p) {
+            if rest.is_empty() {
+                return Ok((*e, None));
+            }
+            if let Some((_, u)) = UNITS.iter().find(|(n, _)| *n == rest) {
+                if u.takes_prefix() {
+                    return Ok((*e, Some(*u)));
+                }
+                return Err(format!("'{}' takes no SI prefix, got '{s}'", u.symbol()));
+            }
+        }
+    }
+    Err(format!("'{s}' is not an SI prefix and/or a known unit"))
+}
+
+/// Convert a number written with `unit` to a plain SI number:
+/// `%` → fraction, `dBm` → W, `degC` → K; every other unit is already SI.
+pub fn to_si(value: f64, unit: Option<Unit>) -> f64 {
+    match unit {
+        Some(Unit::Percent) => value / 100.0,
+        Some(Unit::Dbm) => 1e-3 * 10f64.powf(value / 10.0),
+        Some(Unit::DegC) => value + 273.15,
+        _ => value,
+    }
+}
+
+/// What kind of value a place in a statement takes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Slot {
+    /// Ω.
+    Resistance,
+    /// F.
+    Capacitance,
+    /// H.
+    Inductance,
+    /// V.
+    Voltage,
+    /// A.
+    Current,
+    /// W or dBm.
+    Power,
+    /// Hz.
+    Frequency,
+    /// s.
+    Time,
+    /// `%` or a bare fraction.
+    Fraction,
+    /// dB (dB or dBc accepted).
+    Db,
+    /// degC (a bare number is degC too); stored in kelvin.
+    Temperature,
+    /// deg (a bare number is degrees).
+    Angle,
+    /// A plain number (a `%` is accepted and becomes a fraction).
+    Number,
+    /// Anything (a `let`): converted to SI.
+    Any,
+}
+
+impl Slot {
+    /// Whether a literal with `unit` fits this slot.
+    pub fn accepts(self, unit: Unit) -> bool {
+        use Unit::*;
+        match self {
+            Slot::Resistance => unit == Ohm,
+            Slot::Capacitance => unit == Farad,
+            Slot::Inductance => unit == Henry,
+            Slot::Voltage => unit == Volt,
+            Slot::Current => unit == Ampere,
+            Slot::Power => matches!(unit, Watt | Dbm),
+            Slot::Frequency => unit == Hertz,
+            Slot::Time => unit == Second,
+            Slot::Fraction => unit == Percent,
+            Slot::Db => matches!(unit, Db | Dbc),
+            Slot::Temperature => unit == DegC,
+            Slot::Angle => unit == Deg,
+            Slot::Number => unit == Percent,
+            Slot::Any => true,
+        }
+    }
+    /// The unit(s) this slot needs, for messages (`"F"`, `"W or dBm"`).
+    pub fn describe(self) -> &'static str {
+        match self {
+            Slot::Resistance => "Ohm",
+            Slot::Capacitance => "F",
+            Slot::Inductance => "H",
+            Slot::Voltage => "V",
+            Slot::Current => "A",
+            Slot::Power => "W or dBm",
+            Slot::Frequency => "Hz",
+            Slot::Time => "s",
+            Slot::Fraction => "% or a plain fraction",
+            Slot::Db => "dB",
+            Slot::Temperature => "degC",
+            Slot::Angle => "deg",
+            Slot::Number => "a plain number",
+            Slot::Any => "any unit",
+        }
+    }
+    /// The unit a bare literal (no unit symbol) in this slot is read in.
+    pub fn bare_unit(self) -> Option<Unit> {
+        match self {
+            Slot::Temperature => Some(Unit::DegC),
+            _ => None,
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Prefix values checked against the BIPM SI Brochure, 9th edition (2019),
+    /// table 7 "SI prefixes": femto 10^-15, pico 10^-12, nano 10^-9,
+    /// micro 10^-6, milli 10^-3, kilo 10^3, mega 10^6, giga 10^9, tera 10^12.
+    #[test]
+    fn prefixes_match_si_brochure_table_7() {
+        let table7 = [
+            ("f", -15),
+            ("p", -12),
+            ("n", -9),
+            ("µ", -6),
+            ("m", -3),
+            ("k", 3),
+            ("M", 6),
+            ("G", 9),
+            ("T", 12),
+        ];
+        for (sym, exp) in table7 {
+            assert_eq!(split_suffix(sym), Ok((exp, None)), "prefix {sym}");
+            assert_eq!(
+                split_suffix(&format!("{sym}F")),
+                Ok((exp, Some(Unit::Farad)))
+            );
+        }
+        assert_eq!(split_suffix("u"), Ok((-6, None)));
+        assert_eq!(split_suffix("μH"), Ok((-6, Some(Unit::Henry))));
+    }
+
+    #[test]
+    fn whole_units_win_over_prefixes() {
+        assert_eq!(split_suffix("dBm"), Ok((0, Some(Unit::Dbm))));
+        assert_eq!(split_suffix("MHz"), Ok((6, Some(Unit::Hertz))));
+        assert_eq!(split_suffix("mOhm"), Ok((-3, Some(Unit::Ohm))));
+        assert_eq!(split_suffix("kΩ"), Ok((3, Some(Unit::Ohm))));
+        assert!(split_suffix("k%").is_err());
+        assert!(split_suffix("mdB").is_err());
+        assert!(split_suffix("x").is_err());
+        // Case matters: capital K is not kilo.
+        assert!(split_suffix("KOhm").is_err());
+    }
+
+    #[test]
+    fn conversions() {
+        assert_eq!(to_si(65.0, Some(Unit::Percent)), 0.65);
+        // 30 dBm = 1 W by the definition of dBm (power relative to 1 mW).
+        assert!((to_si(30.0, Some(Unit::Dbm)) - 1.0).abs() < 1e-12);
+        // 0 degC = 273.15 K exactly (SI Brochure 9th ed., 2.3.1).
+        assert_eq!(to_si(0.0, Some(Unit::DegC)), 273.15);
+        assert_eq!(to_si(-43.0, Some(Unit::Dbc)), -43.0);
+    }
+
+    #[test]
+    fn slots_accept_their_units() {
+        assert!(Slot::Capacitance.accepts(Unit::Farad));
+        assert!(!Slot::Capacitance.accepts(Unit::Henry));
+        assert!(Slot::Power.accepts(Unit::Dbm));
+        assert!(Slot::Db.accepts(Unit::Dbc));
+        assert!(!Slot::Db.accepts(Unit::Dbm));
+    }
+}
