@@ -1,0 +1,253 @@
+//! Linear solvers for the Newton and small-signal systems.
+//!
+//! The matrices are assembled densely (a stage has 10–60 unknowns). Two
+//! factorisations are offered, both from faer:
+//! - [`LinearSolver::Dense`]: LU with partial pivoting of the dense matrix;
+//! - [`LinearSolver::Sparse`]: sparse LU whose symbolic analysis (ordering and
+//!   fill pattern) is computed once per sparsity pattern and reused for every
+//!   later factorisation with the same pattern (Newton iterations, time steps).
+//!
+//! docs/analyses.md records the measured comparison that picked the default.
+
+use faer::linalg::solvers::Solve;
+use faer::sparse::linalg::solvers::{Lu, SymbolicLu};
+use faer::sparse::{Pair, SparseColMat, SymbolicSparseColMat};
+use faer::{Mat, MatMut};
+
+/// Which LU factorisation the real-valued Newton systems use.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum LinearSolver {
+    /// Dense LU with partial pivoting (default: fastest at this size, see docs/analyses.md).
+    #[default]
+    Dense,
+    /// Sparse LU with the symbolic analysis reused while the pattern holds.
+    Sparse,
+}
+
+/// Pivots below this fraction of the largest matrix entry count as zero.
+const PIVOT_FLOOR: f64 = 1e-14;
+
+/// A factorisation of a square real matrix given row-major.
+#[derive(Debug)]
+pub struct RealLu {
+    kind: LinearSolver,
+    n: usize,
+    dense: Option<faer::linalg::solvers::PartialPivLu<f64>>,
+    sparse: Option<SparseState>,
+}
+
+#[derive(Debug)]
+struct SparseState {
+    /// Structural pattern as (col, row) sorted by column then row.
+    pattern: Vec<(usize, usize)>,
+    symbolic_mat: SymbolicSparseColMat<usize>,
+    argsort: faer::sparse::Argsort<usize>,
+    symbolic: SymbolicLu<usize>,
+    lu: Option<Lu<usize, f64>>,
+    vals: Vec<f64>,
+}
+
+impl RealLu {
+    /// A solver of order `n` using `kind`.
+    pub fn new(kind: LinearSolver, n: usize) -> Self {
+        Self {
+            kind,
+            n,
+            dense: None,
+            sparse: None,
+        }
+    }
+
+    /// Factor the row-major `n×n` matrix `a`. On a zero pivot returns the
+    /// column (unknown) that has none.
+    pub fn factor(&mut self, a: &[f64]) -> Result<(), usize> {
+        let n = self.n;
+        if a.len() != n * n {
+            return Err(0);
+        }
+        let amax = a.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        if !amax.is_finite() {
+            return Err(first_nonfinite_col(a, n));
+        }
+        if amax == 0.0 {
+            return Err(0);
+        }
+        match self.kind {
+            LinearSolver::Dense => {
+                let m = Mat::<f64>::from_fn(n, n, |i, j| a[i * n + j]);
+                let lu = m.partial_piv_lu();
+                let u = lu.U();
+                for k in 0..n {
+                    let p = u[(k, k)];
+                    if !(p.abs() > PIVOT_FLOOR * amax) {
+                        return Err(k);
+                    }
+                }
+                self.dense = Some(lu);
+                Ok(())
+            }
+            LinearSolver::Sparse => self.factor_sparse(a, amax),
+        }
+    }
+
+    fn factor_sparse(&mut self, a: &[f64], amax: f64) -> Result<(), usize> {
+        let n = self.n;
+        // Does the current pattern cover every nonzero (and the diagonal)?
+        let covered = match &self.sparse {
+            Some(s) => {
+                let mut cover = vec![false; n * n];
+                for &(c, r) in &s.pattern {
+                    cover[r * n + c] = true;
+                }
+                a.iter().enumerate().all(|(k, v)| *v == 0.0 || cover[k])
+            }
+            None => false,
+        };
+        if !covered {
+            let mut pattern: Vec<(usize, usize)> = Vec::new();
+            for c in 0..n {
+                for r in 0..n {
+                    if a[r * n + c] != 0.0 || r == c {
+                        pattern.push((c, r));
+                    }
+                }
+            }
+            let idx: Vec<Pair<usize, usize>> =
+                pattern.iter().map(|&(c, r)| Pair::new(r, c)).collect();
+            let (symbolic_mat, argsort) =
+                SymbolicSparseColMat::try_new_from_indices(n, n, &idx).map_err(|_| 0usize)?;
+            let symbolic = SymbolicLu::try_new(symbolic_mat.as_ref()).map_err(|_| 0usize)?;
+            let len = pattern.len();
+            self.sparse = Some(SparseState {
+                pattern,
+                symbolic_mat,
+                argsort,
+                symbolic,
+                lu: None,
+                vals: vec![0.0; len],
+            });
+        }
+        let s = self.sparse.as_mut().ok_or(0usize)?;
+        for (v, &(c, r)) in s.vals.iter_mut().zip(&s.pattern) {
+            *v = a[r * n + c];
+        }
+        let mat = SparseColMat::new_from_argsort(s.symbolic_mat.clone(), &s.argsort, &s.vals)
+            .map_err(|_| 0usize)?;
+        match Lu::try_new_with_symbolic(s.symbolic.clone(), mat.as_ref()) {
+            Ok(lu) => {
+                s.lu = Some(lu);
+            }
+            Err(faer::sparse::linalg::LuError::SymbolicSingular { index }) => {
+                return Err(index.min(n.saturating_sub(1)))
+            }
+            Err(_) => return Err(0),
+        }
+        let _ = amax;
+        Ok(())
+    }
+
+    /// Solve `A x = b` in place with the last factorisation.
+    pub fn solve(&self, b: &mut [f64]) {
+        let n = self.n;
+        let mut col = Mat::<f64>::from_fn(n, 1, |i, _| b.get(i).copied().unwrap_or(0.0));
+        self.solve_mat(col.as_mut());
+        for (i, v) in b.iter_mut().enumerate().take(n) {
+            *v = col[(i, 0)];
+        }
+    }
+
+    /// Solve `A X = B` in place for a block of columns.
+    pub fn solve_mat(&self, rhs: MatMut<'_, f64>) {
+        match self.kind {
+            LinearSolver::Dense => {
+                if let Some(lu) = &self.dense {
+                    lu.solve_in_place(rhs);
+                }
+            }
+            LinearSolver::Sparse => {
+                if let Some(lu) = self.sparse.as_ref().and_then(|s| s.lu.as_ref()) {
+                    lu.solve_in_place(rhs);
+                }
+            }
+        }
+    }
+}
+
+fn first_nonfinite_col(a: &[f64], n: usize) -> usize {
+    a.iter()
+        .position(|v| !v.is_finite())
+        .map(|k| k % n.max(1))
+        .unwrap_or(0)
+}
+
+/// Solve a dense complex system `A x = b` (row-major `A`) by LU with partial
+/// pivoting. Returns the column without a pivot on failure.
+pub fn solve_complex(
+    n: usize,
+    a: &[num_complex::Complex64],
+    b: &[num_complex::Complex64],
+) -> Result<Vec<num_complex::Complex64>, usize> {
+    if a.len() != n * n || b.len() != n {
+        return Err(0);
+    }
+    let amax = a.iter().fold(0.0f64, |m, v| m.max(v.norm()));
+    if !(amax > 0.0 && amax.is_finite()) {
+        return Err(0);
+    }
+    let m = Mat::<faer::c64>::from_fn(n, n, |i, j| a[i * n + j]);
+    let lu = m.partial_piv_lu();
+    let u = lu.U();
+    for k in 0..n {
+        if !(u[(k, k)].norm() > PIVOT_FLOOR * amax) {
+            return Err(k);
+        }
+    }
+    let mut rhs = Mat::<faer::c64>::from_fn(n, 1, |i, _| b[i]);
+    lu.solve_in_place(rhs.as_mut());
+    Ok((0..n).map(|i| rhs[(i, 0)]).collect())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn check(kind: LinearSolver) {
+        // A small nonsymmetric system with a known solution.
+        let a = [4.0, 1.0, 0.0, 1.0, 3.0, 1.0, 0.0, 2.0, 5.0];
+        let x = [1.0, -2.0, 3.0];
+        let mut b = [0.0; 3];
+        for r in 0..3 {
+            for c in 0..3 {
+                b[r] += a[r * 3 + c] * x[c];
+            }
+        }
+        let mut lu = RealLu::new(kind, 3);
+        lu.factor(&a).unwrap();
+        lu.solve(&mut b);
+        for k in 0..3 {
+            assert!((b[k] - x[k]).abs() < 1e-12, "{kind:?} {b:?}");
+        }
+        // Same pattern, new values: reuses the symbolic work in the sparse case.
+        let a2 = [2.0, 1.0, 0.0, 1.0, 6.0, 1.0, 0.0, 2.0, 7.0];
+        let mut b2 = [0.0; 3];
+        for r in 0..3 {
+            for c in 0..3 {
+                b2[r] += a2[r * 3 + c] * x[c];
+            }
+        }
+        lu.factor(&a2).unwrap();
+        lu.solve(&mut b2);
+        for k in 0..3 {
+            assert!((b2[k] - x[k]).abs() < 1e-12);
+        }
+        // A zero column is reported as singular.
+        let s = [1.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 1.0];
+        assert!(lu.factor(&s).is_err());
+    }
+
+    #[test]
+    fn dense_and_sparse_agree_on_a_known_system() {
+        check(LinearSolver::Dense);
+        check(LinearSolver::Sparse);
+    }
+}

@@ -1,0 +1,261 @@
+//! Newton–Raphson on the assembled MNA system, shared by every analysis.
+//!
+//! The residual solved is `f(x) = i(x) + α·q(x) + h + g_s·x_v`, where `α` and
+//! the history vector `h` come from the integration formula (both zero for
+//! DC) and `g_s` is an optional shunt conductance from every node voltage to
+//! ground (gmin stepping). The Jacobian is `G + α·C + g_s·I_v`.
+//!
+//! Convergence needs, at once: no device reported a limited junction, every
+//! update small, `|Δx_k| ≤ reltol·max(|x_k|) + (vntol | abstol)` by the
+//! unknown's kind, and every residual small, `|f_r| ≤ reltol·s_r + (abstol |
+//! vntol)` where `s_r = Σ_c |J_rc x_c| + |α q_r| + |h_r|` is the size of the
+//! terms in that equation (a node equation is in amperes, a branch equation
+//! in volts).
+
+use crate::linalg::{LinearSolver, RealLu};
+use tankwave_devices::{DenseStamp, DeviceSet, EvalCtx, Filter, UnknownKind};
+
+/// Newton convergence tolerances.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Tolerances {
+    /// Relative tolerance on updates and residuals (default 1e-6).
+    pub reltol: f64,
+    /// Absolute tolerance on node voltages and branch-equation residuals, V (default 1e-9).
+    pub vntol: f64,
+    /// Absolute tolerance on branch currents and node-equation residuals, A (default 1e-12).
+    pub abstol: f64,
+}
+
+impl Default for Tolerances {
+    fn default() -> Self {
+        Self {
+            reltol: 1e-6,
+            vntol: 1e-9,
+            abstol: 1e-12,
+        }
+    }
+}
+
+/// Work arrays reused across Newton iterations and time steps.
+#[derive(Debug)]
+pub(crate) struct Workspace {
+    pub stamp: DenseStamp,
+    pub jac: Vec<f64>,
+    pub f: Vec<f64>,
+    pub lu: RealLu,
+    pub dx: Vec<f64>,
+}
+
+impl Workspace {
+    pub fn new(n: usize, kind: LinearSolver) -> Self {
+        Self {
+            stamp: DenseStamp::new(n),
+            jac: vec![0.0; n * n],
+            f: vec![0.0; n],
+            lu: RealLu::new(kind, n),
+            dx: vec![0.0; n],
+        }
+    }
+}
+
+/// The system a Newton solve works on.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct System<'a> {
+    pub devices: &'a DeviceSet,
+    pub ctx: EvalCtx,
+    pub alpha: f64,
+    pub hist: Option<&'a [f64]>,
+    pub gshunt: f64,
+    pub tol: Tolerances,
+    pub max_iter: usize,
+}
+
+/// Why a Newton solve stopped without converging.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) enum Failure {
+    /// Iteration limit reached: worst equation, its residual, iterations.
+    NoConvergence {
+        worst: usize,
+        residual: f64,
+        iterations: usize,
+    },
+    /// No pivot for this unknown.
+    Singular(usize),
+    /// A non-finite value in this unknown.
+    NonFinite(usize),
+}
+
+/// Outcome of a converged solve.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct Converged {
+    pub iterations: usize,
+    /// Largest residual magnitude at the solution (mixed units, for reports).
+    pub residual: f64,
+}
+
+/// Evaluate the residual and Jacobian of `sys` at `x` into `ws`. Returns
+/// whether a device limited.
+pub(crate) fn load(sys: &System<'_>, ws: &mut Workspace, x: &[f64], state: &mut [f64]) -> bool {
+    let n = sys.devices.n_unknowns;
+    ws.stamp.clear();
+    let info = sys
+        .devices
+        .eval_all(x, &sys.ctx, state, &mut ws.stamp, Filter::All);
+    for r in 0..n {
+        let mut f = ws.stamp.i[r] + sys.alpha * ws.stamp.q[r];
+        if let Some(h) = sys.hist {
+            f += h[r];
+        }
+        ws.f[r] = f;
+    }
+    for k in 0..n * n {
+        ws.jac[k] = ws.stamp.g[k] + sys.alpha * ws.stamp.c[k];
+    }
+    if sys.gshunt != 0.0 {
+        for k in 0..sys.devices.n_nodes.min(n) {
+            ws.f[k] += sys.gshunt * x[k];
+            ws.jac[k * n + k] += sys.gshunt;
+        }
+    }
+    info.limited
+}
+
+/// Scaled residual check; returns (all within tolerance, worst row, worst |f|, worst ratio).
+fn residual_ok(sys: &System<'_>, ws: &Workspace, x: &[f64]) -> (bool, usize, f64, f64) {
+    let n = sys.devices.n_unknowns;
+    let mut ok = true;
+    let (mut worst, mut worst_ratio, mut worst_f) = (0usize, -1.0f64, 0.0f64);
+    for r in 0..n {
+        let mut s = 0.0;
+        for c in 0..n {
+            s += (ws.jac[r * n + c] * x[c]).abs();
+        }
+        s += (sys.alpha * ws.stamp.q[r]).abs() + ws.stamp.i[r].abs();
+        if let Some(h) = sys.hist {
+            s += h[r].abs();
+        }
+        let abs = match sys.devices.kinds.get(r) {
+            Some(UnknownKind::Current) => sys.tol.vntol,
+            _ => sys.tol.abstol,
+        };
+        let tol = sys.tol.reltol * s + abs;
+        let f = ws.f[r].abs();
+        let ratio = f / tol;
+        if !(ratio <= 1.0) {
+            ok = false;
+        }
+        if !(ratio <= worst_ratio) {
+            worst_ratio = ratio;
+            worst = r;
+            worst_f = f;
+        }
+    }
+    (ok, worst, worst_f, worst_ratio)
+}
+
+/// Absolute tolerance of unknown `k` (by its kind).
+pub(crate) fn unknown_abstol(devices: &DeviceSet, tol: &Tolerances, k: usize) -> f64 {
+    match devices.kinds.get(k) {
+        Some(UnknownKind::Current) => tol.abstol,
+        _ => tol.vntol,
+    }
+}
+
+/// Newton–Raphson from `x` (updated in place). On success `ws.stamp` holds the
+/// device evaluation at the returned `x`.
+pub(crate) fn solve(
+    sys: &System<'_>,
+    ws: &mut Workspace,
+    x: &mut [f64],
+    state: &mut [f64],
+) -> Result<Converged, Failure> {
+    let n = sys.devices.n_unknowns;
+    let mut update_ok = false;
+    let mut last = (0usize, f64::INFINITY);
+    for it in 0..=sys.max_iter {
+        let limited = load(sys, ws, x, state);
+        if let Some(k) = ws.f.iter().position(|v| !v.is_finite()) {
+            return Err(Failure::NonFinite(k));
+        }
+        let (res_ok, worst, worst_f, _) = residual_ok(sys, ws, x);
+        last = (worst, worst_f);
+        if it > 0 && !limited && res_ok && update_ok {
+            let residual = ws.f.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+            return Ok(Converged {
+                iterations: it,
+                residual,
+            });
+        }
+        if it == sys.max_iter {
+            break;
+        }
+        ws.lu.factor(&ws.jac).map_err(Failure::Singular)?;
+        for r in 0..n {
+            ws.dx[r] = -ws.f[r];
+        }
+        ws.lu.solve(&mut ws.dx);
+        update_ok = true;
+        for k in 0..n {
+            let d = ws.dx[k];
+            if !d.is_finite() {
+                return Err(Failure::NonFinite(k));
+            }
+            let xn = x[k] + d;
+            let tol = sys.tol.reltol * x[k].abs().max(xn.abs())
+                + unknown_abstol(sys.devices, &sys.tol, k);
+            if d.abs() > tol {
+                update_ok = false;
+            }
+            x[k] = xn;
+        }
+    }
+    Err(Failure::NoConvergence {
+        worst: last.0,
+        residual: last.1,
+        iterations: sys.max_iter,
+    })
+}
+
+/// Turn a [`Failure`] into a [`crate::SolveError`].
+pub(crate) fn to_error(
+    f: Failure,
+    devices: &DeviceSet,
+    analysis: &str,
+    time: Option<f64>,
+) -> crate::SolveError {
+    let name = |k: usize| {
+        devices
+            .names
+            .get(k)
+            .cloned()
+            .unwrap_or_else(|| format!("unknown #{k}"))
+    };
+    let when = crate::error::When(time);
+    match f {
+        Failure::NoConvergence {
+            worst,
+            residual,
+            iterations,
+        } => crate::SolveError::NoConvergence {
+            analysis: analysis.to_string(),
+            unknown: name(worst),
+            iterations,
+            residual,
+            unit: match devices.kinds.get(worst) {
+                Some(UnknownKind::Current) => "V",
+                _ => "A",
+            },
+            when,
+        },
+        Failure::Singular(k) => crate::SolveError::Singular {
+            analysis: analysis.to_string(),
+            unknown: name(k),
+            when,
+        },
+        Failure::NonFinite(k) => crate::SolveError::NonFinite {
+            analysis: analysis.to_string(),
+            unknown: name(k),
+            when,
+        },
+    }
+}

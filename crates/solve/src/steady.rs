@@ -1,0 +1,444 @@
+//! Periodic steady state: the result type every steady method returns, the
+//! dispatcher [`steady`], and the plain-transient method (settle).
+//!
+//! Every method produces a [`PeriodicSolution`]: each unknown sampled at
+//! `N` uniform points of one period `T = 1/freq`, `x[k][n] = x_k(n·T/N)`,
+//! plus the current into every terminal of every element over the same
+//! samples. Methods:
+//! - shooting ([`crate::shooting`]): Newton on the state at the period start;
+//! - settle: plain transient until one period repeats the previous one;
+//! - balance: harmonic balance, provided by `balance.rs` (a separate module
+//!   plugs in at [`run_balance`]; until it lands, it reports "not available").
+
+use crate::error::When;
+use crate::linalg::LinearSolver;
+use crate::newton::{unknown_abstol, Tolerances};
+use crate::transient::{Method, Stepper};
+use crate::SolveError;
+use tankwave_circuit::{Analysis, Circuit, SteadyMethod};
+use tankwave_devices::{DeviceSet, EvalCtx, Idx, Stamp};
+
+/// A periodic steady state sampled over one period.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PeriodicSolution {
+    /// Fundamental frequency, Hz.
+    pub freq: f64,
+    /// Number of harmonics K the solution is meant to carry.
+    pub harmonics: usize,
+    /// Samples per period N (a power of two, N > 2K).
+    pub samples_per_period: usize,
+    /// `x[unknown][n]`: value at `t = n·T/N` over one period.
+    pub x: Vec<Vec<f64>>,
+    /// `[element index in circuit.elements][terminal][n]`: current INTO the
+    /// element at that terminal, `i + dq/dt` from the element's devices (the
+    /// derivative taken spectrally over the period). Empty for couplings.
+    pub terminal_currents: Vec<Vec<Vec<f64>>>,
+    /// How it was obtained.
+    pub info: SteadyInfo,
+}
+
+impl PeriodicSolution {
+    /// Period, s.
+    pub fn period(&self) -> f64 {
+        1.0 / self.freq
+    }
+    /// Sample times `n·T/N`.
+    pub fn times(&self) -> Vec<f64> {
+        let n = self.samples_per_period;
+        (0..n).map(|k| k as f64 / (n as f64 * self.freq)).collect()
+    }
+}
+
+/// Report of a steady-state solve.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SteadyInfo {
+    /// Method that produced the solution.
+    pub method: SteadyMethod,
+    /// Method tried first that failed, if any.
+    pub fell_back_from: Option<SteadyMethod>,
+    /// Newton iterations (shooting, balance) or simulated periods (settle).
+    pub iterations: usize,
+    /// Final residual: largest scaled periodicity error (shooting, settle) or
+    /// harmonic residual (balance); ≤ 1 means within tolerance.
+    pub residual: f64,
+    /// Order of the Newton system solved (0 for settle).
+    pub system_size: usize,
+}
+
+/// Options of the plain-transient method.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SettleParams {
+    /// Most periods simulated before giving up (default 5000).
+    pub max_periods: usize,
+    /// Relative tolerance of the period-to-period change, against each
+    /// unknown's peak-to-peak range plus its peak magnitude (default 1e-6).
+    pub reltol: f64,
+}
+
+impl Default for SettleParams {
+    fn default() -> Self {
+        Self {
+            max_periods: 5000,
+            reltol: 1e-6,
+        }
+    }
+}
+
+/// Options of shooting.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ShootingParams {
+    /// Transient periods run from the operating point before the first Newton step (default 4).
+    pub warmup_periods: usize,
+    /// Newton iteration limit (default 50).
+    pub max_iter: usize,
+    /// Relative tolerance of the periodicity error `x(T) − x(0)` against
+    /// each unknown's peak magnitude over the period (default 1e-7).
+    pub reltol: f64,
+}
+
+impl Default for ShootingParams {
+    fn default() -> Self {
+        Self {
+            warmup_periods: 4,
+            max_iter: 50,
+            reltol: 1e-7,
+        }
+    }
+}
+
+/// Options of a periodic steady-state solve.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SteadyParams {
+    /// Fundamental frequency, Hz.
+    pub freq: f64,
+    /// Harmonics K (default 32).
+    pub harmonics: usize,
+    /// Method (default auto).
+    pub method: SteadyMethod,
+    /// Time steps per period for shooting and settle (power of two, default 256;
+    /// raised to the next power of two above 2K when smaller).
+    pub steps_per_period: usize,
+    /// Newton tolerances of every time step and of the operating point.
+    pub tol: Tolerances,
+    /// Shooting options.
+    pub shooting: ShootingParams,
+    /// Settle options.
+    pub settle: SettleParams,
+    /// Linear solver.
+    pub linear_solver: LinearSolver,
+}
+
+impl Default for SteadyParams {
+    fn default() -> Self {
+        Self {
+            freq: 1e6,
+            harmonics: 32,
+            method: SteadyMethod::Auto,
+            steps_per_period: 256,
+            tol: Tolerances::default(),
+            shooting: ShootingParams::default(),
+            settle: SettleParams::default(),
+            linear_solver: LinearSolver::default(),
+        }
+    }
+}
+
+impl SteadyParams {
+    /// Options from an `analyze steady` statement (`None` for other analyses).
+    pub fn from_analysis(a: &Analysis) -> Option<Self> {
+        match a {
+            Analysis::Steady {
+                freq,
+                harmonics,
+                method,
+                steps_per_period,
+            } => Some(Self {
+                freq: *freq,
+                harmonics: *harmonics,
+                method: *method,
+                steps_per_period: *steps_per_period,
+                ..Self::default()
+            }),
+            _ => None,
+        }
+    }
+
+    /// Samples per period actually used: `steps_per_period` rounded up to a
+    /// power of two and raised until it exceeds `2·harmonics`.
+    pub fn samples(&self) -> usize {
+        let mut n = self.steps_per_period.max(4).next_power_of_two();
+        while n <= 2 * self.harmonics {
+            n *= 2;
+        }
+        n
+    }
+
+    pub(crate) fn check(&self) -> Result<(), SolveError> {
+        if !(self.freq.is_finite() && self.freq > 0.0) {
+            return Err(SolveError::BadParams(format!(
+                "steady-state frequency must be positive and finite, got {}",
+                self.freq
+            )));
+        }
+        if self.harmonics == 0 || self.harmonics > 1 << 16 {
+            return Err(SolveError::BadParams(format!(
+                "harmonics must be between 1 and 65536, got {}",
+                self.harmonics
+            )));
+        }
+        if self.steps_per_period > 1 << 20 {
+            return Err(SolveError::BadParams(format!(
+                "steps per period {} is too many",
+                self.steps_per_period
+            )));
+        }
+        Ok(())
+    }
+}
+
+/// Periodic steady state by the method in `params` (auto: shooting until
+/// harmonic balance lands, then balance with shooting as the fallback).
+pub fn steady(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    params: &SteadyParams,
+) -> Result<PeriodicSolution, SolveError> {
+    params.check()?;
+    match params.method {
+        SteadyMethod::Shooting => crate::shooting::shooting(circuit, devices, params),
+        SteadyMethod::Settle => settle(circuit, devices, params),
+        SteadyMethod::Balance => run_balance(circuit, devices, params),
+        SteadyMethod::Auto => {
+            // Hook: when harmonic balance is available, try it first and fall
+            // back to shooting, recording `fell_back_from`.
+            match run_balance(circuit, devices, params) {
+                Ok(s) => Ok(s),
+                Err(SolveError::NotAvailable(_)) => {
+                    crate::shooting::shooting(circuit, devices, params)
+                }
+                Err(_) => {
+                    let mut s = crate::shooting::shooting(circuit, devices, params)?;
+                    s.info.fell_back_from = Some(SteadyMethod::Balance);
+                    Ok(s)
+                }
+            }
+        }
+    }
+}
+
+/// Harmonic balance hook: replaced by a call into `balance.rs` when that
+/// module exists.
+fn run_balance(
+    _circuit: &Circuit,
+    _devices: &DeviceSet,
+    _params: &SteadyParams,
+) -> Result<PeriodicSolution, SolveError> {
+    Err(SolveError::NotAvailable("harmonic balance".to_string()))
+}
+
+/// Plain transient at `N` fixed trapezoidal steps per period from the
+/// operating point until the largest period-to-period change is within
+/// tolerance; the last period is the result.
+pub fn settle(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    params: &SteadyParams,
+) -> Result<PeriodicSolution, SolveError> {
+    params.check()?;
+    let n = devices.n_unknowns;
+    let ns = params.samples();
+    let period = 1.0 / params.freq;
+    let h = period / ns as f64;
+    let mut st = Stepper::from_op(devices, params.tol, params.linear_solver, 0.0)?;
+    let mut prev: Option<Vec<Vec<f64>>> = None;
+    let mut last_change = (f64::INFINITY, 0.0, 0usize);
+    for p in 0..params.settle.max_periods {
+        let mut cur = vec![vec![0.0; ns]; n];
+        for s in 0..ns {
+            for (k, row) in cur.iter_mut().enumerate() {
+                row[s] = st.x[k];
+            }
+            // Land exactly on the period grid to avoid drift of t.
+            let t1 = (p * ns + s + 1) as f64 * h;
+            st.step_to(t1, Method::Trapezoidal)
+                .map_err(|e| e.into_error(devices, "settle"))?;
+        }
+        if let Some(pv) = &prev {
+            let mut worst = (0.0f64, 0.0f64, 0usize, 0.0f64);
+            for k in 0..n {
+                let (lo, hi) = cur[k]
+                    .iter()
+                    .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
+                        (a.min(*v), b.max(*v))
+                    });
+                let mag = lo.abs().max(hi.abs());
+                let tol = params.settle.reltol * ((hi - lo) + mag)
+                    + unknown_abstol(devices, &params.tol, k);
+                let ch = cur[k]
+                    .iter()
+                    .zip(&pv[k])
+                    .fold(0.0f64, |m, (a, b)| m.max((a - b).abs()));
+                let ratio = ch / tol;
+                if !(ratio <= worst.0) {
+                    worst = (ratio, ch, k, tol);
+                }
+            }
+            last_change = (worst.1, worst.3, worst.2);
+            if worst.0 <= 1.0 {
+                let terminal_currents = terminal_currents(circuit, devices, &cur, params.freq)?;
+                return Ok(PeriodicSolution {
+                    freq: params.freq,
+                    harmonics: params.harmonics,
+                    samples_per_period: ns,
+                    x: cur,
+                    terminal_currents,
+                    info: SteadyInfo {
+                        method: SteadyMethod::Settle,
+                        fell_back_from: None,
+                        iterations: p + 1,
+                        residual: worst.0,
+                        system_size: 0,
+                    },
+                });
+            }
+        }
+        prev = Some(cur);
+    }
+    Err(SolveError::NotSettled {
+        periods: params.settle.max_periods,
+        change: last_change.0,
+        tolerance: last_change.1,
+        unknown: devices
+            .names
+            .get(last_change.2)
+            .cloned()
+            .unwrap_or_default(),
+    })
+}
+
+/// A stamp that keeps only the currents and charges.
+struct IqStamp {
+    i: Vec<f64>,
+    q: Vec<f64>,
+}
+
+impl Stamp for IqStamp {
+    fn add_i(&mut self, row: Idx, v: f64) {
+        if let Some(r) = row.and_then(|r| self.i.get_mut(r)) {
+            *r += v;
+        }
+    }
+    fn add_q(&mut self, row: Idx, v: f64) {
+        if let Some(r) = row.and_then(|r| self.q.get_mut(r)) {
+            *r += v;
+        }
+    }
+    fn add_g(&mut self, _row: Idx, _col: Idx, _v: f64) {}
+    fn add_c(&mut self, _row: Idx, _col: Idx, _v: f64) {}
+}
+
+/// Current into every terminal of every element over one period, from
+/// samples `x[unknown][n]` of a periodic solution at `freq`.
+///
+/// Each element's devices are evaluated alone at every sample; the current
+/// into a terminal on node `k` is `i_k + dq_k/dt` (row `k` is the KCL sum of
+/// currents leaving node `k` through the device, i.e. entering the device).
+/// `dq/dt` is the spectral derivative over the period (exact for a
+/// band-limited periodic solution; the Nyquist bin is dropped). A grounded
+/// terminal carries minus the sum of the others (the element's charge is
+/// neutral). Couplings have no terminals and get an empty entry.
+pub fn terminal_currents(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    x: &[Vec<f64>],
+    freq: f64,
+) -> Result<Vec<Vec<Vec<f64>>>, SolveError> {
+    let n = devices.n_unknowns;
+    let ns = x.first().map(|v| v.len()).unwrap_or(0);
+    if x.len() != n || x.iter().any(|v| v.len() != ns) || ns == 0 {
+        return Err(SolveError::BadParams(format!(
+            "terminal currents need {n} unknowns sampled alike, got {}",
+            x.len()
+        )));
+    }
+    let period = 1.0 / freq;
+    let mut state = devices.initial_state();
+    let mut out = Vec::with_capacity(circuit.elements.len());
+    let mut xs = vec![0.0; n];
+    let mut fft = crate::spectral::Deriv::new(ns);
+    for (ei, el) in circuit.elements.iter().enumerate() {
+        let terms = el.kind.terminals();
+        if terms.is_empty() {
+            out.push(Vec::new());
+            continue;
+        }
+        let devs: Vec<usize> = devices
+            .devices
+            .iter()
+            .enumerate()
+            .filter(|(_, d)| d.element() == ei)
+            .map(|(k, _)| k)
+            .collect();
+        // i and q of the rows of this element's terminals, per sample.
+        let mut iv = vec![vec![0.0; ns]; terms.len()];
+        let mut qv = vec![vec![0.0; ns]; terms.len()];
+        for s in 0..ns {
+            for k in 0..n {
+                xs[k] = x[k][s];
+            }
+            let ctx = EvalCtx {
+                time: s as f64 * period / ns as f64,
+                limit: false,
+                ..EvalCtx::default()
+            };
+            let mut stamp = IqStamp {
+                i: vec![0.0; n],
+                q: vec![0.0; n],
+            };
+            for &di in &devs {
+                let d = &devices.devices[di];
+                let off = devices.state_offsets.get(di).copied().unwrap_or(0);
+                let len = d.state_len();
+                let sl = state.get_mut(off..off + len).unwrap_or(&mut []);
+                d.eval(&xs, &ctx, sl, &mut stamp);
+            }
+            for (j, t) in terms.iter().enumerate() {
+                if let Some(k) = t {
+                    iv[j][s] = stamp.i.get(*k).copied().unwrap_or(0.0);
+                    qv[j][s] = stamp.q.get(*k).copied().unwrap_or(0.0);
+                }
+            }
+        }
+        let mut cur = Vec::with_capacity(terms.len());
+        for j in 0..terms.len() {
+            let dq = fft.derivative(&qv[j], freq);
+            let c: Vec<f64> = iv[j].iter().zip(&dq).map(|(a, b)| a + b).collect();
+            cur.push(c);
+        }
+        // Grounded terminals: minus the sum of the others.
+        let grounded: Vec<usize> = (0..terms.len()).filter(|&j| terms[j].is_none()).collect();
+        if grounded.len() == 1 {
+            let g = grounded[0];
+            for s in 0..ns {
+                let sum: f64 = (0..terms.len())
+                    .filter(|&j| j != g)
+                    .map(|j| cur[j][s])
+                    .sum();
+                cur[g][s] = -sum;
+            }
+        }
+        if let Some((j, _)) = cur
+            .iter()
+            .enumerate()
+            .find(|(_, c)| c.iter().any(|v| !v.is_finite()))
+        {
+            return Err(SolveError::NonFinite {
+                analysis: "terminal currents".into(),
+                unknown: format!("terminal {} of {}", j + 1, el.name),
+                when: When(None),
+            });
+        }
+        out.push(cur);
+    }
+    Ok(out)
+}

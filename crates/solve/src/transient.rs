@@ -1,0 +1,721 @@
+//! Transient analysis: trapezoidal rule or BDF2 with an adaptive step from a
+//! local-truncation-error estimate on the charges and fluxes `q`.
+//!
+//! Each step solves, by Newton, `i(x₁, t₁) + α·q(x₁) + h = 0` where the
+//! integration formula gives `α` and the history `h`:
+//! - backward Euler (first step from a zero start and after every breakpoint):
+//!   `q̇₁ = (q₁ − q₀)/h`;
+//! - trapezoidal: `q̇₁ = 2(q₁ − q₀)/h − q̇₀`;
+//! - BDF2 with variable step (`ρ = h₁/h₀`):
+//!   `q̇₁ = [(1+2ρ) q₁ − (1+ρ)² q₀ + ρ² q₋₁] / (h₁(1+ρ))`.
+//!
+//! Local truncation error, per row of `q`, from divided differences of the
+//! accepted charges (`q''' ≈ 6·q[t₁,t₀,t₋₁,t₋₂]`): trapezoidal `h³q'''/12`,
+//! BDF2 `h₁²(h₁+h₀)² q''' / (6(2h₁+h₀))`, backward Euler `h² q''/2`. A step is
+//! accepted when every row's estimate is within `reltol·max|q_r| + chgtol`
+//! (max over the run so far); the next step is `h·clamp(0.9·err^(−1/3), 0.2, 2)`.
+//! Device breakpoints are landed on exactly, and the integration restarts
+//! there (one small backward-Euler step, then the chosen method).
+
+use crate::linalg::LinearSolver;
+use crate::newton::{self, Failure, System, Tolerances, Workspace};
+use crate::op::{self, NewtonInfo, OpParams};
+use crate::SolveError;
+use tankwave_circuit::{Analysis, Circuit, Integration, StartFrom};
+use tankwave_devices::{DeviceSet, EvalCtx, Filter};
+
+/// Options of a transient analysis.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TransientParams {
+    /// End time, s.
+    pub stop: f64,
+    /// Output step, s: the step of [`TransientResult::uniform`] and the default largest step.
+    pub step: f64,
+    /// Largest internal step, s (default: `step`).
+    pub max_step: Option<f64>,
+    /// Start from the operating point or from zero.
+    pub start: StartFrom,
+    /// Integration method.
+    pub method: Integration,
+    /// Relative tolerance of the local truncation error (default 1e-5).
+    pub reltol: f64,
+    /// Absolute tolerance of the local truncation error, C or Wb (default 1e-15).
+    pub chgtol: f64,
+    /// Newton tolerances per step.
+    pub newton: Tolerances,
+    /// Newton iterations per step before the step is cut (default 30).
+    pub max_newton: usize,
+    /// Smallest step before giving up, s (default `stop·1e-15`).
+    pub min_step: Option<f64>,
+    /// Fixed-step mode: every step is `min(step, max_step)` (no error control, breakpoints not landed on).
+    pub fixed_step: bool,
+    /// Operating-point options (start from op).
+    pub op: OpParams,
+}
+
+impl Default for TransientParams {
+    fn default() -> Self {
+        Self {
+            stop: 1e-6,
+            step: 1e-9,
+            max_step: None,
+            start: StartFrom::OperatingPoint,
+            method: Integration::Trapezoidal,
+            reltol: 1e-5,
+            chgtol: 1e-15,
+            newton: Tolerances::default(),
+            max_newton: 30,
+            min_step: None,
+            fixed_step: false,
+            op: OpParams::default(),
+        }
+    }
+}
+
+impl TransientParams {
+    /// Options from an `analyze transient` statement (`None` for other analyses).
+    pub fn from_analysis(a: &Analysis) -> Option<Self> {
+        match a {
+            Analysis::Transient {
+                stop,
+                step,
+                max_step,
+                start,
+                method,
+                reltol,
+            } => {
+                let d = Self::default();
+                Some(Self {
+                    stop: *stop,
+                    step: *step,
+                    max_step: *max_step,
+                    start: *start,
+                    method: *method,
+                    reltol: reltol.unwrap_or(d.reltol),
+                    ..d
+                })
+            }
+            _ => None,
+        }
+    }
+}
+
+/// Counters of a transient run.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct TransientInfo {
+    /// Accepted steps.
+    pub accepted: usize,
+    /// Steps rejected for truncation error.
+    pub rejected_lte: usize,
+    /// Steps cut because Newton failed.
+    pub rejected_newton: usize,
+    /// Newton iterations over all steps.
+    pub newton_iterations: usize,
+    /// Operating point report (start from op).
+    pub op: Option<NewtonInfo>,
+}
+
+/// Every unknown at every accepted time point.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TransientResult {
+    /// Names of the unknowns.
+    pub names: Vec<String>,
+    /// Accepted times, s, increasing (the first is 0).
+    pub time: Vec<f64>,
+    /// `x[step][unknown]`.
+    pub x: Vec<Vec<f64>>,
+    /// Indices into `time` where the integration restarted (breakpoints); interpolation does not cross them.
+    pub restarts: Vec<usize>,
+    /// Counters.
+    pub info: TransientInfo,
+}
+
+impl TransientResult {
+    /// Index of the unknown called `name`.
+    pub fn index(&self, name: &str) -> Option<usize> {
+        self.names.iter().position(|n| n == name)
+    }
+
+    /// The accepted values of unknown `k`.
+    pub fn waveform(&self, k: usize) -> Vec<f64> {
+        self.x
+            .iter()
+            .map(|v| v.get(k).copied().unwrap_or(0.0))
+            .collect()
+    }
+
+    /// Values of every unknown at times `grid` (`[point][unknown]`) by cubic
+    /// Lagrange interpolation through the four nearest accepted points of the
+    /// same integration segment (lower order where the segment is shorter).
+    /// Times outside the run are clamped to its ends.
+    pub fn resample(&self, grid: &[f64]) -> Vec<Vec<f64>> {
+        let m = self.time.len();
+        let nu = self.names.len();
+        let mut out = Vec::with_capacity(grid.len());
+        if m == 0 {
+            return vec![vec![0.0; nu]; grid.len()];
+        }
+        for &tg in grid {
+            let tg = tg.clamp(self.time[0], self.time[m - 1]);
+            // Interval i with time[i] <= tg <= time[i+1].
+            let i = match self.time.partition_point(|&t| t <= tg) {
+                0 => 0,
+                p => (p - 1).min(m.saturating_sub(2)),
+            };
+            if m == 1 {
+                out.push(self.x[0].clone());
+                continue;
+            }
+            // Segment bounds around interval i.
+            let seg_lo = self
+                .restarts
+                .iter()
+                .copied()
+                .filter(|&r| r <= i)
+                .max()
+                .unwrap_or(0);
+            let seg_hi = self
+                .restarts
+                .iter()
+                .copied()
+                .filter(|&r| r > i)
+                .min()
+                .unwrap_or(m - 1);
+            let lo = i.saturating_sub(1).max(seg_lo);
+            let hi = (lo + 3).min(seg_hi);
+            let lo = hi.saturating_sub(3).max(seg_lo);
+            let idx: Vec<usize> = (lo..=hi).collect();
+            let mut v = vec![0.0; nu];
+            for &a in &idx {
+                let mut w = 1.0;
+                for &b in &idx {
+                    if a != b {
+                        w *= (tg - self.time[b]) / (self.time[a] - self.time[b]);
+                    }
+                }
+                for (k, vk) in v.iter_mut().enumerate() {
+                    *vk += w * self.x[a][k];
+                }
+            }
+            out.push(v);
+        }
+        out
+    }
+
+    /// Resample onto `0, step, 2·step, …` up to the last time: `(times, values[point][unknown])`.
+    pub fn uniform(&self, step: f64) -> (Vec<f64>, Vec<Vec<f64>>) {
+        let end = self.time.last().copied().unwrap_or(0.0);
+        if !(step > 0.0) {
+            return (Vec::new(), Vec::new());
+        }
+        let n = (end / step * (1.0 + 1e-12)).floor() as usize;
+        let grid: Vec<f64> = (0..=n).map(|k| k as f64 * step).collect();
+        let v = self.resample(&grid);
+        (grid, v)
+    }
+}
+
+/// Integration formula of one step.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum Method {
+    BackwardEuler,
+    Trapezoidal,
+    Bdf2,
+}
+
+/// A step that failed.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct StepFail {
+    pub failure: Failure,
+    pub time: f64,
+}
+
+impl StepFail {
+    pub fn into_error(self, devices: &DeviceSet, analysis: &str) -> SolveError {
+        newton::to_error(self.failure, devices, analysis, Some(self.time))
+    }
+}
+
+/// A solved but not yet accepted step.
+#[derive(Debug, Clone)]
+pub(crate) struct Attempt {
+    pub t: f64,
+    pub h: f64,
+    pub method: Method,
+    pub x: Vec<f64>,
+    pub q: Vec<f64>,
+    pub qdot: Vec<f64>,
+    pub state: Vec<f64>,
+}
+
+/// The integrator state, shared by transient, settle and shooting.
+#[derive(Debug)]
+pub(crate) struct Stepper<'a> {
+    pub devices: &'a DeviceSet,
+    pub tol: Tolerances,
+    pub max_newton: usize,
+    pub gmin: f64,
+    pub ws: Workspace,
+    pub state: Vec<f64>,
+    pub t: f64,
+    pub x: Vec<f64>,
+    pub q: Vec<f64>,
+    pub qdot: Vec<f64>,
+    /// `q̇` is consistent with `x` (false after a zero start until one step is taken).
+    pub qdot_valid: bool,
+    /// Previous point (q, x, step that led to the current point), for BDF2 and prediction.
+    pub prev: Option<(Vec<f64>, Vec<f64>, f64)>,
+    pub newton_iterations: usize,
+    hist: Vec<f64>,
+}
+
+impl<'a> Stepper<'a> {
+    fn blank(devices: &'a DeviceSet, tol: Tolerances, lin: LinearSolver) -> Self {
+        let n = devices.n_unknowns;
+        Self {
+            devices,
+            tol,
+            max_newton: 30,
+            gmin: 1e-12,
+            ws: Workspace::new(n, lin),
+            state: devices.initial_state(),
+            t: 0.0,
+            x: vec![0.0; n],
+            q: vec![0.0; n],
+            qdot: vec![0.0; n],
+            qdot_valid: false,
+            prev: None,
+            newton_iterations: 0,
+            hist: vec![0.0; n],
+        }
+    }
+
+    /// Start from the operating point at time `t0`.
+    pub fn from_op(
+        devices: &'a DeviceSet,
+        tol: Tolerances,
+        lin: LinearSolver,
+        t0: f64,
+    ) -> Result<Self, SolveError> {
+        let p = OpParams {
+            tol,
+            time: t0,
+            linear_solver: lin,
+            ..OpParams::default()
+        };
+        Self::from_op_params(devices, &p).map(|(s, _)| s)
+    }
+
+    fn from_op_params(
+        devices: &'a DeviceSet,
+        p: &OpParams,
+    ) -> Result<(Self, NewtonInfo), SolveError> {
+        let mut s = Self::blank(devices, p.tol, p.linear_solver);
+        s.gmin = p.gmin;
+        let x0 = vec![0.0; devices.n_unknowns];
+        let (x, info) = op::solve_op(devices, p, &x0, &mut s.state)?;
+        s.init_at(&x, p.time);
+        Ok((s, info))
+    }
+
+    /// Start from all-zero unknowns at time `t0` (the first step is backward Euler).
+    pub fn from_zero(devices: &'a DeviceSet, tol: Tolerances, lin: LinearSolver, t0: f64) -> Self {
+        let mut s = Self::blank(devices, tol, lin);
+        let x = vec![0.0; devices.n_unknowns];
+        s.init_at(&x, t0);
+        s.qdot_valid = false;
+        s.qdot.fill(0.0);
+        s
+    }
+
+    fn ctx(&self, t: f64, limit: bool) -> EvalCtx {
+        EvalCtx {
+            time: t,
+            dc_scale: 1.0,
+            wave_scale: 1.0,
+            gmin: self.gmin,
+            limit,
+        }
+    }
+
+    /// Set the point `(x, t)` with a consistent `q̇ = −i(x, t)`; forget history.
+    pub fn init_at(&mut self, x: &[f64], t: f64) {
+        let ctx = self.ctx(t, false);
+        self.ws.stamp.clear();
+        let mut st = self.state.clone();
+        self.devices
+            .eval_all(x, &ctx, &mut st, &mut self.ws.stamp, Filter::All);
+        self.t = t;
+        self.x.copy_from_slice(x);
+        self.q.copy_from_slice(&self.ws.stamp.q);
+        for (d, i) in self.qdot.iter_mut().zip(&self.ws.stamp.i) {
+            *d = -i;
+        }
+        self.qdot_valid = true;
+        self.prev = None;
+    }
+
+    /// The method actually used for a step requested as `m`.
+    pub fn effective(&self, m: Method) -> Method {
+        if !self.qdot_valid {
+            return Method::BackwardEuler;
+        }
+        match m {
+            Method::Bdf2 if self.prev.is_none() => Method::Trapezoidal,
+            other => other,
+        }
+    }
+
+    /// Solve one step to `t1` with method `m` (adjusted by [`Self::effective`]) without accepting it.
+    pub fn attempt(&mut self, t1: f64, m: Method) -> Result<Attempt, StepFail> {
+        let n = self.devices.n_unknowns;
+        let h = t1 - self.t;
+        let method = self.effective(m);
+        let alpha = match method {
+            Method::BackwardEuler => {
+                for r in 0..n {
+                    self.hist[r] = -self.q[r] / h;
+                }
+                1.0 / h
+            }
+            Method::Trapezoidal => {
+                for r in 0..n {
+                    self.hist[r] = -2.0 / h * self.q[r] - self.qdot[r];
+                }
+                2.0 / h
+            }
+            Method::Bdf2 => {
+                let (qp, _, h0) =
+                    self.prev
+                        .as_ref()
+                        .map(|p| (&p.0, &p.1, p.2))
+                        .ok_or(StepFail {
+                            failure: Failure::Singular(0),
+                            time: t1,
+                        })?;
+                let rho = h / h0;
+                let a0 = (1.0 + 2.0 * rho) / (h * (1.0 + rho));
+                let a1 = -(1.0 + rho) / h;
+                let a2 = rho * rho / (h * (1.0 + rho));
+                for r in 0..n {
+                    self.hist[r] = a1 * self.q[r] + a2 * qp[r];
+                }
+                a0
+            }
+        };
+        // Predictor: linear extrapolation.
+        let mut x1 = self.x.clone();
+        if let Some((_, xp, hp)) = &self.prev {
+            if *hp > 0.0 {
+                let r = h / hp;
+                for k in 0..n {
+                    x1[k] += (self.x[k] - xp[k]) * r;
+                }
+            }
+        }
+        let mut state = self.state.clone();
+        let sys = System {
+            devices: self.devices,
+            ctx: self.ctx(t1, true),
+            alpha,
+            hist: Some(&self.hist),
+            gshunt: 0.0,
+            tol: self.tol,
+            max_iter: self.max_newton,
+        };
+        let c = match newton::solve(&sys, &mut self.ws, &mut x1, &mut state) {
+            Ok(c) => c,
+            Err(failure) => {
+                // Retry from the last point (the predictor may have overshot).
+                let mut x2 = self.x.clone();
+                let mut st2 = self.state.clone();
+                match newton::solve(&sys, &mut self.ws, &mut x2, &mut st2) {
+                    Ok(c) => {
+                        x1 = x2;
+                        state = st2;
+                        c
+                    }
+                    Err(_) => return Err(StepFail { failure, time: t1 }),
+                }
+            }
+        };
+        self.newton_iterations += c.iterations;
+        let q1 = self.ws.stamp.q.clone();
+        let qdot: Vec<f64> = (0..n).map(|r| alpha * q1[r] + self.hist[r]).collect();
+        Ok(Attempt {
+            t: t1,
+            h,
+            method,
+            x: x1,
+            q: q1,
+            qdot,
+            state,
+        })
+    }
+
+    /// Accept an attempt.
+    pub fn commit(&mut self, a: Attempt) {
+        let old_q = std::mem::replace(&mut self.q, a.q);
+        let old_x = std::mem::replace(&mut self.x, a.x);
+        self.prev = Some((old_q, old_x, a.h));
+        self.qdot = a.qdot;
+        self.qdot_valid = true;
+        self.state = a.state;
+        self.t = a.t;
+    }
+
+    /// Attempt and accept one step to `t1`.
+    pub fn step_to(&mut self, t1: f64, m: Method) -> Result<(), StepFail> {
+        let a = self.attempt(t1, m)?;
+        self.commit(a);
+        Ok(())
+    }
+
+    /// Forget the history (after a breakpoint): the next step is backward Euler.
+    pub fn restart(&mut self) {
+        self.prev = None;
+        self.qdot_valid = false;
+    }
+}
+
+/// Run a transient analysis.
+pub fn transient(
+    _circuit: &Circuit,
+    devices: &DeviceSet,
+    params: &TransientParams,
+) -> Result<TransientResult, SolveError> {
+    let p = params;
+    let bad = |m: String| Err(SolveError::BadParams(m));
+    if !(p.stop.is_finite() && p.stop > 0.0) {
+        return bad(format!("stop time must be positive, got {}", p.stop));
+    }
+    if !(p.step.is_finite() && p.step > 0.0) {
+        return bad(format!("step must be positive, got {}", p.step));
+    }
+    let hmax = p.max_step.unwrap_or(p.step);
+    if !(hmax.is_finite() && hmax > 0.0) {
+        return bad(format!("max_step must be positive, got {hmax}"));
+    }
+    if !(p.reltol > 0.0 && p.reltol < 1.0) {
+        return bad(format!("reltol must be in (0, 1), got {}", p.reltol));
+    }
+    if p.fixed_step && p.stop / hmax.min(p.step) > 1e9 {
+        return bad("more than 1e9 fixed steps".into());
+    }
+    let hmin = p.min_step.unwrap_or(p.stop * 1e-15).max(f64::MIN_POSITIVE);
+    let n = devices.n_unknowns;
+    let method = match p.method {
+        Integration::Trapezoidal => Method::Trapezoidal,
+        Integration::Bdf2 => Method::Bdf2,
+    };
+
+    let (mut st, op_info) = match p.start {
+        StartFrom::OperatingPoint => {
+            let op = OpParams {
+                tol: p.newton,
+                time: 0.0,
+                ..p.op.clone()
+            };
+            let (s, info) = Stepper::from_op_params(devices, &op)?;
+            (s, Some(info))
+        }
+        StartFrom::Zero => (
+            Stepper::from_zero(devices, p.newton, p.op.linear_solver, 0.0),
+            None,
+        ),
+    };
+    st.max_newton = p.max_newton;
+    st.gmin = p.op.gmin;
+
+    // Breakpoints.
+    let mut bps = Vec::new();
+    if !p.fixed_step {
+        for d in &devices.devices {
+            d.breakpoints(0.0, p.stop, &mut bps);
+        }
+    }
+    let eps = p.stop * 1e-12;
+    bps.retain(|b| b.is_finite() && *b > eps && *b < p.stop - eps);
+    bps.push(p.stop);
+    bps.sort_by(|a, b| a.total_cmp(b));
+    bps.dedup_by(|a, b| (*a - *b).abs() <= eps);
+
+    let mut res = TransientResult {
+        names: devices.names.clone(),
+        time: vec![0.0],
+        x: vec![st.x.clone()],
+        restarts: vec![0],
+        info: TransientInfo {
+            accepted: 0,
+            rejected_lte: 0,
+            rejected_newton: 0,
+            newton_iterations: 0,
+            op: op_info,
+        },
+    };
+    let hstart = hmax.min(p.step);
+    let h_restart = hstart * 1e-2;
+    let mut h = if p.fixed_step { hstart } else { h_restart };
+    // Segment history of (t, q) for the error estimate.
+    let mut seg: Vec<(f64, Vec<f64>)> = vec![(0.0, st.q.clone())];
+    let mut qmax: Vec<f64> = st.q.iter().map(|v| v.abs()).collect();
+    let mut bi = 0usize;
+    let mut since_restart = 0usize;
+    while st.t < p.stop - eps {
+        while bi < bps.len() && bps[bi] <= st.t + eps {
+            bi += 1;
+        }
+        let next_bp = bps.get(bi).copied().unwrap_or(p.stop);
+        let room = next_bp - st.t;
+        let mut hh = h.min(hmax);
+        if p.fixed_step {
+            hh = hstart.min(room);
+        } else if room <= hh * 1.01 {
+            hh = room;
+        } else if room < 2.0 * hh {
+            hh = room / 2.0;
+        }
+        let t1 = if (room - hh).abs() <= eps {
+            next_bp
+        } else {
+            st.t + hh
+        };
+        let a = match st.attempt(t1, method) {
+            Ok(a) => a,
+            Err(f) => {
+                res.info.rejected_newton += 1;
+                if p.fixed_step {
+                    return Err(f.into_error(devices, "transient"));
+                }
+                h = hh / 8.0;
+                if h < hmin {
+                    let worst = match &f.failure {
+                        Failure::NoConvergence { worst, .. } => *worst,
+                        Failure::Singular(k) | Failure::NonFinite(k) => *k,
+                    };
+                    return Err(SolveError::StepTooSmall {
+                        time: st.t,
+                        step: h,
+                        min_step: hmin,
+                        reason: format!("Newton failed: {}", f.into_error(devices, "transient")),
+                        unknown: devices.names.get(worst).cloned().unwrap_or_default(),
+                    });
+                }
+                continue;
+            }
+        };
+        if let Some(k) = a.x.iter().position(|v| !v.is_finite()) {
+            return Err(SolveError::NonFinite {
+                analysis: "transient".into(),
+                unknown: devices.names.get(k).cloned().unwrap_or_default(),
+                when: crate::error::When(Some(t1)),
+            });
+        }
+        // Truncation error.
+        let mut grow = 2.0;
+        if !p.fixed_step {
+            let order = match a.method {
+                Method::BackwardEuler => 1,
+                _ => 2,
+            };
+            let est = lte(&seg, &a, order, st.prev.as_ref().map(|p| p.2));
+            if let Some((ratios, worst)) = est.map(|e| worst_ratio(&e, &qmax, &a.q, p)) {
+                let fac = 0.9 * ratios.max(1e-12).powf(-1.0 / (order as f64 + 1.0));
+                if ratios > 1.0 {
+                    res.info.rejected_lte += 1;
+                    h = hh * fac.clamp(0.1, 0.5);
+                    if h < hmin {
+                        return Err(SolveError::StepTooSmall {
+                            time: st.t,
+                            step: h,
+                            min_step: hmin,
+                            reason: format!("truncation error {ratios:.3e} × tolerance"),
+                            unknown: devices.names.get(worst).cloned().unwrap_or_default(),
+                        });
+                    }
+                    continue;
+                }
+                grow = fac.clamp(0.2, 2.0);
+            }
+        }
+        // Accept.
+        let hit_bp = (a.t - next_bp).abs() <= eps;
+        let q1 = a.q.clone();
+        st.commit(a);
+        res.info.accepted += 1;
+        res.time.push(st.t);
+        res.x.push(st.x.clone());
+        for (m, v) in qmax.iter_mut().zip(&q1) {
+            *m = m.max(v.abs());
+        }
+        since_restart += 1;
+        seg.push((st.t, q1));
+        if seg.len() > 4 {
+            seg.remove(0);
+        }
+        if p.fixed_step {
+            continue;
+        }
+        h = if since_restart <= 3 {
+            hh * 2.0_f64.min(grow.max(1.0))
+        } else {
+            hh * grow
+        };
+        if hit_bp && st.t < p.stop - eps {
+            st.restart();
+            seg.clear();
+            seg.push((st.t, st.q.clone()));
+            res.restarts.push(res.time.len() - 1);
+            since_restart = 0;
+            h = h_restart.min(h);
+        }
+    }
+    let _ = n;
+    res.info.newton_iterations = st.newton_iterations;
+    Ok(res)
+}
+
+/// Per-row local truncation error of attempt `a` given the segment history.
+fn lte(seg: &[(f64, Vec<f64>)], a: &Attempt, order: usize, h0: Option<f64>) -> Option<Vec<f64>> {
+    let mut pts: Vec<(f64, &[f64])> = seg.iter().map(|(t, q)| (*t, q.as_slice())).collect();
+    pts.push((a.t, a.q.as_slice()));
+    let need = order + 2;
+    if pts.len() < need {
+        return None;
+    }
+    let pts = &pts[pts.len() - need..];
+    let n = a.q.len();
+    let h = a.h;
+    let mut out = vec![0.0; n];
+    for (r, o) in out.iter_mut().enumerate() {
+        // Divided differences of order `order + 1`.
+        let mut dd: Vec<f64> = pts.iter().map(|p| p.1[r]).collect();
+        for lvl in 1..need {
+            for j in 0..need - lvl {
+                dd[j] = (dd[j + 1] - dd[j]) / (pts[j + lvl].0 - pts[j].0);
+            }
+        }
+        let d = dd[0];
+        *o = match a.method {
+            Method::BackwardEuler => h * h * d,
+            Method::Trapezoidal => 0.5 * h * h * h * d,
+            Method::Bdf2 => {
+                let h0 = h0.unwrap_or(h);
+                h * h * (h + h0) * (h + h0) / (2.0 * h + h0) * d
+            }
+        };
+    }
+    Some(out)
+}
+
+fn worst_ratio(e: &[f64], qmax: &[f64], q1: &[f64], p: &TransientParams) -> (f64, usize) {
+    let mut w = (0.0f64, 0usize);
+    for r in 0..e.len() {
+        let tol = p.reltol * qmax[r].max(q1[r].abs()) + p.chgtol;
+        let ratio = e[r].abs() / tol;
+        if !(ratio <= w.0) {
+            w = (ratio, r);
+        }
+    }
+    w
+}
