@@ -1,2 +1,28 @@
-//! tankwave-report (placeholder overview).
+//! tankwave-report: everything that turns results into text or files —
+//! terminal tables, numbers in engineering notation, CSV and JSON writers with
+//! a versioned schema, and whole-file writes (temporary file, then rename).
+//!
+//! This crate never solves and never prints: it returns strings or writes the
+//! files it is asked to write; the binary decides where text goes.
+//!
+//! ```
+//! use tankwave_report::{si, Table, Align};
+//! assert_eq!(si(4.7e-6, "H"), "4.70 µH");
+//! let mut t = Table::new(vec![("figure", Align::Left), ("value", Align::Right)]);
+//! t.row(vec!["output power".into(), si(20.1, "W")]);
+//! assert!(t.render().contains("20.1 W"));
+//! ```
 #![deny(missing_docs)]
+
+pub mod files;
+pub mod format;
+pub mod table;
+
+pub use files::{write_atomic, ReportError};
+pub use format::{db, fixed, si};
+pub use table::{Align, Table};
+
+/// Version of the JSON documents tankwave writes (`"schema"` field).
+/// Bump the major number on any incompatible change; docs/analyses.md and
+/// docs/measurements.md describe the fields.
+pub const SCHEMA_VERSION: &str = "tankwave/1";

@@ -1,0 +1,113 @@
+//! Whole-file writes: the content goes to a temporary file in the target
+//! directory, which is then renamed into place, so a reader never sees half a
+//! file and a failure leaves nothing behind.
+
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+/// Errors from writing output files.
+#[derive(Debug, thiserror::Error)]
+pub enum ReportError {
+    /// The output directory or file could not be written.
+    #[error("cannot write '{path}': {source}")]
+    Write {
+        /// The path being written.
+        path: PathBuf,
+        /// The operating-system error.
+        #[source]
+        source: std::io::Error,
+    },
+    /// Serialising to JSON or CSV failed.
+    #[error("cannot serialise {what}: {message}")]
+    Serialise {
+        /// What was being serialised.
+        what: String,
+        /// The serialiser's message.
+        message: String,
+    },
+}
+
+/// Write `bytes` to `path` whole: a temporary file beside it, then a rename.
+pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), ReportError> {
+    let err = |source| ReportError::Write {
+        path: path.to_path_buf(),
+        source,
+    };
+    let dir = match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let mut tmp = tempfile::NamedTempFile::new_in(&dir).map_err(err)?;
+    tmp.write_all(bytes).map_err(err)?;
+    tmp.flush().map_err(err)?;
+    tmp.persist(path).map_err(|e| err(e.error))?;
+    Ok(())
+}
+
+/// Write several files whole, all or nothing: every file is first written to a
+/// temporary file; only when all succeeded are they renamed into place. If a
+/// rename fails midway, the files already renamed are removed again.
+pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<(), ReportError> {
+    let mut staged = Vec::with_capacity(files.len());
+    for (path, bytes) in files {
+        let err = |source| ReportError::Write {
+            path: path.clone(),
+            source,
+        };
+        let dir = match path.parent() {
+            Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+            _ => PathBuf::from("."),
+        };
+        let mut tmp = tempfile::NamedTempFile::new_in(&dir).map_err(err)?;
+        tmp.write_all(bytes).map_err(err)?;
+        tmp.flush().map_err(err)?;
+        staged.push((path.clone(), tmp));
+    }
+    let mut done: Vec<PathBuf> = Vec::new();
+    for (path, tmp) in staged {
+        if let Err(e) = tmp.persist(&path) {
+            for p in &done {
+                let _ = std::fs::remove_file(p);
+            }
+            return Err(ReportError::Write {
+                path,
+                source: e.error,
+            });
+        }
+        done.push(path);
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn writes_whole_file() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("a.txt");
+        write_atomic(&p, b"hello").unwrap();
+        assert_eq!(std::fs::read(&p).unwrap(), b"hello");
+        // nothing else left in the directory
+        assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 1);
+    }
+
+    #[test]
+    fn missing_directory_is_an_error_and_writes_nothing() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("no/such/dir/a.txt");
+        assert!(write_atomic(&p, b"x").is_err());
+        assert!(!p.exists());
+    }
+
+    #[test]
+    fn all_or_nothing() {
+        let dir = tempfile::tempdir().unwrap();
+        let good = dir.path().join("good.csv");
+        let bad = dir.path().join("missing/bad.csv");
+        let r = write_all_atomic(&[(good.clone(), b"1".to_vec()), (bad, b"2".to_vec())]);
+        assert!(r.is_err());
+        assert!(!good.exists(), "no partial output when one file fails");
+    }
+}
