@@ -1,2 +1,33 @@
-//! tankwave-study (placeholder overview).
+//! tankwave-study: sweeps, tolerances and Monte Carlo, parallel batch runs
+//! with streamed, resumable, sharded records, summaries, and tuning.
+//!
+//! The crate owns the *what* and *how many* of a study: which variants exist
+//! ([`Plan`], [`Variant`]), how they are run in parallel and recorded
+//! ([`run_study`], [`Record`], [`resume`], [`merge`]), what they add up to
+//! ([`Summary`]) and how tune parameters are searched ([`tune`]). It is generic
+//! over the per-variant work: the caller supplies a closure that elaborates,
+//! solves and measures. It must not format for people or print: the CLI
+//! owns the terminal (progress arrives through a callback).
+//!
+//! Modules: [`plan`] (numbering, segments), [`sample`] (reproducible
+//! tolerance draws), [`runner`], [`record`] (file format, resume, merge,
+//! CSV), [`summary`], [`tune`].
 #![deny(missing_docs)]
+
+pub mod error;
+pub mod plan;
+pub mod record;
+pub mod runner;
+pub mod sample;
+pub mod summary;
+pub mod tune;
+
+pub use error::StudyError;
+pub use plan::{factor_key, Axis, AxisTarget, Plan, TolSpec, Variant};
+pub use record::{
+    merge, resume, write_csv, DoneSet, Header, JsonlSink, MemorySink, MergeInfo, Record,
+    RecordReader, RecordSink, ResumeInfo, Shard, Verdict, SCHEMA, SCHEMA_VERSION,
+};
+pub use runner::{run_study, shard_indices, Outcome, Progress, RunInfo, StudyParams, WarmStart};
+pub use summary::{percentile_sorted, FigureStats, RequirementStats, Summary};
+pub use tune::{tune, Sharpness, TuneContext, TuneFigures, TuneGoal, TuneParams, TuneResult};

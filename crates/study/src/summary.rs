@@ -1,0 +1,164 @@
+//! Summary of a study's records: yield, statistics of every figure, and the
+//! worst variant for each requirement.
+//!
+//! * Yield = (variants that ran and passed every requirement) / (all
+//!   variants summarised). A failed variant counts as not passing. With no
+//!   requirements at all, yield is the fraction of variants that ran.
+//! * For every figure: count, min, median, max, mean and the requested
+//!   percentiles over the variants that have it. Percentiles use linear
+//!   interpolation between order statistics, the definition numpy's
+//!   `percentile(..., method="linear")` uses (Hyndman and Fan, "Sample
+//!   quantiles in statistical packages", The American Statistician 50(4),
+//!   1996, definition 7): for sorted x₀ ≤ … ≤ x_{n−1} and p in [0, 100],
+//!   h = (n − 1)·p/100, and the value is x_⌊h⌋ + (h − ⌊h⌋)·(x_⌊h⌋+1 − x_⌊h⌋).
+//! * For every requirement: how many variants passed, and the variant with
+//!   the smallest margin (the first such index on ties).
+
+use std::collections::BTreeMap;
+
+use crate::record::Record;
+use crate::StudyError;
+
+/// Statistics of one figure.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FigureStats {
+    /// Variants that have the figure.
+    pub count: u64,
+    /// Smallest value.
+    pub min: f64,
+    /// Median (the 50th percentile, same method).
+    pub median: f64,
+    /// Largest value.
+    pub max: f64,
+    /// Arithmetic mean.
+    pub mean: f64,
+    /// (p, value) for each requested percentile, in the order asked.
+    pub percentiles: Vec<(f64, f64)>,
+}
+
+/// A requirement over the whole study.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RequirementStats {
+    /// Variants where it was evaluated.
+    pub evaluated: u64,
+    /// Variants where it passed.
+    pub passed: u64,
+    /// The variant with the smallest margin.
+    pub worst_index: u64,
+    /// That margin.
+    pub worst_margin: f64,
+}
+
+/// The summary of a set of records.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Summary {
+    /// Records summarised.
+    pub variants: u64,
+    /// Records with an error.
+    pub failed: u64,
+    /// Records that ran and passed every requirement.
+    pub passed_all: u64,
+    /// passed_all / variants (0 with no variants).
+    pub yield_fraction: f64,
+    /// Statistics of every figure, by name.
+    pub figures: BTreeMap<String, FigureStats>,
+    /// Statistics of every requirement, by its text.
+    pub requirements: BTreeMap<String, RequirementStats>,
+}
+
+/// The `p`-th percentile (0..=100) of `sorted` (ascending, non-empty) by
+/// linear interpolation (numpy's default `method="linear"`; see the module overview).
+pub fn percentile_sorted(sorted: &[f64], p: f64) -> Result<f64, StudyError> {
+    if !(0.0..=100.0).contains(&p) {
+        return Err(StudyError::BadPercentile { p });
+    }
+    let n = sorted.len();
+    let (Some(&first), Some(&last)) = (sorted.first(), sorted.last()) else {
+        return Err(StudyError::BadPercentile { p });
+    };
+    if n == 1 {
+        return Ok(first);
+    }
+    let h = (n - 1) as f64 * p / 100.0;
+    let lo = h.floor() as usize;
+    match (sorted.get(lo), sorted.get(lo + 1)) {
+        (Some(&a), Some(&b)) => Ok(a + (h - lo as f64) * (b - a)),
+        _ => Ok(last),
+    }
+}
+
+impl Summary {
+    /// Summarise `records` with the given percentiles (e.g. `&[5.0, 95.0]`).
+    /// Holds every figure's values (8 bytes per variant per figure) to sort them.
+    pub fn from_records<'a>(
+        records: impl IntoIterator<Item = &'a Record>,
+        percentiles: &[f64],
+    ) -> Result<Summary, StudyError> {
+        if let Some(&p) = percentiles.iter().find(|p| !(0.0..=100.0).contains(*p)) {
+            return Err(StudyError::BadPercentile { p });
+        }
+        let mut s = Summary::default();
+        let mut values: BTreeMap<String, Vec<f64>> = BTreeMap::new();
+        for r in records {
+            s.variants += 1;
+            if r.error.is_some() {
+                s.failed += 1;
+                continue;
+            }
+            if r.passes_all() {
+                s.passed_all += 1;
+            }
+            for (k, &v) in &r.metrics {
+                if v.is_finite() {
+                    values.entry(k.clone()).or_default().push(v);
+                }
+            }
+            for (k, v) in &r.verdicts {
+                let e = s.requirements.entry(k.clone()).or_insert(RequirementStats {
+                    evaluated: 0,
+                    passed: 0,
+                    worst_index: r.index,
+                    worst_margin: f64::INFINITY,
+                });
+                e.evaluated += 1;
+                if v.pass {
+                    e.passed += 1;
+                }
+                if v.margin < e.worst_margin
+                    || (v.margin == e.worst_margin && r.index < e.worst_index)
+                {
+                    e.worst_margin = v.margin;
+                    e.worst_index = r.index;
+                }
+            }
+        }
+        if s.variants > 0 {
+            s.yield_fraction = s.passed_all as f64 / s.variants as f64;
+        }
+        for (k, mut v) in values {
+            v.sort_by(f64::total_cmp);
+            let (Some(&min), Some(&max)) = (v.first(), v.last()) else {
+                continue;
+            };
+            let n = v.len() as f64;
+            let mean = v.iter().map(|x| x / n).sum::<f64>();
+            let median = percentile_sorted(&v, 50.0)?;
+            let mut pct = Vec::with_capacity(percentiles.len());
+            for &p in percentiles {
+                pct.push((p, percentile_sorted(&v, p)?));
+            }
+            s.figures.insert(
+                k,
+                FigureStats {
+                    count: v.len() as u64,
+                    min,
+                    median,
+                    max,
+                    mean,
+                    percentiles: pct,
+                },
+            );
+        }
+        Ok(s)
+    }
+}

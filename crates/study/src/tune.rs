@@ -1,0 +1,426 @@
+//! Tuning: move the `tune` parameters within their ranges to optimise a goal.
+//!
+//! The caller supplies the objective (the CLI elaborates, solves and measures
+//! the stage at the given parameter values and drive scale); this module
+//! only searches. Method: Nelder–Mead (argmin 0.11, on `Vec<f64>`), with
+//! restarts from the best point found.
+//!
+//! Bounds: each parameter x in [a, b] is searched through an unbounded
+//! coordinate y with x = a + (b − a)·(1 + sin y)/2. Every y maps inside the
+//! range, the ends are reachable (y = ±π/2), and the map is smooth, so the
+//! simplex method needs no special case at the bounds (a transform commonly
+//! used for bounded fits; common practice). The search starts at the middle
+//! of each range (or at a given start), with a first simplex step of
+//! `initial_step`·π in y (a quarter of the range by default).
+//!
+//! Cost, normalised so that the stopping tolerance is relative:
+//! * `MaximisePout`: −pout / |pout at the start| (1 W if that is 0);
+//! * `MaximiseEfficiencyAt { pout_min }`: −efficiency + 10·max(0, 1 − pout/pout_min)
+//!   (a 10% power shortfall outweighs any efficiency gain);
+//! * `MinimiseInputVswr`: VSWR.
+//!
+//! An evaluation that fails or lacks a needed figure costs 10⁶ (far above
+//! any real cost) and is counted. The search stops when the standard
+//! deviation of the costs over the simplex falls below `tolerance`, or after
+//! `max_iters` iterations per start.
+//!
+//! Reduced drive: with `search_drive = Some(s)` the objective is asked at
+//! drive scale s during the search (the caller scales its source), and the
+//! optimum is then reported at full drive (scale 1).
+//!
+//! Sharpness of the optimum, per parameter: the relative change of the goal
+//! figure (pout, efficiency or VSWR), (f(x ± δ) − f(x))/|f(x)|, when that
+//! parameter alone moves by δ = `sharpness_step`·|x| (1% by default) down
+//! and up, at full drive. `None` where x ± δ leaves the range or the
+//! evaluation fails. A sharp peak (large drops) means a touchy adjustment.
+
+use std::collections::BTreeMap;
+use std::sync::atomic::{AtomicU64, Ordering};
+
+use argmin::core::{CostFunction, Executor, State, TerminationReason, TerminationStatus};
+use argmin::solver::neldermead::NelderMead;
+use tankwave_circuit::Tune;
+
+use crate::StudyError;
+
+/// What the tuner optimises.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum TuneGoal {
+    /// Largest output power.
+    MaximisePout,
+    /// Largest efficiency with at least `pout_min` watts out.
+    MaximiseEfficiencyAt {
+        /// Minimum output power, W.
+        pout_min: f64,
+    },
+    /// Smallest input VSWR.
+    MinimiseInputVswr,
+}
+
+/// The figures the objective reports at one point (only those the goal needs are required).
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct TuneFigures {
+    /// Output power, W.
+    pub pout: Option<f64>,
+    /// Efficiency, fraction.
+    pub efficiency: Option<f64>,
+    /// Input VSWR.
+    pub input_vswr: Option<f64>,
+}
+
+/// Passed to the objective with each point.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct TuneContext {
+    /// Drive scale to apply to the input source (1 = full drive).
+    pub drive_scale: f64,
+}
+
+/// Options of [`tune`].
+#[derive(Debug, Clone, PartialEq)]
+pub struct TuneParams {
+    /// Iteration limit per start. Default 200.
+    pub max_iters: u64,
+    /// Stop when the simplex costs' standard deviation is below this (relative). Default 1e-10.
+    pub tolerance: f64,
+    /// First simplex step as a fraction of π in the search coordinate. Default 0.25.
+    pub initial_step: f64,
+    /// Start values by parameter name (default: middle of the range).
+    pub start: BTreeMap<String, f64>,
+    /// Extra Nelder–Mead runs from the best point found. Default 1.
+    pub restarts: usize,
+    /// Drive scale during the search (`None` = full drive). The optimum is reported at full drive.
+    pub search_drive: Option<f64>,
+    /// Relative parameter step of the sharpness figure. Default 0.01 (1%).
+    pub sharpness_step: f64,
+}
+
+impl Default for TuneParams {
+    fn default() -> Self {
+        TuneParams {
+            max_iters: 200,
+            tolerance: 1e-10,
+            initial_step: 0.25,
+            start: BTreeMap::new(),
+            restarts: 1,
+            search_drive: None,
+            sharpness_step: 0.01,
+        }
+    }
+}
+
+/// Sharpness of the optimum along one parameter.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Sharpness {
+    /// The parameter.
+    pub param: String,
+    /// The absolute step δ used.
+    pub step: f64,
+    /// Relative change of the goal figure at x − δ.
+    pub minus: Option<f64>,
+    /// Relative change of the goal figure at x + δ.
+    pub plus: Option<f64>,
+}
+
+/// The result of [`tune`].
+#[derive(Debug, Clone, PartialEq)]
+pub struct TuneResult {
+    /// Best parameter values.
+    pub optimum: BTreeMap<String, f64>,
+    /// Figures there at full drive.
+    pub figures: TuneFigures,
+    /// Figures there at the search drive, when it was reduced.
+    pub search_figures: Option<TuneFigures>,
+    /// The goal's figure at full drive (W, fraction or VSWR).
+    pub goal_value: f64,
+    /// Nelder–Mead iterations over all starts.
+    pub iterations: u64,
+    /// Objective evaluations (search, report and sharpness).
+    pub evaluations: u64,
+    /// Evaluations that failed.
+    pub failed_evaluations: u64,
+    /// The last start stopped on the tolerance (not the iteration limit).
+    pub converged: bool,
+    /// Sharpness per parameter.
+    pub sharpness: Vec<Sharpness>,
+    /// Parameters within 0.1% of the range width of an end (the optimum may lie outside).
+    pub at_bound: Vec<String>,
+}
+
+const FAILED_COST: f64 = 1e6;
+
+struct Counted<'a, F> {
+    names: &'a [String],
+    objective: &'a F,
+    evaluations: AtomicU64,
+    failures: AtomicU64,
+}
+
+impl<F> Counted<'_, F>
+where
+    F: Fn(&BTreeMap<String, f64>, &TuneContext) -> Result<TuneFigures, String>,
+{
+    fn point(&self, x: &[f64]) -> BTreeMap<String, f64> {
+        self.names.iter().cloned().zip(x.iter().copied()).collect()
+    }
+    fn eval(&self, x: &[f64], drive_scale: f64) -> Result<TuneFigures, String> {
+        self.evaluations.fetch_add(1, Ordering::Relaxed);
+        let r = (self.objective)(&self.point(x), &TuneContext { drive_scale });
+        if r.is_err() {
+            self.failures.fetch_add(1, Ordering::Relaxed);
+        }
+        r
+    }
+}
+
+fn figure(goal: TuneGoal, f: &TuneFigures) -> Result<f64, String> {
+    let (name, v) = match goal {
+        TuneGoal::MaximisePout => ("pout", f.pout),
+        TuneGoal::MaximiseEfficiencyAt { .. } => ("efficiency", f.efficiency),
+        TuneGoal::MinimiseInputVswr => ("input_vswr", f.input_vswr),
+    };
+    match v {
+        Some(x) if x.is_finite() => Ok(x),
+        Some(x) => Err(format!("{name} is {x}")),
+        None => Err(format!("the objective gave no {name}")),
+    }
+}
+
+fn cost(goal: TuneGoal, f: &TuneFigures, pout_ref: f64) -> Result<f64, String> {
+    let g = figure(goal, f)?;
+    Ok(match goal {
+        TuneGoal::MaximisePout => -g / pout_ref,
+        TuneGoal::MaximiseEfficiencyAt { pout_min } => {
+            let p = match f.pout {
+                Some(p) if p.is_finite() => p,
+                _ => return Err("the objective gave no finite pout".to_string()),
+            };
+            -g + 10.0 * (1.0 - p / pout_min).max(0.0)
+        }
+        TuneGoal::MinimiseInputVswr => g,
+    })
+}
+
+struct Search<'a, 'b, F> {
+    counted: &'b Counted<'a, F>,
+    ranges: &'b [(f64, f64)],
+    goal: TuneGoal,
+    pout_ref: f64,
+    drive: f64,
+}
+
+fn to_x(ranges: &[(f64, f64)], y: &[f64]) -> Vec<f64> {
+    ranges
+        .iter()
+        .zip(y)
+        .map(|(&(a, b), &y)| (a + (b - a) * (1.0 + y.sin()) / 2.0).clamp(a, b))
+        .collect()
+}
+
+fn to_y(ranges: &[(f64, f64)], x: &[f64]) -> Vec<f64> {
+    ranges
+        .iter()
+        .zip(x)
+        .map(|(&(a, b), &x)| (2.0 * (x - a) / (b - a) - 1.0).clamp(-1.0, 1.0).asin())
+        .collect()
+}
+
+impl<F> CostFunction for Search<'_, '_, F>
+where
+    F: Fn(&BTreeMap<String, f64>, &TuneContext) -> Result<TuneFigures, String>,
+{
+    type Param = Vec<f64>;
+    type Output = f64;
+    fn cost(&self, y: &Self::Param) -> Result<f64, argmin::core::Error> {
+        let x = to_x(self.ranges, y);
+        let c = self
+            .counted
+            .eval(&x, self.drive)
+            .and_then(|f| cost(self.goal, &f, self.pout_ref));
+        Ok(match c {
+            Ok(c) if c.is_finite() => c,
+            _ => FAILED_COST,
+        })
+    }
+}
+
+fn describe(names: &[String], x: &[f64]) -> String {
+    names
+        .iter()
+        .zip(x)
+        .map(|(n, v)| format!("{n}={v}"))
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// Search the `ranges` (from `tune` statements) for the best `goal`, calling
+/// `objective(point, context)` for figures at each point.
+pub fn tune<F>(
+    ranges: &[Tune],
+    objective: F,
+    goal: TuneGoal,
+    params: &TuneParams,
+) -> Result<TuneResult, StudyError>
+where
+    F: Fn(&BTreeMap<String, f64>, &TuneContext) -> Result<TuneFigures, String>,
+{
+    if ranges.is_empty() {
+        return Err(StudyError::NothingToTune);
+    }
+    let mut names: Vec<String> = Vec::with_capacity(ranges.len());
+    let mut bounds = Vec::with_capacity(ranges.len());
+    let mut x0 = Vec::with_capacity(ranges.len());
+    for t in ranges {
+        if !(t.from.is_finite() && t.to.is_finite() && t.from < t.to) || names.contains(&t.param) {
+            return Err(StudyError::BadTuneRange {
+                param: t.param.clone(),
+                from: t.from,
+                to: t.to,
+            });
+        }
+        let start = params
+            .start
+            .get(&t.param)
+            .copied()
+            .unwrap_or(0.5 * (t.from + t.to));
+        if !(start >= t.from && start <= t.to) {
+            return Err(StudyError::BadTuneStart {
+                param: t.param.clone(),
+                start,
+                from: t.from,
+                to: t.to,
+            });
+        }
+        names.push(t.param.clone());
+        bounds.push((t.from, t.to));
+        x0.push(start);
+    }
+    if let TuneGoal::MaximiseEfficiencyAt { pout_min } = goal {
+        if !(pout_min.is_finite() && pout_min > 0.0) {
+            return Err(StudyError::Objective {
+                at: "goal".to_string(),
+                message: format!("minimum output power {pout_min} W must be positive"),
+            });
+        }
+    }
+    let drive = params.search_drive.unwrap_or(1.0);
+    let counted = Counted {
+        names: &names,
+        objective: &objective,
+        evaluations: AtomicU64::new(0),
+        failures: AtomicU64::new(0),
+    };
+    let objective_err = |x: &[f64], message: String| StudyError::Objective {
+        at: describe(&names, x),
+        message,
+    };
+    // The power scale for normalising costs: the start point's output power.
+    let start_figures = counted
+        .eval(&x0, drive)
+        .map_err(|m| objective_err(&x0, m))?;
+    let pout_ref = start_figures
+        .pout
+        .filter(|p| p.is_finite() && p.abs() > 0.0)
+        .map(f64::abs)
+        .unwrap_or(1.0);
+
+    let mut y_best = to_y(&bounds, &x0);
+    let mut iterations = 0;
+    let mut converged = false;
+    let step = params.initial_step * std::f64::consts::PI;
+    for _ in 0..=params.restarts {
+        let mut simplex = vec![y_best.clone()];
+        for k in 0..y_best.len() {
+            let mut v = y_best.clone();
+            if let Some(c) = v.get_mut(k) {
+                // Step towards the middle of the range so that the vertex moves x.
+                *c += if *c > 0.0 { -step } else { step };
+            }
+            simplex.push(v);
+        }
+        let solver = NelderMead::new(simplex)
+            .with_sd_tolerance(params.tolerance)
+            .map_err(|e| StudyError::Optimiser(e.to_string()))?;
+        let problem = Search {
+            counted: &counted,
+            ranges: &bounds,
+            goal,
+            pout_ref,
+            drive,
+        };
+        let res = Executor::new(problem, solver)
+            .configure(|s| s.max_iters(params.max_iters))
+            .run()
+            .map_err(|e| StudyError::Optimiser(e.to_string()))?;
+        let state = res.state();
+        iterations += state.get_iter();
+        converged = matches!(
+            state.get_termination_status(),
+            TerminationStatus::Terminated(TerminationReason::SolverConverged)
+        );
+        if let Some(p) = state.get_best_param() {
+            y_best = p.clone();
+        }
+    }
+    let x_best = to_x(&bounds, &y_best);
+
+    let full = counted
+        .eval(&x_best, 1.0)
+        .map_err(|m| objective_err(&x_best, m))?;
+    let goal_value = figure(goal, &full).map_err(|m| objective_err(&x_best, m))?;
+    let search_figures = match params.search_drive {
+        Some(s) if s != 1.0 => Some(
+            counted
+                .eval(&x_best, s)
+                .map_err(|m| objective_err(&x_best, m))?,
+        ),
+        _ => None,
+    };
+
+    let mut sharpness = Vec::with_capacity(names.len());
+    for (k, name) in names.iter().enumerate() {
+        let (Some(&xk), Some(&(a, b))) = (x_best.get(k), bounds.get(k)) else {
+            continue;
+        };
+        let delta = params.sharpness_step * xk.abs();
+        let side = |sign: f64| -> Option<f64> {
+            let v = xk + sign * delta;
+            if !(v >= a && v <= b) || delta == 0.0 || goal_value == 0.0 {
+                return None;
+            }
+            let mut x = x_best.clone();
+            if let Some(c) = x.get_mut(k) {
+                *c = v;
+            }
+            let f = counted.eval(&x, 1.0).ok()?;
+            let g = figure(goal, &f).ok()?;
+            Some((g - goal_value) / goal_value.abs())
+        };
+        let minus = side(-1.0);
+        let plus = side(1.0);
+        sharpness.push(Sharpness {
+            param: name.clone(),
+            step: delta,
+            minus,
+            plus,
+        });
+    }
+    let at_bound = names
+        .iter()
+        .zip(&x_best)
+        .zip(&bounds)
+        .filter(|((_, &x), &(a, b))| (x - a) <= 1e-3 * (b - a) || (b - x) <= 1e-3 * (b - a))
+        .map(|((n, _), _)| n.clone())
+        .collect();
+    Ok(TuneResult {
+        optimum: counted.point(&x_best),
+        figures: full,
+        search_figures,
+        goal_value,
+        iterations,
+        evaluations: counted.evaluations.load(Ordering::Relaxed),
+        failed_evaluations: counted.failures.load(Ordering::Relaxed),
+        converged,
+        sharpness,
+        at_bound,
+    })
+}
