@@ -608,6 +608,17 @@ pub enum Limit {
     All(Vec<Limit>),
     /// The least stringent sub-limit applies.
     Lenient(Vec<Limit>),
+    /// A carrier-power condition: `then` applies when the carrier power is strictly
+    /// below `watts`, `otherwise` at or above it (rules that change with the
+    /// transmitter's mean power).
+    IfCarrierBelow {
+        /// The carrier-power threshold, W.
+        watts: f64,
+        /// The limit for a carrier below `watts`.
+        then: Box<Limit>,
+        /// The limit for a carrier of `watts` or more.
+        otherwise: Box<Limit>,
+    },
 }
 
 /// A limit value: a constant, or a closed-form function of the carrier power.
@@ -650,6 +661,17 @@ impl Limit {
                 .iter()
                 .map(|l| l.allowed_dbc(pc))
                 .fold(f64::NEG_INFINITY, f64::max),
+            Limit::IfCarrierBelow {
+                watts,
+                then,
+                otherwise,
+            } => {
+                if pc < *watts {
+                    then.allowed_dbc(pc)
+                } else {
+                    otherwise.allowed_dbc(pc)
+                }
+            }
         }
     }
 }

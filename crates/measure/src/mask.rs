@@ -1,0 +1,181 @@
+//! Evaluating an emission mask against the output harmonics.
+//!
+//! For each harmonic n ≥ 2 the rules that apply are those whose carrier
+//! condition holds for the FUNDAMENTAL frequency f0 and whose range covers
+//! the harmonic (by number, or by its frequency n·f0). All applicable rules
+//! must hold, so the allowed level is the most stringent (lowest) of their
+//! `Limit::allowed_dbc` at the measured carrier power P_1. The margin is
+//! allowed − measured in dB: positive passes.
+
+use serde::Serialize;
+use tankwave_circuit::{Mask, MaskRange, MaskRule};
+use thiserror::Error;
+
+use crate::metrics::OutputMetrics;
+use crate::units::dbc;
+
+/// Why a mask could not be evaluated.
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum MaskError {
+    /// No positive carrier power to refer the limits to.
+    #[error("fundamental output power is {p1_w:e} W: no carrier to refer the mask to")]
+    NoCarrier {
+        /// The fundamental power, W.
+        p1_w: f64,
+    },
+    /// No rule of the mask covers any harmonic at this fundamental.
+    #[error("mask {mask} has no rule for a fundamental of {f0_hz} Hz")]
+    NotCovered {
+        /// Mask name.
+        mask: String,
+        /// Fundamental frequency, Hz.
+        f0_hz: f64,
+    },
+    /// A rule gives an allowed level that is NaN or −∞.
+    #[error("mask {mask} gives an unusable allowed level {value} dBc at harmonic {n}")]
+    BadLimit {
+        /// Mask name.
+        mask: String,
+        /// Harmonic number.
+        n: usize,
+        /// The level.
+        value: f64,
+    },
+}
+
+/// One harmonic checked against a limit.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct HarmonicRow {
+    /// Harmonic number n.
+    pub n: usize,
+    /// Frequency n·f0, Hz.
+    pub freq_hz: f64,
+    /// Power at the output element, W.
+    pub power_w: f64,
+    /// Measured level, dBc.
+    pub measured_dbc: f64,
+    /// Allowed level, dBc; `None` where no rule covers this harmonic.
+    pub allowed_dbc: Option<f64>,
+    /// Allowed − measured, dB (positive passes); `None` where unconstrained.
+    pub margin_db: Option<f64>,
+    /// Whether this harmonic meets its limit (true where unconstrained).
+    pub pass: bool,
+}
+
+/// The result of checking every harmonic against a mask.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct MaskEvaluation {
+    /// Mask name.
+    pub mask: String,
+    /// Fundamental frequency, Hz.
+    pub f0_hz: f64,
+    /// Carrier (fundamental) power the limits were evaluated at, W.
+    pub carrier_w: f64,
+    /// Harmonics 2..=K.
+    pub rows: Vec<HarmonicRow>,
+    /// Index into `rows` of the smallest margin, if any row is constrained.
+    pub worst: Option<usize>,
+    /// Whether every harmonic passes.
+    pub pass: bool,
+}
+
+impl MaskEvaluation {
+    /// The row with the smallest margin.
+    pub fn worst_row(&self) -> Option<&HarmonicRow> {
+        self.worst.and_then(|w| self.rows.get(w))
+    }
+}
+
+/// Does `rule` apply to harmonic `n` of a carrier at `f0_hz`?
+pub fn rule_applies(rule: &MaskRule, n: usize, f0_hz: f64) -> bool {
+    if let Some((lo, hi)) = rule.carrier {
+        if !(f0_hz >= lo && f0_hz <= hi) {
+            return false;
+        }
+    }
+    match &rule.range {
+        MaskRange::Harmonics { from, to } => {
+            n >= *from as usize && to.is_none_or(|t| n <= t as usize)
+        }
+        MaskRange::Frequency { from, to } => {
+            let f = n as f64 * f0_hz;
+            f >= *from && f <= *to
+        }
+        MaskRange::Any => true,
+    }
+}
+
+/// The allowed level (dBc) for harmonic `n`, or `None` if no rule applies.
+pub fn allowed_dbc(
+    mask: &Mask,
+    n: usize,
+    f0_hz: f64,
+    carrier_w: f64,
+) -> Result<Option<f64>, MaskError> {
+    let mut allowed: Option<f64> = None;
+    for rule in mask.rules.iter().filter(|r| rule_applies(r, n, f0_hz)) {
+        let a = rule.limit.allowed_dbc(carrier_w);
+        if a.is_nan() || a == f64::NEG_INFINITY {
+            return Err(MaskError::BadLimit {
+                mask: mask.name.clone(),
+                n,
+                value: a,
+            });
+        }
+        if a == f64::INFINITY {
+            continue;
+        }
+        allowed = Some(allowed.map_or(a, |x: f64| x.min(a)));
+    }
+    Ok(allowed)
+}
+
+/// Check the harmonics 2..=K of `output` against `mask` for a fundamental at `f0_hz`.
+pub fn evaluate_mask(
+    mask: &Mask,
+    output: &OutputMetrics,
+    f0_hz: f64,
+) -> Result<MaskEvaluation, MaskError> {
+    let p1 = output.p1_w;
+    if !(p1.is_finite() && p1 > 0.0) {
+        return Err(MaskError::NoCarrier { p1_w: p1 });
+    }
+    let mut rows = Vec::new();
+    let mut covered = false;
+    for h in output.harmonics.iter().filter(|h| h.n >= 2) {
+        let measured = dbc(h.power_w, p1).ok_or(MaskError::NoCarrier { p1_w: p1 })?;
+        let allowed = allowed_dbc(mask, h.n, f0_hz, p1)?;
+        covered |= allowed.is_some();
+        let margin = allowed.map(|a| a - measured);
+        rows.push(HarmonicRow {
+            n: h.n,
+            freq_hz: h.freq_hz,
+            power_w: h.power_w,
+            measured_dbc: measured,
+            allowed_dbc: allowed,
+            margin_db: margin,
+            pass: margin.is_none_or(|m| m >= 0.0),
+        });
+    }
+    if !covered {
+        return Err(MaskError::NotCovered {
+            mask: mask.name.clone(),
+            f0_hz,
+        });
+    }
+    let worst = rows
+        .iter()
+        .enumerate()
+        .filter_map(|(i, r)| r.margin_db.map(|m| (i, m)))
+        .min_by(|a, b| a.1.total_cmp(&b.1))
+        .map(|(i, _)| i);
+    let pass = rows.iter().all(|r| r.pass);
+    Ok(MaskEvaluation {
+        mask: mask.name.clone(),
+        f0_hz,
+        carrier_w: p1,
+        rows,
+        worst,
+        pass,
+    })
+}

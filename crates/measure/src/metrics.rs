@@ -1,0 +1,827 @@
+//! Power-stage figures from one period: output harmonics, DC input,
+//! efficiency, drive, transistor figures and component stress.
+//!
+//! Every figure is defined in docs/measurements.md. No figure is ever NaN:
+//! a figure that is undefined for the given data is `None`, and a [`Note`]
+//! in [`Metrics::notes`] says why.
+
+use num_complex::Complex64;
+use serde::Serialize;
+use tankwave_circuit::{ElementKind, ModelParams};
+
+use crate::error::MeasureError;
+use crate::period::{Period, PeriodData};
+use crate::spectrum::{harmonic_power, mean, mean_product, rms, spectrum};
+use crate::units::{dbc, dbm, vswr};
+
+/// Options of [`measure`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct MeasureParams {
+    /// Conduction threshold as a fraction of the peak collector current: the
+    /// transistor conducts while i_c exceeds this fraction of its peak.
+    /// Default 0.001 (0.1 %); see docs/measurements.md.
+    pub conduction_threshold: f64,
+}
+
+impl Default for MeasureParams {
+    fn default() -> Self {
+        Self {
+            conduction_threshold: 1e-3,
+        }
+    }
+}
+
+/// Why a figure is missing.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Note {
+    /// The figure (the requirement spelling, e.g. `gain`, `tj Q1`).
+    pub figure: String,
+    /// Why it was not measured.
+    pub reason: String,
+}
+
+/// A complex impedance, Ω.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Impedance {
+    /// Resistance, Ω.
+    pub re: f64,
+    /// Reactance, Ω.
+    pub im: f64,
+}
+
+/// Power delivered to the output element at one harmonic.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct HarmonicPower {
+    /// Harmonic number n (1 = fundamental).
+    pub n: usize,
+    /// Frequency n·f0, Hz.
+    pub freq_hz: f64,
+    /// Average power P_n = ½ Re(V_n I_n*), W.
+    pub power_w: f64,
+    /// The same in dBm (power floored at 1e-30 W).
+    pub dbm: f64,
+    /// Relative to the fundamental, dBc; `None` if the fundamental power is not positive.
+    pub dbc: Option<f64>,
+    /// Peak amplitude of the voltage across the output element at this harmonic, V.
+    pub voltage_v: f64,
+    /// Peak amplitude of the current through it, A.
+    pub current_a: f64,
+}
+
+/// Figures at the output element.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct OutputMetrics {
+    /// Output element name.
+    pub element: String,
+    /// Output element index.
+    pub element_id: usize,
+    /// Harmonics 1..=K, in order (index 0 is the fundamental).
+    pub harmonics: Vec<HarmonicPower>,
+    /// Power at the fundamental P_1, W.
+    pub p1_w: f64,
+    /// P_1 in dBm.
+    pub p1_dbm: f64,
+    /// Total harmonic power Σ_{n=2..K} P_n, W.
+    pub harmonic_power_w: f64,
+    /// DC power into the output element V_0·I_0, W.
+    pub dc_power_w: f64,
+    /// Total average power into the output element mean(v·i), W.
+    pub total_power_w: f64,
+    /// THD on power: sqrt(Σ_{n≥2} max(P_n, 0) / P_1), fraction; `None` if P_1 ≤ 0.
+    pub thd: Option<f64>,
+}
+
+/// Average power delivered by one supply (a source other than the drive).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SupplyPower {
+    /// Source name.
+    pub element: String,
+    /// Source index.
+    pub element_id: usize,
+    /// Average power delivered into the circuit −mean(Σ v_k i_k), W.
+    pub power_w: f64,
+    /// Mean terminal voltage v(p) − v(n), V.
+    pub voltage_v: f64,
+    /// Mean current delivered out of the p terminal into the circuit, A.
+    pub current_a: f64,
+}
+
+/// How the transducer gain was referred.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum GainBasis {
+    /// P_1,out / P_avs, P_avs = |Vs1|²/(8 Rs) the source's available power.
+    AvailablePower,
+    /// P_1,out / P_in (source without resistance: no available power is defined).
+    InputPower,
+}
+
+/// Figures at the drive source, at the fundamental.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DriveMetrics {
+    /// Drive source name.
+    pub element: String,
+    /// Drive source index.
+    pub element_id: usize,
+    /// Source resistance Rs, Ω (0 for an ideal source; `None` for a current source).
+    pub source_resistance_ohm: Option<f64>,
+    /// Peak fundamental voltage at the source terminals |V1|, V.
+    pub v1_v: f64,
+    /// Peak fundamental current delivered into the circuit |I1|, A.
+    pub i1_a: f64,
+    /// Power delivered into the circuit at the fundamental P_in = ½ Re(V1 I1*), W.
+    pub pin_w: f64,
+    /// Average power delivered into the circuit at all frequencies, W.
+    pub average_power_w: f64,
+    /// Peak open-circuit EMF at the fundamental |Vs1| = |V1 + Rs I1|, V (voltage sources).
+    pub emf1_v: Option<f64>,
+    /// Available power |Vs1|²/(8 Rs), W; `None` unless Rs > 0.
+    pub pavs_w: Option<f64>,
+    /// Large-signal input impedance Z = V1/I1 looking into the circuit, Ω.
+    pub z_in: Option<Impedance>,
+    /// Input VSWR against Rs (capped at `units::VSWR_CAP`); `None` unless Rs > 0.
+    pub vswr: Option<f64>,
+}
+
+/// Figures of one bipolar transistor (signs flipped for pnp so that normal
+/// operation reads positive).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TransistorMetrics {
+    /// Element name.
+    pub element: String,
+    /// Element index.
+    pub element_id: usize,
+    /// true for pnp.
+    pub pnp: bool,
+    /// Conduction angle of the collector current, degrees (0..=360).
+    pub conduction_deg: f64,
+    /// Peak collector–emitter voltage, V.
+    pub vce_peak_v: f64,
+    /// Minimum collector–emitter voltage, V.
+    pub vce_min_v: f64,
+    /// Peak collector current, A.
+    pub ic_peak_a: f64,
+    /// Mean collector current (DC), A.
+    pub ic_mean_a: f64,
+    /// Average dissipation mean(Σ v_k i_k), W.
+    pub dissipation_w: f64,
+    /// Thermal resistance junction to ambient, K/W, if the model gives one.
+    pub rth_k_per_w: Option<f64>,
+    /// Junction temperature T_ambient + Rth·P_diss, K; `None` without Rth.
+    pub tj_k: Option<f64>,
+}
+
+/// What a stress row measures.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum StressQuantity {
+    /// Peak |v| across a capacitor, V (rated by `rating_v`).
+    PeakVoltage,
+    /// RMS current through an inductor or capacitor, A (inductors rated by `rating_a`).
+    RmsCurrent,
+    /// Average power in a resistor, W (rated by `rating_w`).
+    AveragePower,
+    /// Peak collector–emitter voltage of a transistor, V (`max_vce`).
+    VcePeak,
+    /// Peak collector current, A (`max_ic`).
+    IcPeak,
+    /// Average dissipation, W (`max_power`).
+    Dissipation,
+    /// Junction temperature, K (`max_tj`).
+    JunctionTemp,
+}
+
+/// One line of the component stress table.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StressRow {
+    /// Element name.
+    pub element: String,
+    /// Element index.
+    pub element_id: usize,
+    /// What is measured.
+    pub quantity: StressQuantity,
+    /// The value, in `unit`.
+    pub value: f64,
+    /// Unit of `value` and `rating` ("V", "A", "W", "K").
+    pub unit: String,
+    /// The element's rating for this quantity, if rated.
+    pub rating: Option<f64>,
+    /// Fraction of the rating used (value / rating; for junction temperature
+    /// the fraction of the allowed rise above ambient), if rated.
+    pub fraction: Option<f64>,
+}
+
+/// Every figure measured from one period.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Metrics {
+    /// Fundamental frequency, Hz.
+    pub freq_hz: f64,
+    /// Harmonics measured K.
+    pub harmonics: usize,
+    /// Samples per period N.
+    pub samples: usize,
+    /// Output figures; `None` without a usable `output` element.
+    pub output: Option<OutputMetrics>,
+    /// Average power from each supply (every voltage or current source except the drive).
+    pub supplies: Vec<SupplyPower>,
+    /// Total supply power P_dc = Σ supplies, W.
+    pub pdc_w: f64,
+    /// Collector efficiency η = P_1,out / P_dc, fraction.
+    pub efficiency: Option<f64>,
+    /// Power-added efficiency (P_1,out − P_in)/P_dc, fraction.
+    pub pae: Option<f64>,
+    /// Drive figures; `None` without a usable `input` element.
+    pub drive: Option<DriveMetrics>,
+    /// Transducer gain, dB (see `gain_basis`).
+    pub gain_db: Option<f64>,
+    /// How `gain_db` was referred.
+    pub gain_basis: Option<GainBasis>,
+    /// Figures of each bipolar transistor, in element order.
+    pub transistors: Vec<TransistorMetrics>,
+    /// Component stress table, in element order.
+    pub stress: Vec<StressRow>,
+    /// Why figures are missing.
+    pub notes: Vec<Note>,
+}
+
+impl Metrics {
+    /// The note for `figure`, if one was recorded.
+    pub fn note(&self, figure: &str) -> Option<&str> {
+        self.notes
+            .iter()
+            .find(|n| n.figure == figure)
+            .map(|n| n.reason.as_str())
+    }
+}
+
+/// Conduction angle of a current over one period, degrees.
+///
+/// The fraction of the period during which `i` exceeds
+/// `threshold_fraction` × its peak, times 360°. Each sample above the
+/// threshold counts for one sample interval centred on it; at every edge
+/// the crossing time is then refined by extending the line through the
+/// two samples on the conducting side back to the threshold (or, for a
+/// one-sample pulse, by linear interpolation across the edge), clamped to
+/// the sample interval. A current that is never positive gives 0°.
+pub fn conduction_angle_deg(i: &[f64], threshold_fraction: f64) -> f64 {
+    let n = i.len();
+    if n == 0 {
+        return 0.0;
+    }
+    let peak = i.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    if !(peak.is_finite() && peak > 0.0) {
+        return 0.0;
+    }
+    let frac = if threshold_fraction.is_finite() {
+        threshold_fraction.clamp(0.0, 1.0)
+    } else {
+        0.0
+    };
+    let thr = frac * peak;
+    let val = |k: usize| i.get(k % n).copied().unwrap_or(0.0);
+    let above = |k: usize| val(k) > thr;
+    let count = (0..n).filter(|&k| above(k)).count();
+    if count == n {
+        return 360.0;
+    }
+    let mut total = count as f64;
+    for m in 0..n {
+        if !above(m) {
+            continue;
+        }
+        let prev = (m + n - 1) % n;
+        let next = (m + 1) % n;
+        if !above(prev) {
+            // Rising edge: crossing at m + tc, tc in [−1, 0].
+            let (im, inext, iprev) = (val(m), val(next), val(prev));
+            let tc = if above(next) && inext > im {
+                -(im - thr) / (inext - im)
+            } else {
+                -1.0 + (thr - iprev) / (im - iprev)
+            };
+            let tc = if tc.is_finite() {
+                tc.clamp(-1.0, 0.0)
+            } else {
+                -0.5
+            };
+            total += -0.5 - tc;
+        }
+        if !above(next) {
+            // Falling edge: crossing at m + tf, tf in [0, 1].
+            let (im, inext, iprev) = (val(m), val(next), val(prev));
+            let tf = if above(prev) && iprev > im {
+                (im - thr) / (iprev - im)
+            } else {
+                (im - thr) / (im - inext)
+            };
+            let tf = if tf.is_finite() {
+                tf.clamp(0.0, 1.0)
+            } else {
+                0.5
+            };
+            total += tf - 0.5;
+        }
+    }
+    (total / n as f64 * 360.0).clamp(0.0, 360.0)
+}
+
+fn note(notes: &mut Vec<Note>, figure: &str, reason: impl Into<String>) {
+    notes.push(Note {
+        figure: figure.to_string(),
+        reason: reason.into(),
+    });
+}
+
+fn finite(x: f64) -> Option<f64> {
+    x.is_finite().then_some(x)
+}
+
+fn rating(r: Option<f64>) -> Option<f64> {
+    r.filter(|v| v.is_finite() && *v > 0.0)
+}
+
+fn stress_row(
+    name: &str,
+    id: usize,
+    quantity: StressQuantity,
+    value: f64,
+    unit: &str,
+    rated: Option<f64>,
+) -> StressRow {
+    let rated = rating(rated);
+    StressRow {
+        element: name.to_string(),
+        element_id: id,
+        quantity,
+        value,
+        unit: unit.to_string(),
+        rating: rated,
+        fraction: rated.and_then(|r| finite(value / r)),
+    }
+}
+
+/// Measure every figure of one period of a steady state.
+pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics, MeasureError> {
+    let p = Period::new(*data)?;
+    let c = data.circuit;
+    let k_max = data.harmonics;
+    let f0 = data.freq;
+    let mut notes = Vec::new();
+
+    // ---- output ----
+    let output = match c.output {
+        None => {
+            note(&mut notes, "pout", "no output element is declared");
+            None
+        }
+        Some(id) => {
+            match c.elements.get(id) {
+                None => {
+                    note(
+                        &mut notes,
+                        "pout",
+                        format!("output element index {id} does not exist"),
+                    );
+                    None
+                }
+                Some(el) => {
+                    let terms = el.kind.terminals();
+                    if terms.len() != 2 {
+                        note(
+                        &mut notes,
+                        "pout",
+                        format!(
+                            "output element {} has {} terminals; output power needs a two-terminal element",
+                            el.name,
+                            terms.len()
+                        ),
+                    );
+                        None
+                    } else {
+                        let v = p.across(terms[0], terms[1]);
+                        let i = p.current(id, 0);
+                        let sv = spectrum(&v, k_max)?;
+                        let si = spectrum(i, k_max)?;
+                        let powers: Vec<f64> = (1..=k_max)
+                            .map(|n| harmonic_power(sv.phasor(n), si.phasor(n)))
+                            .collect();
+                        let p1 = powers.first().copied().unwrap_or(0.0);
+                        let harmonics = powers
+                            .iter()
+                            .enumerate()
+                            .map(|(idx, &pw)| {
+                                let n = idx + 1;
+                                HarmonicPower {
+                                    n,
+                                    freq_hz: n as f64 * f0,
+                                    power_w: pw,
+                                    dbm: dbm(pw),
+                                    dbc: dbc(pw, p1),
+                                    voltage_v: sv.amplitude(n),
+                                    current_a: si.amplitude(n),
+                                }
+                            })
+                            .collect();
+                        let harmonic_power_w: f64 = powers.iter().skip(1).sum();
+                        let positive_harm: f64 = powers.iter().skip(1).map(|x| x.max(0.0)).sum();
+                        let thd = if p1 > 0.0 {
+                            finite((positive_harm / p1).sqrt())
+                        } else {
+                            note(
+                                &mut notes,
+                                "thd",
+                                format!("fundamental output power is {p1:e} W, not positive"),
+                            );
+                            None
+                        };
+                        if p1 <= 0.0 {
+                            note(
+                            &mut notes,
+                            "harmonics",
+                            format!("fundamental output power is {p1:e} W: no carrier to refer dBc to"),
+                        );
+                        }
+                        Some(OutputMetrics {
+                            element: el.name.clone(),
+                            element_id: id,
+                            harmonics,
+                            p1_w: p1,
+                            p1_dbm: dbm(p1),
+                            harmonic_power_w,
+                            dc_power_w: sv.dc() * si.dc(),
+                            total_power_w: mean_product(&v, i),
+                            thd,
+                        })
+                    }
+                }
+            }
+        }
+    };
+    let p1_out = output.as_ref().map(|o| o.p1_w);
+
+    // ---- supplies ----
+    let mut supplies = Vec::new();
+    for (id, el) in c.elements.iter().enumerate() {
+        let (pn, nn) = match &el.kind {
+            ElementKind::VSource { p, n, .. } | ElementKind::ISource { p, n, .. } => (*p, *n),
+            _ => continue,
+        };
+        if c.input == Some(id) {
+            continue;
+        }
+        supplies.push(SupplyPower {
+            element: el.name.clone(),
+            element_id: id,
+            power_w: -mean(&p.absorbed(id)),
+            voltage_v: mean(&p.across(pn, nn)),
+            current_a: -mean(p.current(id, 0)),
+        });
+    }
+    let pdc_w: f64 = supplies.iter().map(|s| s.power_w).sum();
+
+    // ---- drive ----
+    let drive = match c.input {
+        None => {
+            note(&mut notes, "input_vswr", "no input element is declared");
+            None
+        }
+        Some(id) => match c.elements.get(id).map(|e| (e, &e.kind)) {
+            Some((
+                el,
+                ElementKind::VSource {
+                    p: pn, n: nn, rs, ..
+                },
+            )) => Some(drive_metrics(
+                &p,
+                id,
+                &el.name,
+                *pn,
+                *nn,
+                Some(*rs),
+                &mut notes,
+            )?),
+            Some((el, ElementKind::ISource { p: pn, n: nn, .. })) => {
+                Some(drive_metrics(&p, id, &el.name, *pn, *nn, None, &mut notes)?)
+            }
+            Some((el, _)) => {
+                note(
+                    &mut notes,
+                    "input_vswr",
+                    format!("input element {} is not a source", el.name),
+                );
+                None
+            }
+            None => {
+                note(
+                    &mut notes,
+                    "input_vswr",
+                    format!("input element index {id} does not exist"),
+                );
+                None
+            }
+        },
+    };
+
+    // ---- efficiency, PAE, gain ----
+    let efficiency = match p1_out {
+        Some(po) if pdc_w > 0.0 => finite(po / pdc_w),
+        Some(_) => {
+            note(
+                &mut notes,
+                "efficiency",
+                format!("supply power is {pdc_w:e} W, not positive"),
+            );
+            None
+        }
+        None => {
+            note(
+                &mut notes,
+                "efficiency",
+                "no output power (no output element)",
+            );
+            None
+        }
+    };
+    let pae = match (p1_out, &drive) {
+        (Some(po), Some(d)) if pdc_w > 0.0 => finite((po - d.pin_w) / pdc_w),
+        (None, _) => {
+            note(&mut notes, "pae", "no output power (no output element)");
+            None
+        }
+        (_, None) => {
+            note(&mut notes, "pae", "no drive source (no input element)");
+            None
+        }
+        _ => {
+            note(
+                &mut notes,
+                "pae",
+                format!("supply power is {pdc_w:e} W, not positive"),
+            );
+            None
+        }
+    };
+    let (gain_db, gain_basis) = match (p1_out, &drive) {
+        (Some(po), Some(d)) => {
+            let (den, basis) = match d.pavs_w {
+                Some(pa) => (pa, GainBasis::AvailablePower),
+                None => (d.pin_w, GainBasis::InputPower),
+            };
+            if po > 0.0 && den > 0.0 {
+                (finite(10.0 * (po / den).log10()), Some(basis))
+            } else {
+                note(
+                    &mut notes,
+                    "gain",
+                    format!(
+                        "output power {po:e} W and reference power {den:e} W must both be positive"
+                    ),
+                );
+                (None, None)
+            }
+        }
+        (None, _) => {
+            note(&mut notes, "gain", "no output power (no output element)");
+            (None, None)
+        }
+        (_, None) => {
+            note(&mut notes, "gain", "no drive source (no input element)");
+            (None, None)
+        }
+    };
+
+    // ---- transistors and stress ----
+    let mut transistors = Vec::new();
+    let mut stress = Vec::new();
+    let t_amb = c.temperature_k;
+    for (id, el) in c.elements.iter().enumerate() {
+        match &el.kind {
+            ElementKind::Capacitor { a, b, rating_v, .. } => {
+                let v = p.across(*a, *b);
+                let vpk = v.iter().fold(0.0f64, |m, x| m.max(x.abs()));
+                stress.push(stress_row(
+                    &el.name,
+                    id,
+                    StressQuantity::PeakVoltage,
+                    vpk,
+                    "V",
+                    *rating_v,
+                ));
+                stress.push(stress_row(
+                    &el.name,
+                    id,
+                    StressQuantity::RmsCurrent,
+                    rms(p.current(id, 0)),
+                    "A",
+                    None,
+                ));
+            }
+            ElementKind::Inductor { rating_a, .. } => {
+                stress.push(stress_row(
+                    &el.name,
+                    id,
+                    StressQuantity::RmsCurrent,
+                    rms(p.current(id, 0)),
+                    "A",
+                    *rating_a,
+                ));
+            }
+            ElementKind::Resistor { rating_w, .. } => {
+                stress.push(stress_row(
+                    &el.name,
+                    id,
+                    StressQuantity::AveragePower,
+                    mean(&p.absorbed(id)),
+                    "W",
+                    *rating_w,
+                ));
+            }
+            ElementKind::Bjt {
+                c: nc,
+                e: ne,
+                model,
+                ..
+            } => {
+                let bp = match c.models.get(*model).map(|m| &m.params) {
+                    Some(ModelParams::Bjt(bp)) => Some(bp),
+                    _ => {
+                        note(
+                            &mut notes,
+                            &format!("tj {}", el.name),
+                            format!("model #{model} of {} is not a bipolar model", el.name),
+                        );
+                        None
+                    }
+                };
+                let pnp = bp.map(|b| b.pnp).unwrap_or(false);
+                let s = if pnp { -1.0 } else { 1.0 };
+                let ic: Vec<f64> = p.current(id, 0).iter().map(|x| s * x).collect();
+                let vce: Vec<f64> = p.across(*nc, *ne).iter().map(|x| s * x).collect();
+                let vce_peak = vce.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+                let vce_min = vce.iter().copied().fold(f64::INFINITY, f64::min);
+                let ic_peak = ic.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+                let diss = mean(&p.absorbed(id));
+                let rth = bp.and_then(|b| b.thermal_resistance());
+                let tj = match rth {
+                    Some(r) if t_amb.is_finite() => finite(t_amb + r * diss),
+                    Some(_) => {
+                        note(
+                            &mut notes,
+                            &format!("tj {}", el.name),
+                            format!("ambient temperature {t_amb} K is not finite"),
+                        );
+                        None
+                    }
+                    None => {
+                        note(
+                            &mut notes,
+                            &format!("tj {}", el.name),
+                            format!("model of {} gives no thermal resistance", el.name),
+                        );
+                        None
+                    }
+                };
+                let t = TransistorMetrics {
+                    element: el.name.clone(),
+                    element_id: id,
+                    pnp,
+                    conduction_deg: conduction_angle_deg(&ic, params.conduction_threshold),
+                    vce_peak_v: vce_peak,
+                    vce_min_v: vce_min,
+                    ic_peak_a: ic_peak,
+                    ic_mean_a: mean(&ic),
+                    dissipation_w: diss,
+                    rth_k_per_w: rth,
+                    tj_k: tj,
+                };
+                let (mv, mi, mp, mt) = bp
+                    .map(|b| (b.max_vce, b.max_ic, b.max_power, b.max_tj))
+                    .unwrap_or((f64::INFINITY, f64::INFINITY, f64::INFINITY, f64::INFINITY));
+                stress.push(stress_row(
+                    &el.name,
+                    id,
+                    StressQuantity::VcePeak,
+                    vce_peak,
+                    "V",
+                    Some(mv),
+                ));
+                stress.push(stress_row(
+                    &el.name,
+                    id,
+                    StressQuantity::IcPeak,
+                    ic_peak,
+                    "A",
+                    Some(mi),
+                ));
+                stress.push(stress_row(
+                    &el.name,
+                    id,
+                    StressQuantity::Dissipation,
+                    diss,
+                    "W",
+                    Some(mp),
+                ));
+                if let Some(tj) = tj {
+                    let mut row = stress_row(
+                        &el.name,
+                        id,
+                        StressQuantity::JunctionTemp,
+                        tj,
+                        "K",
+                        Some(mt),
+                    );
+                    if let Some(r) = row.rating {
+                        row.fraction = if r > t_amb {
+                            finite((tj - t_amb) / (r - t_amb))
+                        } else {
+                            finite(tj / r)
+                        };
+                    }
+                    stress.push(row);
+                }
+                transistors.push(t);
+            }
+            _ => {}
+        }
+    }
+
+    Ok(Metrics {
+        freq_hz: f0,
+        harmonics: k_max,
+        samples: p.samples,
+        output,
+        supplies,
+        pdc_w,
+        efficiency,
+        pae,
+        drive,
+        gain_db,
+        gain_basis,
+        transistors,
+        stress,
+        notes,
+    })
+}
+
+fn drive_metrics(
+    p: &Period<'_>,
+    id: usize,
+    name: &str,
+    pn: tankwave_circuit::NodeId,
+    nn: tankwave_circuit::NodeId,
+    rs: Option<f64>,
+    notes: &mut Vec<Note>,
+) -> Result<DriveMetrics, MeasureError> {
+    let k = p.data.harmonics;
+    let v = p.across(pn, nn);
+    // Current delivered out of the p terminal into the circuit.
+    let i_out: Vec<f64> = p.current(id, 0).iter().map(|x| -x).collect();
+    let sv = spectrum(&v, k)?;
+    let si = spectrum(&i_out, k)?;
+    let v1 = sv.phasor(1);
+    let i1 = si.phasor(1);
+    let pin_w = harmonic_power(v1, i1);
+    let z = v1 / i1;
+    let z_in = if i1.norm() > 0.0 && z.re.is_finite() && z.im.is_finite() {
+        Some(Impedance { re: z.re, im: z.im })
+    } else {
+        note(
+            notes,
+            "input_vswr",
+            format!(
+                "fundamental drive current is {:e} A: no input impedance",
+                i1.norm()
+            ),
+        );
+        None
+    };
+    let rs_ok = rs.filter(|r| r.is_finite() && *r > 0.0);
+    let emf1: Option<Complex64> = rs.filter(|r| r.is_finite()).map(|r| v1 + i1 * r);
+    let pavs_w = match (rs_ok, emf1) {
+        (Some(r), Some(e)) => finite(e.norm_sqr() / (8.0 * r)),
+        _ => None,
+    };
+    let vswr_v = match (rs_ok, z_in) {
+        (Some(r), Some(zi)) => vswr(Complex64::new(zi.re, zi.im), r),
+        (None, _) => {
+            note(
+                notes,
+                "input_vswr",
+                "the drive source has no source resistance to refer the VSWR to",
+            );
+            None
+        }
+        _ => None,
+    };
+    Ok(DriveMetrics {
+        element: name.to_string(),
+        element_id: id,
+        source_resistance_ohm: rs,
+        v1_v: v1.norm(),
+        i1_a: i1.norm(),
+        pin_w,
+        average_power_w: -mean(&p.absorbed(id)),
+        emf1_v: emf1.map(|e| e.norm()),
+        pavs_w,
+        z_in,
+        vswr: vswr_v,
+    })
+}

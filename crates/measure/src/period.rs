@@ -1,0 +1,174 @@
+//! The input of every measurement: one period of a steady state, checked.
+
+use tankwave_circuit::{Circuit, NodeId};
+
+use crate::error::MeasureError;
+
+/// One period of a periodic steady state, as the solver hands it over.
+///
+/// The voltage across an element is the difference of its terminal node
+/// voltages (ground = 0).
+#[derive(Debug, Clone, Copy)]
+pub struct PeriodData<'a> {
+    /// The elaborated circuit the samples belong to.
+    pub circuit: &'a Circuit,
+    /// Fundamental frequency, Hz.
+    pub freq: f64,
+    /// `[node index as circuit.nodes][n]`: one period, uniform, N samples
+    /// (N a power of two, N > 2K), V.
+    pub node_voltages: &'a [Vec<f64>],
+    /// `[element index][terminal][n]`: current INTO the element at that
+    /// terminal (ground terminal included), A. Terminals in the order of
+    /// `ElementKind::terminals()`; a coupling has none.
+    pub terminal_currents: &'a [Vec<Vec<f64>>],
+    /// Number of harmonics K to measure.
+    pub harmonics: usize,
+}
+
+/// A validated view of [`PeriodData`] with helpers for element voltages.
+#[derive(Debug)]
+pub(crate) struct Period<'a> {
+    pub data: PeriodData<'a>,
+    pub samples: usize,
+    zeros: Vec<f64>,
+}
+
+fn check_finite(what: impl Fn() -> String, x: &[f64]) -> Result<(), MeasureError> {
+    match x.iter().enumerate().find(|(_, v)| !v.is_finite()) {
+        Some((index, &value)) => Err(MeasureError::NotFinite {
+            what: what(),
+            index,
+            value,
+        }),
+        None => Ok(()),
+    }
+}
+
+impl<'a> Period<'a> {
+    /// Check every shape, length and value of `data`.
+    pub fn new(data: PeriodData<'a>) -> Result<Self, MeasureError> {
+        let c = data.circuit;
+        if !(data.freq.is_finite() && data.freq > 0.0) {
+            return Err(MeasureError::BadFrequency { freq: data.freq });
+        }
+        if data.node_voltages.len() != c.nodes.len() {
+            return Err(MeasureError::NodeCount {
+                expected: c.nodes.len(),
+                got: data.node_voltages.len(),
+            });
+        }
+        if data.terminal_currents.len() != c.elements.len() {
+            return Err(MeasureError::ElementCount {
+                expected: c.elements.len(),
+                got: data.terminal_currents.len(),
+            });
+        }
+        let samples = data
+            .node_voltages
+            .first()
+            .map(|v| v.len())
+            .or_else(|| {
+                data.terminal_currents
+                    .iter()
+                    .flat_map(|t| t.iter())
+                    .map(|v| v.len())
+                    .next()
+            })
+            .ok_or(MeasureError::Empty)?;
+        crate::spectrum::check_samples(samples, data.harmonics)?;
+        for (k, v) in data.node_voltages.iter().enumerate() {
+            let name = || format!("voltage of node {}", c.node_name(Some(k)));
+            if v.len() != samples {
+                return Err(MeasureError::Length {
+                    what: name(),
+                    expected: samples,
+                    got: v.len(),
+                });
+            }
+            check_finite(name, v)?;
+        }
+        for (e, (el, cur)) in c.elements.iter().zip(data.terminal_currents).enumerate() {
+            let terms = el.kind.terminals();
+            if cur.len() != terms.len() {
+                return Err(MeasureError::TerminalCount {
+                    element: el.name.clone(),
+                    expected: terms.len(),
+                    got: cur.len(),
+                });
+            }
+            for node in terms.iter().flatten() {
+                if *node >= c.nodes.len() {
+                    return Err(MeasureError::NodeIndex {
+                        element: el.name.clone(),
+                        node: *node,
+                        nodes: c.nodes.len(),
+                    });
+                }
+            }
+            for (t, i) in cur.iter().enumerate() {
+                let name = || format!("current of element {} (#{e}) terminal {t}", el.name);
+                if i.len() != samples {
+                    return Err(MeasureError::Length {
+                        what: name(),
+                        expected: samples,
+                        got: i.len(),
+                    });
+                }
+                check_finite(name, i)?;
+            }
+        }
+        Ok(Self {
+            data,
+            samples,
+            zeros: vec![0.0; samples],
+        })
+    }
+
+    /// Voltage of a node over the period (ground gives zeros).
+    pub fn node(&self, n: NodeId) -> &[f64] {
+        match n {
+            None => &self.zeros,
+            Some(i) => self
+                .data
+                .node_voltages
+                .get(i)
+                .map(|v| v.as_slice())
+                .unwrap_or(&self.zeros),
+        }
+    }
+
+    /// v(a) − v(b) over the period.
+    pub fn across(&self, a: NodeId, b: NodeId) -> Vec<f64> {
+        self.node(a)
+            .iter()
+            .zip(self.node(b))
+            .map(|(x, y)| x - y)
+            .collect()
+    }
+
+    /// Current into element `e` at terminal `t` (zeros if absent).
+    pub fn current(&self, e: usize, t: usize) -> &[f64] {
+        self.data
+            .terminal_currents
+            .get(e)
+            .and_then(|c| c.get(t))
+            .map(|v| v.as_slice())
+            .unwrap_or(&self.zeros)
+    }
+
+    /// Instantaneous power absorbed by element `e`: Σ_k v_k·i_k over its
+    /// terminals, voltages from ground.
+    pub fn absorbed(&self, e: usize) -> Vec<f64> {
+        let mut p = vec![0.0; self.samples];
+        if let Some(el) = self.data.circuit.elements.get(e) {
+            for (t, node) in el.kind.terminals().into_iter().enumerate() {
+                let v = self.node(node);
+                let i = self.current(e, t);
+                for ((pk, vk), ik) in p.iter_mut().zip(v).zip(i) {
+                    *pk += vk * ik;
+                }
+            }
+        }
+        p
+    }
+}
