@@ -12,6 +12,7 @@
 #![deny(missing_docs)]
 
 pub mod ac;
+pub mod balance;
 pub mod error;
 pub mod linalg;
 mod newton;
@@ -22,6 +23,7 @@ pub mod steady;
 pub mod transient;
 
 pub use ac::{ac, AcParams, AcResult};
+pub use balance::{balance, BalanceInfo, BalanceParams};
 pub use error::{SolveError, When};
 pub use linalg::LinearSolver;
 pub use newton::Tolerances;

@@ -104,6 +104,7 @@ pub fn shooting(
                     iterations: it,
                     residual: worst.0,
                     system_size: n,
+                    balance: None,
                 },
             });
         }

@@ -7,8 +7,7 @@
 //! samples. Methods:
 //! - shooting ([`crate::shooting`]): Newton on the state at the period start;
 //! - settle: plain transient until one period repeats the previous one;
-//! - balance: harmonic balance, provided by `balance.rs` (a separate module
-//!   plugs in at [`run_balance`]; until it lands, it reports "not available").
+//! - balance: harmonic balance ([`crate::balance`]), called through `run_balance`.
 
 use crate::error::When;
 use crate::linalg::LinearSolver;
@@ -63,6 +62,8 @@ pub struct SteadyInfo {
     pub residual: f64,
     /// Order of the Newton system solved (0 for settle).
     pub system_size: usize,
+    /// Harmonic-balance details (harmonics used, continuation steps, …); `None` for other methods.
+    pub balance: Option<crate::balance::BalanceInfo>,
 }
 
 /// Options of the plain-transient method.
@@ -124,6 +125,8 @@ pub struct SteadyParams {
     pub shooting: ShootingParams,
     /// Settle options.
     pub settle: SettleParams,
+    /// Harmonic-balance options.
+    pub balance: crate::balance::BalanceParams,
     /// Linear solver.
     pub linear_solver: LinearSolver,
 }
@@ -138,6 +141,7 @@ impl Default for SteadyParams {
             tol: Tolerances::default(),
             shooting: ShootingParams::default(),
             settle: SettleParams::default(),
+            balance: crate::balance::BalanceParams::default(),
             linear_solver: LinearSolver::default(),
         }
     }
@@ -196,8 +200,8 @@ impl SteadyParams {
     }
 }
 
-/// Periodic steady state by the method in `params` (auto: shooting until
-/// harmonic balance lands, then balance with shooting as the fallback).
+/// Periodic steady state by the method in `params` (auto: harmonic balance
+/// first, shooting as the fallback, recorded in [`SteadyInfo::fell_back_from`]).
 pub fn steady(
     circuit: &Circuit,
     devices: &DeviceSet,
@@ -226,14 +230,13 @@ pub fn steady(
     }
 }
 
-/// Harmonic balance hook: replaced by a call into `balance.rs` when that
-/// module exists.
+/// Harmonic balance hook: [`crate::balance::balance`].
 fn run_balance(
-    _circuit: &Circuit,
-    _devices: &DeviceSet,
-    _params: &SteadyParams,
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    params: &SteadyParams,
 ) -> Result<PeriodicSolution, SolveError> {
-    Err(SolveError::NotAvailable("harmonic balance".to_string()))
+    crate::balance::balance(circuit, devices, params)
 }
 
 /// Plain transient at `N` fixed trapezoidal steps per period from the
@@ -298,6 +301,7 @@ pub fn settle(
                         iterations: p + 1,
                         residual: worst.0,
                         system_size: 0,
+                        balance: None,
                     },
                 });
             }
