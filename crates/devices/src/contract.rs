@@ -201,7 +201,7 @@ pub struct DeviceSet {
     pub n_unknowns: usize,
     /// Number of external node voltages (the first unknowns).
     pub n_nodes: usize,
-    /// Display name of every unknown (`v(coll)`, `i(vsup)`, `v(q1#b)`).
+    /// Display name of every unknown (`v(coll)`, `i(vsup)`, `v(q1:b')`).
     pub names: Vec<String>,
     /// Kind of every unknown.
     pub kinds: Vec<UnknownKind>,

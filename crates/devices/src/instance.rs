@@ -10,7 +10,9 @@
 //!      nonzero (the order is c', b', e').
 //!
 //! Couplings own no unknowns; they are built after every inductor branch is
-//! known, so a coupling may name inductors declared after it.
+//! known, so a coupling may name inductors declared after it, and they come
+//! last in [`DeviceSet::devices`] (every other device is in element order;
+//! [`Device::element`] gives each one's element).
 //!
 //! Every parameter that would make an equation undefined (a zero resistance,
 //! a non-finite value, |k| > 1, …) is refused with a [`DeviceError`] carrying
@@ -189,7 +191,17 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                 } else {
                     na
                 };
-                devices.push(Box::new(Diode::new(id, na, nk, ai, p, area, temp)));
+                let d = Diode::new(id, na, nk, ai, p, area, temp);
+                let is_t = d.sat_current();
+                if !(is_t.is_finite() && is_t > 0.0) {
+                    return Err(bad(
+                        name,
+                        "temperature",
+                        temp,
+                        "scaled saturation current is 0 or overflows at this temperature",
+                    ));
+                }
+                devices.push(Box::new(d));
             }
             ElementKind::Bjt {
                 c,
