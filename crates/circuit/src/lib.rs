@@ -1,6 +1,24 @@
 //! tankwave-circuit: elaboration of a parsed stage file into a checked circuit.
+//!
+//! Owns the meaning of the stage-file language: parameter evaluation with
+//! overrides, node numbering, model binding, value and unit checks, masks,
+//! requirements, study statements and topology checks. It does not parse
+//! text (that is tankwave-netlist) and does not solve anything.
+//!
+//! ```
+//! use tankwave_circuit::{load_str, Overrides};
+//! let text = "vsource v1 a gnd dc=1V\nresistor r1 a gnd 50Ohm\n";
+//! let e = load_str("t.tank", text, &Overrides::default()).unwrap();
+//! assert_eq!(e.circuit.elements.len(), 2);
+//! ```
 #![deny(missing_docs)]
 
 pub mod builtin;
+pub mod elaborate;
 pub mod ir;
+pub mod models;
+mod topology;
+
+pub use elaborate::{elaborate, load_file, load_str, Elaborated, LoadError};
 pub use ir::*;
+pub use tankwave_netlist::{parse_file, parse_str, Diagnostic, Parsed, Severity, SourceMap};

@@ -194,7 +194,6 @@ pub const CODES: &[(&str, &str)] = &[
         "dangling-node",
         "warning: a node touched by only one element",
     ),
-    ("no-ground", "warning: no element connects to gnd"),
 ];
 
 /// True if `code` is a documented code.
