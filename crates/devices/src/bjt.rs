@@ -1,8 +1,63 @@
-//! Bipolar power transistor (Gummel–Poon type). Skeleton: signatures first,
-//! equations follow in the next commits.
+//! Bipolar power transistor: a Gummel–Poon type charge-control model.
+//!
+//! Sources: H. K. Gummel, H. C. Poon, Bell Syst. Tech. J. 49(5), 1970 (transport
+//! current over the normalised base charge); L. W. Nagel, ERL M520, 1975 (the
+//! reciprocal Early factor used here, and junction limiting); I. Getreu,
+//! *Modeling the Bipolar Transistor*, 1976 (base-current components, charges,
+//! temperature scaling). Forms are written from memory and checked against an
+//! independent numpy evaluation (tests/reference/bjt/gen.py). The full
+//! parameter table is in docs/models.md, section "Bipolar transistor".
+//!
+//! # Equations (npn; a pnp is the mirror: every junction voltage, current and
+//! charge negated)
+//!
+//! With `Vt = kT/q`, forward and reverse diffusion currents
+//! `I_F = IS (exp(VBE/(NF Vt)) − 1)`, `I_R = IS (exp(VBC/(NR Vt)) − 1)`:
+//!
+//! ```text
+//! q1  = 1 / (1 − VBC/VAF − VBE/VAR)          (reciprocal form, Nagel 1975)
+//! q2  = I_F/IKF + I_R/IKR
+//! qb  = (q1/2) (1 + √(1 + 4 q2))
+//! I_CT = (I_F − I_R) / qb
+//! I_B = I_F/BF + ISE (exp(VBE/(NE Vt)) − 1) + I_R/BR + ISC (exp(VBC/(NC Vt)) − 1)
+//!       + gmin (VBE + VBC)
+//! I_C = I_CT − I_R/BR − ISC (exp(VBC/(NC Vt)) − 1) − gmin VBC
+//! I_E = −(I_C + I_B)
+//! Q_BE = Q_dep(VBE; CJE, VJE, MJE, FC) + TF · I_F / qb
+//! Q_BC = Q_dep(VBC; CJC, VJC, MJC, FC) + TR · I_R
+//! ```
+//!
+//! Currents are those flowing *into* the terminals, which is also what the
+//! device stamps in each node row (current leaving the node into the device).
+//!
+//! The q1 denominator `d = 1 − VBC/VAF − VBE/VAR` is used as is while
+//! `d ≥ Q1_FLOOR` (= 0.1, i.e. q1 ≤ 10, far outside any sensible bias); below
+//! it is replaced by the C¹ hyperbolic floor `d_f = F²/(2F − d)`, which equals
+//! F with unit slope at `d = F` and stays positive for every `d`, so q1 grows
+//! at most linearly instead of changing sign.
+//!
+//! The ohmic base resistance is a fixed `r_base` (no current crowding). All of
+//! the base–collector depletion capacitance sits at the internal base.
+//!
+//! # Temperature and area
+//! `IS(T) = IS (T/Tm)^XTI exp(Eg q/k (1/Tm − 1/T))`,
+//! `BF(T) = BF (T/Tm)^XTB`, `BR(T) = BR (T/Tm)^XTB`,
+//! `ISE(T) = ISE (T/Tm)^−XTB (IS(T)/IS)^(1/NE)`, likewise `ISC` with NC (Getreu
+//! 1976): the low-current base components follow the same band-gap law while
+//! the gain change is divided out. Depletion parameters are not temperature
+//! scaled. The area factor multiplies IS, ISE, ISC, IKF, IKR, CJE, CJC and
+//! divides the three resistances.
+//!
+//! Not modelled: quasi-saturation of the epitaxial collector, avalanche
+//! multiplication and breakdown, self-heating feedback (the junction
+//! temperature is an input), base push-out, excess phase, noise.
 
-use crate::contract::{Device, EvalCtx, EvalInfo, Idx, Stamp};
+use crate::contract::{val, Device, EvalCtx, EvalInfo, Idx, Stamp};
+use crate::junction::{self, Depletion};
 use tankwave_circuit::BjtParams;
+
+/// Smallest q1 denominator used as is; below it the hyperbolic floor applies.
+pub const Q1_FLOOR: f64 = 0.1;
 
 /// Unknown indices of a transistor: external terminals and internal nodes.
 /// An internal node equals its external node when that resistance is zero.
@@ -22,12 +77,362 @@ pub struct BjtNodes {
     pub ei: Idx,
 }
 
+/// A current (or charge) and its derivative with respect to its junction voltage.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Branch {
+    /// Value (A, or C for a charge).
+    pub v: f64,
+    /// Derivative with respect to the junction voltage (S, or F).
+    pub d: f64,
+}
+
+/// Temperature- and area-scaled constants of one transistor (npn sense).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BjtConstants {
+    /// Thermal voltage kT/q at the device temperature, V.
+    pub vt: f64,
+    /// Transport saturation current IS(T)·area, A.
+    pub is: f64,
+    /// Forward current gain BF(T).
+    pub gain_fwd: f64,
+    /// Reverse current gain BR(T).
+    pub gain_rev: f64,
+    /// Forward emission coefficient NF.
+    pub nf: f64,
+    /// Reverse emission coefficient NR.
+    pub nr: f64,
+    /// 1/VAF, 1/V (0 when VAF is infinite).
+    pub inv_vaf: f64,
+    /// 1/VAR, 1/V.
+    pub inv_var: f64,
+    /// 1/(IKF·area), 1/A.
+    pub inv_ikf: f64,
+    /// 1/(IKR·area), 1/A.
+    pub inv_ikr: f64,
+    /// ISE(T)·area, A.
+    pub ise: f64,
+    /// NE.
+    pub ne: f64,
+    /// ISC(T)·area, A.
+    pub isc: f64,
+    /// NC.
+    pub nc: f64,
+    /// CJE·area, F.
+    pub cj_be: f64,
+    /// VJE, V.
+    pub vj_be: f64,
+    /// MJE.
+    pub m_be: f64,
+    /// CJC·area, F.
+    pub cj_bc: f64,
+    /// VJC, V.
+    pub vj_bc: f64,
+    /// MJC.
+    pub m_bc: f64,
+    /// FC.
+    pub fc: f64,
+    /// Forward transit time TF, s.
+    pub tf: f64,
+    /// Reverse transit time TR, s.
+    pub tr: f64,
+    /// Base conductance area/RB, S (0: no resistor).
+    pub g_base: f64,
+    /// Collector conductance area/RC, S (0: no resistor).
+    pub g_collector: f64,
+    /// Emitter conductance area/RE, S (0: no resistor).
+    pub g_emitter: f64,
+}
+
+fn recip(x: f64) -> f64 {
+    if x.is_finite() && x != 0.0 {
+        1.0 / x
+    } else {
+        0.0
+    }
+}
+
+fn cond(r: f64, area: f64) -> f64 {
+    if r > 0.0 && r.is_finite() {
+        area / r
+    } else {
+        0.0
+    }
+}
+
+impl BjtConstants {
+    /// Scale the model parameters to `temp_k` and the area factor.
+    pub fn new(p: &BjtParams, area: f64, temp_k: f64) -> Self {
+        let area = if area > 0.0 && area.is_finite() {
+            area
+        } else {
+            1.0
+        };
+        let vt = junction::thermal_voltage(temp_k);
+        // n = 1: the transport saturation current follows the band-gap law directly.
+        let is_t = junction::sat_current_at(
+            p.sat_current,
+            1.0,
+            p.sat_temp_exp,
+            p.gap,
+            p.t_measured,
+            temp_k,
+        );
+        let ratio = temp_k / p.t_measured;
+        let gain_scale = ratio.powf(p.gain_temp_exp);
+        let is_ratio = if p.sat_current > 0.0 {
+            is_t / p.sat_current
+        } else {
+            1.0
+        };
+        let leak = |is0: f64, n: f64| is0 / gain_scale * is_ratio.powf(1.0 / n);
+        BjtConstants {
+            vt,
+            is: is_t * area,
+            gain_fwd: p.gain_fwd * gain_scale,
+            gain_rev: p.gain_rev * gain_scale,
+            nf: p.emission_fwd,
+            nr: p.emission_rev,
+            inv_vaf: recip(p.early_fwd),
+            inv_var: recip(p.early_rev),
+            inv_ikf: recip(p.knee_fwd * area),
+            inv_ikr: recip(p.knee_rev * area),
+            ise: leak(p.leak_be, p.leak_be_emission) * area,
+            ne: p.leak_be_emission,
+            isc: leak(p.leak_bc, p.leak_bc_emission) * area,
+            nc: p.leak_bc_emission,
+            cj_be: p.cj_be * area,
+            vj_be: p.vj_be,
+            m_be: p.grading_be,
+            cj_bc: p.cj_bc * area,
+            vj_bc: p.vj_bc,
+            m_bc: p.grading_bc,
+            fc: p.linear_from,
+            tf: p.transit_fwd,
+            tr: p.transit_rev,
+            g_base: cond(p.r_base, area),
+            g_collector: cond(p.r_collector, area),
+            g_emitter: cond(p.r_emitter, area),
+        }
+    }
+}
+
+/// Normalised base charge and its factors, with derivatives.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct BaseCharge {
+    /// Early factor q1.
+    pub q1: f64,
+    /// ∂q1/∂VBE.
+    pub dq1_dvbe: f64,
+    /// ∂q1/∂VBC.
+    pub dq1_dvbc: f64,
+    /// High-injection term q2.
+    pub q2: f64,
+    /// Normalised base charge qb.
+    pub qb: f64,
+    /// ∂qb/∂VBE.
+    pub dqb_dvbe: f64,
+    /// ∂qb/∂VBC.
+    pub dqb_dvbc: f64,
+}
+
+/// q1, q2, qb at (VBE, VBC) given the forward and reverse diffusion currents
+/// `I_F`, `I_R` with their derivatives (Gummel–Poon 1970, q1 after Nagel 1975).
+pub fn base_charge(k: &BjtConstants, vbe: f64, vbc: f64, fwd: Branch, rev: Branch) -> BaseCharge {
+    let d = 1.0 - vbc * k.inv_vaf - vbe * k.inv_var;
+    let (df, ddf) = if d >= Q1_FLOOR {
+        (d, 1.0)
+    } else {
+        let den = 2.0 * Q1_FLOOR - d;
+        (Q1_FLOOR * Q1_FLOOR / den, Q1_FLOOR * Q1_FLOOR / (den * den))
+    };
+    let q1 = 1.0 / df;
+    // ∂q1/∂v = −(1/df²)·ddf·∂d/∂v with ∂d/∂VBE = −1/VAR, ∂d/∂VBC = −1/VAF.
+    let dq1_dvbe = q1 * q1 * ddf * k.inv_var;
+    let dq1_dvbc = q1 * q1 * ddf * k.inv_vaf;
+    let q2 = fwd.v * k.inv_ikf + rev.v * k.inv_ikr;
+    let dq2_dvbe = fwd.d * k.inv_ikf;
+    let dq2_dvbc = rev.d * k.inv_ikr;
+    // 1 + 4 q2 ≥ 1 − 4 IS (1/IKF + 1/IKR); kept ≥ a small positive number so
+    // that absurd knee currents below IS cannot produce a NaN.
+    let arg = 1.0 + 4.0 * q2;
+    let (s, ds_dq2) = if arg > 1e-12 {
+        let s = arg.sqrt();
+        (s, 2.0 / s)
+    } else {
+        (1e-6, 0.0)
+    };
+    let qb = 0.5 * q1 * (1.0 + s);
+    let dqb_dvbe = 0.5 * dq1_dvbe * (1.0 + s) + 0.5 * q1 * ds_dq2 * dq2_dvbe;
+    let dqb_dvbc = 0.5 * dq1_dvbc * (1.0 + s) + 0.5 * q1 * ds_dq2 * dq2_dvbc;
+    BaseCharge {
+        q1,
+        dq1_dvbe,
+        dq1_dvbc,
+        q2,
+        qb,
+        dqb_dvbe,
+        dqb_dvbc,
+    }
+}
+
+/// The exponential and depletion components the intrinsic equations combine.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Components {
+    /// `I_F = IS (exp(VBE/(NF Vt)) − 1)`.
+    pub fwd: Branch,
+    /// `I_R = IS (exp(VBC/(NR Vt)) − 1)`.
+    pub rev: Branch,
+    /// `ISE (exp(VBE/(NE Vt)) − 1)`.
+    pub leak_be: Branch,
+    /// `ISC (exp(VBC/(NC Vt)) − 1)`.
+    pub leak_bc: Branch,
+    /// Base–emitter depletion charge and capacitance.
+    pub dep_be: Branch,
+    /// Base–collector depletion charge and capacitance.
+    pub dep_bc: Branch,
+}
+
+/// Intrinsic currents and charges at one bias, with their derivatives.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Intrinsic {
+    /// Collector current into the internal collector, A.
+    pub ic: f64,
+    /// Base current into the internal base, A.
+    pub ib: f64,
+    /// ∂IC/∂VBE.
+    pub dic_dvbe: f64,
+    /// ∂IC/∂VBC.
+    pub dic_dvbc: f64,
+    /// ∂IB/∂VBE.
+    pub dib_dvbe: f64,
+    /// ∂IB/∂VBC.
+    pub dib_dvbc: f64,
+    /// Base–emitter charge (depletion + forward diffusion), C.
+    pub qbe: f64,
+    /// ∂Q_BE/∂VBE.
+    pub dqbe_dvbe: f64,
+    /// ∂Q_BE/∂VBC (through qb).
+    pub dqbe_dvbc: f64,
+    /// Base–collector charge (depletion + reverse diffusion), C.
+    pub qbc: f64,
+    /// ∂Q_BC/∂VBC.
+    pub dqbc_dvbc: f64,
+    /// The base-charge factors.
+    pub base: BaseCharge,
+}
+
+/// Combine the components into terminal currents and charges (the Gummel–Poon
+/// equations in the module overview). `gmin` is put across both junctions.
+pub fn combine(k: &BjtConstants, vbe: f64, vbc: f64, c: &Components, gmin: f64) -> Intrinsic {
+    let bq = base_charge(k, vbe, vbc, c.fwd, c.rev);
+    let qb = bq.qb;
+    let ict = (c.fwd.v - c.rev.v) / qb;
+    let dict_dvbe = c.fwd.d / qb - ict * bq.dqb_dvbe / qb;
+    let dict_dvbc = -c.rev.d / qb - ict * bq.dqb_dvbc / qb;
+    let ib = c.fwd.v / k.gain_fwd
+        + c.leak_be.v
+        + c.rev.v / k.gain_rev
+        + c.leak_bc.v
+        + gmin * (vbe + vbc);
+    let dib_dvbe = c.fwd.d / k.gain_fwd + c.leak_be.d + gmin;
+    let dib_dvbc = c.rev.d / k.gain_rev + c.leak_bc.d + gmin;
+    let ic = ict - c.rev.v / k.gain_rev - c.leak_bc.v - gmin * vbc;
+    let dic_dvbe = dict_dvbe;
+    let dic_dvbc = dict_dvbc - c.rev.d / k.gain_rev - c.leak_bc.d - gmin;
+    let qde = k.tf * c.fwd.v / qb;
+    let dqde_dvbe = k.tf * (c.fwd.d / qb - c.fwd.v * bq.dqb_dvbe / (qb * qb));
+    let dqde_dvbc = -k.tf * c.fwd.v * bq.dqb_dvbc / (qb * qb);
+    Intrinsic {
+        ic,
+        ib,
+        dic_dvbe,
+        dic_dvbc,
+        dib_dvbe,
+        dib_dvbc,
+        qbe: c.dep_be.v + qde,
+        dqbe_dvbe: c.dep_be.d + dqde_dvbe,
+        dqbe_dvbc: dqde_dvbc,
+        qbc: c.dep_bc.v + k.tr * c.rev.v,
+        dqbc_dvbc: c.dep_bc.d + k.tr * c.rev.d,
+        base: bq,
+    }
+}
+
+/// Evaluate the exponential and depletion components at (VBE, VBC).
+pub fn components(k: &BjtConstants, vbe: f64, vbc: f64) -> Components {
+    let br = |(v, d): (f64, f64)| Branch { v, d };
+    let dep = |cj0, vj, m, v| {
+        Depletion {
+            cj0,
+            vj,
+            m,
+            fc: k.fc,
+        }
+        .eval(v)
+    };
+    Components {
+        fwd: br(junction::junction_current(vbe, k.is, k.nf * k.vt)),
+        rev: br(junction::junction_current(vbc, k.is, k.nr * k.vt)),
+        leak_be: br(junction::junction_current(vbe, k.ise, k.ne * k.vt)),
+        leak_bc: br(junction::junction_current(vbc, k.isc, k.nc * k.vt)),
+        dep_be: br(dep(k.cj_be, k.vj_be, k.m_be, vbe)),
+        dep_bc: br(dep(k.cj_bc, k.vj_bc, k.m_bc, vbc)),
+    }
+}
+
+/// Intrinsic currents and charges at (VBE, VBC) in the npn sense.
+pub fn intrinsic(k: &BjtConstants, vbe: f64, vbc: f64, gmin: f64) -> Intrinsic {
+    combine(k, vbe, vbc, &components(k, vbe, vbc), gmin)
+}
+
+/// Ratings of a transistor model (the `max_*` and thermal fields of
+/// [`BjtParams`]); an unset rating is `f64::INFINITY`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BjtRatings {
+    /// Collector–emitter voltage rating (magnitude), V.
+    pub max_vce: f64,
+    /// Collector current rating (magnitude), A.
+    pub max_ic: f64,
+    /// Dissipation rating, W.
+    pub max_power: f64,
+    /// Junction temperature rating, K.
+    pub max_tj: f64,
+    /// Junction-to-ambient thermal resistance, K/W, from
+    /// [`BjtParams::thermal_resistance`] (`None` when not given).
+    pub rth: Option<f64>,
+}
+
+impl BjtRatings {
+    /// Steady junction temperature `T_amb + Rth·P` for an average dissipation
+    /// `power_w` (no self-heating feedback into the model), or `None` without a
+    /// thermal resistance.
+    pub fn junction_temperature(&self, ambient_k: f64, power_w: f64) -> Option<f64> {
+        self.rth.map(|r| ambient_k + r * power_w)
+    }
+}
+
+/// The ratings of a model.
+pub fn ratings(p: &BjtParams) -> BjtRatings {
+    BjtRatings {
+        max_vce: p.max_vce,
+        max_ic: p.max_ic,
+        max_power: p.max_power,
+        max_tj: p.max_tj,
+        rth: p.thermal_resistance(),
+    }
+}
+
 /// An instantiated bipolar transistor.
 #[derive(Debug, Clone)]
 pub struct Bjt {
     element: usize,
     nodes: BjtNodes,
     terminals: [Idx; 3],
+    k: BjtConstants,
+    /// +1 npn, −1 pnp.
+    sign: f64,
+    vcrit_be: f64,
+    vcrit_bc: f64,
 }
 
 impl Bjt {
@@ -39,13 +444,46 @@ impl Bjt {
 
     /// Build from model parameters, an area factor and the device temperature (K).
     pub fn new(element: usize, nodes: BjtNodes, p: &BjtParams, area: f64, temp_k: f64) -> Bjt {
-        let _ = (p, area, temp_k);
+        let k = BjtConstants::new(p, area, temp_k);
         Bjt {
             element,
             nodes,
             terminals: [nodes.c, nodes.b, nodes.e],
+            vcrit_be: junction::critical_voltage(k.nf * k.vt, k.is),
+            vcrit_bc: junction::critical_voltage(k.nr * k.vt, k.is),
+            k,
+            sign: if p.pnp { -1.0 } else { 1.0 },
         }
     }
+
+    /// The scaled constants this instance evaluates with.
+    pub fn constants(&self) -> &BjtConstants {
+        &self.k
+    }
+
+    /// Junction voltages (VBE, VBC) of the intrinsic transistor in the npn sense.
+    fn junction_voltages(&self, x: &[f64]) -> (f64, f64) {
+        let n = &self.nodes;
+        let vb = val(x, n.bi);
+        (
+            self.sign * (vb - val(x, n.ei)),
+            self.sign * (vb - val(x, n.ci)),
+        )
+    }
+}
+
+/// Stamp a resistive branch of conductance `g` between `a` and `b`.
+fn stamp_conductance(out: &mut dyn Stamp, x: &[f64], a: Idx, b: Idx, g: f64) {
+    if g == 0.0 || a == b {
+        return;
+    }
+    let i = g * (val(x, a) - val(x, b));
+    out.add_i(a, i);
+    out.add_i(b, -i);
+    out.add_g(a, a, g);
+    out.add_g(a, b, -g);
+    out.add_g(b, a, -g);
+    out.add_g(b, b, g);
 }
 
 impl Device for Bjt {
@@ -58,17 +496,99 @@ impl Device for Bjt {
     fn is_linear(&self) -> bool {
         false
     }
+    /// Slots: the last (limited) VBE and VBC, npn sense.
     fn state_len(&self) -> usize {
         2
     }
-    fn eval(
-        &self,
-        _x: &[f64],
-        _ctx: &EvalCtx,
-        _state: &mut [f64],
-        _out: &mut dyn Stamp,
-    ) -> EvalInfo {
-        let _ = self.nodes;
-        EvalInfo::default()
+    fn init_state(&self, state: &mut [f64]) {
+        state.iter_mut().for_each(|s| *s = 0.0);
+    }
+    fn eval(&self, x: &[f64], ctx: &EvalCtx, state: &mut [f64], out: &mut dyn Stamp) -> EvalInfo {
+        let n = self.nodes;
+        let k = &self.k;
+        stamp_conductance(out, x, n.c, n.ci, k.g_collector);
+        stamp_conductance(out, x, n.b, n.bi, k.g_base);
+        stamp_conductance(out, x, n.e, n.ei, k.g_emitter);
+
+        let (vbe, vbc) = self.junction_voltages(x);
+        let mut info = EvalInfo::default();
+        let (mut vbe_l, mut vbc_l) = (vbe, vbc);
+        if ctx.limit && state.len() >= 2 {
+            let (a, la) = junction::limit_junction(vbe, state[0], k.nf * k.vt, self.vcrit_be);
+            let (b, lb) = junction::limit_junction(vbc, state[1], k.nr * k.vt, self.vcrit_bc);
+            vbe_l = a;
+            vbc_l = b;
+            info.limited = la || lb;
+        }
+        if let Some(s) = state.get_mut(0..2) {
+            s[0] = vbe_l;
+            s[1] = vbc_l;
+        }
+        let t = intrinsic(k, vbe_l, vbc_l, ctx.gmin);
+        // Linearise about the limited point: f(v_l) + ∂f/∂v (v − v_l).
+        let (dbe, dbc) = (vbe - vbe_l, vbc - vbc_l);
+        let s = self.sign;
+        // A quantity f(VBE, VBC) with partials (a, b) entering `row` with factor r:
+        // VBE = s(x_bi − x_ei), VBC = s(x_bi − x_ci), the row gets r·s·f, so
+        // its Jacobian row is r·(a + b) at bi, −r·a at ei, −r·b at ci.
+        let (bi, ei, ci) = (n.bi, n.ei, n.ci);
+        let mut put = |row: Idx, r: f64, f: f64, a: f64, b: f64, charge: bool| {
+            let value = r * s * (f + a * dbe + b * dbc);
+            if charge {
+                out.add_q(row, value);
+                out.add_c(row, bi, r * (a + b));
+                out.add_c(row, ei, -r * a);
+                out.add_c(row, ci, -r * b);
+            } else {
+                out.add_i(row, value);
+                out.add_g(row, bi, r * (a + b));
+                out.add_g(row, ei, -r * a);
+                out.add_g(row, ci, -r * b);
+            }
+        };
+        put(ci, 1.0, t.ic, t.dic_dvbe, t.dic_dvbc, false);
+        put(bi, 1.0, t.ib, t.dib_dvbe, t.dib_dvbc, false);
+        put(ei, -1.0, t.ic, t.dic_dvbe, t.dic_dvbc, false);
+        put(ei, -1.0, t.ib, t.dib_dvbe, t.dib_dvbc, false);
+        put(bi, 1.0, t.qbe, t.dqbe_dvbe, t.dqbe_dvbc, true);
+        put(ei, -1.0, t.qbe, t.dqbe_dvbe, t.dqbe_dvbc, true);
+        put(bi, 1.0, t.qbc, 0.0, t.dqbc_dvbc, true);
+        put(ci, -1.0, t.qbc, 0.0, t.dqbc_dvbc, true);
+        info
+    }
+
+    /// Terminal voltages `vbe`, `vbc`, `vce` (external, physical sign), intrinsic
+    /// currents into the terminals `ic`, `ib`, `ie` (physical sign; equal to the
+    /// terminal currents at a solution), small-signal figures of the intrinsic
+    /// transistor `gm = ∂IC/∂VBE` and `gpi = ∂IB/∂VBE` (VCE fixed),
+    /// `go = ∂IC/∂VCE` (VBE fixed), `cpi = ∂Q_BE/∂VBE`,
+    /// `cmu = ∂Q_BC/∂VBC`, and the dissipation `power = VCE·IC + VBE·IB`, W.
+    fn op_info(&self, x: &[f64], ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
+        let n = self.nodes;
+        let (vbe, vbc) = self.junction_voltages(x);
+        let t = intrinsic(&self.k, vbe, vbc, ctx.gmin);
+        let s = self.sign;
+        let vb = val(x, n.b);
+        let (ext_vbe, ext_vbc) = (vb - val(x, n.e), vb - val(x, n.c));
+        let ext_vce = ext_vbe - ext_vbc;
+        let (ic, ib) = (s * t.ic, s * t.ib);
+        let power = ext_vce * ic + ext_vbe * ib;
+        let out = vec![
+            ("vbe", ext_vbe),
+            ("vbc", ext_vbc),
+            ("vce", ext_vce),
+            ("ic", ic),
+            ("ib", ib),
+            ("ie", -(ic + ib)),
+            ("gm", t.dic_dvbe + t.dic_dvbc),
+            ("gpi", t.dib_dvbe + t.dib_dvbc),
+            ("go", -t.dic_dvbc),
+            ("cpi", t.dqbe_dvbe),
+            ("cmu", t.dqbc_dvbc),
+            ("power", power),
+        ];
+        // A non-finite figure (only possible with absurd parameters) is left out
+        // rather than reported.
+        out.into_iter().filter(|(_, v)| v.is_finite()).collect()
     }
 }

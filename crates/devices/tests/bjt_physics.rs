@@ -1,0 +1,337 @@
+//! Bipolar transistor against published closed forms and first-order theory.
+//!
+//! Every test names its source. Device currents are read from the stamp:
+//! with the emitter grounded, row 0 (collector) holds IC and row 1 (base) IB,
+//! the currents flowing into those terminals.
+
+use tankwave_circuit::BjtParams;
+use tankwave_devices::bjt::{intrinsic, Bjt, BjtConstants, BjtNodes};
+use tankwave_devices::{DenseStamp, Device, EvalCtx};
+
+/// Exact evaluation without gmin.
+fn ctx0() -> EvalCtx {
+    EvalCtx {
+        gmin: 0.0,
+        limit: false,
+        ..EvalCtx::default()
+    }
+}
+
+/// Collector 0, base 1, emitter grounded; no internal resistances.
+fn grounded_emitter(p: &BjtParams, temp_k: f64) -> Bjt {
+    let nodes = BjtNodes {
+        c: Some(0),
+        b: Some(1),
+        e: None,
+        ci: Some(0),
+        bi: Some(1),
+        ei: None,
+    };
+    Bjt::new(0, nodes, p, 1.0, temp_k)
+}
+
+/// (IC, IB) at (VBE, VBC).
+fn currents(q: &Bjt, vbe: f64, vbc: f64) -> (f64, f64) {
+    let mut st = DenseStamp::new(2);
+    let mut state = [0.0; 2];
+    q.eval(&[vbe - vbc, vbe], &ctx0(), &mut state, &mut st);
+    (st.i[0], st.i[1])
+}
+
+fn op(q: &Bjt, vbe: f64, vbc: f64, name: &str) -> f64 {
+    q.op_info(&[vbe - vbc, vbe], &ctx0())
+        .into_iter()
+        .find(|(n, _)| *n == name)
+        .map(|(_, v)| v)
+        .expect("op_info figure present")
+}
+
+fn check_params() -> BjtParams {
+    BjtParams {
+        sat_current: 1e-15,
+        gain_fwd: 100.0,
+        gain_rev: 1.0,
+        early_fwd: 50.0,
+        early_rev: 10.0,
+        knee_fwd: 0.1,
+        knee_rev: 0.01,
+        leak_be: 1e-13,
+        leak_be_emission: 1.5,
+        t_measured: 300.15,
+        ..BjtParams::default()
+    }
+}
+
+/// Check point of check-values.md (Gummel–Poon 1970 with the reciprocal q1 of
+/// L. W. Nagel, ERL M520, 1975; values computed independently with numpy).
+/// Tolerance: the published values carry 6–7 significant digits, so half a
+/// unit in the last digit.
+#[test]
+fn check_point_of_check_values() {
+    let p = check_params();
+    let q = grounded_emitter(&p, 300.15);
+    let (ic, ib) = currents(&q, 0.80, -5.0);
+    assert!((ic - 22.6117e-3).abs() <= 0.5e-7, "IC {ic}");
+    assert!((ib - 0.361011e-3).abs() <= 0.5e-9, "IB {ib}");
+    let t = intrinsic(q.constants(), 0.80, -5.0, 0.0);
+    assert!((t.base.q1 - 0.980392).abs() <= 0.5e-6, "q1 {}", t.base.q1);
+    assert!((t.base.q2 - 0.2708271).abs() <= 0.5e-7, "q2 {}", t.base.q2);
+    assert!((t.base.qb - 1.197729).abs() <= 0.5e-6, "qb {}", t.base.qb);
+    // Thermal voltage at 300.15 K (CODATA 2018 constants, check-values.md).
+    assert!((q.constants().vt - 0.025864925786).abs() < 1e-12);
+}
+
+/// Ebers–Moll limit: without Early effect, knees and leakage the model must be
+/// the Ebers–Moll injection form (J. J. Ebers, J. L. Moll, Proc. IRE 42(12),
+/// 1954; from memory): IC = αF IES (e_BE − 1) − ICS (e_BC − 1),
+/// IE = −IES (e_BE − 1) + αR ICS (e_BC − 1), with the reciprocity
+/// αF IES = αR ICS = IS. A different algebraic arrangement of the same
+/// physics, so only rounding separates them: 1e-12 relative to the largest
+/// term involved.
+#[test]
+fn ebers_moll_limit() {
+    let p = BjtParams {
+        sat_current: 2e-14,
+        gain_fwd: 80.0,
+        gain_rev: 2.5,
+        ..BjtParams::default()
+    };
+    let temp = 310.0;
+    let q = grounded_emitter(&p, temp);
+    let vt = 1.380649e-23 * temp / 1.602176634e-19;
+    let is = q.constants().is;
+    let af = 80.0 / 81.0;
+    let ar = 2.5 / 3.5;
+    let (ies, ics) = (is / af, is / ar);
+    let biases = [-3.0, -0.5, 0.0, 0.3, 0.55, 0.65, 0.72, 0.8];
+    for &vbe in &biases {
+        for &vbc in &biases {
+            let (ebe, ebc) = ((vbe / vt).exp_m1(), (vbc / vt).exp_m1());
+            let ic_em = af * ies * ebe - ics * ebc;
+            let ie_em = -ies * ebe + ar * ics * ebc;
+            let ib_em = -(ic_em + ie_em);
+            let (ic, ib) = currents(&q, vbe, vbc);
+            let scale = ies * ebe.abs().max(1.0) + ics * ebc.abs().max(1.0);
+            assert!(
+                (ic - ic_em).abs() <= 1e-12 * scale,
+                "IC at {vbe},{vbc}: {ic} vs {ic_em}"
+            );
+            assert!(
+                (ib - ib_em).abs() <= 1e-12 * scale,
+                "IB at {vbe},{vbc}: {ib} vs {ib_em}"
+            );
+        }
+    }
+}
+
+/// Current gain at low injection equals βF (Gummel–Poon 1970: IC/IB = βF when
+/// qb = 1 and the recombination component is negligible). With IKF = 1 A and
+/// IC ≤ 10 mA, qb − 1 ≤ IC/IKF = 1 %; the ISE term adds ISE e^{V/2Vt}/(IS
+/// e^{V/Vt}/βF) ≤ 1e-3 at IC ≥ 1 mA. Tolerance 1.2 % covers both.
+#[test]
+fn gain_at_low_injection_is_gain_fwd() {
+    let p = BjtParams {
+        sat_current: 1e-15,
+        gain_fwd: 120.0,
+        knee_fwd: 1.0,
+        leak_be: 1e-14,
+        leak_be_emission: 2.0,
+        ..BjtParams::default()
+    };
+    let q = grounded_emitter(&p, 300.0);
+    let mut seen = 0;
+    for i in 0..20 {
+        let vbe = 0.70 + 0.005 * i as f64;
+        let (ic, ib) = currents(&q, vbe, -5.0);
+        if !(1e-3..=1e-2).contains(&ic) {
+            continue;
+        }
+        seen += 1;
+        let beta = ic / ib;
+        assert!((beta / 120.0 - 1.0).abs() < 0.012, "beta {beta} at IC {ic}");
+        // and it is below βF: both corrections reduce it
+        assert!(beta < 120.0);
+    }
+    assert!(seen >= 5, "bias sweep must cover 1–10 mA");
+    // Without knee and leakage it is βF to rounding.
+    let ideal = grounded_emitter(
+        &BjtParams {
+            gain_fwd: 120.0,
+            ..BjtParams::default()
+        },
+        300.0,
+    );
+    let (ic, ib) = currents(&ideal, 0.7, -3.0);
+    // IB includes −IS/βR·(e_BC − 1) ≈ +IS, IC includes +IS: relative 1e-9 slack.
+    assert!((ic / ib / 120.0 - 1.0).abs() < 1e-9);
+}
+
+/// Output conductance in forward active. First-order theory (J. M. Early,
+/// Proc. IRE 40(11), 1952; from memory): go ≈ IC/VAF. With the reciprocal q1
+/// and no knees, IC = IS e^{VBE/Vt} (1 + VCB/VAF) exactly, so
+/// go = IC/(VAF + VCB): the first-order figure is off by VCB/(VAF + VCB) —
+/// that is the stated tolerance, and the exact identity holds to rounding.
+#[test]
+fn output_conductance_is_ic_over_early_voltage() {
+    let vaf = 100.0;
+    let p = BjtParams {
+        sat_current: 1e-14,
+        early_fwd: vaf,
+        ..BjtParams::default()
+    };
+    let q = grounded_emitter(&p, 300.0);
+    for &vce in &[1.0, 2.0, 5.0, 10.0, 20.0] {
+        let vbe = 0.68;
+        let vbc = vbe - vce;
+        let ic = op(&q, vbe, vbc, "ic");
+        let go = op(&q, vbe, vbc, "go");
+        let vcb = -vbc;
+        assert!((go * vaf / ic - 1.0).abs() <= vcb / (vaf + vcb) + 1e-9);
+        assert!(
+            (go * (vaf + vcb) / ic - 1.0).abs() < 1e-9,
+            "exact form at vce {vce}"
+        );
+        // and numerically: central difference of IC in VCE at fixed VBE
+        let h = 1e-3;
+        let (ic_p, _) = currents(&q, vbe, vbc - h);
+        let (ic_m, _) = currents(&q, vbe, vbc + h);
+        assert!(((ic_p - ic_m) / (2.0 * h) / go - 1.0).abs() < 1e-7);
+    }
+}
+
+/// Depletion capacitance (check-values.md; I. Getreu 1976, memory):
+/// C = Cj0 (1 − V/Vj)^−m below FC·Vj, the tangent-line continuation
+/// C = Cj0 (1 − FC)^−(1+m) (1 − FC(1+m) + m V/Vj) above, and dQ/dV = C on both
+/// sides. The reported cpi/cmu are checked against the closed form (1e-12
+/// relative, rounding) and against a central difference of the stamped charge
+/// (h = 1e-5 V: truncation error ~ h² C''/6 < 1e-8 relative here, so 1e-7).
+#[test]
+fn depletion_capacitance_both_sides_of_linearisation() {
+    let (cje, vje, mje) = (800e-12, 0.75, 0.33);
+    let (cjc, vjc, mjc) = (250e-12, 0.6, 0.45);
+    let fc = 0.5;
+    let p = BjtParams {
+        cj_be: cje,
+        vj_be: vje,
+        grading_be: mje,
+        cj_bc: cjc,
+        vj_bc: vjc,
+        grading_bc: mjc,
+        linear_from: fc,
+        ..BjtParams::default()
+    };
+    let q = grounded_emitter(&p, 300.0);
+    let closed = |v: f64, cj: f64, vj: f64, m: f64| {
+        if v < fc * vj {
+            cj * (1.0 - v / vj).powf(-m)
+        } else {
+            cj * (1.0 - fc).powf(-1.0 - m) * (1.0 - fc * (1.0 + m) + m * v / vj)
+        }
+    };
+    let charges = |vbe: f64, vbc: f64| {
+        let mut st = DenseStamp::new(2);
+        let mut s = [0.0; 2];
+        q.eval(&[vbe - vbc, vbe], &ctx0(), &mut s, &mut st);
+        // row 0 (collector) holds −Q_BC; row 1 (base) Q_BE + Q_BC.
+        let qbc = -st.q[0];
+        (st.q[1] - qbc, qbc)
+    };
+    let h = 1e-5;
+    // Both junctions on both sides of FC·Vj (0.375 V and 0.3 V).
+    for &v in &[
+        -10.0, -2.0, -0.3, 0.0, 0.2, 0.29, 0.31, 0.37, 0.38, 0.5, 0.7, 0.9,
+    ] {
+        // VBE = v with VBC = −5 (BC fixed), then VBC = v with VBE = −5.
+        let cpi = op(&q, v, -5.0, "cpi");
+        let want = closed(v, cje, vje, mje);
+        assert!(
+            (cpi / want - 1.0).abs() < 1e-12,
+            "cpi at {v}: {cpi} vs {want}"
+        );
+        let dq = (charges(v + h, -5.0).0 - charges(v - h, -5.0).0) / (2.0 * h);
+        assert!(
+            (dq / want - 1.0).abs() < 1e-7,
+            "dQbe/dV at {v}: {dq} vs {want}"
+        );
+        let cmu = op(&q, -5.0, v, "cmu");
+        let want = closed(v, cjc, vjc, mjc);
+        assert!(
+            (cmu / want - 1.0).abs() < 1e-12,
+            "cmu at {v}: {cmu} vs {want}"
+        );
+        let dq = (charges(-5.0, v + h).1 - charges(-5.0, v - h).1) / (2.0 * h);
+        assert!(
+            (dq / want - 1.0).abs() < 1e-7,
+            "dQbc/dV at {v}: {dq} vs {want}"
+        );
+    }
+}
+
+/// Gummel plot: in the ideal region log10 IC rises one decade per
+/// ln(10)·NF·kT/q of VBE, and log10 IB (ISE term dominant) one decade per
+/// ln(10)·NE·kT/q (Gummel–Poon 1970; CODATA 2018 constants). No knees and no
+/// Early effect, so qb = 1; the −1 of each exponential contributes at most
+/// 1/e^{V/(n Vt)} < 2e-7 relative at the lower bias of each pair, and the
+/// IS/βF part of IB (βF = 1e13) is below 2e-9 of the ISE part: tolerance 1e-6.
+#[test]
+fn gummel_plot_slopes() {
+    let (nf, ne) = (1.08, 1.9);
+    let temp = 330.0;
+    let vt = 1.380649e-23 * temp / 1.602176634e-19;
+    let p = BjtParams {
+        sat_current: 1e-14,
+        emission_fwd: nf,
+        gain_fwd: 1e13, // IB then comes from the leakage term alone
+        leak_be: 1e-12,
+        leak_be_emission: ne,
+        t_measured: temp,
+        ..BjtParams::default()
+    };
+    let q = grounded_emitter(&p, temp);
+    let ln10 = std::f64::consts::LN_10;
+    for &(v1, v2) in &[(0.5, 0.6), (0.6, 0.75)] {
+        let (ic1, _) = currents(&q, v1, 0.0);
+        let (ic2, _) = currents(&q, v2, 0.0);
+        let per_decade = (v2 - v1) / (ic2 / ic1).log10();
+        assert!(
+            (per_decade / (ln10 * nf * vt) - 1.0).abs() < 1e-6,
+            "{per_decade}"
+        );
+    }
+    for &(v1, v2) in &[(0.85, 0.95), (0.95, 1.05)] {
+        let (_, ib1) = currents(&q, v1, 0.0);
+        let (_, ib2) = currents(&q, v2, 0.0);
+        let per_decade = (v2 - v1) / (ib2 / ib1).log10();
+        assert!(
+            (per_decade / (ln10 * ne * vt) - 1.0).abs() < 1e-6,
+            "{per_decade}"
+        );
+    }
+}
+
+/// Temperature scaling of IS (I. Getreu 1976, memory):
+/// IS(T) = IS (T/Tm)^XTI exp(Eg q/k (1/Tm − 1/T)); gains by (T/Tm)^XTB.
+#[test]
+fn temperature_scaling_of_is_and_gain() {
+    let p = BjtParams {
+        sat_current: 3e-14,
+        gain_fwd: 50.0,
+        gap: 1.12,
+        sat_temp_exp: 3.5,
+        gain_temp_exp: 1.7,
+        t_measured: 298.15,
+        ..BjtParams::default()
+    };
+    let kq = 1.380649e-23 / 1.602176634e-19;
+    for &t in &[250.0, 298.15, 350.0, 400.0] {
+        let k = BjtConstants::new(&p, 1.0, t);
+        let r: f64 = t / 298.15;
+        let want = 3e-14 * r.powf(3.5) * (1.12 / kq * (1.0 / 298.15 - 1.0 / t)).exp();
+        assert!(
+            (k.is / want - 1.0).abs() < 1e-12,
+            "IS at {t}: {} vs {want}",
+            k.is
+        );
+        assert!((k.gain_fwd / (50.0 * r.powf(1.7)) - 1.0).abs() < 1e-12);
+    }
+}
