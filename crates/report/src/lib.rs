@@ -16,6 +16,7 @@
 
 pub mod files;
 pub mod format;
+pub mod stage;
 pub mod table;
 
 pub use files::{write_atomic, ReportError};

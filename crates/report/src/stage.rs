@@ -1,0 +1,497 @@
+//! Reports of one stage: the readable text report (headline figures first,
+//! then harmonics, then stress, then requirements), the JSON document with
+//! every figure and its unit, and CSV files of waveforms and spectra.
+
+use crate::format::{db, fixed, si};
+use crate::table::{Align, Table};
+use serde_json::{json, Value};
+use tankwave_circuit::{Circuit, SteadyMethod};
+use tankwave_measure::{Metrics, StressQuantity, Verdict};
+use tankwave_solve::{AcResult, OpResult, PeriodicSolution, Strategy, TransientResult};
+
+/// The caution printed with every steady-state report.
+pub const SAFETY_NOTE: &str = "Caution: tank and output-network capacitors carry RF voltages several times \
+the supply and RF current burns; test into a dummy load, and transmit only as your licence and local \
+regulations allow.";
+
+fn method_name(m: SteadyMethod) -> &'static str {
+    match m {
+        SteadyMethod::Auto => "auto",
+        SteadyMethod::Balance => "harmonic balance",
+        SteadyMethod::Shooting => "shooting",
+        SteadyMethod::Settle => "settled transient",
+    }
+}
+
+fn strategy_text(s: &Strategy) -> String {
+    match s {
+        Strategy::Newton => "Newton".to_string(),
+        Strategy::GminStepping { stages } => format!("gmin stepping, {stages} stages"),
+        Strategy::SourceStepping { stages } => format!("source stepping, {stages} stages"),
+    }
+}
+
+/// Text report of an operating point: node voltages, branch currents, device figures.
+pub fn op_text(circuit: &Circuit, op: &OpResult) -> String {
+    let mut s = format!(
+        "Operating point ({}, {} iterations)\n",
+        strategy_text(&op.info.strategy),
+        op.info.iterations
+    );
+    let mut t = Table::new(vec![("unknown", Align::Left), ("value", Align::Right)]);
+    for (name, v) in op.names.iter().zip(&op.x) {
+        let unit = if name.starts_with("i(") { "A" } else { "V" };
+        t.row(vec![name.clone(), si(*v, unit)]);
+    }
+    s.push_str(&t.render());
+    for d in &op.devices {
+        let figs: Vec<String> = d
+            .figures
+            .iter()
+            .map(|(k, v)| format!("{k} = {}", si(*v, unit_of_figure(k))))
+            .collect();
+        s.push_str(&format!("  {}: {}\n", d.name, figs.join(", ")));
+    }
+    let _ = circuit;
+    s
+}
+
+fn unit_of_figure(k: &str) -> &'static str {
+    if k.starts_with('v') {
+        "V"
+    } else if k.starts_with('i') {
+        "A"
+    } else if k.starts_with('g') {
+        "S"
+    } else if k.starts_with('c') {
+        "F"
+    } else if k.starts_with('p') {
+        "W"
+    } else {
+        ""
+    }
+}
+
+/// One-paragraph summary of a transient run.
+pub fn transient_text(t: &TransientResult) -> String {
+    let stop = t.time.last().copied().unwrap_or(0.0);
+    format!(
+        "Transient to {}: {} accepted steps ({} rejected for truncation error, {} for Newton), {} Newton iterations\n",
+        si(stop, "s"),
+        t.info.accepted,
+        t.info.rejected_lte,
+        t.info.rejected_newton,
+        t.info.newton_iterations
+    )
+}
+
+/// One-paragraph summary of an AC sweep.
+pub fn ac_text(a: &AcResult) -> String {
+    let (f0, f1) = (
+        a.freq.first().copied().unwrap_or(0.0),
+        a.freq.last().copied().unwrap_or(0.0),
+    );
+    format!(
+        "AC sweep {} to {}, {} points{}\n",
+        si(f0, "Hz"),
+        si(f1, "Hz"),
+        a.freq.len(),
+        if a.impedance.is_some() {
+            ", with impedance"
+        } else {
+            ""
+        }
+    )
+}
+
+/// The readable steady-state report: headline figures, harmonics, transistors, stress.
+pub fn steady_text(
+    circuit: &Circuit,
+    sol: &PeriodicSolution,
+    m: &Metrics,
+    verbose: bool,
+) -> String {
+    let mut s = String::new();
+    let info = &sol.info;
+    s.push_str(&format!(
+        "Steady state at {} by {}{}: {} {}, residual {:.2e}, {} harmonics\n",
+        si(sol.freq, "Hz"),
+        method_name(info.method),
+        match info.fell_back_from {
+            Some(f) => format!(" (after {} failed)", method_name(f)),
+            None => String::new(),
+        },
+        info.iterations,
+        if info.method == SteadyMethod::Settle {
+            "periods"
+        } else {
+            "iterations"
+        },
+        info.residual,
+        sol.harmonics
+    ));
+    if verbose {
+        s.push_str(&format!(
+            "  Newton system size {}, {} samples per period\n",
+            info.system_size, sol.samples_per_period
+        ));
+    }
+    let mut t = Table::new(vec![("figure", Align::Left), ("value", Align::Right)]);
+    if let Some(o) = &m.output {
+        t.row(vec![
+            format!("output power ({})", o.element),
+            format!("{} ({})", si(o.p1_w, "W"), db(o.p1_dbm, "dBm")),
+        ]);
+    }
+    t.row(vec!["supply power".into(), si(m.pdc_w, "W")]);
+    if let Some(e) = m.efficiency {
+        t.row(vec![
+            "collector efficiency".into(),
+            fixed(e * 100.0, 1, "%"),
+        ]);
+    }
+    if let Some(e) = m.pae {
+        t.row(vec![
+            "power-added efficiency".into(),
+            fixed(e * 100.0, 1, "%"),
+        ]);
+    }
+    if let Some(g) = m.gain_db {
+        t.row(vec!["transducer gain".into(), db(g, "dB")]);
+    }
+    if let Some(d) = &m.drive {
+        t.row(vec![
+            format!("drive power in ({})", d.element),
+            si(d.pin_w, "W"),
+        ]);
+        if let Some(z) = d.z_in {
+            t.row(vec![
+                "input impedance".into(),
+                format!(
+                    "{} {} j{}",
+                    si(z.re, "Ohm"),
+                    if z.im < 0.0 { "-" } else { "+" },
+                    si(z.im.abs(), "Ohm")
+                ),
+            ]);
+        }
+        if let Some(v) = d.vswr {
+            t.row(vec!["input VSWR".into(), fixed(v, 2, "")]);
+        }
+    }
+    if let Some(o) = &m.output {
+        if let Some(thd) = o.thd {
+            t.row(vec!["THD".into(), fixed(thd * 100.0, 2, "%")]);
+        }
+    }
+    s.push_str(&t.render());
+
+    if !m.transistors.is_empty() {
+        s.push('\n');
+        let mut t = Table::new(vec![
+            ("transistor", Align::Left),
+            ("conduction", Align::Right),
+            ("vce peak", Align::Right),
+            ("vce min", Align::Right),
+            ("ic peak", Align::Right),
+            ("dissipation", Align::Right),
+            ("junction", Align::Right),
+        ]);
+        for q in &m.transistors {
+            t.row(vec![
+                q.element.clone(),
+                fixed(q.conduction_deg, 0, "deg"),
+                si(q.vce_peak_v, "V"),
+                si(q.vce_min_v, "V"),
+                si(q.ic_peak_a, "A"),
+                si(q.dissipation_w, "W"),
+                q.tj_k
+                    .map(|k| fixed(k - 273.15, 0, "degC"))
+                    .unwrap_or_else(|| "no Rth".into()),
+            ]);
+        }
+        s.push_str(&t.render());
+    }
+
+    if let Some(o) = &m.output {
+        s.push_str(&format!("\nHarmonics at {}\n", o.element));
+        let mut t = Table::new(vec![
+            ("n", Align::Right),
+            ("frequency", Align::Right),
+            ("power", Align::Right),
+            ("level", Align::Right),
+        ]);
+        for h in o.harmonics.iter() {
+            t.row(vec![
+                h.n.to_string(),
+                si(h.freq_hz, "Hz"),
+                db(h.dbm, "dBm"),
+                h.dbc.map(|d| db(d, "dBc")).unwrap_or_else(|| "—".into()),
+            ]);
+        }
+        s.push_str(&t.render());
+    }
+
+    if !m.stress.is_empty() {
+        s.push_str("\nComponent stress\n");
+        let mut t = Table::new(vec![
+            ("element", Align::Left),
+            ("quantity", Align::Left),
+            ("value", Align::Right),
+            ("rating", Align::Right),
+            ("used", Align::Right),
+        ]);
+        for r in &m.stress {
+            let (q, unit) = match r.quantity {
+                StressQuantity::PeakVoltage => ("peak voltage", "V"),
+                StressQuantity::RmsCurrent => ("RMS current", "A"),
+                StressQuantity::AveragePower => ("power", "W"),
+                StressQuantity::VcePeak => ("peak vce", "V"),
+                StressQuantity::IcPeak => ("peak ic", "A"),
+                StressQuantity::Dissipation => ("dissipation", "W"),
+                StressQuantity::JunctionTemp => ("junction temperature", "K"),
+            };
+            let show = |v: f64| {
+                if unit == "K" {
+                    fixed(v - 273.15, 0, "degC")
+                } else {
+                    si(v, unit)
+                }
+            };
+            t.row(vec![
+                r.element.clone(),
+                q.to_string(),
+                show(r.value),
+                r.rating.map(show).unwrap_or_default(),
+                r.fraction
+                    .map(|f| fixed(f * 100.0, 0, "%"))
+                    .unwrap_or_default(),
+            ]);
+        }
+        s.push_str(&t.render());
+    }
+    for n in &m.notes {
+        s.push_str(&format!("note: {} not measured: {}\n", n.figure, n.reason));
+    }
+    let _ = circuit;
+    s
+}
+
+/// The verdict table: requirement, limit, value, margin, pass/fail; mask
+/// requirements list each harmonic's margin beneath.
+pub fn verdict_text(verdicts: &[Verdict]) -> String {
+    let mut t = Table::new(vec![
+        ("requirement", Align::Left),
+        ("limit", Align::Right),
+        ("value", Align::Right),
+        ("margin", Align::Right),
+        ("verdict", Align::Left),
+    ]);
+    for v in verdicts {
+        t.row(vec![
+            v.requirement.clone(),
+            v.limit_text.clone(),
+            v.value_text.clone(),
+            v.margin_text.clone(),
+            if v.pass { "pass" } else { "FAIL" }.to_string(),
+        ]);
+        for h in &v.harmonics {
+            if let (Some(a), Some(mg)) = (h.allowed_dbc, h.margin_db) {
+                t.row(vec![
+                    format!("  harmonic {} ({})", h.n, si(h.freq_hz, "Hz")),
+                    db(a, "dBc"),
+                    db(h.measured_dbc, "dBc"),
+                    format!("{:+.1} dB", mg),
+                    if mg >= 0.0 { "pass" } else { "FAIL" }.to_string(),
+                ]);
+            }
+        }
+        if let Some(r) = &v.not_measured {
+            t.row(vec![
+                format!("  ({r})"),
+                String::new(),
+                String::new(),
+                String::new(),
+                String::new(),
+            ]);
+        }
+    }
+    t.render()
+}
+
+fn clean(v: f64) -> Value {
+    if v.is_finite() {
+        json!(v)
+    } else {
+        Value::Null
+    }
+}
+
+/// JSON of an operating point.
+pub fn op_json(op: &OpResult) -> Value {
+    json!({
+        "iterations": op.info.iterations,
+        "residual": clean(op.info.residual),
+        "strategy": strategy_text(&op.info.strategy),
+        "unknowns": op.names.iter().zip(&op.x).map(|(n, v)| json!({"name": n, "value": clean(*v), "unit": if n.starts_with("i(") {"A"} else {"V"}})).collect::<Vec<_>>(),
+        "devices": op.devices.iter().map(|d| json!({
+            "element": d.name,
+            "figures": d.figures.iter().map(|(k, v)| json!({"name": k, "value": clean(*v), "unit": unit_of_figure(k)})).collect::<Vec<_>>(),
+        })).collect::<Vec<_>>(),
+    })
+}
+
+/// JSON summary of a transient (the waveforms go to CSV).
+pub fn transient_json(t: &TransientResult) -> Value {
+    json!({
+        "stop_s": clean(t.time.last().copied().unwrap_or(0.0)),
+        "points": t.time.len(),
+        "accepted": t.info.accepted,
+        "rejected_truncation": t.info.rejected_lte,
+        "rejected_newton": t.info.rejected_newton,
+        "newton_iterations": t.info.newton_iterations,
+        "unknowns": t.names,
+    })
+}
+
+/// JSON of an AC sweep: magnitude (dB) and phase (degrees) of every unknown.
+pub fn ac_json(a: &AcResult) -> Value {
+    let series: Vec<Value> = a
+        .names
+        .iter()
+        .enumerate()
+        .map(|(k, n)| {
+            json!({"name": n,
+                "magnitude_db": a.magnitude_db(k).into_iter().map(clean).collect::<Vec<_>>(),
+                "phase_deg": a.phase_deg(k).into_iter().map(clean).collect::<Vec<_>>()})
+        })
+        .collect();
+    let z = a.impedance.as_ref().map(|z| {
+        z.iter()
+            .map(|c| json!({"re_ohm": clean(c.re), "im_ohm": clean(c.im)}))
+            .collect::<Vec<_>>()
+    });
+    json!({"freq_hz": a.freq.iter().map(|f| clean(*f)).collect::<Vec<_>>(), "unknowns": series, "impedance": z})
+}
+
+/// JSON of a steady state: solver info and every measured figure.
+pub fn steady_json(sol: &PeriodicSolution, m: &Metrics) -> Value {
+    json!({
+        "freq_hz": clean(sol.freq),
+        "harmonics": sol.harmonics,
+        "samples_per_period": sol.samples_per_period,
+        "method": method_name(sol.info.method),
+        "fell_back_from": sol.info.fell_back_from.map(method_name),
+        "iterations": sol.info.iterations,
+        "residual": clean(sol.info.residual),
+        "system_size": sol.info.system_size,
+        "metrics": serde_json::to_value(m).unwrap_or(Value::Null),
+    })
+}
+
+/// CSV of a transient: a time column, then every unknown.
+pub fn transient_csv(t: &TransientResult) -> String {
+    let mut s = String::from("time_s");
+    for n in &t.names {
+        s.push(',');
+        s.push_str(&csv_field(n));
+    }
+    s.push('\n');
+    for (k, time) in t.time.iter().enumerate() {
+        s.push_str(&format!("{time:.12e}"));
+        if let Some(row) = t.x.get(k) {
+            for v in row {
+                s.push_str(&format!(",{v:.9e}"));
+            }
+        }
+        s.push('\n');
+    }
+    s
+}
+
+/// CSV of one steady-state period: time, every unknown, then every element terminal current.
+pub fn period_csv(circuit: &Circuit, names: &[String], sol: &PeriodicSolution) -> String {
+    let mut s = String::from("time_s");
+    for n in names.iter().take(sol.x.len()) {
+        s.push(',');
+        s.push_str(&csv_field(n));
+    }
+    let mut cols: Vec<&Vec<f64>> = sol.x.iter().collect();
+    for (e, terms) in sol.terminal_currents.iter().enumerate() {
+        let name = circuit
+            .elements
+            .get(e)
+            .map(|e| e.name.as_str())
+            .unwrap_or("?");
+        for (k, col) in terms.iter().enumerate() {
+            s.push_str(&format!(",i({name}:{})", k + 1));
+            cols.push(col);
+        }
+    }
+    s.push('\n');
+    for (k, t) in sol.times().iter().enumerate() {
+        s.push_str(&format!("{t:.12e}"));
+        for c in &cols {
+            s.push_str(&format!(",{:.9e}", c.get(k).copied().unwrap_or(0.0)));
+        }
+        s.push('\n');
+    }
+    s
+}
+
+/// CSV of the output spectrum: n, frequency, power W, dBm, dBc.
+pub fn spectrum_csv(m: &Metrics) -> String {
+    let mut s = String::from("n,freq_hz,power_w,power_dbm,level_dbc\n");
+    if let Some(o) = &m.output {
+        for h in &o.harmonics {
+            s.push_str(&format!(
+                "{},{:.9e},{:.9e},{:.6},{}\n",
+                h.n,
+                h.freq_hz,
+                h.power_w,
+                h.dbm,
+                h.dbc.map(|d| format!("{d:.6}")).unwrap_or_default()
+            ));
+        }
+    }
+    s
+}
+
+/// CSV of an AC sweep: frequency, then magnitude dB and phase of every unknown.
+pub fn ac_csv(a: &AcResult) -> String {
+    let mut s = String::from("freq_hz");
+    for n in &a.names {
+        s.push_str(&format!(",{}_db,{}_deg", csv_field(n), csv_field(n)));
+    }
+    if a.impedance.is_some() {
+        s.push_str(",z_re_ohm,z_im_ohm");
+    }
+    s.push('\n');
+    let mags: Vec<Vec<f64>> = (0..a.names.len()).map(|k| a.magnitude_db(k)).collect();
+    let phs: Vec<Vec<f64>> = (0..a.names.len()).map(|k| a.phase_deg(k)).collect();
+    for (i, f) in a.freq.iter().enumerate() {
+        s.push_str(&format!("{f:.9e}"));
+        for k in 0..a.names.len() {
+            s.push_str(&format!(
+                ",{:.6},{:.4}",
+                mags[k].get(i).copied().unwrap_or(0.0),
+                phs[k].get(i).copied().unwrap_or(0.0)
+            ));
+        }
+        if let Some(z) = &a.impedance {
+            if let Some(c) = z.get(i) {
+                s.push_str(&format!(",{:.9e},{:.9e}", c.re, c.im));
+            }
+        }
+        s.push('\n');
+    }
+    s
+}
+
+fn csv_field(s: &str) -> String {
+    if s.contains([',', '"', '\n']) {
+        format!("\"{}\"", s.replace('"', "\"\""))
+    } else {
+        s.to_string()
+    }
+}

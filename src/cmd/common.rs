@@ -1,0 +1,122 @@
+//! Pieces shared by the subcommands: parameter overrides from `--set`,
+//! reporting failures with the right exit code.
+
+use crate::pipeline::Failure;
+use std::collections::BTreeMap;
+use tankwave_circuit::Overrides;
+
+/// Exit code: all good.
+pub const OK: i32 = 0;
+/// Exit code: a requirement failed.
+pub const FAILED: i32 = 1;
+/// Exit code: bad input.
+pub const BAD_INPUT: i32 = 2;
+/// Exit code: the solver failed.
+pub const SOLVER: i32 = 3;
+
+/// Parse `name=value` pairs (value in the stage-file syntax: `12V`, `2.2nF`, `(1/3)`).
+pub fn overrides(sets: &[String]) -> Result<Overrides, String> {
+    let mut params = BTreeMap::new();
+    for s in sets {
+        let Some((k, v)) = s.split_once('=') else {
+            return Err(format!("--set expects name=value, got '{s}'"));
+        };
+        let k = k.trim();
+        let value = parse_value(v.trim())
+            .map_err(|e| format!("--set {k}: {e}"))?;
+        params.insert(k.to_string(), value);
+    }
+    Ok(Overrides {
+        params,
+        ..Overrides::default()
+    })
+}
+
+/// Print a failure to stderr and return its exit code.
+pub fn report_failure(file: &str, f: &Failure) -> i32 {
+    match f {
+        Failure::Input {
+            diagnostics,
+            sources,
+        } => {
+            eprint!("{}", crate::diag::render(diagnostics, sources));
+            BAD_INPUT
+        }
+        Failure::Setup(m) => {
+            eprintln!("error: {file}: {m}");
+            BAD_INPUT
+        }
+        Failure::Solve(m) => {
+            eprintln!("error: {file}: solver failed: {m}");
+            SOLVER
+        }
+    }
+}
+
+/// Parse one value as written on the command line: a number, an optional SI
+/// prefix and an optional unit (`12V`, `2.2nF`, `13.56MHz`, `65%`), into a
+/// plain SI number. Uses the stage-file language's own prefix and unit table.
+pub fn parse_value(s: &str) -> Result<f64, String> {
+    let s = s.trim();
+    let end = number_prefix_len(s);
+    if end == 0 {
+        return Err(format!("'{s}' does not start with a number"));
+    }
+    let num: f64 = s[..end]
+        .parse()
+        .map_err(|_| format!("'{}' is not a number", &s[..end]))?;
+    let (exp, unit) = tankwave_netlist::units::split_suffix(s[end..].trim())?;
+    let v = tankwave_netlist::units::to_si(num * 10f64.powi(exp), unit);
+    if v.is_finite() {
+        Ok(v)
+    } else {
+        Err(format!("'{s}' is out of range"))
+    }
+}
+
+/// Length of the longest prefix of `s` that reads as a decimal number.
+fn number_prefix_len(s: &str) -> usize {
+    let b = s.as_bytes();
+    let mut i = 0;
+    if i < b.len() && (b[i] == b'+' || b[i] == b'-') {
+        i += 1;
+    }
+    let digits_start = i;
+    while i < b.len() && (b[i].is_ascii_digit() || b[i] == b'.') {
+        i += 1;
+    }
+    if i == digits_start {
+        return 0;
+    }
+    // exponent: e or E followed by optional sign and at least one digit
+    if i < b.len() && (b[i] == b'e' || b[i] == b'E') {
+        let mut j = i + 1;
+        if j < b.len() && (b[j] == b'+' || b[j] == b'-') {
+            j += 1;
+        }
+        if j < b.len() && b[j].is_ascii_digit() {
+            while j < b.len() && b[j].is_ascii_digit() {
+                j += 1;
+            }
+            i = j;
+        }
+    }
+    i
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn values_with_prefixes_and_units() {
+        // SI prefixes: BIPM SI Brochure, 9th ed. (2019), table 7
+        assert!((parse_value("2.2nF").unwrap() - 2.2e-9).abs() < 1e-21);
+        assert!((parse_value("13.56MHz").unwrap() - 13.56e6).abs() < 1e-6);
+        assert!((parse_value("65%").unwrap() - 0.65).abs() < 1e-15);
+        assert!((parse_value("1e3").unwrap() - 1000.0).abs() < 1e-12);
+        assert!((parse_value("10m").unwrap() - 0.01).abs() < 1e-15);
+        assert!(parse_value("abc").is_err());
+        assert!(parse_value("5 parsecs").is_err());
+    }
+}

@@ -1,0 +1,201 @@
+//! `tankwave run FILE`: solve every analysis the file declares and report.
+
+use super::common::{self, BAD_INPUT, FAILED, OK};
+use crate::pipeline::{self, Results, Scope};
+use clap::{Args, ValueEnum};
+use serde_json::json;
+use std::path::PathBuf;
+use tankwave_report::stage;
+
+/// Output format of `run`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Format {
+    /// A readable report.
+    Table,
+    /// Every figure, with units, as one JSON document (schema `tankwave/1`).
+    Json,
+    /// The spectrum as CSV on stdout (waveforms go to --out).
+    Csv,
+}
+
+/// Arguments of `run`.
+#[derive(Args, Debug)]
+pub struct RunArgs {
+    /// The stage file.
+    pub file: PathBuf,
+    /// What to print on stdout.
+    #[arg(long, value_enum, default_value = "table")]
+    pub format: Format,
+    /// Also write full results to this directory: results.json, op.csv,
+    /// transient-N.csv, ac-N.csv, period.csv and spectrum.csv (written whole, or not at all).
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    /// Override a `let` parameter, e.g. `--set vcc=12V` (repeatable).
+    #[arg(long = "set", value_name = "NAME=VALUE")]
+    pub sets: Vec<String>,
+    /// Print solver details (Newton system size, iterations, samples).
+    #[arg(long, short)]
+    pub verbose: bool,
+}
+
+/// Run the command; returns the exit code.
+pub fn run(a: &RunArgs) -> i32 {
+    let file = a.file.display().to_string();
+    let overrides = match common::overrides(&a.sets) {
+        Ok(o) => o,
+        Err(m) => {
+            eprintln!("error: {m}");
+            return BAD_INPUT;
+        }
+    };
+    if let Some(dir) = &a.out {
+        if !dir.is_dir() {
+            eprintln!(
+                "error: output directory '{}' does not exist or is not a directory",
+                dir.display()
+            );
+            return BAD_INPUT;
+        }
+    }
+    let loaded = match pipeline::load(&a.file, &overrides) {
+        Ok(l) => l,
+        Err(f) => return common::report_failure(&file, &f),
+    };
+    if !loaded.warnings.is_empty() {
+        eprint!("{}", crate::diag::render(&loaded.warnings, &loaded.sources));
+    }
+    let c = &loaded.circuit;
+    let res = match pipeline::solve(c, Scope::All) {
+        Ok(r) => r,
+        Err(f) => return common::report_failure(&file, &f),
+    };
+    let doc = json_doc(&file, c, &res);
+    match a.format {
+        Format::Table => print!("{}", text(&file, c, &res, a.verbose)),
+        Format::Json => println!(
+            "{}",
+            serde_json::to_string_pretty(&doc).unwrap_or_else(|_| "{}".into())
+        ),
+        Format::Csv => match &res.steady {
+            Some(s) => print!("{}", stage::spectrum_csv(&s.metrics)),
+            None => {
+                if let Some(t) = res.transients.first() {
+                    print!("{}", stage::transient_csv(t))
+                } else if let Some(ac) = res.acs.first() {
+                    print!("{}", stage::ac_csv(ac))
+                }
+            }
+        },
+    }
+    if let Some(dir) = &a.out {
+        let mut files: Vec<(PathBuf, Vec<u8>)> = vec![(
+            dir.join("results.json"),
+            serde_json::to_vec_pretty(&doc).unwrap_or_default(),
+        )];
+        if let Some(op) = &res.op {
+            let mut s = String::from("unknown,value\n");
+            for (n, v) in op.names.iter().zip(&op.x) {
+                s.push_str(&format!("{n},{v:.12e}\n"));
+            }
+            files.push((dir.join("op.csv"), s.into_bytes()));
+        }
+        for (k, t) in res.transients.iter().enumerate() {
+            files.push((
+                dir.join(format!("transient-{}.csv", k + 1)),
+                stage::transient_csv(t).into_bytes(),
+            ));
+        }
+        for (k, ac) in res.acs.iter().enumerate() {
+            files.push((
+                dir.join(format!("ac-{}.csv", k + 1)),
+                stage::ac_csv(ac).into_bytes(),
+            ));
+        }
+        if let Some(s) = &res.steady {
+            let names = unknown_names(c, &res);
+            files.push((
+                dir.join("period.csv"),
+                stage::period_csv(c, &names, &s.solution).into_bytes(),
+            ));
+            files.push((
+                dir.join("spectrum.csv"),
+                stage::spectrum_csv(&s.metrics).into_bytes(),
+            ));
+        }
+        if let Err(e) = tankwave_report::files::write_all_atomic(&files) {
+            eprintln!("error: {e}");
+            return BAD_INPUT;
+        }
+    }
+    if res.verdicts.iter().any(|v| !v.pass) {
+        FAILED
+    } else {
+        OK
+    }
+}
+
+fn unknown_names(c: &tankwave_circuit::Circuit, res: &Results) -> Vec<String> {
+    if let Some(op) = &res.op {
+        return op.names.clone();
+    }
+    match tankwave_devices::instantiate(c) {
+        Ok(d) => d.names,
+        Err(_) => Vec::new(),
+    }
+}
+
+fn text(file: &str, c: &tankwave_circuit::Circuit, r: &Results, verbose: bool) -> String {
+    let mut s = String::new();
+    s.push_str(&format!(
+        "{}\n{}\n\n",
+        c.title.as_deref().unwrap_or("(untitled stage)"),
+        file
+    ));
+    if let Some(op) = &r.op {
+        s.push_str(&stage::op_text(c, op));
+        s.push('\n');
+    }
+    for t in &r.transients {
+        s.push_str(&stage::transient_text(t));
+    }
+    for ac in &r.acs {
+        s.push_str(&stage::ac_text(ac));
+    }
+    if !r.transients.is_empty() || !r.acs.is_empty() {
+        s.push_str("(waveforms and sweeps: use --out DIR or --format csv)\n\n");
+    }
+    if let Some(st) = &r.steady {
+        s.push_str(&stage::steady_text(c, &st.solution, &st.metrics, verbose));
+        s.push('\n');
+    }
+    if !r.verdicts.is_empty() {
+        s.push_str("Requirements\n");
+        s.push_str(&stage::verdict_text(&r.verdicts));
+        let failed = r.verdicts.iter().filter(|v| !v.pass).count();
+        s.push_str(&format!(
+            "{} of {} requirements pass\n",
+            r.verdicts.len() - failed,
+            r.verdicts.len()
+        ));
+    }
+    if r.steady.is_some() {
+        s.push_str(&format!("\n{}\n", stage::SAFETY_NOTE));
+    }
+    s
+}
+
+/// The JSON document of a run (schema `tankwave/1`, see docs/output.md).
+pub fn json_doc(file: &str, c: &tankwave_circuit::Circuit, r: &Results) -> serde_json::Value {
+    json!({
+        "schema": tankwave_report::SCHEMA_VERSION,
+        "tool": format!("tankwave {}", env!("CARGO_PKG_VERSION")),
+        "file": file,
+        "title": c.title,
+        "op": r.op.as_ref().map(stage::op_json),
+        "transients": r.transients.iter().map(stage::transient_json).collect::<Vec<_>>(),
+        "ac": r.acs.iter().map(stage::ac_json).collect::<Vec<_>>(),
+        "steady": r.steady.as_ref().map(|s| stage::steady_json(&s.solution, &s.metrics)),
+        "requirements": serde_json::to_value(&r.verdicts).unwrap_or(serde_json::Value::Null),
+        "caution": stage::SAFETY_NOTE,
+    })
+}

@@ -1,0 +1,164 @@
+//! Wiring of the library crates for one stage file: load (parse + elaborate),
+//! instantiate devices, run every analysis the file declares, measure the
+//! steady state and evaluate the requirements. Nothing here prints.
+
+use std::path::Path;
+use std::sync::Arc;
+
+use tankwave_circuit::{Analysis, Circuit, Overrides};
+use tankwave_devices::DeviceSet;
+use tankwave_measure::{MeasureParams, Metrics, PeriodData, Verdict};
+use tankwave_netlist::{Diagnostic, SourceMap};
+use tankwave_solve::{
+    AcParams, AcResult, OpParams, OpResult, PeriodicSolution, SteadyParams, TransientParams,
+    TransientResult,
+};
+
+/// A stage file that parsed and elaborated.
+pub struct Loaded {
+    /// The checked circuit.
+    pub circuit: Circuit,
+    /// Warnings found on the way.
+    pub warnings: Vec<Diagnostic>,
+    /// The sources, for rendering the warnings.
+    pub sources: Arc<SourceMap>,
+}
+
+/// Why a file produced no results.
+pub enum Failure {
+    /// Bad input: every diagnostic, with its sources (exit 2).
+    Input {
+        /// Diagnostics (errors and warnings).
+        diagnostics: Vec<Diagnostic>,
+        /// Sources to render them with.
+        sources: Arc<SourceMap>,
+    },
+    /// The solver (or the measurement of its result) failed (exit 3).
+    Solve(String),
+    /// The file is valid but cannot do what was asked (exit 2).
+    Setup(String),
+}
+
+/// Parse and elaborate `path` with `overrides`.
+pub fn load(path: &Path, overrides: &Overrides) -> Result<Loaded, Failure> {
+    let parsed = tankwave_netlist::parse_file(path);
+    match tankwave_circuit::elaborate(&parsed, overrides) {
+        Ok(e) => Ok(Loaded {
+            circuit: e.circuit,
+            warnings: e.warnings,
+            sources: parsed.sources.clone(),
+        }),
+        Err(diagnostics) => Err(Failure::Input {
+            diagnostics,
+            sources: parsed.sources.clone(),
+        }),
+    }
+}
+
+/// The steady state of a stage and what was measured on it.
+pub struct SteadyOutcome {
+    /// The periodic solution.
+    pub solution: PeriodicSolution,
+    /// Figures measured on it.
+    pub metrics: Metrics,
+}
+
+/// Everything computed for one file.
+pub struct Results {
+    /// The operating point (always computed first: every other analysis starts from it).
+    pub op: Option<OpResult>,
+    /// Each transient in file order.
+    pub transients: Vec<TransientResult>,
+    /// Each AC sweep in file order.
+    pub acs: Vec<AcResult>,
+    /// The first steady-state analysis, measured.
+    pub steady: Option<SteadyOutcome>,
+    /// Requirement verdicts (empty without a steady state or requirements).
+    pub verdicts: Vec<Verdict>,
+}
+
+/// Which analyses to run.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Scope {
+    /// Every analysis in the file.
+    All,
+    /// Only what the requirements need: the steady state.
+    Requirements,
+}
+
+/// Run the analyses of `circuit` (with `scope`), measure and evaluate.
+pub fn solve(circuit: &Circuit, scope: Scope) -> Result<Results, Failure> {
+    let devices: DeviceSet = tankwave_devices::instantiate(circuit)
+        .map_err(|e| Failure::Solve(format!("cannot build the devices: {e}")))?;
+    let mut res = Results {
+        op: None,
+        transients: Vec::new(),
+        acs: Vec::new(),
+        steady: None,
+        verdicts: Vec::new(),
+    };
+    let solve_err = |e: tankwave_solve::SolveError| Failure::Solve(e.to_string());
+    for a in &circuit.analyses {
+        match a {
+            Analysis::Op => {
+                if scope == Scope::All && res.op.is_none() {
+                    res.op = Some(
+                        tankwave_solve::operating_point(circuit, &devices, &OpParams::default())
+                            .map_err(solve_err)?,
+                    );
+                }
+            }
+            Analysis::Transient { .. } => {
+                if scope == Scope::All {
+                    let p = TransientParams::from_analysis(a).unwrap_or_default();
+                    res.transients.push(
+                        tankwave_solve::transient(circuit, &devices, &p).map_err(solve_err)?,
+                    );
+                }
+            }
+            Analysis::Ac { .. } => {
+                if scope == Scope::All {
+                    if let Some(p) = AcParams::from_analysis(a) {
+                        res.acs
+                            .push(tankwave_solve::ac(circuit, &devices, &p).map_err(solve_err)?);
+                    }
+                }
+            }
+            Analysis::Steady { .. } => {
+                if res.steady.is_some() {
+                    continue;
+                }
+                let Some(p) = SteadyParams::from_analysis(a) else {
+                    continue;
+                };
+                let solution = tankwave_solve::steady(circuit, &devices, &p).map_err(solve_err)?;
+                let metrics = measure(circuit, &solution)?;
+                res.steady = Some(SteadyOutcome { solution, metrics });
+            }
+        }
+    }
+    if let Some(s) = &res.steady {
+        res.verdicts = tankwave_measure::evaluate(circuit, &s.metrics);
+    } else if !circuit.requirements.is_empty() {
+        return Err(Failure::Setup(
+            "the file has `require` statements but no `analyze steady`: requirements are \
+             measured on the periodic steady state"
+                .to_string(),
+        ));
+    }
+    Ok(res)
+}
+
+/// Measure a periodic solution.
+pub fn measure(circuit: &Circuit, s: &PeriodicSolution) -> Result<Metrics, Failure> {
+    let n_nodes = circuit.nodes.len().min(s.x.len());
+    let data = PeriodData {
+        circuit,
+        freq: s.freq,
+        node_voltages: &s.x[..n_nodes],
+        terminal_currents: &s.terminal_currents,
+        harmonics: s.harmonics,
+    };
+    tankwave_measure::measure(&data, &MeasureParams::default())
+        .map_err(|e| Failure::Solve(format!("measuring the steady state: {e}")))
+}
