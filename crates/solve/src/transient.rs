@@ -15,7 +15,7 @@
 //! accepted when every row's estimate is within `reltol·max|q_r| + chgtol`
 //! (max over the run so far); the next step is `h·clamp(0.9·err^(−1/3), 0.2, 2)`.
 //! Device breakpoints are landed on exactly, and the integration restarts
-//! there (one small backward-Euler step, then the chosen method).
+//! there (one backward-Euler step of 1e-3 of the output step, then the chosen method).
 
 use crate::linalg::LinearSolver;
 use crate::newton::{self, Failure, System, Tolerances, Workspace};
@@ -557,7 +557,7 @@ pub fn transient(
         },
     };
     let hstart = hmax.min(p.step);
-    let h_restart = hstart * 1e-2;
+    let h_restart = hstart * 1e-3;
     let mut h = if p.fixed_step { hstart } else { h_restart };
     // Segment history of (t, q) for the error estimate.
     let mut seg: Vec<(f64, Vec<f64>)> = vec![(0.0, st.q.clone())];
