@@ -53,6 +53,7 @@
 //! temperature is an input), base push-out, excess phase, noise.
 
 use crate::contract::{val, Device, EvalCtx, EvalInfo, Idx, Stamp};
+use crate::error::DeviceError;
 use crate::junction::{self, Depletion};
 use tankwave_circuit::BjtParams;
 
@@ -214,6 +215,118 @@ impl BjtConstants {
             g_emitter: cond(p.r_emitter, area),
         }
     }
+}
+
+/// Check bipolar model parameters, and that they scale to finite, positive
+/// values at the area factor `area` and device temperature `temp_k`.
+/// `element` names the element in the error. Infinite values are accepted
+/// where they mean "absent" (Early voltages, knee currents, ratings, thermal
+/// resistances).
+pub fn check_params(
+    p: &BjtParams,
+    element: &str,
+    area: f64,
+    temp_k: f64,
+) -> Result<(), DeviceError> {
+    let bad = |param: &'static str, value: f64, reason: &'static str| {
+        Err(DeviceError::BadParameter {
+            element: element.to_string(),
+            param,
+            value,
+            reason,
+        })
+    };
+    let pos = |v: f64| v.is_finite() && v > 0.0;
+    let nonneg = |v: f64| v.is_finite() && v >= 0.0;
+    let pos_or_inf = |v: f64| v > 0.0; // false for NaN
+    for (name, v) in [
+        ("sat_current", p.sat_current),
+        ("gain_fwd", p.gain_fwd),
+        ("gain_rev", p.gain_rev),
+        ("emission_fwd", p.emission_fwd),
+        ("emission_rev", p.emission_rev),
+        ("leak_be_emission", p.leak_be_emission),
+        ("leak_bc_emission", p.leak_bc_emission),
+        ("vj_be", p.vj_be),
+        ("vj_bc", p.vj_bc),
+        ("t_measured", p.t_measured),
+    ] {
+        if !pos(v) {
+            return bad(name, v, "must be finite and > 0");
+        }
+    }
+    for (name, v) in [
+        ("leak_be", p.leak_be),
+        ("leak_bc", p.leak_bc),
+        ("r_base", p.r_base),
+        ("r_collector", p.r_collector),
+        ("r_emitter", p.r_emitter),
+        ("cj_be", p.cj_be),
+        ("cj_bc", p.cj_bc),
+        ("grading_be", p.grading_be),
+        ("grading_bc", p.grading_bc),
+        ("transit_fwd", p.transit_fwd),
+        ("transit_rev", p.transit_rev),
+        ("gap", p.gap),
+    ] {
+        if !nonneg(v) {
+            return bad(name, v, "must be finite and ≥ 0");
+        }
+    }
+    for (name, v) in [
+        ("early_fwd", p.early_fwd),
+        ("early_rev", p.early_rev),
+        ("knee_fwd", p.knee_fwd),
+        ("knee_rev", p.knee_rev),
+        ("max_vce", p.max_vce),
+        ("max_ic", p.max_ic),
+        ("max_power", p.max_power),
+        ("max_tj", p.max_tj),
+        ("rth_ja", p.rth_ja),
+        ("rth_jc", p.rth_jc),
+        ("rth_sink", p.rth_sink),
+    ] {
+        if !pos_or_inf(v) {
+            return bad(name, v, "must be > 0 (∞ = not given)");
+        }
+    }
+    if !(p.linear_from.is_finite() && (0.0..1.0).contains(&p.linear_from)) {
+        return bad("linear_from", p.linear_from, "must satisfy 0 ≤ F_C < 1");
+    }
+    for (name, v) in [
+        ("sat_temp_exp", p.sat_temp_exp),
+        ("gain_temp_exp", p.gain_temp_exp),
+    ] {
+        if !v.is_finite() {
+            return bad(name, v, "must be finite");
+        }
+    }
+    if !pos(area) {
+        return bad("area", area, "must be finite and > 0");
+    }
+    if !pos(temp_k) {
+        return bad("temperature", temp_k, "must be finite and > 0 K");
+    }
+    let k = BjtConstants::new(p, area, temp_k);
+    for (name, v) in [
+        ("sat_current", k.is),
+        ("gain_fwd", k.gain_fwd),
+        ("gain_rev", k.gain_rev),
+    ] {
+        if !pos(v) {
+            return bad(
+                name,
+                v,
+                "scales to 0 or overflows at this temperature and area",
+            );
+        }
+    }
+    for (name, v) in [("leak_be", k.ise), ("leak_bc", k.isc)] {
+        if !nonneg(v) {
+            return bad(name, v, "overflows at this temperature and area");
+        }
+    }
+    Ok(())
 }
 
 /// Normalised base charge and its factors, with derivatives.

@@ -46,7 +46,7 @@ fn op(q: &Bjt, vbe: f64, vbc: f64, name: &str) -> f64 {
         .expect("op_info figure present")
 }
 
-fn check_params() -> BjtParams {
+fn check_values_set() -> BjtParams {
     BjtParams {
         sat_current: 1e-15,
         gain_fwd: 100.0,
@@ -68,7 +68,7 @@ fn check_params() -> BjtParams {
 /// unit in the last digit.
 #[test]
 fn check_point_of_check_values() {
-    let p = check_params();
+    let p = check_values_set();
     let q = grounded_emitter(&p, 300.15);
     let (ic, ib) = currents(&q, 0.80, -5.0);
     assert!((ic - 22.6117e-3).abs() <= 0.5e-7, "IC {ic}");
@@ -333,5 +333,191 @@ fn temperature_scaling_of_is_and_gain() {
             k.is
         );
         assert!((k.gain_fwd / (50.0 * r.powf(1.7)) - 1.0).abs() < 1e-12);
+    }
+}
+
+/// Parameter checks: defaults pass, each invalid value is refused with the
+/// parameter named and the number carried (project rule: typed errors).
+#[test]
+fn parameter_checks() {
+    use tankwave_devices::bjt::check_params;
+    use tankwave_devices::DeviceError;
+    assert!(check_params(&BjtParams::default(), "q1", 1.0, 300.0).is_ok());
+    assert!(check_params(&check_values_set(), "q1", 2.0, 400.0).is_ok());
+    let cases: Vec<(&str, BjtParams)> = vec![
+        (
+            "sat_current",
+            BjtParams {
+                sat_current: 0.0,
+                ..BjtParams::default()
+            },
+        ),
+        (
+            "gain_fwd",
+            BjtParams {
+                gain_fwd: f64::NAN,
+                ..BjtParams::default()
+            },
+        ),
+        (
+            "early_fwd",
+            BjtParams {
+                early_fwd: -10.0,
+                ..BjtParams::default()
+            },
+        ),
+        (
+            "knee_rev",
+            BjtParams {
+                knee_rev: 0.0,
+                ..BjtParams::default()
+            },
+        ),
+        (
+            "r_base",
+            BjtParams {
+                r_base: -1.0,
+                ..BjtParams::default()
+            },
+        ),
+        (
+            "linear_from",
+            BjtParams {
+                linear_from: 1.0,
+                ..BjtParams::default()
+            },
+        ),
+        (
+            "vj_bc",
+            BjtParams {
+                vj_bc: 0.0,
+                ..BjtParams::default()
+            },
+        ),
+        (
+            "max_power",
+            BjtParams {
+                max_power: f64::NAN,
+                ..BjtParams::default()
+            },
+        ),
+        // IS scaled from 1e-300 at 298 K down to 50 K underflows to 0
+        (
+            "sat_current",
+            BjtParams {
+                sat_current: 1e-300,
+                ..BjtParams::default()
+            },
+        ),
+    ];
+    for (want, p) in cases {
+        let temp = if p.sat_current == 1e-300 { 50.0 } else { 300.0 };
+        match check_params(&p, "q7", 1.0, temp) {
+            Err(DeviceError::BadParameter { element, param, .. }) => {
+                assert_eq!(element, "q7");
+                assert_eq!(param, want);
+            }
+            other => panic!("{want}: {other:?}"),
+        }
+    }
+    assert!(check_params(&BjtParams::default(), "q1", 0.0, 300.0).is_err());
+    assert!(check_params(&BjtParams::default(), "q1", 1.0, -1.0).is_err());
+}
+
+/// Area factor: a device of area A is A identical devices in parallel (common
+/// practice): currents and charges scale by A and resistances by 1/A, so the
+/// whole stamp scales by A at the same node voltages (rounding only, 1e-13).
+#[test]
+fn area_factor_is_parallel_devices() {
+    use tankwave_devices::bjt::BjtNodes as N;
+    let p = BjtParams {
+        r_base: 2.0,
+        r_collector: 0.3,
+        r_emitter: 0.1,
+        cj_be: 1e-9,
+        cj_bc: 2e-10,
+        transit_fwd: 1e-9,
+        transit_rev: 1e-8,
+        ..check_values_set()
+    };
+    let nodes = N {
+        c: Some(0),
+        b: Some(1),
+        e: Some(2),
+        ci: Some(3),
+        bi: Some(4),
+        ei: Some(5),
+    };
+    let one = Bjt::new(0, nodes, &p, 1.0, 300.0);
+    let three = Bjt::new(0, nodes, &p, 3.0, 300.0);
+    for &(vbe, vbc) in &[(0.75, -4.0), (0.8, 0.6), (-1.0, 0.7), (0.9, -1.0)] {
+        let x = [
+            0.3 - vbc + vbe + 0.01,
+            vbe + 0.3 + 0.02,
+            0.29,
+            0.3 + vbe - vbc,
+            0.3 + vbe,
+            0.3,
+        ];
+        let mut a = DenseStamp::new(6);
+        let mut b = DenseStamp::new(6);
+        one.eval(&x, &ctx0(), &mut [0.0; 2], &mut a);
+        three.eval(&x, &ctx0(), &mut [0.0; 2], &mut b);
+        let close = |u: f64, v: f64, s: f64| (3.0 * u - v).abs() <= 1e-13 * s;
+        let si = a.i.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        let sq = a.q.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        let sg = a.g.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        let sc = a.c.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        for k in 0..6 {
+            assert!(close(a.i[k], b.i[k], si) && close(a.q[k], b.q[k], sq));
+        }
+        for k in 0..36 {
+            assert!(close(a.g[k], b.g[k], sg) && close(a.c[k], b.c[k], sc));
+        }
+    }
+}
+
+/// The q1 denominator floor (this project's guard, documented in
+/// docs/models.md): exact 1/d for d ≥ 0.1; below, d_f = 0.01/(0.2 − d), which
+/// is positive, continuous with unit slope at d = 0.1, so q1 stays finite and
+/// positive and ∂IC/∂VBE stays consistent (checked by central difference,
+/// h = 1e-7 V, tolerance 1e-6 as in the Jacobian test).
+#[test]
+fn q1_floor_keeps_base_charge_positive_and_smooth() {
+    let p = BjtParams {
+        early_rev: 0.5, // d = 1 − VBE/0.5 crosses 0.1 at VBE = 0.45 V
+        ..BjtParams::default()
+    };
+    let q = grounded_emitter(&p, 300.0);
+    let k = q.constants();
+    let mut last = 0.0;
+    for i in 0..=200 {
+        let vbe = -1.0 + 0.01 * i as f64; // up to 1 V: d down to −1
+        let t = intrinsic(k, vbe, 0.0, 0.0);
+        let d = 1.0 - vbe / 0.5;
+        let want = if d >= 0.1 { 1.0 / d } else { (0.2 - d) / 0.01 };
+        assert!(t.base.q1 > 0.0 && t.base.q1.is_finite());
+        assert!((t.base.q1 / want - 1.0).abs() < 1e-12, "q1 at {vbe}");
+        assert!(t.base.q1 >= last, "q1 rises monotonically with VBE");
+        last = t.base.q1;
+    }
+    // continuity of value and slope at the joint
+    let j = 0.45;
+    let (lo, hi) = (
+        intrinsic(k, j - 1e-9, 0.0, 0.0),
+        intrinsic(k, j + 1e-9, 0.0, 0.0),
+    );
+    assert!((lo.base.q1 - hi.base.q1).abs() < 1e-6);
+    assert!((lo.base.dq1_dvbe / hi.base.dq1_dvbe - 1.0).abs() < 1e-6);
+    for &vbe in &[0.44, 0.46, 0.6, 0.9] {
+        let h = 1e-7;
+        let t = intrinsic(k, vbe, -2.0, 0.0);
+        let fd =
+            (intrinsic(k, vbe + h, -2.0, 0.0).ic - intrinsic(k, vbe - h, -2.0, 0.0).ic) / (2.0 * h);
+        assert!(
+            (fd / t.dic_dvbe - 1.0).abs() < 1e-6,
+            "at {vbe}: {fd} vs {}",
+            t.dic_dvbe
+        );
     }
 }
