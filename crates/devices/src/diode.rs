@@ -216,7 +216,12 @@ impl Diode {
                 self.n_vt,
                 self.vcrit_bv,
             );
-            (-m - self.bv, l)
+            // Unlimited: return the voltage itself (the mirror round trip could round).
+            if l {
+                (-m - self.bv, true)
+            } else {
+                (vnew, false)
+            }
         } else {
             limit_junction(vnew, vold, self.n_vt, self.vcrit)
         }

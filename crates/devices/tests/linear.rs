@@ -400,3 +400,100 @@ fn bad_inputs_are_typed_errors() {
         Err(DeviceError::BadParameter { .. })
     ));
 }
+
+/// Small-signal solve at angular frequency `w` for the excitation of element
+/// `src`: (G + jωC) X = b written as the real block system
+/// [[G, −ωC], [ωC, G]] [Xr; Xi] = [b; 0]. Returns (Xr, Xi).
+fn ac_solve(set: &tankwave_devices::DeviceSet, src: usize, w: f64) -> (Vec<f64>, Vec<f64>) {
+    let n = set.n_unknowns;
+    let s = stamp_all(set, &vec![0.0; n], &EvalCtx::default());
+    let m = 2 * n;
+    let mut a = vec![0.0; m * m];
+    for r in 0..n {
+        for c in 0..n {
+            a[r * m + c] = s.g_at(r, c);
+            a[(r + n) * m + c + n] = s.g_at(r, c);
+            a[r * m + c + n] = -w * s.c_at(r, c);
+            a[(r + n) * m + c] = w * s.c_at(r, c);
+        }
+    }
+    let mut b = vec![0.0; m];
+    let d = set.devices.iter().find(|d| d.element() == src).unwrap();
+    d.ac_excitation(&mut |r, v| b[r] += v);
+    let x = solve(a, b);
+    (x[..n].to_vec(), x[n..].to_vec())
+}
+
+// Coupled coils with currents entering the first terminals:
+// V1 = jωL1 I1 + jωM I2, V2 = jωM I1 + jωL2 I2 (W. H. Hayt, J. E. Kemmerly,
+// Engineering Circuit Analysis, ch. "Magnetically coupled circuits"; from memory).
+// Open secondary: V2/V1 = M/L1 = k √(L2/L1).
+#[test]
+fn coupled_coils_open_secondary_ratio() {
+    let c = circuit(
+        &["in", "out"],
+        vec![
+            ("v1", vsrc(Some(0), None, dc(0.0), 0.0)),
+            ("l1", ind(Some(0), None, 1e-6, 0.0)),
+            ("l2", ind(Some(1), None, 4e-6, 0.0)),
+            (
+                "k1",
+                ElementKind::Coupling {
+                    inductors: vec![1, 2],
+                    k: 0.9,
+                },
+            ),
+            ("rl", res(Some(1), None, 1e9)),
+        ],
+    );
+    let set = instantiate(&c).unwrap();
+    let (xr, xi) = ac_solve(&set, 0, std::f64::consts::TAU * 1e6);
+    assert!((xr[0] - 1.0).abs() < 1e-12 && xi[0].abs() < 1e-12);
+    // The 1 GΩ load draws ~1.8 nA: relative loading ≈ ωL2/1e9 ≈ 2.5e-8.
+    assert!(
+        (xr[1] - 1.8).abs() < 1e-6,
+        "v(out) = {} + j{}",
+        xr[1],
+        xi[1]
+    );
+    assert!(xi[1].abs() < 1e-6);
+}
+
+// Series connection of coupled coils: L = L1 + L2 ± 2M, aiding when the current
+// enters both at their first terminal (same textbook, from memory).
+#[test]
+fn coupled_coils_in_series_aid_and_oppose() {
+    for (k, l_eq) in [
+        (0.5, 1e-6 + 4e-6 + 2.0 * 1e-6),
+        (-0.5, 1e-6 + 4e-6 - 2.0 * 1e-6),
+    ] {
+        let c = circuit(
+            &["in", "mid"],
+            vec![
+                ("v1", vsrc(Some(0), None, dc(0.0), 0.0)),
+                ("l1", ind(Some(0), Some(1), 1e-6, 0.0)),
+                ("l2", ind(Some(1), None, 4e-6, 0.0)),
+                (
+                    "k1",
+                    ElementKind::Coupling {
+                        inductors: vec![1, 2],
+                        k,
+                    },
+                ),
+            ],
+        );
+        let set = instantiate(&c).unwrap();
+        let w = std::f64::consts::TAU * 3e6;
+        let (xr, xi) = ac_solve(&set, 0, w);
+        // The circuit draws −j from the source: Z = 1 / (−j) = jωL_eq.
+        let (jr, ji) = (-xr[2], -xi[2]);
+        let den = jr * jr + ji * ji;
+        let (zr, zi) = (jr / den, -ji / den);
+        assert!(zr.abs() < 1e-9 * zi.abs(), "k={k}: Z = {zr} + j{zi}");
+        assert!(
+            (zi - w * l_eq).abs() < 1e-12 * w * l_eq,
+            "k={k}: X = {zi}, want {}",
+            w * l_eq
+        );
+    }
+}
