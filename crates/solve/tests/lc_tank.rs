@@ -103,8 +103,14 @@ fn bdf2_damps_tank_energy_as_its_root_predicts() {
     eprintln!(
         "BDF2 at {steps_per_period} steps/period: energy ratio over {nsteps} steps {ratio:.9}, theory {expected:.9}"
     );
-    assert!(expected < 0.99, "the test must see real damping: {expected}");
+    assert!(
+        expected < 0.99,
+        "the test must see real damping: {expected}"
+    );
     // The discrete solution is exactly geometric in the principal root; 1e-6
     // allows rounding and the (1/3)^200 parasitic remnant.
-    assert!((ratio / expected - 1.0).abs() < 1e-6, "{ratio} vs {expected}");
+    assert!(
+        (ratio / expected - 1.0).abs() < 1e-6,
+        "{ratio} vs {expected}"
+    );
 }
