@@ -232,6 +232,7 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                 };
                 let area = positive(name, "area", *area)?;
                 positive(name, "temperature", temp)?;
+                crate::bjt::check_params(p, name, area, temp)?;
                 let (nc, nb, ne) = (b.node(name, *c)?, b.node(name, *bb)?, b.node(name, *e)?);
                 let need = Bjt::internal_nodes_needed(p);
                 let mut internal = |need: bool, ext: Idx, tag: &str| {

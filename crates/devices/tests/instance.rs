@@ -179,3 +179,31 @@ fn model_kind_mismatch_and_temperature_are_refused() {
         })
     ));
 }
+
+#[test]
+fn bjt_parameters_are_checked() {
+    let mut c = circuit(
+        &["c", "b"],
+        vec![(
+            "q1",
+            ElementKind::Bjt {
+                c: Some(0),
+                b: Some(1),
+                e: None,
+                model: 0,
+                area: 1.0,
+            },
+        )],
+    );
+    c.models.push(model(
+        "qa",
+        ModelParams::Bjt(BjtParams {
+            sat_current: -1.0,
+            ..BjtParams::default()
+        }),
+    ));
+    assert!(matches!(
+        instantiate(&c),
+        Err(DeviceError::BadParameter { .. })
+    ));
+}
