@@ -162,10 +162,16 @@ fn exponent(i: &str) -> IResult<&str, &str> {
     recognize((one_of("eE"), opt(one_of("+-")), digit1)).parse(i)
 }
 
-/// Suffix characters: letters, µ, μ, Ω, %.
+/// Suffix characters: letters, µ, μ, Ω, % (digits or dots here make a bad number).
 fn suffix(i: &str) -> IResult<&str, &str> {
     take_while(|c: char| {
-        c.is_ascii_alphanumeric() || c == '_' || c == 'µ' || c == 'μ' || c == 'Ω' || c == '%'
+        c.is_ascii_alphanumeric()
+            || c == '_'
+            || c == '.'
+            || c == 'µ'
+            || c == 'μ'
+            || c == 'Ω'
+            || c == '%'
     })
     .parse(i)
 }

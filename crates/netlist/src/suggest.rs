@@ -1,20 +1,32 @@
 //! Near-name suggestions ("did you mean ...?") by edit distance.
 
-/// Levenshtein distance between two strings (in characters).
+/// Edit distance between two strings (in characters): insertions, deletions,
+/// substitutions and transpositions of neighbours each count 1 (the
+/// "optimal string alignment" variant of the Damerau–Levenshtein distance).
 pub fn edit_distance(a: &str, b: &str) -> usize {
     let a: Vec<char> = a.chars().collect();
     let b: Vec<char> = b.chars().collect();
-    let mut prev: Vec<usize> = (0..=b.len()).collect();
-    let mut cur = vec![0; b.len() + 1];
-    for (i, ca) in a.iter().enumerate() {
-        cur[0] = i + 1;
-        for (j, cb) in b.iter().enumerate() {
-            let sub = prev[j] + usize::from(ca != cb);
-            cur[j + 1] = sub.min(prev[j + 1] + 1).min(cur[j] + 1);
-        }
-        std::mem::swap(&mut prev, &mut cur);
+    let w = b.len() + 1;
+    let mut d = vec![0usize; (a.len() + 1) * w];
+    for i in 0..=a.len() {
+        d[i * w] = i;
     }
-    prev[b.len()]
+    for (j, x) in d.iter_mut().enumerate().take(w) {
+        *x = j;
+    }
+    for i in 1..=a.len() {
+        for j in 1..=b.len() {
+            let cost = usize::from(a[i - 1] != b[j - 1]);
+            let mut v = (d[(i - 1) * w + j] + 1)
+                .min(d[i * w + j - 1] + 1)
+                .min(d[(i - 1) * w + j - 1] + cost);
+            if i > 1 && j > 1 && a[i - 1] == b[j - 2] && a[i - 2] == b[j - 1] {
+                v = v.min(d[(i - 2) * w + j - 2] + 1);
+            }
+            d[i * w + j] = v;
+        }
+    }
+    d[a.len() * w + b.len()]
 }
 
 /// The closest candidate to `name`, if close enough to be a likely typo
@@ -58,6 +70,8 @@ mod tests {
         assert_eq!(edit_distance("kitten", "sitting"), 3);
         assert_eq!(edit_distance("", "abc"), 3);
         assert_eq!(edit_distance("same", "same"), 0);
+        // A swap of neighbours counts once.
+        assert_eq!(edit_distance("rlaod", "rload"), 1);
     }
 
     #[test]
