@@ -23,6 +23,7 @@ pub mod lowpass;
 pub mod matching;
 pub mod network;
 pub mod si;
+pub mod verify;
 
 pub use choke::{design_choke, ChokeDesign, ChokeParams};
 pub use error::DesignError;
@@ -34,3 +35,7 @@ pub use lowpass::{
 pub use matching::{design_match, Absorption, ComplexValue, MatchDesign, MatchParams, MatchShape};
 pub use network::{HarmonicGain, Naming, Network, NetworkElement, Part, Placement};
 pub use si::format_si;
+pub use verify::{
+    circuit_for, verify_lowpass, verify_match, verify_network, Verification, VerifyParams,
+    VerifyPoint,
+};

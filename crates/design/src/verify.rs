@@ -1,0 +1,302 @@
+//! Verification of a designed network by tankwave's own AC analysis.
+//!
+//! [`circuit_for`] builds a [`tankwave_circuit::Circuit`] around a
+//! [`Network`]: a voltage source `vtest` from node `<input>` to ground with
+//! source resistance equal to the design's source resistance, the ladder, and
+//! a load resistor `rload` of the design's load resistance at `<output>`.
+//! [`verify_network`] runs the AC analysis of tankwave-solve at the
+//! fundamental and its harmonics (one linear sweep, f0 … N·f0, N points) and
+//! measures, from the node voltages and the source branch current of the
+//! unit-amplitude excitation:
+//! - the input impedance `Zin = V(in) / I`, with `I` the current the source
+//!   delivers into the network,
+//! - the transducer gain `GT = (|V(out)|²/RL) / (1/(4 Rs))` (load power over
+//!   the available power of a 1 V source behind Rs).
+//!
+//! It compares them with an expected input impedance (R1 for a matching
+//! network) and with predicted gains (chain-matrix arithmetic for a matching
+//! network, the closed-form prototype attenuation for a low-pass ladder). The
+//! default acceptance is 0.1 % on the impedance and 0.1 dB on each gain.
+
+use num_complex::Complex64;
+use serde::Serialize;
+
+use crate::error::{positive, DesignError};
+use crate::lowpass::LowpassDesign;
+use crate::matching::{ComplexValue, MatchDesign};
+use crate::network::{Network, Part, Placement};
+use tankwave_circuit::{Circuit, Element, ElementKind, NodeId, Origin, Scale, Waveform};
+
+/// Options of the verification.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct VerifyParams {
+    /// Highest harmonic checked (1 = fundamental only), clamped to 1..=50. Default 5.
+    pub harmonics: u32,
+    /// Acceptance on the input impedance, relative `|Zmeas − Zexp|/|Zexp|`. Default 1e-3.
+    pub zin_tolerance: f64,
+    /// Acceptance on each gain, dB. Default 0.1.
+    pub gain_tolerance_db: f64,
+}
+
+impl Default for VerifyParams {
+    fn default() -> Self {
+        Self {
+            harmonics: 5,
+            zin_tolerance: 1e-3,
+            gain_tolerance_db: 0.1,
+        }
+    }
+}
+
+/// One checked frequency.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct VerifyPoint {
+    /// Harmonic number.
+    pub harmonic: u32,
+    /// Frequency, Hz.
+    pub freq: f64,
+    /// Predicted transducer gain, dB.
+    pub predicted_db: f64,
+    /// Transducer gain from the AC analysis, dB.
+    pub measured_db: f64,
+    /// measured − predicted, dB.
+    pub diff_db: f64,
+}
+
+/// How the AC run went.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct VerifyInfo {
+    /// Unknowns in the solved circuit.
+    pub unknowns: usize,
+    /// Newton iterations of the operating point before the AC sweep.
+    pub op_iterations: usize,
+}
+
+/// Result of [`verify_network`].
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Verification {
+    /// What did the measuring.
+    pub method: String,
+    /// Fundamental, Hz.
+    pub f0: f64,
+    /// Expected input impedance at f0, Ω.
+    pub zin_expected: ComplexValue,
+    /// Input impedance at f0 from the AC analysis, Ω.
+    pub zin_measured: ComplexValue,
+    /// `|Zmeas − Zexp| / |Zexp|`.
+    pub zin_error: f64,
+    /// Gains at the harmonics.
+    pub points: Vec<VerifyPoint>,
+    /// Whether every figure is within the tolerances of the [`VerifyParams`].
+    pub passed: bool,
+    /// Tolerances used.
+    pub params: VerifyParams,
+    /// Solver figures.
+    pub info: VerifyInfo,
+}
+
+/// Name of the test source in [`circuit_for`].
+pub const SOURCE_NAME: &str = "vtest";
+/// Name of the load resistor in [`circuit_for`].
+pub const LOAD_NAME: &str = "rload";
+
+/// Build the test circuit around `net` (see the module doc).
+pub fn circuit_for(net: &Network) -> Result<Circuit, DesignError> {
+    positive("source resistance", net.source_resistance)?;
+    positive("load resistance", net.load_resistance)?;
+    let mut c = Circuit {
+        title: Some("design verification".into()),
+        temperature_k: 298.15,
+        ..Circuit::default()
+    };
+    let node = |c: &mut Circuit, name: &str| -> NodeId {
+        if name == "gnd" {
+            return None;
+        }
+        if let Some(i) = c.nodes.iter().position(|n| n == name) {
+            return Some(i);
+        }
+        c.nodes.push(name.to_string());
+        Some(c.nodes.len() - 1)
+    };
+    let input = node(&mut c, &net.input_node);
+    let output = node(&mut c, &net.output_node);
+    let origin = Origin::default();
+    c.elements.push(Element {
+        name: SOURCE_NAME.into(),
+        kind: ElementKind::VSource {
+            p: input,
+            n: None,
+            wave: Waveform::default(),
+            rs: net.source_resistance,
+        },
+        origin: origin.clone(),
+    });
+    c.input = Some(0);
+    for e in &net.elements {
+        positive("element value", e.value)?;
+        let a = node(&mut c, &e.node_a);
+        let b = match e.placement {
+            Placement::Shunt => None,
+            Placement::Series => node(&mut c, &e.node_b),
+        };
+        let kind = match e.part {
+            Part::Inductor => ElementKind::Inductor {
+                a,
+                b,
+                l: e.value,
+                series_r: 0.0,
+                rating_a: None,
+            },
+            Part::Capacitor => ElementKind::Capacitor {
+                a,
+                b,
+                c: e.value,
+                rating_v: None,
+            },
+        };
+        c.elements.push(Element {
+            name: e.name.clone(),
+            kind,
+            origin: origin.clone(),
+        });
+    }
+    c.elements.push(Element {
+        name: LOAD_NAME.into(),
+        kind: ElementKind::Resistor {
+            a: output,
+            b: None,
+            r: net.load_resistance,
+            rating_w: None,
+        },
+        origin,
+    });
+    c.output = Some(c.elements.len() - 1);
+    Ok(c)
+}
+
+/// Verify `net` at `f0` and its harmonics by AC analysis against
+/// `zin_expected` at f0 and `predicted_db[k]` at harmonic k + 1 (entries
+/// beyond [`VerifyParams::harmonics`] are ignored; missing ones are not
+/// checked).
+pub fn verify_network(
+    net: &Network,
+    f0: f64,
+    zin_expected: Complex64,
+    predicted_db: &[f64],
+    params: &VerifyParams,
+) -> Result<Verification, DesignError> {
+    positive("fundamental frequency", f0)?;
+    let nh = params.harmonics.clamp(1, 50);
+    let circuit = circuit_for(net)?;
+    let devices =
+        tankwave_devices::instantiate(&circuit).map_err(|e| DesignError::Solver(e.to_string()))?;
+    let ac_params = tankwave_solve::AcParams {
+        from: f0,
+        to: f0 * nh as f64,
+        points: nh as usize,
+        scale: Scale::Linear,
+        source: Some(0),
+        ..tankwave_solve::AcParams::default()
+    };
+    let res = tankwave_solve::ac(&circuit, &devices, &ac_params)
+        .map_err(|e| DesignError::Solver(e.to_string()))?;
+    let idx = |name: &str| {
+        res.index(name)
+            .ok_or_else(|| DesignError::Solver(format!("the AC result has no unknown {name}")))
+    };
+    let k_in = idx(&format!("v({})", net.input_node))?;
+    let k_out = idx(&format!("v({})", net.output_node))?;
+    let k_src = idx(&format!("i({SOURCE_NAME})"))?;
+    let (rs, rl) = (net.source_resistance, net.load_resistance);
+    let mut points = Vec::new();
+    let mut zin_measured = Complex64::new(f64::NAN, f64::NAN);
+    for (k, x) in res.x.iter().enumerate() {
+        let get = |i: usize| {
+            x.get(i)
+                .copied()
+                .ok_or_else(|| DesignError::Solver("AC result shorter than its names".into()))
+        };
+        let (vin, vout, j) = (get(k_in)?, get(k_out)?, get(k_src)?);
+        let f = res.freq.get(k).copied().unwrap_or(f0);
+        if k == 0 {
+            // The source's branch current flows from its + terminal through
+            // it, so the current into the network is −j.
+            zin_measured = vin / (-j);
+        }
+        let gt = (vout.norm_sqr() / rl) / (1.0 / (4.0 * rs));
+        let measured_db = 10.0 * gt.log10();
+        if let Some(&p) = predicted_db.get(k) {
+            points.push(VerifyPoint {
+                harmonic: k as u32 + 1,
+                freq: f,
+                predicted_db: p,
+                measured_db,
+                diff_db: measured_db - p,
+            });
+        }
+    }
+    let zin_error = (zin_measured - zin_expected).norm() / zin_expected.norm();
+    let all_finite = zin_error.is_finite()
+        && points
+            .iter()
+            .all(|p| p.measured_db.is_finite() && p.predicted_db.is_finite());
+    if !all_finite {
+        return Err(DesignError::NonFinite {
+            what: "verification figure",
+            value: zin_error,
+        });
+    }
+    let passed = zin_error <= params.zin_tolerance
+        && points
+            .iter()
+            .all(|p| p.diff_db.abs() <= params.gain_tolerance_db);
+    Ok(Verification {
+        method: "tankwave AC analysis (tankwave-solve ac) of the network between a source of resistance R1 and a load resistor R2".into(),
+        f0,
+        zin_expected: zin_expected.into(),
+        zin_measured: zin_measured.into(),
+        zin_error,
+        points,
+        passed,
+        params: *params,
+        info: VerifyInfo {
+            unknowns: devices.n_unknowns,
+            op_iterations: res.op.info.iterations,
+        },
+    })
+}
+
+/// Verify a matching network: input impedance R1 (+j0) at f0, and the
+/// chain-matrix transducer gains at the harmonics. The absorbed output
+/// capacitance, if any, is included as a shunt at the input.
+pub fn verify_match(d: &MatchDesign, params: &VerifyParams) -> Result<Verification, DesignError> {
+    let net = d.analysis_network();
+    let predicted: Vec<f64> = (1..=params.harmonics.clamp(1, 50))
+        .map(|n| net.transducer_gain_db(d.freq * n as f64))
+        .collect();
+    verify_network(
+        &net,
+        d.freq,
+        Complex64::new(d.r_from, 0.0),
+        &predicted,
+        params,
+    )
+}
+
+/// Verify a low-pass ladder: the input impedance at the fundamental against
+/// the chain-matrix value, and the gain at the harmonics against the
+/// closed-form prototype attenuation `−LA(f/fc)`.
+pub fn verify_lowpass(
+    d: &LowpassDesign,
+    params: &VerifyParams,
+) -> Result<Verification, DesignError> {
+    let predicted: Vec<f64> = (1..=params.harmonics.clamp(1, 50))
+        .map(|n| {
+            crate::lowpass::attenuation_db(d.kind, d.order, d.fundamental * n as f64 / d.cutoff)
+                .map(|la| -la)
+        })
+        .collect::<Result<_, _>>()?;
+    let zin = d.network.input_impedance(d.fundamental);
+    verify_network(&d.network, d.fundamental, zin, &predicted, params)
+}
