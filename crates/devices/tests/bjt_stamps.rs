@@ -421,3 +421,26 @@ fn operating_points_converge_from_zero() {
         }
     }
 }
+
+proptest::proptest! {
+    /// No input voltages, however wild, produce a non-finite stamp or
+    /// operating-point figure (project rule: never a NaN), with and without
+    /// limiting, npn and pnp. Common practice for a robust device model.
+    #[test]
+    fn stamps_are_finite_everywhere(
+        v in proptest::collection::vec(-1e3f64..1e3, 6),
+        old in proptest::collection::vec(-50f64..50.0, 2),
+        pnp in proptest::bool::ANY,
+        limit in proptest::bool::ANY,
+    ) {
+        let q = six_node(&full_params(pnp));
+        let ctx = EvalCtx { limit, ..EvalCtx::default() };
+        let mut st = DenseStamp::new(6);
+        let mut s = [old[0], old[1]];
+        q.eval(&v, &ctx, &mut s, &mut st);
+        proptest::prop_assert!(st.i.iter().chain(&st.q).chain(&st.g).chain(&st.c).all(|x| x.is_finite()));
+        proptest::prop_assert!(s.iter().all(|x| x.is_finite()));
+        let info = q.op_info(&v, &ctx);
+        proptest::prop_assert_eq!(info.len(), 12);
+    }
+}
