@@ -12,21 +12,21 @@
 //! Q(V)   = A·Q_dep(V) + τ·I_f                                 charge on a' (−Q on k)
 //! ```
 //!
-//! * `IS(T)` is scaled from `t_measured` with [`junction::sat_current_at`].
+//! * `IS(T)` is scaled from `t_measured` with [`crate::junction::sat_current_at`].
 //! * `I_b` equals `−A·IBV` exactly at `V = −BV` and grows by e every `nV_t`
 //!   further in reverse. At zero bias it is `A·IBV·exp(−BV/(nV_t))`, negligible
 //!   for any breakdown above a few tenths of a volt.
-//! * `Q_dep` is the graded-junction depletion charge of [`junction::Depletion`]
+//! * `Q_dep` is the graded-junction depletion charge of [`crate::junction::Depletion`]
 //!   (C_j0 scaled by `A`); the diffusion charge uses the ideal forward current
 //!   only (not the breakdown or gmin parts).
 //! * With `r_series > 0` the diode owns an internal anode node `a'` and puts a
 //!   conductance `A / r_series` between `a` and `a'` (the series resistance
 //!   scales inversely with area).
-//! * Exponentials go through [`junction::exp_guarded`].
+//! * Exponentials go through [`crate::junction::exp_guarded`].
 //!
 //! Limiting (when [`EvalCtx::limit`]): the junction voltage is limited against
 //! the previous one (kept in the device's single state slot) with
-//! [`junction::limit_junction`] in forward bias; with a finite breakdown and a
+//! [`crate::junction::limit_junction`] in forward bias; with a finite breakdown and a
 //! negative new voltage the same limiter is applied to the mirrored voltage
 //! `−(V + BV)` with the breakdown critical voltage `nV_t ln(nV_t/(√2 A·IBV))`.
 //! The stamp is then the linearisation about the limited voltage
