@@ -321,6 +321,11 @@ impl Plan {
         })
     }
 
+    /// Every variant in index order, built one at a time.
+    pub fn iter(&self) -> impl Iterator<Item = Result<Variant, StudyError>> + '_ {
+        (0..self.total).map(|i| self.variant(i))
+    }
+
     /// Length of the innermost sweep (1 without `vary`).
     fn line_len(&self) -> u64 {
         self.axes.last().map(|a| a.values.len() as u64).unwrap_or(1)
