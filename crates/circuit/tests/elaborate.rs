@@ -1,0 +1,329 @@
+//! Elaboration of valid stage files: values, units, expressions, overrides,
+//! topology warnings.
+
+use approx::assert_relative_eq;
+use std::path::Path;
+use tankwave_circuit::*;
+
+fn class_c() -> Parsed {
+    parse_file(Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/class_c.tank"))
+}
+
+fn load(text: &str) -> Elaborated {
+    match load_str("t.tank", text, &Overrides::default()) {
+        Ok(e) => e,
+        Err(e) => panic!("{:#?}", e.diagnostics),
+    }
+}
+
+fn elem<'a>(c: &'a Circuit, name: &str) -> &'a ElementKind {
+    &c.elements[c.element(name).expect("element")].kind
+}
+
+#[test]
+fn class_c_stage_elaborates() {
+    let p = class_c();
+    assert!(p.diagnostics.is_empty(), "{:#?}", p.diagnostics);
+    let e = elaborate(&p, &Overrides::default()).expect("valid");
+    let c = &e.circuit;
+    assert_eq!(
+        c.nodes,
+        vec!["vcc", "src", "base", "coll", "p1", "out"],
+        "first-appearance order"
+    );
+    assert_eq!(c.elements.len(), 11);
+    // 25 degC = 298.15 K (SI Brochure 9th ed., 2.3.1: T/K = t/degC + 273.15).
+    assert_eq!(c.temperature_k, 298.15);
+    let f0 = 13.56e6;
+    // Inductor loss from Q: r = 2 pi f L / Q (definition of Q of a series RL), f from analyze steady.
+    match elem(c, "lpi") {
+        ElementKind::Inductor { l, series_r, .. } => {
+            assert_relative_eq!(*l, 0.56e-6, max_relative = 1e-15);
+            assert_relative_eq!(
+                *series_r,
+                2.0 * std::f64::consts::PI * f0 * 0.56e-6 / 180.0,
+                max_relative = 1e-12
+            );
+        }
+        k => panic!("{k:?}"),
+    }
+    match elem(c, "cld") {
+        ElementKind::Capacitor { c, .. } => assert_relative_eq!(*c, 680e-12, max_relative = 1e-15),
+        k => panic!("{k:?}"),
+    }
+    match elem(c, "vdrv") {
+        ElementKind::VSource { wave, rs, .. } => {
+            assert_eq!(*rs, 50.0);
+            assert_eq!(
+                wave.shape,
+                Some(Shape::Sine {
+                    amp: 4.0,
+                    freq: f0,
+                    phase: 0.0,
+                    offset: 0.0,
+                    delay: 0.0,
+                    rise: 0.0
+                })
+            );
+        }
+        k => panic!("{k:?}"),
+    }
+    assert_eq!(c.output, c.element("rload"));
+    assert_eq!(c.input, c.element("vdrv"));
+    let m = &c.models[0];
+    match &m.params {
+        ModelParams::Bjt(b) => {
+            assert!(!b.pnp);
+            assert_eq!(b.gain_fwd, 60.0);
+            assert_relative_eq!(b.cj_bc, 120e-12, max_relative = 1e-15);
+            assert_relative_eq!(b.max_tj, 423.15, max_relative = 1e-15);
+            assert_eq!(b.early_fwd, f64::INFINITY, "unset parameters keep defaults");
+        }
+        p => panic!("{p:?}"),
+    }
+    assert_relative_eq!(
+        c.params["cres"],
+        1.0 / (2.0 * std::f64::consts::PI * f0 * 50.0),
+        max_relative = 1e-15
+    );
+    assert_eq!(c.analyses.len(), 4);
+    let mask = &c.masks[0];
+    assert_eq!(mask.rules.len(), 4);
+    // -13 dBm = 10^(-1.3) mW (definition of dBm).
+    assert_eq!(
+        mask.rules[2].limit,
+        Limit::Watts(LimitExpr::Const(1e-3 * 10f64.powf(-1.3)))
+    );
+    assert_eq!(mask.rules[3].carrier, Some((0.0, 30e6)));
+    assert_eq!(
+        mask.rules[3].limit,
+        Limit::Lenient(vec![
+            Limit::Dbc(LimitExpr::LogCarrier { a: -43.0, b: -10.0 }),
+            Limit::Dbc(LimitExpr::Const(-50.0))
+        ])
+    );
+    assert_eq!(c.requirements.len(), 7);
+    assert_eq!(c.requirements[0].bound, Bound::Mask(0));
+    assert_eq!(c.requirements[2].bound, Bound::Value(0.6));
+    assert_eq!(c.requirements[3].metric, Metric::VcePeak(c.element("q1")));
+    assert_eq!(c.requirements[4].bound, Bound::Value(423.15));
+    assert_eq!(c.requirements[6].metric, Metric::Harmonic(3));
+    assert_eq!(c.requirements[1].text, "require pout >= 20W");
+    assert_eq!(
+        c.study.vary[0].sweep,
+        Sweep::Log {
+            from: 10.0,
+            to: 100.0,
+            points: 7
+        }
+    );
+    assert_eq!(c.study.vary[1].sweep, Sweep::List(vec![12.0, 13.8, 15.0]));
+    assert_eq!(c.study.tolerances[0].distribution, Distribution::Gaussian);
+    assert_eq!(c.study.montecarlo, Some(MonteCarlo { runs: 500, seed: 7 }));
+    assert!(e.warnings.is_empty(), "{:#?}", e.warnings);
+}
+
+#[test]
+fn parse_once_elaborate_with_overrides() {
+    let p = class_c();
+    let mut ov = Overrides::default();
+    ov.params.insert("rb".into(), 47.0);
+    ov.params.insert("f0".into(), 7e6);
+    ov.element_values.insert("ctun".into(), 2.2e-9);
+    ov.element_factors.insert("ctun".into(), 1.05);
+    ov.element_factors.insert("rload".into(), 2.0);
+    let c = elaborate(&p, &ov).expect("valid").circuit;
+    match elem(&c, "rbias") {
+        ElementKind::Resistor { r, .. } => assert_eq!(*r, 47.0),
+        k => panic!("{k:?}"),
+    }
+    match elem(&c, "ctun") {
+        ElementKind::Capacitor { c, .. } => {
+            assert_relative_eq!(*c, 2.2e-9 * 1.05, max_relative = 1e-15)
+        }
+        k => panic!("{k:?}"),
+    }
+    match elem(&c, "rload") {
+        ElementKind::Resistor { r, .. } => assert_eq!(*r, 100.0),
+        k => panic!("{k:?}"),
+    }
+    // Parameters depending on an overridden one follow it.
+    assert_relative_eq!(
+        c.params["cres"],
+        1.0 / (2.0 * std::f64::consts::PI * 7e6 * 50.0),
+        max_relative = 1e-15
+    );
+    // And the steady analysis (freq=f0) too.
+    assert!(c.analyses.contains(&Analysis::Steady {
+        freq: 7e6,
+        harmonics: 32,
+        method: SteadyMethod::Auto,
+        steps_per_period: 256
+    }));
+
+    let mut bad = Overrides::default();
+    bad.params.insert("rbb".into(), 1.0);
+    bad.element_values.insert("nothing".into(), 1.0);
+    let d = elaborate(&p, &bad).expect_err("unknown overrides");
+    let codes: Vec<&str> = d.iter().map(|d| d.code).collect();
+    assert_eq!(codes, vec!["bad-override", "bad-override"]);
+    assert_eq!(d[0].help.as_deref(), Some("did you mean 'rb'?"));
+}
+
+#[test]
+fn expressions_and_parameters_defined_later() {
+    let e = load(
+        "let a = (2 + 3 * 4)\nlet b = (-2^2)\nlet c = (2^3^2)\nlet d = (min(3, 1, 2) + max(1, 5) + abs(-2))\n\
+         let e = (sqrt(16) + ln(exp(2)) + log10(1000) + atan(1) * 4 / pi)\nlet g = (later * 2)\nlet later = 1.5k\n\
+         let h = (10nF * 2)\nlet t = (sin(pi / 2) + cos(0) + tan(0))\n\
+         vsource v1 a gnd dc=1V\nresistor r1 a gnd (later / 3)\n",
+    );
+    let p = &e.circuit.params;
+    assert_eq!(p["a"], 14.0, "precedence: * before +");
+    assert_eq!(p["b"], -4.0, "unary minus binds looser than ^");
+    assert_eq!(p["c"], 512.0, "^ is right-associative");
+    assert_eq!(p["d"], 8.0);
+    assert_relative_eq!(p["e"], 4.0 + 2.0 + 3.0 + 1.0, max_relative = 1e-15);
+    assert_eq!(p["g"], 3000.0, "a parameter may be used before its let");
+    assert_relative_eq!(p["h"], 20e-9, max_relative = 1e-15);
+    assert_relative_eq!(p["t"], 2.0, max_relative = 1e-15);
+    match elem(&e.circuit, "r1") {
+        ElementKind::Resistor { r, .. } => assert_eq!(*r, 500.0),
+        k => panic!("{k:?}"),
+    }
+}
+
+#[test]
+fn bare_prefix_takes_the_slot_unit_and_units_must_fit() {
+    let e = load("vsource v1 a gnd dc=1\nresistor r1 a gnd 4.7k\ncapacitor c1 a gnd 10n\ninductor l1 a b 2.5u r=0.1\nresistor r2 b gnd 1\n");
+    match elem(&e.circuit, "c1") {
+        ElementKind::Capacitor { c, .. } => assert_relative_eq!(*c, 10e-9, max_relative = 1e-15),
+        k => panic!("{k:?}"),
+    }
+    match elem(&e.circuit, "r1") {
+        ElementKind::Resistor { r, .. } => assert_eq!(*r, 4700.0),
+        k => panic!("{k:?}"),
+    }
+    let err = load_str(
+        "t.tank",
+        "vsource v1 a gnd dc=1A\nresistor r1 a gnd 5F\n",
+        &Overrides::default(),
+    )
+    .expect_err("mismatch");
+    let msgs: Vec<&str> = err.diagnostics.iter().map(|d| d.message.as_str()).collect();
+    assert_eq!(
+        msgs,
+        vec![
+            "vsource dc needs V, got A",
+            "resistor value needs Ohm, got F"
+        ]
+    );
+}
+
+#[test]
+fn every_problem_is_collected() {
+    let text = "resistor r1 a gnd -1Ohm\ncapacitor c1 a gnd 1H\ninductor l1 a gnd 0uH\nfoo bar\nrequire pout >= 1V\n";
+    let err = load_str("t.tank", text, &Overrides::default()).expect_err("errors");
+    let codes: Vec<&str> = err.diagnostics.iter().map(|d| d.code).collect();
+    assert_eq!(
+        codes,
+        vec![
+            "bad-value",
+            "unit-mismatch",
+            "bad-value",
+            "unknown-statement",
+            "unit-mismatch"
+        ]
+    );
+    let lines: Vec<u32> = err.diagnostics.iter().map(|d| d.line).collect();
+    assert_eq!(lines, vec![1, 2, 3, 4, 5]);
+}
+
+#[test]
+fn dangling_node_is_a_warning() {
+    let e = load("vsource v1 a gnd dc=1V\nresistor r1 a gnd 1Ohm\nresistor r2 a stub 1Ohm\n");
+    assert_eq!(e.warnings.len(), 1);
+    assert_eq!(e.warnings[0].code, "dangling-node");
+    assert_eq!(
+        e.warnings[0].message,
+        "node 'stub' is connected only to resistor r2"
+    );
+}
+
+#[test]
+fn lossy_parts_break_loops_and_bjt_junctions_give_dc_paths() {
+    // An inductor with series r across an ideal source is fine.
+    load("vsource v1 a gnd dc=1V\ninductor l1 a gnd 1uH r=0.1Ohm\n");
+    // A base reached only through a capacitor still has a DC path through the junctions.
+    load(
+        "vsource v1 vcc gnd dc=12V\nvsource v2 src gnd wave=sine(1V, 1MHz, 90) rs=50Ohm\ncapacitor c1 src base 10nF\n\
+         inductor l1 vcc coll 10uH\nbjt q1 c=coll b=base e=gnd model=m\nmodel m npn { }\n",
+    );
+    let e = load("vsource v2 src gnd wave=sine(1V, 1MHz, 90deg) rs=50Ohm\nresistor r1 src gnd 1\n");
+    match elem(&e.circuit, "v2") {
+        ElementKind::VSource {
+            wave:
+                Waveform {
+                    shape: Some(Shape::Sine { phase, .. }),
+                    ..
+                },
+            ..
+        } => {
+            assert_relative_eq!(*phase, std::f64::consts::FRAC_PI_2, max_relative = 1e-15)
+        }
+        k => panic!("{k:?}"),
+    }
+}
+
+#[test]
+fn coupling_and_sweeps() {
+    let e = load(
+        "vsource v1 a gnd dc=0 rs=1\ninductor l1 a gnd 1uH\ninductor l2 b gnd 4uH\nresistor r1 b gnd 50\ncoupling k1 l1 l2 k=0.98\n\
+         vary r1 from 10 to 50 step 10\nvary l1 from 1uH to 2uH points 3\ntolerance r1 1%\nanalyze ac from=1MHz to=2MHz points=3 source=v1 impedance=r1\n",
+    );
+    let c = &e.circuit;
+    match elem(c, "k1") {
+        ElementKind::Coupling { inductors, k } => {
+            assert_eq!(inductors, &vec![1, 2]);
+            assert_eq!(*k, 0.98);
+        }
+        k => panic!("{k:?}"),
+    }
+    assert_eq!(c.study.vary[0].target, VaryTarget::Element("r1".into()));
+    assert_eq!(
+        c.study.vary[0].sweep.values(),
+        vec![10.0, 20.0, 30.0, 40.0, 50.0]
+    );
+    assert_eq!(
+        c.study.vary[1].sweep,
+        Sweep::Linear {
+            from: 1e-6,
+            to: 2e-6,
+            points: 3
+        }
+    );
+    assert_eq!(c.study.tolerances[0].fraction, 0.01);
+    assert_eq!(c.study.tolerances[0].distribution, Distribution::Uniform);
+    assert!(matches!(
+        c.analyses[0],
+        Analysis::Ac {
+            source: Some(0),
+            impedance_at: Some(3),
+            ..
+        }
+    ));
+}
+
+#[test]
+fn builtin_mask_names_resolve_when_present() {
+    // Whatever the built-in list holds, each name must be accepted by require.
+    for name in builtin::builtin_names() {
+        let text =
+            format!("vsource v1 a gnd dc=1V\nresistor r1 a gnd 1\nrequire harmonics <= {name}\n");
+        let e = load(&text);
+        assert_eq!(
+            e.circuit.requirements[0].bound,
+            Bound::BuiltinMask(name.clone())
+        );
+    }
+}
