@@ -1,22 +1,1773 @@
-//! Harmonic balance (stub, replaced below).
-use crate::steady::{PeriodicSolution, SteadyParams};
+//! Harmonic balance: the periodic steady state solved in the frequency domain.
+//!
+//! Method: M. S. Nakhla, J. Vlach, "A piecewise harmonic balance technique for
+//! determination of periodic response of nonlinear systems", IEEE Trans.
+//! Circuits Syst. 23(2), 1976; K. S. Kundert, A. Sangiovanni-Vincentelli,
+//! "Simulation of nonlinear circuits in the frequency domain", IEEE Trans.
+//! CAD 5(4), 1986.
+//!
+//! # Formulation
+//! Every unknown is a truncated Fourier series at the fundamental `f0 = 1/T`,
+//! `x(t) = X₀ + Σ_{k=1..K} 2·Re(X_k e^{jkωt})` (two-sided coefficients,
+//! `X_{−k} = conj X_k`). `K` is [`SteadyParams::harmonics`] (the stage
+//! language's default is 32). The circuit equations
+//! `i(x, t) + dq(x)/dt = 0` become, per harmonic `k = 0..K`,
+//!
+//! ```text
+//!   R_k = Y_k X_k + S_k + I_k(X) + jkω Q_k(X) = 0,    Y_k = G_lin + jkω C_lin
+//! ```
+//!
+//! where `G_lin`, `C_lin` are the (constant) Jacobians of the linear devices,
+//! `S_k` the coefficients of the linear devices' currents at `x = 0` (the
+//! independent sources), and `I_k`, `Q_k` the coefficients of the nonlinear
+//! devices' currents and charges.
+//!
+//! * **Linear part, exact in the frequency domain.** The unknowns touched by
+//!   a nonlinear device (its terminals and internal nodes, found from which
+//!   rows and columns it stamps) are the *ports* `P`; the others `O` are
+//!   eliminated per harmonic with the Schur complement
+//!   `Ŷ_k = Y_PP − Y_PO Y_OO⁻¹ Y_OP`, `Ŝ_k = S_P − Y_PO Y_OO⁻¹ S_O`, and
+//!   recovered after convergence by back-substitution
+//!   `X_O = −Y_OO⁻¹ (Y_OP X_P + S_O)`. When `Y_OO` is singular at some harmonic
+//!   (or [`BalanceParams::reduce`] is off) every unknown is kept as a port.
+//! * **Sources.** The linear devices are evaluated at `x = 0` over one period
+//!   at `t_s + n·T/N`, where `t_s` is the first whole number of periods after
+//!   every source's delay, rise or last breakpoint; the samples are
+//!   transformed. The time-varying part is scaled by the drive level `s`
+//!   (continuation), exactly as [`EvalCtx::wave_scale`] does. A source that is
+//!   not periodic at `f0` is refused.
+//! * **Nonlinear part.** The port waveforms are synthesised at `N` samples
+//!   per period, `N` the smallest power of two ≥ `oversample·K` (default
+//!   4·K, at least 8), so products up to the fourth order of the band-limited
+//!   waveform do not alias onto the kept harmonics. The nonlinear devices are
+//!   evaluated at every sample without limiting; `i`, `q`, `G`, `C` are
+//!   transformed with a real FFT. Harmonics above `K` (and the Nyquist bin of
+//!   the `N`-point transform) are dropped.
+//! * **Real unknowns.** Per port: `X₀` (real), then `Re X_k`, `Im X_k` for
+//!   `k = 1..K`; the Newton system has `p·(2K+1)` real unknowns. `R₀` is real;
+//!   `Re R_k`, `Im R_k` give the other rows.
+//! * **Jacobian (conversion matrices).** With `Ĝ_m`, `Ĉ_m` the coefficients
+//!   of `G(t)`, `C(t)` (`m = −2K..2K`), `δI_k = Σ_l Ĝ_{k−l} δX_l`; for the
+//!   real unknowns `δX_l = a + jb` this gives
+//!   `∂R_k/∂a_l = Ĝ_{k−l} + Ĝ_{k+l} + jkω(Ĉ_{k−l} + Ĉ_{k+l}) + [k=l] Ŷ_k` and
+//!   `∂R_k/∂b_l = j(Ĝ_{k−l} − Ĝ_{k+l}) − kω(Ĉ_{k−l} − Ĉ_{k+l}) + [k=l] jŶ_k`
+//!   (for `l = 0` only `Ĝ_k + jkωĈ_k`). It is the exact derivative of the
+//!   discrete residual; it is factored by dense LU with partial pivoting.
+//!
+//! # Convergence aids
+//! 1. Start from the operating point at zero drive (the exact solution at
+//!    `s = 0`), and first try Newton at full drive directly.
+//! 2. On failure, continuation on the drive: `s` from 0 to 1 in steps starting
+//!    at [`BalanceParams::first_step`], grown 1.5× after a success and halved
+//!    after a failure, down to [`BalanceParams::min_step`]; each level starts
+//!    from a linear extrapolation of the two previous levels.
+//! 3. Damping by backtracking line search on the scaled residual norm
+//!    (halving the step up to [`BalanceParams::max_halvings`] times).
+//!
+//! # Convergence test
+//! Per port row `r` and harmonic `k`: `|R_rk| ≤ reltol·s_r + abs`, where `s_r`
+//! is the largest magnitude over the harmonics of any term of that row
+//! (`Ŷ X`, `Ŝ`, `I`, `kωQ`) and `abs` is `abstol` for a node row (A) or
+//! `vntol` for a branch row (V); and the last full Newton update within
+//! `reltol·max_k |X_k| + (vntol | abstol)` for every port.
+//! [`SteadyInfo::residual`] is the largest `|R_rk|/tol` (≤ 1 when converged).
+//!
+//! # Harmonic count
+//! After convergence, the top tenth of the kept harmonics (at least one) of
+//! every voltage unknown is compared with `max(truncation_rel · A₁,
+//! truncation_abs)`, `A₁` the largest fundamental amplitude of any voltage
+//! unknown. When exceeded and [`BalanceParams::raise_harmonics`] is on, `K`
+//! is doubled (up to [`BalanceParams::max_harmonics`]) and the solve repeated
+//! from the previous solution. The ratio achieved is reported in
+//! [`BalanceInfo::truncation`].
+//!
+//! # Output
+//! The [`PeriodicSolution`] samples every unknown at `N_out` points per
+//! period (`params.samples()`, raised to a power of two above `2K`); the
+//! terminal currents of every element are computed from the converged
+//! harmonics (`I_k + jkωQ_k` of the element's devices, `k ≤ K`), so they obey
+//! KCL at every node and every sample to within the harmonic residual.
+
+use crate::error::When;
+use crate::linalg::{LinearSolver, RealLu};
+use crate::op::{solve_op, OpParams};
+use crate::steady::{PeriodicSolution, SteadyInfo, SteadyParams};
 use crate::SolveError;
-use tankwave_circuit::Circuit;
-use tankwave_devices::DeviceSet;
+use faer::linalg::solvers::Solve;
+use faer::Mat;
+use num_complex::Complex64 as C64;
+use realfft::{ComplexToReal, RealFftPlanner, RealToComplex};
+use std::sync::Arc;
+use tankwave_circuit::ir::{ElementKind, Shape};
+use tankwave_circuit::{Circuit, SteadyMethod};
+use tankwave_devices::{DenseStamp, DeviceSet, EvalCtx, Filter, Idx, Stamp, UnknownKind};
 
-/// Options of harmonic balance.
-#[derive(Debug, Clone, PartialEq, Default)]
-pub struct BalanceParams {}
+const J: C64 = C64 { re: 0.0, im: 1.0 };
+const ZERO: C64 = C64 { re: 0.0, im: 0.0 };
+/// Pivots below this fraction of the largest entry count as zero.
+const PIVOT_FLOOR: f64 = 1e-14;
+/// Relative tolerance of the source periodicity check (common practice: well
+/// above the rounding of a sine's phase over many periods).
+const PERIODIC_TOL: f64 = 1e-9;
 
-/// Report of a harmonic-balance solve.
+/// Options of harmonic balance (the harmonic count itself is
+/// [`SteadyParams::harmonics`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct BalanceParams {
+    /// Samples per period of the nonlinear evaluation: the smallest power of
+    /// two ≥ `oversample·K`, at least 8 (default 4).
+    pub oversample: usize,
+    /// Newton iteration limit per drive level (default 50).
+    pub max_iter: usize,
+    /// Use continuation on the drive when the direct solve fails (default true).
+    pub continuation: bool,
+    /// First drive step of the continuation, fraction of full drive (default 0.25).
+    pub first_step: f64,
+    /// Smallest drive step before giving up (default 1/1024).
+    pub min_step: f64,
+    /// Most drive levels attempted, successful or not (default 400).
+    pub max_levels: usize,
+    /// Double K while the top harmonics are not negligible (default true).
+    pub raise_harmonics: bool,
+    /// Cap on the raised K (default 128).
+    pub max_harmonics: usize,
+    /// Top-harmonic limit relative to the largest fundamental (default 1e-6).
+    pub truncation_rel: f64,
+    /// Absolute top-harmonic limit, V (default 1e-9).
+    pub truncation_abs: f64,
+    /// Reduce the linear network to the nonlinear device ports (default true).
+    pub reduce: bool,
+    /// Junction conductance the devices add, S (default 1e-12).
+    pub gmin: f64,
+    /// Line-search halvings per Newton step before the level fails (default 12).
+    pub max_halvings: usize,
+}
+
+impl Default for BalanceParams {
+    fn default() -> Self {
+        Self {
+            oversample: 4,
+            max_iter: 50,
+            continuation: true,
+            first_step: 0.25,
+            min_step: 1.0 / 1024.0,
+            max_levels: 400,
+            raise_harmonics: true,
+            max_harmonics: 128,
+            truncation_rel: 1e-6,
+            truncation_abs: 1e-9,
+            reduce: true,
+            gmin: 1e-12,
+            max_halvings: 12,
+        }
+    }
+}
+
+/// Harmonic-balance details of a solve (in [`SteadyInfo::balance`]).
 #[derive(Debug, Clone, PartialEq, Default)]
-pub struct BalanceInfo {}
+pub struct BalanceInfo {
+    /// Harmonics K of the returned solution.
+    pub harmonics: usize,
+    /// Every K solved, in order (more than one when K was raised).
+    pub harmonics_tried: Vec<usize>,
+    /// Samples per period of the nonlinear evaluation (FFT size) at the returned K.
+    pub fft_size: usize,
+    /// Unknowns kept in the Newton system (touched by nonlinear devices, or all).
+    pub ports: usize,
+    /// Whether the linear network was reduced to the ports.
+    pub reduced: bool,
+    /// Drive levels solved by continuation (0: converged at full drive directly).
+    pub continuation_steps: usize,
+    /// Line-search step halvings in total.
+    pub line_search_cuts: usize,
+    /// Largest top-band harmonic over its limit (≤ 1: truncation negligible).
+    pub truncation: f64,
+}
 
 /// Periodic steady state by harmonic balance.
+///
+/// Uses `params.freq`, `params.harmonics` (K, raised automatically, see the
+/// module docs), `params.tol`, `params.balance`; the solution is sampled at
+/// `params.samples()` points per period (more if K was raised).
 pub fn balance(
-    _circuit: &Circuit,
-    _devices: &DeviceSet,
-    _params: &SteadyParams,
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    params: &SteadyParams,
 ) -> Result<PeriodicSolution, SolveError> {
-    Err(SolveError::NotAvailable("harmonic balance".to_string()))
+    params.check()?;
+    let bp = &params.balance;
+    check_params(bp)?;
+    let n = devices.n_unknowns;
+    let period = 1.0 / params.freq;
+    let t_start = start_time(circuit, period);
+    // Operating point at zero drive: the exact solution at s = 0.
+    let op = OpParams {
+        tol: params.tol,
+        gmin: bp.gmin,
+        wave_scale: 0.0,
+        linear_solver: params.linear_solver,
+        ..OpParams::default()
+    };
+    let mut state = devices.initial_state();
+    let (x_op, _) = solve_op(devices, &op, &vec![0.0; n], &mut state)?;
+    let ports_structural = if bp.reduce {
+        nonlinear_ports(devices, &x_op, bp.gmin)
+    } else {
+        (0..n).collect()
+    };
+
+    let mut k = params.harmonics.max(1);
+    let mut tried = Vec::new();
+    let mut total_iter = 0usize;
+    let mut cuts = 0usize;
+    let mut best: Option<Solved> = None;
+    let mut warm: Option<Vec<Vec<C64>>> = None;
+    loop {
+        tried.push(k);
+        let attempt = solve_k(
+            devices,
+            params,
+            k,
+            t_start,
+            &x_op,
+            &ports_structural,
+            warm.as_deref(),
+        );
+        let solved = match attempt {
+            Ok(s) => s,
+            Err((e, its, c)) => {
+                total_iter += its;
+                cuts += c;
+                match best {
+                    // A raised K failed: keep the last converged solution.
+                    Some(b) => {
+                        tried.pop();
+                        return finish(circuit, devices, params, b, tried, total_iter, cuts);
+                    }
+                    None => return Err(e),
+                }
+            }
+        };
+        total_iter += solved.iterations;
+        cuts += solved.cuts;
+        let more = solved.truncation > 1.0 && bp.raise_harmonics && k < bp.max_harmonics;
+        warm = Some(solved.x_full.clone());
+        best = Some(solved);
+        if !more {
+            break;
+        }
+        k = (2 * k).min(bp.max_harmonics);
+    }
+    match best {
+        Some(b) => finish(circuit, devices, params, b, tried, total_iter, cuts),
+        None => Err(SolveError::BadParams(
+            "harmonic balance: nothing solved".into(),
+        )),
+    }
+}
+
+fn check_params(bp: &BalanceParams) -> Result<(), SolveError> {
+    let bad = |m: String| Err(SolveError::BadParams(format!("harmonic balance: {m}")));
+    if bp.oversample < 3 || bp.oversample > 64 {
+        return bad(format!("oversample must be 3..64, got {}", bp.oversample));
+    }
+    if bp.max_iter == 0 {
+        return bad("max_iter must be ≥ 1".into());
+    }
+    if !(bp.first_step > 0.0 && bp.first_step <= 1.0) {
+        return bad(format!(
+            "first_step must be in (0, 1], got {}",
+            bp.first_step
+        ));
+    }
+    if !(bp.min_step > 0.0 && bp.min_step <= bp.first_step) {
+        return bad(format!(
+            "min_step must be in (0, first_step], got {}",
+            bp.min_step
+        ));
+    }
+    if bp.max_harmonics == 0 || bp.max_harmonics > 1 << 12 {
+        return bad(format!(
+            "max_harmonics must be 1..4096, got {}",
+            bp.max_harmonics
+        ));
+    }
+    if !(bp.truncation_rel >= 0.0 && bp.truncation_abs >= 0.0)
+        || !(bp.truncation_rel.is_finite() && bp.truncation_abs.is_finite())
+    {
+        return bad("truncation limits must be finite and ≥ 0".into());
+    }
+    if !(bp.gmin.is_finite() && bp.gmin >= 0.0) {
+        return bad(format!("gmin must be finite and ≥ 0, got {}", bp.gmin));
+    }
+    Ok(())
+}
+
+/// First whole number of periods after every source's delay, rise and last corner.
+fn start_time(circuit: &Circuit, period: f64) -> f64 {
+    let mut t = 0.0f64;
+    for el in &circuit.elements {
+        let wave = match &el.kind {
+            ElementKind::VSource { wave, .. } | ElementKind::ISource { wave, .. } => wave,
+            _ => continue,
+        };
+        let end = match &wave.shape {
+            Some(Shape::Sine { delay, rise, .. }) => delay + rise,
+            Some(Shape::Pulse { delay, .. }) => *delay,
+            Some(Shape::Pwl(pts)) => pts.last().map(|p| p.0).unwrap_or(0.0),
+            None => 0.0,
+        };
+        if end.is_finite() {
+            t = t.max(end);
+        }
+    }
+    let periods = (t / period).ceil();
+    if periods.is_finite() && periods > 0.0 {
+        periods * period
+    } else {
+        0.0
+    }
+}
+
+/// A stamp that only records which rows and columns are touched.
+struct Touched {
+    hit: Vec<bool>,
+}
+
+impl Touched {
+    fn mark(&mut self, i: Idx) {
+        if let Some(h) = i.and_then(|k| self.hit.get_mut(k)) {
+            *h = true;
+        }
+    }
+}
+
+impl Stamp for Touched {
+    fn add_i(&mut self, row: Idx, _v: f64) {
+        self.mark(row);
+    }
+    fn add_q(&mut self, row: Idx, _v: f64) {
+        self.mark(row);
+    }
+    fn add_g(&mut self, row: Idx, col: Idx, _v: f64) {
+        self.mark(row);
+        self.mark(col);
+    }
+    fn add_c(&mut self, row: Idx, col: Idx, _v: f64) {
+        self.mark(row);
+        self.mark(col);
+    }
+}
+
+/// Unknowns touched by any nonlinear device (structurally, at the operating point).
+fn nonlinear_ports(devices: &DeviceSet, x_op: &[f64], gmin: f64) -> Vec<usize> {
+    let mut t = Touched {
+        hit: vec![false; devices.n_unknowns],
+    };
+    let mut state = devices.initial_state();
+    let ctx = EvalCtx {
+        gmin,
+        limit: false,
+        ..EvalCtx::default()
+    };
+    devices.eval_all(x_op, &ctx, &mut state, &mut t, Filter::Nonlinear);
+    t.hit
+        .iter()
+        .enumerate()
+        .filter(|(_, h)| **h)
+        .map(|(k, _)| k)
+        .collect()
+}
+
+/// Real FFT of one size with two-sided coefficient conventions.
+struct Fft {
+    n: usize,
+    fwd: Arc<dyn RealToComplex<f64>>,
+    inv: Arc<dyn ComplexToReal<f64>>,
+    buf: Vec<f64>,
+    spec: Vec<C64>,
+    scratch_f: Vec<C64>,
+    scratch_i: Vec<C64>,
+}
+
+impl Fft {
+    fn new(n: usize) -> Self {
+        let mut p = RealFftPlanner::<f64>::new();
+        let fwd = p.plan_fft_forward(n);
+        let inv = p.plan_fft_inverse(n);
+        Self {
+            n,
+            buf: fwd.make_input_vec(),
+            spec: fwd.make_output_vec(),
+            scratch_f: fwd.make_scratch_vec(),
+            scratch_i: inv.make_scratch_vec(),
+            fwd,
+            inv,
+        }
+    }
+
+    /// `out[k] = (1/N) Σ_n x_n e^{−j2πkn/N}` for `k < out.len() ≤ N/2 + 1`.
+    fn forward(&mut self, x: &[f64], out: &mut [C64]) {
+        self.buf.copy_from_slice(&x[..self.n]);
+        // Lengths match by construction; an error leaves zeros (caught as a
+        // non-converging residual, never a NaN).
+        if self
+            .fwd
+            .process_with_scratch(&mut self.buf, &mut self.spec, &mut self.scratch_f)
+            .is_err()
+        {
+            self.spec.fill(ZERO);
+        }
+        let s = 1.0 / self.n as f64;
+        for (o, v) in out.iter_mut().zip(&self.spec) {
+            *o = v * s;
+        }
+    }
+
+    /// `out_n = c₀ + Σ_{k≥1} 2·Re(c_k e^{j2πkn/N})` for the given `c` (`c.len() ≤ N/2`).
+    fn inverse(&mut self, c: &[C64], out: &mut [f64]) {
+        self.spec.fill(ZERO);
+        for (s, v) in self.spec.iter_mut().zip(c) {
+            *s = *v;
+        }
+        self.spec[0].im = 0.0;
+        if let Some(last) = self.spec.last_mut() {
+            last.im = 0.0;
+        }
+        if self
+            .inv
+            .process_with_scratch(&mut self.spec, out, &mut self.scratch_i)
+            .is_err()
+        {
+            out.fill(0.0);
+        }
+    }
+}
+
+/// A stamp into the port-restricted i, q, G, C (p and p×p).
+struct PortStamp<'a> {
+    port_of: &'a [Option<usize>],
+    p: usize,
+    i: Vec<f64>,
+    q: Vec<f64>,
+    g: Vec<f64>,
+    c: Vec<f64>,
+    escaped: bool,
+}
+
+impl PortStamp<'_> {
+    fn port(&mut self, k: Idx) -> Option<Option<usize>> {
+        // None: ground (dropped). Some(None): not a port (escaped).
+        let k = k?;
+        let p = self.port_of.get(k).copied().flatten();
+        if p.is_none() {
+            self.escaped = true;
+        }
+        Some(p)
+    }
+    fn clear(&mut self) {
+        self.i.fill(0.0);
+        self.q.fill(0.0);
+        self.g.fill(0.0);
+        self.c.fill(0.0);
+    }
+}
+
+impl Stamp for PortStamp<'_> {
+    fn add_i(&mut self, row: Idx, v: f64) {
+        if let Some(Some(r)) = self.port(row) {
+            self.i[r] += v;
+        }
+    }
+    fn add_q(&mut self, row: Idx, v: f64) {
+        if let Some(Some(r)) = self.port(row) {
+            self.q[r] += v;
+        }
+    }
+    fn add_g(&mut self, row: Idx, col: Idx, v: f64) {
+        if let (Some(Some(r)), Some(Some(c))) = (self.port(row), self.port(col)) {
+            self.g[r * self.p + c] += v;
+        }
+    }
+    fn add_c(&mut self, row: Idx, col: Idx, v: f64) {
+        if let (Some(Some(r)), Some(Some(c))) = (self.port(row), self.port(col)) {
+            self.c[r * self.p + c] += v;
+        }
+    }
+}
+
+/// The linear network: constant Jacobians and the source coefficients.
+struct Linear {
+    n: usize,
+    g: Vec<f64>,
+    c: Vec<f64>,
+    /// Source terms at zero drive (constant), per row.
+    src_dc: Vec<f64>,
+    /// `[k][row]`: coefficients of the time-varying source terms at full drive.
+    src_wave: Vec<Vec<C64>>,
+}
+
+fn linear_network(
+    devices: &DeviceSet,
+    kmax: usize,
+    fft: &mut Fft,
+    t_start: f64,
+    period: f64,
+    gmin: f64,
+) -> Result<Linear, SolveError> {
+    let n = devices.n_unknowns;
+    let ns = fft.n;
+    let x0 = vec![0.0; n];
+    let mut state = devices.initial_state();
+    let mut st = DenseStamp::new(n);
+    let ctx = |t: f64, s: f64| EvalCtx {
+        time: t,
+        dc_scale: 1.0,
+        wave_scale: s,
+        gmin,
+        limit: false,
+    };
+    devices.eval_all(&x0, &ctx(t_start, 0.0), &mut state, &mut st, Filter::Linear);
+    let g = st.g.clone();
+    let c = st.c.clone();
+    let src_dc = st.i.clone();
+    // Samples of the time-varying part over one period, and over the next one
+    // (periodicity check).
+    let mut wave = vec![vec![0.0; ns]; n];
+    let mut worst = (0.0f64, 0usize, 0.0f64);
+    let mut peak = vec![0.0f64; n];
+    for s in 0..ns {
+        let t = t_start + s as f64 * period / ns as f64;
+        st.clear();
+        devices.eval_all(&x0, &ctx(t, 1.0), &mut state, &mut st, Filter::Linear);
+        let a: Vec<f64> = st.i.clone();
+        st.clear();
+        devices.eval_all(
+            &x0,
+            &ctx(t + period, 1.0),
+            &mut state,
+            &mut st,
+            Filter::Linear,
+        );
+        for r in 0..n {
+            let v = a[r] - src_dc[r];
+            if !v.is_finite() {
+                return Err(SolveError::NonFinite {
+                    analysis: "harmonic balance (sources)".into(),
+                    unknown: devices.names.get(r).cloned().unwrap_or_default(),
+                    when: When(Some(t)),
+                });
+            }
+            wave[r][s] = v;
+            peak[r] = peak[r].max(v.abs());
+            let d = (st.i[r] - a[r]).abs();
+            if d > worst.0 {
+                worst = (d, r, t);
+            }
+        }
+    }
+    let (d, r, t) = worst;
+    if d > PERIODIC_TOL * peak.get(r).copied().unwrap_or(0.0).max(1e-300) && d > 0.0 {
+        return Err(SolveError::BadParams(format!(
+            "harmonic balance: the source in the equation of {} is not periodic at {:.6e} Hz \
+             (changes by {d:.3e} from t = {t:.6e} s to one period later)",
+            devices.names.get(r).cloned().unwrap_or_default(),
+            1.0 / period
+        )));
+    }
+    let mut src_wave = vec![vec![ZERO; n]; kmax + 1];
+    let mut coef = vec![ZERO; kmax + 1];
+    for r in 0..n {
+        if peak[r] == 0.0 {
+            continue;
+        }
+        fft.forward(&wave[r], &mut coef);
+        for k in 0..=kmax {
+            src_wave[k][r] = coef[k];
+        }
+    }
+    Ok(Linear {
+        n,
+        g,
+        c,
+        src_dc,
+        src_wave,
+    })
+}
+
+/// Dense complex LU with a pivot check.
+fn complex_lu(m: Mat<C64>) -> Result<faer::linalg::solvers::PartialPivLu<C64>, usize> {
+    let n = m.nrows();
+    let mut amax = 0.0f64;
+    for j in 0..n {
+        for i in 0..n {
+            amax = amax.max(m[(i, j)].norm());
+        }
+    }
+    if !(amax > 0.0 && amax.is_finite()) {
+        return Err(0);
+    }
+    let lu = m.partial_piv_lu();
+    let u = lu.U();
+    for k in 0..n {
+        if !(u[(k, k)].norm() > PIVOT_FLOOR * amax) {
+            return Err(k);
+        }
+    }
+    Ok(lu)
+}
+
+/// The linear network reduced to the ports, per harmonic.
+struct Reduced {
+    ports: Vec<usize>,
+    others: Vec<usize>,
+    /// `[k]`: p×p row-major Ŷ_k.
+    yhat: Vec<Vec<C64>>,
+    /// Ŝ at zero drive (DC only), p.
+    shat_dc: Vec<C64>,
+    /// `[k]`: Ŝ of the time-varying part at full drive, p.
+    shat_wave: Vec<Vec<C64>>,
+    /// `[k]`: o×p row-major Y_OO⁻¹ Y_OP.
+    z: Vec<Vec<C64>>,
+    /// Y_OO⁻¹ S_O at zero drive (DC), o.
+    zs_dc: Vec<C64>,
+    /// `[k]`: Y_OO⁻¹ S_O of the time-varying part, o.
+    zs_wave: Vec<Vec<C64>>,
+}
+
+/// Why a reduction failed: the harmonic, and the position in `O` of the
+/// column without a pivot (`None` for a non-finite result).
+#[derive(Debug, Clone, Copy)]
+struct ReduceFail {
+    harmonic: usize,
+    column: Option<usize>,
+}
+
+/// Reduce to `ports`, growing the port set by the unknowns of `O` that leave
+/// `Y_OO` without a pivot (e.g. the branch current of a voltage source
+/// driving a port directly) until the reduction exists.
+fn reduce_growing(
+    lin: &Linear,
+    ports: &[usize],
+    kmax: usize,
+    omega: f64,
+) -> Result<Reduced, ReduceFail> {
+    let mut ports = ports.to_vec();
+    loop {
+        match reduce(lin, &ports, kmax, omega) {
+            Ok(r) => return Ok(r),
+            Err(f) => {
+                let mut is_port = vec![false; lin.n];
+                for &p in &ports {
+                    is_port[p] = true;
+                }
+                let others: Vec<usize> = (0..lin.n).filter(|k| !is_port[*k]).collect();
+                match f.column.and_then(|c| others.get(c)) {
+                    Some(&u) => {
+                        ports.push(u);
+                        ports.sort_unstable();
+                    }
+                    None => return Err(f),
+                }
+            }
+        }
+    }
+}
+
+/// Reduce to `ports`; fails on a singular `Y_OO`.
+fn reduce(lin: &Linear, ports: &[usize], kmax: usize, omega: f64) -> Result<Reduced, ReduceFail> {
+    let n = lin.n;
+    let mut is_port = vec![false; n];
+    for &p in ports {
+        is_port[p] = true;
+    }
+    let others: Vec<usize> = (0..n).filter(|k| !is_port[*k]).collect();
+    let (p, o) = (ports.len(), others.len());
+    let mut red = Reduced {
+        ports: ports.to_vec(),
+        others: others.clone(),
+        yhat: Vec::with_capacity(kmax + 1),
+        shat_dc: vec![ZERO; p],
+        shat_wave: Vec::with_capacity(kmax + 1),
+        z: Vec::with_capacity(kmax + 1),
+        zs_dc: vec![ZERO; o],
+        zs_wave: Vec::with_capacity(kmax + 1),
+    };
+    for k in 0..=kmax {
+        let w = k as f64 * omega;
+        let y = |r: usize, c: usize| C64::new(lin.g[r * n + c], w * lin.c[r * n + c]);
+        let mut yhat: Vec<C64> = Vec::with_capacity(p * p);
+        for &r in ports {
+            for &c in ports {
+                yhat.push(y(r, c));
+            }
+        }
+        let mut shat: Vec<C64> = ports.iter().map(|&r| lin.src_wave[k][r]).collect();
+        let mut z = vec![ZERO; o * p];
+        let mut zs = vec![ZERO; o];
+        if o > 0 {
+            let yoo = Mat::<C64>::from_fn(o, o, |i, j| y(others[i], others[j]));
+            let lu = complex_lu(yoo).map_err(|c| ReduceFail {
+                harmonic: k,
+                column: Some(c),
+            })?;
+            let extra = if k == 0 { 2 } else { 1 };
+            let mut rhs = Mat::<C64>::from_fn(o, p + extra, |i, j| {
+                let r = others[i];
+                if j < p {
+                    y(r, ports[j])
+                } else if j == p {
+                    lin.src_wave[k][r]
+                } else {
+                    C64::new(lin.src_dc[r], 0.0)
+                }
+            });
+            lu.solve_in_place(rhs.as_mut());
+            for i in 0..o {
+                for j in 0..p {
+                    z[i * p + j] = rhs[(i, j)];
+                }
+                zs[i] = rhs[(i, p)];
+                if k == 0 {
+                    red.zs_dc[i] = rhs[(i, p + 1)];
+                }
+            }
+            // Schur complement.
+            for (a, &r) in ports.iter().enumerate() {
+                for (i, &oi) in others.iter().enumerate() {
+                    let ypo = y(r, oi);
+                    if ypo == ZERO {
+                        continue;
+                    }
+                    for b in 0..p {
+                        yhat[a * p + b] -= ypo * z[i * p + b];
+                    }
+                    shat[a] -= ypo * zs[i];
+                    if k == 0 {
+                        red.shat_dc[a] -= ypo * red.zs_dc[i];
+                    }
+                }
+            }
+        }
+        if k == 0 {
+            for (a, &r) in ports.iter().enumerate() {
+                red.shat_dc[a] += C64::new(lin.src_dc[r], 0.0);
+            }
+        }
+        if yhat.iter().chain(&shat).chain(&z).any(|v| !v.is_finite()) {
+            return Err(ReduceFail {
+                harmonic: k,
+                column: None,
+            });
+        }
+        red.yhat.push(yhat);
+        red.shat_wave.push(shat);
+        red.z.push(z);
+        red.zs_wave.push(zs);
+    }
+    Ok(red)
+}
+
+/// Coefficients of the nonlinear devices at one iterate.
+struct NlEval {
+    /// `[k][r]`, k ≤ K.
+    i: Vec<Vec<C64>>,
+    q: Vec<Vec<C64>>,
+    /// `[m][r·p + c]`, m ≤ 2K.
+    g: Vec<Vec<C64>>,
+    c: Vec<Vec<C64>>,
+}
+
+/// One harmonic-balance problem at a fixed K.
+struct Problem<'a> {
+    devices: &'a DeviceSet,
+    red: Reduced,
+    port_of: Vec<Option<usize>>,
+    kmax: usize,
+    omega: f64,
+    t_start: f64,
+    period: f64,
+    gmin: f64,
+    fft: Fft,
+    tol: crate::Tolerances,
+    /// Absolute residual tolerance of each port row (A for node rows, V for branch rows).
+    row_abs: Vec<f64>,
+    /// Absolute update tolerance of each port unknown.
+    var_abs: Vec<f64>,
+    max_halvings: usize,
+}
+
+/// Why a Newton solve at one drive level stopped.
+#[derive(Debug, Clone)]
+enum Fail {
+    NoConvergence {
+        iterations: usize,
+        worst: (usize, usize),
+        residual: f64,
+    },
+    Singular {
+        iterations: usize,
+        slot: usize,
+    },
+    NonFinite {
+        iterations: usize,
+        port: usize,
+    },
+    Escaped {
+        iterations: usize,
+    },
+}
+
+impl Fail {
+    fn iterations(&self) -> usize {
+        match self {
+            Fail::NoConvergence { iterations, .. }
+            | Fail::Singular { iterations, .. }
+            | Fail::NonFinite { iterations, .. }
+            | Fail::Escaped { iterations } => *iterations,
+        }
+    }
+}
+
+/// A converged Newton solve.
+struct Converged {
+    iterations: usize,
+    ratio: f64,
+    cuts: usize,
+}
+
+impl<'a> Problem<'a> {
+    fn new(
+        devices: &'a DeviceSet,
+        red: Reduced,
+        kmax: usize,
+        nfft: usize,
+        omega: f64,
+        t_start: f64,
+        params: &SteadyParams,
+    ) -> Self {
+        let mut port_of = vec![None; devices.n_unknowns];
+        for (a, &u) in red.ports.iter().enumerate() {
+            port_of[u] = Some(a);
+        }
+        let kind = |u: usize| devices.kinds.get(u).copied();
+        let row_abs = red
+            .ports
+            .iter()
+            .map(|&u| match kind(u) {
+                Some(UnknownKind::Current) => params.tol.vntol,
+                _ => params.tol.abstol,
+            })
+            .collect();
+        let var_abs = red
+            .ports
+            .iter()
+            .map(|&u| match kind(u) {
+                Some(UnknownKind::Current) => params.tol.abstol,
+                _ => params.tol.vntol,
+            })
+            .collect();
+        Self {
+            devices,
+            red,
+            port_of,
+            kmax,
+            omega,
+            t_start,
+            period: 1.0 / params.freq,
+            gmin: params.balance.gmin,
+            fft: Fft::new(nfft),
+            tol: params.tol,
+            row_abs,
+            var_abs,
+            max_halvings: params.balance.max_halvings,
+        }
+    }
+
+    fn p(&self) -> usize {
+        self.red.ports.len()
+    }
+
+    /// Order of the real Newton system.
+    fn size(&self) -> usize {
+        self.p() * (2 * self.kmax + 1)
+    }
+
+    /// Evaluate the nonlinear devices over one period at port harmonics `x[k·p + r]`.
+    fn eval_nl(&mut self, x: &[C64]) -> Result<NlEval, Fail> {
+        let p = self.p();
+        let kmax = self.kmax;
+        let ns = self.fft.n;
+        let n = self.devices.n_unknowns;
+        // Port waveforms.
+        let mut wave = vec![vec![0.0; ns]; p];
+        let mut coef = vec![ZERO; kmax + 1];
+        for (r, wr) in wave.iter_mut().enumerate() {
+            for k in 0..=kmax {
+                coef[k] = x[k * p + r];
+            }
+            self.fft.inverse(&coef, wr);
+        }
+        let mut it = vec![vec![0.0; ns]; p];
+        let mut qt = vec![vec![0.0; ns]; p];
+        let mut gt = vec![vec![0.0; ns]; p * p];
+        let mut ct = vec![vec![0.0; ns]; p * p];
+        let mut xs = vec![0.0; n];
+        let mut state = self.devices.initial_state();
+        let mut st = PortStamp {
+            port_of: &self.port_of,
+            p,
+            i: vec![0.0; p],
+            q: vec![0.0; p],
+            g: vec![0.0; p * p],
+            c: vec![0.0; p * p],
+            escaped: false,
+        };
+        for s in 0..ns {
+            for (r, &u) in self.red.ports.iter().enumerate() {
+                xs[u] = wave[r][s];
+            }
+            let ctx = EvalCtx {
+                time: self.t_start + s as f64 * self.period / ns as f64,
+                dc_scale: 1.0,
+                wave_scale: 1.0,
+                gmin: self.gmin,
+                limit: false,
+            };
+            st.clear();
+            self.devices
+                .eval_all(&xs, &ctx, &mut state, &mut st, Filter::Nonlinear);
+            for r in 0..p {
+                it[r][s] = st.i[r];
+                qt[r][s] = st.q[r];
+            }
+            for e in 0..p * p {
+                gt[e][s] = st.g[e];
+                ct[e][s] = st.c[e];
+            }
+        }
+        if st.escaped {
+            return Err(Fail::Escaped { iterations: 0 });
+        }
+        let nonfinite = |v: &[Vec<f64>]| v.iter().position(|w| w.iter().any(|a| !a.is_finite()));
+        if let Some(r) = nonfinite(&it).or(nonfinite(&qt)) {
+            return Err(Fail::NonFinite {
+                iterations: 0,
+                port: r,
+            });
+        }
+        if let Some(e) = nonfinite(&gt).or(nonfinite(&ct)) {
+            return Err(Fail::NonFinite {
+                iterations: 0,
+                port: e / p.max(1),
+            });
+        }
+        let mut ev = NlEval {
+            i: vec![vec![ZERO; p]; kmax + 1],
+            q: vec![vec![ZERO; p]; kmax + 1],
+            g: vec![vec![ZERO; p * p]; 2 * kmax + 1],
+            c: vec![vec![ZERO; p * p]; 2 * kmax + 1],
+        };
+        let mut c1 = vec![ZERO; kmax + 1];
+        let mut c2 = vec![ZERO; 2 * kmax + 1];
+        for r in 0..p {
+            self.fft.forward(&it[r], &mut c1);
+            for k in 0..=kmax {
+                ev.i[k][r] = c1[k];
+            }
+            self.fft.forward(&qt[r], &mut c1);
+            for k in 0..=kmax {
+                ev.q[k][r] = c1[k];
+            }
+        }
+        for e in 0..p * p {
+            if gt[e].iter().any(|v| *v != 0.0) {
+                self.fft.forward(&gt[e], &mut c2);
+                for m in 0..=2 * kmax {
+                    ev.g[m][e] = c2[m];
+                }
+            }
+            if ct[e].iter().any(|v| *v != 0.0) {
+                self.fft.forward(&ct[e], &mut c2);
+                for m in 0..=2 * kmax {
+                    ev.c[m][e] = c2[m];
+                }
+            }
+        }
+        Ok(ev)
+    }
+
+    /// Residual `R[k·p + r]` at drive `s`, and the per-row scale of its terms.
+    fn residual(&self, x: &[C64], ev: &NlEval, s: f64) -> (Vec<C64>, Vec<f64>) {
+        let p = self.p();
+        let mut res = vec![ZERO; (self.kmax + 1) * p];
+        let mut scale = vec![0.0f64; p];
+        for k in 0..=self.kmax {
+            let w = k as f64 * self.omega;
+            let y = &self.red.yhat[k];
+            for r in 0..p {
+                let mut yx = ZERO;
+                for c in 0..p {
+                    yx += y[r * p + c] * x[k * p + c];
+                }
+                let mut src = self.red.shat_wave[k][r] * s;
+                if k == 0 {
+                    src += self.red.shat_dc[r];
+                }
+                let iq = ev.i[k][r];
+                let qq = J * w * ev.q[k][r];
+                res[k * p + r] = yx + src + iq + qq;
+                let m = yx.norm().max(src.norm()).max(iq.norm()).max(qq.norm());
+                scale[r] = scale[r].max(m);
+            }
+        }
+        (res, scale)
+    }
+
+    fn tolerances(&self, scale: &[f64]) -> Vec<f64> {
+        scale
+            .iter()
+            .zip(&self.row_abs)
+            .map(|(s, a)| self.tol.reltol * s + a)
+            .collect()
+    }
+
+    /// Largest |R|/tol with its (port, harmonic) and |R|.
+    fn worst(&self, res: &[C64], tol: &[f64]) -> (f64, (usize, usize), f64) {
+        let p = self.p();
+        let mut w = (0.0f64, (0usize, 0usize), 0.0f64);
+        for (e, v) in res.iter().enumerate() {
+            let r = e % p;
+            let ratio = v.norm() / tol[r];
+            if !(ratio <= w.0) {
+                w = (ratio, (r, e / p), v.norm());
+            }
+        }
+        w
+    }
+
+    fn merit(&self, res: &[C64], tol: &[f64]) -> f64 {
+        let p = self.p();
+        res.iter()
+            .enumerate()
+            .map(|(e, v)| v.norm_sqr() / (tol[e % p] * tol[e % p]))
+            .sum()
+    }
+
+    /// Real row-major Jacobian of the residual (see the module docs).
+    fn jacobian(&self, ev: &NlEval) -> Vec<f64> {
+        let p = self.p();
+        let kmax = self.kmax;
+        let m = self.size();
+        let mut jac = vec![0.0; m * m];
+        let ghat = |m: isize, e: usize, src: &Vec<Vec<C64>>| -> C64 {
+            if m >= 0 {
+                src[m as usize][e]
+            } else {
+                src[(-m) as usize][e].conj()
+            }
+        };
+        for k in 0..=kmax {
+            let w = k as f64 * self.omega;
+            let rows: [Option<usize>; 2] = if k == 0 {
+                [Some(0), None]
+            } else {
+                [Some(2 * k - 1), Some(2 * k)]
+            };
+            for l in 0..=kmax {
+                for r in 0..p {
+                    for c in 0..p {
+                        let e = r * p + c;
+                        let y = if k == l { self.red.yhat[k][e] } else { ZERO };
+                        let (da, db) = if l == 0 {
+                            (ev.g[k][e] + J * w * ev.c[k][e] + y, None)
+                        } else {
+                            let (km, kp) = (k as isize - l as isize, (k + l) as isize);
+                            let gm = ghat(km, e, &ev.g);
+                            let gp = ghat(kp, e, &ev.g);
+                            let cm = ghat(km, e, &ev.c);
+                            let cp = ghat(kp, e, &ev.c);
+                            let da = gm + gp + J * w * (cm + cp) + y;
+                            let db = J * (gm - gp) - w * (cm - cp) + J * y;
+                            (da, Some(db))
+                        };
+                        let cols: [usize; 2] = if l == 0 {
+                            [c, usize::MAX]
+                        } else {
+                            [(2 * l - 1) * p + c, 2 * l * p + c]
+                        };
+                        for (part, slot) in rows.iter().enumerate() {
+                            let Some(slot) = slot else { continue };
+                            let row = slot * p + r;
+                            let pick = |v: C64| if part == 0 { v.re } else { v.im };
+                            jac[row * m + cols[0]] += pick(da);
+                            if let Some(db) = db {
+                                jac[row * m + cols[1]] += pick(db);
+                            }
+                        }
+                    }
+                }
+            }
+        }
+        jac
+    }
+
+    /// Newton with line search at drive `s` from `x` (updated in place).
+    fn newton(&mut self, x: &mut [C64], s: f64, max_iter: usize) -> Result<Converged, Fail> {
+        let p = self.p();
+        let m = self.size();
+        let kmax = self.kmax;
+        let with_iter = |f: Fail, it: usize| match f {
+            Fail::NonFinite { port, .. } => Fail::NonFinite {
+                iterations: it,
+                port,
+            },
+            Fail::Escaped { .. } => Fail::Escaped { iterations: it },
+            other => other,
+        };
+        let mut ev = self.eval_nl(x).map_err(|f| with_iter(f, 0))?;
+        let (mut res, mut scale) = self.residual(x, &ev, s);
+        let mut update_ok = false;
+        let mut cuts = 0usize;
+        let mut lu = RealLu::new(LinearSolver::Dense, m);
+        let mut last = (f64::INFINITY, (0usize, 0usize), f64::INFINITY);
+        for it in 0..=max_iter {
+            let tol = self.tolerances(&scale);
+            let worst = self.worst(&res, &tol);
+            if !worst.0.is_finite() {
+                return Err(Fail::NonFinite {
+                    iterations: it,
+                    port: worst.1 .0,
+                });
+            }
+            last = worst;
+            if update_ok && worst.0 <= 1.0 {
+                return Ok(Converged {
+                    iterations: it,
+                    ratio: worst.0,
+                    cuts,
+                });
+            }
+            if it == max_iter {
+                break;
+            }
+            let jac = self.jacobian(&ev);
+            lu.factor(&jac).map_err(|slot| Fail::Singular {
+                iterations: it,
+                slot,
+            })?;
+            let mut dx = vec![0.0; m];
+            for k in 0..=kmax {
+                for r in 0..p {
+                    let v = res[k * p + r];
+                    if k == 0 {
+                        dx[r] = -v.re;
+                    } else {
+                        dx[(2 * k - 1) * p + r] = -v.re;
+                        dx[2 * k * p + r] = -v.im;
+                    }
+                }
+            }
+            lu.solve(&mut dx);
+            if let Some(e) = dx.iter().position(|v| !v.is_finite()) {
+                return Err(Fail::NonFinite {
+                    iterations: it,
+                    port: e % p.max(1),
+                });
+            }
+            let step: Vec<C64> = (0..=kmax)
+                .flat_map(|k| (0..p).map(move |r| (k, r)))
+                .map(|(k, r)| {
+                    if k == 0 {
+                        C64::new(dx[r], 0.0)
+                    } else {
+                        C64::new(dx[(2 * k - 1) * p + r], dx[2 * k * p + r])
+                    }
+                })
+                .collect();
+            // Line search on the scaled residual norm (weights fixed at this iterate).
+            let merit0 = self.merit(&res, &tol);
+            let mut alpha = 1.0f64;
+            let mut halvings = 0usize;
+            let (xt, evt, rest, scalet) = loop {
+                let xt: Vec<C64> = x.iter().zip(&step).map(|(a, d)| a + d * alpha).collect();
+                let attempt = self.eval_nl(&xt).map(|evt| {
+                    let (rt, st) = self.residual(&xt, &evt, s);
+                    (evt, rt, st)
+                });
+                if let Ok((evt, rt, st)) = attempt {
+                    let mt = self.merit(&rt, &tol);
+                    if mt.is_finite() && (worst.0 <= 1.0 || mt < merit0) {
+                        break (xt, evt, rt, st);
+                    }
+                } else if let Err(Fail::Escaped { .. }) = attempt {
+                    return Err(Fail::Escaped { iterations: it });
+                }
+                halvings += 1;
+                cuts += 1;
+                if halvings > self.max_halvings {
+                    return Err(Fail::NoConvergence {
+                        iterations: it + 1,
+                        worst: last.1,
+                        residual: last.2,
+                    });
+                }
+                alpha *= 0.5;
+            };
+            // Update test on the applied step (a cut step never counts as converged).
+            update_ok = alpha == 1.0;
+            if update_ok {
+                for r in 0..p {
+                    let mag = (0..=kmax)
+                        .map(|k| xt[k * p + r].norm() * if k == 0 { 1.0 } else { 2.0 })
+                        .fold(0.0f64, f64::max);
+                    let lim = self.tol.reltol * mag + self.var_abs[r];
+                    let d = (0..=kmax)
+                        .map(|k| step[k * p + r].norm())
+                        .fold(0.0f64, f64::max);
+                    if d > lim {
+                        update_ok = false;
+                    }
+                }
+            }
+            x.copy_from_slice(&xt);
+            ev = evt;
+            res = rest;
+            scale = scalet;
+        }
+        Err(Fail::NoConvergence {
+            iterations: max_iter,
+            worst: last.1,
+            residual: last.2,
+        })
+    }
+
+    /// Harmonics of every unknown `[k][unknown]` from the port harmonics at full drive.
+    fn full_solution(&self, xp: &[C64]) -> Vec<Vec<C64>> {
+        let p = self.p();
+        let n = self.devices.n_unknowns;
+        let o = self.red.others.len();
+        let mut out = vec![vec![ZERO; n]; self.kmax + 1];
+        for (k, row) in out.iter_mut().enumerate() {
+            for (a, &u) in self.red.ports.iter().enumerate() {
+                row[u] = xp[k * p + a];
+            }
+            for (i, &u) in self.red.others.iter().enumerate() {
+                let mut v = self.red.zs_wave[k][i];
+                if k == 0 {
+                    v += self.red.zs_dc[i];
+                }
+                for b in 0..p {
+                    v += self.red.z[k][i * p + b] * xp[k * p + b];
+                }
+                row[u] = -v;
+            }
+            let _ = o;
+            row.iter_mut().take(n).for_each(|v| {
+                if k == 0 {
+                    v.im = 0.0;
+                }
+            });
+        }
+        out
+    }
+
+    fn fail_to_error(&self, f: Fail, s: f64) -> SolveError {
+        let analysis = format!(
+            "harmonic balance (K = {}, drive {:.2}%)",
+            self.kmax,
+            100.0 * s
+        );
+        let name = |a: usize| {
+            self.red
+                .ports
+                .get(a)
+                .and_then(|&u| self.devices.names.get(u))
+                .cloned()
+                .unwrap_or_else(|| format!("port #{a}"))
+        };
+        match f {
+            Fail::NoConvergence {
+                iterations,
+                worst,
+                residual,
+            } => SolveError::NoConvergence {
+                analysis,
+                unknown: format!("{} at harmonic {}", name(worst.0), worst.1),
+                iterations,
+                residual,
+                unit: match self
+                    .red
+                    .ports
+                    .get(worst.0)
+                    .and_then(|&u| self.devices.kinds.get(u))
+                {
+                    Some(UnknownKind::Current) => "V",
+                    _ => "A",
+                },
+                when: When(None),
+            },
+            Fail::Singular { slot, .. } => {
+                let p = self.p().max(1);
+                let (sl, a) = (slot / p, slot % p);
+                let (k, part) = if sl == 0 {
+                    (0, "")
+                } else {
+                    (
+                        sl.div_ceil(2),
+                        if sl % 2 == 1 { " (real)" } else { " (imag)" },
+                    )
+                };
+                SolveError::Singular {
+                    analysis,
+                    unknown: format!("{} at harmonic {k}{part}", name(a)),
+                    when: When(None),
+                }
+            }
+            Fail::NonFinite { port, .. } => SolveError::NonFinite {
+                analysis,
+                unknown: name(port),
+                when: When(None),
+            },
+            Fail::Escaped { .. } => SolveError::BadParams(format!(
+                "{analysis}: a nonlinear device stamped an unknown outside its ports"
+            )),
+        }
+    }
+}
+
+/// A converged solve at one K.
+struct Solved {
+    kmax: usize,
+    nfft: usize,
+    ports: usize,
+    reduced: bool,
+    /// `[k][unknown]` at full drive.
+    x_full: Vec<Vec<C64>>,
+    iterations: usize,
+    cuts: usize,
+    ratio: f64,
+    continuation_steps: usize,
+    truncation: f64,
+    system_size: usize,
+    t_start: f64,
+}
+
+/// FFT size of the nonlinear evaluation for `k` harmonics.
+fn fft_size(k: usize, oversample: usize) -> usize {
+    (oversample * k).max(8).next_power_of_two()
+}
+
+type Attempt = Result<Solved, (SolveError, usize, usize)>;
+
+/// Solve at `kmax` harmonics, from `warm` (`[k][unknown]`, any K) if given.
+fn solve_k(
+    devices: &DeviceSet,
+    params: &SteadyParams,
+    kmax: usize,
+    t_start: f64,
+    x_op: &[f64],
+    ports_structural: &[usize],
+    warm: Option<&[Vec<C64>]>,
+) -> Attempt {
+    let bp = &params.balance;
+    let n = devices.n_unknowns;
+    let period = 1.0 / params.freq;
+    let omega = 2.0 * std::f64::consts::PI * params.freq;
+    let nfft = fft_size(kmax, bp.oversample);
+    let mut fft = Fft::new(nfft);
+    let lin =
+        linear_network(devices, kmax, &mut fft, t_start, period, bp.gmin).map_err(|e| (e, 0, 0))?;
+    let all: Vec<usize> = (0..n).collect();
+    let singular = |f: ReduceFail| {
+        (
+            SolveError::Singular {
+                analysis: format!(
+                    "harmonic balance (linear network at harmonic {})",
+                    f.harmonic
+                ),
+                unknown: f
+                    .column
+                    .and_then(|c| devices.names.get(c))
+                    .cloned()
+                    .unwrap_or_else(|| "a non-finite entry".into()),
+                when: When(None),
+            },
+            0,
+            0,
+        )
+    };
+    let red = match reduce_growing(&lin, ports_structural, kmax, omega) {
+        Ok(r) => r,
+        Err(_) => reduce(&lin, &all, kmax, omega).map_err(singular)?,
+    };
+    let reduced = !red.others.is_empty();
+    let mut prob = Problem::new(devices, red, kmax, nfft, omega, t_start, params);
+    let attempt = run_levels(&mut prob, params, x_op, warm);
+    let attempt = match attempt {
+        Err((Fail::Escaped { .. }, _, _)) if reduced => {
+            // A device stamped outside the structural ports: keep every unknown.
+            let red = reduce(&lin, &all, kmax, omega).map_err(singular)?;
+            prob = Problem::new(devices, red, kmax, nfft, omega, t_start, params);
+            run_levels(&mut prob, params, x_op, warm)
+        }
+        other => other,
+    };
+    let (xp, iterations, cuts, ratio, steps) = match attempt {
+        Ok(v) => v,
+        Err((f, s, its)) => {
+            let e = prob.fail_to_error(f, s);
+            return Err((e, its, 0));
+        }
+    };
+    let x_full = prob.full_solution(&xp);
+    if let Some((k, u)) = x_full
+        .iter()
+        .enumerate()
+        .find_map(|(k, row)| row.iter().position(|v| !v.is_finite()).map(|u| (k, u)))
+    {
+        return Err((
+            SolveError::NonFinite {
+                analysis: format!("harmonic balance (harmonic {k})"),
+                unknown: devices.names.get(u).cloned().unwrap_or_default(),
+                when: When(None),
+            },
+            iterations,
+            cuts,
+        ));
+    }
+    let truncation = truncation_ratio(devices, &x_full, bp);
+    let reduced = !prob.red.others.is_empty();
+    Ok(Solved {
+        kmax,
+        nfft,
+        ports: prob.p(),
+        reduced,
+        system_size: prob.size(),
+        x_full,
+        iterations,
+        cuts,
+        ratio,
+        continuation_steps: steps,
+        truncation,
+        t_start,
+    })
+}
+
+/// Port harmonics `[k·p + r]` from harmonics of every unknown (any K, zero-padded).
+fn port_start(prob: &Problem<'_>, full: &[Vec<C64>]) -> Vec<C64> {
+    let p = prob.p();
+    let mut x = vec![ZERO; (prob.kmax + 1) * p];
+    for (k, row) in full.iter().enumerate().take(prob.kmax + 1) {
+        for (a, &u) in prob.red.ports.iter().enumerate() {
+            x[k * p + a] = row.get(u).copied().unwrap_or(ZERO);
+        }
+    }
+    x
+}
+
+type LevelOut = (Vec<C64>, usize, usize, f64, usize);
+
+/// Direct solve at full drive, then continuation on the drive. On failure
+/// returns the last failure, the drive level it happened at, and the iterations spent.
+fn run_levels(
+    prob: &mut Problem<'_>,
+    params: &SteadyParams,
+    x_op: &[f64],
+    warm: Option<&[Vec<C64>]>,
+) -> Result<LevelOut, (Fail, f64, usize)> {
+    let bp = &params.balance;
+    let p = prob.p();
+    let op_full: Vec<Vec<C64>> = vec![x_op.iter().map(|v| C64::new(*v, 0.0)).collect()];
+    let x0 = port_start(prob, &op_full);
+    if p == 0 {
+        return Ok((Vec::new(), 0, 0, 0.0, 0));
+    }
+    let mut iters = 0usize;
+    let mut cuts = 0usize;
+    // 1. Direct, from the warm start (raised K) or the operating point.
+    let mut x = match warm {
+        Some(w) => port_start(prob, w),
+        None => x0.clone(),
+    };
+    let first_fail = match prob.newton(&mut x, 1.0, bp.max_iter) {
+        Ok(c) => return Ok((x, c.iterations, c.cuts, c.ratio, 0)),
+        Err(f) => {
+            iters += f.iterations();
+            if matches!(f, Fail::Escaped { .. }) {
+                return Err((f, 1.0, iters));
+            }
+            f
+        }
+    };
+    if !bp.continuation {
+        return Err((first_fail, 1.0, iters));
+    }
+    // 2. Continuation on the drive from the operating point.
+    let mut s_cur = 0.0f64;
+    let mut x_cur = x0;
+    let mut prev: Option<(f64, Vec<C64>)> = None;
+    let mut step = bp.first_step;
+    let mut levels = 0usize;
+    let mut attempts = 0usize;
+    loop {
+        attempts += 1;
+        let s_try = (s_cur + step).min(1.0);
+        let mut xt = match &prev {
+            Some((s_prev, x_prev)) if s_cur > *s_prev => {
+                let f = (s_try - s_cur) / (s_cur - s_prev);
+                x_cur
+                    .iter()
+                    .zip(x_prev)
+                    .map(|(a, b)| a + (a - b) * f)
+                    .collect()
+            }
+            _ => x_cur.clone(),
+        };
+        match prob.newton(&mut xt, s_try, bp.max_iter) {
+            Ok(c) => {
+                iters += c.iterations;
+                cuts += c.cuts;
+                levels += 1;
+                prev = Some((s_cur, std::mem::take(&mut x_cur)));
+                x_cur = xt;
+                s_cur = s_try;
+                if s_cur >= 1.0 {
+                    return Ok((x_cur, iters, cuts, c.ratio, levels));
+                }
+                step = (step * 1.5).min(1.0);
+            }
+            Err(f) => {
+                iters += f.iterations();
+                if matches!(f, Fail::Escaped { .. }) {
+                    return Err((f, s_try, iters));
+                }
+                step *= 0.5;
+                if step < bp.min_step || attempts >= bp.max_levels {
+                    return Err((f, s_try, iters));
+                }
+            }
+        }
+    }
+}
+
+/// Largest top-band harmonic of any voltage unknown over its limit.
+fn truncation_ratio(devices: &DeviceSet, x: &[Vec<C64>], bp: &BalanceParams) -> f64 {
+    let kmax = x.len().saturating_sub(1);
+    if kmax == 0 {
+        return 0.0;
+    }
+    let volts: Vec<usize> = (0..devices.n_unknowns)
+        .filter(|&u| devices.kinds.get(u) != Some(&UnknownKind::Current))
+        .collect();
+    let fund = volts
+        .iter()
+        .map(|&u| 2.0 * x[1][u].norm())
+        .fold(0.0f64, f64::max);
+    let band = (kmax / 10).max(1);
+    let top = volts
+        .iter()
+        .flat_map(|&u| (kmax + 1 - band..=kmax).map(move |k| 2.0 * x[k][u].norm()))
+        .fold(0.0f64, f64::max);
+    let lim = (bp.truncation_rel * fund).max(bp.truncation_abs);
+    if lim > 0.0 {
+        top / lim
+    } else if top > 0.0 {
+        f64::INFINITY
+    } else {
+        0.0
+    }
+}
+
+/// A stamp that keeps only the currents and charges (full length).
+struct IqStamp {
+    i: Vec<f64>,
+    q: Vec<f64>,
+}
+
+impl Stamp for IqStamp {
+    fn add_i(&mut self, row: Idx, v: f64) {
+        if let Some(r) = row.and_then(|r| self.i.get_mut(r)) {
+            *r += v;
+        }
+    }
+    fn add_q(&mut self, row: Idx, v: f64) {
+        if let Some(r) = row.and_then(|r| self.q.get_mut(r)) {
+            *r += v;
+        }
+    }
+    fn add_g(&mut self, _row: Idx, _col: Idx, _v: f64) {}
+    fn add_c(&mut self, _row: Idx, _col: Idx, _v: f64) {}
+}
+
+/// Build the [`PeriodicSolution`] from a converged solve.
+fn finish(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    params: &SteadyParams,
+    sol: Solved,
+    tried: Vec<usize>,
+    iterations: usize,
+    cuts: usize,
+) -> Result<PeriodicSolution, SolveError> {
+    let n = devices.n_unknowns;
+    let kmax = sol.kmax;
+    let mut nout = params.samples();
+    while nout <= 2 * kmax {
+        nout *= 2;
+    }
+    let mut out_fft = Fft::new(nout);
+    let mut coef = vec![ZERO; kmax + 1];
+    let mut x = vec![vec![0.0; nout]; n];
+    for (u, xu) in x.iter_mut().enumerate() {
+        for k in 0..=kmax {
+            coef[k] = sol.x_full[k][u];
+        }
+        out_fft.inverse(&coef, xu);
+    }
+    let terminal_currents = currents(circuit, devices, params, &sol, &mut out_fft)?;
+    let bad = x.iter().position(|v| v.iter().any(|a| !a.is_finite()));
+    if let Some(u) = bad {
+        return Err(SolveError::NonFinite {
+            analysis: "harmonic balance (waveforms)".into(),
+            unknown: devices.names.get(u).cloned().unwrap_or_default(),
+            when: When(None),
+        });
+    }
+    Ok(PeriodicSolution {
+        freq: params.freq,
+        harmonics: kmax,
+        samples_per_period: nout,
+        x,
+        terminal_currents,
+        info: SteadyInfo {
+            method: SteadyMethod::Balance,
+            fell_back_from: None,
+            iterations,
+            residual: sol.ratio,
+            system_size: sol.system_size,
+            balance: Some(BalanceInfo {
+                harmonics: kmax,
+                harmonics_tried: tried,
+                fft_size: sol.nfft,
+                ports: sol.ports,
+                reduced: sol.reduced,
+                continuation_steps: sol.continuation_steps,
+                line_search_cuts: cuts,
+                truncation: sol.truncation,
+            }),
+        },
+    })
+}
+
+/// Current into every terminal of every element, `I_k + jkωQ_k` of the
+/// element's devices for `k ≤ K`, sampled on the output grid.
+fn currents(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    params: &SteadyParams,
+    sol: &Solved,
+    out_fft: &mut Fft,
+) -> Result<Vec<Vec<Vec<f64>>>, SolveError> {
+    let n = devices.n_unknowns;
+    let kmax = sol.kmax;
+    let ns = sol.nfft;
+    let nout = out_fft.n;
+    let period = 1.0 / params.freq;
+    let omega = 2.0 * std::f64::consts::PI * params.freq;
+    let mut fft = Fft::new(ns);
+    // Every unknown on the evaluation grid.
+    let mut coef = vec![ZERO; kmax + 1];
+    let mut xt = vec![vec![0.0; ns]; n];
+    for (u, xu) in xt.iter_mut().enumerate() {
+        for k in 0..=kmax {
+            coef[k] = sol.x_full[k][u];
+        }
+        fft.inverse(&coef, xu);
+    }
+    let mut state = devices.initial_state();
+    let mut xs = vec![0.0; n];
+    let mut out = Vec::with_capacity(circuit.elements.len());
+    let mut stamp = IqStamp {
+        i: vec![0.0; n],
+        q: vec![0.0; n],
+    };
+    let mut ci = vec![ZERO; kmax + 1];
+    let mut cq = vec![ZERO; kmax + 1];
+    for (ei, el) in circuit.elements.iter().enumerate() {
+        let terms = el.kind.terminals();
+        if terms.is_empty() {
+            out.push(Vec::new());
+            continue;
+        }
+        let devs: Vec<usize> = devices
+            .devices
+            .iter()
+            .enumerate()
+            .filter(|(_, d)| d.element() == ei)
+            .map(|(k, _)| k)
+            .collect();
+        let mut iv = vec![vec![0.0; ns]; terms.len()];
+        let mut qv = vec![vec![0.0; ns]; terms.len()];
+        for s in 0..ns {
+            for (u, xv) in xs.iter_mut().enumerate() {
+                *xv = xt[u][s];
+            }
+            let ctx = EvalCtx {
+                time: sol.t_start + s as f64 * period / ns as f64,
+                dc_scale: 1.0,
+                wave_scale: 1.0,
+                gmin: params.balance.gmin,
+                limit: false,
+            };
+            stamp.i.fill(0.0);
+            stamp.q.fill(0.0);
+            for &di in &devs {
+                let d = &devices.devices[di];
+                let off = devices.state_offsets.get(di).copied().unwrap_or(0);
+                let len = d.state_len();
+                let sl = state.get_mut(off..off + len).unwrap_or(&mut []);
+                d.eval(&xs, &ctx, sl, &mut stamp);
+            }
+            for (j, t) in terms.iter().enumerate() {
+                if let Some(k) = t {
+                    iv[j][s] = stamp.i.get(*k).copied().unwrap_or(0.0);
+                    qv[j][s] = stamp.q.get(*k).copied().unwrap_or(0.0);
+                }
+            }
+        }
+        let mut cur = vec![vec![0.0; nout]; terms.len()];
+        for j in 0..terms.len() {
+            if terms[j].is_none() {
+                continue;
+            }
+            fft.forward(&iv[j], &mut ci);
+            fft.forward(&qv[j], &mut cq);
+            for k in 0..=kmax {
+                coef[k] = ci[k] + J * (k as f64 * omega) * cq[k];
+            }
+            out_fft.inverse(&coef, &mut cur[j]);
+        }
+        // Grounded terminal: minus the sum of the others (charge neutrality).
+        let grounded: Vec<usize> = (0..terms.len()).filter(|&j| terms[j].is_none()).collect();
+        if grounded.len() == 1 {
+            let g = grounded[0];
+            for s in 0..nout {
+                let sum: f64 = (0..terms.len())
+                    .filter(|&j| j != g)
+                    .map(|j| cur[j][s])
+                    .sum();
+                cur[g][s] = -sum;
+            }
+        }
+        if let Some(j) = cur.iter().position(|c| c.iter().any(|v| !v.is_finite())) {
+            return Err(SolveError::NonFinite {
+                analysis: "harmonic balance (terminal currents)".into(),
+                unknown: format!("terminal {} of {}", j + 1, el.name),
+                when: When(None),
+            });
+        }
+        out.push(cur);
+    }
+    Ok(out)
 }
