@@ -29,5 +29,5 @@ pub use record::{
     RecordReader, RecordSink, ResumeInfo, Shard, Verdict, SCHEMA, SCHEMA_VERSION,
 };
 pub use runner::{run_study, shard_indices, Outcome, Progress, RunInfo, StudyParams, WarmStart};
-pub use summary::{percentile_sorted, FigureStats, RequirementStats, Summary};
+pub use summary::{percentile_sorted, FigureStats, RequirementStats, Summary, SummaryBuilder};
 pub use tune::{tune, Sharpness, TuneContext, TuneFigures, TuneGoal, TuneParams, TuneResult};

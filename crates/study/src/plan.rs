@@ -350,13 +350,15 @@ impl Plan {
     ) -> Result<impl Iterator<Item = u64> + use<>, StudyError> {
         let count = self.segment_count(chain)?;
         let n = self.line_len();
-        let per_line = n.div_ceil(chain);
+        let per_line = n.div_ceil(chain).max(1);
+        let runs = self.runs.max(1);
+        // Beyond the plan (including a plan with no variants): an empty range.
+        let segment = segment.min(count);
         let (line, part) = (segment / per_line, segment % per_line);
-        let (outer, sample) = (line / self.runs, line % self.runs);
-        let runs = self.runs;
-        let start = part * chain;
+        let (outer, sample) = (line / runs, line % runs);
+        let start = part.saturating_mul(chain);
         let end = if segment < count {
-            (start + chain).min(n)
+            start.saturating_add(chain).min(n)
         } else {
             start
         };

@@ -87,55 +87,69 @@ pub fn percentile_sorted(sorted: &[f64], p: f64) -> Result<f64, StudyError> {
     }
 }
 
-impl Summary {
-    /// Summarise `records` with the given percentiles (e.g. `&[5.0, 95.0]`).
-    /// Holds every figure's values (8 bytes per variant per figure) to sort them.
-    pub fn from_records<'a>(
-        records: impl IntoIterator<Item = &'a Record>,
-        percentiles: &[f64],
-    ) -> Result<Summary, StudyError> {
+/// Builds a [`Summary`] one record at a time (e.g. straight from a
+/// [`crate::RecordReader`]), keeping only the figures' values (8 bytes per
+/// variant per figure), never the records.
+#[derive(Debug, Clone, Default)]
+pub struct SummaryBuilder {
+    summary: Summary,
+    values: BTreeMap<String, Vec<f64>>,
+}
+
+impl SummaryBuilder {
+    /// An empty builder.
+    pub fn new() -> Self {
+        Self::default()
+    }
+
+    /// Add one record.
+    pub fn add(&mut self, r: &Record) {
+        let s = &mut self.summary;
+        s.variants += 1;
+        if r.error.is_some() {
+            s.failed += 1;
+            return;
+        }
+        if r.passes_all() {
+            s.passed_all += 1;
+        }
+        for (k, &v) in &r.metrics {
+            if v.is_finite() {
+                self.values.entry(k.clone()).or_default().push(v);
+            }
+        }
+        for (k, v) in &r.verdicts {
+            if !v.margin.is_finite() {
+                continue;
+            }
+            let e = s.requirements.entry(k.clone()).or_insert(RequirementStats {
+                evaluated: 0,
+                passed: 0,
+                worst_index: r.index,
+                worst_margin: v.margin,
+            });
+            e.evaluated += 1;
+            if v.pass {
+                e.passed += 1;
+            }
+            if v.margin < e.worst_margin || (v.margin == e.worst_margin && r.index < e.worst_index)
+            {
+                e.worst_margin = v.margin;
+                e.worst_index = r.index;
+            }
+        }
+    }
+
+    /// Finish with the given percentiles (each in 0..=100, e.g. `&[5.0, 95.0]`).
+    pub fn finish(self, percentiles: &[f64]) -> Result<Summary, StudyError> {
         if let Some(&p) = percentiles.iter().find(|p| !(0.0..=100.0).contains(*p)) {
             return Err(StudyError::BadPercentile { p });
         }
-        let mut s = Summary::default();
-        let mut values: BTreeMap<String, Vec<f64>> = BTreeMap::new();
-        for r in records {
-            s.variants += 1;
-            if r.error.is_some() {
-                s.failed += 1;
-                continue;
-            }
-            if r.passes_all() {
-                s.passed_all += 1;
-            }
-            for (k, &v) in &r.metrics {
-                if v.is_finite() {
-                    values.entry(k.clone()).or_default().push(v);
-                }
-            }
-            for (k, v) in &r.verdicts {
-                let e = s.requirements.entry(k.clone()).or_insert(RequirementStats {
-                    evaluated: 0,
-                    passed: 0,
-                    worst_index: r.index,
-                    worst_margin: f64::INFINITY,
-                });
-                e.evaluated += 1;
-                if v.pass {
-                    e.passed += 1;
-                }
-                if v.margin < e.worst_margin
-                    || (v.margin == e.worst_margin && r.index < e.worst_index)
-                {
-                    e.worst_margin = v.margin;
-                    e.worst_index = r.index;
-                }
-            }
-        }
+        let mut s = self.summary;
         if s.variants > 0 {
             s.yield_fraction = s.passed_all as f64 / s.variants as f64;
         }
-        for (k, mut v) in values {
+        for (k, mut v) in self.values {
             v.sort_by(f64::total_cmp);
             let (Some(&min), Some(&max)) = (v.first(), v.last()) else {
                 continue;
@@ -160,5 +174,19 @@ impl Summary {
             );
         }
         Ok(s)
+    }
+}
+
+impl Summary {
+    /// Summarise `records` with the given percentiles (e.g. `&[5.0, 95.0]`).
+    pub fn from_records<'a>(
+        records: impl IntoIterator<Item = &'a Record>,
+        percentiles: &[f64],
+    ) -> Result<Summary, StudyError> {
+        let mut b = SummaryBuilder::new();
+        for r in records {
+            b.add(r);
+        }
+        b.finish(percentiles)
     }
 }

@@ -164,7 +164,14 @@ where
     }
     fn eval(&self, x: &[f64], drive_scale: f64) -> Result<TuneFigures, String> {
         self.evaluations.fetch_add(1, Ordering::Relaxed);
-        let r = (self.objective)(&self.point(x), &TuneContext { drive_scale });
+        // Non-finite figures become absent, so no NaN reaches a result.
+        let finite = |v: Option<f64>| v.filter(|x| x.is_finite());
+        let r =
+            (self.objective)(&self.point(x), &TuneContext { drive_scale }).map(|f| TuneFigures {
+                pout: finite(f.pout),
+                efficiency: finite(f.efficiency),
+                input_vswr: finite(f.input_vswr),
+            });
         if r.is_err() {
             self.failures.fetch_add(1, Ordering::Relaxed);
         }

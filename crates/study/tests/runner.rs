@@ -97,6 +97,9 @@ fn shards_partition_the_study_and_merge_equals_one_run() {
     run_study(&plan, &params(2, chain), synthetic, &mut whole, &|_| {}).unwrap();
     let whole = whole.into_inner();
     let (_, whole_recs) = read_all(&whole);
+    // Records read back from the file equal the records in memory, bit for bit.
+    let (mem_recs, _) = run_mem(&plan, &params(1, chain));
+    assert_eq!(whole_recs, mem_recs);
 
     let n = 3;
     let mut outputs = Vec::new();

@@ -136,6 +136,15 @@ fn summary_of_a_run_from_its_record_file() {
         .unwrap();
     let recs: Vec<Record> = reader.by_ref().map(|r| r.unwrap()).collect();
     let s = Summary::from_records(&recs, &[5.0, 95.0]).unwrap();
+    // Streaming from the reader gives the same summary.
+    let mut b = SummaryBuilder::new();
+    for r in RecordReader::open(std::io::Cursor::new(&bytes[..]), "mem")
+        .unwrap()
+        .unwrap()
+    {
+        b.add(&r.unwrap());
+    }
+    assert_eq!(b.finish(&[5.0, 95.0]).unwrap(), s);
     assert_eq!(s.variants, 60);
     assert_eq!(s.failed, 3);
     let by_hand = recs
