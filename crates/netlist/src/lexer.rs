@@ -223,7 +223,7 @@ pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic
             {
                 // A statement keyword at the start of a line while a bracket is open:
                 // the bracket was never closed. Report it and start afresh here.
-                for (k, sp) in stack.drain(..) {
+                for (k, sp) in stack.drain(..).take(3) {
                     diags.push(
                         map.error(
                             "unclosed-bracket",
@@ -436,16 +436,19 @@ pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic
             _ => toks.push(Token { kind, span }),
         }
     }
-    for (k, sp) in stack.drain(..) {
+    // Report the outermost few (a hundred unclosed brackets are one mistake repeated).
+    if !stack.is_empty() {
+        toks.push(Token {
+            kind: TokKind::Error,
+            span: Span::new(file, len, len),
+        });
+    }
+    for (k, sp) in stack.drain(..).take(3) {
         diags.push(map.error(
             "unclosed-bracket",
             sp,
             format!("{} is never closed", k.describe()),
         ));
-        toks.push(Token {
-            kind: TokKind::Error,
-            span: Span::new(file, len, len),
-        });
     }
     toks.push(Token {
         kind: TokKind::Eof,

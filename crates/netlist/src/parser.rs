@@ -26,7 +26,11 @@ struct Parser<'a> {
     pos: usize,
     map: &'a SourceMap,
     diags: &'a mut Vec<Diagnostic>,
+    depth: usize,
 }
+
+/// Deepest nesting of expressions and limits (guards the stack on hostile input).
+pub const MAX_NESTING: usize = 200;
 
 type P<T> = Result<T, ()>;
 
@@ -37,6 +41,7 @@ pub fn parse_tokens(toks: &[Token], map: &SourceMap, diags: &mut Vec<Diagnostic>
         pos: 0,
         map,
         diags,
+        depth: 0,
     };
     let mut items = Vec::new();
     loop {
@@ -417,7 +422,10 @@ impl<'a> Parser<'a> {
                         })
                     }
                     TokKind::Ident(_) | TokKind::LParen => {
-                        let inner = self.value()?;
+                        self.enter()?;
+                        let inner = self.value();
+                        self.depth -= 1;
+                        let inner = inner?;
                         let span = m.span.to(inner.span);
                         Ok(Expr {
                             kind: ExprKind::Neg(Box::new(inner)),
@@ -458,7 +466,24 @@ impl<'a> Parser<'a> {
         }
     }
 
+    fn enter(&mut self) -> P<()> {
+        self.depth += 1;
+        if self.depth > MAX_NESTING {
+            let sp = self.tok().span;
+            self.err(sp, format!("nested more than {MAX_NESTING} deep"));
+            return Err(());
+        }
+        Ok(())
+    }
+
     fn expr(&mut self) -> P<Expr> {
+        self.enter()?;
+        let r = self.expr_inner();
+        self.depth -= 1;
+        r
+    }
+
+    fn expr_inner(&mut self) -> P<Expr> {
         let mut lhs = self.term()?;
         loop {
             let op = match self.peek() {
@@ -497,6 +522,13 @@ impl<'a> Parser<'a> {
     }
 
     fn unary(&mut self) -> P<Expr> {
+        self.enter()?;
+        let r = self.unary_inner();
+        self.depth -= 1;
+        r
+    }
+
+    fn unary_inner(&mut self) -> P<Expr> {
         if matches!(self.peek(), TokKind::Minus) {
             let m = self.bump();
             if let TokKind::Number { value, unit } = self.peek().clone() {
@@ -734,6 +766,13 @@ impl<'a> Parser<'a> {
     }
 
     fn limit(&mut self) -> P<LimitAst> {
+        self.enter()?;
+        let r = self.limit_inner();
+        self.depth -= 1;
+        r
+    }
+
+    fn limit_inner(&mut self) -> P<LimitAst> {
         let t = self.tok().clone();
         if self.eat_word("below") {
             return Ok(LimitAst::Below(self.value()?));
