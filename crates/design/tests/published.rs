@@ -475,3 +475,25 @@ fn choke_and_blocking() {
         Err(DesignError::NotPositive { .. })
     ));
 }
+
+/// α0, α1 closed forms (Cripps 2006 ch. 3, from memory) against numerical
+/// quadrature of the pulse by scipy.integrate.quad
+/// (tests/reference/design/gen_pulse.py). The file prints 12 significant
+/// digits and quad was asked for 1e-13 relative, so 1e-10 absolute holds.
+#[test]
+fn pulse_coefficients_against_quadrature() {
+    let data = include_str!("../../../tests/reference/design/pulse_reference.txt");
+    let mut n = 0;
+    for line in data.lines().filter(|l| l.starts_with("pulse ")) {
+        let w: Vec<f64> = line
+            .split_whitespace()
+            .skip(1)
+            .map(|x| x.parse().unwrap())
+            .collect();
+        let (a0, a1) = pulse_coefficients(w[0]).unwrap();
+        assert!((a0 - w[1]).abs() < 1e-10, "{line}: α0 {a0}");
+        assert!((a1 - w[2]).abs() < 1e-10, "{line}: α1 {a1}");
+        n += 1;
+    }
+    assert_eq!(n, 18);
+}
