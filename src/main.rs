@@ -1,1 +1,62 @@
-fn main() {}
+//! The `tankwave` command line: a thin shell over the library crates. It
+//! parses arguments, calls the crates in data-flow order, prints, writes
+//! files and picks the exit code. It is the only code that prints.
+
+mod cmd;
+mod diag;
+mod pipeline;
+
+use clap::{Parser, Subcommand};
+use std::process::ExitCode;
+
+const EXIT_CODES: &str = "\
+Exit codes:
+  0  everything ran and every requirement passed
+  1  a requirement or an emission mask failed
+  2  bad input (unreadable file, errors in a stage file, bad options)
+  3  the solver failed (the message says what failed and where)
+
+Caution: the stages this tool models carry high RF voltages on tank capacitors
+and can cause RF burns; transmit only as your licence and local rules allow.";
+
+/// Harmonic-balance and transient analysis of tuned HF bipolar power stages.
+#[derive(Parser, Debug)]
+#[command(name = "tankwave", version, about, long_about = None, after_help = EXIT_CODES)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+enum Command {
+    /// Check stage files and summarise them; list every problem with file:line:column.
+    #[command(after_help = EXIT_CODES)]
+    Lint(cmd::lint::LintArgs),
+    /// Solve what a stage file declares (operating point, transient, AC, steady state) and report.
+    #[command(after_help = EXIT_CODES)]
+    Run(cmd::run::RunArgs),
+    /// Solve stage files and evaluate every `require`: a verdict table, exit 1 if any fails.
+    #[command(after_help = EXIT_CODES)]
+    Check(cmd::check::CheckArgs),
+    /// Synthesise a load line, matching network, low-pass filter or feed choke.
+    #[command(after_help = EXIT_CODES)]
+    Design(cmd::design::DesignArgs),
+}
+
+fn main() -> ExitCode {
+    let cli = match Cli::try_parse() {
+        Ok(c) => c,
+        Err(e) => {
+            let code = if e.use_stderr() { 2 } else { 0 };
+            let _ = e.print();
+            return ExitCode::from(code);
+        }
+    };
+    let code = match cli.command {
+        Command::Lint(a) => cmd::lint::run(&a),
+        Command::Run(a) => cmd::run::run(&a),
+        Command::Check(a) => cmd::check::run(&a),
+        Command::Design(a) => cmd::design::run(a),
+    };
+    ExitCode::from(code.clamp(0, 255) as u8)
+}

@@ -14,6 +14,9 @@ pub const SAFETY_NOTE: &str = "Caution: tank and output-network capacitors carry
 the supply and RF current burns; test into a dummy load, and transmit only as your licence and local \
 regulations allow.";
 
+/// Harmonics listed in the text report (all of them are in the JSON).
+pub const SHOWN_HARMONICS: usize = 16;
+
 fn method_name(m: SteadyMethod) -> &'static str {
     match m {
         SteadyMethod::Auto => "auto",
@@ -221,7 +224,7 @@ pub fn steady_text(
             ("power", Align::Right),
             ("level", Align::Right),
         ]);
-        for h in o.harmonics.iter() {
+        for h in o.harmonics.iter().take(SHOWN_HARMONICS) {
             t.row(vec![
                 h.n.to_string(),
                 si(h.freq_hz, "Hz"),
@@ -230,6 +233,21 @@ pub fn steady_text(
             ]);
         }
         s.push_str(&t.render());
+        let rest: Vec<f64> = o
+            .harmonics
+            .iter()
+            .skip(SHOWN_HARMONICS)
+            .filter_map(|h| h.dbc)
+            .collect();
+        if !rest.is_empty() {
+            let worst = rest.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+            s.push_str(&format!(
+                "harmonics {}..{}: highest {} (all of them in --format json)\n",
+                SHOWN_HARMONICS + 1,
+                o.harmonics.len(),
+                db(worst, "dBc")
+            ));
+        }
     }
 
     if !m.stress.is_empty() {

@@ -1,0 +1,8 @@
+//! One module per subcommand. Each exposes its clap arguments and a `run`
+//! that returns the process exit code.
+
+pub mod check;
+pub mod common;
+pub mod design;
+pub mod lint;
+pub mod run;

@@ -1,0 +1,191 @@
+//! Integration tests of the `tankwave` binary: exit codes, outputs, files.
+//! Data lives under tests/data/; demo stages under netlists/.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn bin() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_tankwave"))
+}
+
+fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+fn data(p: &str) -> PathBuf {
+    root().join("tests/data").join(p)
+}
+
+fn run(args: &[&str]) -> Output {
+    bin().args(args).output().expect("binary runs")
+}
+
+fn code(o: &Output) -> i32 {
+    o.status.code().unwrap_or(-1)
+}
+
+fn stdout(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stdout).into_owned()
+}
+
+fn stderr(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stderr).into_owned()
+}
+
+fn p(path: &Path) -> &str {
+    path.to_str().expect("utf-8 path")
+}
+
+#[test]
+fn help_names_the_exit_codes() {
+    let o = run(&["--help"]);
+    assert_eq!(code(&o), 0);
+    let s = stdout(&o);
+    for needle in [
+        "lint",
+        "run",
+        "check",
+        "design",
+        "Exit codes",
+        "2  bad input",
+        "3  the solver",
+    ] {
+        assert!(s.contains(needle), "--help lacks '{needle}':\n{s}");
+    }
+    let o = run(&["lint", "--help"]);
+    assert_eq!(code(&o), 0);
+    assert!(stdout(&o).contains("Exit codes"));
+}
+
+#[test]
+fn lint_accepts_every_demo_stage() {
+    let mut files: Vec<PathBuf> = std::fs::read_dir(root().join("netlists"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.extension().is_some_and(|e| e == "tank"))
+        .collect();
+    files.sort();
+    assert!(files.len() >= 3, "at least three demo stages");
+    let mut args = vec!["lint"];
+    args.extend(files.iter().map(|f| p(f)));
+    let o = run(&args);
+    assert_eq!(code(&o), 0, "stderr:\n{}", stderr(&o));
+    assert!(stderr(&o).trim().is_empty() || !stderr(&o).contains("error"));
+}
+
+#[test]
+fn lint_reports_file_line_column_and_exits_2() {
+    let f = data("check/bad.tank");
+    let o = run(&["lint", p(&f)]);
+    assert_eq!(code(&o), 2);
+    let e = stderr(&o);
+    assert!(e.contains("bad.tank:4:"), "location in:\n{e}");
+    assert!(stdout(&o).is_empty(), "nothing on stdout for a bad file");
+}
+
+#[test]
+fn missing_file_and_directory_are_bad_input() {
+    let o = run(&["lint", "no/such/file.tank"]);
+    assert_eq!(code(&o), 2);
+    let o = run(&["run", p(&root().join("netlists"))]);
+    assert_eq!(code(&o), 2);
+    let o = run(&["check", "no/such/file.tank"]);
+    assert_eq!(code(&o), 2);
+}
+
+#[test]
+fn check_exit_codes_pass_fail_bad_unsolvable() {
+    // linear stage: the load receives the source's available power (maximum power transfer)
+    let o = run(&["check", p(&data("check/pass.tank"))]);
+    assert_eq!(code(&o), 0, "{}{}", stdout(&o), stderr(&o));
+    assert!(stdout(&o).contains("pass"));
+    let o = run(&["check", p(&data("check/fail.tank"))]);
+    assert_eq!(code(&o), 1, "{}{}", stdout(&o), stderr(&o));
+    assert!(stdout(&o).contains("FAIL"));
+    let o = run(&["check", p(&data("check/bad.tank"))]);
+    assert_eq!(code(&o), 2);
+    let o = run(&["check", p(&data("check/unsolvable.tank"))]);
+    assert_eq!(code(&o), 3, "{}{}", stdout(&o), stderr(&o));
+    assert!(stderr(&o).contains("solver failed"));
+    // the worst outcome decides: bad input over a failed requirement
+    let o = run(&[
+        "check",
+        p(&data("check/fail.tank")),
+        p(&data("check/bad.tank")),
+    ]);
+    assert_eq!(code(&o), 2);
+}
+
+#[test]
+fn check_writes_junit_that_parses() {
+    let dir = tempfile::tempdir().unwrap();
+    let xml = dir.path().join("verdicts.xml");
+    let o = run(&[
+        "check",
+        p(&data("check/pass.tank")),
+        p(&data("check/fail.tank")),
+        "--junit",
+        p(&xml),
+    ]);
+    assert_eq!(code(&o), 1);
+    let text = std::fs::read_to_string(&xml).unwrap();
+    let doc = roxmltree::Document::parse(&text).expect("JUnit XML parses");
+    let suites: Vec<_> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("testsuite"))
+        .collect();
+    assert_eq!(suites.len(), 2, "one suite per file");
+    let cases: Vec<_> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("testcase"))
+        .collect();
+    assert_eq!(cases.len(), 4, "one case per requirement");
+    let failures = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("failure"))
+        .count();
+    assert_eq!(failures, 1);
+    assert_eq!(doc.root_element().attribute("failures"), Some("1"));
+}
+
+#[test]
+fn check_json_is_machine_readable() {
+    let o = run(&["check", p(&data("check/pass.tank")), "--format", "json"]);
+    assert_eq!(code(&o), 0);
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("valid JSON");
+    assert_eq!(v["schema"], "tankwave/1");
+    assert_eq!(v["files"][0]["pass"], true);
+    assert_eq!(v["files"][0]["verdicts"].as_array().unwrap().len(), 2);
+}
+
+#[test]
+fn run_json_and_out_dir() {
+    let dir = tempfile::tempdir().unwrap();
+    let o = run(&[
+        "run",
+        p(&data("check/pass.tank")),
+        "--format",
+        "json",
+        "--out",
+        p(dir.path()),
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("valid JSON");
+    assert_eq!(v["schema"], "tankwave/1");
+    // maximum power transfer: P = amp^2 / (8 Rs) = 400/400 = 1 W (any circuit-analysis text)
+    let p1 = v["steady"]["metrics"]["output"]["p1_w"].as_f64().unwrap();
+    assert!((p1 - 1.0).abs() < 1e-6, "p1 = {p1}");
+    for f in ["results.json", "period.csv", "spectrum.csv"] {
+        assert!(dir.path().join(f).is_file(), "{f} written");
+    }
+    assert!(!stdout(&o).contains("NaN"));
+}
+
+#[test]
+fn run_to_missing_out_dir_writes_nothing() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("missing");
+    let o = run(&["run", p(&data("check/pass.tank")), "--out", p(&out)]);
+    assert_eq!(code(&o), 2);
+    assert!(!out.exists());
+}
