@@ -3,18 +3,27 @@
 //! Proc. IEEE 60(1), 1972).
 //!
 //! The unknown is the state `x₀` at the start of a period. One period is
-//! integrated with `N` uniform trapezoidal steps, carrying the sensitivity
-//! (monodromy) matrix `Φ = ∂x(T)/∂x₀` through the steps; Newton then solves
-//! `(Φ − I) Δx₀ = −(x(T) − x₀)`. With the trapezoidal rule the derivative
-//! state `q̇ₙ = −i(xₙ, tₙ)` is a function of `xₙ`, so the step sensitivity is
-//! `Sₙ₊₁ = (Gₙ₊₁ + αCₙ₊₁)⁻¹ (αCₙ − Gₙ) Sₙ` with `α = 2/h`.
+//! integrated with `N` uniform TR-BDF2 steps (a trapezoidal stage to `t + γh`,
+//! then a BDF2 stage; see [`crate::transient`]), carrying the sensitivity
+//! (monodromy) matrix `Φ = ∂x(T)/∂x₀` through both stages; Newton then solves
+//! `(Φ − I) Δx₀ = −(x(T) − x₀)`. The derivative state entering each step is
+//! `q̇ₙ = −i(xₙ, tₙ)` in rows that carry charge (0 in purely algebraic rows),
+//! a function of `xₙ`, so with `Ĝ` the charged rows of `G`:
+//! - trapezoidal stage, `α = 2/(γh)`: `(G_γ + αC_γ) S_γ = (αC₀ − Ĝ₀) S₀`;
+//! - BDF2 stage: `(G₁ + a₀C₁) S₁ = −(a₁ C_γ S_γ + a₂ C₀ S₀)`.
+//!
+//! Why not the plain trapezoidal rule: with an even number of steps it has an
+//! undamped period-2 mode in algebraic unknowns (e.g. the current of a voltage
+//! source driving a capacitor), which makes `Φ − I` exactly singular. TR-BDF2
+//! is L-stable and removes it while staying second order.
+//!
 //! The iteration starts from the operating point followed by a few plain
 //! transient periods. Converged when every `|x_k(T) − x_k(0)|` is within
 //! `reltol·max_n |x_k| + (vntol | abstol)`.
 
 use crate::newton::unknown_abstol;
 use crate::steady::{terminal_currents, PeriodicSolution, SteadyInfo, SteadyParams};
-use crate::transient::{Method, Stepper};
+use crate::transient::{bdf2_coefficients, charged_rows, Method, Stepper, GAMMA};
 use crate::SolveError;
 use faer::Mat;
 use tankwave_circuit::{Circuit, SteadyMethod};
@@ -31,20 +40,30 @@ pub fn shooting(
     let ns = params.samples();
     let period = 1.0 / params.freq;
     let h = period / ns as f64;
-    let alpha = 2.0 / h;
     let err = |e: crate::transient::StepFail| e.into_error(devices, "shooting");
     let mut st = Stepper::from_op(devices, params.tol, params.linear_solver, 0.0)?;
     let warm = params.shooting.warmup_periods;
     for s in 0..warm * ns {
-        st.step_to((s + 1) as f64 * h, Method::Trapezoidal)
-            .map_err(err)?;
+        st.step_trbdf2((s + 1) as f64 * h).map_err(err)?;
     }
     let t0 = warm as f64 * period;
     let mut x0 = st.x.clone();
     let mut last = (f64::INFINITY, 0usize);
     for it in 0..params.shooting.max_iter {
         st.init_at(&x0, t0);
-        let mut g0 = Mat::<f64>::from_fn(n, n, |r, c| st.ws.stamp.g_at(r, c));
+        // Sensitivity of q̇ is −G in rows that carry charge and 0 elsewhere.
+        let mut ch = charged_rows(&st.ws.stamp);
+        let mut g0 = Mat::<f64>::from_fn(
+            n,
+            n,
+            |r, c| {
+                if ch[r] {
+                    st.ws.stamp.g_at(r, c)
+                } else {
+                    0.0
+                }
+            },
+        );
         let mut c0 = Mat::<f64>::from_fn(n, n, |r, c| st.ws.stamp.c_at(r, c));
         let mut sens = Mat::<f64>::identity(n, n);
         let mut samples = vec![vec![0.0; ns]; n];
@@ -53,23 +72,39 @@ pub fn shooting(
                 row[s] = st.x[k];
             }
             let t1 = t0 + (s + 1) as f64 * h;
-            let a = st.attempt(t1, Method::Trapezoidal).map_err(err)?;
-            // ws.jac holds G₁ + αC₁ at the converged point.
-            st.ws
-                .lu
-                .factor(&st.ws.jac)
-                .map_err(|k| SolveError::Singular {
-                    analysis: "shooting".into(),
-                    unknown: devices.names.get(k).cloned().unwrap_or_default(),
-                    when: crate::error::When(Some(t1)),
-                })?;
-            let m = Mat::<f64>::from_fn(n, n, |r, c| alpha * c0[(r, c)] - g0[(r, c)]);
-            let mut rhs = &m * &sens;
-            st.ws.lu.solve_mat(rhs.as_mut());
-            sens = rhs;
-            g0 = Mat::<f64>::from_fn(n, n, |r, c| st.ws.stamp.g_at(r, c));
-            c0 = Mat::<f64>::from_fn(n, n, |r, c| st.ws.stamp.c_at(r, c));
+            let tg = st.t + GAMMA * (t1 - st.t);
+            // Stage 1, trapezoidal to t + γh: (G_γ + α₁C_γ) S_γ = (α₁C₀ − Ĝ₀) S₀.
+            let alpha1 = 2.0 / (tg - st.t);
+            let a = st.attempt(tg, Method::Trapezoidal).map_err(err)?;
+            factor(&mut st, devices, tg)?;
+            let m = Mat::<f64>::from_fn(n, n, |r, c| alpha1 * c0[(r, c)] - g0[(r, c)]);
+            let mut sg = &m * &sens;
+            st.ws.lu.solve_mat(sg.as_mut());
+            let cg = Mat::<f64>::from_fn(n, n, |r, c| st.ws.stamp.c_at(r, c));
+            let h0 = tg - st.t;
             st.commit(a);
+            // Stage 2, BDF2 through t, t + γh, t1:
+            // (G₁ + a0·C₁) S₁ = −(a1·C_γ S_γ + a2·C₀ S₀).
+            let (_, a1, a2) = bdf2_coefficients(t1 - st.t, h0);
+            let b = st.attempt(t1, Method::Bdf2).map_err(err)?;
+            factor(&mut st, devices, t1)?;
+            let mut s1 = &cg * &sg * (-a1) + &c0 * &sens * (-a2);
+            st.ws.lu.solve_mat(s1.as_mut());
+            sens = s1;
+            ch = charged_rows(&st.ws.stamp);
+            g0 = Mat::<f64>::from_fn(
+                n,
+                n,
+                |r, c| {
+                    if ch[r] {
+                        st.ws.stamp.g_at(r, c)
+                    } else {
+                        0.0
+                    }
+                },
+            );
+            c0 = Mat::<f64>::from_fn(n, n, |r, c| st.ws.stamp.c_at(r, c));
+            st.commit(b);
         }
         // Periodicity error.
         let r: Vec<f64> = (0..n).map(|k| st.x[k] - x0[k]).collect();
@@ -137,5 +172,15 @@ pub fn shooting(
             _ => "V",
         },
         when: crate::error::When(None),
+    })
+}
+
+/// Factor the Jacobian the last Newton solve left in the workspace (at its converged point).
+fn factor(st: &mut Stepper<'_>, devices: &DeviceSet, t: f64) -> Result<(), SolveError> {
+    let Stepper { ws, .. } = st;
+    ws.lu.factor(&ws.jac).map_err(|k| SolveError::Singular {
+        analysis: "shooting".into(),
+        unknown: devices.names.get(k).cloned().unwrap_or_default(),
+        when: crate::error::When(Some(t)),
     })
 }

@@ -12,7 +12,7 @@
 use crate::error::When;
 use crate::linalg::LinearSolver;
 use crate::newton::{unknown_abstol, Tolerances};
-use crate::transient::{Method, Stepper};
+use crate::transient::Stepper;
 use crate::SolveError;
 use tankwave_circuit::{Analysis, Circuit, SteadyMethod};
 use tankwave_devices::{DeviceSet, EvalCtx, Idx, Stamp};
@@ -239,7 +239,8 @@ fn run_balance(
     crate::balance::balance(circuit, devices, params)
 }
 
-/// Plain transient at `N` fixed trapezoidal steps per period from the
+/// Plain transient at `N` fixed TR-BDF2 steps per period (the discretisation
+/// shooting uses, so both reach the same discrete solution) from the
 /// operating point until the largest period-to-period change is within
 /// tolerance; the last period is the result.
 pub fn settle(
@@ -263,7 +264,7 @@ pub fn settle(
             }
             // Land exactly on the period grid to avoid drift of t.
             let t1 = (p * ns + s + 1) as f64 * h;
-            st.step_to(t1, Method::Trapezoidal)
+            st.step_trbdf2(t1)
                 .map_err(|e| e.into_error(devices, "settle"))?;
         }
         if let Some(pv) = &prev {

@@ -1,0 +1,227 @@
+//! Periodic steady state by shooting and by settling, against phasor
+//! analysis and against each other.
+//!
+//! Phasor analysis of a sine-driven series RLC: V_C = V / (1 + jωRC − ω²LC)
+//! (any circuits text, e.g. C. K. Alexander, M. N. O. Sadiku, Fundamentals of
+//! Electric Circuits, ch. 9–10, memory). A drive amp·sin(ωt) gives
+//! v(t) = Im(H·amp·e^(jωt)).
+//!
+//! Discretisation: shooting and settle integrate with N uniform TR-BDF2
+//! steps per period, a second-order method (R. E. Bank et al., IEEE Trans.
+//! CAD 4(4), 1985): the error against the phasor solution falls about
+//! fourfold when N doubles, which the first test checks.
+
+mod support;
+use num_complex::Complex64;
+use support::*;
+use tankwave_circuit::ir::{DiodeParams, Waveform};
+use tankwave_circuit::SteadyMethod;
+use tankwave_devices::instantiate;
+use tankwave_solve::*;
+
+const R: f64 = 10.0;
+const L: f64 = 10e-6;
+const C: f64 = 2.533e-9;
+const F: f64 = 1e6;
+const AMP: f64 = 1.0;
+
+fn rlc() -> B {
+    let mut b = B::new();
+    let vs = b.vsrc(
+        "vs",
+        "in",
+        "gnd",
+        Waveform {
+            dc: 0.0,
+            shape: Some(sine(AMP, F)),
+        },
+        0.0,
+    );
+    b.r("r1", "in", "a", R);
+    b.ind("l1", "a", "out", L, 0.0);
+    b.cap("c1", "out", "gnd", C);
+    b.c.input = Some(vs);
+    b
+}
+
+fn phasor(w_reactive: f64) -> Complex64 {
+    let jw = Complex64::new(0.0, w_reactive);
+    1.0 / (1.0 + jw * R * C + jw * jw * L * C)
+}
+
+fn compare(sol: &PeriodicSolution, k: usize, h: Complex64) -> f64 {
+    let w = 2.0 * std::f64::consts::PI * F;
+    sol.times()
+        .iter()
+        .zip(&sol.x[k])
+        .map(|(t, v)| (v - (h * AMP * Complex64::new(0.0, w * t).exp()).im).abs())
+        .fold(0.0, f64::max)
+}
+
+#[test]
+fn shooting_rlc_matches_phasor_analysis() {
+    let b = rlc();
+    let d = instantiate(&b.c).unwrap();
+    let k = d.names.iter().position(|s| s == "v(out)").unwrap();
+    let w = 2.0 * std::f64::consts::PI * F;
+    let peak = phasor(w).norm() * AMP;
+    let mut errs = Vec::new();
+    let mut sol256 = None;
+    for steps in [256usize, 512] {
+        let params = SteadyParams {
+            freq: F,
+            harmonics: 8,
+            method: SteadyMethod::Shooting,
+            steps_per_period: steps,
+            ..SteadyParams::default()
+        };
+        let sol = steady(&b.c, &d, &params).unwrap();
+        assert_eq!(sol.samples_per_period, steps);
+        assert_eq!(sol.info.method, SteadyMethod::Shooting);
+        // Linear circuit: one Newton update reaches the fixed point.
+        assert!(sol.info.iterations <= 2, "{:?}", sol.info);
+        let e = compare(&sol, k, phasor(w));
+        eprintln!(
+            "shooting RLC, N = {steps}: {} iterations, residual {:.2e}; error vs phasor {e:.3e} V (peak {peak:.3} V)",
+            sol.info.iterations, sol.info.residual
+        );
+        errs.push(e);
+        if steps == 256 {
+            sol256 = Some(sol);
+        }
+    }
+    // Default N = 256 (ωh ≈ 0.025): a second-order method's relative error is of
+    // order (ωh)²/12 ≈ 5e-5, amplified near resonance by Q ≈ 6.3 to ≈ 3e-4
+    // (measured 3.1e-4); allow 1e-3 of the peak.
+    assert!(errs[0] < 1e-3 * peak, "{}", errs[0]);
+    // Second order: doubling N cuts the error about fourfold (3–5 allows the
+    // periodicity tolerance and higher-order terms).
+    let ratio = errs[0] / errs[1];
+    assert!((3.0..5.0).contains(&ratio), "ratio {ratio}");
+
+    // Terminal currents: the resistor's (algebraic) current equals the
+    // capacitor's (spectral derivative of its charge) within the method's error.
+    let sol = sol256.unwrap();
+    let ir = &sol.terminal_currents[1][0]; // r1, first terminal (node in): current into r1
+    let ic = &sol.terminal_currents[3][0]; // c1, first terminal (node out)
+    let ipk = ir.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+    let dev = ir
+        .iter()
+        .zip(ic)
+        .map(|(a, b)| (a - b).abs())
+        .fold(0.0, f64::max);
+    eprintln!("series current: resistor vs capacitor terminal current {dev:.3e} A of {ipk:.3e} A");
+    assert!(dev < 1e-3 * ipk, "{dev}");
+    // The grounded terminal of c1 carries the opposite current.
+    for (a, b) in sol.terminal_currents[3][0]
+        .iter()
+        .zip(&sol.terminal_currents[3][1])
+    {
+        assert!((a + b).abs() <= 1e-12 * ipk);
+    }
+}
+
+#[test]
+fn settle_rlc_agrees_with_shooting() {
+    let b = rlc();
+    let d = instantiate(&b.c).unwrap();
+    let mut params = SteadyParams {
+        freq: F,
+        harmonics: 8,
+        method: SteadyMethod::Shooting,
+        ..SteadyParams::default()
+    };
+    let shoot = steady(&b.c, &d, &params).unwrap();
+    params.method = SteadyMethod::Settle;
+    let set = steady(&b.c, &d, &params).unwrap();
+    let k = d.names.iter().position(|s| s == "v(out)").unwrap();
+    let dev = shoot.x[k]
+        .iter()
+        .zip(&set.x[k])
+        .map(|(a, b)| (a - b).abs())
+        .fold(0.0, f64::max);
+    eprintln!(
+        "settle RLC: {} periods; max difference from shooting {dev:.3e} V",
+        set.info.iterations
+    );
+    // Same discretisation: only the settle tolerance (1e-6 of the range, per period,
+    // divided by 1 − ρ with ρ = e^(−RT/2L) ≈ 0.61 per period) separates them.
+    assert!(dev < 1e-5, "{dev}");
+}
+
+fn rectifier() -> B {
+    let mut b = B::new();
+    b.vsrc(
+        "vs",
+        "in",
+        "gnd",
+        Waveform {
+            dc: 0.0,
+            shape: Some(sine(5.0, F)),
+        },
+        0.0,
+    );
+    b.diode(
+        "d1",
+        "in",
+        "out",
+        DiodeParams {
+            sat_current: 1e-14,
+            cj0: 2e-12,
+            transit: 1e-9,
+            ..DiodeParams::default()
+        },
+    );
+    b.r("rl", "out", "gnd", 1e3);
+    b.cap("cl", "out", "gnd", 10e-9);
+    b
+}
+
+#[test]
+fn shooting_and_settle_agree_on_a_diode_rectifier() {
+    let b = rectifier();
+    let d = instantiate(&b.c).unwrap();
+    let mut params = SteadyParams {
+        freq: F,
+        harmonics: 16,
+        method: SteadyMethod::Shooting,
+        ..SteadyParams::default()
+    };
+    // No warm-up periods: Newton starts from the operating point (output at 0 V)
+    // and has to find the periodic state itself.
+    params.shooting.warmup_periods = 0;
+    let shoot = steady(&b.c, &d, &params).unwrap();
+    params.method = SteadyMethod::Settle;
+    let set = steady(&b.c, &d, &params).unwrap();
+    let k = d.names.iter().position(|s| s == "v(out)").unwrap();
+    let mean = shoot.x[k].iter().sum::<f64>() / shoot.x[k].len() as f64;
+    let dev = shoot.x[k]
+        .iter()
+        .zip(&set.x[k])
+        .map(|(a, b)| (a - b).abs())
+        .fold(0.0, f64::max);
+    eprintln!(
+        "rectifier: shooting {} Newton iterations (system {}), settle {} periods; mean output {mean:.4} V; max difference {dev:.3e} V",
+        shoot.info.iterations, shoot.info.system_size, set.info.iterations
+    );
+    assert!(mean > 3.0 && mean < 5.0, "a rectified output: {mean}");
+    // Settle stops when a period changes by < 1e-6 of (range + peak) ≈ 5e-6 V; with
+    // the load's contraction ρ = e^(−T/RC) ≈ 0.905 per period the distance to the
+    // fixed point is up to ρ/(1 − ρ) ≈ 10 times that.
+    assert!(dev < 1e-4, "{dev}");
+    assert!(shoot.info.iterations >= 1);
+}
+
+#[test]
+fn samples_rise_above_twice_the_harmonics() {
+    let mut params = SteadyParams {
+        harmonics: 8,
+        ..SteadyParams::default()
+    };
+    assert_eq!(params.samples(), 256);
+    params.harmonics = 200;
+    assert_eq!(params.samples(), 512);
+    params.steps_per_period = 100;
+    params.harmonics = 8;
+    assert_eq!(params.samples(), 128);
+}
