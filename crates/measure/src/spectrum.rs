@@ -1,11 +1,11 @@
 //! Harmonic phasors of one uniformly sampled period, by a real FFT.
 //!
 //! Convention (documented in docs/measurements.md): a period of N samples
-//! x[n] = x(nT/N) has the DFT X[k] = Σ x[n] e^{−j2πkn/N}. The DC value is
-//! X[0]/N and the complex amplitude (phasor) of harmonic k ≥ 1 is
-//! A_k = 2 X[k]/N, so that x(t) = X0 + Σ_k Re(A_k e^{jkωt}) and the peak
-//! amplitude of harmonic k is |A_k| = 2|X[k]|/N. A signal A cos(kωt + φ)
-//! gives A_k = A e^{jφ}.
+//! `x[n] = x(nT/N)` has the DFT `X[k] = Σ x[n] exp(−j2πkn/N)`. The DC value
+//! is `X[0]/N` and the complex amplitude (phasor) of harmonic k ≥ 1 is
+//! `A_k = 2 X[k]/N`, so that `x(t) = X0 + Σ_k Re(A_k exp(jkωt))` and the peak
+//! amplitude of harmonic k is `|A_k| = 2|X[k]|/N`. A signal `A cos(kωt + φ)`
+//! gives `A_k = A exp(jφ)`.
 
 use num_complex::Complex64;
 use realfft::RealFftPlanner;

@@ -1,0 +1,430 @@
+//! Metrics on hand-built periods against closed forms.
+
+mod common;
+
+use std::f64::consts::PI;
+
+use common::{alpha_closed, bjt, bjt_model, circuit, resistor, sample, truncated_cosine, vsource};
+use num_complex::Complex64;
+use tankwave_circuit::{BjtParams, Circuit};
+use tankwave_measure::units::{reflection, vswr};
+use tankwave_measure::{
+    measure, GainBasis, MeasureError, MeasureParams, Metrics, PeriodData, StressQuantity,
+};
+
+/// An ideal tuned class-C stage built from its waveforms: supply `vcc`
+/// delivering the collector current, collector voltage Vcc − Vcc cos x (a
+/// perfect tank, Vc1 = Vcc), a load resistor seeing only the fundamental,
+/// R = Vc1/(α1 Imax).
+struct ClassC {
+    circuit: Circuit,
+    v: Vec<Vec<f64>>,
+    i: Vec<Vec<Vec<f64>>>,
+    r: f64,
+}
+
+const VCC: f64 = 12.5;
+const IMAX: f64 = 3.0;
+
+fn class_c(full_deg: f64, n: usize, params: BjtParams) -> ClassC {
+    let mut c = circuit(
+        &["vcc", "c", "out", "b"],
+        vec![
+            vsource("vcc", Some(0), None, VCC, 0.0),
+            bjt("q1", Some(1), Some(3), None, 0),
+            resistor("rl", Some(2), None, 1.0, Some(10.0)),
+        ],
+    );
+    c.models.push(bjt_model(params));
+    c.output = Some(2);
+    let r = VCC / (alpha_closed(1, full_deg) * IMAX);
+    if let Some(tankwave_circuit::Element {
+        kind: tankwave_circuit::ElementKind::Resistor { r: rr, .. },
+        ..
+    }) = c.elements.get_mut(2)
+    {
+        *rr = r;
+    }
+    let ic: Vec<f64> = truncated_cosine(full_deg, n)
+        .iter()
+        .map(|x| x * IMAX)
+        .collect();
+    let vc = sample(n, |x| VCC - VCC * x.cos());
+    let vout = sample(n, |x| VCC * x.cos());
+    let iout: Vec<f64> = vout.iter().map(|v| v / r).collect();
+    let v = vec![vec![VCC; n], vc, vout, vec![0.0; n]];
+    let i = vec![
+        vec![ic.iter().map(|x| -x).collect(), ic.clone()],
+        vec![ic.clone(), vec![0.0; n], ic.iter().map(|x| -x).collect()],
+        vec![iout.clone(), iout.iter().map(|x| -x).collect()],
+    ];
+    ClassC {
+        circuit: c,
+        v,
+        i,
+        r,
+    }
+}
+
+fn run(s: &ClassC, k: usize) -> Metrics {
+    measure(
+        &PeriodData {
+            circuit: &s.circuit,
+            freq: 7.1e6,
+            node_voltages: &s.v,
+            terminal_currents: &s.i,
+            harmonics: k,
+        },
+        &MeasureParams::default(),
+    )
+    .unwrap()
+}
+
+/// Ideal efficiency η = ½ (α1/α0)(Vc1/Vcc) (Cripps 2006 ch. 3; Krauss,
+/// Bostian, Raab 1980; closed forms from memory, confirmed by quadrature in
+/// check-values.md), energy balance P_diss = P_dc − P_out (common practice),
+/// and the conduction angle. P_dc is the sample mean of the pulse: its
+/// aliasing error is ≈ 1e-8 relative at N = 2^14, hence 1e-6.
+#[test]
+fn ideal_class_c_efficiency_and_transistor_figures() {
+    let n = 1 << 14;
+    for ang in [120.0, 150.0, 180.0, 240.0] {
+        let params = BjtParams {
+            max_vce: 40.0,
+            max_ic: 6.0,
+            max_power: 50.0,
+            max_tj: 473.15,
+            rth_ja: 5.0,
+            ..Default::default()
+        };
+        let s = class_c(ang, n, params);
+        let m = run(&s, 8);
+        let eta = 0.5 * alpha_closed(1, ang) / alpha_closed(0, ang);
+        assert!((m.efficiency.unwrap() - eta).abs() < 1e-6, "{ang} deg");
+        let out = m.output.as_ref().unwrap();
+        let p1 = 0.5 * VCC * VCC / s.r;
+        assert!((out.p1_w - p1).abs() < 1e-9 * p1);
+        assert!((m.pdc_w - VCC * alpha_closed(0, ang) * IMAX).abs() < 1e-6 * m.pdc_w);
+        assert!(out.thd.unwrap() < 1e-6, "pure cosine output");
+        let q = &m.transistors[0];
+        // The load was sized with the closed-form α1, the collector sees the
+        // sampled pulse: they differ by the aliasing error (≈ 1e-8 relative).
+        assert!((q.dissipation_w - (m.pdc_w - out.p1_w)).abs() < 1e-6 * m.pdc_w);
+        assert!((q.vce_peak_v - 2.0 * VCC).abs() < 1e-9);
+        assert!(q.vce_min_v.abs() < 1e-9);
+        assert!((q.ic_peak_a - IMAX).abs() < 1e-12);
+        assert!((q.conduction_deg - ang).abs() <= 360.0 / n as f64);
+        let tj = 298.15 + 5.0 * q.dissipation_w; // common practice: Tj = Ta + Rth·P
+        assert!((q.tj_k.unwrap() - tj).abs() < 1e-9);
+        // Stress rows: fractions of the transistor ratings.
+        let row = |qty| {
+            m.stress
+                .iter()
+                .find(|r| r.element == "q1" && r.quantity == qty)
+                .unwrap()
+        };
+        assert!((row(StressQuantity::VcePeak).fraction.unwrap() - 2.0 * VCC / 40.0).abs() < 1e-9);
+        assert!((row(StressQuantity::IcPeak).fraction.unwrap() - IMAX / 6.0).abs() < 1e-12);
+        assert!(
+            (row(StressQuantity::Dissipation).fraction.unwrap() - q.dissipation_w / 50.0).abs()
+                < 1e-12
+        );
+        assert!(
+            (row(StressQuantity::JunctionTemp).fraction.unwrap()
+                - (tj - 298.15) / (473.15 - 298.15))
+                .abs()
+                < 1e-9
+        );
+        // No drive source: PAE and gain are missing, with reasons.
+        assert!(m.pae.is_none() && m.gain_db.is_none());
+        assert!(m.note("pae").is_some() && m.note("gain").is_some());
+    }
+}
+
+/// A resistor fed by a known waveform v = V0 + V1 cos x + V3 cos(3x + φ)
+/// from an ideal drive source: P_n = V_n²/(2R), mean power
+/// V0²/R + Σ V_n²/(2R), THD = V3/V1, harmonic 3 at 20 log10(V3/V1) dBc
+/// (common practice: power in a resistor). Exact up to rounding.
+#[test]
+fn resistor_fed_by_known_waveform() {
+    let (v0, v1, v3, phi, r) = (2.0, 10.0, 0.5, 0.7, 50.0);
+    let n = 64;
+    let mut c = circuit(
+        &["a"],
+        vec![
+            vsource("vs", Some(0), None, v0, 0.0),
+            resistor("rl", Some(0), None, r, Some(2.0)),
+        ],
+    );
+    c.output = Some(1);
+    c.input = Some(0);
+    let v = sample(n, |x| v0 + v1 * x.cos() + v3 * (3.0 * x + phi).cos());
+    let i: Vec<f64> = v.iter().map(|x| x / r).collect();
+    let neg: Vec<f64> = i.iter().map(|x| -x).collect();
+    let m = measure(
+        &PeriodData {
+            circuit: &c,
+            freq: 3.5e6,
+            node_voltages: std::slice::from_ref(&v),
+            terminal_currents: &[vec![neg.clone(), i.clone()], vec![i.clone(), neg]],
+            harmonics: 5,
+        },
+        &MeasureParams::default(),
+    )
+    .unwrap();
+    let o = m.output.as_ref().unwrap();
+    let h = |k: usize| &o.harmonics[k - 1];
+    assert!((o.p1_w - v1 * v1 / (2.0 * r)).abs() < 1e-12);
+    assert!(h(2).power_w.abs() < 1e-12);
+    assert!((h(3).power_w - v3 * v3 / (2.0 * r)).abs() < 1e-12);
+    assert!((h(3).dbc.unwrap() - 20.0 * (v3 / v1).log10()).abs() < 1e-9);
+    assert!((h(1).dbm - 10.0 * (v1 * v1 / (2.0 * r) / 1e-3).log10()).abs() < 1e-9);
+    assert!((h(3).freq_hz - 10.5e6).abs() < 1e-3);
+    assert!((o.thd.unwrap() - v3 / v1).abs() < 1e-12);
+    let mean_p = v0 * v0 / r + (v1 * v1 + v3 * v3) / (2.0 * r);
+    assert!((o.total_power_w - mean_p).abs() < 1e-12);
+    assert!((o.dc_power_w - v0 * v0 / r).abs() < 1e-12);
+    let st = m.stress.iter().find(|s| s.element == "rl").unwrap();
+    assert!((st.value - mean_p).abs() < 1e-12);
+    assert!((st.fraction.unwrap() - mean_p / 2.0).abs() < 1e-12);
+    // The drive is ideal (rs = 0): gain is referred to the input power, 0 dB here.
+    let d = m.drive.as_ref().unwrap();
+    assert!((d.pin_w - v1 * v1 / (2.0 * r)).abs() < 1e-12);
+    assert!((d.average_power_w - mean_p).abs() < 1e-12);
+    let z = d.z_in.unwrap();
+    assert!((z.re - r).abs() < 1e-9 && z.im.abs() < 1e-9);
+    assert_eq!(m.gain_basis, Some(GainBasis::InputPower));
+    assert!(m.gain_db.unwrap().abs() < 1e-9);
+    assert!(d.vswr.is_none() && m.note("input_vswr").is_some());
+    // No supply: no efficiency, with a reason.
+    assert!(m.supplies.is_empty() && m.pdc_w == 0.0);
+    assert!(m.efficiency.is_none() && m.note("efficiency").is_some());
+}
+
+/// Drive source with Rs = 50 Ω into Z = 30 + j20 Ω, EMF 10 V peak: Z_in = Z,
+/// VSWR from Γ = (Z − Rs)/(Z + Rs), available power |Vs|²/(8 Rs), and the
+/// delivered power P_in = P_avs (1 − |Γ|²) (D. M. Pozar, Microwave
+/// Engineering, 4th ed., §2.3 and §11.1, from memory). Exact up to rounding.
+#[test]
+fn drive_impedance_vswr_and_available_power() {
+    let (rs, z, vs) = (50.0, Complex64::new(30.0, 20.0), Complex64::new(10.0, 0.0));
+    let i1 = vs / (z + rs);
+    let v1 = z * i1;
+    let n = 32;
+    let mut c = circuit(&["in"], vec![vsource("drive", Some(0), None, 0.0, rs)]);
+    c.input = Some(0);
+    let v = sample(n, |x| (v1 * Complex64::cis(x)).re);
+    let ip: Vec<f64> = sample(n, |x| -(i1 * Complex64::cis(x)).re);
+    let ineg: Vec<f64> = ip.iter().map(|x| -x).collect();
+    let m = measure(
+        &PeriodData {
+            circuit: &c,
+            freq: 14e6,
+            node_voltages: &[v],
+            terminal_currents: &[vec![ip, ineg]],
+            harmonics: 3,
+        },
+        &MeasureParams::default(),
+    )
+    .unwrap();
+    let d = m.drive.as_ref().unwrap();
+    let zin = d.z_in.unwrap();
+    assert!((zin.re - 30.0).abs() < 1e-9 && (zin.im - 20.0).abs() < 1e-9);
+    let g = reflection(z, rs).unwrap().norm();
+    assert!((d.vswr.unwrap() - (1.0 + g) / (1.0 - g)).abs() < 1e-9);
+    assert!((d.vswr.unwrap() - vswr(z, rs).unwrap()).abs() < 1e-12);
+    assert!((d.emf1_v.unwrap() - 10.0).abs() < 1e-9);
+    let pavs = 100.0 / (8.0 * rs);
+    assert!((d.pavs_w.unwrap() - pavs).abs() < 1e-12);
+    assert!((d.pin_w - pavs * (1.0 - g * g)).abs() < 1e-12);
+    // No output element: output figures missing with a reason, not NaN.
+    assert!(m.output.is_none() && m.note("pout").is_some());
+    assert!(m.gain_db.is_none());
+}
+
+/// Walk a serialized value; nulls are allowed only under these Option fields.
+fn check_no_nan(v: &serde_json::Value, key: &str, path: &str) {
+    const OPTIONAL: &[&str] = &[
+        "output",
+        "efficiency",
+        "pae",
+        "drive",
+        "gain_db",
+        "gain_basis",
+        "thd",
+        "dbc",
+        "source_resistance_ohm",
+        "emf1_v",
+        "pavs_w",
+        "z_in",
+        "vswr",
+        "rth_k_per_w",
+        "tj_k",
+        "rating",
+        "fraction",
+    ];
+    match v {
+        serde_json::Value::Null => {
+            assert!(OPTIONAL.contains(&key), "null (NaN?) at {path}")
+        }
+        serde_json::Value::Array(a) => {
+            for (i, x) in a.iter().enumerate() {
+                check_no_nan(x, key, &format!("{path}[{i}]"));
+            }
+        }
+        serde_json::Value::Object(o) => {
+            for (k, x) in o {
+                check_no_nan(x, k, &format!("{path}.{k}"));
+            }
+        }
+        _ => {}
+    }
+}
+
+/// All-zero waveforms (no drive, nothing switched on): every figure is a
+/// number or a documented None, never NaN (engineering rule of the project).
+#[test]
+fn zero_input_never_gives_nan() {
+    let n = 64;
+    let mut s = class_c(
+        150.0,
+        n,
+        BjtParams {
+            rth_ja: 5.0,
+            max_vce: 40.0,
+            ..Default::default()
+        },
+    );
+    let mut c = s.circuit.clone();
+    c.elements.push(vsource("drive", Some(3), None, 0.0, 50.0));
+    c.input = Some(3);
+    s.circuit = c;
+    for row in s.v.iter_mut() {
+        row.iter_mut().for_each(|x| *x = 0.0);
+    }
+    s.i.push(vec![vec![0.0; n], vec![0.0; n]]);
+    for el in s.i.iter_mut() {
+        for t in el.iter_mut() {
+            t.iter_mut().for_each(|x| *x = 0.0);
+        }
+    }
+    let m = run(&s, 4);
+    let json = serde_json::to_value(&m).unwrap();
+    check_no_nan(&json, "", "metrics");
+    assert!(m.efficiency.is_none() && m.gain_db.is_none() && m.pae.is_none());
+    assert!(m.output.as_ref().unwrap().thd.is_none());
+    assert!(m
+        .output
+        .as_ref()
+        .unwrap()
+        .harmonics
+        .iter()
+        .all(|h| h.dbc.is_none()));
+    assert_eq!(m.transistors[0].conduction_deg, 0.0);
+    let d = m.drive.as_ref().unwrap();
+    assert!(d.z_in.is_none() && d.vswr.is_none());
+    // Tj with zero dissipation is the ambient.
+    assert!((m.transistors[0].tj_k.unwrap() - 298.15).abs() < 1e-12);
+}
+
+/// A pnp reads positive in normal operation (sign convention of
+/// docs/measurements.md); no Rth → Tj not reported.
+#[test]
+fn pnp_signs_and_missing_rth() {
+    let n = 256;
+    let mut s = class_c(
+        180.0,
+        n,
+        BjtParams {
+            pnp: true,
+            ..Default::default()
+        },
+    );
+    for row in s.v.iter_mut() {
+        row.iter_mut().for_each(|x| *x = -*x);
+    }
+    for el in s.i.iter_mut() {
+        for t in el.iter_mut() {
+            t.iter_mut().for_each(|x| *x = -*x);
+        }
+    }
+    let m = run(&s, 4);
+    let q = &m.transistors[0];
+    assert!(q.pnp);
+    assert!((q.ic_peak_a - IMAX).abs() < 1e-12);
+    assert!((q.vce_peak_v - 2.0 * VCC).abs() < 1e-9);
+    assert!((q.conduction_deg - 180.0).abs() <= 360.0 / n as f64);
+    assert!(q.dissipation_w > 0.0);
+    assert!(q.tj_k.is_none() && m.note("tj q1").is_some());
+    assert!(m.efficiency.unwrap() > 0.78 && m.efficiency.unwrap() < PI / 4.0 + 1e-3);
+}
+
+/// Malformed periods are typed errors carrying the numbers.
+#[test]
+fn malformed_periods_are_errors() {
+    let s = class_c(180.0, 64, BjtParams::default());
+    let data = |v: &'_ [Vec<f64>], i: &'_ [Vec<Vec<f64>>], k: usize, f: f64| {
+        measure(
+            &PeriodData {
+                circuit: &s.circuit,
+                freq: f,
+                node_voltages: v,
+                terminal_currents: i,
+                harmonics: k,
+            },
+            &MeasureParams::default(),
+        )
+    };
+    assert_eq!(
+        data(&s.v[..3], &s.i, 4, 1e6).unwrap_err(),
+        MeasureError::NodeCount {
+            expected: 4,
+            got: 3
+        }
+    );
+    assert_eq!(
+        data(&s.v, &s.i[..2], 4, 1e6).unwrap_err(),
+        MeasureError::ElementCount {
+            expected: 3,
+            got: 2
+        }
+    );
+    assert_eq!(
+        data(&s.v, &s.i, 4, f64::NAN).unwrap_err().to_string(),
+        "fundamental frequency NaN Hz is not finite and positive"
+    );
+    assert_eq!(
+        data(&s.v, &s.i, 32, 1e6).unwrap_err(),
+        MeasureError::TooFewSamples {
+            samples: 64,
+            harmonics: 32,
+            need: 64
+        }
+    );
+    let mut bad = s.i.clone();
+    bad[1].pop();
+    assert!(matches!(
+        data(&s.v, &bad, 4, 1e6).unwrap_err(),
+        MeasureError::TerminalCount {
+            expected: 3,
+            got: 2,
+            ..
+        }
+    ));
+    let mut nan = s.v.clone();
+    nan[2][5] = f64::INFINITY;
+    assert!(matches!(
+        data(&nan, &s.i, 4, 1e6).unwrap_err(),
+        MeasureError::NotFinite { index: 5, .. }
+    ));
+    let mut short = s.v.clone();
+    short[1].truncate(32);
+    assert!(matches!(
+        data(&short, &s.i, 4, 1e6).unwrap_err(),
+        MeasureError::Length {
+            expected: 64,
+            got: 32,
+            ..
+        }
+    ));
+}
