@@ -192,6 +192,21 @@ pub enum StressQuantity {
     JunctionTemp,
 }
 
+impl StressQuantity {
+    /// A short label for people ("peak voltage", …).
+    pub fn label(self) -> &'static str {
+        match self {
+            StressQuantity::PeakVoltage => "peak voltage",
+            StressQuantity::RmsCurrent => "RMS current",
+            StressQuantity::AveragePower => "average power",
+            StressQuantity::VcePeak => "peak vce",
+            StressQuantity::IcPeak => "peak ic",
+            StressQuantity::Dissipation => "dissipation",
+            StressQuantity::JunctionTemp => "junction temperature",
+        }
+    }
+}
+
 /// One line of the component stress table.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct StressRow {

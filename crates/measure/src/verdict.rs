@@ -249,6 +249,18 @@ fn worst(cmp: Cmp, limit: f64, cands: Vec<Candidate>) -> Option<(Candidate, f64,
         .min_by(|a, b| a.1.total_cmp(&b.1))
 }
 
+/// A bound for people: "<= 36.00 V", "mask us_amateur_hf".
+fn bound_text(c: &Circuit, b: &Bound, cmp: Cmp, unit: Unit) -> String {
+    match b {
+        Bound::Value(v) => format!("{} {}", cmp_text(cmp), unit.show(*v)),
+        Bound::Mask(i) => match c.masks.get(*i) {
+            Some(m) => format!("mask {}", m.name),
+            None => format!("mask #{i}"),
+        },
+        Bound::BuiltinMask(name) => format!("mask {name}"),
+    }
+}
+
 fn resolve_mask(c: &Circuit, b: &Bound) -> Result<Option<Mask>, String> {
     match b {
         Bound::Value(_) => Ok(None),
@@ -314,7 +326,7 @@ fn stress_candidates(
         .iter()
         .filter_map(|r| {
             r.fraction
-                .map(|f| (Some(format!("{} {:?}", r.element, r.quantity)), f))
+                .map(|f| (Some(format!("{} {}", r.element, r.quantity.label())), f))
         })
         .collect();
     if cands.is_empty() {
@@ -405,7 +417,7 @@ fn harmonics_draft(
     let mask = match resolve_mask(c, &r.bound) {
         Ok(m) => m,
         Err(e) => {
-            d.limit_text = format!("{:?}", r.bound);
+            d.limit_text = bound_text(c, &r.bound, r.cmp, unit);
             d.outcome = Err(e);
             return d;
         }
@@ -524,7 +536,7 @@ pub fn evaluate_one(circuit: &Circuit, metrics: &Metrics, r: &Requirement) -> Ve
         }
         (_, b) => Draft {
             limit: None,
-            limit_text: format!("{b:?}"),
+            limit_text: bound_text(circuit, b, r.cmp, unit),
             outcome: Err("a mask bound applies only to harmonics".to_string()),
             harmonics: Vec::new(),
         },

@@ -426,6 +426,9 @@ fn scalar_verdicts() {
         .unwrap()
         .contains("only to harmonics"));
     assert!(v[13].not_measured.as_deref().unwrap().contains("nope"));
+    assert_eq!(v[13].limit_text, "mask nope");
+    assert_eq!(v[2].limit_text, "<= 36.00 V");
+    assert_eq!(v[6].element.as_deref(), Some("c1 peak voltage"));
     assert!(!v[14].pass && v[14].harmonics.len() == 2);
     // Strict comparison at equality fails.
     assert!(!v[15].pass && v[15].margin == Some(0.0));

@@ -428,3 +428,156 @@ fn malformed_periods_are_errors() {
         }
     ));
 }
+
+/// End to end: measure a period, then judge the stage file's requirements.
+/// A 50 Ω load fed with 100 V peak at 7.1 MHz (100 W, common practice:
+/// V²/(2R)) and a second harmonic 45 dB down: `harmonics <= us_amateur_hf`
+/// passes with 2 dB margin (47 CFR §97.307(d): −43 dBc), `pout >= 120 W`
+/// fails by 20 W.
+#[test]
+fn measure_then_evaluate() {
+    use tankwave_circuit::{Bound, Cmp, Metric, Origin, Requirement};
+    let (r, v1) = (50.0, 100.0);
+    let v2 = v1 * 10f64.powf(-45.0 / 20.0);
+    let n = 128;
+    let mut c = circuit(&["a"], vec![resistor("rl", Some(0), None, r, None)]);
+    c.output = Some(0);
+    let req = |metric, cmp, bound| Requirement {
+        metric,
+        cmp,
+        bound,
+        text: "require".into(),
+        origin: Origin::default(),
+    };
+    c.requirements = vec![
+        req(
+            Metric::Harmonics,
+            Cmp::Le,
+            Bound::BuiltinMask("us_amateur_hf".into()),
+        ),
+        req(Metric::Pout, Cmp::Ge, Bound::Value(120.0)),
+    ];
+    let v = sample(n, |x| v1 * x.cos() + v2 * (2.0 * x + 0.3).cos());
+    let i: Vec<f64> = v.iter().map(|x| x / r).collect();
+    let neg: Vec<f64> = i.iter().map(|x| -x).collect();
+    let m = measure(
+        &PeriodData {
+            circuit: &c,
+            freq: 7.1e6,
+            node_voltages: std::slice::from_ref(&v),
+            terminal_currents: &[vec![i, neg]],
+            harmonics: 8,
+        },
+        &MeasureParams::default(),
+    )
+    .unwrap();
+    let verdicts = tankwave_measure::evaluate(&c, &m);
+    assert!(verdicts[0].pass);
+    assert!((verdicts[0].margin.unwrap() - 2.0).abs() < 1e-9);
+    assert_eq!(verdicts[0].harmonics.len(), 7);
+    assert_eq!(verdicts[0].element.as_deref(), Some("harmonic 2"));
+    assert!(!verdicts[1].pass);
+    assert!((verdicts[1].margin.unwrap() + 20.0).abs() < 1e-9);
+}
+
+mod never_panics {
+    use super::*;
+    use proptest::prelude::*;
+    use tankwave_circuit::{Bound, Cmp, Metric, Origin, Requirement};
+
+    /// One requirement of every metric kind (all `<=`).
+    fn every_metric() -> Vec<Requirement> {
+        let q = Some(1);
+        let metrics = [
+            (Metric::Pout, 1.0),
+            (Metric::Efficiency, 0.5),
+            (Metric::Pae, 0.5),
+            (Metric::Gain, 10.0),
+            (Metric::Harmonic(2), -30.0),
+            (Metric::Harmonics, -40.0),
+            (Metric::Thd, 0.1),
+            (Metric::InputVswr, 2.0),
+            (Metric::VcePeak(q), 30.0),
+            (Metric::IcPeak(None), 3.0),
+            (Metric::Dissipation(q), 10.0),
+            (Metric::JunctionTemp(None), 400.0),
+            (Metric::Stress(None), 0.8),
+            (Metric::Pdc, 10.0),
+            (Metric::Conduction(q), 180.0),
+        ];
+        let mut v: Vec<Requirement> = metrics
+            .into_iter()
+            .map(|(metric, b)| Requirement {
+                metric,
+                cmp: Cmp::Le,
+                bound: Bound::Value(b),
+                text: String::new(),
+                origin: Origin::default(),
+            })
+            .collect();
+        v.push(Requirement {
+            metric: Metric::Harmonics,
+            cmp: Cmp::Le,
+            bound: Bound::BuiltinMask("itu_amateur".into()),
+            text: String::new(),
+            origin: Origin::default(),
+        });
+        v
+    }
+
+    proptest! {
+        /// Any finite current gives an angle in [0, 360] (project rule: no
+        /// panic, no NaN on any input).
+        #[test]
+        fn conduction_angle_is_bounded(
+            x in proptest::collection::vec(-1e6f64..1e6, 0..200),
+            thr in -1.0f64..2.0,
+        ) {
+            let a = tankwave_measure::conduction_angle_deg(&x, thr);
+            prop_assert!(a.is_finite() && (0.0..=360.0).contains(&a));
+        }
+
+        /// Any finite waveforms on the class-C circuit give metrics with no NaN.
+        #[test]
+        fn random_periods_have_no_nan(
+            seed in proptest::collection::vec(-1e3f64..1e3, 4 * 32 + 7 * 32),
+        ) {
+            let n = 32;
+            let s = class_c(150.0, n, BjtParams { rth_ja: 3.0, ..Default::default() });
+            let v: Vec<Vec<f64>> = (0..4).map(|k| seed[k * n..(k + 1) * n].to_vec()).collect();
+            let mut off = 4 * n;
+            let i: Vec<Vec<Vec<f64>>> = s
+                .i
+                .iter()
+                .map(|el| {
+                    el.iter()
+                        .map(|_| {
+                            let t = seed[off..off + n].to_vec();
+                            off += n;
+                            t
+                        })
+                        .collect()
+                })
+                .collect();
+            let m = measure(
+                &PeriodData {
+                    circuit: &s.circuit,
+                    freq: 1e6,
+                    node_voltages: &v,
+                    terminal_currents: &i,
+                    harmonics: 8,
+                },
+                &MeasureParams::default(),
+            )
+            .unwrap();
+            check_no_nan(&serde_json::to_value(&m).unwrap(), "", "metrics");
+            let mut c = s.circuit.clone();
+            c.requirements = every_metric();
+            for v in tankwave_measure::evaluate(&c, &m) {
+                prop_assert!(v.margin.is_none_or(f64::is_finite));
+                prop_assert!(v.value.is_none_or(f64::is_finite));
+                prop_assert!(v.pass == v.margin.is_some_and(|x| x >= 0.0) || v.margin.is_none());
+            }
+        }
+    }
+}
