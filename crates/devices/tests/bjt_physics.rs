@@ -521,3 +521,35 @@ fn q1_floor_keeps_base_charge_positive_and_smooth() {
         );
     }
 }
+
+/// High injection (Gummel–Poon 1970): far above the knee, qb ≈ √q2 and
+/// IC → √(IS·IKF)·exp(VBE/(2 NF Vt)), so the Gummel plot slope becomes
+/// 2·ln(10)·NF·kT/q per decade and βF falls as IKF/IC. The asymptote's
+/// relative error is about 1/(2√q2); with IKF = 1 µA and VBE ≥ 0.85 V,
+/// q2 > 1e5, so the slope and the asymptote hold to 2e-3.
+#[test]
+fn high_injection_asymptote() {
+    let temp = 300.0;
+    let vt = 1.380649e-23 * temp / 1.602176634e-19;
+    let (is, ikf) = (1e-15, 1e-6);
+    let p = BjtParams {
+        sat_current: is,
+        knee_fwd: ikf,
+        t_measured: temp,
+        ..BjtParams::default()
+    };
+    let q = grounded_emitter(&p, temp);
+    let (v1, v2) = (0.85, 0.95);
+    let (ic1, ib1) = currents(&q, v1, -2.0);
+    let (ic2, _) = currents(&q, v2, -2.0);
+    let per_decade = (v2 - v1) / (ic2 / ic1).log10();
+    let want = 2.0 * std::f64::consts::LN_10 * vt;
+    assert!(
+        (per_decade / want - 1.0).abs() < 2e-3,
+        "{per_decade} vs {want}"
+    );
+    let asym = (is * ikf).sqrt() * (v1 / (2.0 * vt)).exp();
+    assert!((ic1 / asym - 1.0).abs() < 2e-3, "{ic1} vs {asym}");
+    // IB stays ideal (IS/βF e^{V/Vt}), so the gain is far below βF = 100.
+    assert!(ic1 / ib1 < 1.0);
+}
