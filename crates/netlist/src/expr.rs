@@ -54,11 +54,11 @@ impl EvalError {
     }
 }
 
+/// A name resolver: `Ok(None)` for a name it does not know.
+pub type Lookup<'a> = dyn FnMut(&str, Span) -> Result<Option<f64>, EvalError> + 'a;
+
 /// Evaluate `e`, resolving names through `lookup` (which returns `None` for unknown names).
-pub fn eval(
-    e: &Expr,
-    lookup: &mut dyn FnMut(&str, Span) -> Result<Option<f64>, EvalError>,
-) -> Result<f64, EvalError> {
+pub fn eval(e: &Expr, lookup: &mut Lookup<'_>) -> Result<f64, EvalError> {
     let v = match &e.kind {
         ExprKind::Number { value, unit } => to_si(*value, *unit),
         ExprKind::Name(n) => match lookup(n, e.span)? {

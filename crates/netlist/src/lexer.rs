@@ -191,13 +191,13 @@ pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic
         };
         // Whitespace and comments.
         if c == '\n' {
-            if stack.is_empty() {
-                if !matches!(toks.last().map(|t| &t.kind), Some(TokKind::Newline) | None) {
-                    toks.push(Token {
-                        kind: TokKind::Newline,
-                        span: Span::new(file, pos, pos + 1),
-                    });
-                }
+            if stack.is_empty()
+                && !matches!(toks.last().map(|t| &t.kind), Some(TokKind::Newline) | None)
+            {
+                toks.push(Token {
+                    kind: TokKind::Newline,
+                    span: Span::new(file, pos, pos + 1),
+                });
             }
             rest = &rest[1..];
             at_line_start = true;

@@ -167,7 +167,7 @@ impl State {
         let items = parser::parse_tokens(&toks, &self.map, &mut self.diags);
         for item in items {
             match item {
-                Item::Stmt(s) => self.stmts.push(s),
+                Item::Stmt(s) => self.stmts.push(*s),
                 Item::Include(rel, span) => self.include(&rel, span, dir, stack),
             }
         }

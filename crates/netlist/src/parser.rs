@@ -16,7 +16,7 @@ use crate::suggest::did_you_mean;
 #[derive(Debug, Clone, PartialEq)]
 pub enum Item {
     /// A statement.
-    Stmt(Statement),
+    Stmt(Box<Statement>),
     /// `include "path"` with the span of the statement.
     Include(String, Span),
 }
@@ -289,11 +289,11 @@ impl<'a> Parser<'a> {
                 return Err(());
             }
         };
-        Ok(Item::Stmt(Statement {
+        Ok(Item::Stmt(Box::new(Statement {
             stmt,
             keyword,
             span: t.span.to(self.prev_end()),
-        }))
+        })))
     }
 
     fn element(&mut self, kind: ElemKeyword) -> P<ElementStmt> {
@@ -687,10 +687,10 @@ impl<'a> Parser<'a> {
                 Err(()) => {
                     ok = false;
                     // Skip to the next rule word or the closing brace.
-                    while !matches!(
+                    while !(matches!(
                         self.peek(),
                         TokKind::RBrace | TokKind::Eof | TokKind::Newline
-                    ) && !(self.is_word("harmonics")
+                    ) || self.is_word("harmonics")
                         || self.is_word("frequency")
                         || self.is_word("all"))
                     {
