@@ -341,18 +341,12 @@ fn stress_candidates(
     Ok(cands)
 }
 
-fn scalar(
-    c: &Circuit,
-    metrics: &Metrics,
-    r: &Requirement,
-    limit: f64,
-    unit: Unit,
-) -> Result<Vec<Candidate>, String> {
+/// The value candidates of a non-harmonic metric.
+fn scalar(c: &Circuit, metrics: &Metrics, r: &Requirement) -> Result<Vec<Candidate>, String> {
     let one = |v: Option<f64>, figure: &str| -> Result<Vec<Candidate>, String> {
         v.map(|x| vec![(None, x)])
             .ok_or_else(|| why(metrics, figure, "not measured"))
     };
-    let _ = (limit, unit);
     match &r.metric {
         Metric::Pout => one(metrics.output.as_ref().map(|o| o.p1_w), "pout"),
         Metric::Efficiency => one(metrics.efficiency, "efficiency"),
@@ -521,7 +515,7 @@ pub fn evaluate_one(circuit: &Circuit, metrics: &Metrics, r: &Requirement) -> Ve
         (_, Bound::Value(lim)) => {
             let lim = *lim;
             let outcome = if lim.is_finite() {
-                scalar(circuit, metrics, r, lim, unit).and_then(|c| {
+                scalar(circuit, metrics, r).and_then(|c| {
                     worst(r.cmp, lim, c).ok_or_else(|| "nothing to measure".to_string())
                 })
             } else {
