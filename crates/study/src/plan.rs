@@ -321,6 +321,21 @@ impl Plan {
         })
     }
 
+    /// The keys every variant's `values` has, in sorted order: swept names,
+    /// and `<element>.factor` for each tolerance when the study has `montecarlo`.
+    pub fn value_keys(&self) -> Vec<String> {
+        let mut keys: Vec<String> = self
+            .axes
+            .iter()
+            .map(|a| a.target.name().to_string())
+            .collect();
+        if self.montecarlo.is_some() {
+            keys.extend(self.tolerances.iter().map(|t| factor_key(&t.element)));
+        }
+        keys.sort();
+        keys
+    }
+
     /// Every variant in index order, built one at a time.
     pub fn iter(&self) -> impl Iterator<Item = Result<Variant, StudyError>> + '_ {
         (0..self.total).map(|i| self.variant(i))

@@ -209,6 +209,112 @@ impl<W: Write + Send> RecordSink for JsonlSink<W> {
     }
 }
 
+/// The columns of a streamed CSV file, fixed when it starts.
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
+pub struct CsvLayout {
+    /// Value columns (e.g. [`crate::Plan::value_keys`]).
+    pub values: Vec<String>,
+    /// Figure columns.
+    pub metrics: Vec<String>,
+    /// Requirement texts; each gives a `<text> pass` and a `<text> margin` column.
+    pub verdicts: Vec<String>,
+}
+
+impl CsvLayout {
+    fn header(&self) -> Vec<String> {
+        let mut head = vec!["index".to_string()];
+        head.extend(self.values.iter().cloned());
+        head.extend(self.metrics.iter().cloned());
+        for v in &self.verdicts {
+            head.push(format!("{v} pass"));
+            head.push(format!("{v} margin"));
+        }
+        head.push("error".to_string());
+        head
+    }
+
+    fn row(&self, r: &Record) -> Vec<String> {
+        let num = |x: Option<&f64>| x.map(|v| v.to_string()).unwrap_or_default();
+        let mut row = vec![r.index.to_string()];
+        row.extend(self.values.iter().map(|k| num(r.values.get(k))));
+        row.extend(self.metrics.iter().map(|k| num(r.metrics.get(k))));
+        for k in &self.verdicts {
+            match r.verdicts.get(k) {
+                Some(v) => {
+                    row.push(v.pass.to_string());
+                    row.push(v.margin.to_string());
+                }
+                None => {
+                    row.push(String::new());
+                    row.push(String::new());
+                }
+            }
+        }
+        row.push(r.error.clone().unwrap_or_default());
+        row
+    }
+}
+
+fn csv_err(e: csv::Error) -> StudyError {
+    StudyError::Io {
+        what: "writing CSV".to_string(),
+        source: std::io::Error::other(e),
+    }
+}
+
+/// A sink that streams CSV rows with columns fixed at the start, flushing
+/// after every row. Figures outside the layout are left out (the JSON Lines
+/// file keeps everything; only it can be resumed and merged).
+pub struct CsvSink<W: Write> {
+    out: csv::Writer<W>,
+    layout: CsvLayout,
+}
+
+impl<W: Write> CsvSink<W> {
+    /// Start a CSV file: writes the header row.
+    pub fn create(out: W, layout: CsvLayout) -> Result<Self, StudyError> {
+        let mut out = csv::Writer::from_writer(out);
+        out.write_record(layout.header()).map_err(csv_err)?;
+        out.flush().map_err(|source| StudyError::Io {
+            what: "writing CSV".to_string(),
+            source,
+        })?;
+        Ok(CsvSink { out, layout })
+    }
+}
+
+impl<W: Write> CsvSink<W> {
+    /// Give back the writer (after a final flush).
+    pub fn into_inner(self) -> Result<W, StudyError> {
+        self.out.into_inner().map_err(|e| StudyError::Io {
+            what: "writing CSV".to_string(),
+            source: std::io::Error::other(e.to_string()),
+        })
+    }
+}
+
+impl<W: Write + Send> RecordSink for CsvSink<W> {
+    fn record(&mut self, record: &Record) -> Result<(), StudyError> {
+        self.out
+            .write_record(self.layout.row(record))
+            .map_err(csv_err)?;
+        self.out.flush().map_err(|source| StudyError::Io {
+            what: "writing CSV".to_string(),
+            source,
+        })
+    }
+}
+
+/// Sends every record to two sinks (e.g. JSON Lines for resume and CSV for a spreadsheet).
+pub struct TeeSink<A, B>(pub A, pub B);
+
+impl<A: RecordSink, B: RecordSink> RecordSink for TeeSink<A, B> {
+    fn record(&mut self, record: &Record) -> Result<(), StudyError> {
+        self.0.record(record)?;
+        self.1.record(record)
+    }
+}
+
 /// A sink that keeps records in memory (for tests and small studies).
 #[derive(Debug, Default)]
 pub struct MemorySink {
@@ -520,10 +626,10 @@ pub fn merge<R: BufRead>(
     Ok(info)
 }
 
-/// Write records as CSV: `index`, then one column per value, per metric, and
-/// `<requirement> pass` / `<requirement> margin` per requirement (the union
-/// over all records, sorted by name), then `error`. Empty cells where a
-/// record lacks a figure.
+/// Write finished records as CSV: `index`, then one column per value, per
+/// metric, and `<requirement> pass` / `<requirement> margin` per requirement
+/// (the union over all records, sorted by name), then `error`. Empty cells
+/// where a record lacks a figure.
 pub fn write_csv<'a>(
     records: impl IntoIterator<Item = &'a Record> + Clone,
     out: impl Write,
@@ -536,41 +642,16 @@ pub fn write_csv<'a>(
         metrics.extend(r.metrics.keys().cloned());
         verdicts.extend(r.verdicts.keys().cloned());
     }
-    let io = |e: csv::Error| StudyError::Io {
-        what: "writing CSV".to_string(),
-        source: std::io::Error::other(e),
+    let layout = CsvLayout {
+        values: values.into_iter().collect(),
+        metrics: metrics.into_iter().collect(),
+        verdicts: verdicts.into_iter().collect(),
     };
-    let mut w = csv::Writer::from_writer(out);
-    let mut head: Vec<String> = vec!["index".to_string()];
-    head.extend(values.iter().cloned());
-    head.extend(metrics.iter().cloned());
-    for v in &verdicts {
-        head.push(format!("{v} pass"));
-        head.push(format!("{v} margin"));
-    }
-    head.push("error".to_string());
-    w.write_record(&head).map_err(io)?;
-    let num = |x: Option<&f64>| x.map(|v| v.to_string()).unwrap_or_default();
+    let mut sink = CsvSink::create(out, layout)?;
     for r in records {
-        let mut row = vec![r.index.to_string()];
-        row.extend(values.iter().map(|k| num(r.values.get(k))));
-        row.extend(metrics.iter().map(|k| num(r.metrics.get(k))));
-        for k in &verdicts {
-            match r.verdicts.get(k) {
-                Some(v) => {
-                    row.push(v.pass.to_string());
-                    row.push(v.margin.to_string());
-                }
-                None => {
-                    row.push(String::new());
-                    row.push(String::new());
-                }
-            }
-        }
-        row.push(r.error.clone().unwrap_or_default());
-        w.write_record(&row).map_err(io)?;
+        sink.out.write_record(sink.layout.row(r)).map_err(csv_err)?;
     }
-    w.flush().map_err(|source| StudyError::Io {
+    sink.out.flush().map_err(|source| StudyError::Io {
         what: "writing CSV".to_string(),
         source,
     })

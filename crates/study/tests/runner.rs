@@ -387,3 +387,59 @@ fn csv_export_has_one_row_per_record_and_the_union_of_columns() {
     assert_eq!(got, recs[0].metrics["y"]);
     assert!(rows[16][y_col].is_empty() && !rows[16][head.len() - 1].is_empty());
 }
+
+#[test]
+fn streamed_csv_and_tee_write_every_record() {
+    let plan = Plan::new(&mixed_spec(), &ELEMENTS).unwrap();
+    let layout = CsvLayout {
+        values: plan.value_keys(),
+        metrics: vec!["y".to_string()],
+        verdicts: vec!["y >= 4".to_string()],
+    };
+    assert_eq!(
+        plan.value_keys(),
+        vec!["ctun.factor", "lt.factor", "rb", "vcc"]
+    );
+    let csv_sink = CsvSink::create(Vec::new(), layout).unwrap();
+    let json_sink = JsonlSink::create(Vec::new(), &Header::new(&plan, 4, None)).unwrap();
+    let mut tee = TeeSink(json_sink, csv_sink);
+    run_study(&plan, &params(2, 4), synthetic, &mut tee, &|_| {}).unwrap();
+    let TeeSink(json_sink, csv_sink) = tee;
+    let (_, recs) = read_all(&json_sink.into_inner());
+    assert_eq!(recs.len(), 60);
+    let bytes = csv_sink_bytes(csv_sink);
+    let mut rdr = csv::Reader::from_reader(&bytes[..]);
+    let head: Vec<String> = rdr.headers().unwrap().iter().map(String::from).collect();
+    assert_eq!(
+        head,
+        [
+            "index",
+            "ctun.factor",
+            "lt.factor",
+            "rb",
+            "vcc",
+            "y",
+            "y >= 4 pass",
+            "y >= 4 margin",
+            "error"
+        ]
+    );
+    let mut n = 0;
+    for row in rdr.records() {
+        let row = row.unwrap();
+        let i: u64 = row[0].parse().unwrap();
+        let r = &recs[i as usize];
+        assert_eq!(row[4].parse::<f64>().unwrap(), r.values["vcc"]);
+        if r.error.is_none() {
+            assert_eq!(row[5].parse::<f64>().unwrap(), r.metrics["y"]);
+        } else {
+            assert!(row[5].is_empty() && !row[8].is_empty());
+        }
+        n += 1;
+    }
+    assert_eq!(n, 60);
+}
+
+fn csv_sink_bytes(s: CsvSink<Vec<u8>>) -> Vec<u8> {
+    s.into_inner().unwrap()
+}
