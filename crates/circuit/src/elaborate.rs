@@ -1784,6 +1784,25 @@ impl<'a> Cx<'a> {
                 }
                 Some(Limit::Watts(v))
             }
+            LimitAst::IfCarrierBelow {
+                power,
+                then,
+                otherwise,
+            } => {
+                let w = self.value_in(
+                    power,
+                    Slot::Power,
+                    "if_carrier_below power",
+                    Range::Positive,
+                );
+                let a = self.limit(then);
+                let b = self.limit(otherwise);
+                Some(Limit::IfCarrierBelow {
+                    watts: w?,
+                    then: Box::new(a?),
+                    otherwise: Box::new(b?),
+                })
+            }
             LimitAst::Stricter(v, _) | LimitAst::Looser(v, _) => {
                 let subs: Vec<Option<Limit>> = v.iter().map(|x| self.limit(x)).collect();
                 let subs: Option<Vec<Limit>> = subs.into_iter().collect();

@@ -315,6 +315,30 @@ fn coupling_and_sweeps() {
 }
 
 #[test]
+fn carrier_power_conditions_in_masks() {
+    let e = load(
+        "vsource v1 a gnd dc=1V\nresistor r1 a gnd 1\n\
+         mask old { all if_carrier_below(5W, below 30dB, stricter(below 40dB, at_most 50mW)) when carrier 0Hz to 29.999MHz }\n",
+    );
+    let r = &e.circuit.masks[0].rules[0];
+    assert_eq!(r.range, MaskRange::Any);
+    assert_eq!(
+        r.limit,
+        Limit::IfCarrierBelow {
+            watts: 5.0,
+            then: Box::new(Limit::Dbc(LimitExpr::Const(-30.0))),
+            otherwise: Box::new(Limit::All(vec![
+                Limit::Dbc(LimitExpr::Const(-40.0)),
+                Limit::Watts(LimitExpr::Const(0.05))
+            ])),
+        }
+    );
+    // At 100 W, 50 mW is 33 dB under the carrier, looser than 40 dB, so -40 dBc applies.
+    assert_relative_eq!(r.limit.allowed_dbc(100.0), -40.0, max_relative = 1e-12);
+    assert_relative_eq!(r.limit.allowed_dbc(1.0), -30.0, max_relative = 1e-12);
+}
+
+#[test]
 fn builtin_mask_names_resolve_when_present() {
     // Whatever the built-in list holds, each name must be accepted by require.
     for name in builtin::builtin_names() {

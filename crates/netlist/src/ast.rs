@@ -279,6 +279,15 @@ pub enum LimitAst {
     Stricter(Vec<LimitAst>, Span),
     /// `looser(l1, l2, ...)`: the least stringent applies.
     Looser(Vec<LimitAst>, Span),
+    /// `if_carrier_below(P, l1, l2)`: `l1` when the carrier power is below P, else `l2`.
+    IfCarrierBelow {
+        /// The carrier-power threshold (W or dBm).
+        power: Expr,
+        /// The limit below the threshold.
+        then: Box<LimitAst>,
+        /// The limit at or above it.
+        otherwise: Box<LimitAst>,
+    },
 }
 
 /// One mask rule.

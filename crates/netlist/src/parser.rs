@@ -780,6 +780,20 @@ impl<'a> Parser<'a> {
         if self.eat_word("at_most") {
             return Ok(LimitAst::AtMost(self.value()?));
         }
+        if self.eat_word("if_carrier_below") {
+            self.expect(TokKind::LParen, "'('")?;
+            let power = self.value()?;
+            self.expect(TokKind::Comma, "',' after the carrier power")?;
+            let then = Box::new(self.limit()?);
+            self.expect(TokKind::Comma, "',' between the two limits")?;
+            let otherwise = Box::new(self.limit()?);
+            self.expect(TokKind::RParen, "')'")?;
+            return Ok(LimitAst::IfCarrierBelow {
+                power,
+                then,
+                otherwise,
+            });
+        }
         let strict = self.is_word("stricter");
         if strict || self.is_word("looser") {
             self.pos += 1;
@@ -797,14 +811,17 @@ impl<'a> Parser<'a> {
             });
         }
         let help = match &t.kind {
-            TokKind::Ident(s) => did_you_mean(s, ["below", "at_most", "stricter", "looser"].iter()),
+            TokKind::Ident(s) => did_you_mean(
+                s,
+                ["below", "at_most", "stricter", "looser", "if_carrier_below"].iter(),
+            ),
             _ => None,
         };
         self.err_help(
             "syntax",
             t.span,
             format!(
-                "expected a limit (below, at_most, stricter or looser), got {}",
+                "expected a limit (below, at_most, stricter, looser or if_carrier_below), got {}",
                 t.kind.describe()
             ),
             help,
