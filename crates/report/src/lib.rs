@@ -16,6 +16,8 @@
 
 pub mod files;
 pub mod format;
+pub mod html;
+pub mod plot;
 pub mod stage;
 pub mod table;
 

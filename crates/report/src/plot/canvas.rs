@@ -64,42 +64,42 @@ impl SeriesStyle {
 /// strongly in grey; hues avoid the red–green pairs that colour-blind readers
 /// confuse; dash pattern and marker differ for every entry as well.
 pub const PALETTE: [SeriesStyle; 6] = [
-    // deep ink blue, L* ≈ 14, solid, disc
+    // deep ink blue, L* ≈ 13, solid, disc
     SeriesStyle {
         color: (0x14, 0x21, 0x3d),
         dash: "none",
         marker: Marker::Disc,
         width: 2,
     },
-    // copper, L* ≈ 50, long dashes, triangle
+    // copper, L* ≈ 49, long dashes, triangle
     SeriesStyle {
         color: (0xb5, 0x5a, 0x1c),
         dash: "9 4",
         marker: Marker::Triangle,
         width: 2,
     },
-    // sky, L* ≈ 68, dots, square
+    // pale sky, L* ≈ 80, dots, square
     SeriesStyle {
-        color: (0x5f, 0xb0, 0xd6),
+        color: (0x8f, 0xcf, 0xea),
         dash: "2 3",
         marker: Marker::Square,
         width: 3,
     },
-    // plum, L* ≈ 32, dash-dot, cross
+    // plum, L* ≈ 30, dash-dot, cross
     SeriesStyle {
         color: (0x6e, 0x2f, 0x5f),
         dash: "10 3 2 3",
         marker: Marker::Cross,
         width: 2,
     },
-    // straw, L* ≈ 80, short dashes, ring
+    // straw, L* ≈ 77, short dashes, ring
     SeriesStyle {
         color: (0xe0, 0xbb, 0x4a),
         dash: "5 3",
         marker: Marker::Ring,
         width: 3,
     },
-    // slate teal, L* ≈ 45, dash-dot-dot, diamond
+    // slate teal, L* ≈ 43, dash-dot-dot, diamond
     SeriesStyle {
         color: (0x2f, 0x6f, 0x73),
         dash: "12 3 2 3 2 3",
@@ -137,7 +137,13 @@ pub(crate) struct Canvas<'a> {
 }
 
 /// Draw a figure of `w`×`h` px with `body`, then finish the document.
-pub(crate) fn render<F>(w: u32, h: u32, title: &str, desc: &str, body: F) -> Result<String, PlotError>
+pub(crate) fn render<F>(
+    w: u32,
+    h: u32,
+    title: &str,
+    desc: &str,
+    body: F,
+) -> Result<String, PlotError>
 where
     F: for<'c> FnOnce(&Canvas<'c>) -> Result<(), PlotError>,
 {
@@ -156,7 +162,7 @@ where
     Ok(finish(&buf, title, desc, &groups))
 }
 
-impl Canvas<'_> {
+impl<'a> Canvas<'a> {
     fn sentinel(&self, text: String) -> Result<(), PlotError> {
         self.root
             .draw(&Text::new(text, (0, 0), (FONT, 1).into_font()))
@@ -164,7 +170,12 @@ impl Canvas<'_> {
     }
 
     /// Open a group with `class`, an optional `data-label` and dash pattern.
-    pub fn begin(&self, class: &str, label: Option<&str>, dash: Option<&str>) -> Result<(), PlotError> {
+    pub fn begin(
+        &self,
+        class: &str,
+        label: Option<&str>,
+        dash: Option<&str>,
+    ) -> Result<(), PlotError> {
         let mut tag = format!("<g class=\"{}\"", xml_escape(class));
         if let Some(l) = label {
             tag.push_str(&format!(" data-label=\"{}\"", xml_escape(l)));
@@ -187,7 +198,7 @@ impl Canvas<'_> {
     }
 
     /// Title and subtitle across the top band of height `band`; returns the rest.
-    pub fn header(&self, title: &str, subtitle: &str, band: u32) -> Result<Area<'_>, PlotError> {
+    pub fn header(&self, title: &str, subtitle: &str, band: u32) -> Result<Area<'a>, PlotError> {
         let (top, rest) = self.root.split_vertically(band);
         self.begin("title", None, None)?;
         top.draw(&Text::new(
@@ -209,7 +220,13 @@ impl Canvas<'_> {
     }
 
     /// A legend drawn in pixel coordinates of `area` starting at (x, y).
-    pub fn legend(&self, area: &Area<'_>, x: i32, y: i32, entries: &[LegendEntry]) -> Result<(), PlotError> {
+    pub fn legend(
+        &self,
+        area: &Area<'_>,
+        x: i32,
+        y: i32,
+        entries: &[LegendEntry],
+    ) -> Result<(), PlotError> {
         let row = 22;
         for (k, e) in entries.iter().enumerate() {
             let yy = y + k as i32 * row;
@@ -217,11 +234,21 @@ impl Canvas<'_> {
             self.begin("legend-entry", Some(&e.label), Some(style.dash))?;
             match e.kind {
                 LegendKind::Line => {
-                    area.draw(&PathElement::new(vec![(x, yy), (x + 34, yy)], style.stroke()))
-                        .map_err(draw_err)?;
+                    area.draw(&PathElement::new(
+                        vec![(x, yy), (x + 34, yy)],
+                        style.stroke(),
+                    ))
+                    .map_err(draw_err)?;
                     self.begin("marker", None, Some("none"))?;
-                    area.draw(&marker_at((x + 17, yy), style)).map_err(draw_err)?;
+                    draw_marker(area, (x + 17, yy), style)?;
                     self.end()?;
+                }
+                LegendKind::Rule => {
+                    area.draw(&PathElement::new(
+                        vec![(x, yy), (x + 34, yy)],
+                        style.stroke(),
+                    ))
+                    .map_err(draw_err)?;
                 }
                 LegendKind::Box => {
                     area.draw(&Rectangle::new(
@@ -229,13 +256,9 @@ impl Canvas<'_> {
                         style.rgb().filled(),
                     ))
                     .map_err(draw_err)?;
-                    area.draw(&Rectangle::new([(x + 4, yy - 7), (x + 30, yy + 7)], INK.stroke_width(1)))
-                        .map_err(draw_err)?;
-                }
-                LegendKind::Shade => {
                     area.draw(&Rectangle::new(
                         [(x + 4, yy - 7), (x + 30, yy + 7)],
-                        SHADE.mix(0.25).filled(),
+                        INK.stroke_width(1),
                     ))
                     .map_err(draw_err)?;
                 }
@@ -257,10 +280,10 @@ impl Canvas<'_> {
 pub(crate) enum LegendKind {
     /// A line with its marker.
     Line,
+    /// A line without marker.
+    Rule,
     /// A filled box (bars).
     Box,
-    /// A grey shaded box (intervals).
-    Shade,
 }
 
 /// One legend line.
@@ -270,28 +293,41 @@ pub(crate) struct LegendEntry {
     pub kind: LegendKind,
 }
 
-/// A marker of `style` centred at `c` (any coordinate system).
-pub(crate) fn marker_at<'b, C: Clone + 'b>(
-    c: C,
+/// Draw a marker of `style` centred at pixel `(x, y)` of `area`.
+pub(crate) fn draw_marker(
+    area: &Area<'_>,
+    (x, y): (i32, i32),
     style: SeriesStyle,
-) -> DynElement<'b, SVGBackend<'b>, C> {
+) -> Result<(), PlotError> {
     let col = style.rgb();
-    let base = EmptyElement::at(c);
-    match style.marker {
-        Marker::Disc => (base + Circle::new((0, 0), 5, col.filled())).into_dyn(),
-        Marker::Ring => (base + Circle::new((0, 0), 5, col.stroke_width(2))).into_dyn(),
-        Marker::Square => (base + Rectangle::new([(-5, -5), (5, 5)], col.filled())).into_dyn(),
-        Marker::Triangle => {
-            (base + Polygon::new(vec![(0, -6), (6, 5), (-6, 5)], col.filled())).into_dyn()
-        }
-        Marker::Diamond => {
-            (base + Polygon::new(vec![(0, -6), (6, 0), (0, 6), (-6, 0)], col.filled())).into_dyn()
-        }
-        Marker::Cross => (base
-            + PathElement::new(vec![(-5, -5), (5, 5)], col.stroke_width(2))
-            + PathElement::new(vec![(-5, 5), (5, -5)], col.stroke_width(2)))
-        .into_dyn(),
-    }
+    let r = match style.marker {
+        Marker::Disc => area.draw(&Circle::new((x, y), 5, col.filled())),
+        Marker::Ring => area.draw(&Circle::new((x, y), 5, col.stroke_width(2))),
+        Marker::Square => area.draw(&Rectangle::new(
+            [(x - 5, y - 5), (x + 5, y + 5)],
+            col.filled(),
+        )),
+        Marker::Triangle => area.draw(&Polygon::new(
+            vec![(x, y - 6), (x + 6, y + 5), (x - 6, y + 5)],
+            col.filled(),
+        )),
+        Marker::Diamond => area.draw(&Polygon::new(
+            vec![(x, y - 6), (x + 6, y), (x, y + 6), (x - 6, y)],
+            col.filled(),
+        )),
+        Marker::Cross => area
+            .draw(&PathElement::new(
+                vec![(x - 5, y - 5), (x + 5, y + 5)],
+                col.stroke_width(2),
+            ))
+            .and_then(|_| {
+                area.draw(&PathElement::new(
+                    vec![(x - 5, y + 5), (x + 5, y - 5)],
+                    col.stroke_width(2),
+                ))
+            }),
+    };
+    r.map_err(draw_err)
 }
 
 /// About `count` evenly spread indices into a series of `n` points, shifted
@@ -394,7 +430,11 @@ pub(crate) fn padded(lo: f64, hi: f64, pad: f64) -> Range<f64> {
     let (lo, hi) = if lo <= hi { (lo, hi) } else { (hi, lo) };
     let span = hi - lo;
     if !(span > 1e-300) || !span.is_finite() {
-        let d = if lo.abs() > 1e-300 { lo.abs() * 0.1 } else { 1.0 };
+        let d = if lo.abs() > 1e-300 {
+            lo.abs() * 0.1
+        } else {
+            1.0
+        };
         return (lo - d)..(hi + d);
     }
     (lo - pad * span)..(hi + pad * span)
@@ -416,7 +456,10 @@ pub(crate) fn extent<'v>(vals: impl IntoIterator<Item = &'v f64>) -> Option<(f64
 
 /// Units that take SI prefixes on axes.
 fn prefixable(unit: &str) -> bool {
-    matches!(unit, "V" | "A" | "W" | "Hz" | "s" | "F" | "H" | "Ohm" | "Ω" | "S" | "J")
+    matches!(
+        unit,
+        "V" | "A" | "W" | "Hz" | "s" | "F" | "H" | "Ohm" | "Ω" | "S" | "J"
+    )
 }
 
 /// The divisor and prefix that put `max_abs` in [1, 1000) for `unit`
@@ -492,7 +535,11 @@ pub(crate) fn decimate(x: &[f64], y: &[f64], buckets: usize) -> Vec<(f64, f64)> 
                 imax = i;
             }
         }
-        let (a, b) = if imin <= imax { (imin, imax) } else { (imax, imin) };
+        let (a, b) = if imin <= imax {
+            (imin, imax)
+        } else {
+            (imax, imin)
+        };
         out.push((x[a], y[a]));
         if b != a {
             out.push((x[b], y[b]));
@@ -506,4 +553,147 @@ pub(crate) fn decimate(x: &[f64], y: &[f64], buckets: usize) -> Vec<(f64, f64)> 
 /// through this helper so every figure looks the same.
 pub(crate) fn grid_color() -> RGBAColor {
     RGBColor(0, 0, 0).mix(0.12)
+}
+
+/// One line series of a panel.
+pub(crate) struct Line<'d> {
+    pub label: String,
+    pub style: SeriesStyle,
+    pub points: &'d [(f64, f64)],
+    /// Draw markers on it (about this many).
+    pub markers: usize,
+}
+
+/// A panel of line series on linear axes.
+pub(crate) struct Panel<'d> {
+    pub x: Range<f64>,
+    pub y: Range<f64>,
+    pub x_desc: String,
+    pub y_desc: String,
+    pub lines: Vec<Line<'d>>,
+    /// x intervals to shade grey (drawn under the lines).
+    pub shades: Vec<(f64, f64)>,
+    /// Vertical reference lines: x, label.
+    pub vlines: Vec<(f64, String)>,
+    /// Horizontal reference lines: y, label.
+    pub hlines: Vec<(f64, String)>,
+    /// Left label area width, px.
+    pub y_label_width: u32,
+}
+
+impl<'d> Panel<'d> {
+    pub fn new(x: Range<f64>, y: Range<f64>, x_desc: String, y_desc: String) -> Self {
+        Panel {
+            x,
+            y,
+            x_desc,
+            y_desc,
+            lines: Vec::new(),
+            shades: Vec::new(),
+            vlines: Vec::new(),
+            hlines: Vec::new(),
+            y_label_width: 70,
+        }
+    }
+}
+
+/// Draw `panel` into `area`.
+pub(crate) fn draw_panel(
+    canvas: &Canvas<'_>,
+    area: &Area<'_>,
+    panel: &Panel<'_>,
+) -> Result<(), PlotError> {
+    let mut chart = ChartBuilder::on(area)
+        .margin(8)
+        .margin_right(20)
+        .x_label_area_size(if panel.x_desc.is_empty() { 24 } else { 44 })
+        .y_label_area_size(panel.y_label_width)
+        .build_cartesian_2d(panel.x.clone(), panel.y.clone())
+        .map_err(draw_err)?;
+    let fx = |v: &f64| tick(*v);
+    let fy = |v: &f64| tick(*v);
+    canvas.begin("axes", None, None)?;
+    chart
+        .configure_mesh()
+        .x_desc(panel.x_desc.clone())
+        .y_desc(panel.y_desc.clone())
+        .x_label_formatter(&fx)
+        .y_label_formatter(&fy)
+        .label_style((FONT, 13).into_font().color(&INK))
+        .axis_desc_style((FONT, 14).into_font().color(&INK))
+        .bold_line_style(grid_color())
+        .light_line_style(TRANSPARENT)
+        .axis_style(INK)
+        .x_labels(10)
+        .y_labels(6)
+        .draw()
+        .map_err(draw_err)?;
+    canvas.end()?;
+    if !panel.shades.is_empty() {
+        canvas.begin("shade", Some("conduction interval"), None)?;
+        let (y0, y1) = (panel.y.start, panel.y.end);
+        chart
+            .draw_series(
+                panel
+                    .shades
+                    .iter()
+                    .map(|&(a, b)| Rectangle::new([(a, y0), (b, y1)], SHADE.mix(0.25).filled())),
+            )
+            .map_err(draw_err)?;
+        canvas.end()?;
+    }
+    for (x, label) in &panel.vlines {
+        canvas.begin("reference", Some(label), Some("6 4"))?;
+        chart
+            .draw_series(std::iter::once(PathElement::new(
+                vec![(*x, panel.y.start), (*x, panel.y.end)],
+                INK.stroke_width(2),
+            )))
+            .map_err(draw_err)?;
+        let px = chart.backend_coord(&(*x, panel.y.end));
+        canvas
+            .root
+            .draw(&Text::new(
+                label.clone(),
+                (px.0 + 6, px.1 + 4),
+                (FONT, 13).into_font().color(&INK),
+            ))
+            .map_err(draw_err)?;
+        canvas.end()?;
+    }
+    for (y, label) in &panel.hlines {
+        canvas.begin("reference", Some(label), Some("6 4"))?;
+        chart
+            .draw_series(std::iter::once(PathElement::new(
+                vec![(panel.x.start, *y), (panel.x.end, *y)],
+                INK.stroke_width(2),
+            )))
+            .map_err(draw_err)?;
+        canvas.end()?;
+    }
+    for (k, line) in panel.lines.iter().enumerate() {
+        let dash = if line.style.dash == "none" {
+            None
+        } else {
+            Some(line.style.dash)
+        };
+        canvas.begin("series", Some(&line.label), dash)?;
+        chart
+            .draw_series(LineSeries::new(
+                line.points.iter().copied(),
+                line.style.stroke(),
+            ))
+            .map_err(draw_err)?;
+        if line.markers > 0 {
+            canvas.begin("marker", None, Some("none"))?;
+            let phase = (k as f64 * 0.37).fract();
+            let idx = marker_indices(line.points.len(), line.markers, phase);
+            for q in idx.into_iter().filter_map(|i| line.points.get(i)) {
+                draw_marker(&canvas.root, chart.backend_coord(q), line.style)?;
+            }
+            canvas.end()?;
+        }
+        canvas.end()?;
+    }
+    Ok(())
 }

@@ -93,7 +93,9 @@ pub enum PlotError {
         value: f64,
     },
     /// A logarithmic axis got a value that is not positive.
-    #[error("{what}: value {value} at index {index} is not positive, so it cannot go on a log axis")]
+    #[error(
+        "{what}: value {value} at index {index} is not positive, so it cannot go on a log axis"
+    )]
     NotPositive {
         /// Which data.
         what: String,

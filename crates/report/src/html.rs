@@ -1,0 +1,656 @@
+//! The self-contained HTML report of one stage: one file with inline SVG
+//! figures and inline CSS, no scripts and no reference to anything outside
+//! the file (no links, fonts, images or style sheets to fetch).
+//!
+//! The document is written as well-formed XML (every element closed, void
+//! elements self-closed, only the five XML entities), so it can be checked
+//! with an XML parser and still opens in any browser. All text taken from
+//! the input is escaped. A plot that cannot be drawn leaves a short note in
+//! its place instead of failing the report.
+//!
+//! Sections: title and file hash, requirement verdicts, headline figures,
+//! spectrum against the mask, waveforms, transistor figures and component
+//! stress, study summaries, the safety caution, provenance.
+
+use tankwave_circuit::{Circuit, Scale};
+use tankwave_measure::{MaskEvaluation, Metrics, StressQuantity, Verdict};
+use tankwave_solve::{AcResult, PeriodicSolution, TransientResult};
+
+use crate::format::{db, fixed, si};
+use crate::plot::{self, PlotParams};
+
+/// The caution printed in every HTML report.
+pub const SAFETY_CAUTION: &str = "Caution: a transmitter stage works at hazardous radio-frequency \
+voltages and currents. Tank and output-network capacitors carry RF voltages several times the supply \
+voltage, and touching live RF conductors causes deep RF burns. Radiated fields near antennas, feed \
+lines and open circuits can exceed exposure limits. Test into a shielded dummy load with the supply \
+disconnected and capacitors discharged before touching anything. Transmit only where your licence \
+allows, within its power and frequency limits. Local electrical and RF-exposure codes and licensed \
+practice take precedence over anything in this report, which is a simulation and not a safety \
+assessment.";
+
+/// An AC sweep to plot: the result, the unknowns to show (indices into
+/// `result.names`) and the sweep spacing.
+#[derive(Debug, Clone, Copy)]
+pub struct AcView<'a> {
+    /// The sweep.
+    pub result: &'a AcResult,
+    /// Unknowns to plot.
+    pub unknowns: &'a [usize],
+    /// Spacing of the sweep (log spacing gives a log axis).
+    pub scale: Scale,
+}
+
+/// A ready figure: its caption and SVG text (from the [`crate::plot`] functions).
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Figure {
+    /// Caption shown under the figure.
+    pub caption: String,
+    /// The SVG document, as returned by a plot function.
+    pub svg: String,
+}
+
+/// A plain table: header and rows of cells (text, escaped on output).
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct PlainTable {
+    /// Column headings.
+    pub header: Vec<String>,
+    /// Rows of cells.
+    pub rows: Vec<Vec<String>>,
+}
+
+/// The summary of one study (sweep, tolerance or Monte Carlo run), given as
+/// plain text and figures so this module does not depend on the study crate.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct StudySection {
+    /// Heading, e.g. "Monte Carlo, 1000 variants".
+    pub title: String,
+    /// Key figures as (label, value) lines, e.g. ("yield", "97.1 %").
+    pub lines: Vec<(String, String)>,
+    /// Statistics of the figures.
+    pub table: Option<PlainTable>,
+    /// Plots (histograms, sweep curves, tuning surface).
+    pub figures: Vec<Figure>,
+}
+
+/// Where and how the report was made (all passed in by the caller).
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Provenance {
+    /// Tool name and version, e.g. "tankwave 0.1.0".
+    pub tool: String,
+    /// Date and time of the run, as the caller wants it shown.
+    pub date: String,
+    /// Options in effect, as (name, value).
+    pub options: Vec<(String, String)>,
+}
+
+/// Everything a stage report can show; absent parts are left out.
+#[derive(Debug, Clone, Default)]
+pub struct ReportInput<'a> {
+    /// Stage title (the file's `title`, or its name).
+    pub title: String,
+    /// Stage file name as given.
+    pub file: String,
+    /// SHA-256 of the stage file bytes, hex.
+    pub file_sha256: String,
+    /// The elaborated circuit (needed for waveform plots).
+    pub circuit: Option<&'a Circuit>,
+    /// The periodic steady state.
+    pub solution: Option<&'a PeriodicSolution>,
+    /// Figures measured from it.
+    pub metrics: Option<&'a Metrics>,
+    /// Requirement verdicts.
+    pub verdicts: &'a [Verdict],
+    /// Emission masks evaluated against the output.
+    pub masks: &'a [MaskEvaluation],
+    /// A transient start-up run.
+    pub transient: Option<&'a TransientResult>,
+    /// An AC sweep.
+    pub ac: Option<AcView<'a>>,
+    /// Study summaries.
+    pub studies: &'a [StudySection],
+    /// Tool, date, options.
+    pub provenance: Provenance,
+    /// Plot options (the file name in titles, width, conduction threshold).
+    pub plot: PlotParams,
+}
+
+/// Escape text for HTML/XML content and attribute values.
+pub fn escape(s: &str) -> String {
+    let mut o = String::with_capacity(s.len() + 8);
+    for c in s.chars() {
+        match c {
+            '<' => o.push_str("&lt;"),
+            '>' => o.push_str("&gt;"),
+            '&' => o.push_str("&amp;"),
+            '"' => o.push_str("&quot;"),
+            '\'' => o.push_str("&#39;"),
+            c if (c as u32) < 0x20 && c != '\n' && c != '\t' => o.push(' '),
+            c => o.push(c),
+        }
+    }
+    o
+}
+
+const CSS: &str = r#"
+:root { color-scheme: light; }
+body { font-family: sans-serif; color: #1d1d1d; background: #ffffff; margin: 0 auto; max-width: 1000px; padding: 16px 24px 48px; line-height: 1.45; }
+h1 { font-size: 1.7em; margin: 0.2em 0 0.1em; }
+h2 { font-size: 1.25em; margin-top: 1.8em; border-bottom: 2px solid #14213d; padding-bottom: 2px; }
+h3 { font-size: 1.05em; margin-top: 1.2em; }
+p.file { margin: 0; font-size: 0.95em; }
+code, .hash { font-family: monospace; font-size: 0.92em; word-break: break-all; }
+table { border-collapse: collapse; margin: 0.6em 0 1em; font-size: 0.95em; }
+th, td { border: 1px solid #b8b8b8; padding: 3px 9px; text-align: left; vertical-align: top; }
+th { background: #ece8db; }
+td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+td.pass { font-weight: bold; }
+td.fail { font-weight: bold; background: #f3d9c6; }
+tr.sub td { font-size: 0.9em; color: #333333; }
+.summary { font-size: 1.1em; font-weight: bold; padding: 6px 10px; border: 2px solid #14213d; display: inline-block; }
+.summary.fail { background: #f3d9c6; }
+figure { margin: 1em 0; }
+figure svg { max-width: 100%; height: auto; border: 1px solid #dddddd; }
+figcaption { font-size: 0.9em; color: #333333; }
+.caution { border: 3px solid #b55a1c; padding: 8px 14px; background: #fbf3ea; }
+.note { font-style: italic; }
+dl.kv { display: grid; grid-template-columns: max-content auto; gap: 2px 14px; }
+dl.kv dt { font-weight: bold; }
+dl.kv dd { margin: 0; }
+@media print {
+  body { max-width: none; padding: 0; font-size: 10.5pt; }
+  h2 { page-break-after: avoid; break-after: avoid; }
+  figure, table, .caution { page-break-inside: avoid; break-inside: avoid; }
+  figure svg { border: none; }
+  td.fail, .summary.fail, th, .caution { -webkit-print-color-adjust: exact; print-color-adjust: exact; }
+  @page { margin: 15mm; }
+}
+"#;
+
+/// An SVG from a plot function, made ready for inline use (the namespace
+/// declaration is implied inside HTML and dropped so the report holds no URL).
+fn inline_svg(svg: &str) -> String {
+    svg.replacen(" xmlns=\"http://www.w3.org/2000/svg\"", "", 1)
+}
+
+fn figure(out: &mut String, caption: &str, svg: Result<String, plot::PlotError>) {
+    match svg {
+        Ok(s) => {
+            out.push_str("<figure>\n");
+            out.push_str(&inline_svg(&s));
+            out.push_str(&format!(
+                "<figcaption>{}</figcaption>\n</figure>\n",
+                escape(caption)
+            ));
+        }
+        Err(e) => out.push_str(&format!(
+            "<p class=\"note\">{}: not drawn ({})</p>\n",
+            escape(caption),
+            escape(&e.to_string())
+        )),
+    }
+}
+
+fn table_open(out: &mut String, header: &[&str]) {
+    out.push_str("<table>\n<thead><tr>");
+    for h in header {
+        out.push_str(&format!("<th>{}</th>", escape(h)));
+    }
+    out.push_str("</tr></thead>\n<tbody>\n");
+}
+
+fn row(out: &mut String, cells: &[(&str, String)]) {
+    out.push_str("<tr>");
+    for (class, text) in cells {
+        if class.is_empty() {
+            out.push_str(&format!("<td>{}</td>", escape(text)));
+        } else {
+            out.push_str(&format!("<td class=\"{class}\">{}</td>", escape(text)));
+        }
+    }
+    out.push_str("</tr>\n");
+}
+
+fn table_close(out: &mut String) {
+    out.push_str("</tbody>\n</table>\n");
+}
+
+fn verdicts_section(out: &mut String, verdicts: &[Verdict]) {
+    out.push_str("<h2 id=\"verdicts\">Requirements</h2>\n");
+    if verdicts.is_empty() {
+        out.push_str("<p>The stage file states no requirements.</p>\n");
+        return;
+    }
+    let failed = verdicts.iter().filter(|v| !v.pass).count();
+    out.push_str(&format!(
+        "<p class=\"summary{}\">{}</p>\n",
+        if failed > 0 { " fail" } else { "" },
+        escape(&if failed == 0 {
+            format!("All {} requirements pass.", verdicts.len())
+        } else {
+            format!("{failed} of {} requirements FAIL.", verdicts.len())
+        })
+    ));
+    table_open(
+        out,
+        &["requirement", "line", "limit", "value", "margin", "verdict"],
+    );
+    for v in verdicts {
+        let value = match &v.not_measured {
+            Some(why) => format!("not measured: {why}"),
+            None => v.value_text.clone(),
+        };
+        row(
+            out,
+            &[
+                ("", v.requirement.clone()),
+                (
+                    "num",
+                    if v.line > 0 {
+                        v.line.to_string()
+                    } else {
+                        String::new()
+                    },
+                ),
+                ("num", v.limit_text.clone()),
+                ("num", value),
+                ("num", v.margin_text.clone()),
+                (
+                    if v.pass { "pass" } else { "fail" },
+                    if v.pass { "PASS".into() } else { "FAIL".into() },
+                ),
+            ],
+        );
+        for h in &v.harmonics {
+            out.push_str("<tr class=\"sub\">");
+            let cells = [
+                ("", format!("harmonic {} ({})", h.n, si(h.freq_hz, "Hz"))),
+                ("", String::new()),
+                (
+                    "num",
+                    h.allowed_dbc
+                        .map(|a| db(a, "dBc"))
+                        .unwrap_or_else(|| "no limit".into()),
+                ),
+                ("num", db(h.measured_dbc, "dBc")),
+                (
+                    "num",
+                    h.margin_db
+                        .map(|m| format!("{m:+.1} dB"))
+                        .unwrap_or_default(),
+                ),
+                (
+                    if h.pass { "" } else { "fail" },
+                    if h.pass { "ok".into() } else { "FAIL".into() },
+                ),
+            ];
+            for (class, text) in cells {
+                if class.is_empty() {
+                    out.push_str(&format!("<td>{}</td>", escape(&text)));
+                } else {
+                    out.push_str(&format!("<td class=\"{class}\">{}</td>", escape(&text)));
+                }
+            }
+            out.push_str("</tr>\n");
+        }
+    }
+    table_close(out);
+}
+
+fn headline_section(out: &mut String, m: &Metrics, sol: Option<&PeriodicSolution>) {
+    out.push_str("<h2 id=\"figures\">Headline figures</h2>\n");
+    if let Some(s) = sol {
+        out.push_str(&format!(
+            "<p>Periodic steady state at {}: {} harmonics, {} samples per period, {} iterations, residual {:.2e}.</p>\n",
+            escape(&si(s.freq, "Hz")),
+            s.harmonics,
+            s.samples_per_period,
+            s.info.iterations,
+            s.info.residual
+        ));
+    }
+    table_open(out, &["figure", "value"]);
+    if let Some(o) = &m.output {
+        row(
+            out,
+            &[
+                ("", format!("output power into {}", o.element)),
+                (
+                    "num",
+                    format!("{} ({})", si(o.p1_w, "W"), db(o.p1_dbm, "dBm")),
+                ),
+            ],
+        );
+    }
+    row(
+        out,
+        &[("", "supply power".into()), ("num", si(m.pdc_w, "W"))],
+    );
+    if let Some(e) = m.efficiency {
+        row(
+            out,
+            &[
+                ("", "collector efficiency".into()),
+                ("num", fixed(e * 100.0, 1, "%")),
+            ],
+        );
+    }
+    if let Some(e) = m.pae {
+        row(
+            out,
+            &[
+                ("", "power-added efficiency".into()),
+                ("num", fixed(e * 100.0, 1, "%")),
+            ],
+        );
+    }
+    if let Some(g) = m.gain_db {
+        row(out, &[("", "transducer gain".into()), ("num", db(g, "dB"))]);
+    }
+    if let Some(d) = &m.drive {
+        row(
+            out,
+            &[
+                ("", format!("drive power into {}", d.element)),
+                ("num", si(d.pin_w, "W")),
+            ],
+        );
+        if let Some(z) = d.z_in {
+            row(
+                out,
+                &[
+                    ("", "input impedance".into()),
+                    (
+                        "num",
+                        format!(
+                            "{} {} j{}",
+                            si(z.re, "Ohm"),
+                            if z.im < 0.0 { "-" } else { "+" },
+                            si(z.im.abs(), "Ohm")
+                        ),
+                    ),
+                ],
+            );
+        }
+        if let Some(v) = d.vswr {
+            row(out, &[("", "input VSWR".into()), ("num", fixed(v, 2, ""))]);
+        }
+    }
+    if let Some(o) = &m.output {
+        if let Some(t) = o.thd {
+            row(
+                out,
+                &[("", "THD".into()), ("num", fixed(t * 100.0, 2, "%"))],
+            );
+        }
+    }
+    table_close(out);
+    if let Some(o) = &m.output {
+        out.push_str(&format!("<h3>Harmonics at {}</h3>\n", escape(&o.element)));
+        table_open(out, &["n", "frequency", "power", "level"]);
+        for h in &o.harmonics {
+            row(
+                out,
+                &[
+                    ("num", h.n.to_string()),
+                    ("num", si(h.freq_hz, "Hz")),
+                    ("num", db(h.dbm, "dBm")),
+                    (
+                        "num",
+                        h.dbc.map(|d| db(d, "dBc")).unwrap_or_else(|| "—".into()),
+                    ),
+                ],
+            );
+        }
+        table_close(out);
+    }
+}
+
+fn stress_section(out: &mut String, m: &Metrics) {
+    if m.transistors.is_empty() && m.stress.is_empty() && m.notes.is_empty() {
+        return;
+    }
+    out.push_str("<h2 id=\"stress\">Transistors and component stress</h2>\n");
+    if !m.transistors.is_empty() {
+        table_open(
+            out,
+            &[
+                "transistor",
+                "conduction",
+                "vce peak",
+                "vce min",
+                "ic peak",
+                "dissipation",
+                "junction",
+            ],
+        );
+        for q in &m.transistors {
+            row(
+                out,
+                &[
+                    ("", q.element.clone()),
+                    ("num", fixed(q.conduction_deg, 0, "deg")),
+                    ("num", si(q.vce_peak_v, "V")),
+                    ("num", si(q.vce_min_v, "V")),
+                    ("num", si(q.ic_peak_a, "A")),
+                    ("num", si(q.dissipation_w, "W")),
+                    (
+                        "num",
+                        q.tj_k
+                            .map(|k| fixed(k - 273.15, 0, "degC"))
+                            .unwrap_or_else(|| "no thermal resistance".into()),
+                    ),
+                ],
+            );
+        }
+        table_close(out);
+    }
+    if !m.stress.is_empty() {
+        table_open(out, &["element", "quantity", "value", "rating", "used"]);
+        for r in &m.stress {
+            let (q, unit) = match r.quantity {
+                StressQuantity::PeakVoltage => ("peak voltage", "V"),
+                StressQuantity::RmsCurrent => ("RMS current", "A"),
+                StressQuantity::AveragePower => ("power", "W"),
+                StressQuantity::VcePeak => ("peak vce", "V"),
+                StressQuantity::IcPeak => ("peak ic", "A"),
+                StressQuantity::Dissipation => ("dissipation", "W"),
+                StressQuantity::JunctionTemp => ("junction temperature", "K"),
+            };
+            let show = |v: f64| {
+                if unit == "K" {
+                    fixed(v - 273.15, 0, "degC")
+                } else {
+                    si(v, unit)
+                }
+            };
+            let over = r.fraction.is_some_and(|f| f > 1.0);
+            row(
+                out,
+                &[
+                    ("", r.element.clone()),
+                    ("", q.to_string()),
+                    ("num", show(r.value)),
+                    (
+                        "num",
+                        r.rating.map(show).unwrap_or_else(|| "not rated".into()),
+                    ),
+                    (
+                        if over { "fail" } else { "num" },
+                        r.fraction
+                            .map(|f| fixed(f * 100.0, 0, "%"))
+                            .unwrap_or_default(),
+                    ),
+                ],
+            );
+        }
+        table_close(out);
+    }
+    for n in &m.notes {
+        out.push_str(&format!(
+            "<p class=\"note\">{} not measured: {}</p>\n",
+            escape(&n.figure),
+            escape(&n.reason)
+        ));
+    }
+}
+
+/// The whole report as one HTML document.
+pub fn stage_report(input: &ReportInput<'_>) -> String {
+    let mut out = String::with_capacity(64 * 1024);
+    let title = if input.title.is_empty() {
+        input.file.clone()
+    } else {
+        input.title.clone()
+    };
+    let mut plot_params = input.plot.clone();
+    if plot_params.source.is_empty() {
+        plot_params.source = input.file.clone();
+    }
+    out.push_str("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
+    out.push_str("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n");
+    out.push_str(&format!(
+        "<title>{} — stage report</title>\n",
+        escape(&title)
+    ));
+    out.push_str("<style>");
+    out.push_str(CSS);
+    out.push_str("</style>\n</head>\n<body>\n");
+
+    out.push_str(&format!("<h1>{}</h1>\n", escape(&title)));
+    out.push_str(&format!(
+        "<p class=\"file\">Stage file <code>{}</code>, SHA-256 <span class=\"hash\">{}</span></p>\n",
+        escape(&input.file),
+        escape(if input.file_sha256.is_empty() { "not given" } else { &input.file_sha256 })
+    ));
+
+    verdicts_section(&mut out, input.verdicts);
+
+    if let Some(m) = input.metrics {
+        headline_section(&mut out, m, input.solution);
+        if let Some(o) = &m.output {
+            out.push_str("<h2 id=\"spectrum\">Spectrum against the mask</h2>\n");
+            if input.masks.is_empty() {
+                figure(
+                    &mut out,
+                    "Output harmonics in dBc (no mask checked).",
+                    plot::spectrum_plot(&o.harmonics, None, &plot_params),
+                );
+            }
+            for mask in input.masks {
+                figure(
+                    &mut out,
+                    &format!("Output harmonics in dBc against mask {}.", mask.mask),
+                    plot::spectrum_plot(&o.harmonics, Some(mask), &plot_params),
+                );
+            }
+        }
+    }
+
+    let have_waves = (input.circuit.is_some() && input.solution.is_some())
+        || input.transient.is_some()
+        || input.ac.is_some();
+    if have_waves {
+        out.push_str("<h2 id=\"waveforms\">Waveforms</h2>\n");
+    }
+    if let (Some(c), Some(s)) = (input.circuit, input.solution) {
+        match plot::period_plots(c, s, &plot_params) {
+            Ok(list) => {
+                for (name, svg) in list {
+                    figure(
+                        &mut out,
+                        &format!("One steady-state period of {name}; shaded: conduction interval."),
+                        Ok(svg),
+                    );
+                }
+            }
+            Err(e) => figure(&mut out, "Steady-state period", Err(e)),
+        }
+    }
+    if let (Some(c), Some(t)) = (input.circuit, input.transient) {
+        let f = input
+            .solution
+            .map(|s| s.freq)
+            .or(input.metrics.map(|m| m.freq_hz))
+            .unwrap_or(0.0);
+        figure(
+            &mut out,
+            "Start-up transient of the output voltage with its per-period peak envelope.",
+            plot::startup_plot(c, t, f, &plot_params),
+        );
+    }
+    if let Some(a) = input.ac {
+        figure(
+            &mut out,
+            "AC magnitude and phase.",
+            plot::ac_plot(a.result, a.unknowns, a.scale, &plot_params),
+        );
+    }
+
+    if let Some(m) = input.metrics {
+        stress_section(&mut out, m);
+    }
+
+    if !input.studies.is_empty() {
+        out.push_str("<h2 id=\"studies\">Studies</h2>\n");
+        for s in input.studies {
+            out.push_str(&format!("<h3>{}</h3>\n", escape(&s.title)));
+            if !s.lines.is_empty() {
+                out.push_str("<dl class=\"kv\">\n");
+                for (k, v) in &s.lines {
+                    out.push_str(&format!("<dt>{}</dt><dd>{}</dd>\n", escape(k), escape(v)));
+                }
+                out.push_str("</dl>\n");
+            }
+            if let Some(t) = &s.table {
+                let header: Vec<&str> = t.header.iter().map(|h| h.as_str()).collect();
+                table_open(&mut out, &header);
+                for r in &t.rows {
+                    let cells: Vec<(&str, String)> = r.iter().map(|c| ("", c.clone())).collect();
+                    row(&mut out, &cells);
+                }
+                table_close(&mut out);
+            }
+            for f in &s.figures {
+                figure(&mut out, &f.caption, Ok(f.svg.clone()));
+            }
+        }
+    }
+
+    out.push_str("<h2 id=\"safety\">Safety</h2>\n");
+    out.push_str(&format!(
+        "<p class=\"caution\">{}</p>\n",
+        escape(SAFETY_CAUTION)
+    ));
+
+    out.push_str("<h2 id=\"provenance\">Provenance</h2>\n<dl class=\"kv\">\n");
+    let p = &input.provenance;
+    let kv = |out: &mut String, k: &str, v: &str| {
+        out.push_str(&format!("<dt>{}</dt><dd>{}</dd>\n", escape(k), escape(v)));
+    };
+    kv(
+        &mut out,
+        "tool",
+        if p.tool.is_empty() {
+            "not given"
+        } else {
+            &p.tool
+        },
+    );
+    kv(
+        &mut out,
+        "date",
+        if p.date.is_empty() {
+            "not given"
+        } else {
+            &p.date
+        },
+    );
+    kv(&mut out, "stage file", &input.file);
+    kv(&mut out, "SHA-256", &input.file_sha256);
+    for (k, v) in &p.options {
+        kv(&mut out, &format!("option {k}"), v);
+    }
+    out.push_str("</dl>\n</body>\n</html>\n");
+    out
+}

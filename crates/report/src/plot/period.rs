@@ -1,0 +1,349 @@
+//! One steady-state period of a transistor: collector–emitter voltage,
+//! collector current, base–emitter voltage and the output voltage in panels
+//! sharing the time axis, with the conduction interval shaded.
+//!
+//! The conduction interval follows the rule of
+//! `tankwave_measure::conduction_angle_deg`: a run of positive collector
+//! current counts if it rises above the threshold fraction of the peak, and
+//! its edges are its zero crossings (linear interpolation between samples).
+
+use tankwave_circuit::{Circuit, ElementId, ElementKind, ModelParams, NodeId};
+use tankwave_solve::PeriodicSolution;
+
+use super::canvas::{axis_desc, draw_panel, extent, padded, prefix_for, render, Line, Panel};
+use super::{check_finite, series_style, title_of, PlotError, PlotParams};
+use crate::format::{fixed, si};
+
+/// The conduction intervals of a current sampled uniformly over one period
+/// of length `period` (sample k at k·period/N), as (start, end) times within
+/// [0, period]; a run that wraps around the period end comes back as two
+/// intervals. A run of positive samples counts if some sample in it exceeds
+/// `threshold_fraction` × peak; its edges are the interpolated zero crossings.
+pub fn conduction_intervals(i: &[f64], period: f64, threshold_fraction: f64) -> Vec<(f64, f64)> {
+    let n = i.len();
+    if n == 0 || !(period.is_finite() && period > 0.0) {
+        return Vec::new();
+    }
+    let peak = i
+        .iter()
+        .copied()
+        .filter(|v| v.is_finite())
+        .fold(f64::NEG_INFINITY, f64::max);
+    if !(peak.is_finite() && peak > 0.0) {
+        return Vec::new();
+    }
+    let frac = if threshold_fraction.is_finite() {
+        threshold_fraction.clamp(0.0, 1.0)
+    } else {
+        0.0
+    };
+    let thr = frac * peak;
+    let nn = n as isize;
+    let at = |k: isize| i.get(k.rem_euclid(nn) as usize).copied().unwrap_or(0.0);
+    if (0..nn).all(|k| at(k) > 0.0) {
+        return vec![(0.0, period)];
+    }
+    let dt = period / n as f64;
+    // Start just after a non-positive sample so no run wraps in the scan.
+    let start = (0..nn).find(|&k| at(k) <= 0.0).unwrap_or(0) + 1;
+    let mut out = Vec::new();
+    let mut k = 0;
+    while k < nn {
+        if at(start + k) <= 0.0 {
+            k += 1;
+            continue;
+        }
+        let first = start + k;
+        let mut hot = false;
+        while k < nn && at(start + k) > 0.0 {
+            hot |= at(start + k) > thr;
+            k += 1;
+        }
+        let last = start + k - 1;
+        if !hot {
+            continue;
+        }
+        // Edges as in the measure crate: extrapolate the first (last) two
+        // samples of the run to zero where the run rises (falls) inside;
+        // otherwise interpolate to the neighbouring non-positive sample.
+        // Clipped currents (exactly zero outside the pulse) keep their edges.
+        let long = last > first;
+        let rise = if long && at(first + 1) > at(first) {
+            let tz = first as f64 - at(first) / (at(first + 1) - at(first));
+            if tz.is_finite() {
+                tz.clamp((first - 1) as f64, first as f64)
+            } else {
+                first as f64 - 0.5
+            }
+        } else {
+            (first - 1) as f64 + crossing(at(first - 1), at(first))
+        };
+        let fall = if long && at(last - 1) > at(last) {
+            let tz = last as f64 + at(last) / (at(last - 1) - at(last));
+            if tz.is_finite() {
+                tz.clamp(last as f64, (last + 1) as f64)
+            } else {
+                last as f64 + 0.5
+            }
+        } else {
+            last as f64 + crossing(at(last), at(last + 1))
+        };
+        let (t0, t1) = (rise * dt, fall * dt);
+        // bring into [0, period), splitting at the period end
+        let shift = (t0 / period).floor() * period;
+        let (t0, t1) = (t0 - shift, t1 - shift);
+        if t1 <= period {
+            out.push((t0, t1));
+        } else {
+            out.push((t0, period));
+            out.push((0.0, (t1 - period).min(period)));
+        }
+    }
+    out.sort_by(|a, b| a.0.total_cmp(&b.0));
+    out
+}
+
+/// Fraction of the way from a to b where the line through them crosses zero.
+fn crossing(a: f64, b: f64) -> f64 {
+    let f = a / (a - b);
+    if f.is_finite() {
+        f.clamp(0.0, 1.0)
+    } else {
+        0.5
+    }
+}
+
+fn node_wave(sol: &PeriodicSolution, node: NodeId, what: &str) -> Result<Vec<f64>, PlotError> {
+    let n = sol.samples_per_period;
+    match node {
+        None => Ok(vec![0.0; n]),
+        Some(k) => {
+            let w = sol.x.get(k).ok_or_else(|| PlotError::Shape {
+                what: format!("{what}: node voltages in the solution"),
+                expected: k + 1,
+                found: sol.x.len(),
+            })?;
+            if w.len() != n {
+                return Err(PlotError::Shape {
+                    what: format!("{what}: samples of unknown {k}"),
+                    expected: n,
+                    found: w.len(),
+                });
+            }
+            Ok(w.clone())
+        }
+    }
+}
+
+fn diff(a: &[f64], b: &[f64], s: f64) -> Vec<f64> {
+    a.iter().zip(b).map(|(x, y)| s * (x - y)).collect()
+}
+
+/// The output voltage over the period (across the output element's first
+/// two terminals), if the circuit names an output element.
+fn output_wave(
+    circuit: &Circuit,
+    sol: &PeriodicSolution,
+) -> Result<Option<(String, Vec<f64>)>, PlotError> {
+    let Some(id) = circuit.output else {
+        return Ok(None);
+    };
+    let Some(el) = circuit.elements.get(id) else {
+        return Ok(None);
+    };
+    let t = el.kind.terminals();
+    match (t.first(), t.get(1)) {
+        (Some(a), Some(b)) => {
+            let va = node_wave(sol, *a, "output voltage")?;
+            let vb = node_wave(sol, *b, "output voltage")?;
+            Ok(Some((el.name.clone(), diff(&va, &vb, 1.0))))
+        }
+        _ => Ok(None),
+    }
+}
+
+/// One steady-state period of transistor `element` (an index into
+/// `circuit.elements`): panels of v_ce, i_c, v_be and the output voltage
+/// sharing the time axis, the conduction interval shaded in every panel.
+/// Signs are flipped for pnp so that normal operation reads positive.
+pub fn period_plot(
+    circuit: &Circuit,
+    sol: &PeriodicSolution,
+    element: ElementId,
+    p: &PlotParams,
+) -> Result<String, PlotError> {
+    let el = circuit.elements.get(element).ok_or(PlotError::NoElement {
+        index: element,
+        count: circuit.elements.len(),
+    })?;
+    let ElementKind::Bjt { c, b, e, model, .. } = &el.kind else {
+        return Err(PlotError::NotTransistor {
+            element: el.name.clone(),
+            kind: el.kind.keyword().to_string(),
+        });
+    };
+    let n = sol.samples_per_period;
+    if n < 2 {
+        return Err(PlotError::Empty {
+            what: format!("period of {}", el.name),
+        });
+    }
+    if !(sol.freq.is_finite() && sol.freq > 0.0) {
+        return Err(PlotError::BadParameter {
+            what: "fundamental frequency".into(),
+            why: format!("{} Hz is not a positive number", sol.freq),
+        });
+    }
+    let pnp = matches!(circuit.models.get(*model).map(|m| &m.params), Some(ModelParams::Bjt(bp)) if bp.pnp);
+    let s = if pnp { -1.0 } else { 1.0 };
+    let vc = node_wave(sol, *c, &el.name)?;
+    let vb = node_wave(sol, *b, &el.name)?;
+    let ve = node_wave(sol, *e, &el.name)?;
+    let vce = diff(&vc, &ve, s);
+    let vbe = diff(&vb, &ve, s);
+    let ic_raw = sol
+        .terminal_currents
+        .get(element)
+        .and_then(|t| t.first())
+        .ok_or_else(|| PlotError::Shape {
+            what: format!("collector current of {}", el.name),
+            expected: 1,
+            found: 0,
+        })?;
+    if ic_raw.len() != n {
+        return Err(PlotError::Shape {
+            what: format!("collector current samples of {}", el.name),
+            expected: n,
+            found: ic_raw.len(),
+        });
+    }
+    let ic: Vec<f64> = ic_raw.iter().map(|v| s * v).collect();
+    check_finite(&format!("v_ce of {}", el.name), &vce)?;
+    check_finite(&format!("v_be of {}", el.name), &vbe)?;
+    check_finite(&format!("i_c of {}", el.name), &ic)?;
+    let out = output_wave(circuit, sol)?;
+    if let Some((name, v)) = &out {
+        check_finite(&format!("voltage across {name}"), v)?;
+    }
+
+    let period = 1.0 / sol.freq;
+    let (tf, tp) = prefix_for(period, "s");
+    // close the period: sample N is sample 0 again
+    let times: Vec<f64> = (0..=n).map(|k| k as f64 * period / n as f64 / tf).collect();
+    let closed = |w: &[f64]| -> Vec<f64> {
+        let mut v = w.to_vec();
+        v.push(w.first().copied().unwrap_or(0.0));
+        v
+    };
+    let shades: Vec<(f64, f64)> = conduction_intervals(&ic, period, p.conduction_threshold)
+        .into_iter()
+        .map(|(a, b)| (a / tf, b / tf))
+        .collect();
+    let angle = tankwave_measure::conduction_angle_deg(&ic, p.conduction_threshold);
+
+    struct Q {
+        name: String,
+        unit: &'static str,
+        wave: Vec<f64>,
+    }
+    let mut qs = vec![
+        Q {
+            name: "v_ce".into(),
+            unit: "V",
+            wave: closed(&vce),
+        },
+        Q {
+            name: "i_c".into(),
+            unit: "A",
+            wave: closed(&ic),
+        },
+        Q {
+            name: "v_be".into(),
+            unit: "V",
+            wave: closed(&vbe),
+        },
+    ];
+    if let Some((name, v)) = &out {
+        qs.push(Q {
+            name: format!("v({name})"),
+            unit: "V",
+            wave: closed(v),
+        });
+    }
+
+    let width = p.width.max(320);
+    let panel_h = 190;
+    let band = 64;
+    let height = band + panel_h * qs.len() as u32 + 24;
+    let title = title_of(&format!("One steady-state period of {}", el.name), p);
+    let subtitle = format!(
+        "{} at {}; shaded: conduction interval ({}; i_c above {} of its peak {})",
+        if pnp { "pnp" } else { "npn" },
+        si(sol.freq, "Hz"),
+        fixed(angle, 0, "deg"),
+        fixed(p.conduction_threshold * 100.0, 0, "%"),
+        si(ic.iter().copied().fold(f64::NEG_INFINITY, f64::max), "A"),
+    );
+    let desc = format!(
+        "Panels sharing the time axis: {} over one period of {}.",
+        qs.iter()
+            .map(|q| q.name.as_str())
+            .collect::<Vec<_>>()
+            .join(", "),
+        si(period, "s")
+    );
+    let count = qs.len();
+    render(width, height, &title, &desc, |cv| {
+        let rest = cv.header(&title, &subtitle, band)?;
+        let panels = rest.split_evenly((count, 1));
+        let x_range = 0.0..period / tf;
+        for (k, (q, area)) in qs.iter().zip(panels.iter()).enumerate() {
+            let max_abs = q.wave.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+            let (f, pre) = prefix_for(max_abs, q.unit);
+            let pts: Vec<(f64, f64)> = times
+                .iter()
+                .zip(&q.wave)
+                .map(|(t, v)| (*t, v / f))
+                .collect();
+            let (lo, hi) = extent(pts.iter().map(|p| &p.1)).unwrap_or((0.0, 1.0));
+            let x_desc = if k + 1 == count {
+                axis_desc("time", tp, "s")
+            } else {
+                String::new()
+            };
+            let mut panel = Panel::new(
+                x_range.clone(),
+                padded(lo, hi, 0.08),
+                x_desc,
+                axis_desc(&q.name, pre, q.unit),
+            );
+            panel.shades = shades.clone();
+            let mut style = series_style(k);
+            style.dash = "none";
+            panel.lines.push(Line {
+                label: q.name.clone(),
+                style,
+                points: &pts,
+                markers: 0,
+            });
+            draw_panel(cv, area, &panel)?;
+        }
+        Ok(())
+    })
+}
+
+/// [`period_plot`] for every bipolar transistor of the circuit, in element
+/// order: (element name, SVG).
+pub fn period_plots(
+    circuit: &Circuit,
+    sol: &PeriodicSolution,
+    p: &PlotParams,
+) -> Result<Vec<(String, String)>, PlotError> {
+    circuit
+        .elements
+        .iter()
+        .enumerate()
+        .filter(|(_, e)| matches!(e.kind, ElementKind::Bjt { .. }))
+        .map(|(id, e)| Ok((e.name.clone(), period_plot(circuit, sol, id, p)?)))
+        .collect()
+}
