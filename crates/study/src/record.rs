@@ -5,7 +5,8 @@
 //! one JSON object per line:
 //!
 //! * line 1, the header: `{"schema":"tankwave-study-records","version":1,
-//!   "plan":"<16 hex digits>","variants":N,"chain":C,"shard":{"index":i,"count":n}|null}`;
+//!   "plan":"<16 hex digits>","variants":N,"chain":C,"shard":{"index":i,"count":n}|null,
+//!   "input":"<caller's fingerprint>"}` (`input` optional);
 //! * every further line, one record: `{"index":i,"values":{…},"metrics":{…},
 //!   "verdicts":{"<requirement>":{"pass":true,"margin":0.12}},"error":"…"}`
 //!   (`error` present only for a failed variant, whose metrics and verdicts are empty).
@@ -68,6 +69,11 @@ pub struct Header {
     pub chain: u64,
     /// The shard these records belong to (`None` = all).
     pub shard: Option<Shard>,
+    /// The caller's fingerprint of everything else that shapes the results
+    /// (e.g. a hash of the stage file and the solver options); compared on
+    /// resume and merge. Absent in files that did not set it.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub input: Option<String>,
 }
 
 impl Header {
@@ -80,7 +86,14 @@ impl Header {
             variants: plan.len(),
             chain,
             shard,
+            input: None,
         }
+    }
+
+    /// The same header with the caller's input fingerprint set.
+    pub fn with_input(mut self, input: impl Into<String>) -> Header {
+        self.input = Some(input.into());
+        self
     }
 
     /// Check that `found` (read from `file`) describes the same study;
@@ -116,6 +129,13 @@ impl Header {
         }
         if found.chain != self.chain {
             return mismatch("chain", self.chain.to_string(), found.chain.to_string());
+        }
+        if found.input != self.input {
+            return mismatch(
+                "input",
+                format!("{:?}", self.input),
+                format!("{:?}", found.input),
+            );
         }
         if with_shard && found.shard != self.shard {
             return mismatch(

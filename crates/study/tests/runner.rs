@@ -259,6 +259,13 @@ fn killed_and_resumed_study_has_every_variant_exactly_once() {
             // Same figures as an uninterrupted run (warm starts rebuilt).
             assert_eq!(recs, full_recs, "chain {chain} cut {cut}");
         }
+        // A header with the caller's input fingerprint refuses a file made from other input.
+        std::fs::write(&path, &full).unwrap();
+        let edited = Header::new(&plan, chain, None).with_input("stage-hash-2");
+        assert!(matches!(
+            resume(&path, &edited),
+            Err(StudyError::HeaderMismatch { field: "input", .. })
+        ));
         // Resuming with another chain length is refused.
         std::fs::write(&path, &full).unwrap();
         let other = Header::new(&plan, chain + 1, None);
