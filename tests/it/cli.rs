@@ -1,4 +1,4 @@
-//! Integration tests of the `tankwave` binary: exit codes, outputs, files.
+//! The `tankwave` binary end to end: exit codes, outputs, files.
 //! Data lives under tests/data/; demo stages under netlists/.
 
 use std::path::{Path, PathBuf};

@@ -1,0 +1,6 @@
+//! The integration-test binary: the `tankwave` command end to end (`cli`),
+//! and the convergence sweep over the class-C demo (`convergence`).
+//! Data lives under tests/data/.
+
+mod cli;
+mod convergence;
