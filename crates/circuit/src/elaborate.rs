@@ -20,7 +20,6 @@ use std::sync::Arc;
 use tankwave_netlist::ast::*;
 use tankwave_netlist::expr::{self, EvalError};
 use tankwave_netlist::suggest::did_you_mean;
-use tankwave_netlist::units::to_si;
 use tankwave_netlist::{Diagnostic, Parsed, Severity, Slot, SourceMap, Span};
 
 /// A successfully elaborated stage.
@@ -270,11 +269,14 @@ impl<'a> Cx<'a> {
                     );
                     return None;
                 }
-                None => {
-                    if let (Some(bu), ExprKind::Number { value, .. }) = (slot.bare_unit(), &e.kind)
-                    {
-                        return Some(to_si(*value, Some(bu)));
-                    }
+                None if slot.needs_unit() => {
+                    self.error(
+                        "unit-mismatch",
+                        e.span,
+                        format!("{what} needs {}, got a plain number", slot.describe()),
+                    )
+                    .help = Some("write e.g. 25degC or 298.15K".into());
+                    return None;
                 }
                 _ => {}
             }

@@ -38,6 +38,8 @@ pub enum Unit {
     Dbc,
     /// `degC` (converted to kelvin).
     DegC,
+    /// `K` (kelvin).
+    Kelvin,
     /// `deg` (an angle in degrees, kept in degrees).
     Deg,
 }
@@ -59,6 +61,7 @@ impl Unit {
             Unit::Dbm => "dBm",
             Unit::Dbc => "dBc",
             Unit::DegC => "degC",
+            Unit::Kelvin => "K",
             Unit::Deg => "deg",
         }
     }
@@ -100,6 +103,7 @@ const UNITS: &[(&str, Unit)] = &[
     ("dBm", Unit::Dbm),
     ("dBc", Unit::Dbc),
     ("degC", Unit::DegC),
+    ("K", Unit::Kelvin),
     ("deg", Unit::Deg),
 ];
 
@@ -179,7 +183,7 @@ pub enum Slot {
     Fraction,
     /// dB (dB or dBc accepted).
     Db,
-    /// degC (a bare number is degC too); stored in kelvin.
+    /// degC or K (a plain number is refused as ambiguous); stored in kelvin.
     Temperature,
     /// deg (a bare number is degrees).
     Angle,
@@ -204,7 +208,7 @@ impl Slot {
             Slot::Time => unit == Second,
             Slot::Fraction => unit == Percent,
             Slot::Db => matches!(unit, Db | Dbc),
-            Slot::Temperature => unit == DegC,
+            Slot::Temperature => matches!(unit, DegC | Kelvin),
             Slot::Angle => unit == Deg,
             Slot::Number => unit == Percent,
             Slot::Any => true,
@@ -223,18 +227,16 @@ impl Slot {
             Slot::Time => "s",
             Slot::Fraction => "% or a plain fraction",
             Slot::Db => "dB",
-            Slot::Temperature => "degC",
+            Slot::Temperature => "degC or K",
             Slot::Angle => "deg",
             Slot::Number => "a plain number",
             Slot::Any => "any unit",
         }
     }
-    /// The unit a bare literal (no unit symbol) in this slot is read in.
-    pub fn bare_unit(self) -> Option<Unit> {
-        match self {
-            Slot::Temperature => Some(Unit::DegC),
-            _ => None,
-        }
+    /// True if a literal here must carry a unit (temperatures: `25degC` or `298.15K`,
+    /// never a plain number, which could be read either way).
+    pub fn needs_unit(self) -> bool {
+        self == Slot::Temperature
     }
 }
 
@@ -299,5 +301,7 @@ mod tests {
         assert!(Slot::Power.accepts(Unit::Dbm));
         assert!(Slot::Db.accepts(Unit::Dbc));
         assert!(!Slot::Db.accepts(Unit::Dbm));
+        assert!(Slot::Temperature.accepts(Unit::Kelvin) && Slot::Temperature.needs_unit());
+        assert_eq!(split_suffix("K"), Ok((0, Some(Unit::Kelvin))));
     }
 }
