@@ -40,7 +40,8 @@
 //!   per period, `N` the smallest power of two ≥ `oversample·K` (default
 //!   4·K, at least 8), so products up to the fourth order of the band-limited
 //!   waveform do not alias onto the kept harmonics. The nonlinear devices are
-//!   evaluated at every sample without limiting; `i`, `q`, `G`, `C` are
+//!   evaluated at every sample (with per-sample limiting while iterating, see
+//!   below; the converged iterate has none); `i`, `q`, `G`, `C` are
 //!   transformed with a real FFT. Harmonics above `K` (and the Nyquist bin of
 //!   the `N`-point transform) are dropped.
 //! * **Real unknowns.** Per port: `X₀` (real), then `Re X_k`, `Im X_k` for
@@ -61,8 +62,13 @@
 //!    at [`BalanceParams::first_step`], grown 1.5× after a success and halved
 //!    after a failure, down to [`BalanceParams::min_step`]; each level starts
 //!    from a linear extrapolation of the two previous levels.
-//! 3. Damping by backtracking line search on the scaled residual norm
-//!    (halving the step up to [`BalanceParams::max_halvings`] times).
+//! 3. Damping in the time domain: every sample of the nonlinear evaluation
+//!    keeps its own junction-limiting state ([`BalanceParams::limit`]), so a
+//!    Newton step that would throw a junction far into forward bias is cut
+//!    back sample by sample exactly as in a DC Newton iteration (the device
+//!    then stamps its linearisation about the limited voltage); while no
+//!    junction is limited, a backtracking line search on the scaled residual
+//!    norm halves the step up to [`BalanceParams::max_halvings`] times.
 //!
 //! # Convergence test
 //! Per port row `r` and harmonic `k`: `|R_rk| ≤ reltol·s_r + abs`, where `s_r`
@@ -141,6 +147,10 @@ pub struct BalanceParams {
     pub gmin: f64,
     /// Line-search halvings per Newton step before the level fails (default 12).
     pub max_halvings: usize,
+    /// Junction limiting at every sample of the nonlinear evaluation (default
+    /// true): each sample keeps its own limiting state, as a DC Newton would,
+    /// and convergence needs no sample limited.
+    pub limit: bool,
 }
 
 impl Default for BalanceParams {
@@ -159,6 +169,7 @@ impl Default for BalanceParams {
             reduce: true,
             gmin: 1e-12,
             max_halvings: 12,
+            limit: true,
         }
     }
 }
@@ -176,7 +187,8 @@ pub struct BalanceInfo {
     pub ports: usize,
     /// Whether the linear network was reduced to the ports.
     pub reduced: bool,
-    /// Drive levels solved by continuation (0: converged at full drive directly).
+    /// Drive levels solved by continuation, over every K tried (0: every K
+    /// converged at full drive directly).
     pub continuation_steps: usize,
     /// Line-search step halvings in total.
     pub line_search_cuts: usize,
@@ -220,6 +232,7 @@ pub fn balance(
     let mut tried = Vec::new();
     let mut total_iter = 0usize;
     let mut cuts = 0usize;
+    let mut levels = 0usize;
     let mut best: Option<Solved> = None;
     let mut warm: Option<Vec<Vec<C64>>> = None;
     loop {
@@ -242,7 +255,12 @@ pub fn balance(
                     // A raised K failed: keep the last converged solution.
                     Some(b) => {
                         tried.pop();
-                        return finish(circuit, devices, params, b, tried, total_iter, cuts);
+                        let t = Totals {
+                            iterations: total_iter,
+                            cuts,
+                            levels,
+                        };
+                        return finish(circuit, devices, params, b, tried, t);
                     }
                     None => return Err(e),
                 }
@@ -250,6 +268,7 @@ pub fn balance(
         };
         total_iter += solved.iterations;
         cuts += solved.cuts;
+        levels += solved.continuation_steps;
         let more = solved.truncation > 1.0 && bp.raise_harmonics && k < bp.max_harmonics;
         warm = Some(solved.x_full.clone());
         best = Some(solved);
@@ -259,7 +278,14 @@ pub fn balance(
         k = (2 * k).min(bp.max_harmonics);
     }
     match best {
-        Some(b) => finish(circuit, devices, params, b, tried, total_iter, cuts),
+        Some(b) => {
+            let t = Totals {
+                iterations: total_iter,
+                cuts,
+                levels,
+            };
+            finish(circuit, devices, params, b, tried, t)
+        }
         None => Err(SolveError::BadParams(
             "harmonic balance: nothing solved".into(),
         )),
@@ -292,9 +318,8 @@ fn check_params(bp: &BalanceParams) -> Result<(), SolveError> {
             bp.max_harmonics
         ));
     }
-    if !(bp.truncation_rel >= 0.0 && bp.truncation_abs >= 0.0)
-        || !(bp.truncation_rel.is_finite() && bp.truncation_abs.is_finite())
-    {
+    let finite_nonneg = |v: f64| v.is_finite() && v >= 0.0;
+    if !(finite_nonneg(bp.truncation_rel) && finite_nonneg(bp.truncation_abs)) {
         return bad("truncation limits must be finite and ≥ 0".into());
     }
     if !(bp.gmin.is_finite() && bp.gmin >= 0.0) {
@@ -536,6 +561,7 @@ fn linear_network(
     let mut wave = vec![vec![0.0; ns]; n];
     let mut worst = (0.0f64, 0usize, 0.0f64);
     let mut peak = vec![0.0f64; n];
+    #[allow(clippy::needless_range_loop)] // fills `wave[row][s]` for every row
     for s in 0..ns {
         let t = t_start + s as f64 * period / ns as f64;
         st.clear();
@@ -610,7 +636,8 @@ fn complex_lu(m: Mat<C64>) -> Result<faer::linalg::solvers::PartialPivLu<C64>, u
     let lu = m.partial_piv_lu();
     let u = lu.U();
     for k in 0..n {
-        if !(u[(k, k)].norm() > PIVOT_FLOOR * amax) {
+        let pivot = u[(k, k)].norm();
+        if !pivot.is_finite() || pivot <= PIVOT_FLOOR * amax {
             return Err(k);
         }
     }
@@ -795,6 +822,11 @@ struct Problem<'a> {
     /// Absolute update tolerance of each port unknown.
     var_abs: Vec<f64>,
     max_halvings: usize,
+    /// Junction limiting at every sample.
+    limit: bool,
+    /// Limiting state of the devices at every sample (`N × state_len`),
+    /// from the last converged solve.
+    states: Vec<f64>,
 }
 
 /// Why a Newton solve at one drive level stopped.
@@ -881,6 +913,8 @@ impl<'a> Problem<'a> {
             row_abs,
             var_abs,
             max_halvings: params.balance.max_halvings,
+            limit: params.balance.limit,
+            states: devices.initial_state().repeat(nfft),
         }
     }
 
@@ -894,7 +928,7 @@ impl<'a> Problem<'a> {
     }
 
     /// Evaluate the nonlinear devices over one period at port harmonics `x[k·p + r]`.
-    fn eval_nl(&mut self, x: &[C64]) -> Result<NlEval, Fail> {
+    fn eval_nl(&mut self, x: &[C64], states: &mut [f64]) -> Result<(NlEval, bool), Fail> {
         let p = self.p();
         let kmax = self.kmax;
         let ns = self.fft.n;
@@ -913,7 +947,8 @@ impl<'a> Problem<'a> {
         let mut gt = vec![vec![0.0; ns]; p * p];
         let mut ct = vec![vec![0.0; ns]; p * p];
         let mut xs = vec![0.0; n];
-        let mut state = self.devices.initial_state();
+        let sl = self.devices.state_len;
+        let mut limited = false;
         let mut st = PortStamp {
             port_of: &self.port_of,
             p,
@@ -932,11 +967,14 @@ impl<'a> Problem<'a> {
                 dc_scale: 1.0,
                 wave_scale: 1.0,
                 gmin: self.gmin,
-                limit: false,
+                limit: self.limit,
             };
             st.clear();
-            self.devices
-                .eval_all(&xs, &ctx, &mut state, &mut st, Filter::Nonlinear);
+            let state = states.get_mut(s * sl..(s + 1) * sl).unwrap_or(&mut []);
+            let info = self
+                .devices
+                .eval_all(&xs, &ctx, state, &mut st, Filter::Nonlinear);
+            limited |= info.limited;
             for r in 0..p {
                 it[r][s] = st.i[r];
                 qt[r][s] = st.q[r];
@@ -972,29 +1010,29 @@ impl<'a> Problem<'a> {
         let mut c2 = vec![ZERO; 2 * kmax + 1];
         for r in 0..p {
             self.fft.forward(&it[r], &mut c1);
-            for k in 0..=kmax {
-                ev.i[k][r] = c1[k];
+            for (dst, v) in ev.i.iter_mut().zip(&c1) {
+                dst[r] = *v;
             }
             self.fft.forward(&qt[r], &mut c1);
-            for k in 0..=kmax {
-                ev.q[k][r] = c1[k];
+            for (dst, v) in ev.q.iter_mut().zip(&c1) {
+                dst[r] = *v;
             }
         }
         for e in 0..p * p {
             if gt[e].iter().any(|v| *v != 0.0) {
                 self.fft.forward(&gt[e], &mut c2);
-                for m in 0..=2 * kmax {
-                    ev.g[m][e] = c2[m];
+                for (dst, v) in ev.g.iter_mut().zip(&c2) {
+                    dst[e] = *v;
                 }
             }
             if ct[e].iter().any(|v| *v != 0.0) {
                 self.fft.forward(&ct[e], &mut c2);
-                for m in 0..=2 * kmax {
-                    ev.c[m][e] = c2[m];
+                for (dst, v) in ev.c.iter_mut().zip(&c2) {
+                    dst[e] = *v;
                 }
             }
         }
-        Ok(ev)
+        Ok((ev, limited))
     }
 
     /// Residual `R[k·p + r]` at drive `s`, and the per-row scale of its terms.
@@ -1039,7 +1077,7 @@ impl<'a> Problem<'a> {
         for (e, v) in res.iter().enumerate() {
             let r = e % p;
             let ratio = v.norm() / tol[r];
-            if !(ratio <= w.0) {
+            if ratio > w.0 || ratio.is_nan() {
                 w = (ratio, (r, e / p), v.norm());
             }
         }
@@ -1125,7 +1163,9 @@ impl<'a> Problem<'a> {
             Fail::Escaped { .. } => Fail::Escaped { iterations: it },
             other => other,
         };
-        let mut ev = self.eval_nl(x).map_err(|f| with_iter(f, 0))?;
+        // Limiting state of every sample, committed only on convergence.
+        let mut states = self.states.clone();
+        let (mut ev, mut limited) = self.eval_nl(x, &mut states).map_err(|f| with_iter(f, 0))?;
         let (mut res, mut scale) = self.residual(x, &ev, s);
         let mut update_ok = false;
         let mut cuts = 0usize;
@@ -1141,7 +1181,8 @@ impl<'a> Problem<'a> {
                 });
             }
             last = worst;
-            if update_ok && worst.0 <= 1.0 {
+            if update_ok && !limited && worst.0 <= 1.0 {
+                self.states = states;
                 return Ok(Converged {
                     iterations: it,
                     ratio: worst.0,
@@ -1185,23 +1226,26 @@ impl<'a> Problem<'a> {
                     }
                 })
                 .collect();
-            // Line search on the scaled residual norm (weights fixed at this iterate).
+            // Line search on the scaled residual norm (weights fixed at this
+            // iterate). While a junction is limited the residual is a
+            // linearisation, not comparable across iterates: take the full step.
             let merit0 = self.merit(&res, &tol);
             let mut alpha = 1.0f64;
             let mut halvings = 0usize;
-            let (xt, evt, rest, scalet) = loop {
+            let (xt, st_t, evt, lim_t, rest, scalet) = loop {
                 let xt: Vec<C64> = x.iter().zip(&step).map(|(a, d)| a + d * alpha).collect();
-                let attempt = self.eval_nl(&xt).map(|evt| {
-                    let (rt, st) = self.residual(&xt, &evt, s);
-                    (evt, rt, st)
-                });
-                if let Ok((evt, rt, st)) = attempt {
-                    let mt = self.merit(&rt, &tol);
-                    if mt.is_finite() && (worst.0 <= 1.0 || mt < merit0) {
-                        break (xt, evt, rt, st);
+                let mut st_t = states.clone();
+                match self.eval_nl(&xt, &mut st_t) {
+                    Ok((evt, lim_t)) => {
+                        let (rt, sct) = self.residual(&xt, &evt, s);
+                        let mt = self.merit(&rt, &tol);
+                        let take = limited || lim_t || worst.0 <= 1.0 || mt < merit0;
+                        if mt.is_finite() && take {
+                            break (xt, st_t, evt, lim_t, rt, sct);
+                        }
                     }
-                } else if let Err(Fail::Escaped { .. }) = attempt {
-                    return Err(Fail::Escaped { iterations: it });
+                    Err(Fail::Escaped { .. }) => return Err(Fail::Escaped { iterations: it }),
+                    Err(_) => {}
                 }
                 halvings += 1;
                 cuts += 1;
@@ -1231,7 +1275,9 @@ impl<'a> Problem<'a> {
                 }
             }
             x.copy_from_slice(&xt);
+            states = st_t;
             ev = evt;
+            limited = lim_t;
             res = rest;
             scale = scalet;
         }
@@ -1600,6 +1646,13 @@ impl Stamp for IqStamp {
     fn add_c(&mut self, _row: Idx, _col: Idx, _v: f64) {}
 }
 
+/// Work summed over every K tried.
+struct Totals {
+    iterations: usize,
+    cuts: usize,
+    levels: usize,
+}
+
 /// Build the [`PeriodicSolution`] from a converged solve.
 fn finish(
     circuit: &Circuit,
@@ -1607,8 +1660,7 @@ fn finish(
     params: &SteadyParams,
     sol: Solved,
     tried: Vec<usize>,
-    iterations: usize,
-    cuts: usize,
+    totals: Totals,
 ) -> Result<PeriodicSolution, SolveError> {
     let n = devices.n_unknowns;
     let kmax = sol.kmax;
@@ -1620,8 +1672,8 @@ fn finish(
     let mut coef = vec![ZERO; kmax + 1];
     let mut x = vec![vec![0.0; nout]; n];
     for (u, xu) in x.iter_mut().enumerate() {
-        for k in 0..=kmax {
-            coef[k] = sol.x_full[k][u];
+        for (c, row) in coef.iter_mut().zip(&sol.x_full) {
+            *c = row[u];
         }
         out_fft.inverse(&coef, xu);
     }
@@ -1643,7 +1695,7 @@ fn finish(
         info: SteadyInfo {
             method: SteadyMethod::Balance,
             fell_back_from: None,
-            iterations,
+            iterations: totals.iterations,
             residual: sol.ratio,
             system_size: sol.system_size,
             balance: Some(BalanceInfo {
@@ -1652,8 +1704,8 @@ fn finish(
                 fft_size: sol.nfft,
                 ports: sol.ports,
                 reduced: sol.reduced,
-                continuation_steps: sol.continuation_steps,
-                line_search_cuts: cuts,
+                continuation_steps: totals.levels,
+                line_search_cuts: totals.cuts,
                 truncation: sol.truncation,
             }),
         },
@@ -1680,8 +1732,8 @@ fn currents(
     let mut coef = vec![ZERO; kmax + 1];
     let mut xt = vec![vec![0.0; ns]; n];
     for (u, xu) in xt.iter_mut().enumerate() {
-        for k in 0..=kmax {
-            coef[k] = sol.x_full[k][u];
+        for (c, row) in coef.iter_mut().zip(&sol.x_full) {
+            *c = row[u];
         }
         fft.inverse(&coef, xu);
     }
@@ -1752,13 +1804,15 @@ fn currents(
         let grounded: Vec<usize> = (0..terms.len()).filter(|&j| terms[j].is_none()).collect();
         if grounded.len() == 1 {
             let g = grounded[0];
-            for s in 0..nout {
-                let sum: f64 = (0..terms.len())
-                    .filter(|&j| j != g)
-                    .map(|j| cur[j][s])
-                    .sum();
-                cur[g][s] = -sum;
-            }
+            let minus_sum: Vec<f64> = (0..nout)
+                .map(|s| {
+                    -(0..terms.len())
+                        .filter(|&j| j != g)
+                        .map(|j| cur[j][s])
+                        .sum::<f64>()
+                })
+                .collect();
+            cur[g] = minus_sum;
         }
         if let Some(j) = cur.iter().position(|c| c.iter().any(|v| !v.is_finite())) {
             return Err(SolveError::NonFinite {
