@@ -17,11 +17,28 @@ use faer::{Mat, MatMut};
 /// Which LU factorisation the real-valued Newton systems use.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum LinearSolver {
-    /// Dense LU with partial pivoting (default: fastest at this size, see docs/analyses.md).
+    /// Dense below [`SPARSE_FROM`] unknowns, sparse from there on (default;
+    /// the crossover measured in the criterion benches, see docs/analyses.md).
     #[default]
+    Auto,
+    /// Dense LU with partial pivoting.
     Dense,
     /// Sparse LU with the symbolic analysis reused while the pattern holds.
     Sparse,
+}
+
+/// Order from which [`LinearSolver::Auto`] picks the sparse LU.
+pub const SPARSE_FROM: usize = 16;
+
+impl LinearSolver {
+    /// The concrete solver for a system of order `n`.
+    pub fn resolve(self, n: usize) -> LinearSolver {
+        match self {
+            LinearSolver::Auto if n < SPARSE_FROM => LinearSolver::Dense,
+            LinearSolver::Auto => LinearSolver::Sparse,
+            other => other,
+        }
+    }
 }
 
 /// Pivots below this fraction of the largest matrix entry count as zero.
@@ -40,6 +57,8 @@ pub struct RealLu {
 struct SparseState {
     /// Structural pattern as (col, row) sorted by column then row.
     pattern: Vec<(usize, usize)>,
+    /// Row-major map from (row, col) to the position in `pattern` (usize::MAX: outside).
+    pos: Vec<usize>,
     symbolic_mat: SymbolicSparseColMat<usize>,
     argsort: faer::sparse::Argsort<usize>,
     symbolic: SymbolicLu<usize>,
@@ -51,7 +70,7 @@ impl RealLu {
     /// A solver of order `n` using `kind`.
     pub fn new(kind: LinearSolver, n: usize) -> Self {
         Self {
-            kind,
+            kind: kind.resolve(n),
             n,
             dense: None,
             sparse: None,
@@ -86,7 +105,7 @@ impl RealLu {
                 self.dense = Some(lu);
                 Ok(())
             }
-            LinearSolver::Sparse => self.factor_sparse(a, amax),
+            _ => self.factor_sparse(a, amax),
         }
     }
 
@@ -94,13 +113,10 @@ impl RealLu {
         let n = self.n;
         // Does the current pattern cover every nonzero (and the diagonal)?
         let covered = match &self.sparse {
-            Some(s) => {
-                let mut cover = vec![false; n * n];
-                for &(c, r) in &s.pattern {
-                    cover[r * n + c] = true;
-                }
-                a.iter().enumerate().all(|(k, v)| *v == 0.0 || cover[k])
-            }
+            Some(s) => a
+                .iter()
+                .zip(&s.pos)
+                .all(|(v, p)| *v == 0.0 || *p != usize::MAX),
             None => false,
         };
         if !covered {
@@ -118,8 +134,13 @@ impl RealLu {
                 SymbolicSparseColMat::try_new_from_indices(n, n, &idx).map_err(|_| 0usize)?;
             let symbolic = SymbolicLu::try_new(symbolic_mat.as_ref()).map_err(|_| 0usize)?;
             let len = pattern.len();
+            let mut pos = vec![usize::MAX; n * n];
+            for (k, &(c, r)) in pattern.iter().enumerate() {
+                pos[r * n + c] = k;
+            }
             self.sparse = Some(SparseState {
                 pattern,
+                pos,
                 symbolic_mat,
                 argsort,
                 symbolic,
@@ -135,6 +156,14 @@ impl RealLu {
             .map_err(|_| 0usize)?;
         match Lu::try_new_with_symbolic(s.symbolic.clone(), mat.as_ref()) {
             Ok(lu) => {
+                // A numerically zero pivot does not fail the sparse factorisation:
+                // probe with one solve and report the first unknown that blows up.
+                let mut probe = Mat::<f64>::from_fn(n, 1, |_, _| 1.0);
+                lu.solve_in_place(probe.as_mut());
+                let limit = 1e15 * (n as f64) / (amax * PIVOT_FLOOR.sqrt());
+                if let Some(k) = (0..n).find(|&k| !(probe[(k, 0)].abs() <= limit)) {
+                    return Err(k);
+                }
                 s.lu = Some(lu);
             }
             Err(faer::sparse::linalg::LuError::SymbolicSingular { index }) => {
@@ -142,7 +171,6 @@ impl RealLu {
             }
             Err(_) => return Err(0),
         }
-        let _ = amax;
         Ok(())
     }
 
@@ -164,7 +192,7 @@ impl RealLu {
                     lu.solve_in_place(rhs);
                 }
             }
-            LinearSolver::Sparse => {
+            _ => {
                 if let Some(lu) = self.sparse.as_ref().and_then(|s| s.lu.as_ref()) {
                     lu.solve_in_place(rhs);
                 }
@@ -249,5 +277,14 @@ mod tests {
     fn dense_and_sparse_agree_on_a_known_system() {
         check(LinearSolver::Dense);
         check(LinearSolver::Sparse);
+        check(LinearSolver::Auto);
+        assert_eq!(
+            LinearSolver::Auto.resolve(SPARSE_FROM - 1),
+            LinearSolver::Dense
+        );
+        assert_eq!(
+            LinearSolver::Auto.resolve(SPARSE_FROM),
+            LinearSolver::Sparse
+        );
     }
 }
