@@ -120,6 +120,9 @@ pub struct MatchArgs {
     /// Transistor output capacitance to absorb into the first shunt capacitor (e.g. 200pF).
     #[arg(long = "absorb-cout")]
     pub absorb_cout: Option<String>,
+    /// Power into the load at f0 (e.g. 25W): adds element voltages and currents.
+    #[arg(long)]
+    pub power: Option<String>,
     /// Number of harmonics to report (1 = fundamental only).
     #[arg(long, default_value_t = 5)]
     pub harmonics: u32,
@@ -173,6 +176,9 @@ pub struct LowpassArgs {
     /// Operating frequency whose harmonics are reported (default: the cutoff).
     #[arg(long)]
     pub fundamental: Option<String>,
+    /// Power into the load at the fundamental (e.g. 25W): adds element voltages and currents.
+    #[arg(long)]
+    pub power: Option<String>,
     /// Number of harmonics to report.
     #[arg(long, default_value_t = 5)]
     pub harmonics: u32,
@@ -404,6 +410,31 @@ fn network_table(net: &design::Network, reactances: Option<&[f64]>) -> String {
     s
 }
 
+fn stress_table(stress: &[design::ElementStress], power: Option<f64>, freq: f64) -> String {
+    let Some(p) = power else {
+        return String::new();
+    };
+    let mut s = format!(
+        "Element stress at {} into the load, {} (fundamental only; rate parts with margin)\n  {:<10} {:>12} {:>12} {:>12}\n",
+        si(p, "W"),
+        si(freq, "Hz"),
+        "element",
+        "V peak",
+        "I rms",
+        "reactive"
+    );
+    for e in stress {
+        s.push_str(&format!(
+            "  {:<10} {:>12} {:>12} {:>12}\n",
+            e.name,
+            si(e.v_peak, "V"),
+            si(e.i_rms, "A"),
+            format!("{:.1} var", e.reactive_power_var)
+        ));
+    }
+    s
+}
+
 fn verification_table(v: &design::Verification) -> String {
     let mut s = format!(
         "Verification by tankwave AC analysis: {}\n",
@@ -490,8 +521,13 @@ fn matching(a: &MatchArgs, format: Format) -> Result<String, Fail> {
         Some(t) => Some(quantity("--absorb-cout", t, Slot::Capacitance)?),
         None => None,
     };
+    let power = match &a.power {
+        Some(t) => Some(quantity("--power", t, Slot::Power)?),
+        None => None,
+    };
     let params = design::MatchParams {
         absorb_cout: absorb,
+        power,
         naming: naming(&a.naming, "m"),
         harmonics: a.harmonics,
     };
@@ -544,6 +580,7 @@ fn matching(a: &MatchArgs, format: Format) -> Result<String, Fail> {
     s.push_str(&kv(&rows));
     s.push_str("Elements (source side first)\n");
     s.push_str(&network_table(&d.network, Some(&d.reactances_ohm)));
+    s.push_str(&stress_table(&d.stress, power, d.freq));
     s.push_str("Transducer gain R1 -> R2 (chain matrix)\n");
     for h in &d.harmonics {
         s.push_str(&format!(
@@ -592,6 +629,10 @@ fn lowpass(a: &LowpassArgs, format: Format) -> Result<String, Fail> {
         },
         fundamental,
         harmonics: a.harmonics,
+        power: match &a.power {
+            Some(t) => Some(quantity("--power", t, Slot::Power)?),
+            None => None,
+        },
         naming: naming(&a.naming, "f"),
     };
     let d = design::design_lowpass(kind, a.order, cutoff, r0, &params)?;
@@ -629,6 +670,7 @@ fn lowpass(a: &LowpassArgs, format: Format) -> Result<String, Fail> {
     }
     s.push_str("Elements (source side first)\n");
     s.push_str(&network_table(&d.network, None));
+    s.push_str(&stress_table(&d.stress, params.power, d.fundamental));
     s.push_str(&format!(
         "Attenuation at harmonics of {}\n  {:>8} {:>12} {:>8} {:>12} {:>12}\n",
         si(d.fundamental, "Hz"),
@@ -733,5 +775,84 @@ mod tests {
         assert!((quantity("x", "0.1dB", Slot::Db).unwrap() - 0.1).abs() < 1e-15);
         assert!(quantity("x", "10nH", Slot::Capacitance).is_err());
         assert!(quantity("x", "abc", Slot::Voltage).is_err());
+    }
+
+    fn names() -> NamingArgs {
+        NamingArgs {
+            input: "in".into(),
+            output: "out".into(),
+            prefix: None,
+        }
+    }
+
+    fn pi_args(q: Option<&str>, shape: ShapeArg) -> MatchArgs {
+        MatchArgs {
+            from: "2.9".into(),
+            to: "50Ohm".into(),
+            freq: "7.1MHz".into(),
+            shape,
+            q: q.map(String::from),
+            absorb_cout: None,
+            power: None,
+            harmonics: 5,
+            no_verify: false,
+            naming: names(),
+        }
+    }
+
+    /// The pi worked example (C. Bowick, RF Circuit Design, 2nd ed., 2008,
+    /// ch. 4, from memory; check values) through the command body, as JSON.
+    #[test]
+    fn match_json_carries_design_and_verification() {
+        let text = match matching(&pi_args(Some("10"), ShapeArg::Pi), Format::Json) {
+            Ok(t) => t,
+            Err(_) => panic!("the worked example must design and verify"),
+        };
+        let v: serde_json::Value = serde_json::from_str(&text).unwrap();
+        let frag = v["design"]["fragment"].as_str().unwrap();
+        assert!(frag.contains("capacitor cm1 in gnd 17.037nF"), "{frag}");
+        assert!(frag.contains("inductor lm1 in out 135.43nH"), "{frag}");
+        assert_eq!(v["verification"]["passed"], serde_json::Value::Bool(true));
+        let g2 = v["design"]["harmonics"][1]["gain_db"].as_f64().unwrap();
+        assert!((g2 - -30.554).abs() < 0.0005, "{g2}");
+    }
+
+    #[test]
+    fn bad_input_is_refused_with_a_message() {
+        let is_input = |r: Result<String, Fail>| matches!(r, Err(Fail::Input(_)));
+        // The L's Q is fixed by the ratio; pi and t need one; Q below the L's Q.
+        assert!(is_input(matching(
+            &pi_args(Some("10"), ShapeArg::L),
+            Format::Table
+        )));
+        assert!(is_input(matching(
+            &pi_args(None, ShapeArg::T),
+            Format::Table
+        )));
+        assert!(is_input(matching(
+            &pi_args(Some("3"), ShapeArg::Pi),
+            Format::Table
+        )));
+        let ll = LoadlineArgs {
+            supply: "12V".into(),
+            power: "10W".into(),
+            vsat: "13V".into(),
+            conduction: "180deg".into(),
+        };
+        assert!(is_input(loadline(&ll, Format::Table)));
+        let lp = LowpassArgs {
+            kind: KindArg::Chebyshev,
+            order: 5,
+            ripple: None,
+            cutoff: "30MHz".into(),
+            impedance: "50".into(),
+            first: FirstArg::Shunt,
+            fundamental: None,
+            power: None,
+            harmonics: 5,
+            no_verify: true,
+            naming: names(),
+        };
+        assert!(is_input(lowpass(&lp, Format::Table)));
     }
 }

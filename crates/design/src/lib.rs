@@ -33,7 +33,7 @@ pub use lowpass::{
     LowpassDesign, LowpassParams, Prototype,
 };
 pub use matching::{design_match, Absorption, ComplexValue, MatchDesign, MatchParams, MatchShape};
-pub use network::{HarmonicGain, Naming, Network, NetworkElement, Part, Placement};
+pub use network::{ElementStress, HarmonicGain, Naming, Network, NetworkElement, Part, Placement};
 pub use si::format_si;
 pub use verify::{
     circuit_for, verify_lowpass, verify_match, verify_network, Verification, VerifyParams,

@@ -32,7 +32,7 @@ use serde::Serialize;
 use std::f64::consts::PI;
 
 use crate::error::{finite, positive, DesignError};
-use crate::network::{HarmonicGain, LadderBuilder, Naming, Network, Part};
+use crate::network::{ElementStress, HarmonicGain, LadderBuilder, Naming, Network, Part};
 
 /// Smallest supported order.
 pub const MIN_ORDER: usize = 1;
@@ -171,6 +171,9 @@ pub struct LowpassParams {
     pub fundamental: Option<f64>,
     /// Number of harmonics to report, clamped to 1..=50. Default 5.
     pub harmonics: u32,
+    /// Power delivered to the load at the fundamental (W) for the element
+    /// stress table; `None` skips it.
+    pub power: Option<f64>,
     /// Node and element names of the fragment.
     pub naming: Naming,
 }
@@ -181,6 +184,7 @@ impl Default for LowpassParams {
             first: FirstElement::Shunt,
             fundamental: None,
             harmonics: 5,
+            power: None,
             naming: Naming {
                 prefix: "f".into(),
                 input: "in".into(),
@@ -228,6 +232,9 @@ pub struct LowpassDesign {
     pub attenuation: Vec<HarmonicAttenuation>,
     /// Fundamental used for the harmonics, Hz.
     pub fundamental: f64,
+    /// Element voltages and currents at the fundamental for
+    /// [`LowpassParams::power`] into the load (empty if no power was given).
+    pub stress: Vec<ElementStress>,
     /// Stage-file fragment ready to paste.
     pub fragment: String,
     /// Where the formulas come from.
@@ -262,6 +269,10 @@ pub fn design_lowpass(
     let fundamental = match params.fundamental {
         Some(f) => positive("fundamental frequency", f)?,
         None => cutoff,
+    };
+    let power = match params.power {
+        Some(p) => Some(positive("output power", p)?),
+        None => None,
     };
     params.naming.check()?;
     let proto = prototype(kind, order)?;
@@ -324,6 +335,14 @@ pub fn design_lowpass(
         crate::si::format_si(load, "", 5),
     );
     let fragment = network.fragment(&title);
+    let stress = match power {
+        Some(p) => network.element_stress(fundamental, p),
+        None => Vec::new(),
+    };
+    for s in &stress {
+        finite("element voltage", s.v_peak)?;
+        finite("element current", s.i_rms)?;
+    }
     Ok(LowpassDesign {
         kind,
         order,
@@ -335,6 +354,7 @@ pub fn design_lowpass(
         network,
         attenuation,
         fundamental,
+        stress,
         fragment,
         sources: vec![
             "prototype g-values and attenuation formulas: G. L. Matthaei, L. Young, E. M. T. Jones, Microwave Filters, Impedance-Matching Networks, and Coupling Structures, 1964, sec. 4.05; D. M. Pozar, Microwave Engineering, 4th ed., sec. 8.3".into(),

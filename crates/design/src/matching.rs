@@ -34,7 +34,9 @@ use serde::Serialize;
 use std::f64::consts::PI;
 
 use crate::error::{finite, non_negative, positive, DesignError};
-use crate::network::{harmonic_gains, HarmonicGain, LadderBuilder, Naming, Network, Part};
+use crate::network::{
+    harmonic_gains, ElementStress, HarmonicGain, LadderBuilder, Naming, Network, Part,
+};
 
 /// Shape of the matching network.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -73,6 +75,9 @@ pub struct MatchParams {
     pub absorb_cout: Option<f64>,
     /// Node and element names of the fragment.
     pub naming: Naming,
+    /// Power delivered to R2 at f0 (W) for the element stress table; `None`
+    /// skips it.
+    pub power: Option<f64>,
     /// Number of harmonics (from the fundamental) to report the gain at,
     /// clamped to 1..=50. Default 5.
     pub harmonics: u32,
@@ -82,6 +87,7 @@ impl Default for MatchParams {
     fn default() -> Self {
         Self {
             absorb_cout: None,
+            power: None,
             naming: Naming::default(),
             harmonics: 5,
         }
@@ -143,6 +149,9 @@ pub struct MatchDesign {
     pub input_impedance: ComplexValue,
     /// Transducer gain between R1 and R2 at the harmonics of f0 (chain-matrix arithmetic).
     pub harmonics: Vec<HarmonicGain>,
+    /// Element voltages and currents at f0 for [`MatchParams::power`] into R2
+    /// (fundamental only; empty if no power was given).
+    pub stress: Vec<ElementStress>,
     /// Stage-file fragment ready to paste.
     pub fragment: String,
     /// Where the formulas come from.
@@ -193,6 +202,10 @@ pub fn design_match(
     positive("load-side resistance", r_to)?;
     positive("frequency", freq)?;
     params.naming.check()?;
+    let power = match params.power {
+        Some(p) => Some(positive("output power", p)?),
+        None => None,
+    };
     let cout = match params.absorb_cout {
         Some(c) => Some(non_negative("output capacitance to absorb", c)?),
         None => None,
@@ -321,6 +334,7 @@ pub fn design_match(
         network,
         input_impedance: ComplexValue { re: 0.0, im: 0.0 },
         harmonics: Vec::new(),
+        stress: Vec::new(),
         fragment: String::new(),
         sources: vec![source.to_string()],
     };
@@ -332,6 +346,16 @@ pub fn design_match(
     design.harmonics = harmonic_gains(&an, freq, params.harmonics.clamp(1, 50));
     for h in &design.harmonics {
         finite("transducer gain", h.gain_db)?;
+    }
+    if let Some(p) = power {
+        // Stress of the fragment's elements; the absorbed capacitance (first
+        // in the analysis network) is the device's own and is left out.
+        let skip = usize::from(design.absorbed.is_some());
+        design.stress = an.element_stress(freq, p).into_iter().skip(skip).collect();
+        for s in &design.stress {
+            finite("element voltage", s.v_peak)?;
+            finite("element current", s.i_rms)?;
+        }
     }
     let mut title = format!(
         "{} match {} ohm -> {} ohm at {}, loaded Q {:.4}",

@@ -84,6 +84,20 @@ impl NetworkElement {
     }
 }
 
+/// Voltage and current of one element at a given delivered power (see
+/// [`Network::element_stress`]).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ElementStress {
+    /// Element name.
+    pub name: String,
+    /// Peak voltage across the element, V.
+    pub v_peak: f64,
+    /// RMS current through the element, A.
+    pub i_rms: f64,
+    /// Reactive power it handles, var (½·V̂·Î).
+    pub reactive_power_var: f64,
+}
+
 /// A 2×2 complex chain (ABCD) matrix `[[A, B], [C, D]]`.
 pub type Chain = [[Complex64; 2]; 2];
 
@@ -145,6 +159,43 @@ impl Network {
         let (rs, rl) = (self.source_resistance, self.load_resistance);
         let den = m[0][0] * rl + m[0][1] + m[1][0] * rs * rl + m[1][1] * rs;
         10.0 * (4.0 * rs * rl / den.norm_sqr()).log10()
+    }
+
+    /// Voltage and current of every element when the load absorbs
+    /// `load_power_w` watts at `freq` (sinusoidal, fundamental only).
+    ///
+    /// Works back from the load: V2 = √(2 P R2) (peak), I2 = V2/R2, and each
+    /// section's chain matrix gives the voltage and current on its input side.
+    /// A series element carries the line current and drops Z·I; a shunt
+    /// element sees the node voltage and carries V/Z.
+    pub fn element_stress(&self, freq: f64, load_power_w: f64) -> Vec<ElementStress> {
+        let v2 = (2.0 * load_power_w * self.load_resistance).sqrt();
+        let mut v = Complex64::new(v2, 0.0);
+        let mut i = v / self.load_resistance;
+        let mut out = Vec::with_capacity(self.elements.len());
+        for e in self.elements.iter().rev() {
+            let z = e.impedance(freq);
+            let (ve, ie) = match e.placement {
+                Placement::Series => {
+                    let drop = z * i;
+                    v += drop;
+                    (drop, i)
+                }
+                Placement::Shunt => {
+                    let ish = v / z;
+                    i += ish;
+                    (v, ish)
+                }
+            };
+            out.push(ElementStress {
+                name: e.name.clone(),
+                v_peak: ve.norm(),
+                i_rms: ie.norm() / std::f64::consts::SQRT_2,
+                reactive_power_var: 0.5 * ve.norm() * ie.norm(),
+            });
+        }
+        out.reverse();
+        out
     }
 
     /// The network as stage-file statements, one per line, after a comment

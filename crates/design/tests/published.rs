@@ -497,3 +497,31 @@ fn pulse_coefficients_against_quadrature() {
     }
     assert_eq!(n, 18);
 }
+
+/// Element stress of the pi worked example at 25 W into 50 Ω: the output
+/// capacitor sees V2 = √(2 P R2) = 50 V peak; the input capacitor
+/// √(2 P R1) (lossless, Zin = R1); the output section's reactive power is
+/// Q2·P = 250 var (loaded Q as reactive over real power, common practice);
+/// the inductor carries I2 + I_C2 = 50·√(1/50² + 1/5²) A peak.
+#[test]
+fn pi_element_stress() {
+    let p = MatchParams {
+        power: Some(25.0),
+        ..MatchParams::default()
+    };
+    let d = design_match(2.9, 50.0, 7.1e6, MatchShape::Pi { q: 10.0 }, &p).unwrap();
+    let s = &d.stress;
+    assert_eq!(s.len(), 3);
+    assert!((s[2].v_peak - 50.0).abs() < 1e-9, "{:?}", s[2]);
+    assert!((s[2].reactive_power_var - 250.0).abs() < 1e-7, "{:?}", s[2]);
+    assert!(
+        (s[0].v_peak - (2.0f64 * 25.0 * 2.9).sqrt()).abs() < 1e-9,
+        "{:?}",
+        s[0]
+    );
+    let il = 50.0 * (1.0f64 / 2500.0 + 1.0 / 25.0).sqrt();
+    assert!((s[1].i_rms - il / 2f64.sqrt()).abs() < 1e-9, "{:?}", s[1]);
+    // No power, no stress table.
+    let d = design_match(2.9, 50.0, 7.1e6, MatchShape::L, &MatchParams::default()).unwrap();
+    assert!(d.stress.is_empty());
+}
