@@ -189,3 +189,41 @@ fn run_to_missing_out_dir_writes_nothing() {
     assert_eq!(code(&o), 2);
     assert!(!out.exists());
 }
+
+fn demo_stages() -> Vec<PathBuf> {
+    let mut files: Vec<PathBuf> = std::fs::read_dir(root().join("netlists"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.extension().is_some_and(|e| e == "tank"))
+        .collect();
+    files.sort();
+    files
+}
+
+#[test]
+fn every_demo_stage_meets_its_requirements() {
+    let files = demo_stages();
+    let mut args = vec!["check"];
+    args.extend(files.iter().map(|f| p(f)));
+    let o = run(&args);
+    assert_eq!(code(&o), 0, "{}{}", stdout(&o), stderr(&o));
+    // each demo carries requirements, at least one of them against a mask
+    let s = stdout(&o);
+    assert_eq!(s.matches("PASS:").count(), files.len(), "{s}");
+    assert!(s.contains("mask "), "{s}");
+}
+
+#[test]
+fn the_failing_example_fails_its_mask_and_says_which_harmonic() {
+    let o = run(&[
+        "check",
+        p(&root().join("netlists/failing/cw-7m1-nofilter.tank")),
+    ]);
+    assert_eq!(code(&o), 1, "{}{}", stdout(&o), stderr(&o));
+    let s = stdout(&o);
+    let line = s
+        .lines()
+        .find(|l| l.trim_start().starts_with("harmonic 2 "))
+        .expect("harmonic rows under the mask verdict");
+    assert!(line.ends_with("FAIL"), "{line}");
+}
