@@ -17,12 +17,11 @@ use crate::units::{dbc, dbm, vswr};
 /// Options of [`measure`].
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct MeasureParams {
-    /// Conduction threshold as a fraction of the peak collector current: a
-    /// pulse of positive current counts only if it rises above this fraction
-    /// of the peak; its edges are its zero crossings (see
-    /// [`conduction_angle_deg`]). Default 0.05 (5 %), above the ripple a
-    /// K-harmonic reconstruction leaves in the off interval; see
-    /// docs/measurements.md.
+    /// Conduction threshold as a fraction of the peak collector current:
+    /// samples above it conduct, and each pulse edge is then followed down to
+    /// its zero crossing (see [`conduction_angle_deg`]). Default 0.05 (5 %),
+    /// above the ripple a K-harmonic reconstruction leaves in the off
+    /// interval; see docs/measurements.md.
     pub conduction_threshold: f64,
 }
 
@@ -270,20 +269,28 @@ impl Metrics {
     }
 }
 
+/// How steep the edge of a pulse must stay, as a fraction of its steepness
+/// where it crosses the threshold, for the edge to be followed down to zero
+/// (see [`conduction_angle_deg`]).
+pub const EDGE_SLOPE_FRACTION: f64 = 0.25;
+
 /// Conduction angle of a current over one period, degrees.
 ///
-/// The transistor conducts while its current is positive, but only in the
-/// pulses that matter: a run of consecutive positive samples counts only if
-/// some sample in it exceeds `threshold_fraction` × the peak current, so
-/// small positive ripple or leakage in the off interval is ignored. Each
-/// counted sample stands for one sample interval centred on it; at every
-/// edge the boundary is then moved to the zero crossing, found on the
-/// straight line through the two samples at the inner side of the edge
-/// (extrapolated), or by linear interpolation across the edge when the run
-/// is one sample long, clamped to the sample interval of the edge. On a
-/// truncated cosine the result is 2θ to within the sampling resolution, and
-/// the threshold does not bias it. A current that is never positive gives
-/// 0°; one that is positive throughout a conducting period gives 360°.
+/// 1. Samples above `threshold_fraction` × the peak current are conducting;
+///    each stands for one sample interval centred on it.
+/// 2. From each edge of a conducting run the edge is followed outward, sample
+///    by sample, while the current stays positive and keeps falling by at
+///    least [`EDGE_SLOPE_FRACTION`] of the step with which it crossed the
+///    threshold. These samples conduct too. A slow positive tail (junction
+///    charging current, leakage, ripple of a K-harmonic series) falls much
+///    more slowly than the pulse edge and is not followed.
+/// 3. The boundary is then placed at the zero crossing of the straight line
+///    through the last two samples of the edge, clamped to the sample
+///    interval beyond the last one.
+///
+/// On a truncated cosine the result is 2θ within the sampling resolution
+/// (for 2θ up to 330° and thresholds of 1–20 %). A current that is never
+/// positive gives 0°; one that never falls to the threshold gives 360°.
 pub fn conduction_angle_deg(i: &[f64], threshold_fraction: f64) -> f64 {
     let n = i.len();
     if n == 0 {
@@ -300,72 +307,66 @@ pub fn conduction_angle_deg(i: &[f64], threshold_fraction: f64) -> f64 {
     };
     let thr = frac * peak;
     let nn = n as isize;
-    let at = |k: isize| i.get(k.rem_euclid(nn) as usize).copied().unwrap_or(0.0);
-    // Mark the runs of positive samples that contain a conducting sample.
-    let mut counted = vec![false; n];
-    if (0..nn).all(|k| at(k) > 0.0) {
+    let idx = |k: isize| k.rem_euclid(nn) as usize;
+    let at = |k: isize| i.get(idx(k)).copied().unwrap_or(0.0);
+    let core = |k: isize| at(k) > thr;
+    let count = (0..nn).filter(|&k| core(k)).count();
+    if count == n {
         return 360.0;
     }
-    // Start the scan just after a non-positive sample so no run wraps.
-    let start = (0..nn).find(|&k| at(k) <= 0.0).unwrap_or(0) + 1;
-    let mut k = 0;
-    while k < nn {
-        if at(start + k) > 0.0 {
-            let run_start = k;
-            let mut hot = false;
-            while k < nn && at(start + k) > 0.0 {
-                hot |= at(start + k) > thr;
-                k += 1;
-            }
-            if hot {
-                for j in run_start..k {
-                    if let Some(c) = counted.get_mut((start + j).rem_euclid(nn) as usize) {
-                        *c = true;
-                    }
-                }
-            }
-        } else {
-            k += 1;
-        }
+    if count == 0 {
+        return 0.0;
     }
-    let is = |k: isize| {
-        counted
-            .get(k.rem_euclid(nn) as usize)
-            .copied()
-            .unwrap_or(false)
-    };
-    let mut total = counted.iter().filter(|&&c| c).count() as f64;
+    // Samples already counted by an edge walk (so two walks never share one).
+    let mut claimed = vec![false; n];
+    let mut total = count as f64;
+    // `dir` = +1 follows a falling edge forward, −1 a rising edge backward.
     for m in 0..nn {
-        if !is(m) {
+        if !core(m) {
             continue;
         }
-        if !is(m - 1) {
-            // Rising edge: at(m − 1) ≤ 0 < at(m); zero crossing tz in [m − 1, m].
-            let tz = if is(m + 1) && at(m + 1) > at(m) {
-                m as f64 - at(m) / (at(m + 1) - at(m))
+        for dir in [1isize, -1] {
+            if core(m + dir) {
+                continue;
+            }
+            // The step with which the current crossed the threshold.
+            let inner = if core(m - dir) {
+                at(m - dir) - at(m)
             } else {
-                (m - 1) as f64 - at(m - 1) / (at(m) - at(m - 1))
+                0.0
             };
-            let tz = if tz.is_finite() {
-                tz.clamp((m - 1) as f64, m as f64)
+            let s0 = inner.max(at(m) - at(m + dir));
+            let mut j = m;
+            let mut walked = 0;
+            while walked < nn
+                && s0 > 0.0
+                && !core(j + dir)
+                && !claimed.get(idx(j + dir)).copied().unwrap_or(true)
+                && at(j + dir) > 0.0
+                && at(j) - at(j + dir) >= EDGE_SLOPE_FRACTION * s0
+            {
+                j += dir;
+                walked += 1;
+                if let Some(c) = claimed.get_mut(idx(j)) {
+                    *c = true;
+                }
+            }
+            total += walked as f64;
+            // Zero crossing beyond j, as a distance u in [0, 1] samples outward.
+            let (a_in, a_j, a_out) = (at(j - dir), at(j), at(j + dir));
+            let u = if a_in > a_j {
+                a_j / (a_in - a_j)
+            } else if a_out <= 0.0 && a_j > a_out {
+                a_j / (a_j - a_out)
             } else {
-                m as f64 - 0.5
+                0.5
             };
-            total += (m as f64 - 0.5) - tz;
-        }
-        if !is(m + 1) {
-            // Falling edge: at(m) > 0 ≥ at(m + 1); zero crossing tz in [m, m + 1].
-            let tz = if is(m - 1) && at(m - 1) > at(m) {
-                m as f64 + at(m) / (at(m - 1) - at(m))
+            let u = if u.is_finite() {
+                u.clamp(0.0, 1.0)
             } else {
-                m as f64 + at(m) / (at(m) - at(m + 1))
+                0.5
             };
-            let tz = if tz.is_finite() {
-                tz.clamp(m as f64, (m + 1) as f64)
-            } else {
-                m as f64 + 0.5
-            };
-            total += tz - (m as f64 + 0.5);
+            total += u - 0.5;
         }
     }
     (total / n as f64 * 360.0).clamp(0.0, 360.0)
