@@ -36,7 +36,7 @@ impl Deriv {
         let w = 2.0 * std::f64::consts::PI * freq;
         let nb = spec.len();
         for (k, s) in spec.iter_mut().enumerate() {
-            if n % 2 == 0 && k == nb - 1 {
+            if n.is_multiple_of(2) && k == nb - 1 {
                 *s = Complex64::new(0.0, 0.0);
             } else {
                 *s *= Complex64::new(0.0, w * k as f64);
