@@ -231,7 +231,11 @@ impl<'a> Canvas<'a> {
         for (k, e) in entries.iter().enumerate() {
             let yy = y + k as i32 * row;
             let style = e.style;
-            self.begin("legend-entry", Some(&e.label), Some(style.dash))?;
+            let dash = match e.kind {
+                LegendKind::Line | LegendKind::Rule if style.dash != "none" => Some(style.dash),
+                _ => None,
+            };
+            self.begin("legend-entry", Some(&e.label), dash)?;
             match e.kind {
                 LegendKind::Line => {
                     area.draw(&PathElement::new(
@@ -429,7 +433,7 @@ fn finish(raw: &str, title: &str, desc: &str, groups: &[String]) -> String {
 pub(crate) fn padded(lo: f64, hi: f64, pad: f64) -> Range<f64> {
     let (lo, hi) = if lo <= hi { (lo, hi) } else { (hi, lo) };
     let span = hi - lo;
-    if !(span > 1e-300) || !span.is_finite() {
+    if span.is_nan() || span <= 1e-300 || !span.is_finite() {
         let d = if lo.abs() > 1e-300 {
             lo.abs() * 0.1
         } else {
@@ -465,7 +469,7 @@ fn prefixable(unit: &str) -> bool {
 /// The divisor and prefix that put `max_abs` in [1, 1000) for `unit`
 /// (no prefix for units such as %, dB, dBc, deg).
 pub(crate) fn prefix_for(max_abs: f64, unit: &str) -> (f64, &'static str) {
-    if !prefixable(unit) || !(max_abs.is_finite() && max_abs > 0.0) {
+    if !(prefixable(unit) && max_abs.is_finite() && max_abs > 0.0) {
         return (1.0, "");
     }
     const P: [(f64, &str); 9] = [

@@ -318,7 +318,8 @@ pub fn period_plot(
                 axis_desc(&q.name, pre, q.unit),
             );
             panel.shades = shades.clone();
-            let mut style = series_style(k);
+            // the darker palette entries: one series per panel on white
+            let mut style = series_style([0, 1, 3, 5][k % 4]);
             style.dash = "none";
             panel.lines.push(Line {
                 label: q.name.clone(),

@@ -2,6 +2,7 @@
 //! the worst margin annotated.
 
 use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
 use tankwave_measure::{HarmonicPower, MaskEvaluation};
 
 use super::canvas::{
@@ -140,6 +141,17 @@ pub fn spectrum_plot(
                     Rectangle::new([(x - 0.3, floor), (x + 0.3, y)], INK.stroke_width(1)),
                 ])
                 .map_err(draw_err)?;
+            let px = chart.backend_coord(&(x, y));
+            cv.root
+                .draw(&Text::new(
+                    format!("{level:.1}"),
+                    (px.0, px.1 - 4),
+                    (FONT, 12)
+                        .into_font()
+                        .color(&INK)
+                        .pos(Pos::new(HPos::Center, VPos::Bottom)),
+                ))
+                .map_err(draw_err)?;
             if level < floor {
                 let px = chart.backend_coord(&(x, floor));
                 cv.root
@@ -211,11 +223,11 @@ pub fn spectrum_plot(
                         )))
                         .map_err(draw_err)?;
                 }
-                let px = chart.backend_coord(&(x, (y0 + y1) / 2.0));
+                let px = chart.backend_coord(&(x, y0.max(y1)));
                 cv.root
                     .draw(&Text::new(
                         format!("worst margin {}", db(m, "dB")),
-                        (px.0 + 6, px.1 - 8),
+                        (px.0 + 4, px.1 - 40),
                         (FONT, 14).into_font().style(FontStyle::Bold).color(&INK),
                     ))
                     .map_err(draw_err)?;

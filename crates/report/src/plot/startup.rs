@@ -189,6 +189,8 @@ pub fn startup_plot_series(
         let mut wave_style = series_style(2);
         wave_style.dash = "none";
         wave_style.width = 1;
+        // a mid tone of the palette's sky, behind the darker envelopes
+        wave_style.color = (0x6f, 0xab, 0xcc);
         panel.lines.push(Line {
             label: label.to_string(),
             style: wave_style,

@@ -235,7 +235,7 @@ fn choose_bins(sorted: &[f64]) -> usize {
     };
     let iqr = q(0.75) - q(0.25);
     let span = sorted[n - 1] - sorted[0];
-    if !(iqr > 0.0) || !(span > 0.0) {
+    if iqr.is_nan() || iqr <= 0.0 || span.is_nan() || span <= 0.0 {
         return sturges;
     }
     let h = 2.0 * iqr / (n as f64).cbrt();

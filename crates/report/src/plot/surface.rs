@@ -5,8 +5,8 @@
 use plotters::prelude::*;
 
 use super::canvas::{
-    axis_desc, draw_err, draw_marker, draw_panel, extent, grid_color, padded, prefix_for, render,
-    tick, Line, Panel, FONT, INK,
+    axis_desc, draw_err, draw_marker, draw_panel, extent, padded, prefix_for, render, tick, Line,
+    Panel, FONT, INK,
 };
 use super::{check_finite, series_style, title_of, PlotError, PlotParams};
 
@@ -104,8 +104,67 @@ fn increasing(what: &str, g: &[f64]) -> Result<(), PlotError> {
     Ok(())
 }
 
-/// Heat map of the objective over two parameters with a colour bar and the
-/// optimum marked.
+/// Line segments of the level-`level` contour of `values[iy][ix]` on the
+/// grid (xs, ys) by marching squares with linear interpolation along cell
+/// edges (saddle cells are split by the cell-centre average).
+pub(crate) fn contour_segments(
+    xs: &[f64],
+    ys: &[f64],
+    values: &[Vec<f64>],
+    level: f64,
+) -> Vec<((f64, f64), (f64, f64))> {
+    let mut out = Vec::new();
+    let z = |ix: usize, iy: usize| {
+        values
+            .get(iy)
+            .and_then(|r| r.get(ix))
+            .copied()
+            .unwrap_or(f64::NAN)
+    };
+    for iy in 0..ys.len().saturating_sub(1) {
+        for ix in 0..xs.len().saturating_sub(1) {
+            // corners counter-clockwise: (x0,y0), (x1,y0), (x1,y1), (x0,y1)
+            let c = [
+                (xs[ix], ys[iy], z(ix, iy)),
+                (xs[ix + 1], ys[iy], z(ix + 1, iy)),
+                (xs[ix + 1], ys[iy + 1], z(ix + 1, iy + 1)),
+                (xs[ix], ys[iy + 1], z(ix, iy + 1)),
+            ];
+            if c.iter().any(|p| !p.2.is_finite()) {
+                continue;
+            }
+            // crossing points on the four edges
+            let mut pts: Vec<(usize, (f64, f64))> = Vec::new();
+            for e in 0..4 {
+                let (a, b) = (c[e], c[(e + 1) % 4]);
+                if (a.2 >= level) != (b.2 >= level) {
+                    let t = (level - a.2) / (b.2 - a.2);
+                    pts.push((e, (a.0 + t * (b.0 - a.0), a.1 + t * (b.1 - a.1))));
+                }
+            }
+            match pts.len() {
+                2 => out.push((pts[0].1, pts[1].1)),
+                4 => {
+                    let centre = (c[0].2 + c[1].2 + c[2].2 + c[3].2) / 4.0;
+                    // corner 0 above and centre above: corner 0's region joins the centre
+                    if (c[0].2 >= level) == (centre >= level) {
+                        out.push((pts[0].1, pts[1].1));
+                        out.push((pts[2].1, pts[3].1));
+                    } else {
+                        out.push((pts[3].1, pts[0].1));
+                        out.push((pts[1].1, pts[2].1));
+                    }
+                }
+                _ => {}
+            }
+        }
+    }
+    out
+}
+
+/// Heat map of the objective over two parameters with contour lines at
+/// 20, 40, 60 and 80 % of its range (also marked on the colour bar), a
+/// colour bar and the optimum marked.
 pub fn surface_plot(s: &Surface, p: &PlotParams) -> Result<String, PlotError> {
     if s.xs.is_empty() || s.ys.is_empty() {
         return Err(PlotError::Empty {
@@ -213,12 +272,40 @@ pub fn surface_plot(s: &Surface, p: &PlotParams) -> Result<String, PlotError> {
             .y_label_formatter(&fx)
             .label_style((FONT, 13).into_font().color(&INK))
             .axis_desc_style((FONT, 14).into_font().color(&INK))
-            .bold_line_style(grid_color())
-            .light_line_style(TRANSPARENT)
+            .disable_mesh()
             .axis_style(INK)
             .draw()
             .map_err(draw_err)?;
         cv.end()?;
+        let levels: Vec<f64> = (1..=4)
+            .map(|k| z_lo + k as f64 / 5.0 * (z_hi - z_lo))
+            .collect();
+        if z_hi > z_lo && s.xs.len() > 1 && s.ys.len() > 1 {
+            cv.begin("contours", Some("contour lines"), None)?;
+            for &lv in &levels {
+                let segs = contour_segments(&s.xs, &s.ys, &s.values, lv);
+                let scaled: Vec<Vec<(f64, f64)>> = segs
+                    .iter()
+                    .map(|(a, b)| vec![(a.0 / xf, a.1 / yf), (b.0 / xf, b.1 / yf)])
+                    .collect();
+                // a white casing under an ink line: visible on light and dark cells
+                chart
+                    .draw_series(
+                        scaled
+                            .iter()
+                            .map(|p| PathElement::new(p.clone(), WHITE.stroke_width(3))),
+                    )
+                    .map_err(draw_err)?;
+                chart
+                    .draw_series(
+                        scaled
+                            .iter()
+                            .map(|p| PathElement::new(p.clone(), INK.stroke_width(1))),
+                    )
+                    .map_err(draw_err)?;
+            }
+            cv.end()?;
+        }
         if let Some((ox, oy)) = s.optimum {
             if ox.is_finite() && oy.is_finite() {
                 cv.begin("optimum", Some("optimum"), None)?;
@@ -235,9 +322,15 @@ pub fn surface_plot(s: &Surface, p: &PlotParams) -> Result<String, PlotError> {
                 let px = chart.backend_coord(&c);
                 draw_marker(&cv.root, px, cross)?;
                 cv.root
+                    .draw(&Rectangle::new(
+                        [(px.0 + 12, px.1 - 26), (px.0 + 80, px.1 - 6)],
+                        WHITE.filled(),
+                    ))
+                    .map_err(draw_err)?;
+                cv.root
                     .draw(&Text::new(
                         "optimum".to_string(),
-                        (px.0 + 14, px.1 - 22),
+                        (px.0 + 16, px.1 - 24),
                         (FONT, 14).into_font().style(FontStyle::Bold).color(&INK),
                     ))
                     .map_err(draw_err)?;
@@ -250,15 +343,15 @@ pub fn surface_plot(s: &Surface, p: &PlotParams) -> Result<String, PlotError> {
         let steps = 48;
         for k in 0..steps {
             let t = 1.0 - (k as f64 + 0.5) / steps as f64;
-            let y0 = by + (k * bh / steps) as i32;
-            let y1 = by + ((k + 1) * bh / steps) as i32;
+            let y0 = by + k * bh / steps;
+            let y1 = by + (k + 1) * bh / steps;
             bar_area
                 .draw(&Rectangle::new([(bx, y0), (bx + bw, y1)], ramp(t).filled()))
                 .map_err(draw_err)?;
         }
         bar_area
             .draw(&Rectangle::new(
-                [(bx, by), (bx + bw, by + bh as i32)],
+                [(bx, by), (bx + bw, by + bh)],
                 INK.stroke_width(1),
             ))
             .map_err(draw_err)?;
@@ -273,6 +366,17 @@ pub fn surface_plot(s: &Surface, p: &PlotParams) -> Result<String, PlotError> {
                     (FONT, 13).into_font().color(&INK),
                 ))
                 .map_err(draw_err)?;
+        }
+        for &lv in &levels {
+            if z_hi > z_lo {
+                let y = by + ((1.0 - (lv - z_lo) / (z_hi - z_lo)) * bh as f64) as i32;
+                bar_area
+                    .draw(&PathElement::new(
+                        vec![(bx - 4, y), (bx + bw, y)],
+                        INK.stroke_width(1),
+                    ))
+                    .map_err(draw_err)?;
+            }
         }
         bar_area
             .draw(&Text::new(
@@ -348,4 +452,61 @@ pub fn tuning_curve_plot(
         }
         draw_panel(cv, &rest, &panel)
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn contour_of_a_plane_is_a_straight_line() {
+        // z = x: the 0.37 level is the line x = 0.37, exactly (linear
+        // interpolation is exact for a linear field)
+        let g: Vec<f64> = (0..6).map(|k| k as f64 * 0.2).collect();
+        let v: Vec<Vec<f64>> = g.iter().map(|_| g.clone()).collect();
+        let segs = contour_segments(&g, &g, &v, 0.37);
+        assert_eq!(segs.len(), 5, "one segment per row of cells");
+        for (a, b) in segs {
+            assert!((a.0 - 0.37).abs() < 1e-12 && (b.0 - 0.37).abs() < 1e-12);
+        }
+    }
+
+    #[test]
+    fn contour_of_a_paraboloid_is_near_a_circle() {
+        // z = x² + y²: level r² is the circle of radius r. Edge interpolation
+        // of a quadratic errs by at most h²/4 in z (h the grid step), i.e.
+        // h²/(8r) in radius: 0.05²/(8·0.6) ≈ 5e-4; allow 1e-3.
+        let g: Vec<f64> = (0..41).map(|k| -1.0 + k as f64 * 0.05).collect();
+        let v: Vec<Vec<f64>> = g
+            .iter()
+            .map(|y| g.iter().map(|x| x * x + y * y).collect())
+            .collect();
+        let r = 0.6;
+        let segs = contour_segments(&g, &g, &v, r * r);
+        assert!(segs.len() > 40);
+        for (a, b) in segs {
+            for p in [a, b] {
+                let rho = (p.0 * p.0 + p.1 * p.1).sqrt();
+                assert!((rho - r).abs() < 1e-3, "point {p:?} at radius {rho}");
+            }
+        }
+    }
+
+    #[test]
+    fn ramp_darkens_monotonically() {
+        // relative luminance (WCAG 2.x sRGB definition) must fall along the ramp
+        let lum = |c: RGBColor| {
+            let f = |v: u8| {
+                let v = v as f64 / 255.0;
+                if v <= 0.04045 {
+                    v / 12.92
+                } else {
+                    ((v + 0.055) / 1.055).powf(2.4)
+                }
+            };
+            0.2126 * f(c.0) + 0.7152 * f(c.1) + 0.0722 * f(c.2)
+        };
+        let l: Vec<f64> = (0..=20).map(|k| lum(ramp(k as f64 / 20.0))).collect();
+        assert!(l.windows(2).all(|w| w[1] < w[0]), "{l:?}");
+    }
 }
