@@ -1536,7 +1536,13 @@ fn run_levels(
         Some(w) => port_start(prob, w),
         None => x0.clone(),
     };
-    let first_fail = match prob.newton(&mut x, 1.0, bp.max_iter) {
+    // A warm start from a converged solution at a smaller K is close: its
+    // junction voltages are right, and limiting against the fresh (zero)
+    // per-sample states would only hold them back. The line search still guards.
+    prob.limit = bp.limit && warm.is_none();
+    let first = prob.newton(&mut x, 1.0, bp.max_iter);
+    prob.limit = bp.limit;
+    let first_fail = match first {
         Ok(c) => return Ok((x, c.iterations, c.cuts, c.ratio, 0)),
         Err(f) => {
             iters += f.iterations();
