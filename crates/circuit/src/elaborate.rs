@@ -157,6 +157,15 @@ impl<'a> Cx<'a> {
         }
     }
 
+    /// True if a statement declaring `name` with one of `keywords` failed to
+    /// parse (it was reported; uses of the name are not reported again).
+    fn is_broken(&self, keywords: &[&str], name: &str) -> bool {
+        self.parsed
+            .broken
+            .iter()
+            .any(|(k, n)| n == name && keywords.contains(&k.as_str()))
+    }
+
     fn has_errors(&self) -> bool {
         self.diags.iter().any(|d| d.is_error())
     }
@@ -229,6 +238,7 @@ impl<'a> Cx<'a> {
     fn report_eval(&mut self, err: EvalError) {
         match err {
             EvalError::Reported => {}
+            EvalError::Unknown { name, .. } if self.is_broken(&["let"], &name) => {}
             EvalError::Unknown { name, span } => {
                 let mut cands: Vec<&str> = self.lets.keys().copied().collect();
                 cands.push("pi");
@@ -435,6 +445,7 @@ impl<'a> Cx<'a> {
     fn element_ref(&mut self, id: &Ident, ctx: &str) -> Option<ElementId> {
         match self.elem_ids.get(id.name.as_str()) {
             Some(i) => Some(*i),
+            None if self.is_broken(ELEMENT_KEYWORDS, &id.name) => None,
             None => {
                 let help = did_you_mean(&id.name, self.elem_ids.keys());
                 self.error(
@@ -1492,6 +1503,9 @@ impl<'a> Cx<'a> {
                 let mex = self.opt_expr(mo)?;
                 let mname = self.name_of(mex, "model")?;
                 let Some(&mid) = self.models.get(mname.name.as_str()) else {
+                    if self.is_broken(&["model"], &mname.name) {
+                        return None;
+                    }
                     let help = did_you_mean(&mname.name, self.models.keys());
                     self.error(
                         "unknown-model",
@@ -2003,6 +2017,8 @@ impl<'a> Cx<'a> {
                 Bound::Mask(*i)
             } else if builtin_names().iter().any(|b| b == name) {
                 Bound::BuiltinMask(name.to_string())
+            } else if self.is_broken(&["mask"], name) {
+                return None;
             } else {
                 let mut cands: Vec<String> = masks.keys().map(|s| s.to_string()).collect();
                 cands.extend(builtin_names());
@@ -2081,6 +2097,10 @@ impl<'a> Cx<'a> {
                 _ => Slot::Number,
             };
             (VaryTarget::Element(target.name.clone()), slot)
+        } else if self.is_broken(&["let"], &target.name)
+            || self.is_broken(ELEMENT_KEYWORDS, &target.name)
+        {
+            return None;
         } else {
             let mut cands: Vec<&str> = self.lets.keys().copied().collect();
             cands.extend(self.elem_ids.keys().copied());
@@ -2182,6 +2202,18 @@ impl<'a> Cx<'a> {
         })
     }
 }
+
+/// Element statement keywords.
+const ELEMENT_KEYWORDS: &[&str] = &[
+    "resistor",
+    "capacitor",
+    "inductor",
+    "coupling",
+    "vsource",
+    "isource",
+    "diode",
+    "bjt",
+];
 
 /// The `'static` spelling of an option word (words are from fixed lists above).
 fn intern(w: &str) -> &'static str {

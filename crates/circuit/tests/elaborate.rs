@@ -351,3 +351,18 @@ fn builtin_mask_names_resolve_when_present() {
         );
     }
 }
+
+#[test]
+fn a_broken_declaration_is_not_reported_again_where_used() {
+    // The model block never closes; the bjt that uses it must not add "no model named 'm'".
+    let text = "vsource v1 a gnd dc=1V\nresistor r1 a gnd 1\nmodel m npn {\n gain_fwd=50\nbjt q1 c=a b=a e=gnd model=m\n\
+                resistor r2 a gnd (x\noutput r2\nrequire vce_peak q1 <= 10V\n";
+    let err = load_str("t.tank", text, &Overrides::default()).expect_err("errors");
+    let codes: Vec<&str> = err.diagnostics.iter().map(|d| d.code).collect();
+    assert_eq!(
+        codes,
+        vec!["unclosed-bracket", "unclosed-bracket"],
+        "{:#?}",
+        err.diagnostics
+    );
+}

@@ -46,6 +46,9 @@ pub struct Parsed {
     pub sources: Arc<SourceMap>,
     /// Every problem found while reading and parsing.
     pub diagnostics: Vec<Diagnostic>,
+    /// Statements that failed to parse, as (keyword, name): their names are
+    /// known to exist, so uses elsewhere are not reported as unknown again.
+    pub broken: Vec<(String, String)>,
 }
 
 impl Parsed {
@@ -59,6 +62,7 @@ struct State {
     map: SourceMap,
     diags: Vec<Diagnostic>,
     stmts: Vec<Statement>,
+    broken: Vec<(String, String)>,
 }
 
 /// Parse a stage file from disk (includes are resolved relative to each including file).
@@ -69,6 +73,7 @@ pub fn parse_file(path: impl AsRef<Path>) -> Parsed {
         map: SourceMap::new(),
         diags: Vec::new(),
         stmts: Vec::new(),
+        broken: Vec::new(),
     };
     match read_limited(path) {
         Ok(bytes) => {
@@ -96,6 +101,7 @@ pub fn parse_bytes(name: &str, bytes: &[u8]) -> Parsed {
         map: SourceMap::new(),
         diags: Vec::new(),
         stmts: Vec::new(),
+        broken: Vec::new(),
     };
     let p = Path::new(name);
     let dir = p.parent().map(Path::to_path_buf).unwrap_or_default();
@@ -129,6 +135,7 @@ impl State {
             statements: self.stmts,
             sources: Arc::new(self.map),
             diagnostics: self.diags,
+            broken: self.broken,
         }
     }
 
@@ -169,6 +176,7 @@ impl State {
             match item {
                 Item::Stmt(s) => self.stmts.push(*s),
                 Item::Include(rel, span) => self.include(&rel, span, dir, stack),
+                Item::Broken(kw, name) => self.broken.push((kw, name)),
             }
         }
     }

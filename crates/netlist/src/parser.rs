@@ -19,6 +19,9 @@ pub enum Item {
     Stmt(Box<Statement>),
     /// `include "path"` with the span of the statement.
     Include(String, Span),
+    /// A declaration that failed to parse (already reported): its keyword and name,
+    /// so later uses of the name are not reported again as unknown.
+    Broken(String, String),
 }
 
 struct Parser<'a> {
@@ -76,7 +79,15 @@ pub fn parse_tokens(toks: &[Token], map: &SourceMap, diags: &mut Vec<Diagnostic>
                     p.skip_statement();
                 }
             }
-            Err(()) => p.skip_statement(),
+            Err(()) => {
+                if let (Some(TokKind::Ident(kw)), Some(TokKind::Ident(name))) = (
+                    p.toks.get(start).map(|t| &t.kind),
+                    p.toks.get(start + 1).map(|t| &t.kind),
+                ) {
+                    items.push(Item::Broken(kw.clone(), name.clone()));
+                }
+                p.skip_statement()
+            }
         }
     }
     items
