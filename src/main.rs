@@ -38,6 +38,15 @@ enum Command {
     /// Solve stage files and evaluate every `require`: a verdict table, exit 1 if any fails.
     #[command(after_help = EXIT_CODES)]
     Check(cmd::check::CheckArgs),
+    /// Solve every variant of a study (vary, tolerance, montecarlo) in parallel and summarise.
+    #[command(after_help = EXIT_CODES)]
+    Study(cmd::study::StudyArgs),
+    /// Join the record files of a sharded study into the records of one run.
+    #[command(after_help = EXIT_CODES)]
+    Merge(cmd::study::MergeArgs),
+    /// Find the values of named parameters (e.g. tuning and loading capacitors) that peak the stage.
+    #[command(after_help = EXIT_CODES)]
+    Tune(cmd::study::TuneArgs),
     /// Synthesise a load line, matching network, low-pass filter or feed choke.
     #[command(after_help = EXIT_CODES)]
     Design(cmd::design::DesignArgs),
@@ -56,6 +65,9 @@ fn main() -> ExitCode {
         Command::Lint(a) => cmd::lint::run(&a),
         Command::Run(a) => cmd::run::run(&a),
         Command::Check(a) => cmd::check::run(&a),
+        Command::Study(a) => cmd::study::run(&a),
+        Command::Merge(a) => cmd::study::merge(&a),
+        Command::Tune(a) => cmd::study::tune(&a),
         Command::Design(a) => cmd::design::run(a),
     };
     ExitCode::from(code.clamp(0, 255) as u8)

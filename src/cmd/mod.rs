@@ -6,3 +6,4 @@ pub mod common;
 pub mod design;
 pub mod lint;
 pub mod run;
+pub mod study;

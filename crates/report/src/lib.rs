@@ -14,6 +14,7 @@
 //! ```
 #![deny(missing_docs)]
 
+pub mod batch;
 pub mod files;
 pub mod format;
 pub mod html;

@@ -1,0 +1,129 @@
+//! Text for studies: the summary of a batch (yield, statistics of every
+//! figure, the worst variant of each requirement) and the tuning result.
+
+use crate::format::fixed;
+use crate::table::{Align, Table};
+use tankwave_study::{Summary, TuneResult};
+
+fn num(v: f64) -> String {
+    if !v.is_finite() {
+        return "—".into();
+    }
+    let a = v.abs();
+    if a != 0.0 && !(1e-3..1e5).contains(&a) {
+        format!("{v:.4e}")
+    } else {
+        format!("{v:.4}")
+    }
+}
+
+/// The summary of a study as text.
+pub fn summary_text(s: &Summary) -> String {
+    let mut out = format!(
+        "{} variants, {} failed to solve; {} pass every requirement (yield {})\n\n",
+        s.variants,
+        s.failed,
+        s.passed_all,
+        fixed(s.yield_fraction * 100.0, 1, "%")
+    );
+    let pct_names: Vec<String> = s
+        .figures
+        .values()
+        .next()
+        .map(|f| f.percentiles.iter().map(|(p, _)| format!("p{p}")).collect())
+        .unwrap_or_default();
+    let mut headers: Vec<(&str, Align)> = vec![
+        ("figure", Align::Left),
+        ("min", Align::Right),
+        ("median", Align::Right),
+        ("max", Align::Right),
+    ];
+    let names: Vec<&str> = pct_names.iter().map(|s| s.as_str()).collect();
+    for n in &names {
+        headers.push((n, Align::Right));
+    }
+    let mut t = Table::new(headers);
+    for (name, f) in &s.figures {
+        let mut row = vec![name.clone(), num(f.min), num(f.median), num(f.max)];
+        row.extend(f.percentiles.iter().map(|(_, v)| num(*v)));
+        t.row(row);
+    }
+    out.push_str(&t.render());
+    if !s.requirements.is_empty() {
+        out.push('\n');
+        let mut t = Table::new(vec![
+            ("requirement", Align::Left),
+            ("passed", Align::Right),
+            ("worst variant", Align::Right),
+            ("worst margin", Align::Right),
+        ]);
+        for (name, r) in &s.requirements {
+            t.row(vec![
+                name.clone(),
+                format!("{} of {}", r.passed, r.evaluated),
+                format!("#{}", r.worst_index),
+                num(r.worst_margin),
+            ]);
+        }
+        out.push_str(&t.render());
+    }
+    out
+}
+
+/// The result of a tuning run as text.
+pub fn tune_text(r: &TuneResult) -> String {
+    let mut out = format!(
+        "Tuning {} after {} iterations ({} evaluations, {} failed)\n",
+        if r.converged {
+            "converged"
+        } else {
+            "stopped without converging"
+        },
+        r.iterations,
+        r.evaluations,
+        r.failed_evaluations
+    );
+    let mut t = Table::new(vec![("parameter", Align::Left), ("optimum", Align::Right)]);
+    for (k, v) in &r.optimum {
+        t.row(vec![k.clone(), num(*v)]);
+    }
+    out.push_str(&t.render());
+    if !r.at_bound.is_empty() {
+        out.push_str(&format!(
+            "at the edge of its range: {} (the optimum may lie outside)\n",
+            r.at_bound.join(", ")
+        ));
+    }
+    out.push_str(&format!(
+        "\nAt the optimum (full drive): output power {} W, efficiency {}, input VSWR {}\n",
+        r.figures.pout.map(num).unwrap_or_else(|| "—".into()),
+        r.figures
+            .efficiency
+            .map(|e| fixed(e * 100.0, 1, "%"))
+            .unwrap_or_else(|| "—".into()),
+        r.figures.input_vswr.map(num).unwrap_or_else(|| "—".into())
+    ));
+    if !r.sharpness.is_empty() {
+        out.push_str("\nSharpness of the peak (relative change of the goal at ± step):\n");
+        let mut t = Table::new(vec![
+            ("parameter", Align::Left),
+            ("step", Align::Right),
+            ("at -step", Align::Right),
+            ("at +step", Align::Right),
+        ]);
+        for s in &r.sharpness {
+            t.row(vec![
+                s.param.clone(),
+                fixed(s.step * 100.0, 1, "%"),
+                s.minus
+                    .map(|v| fixed(v * 100.0, 3, "%"))
+                    .unwrap_or_else(|| "—".into()),
+                s.plus
+                    .map(|v| fixed(v * 100.0, 3, "%"))
+                    .unwrap_or_else(|| "—".into()),
+            ]);
+        }
+        out.push_str(&t.render());
+    }
+    out
+}

@@ -1,0 +1,504 @@
+//! `tankwave study`, `tankwave merge` and `tankwave tune`: batches of
+//! variants (sweeps, tolerances, Monte Carlo) solved in parallel with
+//! streamed, resumable, sharded records; merging shard outputs; peaking
+//! named parameters.
+
+use super::common::{self, BAD_INPUT, FAILED, OK, SOLVER};
+use crate::pipeline;
+use clap::{Args, ValueEnum};
+use std::collections::BTreeMap;
+use std::io::IsTerminal;
+use std::path::{Path, PathBuf};
+use tankwave_circuit::{Circuit, ElementKind, Overrides, Shape, Tune};
+use tankwave_measure::Metrics;
+use tankwave_study as study;
+
+/// Arguments of `study`.
+#[derive(Args, Debug)]
+pub struct StudyArgs {
+    /// The stage file (with `vary`, `tolerance` and `montecarlo` statements).
+    pub file: PathBuf,
+    /// Stream one record per variant to this file (JSON Lines; `.csv` for CSV).
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+    /// Continue an interrupted study: skip the variants already in --out.
+    #[arg(long, requires = "out")]
+    pub resume: bool,
+    /// Run only share i of n (0-based), e.g. `--shard 2/8`; join the outputs with `tankwave merge`.
+    #[arg(long, value_name = "I/N")]
+    pub shard: Option<String>,
+    /// Worker threads (default: all cores).
+    #[arg(long)]
+    pub threads: Option<usize>,
+    /// Percentiles in the summary, comma-separated.
+    #[arg(long, value_delimiter = ',', default_value = "5,95")]
+    pub percentiles: Vec<f64>,
+    /// Override a `let` parameter in every variant, e.g. `--set vcc=12V` (repeatable).
+    #[arg(long = "set", value_name = "NAME=VALUE")]
+    pub sets: Vec<String>,
+}
+
+/// Arguments of `merge`.
+#[derive(Args, Debug)]
+pub struct MergeArgs {
+    /// Shard record files (JSON Lines) of one study.
+    #[arg(required = true)]
+    pub inputs: Vec<PathBuf>,
+    /// The merged record file (written whole).
+    #[arg(long, value_name = "FILE")]
+    pub out: PathBuf,
+}
+
+/// What `tune` optimises.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Goal {
+    /// Largest output power at the fundamental.
+    Pout,
+    /// Largest collector efficiency with at least --pout-min out.
+    Efficiency,
+    /// Smallest input VSWR.
+    Vswr,
+}
+
+/// Arguments of `tune`.
+#[derive(Args, Debug)]
+pub struct TuneArgs {
+    /// The stage file (its `tune` statements name the parameters and ranges).
+    pub file: PathBuf,
+    /// A parameter and its range, e.g. `--param ctun=100pF:2nF` (repeatable; replaces the file's `tune`).
+    #[arg(long = "param", value_name = "NAME=FROM:TO")]
+    pub params: Vec<String>,
+    /// What to optimise.
+    #[arg(long, value_enum, default_value = "pout")]
+    pub goal: Goal,
+    /// Minimum output power for `--goal efficiency`, e.g. `20W`.
+    #[arg(long, value_name = "POWER")]
+    pub pout_min: Option<String>,
+    /// Tune at this fraction of the drive amplitude, then report at full drive (as on the bench).
+    #[arg(long, value_name = "FRACTION")]
+    pub search_drive: Option<f64>,
+    /// Most optimiser iterations.
+    #[arg(long, default_value_t = 200)]
+    pub max_iters: u64,
+}
+
+/// Flatten the metrics of a variant into named figures (units in the names).
+pub fn flatten(c: &Circuit, m: &Metrics) -> BTreeMap<String, f64> {
+    let mut f = BTreeMap::new();
+    let mut put = |k: String, v: Option<f64>| {
+        if let Some(v) = v.filter(|v| v.is_finite()) {
+            f.insert(k, v);
+        }
+    };
+    if let Some(o) = &m.output {
+        put("pout_w".into(), Some(o.p1_w));
+        put("pout_dbm".into(), Some(o.p1_dbm));
+        put("thd".into(), o.thd);
+        for h in o.harmonics.iter().skip(1).take(4) {
+            put(format!("h{}_dbc", h.n), h.dbc);
+        }
+    }
+    put("pdc_w".into(), Some(m.pdc_w));
+    put("efficiency".into(), m.efficiency);
+    put("pae".into(), m.pae);
+    put("gain_db".into(), m.gain_db);
+    if let Some(d) = &m.drive {
+        put("input_vswr".into(), d.vswr);
+        put("pin_w".into(), Some(d.pin_w));
+    }
+    for q in &m.transistors {
+        let n = &q.element;
+        put(format!("{n}.conduction_deg"), Some(q.conduction_deg));
+        put(format!("{n}.vce_peak_v"), Some(q.vce_peak_v));
+        put(format!("{n}.ic_peak_a"), Some(q.ic_peak_a));
+        put(format!("{n}.dissipation_w"), Some(q.dissipation_w));
+        put(format!("{n}.tj_degc"), q.tj_k.map(|k| k - 273.15));
+    }
+    let _ = c;
+    f
+}
+
+/// Solve one variant: elaborate with its overrides, solve the steady state, measure, evaluate.
+fn solve_variant(
+    parsed: &tankwave_netlist::Parsed,
+    overrides: &Overrides,
+    drive_scale: f64,
+) -> Result<(Circuit, Metrics, Vec<tankwave_measure::Verdict>), String> {
+    let mut c = tankwave_circuit::elaborate(parsed, overrides)
+        .map_err(|d| {
+            let first = d.iter().find(|x| x.is_error()).map(|x| x.message.clone());
+            format!(
+                "does not elaborate: {}",
+                first.unwrap_or_else(|| "error".into())
+            )
+        })?
+        .circuit;
+    if drive_scale != 1.0 {
+        scale_drive(&mut c, drive_scale)?;
+    }
+    let r = pipeline::solve(&c, pipeline::Scope::Requirements).map_err(|f| match f {
+        pipeline::Failure::Solve(m) | pipeline::Failure::Setup(m) => m,
+        pipeline::Failure::Input { .. } => "bad input".into(),
+    })?;
+    let s = r
+        .steady
+        .ok_or_else(|| "the file has no `analyze steady`".to_string())?;
+    Ok((c, s.metrics, r.verdicts))
+}
+
+/// Multiply the time-varying amplitude of the `input` source by `k`.
+fn scale_drive(c: &mut Circuit, k: f64) -> Result<(), String> {
+    let id = c
+        .input
+        .ok_or("reduced-drive tuning needs an `input` source")?;
+    match c.elements.get_mut(id).map(|e| &mut e.kind) {
+        Some(ElementKind::VSource { wave, .. }) | Some(ElementKind::ISource { wave, .. }) => {
+            match &mut wave.shape {
+                Some(Shape::Sine { amp, .. }) => {
+                    *amp *= k;
+                    Ok(())
+                }
+                _ => Err("reduced-drive tuning needs a sine drive".into()),
+            }
+        }
+        _ => Err("the `input` element is not a source".into()),
+    }
+}
+
+fn progress_bar(total: u64) -> Option<indicatif::ProgressBar> {
+    if !std::io::stderr().is_terminal() {
+        return None;
+    }
+    let pb = indicatif::ProgressBar::new(total);
+    if let Ok(style) = indicatif::ProgressStyle::with_template(
+        "{elapsed_precise} [{bar:40}] {pos}/{len} variants ({per_sec}, {eta} left)",
+    ) {
+        pb.set_style(style.progress_chars("=> "));
+    }
+    Some(pb)
+}
+
+fn file_hash(path: &Path) -> String {
+    // FNV-1a, 64 bit (public-domain hash): a fingerprint to tell stage files apart, not security.
+    let bytes = std::fs::read(path).unwrap_or_default();
+    let mut h: u64 = 0xcbf29ce484222325;
+    for b in bytes {
+        h ^= b as u64;
+        h = h.wrapping_mul(0x100000001b3);
+    }
+    format!("{h:016x}")
+}
+
+/// Feeds each record into the streaming summary (the records themselves are not kept).
+#[derive(Default)]
+struct SummarySink {
+    builder: study::SummaryBuilder,
+}
+
+impl study::RecordSink for SummarySink {
+    fn record(&mut self, r: &study::Record) -> Result<(), study::StudyError> {
+        self.builder.add(r);
+        Ok(())
+    }
+}
+
+impl study::RecordSink for &mut SummarySink {
+    fn record(&mut self, r: &study::Record) -> Result<(), study::StudyError> {
+        self.builder.add(r);
+        Ok(())
+    }
+}
+
+/// Run `study`; returns the exit code (1 if any variant fails a requirement or does not solve).
+pub fn run(a: &StudyArgs) -> i32 {
+    let file = a.file.display().to_string();
+    let overrides = match common::overrides(&a.sets) {
+        Ok(o) => o,
+        Err(m) => {
+            eprintln!("error: {m}");
+            return BAD_INPUT;
+        }
+    };
+    let loaded = match pipeline::load(&a.file, &overrides) {
+        Ok(l) => l,
+        Err(f) => return common::report_failure(&file, &f),
+    };
+    let parsed = tankwave_netlist::parse_file(&a.file);
+    let plan = match study::Plan::from_circuit(&loaded.circuit) {
+        Ok(p) => p,
+        Err(e) => {
+            eprintln!("error: {file}: {e}");
+            return BAD_INPUT;
+        }
+    };
+    let shard = match &a.shard {
+        Some(s) => match study::Shard::parse(s) {
+            Some(s) => Some(s),
+            None => {
+                eprintln!("error: --shard expects I/N with 0 <= I < N, got '{s}'");
+                return BAD_INPUT;
+            }
+        },
+        None => None,
+    };
+    let mut params = study::StudyParams {
+        threads: a.threads,
+        shard,
+        ..Default::default()
+    };
+    let header = study::Header::new(&plan, params.chain, shard).with_input(file_hash(&a.file));
+    let base = overrides;
+    let work = |v: &study::Variant, _warm: Option<&study::WarmStart>| {
+        let mut o = v.overrides.clone();
+        for (k, val) in &base.params {
+            o.params.entry(k.clone()).or_insert(*val);
+        }
+        let (c, m, verdicts) = solve_variant(&parsed, &o, 1.0)?;
+        Ok(study::Outcome {
+            metrics: flatten(&c, &m),
+            verdicts: verdicts
+                .iter()
+                .map(|x| {
+                    (
+                        x.requirement.clone(),
+                        study::Verdict {
+                            pass: x.pass,
+                            margin: x.margin.unwrap_or(f64::NEG_INFINITY).max(-1e300),
+                        },
+                    )
+                })
+                .collect(),
+            warm: None,
+        })
+    };
+    let total = plan.len();
+    let pb = progress_bar(total);
+    let progress = |p: study::Progress| {
+        if let Some(pb) = &pb {
+            pb.set_length(p.total);
+            pb.set_position(p.done);
+        }
+    };
+    let mut summary_sink = SummarySink::default();
+    let result = match &a.out {
+        None => study::run_study(&plan, &params, work, &mut summary_sink, &progress),
+        Some(path) if a.resume => match study::resume(path, &header) {
+            Ok((done, sink, _info)) => {
+                params.done = Some(done);
+                let mut tee = study::TeeSink(sink, &mut summary_sink);
+                study::run_study(&plan, &params, work, &mut tee, &progress)
+            }
+            Err(e) => {
+                eprintln!("error: {e}");
+                return BAD_INPUT;
+            }
+        },
+        Some(path) => {
+            let is_csv = path.extension().is_some_and(|e| e == "csv");
+            let f = match std::fs::File::create(path) {
+                Ok(f) => f,
+                Err(e) => {
+                    eprintln!("error: cannot write '{}': {e}", path.display());
+                    return BAD_INPUT;
+                }
+            };
+            if is_csv {
+                let layout = study::CsvLayout {
+                    values: plan.value_keys(),
+                    metrics: Vec::new(),
+                    verdicts: loaded
+                        .circuit
+                        .requirements
+                        .iter()
+                        .map(|r| r.text.clone())
+                        .collect(),
+                };
+                match study::CsvSink::create(f, layout) {
+                    Ok(sink) => {
+                        let mut tee = study::TeeSink(sink, &mut summary_sink);
+                        study::run_study(&plan, &params, work, &mut tee, &progress)
+                    }
+                    Err(e) => Err(e),
+                }
+            } else {
+                match study::JsonlSink::create(f, &header) {
+                    Ok(sink) => {
+                        let mut tee = study::TeeSink(sink, &mut summary_sink);
+                        study::run_study(&plan, &params, work, &mut tee, &progress)
+                    }
+                    Err(e) => Err(e),
+                }
+            }
+        }
+    };
+    if let Some(pb) = &pb {
+        pb.finish_and_clear();
+    }
+    let info = match result {
+        Ok(i) => i,
+        Err(e) => {
+            eprintln!("error: {file}: study failed: {e}");
+            return SOLVER;
+        }
+    };
+    let summary = match summary_sink.builder.finish(&a.percentiles) {
+        Ok(s) => s,
+        Err(e) => {
+            eprintln!("error: {e}");
+            return BAD_INPUT;
+        }
+    };
+    println!(
+        "{}\n{}: {} variants run on {} threads{}\n",
+        loaded
+            .circuit
+            .title
+            .as_deref()
+            .unwrap_or("(untitled stage)"),
+        file,
+        info.recorded,
+        info.threads,
+        if info.skipped > 0 {
+            format!(", {} already recorded", info.skipped)
+        } else {
+            String::new()
+        }
+    );
+    print!("{}", tankwave_report::batch::summary_text(&summary));
+    if summary.failed > 0 || summary.passed_all < summary.variants {
+        FAILED
+    } else {
+        OK
+    }
+}
+
+/// Run `merge`.
+pub fn merge(a: &MergeArgs) -> i32 {
+    let mut inputs = Vec::new();
+    for p in &a.inputs {
+        match std::fs::File::open(p) {
+            Ok(f) => inputs.push((p.display().to_string(), std::io::BufReader::new(f))),
+            Err(e) => {
+                eprintln!("error: cannot read '{}': {e}", p.display());
+                return BAD_INPUT;
+            }
+        }
+    }
+    let mut out = Vec::new();
+    let info = match study::merge(inputs, &mut out) {
+        Ok(i) => i,
+        Err(e) => {
+            eprintln!("error: {e}");
+            return BAD_INPUT;
+        }
+    };
+    if let Err(e) = tankwave_report::write_atomic(&a.out, &out) {
+        eprintln!("error: {e}");
+        return BAD_INPUT;
+    }
+    eprintln!(
+        "merged {} records into {} ({} duplicates dropped, {} variants missing)",
+        info.records,
+        a.out.display(),
+        info.duplicates,
+        info.missing
+    );
+    if info.missing > 0 {
+        FAILED
+    } else {
+        OK
+    }
+}
+
+/// Run `tune`.
+pub fn tune(a: &TuneArgs) -> i32 {
+    let file = a.file.display().to_string();
+    let loaded = match pipeline::load(&a.file, &Overrides::default()) {
+        Ok(l) => l,
+        Err(f) => return common::report_failure(&file, &f),
+    };
+    let parsed = tankwave_netlist::parse_file(&a.file);
+    let mut ranges: Vec<Tune> = Vec::new();
+    for p in &a.params {
+        let parsed_range = p.split_once('=').and_then(|(n, r)| {
+            let (lo, hi) = r.split_once(':')?;
+            Some((n.trim().to_string(), lo.to_string(), hi.to_string()))
+        });
+        let Some((name, lo, hi)) = parsed_range else {
+            eprintln!("error: --param expects NAME=FROM:TO, got '{p}'");
+            return BAD_INPUT;
+        };
+        match (common::parse_value(&lo), common::parse_value(&hi)) {
+            (Ok(from), Ok(to)) => ranges.push(Tune {
+                param: name,
+                from,
+                to,
+            }),
+            (Err(e), _) | (_, Err(e)) => {
+                eprintln!("error: --param {name}: {e}");
+                return BAD_INPUT;
+            }
+        }
+    }
+    if ranges.is_empty() {
+        ranges = loaded.circuit.study.tune.clone();
+    }
+    if ranges.is_empty() {
+        eprintln!(
+            "error: {file}: nothing to tune: add `tune NAME from A to B` or --param NAME=A:B"
+        );
+        return BAD_INPUT;
+    }
+    let goal = match a.goal {
+        Goal::Pout => study::TuneGoal::MaximisePout,
+        Goal::Vswr => study::TuneGoal::MinimiseInputVswr,
+        Goal::Efficiency => {
+            let Some(p) = &a.pout_min else {
+                eprintln!("error: --goal efficiency needs --pout-min");
+                return BAD_INPUT;
+            };
+            match common::parse_value(p) {
+                Ok(v) => study::TuneGoal::MaximiseEfficiencyAt { pout_min: v },
+                Err(e) => {
+                    eprintln!("error: --pout-min: {e}");
+                    return BAD_INPUT;
+                }
+            }
+        }
+    };
+    let params = study::TuneParams {
+        max_iters: a.max_iters,
+        search_drive: a.search_drive,
+        ..Default::default()
+    };
+    let objective = |values: &BTreeMap<String, f64>, ctx: &study::TuneContext| {
+        let o = Overrides {
+            params: values.clone(),
+            ..Overrides::default()
+        };
+        let (_c, m, _v) = solve_variant(&parsed, &o, ctx.drive_scale)?;
+        Ok(study::TuneFigures {
+            pout: m.output.as_ref().map(|o| o.p1_w),
+            efficiency: m.efficiency,
+            input_vswr: m.drive.as_ref().and_then(|d| d.vswr),
+        })
+    };
+    match study::tune(&ranges, objective, goal, &params) {
+        Ok(r) => {
+            println!(
+                "{}\n{file}\n",
+                loaded
+                    .circuit
+                    .title
+                    .as_deref()
+                    .unwrap_or("(untitled stage)")
+            );
+            print!("{}", tankwave_report::batch::tune_text(&r));
+            OK
+        }
+        Err(e) => {
+            eprintln!("error: {file}: tuning failed: {e}");
+            SOLVER
+        }
+    }
+}
