@@ -269,6 +269,31 @@ impl<'a> Cx<'a> {
 
     /// Evaluate a value in a slot: check a bare literal's unit, convert to SI.
     fn value(&mut self, e: &Expr, slot: Slot, what: &str) -> Option<f64> {
+        // A bare parameter name whose `let` is a literal with a unit: check that unit too.
+        if let Some(n) = e.as_name() {
+            let written = self
+                .lets
+                .get(n)
+                .and_then(|(id, le)| match le.literal_unit() {
+                    Some(Some(u)) => Some((u, id.span)),
+                    _ => None,
+                });
+            if let Some((u, at)) = written {
+                if slot != Slot::Any && !slot.accepts(u) && !self.ov.params.contains_key(n) {
+                    let line = self.map.line_col(at.file, at.start).0;
+                    self.error(
+                        "unit-mismatch",
+                        e.span,
+                        format!(
+                            "{what} needs {}, but parameter '{n}' is in {u}",
+                            slot.describe()
+                        ),
+                    )
+                    .help = Some(format!("'{n}' is defined at line {line}"));
+                    return None;
+                }
+            }
+        }
         if let Some(unit) = e.literal_unit() {
             match unit {
                 Some(u) if !slot.accepts(u) => {
