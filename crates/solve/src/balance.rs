@@ -328,8 +328,11 @@ fn check_params(bp: &BalanceParams) -> Result<(), SolveError> {
     Ok(())
 }
 
-/// First whole number of periods after every source's delay, rise and last corner.
-fn start_time(circuit: &Circuit, period: f64) -> f64 {
+/// First whole number of periods after every source's delay, rise and last
+/// corner: the time origin of the period harmonic balance solves for (the
+/// sources are periodic from there on). Other periodic methods can start
+/// their period here too, so that all of them see the same drive.
+pub(crate) fn start_time(circuit: &Circuit, period: f64) -> f64 {
     let mut t = 0.0f64;
     for el in &circuit.elements {
         let wave = match &el.kind {

@@ -7,7 +7,7 @@
 //! samples. Methods:
 //! - shooting ([`crate::shooting`]): Newton on the state at the period start;
 //! - settle: plain transient until one period repeats the previous one;
-//! - balance: harmonic balance ([`crate::balance`]), called through `run_balance`.
+//! - balance: harmonic balance ([`mod@crate::balance`]), called through `run_balance`.
 
 use crate::error::When;
 use crate::linalg::LinearSolver;
@@ -30,7 +30,8 @@ pub struct PeriodicSolution {
     pub x: Vec<Vec<f64>>,
     /// `[element index in circuit.elements][terminal][n]`: current INTO the
     /// element at that terminal, `i + dq/dt` from the element's devices (the
-    /// derivative taken spectrally over the period). Empty for couplings.
+    /// derivative taken spectrally over the period for harmonic balance, by the
+    /// integration formula for shooting and settle). Empty for couplings.
     pub terminal_currents: Vec<Vec<Vec<f64>>>,
     /// How it was obtained.
     pub info: SteadyInfo,
@@ -258,14 +259,19 @@ pub fn settle(
     let mut last_change = (f64::INFINITY, 0.0, 0usize);
     for p in 0..params.settle.max_periods {
         let mut cur = vec![vec![0.0; ns]; n];
+        let mut stage = vec![vec![0.0; ns]; n];
         for s in 0..ns {
             for (k, row) in cur.iter_mut().enumerate() {
                 row[s] = st.x[k];
             }
             // Land exactly on the period grid to avoid drift of t.
             let t1 = (p * ns + s + 1) as f64 * h;
-            st.step_trbdf2(t1)
+            let xg = st
+                .step_trbdf2(t1)
                 .map_err(|e| e.into_error(devices, "settle"))?;
+            for (k, row) in stage.iter_mut().enumerate() {
+                row[s] = xg[k];
+            }
         }
         if let Some(pv) = &prev {
             let mut worst = (0.0f64, 0.0f64, 0usize, 0.0f64);
@@ -289,7 +295,8 @@ pub fn settle(
             }
             last_change = (worst.1, worst.3, worst.2);
             if worst.0 <= 1.0 {
-                let terminal_currents = terminal_currents(circuit, devices, &cur, params.freq)?;
+                let terminal_currents =
+                    terminal_currents_trbdf2(circuit, devices, &cur, &stage, params.freq)?;
                 return Ok(PeriodicSolution {
                     freq: params.freq,
                     harmonics: params.harmonics,
@@ -358,6 +365,33 @@ pub fn terminal_currents(
     x: &[Vec<f64>],
     freq: f64,
 ) -> Result<Vec<Vec<Vec<f64>>>, SolveError> {
+    element_currents(circuit, devices, x, None, freq)
+}
+
+/// Terminal currents of a periodic solution found with TR-BDF2 steps
+/// (shooting, settle): like [`terminal_currents`], but `dq/dt` at each sample
+/// is the BDF2 stage formula through the previous sample, the stage point
+/// `stage[k][n−1]` (at `t_{n−1} + γh`) and the sample itself — the derivative
+/// the integrator used, so every node's KCL (internal device nodes included)
+/// holds to the Newton tolerance, which the spectral derivative of a sharp
+/// conduction pulse would not give.
+pub(crate) fn terminal_currents_trbdf2(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    x: &[Vec<f64>],
+    stage: &[Vec<f64>],
+    freq: f64,
+) -> Result<Vec<Vec<Vec<f64>>>, SolveError> {
+    element_currents(circuit, devices, x, Some(stage), freq)
+}
+
+fn element_currents(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    x: &[Vec<f64>],
+    stage: Option<&[Vec<f64>]>,
+    freq: f64,
+) -> Result<Vec<Vec<Vec<f64>>>, SolveError> {
     let n = devices.n_unknowns;
     let ns = x.first().map(|v| v.len()).unwrap_or(0);
     if x.len() != n || x.iter().any(|v| v.len() != ns) || ns == 0 {
@@ -384,9 +418,39 @@ pub fn terminal_currents(
             .filter(|(_, d)| d.element() == ei)
             .map(|(k, _)| k)
             .collect();
-        // i and q of the rows of this element's terminals, per sample.
+        // i and q of the rows of this element's terminals, per sample (and q
+        // at the stage points when given).
         let mut iv = vec![vec![0.0; ns]; terms.len()];
         let mut qv = vec![vec![0.0; ns]; terms.len()];
+        let mut qg = vec![vec![0.0; ns]; terms.len()];
+        if let Some(stage) = stage {
+            for s in 0..ns {
+                for k in 0..n {
+                    xs[k] = stage[k][s];
+                }
+                let ctx = EvalCtx {
+                    time: (s as f64 + crate::transient::GAMMA) * period / ns as f64,
+                    limit: false,
+                    ..EvalCtx::default()
+                };
+                let mut stamp = IqStamp {
+                    i: vec![0.0; n],
+                    q: vec![0.0; n],
+                };
+                for &di in &devs {
+                    let d = &devices.devices[di];
+                    let off = devices.state_offsets.get(di).copied().unwrap_or(0);
+                    let len = d.state_len();
+                    let sl = state.get_mut(off..off + len).unwrap_or(&mut []);
+                    d.eval(&xs, &ctx, sl, &mut stamp);
+                }
+                for (j, t) in terms.iter().enumerate() {
+                    if let Some(k) = t {
+                        qg[j][s] = stamp.q.get(*k).copied().unwrap_or(0.0);
+                    }
+                }
+            }
+        }
         for s in 0..ns {
             for k in 0..n {
                 xs[k] = x[k][s];
@@ -415,8 +479,21 @@ pub fn terminal_currents(
             }
         }
         let mut cur = Vec::with_capacity(terms.len());
+        let h = period / ns as f64;
+        let (a0, a1, a2) = crate::transient::bdf2_coefficients(
+            (1.0 - crate::transient::GAMMA) * h,
+            crate::transient::GAMMA * h,
+        );
         for j in 0..terms.len() {
-            let dq = fft.derivative(&qv[j], freq);
+            let dq = match stage {
+                None => fft.derivative(&qv[j], freq),
+                Some(_) => (0..ns)
+                    .map(|s| {
+                        let p = (s + ns - 1) % ns;
+                        a0 * qv[j][s] + a1 * qg[j][p] + a2 * qv[j][p]
+                    })
+                    .collect(),
+            };
             let c: Vec<f64> = iv[j].iter().zip(&dq).map(|(a, b)| a + b).collect();
             cur.push(c);
         }
