@@ -111,9 +111,8 @@ pub fn solve(circuit: &Circuit, scope: Scope) -> Result<Results, Failure> {
             Analysis::Transient { .. } => {
                 if scope == Scope::All {
                     let p = TransientParams::from_analysis(a).unwrap_or_default();
-                    res.transients.push(
-                        tankwave_solve::transient(circuit, &devices, &p).map_err(solve_err)?,
-                    );
+                    res.transients
+                        .push(tankwave_solve::transient(circuit, &devices, &p).map_err(solve_err)?);
                 }
             }
             Analysis::Ac { .. } => {

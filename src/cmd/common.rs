@@ -22,8 +22,7 @@ pub fn overrides(sets: &[String]) -> Result<Overrides, String> {
             return Err(format!("--set expects name=value, got '{s}'"));
         };
         let k = k.trim();
-        let value = parse_value(v.trim())
-            .map_err(|e| format!("--set {k}: {e}"))?;
+        let value = parse_value(v.trim()).map_err(|e| format!("--set {k}: {e}"))?;
         params.insert(k.to_string(), value);
     }
     Ok(Overrides {
