@@ -110,6 +110,9 @@ use tankwave_devices::{DenseStamp, DeviceSet, EvalCtx, Filter, Idx, Stamp, Unkno
 
 const J: C64 = C64 { re: 0.0, im: 1.0 };
 const ZERO: C64 = C64 { re: 0.0, im: 0.0 };
+/// Largest real Newton system (dense: its Jacobian takes 8·n² bytes, and
+/// the LU a copy); a raise of K stops short of it, a request above it is refused.
+const MAX_SYSTEM: usize = 5000;
 /// Pivots below this fraction of the largest entry count as zero.
 const PIVOT_FLOOR: f64 = 1e-14;
 /// Relative tolerance of the source periodicity check (common practice: well
@@ -135,7 +138,8 @@ pub struct BalanceParams {
     pub max_levels: usize,
     /// Double K while the top harmonics are not negligible (default true).
     pub raise_harmonics: bool,
-    /// Cap on the raised K (default 128).
+    /// Cap on the raised K (default 128). K is also never raised past a Newton
+    /// system of 5000 real unknowns (ports × (2K+1)).
     pub max_harmonics: usize,
     /// Top-harmonic limit relative to the largest fundamental (default 1e-6).
     pub truncation_rel: f64,
@@ -269,7 +273,9 @@ pub fn balance(
         total_iter += solved.iterations;
         cuts += solved.cuts;
         levels += solved.continuation_steps;
-        let more = solved.truncation > 1.0 && bp.raise_harmonics && k < bp.max_harmonics;
+        let next = (2 * k).min(bp.max_harmonics);
+        let fits = solved.ports * (2 * next + 1) <= MAX_SYSTEM;
+        let more = solved.truncation > 1.0 && bp.raise_harmonics && k < bp.max_harmonics && fits;
         warm = Some(solved.x_full.clone());
         best = Some(solved);
         if !more {
@@ -1451,6 +1457,20 @@ fn solve_k(
         Err(_) => reduce(&lin, &all, kmax, omega).map_err(singular)?,
     };
     let reduced = !red.others.is_empty();
+    let size = red.ports.len() * (2 * kmax + 1);
+    if size > MAX_SYSTEM {
+        return Err((
+            SolveError::BadParams(format!(
+                "harmonic balance: the Newton system would have {size} unknowns \
+                 ({} ports × {} real harmonic terms), above the limit of {MAX_SYSTEM}; \
+                 use fewer harmonics",
+                red.ports.len(),
+                2 * kmax + 1
+            )),
+            0,
+            0,
+        ));
+    }
     let mut prob = Problem::new(devices, red, kmax, nfft, omega, t_start, params);
     let attempt = run_levels(&mut prob, params, x_op, warm);
     let attempt = match attempt {

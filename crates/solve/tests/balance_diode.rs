@@ -422,6 +422,12 @@ fn failures_are_typed_errors() {
         Err(SolveError::BadParams(m)) => assert!(m.contains("not periodic"), "{m}"),
         other => panic!("expected a periodicity error, got {other:?}"),
     }
+    // A Newton system too large to factor densely is refused with the numbers.
+    let p4 = params(SteadyMethod::Balance, 4000, 256);
+    match steady(&b.c, &d, &p4) {
+        Err(SolveError::BadParams(m)) => assert!(m.contains("16002 unknowns"), "{m}"),
+        other => panic!("expected a size error, got {other:?}"),
+    }
     // Bad options are refused, not panicked on.
     let mut p3 = params(SteadyMethod::Balance, 8, 256);
     p3.balance.oversample = 1;
