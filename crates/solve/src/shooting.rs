@@ -22,7 +22,7 @@
 //! `reltol·max_n |x_k| + (vntol | abstol)`.
 
 use crate::newton::unknown_abstol;
-use crate::steady::{terminal_currents, PeriodicSolution, SteadyInfo, SteadyParams};
+use crate::steady::{terminal_currents_trbdf2, PeriodicSolution, SteadyInfo, SteadyParams};
 use crate::transient::{bdf2_coefficients, charged_rows, Method, Stepper, GAMMA};
 use crate::SolveError;
 use faer::Mat;
@@ -67,6 +67,7 @@ pub fn shooting(
         let mut c0 = Mat::<f64>::from_fn(n, n, |r, c| st.ws.stamp.c_at(r, c));
         let mut sens = Mat::<f64>::identity(n, n);
         let mut samples = vec![vec![0.0; ns]; n];
+        let mut stage = vec![vec![0.0; ns]; n];
         for s in 0..ns {
             for (k, row) in samples.iter_mut().enumerate() {
                 row[s] = st.x[k];
@@ -83,6 +84,9 @@ pub fn shooting(
             let cg = Mat::<f64>::from_fn(n, n, |r, c| st.ws.stamp.c_at(r, c));
             let h0 = tg - st.t;
             st.commit(a);
+            for (k, row) in stage.iter_mut().enumerate() {
+                row[s] = st.x[k];
+            }
             // Stage 2, BDF2 through t, t + γh, t1:
             // (G₁ + a0·C₁) S₁ = −(a1·C_γ S_γ + a2·C₀ S₀).
             let (_, a1, a2) = bdf2_coefficients(t1 - st.t, h0);
@@ -126,7 +130,8 @@ pub fn shooting(
         }
         last = (r[worst.1].abs(), worst.1);
         if worst.0 <= 1.0 {
-            let terminal_currents = terminal_currents(circuit, devices, &samples, params.freq)?;
+            let terminal_currents =
+                terminal_currents_trbdf2(circuit, devices, &samples, &stage, params.freq)?;
             return Ok(PeriodicSolution {
                 freq: params.freq,
                 harmonics: params.harmonics,

@@ -496,10 +496,13 @@ impl<'a> Stepper<'a> {
     /// Second order and L-stable: unlike the plain trapezoidal rule it leaves
     /// no undamped (−1)ⁿ mode in algebraic unknowns, so a periodic solution
     /// of the discrete equations is unique.
-    pub fn step_trbdf2(&mut self, t1: f64) -> Result<(), StepFail> {
+    /// Returns the unknowns at the intermediate point `t + γh`.
+    pub fn step_trbdf2(&mut self, t1: f64) -> Result<Vec<f64>, StepFail> {
         let tg = self.t + GAMMA * (t1 - self.t);
         self.step_to(tg, Method::Trapezoidal)?;
-        self.step_to(t1, Method::Bdf2)
+        let xg = self.x.clone();
+        self.step_to(t1, Method::Bdf2)?;
+        Ok(xg)
     }
 
     /// Forget the history (after a breakpoint): the next step is backward Euler.

@@ -128,3 +128,26 @@ pub fn sine(amp: f64, freq: f64) -> Shape {
 pub fn vt(t: f64) -> f64 {
     K_B * t / Q_E
 }
+
+impl B {
+    /// A bipolar transistor with its own model.
+    pub fn bjt(&mut self, name: &str, c: &str, b: &str, e: &str, params: BjtParams) -> ElementId {
+        self.c.models.push(Model {
+            name: format!("m_{name}"),
+            params: ModelParams::Bjt(params),
+            origin: Origin::default(),
+        });
+        let model = self.c.models.len() - 1;
+        let (c, b, e) = (self.node(c), self.node(b), self.node(e));
+        self.push(
+            name,
+            ElementKind::Bjt {
+                c,
+                b,
+                e,
+                model,
+                area: 1.0,
+            },
+        )
+    }
+}
