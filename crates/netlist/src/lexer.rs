@@ -180,7 +180,8 @@ fn suffix(i: &str) -> IResult<&str, &str> {
 pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic>) -> Vec<Token> {
     let mut toks: Vec<Token> = Vec::with_capacity(text.len() / 4 + 1);
     let mut stack: Vec<(TokKind, Span)> = Vec::new();
-    let mut rest = text;
+    // A byte-order mark at the start is not content.
+    let mut rest = text.strip_prefix('\u{FEFF}').unwrap_or(text);
     let len = text.len();
     let mut at_line_start = true;
     while !rest.is_empty() {
@@ -493,6 +494,13 @@ mod tests {
         let (k, _) = kinds("a (1 +\n 2)\nb");
         let nl = k.iter().filter(|k| **k == TokKind::Newline).count();
         assert_eq!(nl, 1);
+    }
+
+    #[test]
+    fn a_leading_byte_order_mark_is_skipped() {
+        let (k, d) = kinds("\u{FEFF}let x = 1");
+        assert!(d.is_empty());
+        assert_eq!(k[0], TokKind::Ident("let".into()));
     }
 
     #[test]
