@@ -42,6 +42,9 @@ pub enum Failure {
 /// Parse and elaborate `path` with `overrides`.
 pub fn load(path: &Path, overrides: &Overrides) -> Result<Loaded, Failure> {
     let parsed = tankwave_netlist::parse_file(path);
+    if let Some(m) = empty_file(&parsed) {
+        return Err(Failure::Setup(m));
+    }
     match tankwave_circuit::elaborate(&parsed, overrides) {
         Ok(e) => Ok(Loaded {
             circuit: e.circuit,
@@ -53,6 +56,13 @@ pub fn load(path: &Path, overrides: &Overrides) -> Result<Loaded, Failure> {
             sources: parsed.sources.clone(),
         }),
     }
+}
+
+/// The message for a file that read cleanly but holds no statement at all
+/// (empty, blank or only comments): nothing to check or solve, so bad input.
+pub fn empty_file(parsed: &tankwave_netlist::Parsed) -> Option<String> {
+    (parsed.statements.is_empty() && parsed.diagnostics.is_empty())
+        .then(|| "the file holds no statements (it is empty or only comments)".to_string())
 }
 
 /// The steady state of a stage and what was measured on it.

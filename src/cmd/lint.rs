@@ -40,6 +40,11 @@ pub fn lint_files(files: &[PathBuf], overrides: &Overrides) -> i32 {
     let mut code = OK;
     for f in files {
         let parsed = tankwave_netlist::parse_file(f);
+        if let Some(m) = crate::pipeline::empty_file(&parsed) {
+            eprintln!("error: {}: {m}", f.display());
+            code = BAD_INPUT;
+            continue;
+        }
         match tankwave_circuit::elaborate(&parsed, overrides) {
             Ok(e) => {
                 print!("{}", summary(f, &e.circuit, e.warnings.len()));

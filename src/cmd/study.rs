@@ -392,6 +392,14 @@ pub fn merge(a: &MergeArgs) -> i32 {
             return BAD_INPUT;
         }
     };
+    if out.is_empty() {
+        // No input held a complete study header line: nothing to merge.
+        eprintln!(
+            "error: no study records to merge: {} empty or cut off before the first line ends",
+            info.truncated_inputs.join(", ")
+        );
+        return BAD_INPUT;
+    }
     if let Err(e) = tankwave_report::write_atomic(&a.out, &out) {
         eprintln!("error: {e}");
         return BAD_INPUT;

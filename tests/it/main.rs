@@ -2,5 +2,7 @@
 //! and the convergence sweep over the class-C demo (`convergence`).
 //! Data lives under tests/data/.
 
+mod bad_input;
 mod cli;
 mod convergence;
+mod harness;
