@@ -317,18 +317,25 @@ fn impedance_sweep(
         }
     }
     let mut b = vec![Complex64::new(0.0, 0.0); n];
-    if let Some(a) = terms[0] {
-        b[a] += 1.0;
-    }
-    if let Some(k) = terms[1] {
-        b[k] -= 1.0;
+    for (t, v) in terms.iter().zip([1.0, -1.0]) {
+        if let Some(k) = *t {
+            match b.get_mut(k) {
+                Some(e) => *e += v,
+                None => {
+                    return Err(SolveError::BadParams(format!(
+                        "element '{}' names node #{k} outside the {n} unknowns",
+                        el.name
+                    )))
+                }
+            }
+        }
     }
     let what = format!("impedance at '{}'", el.name);
     let mut z = Vec::with_capacity(freq.len());
     for &f in freq {
         let v = solve_at(devices, &g, &c, f, &b, &what)?;
-        let va = terms[0].map(|k| v[k]).unwrap_or_default();
-        let vb = terms[1].map(|k| v[k]).unwrap_or_default();
+        let va = terms[0].and_then(|k| v.get(k).copied()).unwrap_or_default();
+        let vb = terms[1].and_then(|k| v.get(k).copied()).unwrap_or_default();
         z.push(va - vb);
     }
     let _ = circuit;
