@@ -5,4 +5,5 @@
 mod bad_input;
 mod cli;
 mod convergence;
+mod fuzz_smoke;
 mod harness;
