@@ -37,6 +37,11 @@ pub const MAX_NESTING: usize = 200;
 
 type P<T> = Result<T, ()>;
 
+/// A token stepped past (its place).
+struct Bumped {
+    span: Span,
+}
+
 /// Parse a token stream (from [`crate::lexer::lex`]) into items.
 pub fn parse_tokens(toks: &[Token], map: &SourceMap, diags: &mut Vec<Diagnostic>) -> Vec<Item> {
     let mut p = Parser {
@@ -105,12 +110,13 @@ impl<'a> Parser<'a> {
         let i = (self.pos + n).min(self.toks.len().saturating_sub(1));
         &self.toks[i].kind
     }
-    fn bump(&mut self) -> Token {
-        let t = self.tok().clone();
+    /// Step past the current token, returning where it was.
+    fn bump(&mut self) -> Bumped {
+        let span = self.tok().span;
         if self.pos < self.toks.len() {
             self.pos += 1;
         }
-        t
+        Bumped { span }
     }
     fn prev_end(&self) -> Span {
         let i = self
@@ -157,7 +163,7 @@ impl<'a> Parser<'a> {
             false
         }
     }
-    fn expect(&mut self, k: TokKind, what: &str) -> P<Token> {
+    fn expect(&mut self, k: TokKind, what: &str) -> P<Bumped> {
         if self.peek() == &k {
             Ok(self.bump())
         } else {
@@ -183,11 +189,12 @@ impl<'a> Parser<'a> {
         }
     }
     fn ident(&mut self, what: &str) -> P<Ident> {
-        match self.peek().clone() {
-            TokKind::Ident(name) => {
-                let t = self.bump();
-                Ok(Ident { name, span: t.span })
-            }
+        if let TokKind::Ident(name) = self.peek() {
+            let name = name.clone();
+            let span = self.bump().span;
+            return Ok(Ident { name, span });
+        }
+        match self.peek() {
             TokKind::Number { .. } if what.contains("node") => {
                 let t = self.tok().clone();
                 self.err_help(
