@@ -1,7 +1,10 @@
-//! The integration-test binary: the `tankwave` command end to end (`cli`),
-//! and the convergence sweep over the class-C demo (`convergence`).
-//! Data lives under tests/data/.
+//! The integration-test binary: the `tankwave` command end to end (`cli`,
+//! `bad_input`), agreement of the steady-state methods on every demo stage
+//! (`agreement`), the convergence sweep over the class-C demo
+//! (`convergence`), and a bounded solve of random small circuits
+//! (`fuzz_smoke`). Data lives under tests/data/.
 
+mod agreement;
 mod bad_input;
 mod cli;
 mod convergence;

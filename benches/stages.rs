@@ -1,0 +1,177 @@
+//! Bench binary for whole stages (run: `cargo bench --bench stages`).
+//!
+//! Machines are noisy, so every figure that matters is a ratio of two times
+//! measured in the same run, and each time is the median of several repeats.
+//! Prints, for every demo stage in netlists/:
+//!  - the steady state (method auto) against a plain transient of 10 carrier
+//!    periods at the default accuracy, and against the settled brute-force
+//!    transient (method settle), as ratios;
+//!  - for the class-C demo, the transient over 300 periods with its step count;
+//!  - a Monte Carlo study of the class-C demo on 1 and 2 threads: variants per
+//!    second and the speed-up.
+//! Set TANKWAVE_BENCH_VARIANTS to change the study size (default 1000).
+
+use std::path::{Path, PathBuf};
+use std::time::Instant;
+use tankwave_circuit::{Circuit, Overrides, SteadyMethod};
+use tankwave_solve::{SteadyParams, TransientParams};
+
+fn median(mut v: Vec<f64>) -> f64 {
+    v.sort_by(|a, b| a.total_cmp(b));
+    v[v.len() / 2]
+}
+
+fn time<F: FnMut()>(repeats: usize, mut f: F) -> f64 {
+    let mut t = Vec::new();
+    for _ in 0..repeats {
+        let s = Instant::now();
+        f();
+        t.push(s.elapsed().as_secs_f64());
+    }
+    median(t)
+}
+
+fn load(p: &Path) -> Circuit {
+    tankwave_circuit::load_file(p, &Overrides::default())
+        .unwrap_or_else(|e| panic!("{}: {e}", p.display()))
+        .circuit
+}
+
+fn steady_params(c: &Circuit) -> SteadyParams {
+    c.analyses
+        .iter()
+        .find_map(SteadyParams::from_analysis)
+        .expect("an analyze steady")
+}
+
+fn main() {
+    // `cargo bench` passes --bench; nothing else is accepted
+    let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
+    let mut files: Vec<PathBuf> = std::fs::read_dir(root.join("netlists"))
+        .expect("netlists/")
+        .filter_map(|e| e.ok().map(|e| e.path()))
+        .filter(|p| p.extension().is_some_and(|e| e == "tank"))
+        .collect();
+    files.sort();
+    println!("steady state vs plain transient (median of 3 runs each)");
+    println!(
+        "{:<34} {:>10} {:>12} {:>8} {:>12} {:>10} {:>8}",
+        "stage", "steady s", "10 periods s", "ratio", "settled s", "periods", "ratio"
+    );
+    for f in &files {
+        let c = load(f);
+        let d = tankwave_devices::instantiate(&c).expect("devices");
+        let sp = steady_params(&c);
+        let mut method = String::new();
+        let t_steady = time(3, || {
+            let s = tankwave_solve::steady(&c, &d, &sp).expect("steady");
+            method = format!("{:?}", s.info.method);
+        });
+        let tp = TransientParams {
+            stop: 10.0 / sp.freq,
+            step: 1.0 / (sp.freq * 64.0),
+            ..TransientParams::default()
+        };
+        let t_tran = time(3, || {
+            tankwave_solve::transient(&c, &d, &tp).expect("transient");
+        });
+        let settle = SteadyParams {
+            method: SteadyMethod::Settle,
+            ..sp.clone()
+        };
+        let mut periods = 0;
+        let t_settle = time(1, || match tankwave_solve::steady(&c, &d, &settle) {
+            Ok(s) => periods = s.info.iterations,
+            Err(e) => eprintln!("settle failed on {}: {e}", f.display()),
+        });
+        println!(
+            "{:<34} {:>10.4} {:>12.4} {:>8.2} {:>12.3} {:>10} {:>8.1}   ({method})",
+            f.file_name().unwrap().to_string_lossy(),
+            t_steady,
+            t_tran,
+            t_steady / t_tran,
+            t_settle,
+            periods,
+            t_settle / t_steady
+        );
+    }
+
+    let classc = load(&root.join("netlists/ism-13m56-classc.tank"));
+    let d = tankwave_devices::instantiate(&classc).expect("devices");
+    let f0 = steady_params(&classc).freq;
+    let tp = TransientParams {
+        stop: 300.0 / f0,
+        step: 1.0 / (f0 * 64.0),
+        ..TransientParams::default()
+    };
+    let mut steps = 0;
+    let t300 = time(1, || {
+        let r = tankwave_solve::transient(&classc, &d, &tp).expect("transient");
+        steps = r.info.accepted;
+    });
+    println!(
+        "\nclass-C demo, transient over 300 periods: {t300:.3} s, {steps} accepted steps ({:.0} per period)",
+        steps as f64 / 300.0
+    );
+
+    let n: usize = std::env::var("TANKWAVE_BENCH_VARIANTS")
+        .ok()
+        .and_then(|s| s.parse().ok())
+        .unwrap_or(1000);
+    let parsed = tankwave_netlist::parse_file(root.join("netlists/ism-13m56-classc.tank"));
+    let mut spec = classc.study.clone();
+    spec.tolerances = ["c1", "c2", "lpi", "rbias"]
+        .iter()
+        .map(|e| tankwave_circuit::Tolerance {
+            element: classc.element(e).expect("element"),
+            fraction: 0.05,
+            distribution: tankwave_circuit::Distribution::Gaussian,
+        })
+        .collect();
+    spec.montecarlo = Some(tankwave_circuit::MonteCarlo {
+        runs: n,
+        seed: 1,
+    });
+    let names: Vec<&str> = classc.elements.iter().map(|e| e.name.as_str()).collect();
+    let plan = tankwave_study::Plan::new(&spec, &names).expect("plan");
+    let work = |v: &tankwave_study::Variant, _w: Option<&tankwave_study::WarmStart>| {
+        let c = tankwave_circuit::elaborate(&parsed, &v.overrides)
+            .map_err(|_| "elaborate".to_string())?
+            .circuit;
+        let d = tankwave_devices::instantiate(&c).map_err(|e| e.to_string())?;
+        let s = tankwave_solve::steady(&c, &d, &steady_params(&c)).map_err(|e| e.to_string())?;
+        let mut metrics = std::collections::BTreeMap::new();
+        metrics.insert("iterations".to_string(), s.info.iterations as f64);
+        Ok(tankwave_study::Outcome {
+            metrics,
+            verdicts: Default::default(),
+            warm: None,
+        })
+    };
+    let mut rates = Vec::new();
+    for threads in [1usize, 2] {
+        let params = tankwave_study::StudyParams {
+            threads: Some(threads),
+            ..Default::default()
+        };
+        let mut sink = tankwave_study::SummaryBuilder::default();
+        struct Sink<'a>(&'a mut tankwave_study::SummaryBuilder);
+        impl tankwave_study::RecordSink for Sink<'_> {
+            fn record(&mut self, r: &tankwave_study::Record) -> Result<(), tankwave_study::StudyError> {
+                self.0.add(r);
+                Ok(())
+            }
+        }
+        let s = Instant::now();
+        let info = tankwave_study::run_study(&plan, &params, work, &mut Sink(&mut sink), &|_| {})
+            .expect("study");
+        let dt = s.elapsed().as_secs_f64();
+        let rate = info.recorded as f64 / dt;
+        rates.push(rate);
+        println!(
+            "Monte Carlo of the class-C demo, {} variants on {threads} thread(s): {dt:.2} s, {rate:.1} variants/s, {} failed",
+            info.recorded, info.failed
+        );
+    }
+    println!("speed-up of 2 threads over 1: {:.2}x", rates[1] / rates[0]);
+}
