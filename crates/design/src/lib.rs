@@ -36,6 +36,6 @@ pub use matching::{design_match, Absorption, ComplexValue, MatchDesign, MatchPar
 pub use network::{ElementStress, HarmonicGain, Naming, Network, NetworkElement, Part, Placement};
 pub use si::format_si;
 pub use verify::{
-    circuit_for, verify_lowpass, verify_match, verify_network, Verification, VerifyParams,
-    VerifyPoint,
+    circuit_for, fragment_harness, verify_fragment, verify_lowpass, verify_match, verify_network,
+    Verification, VerifyParams, VerifyPoint,
 };

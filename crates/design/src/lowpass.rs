@@ -334,7 +334,9 @@ pub fn design_lowpass(
         crate::si::format_si(impedance, "", 5),
         crate::si::format_si(load, "", 5),
     );
-    let fragment = network.fragment(&title);
+    // Print enough digits that the pasted values keep Zin at the fundamental
+    // within 1e-4 (a tenth of the verification's acceptance).
+    let fragment = network.fragment(&title, network.digits_needed(fundamental, 1e-4));
     let stress = match power {
         Some(p) => network.element_stress(fundamental, p),
         None => Vec::new(),

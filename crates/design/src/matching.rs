@@ -371,6 +371,9 @@ pub fn design_match(
             crate::si::format_si(a.cout_f, "F", 5)
         ));
     }
-    design.fragment = design.network.fragment(&title);
+    // Print enough digits that the pasted values keep Zin within 1e-4
+    // (a tenth of the verification's acceptance).
+    let digits = an.digits_needed(freq, 1e-4);
+    design.fragment = design.network.fragment(&title, digits);
     Ok(design)
 }

@@ -68,8 +68,9 @@ impl NetworkElement {
         }
     }
 
-    /// The stage-file statement for this element.
-    pub fn statement(&self) -> String {
+    /// The stage-file statement for this element, with the value written to
+    /// `digits` significant digits.
+    pub fn statement(&self, digits: usize) -> String {
         let (kw, unit) = match self.part {
             Part::Inductor => ("inductor", "H"),
             Part::Capacitor => ("capacitor", "F"),
@@ -79,7 +80,7 @@ impl NetworkElement {
             self.name,
             self.node_a,
             self.node_b,
-            format_si(self.value, unit, 5)
+            format_si(self.value, unit, digits)
         )
     }
 }
@@ -198,9 +199,33 @@ impl Network {
         out
     }
 
+    /// The same network with every value rounded to `digits` significant
+    /// digits (what a fragment written with that many digits holds).
+    pub fn rounded(&self, digits: usize) -> Network {
+        let mut n = self.clone();
+        for e in &mut n.elements {
+            e.value = round_sig(e.value, digits);
+        }
+        n
+    }
+
+    /// The fewest significant digits, from 5 up to 9, for which the rounded
+    /// network's input impedance at `freq` stays within `rel` of the exact
+    /// one (so printed values keep the design); 9 if none is enough.
+    pub fn digits_needed(&self, freq: f64, rel: f64) -> usize {
+        let exact = self.input_impedance(freq);
+        (5..=9)
+            .find(|&d| {
+                let z = self.rounded(d).input_impedance(freq);
+                (z - exact).norm() <= rel * exact.norm()
+            })
+            .unwrap_or(9)
+    }
+
     /// The network as stage-file statements, one per line, after a comment
-    /// naming the terminations it was designed for.
-    pub fn fragment(&self, title: &str) -> String {
+    /// naming the terminations it was designed for; values written to
+    /// `digits` significant digits.
+    pub fn fragment(&self, title: &str, digits: usize) -> String {
         let mut s = format!(
             "# {title}\n# designed for a source of {} between {} and gnd, and a load of {} between {} and gnd\n",
             format_si(self.source_resistance, "Ohm", 5),
@@ -209,10 +234,26 @@ impl Network {
             self.output_node
         );
         for e in &self.elements {
-            s.push_str(&e.statement());
+            s.push_str(&e.statement(digits));
             s.push('\n');
         }
         s
+    }
+}
+
+/// Round `v` to `digits` significant digits (0 and non-finite values unchanged).
+pub fn round_sig(v: f64, digits: usize) -> f64 {
+    if v == 0.0 || !v.is_finite() {
+        return v;
+    }
+    let digits = digits.clamp(1, 15) as i32;
+    let e = v.abs().log10().floor() as i32;
+    let scale = 10f64.powi(digits - 1 - e);
+    let r = (v * scale).round() / scale;
+    if r.is_finite() {
+        r
+    } else {
+        v
     }
 }
 

@@ -1,10 +1,15 @@
 //! Verification of a designed network by tankwave's own AC analysis.
 //!
-//! [`circuit_for`] builds a [`tankwave_circuit::Circuit`] around a
-//! [`Network`]: a voltage source `vtest` from node `<input>` to ground with
-//! source resistance equal to the design's source resistance, the ladder, and
-//! a load resistor `rload` of the design's load resistance at `<output>`.
-//! [`verify_network`] runs the AC analysis of tankwave-solve at the
+//! Two ways to build the test circuit: [`circuit_for`] builds a
+//! [`tankwave_circuit::Circuit`] around a [`Network`] directly with the exact
+//! values ([`verify_network`]); [`fragment_harness`] wraps the printed
+//! stage-file fragment in stage text that tankwave's own parser and
+//! elaborator read ([`verify_fragment`], used by [`verify_match`] and
+//! [`verify_lowpass`], so what is checked is exactly what the user pastes,
+//! rounded values included). Both circuits hold a voltage source `vtest` from
+//! node `<input>` to ground with source resistance equal to the design's
+//! source resistance, the ladder, and a load resistor `rload` of the design's
+//! load resistance at `<output>`. The check runs the AC analysis of tankwave-solve at the
 //! fundamental and its harmonics (one linear sweep, f0 … N·f0, N points) and
 //! measures, from the node voltages and the source branch current of the
 //! unit-amplitude excitation:
@@ -25,7 +30,8 @@ use crate::error::{positive, DesignError};
 use crate::lowpass::LowpassDesign;
 use crate::matching::{ComplexValue, MatchDesign};
 use crate::network::{Network, Part, Placement};
-use tankwave_circuit::{Circuit, Element, ElementKind, NodeId, Origin, Scale, Waveform};
+use crate::si::format_si;
+use tankwave_circuit::{Circuit, Element, ElementKind, NodeId, Origin, Overrides, Scale, Waveform};
 
 /// Options of the verification.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -178,7 +184,7 @@ pub fn circuit_for(net: &Network) -> Result<Circuit, DesignError> {
 /// Verify `net` at `f0` and its harmonics by AC analysis against
 /// `zin_expected` at f0 and `predicted_db[k]` at harmonic k + 1 (entries
 /// beyond [`VerifyParams::harmonics`] are ignored; missing ones are not
-/// checked).
+/// checked). The circuit is built directly from the exact element values.
 pub fn verify_network(
     net: &Network,
     f0: f64,
@@ -186,20 +192,107 @@ pub fn verify_network(
     predicted_db: &[f64],
     params: &VerifyParams,
 ) -> Result<Verification, DesignError> {
+    let circuit = circuit_for(net)?;
+    verify_circuit(
+        &circuit,
+        net,
+        f0,
+        zin_expected,
+        predicted_db,
+        params,
+        "tankwave AC analysis (tankwave-solve ac) of the network with exact values, between a source of resistance R1 and a load resistor R2",
+    )
+}
+
+/// The stage text [`verify_fragment`] reads: a source `vtest` with the
+/// design's source resistance at the input node, an optional extra shunt
+/// capacitor `cout_absorbed` at the input (an absorbed device capacitance),
+/// the fragment as printed, and a load resistor `rload` at the output.
+pub fn fragment_harness(net: &Network, fragment: &str, extra_input_shunt: Option<f64>) -> String {
+    let mut t = format!(
+        "title \"design verification\"\nvsource {SOURCE_NAME} {} gnd dc=0V rs={}\n",
+        net.input_node,
+        format_si(net.source_resistance, "Ohm", 15)
+    );
+    if let Some(c) = extra_input_shunt {
+        t.push_str(&format!(
+            "capacitor cout_absorbed {} gnd {}\n",
+            net.input_node,
+            format_si(c, "F", 15)
+        ));
+    }
+    t.push_str(fragment);
+    t.push_str(&format!(
+        "\nresistor {LOAD_NAME} {} gnd {}\ninput {SOURCE_NAME}\noutput {LOAD_NAME}\n",
+        net.output_node,
+        format_si(net.load_resistance, "Ohm", 15)
+    ));
+    t
+}
+
+/// Verify the stage-file fragment *as printed* (values rounded to the printed
+/// digits): it is read by tankwave's own parser and elaborator inside
+/// [`fragment_harness`], then solved by AC analysis as in [`verify_network`].
+#[allow(clippy::too_many_arguments)]
+pub fn verify_fragment(
+    net: &Network,
+    fragment: &str,
+    extra_input_shunt: Option<f64>,
+    f0: f64,
+    zin_expected: Complex64,
+    predicted_db: &[f64],
+    params: &VerifyParams,
+) -> Result<Verification, DesignError> {
+    let text = fragment_harness(net, fragment, extra_input_shunt);
+    let loaded = tankwave_circuit::load_str("design-fragment.tank", &text, &Overrides::default())
+        .map_err(|e| {
+        let msgs: Vec<String> = e
+            .diagnostics
+            .iter()
+            .filter(|d| d.is_error())
+            .map(|d| d.to_string())
+            .collect();
+        DesignError::Solver(format!(
+            "the printed fragment does not load: {}",
+            msgs.join("; ")
+        ))
+    })?;
+    verify_circuit(
+        &loaded.circuit,
+        net,
+        f0,
+        zin_expected,
+        predicted_db,
+        params,
+        "tankwave AC analysis (tankwave-solve ac) of the printed stage-file fragment, read by tankwave's parser, between a source of resistance R1 and a load resistor R2",
+    )
+}
+
+fn verify_circuit(
+    circuit: &Circuit,
+    net: &Network,
+    f0: f64,
+    zin_expected: Complex64,
+    predicted_db: &[f64],
+    params: &VerifyParams,
+    method: &str,
+) -> Result<Verification, DesignError> {
     positive("fundamental frequency", f0)?;
     let nh = params.harmonics.clamp(1, 50);
-    let circuit = circuit_for(net)?;
+    let source = circuit.element(SOURCE_NAME).ok_or_else(|| {
+        DesignError::Solver(format!("the test circuit has no source {SOURCE_NAME}"))
+    })?;
     let devices =
-        tankwave_devices::instantiate(&circuit).map_err(|e| DesignError::Solver(e.to_string()))?;
+        tankwave_devices::instantiate(circuit).map_err(|e| DesignError::Solver(e.to_string()))?;
     let ac_params = tankwave_solve::AcParams {
         from: f0,
         to: f0 * nh as f64,
         points: nh as usize,
         scale: Scale::Linear,
-        source: Some(0),
+        source: Some(source),
         ..tankwave_solve::AcParams::default()
     };
-    let res = tankwave_solve::ac(&circuit, &devices, &ac_params)
+    let res = tankwave_solve::ac(circuit, &devices, &ac_params)
         .map_err(|e| DesignError::Solver(e.to_string()))?;
     let idx = |name: &str| {
         res.index(name)
@@ -252,7 +345,7 @@ pub fn verify_network(
             .iter()
             .all(|p| p.diff_db.abs() <= params.gain_tolerance_db);
     Ok(Verification {
-        method: "tankwave AC analysis (tankwave-solve ac) of the network between a source of resistance R1 and a load resistor R2".into(),
+        method: method.to_string(),
         f0,
         zin_expected: zin_expected.into(),
         zin_measured: zin_measured.into(),
@@ -267,16 +360,19 @@ pub fn verify_network(
     })
 }
 
-/// Verify a matching network: input impedance R1 (+j0) at f0, and the
-/// chain-matrix transducer gains at the harmonics. The absorbed output
-/// capacitance, if any, is included as a shunt at the input.
+/// Verify a matching network as printed (see [`verify_fragment`]): input
+/// impedance R1 (+j0) at f0, and the chain-matrix transducer gains of the
+/// exact design at the harmonics. The absorbed output capacitance, if any, is
+/// included as a shunt at the input.
 pub fn verify_match(d: &MatchDesign, params: &VerifyParams) -> Result<Verification, DesignError> {
     let net = d.analysis_network();
     let predicted: Vec<f64> = (1..=params.harmonics.clamp(1, 50))
         .map(|n| net.transducer_gain_db(d.freq * n as f64))
         .collect();
-    verify_network(
-        &net,
+    verify_fragment(
+        &d.network,
+        &d.fragment,
+        d.absorbed.map(|a| a.cout_f),
         d.freq,
         Complex64::new(d.r_from, 0.0),
         &predicted,
@@ -284,9 +380,10 @@ pub fn verify_match(d: &MatchDesign, params: &VerifyParams) -> Result<Verificati
     )
 }
 
-/// Verify a low-pass ladder: the input impedance at the fundamental against
-/// the chain-matrix value, and the gain at the harmonics against the
-/// closed-form prototype attenuation `−LA(f/fc)`.
+/// Verify a low-pass ladder as printed (see [`verify_fragment`]): the input
+/// impedance at the fundamental against the chain-matrix value of the exact
+/// design, and the gain at the harmonics against the closed-form prototype
+/// attenuation `−LA(f/fc)`.
 pub fn verify_lowpass(
     d: &LowpassDesign,
     params: &VerifyParams,
@@ -298,5 +395,13 @@ pub fn verify_lowpass(
         })
         .collect::<Result<_, _>>()?;
     let zin = d.network.input_impedance(d.fundamental);
-    verify_network(&d.network, d.fundamental, zin, &predicted, params)
+    verify_fragment(
+        &d.network,
+        &d.fragment,
+        None,
+        d.fundamental,
+        zin,
+        &predicted,
+        params,
+    )
 }

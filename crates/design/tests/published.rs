@@ -161,11 +161,17 @@ fn pi_worked_example() {
         "{}",
         d.fragment
     );
+    // Six significant digits are needed here to keep Zin within 1e-4 of
+    // 2.9 Ω (C2 rounded to 4.4832 nF alone moves it by more); trailing zeros
+    // are dropped, hence 17.037 and 135.43.
     assert!(
-        d.fragment.contains("capacitor cm2 out gnd 4.4832nF"),
+        d.fragment.contains("capacitor cm2 out gnd 4.48324nF"),
         "{}",
         d.fragment
     );
+    let five = d.network.rounded(5).input_impedance(7.1e6);
+    assert!((five - num_complex::Complex64::new(2.9, 0.0)).norm() > 1e-4 * 2.9);
+    assert_eq!(d.network.digits_needed(7.1e6, 1e-4), 6);
 }
 
 /// L-network worked example (check-values; L formulas common practice):

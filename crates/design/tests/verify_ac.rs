@@ -167,3 +167,61 @@ fn verification_catches_a_wrong_network() {
     assert!(v.zin_error > 1e-3, "{}", v.zin_error);
     assert!(!v.passed);
 }
+
+/// The exact-value path (circuit built directly, no printing) agrees too.
+#[test]
+fn exact_network_by_ac() {
+    let d = design_match(
+        2.9,
+        50.0,
+        7.1e6,
+        MatchShape::T { q: 12.0 },
+        &MatchParams::default(),
+    )
+    .unwrap();
+    let predicted: Vec<f64> = d.harmonics.iter().map(|h| h.gain_db).collect();
+    let v = verify_network(
+        &d.network,
+        d.freq,
+        num_complex::Complex64::new(2.9, 0.0),
+        &predicted,
+        &VerifyParams::default(),
+    )
+    .unwrap();
+    check(&v, "T exact");
+    // Exact values: only rounding in the solver remains.
+    assert!(v.zin_error < 1e-9, "{}", v.zin_error);
+}
+
+/// At high Q the printed values need more than five digits to keep the
+/// match; the fragment is written with enough, and the printed fragment
+/// passes the AC check.
+#[test]
+fn high_q_fragment_keeps_the_match() {
+    for shape in [MatchShape::Pi { q: 100.0 }, MatchShape::T { q: 100.0 }] {
+        let d = design_match(1.5, 50.0, 29.7e6, shape, &MatchParams::default()).unwrap();
+        let v = verify_match(&d, &VerifyParams::default()).unwrap();
+        check(&v, d.shape);
+        assert!(v.zin_error < 2e-4, "{}: {}", d.shape, v.zin_error);
+    }
+}
+
+/// A fragment that does not load is reported as a verification failure, not
+/// a panic, with the parser's message.
+#[test]
+fn broken_fragment_is_reported() {
+    let d = design_match(2.9, 50.0, 7.1e6, MatchShape::L, &MatchParams::default()).unwrap();
+    let bad = d.fragment.replace("inductor", "inductr");
+    match verify_fragment(
+        &d.network,
+        &bad,
+        None,
+        d.freq,
+        num_complex::Complex64::new(2.9, 0.0),
+        &[0.0],
+        &VerifyParams::default(),
+    ) {
+        Err(DesignError::Solver(m)) => assert!(m.contains("does not load"), "{m}"),
+        other => panic!("expected a load failure, got {other:?}"),
+    }
+}
