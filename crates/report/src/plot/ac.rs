@@ -10,7 +10,7 @@ use tankwave_solve::AcResult;
 
 use super::canvas::{
     axis_desc, draw_err, draw_marker, extent, grid_color, marker_indices, padded, prefix_for,
-    render, tick, Area, Canvas, LegendEntry, LegendKind, SeriesStyle, FONT, INK,
+    render, tick, usable, Area, Canvas, LegendEntry, LegendKind, SeriesStyle, FONT, INK,
 };
 use super::{check_finite, series_style, title_of, PlotError, PlotParams};
 use crate::format::si;
@@ -36,6 +36,7 @@ where
     X: AsRangedCoord<Value = f64>,
     X::CoordDescType: ValueFormatter<f64>,
 {
+    usable("magnitude or phase axis", &y)?;
     let mut chart = ChartBuilder::on(area)
         .margin(8)
         .margin_right(20)
@@ -159,6 +160,7 @@ pub fn ac_plot(
             r
         }
     };
+    usable("frequency axis", &x_range)?;
     let title = title_of("AC response: magnitude and phase", p);
     let subtitle = format!(
         "{} points from {} to {}, {} frequency axis; response to a unit excitation",

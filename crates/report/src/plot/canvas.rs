@@ -429,19 +429,43 @@ fn finish(raw: &str, title: &str, desc: &str, groups: &[String]) -> String {
     out
 }
 
-/// A data range padded by `pad` of its span on both sides, never empty.
+/// Narrowest span an axis may have: relative to the magnitude of its ends
+/// (finer than f64 tick arithmetic resolves) and absolute (subnormal steps).
+fn min_span(lo: f64, hi: f64) -> f64 {
+    (lo.abs().max(hi.abs()) * 1e-9).max(1e-200)
+}
+
+/// A data range padded by `pad` of its span on both sides, never narrower
+/// than the drawing arithmetic resolves (a flat series gets ±10 % of its
+/// magnitude, or ±1 at zero).
 pub(crate) fn padded(lo: f64, hi: f64, pad: f64) -> Range<f64> {
     let (lo, hi) = if lo <= hi { (lo, hi) } else { (hi, lo) };
     let span = hi - lo;
-    if span.is_nan() || span <= 1e-300 || !span.is_finite() {
-        let d = if lo.abs() > 1e-300 {
-            lo.abs() * 0.1
-        } else {
-            1.0
-        };
+    if !span.is_finite() || span < min_span(lo, hi) {
+        let mag = lo.abs().max(hi.abs());
+        let d = if mag > 1e-190 { mag * 0.1 } else { 1.0 };
         return (lo - d)..(hi + d);
     }
     (lo - pad * span)..(hi + pad * span)
+}
+
+/// Check that an axis range can be drawn: finite ends, increasing, and a
+/// span the tick arithmetic resolves.
+pub(crate) fn usable(what: &str, r: &Range<f64>) -> Result<(), PlotError> {
+    let (lo, hi) = (r.start, r.end);
+    let ok = lo.is_finite()
+        && hi.is_finite()
+        && (hi - lo).is_finite()
+        && hi - lo >= min_span(lo, hi)
+        && lo.abs().max(hi.abs()) <= 1.1 * super::MAX_MAGNITUDE;
+    if ok {
+        Ok(())
+    } else {
+        Err(PlotError::BadParameter {
+            what: what.to_string(),
+            why: format!("axis from {lo:e} to {hi:e} cannot be drawn"),
+        })
+    }
 }
 
 /// Smallest and largest of finite values (None if none).
@@ -607,6 +631,8 @@ pub(crate) fn draw_panel(
     area: &Area<'_>,
     panel: &Panel<'_>,
 ) -> Result<(), PlotError> {
+    usable("x axis", &panel.x)?;
+    usable("y axis", &panel.y)?;
     let mut chart = ChartBuilder::on(area)
         .margin(8)
         .margin_right(20)
@@ -646,7 +672,17 @@ pub(crate) fn draw_panel(
             .map_err(draw_err)?;
         canvas.end()?;
     }
-    for (x, label) in &panel.vlines {
+    // reference lines outside the axes are left out (they would map to
+    // pixels beyond the figure)
+    let (xa, xb) = (
+        panel.x.start.min(panel.x.end),
+        panel.x.start.max(panel.x.end),
+    );
+    let (ya, yb) = (
+        panel.y.start.min(panel.y.end),
+        panel.y.start.max(panel.y.end),
+    );
+    for (x, label) in panel.vlines.iter().filter(|(x, _)| (xa..=xb).contains(x)) {
         canvas.begin("reference", Some(label), Some("6 4"))?;
         chart
             .draw_series(std::iter::once(PathElement::new(
@@ -665,7 +701,7 @@ pub(crate) fn draw_panel(
             .map_err(draw_err)?;
         canvas.end()?;
     }
-    for (y, label) in &panel.hlines {
+    for (y, label) in panel.hlines.iter().filter(|(y, _)| (ya..=yb).contains(y)) {
         canvas.begin("reference", Some(label), Some("6 4"))?;
         chart
             .draw_series(std::iter::once(PathElement::new(

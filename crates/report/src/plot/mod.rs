@@ -92,6 +92,16 @@ pub enum PlotError {
         /// The value.
         value: f64,
     },
+    /// A value is too large in magnitude to draw (beyond ±1e200).
+    #[error("{what}: value {value:e} at index {index} is too large to plot")]
+    TooLarge {
+        /// Which data.
+        what: String,
+        /// Index of the first bad value.
+        index: usize,
+        /// The value.
+        value: f64,
+    },
     /// A logarithmic axis got a value that is not positive.
     #[error(
         "{what}: value {value} at index {index} is not positive, so it cannot go on a log axis"
@@ -143,16 +153,27 @@ pub enum PlotError {
     Draw(String),
 }
 
-/// Check that every value is finite.
+/// Largest magnitude a plotted value may have (common practice: far beyond
+/// any circuit quantity, far enough below f64::MAX that spans stay finite).
+pub(crate) const MAX_MAGNITUDE: f64 = 1e200;
+
+/// Check that every value is finite and of drawable magnitude.
 pub(crate) fn check_finite(what: &str, v: &[f64]) -> Result<(), PlotError> {
-    match v.iter().position(|x| !x.is_finite()) {
-        Some(index) => Err(PlotError::NotFinite {
+    if let Some(index) = v.iter().position(|x| !x.is_finite()) {
+        return Err(PlotError::NotFinite {
             what: what.to_string(),
             index,
             value: v.get(index).copied().unwrap_or(f64::NAN),
-        }),
-        None => Ok(()),
+        });
     }
+    if let Some(index) = v.iter().position(|x| x.abs() > MAX_MAGNITUDE) {
+        return Err(PlotError::TooLarge {
+            what: what.to_string(),
+            index,
+            value: v.get(index).copied().unwrap_or(f64::NAN),
+        });
+    }
+    Ok(())
 }
 
 /// The title line: what, then the file.

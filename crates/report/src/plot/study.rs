@@ -5,7 +5,7 @@
 use plotters::prelude::*;
 
 use super::canvas::{
-    axis_desc, draw_err, draw_panel, extent, grid_color, padded, prefix_for, render, tick,
+    axis_desc, draw_err, draw_panel, extent, grid_color, padded, prefix_for, render, tick, usable,
     LegendEntry, LegendKind, Line, Panel, BAR_FAIL, BAR_PASS, FONT, INK,
 };
 use super::{check_finite, series_style, title_of, PlotError, PlotParams};
@@ -317,6 +317,7 @@ pub fn histogram_plot(
         let rest = cv.header(&title, &subtitle, 64)?;
         let (plot_area, legend_area) = rest.split_horizontally(width.saturating_sub(legend_w));
         let xr = padded(span_lo / xf, span_hi / xf, 0.04);
+        usable("histogram axis", &xr)?;
         let mut chart = ChartBuilder::on(&plot_area)
             .margin(8)
             .margin_right(20)

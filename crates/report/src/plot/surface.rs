@@ -5,8 +5,8 @@
 use plotters::prelude::*;
 
 use super::canvas::{
-    axis_desc, draw_err, draw_marker, draw_panel, extent, padded, prefix_for, render, tick, Line,
-    Panel, FONT, INK,
+    axis_desc, draw_err, draw_marker, draw_panel, extent, padded, prefix_for, render, tick, usable,
+    Line, Panel, FONT, INK,
 };
 use super::{check_finite, series_style, title_of, PlotError, PlotParams};
 
@@ -194,6 +194,8 @@ pub fn surface_plot(s: &Surface, p: &PlotParams) -> Result<String, PlotError> {
     let z_span = if z_hi > z_lo { z_hi - z_lo } else { 1.0 };
     let ex = edges(&s.xs);
     let ey = edges(&s.ys);
+    usable(&format!("axis of {}", s.x_name), &(ex[0]..ex[ex.len() - 1]))?;
+    usable(&format!("axis of {}", s.y_name), &(ey[0]..ey[ey.len() - 1]))?;
     let (xf, xp) = prefix_for(ex[0].abs().max(ex[ex.len() - 1].abs()), &s.x_unit);
     let (yf, yp) = prefix_for(ey[0].abs().max(ey[ey.len() - 1].abs()), &s.y_unit);
     let (zf, zp) = prefix_for(z_lo.abs().max(z_hi.abs()), &s.z_unit);
@@ -307,7 +309,9 @@ pub fn surface_plot(s: &Surface, p: &PlotParams) -> Result<String, PlotError> {
             cv.end()?;
         }
         if let Some((ox, oy)) = s.optimum {
-            if ox.is_finite() && oy.is_finite() {
+            let inside = (ex[0]..=ex[ex.len() - 1]).contains(&ox)
+                && (ey[0]..=ey[ey.len() - 1]).contains(&oy);
+            if inside {
                 cv.begin("optimum", Some("optimum"), None)?;
                 let c = (ox / xf, oy / yf);
                 // white halo then ink marks, visible on light and dark cells
