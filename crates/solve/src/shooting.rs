@@ -18,8 +18,10 @@
 //! is L-stable and removes it while staying second order.
 //!
 //! The iteration starts from the operating point followed by a few plain
-//! transient periods. Converged when every `|x_k(T) − x_k(0)|` is within
-//! `reltol·max_n |x_k| + (vntol | abstol)`.
+//! transient periods. Converged when every `|x_k(T) − x_k(0)|` AND every
+//! component of the Newton update is within `reltol·max_n |x_k| + (vntol | abstol)`
+//! (the update test catches slow modes, whose periodicity error is tiny
+//! while the state is still far from the fixed point).
 
 use crate::newton::unknown_abstol;
 use crate::steady::{terminal_currents_trbdf2, PeriodicSolution, SteadyInfo, SteadyParams};
@@ -42,7 +44,18 @@ pub fn shooting(
     let h = period / ns as f64;
     let err = |e: crate::transient::StepFail| e.into_error(devices, "shooting");
     let mut st = Stepper::from_op(devices, params.tol, params.linear_solver, 0.0)?;
-    let warm = params.shooting.warmup_periods;
+    // Warm up past the end of every source's start-up (delay and amplitude
+    // rise), then a few periods more: the period that is shot must see the
+    // sources in their periodic form.
+    let settled_from = crate::balance::start_time(circuit, period);
+    let startup = (settled_from / period).round();
+    if !(startup.is_finite() && startup <= 100_000.0) {
+        return Err(SolveError::BadParams(format!(
+            "shooting: the sources become periodic only after {settled_from:.3e} s, \
+             more than 100000 periods of {period:.3e} s"
+        )));
+    }
+    let warm = params.shooting.warmup_periods + startup as usize;
     for s in 0..warm * ns {
         st.step_trbdf2((s + 1) as f64 * h).map_err(err)?;
     }
@@ -129,7 +142,40 @@ pub fn shooting(
             }
         }
         last = (r[worst.1].abs(), worst.1);
-        if worst.0 <= 1.0 {
+        // Newton update: (Φ − I) Δ = −r. Computed before the convergence test:
+        // a slow mode (a bias network whose time constant spans hundreds of
+        // periods) leaves a tiny periodicity error r but a large distance to
+        // the fixed point, Δ ≈ r / (1 − λ). Converged only when both the
+        // residual and the update are within tolerance.
+        let mut jm = vec![0.0; n * n];
+        for i in 0..n {
+            for j in 0..n {
+                jm[i * n + j] = sens[(i, j)] - if i == j { 1.0 } else { 0.0 };
+            }
+        }
+        let mut lu = crate::linalg::RealLu::new(crate::linalg::LinearSolver::Dense, n);
+        lu.factor(&jm).map_err(|k| SolveError::Singular {
+            analysis: "shooting (monodromy − I)".into(),
+            unknown: devices.names.get(k).cloned().unwrap_or_default(),
+            when: crate::error::When(Some(t0)),
+        })?;
+        let mut dx: Vec<f64> = r.iter().map(|v| -v).collect();
+        lu.solve(&mut dx);
+        let mut worst_update = 0.0f64;
+        for k in 0..n {
+            let mag = samples[k].iter().fold(0.0f64, |m, v| m.max(v.abs()));
+            let tol = params.shooting.reltol * mag + unknown_abstol(devices, &params.tol, k);
+            let ratio = dx[k].abs() / tol;
+            if !ratio.is_finite() {
+                return Err(SolveError::NonFinite {
+                    analysis: "shooting".into(),
+                    unknown: devices.names.get(k).cloned().unwrap_or_default(),
+                    when: crate::error::When(Some(st.t)),
+                });
+            }
+            worst_update = worst_update.max(ratio);
+        }
+        if worst.0 <= 1.0 && worst_update <= 1.0 {
             let terminal_currents =
                 terminal_currents_trbdf2(circuit, devices, &samples, &stage, params.freq)?;
             return Ok(PeriodicSolution {
@@ -148,21 +194,6 @@ pub fn shooting(
                 },
             });
         }
-        // Newton update: (Φ − I) Δ = −r.
-        let mut jm = vec![0.0; n * n];
-        for i in 0..n {
-            for j in 0..n {
-                jm[i * n + j] = sens[(i, j)] - if i == j { 1.0 } else { 0.0 };
-            }
-        }
-        let mut lu = crate::linalg::RealLu::new(crate::linalg::LinearSolver::Dense, n);
-        lu.factor(&jm).map_err(|k| SolveError::Singular {
-            analysis: "shooting (monodromy − I)".into(),
-            unknown: devices.names.get(k).cloned().unwrap_or_default(),
-            when: crate::error::When(Some(t0)),
-        })?;
-        let mut dx: Vec<f64> = r.iter().map(|v| -v).collect();
-        lu.solve(&mut dx);
         for k in 0..n {
             x0[k] += dx[k];
         }
