@@ -14,21 +14,26 @@ use super::canvas::{axis_desc, draw_panel, extent, padded, prefix_for, render, L
 use super::{check_finite, series_style, title_of, PlotError, PlotParams};
 use crate::format::{fixed, si};
 
+/// Fraction of its threshold-crossing step by which a pulse edge must keep
+/// falling to be followed down to zero; the same value as
+/// `tankwave_measure::metrics::EDGE_SLOPE_FRACTION`.
+const EDGE_SLOPE_FRACTION: f64 = tankwave_measure::metrics::EDGE_SLOPE_FRACTION;
+
 /// The conduction intervals of a current sampled uniformly over one period
 /// of length `period` (sample k at k·period/N), as (start, end) times within
-/// [0, period]; a run that wraps around the period end comes back as two
-/// intervals. A run of positive samples counts if some sample in it exceeds
-/// `threshold_fraction` × peak; its edges are the interpolated zero crossings.
+/// [0, period], sorted; an interval that wraps around the period end comes
+/// back as two. The rule is the measurement rule of
+/// `tankwave_measure::conduction_angle_deg` (docs/measurements.md): samples
+/// above `threshold_fraction` × peak conduct; each pulse edge is followed
+/// outward while the current stays positive and keeps falling steeply; the
+/// boundary is the zero crossing of the line through the edge's last two
+/// samples. The total length of the intervals is that conduction angle.
 pub fn conduction_intervals(i: &[f64], period: f64, threshold_fraction: f64) -> Vec<(f64, f64)> {
     let n = i.len();
     if n == 0 || !(period.is_finite() && period > 0.0) {
         return Vec::new();
     }
-    let peak = i
-        .iter()
-        .copied()
-        .filter(|v| v.is_finite())
-        .fold(f64::NEG_INFINITY, f64::max);
+    let peak = i.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     if !(peak.is_finite() && peak > 0.0) {
         return Vec::new();
     }
@@ -39,59 +44,79 @@ pub fn conduction_intervals(i: &[f64], period: f64, threshold_fraction: f64) -> 
     };
     let thr = frac * peak;
     let nn = n as isize;
-    let at = |k: isize| i.get(k.rem_euclid(nn) as usize).copied().unwrap_or(0.0);
-    if (0..nn).all(|k| at(k) > 0.0) {
+    let idx = |k: isize| k.rem_euclid(nn) as usize;
+    let at = |k: isize| i.get(idx(k)).copied().unwrap_or(0.0);
+    let core = |k: isize| at(k) > thr;
+    let count = (0..nn).filter(|&k| core(k)).count();
+    if count == n {
         return vec![(0.0, period)];
     }
+    if count == 0 {
+        return Vec::new();
+    }
+    let mut claimed = vec![false; n];
+    // boundary events in sample units: (position, rising?)
+    let mut events: Vec<(f64, bool)> = Vec::new();
+    for m in 0..nn {
+        if !core(m) {
+            continue;
+        }
+        for dir in [1isize, -1] {
+            if core(m + dir) {
+                continue;
+            }
+            let inner = if core(m - dir) {
+                at(m - dir) - at(m)
+            } else {
+                0.0
+            };
+            let s0 = inner.max(at(m) - at(m + dir));
+            let mut j = m;
+            let mut walked = 0;
+            while walked < nn
+                && s0 > 0.0
+                && !core(j + dir)
+                && !claimed.get(idx(j + dir)).copied().unwrap_or(true)
+                && at(j + dir) > 0.0
+                && at(j) - at(j + dir) >= EDGE_SLOPE_FRACTION * s0
+            {
+                j += dir;
+                walked += 1;
+                if let Some(c) = claimed.get_mut(idx(j)) {
+                    *c = true;
+                }
+            }
+            let (a_in, a_j, a_out) = (at(j - dir), at(j), at(j + dir));
+            let u = if a_in > a_j {
+                a_j / (a_in - a_j)
+            } else if a_out <= 0.0 && a_j > a_out {
+                a_j / (a_j - a_out)
+            } else {
+                0.5
+            };
+            let u = if u.is_finite() {
+                u.clamp(0.0, 1.0)
+            } else {
+                0.5
+            };
+            let pos = (j as f64 + dir as f64 * u).rem_euclid(n as f64);
+            events.push((pos, dir < 0));
+        }
+    }
+    events.sort_by(|a, b| a.0.total_cmp(&b.0));
     let dt = period / n as f64;
-    // Start just after a non-positive sample so no run wraps in the scan.
-    let start = (0..nn).find(|&k| at(k) <= 0.0).unwrap_or(0) + 1;
     let mut out = Vec::new();
-    let mut k = 0;
-    while k < nn {
-        if at(start + k) <= 0.0 {
-            k += 1;
+    let ne = events.len();
+    for (k, &(p0, rising)) in events.iter().enumerate() {
+        if !rising {
             continue;
         }
-        let first = start + k;
-        let mut hot = false;
-        while k < nn && at(start + k) > 0.0 {
-            hot |= at(start + k) > thr;
-            k += 1;
-        }
-        let last = start + k - 1;
-        if !hot {
+        // the next falling boundary in circular order closes this pulse
+        let Some(&(p1, _)) = (1..=ne).map(|d| &events[(k + d) % ne]).find(|e| !e.1) else {
             continue;
-        }
-        // Edges as in the measure crate: extrapolate the first (last) two
-        // samples of the run to zero where the run rises (falls) inside;
-        // otherwise interpolate to the neighbouring non-positive sample.
-        // Clipped currents (exactly zero outside the pulse) keep their edges.
-        let long = last > first;
-        let rise = if long && at(first + 1) > at(first) {
-            let tz = first as f64 - at(first) / (at(first + 1) - at(first));
-            if tz.is_finite() {
-                tz.clamp((first - 1) as f64, first as f64)
-            } else {
-                first as f64 - 0.5
-            }
-        } else {
-            (first - 1) as f64 + crossing(at(first - 1), at(first))
         };
-        let fall = if long && at(last - 1) > at(last) {
-            let tz = last as f64 + at(last) / (at(last - 1) - at(last));
-            if tz.is_finite() {
-                tz.clamp(last as f64, (last + 1) as f64)
-            } else {
-                last as f64 + 0.5
-            }
-        } else {
-            last as f64 + crossing(at(last), at(last + 1))
-        };
-        let (t0, t1) = (rise * dt, fall * dt);
-        // bring into [0, period), splitting at the period end
-        let shift = (t0 / period).floor() * period;
-        let (t0, t1) = (t0 - shift, t1 - shift);
+        let len = (p1 - p0).rem_euclid(n as f64);
+        let (t0, t1) = (p0 * dt, (p0 + len) * dt);
         if t1 <= period {
             out.push((t0, t1));
         } else {
@@ -101,16 +126,6 @@ pub fn conduction_intervals(i: &[f64], period: f64, threshold_fraction: f64) -> 
     }
     out.sort_by(|a, b| a.0.total_cmp(&b.0));
     out
-}
-
-/// Fraction of the way from a to b where the line through them crosses zero.
-fn crossing(a: f64, b: f64) -> f64 {
-    let f = a / (a - b);
-    if f.is_finite() {
-        f.clamp(0.0, 1.0)
-    } else {
-        0.5
-    }
 }
 
 fn node_wave(sol: &PeriodicSolution, node: NodeId, what: &str) -> Result<Vec<f64>, PlotError> {
