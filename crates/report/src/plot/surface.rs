@@ -31,7 +31,7 @@ pub struct Surface {
     pub xs: Vec<f64>,
     /// Grid values of the second parameter, increasing.
     pub ys: Vec<f64>,
-    /// `values[iy][ix]`: the objective at (xs[ix], ys[iy]).
+    /// `values[iy][ix]`: the objective at (`xs[ix]`, `ys[iy]`).
     pub values: Vec<Vec<f64>>,
     /// The optimum (x, y), marked with a cross and a ring.
     pub optimum: Option<(f64, f64)>,
