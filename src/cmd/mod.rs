@@ -7,3 +7,4 @@ pub mod design;
 pub mod lint;
 pub mod run;
 pub mod study;
+pub mod visual;

@@ -33,6 +33,13 @@ pub struct RunArgs {
     /// Override a `let` parameter, e.g. `--set vcc=12V` (repeatable).
     #[arg(long = "set", value_name = "NAME=VALUE")]
     pub sets: Vec<String>,
+    /// Write SVG plots (waveforms of one period, spectrum against the mask,
+    /// start-up envelope, AC sweep) to this directory.
+    #[arg(long, value_name = "DIR")]
+    pub plots: Option<PathBuf>,
+    /// Write a self-contained HTML report (inline SVG and CSS, no network) to this file.
+    #[arg(long, value_name = "FILE.html")]
+    pub report: Option<PathBuf>,
     /// Print solver details (Newton system size, iterations, samples).
     #[arg(long, short)]
     pub verbose: bool,
@@ -48,7 +55,7 @@ pub fn run(a: &RunArgs) -> i32 {
             return BAD_INPUT;
         }
     };
-    if let Some(dir) = &a.out {
+    for dir in [&a.out, &a.plots].into_iter().flatten() {
         if !dir.is_dir() {
             eprintln!(
                 "error: output directory '{}' does not exist or is not a directory",
@@ -123,6 +130,28 @@ pub fn run(a: &RunArgs) -> i32 {
             ));
         }
         if let Err(e) = tankwave_report::files::write_all_atomic(&files) {
+            eprintln!("error: {e}");
+            return BAD_INPUT;
+        }
+    }
+    let mut visual: Vec<(PathBuf, Vec<u8>)> = Vec::new();
+    if let Some(dir) = &a.plots {
+        let (files, notes) = super::visual::stage_plots(dir, &file, c, &res);
+        for n in notes {
+            eprintln!("note: {n}");
+        }
+        visual.extend(files);
+    }
+    if let Some(path) = &a.report {
+        let options = vec![
+            ("command".to_string(), "run".to_string()),
+            ("--set".to_string(), a.sets.join(" ")),
+        ];
+        let html = super::visual::html_report(&a.file, &file, c, &res, options);
+        visual.push((path.clone(), html.into_bytes()));
+    }
+    if !visual.is_empty() {
+        if let Err(e) = tankwave_report::files::write_all_atomic(&visual) {
             eprintln!("error: {e}");
             return BAD_INPUT;
         }

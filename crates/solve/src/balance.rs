@@ -141,7 +141,8 @@ pub struct BalanceParams {
     /// Cap on the raised K (default 128). K is also never raised past a Newton
     /// system of 5000 real unknowns (ports × (2K+1)).
     pub max_harmonics: usize,
-    /// Top-harmonic limit relative to the largest fundamental (default 1e-6).
+    /// Top-harmonic limit relative to the largest fundamental (default 1e-5,
+    /// i.e. 100 dB down: 20 dB below the -80 dBc floor the reports resolve).
     pub truncation_rel: f64,
     /// Absolute top-harmonic limit, V (default 1e-9).
     pub truncation_abs: f64,
@@ -168,7 +169,7 @@ impl Default for BalanceParams {
             max_levels: 400,
             raise_harmonics: true,
             max_harmonics: 128,
-            truncation_rel: 1e-6,
+            truncation_rel: 1e-5,
             truncation_abs: 1e-9,
             reduce: true,
             gmin: 1e-12,

@@ -19,6 +19,14 @@ impl fmt::Display for When {
 /// Everything a solver can report instead of a result.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum SolveError {
+    /// Both steady-state methods of `method=auto` failed.
+    #[error("steady state: shooting failed ({first}); harmonic balance failed too ({second})")]
+    BothFailed {
+        /// The shooting error.
+        first: Box<SolveError>,
+        /// The harmonic-balance error.
+        second: Box<SolveError>,
+    },
     /// Newton did not converge within its iteration limit.
     #[error(
         "{analysis}: Newton did not converge in {iterations} iterations{when}; \
