@@ -128,10 +128,7 @@ fn main() {
             distribution: tankwave_circuit::Distribution::Gaussian,
         })
         .collect();
-    spec.montecarlo = Some(tankwave_circuit::MonteCarlo {
-        runs: n,
-        seed: 1,
-    });
+    spec.montecarlo = Some(tankwave_circuit::MonteCarlo { runs: n, seed: 1 });
     let names: Vec<&str> = classc.elements.iter().map(|e| e.name.as_str()).collect();
     let plan = tankwave_study::Plan::new(&spec, &names).expect("plan");
     let work = |v: &tankwave_study::Variant, _w: Option<&tankwave_study::WarmStart>| {
@@ -157,7 +154,10 @@ fn main() {
         let mut sink = tankwave_study::SummaryBuilder::default();
         struct Sink<'a>(&'a mut tankwave_study::SummaryBuilder);
         impl tankwave_study::RecordSink for Sink<'_> {
-            fn record(&mut self, r: &tankwave_study::Record) -> Result<(), tankwave_study::StudyError> {
+            fn record(
+                &mut self,
+                r: &tankwave_study::Record,
+            ) -> Result<(), tankwave_study::StudyError> {
                 self.0.add(r);
                 Ok(())
             }
