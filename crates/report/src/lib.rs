@@ -1,6 +1,10 @@
 //! tankwave-report: everything that turns results into text or files —
-//! terminal tables, numbers in engineering notation, CSV and JSON writers with
-//! a versioned schema, and whole-file writes (temporary file, then rename).
+//! terminal tables ([`stage`], [`batch`]), numbers in engineering notation
+//! ([`format`]), CSV and JSON with a versioned schema, SVG plots drawn with
+//! plotters ([`plot`]: waveforms with the conduction interval shaded,
+//! spectrum against a mask, start-up envelope, AC sweeps, sweep curves,
+//! histograms, tuning surfaces), the self-contained HTML report ([`html`]),
+//! and whole-file writes (temporary file, then rename; [`files`]).
 //!
 //! This crate never solves and never prints: it returns strings or writes the
 //! files it is asked to write; the binary decides where text goes.
@@ -27,6 +31,5 @@ pub use format::{db, fixed, si};
 pub use table::{Align, Table};
 
 /// Version of the JSON documents tankwave writes (`"schema"` field).
-/// Bump the major number on any incompatible change; docs/analyses.md and
-/// docs/measurements.md describe the fields.
+/// Bump the major number on any incompatible change; docs/output.md describes the fields.
 pub const SCHEMA_VERSION: &str = "tankwave/1";
