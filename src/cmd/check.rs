@@ -29,6 +29,10 @@ pub struct CheckArgs {
     /// Also write JUnit XML: one test case per requirement, one suite per file.
     #[arg(long, value_name = "FILE")]
     pub junit: Option<PathBuf>,
+    /// Write SVG plots of each file (period waveforms, spectrum against the
+    /// mask) to DIR/<file stem>/.
+    #[arg(long, value_name = "DIR")]
+    pub plots: Option<PathBuf>,
     /// Override a `let` parameter in every file, e.g. `--set vcc=12V` (repeatable).
     #[arg(long = "set", value_name = "NAME=VALUE")]
     pub sets: Vec<String>,
@@ -49,6 +53,16 @@ pub fn run(a: &CheckArgs) -> i32 {
             return BAD_INPUT;
         }
     };
+    if let Some(dir) = &a.plots {
+        if !dir.is_dir() {
+            eprintln!(
+                "error: plot directory '{}' does not exist or is not a directory",
+                dir.display()
+            );
+            return BAD_INPUT;
+        }
+    }
+    let mut plot_files: Vec<(PathBuf, Vec<u8>)> = Vec::new();
     let mut outcomes = Vec::new();
     for f in &a.files {
         let name = f.display().to_string();
@@ -61,7 +75,27 @@ pub fn run(a: &CheckArgs) -> i32 {
                 }
             }
             Ok(l) => match pipeline::solve(&l.circuit, Scope::Requirements) {
-                Ok(r) => Outcome::Verdicts(r.verdicts),
+                Ok(r) => {
+                    if let Some(dir) = &a.plots {
+                        let stem = f
+                            .file_stem()
+                            .map(|s| s.to_string_lossy().to_string())
+                            .unwrap_or_else(|| "stage".into());
+                        let sub = dir.join(stem);
+                        let (files, notes) =
+                            super::visual::stage_plots(&sub, &name, &l.circuit, &r);
+                        for n in notes {
+                            eprintln!("note: {n}");
+                        }
+                        if !files.is_empty() {
+                            if let Err(e) = std::fs::create_dir_all(&sub) {
+                                eprintln!("error: cannot create '{}': {e}", sub.display());
+                            }
+                        }
+                        plot_files.extend(files);
+                    }
+                    Outcome::Verdicts(r.verdicts)
+                }
                 Err(fail) => {
                     let code = common::report_failure(&name, &fail);
                     let message = match fail {
@@ -118,6 +152,12 @@ pub fn run(a: &CheckArgs) -> i32 {
                 "{}",
                 serde_json::to_string_pretty(&doc).unwrap_or_else(|_| "{}".into())
             );
+        }
+    }
+    if !plot_files.is_empty() {
+        if let Err(e) = tankwave_report::files::write_all_atomic(&plot_files) {
+            eprintln!("error: {e}");
+            return BAD_INPUT;
         }
     }
     if let Some(path) = &a.junit {

@@ -36,6 +36,10 @@ pub struct StudyArgs {
     /// Override a `let` parameter in every variant, e.g. `--set vcc=12V` (repeatable).
     #[arg(long = "set", value_name = "NAME=VALUE")]
     pub sets: Vec<String>,
+    /// Write SVG plots (a histogram of every figure with its requirement
+    /// limit; sweep curves when there is no Monte Carlo) to this directory.
+    #[arg(long, value_name = "DIR")]
+    pub plots: Option<PathBuf>,
 }
 
 /// Arguments of `merge`.
@@ -190,21 +194,20 @@ fn file_hash(path: &Path) -> String {
 }
 
 /// Feeds each record into the streaming summary (the records themselves are not kept).
+/// Also keeps the records when plots are asked for (a histogram needs every value).
 #[derive(Default)]
 struct SummarySink {
     builder: study::SummaryBuilder,
-}
-
-impl study::RecordSink for SummarySink {
-    fn record(&mut self, r: &study::Record) -> Result<(), study::StudyError> {
-        self.builder.add(r);
-        Ok(())
-    }
+    keep: bool,
+    kept: Vec<study::Record>,
 }
 
 impl study::RecordSink for &mut SummarySink {
     fn record(&mut self, r: &study::Record) -> Result<(), study::StudyError> {
         self.builder.add(r);
+        if self.keep {
+            self.kept.push(r.clone());
+        }
         Ok(())
     }
 }
@@ -279,9 +282,21 @@ pub fn run(a: &StudyArgs) -> i32 {
             pb.set_position(p.done);
         }
     };
-    let mut summary_sink = SummarySink::default();
+    if let Some(dir) = &a.plots {
+        if !dir.is_dir() {
+            eprintln!(
+                "error: plot directory '{}' does not exist or is not a directory",
+                dir.display()
+            );
+            return BAD_INPUT;
+        }
+    }
+    let mut summary_sink = SummarySink {
+        keep: a.plots.is_some(),
+        ..SummarySink::default()
+    };
     let result = match &a.out {
-        None => study::run_study(&plan, &params, work, &mut summary_sink, &progress),
+        None => study::run_study(&plan, &params, work, &mut &mut summary_sink, &progress),
         Some(path) if a.resume => match study::resume(path, &header) {
             Ok((done, sink, _info)) => {
                 params.done = Some(done);
@@ -341,6 +356,17 @@ pub fn run(a: &StudyArgs) -> i32 {
             return SOLVER;
         }
     };
+    if let Some(dir) = &a.plots {
+        let (files, notes) =
+            super::visual::study_plots(dir, &file, &loaded.circuit, &summary_sink.kept);
+        for n in notes {
+            eprintln!("note: {n}");
+        }
+        if let Err(e) = tankwave_report::files::write_all_atomic(&files) {
+            eprintln!("error: {e}");
+            return BAD_INPUT;
+        }
+    }
     let summary = match summary_sink.builder.finish(&a.percentiles) {
         Ok(s) => s,
         Err(e) => {

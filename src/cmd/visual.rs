@@ -191,3 +191,127 @@ mod tests {
         assert!(d.starts_with("20"));
     }
 }
+
+/// Unit of a flattened study figure, from its name's suffix.
+fn figure_unit(name: &str) -> &'static str {
+    if name.ends_with("_w") {
+        "W"
+    } else if name.ends_with("_v") {
+        "V"
+    } else if name.ends_with("_a") {
+        "A"
+    } else if name.ends_with("_dbc") {
+        "dBc"
+    } else if name.ends_with("_dbm") {
+        "dBm"
+    } else if name.ends_with("_db") {
+        "dB"
+    } else if name.ends_with("_deg") {
+        "deg"
+    } else if name.ends_with("_degc") {
+        "degC"
+    } else {
+        ""
+    }
+}
+
+/// The limit a `require` puts on a flattened study figure, if it is one of
+/// the plain figures (pout, efficiency, PAE, gain, VSWR, THD).
+fn figure_limit(c: &Circuit, name: &str) -> Option<plot::Limit> {
+    use tankwave_circuit::Cmp;
+    c.requirements.iter().find_map(|r| {
+        let key = match r.metric {
+            Metric::Pout => "pout_w",
+            Metric::Efficiency => "efficiency",
+            Metric::Pae => "pae",
+            Metric::Gain => "gain_db",
+            Metric::InputVswr => "input_vswr",
+            Metric::Thd => "thd",
+            _ => return None,
+        };
+        match (&r.bound, key == name) {
+            (Bound::Value(v), true) => Some(plot::Limit {
+                value: *v,
+                label: r.text.clone(),
+                pass_above: matches!(r.cmp, Cmp::Ge | Cmp::Gt),
+            }),
+            _ => None,
+        }
+    })
+}
+
+/// Plots of a study: a histogram of every figure (with the requirement limit
+/// where one applies) and, for a sweep without Monte Carlo, each figure
+/// against the first swept parameter, one curve per value of the second.
+pub fn study_plots(
+    dir: &Path,
+    file: &str,
+    c: &Circuit,
+    records: &[tankwave_study::Record],
+) -> (Vec<(PathBuf, Vec<u8>)>, Vec<String>) {
+    let p = PlotParams::for_source(file);
+    let mut files = Vec::new();
+    let mut notes = Vec::new();
+    let mut names: Vec<String> = records
+        .iter()
+        .flat_map(|r| r.metrics.keys().cloned())
+        .collect();
+    names.sort();
+    names.dedup();
+    let axes: Vec<String> =
+        c.study
+            .vary
+            .iter()
+            .map(|v| match &v.target {
+                tankwave_circuit::VaryTarget::Param(n)
+                | tankwave_circuit::VaryTarget::Element(n) => n.clone(),
+            })
+            .collect();
+    for name in &names {
+        let values: Vec<f64> = records
+            .iter()
+            .filter_map(|r| r.metrics.get(name).copied())
+            .collect();
+        let safe: String = name
+            .chars()
+            .map(|ch| if ch.is_ascii_alphanumeric() { ch } else { '-' })
+            .collect();
+        let spec = plot::HistogramSpec {
+            title: format!("{name} over {} variants", values.len()),
+            name: name.clone(),
+            unit: figure_unit(name).to_string(),
+            limit: figure_limit(c, name),
+            bins: None,
+        };
+        match plot::histogram_plot(&values, &spec, &p) {
+            Ok(svg) => files.push((dir.join(format!("hist-{safe}.svg")), svg.into_bytes())),
+            Err(e) => notes.push(format!("hist-{safe}.svg: not drawn: {e}")),
+        }
+        if c.study.montecarlo.is_none() && !axes.is_empty() {
+            let x_key = &axes[0];
+            let g_key = axes.get(1);
+            let pts: Vec<(f64, f64, f64)> = records
+                .iter()
+                .filter_map(|r| {
+                    let x = *r.values.get(x_key)?;
+                    let g = g_key.and_then(|k| r.values.get(k).copied()).unwrap_or(0.0);
+                    Some((x, g, *r.metrics.get(name)?))
+                })
+                .collect();
+            let curves = plot::SweepCurves {
+                title: format!("{name} against {x_key}"),
+                x_name: x_key.clone(),
+                x_unit: String::new(),
+                y_name: name.clone(),
+                y_unit: figure_unit(name).to_string(),
+                curves: plot::SweepCurves::group(&pts, g_key.map(|s| s.as_str()).unwrap_or(""), ""),
+                limit: figure_limit(c, name).map(|l| (l.value, l.label)),
+            };
+            match plot::sweep_plot(&curves, &p) {
+                Ok(svg) => files.push((dir.join(format!("sweep-{safe}.svg")), svg.into_bytes())),
+                Err(e) => notes.push(format!("sweep-{safe}.svg: not drawn: {e}")),
+            }
+        }
+    }
+    (files, notes)
+}

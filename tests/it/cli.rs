@@ -296,3 +296,52 @@ fn study_resume_completes_a_cut_run_with_every_variant_once() {
     assert_eq!(idx, (0..12).collect::<Vec<u64>>());
     assert_eq!(record_lines(&cut), record_lines(&whole));
 }
+
+#[test]
+fn run_writes_plots_and_a_self_contained_report() {
+    let dir = tempfile::tempdir().unwrap();
+    let report = dir.path().join("stage.html");
+    let o = run(&[
+        "run",
+        p(&root().join("netlists/cw-7m1-classb.tank")),
+        "--plots",
+        p(dir.path()),
+        "--report",
+        p(&report),
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    for f in ["period-q1.svg", "spectrum.svg", "ac.svg"] {
+        let text = std::fs::read_to_string(dir.path().join(f)).unwrap();
+        roxmltree::Document::parse(&text).unwrap_or_else(|e| panic!("{f} is not XML: {e}"));
+    }
+    let html = std::fs::read_to_string(&report).unwrap();
+    for bad in ["http://", "https://", "<script", "<link", "<img"] {
+        assert!(!html.contains(bad), "report holds '{bad}'");
+    }
+    assert!(html.contains("<svg"), "plots inline");
+    assert!(
+        html.to_lowercase().contains("licen"),
+        "safety caution present"
+    );
+}
+
+#[test]
+fn study_and_check_write_plots() {
+    let dir = tempfile::tempdir().unwrap();
+    let o = run(&[
+        "study",
+        p(&data("study/divider.tank")),
+        "--plots",
+        p(dir.path()),
+    ]);
+    assert_eq!(code(&o), 1, "{}", stderr(&o));
+    assert!(dir.path().join("hist-pout-w.svg").is_file());
+    let o = run(&[
+        "check",
+        p(&data("check/pass.tank")),
+        "--plots",
+        p(dir.path()),
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    assert!(dir.path().join("pass/spectrum.svg").is_file());
+}
