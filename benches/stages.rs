@@ -3,12 +3,14 @@
 //! Machines are noisy, so every figure that matters is a ratio of two times
 //! measured in the same run, and each time is the median of several repeats.
 //! Prints, for every demo stage in netlists/:
-//!  - the steady state (method auto) against a plain transient of 10 carrier
-//!    periods at the default accuracy, and against the settled brute-force
-//!    transient (method settle), as ratios;
-//!  - for the class-C demo, the transient over 300 periods with its step count;
-//!  - a Monte Carlo study of the class-C demo on 1 and 2 threads: variants per
-//!    second and the speed-up.
+//!
+//! - the steady state (method auto) against a plain transient of 10 carrier
+//!   periods at the default accuracy, and against the settled brute-force
+//!   transient (method settle), as ratios;
+//! - for the class-C demo, the transient over 300 periods with its step count;
+//! - a Monte Carlo study of the class-C demo on 1 and 2 threads: variants per
+//!   second and the speed-up.
+//!
 //! Set TANKWAVE_BENCH_VARIANTS to change the study size (default 1000).
 
 use std::path::{Path, PathBuf};

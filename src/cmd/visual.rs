@@ -180,17 +180,6 @@ pub fn html_report(
     tankwave_report::html::stage_report(&input)
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn date_is_well_formed() {
-        let d = today_utc();
-        assert_eq!(d.len(), 10);
-        assert!(d.starts_with("20"));
-    }
-}
 
 /// Unit of a flattened study figure, from its name's suffix.
 fn figure_unit(name: &str) -> &'static str {
@@ -314,4 +303,16 @@ pub fn study_plots(
         }
     }
     (files, notes)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn date_is_well_formed() {
+        let d = today_utc();
+        assert_eq!(d.len(), 10);
+        assert!(d.starts_with("20"));
+    }
 }
