@@ -30,7 +30,7 @@ pub struct CheckArgs {
     #[arg(long, value_name = "FILE")]
     pub junit: Option<PathBuf>,
     /// Write SVG plots of each file (period waveforms, spectrum against the
-    /// mask) to DIR/<file stem>/.
+    /// mask) to DIR/STEM/, STEM being the file name without extension.
     #[arg(long, value_name = "DIR")]
     pub plots: Option<PathBuf>,
     /// Override a `let` parameter in every file, e.g. `--set vcc=12V` (repeatable).

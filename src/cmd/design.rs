@@ -94,7 +94,7 @@ pub struct NamingArgs {
     /// Output (load-side) node name.
     #[arg(long = "output-node", default_value = "out")]
     pub output: String,
-    /// Prefix of element and internal node names (elements l<prefix>1, c<prefix>1, ...).
+    /// Prefix of element and internal node names (elements lPREFIX1, cPREFIX1, ...).
     #[arg(long)]
     pub prefix: Option<String>,
 }

@@ -4,7 +4,7 @@
 //! with its path), overrides are applied, nodes are numbered in order of first
 //! appearance (`gnd` is ground), models are bound by kind, every value is
 //! checked against its unit slot and its allowed range, and the topology is
-//! checked (see [`crate::topology`]). Every problem is collected; nothing is
+//! checked (see the `topology` module). Every problem is collected; nothing is
 //! returned as a circuit if any error was found.
 //!
 //! Parse once with [`tankwave_netlist::parse_file`], then call [`elaborate`]

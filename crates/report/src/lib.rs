@@ -1,6 +1,6 @@
 //! tankwave-report: everything that turns results into text or files —
 //! terminal tables ([`stage`], [`batch`]), numbers in engineering notation
-//! ([`format`]), CSV and JSON with a versioned schema, SVG plots drawn with
+//! ([`mod@format`]), CSV and JSON with a versioned schema, SVG plots drawn with
 //! plotters ([`plot`]: waveforms with the conduction interval shaded,
 //! spectrum against a mask, start-up envelope, AC sweeps, sweep curves,
 //! histograms, tuning surfaces), the self-contained HTML report ([`html`]),

@@ -4,7 +4,7 @@
 //!
 //! The unknown is the state `x₀` at the start of a period. One period is
 //! integrated with `N` uniform TR-BDF2 steps (a trapezoidal stage to `t + γh`,
-//! then a BDF2 stage; see [`crate::transient`]), carrying the sensitivity
+//! then a BDF2 stage; see [`mod@crate::transient`]), carrying the sensitivity
 //! (monodromy) matrix `Φ = ∂x(T)/∂x₀` through both stages; Newton then solves
 //! `(Φ − I) Δx₀ = −(x(T) − x₀)`. The derivative state entering each step is
 //! `q̇ₙ = −i(xₙ, tₙ)` in rows that carry charge (0 in purely algebraic rows),

@@ -5,7 +5,7 @@
 //! `N` uniform points of one period `T = 1/freq`, `x[k][n] = x_k(n·T/N)`,
 //! plus the current into every terminal of every element over the same
 //! samples. Methods:
-//! - shooting ([`crate::shooting`]): Newton on the state at the period start;
+//! - shooting ([`mod@crate::shooting`]): Newton on the state at the period start;
 //! - settle: plain transient until one period repeats the previous one;
 //! - balance: harmonic balance ([`mod@crate::balance`]), called through `run_balance`.
 

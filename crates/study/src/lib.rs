@@ -4,14 +4,14 @@
 //! The crate owns the *what* and *how many* of a study: which variants exist
 //! ([`Plan`], [`Variant`]), how they are run in parallel and recorded
 //! ([`run_study`], [`Record`], [`resume`], [`merge`]), what they add up to
-//! ([`Summary`]) and how tune parameters are searched ([`tune`]). It is generic
+//! ([`Summary`]) and how tune parameters are searched ([`tune()`]). It is generic
 //! over the per-variant work: the caller supplies a closure that elaborates,
 //! solves and measures. It must not format for people or print: the CLI
 //! owns the terminal (progress arrives through a callback).
 //!
 //! Modules: [`plan`] (numbering, segments), [`sample`] (reproducible
 //! tolerance draws), [`runner`], [`record`] (file format, resume, merge,
-//! CSV), [`summary`], [`tune`].
+//! CSV), [`summary`], [`mod@tune`].
 #![deny(missing_docs)]
 
 pub mod error;
