@@ -180,7 +180,6 @@ pub fn html_report(
     tankwave_report::html::stage_report(&input)
 }
 
-
 /// Unit of a flattened study figure, from its name's suffix.
 fn figure_unit(name: &str) -> &'static str {
     if name.ends_with("_w") {
