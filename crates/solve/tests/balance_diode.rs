@@ -359,19 +359,29 @@ fn harmonics_are_raised_until_the_top_ones_are_negligible() {
 }
 
 #[test]
-fn auto_uses_balance_and_falls_back_to_shooting() {
+fn auto_uses_shooting_and_falls_back_to_balance() {
     let b = clipper();
     let mut p = params(SteadyMethod::Auto, 16, 256);
     p.balance.raise_harmonics = false;
     let (_, s) = run(&b, &p);
-    assert_eq!(s.info.method, SteadyMethod::Balance);
+    assert_eq!(s.info.method, SteadyMethod::Shooting);
     assert_eq!(s.info.fell_back_from, None);
-    // Make balance fail (one iteration, no continuation): auto says it fell back.
+    // Make shooting fail (no Newton iteration allowed): auto says it fell back.
+    p.shooting.max_iter = 0;
+    let (_, s) = run(&b, &p);
+    assert_eq!(s.info.method, SteadyMethod::Balance);
+    assert_eq!(s.info.fell_back_from, Some(SteadyMethod::Shooting));
+    // Both fail: the error carries both reasons.
     p.balance.max_iter = 1;
     p.balance.continuation = false;
-    let (_, s) = run(&b, &p);
-    assert_eq!(s.info.method, SteadyMethod::Shooting);
-    assert_eq!(s.info.fell_back_from, Some(SteadyMethod::Balance));
+    let d = instantiate(&b.c).unwrap();
+    match steady(&b.c, &d, &p) {
+        Err(e @ SolveError::BothFailed { .. }) => {
+            let m = e.to_string();
+            assert!(m.contains("shooting") && m.contains("harmonic balance"), "{m}");
+        }
+        other => panic!("expected both methods to fail, got {other:?}"),
+    }
 }
 
 #[test]

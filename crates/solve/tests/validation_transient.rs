@@ -200,13 +200,19 @@ fn sine_driven_rlc_settles_to_the_phasor_solution() {
     // The step is set by the truncation-error tolerance: (ωh)³/12 = reltol for
     // the trapezoidal rule, (2/9)(ωh)³ = reltol for BDF2. So the expected
     // errors are 2Q(12·reltol)^(2/3)/12 and 2Q(4.5·reltol)^(2/3)/3: 1.18e-4 and
-    // 2.46e-4 at the default reltol 1e-7, above the 1e-4 the step responses
-    // reach, because Q ≈ 6.3 amplifies them. Allow 1.3× those estimates.
+    // 2.46e-4 at reltol 1e-7, because Q ≈ 6.3 amplifies them; hence the default
+    // reltol 1e-8, where they are 2.5e-5 and 5.3e-5. The accuracy target is
+    // 1e-4 relative at the default tolerances. The model is first order (error
+    // constants only; it leaves out the start-up remainder and the resampling
+    // onto the check grid), so it is checked to within a factor of 2 in both
+    // directions: the measured error must follow it, not merely stay small.
     let q = w * l / r;
     let reltol = TransientParams::default().reltol;
     let expect_trap = 2.0 * q * (12.0 * reltol).powf(2.0 / 3.0) / 12.0;
     let expect_bdf2 = 2.0 * q * (4.5 * reltol).powf(2.0 / 3.0) / 3.0;
     eprintln!("expected {expect_trap:.3e} (trapezoidal), {expect_bdf2:.3e} (BDF2)");
-    assert!(errs[0] < 1.3 * expect_trap, "{} vs {expect_trap}", errs[0]);
-    assert!(errs[1] < 1.3 * expect_bdf2, "{} vs {expect_bdf2}", errs[1]);
+    for (e, x) in [(errs[0], expect_trap), (errs[1], expect_bdf2)] {
+        assert!(e < 1e-4, "error {e:.3e} above the 1e-4 target");
+        assert!(e < 2.0 * x && e > 0.5 * x, "error {e:.3e} vs model {x:.3e}");
+    }
 }
