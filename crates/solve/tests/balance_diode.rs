@@ -378,7 +378,10 @@ fn auto_uses_shooting_and_falls_back_to_balance() {
     match steady(&b.c, &d, &p) {
         Err(e @ SolveError::BothFailed { .. }) => {
             let m = e.to_string();
-            assert!(m.contains("shooting") && m.contains("harmonic balance"), "{m}");
+            assert!(
+                m.contains("shooting") && m.contains("harmonic balance"),
+                "{m}"
+            );
         }
         other => panic!("expected both methods to fail, got {other:?}"),
     }
