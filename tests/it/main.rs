@@ -10,3 +10,4 @@ mod cli;
 mod convergence;
 mod fuzz_smoke;
 mod harness;
+mod trade;
