@@ -345,3 +345,18 @@ fn study_and_check_write_plots() {
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     assert!(dir.path().join("pass/spectrum.svg").is_file());
 }
+
+#[test]
+fn tune_finds_the_resonance_of_a_simple_tank() {
+    let o = run(&["tune", p(&data("tune/tank.tank"))]);
+    assert_eq!(code(&o), 0, "{}{}", stdout(&o), stderr(&o));
+    let s = stdout(&o);
+    let line = s
+        .lines()
+        .find(|l| l.starts_with("ctank "))
+        .expect("optimum row");
+    let c: f64 = line.split_whitespace().nth(1).unwrap().parse().unwrap();
+    // resonance C = 1/((2 pi f)^2 L) with f = 1 MHz, L = 10 uH (any circuit-analysis text)
+    let c0 = 1.0 / ((2.0 * std::f64::consts::PI * 1e6_f64).powi(2) * 10e-6);
+    assert!(((c - c0) / c0).abs() < 1e-3, "optimum {c:e} vs {c0:e}");
+}

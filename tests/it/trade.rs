@@ -9,7 +9,9 @@ use tankwave_circuit::{Circuit, ElementKind, Overrides};
 use tankwave_solve::SteadyParams;
 
 fn load(name: &str) -> Circuit {
-    let f = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("netlists").join(name);
+    let f = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("netlists")
+        .join(name);
     tankwave_circuit::load_file(&f, &Overrides::default())
         .unwrap()
         .circuit

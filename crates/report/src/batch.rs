@@ -114,7 +114,7 @@ pub fn tune_text(r: &TuneResult) -> String {
         for s in &r.sharpness {
             t.row(vec![
                 s.param.clone(),
-                fixed(s.step * 100.0, 1, "%"),
+                num(s.step),
                 s.minus
                     .map(|v| fixed(v * 100.0, 3, "%"))
                     .unwrap_or_else(|| "—".into()),
