@@ -11,6 +11,10 @@
 //! - a Monte Carlo study of the class-C demo on 1 and 2 threads: variants per
 //!   second and the speed-up.
 //!
+//! - the convergence sweep over the class-C stage (drive 0.05x..3x, supply
+//!   5..30 V, load 2 ohm..1 kohm, reactive loads at VSWR 3, bias resistor
+//!   1 ohm..1 kohm; 290 variants): fraction solved, slowest variant, no NaN.
+//!
 //! Set TANKWAVE_BENCH_VARIANTS to change the study size (default 1000).
 
 use std::path::{Path, PathBuf};
@@ -176,4 +180,57 @@ fn main() {
         );
     }
     println!("speed-up of 2 threads over 1: {:.2}x", rates[1] / rates[0]);
+
+    convergence_sweep(&root);
+}
+
+fn convergence_sweep(root: &Path) {
+    let parsed = tankwave_netlist::parse_file(root.join("tests/data/sweep/classc-load.tank"));
+    let mut variants: Vec<Vec<(&str, f64)>> = Vec::new();
+    for d in [0.05, 0.2, 0.5, 0.8, 1.0, 1.5, 2.0, 3.0] {
+        for v in [5.0, 9.0, 13.8, 20.0, 30.0] {
+            for r in [2.0, 5.0, 20.0, 50.0, 200.0, 1000.0] {
+                variants.push(vec![("drive", 20.0 * d), ("vcc", v), ("rload", r)]);
+            }
+        }
+    }
+    for k in 0..30 {
+        // VSWR 3 circle: |G| = 0.5 around 50 ohm
+        let g =
+            num_complex::Complex64::from_polar(0.5, 2.0 * std::f64::consts::PI * k as f64 / 30.0);
+        let z = (1.0 + g) / (1.0 - g) * 50.0;
+        variants.push(vec![("rload", z.re), ("xload", z.im)]);
+    }
+    for rb in [
+        1.0, 2.0, 5.0, 10.0, 22.0, 47.0, 100.0, 220.0, 470.0, 1000.0, 1.5, 3.3, 6.8, 15.0, 33.0,
+        68.0, 150.0, 330.0, 680.0, 820.0,
+    ] {
+        variants.push(vec![("rb", rb)]);
+    }
+    let mut solved = 0;
+    let mut slowest = 0.0f64;
+    for v in &variants {
+        let mut o = Overrides::default();
+        for (k, x) in v {
+            o.params.insert((*k).to_string(), *x);
+        }
+        let c = tankwave_circuit::elaborate(&parsed, &o)
+            .expect("elaborates")
+            .circuit;
+        let d = tankwave_devices::instantiate(&c).expect("devices");
+        let t = Instant::now();
+        match tankwave_solve::steady(&c, &d, &steady_params(&c)) {
+            Ok(s) => {
+                assert!(s.x.iter().flatten().all(|x| x.is_finite()), "NaN in {v:?}");
+                solved += 1;
+            }
+            Err(e) => eprintln!("{v:?}: {e}"),
+        }
+        slowest = slowest.max(t.elapsed().as_secs_f64());
+    }
+    println!(
+        "\nconvergence sweep of the class-C stage: {solved} of {} variants solved ({:.1} %), slowest {slowest:.2} s",
+        variants.len(),
+        100.0 * solved as f64 / variants.len() as f64
+    );
 }
