@@ -98,6 +98,16 @@ pub enum Scope {
 
 /// Run the analyses of `circuit` (with `scope`), measure and evaluate.
 pub fn solve(circuit: &Circuit, scope: Scope) -> Result<Results, Failure> {
+    solve_warm(circuit, scope, None)
+}
+
+/// [`solve`], with the steady state warm-started from `warm` (the state at
+/// the start of a period of a solved neighbouring variant) where given.
+pub fn solve_warm(
+    circuit: &Circuit,
+    scope: Scope,
+    warm: Option<&[f64]>,
+) -> Result<Results, Failure> {
     let devices: DeviceSet = tankwave_devices::instantiate(circuit)
         .map_err(|e| Failure::Solve(format!("cannot build the devices: {e}")))?;
     let mut res = Results {
@@ -137,9 +147,10 @@ pub fn solve(circuit: &Circuit, scope: Scope) -> Result<Results, Failure> {
                 if res.steady.is_some() {
                     continue;
                 }
-                let Some(p) = SteadyParams::from_analysis(a) else {
+                let Some(mut p) = SteadyParams::from_analysis(a) else {
                     continue;
                 };
+                p.shooting.initial = warm.map(|w| w.to_vec());
                 let solution = tankwave_solve::steady(circuit, &devices, &p).map_err(solve_err)?;
                 let metrics = measure(circuit, &solution)?;
                 res.steady = Some(SteadyOutcome { solution, metrics });

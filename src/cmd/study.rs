@@ -123,11 +123,19 @@ pub fn flatten(c: &Circuit, m: &Metrics) -> BTreeMap<String, f64> {
 }
 
 /// Solve one variant: elaborate with its overrides, solve the steady state, measure, evaluate.
+type Solved = (
+    Circuit,
+    Metrics,
+    Vec<tankwave_measure::Verdict>,
+    Option<study::WarmStart>,
+);
+
 fn solve_variant(
     parsed: &tankwave_netlist::Parsed,
     overrides: &Overrides,
     drive_scale: f64,
-) -> Result<(Circuit, Metrics, Vec<tankwave_measure::Verdict>), String> {
+    warm: Option<&study::WarmStart>,
+) -> Result<Solved, String> {
     let mut c = tankwave_circuit::elaborate(parsed, overrides)
         .map_err(|d| {
             let first = d.iter().find(|x| x.is_error()).map(|x| x.message.clone());
@@ -140,14 +148,21 @@ fn solve_variant(
     if drive_scale != 1.0 {
         scale_drive(&mut c, drive_scale)?;
     }
-    let r = pipeline::solve(&c, pipeline::Scope::Requirements).map_err(|f| match f {
+    let r = pipeline::solve_warm(
+        &c,
+        pipeline::Scope::Requirements,
+        warm.map(|w| w.as_slice()),
+    )
+    .map_err(|f| match f {
         pipeline::Failure::Solve(m) | pipeline::Failure::Setup(m) => m,
         pipeline::Failure::Input { .. } => "bad input".into(),
     })?;
     let s = r
         .steady
         .ok_or_else(|| "the file has no `analyze steady`".to_string())?;
-    Ok((c, s.metrics, r.verdicts))
+    // the state at the start of the period warm-starts the next variant of the segment
+    let next: study::WarmStart = s.solution.x.iter().map(|u| u[0]).collect();
+    Ok((c, s.metrics, r.verdicts, Some(next)))
 }
 
 /// Multiply the time-varying amplitude of the `input` source by `k`.
@@ -251,12 +266,12 @@ pub fn run(a: &StudyArgs) -> i32 {
     };
     let header = study::Header::new(&plan, params.chain, shard).with_input(file_hash(&a.file));
     let base = overrides;
-    let work = |v: &study::Variant, _warm: Option<&study::WarmStart>| {
+    let work = |v: &study::Variant, warm: Option<&study::WarmStart>| {
         let mut o = v.overrides.clone();
         for (k, val) in &base.params {
             o.params.entry(k.clone()).or_insert(*val);
         }
-        let (c, m, verdicts) = solve_variant(&parsed, &o, 1.0)?;
+        let (c, m, verdicts, next) = solve_variant(&parsed, &o, 1.0, warm)?;
         Ok(study::Outcome {
             metrics: flatten(&c, &m),
             verdicts: verdicts
@@ -271,7 +286,7 @@ pub fn run(a: &StudyArgs) -> i32 {
                     )
                 })
                 .collect(),
-            warm: None,
+            warm: next,
         })
     };
     let total = plan.len();
@@ -510,7 +525,7 @@ pub fn tune(a: &TuneArgs) -> i32 {
             params: values.clone(),
             ..Overrides::default()
         };
-        let (_c, m, _v) = solve_variant(&parsed, &o, ctx.drive_scale)?;
+        let (_c, m, _v, _w) = solve_variant(&parsed, &o, ctx.drive_scale, None)?;
         Ok(study::TuneFigures {
             pout: m.output.as_ref().map(|o| o.p1_w),
             efficiency: m.efficiency,

@@ -96,6 +96,10 @@ pub struct ShootingParams {
     /// Relative tolerance of the periodicity error `x(T) − x(0)` against
     /// each unknown's peak magnitude over the period (default 1e-7).
     pub reltol: f64,
+    /// A warm start: the state at the start of a period from a solved
+    /// neighbouring variant (same unknowns). When given (and of the right
+    /// length) the warm-up periods are skipped and Newton starts from it.
+    pub initial: Option<Vec<f64>>,
 }
 
 impl Default for ShootingParams {
@@ -104,6 +108,7 @@ impl Default for ShootingParams {
             warmup_periods: 4,
             max_iter: 50,
             reltol: 1e-7,
+            initial: None,
         }
     }
 }
