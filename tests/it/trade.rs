@@ -81,10 +81,12 @@ fn every_demo_choke_has_many_times_the_collector_load_reactance() {
             assert!(!chokes.is_empty(), "{name}: no feed choke at the collector");
             for l in chokes {
                 let x = w * l;
-                // "many times": at least 4x (a broadband transformer's primary) and
-                // 10x for a tuned stage's choke, the rule of thumb used to size them
+                // "many times": 10x for a tuned stage's feed choke and 4x for a
+                // broadband transformer's primary, the rules of thumb used to size
+                // them (common practice)
+                let factor = if name.contains("transformer") { 4.0 } else { 10.0 };
                 assert!(
-                    x >= 4.0 * r_load,
+                    x >= factor * r_load,
                     "{name}: choke reactance {x:.1} ohm vs collector load {r_load:.2} ohm"
                 );
                 eprintln!("{name}: choke {x:.1} ohm, collector load {r_load:.2} ohm");

@@ -79,6 +79,7 @@ fn finite_difference_jacobian_over_bias_range() {
     }
 }
 
+// Shockley diode equation I = IS (exp(V/(n Vt)) - 1) (W. Shockley, Bell Syst. Tech. J. 28, 1949; from memory).
 #[test]
 fn stamp_structure_without_series_resistance() {
     let p = DiodeParams {
@@ -163,6 +164,8 @@ fn limiting_uses_state_and_stays_consistent() {
     assert!((critical_voltage(d.n_vt(), d.sat_current()) - 0.730289720).abs() < 1e-9);
 }
 
+// Exponential reverse breakdown scaled to IBV at -BV: common practice; the mirrored
+// limiter applies the junction limiting of L. W. Nagel, ERL M520, 1975 (from memory).
 #[test]
 fn breakdown_current_and_reverse_limiting() {
     let p = DiodeParams {

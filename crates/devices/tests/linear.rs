@@ -159,6 +159,7 @@ fn ac0_solve(set: &tankwave_devices::DeviceSet, src: usize) -> Vec<f64> {
     solve(s.g.clone(), b)
 }
 
+// Voltage divider and Ohm's law (common practice).
 #[test]
 fn vsource_divider_dc_and_ac_agree() {
     // Source 10 V behind 50 Ω into 50 Ω: v(out) = 5 V, source delivers power (j < 0).
@@ -183,6 +184,7 @@ fn vsource_divider_dc_and_ac_agree() {
     assert!((p - 0.5).abs() < 1e-12, "p = {p}");
 }
 
+// Ohm's law (common practice).
 #[test]
 fn isource_into_resistor_dc_and_ac_agree() {
     // 1 mA flowing from gnd through the source into `out`, 100 Ω to ground: +0.1 V.
@@ -211,6 +213,7 @@ fn isource_into_resistor_dc_and_ac_agree() {
     assert!((ac0_solve(&set, 0)[0] + 100.0).abs() < 1e-11);
 }
 
+// An ideal inductor is a short at DC (common practice).
 #[test]
 fn inductor_is_dc_short_through_its_resistance() {
     // 1 V through an inductor with r = 1 Ω into 1 Ω: 0.5 V, branch current 0.5 A a → b.

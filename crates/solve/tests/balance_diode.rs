@@ -348,7 +348,7 @@ fn harmonics_are_raised_until_the_top_ones_are_negligible() {
     assert!(info.harmonics_tried.windows(2).all(|w| w[1] == 2 * w[0]));
     assert_eq!(s.harmonics, *info.harmonics_tried.last().unwrap());
     assert_eq!(info.harmonics, s.harmonics);
-    // Stopped because the top tenth fell below 1e-6 of the fundamental (or at the cap).
+    // Stopped because the top tenth fell below the truncation limit (1e-5 of the largest fundamental by default) (or at the cap).
     assert!(info.truncation <= 1.0 || s.harmonics == 256, "{info:?}");
     // With raising off, K stays and the truncation figure says it is not negligible.
     p.balance.raise_harmonics = false;
