@@ -84,7 +84,11 @@ fn every_demo_choke_has_many_times_the_collector_load_reactance() {
                 // "many times": 10x for a tuned stage's feed choke and 4x for a
                 // broadband transformer's primary, the rules of thumb used to size
                 // them (common practice)
-                let factor = if name.contains("transformer") { 4.0 } else { 10.0 };
+                let factor = if name.contains("transformer") {
+                    4.0
+                } else {
+                    10.0
+                };
                 assert!(
                     x >= factor * r_load,
                     "{name}: choke reactance {x:.1} ohm vs collector load {r_load:.2} ohm"
