@@ -61,8 +61,15 @@ pub fn shooting(
         // a warm start from a solved neighbour: no warm-up periods
         Some(x) if x.len() == n && x.iter().all(|v| v.is_finite()) => x.clone(),
         _ => {
-            for s in 0..warm * ns {
-                st.step_trbdf2((s + 1) as f64 * h).map_err(err)?;
+            // Start the warm-up at the first period where the sources are
+            // periodic, from the operating point: the gentle start-up ramp a
+            // file asks for is meant for plain transients; integrating it here
+            // would only cost periods (and, cut short, land on a wrong orbit).
+            let t_start = startup * period;
+            let xop = st.x.clone();
+            st.init_at(&xop, t_start);
+            for s in 0..params.shooting.warmup_periods * ns {
+                st.step_trbdf2(t_start + (s + 1) as f64 * h).map_err(err)?;
             }
             st.x.clone()
         }

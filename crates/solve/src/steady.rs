@@ -89,7 +89,8 @@ impl Default for SettleParams {
 /// Options of shooting.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ShootingParams {
-    /// Transient periods run from the operating point before the first Newton step (default 4).
+    /// Transient periods run from the operating point (started where the sources
+    /// have become periodic) before the first Newton step (default 8).
     pub warmup_periods: usize,
     /// Newton iteration limit (default 50).
     pub max_iter: usize,
@@ -105,7 +106,7 @@ pub struct ShootingParams {
 impl Default for ShootingParams {
     fn default() -> Self {
         Self {
-            warmup_periods: 4,
+            warmup_periods: 8,
             max_iter: 50,
             reltol: 1e-7,
             initial: None,
