@@ -274,31 +274,23 @@ impl Metrics {
 /// (see [`conduction_angle_deg`]).
 pub const EDGE_SLOPE_FRACTION: f64 = 0.25;
 
-/// Conduction angle of a current over one period, degrees.
-///
-/// 1. Samples above `threshold_fraction` × the peak current are conducting;
-///    each stands for one sample interval centred on it.
-/// 2. From each edge of a conducting run the edge is followed outward, sample
-///    by sample, while the current stays positive and keeps falling by at
-///    least [`EDGE_SLOPE_FRACTION`] of the step with which it crossed the
-///    threshold. These samples conduct too. A slow positive tail (junction
-///    charging current, leakage, ripple of a K-harmonic series) falls much
-///    more slowly than the pulse edge and is not followed.
-/// 3. The boundary is then placed at the zero crossing of the straight line
-///    through the last two samples of the edge, clamped to the sample
-///    interval beyond the last one.
-///
-/// On a truncated cosine the result is 2θ within the sampling resolution
-/// (for 2θ up to 330° and thresholds of 1–20 %). A current that is never
-/// positive gives 0°; one that never falls to the threshold gives 360°.
-pub fn conduction_angle_deg(i: &[f64], threshold_fraction: f64) -> f64 {
+/// The conduction intervals of a current sampled uniformly over one period
+/// of length `period` (sample k at k·period/N), as (start, end) times within
+/// [0, period], sorted; an interval that wraps around the period end comes
+/// back as two. The rule is the measurement rule of
+/// [`conduction_angle_deg`] (docs/measurements.md): samples
+/// above `threshold_fraction` × peak conduct; each pulse edge is followed
+/// outward while the current stays positive and keeps falling steeply; the
+/// boundary is the zero crossing of the line through the edge's last two
+/// samples. The total length of the intervals is that conduction angle.
+pub fn conduction_intervals(i: &[f64], period: f64, threshold_fraction: f64) -> Vec<(f64, f64)> {
     let n = i.len();
-    if n == 0 {
-        return 0.0;
+    if n == 0 || !(period.is_finite() && period > 0.0) {
+        return Vec::new();
     }
     let peak = i.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     if !(peak.is_finite() && peak > 0.0) {
-        return 0.0;
+        return Vec::new();
     }
     let frac = if threshold_fraction.is_finite() {
         threshold_fraction.clamp(0.0, 1.0)
@@ -312,15 +304,14 @@ pub fn conduction_angle_deg(i: &[f64], threshold_fraction: f64) -> f64 {
     let core = |k: isize| at(k) > thr;
     let count = (0..nn).filter(|&k| core(k)).count();
     if count == n {
-        return 360.0;
+        return vec![(0.0, period)];
     }
     if count == 0 {
-        return 0.0;
+        return Vec::new();
     }
-    // Samples already counted by an edge walk (so two walks never share one).
     let mut claimed = vec![false; n];
-    let mut total = count as f64;
-    // `dir` = +1 follows a falling edge forward, −1 a rising edge backward.
+    // boundary events in sample units: (position, rising?)
+    let mut events: Vec<(f64, bool)> = Vec::new();
     for m in 0..nn {
         if !core(m) {
             continue;
@@ -329,7 +320,6 @@ pub fn conduction_angle_deg(i: &[f64], threshold_fraction: f64) -> f64 {
             if core(m + dir) {
                 continue;
             }
-            // The step with which the current crossed the threshold.
             let inner = if core(m - dir) {
                 at(m - dir) - at(m)
             } else {
@@ -351,8 +341,6 @@ pub fn conduction_angle_deg(i: &[f64], threshold_fraction: f64) -> f64 {
                     *c = true;
                 }
             }
-            total += walked as f64;
-            // Zero crossing beyond j, as a distance u in [0, 1] samples outward.
             let (a_in, a_j, a_out) = (at(j - dir), at(j), at(j + dir));
             let u = if a_in > a_j {
                 a_j / (a_in - a_j)
@@ -366,10 +354,60 @@ pub fn conduction_angle_deg(i: &[f64], threshold_fraction: f64) -> f64 {
             } else {
                 0.5
             };
-            total += u - 0.5;
+            let pos = (j as f64 + dir as f64 * u).rem_euclid(n as f64);
+            events.push((pos, dir < 0));
         }
     }
-    (total / n as f64 * 360.0).clamp(0.0, 360.0)
+    events.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let dt = period / n as f64;
+    let mut out = Vec::new();
+    let ne = events.len();
+    for (k, &(p0, rising)) in events.iter().enumerate() {
+        if !rising {
+            continue;
+        }
+        // the next falling boundary in circular order closes this pulse
+        let Some(&(p1, _)) = (1..=ne).map(|d| &events[(k + d) % ne]).find(|e| !e.1) else {
+            continue;
+        };
+        let len = (p1 - p0).rem_euclid(n as f64);
+        let (t0, t1) = (p0 * dt, (p0 + len) * dt);
+        if t1 <= period {
+            out.push((t0, t1));
+        } else {
+            out.push((t0, period));
+            out.push((0.0, (t1 - period).min(period)));
+        }
+    }
+    out.sort_by(|a, b| a.0.total_cmp(&b.0));
+    out
+}
+
+/// Conduction angle of a current over one period, degrees.
+///
+/// 1. Samples above `threshold_fraction` × the peak current are conducting;
+///    each stands for one sample interval centred on it.
+/// 2. From each edge of a conducting run the edge is followed outward, sample
+///    by sample, while the current stays positive and keeps falling by at
+///    least [`EDGE_SLOPE_FRACTION`] of the step with which it crossed the
+///    threshold. These samples conduct too. A slow positive tail (junction
+///    charging current, leakage, ripple of a K-harmonic series) falls much
+///    more slowly than the pulse edge and is not followed.
+/// 3. The boundary is then placed at the zero crossing of the straight line
+///    through the last two samples of the edge, clamped to the sample
+///    interval beyond the last one.
+///
+/// On a truncated cosine the result is 2θ within the sampling resolution
+/// (for 2θ up to 330° and thresholds of 1–20 %). A current that is never
+/// positive gives 0°; one that never falls to the threshold gives 360°.
+///
+/// It is the total length of the [`conduction_intervals`] of one period.
+pub fn conduction_angle_deg(i: &[f64], threshold_fraction: f64) -> f64 {
+    let total: f64 = conduction_intervals(i, 1.0, threshold_fraction)
+        .iter()
+        .map(|(a, b)| b - a)
+        .sum();
+    (total * 360.0).clamp(0.0, 360.0)
 }
 
 fn note(notes: &mut Vec<Note>, figure: &str, reason: impl Into<String>) {

@@ -97,7 +97,7 @@
 use crate::error::When;
 use crate::linalg::{LinearSolver, RealLu};
 use crate::op::{solve_op, OpParams};
-use crate::steady::{PeriodicSolution, SteadyInfo, SteadyParams};
+use crate::steady::{IqStamp, PeriodicSolution, SteadyInfo, SteadyParams};
 use crate::SolveError;
 use faer::linalg::solvers::Solve;
 use faer::Mat;
@@ -1653,27 +1653,6 @@ fn truncation_ratio(devices: &DeviceSet, x: &[Vec<C64>], bp: &BalanceParams) -> 
     } else {
         0.0
     }
-}
-
-/// A stamp that keeps only the currents and charges (full length).
-struct IqStamp {
-    i: Vec<f64>,
-    q: Vec<f64>,
-}
-
-impl Stamp for IqStamp {
-    fn add_i(&mut self, row: Idx, v: f64) {
-        if let Some(r) = row.and_then(|r| self.i.get_mut(r)) {
-            *r += v;
-        }
-    }
-    fn add_q(&mut self, row: Idx, v: f64) {
-        if let Some(r) = row.and_then(|r| self.q.get_mut(r)) {
-            *r += v;
-        }
-    }
-    fn add_g(&mut self, _row: Idx, _col: Idx, _v: f64) {}
-    fn add_c(&mut self, _row: Idx, _col: Idx, _v: f64) {}
 }
 
 /// Work summed over every K tried.

@@ -339,10 +339,11 @@ pub fn settle(
     })
 }
 
-/// A stamp that keeps only the currents and charges.
-struct IqStamp {
-    i: Vec<f64>,
-    q: Vec<f64>,
+/// A stamp that keeps only the currents and charges (shared by every
+/// periodic method that evaluates devices at samples of a period).
+pub(crate) struct IqStamp {
+    pub(crate) i: Vec<f64>,
+    pub(crate) q: Vec<f64>,
 }
 
 impl Stamp for IqStamp {
