@@ -73,6 +73,15 @@ pub fn parse_value(s: &str) -> Result<f64, String> {
     }
 }
 
+/// The unit symbol written after a command-line value (`100pF` → farad), if any.
+pub fn value_unit(s: &str) -> Option<tankwave_netlist::units::Unit> {
+    let s = s.trim();
+    let end = number_prefix_len(s);
+    tankwave_netlist::units::split_suffix(s.get(end..)?.trim())
+        .ok()
+        .and_then(|(_, u)| u)
+}
+
 /// Length of the longest prefix of `s` that reads as a decimal number.
 fn number_prefix_len(s: &str) -> usize {
     let b = s.as_bytes();

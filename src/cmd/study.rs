@@ -40,6 +40,11 @@ pub struct StudyArgs {
     /// limit; sweep curves when there is no Monte Carlo) to this directory.
     #[arg(long, value_name = "DIR")]
     pub plots: Option<PathBuf>,
+    /// Write a self-contained HTML report (inline SVG and CSS, no network) to
+    /// this file: the study summary with its histograms and sweep curves,
+    /// then the nominal stage (the file's own values, steady state only).
+    #[arg(long, value_name = "FILE.html")]
+    pub report: Option<PathBuf>,
 }
 
 /// Arguments of `merge`.
@@ -84,6 +89,23 @@ pub struct TuneArgs {
     /// Most optimiser iterations.
     #[arg(long, default_value_t = 200)]
     pub max_iters: u64,
+    /// Write SVG plots of the goal around the optimum to this directory: the
+    /// goal against the parameter for one tuned parameter, a heat map over
+    /// both for two, one curve per parameter for more. The goal is evaluated
+    /// afresh on a grid at full drive (see --plot-points, --plot-span).
+    #[arg(long, value_name = "DIR")]
+    pub plots: Option<PathBuf>,
+    /// Grid points per parameter for --plots (default 21 on a curve, 11 per side of a heat map; at most 201).
+    #[arg(long, value_name = "N", requires = "plots")]
+    pub plot_points: Option<usize>,
+    /// Width of the plotted window as a fraction of each tune range, centred on the optimum (1 = the whole range).
+    #[arg(
+        long,
+        value_name = "FRACTION",
+        default_value_t = 0.2,
+        requires = "plots"
+    )]
+    pub plot_span: f64,
 }
 
 /// Flatten the metrics of a variant into named figures (units in the names).
@@ -227,6 +249,23 @@ impl study::RecordSink for &mut SummarySink {
     }
 }
 
+/// Refuse a report path that cannot be written, before any work is done:
+/// a directory, or a file in a directory that is missing or not writable.
+fn check_report_path(path: &Path) -> Result<(), String> {
+    if path.is_dir() {
+        return Err(format!(
+            "--report '{}' is a directory; give a file name such as study.html",
+            path.display()
+        ));
+    }
+    let dir = match path.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d,
+        _ => Path::new("."),
+    };
+    tankwave_report::files::check_writable_dir(dir)
+        .map_err(|e| format!("--report '{}': {e}", path.display()))
+}
+
 /// Run `study`; returns the exit code (1 if any variant fails a requirement or does not solve).
 pub fn run(a: &StudyArgs) -> i32 {
     let file = a.file.display().to_string();
@@ -305,9 +344,19 @@ pub fn run(a: &StudyArgs) -> i32 {
             );
             return BAD_INPUT;
         }
+        if let Err(e) = tankwave_report::files::check_writable_dir(dir) {
+            eprintln!("error: plot directory: {e}");
+            return BAD_INPUT;
+        }
+    }
+    if let Some(path) = &a.report {
+        if let Err(m) = check_report_path(path) {
+            eprintln!("error: {m}");
+            return BAD_INPUT;
+        }
     }
     let mut summary_sink = SummarySink {
-        keep: a.plots.is_some(),
+        keep: a.plots.is_some() || a.report.is_some(),
         ..SummarySink::default()
     };
     let result = match &a.out {
@@ -371,17 +420,6 @@ pub fn run(a: &StudyArgs) -> i32 {
             return SOLVER;
         }
     };
-    if let Some(dir) = &a.plots {
-        let (files, notes) =
-            super::visual::study_plots(dir, &file, &loaded.circuit, &summary_sink.kept);
-        for n in notes {
-            eprintln!("note: {n}");
-        }
-        if let Err(e) = tankwave_report::files::write_all_atomic(&files) {
-            eprintln!("error: {e}");
-            return BAD_INPUT;
-        }
-    }
     let summary = match summary_sink.builder.finish(&a.percentiles) {
         Ok(s) => s,
         Err(e) => {
@@ -389,6 +427,61 @@ pub fn run(a: &StudyArgs) -> i32 {
             return BAD_INPUT;
         }
     };
+    if a.plots.is_some() || a.report.is_some() {
+        let (figures, notes) =
+            super::visual::study_figures(&file, &parsed, &loaded.circuit, &summary_sink.kept);
+        for n in notes {
+            eprintln!("note: {n}");
+        }
+        let mut files = match &a.plots {
+            Some(dir) => super::visual::into_files(dir, &figures),
+            None => Vec::new(),
+        };
+        if let Some(path) = &a.report {
+            let nominal = pipeline::solve(&loaded.circuit, pipeline::Scope::Requirements).map_err(
+                |f| match f {
+                    pipeline::Failure::Solve(m) | pipeline::Failure::Setup(m) => m,
+                    pipeline::Failure::Input { .. } => "bad input".to_string(),
+                },
+            );
+            let options = vec![
+                ("command".to_string(), "study".to_string()),
+                ("--set".to_string(), a.sets.join(" ")),
+                (
+                    "--percentiles".to_string(),
+                    a.percentiles
+                        .iter()
+                        .map(|p| p.to_string())
+                        .collect::<Vec<_>>()
+                        .join(","),
+                ),
+                (
+                    "--shard".to_string(),
+                    a.shard.clone().unwrap_or_else(|| "none".to_string()),
+                ),
+                ("--resume".to_string(), a.resume.to_string()),
+            ];
+            let html = super::visual::study_report(
+                &loaded.circuit,
+                super::visual::StudyReport {
+                    path: &a.file,
+                    file: &file,
+                    summary: &summary,
+                    total,
+                    info: &info,
+                    shard,
+                    figures,
+                    nominal,
+                    options,
+                },
+            );
+            files.push((path.clone(), html.into_bytes()));
+        }
+        if let Err(e) = tankwave_report::files::write_all_atomic(&files) {
+            eprintln!("error: {e}");
+            return BAD_INPUT;
+        }
+    }
     println!(
         "{}\n{}: {} variants run on {} threads{}\n",
         loaded
@@ -462,12 +555,28 @@ pub fn merge(a: &MergeArgs) -> i32 {
 /// Run `tune`.
 pub fn tune(a: &TuneArgs) -> i32 {
     let file = a.file.display().to_string();
+    let map_params = study::TuneMapParams {
+        points: a.plot_points.unwrap_or(0),
+        span: a.plot_span,
+    };
+    if let Some(dir) = &a.plots {
+        if let Err(e) = map_params.validate() {
+            eprintln!("error: --plot-points/--plot-span: {e}");
+            return BAD_INPUT;
+        }
+        if let Err(e) = tankwave_report::files::check_writable_dir(dir) {
+            eprintln!("error: plot directory: {e}");
+            return BAD_INPUT;
+        }
+    }
     let loaded = match pipeline::load(&a.file, &Overrides::default()) {
         Ok(l) => l,
         Err(f) => return common::report_failure(&file, &f),
     };
     let parsed = tankwave_netlist::parse_file(&a.file);
     let mut ranges: Vec<Tune> = Vec::new();
+    // units written in --param ranges (for plot axes)
+    let mut cli_units: BTreeMap<String, String> = BTreeMap::new();
     for p in &a.params {
         let parsed_range = p.split_once('=').and_then(|(n, r)| {
             let (lo, hi) = r.split_once(':')?;
@@ -478,11 +587,16 @@ pub fn tune(a: &TuneArgs) -> i32 {
             return BAD_INPUT;
         };
         match (common::parse_value(&lo), common::parse_value(&hi)) {
-            (Ok(from), Ok(to)) => ranges.push(Tune {
-                param: name,
-                from,
-                to,
-            }),
+            (Ok(from), Ok(to)) => {
+                if let Some(u) = common::value_unit(&lo).or(common::value_unit(&hi)) {
+                    cli_units.insert(name.clone(), super::visual::unit_symbol(u).to_string());
+                }
+                ranges.push(Tune {
+                    param: name,
+                    from,
+                    to,
+                })
+            }
             (Err(e), _) | (_, Err(e)) => {
                 eprintln!("error: --param {name}: {e}");
                 return BAD_INPUT;
@@ -532,22 +646,57 @@ pub fn tune(a: &TuneArgs) -> i32 {
             input_vswr: m.drive.as_ref().and_then(|d| d.vswr),
         })
     };
-    match study::tune(&ranges, objective, goal, &params) {
-        Ok(r) => {
-            println!(
-                "{}\n{file}\n",
-                loaded
-                    .circuit
-                    .title
-                    .as_deref()
-                    .unwrap_or("(untitled stage)")
-            );
-            print!("{}", tankwave_report::batch::tune_text(&r));
-            OK
-        }
+    let r = match study::tune(&ranges, objective, goal, &params) {
+        Ok(r) => r,
         Err(e) => {
             eprintln!("error: {file}: tuning failed: {e}");
-            SOLVER
+            return SOLVER;
+        }
+    };
+    println!(
+        "{}\n{file}\n",
+        loaded
+            .circuit
+            .title
+            .as_deref()
+            .unwrap_or("(untitled stage)")
+    );
+    print!("{}", tankwave_report::batch::tune_text(&r));
+    if let Some(dir) = &a.plots {
+        let map = match study::map_around(&ranges, &r.optimum, objective, &map_params) {
+            Ok(m) => m,
+            Err(e) => {
+                eprintln!("error: {file}: mapping the goal around the optimum: {e}");
+                return SOLVER;
+            }
+        };
+        if map.failed > 0 {
+            eprintln!(
+                "note: {} of {} points around the optimum did not solve (first: {})",
+                map.failed,
+                map.evaluations,
+                map.first_failure.as_deref().unwrap_or("no message")
+            );
+        }
+        let units = ranges
+            .iter()
+            .map(|t| {
+                let u = cli_units
+                    .get(&t.param)
+                    .cloned()
+                    .unwrap_or_else(|| super::visual::param_unit(&parsed, &t.param));
+                (t.param.clone(), u)
+            })
+            .collect();
+        let (figures, notes) = super::visual::tune_figures(&file, goal, &map, &r.optimum, &units);
+        for n in notes {
+            eprintln!("note: {n}");
+        }
+        let files = super::visual::into_files(dir, &figures);
+        if let Err(e) = tankwave_report::files::write_all_atomic(&files) {
+            eprintln!("error: {e}");
+            return BAD_INPUT;
         }
     }
+    OK
 }

@@ -253,6 +253,7 @@ fn outputs_into_missing_or_read_only_directories_are_refused() {
     let b = base.path();
     let pass = data("check/pass.tank");
     let study = data("study/divider.tank");
+    let tune = data("tune/tank.tank");
     // A good record file for merge, made by a study.
     let records = b.join("records.jsonl");
     let o = run(&["study", p(&study), "--out", p(&records)]);
@@ -298,6 +299,33 @@ fn outputs_into_missing_or_read_only_directories_are_refused() {
                     p(&records).into(),
                     "--out".into(),
                     p(&dir.join("merged.jsonl")).into(),
+                ],
+            ),
+            (
+                "study --report",
+                vec![
+                    "study".into(),
+                    p(&study).into(),
+                    "--report".into(),
+                    p(&dir.join("study.html")).into(),
+                ],
+            ),
+            (
+                "study --plots",
+                vec![
+                    "study".into(),
+                    p(&study).into(),
+                    "--plots".into(),
+                    p(&dir).into(),
+                ],
+            ),
+            (
+                "tune --plots",
+                vec![
+                    "tune".into(),
+                    p(&tune).into(),
+                    "--plots".into(),
+                    p(&dir).into(),
                 ],
             ),
         ];

@@ -363,3 +363,235 @@ fn tune_finds_the_resonance_of_a_simple_tank() {
     let c0 = 1.0 / ((2.0 * std::f64::consts::PI * 1e6_f64).powi(2) * 10e-6);
     assert!(((c - c0) / c0).abs() < 1e-3, "optimum {c:e} vs {c0:e}");
 }
+
+/// `class` attributes of the `<g>` groups of an SVG, with their `data-label`.
+fn groups<'a>(doc: &'a roxmltree::Document) -> Vec<(&'a str, &'a str)> {
+    doc.descendants()
+        .filter(|n| n.has_tag_name("g"))
+        .map(|n| {
+            (
+                n.attribute("class").unwrap_or(""),
+                n.attribute("data-label").unwrap_or(""),
+            )
+        })
+        .collect()
+}
+
+/// Every `<text>` of an SVG, trimmed.
+fn svg_texts(doc: &roxmltree::Document) -> Vec<String> {
+    doc.descendants()
+        .filter(|n| n.has_tag_name("text"))
+        .map(|n| n.text().unwrap_or("").trim().to_string())
+        .collect()
+}
+
+/// The optimum row `name value` of `tune`'s table.
+fn optimum(out: &str, name: &str) -> f64 {
+    let line = out
+        .lines()
+        .find(|l| l.starts_with(&format!("{name} ")))
+        .unwrap_or_else(|| panic!("no optimum row for {name} in:\n{out}"));
+    line.split_whitespace().nth(1).unwrap().parse().unwrap()
+}
+
+#[test]
+fn tune_plots_one_parameter_as_a_curve_through_the_optimum() {
+    let dir = tempfile::tempdir().unwrap();
+    let o = run(&["tune", p(&data("tune/tank.tank")), "--plots", p(dir.path())]);
+    assert_eq!(code(&o), 0, "{}{}", stdout(&o), stderr(&o));
+    let files: Vec<_> = std::fs::read_dir(dir.path()).unwrap().collect();
+    assert_eq!(files.len(), 1, "one plot, no temporary files left");
+    let text = std::fs::read_to_string(dir.path().join("tune-ctank.svg")).unwrap();
+    let doc = roxmltree::Document::parse(&text).expect("the SVG is XML");
+    let g = groups(&doc);
+    let series: Vec<_> = g.iter().filter(|(c, _)| *c == "series").collect();
+    assert_eq!(series.len(), 1, "one series: {g:?}");
+    assert_eq!(series[0].1, "output power");
+    assert!(
+        g.contains(&("reference", "optimum")),
+        "optimum marked: {g:?}"
+    );
+    let t = svg_texts(&doc);
+    // axis labels with units (the tune range is written in nF)
+    assert!(t.iter().any(|s| s == "ctank (nF)"), "{t:?}");
+    assert!(t.iter().any(|s| s == "output power (mW)"), "{t:?}");
+    assert!(
+        t.iter()
+            .any(|s| s.starts_with("Tuning ctank") && s.contains("tank.tank")),
+        "title names the file: {t:?}"
+    );
+    // the subtitle gives the optimum the tuner printed, to 4 digits (resonance
+    // C = 1/((2 pi f)^2 L) = 2.533 nF for 1 MHz and 10 uH, any circuit text)
+    assert!(t.iter().any(|s| s.contains("optimum at 2.533 nF")), "{t:?}");
+}
+
+#[test]
+fn tune_plots_two_parameters_as_a_surface() {
+    let dir = tempfile::tempdir().unwrap();
+    let o = run(&[
+        "tune",
+        p(&data("tune/lmatch.tank")),
+        "--plots",
+        p(dir.path()),
+        "--plot-points",
+        "7",
+    ]);
+    assert_eq!(code(&o), 0, "{}{}", stdout(&o), stderr(&o));
+    // conjugate match of an L network (any circuit-analysis text): with
+    // Q = sqrt(50/10 - 1) = 2, X(ctune) = 25 ohm and X(cload) = X(L) - 20 ohm = 20 ohm
+    // at 1 MHz; 0.1 % is the accuracy asked of the tuner
+    let w = 2.0 * std::f64::consts::PI * 1e6;
+    let ctune = 1.0 / (w * 25.0);
+    let cload = 1.0 / (w * (w * 6.3662e-6 - 20.0));
+    let out = stdout(&o);
+    assert!((optimum(&out, "ctune") / ctune - 1.0).abs() < 1e-3, "{out}");
+    assert!((optimum(&out, "cload") / cload - 1.0).abs() < 1e-3, "{out}");
+    let text = std::fs::read_to_string(dir.path().join("tune-ctune-cload.svg")).unwrap();
+    let doc = roxmltree::Document::parse(&text).expect("the SVG is XML");
+    let g = groups(&doc);
+    let heat: Vec<_> = doc
+        .descendants()
+        .filter(|n| {
+            n.has_tag_name("g")
+                && n.attribute("class") == Some("series heat")
+                && n.attribute("data-label") == Some("output power")
+        })
+        .collect();
+    assert_eq!(heat.len(), 1, "one series, the heat map: {g:?}");
+    let cells = heat[0]
+        .descendants()
+        .filter(|n| n.has_tag_name("rect"))
+        .count();
+    assert_eq!(cells, 49, "7 x 7 grid, every point solved");
+    assert_eq!(g.iter().filter(|(c, _)| *c == "optimum").count(), 1);
+    let t = svg_texts(&doc);
+    for label in ["ctune (nF)", "cload (nF)", "output power (mW)"] {
+        assert!(t.iter().any(|s| s == label), "{label} missing: {t:?}");
+    }
+    assert!(t.iter().any(|s| s.contains("lmatch.tank")), "{t:?}");
+}
+
+#[test]
+fn study_report_is_self_contained_and_holds_the_summary() {
+    let dir = tempfile::tempdir().unwrap();
+    let report = dir.path().join("study.html");
+    let o = run(&[
+        "study",
+        p(&data("study/sweep.tank")),
+        "--report",
+        p(&report),
+        "--threads",
+        "1",
+    ]);
+    // only the 50 ohm variant meets pout >= 0.23 W (see the file): exit 1
+    assert_eq!(code(&o), 1, "{}{}", stdout(&o), stderr(&o));
+    let html = std::fs::read_to_string(&report).unwrap();
+    for bad in [
+        "http:", "https:", "src=", "<script", "url(", "@import", "<link", "<img", "<iframe",
+    ] {
+        assert!(!html.contains(bad), "report holds '{bad}'");
+    }
+    let doc = roxmltree::Document::parse_with_options(
+        &html,
+        roxmltree::ParsingOptions {
+            allow_dtd: true,
+            ..Default::default()
+        },
+    )
+    .expect("the report is well-formed");
+    let h2: Vec<&str> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("h2"))
+        .map(|n| n.text().unwrap_or(""))
+        .collect();
+    assert_eq!(h2.first(), Some(&"Studies"), "{h2:?}");
+    assert!(h2.contains(&"Requirements — nominal stage"), "{h2:?}");
+    assert!(
+        h2.contains(&"Safety") && h2.contains(&"Provenance"),
+        "{h2:?}"
+    );
+    // pass/fail per requirement: passed 1, failed 2, none unevaluated
+    let rows: Vec<Vec<String>> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("tr"))
+        .map(|r| {
+            r.children()
+                .filter(|c| c.has_tag_name("td"))
+                .map(|c| c.text().unwrap_or("").to_string())
+                .collect()
+        })
+        .collect();
+    assert!(
+        rows.iter()
+            .any(|r| r.len() == 6 && r[0] == "require pout >= 0.23W" && r[1..4] == ["1", "2", "0"]),
+        "{rows:?}"
+    );
+    // figure statistics: the divider gives 0.2222 W at 25 and 100 ohm and 0.25 W at 50 ohm
+    let pout = rows
+        .iter()
+        .find(|r| r.first().map(String::as_str) == Some("pout_w"))
+        .expect("pout_w statistics row");
+    assert_eq!(&pout[1..6], ["3", "0.2222", "0.2315", "0.2222", "0.2500"]);
+    // the study's plots inline: a histogram and a sweep curve per figure, plus
+    // the nominal stage's spectrum
+    let captions: Vec<&str> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("figcaption"))
+        .map(|n| n.text().unwrap_or(""))
+        .collect();
+    assert!(captions
+        .iter()
+        .any(|c| c.starts_with("Histogram of pout_w")));
+    assert!(captions.iter().any(|c| c.starts_with("pout_w against rl")));
+    let svgs = doc.descendants().filter(|n| n.has_tag_name("svg")).count();
+    assert_eq!(svgs, captions.len(), "every figure drew");
+    let text: String = doc
+        .descendants()
+        .filter(|n| n.is_text())
+        .map(|n| n.text().unwrap_or(""))
+        .collect();
+    assert!(text.contains("licence"), "safety caution");
+    assert!(text.contains("3 variants: rl swept over 3 values"), "intro");
+    assert!(text.contains("sweep.tank"));
+    let hash = text
+        .split("SHA-256")
+        .nth(1)
+        .map(|s| s.trim().chars().take(64).collect::<String>())
+        .unwrap_or_default();
+    assert!(
+        hash.len() == 64 && hash.chars().all(|c| c.is_ascii_hexdigit()),
+        "file hash: {hash}"
+    );
+}
+
+#[test]
+fn study_report_and_tune_plot_options_are_checked_before_any_work() {
+    let dir = tempfile::tempdir().unwrap();
+    // a report path that is a directory
+    let o = run(&[
+        "study",
+        p(&data("study/sweep.tank")),
+        "--report",
+        p(dir.path()),
+    ]);
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    assert!(stderr(&o).contains("is a directory"), "{}", stderr(&o));
+    assert!(stdout(&o).is_empty(), "no study ran");
+    // grid options out of range
+    for (points, span) in [("1", "0.2"), ("5000", "0.2"), ("7", "0"), ("7", "1.5")] {
+        let o = run(&[
+            "tune",
+            p(&data("tune/tank.tank")),
+            "--plots",
+            p(dir.path()),
+            "--plot-points",
+            points,
+            "--plot-span",
+            span,
+        ]);
+        assert_eq!(code(&o), 2, "{points} {span}: {}", stderr(&o));
+        assert!(stderr(&o).contains("--plot-points"), "{}", stderr(&o));
+        assert!(stdout(&o).is_empty(), "no tuning ran");
+    }
+    assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0);
+}

@@ -1,7 +1,10 @@
 //! Text for studies: the summary of a batch (yield, statistics of every
-//! figure, the worst variant of each requirement) and the tuning result.
+//! figure, the worst variant of each requirement) and the tuning result,
+//! as terminal text, and the summary as sections of the HTML report
+//! ([`study_sections`]).
 
 use crate::format::fixed;
+use crate::html::{Figure, PlainTable, StudySection};
 use crate::table::{Align, Table};
 use tankwave_study::{Summary, TuneResult};
 
@@ -68,6 +71,100 @@ pub fn summary_text(s: &Summary) -> String {
         out.push_str(&t.render());
     }
     out
+}
+
+/// The summary of a study as two report sections: the counts (variants,
+/// failures, yield) with pass/fail counts per requirement, then the
+/// statistics of every figure (count, min, mean, median, max and the
+/// summary's percentiles) followed by `figures` (histograms, sweep curves).
+/// `heading` names the study, e.g. "Monte Carlo over stage.tank".
+pub fn study_sections(s: &Summary, heading: &str, figures: Vec<Figure>) -> Vec<StudySection> {
+    let mut lines = vec![
+        ("variants".to_string(), s.variants.to_string()),
+        ("failed to solve".to_string(), s.failed.to_string()),
+        (
+            "pass every requirement".to_string(),
+            format!("{} of {}", s.passed_all, s.variants),
+        ),
+        ("yield".to_string(), fixed(s.yield_fraction * 100.0, 1, "%")),
+    ];
+    if s.requirements.is_empty() {
+        lines.push((
+            "requirements".to_string(),
+            "none (yield is the fraction of variants that solved)".to_string(),
+        ));
+    }
+    let requirements = (!s.requirements.is_empty()).then(|| PlainTable {
+        header: [
+            "requirement",
+            "passed",
+            "failed",
+            "not evaluated",
+            "worst variant",
+            "worst margin",
+        ]
+        .iter()
+        .map(|h| h.to_string())
+        .collect(),
+        rows: s
+            .requirements
+            .iter()
+            .map(|(name, r)| {
+                vec![
+                    name.clone(),
+                    r.passed.to_string(),
+                    (r.evaluated - r.passed.min(r.evaluated)).to_string(),
+                    s.variants.saturating_sub(r.evaluated).to_string(),
+                    format!("#{}", r.worst_index),
+                    num(r.worst_margin),
+                ]
+            })
+            .collect(),
+    });
+    let pct: Vec<f64> = s
+        .figures
+        .values()
+        .next()
+        .map(|f| f.percentiles.iter().map(|(p, _)| *p).collect())
+        .unwrap_or_default();
+    let mut header: Vec<String> = ["figure", "count", "min", "mean", "median", "max"]
+        .iter()
+        .map(|h| h.to_string())
+        .collect();
+    header.extend(pct.iter().map(|p| format!("p{p}")));
+    let stats = PlainTable {
+        header,
+        rows: s
+            .figures
+            .iter()
+            .map(|(name, f)| {
+                let mut r = vec![
+                    name.clone(),
+                    f.count.to_string(),
+                    num(f.min),
+                    num(f.mean),
+                    num(f.median),
+                    num(f.max),
+                ];
+                r.extend(f.percentiles.iter().map(|(_, v)| num(*v)));
+                r
+            })
+            .collect(),
+    };
+    vec![
+        StudySection {
+            title: heading.to_string(),
+            lines,
+            table: requirements,
+            figures: Vec::new(),
+        },
+        StudySection {
+            title: format!("Figures over the {} variants", s.variants),
+            lines: Vec::new(),
+            table: (!s.figures.is_empty()).then_some(stats),
+            figures,
+        },
+    ]
 }
 
 /// The result of a tuning run as text.

@@ -44,6 +44,26 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), ReportError> {
     Ok(())
 }
 
+/// Check, before any work is done, that files can be created in `dir`:
+/// it must be an existing directory in which a temporary file can be made
+/// (the file is removed again at once).
+pub fn check_writable_dir(dir: &Path) -> Result<(), ReportError> {
+    let err = |source| ReportError::Write {
+        path: dir.to_path_buf(),
+        source,
+    };
+    if !dir.is_dir() {
+        let why = if dir.exists() {
+            "not a directory"
+        } else {
+            "the directory does not exist"
+        };
+        return Err(err(std::io::Error::new(std::io::ErrorKind::NotFound, why)));
+    }
+    tempfile::NamedTempFile::new_in(dir).map_err(err)?;
+    Ok(())
+}
+
 /// Write several files whole, all or nothing: every file is first written to a
 /// temporary file; only when all succeeded are they renamed into place. If a
 /// rename fails midway, the files already renamed are removed again.
@@ -99,6 +119,24 @@ mod tests {
         let p = dir.path().join("no/such/dir/a.txt");
         assert!(write_atomic(&p, b"x").is_err());
         assert!(!p.exists());
+    }
+
+    #[test]
+    fn writable_directory_check() {
+        let dir = tempfile::tempdir().unwrap();
+        assert!(check_writable_dir(dir.path()).is_ok());
+        assert_eq!(
+            std::fs::read_dir(dir.path()).unwrap().count(),
+            0,
+            "probe removed"
+        );
+        let missing = dir.path().join("missing");
+        let e = check_writable_dir(&missing).unwrap_err().to_string();
+        assert!(e.contains("does not exist") && e.contains("missing"), "{e}");
+        let file = dir.path().join("plain");
+        std::fs::write(&file, b"x").unwrap();
+        let e = check_writable_dir(&file).unwrap_err().to_string();
+        assert!(e.contains("not a directory"), "{e}");
     }
 
     #[test]

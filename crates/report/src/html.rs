@@ -8,9 +8,12 @@
 //! the input is escaped. A plot that cannot be drawn leaves a short note in
 //! its place instead of failing the report.
 //!
-//! Sections: title and file hash, requirement verdicts, headline figures,
-//! spectrum against the mask, waveforms, transistor figures and component
-//! stress, study summaries, the safety caution, provenance.
+//! Sections: title and file hash (with optional introductory paragraphs),
+//! study summaries, requirement verdicts, headline figures, spectrum against
+//! the mask, waveforms, transistor figures and component stress, the safety
+//! caution, provenance. Study summaries come first because a study report
+//! leads with them; the stage sections after them can be labelled (e.g.
+//! "nominal stage") or left out.
 
 use tankwave_circuit::{Circuit, Scale};
 use tankwave_measure::{MaskEvaluation, Metrics, StressQuantity, Verdict};
@@ -109,6 +112,15 @@ pub struct ReportInput<'a> {
     pub ac: Option<AcView<'a>>,
     /// Study summaries.
     pub studies: &'a [StudySection],
+    /// Paragraphs shown under the file line (e.g. what a study report holds).
+    pub intro: Vec<String>,
+    /// Appended to the headings of the stage sections (requirements,
+    /// headline figures, spectrum, waveforms, stress), e.g. "nominal stage",
+    /// when they show one stage out of a study.
+    pub stage_label: Option<String>,
+    /// Leave the stage sections out (a report of studies only, e.g. when
+    /// the nominal stage could not be solved).
+    pub omit_stage: bool,
     /// Tool, date, options.
     pub provenance: Provenance,
     /// Plot options (the file name in titles, width, conduction threshold).
@@ -215,8 +227,17 @@ fn table_close(out: &mut String) {
     out.push_str("</tbody>\n</table>\n");
 }
 
-fn verdicts_section(out: &mut String, verdicts: &[Verdict]) {
-    out.push_str("<h2 id=\"verdicts\">Requirements</h2>\n");
+/// A section heading, with the stage label appended when there is one.
+fn h2(out: &mut String, id: &str, text: &str, label: Option<&str>) {
+    let text = match label {
+        Some(l) if !l.is_empty() => format!("{text} — {l}"),
+        _ => text.to_string(),
+    };
+    out.push_str(&format!("<h2 id=\"{id}\">{}</h2>\n", escape(&text)));
+}
+
+fn verdicts_section(out: &mut String, verdicts: &[Verdict], label: Option<&str>) {
+    h2(out, "verdicts", "Requirements", label);
     if verdicts.is_empty() {
         out.push_str("<p>The stage file states no requirements.</p>\n");
         return;
@@ -297,8 +318,13 @@ fn verdicts_section(out: &mut String, verdicts: &[Verdict]) {
     table_close(out);
 }
 
-fn headline_section(out: &mut String, m: &Metrics, sol: Option<&PeriodicSolution>) {
-    out.push_str("<h2 id=\"figures\">Headline figures</h2>\n");
+fn headline_section(
+    out: &mut String,
+    m: &Metrics,
+    sol: Option<&PeriodicSolution>,
+    label: Option<&str>,
+) {
+    h2(out, "figures", "Headline figures", label);
     if let Some(s) = sol {
         out.push_str(&format!(
             "<p>Periodic steady state at {}: {} harmonics, {} samples per period, {} iterations, residual {:.2e}.</p>\n",
@@ -406,11 +432,11 @@ fn headline_section(out: &mut String, m: &Metrics, sol: Option<&PeriodicSolution
     }
 }
 
-fn stress_section(out: &mut String, m: &Metrics) {
+fn stress_section(out: &mut String, m: &Metrics, label: Option<&str>) {
     if m.transistors.is_empty() && m.stress.is_empty() && m.notes.is_empty() {
         return;
     }
-    out.push_str("<h2 id=\"stress\">Transistors and component stress</h2>\n");
+    h2(out, "stress", "Transistors and component stress", label);
     if !m.transistors.is_empty() {
         table_open(
             out,
@@ -509,10 +535,12 @@ pub fn stage_report(input: &ReportInput<'_>) -> String {
     }
     out.push_str("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
     out.push_str("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n");
-    out.push_str(&format!(
-        "<title>{} — stage report</title>\n",
-        escape(&title)
-    ));
+    let kind = if input.studies.is_empty() {
+        "stage report"
+    } else {
+        "study report"
+    };
+    out.push_str(&format!("<title>{} — {kind}</title>\n", escape(&title)));
     out.push_str("<style>");
     out.push_str(CSS);
     out.push_str("</style>\n</head>\n<body>\n");
@@ -524,71 +552,8 @@ pub fn stage_report(input: &ReportInput<'_>) -> String {
         escape(if input.file_sha256.is_empty() { "not given" } else { &input.file_sha256 })
     ));
 
-    verdicts_section(&mut out, input.verdicts);
-
-    if let Some(m) = input.metrics {
-        headline_section(&mut out, m, input.solution);
-        if let Some(o) = &m.output {
-            out.push_str("<h2 id=\"spectrum\">Spectrum against the mask</h2>\n");
-            if input.masks.is_empty() {
-                figure(
-                    &mut out,
-                    "Output harmonics in dBc (no mask checked).",
-                    plot::spectrum_plot(&o.harmonics, None, &plot_params),
-                );
-            }
-            for mask in input.masks {
-                figure(
-                    &mut out,
-                    &format!("Output harmonics in dBc against mask {}.", mask.mask),
-                    plot::spectrum_plot(&o.harmonics, Some(mask), &plot_params),
-                );
-            }
-        }
-    }
-
-    let have_waves = (input.circuit.is_some() && input.solution.is_some())
-        || input.transient.is_some()
-        || input.ac.is_some();
-    if have_waves {
-        out.push_str("<h2 id=\"waveforms\">Waveforms</h2>\n");
-    }
-    if let (Some(c), Some(s)) = (input.circuit, input.solution) {
-        match plot::period_plots(c, s, &plot_params) {
-            Ok(list) => {
-                for (name, svg) in list {
-                    figure(
-                        &mut out,
-                        &format!("One steady-state period of {name}; shaded: conduction interval."),
-                        Ok(svg),
-                    );
-                }
-            }
-            Err(e) => figure(&mut out, "Steady-state period", Err(e)),
-        }
-    }
-    if let (Some(c), Some(t)) = (input.circuit, input.transient) {
-        let f = input
-            .solution
-            .map(|s| s.freq)
-            .or(input.metrics.map(|m| m.freq_hz))
-            .unwrap_or(0.0);
-        figure(
-            &mut out,
-            "Start-up transient of the output voltage with its per-period peak envelope.",
-            plot::startup_plot(c, t, f, &plot_params),
-        );
-    }
-    if let Some(a) = input.ac {
-        figure(
-            &mut out,
-            "AC magnitude and phase.",
-            plot::ac_plot(a.result, a.unknowns, a.scale, &plot_params),
-        );
-    }
-
-    if let Some(m) = input.metrics {
-        stress_section(&mut out, m);
+    for para in &input.intro {
+        out.push_str(&format!("<p>{}</p>\n", escape(para)));
     }
 
     if !input.studies.is_empty() {
@@ -614,6 +579,83 @@ pub fn stage_report(input: &ReportInput<'_>) -> String {
             for f in &s.figures {
                 figure(&mut out, &f.caption, Ok(f.svg.clone()));
             }
+        }
+    }
+
+    if !input.omit_stage {
+        let label = input.stage_label.as_deref();
+        verdicts_section(&mut out, input.verdicts, label);
+
+        if let Some(m) = input.metrics {
+            headline_section(&mut out, m, input.solution, label);
+            if let Some(o) = &m.output {
+                h2(&mut out, "spectrum", "Spectrum against the mask", label);
+                if input.masks.is_empty() {
+                    figure(
+                        &mut out,
+                        "Output harmonics in dBc (no mask checked).",
+                        plot::spectrum_plot(&o.harmonics, None, &plot_params),
+                    );
+                }
+                for mask in input.masks {
+                    figure(
+                        &mut out,
+                        &format!("Output harmonics in dBc against mask {}.", mask.mask),
+                        plot::spectrum_plot(&o.harmonics, Some(mask), &plot_params),
+                    );
+                }
+            }
+        }
+
+        let have_waves = (input.circuit.is_some() && input.solution.is_some())
+            || input.transient.is_some()
+            || input.ac.is_some();
+        if have_waves {
+            h2(&mut out, "waveforms", "Waveforms", label);
+        }
+        if let (Some(c), Some(s)) = (input.circuit, input.solution) {
+            match plot::period_plots(c, s, &plot_params) {
+                Ok(list) => {
+                    if list.is_empty() && input.transient.is_none() && input.ac.is_none() {
+                        out.push_str(
+                            "<p class=\"note\">The stage has no bipolar transistor, so there is no period plot.</p>\n",
+                        );
+                    }
+                    for (name, svg) in list {
+                        figure(
+                            &mut out,
+                            &format!(
+                                "One steady-state period of {name}; shaded: conduction interval."
+                            ),
+                            Ok(svg),
+                        );
+                    }
+                }
+                Err(e) => figure(&mut out, "Steady-state period", Err(e)),
+            }
+        }
+        if let (Some(c), Some(t)) = (input.circuit, input.transient) {
+            let f = input
+                .solution
+                .map(|s| s.freq)
+                .or(input.metrics.map(|m| m.freq_hz))
+                .unwrap_or(0.0);
+            figure(
+                &mut out,
+                "Start-up transient of the output voltage with its per-period peak envelope.",
+                plot::startup_plot(c, t, f, &plot_params),
+            );
+        }
+        if let Some(a) = input.ac {
+            figure(
+                &mut out,
+                "AC magnitude and phase.",
+                plot::ac_plot(a.result, a.unknowns, a.scale, &plot_params),
+            );
+        }
+
+        if let Some(m) = input.metrics {
+            stress_section(&mut out, m, label);
         }
     }
 

@@ -305,6 +305,38 @@ fn surface_and_tuning_curve() {
         Err(plot::PlotError::Shape { .. })
     ));
 
+    // a point without a value (NaN) leaves its cell blank and is counted; the
+    // rest is still drawn
+    let mut holed = surface();
+    holed.values[3][4] = f64::NAN;
+    holed.values[5][0] = f64::NAN;
+    let svg = plot::surface_plot(&holed, &params()).expect("plot with missing cells");
+    let doc = parse(&svg);
+    assert_eq!(
+        count_in_series(&doc, "efficiency", "rect"),
+        s.xs.len() * s.ys.len() - 2
+    );
+    assert_eq!(count_class(&doc, "missing"), 1);
+    let holed_texts = plots_support::texts(&doc);
+    assert!(
+        holed_texts.iter().any(|t| t.contains("2 blank cells")),
+        "{holed_texts:?}"
+    );
+    let mut none = surface();
+    for row in &mut none.values {
+        row.iter_mut().for_each(|z| *z = f64::NAN);
+    }
+    assert!(matches!(
+        plot::surface_plot(&none, &params()),
+        Err(plot::PlotError::Empty { .. })
+    ));
+    let mut inf = surface();
+    inf.values[1][1] = f64::INFINITY;
+    assert!(matches!(
+        plot::surface_plot(&inf, &params()),
+        Err(plot::PlotError::NotFinite { .. })
+    ));
+
     let xs: Vec<f64> = (0..21).map(|k| 300e-12 + k as f64 * 10e-12).collect();
     let ys: Vec<f64> = xs
         .iter()
@@ -408,6 +440,9 @@ fn html_report_is_self_contained_and_well_formed() {
             scale: tankwave_circuit::Scale::Log,
         }),
         studies: &studies,
+        intro: vec!["A study & its <nominal> stage.".into()],
+        stage_label: None,
+        omit_stage: false,
         provenance: Provenance {
             tool: "tankwave 0.1.0".into(),
             date: "2026-12-02 01:00 UTC".into(),
@@ -472,4 +507,133 @@ fn html_report_with_nothing_but_a_name() {
         0
     );
     assert!(html.contains("states no requirements"));
+}
+
+#[test]
+fn study_sections_and_a_study_report() {
+    use tankwave_study::{Record, Summary, Verdict};
+    // four variants: pout 1, 2, 3 W and one that failed; "pout >= 2W" passes twice
+    let rec = |index: u64, pout: Option<f64>| {
+        let mut r = Record {
+            index,
+            values: Default::default(),
+            metrics: Default::default(),
+            verdicts: Default::default(),
+            error: None,
+        };
+        match pout {
+            Some(p) => {
+                r.metrics.insert("pout_w".into(), p);
+                r.verdicts.insert(
+                    "pout >= 2W".into(),
+                    Verdict {
+                        pass: p >= 2.0,
+                        margin: p - 2.0,
+                    },
+                );
+            }
+            None => r.error = Some("did not solve".into()),
+        }
+        r
+    };
+    let records = [
+        rec(0, Some(1.0)),
+        rec(1, Some(2.0)),
+        rec(2, Some(3.0)),
+        rec(3, None),
+    ];
+    let summary = Summary::from_records(&records, &[50.0]).unwrap();
+    let hist = plot::histogram_plot(
+        &[1.0, 2.0, 3.0],
+        &plot::HistogramSpec {
+            title: "pout".into(),
+            name: "pout_w".into(),
+            unit: "W".into(),
+            limit: None,
+            bins: Some(3),
+        },
+        &params(),
+    )
+    .unwrap();
+    let sections = tankwave_report::batch::study_sections(
+        &summary,
+        "Study of demo-stage.tw",
+        vec![Figure {
+            caption: "Histogram of pout_w".into(),
+            svg: hist,
+        }],
+    );
+    assert_eq!(sections.len(), 2);
+    let lines: Vec<(&str, &str)> = sections[0]
+        .lines
+        .iter()
+        .map(|(k, v)| (k.as_str(), v.as_str()))
+        .collect();
+    assert!(lines.contains(&("variants", "4")));
+    assert!(lines.contains(&("failed to solve", "1")));
+    assert!(lines.contains(&("pass every requirement", "2 of 4")));
+    assert!(lines.contains(&("yield", "50.0 %")));
+    let req = sections[0].table.as_ref().unwrap();
+    // passed, failed, not evaluated, worst variant, worst margin (1 − 2 = −1)
+    assert_eq!(
+        req.rows,
+        vec![vec!["pout >= 2W", "2", "1", "1", "#0", "-1.0000"]]
+    );
+    let stats = sections[1].table.as_ref().unwrap();
+    assert_eq!(
+        stats.header,
+        vec!["figure", "count", "min", "mean", "median", "max", "p50"]
+    );
+    // mean of 1, 2, 3 is 2; the median of three is the middle one
+    assert_eq!(
+        stats.rows,
+        vec![vec![
+            "pout_w", "3", "1.0000", "2.0000", "2.0000", "3.0000", "2.0000"
+        ]]
+    );
+    assert_eq!(sections[1].figures.len(), 1);
+
+    // a study report: intro, the study first, labelled stage sections after it
+    let (c, sol) = class_c_stage(150.0);
+    let m = metrics();
+    let verdicts = verdicts();
+    let input = ReportInput {
+        title: "Demo".into(),
+        file: "demo-stage.tw".into(),
+        circuit: Some(&c),
+        solution: Some(&sol),
+        metrics: Some(&m),
+        verdicts: &verdicts,
+        studies: &sections,
+        intro: vec!["4 variants <of a sweep>".into()],
+        stage_label: Some("nominal stage".into()),
+        ..Default::default()
+    };
+    let html = stage_report(&input);
+    let doc = roxmltree::Document::parse_with_options(
+        &html,
+        roxmltree::ParsingOptions {
+            allow_dtd: true,
+            ..Default::default()
+        },
+    )
+    .expect("well-formed");
+    let h2: Vec<String> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("h2"))
+        .map(|n| n.text().unwrap_or("").to_string())
+        .collect();
+    assert_eq!(h2[0], "Studies", "{h2:?}");
+    assert_eq!(h2[1], "Requirements — nominal stage", "{h2:?}");
+    assert!(h2.contains(&"Headline figures — nominal stage".to_string()));
+    assert!(html.contains("<p>4 variants &lt;of a sweep&gt;</p>"));
+    assert!(html.contains("— study report</title>"));
+    // left out: no stage sections at all, the study and the caution stay
+    let only = ReportInput {
+        omit_stage: true,
+        ..input.clone()
+    };
+    let html = stage_report(&only);
+    assert!(!html.contains("id=\"verdicts\"") && !html.contains("id=\"figures\""));
+    assert!(html.contains("id=\"studies\"") && html.contains("id=\"safety\""));
 }

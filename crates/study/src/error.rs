@@ -178,4 +178,29 @@ pub enum StudyError {
     /// The optimiser itself stopped with an error.
     #[error("optimiser: {0}")]
     Optimiser(String),
+    /// Options of the map around the optimum that cannot give a grid.
+    #[error(
+        "map around the optimum: {points} points per parameter and span {span} \
+         (need 2 to {max_points} points, or 0 for the default, and 0 < span <= 1)"
+    )]
+    BadTuneMap {
+        /// Points per parameter asked for.
+        points: usize,
+        /// Window width asked for, as a fraction of each range.
+        span: f64,
+        /// Most points per parameter allowed.
+        max_points: usize,
+    },
+    /// The centre of a map around the optimum lies outside its tune range.
+    #[error("map around the optimum: {param} = {value} is outside its range {from} to {to}")]
+    MapCentre {
+        /// Parameter.
+        param: String,
+        /// The centre value given.
+        value: f64,
+        /// Lower bound.
+        from: f64,
+        /// Upper bound.
+        to: f64,
+    },
 }

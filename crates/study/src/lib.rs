@@ -4,7 +4,8 @@
 //! The crate owns the *what* and *how many* of a study: which variants exist
 //! ([`Plan`], [`Variant`]), how they are run in parallel and recorded
 //! ([`run_study`], [`Record`], [`resume`], [`merge`]), what they add up to
-//! ([`Summary`]) and how tune parameters are searched ([`tune()`]). It is generic
+//! ([`Summary`]) and how tune parameters are searched ([`tune()`]) and
+//! mapped around the optimum for plots ([`map_around`]). It is generic
 //! over the per-variant work: the caller supplies a closure that elaborates,
 //! solves and measures. It must not format for people or print: the CLI
 //! owns the terminal (progress arrives through a callback).
@@ -31,4 +32,7 @@ pub use record::{
 };
 pub use runner::{run_study, shard_indices, Outcome, Progress, RunInfo, StudyParams, WarmStart};
 pub use summary::{percentile_sorted, FigureStats, RequirementStats, Summary, SummaryBuilder};
-pub use tune::{tune, Sharpness, TuneContext, TuneFigures, TuneGoal, TuneParams, TuneResult};
+pub use tune::{
+    map_around, tune, Sharpness, TuneContext, TuneCurve, TuneFigures, TuneGoal, TuneMap,
+    TuneMapParams, TuneParams, TuneResult, TuneSurface,
+};

@@ -33,12 +33,26 @@
 //! parameter alone moves by δ = `sharpness_step`·|x| (1% by default) down
 //! and up, at full drive. `None` where x ± δ leaves the range or the
 //! evaluation fails. A sharp peak (large drops) means a touchy adjustment.
+//!
+//! Map around the optimum ([`map_around`]), for plots: the goal figure is
+//! evaluated afresh on a regular grid around the optimum, at full drive
+//! (the conditions the optimum is reported at). The optimiser's own
+//! evaluations are not reused: they cluster where the simplex went, lie
+//! on no grid, and are at the search drive when that is reduced, so they
+//! would give a lopsided picture. With two parameters the grid covers both
+//! (a surface); with one, or more than two, each parameter is swept alone
+//! with the others held at the optimum (one curve each). The window of each
+//! parameter is `span` × its range wide, centred on the optimum and shifted
+//! to stay inside the range; the points are evenly spaced over it, and a
+//! curve also holds the optimum itself. Points are evaluated in parallel
+//! (rayon's global pool) and come back in grid order.
 
 use std::collections::BTreeMap;
 use std::sync::atomic::{AtomicU64, Ordering};
 
 use argmin::core::{CostFunction, Executor, State, TerminationReason, TerminationStatus};
 use argmin::solver::neldermead::NelderMead;
+use rayon::prelude::*;
 use tankwave_circuit::Tune;
 
 use crate::StudyError;
@@ -55,6 +69,14 @@ pub enum TuneGoal {
     },
     /// Smallest input VSWR.
     MinimiseInputVswr,
+}
+
+impl TuneGoal {
+    /// The figure this goal optimises (output power in W, efficiency as a
+    /// fraction, or input VSWR), if `f` has it and it is finite.
+    pub fn figure(&self, f: &TuneFigures) -> Option<f64> {
+        figure(*self, f).ok()
+    }
 }
 
 /// The figures the objective reports at one point (only those the goal needs are required).
@@ -430,4 +452,246 @@ where
         sharpness,
         at_bound,
     })
+}
+
+/// Options of [`map_around`].
+#[derive(Debug, Clone, PartialEq)]
+pub struct TuneMapParams {
+    /// Grid points per parameter; 0 picks [`TuneMapParams::CURVE_POINTS`]
+    /// for curves and [`TuneMapParams::SURFACE_POINTS`] per side for a surface.
+    pub points: usize,
+    /// Width of each parameter's window as a fraction of its tune range
+    /// (0 < span ≤ 1; 1 is the whole range). Default 0.2.
+    pub span: f64,
+}
+
+impl TuneMapParams {
+    /// Default points of a curve.
+    pub const CURVE_POINTS: usize = 21;
+    /// Default points per side of a surface (11 × 11 = 121 evaluations).
+    pub const SURFACE_POINTS: usize = 11;
+    /// Most points per parameter.
+    pub const MAX_POINTS: usize = 201;
+
+    /// Check the options (points 0 or 2 to [`Self::MAX_POINTS`], 0 < span ≤ 1),
+    /// so a caller can refuse them before a long tuning run.
+    pub fn validate(&self) -> Result<(), StudyError> {
+        let points_ok = self.points == 0 || (2..=Self::MAX_POINTS).contains(&self.points);
+        if points_ok && self.span > 0.0 && self.span <= 1.0 {
+            Ok(())
+        } else {
+            Err(StudyError::BadTuneMap {
+                points: self.points,
+                span: self.span,
+                max_points: Self::MAX_POINTS,
+            })
+        }
+    }
+}
+
+impl Default for TuneMapParams {
+    fn default() -> Self {
+        TuneMapParams {
+            points: 0,
+            span: 0.2,
+        }
+    }
+}
+
+/// The figures along one parameter, the others held at the optimum.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TuneCurve {
+    /// The swept parameter.
+    pub param: String,
+    /// Its values, increasing (the optimum among them).
+    pub xs: Vec<f64>,
+    /// The figures at each value; `None` where the evaluation failed.
+    pub figures: Vec<Option<TuneFigures>>,
+}
+
+/// The figures over a grid of two parameters.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TuneSurface {
+    /// First parameter (columns).
+    pub x_param: String,
+    /// Second parameter (rows).
+    pub y_param: String,
+    /// Values of the first parameter, increasing.
+    pub xs: Vec<f64>,
+    /// Values of the second parameter, increasing.
+    pub ys: Vec<f64>,
+    /// `figures[iy][ix]` at (`xs[ix]`, `ys[iy]`); `None` where the evaluation failed.
+    pub figures: Vec<Vec<Option<TuneFigures>>>,
+}
+
+/// The result of [`map_around`].
+#[derive(Debug, Clone, PartialEq)]
+pub struct TuneMap {
+    /// One curve per parameter (one parameter, or more than two); empty with a surface.
+    pub curves: Vec<TuneCurve>,
+    /// The surface (exactly two parameters).
+    pub surface: Option<TuneSurface>,
+    /// Objective evaluations made.
+    pub evaluations: u64,
+    /// Evaluations that failed.
+    pub failed: u64,
+    /// The message of the first failure (in grid order).
+    pub first_failure: Option<String>,
+}
+
+/// Evenly spaced values over the window of width `span`·(b − a) centred on
+/// `centre`, shifted to stay inside [a, b].
+fn window(a: f64, b: f64, centre: f64, span: f64, points: usize) -> Vec<f64> {
+    let w = span * (b - a);
+    let mut lo = centre - w / 2.0;
+    let mut hi = centre + w / 2.0;
+    if lo < a {
+        lo = a;
+        hi = a + w;
+    }
+    if hi > b {
+        hi = b;
+        lo = (b - w).max(a);
+    }
+    let n = points.max(2);
+    (0..n)
+        .map(|k| {
+            if k + 1 == n {
+                hi
+            } else {
+                lo + (hi - lo) * k as f64 / (n - 1) as f64
+            }
+        })
+        .collect()
+}
+
+/// Evaluate `objective` (at full drive) on a grid around `optimum` within
+/// the tune `ranges`; see the module overview for the layout of the grid.
+pub fn map_around<F>(
+    ranges: &[Tune],
+    optimum: &BTreeMap<String, f64>,
+    objective: F,
+    params: &TuneMapParams,
+) -> Result<TuneMap, StudyError>
+where
+    F: Fn(&BTreeMap<String, f64>, &TuneContext) -> Result<TuneFigures, String> + Sync,
+{
+    if ranges.is_empty() {
+        return Err(StudyError::NothingToTune);
+    }
+    params.validate()?;
+    let surface = ranges.len() == 2;
+    let points = match params.points {
+        0 if surface => TuneMapParams::SURFACE_POINTS,
+        0 => TuneMapParams::CURVE_POINTS,
+        n => n,
+    };
+    let mut centre = BTreeMap::new();
+    let mut axes: Vec<Vec<f64>> = Vec::with_capacity(ranges.len());
+    for t in ranges {
+        if !(t.from.is_finite() && t.to.is_finite() && t.from < t.to)
+            || centre.contains_key(&t.param)
+        {
+            return Err(StudyError::BadTuneRange {
+                param: t.param.clone(),
+                from: t.from,
+                to: t.to,
+            });
+        }
+        let Some(&x) = optimum.get(&t.param) else {
+            return Err(StudyError::Objective {
+                at: t.param.clone(),
+                message: "the optimum gives no value for this parameter".to_string(),
+            });
+        };
+        if !(x >= t.from && x <= t.to) {
+            return Err(StudyError::MapCentre {
+                param: t.param.clone(),
+                value: x,
+                from: t.from,
+                to: t.to,
+            });
+        }
+        centre.insert(t.param.clone(), x);
+        let mut g = window(t.from, t.to, x, params.span, points);
+        if !surface {
+            // a curve holds the optimum itself, so its peak is drawn where it was found
+            let tol = 1e-9 * (t.to - t.from);
+            if !g.iter().any(|v| (v - x).abs() <= tol) {
+                let at = g.partition_point(|v| *v < x);
+                g.insert(at, x);
+            }
+        }
+        axes.push(g);
+    }
+    // every point to evaluate, in grid order
+    let mut jobs: Vec<BTreeMap<String, f64>> = Vec::new();
+    if let ([tx, ty], [gx, gy]) = (ranges, axes.as_slice()) {
+        if surface {
+            for &y in gy {
+                for &x in gx {
+                    let mut p = centre.clone();
+                    p.insert(tx.param.clone(), x);
+                    p.insert(ty.param.clone(), y);
+                    jobs.push(p);
+                }
+            }
+        }
+    }
+    if !surface {
+        for (t, g) in ranges.iter().zip(&axes) {
+            for &v in g {
+                let mut p = centre.clone();
+                p.insert(t.param.clone(), v);
+                jobs.push(p);
+            }
+        }
+    }
+    let finite = |v: Option<f64>| v.filter(|x| x.is_finite());
+    let ctx = TuneContext { drive_scale: 1.0 };
+    let results: Vec<Result<TuneFigures, String>> = jobs
+        .par_iter()
+        .map(|p| {
+            objective(p, &ctx).map(|f| TuneFigures {
+                pout: finite(f.pout),
+                efficiency: finite(f.efficiency),
+                input_vswr: finite(f.input_vswr),
+            })
+        })
+        .collect();
+    let failed = results.iter().filter(|r| r.is_err()).count() as u64;
+    let first_failure = results.iter().find_map(|r| r.as_ref().err().cloned());
+    let mut figs = results.into_iter().map(Result::ok);
+    let mut map = TuneMap {
+        curves: Vec::new(),
+        surface: None,
+        evaluations: jobs.len() as u64,
+        failed,
+        first_failure,
+    };
+    if surface {
+        if let ([tx, ty], [gx, gy]) = (ranges, axes.as_slice()) {
+            let figures = gy
+                .iter()
+                .map(|_| figs.by_ref().take(gx.len()).collect())
+                .collect();
+            map.surface = Some(TuneSurface {
+                x_param: tx.param.clone(),
+                y_param: ty.param.clone(),
+                xs: gx.clone(),
+                ys: gy.clone(),
+                figures,
+            });
+        }
+    } else {
+        for (t, g) in ranges.iter().zip(axes) {
+            let figures = figs.by_ref().take(g.len()).collect();
+            map.curves.push(TuneCurve {
+                param: t.param.clone(),
+                xs: g,
+                figures,
+            });
+        }
+    }
+    Ok(map)
 }

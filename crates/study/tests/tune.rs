@@ -211,3 +211,135 @@ fn bad_tuning_input_is_a_typed_error() {
         Err(StudyError::Objective { .. })
     ));
 }
+
+/// The map around the optimum of the tank: the curve spans 20% of the range
+/// centred on C₀, holds C₀ itself, is evaluated at full drive (the tank's
+/// power at resonance is I²R/2 = 500 W, Thomson's formula as above), and
+/// peaks at C₀. Every value equals the closed form at its point.
+#[test]
+fn map_around_one_parameter_is_a_curve_through_the_optimum() {
+    let (a, b) = (100e-12, 1000e-12);
+    let opt: BTreeMap<String, f64> = [("ctun".to_string(), c0())].into_iter().collect();
+    let map = map_around(
+        &[range("ctun", a, b)],
+        &opt,
+        tank,
+        &TuneMapParams::default(),
+    )
+    .unwrap();
+    assert!(map.surface.is_none());
+    assert_eq!(map.curves.len(), 1);
+    let c = &map.curves[0];
+    assert_eq!(c.param, "ctun");
+    assert_eq!(map.failed, 0);
+    assert_eq!(map.evaluations as usize, c.xs.len());
+    // 21 points, plus C₀ when rounding keeps it off the middle point
+    assert!(c.xs.len() == 21 || c.xs.len() == 22, "{}", c.xs.len());
+    assert!(c.xs.windows(2).all(|w| w[1] > w[0]), "increasing");
+    // window width 0.2·(b − a), centred on C₀ (C₀ ≈ 502 pF is far from both ends)
+    let width = c.xs[c.xs.len() - 1] - c.xs[0];
+    assert!((width / (0.2 * (b - a)) - 1.0).abs() < 1e-12, "{width}");
+    assert!(((c.xs[0] + c.xs[c.xs.len() - 1]) / 2.0 / c0() - 1.0).abs() < 1e-12);
+    let powers: Vec<f64> = c.figures.iter().map(|f| f.unwrap().pout.unwrap()).collect();
+    let ctx = TuneContext { drive_scale: 1.0 };
+    for (x, p) in c.xs.iter().zip(&powers) {
+        let point: BTreeMap<String, f64> = [("ctun".to_string(), *x)].into_iter().collect();
+        assert_eq!(*p, tank(&point, &ctx).unwrap().pout.unwrap());
+    }
+    let best = powers
+        .iter()
+        .enumerate()
+        .max_by(|x, y| x.1.total_cmp(y.1))
+        .unwrap();
+    assert_eq!(c.xs[best.0], c0(), "the peak is at the optimum");
+    assert!((best.1 / 500.0 - 1.0).abs() < 1e-12);
+}
+
+/// Two parameters give a surface; a centre near a range end shifts the window
+/// inside the range; the goal figure at each cell is the bowl's value there.
+#[test]
+fn map_around_two_parameters_is_a_surface_inside_the_ranges() {
+    let obj = |p: &BTreeMap<String, f64>, _: &TuneContext| {
+        let (x, y) = (p["x"], p["y"]);
+        if x > 9.5 {
+            return Err(format!("no solution at x = {x}"));
+        }
+        Ok(TuneFigures {
+            pout: Some(10.0 * x),
+            efficiency: Some(0.8 - (x - 3.0).powi(2) / 100.0 - (y + 1.0).powi(2) / 50.0),
+            input_vswr: None,
+        })
+    };
+    let ranges = [range("x", 0.0, 10.0), range("y", -5.0, 5.0)];
+    let opt: BTreeMap<String, f64> = [("x".to_string(), 3.0), ("y".to_string(), -4.9)]
+        .into_iter()
+        .collect();
+    let p = TuneMapParams {
+        points: 5,
+        span: 0.5,
+    };
+    let map = map_around(&ranges, &opt, obj, &p).unwrap();
+    assert!(map.curves.is_empty());
+    let s = map.surface.unwrap();
+    assert_eq!((s.x_param.as_str(), s.y_param.as_str()), ("x", "y"));
+    // x: 5 wide centred on 3 → 0.5..5.5; y: 5 wide centred on −4.9 → shifted to −5..0
+    assert_eq!(s.xs, vec![0.5, 1.75, 3.0, 4.25, 5.5]);
+    assert_eq!(s.ys, vec![-5.0, -3.75, -2.5, -1.25, 0.0]);
+    assert_eq!(s.figures.len(), 5);
+    let goal = TuneGoal::MaximiseEfficiencyAt { pout_min: 1.0 };
+    for (iy, row) in s.figures.iter().enumerate() {
+        assert_eq!(row.len(), 5);
+        for (ix, f) in row.iter().enumerate() {
+            let (x, y) = (s.xs[ix], s.ys[iy]);
+            let want = 0.8 - (x - 3.0).powi(2) / 100.0 - (y + 1.0).powi(2) / 50.0;
+            assert_eq!(goal.figure(&f.unwrap()), Some(want));
+        }
+    }
+    assert_eq!(map.evaluations, 25);
+    assert_eq!(map.failed, 0);
+    // the whole x range reaches the failing region: failures are counted, not fatal
+    let whole = TuneMapParams {
+        points: 5,
+        span: 1.0,
+    };
+    let map = map_around(&ranges, &opt, obj, &whole).unwrap();
+    let s = map.surface.unwrap();
+    assert_eq!(s.xs, vec![0.0, 2.5, 5.0, 7.5, 10.0]);
+    assert_eq!(map.failed, 5, "the x = 10 column fails");
+    assert!(s.figures.iter().all(|row| row[4].is_none()));
+    assert!(map.first_failure.unwrap().contains("x = 10"));
+}
+
+#[test]
+fn bad_map_options_are_typed_errors() {
+    let opt: BTreeMap<String, f64> = [("ctun".to_string(), c0())].into_iter().collect();
+    let r = [range("ctun", 100e-12, 1000e-12)];
+    for (points, span) in [
+        (1, 0.2),
+        (100_000, 0.2),
+        (21, 0.0),
+        (21, 1.5),
+        (21, f64::NAN),
+    ] {
+        assert!(
+            matches!(
+                map_around(&r, &opt, tank, &TuneMapParams { points, span }),
+                Err(StudyError::BadTuneMap { .. })
+            ),
+            "{points} {span}"
+        );
+    }
+    let outside: BTreeMap<String, f64> = [("ctun".to_string(), 2e-9)].into_iter().collect();
+    assert!(matches!(
+        map_around(&r, &outside, tank, &TuneMapParams::default()),
+        Err(StudyError::MapCentre { .. })
+    ));
+    assert!(matches!(
+        map_around(&r, &BTreeMap::new(), tank, &TuneMapParams::default()),
+        Err(StudyError::Objective { .. })
+    ));
+    assert!(matches!(
+        map_around(&[], &opt, tank, &TuneMapParams::default()),
+        Err(StudyError::NothingToTune)
+    ));
+}

@@ -31,7 +31,10 @@ pub struct Surface {
     pub xs: Vec<f64>,
     /// Grid values of the second parameter, increasing.
     pub ys: Vec<f64>,
-    /// `values[iy][ix]`: the objective at (`xs[ix]`, `ys[iy]`).
+    /// `values[iy][ix]`: the objective at (`xs[ix]`, `ys[iy]`). NaN marks a
+    /// point with no value (e.g. the solver failed there): its cell is left
+    /// blank with a grey diagonal and counted in the subtitle. Infinities
+    /// are errors, and at least one value must be a number.
     pub values: Vec<Vec<f64>>,
     /// The optimum (x, y), marked with a cross and a ring.
     pub optimum: Option<(f64, f64)>,
@@ -188,7 +191,18 @@ pub fn surface_plot(s: &Surface, p: &PlotParams) -> Result<String, PlotError> {
                 found: row.len(),
             });
         }
-        check_finite(&format!("row {iy} of the tuning surface"), row)?;
+        // NaN is a missing point; everything else must be drawable
+        let present: Vec<f64> = row
+            .iter()
+            .map(|z| if z.is_nan() { 0.0 } else { *z })
+            .collect();
+        check_finite(&format!("row {iy} of the tuning surface"), &present)?;
+    }
+    let missing = s.values.iter().flatten().filter(|z| z.is_nan()).count();
+    if missing == s.xs.len() * s.ys.len() {
+        return Err(PlotError::Empty {
+            what: format!("tuning surface of {} (no point has a value)", s.z_name),
+        });
     }
     let (z_lo, z_hi) = extent(s.values.iter().flatten()).unwrap_or((0.0, 1.0));
     let z_span = if z_hi > z_lo { z_hi - z_lo } else { 1.0 };
@@ -220,14 +234,19 @@ pub fn surface_plot(s: &Surface, p: &PlotParams) -> Result<String, PlotError> {
         )
     });
     let subtitle = format!(
-        "{} over a {}×{} grid, darker = larger{}",
+        "{} over a {}×{} grid, darker = larger{}{}",
         s.z_name,
         s.xs.len(),
         s.ys.len(),
         opt_text
             .as_ref()
             .map(|t| format!("; {t}"))
-            .unwrap_or_default()
+            .unwrap_or_default(),
+        if missing > 0 {
+            format!("; {missing} blank cells have no value")
+        } else {
+            String::new()
+        }
     );
     let desc = format!(
         "Heat map of {} against {} and {}.",
@@ -250,8 +269,16 @@ pub fn surface_plot(s: &Surface, p: &PlotParams) -> Result<String, PlotError> {
             .map_err(draw_err)?;
         cv.begin("series heat", Some(&s.z_name), None)?;
         let mut cells = Vec::with_capacity(s.xs.len() * s.ys.len());
+        let mut blanks = Vec::with_capacity(missing);
         for (iy, row) in s.values.iter().enumerate() {
             for (ix, z) in row.iter().enumerate() {
+                if z.is_nan() {
+                    blanks.push((
+                        (ex[ix] / xf, ey[iy] / yf),
+                        (ex[ix + 1] / xf, ey[iy + 1] / yf),
+                    ));
+                    continue;
+                }
                 let c = ramp((z - z_lo) / z_span);
                 cells.push(Rectangle::new(
                     [
@@ -264,6 +291,25 @@ pub fn surface_plot(s: &Surface, p: &PlotParams) -> Result<String, PlotError> {
         }
         chart.draw_series(cells).map_err(draw_err)?;
         cv.end()?;
+        if !blanks.is_empty() {
+            cv.begin("missing", Some("no value"), None)?;
+            let grey = RGBColor(0x7a, 0x7a, 0x7a);
+            chart
+                .draw_series(
+                    blanks
+                        .iter()
+                        .map(|&(a, b)| Rectangle::new([a, b], grey.stroke_width(1))),
+                )
+                .map_err(draw_err)?;
+            chart
+                .draw_series(
+                    blanks
+                        .iter()
+                        .map(|&(a, b)| PathElement::new(vec![a, b], grey.stroke_width(1))),
+                )
+                .map_err(draw_err)?;
+            cv.end()?;
+        }
         let fx = |v: &f64| tick(*v);
         cv.begin("axes", None, None)?;
         chart
