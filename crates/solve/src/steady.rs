@@ -56,7 +56,9 @@ pub struct SteadyInfo {
     pub method: SteadyMethod,
     /// Method tried first that failed, if any.
     pub fell_back_from: Option<SteadyMethod>,
-    /// Newton iterations (shooting, balance) or simulated periods (settle).
+    /// Newton iterations (balance), simulated periods (settle), or, for
+    /// shooting, the periods integrated by the iteration on both grids (Newton
+    /// and chord steps; the warm-up periods are not counted).
     pub iterations: usize,
     /// Final residual: largest scaled periodicity error (shooting, settle) or
     /// harmonic residual (balance); ≤ 1 means within tolerance.
@@ -90,10 +92,17 @@ impl Default for SettleParams {
 #[derive(Debug, Clone, PartialEq)]
 pub struct ShootingParams {
     /// Transient periods run from the operating point (started where the sources
-    /// have become periodic) before the first Newton step (default 8).
+    /// have become periodic), on the coarse grid, before the first Newton step
+    /// (default 2).
     pub warmup_periods: usize,
-    /// Newton iteration limit (default 50).
+    /// Newton iteration limit on each grid (default 50).
     pub max_iter: usize,
+    /// Run the warm-up and the iteration from far away on a coarse grid of a
+    /// quarter of the steps per period (when there are at least 128), and on
+    /// the fine grid iterate with the coarse `Φ − I` as a chord Jacobian
+    /// (default true). When false, every iteration is a full Newton step on
+    /// the fine grid.
+    pub coarse_grid: bool,
     /// Relative tolerance of the periodicity error `x(T) − x(0)` against
     /// each unknown's peak magnitude over the period (default 1e-7).
     pub reltol: f64,
@@ -106,8 +115,9 @@ pub struct ShootingParams {
 impl Default for ShootingParams {
     fn default() -> Self {
         Self {
-            warmup_periods: 8,
+            warmup_periods: 2,
             max_iter: 50,
+            coarse_grid: true,
             reltol: 1e-7,
             initial: None,
         }
