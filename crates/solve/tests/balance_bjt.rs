@@ -220,3 +220,50 @@ fn class_c_stage_obeys_kcl() {
     eprintln!("class C KCL: worst {worst:.3e} A, bound {tol:.3e} A, peak {ipk:.3e} A");
     assert!(worst <= tol);
 }
+
+/// A study warm-starts each variant's shooting from its solved neighbour's
+/// state at the period start (`ShootingParams::initial`): that must reach the
+/// same periodic state as a cold start, for fewer integrated periods.
+#[test]
+fn shooting_warm_start_from_a_neighbour_reaches_the_cold_solution() {
+    let params = |initial: Option<Vec<f64>>| {
+        let mut p = SteadyParams {
+            freq: F0,
+            harmonics: 32,
+            method: SteadyMethod::Shooting,
+            ..SteadyParams::default()
+        };
+        p.shooting.initial = initial;
+        p
+    };
+    let near = class_c(20.0);
+    let d = instantiate(&near.c).unwrap();
+    let s0 = steady(&near.c, &d, &params(None)).unwrap();
+    let x_start: Vec<f64> = s0.x.iter().map(|row| row[0]).collect();
+    // the neighbour: 5 % more drive
+    let b = class_c(21.0);
+    let d = instantiate(&b.c).unwrap();
+    let cold = steady(&b.c, &d, &params(None)).unwrap();
+    let warm = steady(&b.c, &d, &params(Some(x_start))).unwrap();
+    eprintln!(
+        "cold start: {} periods; warm start from the neighbour: {} periods",
+        cold.info.iterations, warm.info.iterations
+    );
+    assert!(warm.info.iterations < cold.info.iterations);
+    // Each solution is within its stopping test, reltol·peak + vntol
+    // (1e-7·peak + 1e-9 V; currents have the smaller abstol 1e-12 A), of the
+    // fixed point; twice that bounds their difference.
+    for (k, (a, c)) in warm.x.iter().zip(&cold.x).enumerate() {
+        let peak = c.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        let diff = a
+            .iter()
+            .zip(c)
+            .map(|(x, y)| (x - y).abs())
+            .fold(0.0, f64::max);
+        assert!(
+            diff <= 2.0 * (1e-7 * peak + 1e-9),
+            "{}: {diff:e} of peak {peak:e}",
+            d.names[k]
+        );
+    }
+}
