@@ -46,6 +46,23 @@ pub enum SolveError {
         /// Simulation time, if any.
         when: When,
     },
+    /// Newton's residual is within tolerance but the iteration did not
+    /// settle: its updates stay large (they oscillate) or a device keeps
+    /// limiting a junction step.
+    #[error(
+        "{analysis}: Newton did not converge in {iterations} iterations{when}; \
+         the residual is within tolerance but {reason}"
+    )]
+    NewtonStalled {
+        /// Which analysis failed.
+        analysis: String,
+        /// Iterations spent.
+        iterations: usize,
+        /// What kept it from stopping, with the unknown and the numbers.
+        reason: String,
+        /// Simulation time, if any.
+        when: When,
+    },
     /// The Jacobian has no usable pivot.
     #[error("{analysis}: singular matrix{when}: no pivot for {unknown} (a floating node or a loop of voltage sources and inductors?)")]
     Singular {

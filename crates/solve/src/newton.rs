@@ -78,11 +78,27 @@ pub(crate) enum Failure {
         worst: usize,
         residual: f64,
         iterations: usize,
+        /// Set when the last residual was within tolerance: what kept Newton
+        /// from stopping (an update still too large, or a limited junction).
+        stalled: Option<Stall>,
     },
     /// No pivot for this unknown.
     Singular(usize),
     /// A non-finite value in this unknown.
     NonFinite(usize),
+}
+
+/// Why a Newton iteration whose residual is within tolerance did not stop.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct Stall {
+    /// The unknown with the largest update against its tolerance.
+    pub unknown: usize,
+    /// That update.
+    pub update: f64,
+    /// Its tolerance.
+    pub tol: f64,
+    /// A device still limited a junction step in the last iteration.
+    pub limited: bool,
 }
 
 /// Outcome of a converged solve.
@@ -172,6 +188,9 @@ pub(crate) fn solve(
     let n = sys.devices.n_unknowns;
     let mut update_ok = false;
     let mut last = (0usize, f64::INFINITY);
+    // the last update's worst component against its tolerance: (unknown, |Δx|, tol, ratio)
+    let mut worst_update = (0usize, 0.0f64, 1.0f64, 0.0f64);
+    let mut stalled = None;
     for it in 0..=sys.max_iter {
         let limited = load(sys, ws, x, state);
         if let Some(k) = ws.f.iter().position(|v| !v.is_finite()) {
@@ -179,6 +198,12 @@ pub(crate) fn solve(
         }
         let (res_ok, worst, worst_f, _) = residual_ok(sys, ws, x);
         last = (worst, worst_f);
+        stalled = (it > 0 && res_ok).then_some(Stall {
+            unknown: worst_update.0,
+            update: worst_update.1,
+            tol: worst_update.2,
+            limited,
+        });
         if it > 0 && !limited && res_ok && update_ok {
             let residual = ws.f.iter().fold(0.0f64, |m, v| m.max(v.abs()));
             return Ok(Converged {
@@ -195,6 +220,7 @@ pub(crate) fn solve(
         }
         ws.lu.solve(&mut ws.dx);
         update_ok = true;
+        worst_update = (0, 0.0, 1.0, 0.0);
         for k in 0..n {
             let d = ws.dx[k];
             if !d.is_finite() {
@@ -206,6 +232,9 @@ pub(crate) fn solve(
             if d.abs() > tol {
                 update_ok = false;
             }
+            if d.abs() / tol > worst_update.3 {
+                worst_update = (k, d.abs(), tol, d.abs() / tol);
+            }
             x[k] = xn;
         }
     }
@@ -213,6 +242,7 @@ pub(crate) fn solve(
         worst: last.0,
         residual: last.1,
         iterations: sys.max_iter,
+        stalled,
     })
 }
 
@@ -233,9 +263,33 @@ pub(crate) fn to_error(
     let when = crate::error::When(time);
     match f {
         Failure::NoConvergence {
+            iterations,
+            stalled: Some(st),
+            ..
+        } => crate::SolveError::NewtonStalled {
+            analysis: analysis.to_string(),
+            iterations,
+            reason: if st.limited && st.update <= st.tol {
+                "a junction voltage step was still being limited".to_string()
+            } else {
+                format!(
+                    "the update of {} is still {:.3e} {} (tolerance {:.3e})",
+                    name(st.unknown),
+                    st.update,
+                    match devices.kinds.get(st.unknown) {
+                        Some(UnknownKind::Current) => "A",
+                        _ => "V",
+                    },
+                    st.tol
+                )
+            },
+            when,
+        },
+        Failure::NoConvergence {
             worst,
             residual,
             iterations,
+            stalled: None,
         } => crate::SolveError::NoConvergence {
             analysis: analysis.to_string(),
             unknown: name(worst),
