@@ -29,19 +29,22 @@ pub enum ReportError {
 
 /// Write `bytes` to `path` whole: a temporary file beside it, then a rename.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), ReportError> {
-    let err = |source| ReportError::Write {
-        path: path.to_path_buf(),
-        source,
-    };
-    let dir = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    let mut tmp = tempfile::NamedTempFile::new_in(&dir).map_err(err)?;
-    tmp.write_all(bytes).map_err(err)?;
-    tmp.flush().map_err(err)?;
-    tmp.persist(path).map_err(|e| err(e.error))?;
-    Ok(())
+    write_all_atomic(&[(path.to_path_buf(), bytes.to_vec())])
+}
+
+/// A temporary file in `dir` created with the permissions an ordinary new
+/// file gets (read-write for all, less the process umask), not the owner-only
+/// mode temporary files default to: the renamed output must be as readable as
+/// any file the user writes.
+fn staging_file(dir: &Path) -> std::io::Result<tempfile::NamedTempFile> {
+    let mut b = tempfile::Builder::new();
+    b.prefix(".tankwave-");
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        b.permissions(std::fs::Permissions::from_mode(0o666));
+    }
+    b.tempfile_in(dir)
 }
 
 /// Check, before any work is done, that files can be created in `dir`:
@@ -60,7 +63,7 @@ pub fn check_writable_dir(dir: &Path) -> Result<(), ReportError> {
         };
         return Err(err(std::io::Error::new(std::io::ErrorKind::NotFound, why)));
     }
-    tempfile::NamedTempFile::new_in(dir).map_err(err)?;
+    staging_file(dir).map_err(err)?;
     Ok(())
 }
 
@@ -78,7 +81,7 @@ pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<(), ReportError>
             Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
             _ => PathBuf::from("."),
         };
-        let mut tmp = tempfile::NamedTempFile::new_in(&dir).map_err(err)?;
+        let mut tmp = staging_file(&dir).map_err(err)?;
         tmp.write_all(bytes).map_err(err)?;
         tmp.flush().map_err(err)?;
         staged.push((path.clone(), tmp));
@@ -111,6 +114,22 @@ mod tests {
         assert_eq!(std::fs::read(&p).unwrap(), b"hello");
         // nothing else left in the directory
         assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 1);
+    }
+
+    /// The output gets the mode any new file of the user's gets (0o666 less
+    /// the umask), not a temporary file's owner-only 0o600.
+    #[cfg(unix)]
+    #[test]
+    fn output_has_the_mode_of_an_ordinary_new_file() {
+        use std::os::unix::fs::PermissionsExt;
+        let dir = tempfile::tempdir().unwrap();
+        let reference = dir.path().join("plain.txt");
+        std::fs::write(&reference, b"x").unwrap();
+        let want = std::fs::metadata(&reference).unwrap().permissions().mode() & 0o777;
+        let p = dir.path().join("a.svg");
+        write_atomic(&p, b"<svg/>").unwrap();
+        let got = std::fs::metadata(&p).unwrap().permissions().mode() & 0o777;
+        assert_eq!(got, want, "{got:o} vs {want:o}");
     }
 
     #[test]

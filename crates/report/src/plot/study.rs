@@ -378,7 +378,7 @@ pub fn histogram_plot(
             let px = chart.backend_coord(&(x, cmax as f64 * 1.1));
             cv.root
                 .draw(&Text::new(
-                    format!("limit {}", si(l.value, &spec.unit)),
+                    format!("limit {}", limit_text(l.value, &spec.unit)),
                     (px.0 + 6, px.1),
                     (FONT, 13).into_font().style(FontStyle::Bold).color(&INK),
                 ))
@@ -419,4 +419,33 @@ pub fn histogram_plot(
         cv.legend(&legend_area, 8, 30, &entries)?;
         cv.end()
     })
+}
+
+/// A limit value for its label: with an SI prefix when the figure has a unit,
+/// plainly (four significant digits) when it is a ratio such as an
+/// efficiency, where "550 m" would read oddly.
+fn limit_text(v: f64, unit: &str) -> String {
+    if !unit.is_empty() || v == 0.0 || !v.is_finite() {
+        return si(v, unit);
+    }
+    let digits = (3 - v.abs().log10().floor() as i32).clamp(0, 12) as usize;
+    let t = format!("{v:.digits$}");
+    if t.contains('.') {
+        t.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        t
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn ratio_limits_read_plainly_and_unit_limits_keep_prefixes() {
+        assert_eq!(limit_text(0.55, ""), "0.55");
+        assert_eq!(limit_text(1234.6, ""), "1235");
+        assert_eq!(limit_text(0.000123, ""), "0.000123");
+        assert_eq!(limit_text(12.0, "W"), si(12.0, "W"));
+    }
 }
