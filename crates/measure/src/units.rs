@@ -1,4 +1,6 @@
-//! Level conversions (dBm, dBc) and the reflection/VSWR formulas.
+//! Level conversions (dBm, dBc), the reflection/VSWR formulas, and the one
+//! SI-prefix number format the project uses ([`si_prefixed`]: verdict text
+//! here, tables and plots in the report crate).
 //!
 //! dB conversions floor the power at [`POWER_FLOOR_W`] so that a silent
 //! harmonic reads as a very low but finite level, never −∞ or NaN (the same
@@ -73,5 +75,95 @@ pub fn vswr(z: Complex64, r0: f64) -> Option<f64> {
         Some(g) => Some(vswr_from_gamma(g.norm())),
         // Z = −R0 (or not finite): the reflection is unbounded.
         None => Some(VSWR_CAP),
+    }
+}
+
+/// SI prefixes from tera to atto, largest first.
+const PREFIXES: [(f64, &str); 11] = [
+    (1e12, "T"),
+    (1e9, "G"),
+    (1e6, "M"),
+    (1e3, "k"),
+    (1.0, ""),
+    (1e-3, "m"),
+    (1e-6, "µ"),
+    (1e-9, "n"),
+    (1e-12, "p"),
+    (1e-15, "f"),
+    (1e-18, "a"),
+];
+
+/// Decimals that show `x` (≥ 0) to `significant` figures, after rounding
+/// (so 99.96 at 3 figures is "100", not "100.0").
+fn decimals(x: f64, significant: usize) -> usize {
+    if x <= 0.0 || !x.is_finite() {
+        return significant.saturating_sub(1);
+    }
+    let e = x.log10().floor() as i64;
+    let d = (significant as i64 - 1 - e).max(0) as usize;
+    let rounded: f64 = format!("{x:.d$}").parse().unwrap_or(x);
+    if d > 0 && rounded >= 10f64.powi(e as i32 + 1) {
+        d - 1
+    } else {
+        d
+    }
+}
+
+/// `v` with an SI prefix and `significant` figures (1–15), e.g.
+/// `si_prefixed(4.7e-6, "H", 3)` → `"4.70 µH"`, `si_prefixed(999.96, "V", 3)`
+/// → `"1.00 kV"`. Zero is `"0 unit"`; a non-finite value is `"—"` (never
+/// "NaN" in anything a person reads).
+pub fn si_prefixed(v: f64, unit: &str, significant: usize) -> String {
+    if !v.is_finite() {
+        return "—".to_string();
+    }
+    if v == 0.0 {
+        return if unit.is_empty() {
+            "0".to_string()
+        } else {
+            format!("0 {unit}")
+        };
+    }
+    let sig = significant.clamp(1, 15);
+    let a = v.abs();
+    let mut chosen = PREFIXES[PREFIXES.len() - 1];
+    for p in PREFIXES {
+        // round first, so that 999.96 takes the next prefix up
+        let scaled = a / p.0;
+        let d = decimals(scaled, sig);
+        let rounded: f64 = format!("{scaled:.d$}").parse().unwrap_or(scaled);
+        if rounded >= 1.0 {
+            chosen = p;
+            break;
+        }
+    }
+    let scaled = v / chosen.0;
+    let d = decimals(scaled.abs(), sig);
+    let sep = if unit.is_empty() && chosen.1.is_empty() {
+        ""
+    } else {
+        " "
+    };
+    format!("{scaled:.d$}{sep}{}{unit}", chosen.1)
+}
+
+#[cfg(test)]
+mod si_tests {
+    use super::si_prefixed;
+
+    /// Prefixes of the SI (BIPM SI Brochure, 9th ed., 2019, table 7); the
+    /// roll-over cases are common practice: round first, then choose.
+    #[test]
+    fn four_and_three_figures_with_roll_over() {
+        assert_eq!(si_prefixed(12.3456, "W", 4), "12.35 W");
+        assert_eq!(si_prefixed(0.0012345, "A", 4), "1.234 mA");
+        assert_eq!(si_prefixed(999.96, "V", 4), "1.000 kV");
+        assert_eq!(si_prefixed(99.96, "V", 3), "100 V");
+        assert_eq!(si_prefixed(-4.7e-6, "H", 3), "-4.70 µH");
+        assert_eq!(si_prefixed(1.5e15, "Hz", 3), "1500 THz");
+        assert_eq!(si_prefixed(0.0, "V", 4), "0 V");
+        assert_eq!(si_prefixed(f64::NAN, "V", 4), "—");
+        assert_eq!(si_prefixed(f64::INFINITY, "W", 3), "—");
+        assert_eq!(si_prefixed(2.5, "", 3), "2.50");
     }
 }

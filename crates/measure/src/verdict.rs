@@ -90,40 +90,8 @@ impl Unit {
 }
 
 /// Format with an SI prefix (µ, m, k, M …) and 4 significant figures.
-pub fn engineering(v: f64, unit: &str) -> String {
-    if !v.is_finite() {
-        return format!("{v} {unit}");
-    }
-    if v == 0.0 {
-        return format!("0 {unit}");
-    }
-    let prefixes = [
-        (1e12, "T"),
-        (1e9, "G"),
-        (1e6, "M"),
-        (1e3, "k"),
-        (1.0, ""),
-        (1e-3, "m"),
-        (1e-6, "u"),
-        (1e-9, "n"),
-        (1e-12, "p"),
-        (1e-15, "f"),
-    ];
-    let a = v.abs();
-    let (scale, p) = prefixes
-        .iter()
-        .find(|(s, _)| a >= *s)
-        .copied()
-        .unwrap_or((1e-15, "f"));
-    let x = v / scale;
-    let digits = if x.abs() >= 100.0 {
-        1
-    } else if x.abs() >= 10.0 {
-        2
-    } else {
-        3
-    };
-    format!("{x:.digits$} {p}{unit}")
+fn engineering(v: f64, unit: &str) -> String {
+    crate::units::si_prefixed(v, unit, 4)
 }
 
 /// The outcome of one requirement.

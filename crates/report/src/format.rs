@@ -4,62 +4,7 @@
 /// Format `v` with three significant digits and an SI prefix (BIPM SI
 /// Brochure, 9th ed., 2019, table 7), e.g. `si(4.7e-6, "H")` → `"4.70 µH"`.
 pub fn si(v: f64, unit: &str) -> String {
-    if !v.is_finite() {
-        return "—".to_string();
-    }
-    if v == 0.0 {
-        return if unit.is_empty() {
-            "0".to_string()
-        } else {
-            format!("0 {unit}")
-        };
-    }
-    const PREFIXES: [(f64, &str); 11] = [
-        (1e12, "T"),
-        (1e9, "G"),
-        (1e6, "M"),
-        (1e3, "k"),
-        (1.0, ""),
-        (1e-3, "m"),
-        (1e-6, "µ"),
-        (1e-9, "n"),
-        (1e-12, "p"),
-        (1e-15, "f"),
-        (1e-18, "a"),
-    ];
-    let a = v.abs();
-    let mut chosen = PREFIXES[PREFIXES.len() - 1];
-    for p in PREFIXES {
-        // round first so that 999.96 prints as 1.00 k rather than 1000
-        let scaled = a / p.0;
-        let digits = if scaled >= 100.0 {
-            0
-        } else if scaled >= 10.0 {
-            1
-        } else {
-            2
-        };
-        let rounded: f64 = format!("{:.*}", digits, scaled).parse().unwrap_or(scaled);
-        if rounded >= 1.0 {
-            chosen = p;
-            break;
-        }
-    }
-    let scaled = v / chosen.0;
-    let s = scaled.abs();
-    let digits = if s >= 99.95 {
-        0
-    } else if s >= 9.995 {
-        1
-    } else {
-        2
-    };
-    let sep = if unit.is_empty() && chosen.1.is_empty() {
-        ""
-    } else {
-        " "
-    };
-    format!("{:.*}{}{}{}", digits, scaled, sep, chosen.1, unit)
+    tankwave_measure::units::si_prefixed(v, unit, 3)
 }
 
 /// Fixed decimals with a unit, e.g. `fixed(61.234, 1, "%")` → `"61.2 %"`.
