@@ -1,4 +1,6 @@
-//! Print the elaboration of a stage file (debug aid).
+//! Print the elaboration of a stage file: the checked circuit (nodes, bound
+//! models, resolved values) or its diagnostics (a contributor aid; see
+//! DEVELOPERS.md).
 fn main() {
     let p = std::env::args().nth(1).unwrap_or_default();
     match tankwave_circuit::load_file(&p, &Default::default()) {
