@@ -78,8 +78,9 @@ pub fn vswr(z: Complex64, r0: f64) -> Option<f64> {
     }
 }
 
-/// SI prefixes from tera to atto, largest first.
-const PREFIXES: [(f64, &str); 11] = [
+/// SI prefixes from tera to atto, largest first (BIPM SI Brochure, 9th ed.,
+/// 2019, table 7).
+pub const SI_PREFIXES: [(f64, &str); 11] = [
     (1e12, "T"),
     (1e9, "G"),
     (1e6, "M"),
@@ -126,8 +127,8 @@ pub fn si_prefixed(v: f64, unit: &str, significant: usize) -> String {
     }
     let sig = significant.clamp(1, 15);
     let a = v.abs();
-    let mut chosen = PREFIXES[PREFIXES.len() - 1];
-    for p in PREFIXES {
+    let mut chosen = SI_PREFIXES[SI_PREFIXES.len() - 1];
+    for p in SI_PREFIXES {
         // round first, so that 999.96 takes the next prefix up
         let scaled = a / p.0;
         let d = decimals(scaled, sig);

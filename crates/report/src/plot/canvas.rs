@@ -496,23 +496,12 @@ pub(crate) fn prefix_for(max_abs: f64, unit: &str) -> (f64, &'static str) {
     if !(prefixable(unit) && max_abs.is_finite() && max_abs > 0.0) {
         return (1.0, "");
     }
-    const P: [(f64, &str); 9] = [
-        (1e12, "T"),
-        (1e9, "G"),
-        (1e6, "M"),
-        (1e3, "k"),
-        (1.0, ""),
-        (1e-3, "m"),
-        (1e-6, "µ"),
-        (1e-9, "n"),
-        (1e-12, "p"),
-    ];
-    for (f, p) in P {
+    for (f, p) in tankwave_measure::units::SI_PREFIXES {
         if max_abs / f >= 0.9995 {
             return (f, p);
         }
     }
-    (1e-12, "p")
+    (1e-18, "a")
 }
 
 /// An axis description "name (unit)" with the prefix applied.
