@@ -172,11 +172,19 @@ fn run_json_and_out_dir() {
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("valid JSON");
     assert_eq!(v["schema"], "tankwave/1");
-    // maximum power transfer: P = amp^2 / (8 Rs) = 400/400 = 1 W (any circuit-analysis text);
-    // on a linear circuit the steady state is exact up to the Newton and
-    // periodicity tolerances (1e-7 relative), so 1e-6 W leaves a margin of ten
+    // maximum power transfer: P = amp^2 / (8 Rs) = 400/400 = 1 W (any circuit-analysis text).
+    // The stage is solved by shooting (the automatic choice here), which
+    // integrates the period with 256 TR-BDF2 steps. Its numerical damping
+    // costs power of order (wh)^3: 1.8e-6, 2.2e-7 and 3.2e-8 W at 128, 256
+    // and 512 steps (measured with `steps=`; the factor 8 per halving is that
+    // order). The periodicity tolerance (1e-7 of each unknown's peak) can add
+    // at most 2e-7 in power, so the budget is 2.2e-7 + 2e-7 < 5e-7 W.
     let p1 = v["steady"]["metrics"]["output"]["p1_w"].as_f64().unwrap();
-    assert!((p1 - 1.0).abs() < 1e-6, "p1 = {p1}");
+    assert_eq!(
+        v["steady"]["method"], "shooting",
+        "the budget above is for shooting"
+    );
+    assert!((p1 - 1.0).abs() < 5e-7, "p1 = {p1}");
     for f in ["results.json", "period.csv", "spectrum.csv"] {
         assert!(dir.path().join(f).is_file(), "{f} written");
     }
@@ -358,10 +366,16 @@ fn tune_finds_the_resonance_of_a_simple_tank() {
         .find(|l| l.starts_with("ctank "))
         .expect("optimum row");
     let c: f64 = line.split_whitespace().nth(1).unwrap().parse().unwrap();
-    // resonance C = 1/((2 pi f)^2 L) with f = 1 MHz, L = 10 uH (any circuit-analysis text);
-    // 0.1 % is the accuracy asked of the tuner
+    // resonance C = 1/((2 pi f)^2 L) with f = 1 MHz, L = 10 uH (any circuit-analysis text).
+    // The stage is linear and solved by harmonic balance, which is exact for it,
+    // so two errors remain: the tuner stops when the simplex costs agree to
+    // 1e-10, about 4e-7 in C here (near the peak the cost, -P over P at the
+    // start, rises by 2.9 (Q d)^2 with Q = R/(wL) = 15.9, d = C/C0 - 1, so
+    // 1e-10 is Q d = 6e-6); and the table prints 5 significant
+    // digits (2.5330e-9), half a unit of which is 2.0e-5 of C0. 3e-5 covers
+    // both, well inside the 0.1 % asked of the tuner.
     let c0 = 1.0 / ((2.0 * std::f64::consts::PI * 1e6_f64).powi(2) * 10e-6);
-    assert!(((c - c0) / c0).abs() < 1e-3, "optimum {c:e} vs {c0:e}");
+    assert!(((c - c0) / c0).abs() < 3e-5, "optimum {c:e} vs {c0:e}");
 }
 
 /// `class` attributes of the `<g>` groups of an SVG, with their `data-label`.

@@ -243,7 +243,8 @@ fn t_network_matches() {
 }
 
 /// Absorbing a device output capacitance reduces C1 by exactly that much and
-/// keeps the match (the device capacitance sits in parallel with C1).
+/// keeps the match: the device capacitance sits in parallel with C1, and
+/// capacitances in parallel add (common practice).
 #[test]
 fn absorb_output_capacitance() {
     let p = MatchParams {

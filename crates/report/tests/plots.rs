@@ -42,7 +42,9 @@ fn period_plot_has_four_panels_and_shaded_conduction() {
 #[test]
 fn conduction_intervals_match_the_measured_angle() {
     // A cosine pulse of conduction angle θ: the shaded time is θ/360 of the
-    // period (closed form of the pulse: i > 0 for |ωt| < θ/2). The sampled
+    // period (closed form of the truncated-cosine pulse, i > 0 for |ωt| < θ/2:
+    // S. C. Cripps, RF Power Amplifiers for Wireless Communications, 2nd ed.,
+    // 2006, ch. 3, from memory, as in the measure tests). The sampled
     // edges are interpolated linearly; with N = 256 samples the chord error
     // at the zero crossing is well under one sample (1.4°), so 0.5° holds.
     for theta in [120.0, 150.0, 200.0] {

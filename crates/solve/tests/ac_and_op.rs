@@ -97,7 +97,10 @@ fn pi_network_gain_and_impedances_match_worked_example() {
     let r2 = ac(&b.c, &d, &p2).unwrap();
     let zb = r2.impedance.unwrap()[0];
     eprintln!("Z seen by the load at f0 = {zb}");
-    assert!((zb - Complex64::new(RL, 0.0)).norm() < 50.0 * 1e-3, "{zb}");
+    // The exact design presents 50 + j0 Ω; the part values rounded to 6 digits
+    // give 49.99990 + j0.00529 Ω (|error| 0.0053 Ω, computed with numpy from
+    // the same ladder), so 0.01 Ω covers that rounding and nothing more.
+    assert!((zb - Complex64::new(RL, 0.0)).norm() < 0.01, "{zb}");
 }
 
 #[test]
@@ -135,8 +138,12 @@ fn coupled_inductors_approach_the_ideal_transformer_ratio() {
         let m = k * (l1 * l2).sqrt();
         let w = 2.0 * std::f64::consts::PI * f;
         let exact = 1.0 / Complex64::new(l1 / m, w * (l1 * l2 - m * m) / (m * rload));
+        // The same linear equations solved by LU and in closed form: only
+        // rounding separates them. Near k = 1 the cancellation in L1L2 − M² can
+        // cost up to log10(1/(1 − k²)) ≈ 3.7 digits, i.e. 1.1e-16 · 5e3 ≈ 6e-13 at
+        // worst (measured: below 6e-16 at every k); 1e-11 covers that.
         assert!(
-            (ratio - exact).norm() < 1e-9 * exact.norm(),
+            (ratio - exact).norm() < 1e-11 * exact.norm(),
             "k={k}: {ratio} vs {exact}"
         );
         let dev = (ratio.norm() - n).abs() / n;
@@ -147,7 +154,11 @@ fn coupled_inductors_approach_the_ideal_transformer_ratio() {
         assert!(dev < prev_dev, "deviation must shrink as k → 1");
         prev_dev = dev;
     }
-    assert!(prev_dev < 1e-3, "{prev_dev}");
+    // From the ratio above, V2/V1 = n·k / (1 + jωL2(1 − k²)/R), so the relative
+    // deviation of |V2/V1| from n is 1 − k/√(1 + (ωL2(1 − k²)/R)²) ≈ (1 − k) +
+    // (ωL2(1 − k²)/R)²/2: 1.0e-4 + 5e-7 at k = 0.9999 (ωL2/R ≈ 5.0). The
+    // finite coupling, not the solver, sets it, so it must stay below 2(1 − k).
+    assert!(prev_dev < 2.0 * (1.0 - 0.9999), "{prev_dev}");
 }
 
 #[test]

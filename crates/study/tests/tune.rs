@@ -79,7 +79,16 @@ fn an_optimum_outside_the_range_stops_at_the_bound() {
         &TuneParams::default(),
     )
     .unwrap();
-    assert!((res.optimum["ctun"] / lo - 1.0).abs() < 1e-4);
+    // Across the whole range δ = C/C₀ − 1 ≥ 0.2, so the power falls monotonically
+    // and the optimum is the bound itself. There the cost −P/P_start rises by
+    // about 330 per unit of C/lo − 1 (from P/P₀ = 1/(1 + (Qδ)²), Q ≈ 22.4,
+    // normalised to the start at the middle of the range), and the search stops
+    // once the costs over the simplex agree to 1e-10: about 3e-13 in C/lo − 1.
+    // In the search coordinate the bound is a smooth minimum of the sine map,
+    // even about y = −π/2, so the vertices may also stop on both sides of it
+    // with equal costs; 1e-9 leaves room for that (measured: 0, the map lands
+    // on the bound exactly).
+    assert!((res.optimum["ctun"] / lo - 1.0).abs() < 1e-9);
     assert_eq!(res.at_bound, vec!["ctun".to_string()]);
     assert!(
         res.sharpness[0].minus.is_none(),
@@ -170,8 +179,14 @@ fn vswr_goal_and_failing_evaluations() {
         &p,
     )
     .unwrap();
-    assert!((res.optimum["rl"] / 50.0 - 1.0).abs() < 1e-3, "{res:?}");
-    assert!((res.goal_value - 1.0).abs() < 1e-3);
+    // Near 50 Ω the cost (the VSWR itself) is V-shaped, 1 + |r/50 − 1| to first
+    // order on both sides, and the search stops once the costs over the
+    // simplex agree to 1e-10. At a kink the two vertices can stop on either
+    // side with nearly equal costs, so the best one lies within a few simplex
+    // sizes of 1e-10 of the optimum (6e-10 here); 1e-8 allows for that.
+    assert!((res.optimum["rl"] / 50.0 - 1.0).abs() < 1e-8, "{res:?}");
+    // VSWR − 1 ≈ |r/50 − 1| near the optimum: the same bound.
+    assert!((res.goal_value - 1.0).abs() < 1e-8);
     assert!(res.failed_evaluations > 0);
 }
 
