@@ -163,6 +163,9 @@ fn ac0_solve(set: &tankwave_devices::DeviceSet, src: usize) -> Vec<f64> {
 #[test]
 fn vsource_divider_dc_and_ac_agree() {
     // Source 10 V behind 50 Ω into 50 Ω: v(out) = 5 V, source delivers power (j < 0).
+    // A direct solve of two unknowns with exact decimal data: only rounding
+    // (~1e-16 relative) separates the results from the hand values, and the
+    // bounds below (1e-13 to 2e-12 relative) catch any wrong stamp.
     let c = circuit(
         &["out"],
         vec![
@@ -188,6 +191,8 @@ fn vsource_divider_dc_and_ac_agree() {
 #[test]
 fn isource_into_resistor_dc_and_ac_agree() {
     // 1 mA flowing from gnd through the source into `out`, 100 Ω to ground: +0.1 V.
+    // One unknown, exact decimal data: only rounding (~1e-16 relative)
+    // separates the results from the hand values; the bounds are 1e-13 relative.
     let c = circuit(
         &["out"],
         vec![
@@ -217,6 +222,7 @@ fn isource_into_resistor_dc_and_ac_agree() {
 #[test]
 fn inductor_is_dc_short_through_its_resistance() {
     // 1 V through an inductor with r = 1 Ω into 1 Ω: 0.5 V, branch current 0.5 A a → b.
+    // Exact in binary arithmetic; 1e-14 (2e-14 relative) allows for rounding only.
     let c = circuit(
         &["in", "out"],
         vec![
