@@ -20,7 +20,10 @@ impl fmt::Display for When {
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum SolveError {
     /// Both steady-state methods of `method=auto` failed.
-    #[error("steady state: shooting failed ({first}); harmonic balance failed too ({second})")]
+    #[error(
+        "steady state: shooting failed ({first}); harmonic balance failed too ({second}); \
+         method=settle shows whether the stage reaches a periodic state at all"
+    )]
     BothFailed {
         /// The shooting error.
         first: Box<SolveError>,
@@ -103,7 +106,8 @@ pub enum SolveError {
     /// A periodic steady state by plain transient did not settle.
     #[error(
         "settle: not settled after {periods} periods; period-to-period change {change:.3e} \
-         (tolerance {tolerance:.3e}) in {unknown}"
+         (tolerance {tolerance:.3e}) in {unknown}{}",
+        not_settled_diagnosis(*repeats_every, *relative_change)
     )]
     NotSettled {
         /// Periods simulated.
@@ -114,6 +118,12 @@ pub enum SolveError {
         tolerance: f64,
         /// The worst unknown.
         unknown: String,
+        /// When the last periods repeat every `m` > 1 periods (within 100
+        /// settle tolerances) though not every period: that `m`.
+        repeats_every: Option<usize>,
+        /// That change against the unknown's peak-to-peak range plus peak
+        /// over the last period.
+        relative_change: f64,
     },
     /// Invalid analysis parameters.
     #[error("invalid analysis parameters: {0}")]
@@ -121,4 +131,26 @@ pub enum SolveError {
     /// The requested method is not available in this build.
     #[error("{0} is not available")]
     NotAvailable(String),
+}
+
+/// Above this relative period-to-period change after the whole settle run,
+/// the state is called not periodic rather than slow (a slowly settling
+/// state changes by far less than a percent per period by then).
+const NOT_PERIODIC_CHANGE: f64 = 1e-2;
+
+/// What a settle failure says about the stage.
+fn not_settled_diagnosis(repeats_every: Option<usize>, relative_change: f64) -> String {
+    match repeats_every {
+        Some(m) => format!(
+            "; the last periods repeat every {m} periods instead: the stage is not periodic at \
+             the drive frequency but has a subharmonic at 1/{m} of it (a parametric or \
+             parasitic oscillation)"
+        ),
+        None if relative_change > NOT_PERIODIC_CHANGE => format!(
+            "; that is {:.0} % of its size over a period (peak-to-peak plus peak): the stage is not periodic at the drive frequency \
+             (a self-oscillation or an irregular state) rather than slow to settle",
+            100.0 * relative_change
+        ),
+        None => String::new(),
+    }
 }

@@ -276,8 +276,10 @@ pub fn settle(
     let period = 1.0 / params.freq;
     let h = period / ns as f64;
     let mut st = Stepper::from_op(devices, params.tol, params.linear_solver, 0.0)?;
-    let mut prev: Option<Vec<Vec<f64>>> = None;
-    let mut last_change = (f64::INFINITY, 0.0, 0usize);
+    // the last few periods, newest last, for the repeat test on failure
+    let mut history: std::collections::VecDeque<Vec<Vec<f64>>> =
+        std::collections::VecDeque::with_capacity(MAX_REPEAT + 1);
+    let mut last_change = (f64::INFINITY, 0.0, 0usize, 0.0);
     for p in 0..params.settle.max_periods {
         let mut cur = vec![vec![0.0; ns]; n];
         let mut stage = vec![vec![0.0; ns]; n];
@@ -294,27 +296,9 @@ pub fn settle(
                 row[s] = xg[k];
             }
         }
-        if let Some(pv) = &prev {
-            let mut worst = (0.0f64, 0.0f64, 0usize, 0.0f64);
-            for k in 0..n {
-                let (lo, hi) = cur[k]
-                    .iter()
-                    .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
-                        (a.min(*v), b.max(*v))
-                    });
-                let mag = lo.abs().max(hi.abs());
-                let tol = params.settle.reltol * ((hi - lo) + mag)
-                    + unknown_abstol(devices, &params.tol, k);
-                let ch = cur[k]
-                    .iter()
-                    .zip(&pv[k])
-                    .fold(0.0f64, |m, (a, b)| m.max((a - b).abs()));
-                let ratio = ch / tol;
-                if !(ratio <= worst.0) {
-                    worst = (ratio, ch, k, tol);
-                }
-            }
-            last_change = (worst.1, worst.3, worst.2);
+        if let Some(pv) = history.back() {
+            let worst = period_change(devices, params, &cur, pv);
+            last_change = (worst.1, worst.3, worst.2, worst.4);
             if worst.0 <= 1.0 {
                 let terminal_currents =
                     terminal_currents_trbdf2(circuit, devices, &cur, &stage, params.freq)?;
@@ -335,8 +319,19 @@ pub fn settle(
                 });
             }
         }
-        prev = Some(cur);
+        if history.len() > MAX_REPEAT {
+            history.pop_front();
+        }
+        history.push_back(cur);
     }
+    // Not periodic at the drive frequency: does the end repeat every m periods?
+    let repeats_every = history.back().and_then(|last| {
+        (2..=MAX_REPEAT).find(|&m| {
+            history.len() > m
+                && period_change(devices, params, last, &history[history.len() - 1 - m]).0
+                    <= REPEAT_TOLERANCES
+        })
+    });
     Err(SolveError::NotSettled {
         periods: params.settle.max_periods,
         change: last_change.0,
@@ -346,7 +341,52 @@ pub fn settle(
             .get(last_change.2)
             .cloned()
             .unwrap_or_default(),
+        repeats_every,
+        relative_change: last_change.3,
     })
+}
+
+/// Longest repeat (in periods) looked for when settle fails.
+const MAX_REPEAT: usize = 4;
+
+/// A repeat every m periods counts when the change over m periods is within
+/// this many settle tolerances (the settle tolerance is for the fundamental
+/// period; a subharmonic state reached after the same number of periods is
+/// settled less tightly, and 100 tolerances, 1e-4 of the swing at the default,
+/// still tells a repeating state from a drifting or chaotic one).
+const REPEAT_TOLERANCES: f64 = 100.0;
+
+/// Largest change between two periods against the settle tolerance:
+/// (ratio, change, unknown, tolerance, change / (range + peak)), tolerance
+/// `reltol·(range + peak) + abstol`.
+fn period_change(
+    devices: &DeviceSet,
+    params: &SteadyParams,
+    cur: &[Vec<f64>],
+    pv: &[Vec<f64>],
+) -> (f64, f64, usize, f64, f64) {
+    let mut worst = (0.0f64, 0.0f64, 0usize, 0.0f64, 0.0f64);
+    for (k, (row, old)) in cur.iter().zip(pv).enumerate() {
+        let (lo, hi) = row
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
+                (a.min(*v), b.max(*v))
+            });
+        let mag = lo.abs().max(hi.abs());
+        let tol =
+            params.settle.reltol * ((hi - lo) + mag) + unknown_abstol(devices, &params.tol, k);
+        let ch = row
+            .iter()
+            .zip(old)
+            .fold(0.0f64, |m, (a, b)| m.max((a - b).abs()));
+        let ratio = ch / tol;
+        if !(ratio <= worst.0) {
+            let size = (hi - lo) + mag;
+            let rel = if size > 0.0 { ch / size } else { 0.0 };
+            worst = (ratio, ch, k, tol, rel);
+        }
+    }
+    worst
 }
 
 /// A stamp that keeps only the currents and charges (shared by every

@@ -246,3 +246,69 @@ fn samples_rise_above_twice_the_harmonics() {
     params.harmonics = 8;
     assert_eq!(params.samples(), 128);
 }
+
+/// An RC low-pass driven by a sine at F plus a second sine at `f2`, solved by
+/// settle at F (fundamental period 1/F).
+fn two_tone_settle(f2: f64) -> SolveError {
+    let mut b = B::new();
+    let tone = |f: f64| Waveform {
+        dc: 0.0,
+        shape: Some(sine(1.0, f)),
+    };
+    let vs = b.vsrc("va", "a", "gnd", tone(F), 0.0);
+    b.vsrc("vb", "in", "a", tone(f2), 0.0);
+    // RC = 0.1 µs: the start-up transient is gone within one period of F
+    b.r("r1", "in", "out", 100.0);
+    b.cap("c1", "out", "gnd", 1e-9);
+    b.c.input = Some(vs);
+    let d = instantiate(&b.c).unwrap();
+    let mut params = SteadyParams {
+        freq: F,
+        harmonics: 8,
+        method: SteadyMethod::Settle,
+        ..SteadyParams::default()
+    };
+    params.settle.max_periods = 40;
+    steady(&b.c, &d, &params).unwrap_err()
+}
+
+#[test]
+fn settle_names_a_subharmonic_when_the_state_repeats_every_two_periods() {
+    // A tone at F/2 makes every waveform repeat every 2 periods of F exactly
+    // (the sum of periodic signals has the least common period).
+    let e = two_tone_settle(F / 2.0);
+    let SolveError::NotSettled {
+        repeats_every,
+        relative_change,
+        ..
+    } = &e
+    else {
+        panic!("{e}");
+    };
+    assert_eq!(*repeats_every, Some(2), "{e}");
+    assert!(*relative_change > 1e-2, "{e}");
+    assert!(e.to_string().contains("subharmonic at 1/2"), "{e}");
+}
+
+#[test]
+fn settle_calls_an_incommensurate_state_not_periodic() {
+    // A tone at √2·F never lines up with the period of F, nor with 2–4 of them.
+    let e = two_tone_settle(std::f64::consts::SQRT_2 * F);
+    let SolveError::NotSettled {
+        repeats_every,
+        relative_change,
+        ..
+    } = &e
+    else {
+        panic!("{e}");
+    };
+    assert_eq!(*repeats_every, None, "{e}");
+    // the F·√2 tone through the RC (corner 1.6 MHz) changes by a large part of
+    // the swing from one period of F to the next
+    assert!(*relative_change > 1e-2, "{e}");
+    assert!(
+        e.to_string()
+            .contains("not periodic at the drive frequency"),
+        "{e}"
+    );
+}
