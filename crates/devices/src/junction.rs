@@ -257,7 +257,10 @@ mod tests {
             };
             d.validate().unwrap();
             let vc = d.fc * d.vj;
-            // Closed form below the corner.
+            // Closed form below the corner: Cj = Cj0 (1 − V/Vj)^−m, the
+            // abrupt/graded junction depletion capacitance (I. Getreu,
+            // Modeling the Bipolar Transistor, 1976; from memory, as in
+            // check-values.md).
             for v in [-20.0, -1.0, 0.0, 0.2] {
                 let c = d.eval(v).1;
                 let want = 2e-12 * (1.0 - v / 0.75).powf(-m);
@@ -346,6 +349,10 @@ mod tests {
 
     #[test]
     fn junction_current_and_slope() {
+        // Shockley's ideal-junction law I = IS (exp(V/Vt) − 1), slope
+        // IS exp(V/Vt)/Vt (W. Shockley, Bell Syst. Tech. J. 28, 1949; from
+        // memory). Tolerance 1e-15 relative: the same expression evaluated
+        // twice, so only rounding can differ.
         let vt = thermal_voltage(300.0);
         let (i, g) = junction_current(0.6, 1e-14, vt);
         assert!((i - 1e-14 * ((0.6 / vt).exp() - 1.0)).abs() < 1e-15 * i.abs());
