@@ -95,7 +95,8 @@ fuzz_target!(|data: &[u8]| {
                     continue;
                 };
                 p.harmonics = p.harmonics.min(MAX_HARMONICS);
-                p.steps_per_period = p.steps_per_period.min(64);
+                // 128 keeps both grids of shooting in play (the coarse one needs N ≥ 128)
+                p.steps_per_period = p.steps_per_period.min(128);
                 p.balance.max_harmonics = MAX_HARMONICS;
                 p.balance.max_levels = p.balance.max_levels.min(40);
                 p.balance.max_iter = p.balance.max_iter.min(30);
