@@ -97,7 +97,7 @@
 use crate::error::When;
 use crate::linalg::{LinearSolver, RealLu};
 use crate::op::{solve_op, OpParams};
-use crate::steady::{IqStamp, PeriodicSolution, SteadyInfo, SteadyParams};
+use crate::steady::{ElementDevices, IqStamp, PeriodicSolution, SteadyInfo, SteadyParams};
 use crate::SolveError;
 use faer::linalg::solvers::Solve;
 use faer::Mat;
@@ -1749,10 +1749,7 @@ fn currents(
     let mut state = devices.initial_state();
     let mut xs = vec![0.0; n];
     let mut out = Vec::with_capacity(circuit.elements.len());
-    let mut stamp = IqStamp {
-        i: vec![0.0; n],
-        q: vec![0.0; n],
-    };
+    let mut stamp = IqStamp::new(n);
     let mut ci = vec![ZERO; kmax + 1];
     let mut cq = vec![ZERO; kmax + 1];
     for (ei, el) in circuit.elements.iter().enumerate() {
@@ -1761,13 +1758,7 @@ fn currents(
             out.push(Vec::new());
             continue;
         }
-        let devs: Vec<usize> = devices
-            .devices
-            .iter()
-            .enumerate()
-            .filter(|(_, d)| d.element() == ei)
-            .map(|(k, _)| k)
-            .collect();
+        let ed = ElementDevices::new(devices, ei, terms.clone());
         let mut iv = vec![vec![0.0; ns]; terms.len()];
         let mut qv = vec![vec![0.0; ns]; terms.len()];
         for s in 0..ns {
@@ -1781,21 +1772,10 @@ fn currents(
                 gmin: params.balance.gmin,
                 limit: false,
             };
-            stamp.i.fill(0.0);
-            stamp.q.fill(0.0);
-            for &di in &devs {
-                let d = &devices.devices[di];
-                let off = devices.state_offsets.get(di).copied().unwrap_or(0);
-                let len = d.state_len();
-                let sl = state.get_mut(off..off + len).unwrap_or(&mut []);
-                d.eval(&xs, &ctx, sl, &mut stamp);
-            }
-            for (j, t) in terms.iter().enumerate() {
-                if let Some(k) = t {
-                    iv[j][s] = stamp.i.get(*k).copied().unwrap_or(0.0);
-                    qv[j][s] = stamp.q.get(*k).copied().unwrap_or(0.0);
-                }
-            }
+            stamp.element_terminals(&ed, &xs, &ctx, &mut state, |j, i, q| {
+                iv[j][s] = i;
+                qv[j][s] = q;
+            });
         }
         let mut cur = vec![vec![0.0; nout]; terms.len()];
         for j in 0..terms.len() {

@@ -411,6 +411,74 @@ impl Stamp for IqStamp {
     fn add_c(&mut self, _row: Idx, _col: Idx, _v: f64) {}
 }
 
+impl IqStamp {
+    /// A zeroed stamp for `n` unknowns.
+    pub(crate) fn new(n: usize) -> Self {
+        Self {
+            i: vec![0.0; n],
+            q: vec![0.0; n],
+        }
+    }
+
+    /// Evaluate one element's devices alone at `x`, `ctx`, and hand
+    /// `(terminal, i, q)` of every terminal on an unknown to `put`.
+    pub(crate) fn element_terminals(
+        &mut self,
+        el: &ElementDevices<'_>,
+        x: &[f64],
+        ctx: &EvalCtx,
+        state: &mut [f64],
+        mut put: impl FnMut(usize, f64, f64),
+    ) {
+        self.i.fill(0.0);
+        self.q.fill(0.0);
+        for &di in &el.devs {
+            let Some(d) = el.devices.devices.get(di) else {
+                continue;
+            };
+            let off = el.devices.state_offsets.get(di).copied().unwrap_or(0);
+            let sl = state.get_mut(off..off + d.state_len()).unwrap_or(&mut []);
+            d.eval(x, ctx, sl, self);
+        }
+        for (j, t) in el.terms.iter().enumerate() {
+            if let Some(k) = t {
+                put(
+                    j,
+                    self.i.get(*k).copied().unwrap_or(0.0),
+                    self.q.get(*k).copied().unwrap_or(0.0),
+                );
+            }
+        }
+    }
+}
+
+/// The devices of one circuit element and the unknowns of its terminals.
+pub(crate) struct ElementDevices<'a> {
+    devices: &'a DeviceSet,
+    /// Indices into `devices.devices` of the element's devices.
+    devs: Vec<usize>,
+    /// The unknown of each terminal (`None` for ground).
+    pub(crate) terms: Vec<Idx>,
+}
+
+impl<'a> ElementDevices<'a> {
+    /// Element `ei` of the circuit, with terminals `terms`.
+    pub(crate) fn new(devices: &'a DeviceSet, ei: usize, terms: Vec<Idx>) -> Self {
+        let devs = devices
+            .devices
+            .iter()
+            .enumerate()
+            .filter(|(_, d)| d.element() == ei)
+            .map(|(k, _)| k)
+            .collect();
+        Self {
+            devices,
+            devs,
+            terms,
+        }
+    }
+}
+
 /// Current into every terminal of every element over one period, from
 /// samples `x[unknown][n]` of a periodic solution at `freq`.
 ///
@@ -466,6 +534,7 @@ fn element_currents(
     let mut state = devices.initial_state();
     let mut out = Vec::with_capacity(circuit.elements.len());
     let mut xs = vec![0.0; n];
+    let mut stamp = IqStamp::new(n);
     let mut fft = crate::spectral::Deriv::new(ns);
     for (ei, el) in circuit.elements.iter().enumerate() {
         let terms = el.kind.terminals();
@@ -473,13 +542,7 @@ fn element_currents(
             out.push(Vec::new());
             continue;
         }
-        let devs: Vec<usize> = devices
-            .devices
-            .iter()
-            .enumerate()
-            .filter(|(_, d)| d.element() == ei)
-            .map(|(k, _)| k)
-            .collect();
+        let ed = ElementDevices::new(devices, ei, terms.clone());
         // i and q of the rows of this element's terminals, per sample (and q
         // at the stage points when given).
         let mut iv = vec![vec![0.0; ns]; terms.len()];
@@ -495,22 +558,9 @@ fn element_currents(
                     limit: false,
                     ..EvalCtx::default()
                 };
-                let mut stamp = IqStamp {
-                    i: vec![0.0; n],
-                    q: vec![0.0; n],
-                };
-                for &di in &devs {
-                    let d = &devices.devices[di];
-                    let off = devices.state_offsets.get(di).copied().unwrap_or(0);
-                    let len = d.state_len();
-                    let sl = state.get_mut(off..off + len).unwrap_or(&mut []);
-                    d.eval(&xs, &ctx, sl, &mut stamp);
-                }
-                for (j, t) in terms.iter().enumerate() {
-                    if let Some(k) = t {
-                        qg[j][s] = stamp.q.get(*k).copied().unwrap_or(0.0);
-                    }
-                }
+                stamp.element_terminals(&ed, &xs, &ctx, &mut state, |j, _, q| {
+                    qg[j][s] = q;
+                });
             }
         }
         for s in 0..ns {
@@ -522,23 +572,10 @@ fn element_currents(
                 limit: false,
                 ..EvalCtx::default()
             };
-            let mut stamp = IqStamp {
-                i: vec![0.0; n],
-                q: vec![0.0; n],
-            };
-            for &di in &devs {
-                let d = &devices.devices[di];
-                let off = devices.state_offsets.get(di).copied().unwrap_or(0);
-                let len = d.state_len();
-                let sl = state.get_mut(off..off + len).unwrap_or(&mut []);
-                d.eval(&xs, &ctx, sl, &mut stamp);
-            }
-            for (j, t) in terms.iter().enumerate() {
-                if let Some(k) = t {
-                    iv[j][s] = stamp.i.get(*k).copied().unwrap_or(0.0);
-                    qv[j][s] = stamp.q.get(*k).copied().unwrap_or(0.0);
-                }
-            }
+            stamp.element_terminals(&ed, &xs, &ctx, &mut state, |j, i, q| {
+                iv[j][s] = i;
+                qv[j][s] = q;
+            });
         }
         let mut cur = Vec::with_capacity(terms.len());
         let h = period / ns as f64;
