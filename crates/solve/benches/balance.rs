@@ -46,75 +46,9 @@ fn rectifier() -> (B, f64) {
     (b, f)
 }
 
-/// The class-C demo stage of tests/balance_bjt.rs (13.56 MHz, invented model).
-fn class_c() -> (B, f64) {
-    let f = 13.56e6;
-    let rq = |l: f64, q: f64| 2.0 * std::f64::consts::PI * f * l / q;
-    let mut b = B::new();
-    b.vdc("vsup", "vcc", "gnd", 13.8);
-    b.vsrc(
-        "vdrv",
-        "src",
-        "gnd",
-        Waveform {
-            dc: 0.0,
-            shape: Some(sine(20.0, f)),
-        },
-        50.0,
-    );
-    b.cap("cmin", "src", "gnd", 704e-12);
-    b.ind("lmin", "src", "bin", 176e-9, rq(176e-9, 150.0));
-    b.cap("cin", "bin", "base", 100e-9);
-    b.r("rbias", "base", "gnd", 10.0);
-    b.c.models.push(Model {
-        name: "tw_hf25".into(),
-        params: ModelParams::Bjt(BjtParams {
-            sat_current: 5e-12,
-            gain_fwd: 50.0,
-            gain_rev: 3.0,
-            early_fwd: 100.0,
-            early_rev: 8.0,
-            knee_fwd: 3.0,
-            knee_rev: 0.3,
-            leak_be: 20e-12,
-            leak_be_emission: 1.8,
-            leak_bc: 5e-12,
-            leak_bc_emission: 2.0,
-            r_base: 0.6,
-            r_collector: 0.08,
-            r_emitter: 0.04,
-            cj_be: 1.5e-9,
-            vj_be: 0.75,
-            grading_be: 0.35,
-            cj_bc: 220e-12,
-            vj_bc: 0.6,
-            grading_bc: 0.4,
-            transit_fwd: 0.5e-9,
-            transit_rev: 50e-9,
-            ..BjtParams::default()
-        }),
-        origin: Origin::default(),
-    });
-    let model = b.c.models.len() - 1;
-    let (c, bb) = (b.node("coll"), b.node("base"));
-    b.c.elements.push(Element {
-        name: "q1".into(),
-        kind: ElementKind::Bjt {
-            c,
-            b: bb,
-            e: None,
-            model,
-            area: 1.0,
-        },
-        origin: Origin::default(),
-    });
-    b.ind("rfc", "vcc", "coll", 4.7e-6, 0.05);
-    b.cap("cblk", "coll", "p1", 100e-9);
-    b.cap("c1", "p1", "gnd", 7.81e-9);
-    b.ind("lpi", "p1", "out", 73.6e-9, rq(73.6e-9, 200.0));
-    b.cap("c2", "out", "gnd", 2.35e-9);
-    b.r("rload", "out", "gnd", 50.0);
-    (b, f)
+/// The class-C demo stage of tests/support (13.56 MHz, invented model), 20 V drive.
+fn class_c_stage() -> (B, f64) {
+    (class_c(20.0), CLASS_C_F0)
 }
 
 fn steady_params(f: f64, method: SteadyMethod, raise: bool) -> SteadyParams {
@@ -160,7 +94,7 @@ fn bench_stage(c: &mut Criterion, name: &str, (b, f): (B, f64)) {
 
 fn benches(c: &mut Criterion) {
     bench_stage(c, "diode rectifier", rectifier());
-    bench_stage(c, "class-C stage", class_c());
+    bench_stage(c, "class-C stage", class_c_stage());
 }
 
 criterion_group!(balance_benches, benches);

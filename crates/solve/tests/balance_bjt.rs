@@ -1,7 +1,7 @@
 //! Harmonic balance on a class-C bipolar stage against shooting.
 //!
 //! The stage is a demo scenario of our own (netlists/ism-13m56-classc.tank,
-//! with its invented transistor model), built here in Rust: 13.56 MHz,
+//! with its invented transistor model), built in Rust (`support::class_c`): 13.56 MHz,
 //! self-biased base (class C), RF choke, output pi network into 50 Ω.
 //! Reference: shooting-Newton with the trapezoidal rule (T. J. Aprille,
 //! T. N. Trick, Proc. IEEE 60(1), 1972); its known error on harmonic k is of
@@ -11,12 +11,11 @@
 mod support;
 use num_complex::Complex64;
 use support::*;
-use tankwave_circuit::ir::*;
 use tankwave_circuit::SteadyMethod;
 use tankwave_devices::{instantiate, DeviceSet};
 use tankwave_solve::*;
 
-const F0: f64 = 13.56e6;
+const F0: f64 = CLASS_C_F0;
 
 fn coef(x: &[f64], k: usize) -> Complex64 {
     let n = x.len() as f64;
@@ -31,85 +30,6 @@ fn coef(x: &[f64], k: usize) -> Complex64 {
 
 fn amp(x: &[f64], k: usize) -> f64 {
     2.0 * coef(x, k).norm()
-}
-
-/// Invented 25 W-class npn (values of netlists/models/tw-hf25.tank).
-fn tw_hf25() -> BjtParams {
-    BjtParams {
-        sat_current: 5e-12,
-        gain_fwd: 50.0,
-        gain_rev: 3.0,
-        early_fwd: 100.0,
-        early_rev: 8.0,
-        knee_fwd: 3.0,
-        knee_rev: 0.3,
-        leak_be: 20e-12,
-        leak_be_emission: 1.8,
-        leak_bc: 5e-12,
-        leak_bc_emission: 2.0,
-        r_base: 0.6,
-        r_collector: 0.08,
-        r_emitter: 0.04,
-        cj_be: 1.5e-9,
-        vj_be: 0.75,
-        grading_be: 0.35,
-        cj_bc: 220e-12,
-        vj_bc: 0.6,
-        grading_bc: 0.4,
-        transit_fwd: 0.5e-9,
-        transit_rev: 50e-9,
-        ..BjtParams::default()
-    }
-}
-
-/// Series loss of an inductor of quality `q` at f0.
-fn r_of_q(l: f64, q: f64) -> f64 {
-    2.0 * std::f64::consts::PI * F0 * l / q
-}
-
-fn class_c(drive: f64) -> B {
-    let mut b = B::new();
-    b.vdc("vsup", "vcc", "gnd", 13.8);
-    let vd = b.vsrc(
-        "vdrv",
-        "src",
-        "gnd",
-        Waveform {
-            dc: 0.0,
-            shape: Some(sine(drive, F0)),
-        },
-        50.0,
-    );
-    b.cap("cmin", "src", "gnd", 704e-12);
-    b.ind("lmin", "src", "bin", 176e-9, r_of_q(176e-9, 150.0));
-    b.cap("cin", "bin", "base", 100e-9);
-    b.r("rbias", "base", "gnd", 10.0);
-    b.c.models.push(Model {
-        name: "tw_hf25".into(),
-        params: ModelParams::Bjt(tw_hf25()),
-        origin: Origin::default(),
-    });
-    let model = b.c.models.len() - 1;
-    let (c, bb) = (b.node("coll"), b.node("base"));
-    b.c.elements.push(Element {
-        name: "q1".into(),
-        kind: ElementKind::Bjt {
-            c,
-            b: bb,
-            e: None,
-            model,
-            area: 1.0,
-        },
-        origin: Origin::default(),
-    });
-    b.ind("rfc", "vcc", "coll", 4.7e-6, 0.05);
-    b.cap("cblk", "coll", "p1", 100e-9);
-    b.cap("c1", "p1", "gnd", 7.81e-9);
-    b.ind("lpi", "p1", "out", 73.6e-9, r_of_q(73.6e-9, 200.0));
-    b.cap("c2", "out", "gnd", 2.35e-9);
-    b.r("rload", "out", "gnd", 50.0);
-    b.c.input = Some(vd);
-    b
 }
 
 fn run(b: &B, method: SteadyMethod, k: usize, steps: usize) -> (DeviceSet, PeriodicSolution) {

@@ -151,3 +151,89 @@ impl B {
         )
     }
 }
+
+/// Frequency of the class-C demo stage, Hz.
+pub const CLASS_C_F0: f64 = 13.56e6;
+
+/// Invented 25 W-class npn (values of netlists/models/tw-hf25.tank).
+pub fn tw_hf25() -> BjtParams {
+    BjtParams {
+        sat_current: 5e-12,
+        gain_fwd: 50.0,
+        gain_rev: 3.0,
+        early_fwd: 100.0,
+        early_rev: 8.0,
+        knee_fwd: 3.0,
+        knee_rev: 0.3,
+        leak_be: 20e-12,
+        leak_be_emission: 1.8,
+        leak_bc: 5e-12,
+        leak_bc_emission: 2.0,
+        r_base: 0.6,
+        r_collector: 0.08,
+        r_emitter: 0.04,
+        cj_be: 1.5e-9,
+        vj_be: 0.75,
+        grading_be: 0.35,
+        cj_bc: 220e-12,
+        vj_bc: 0.6,
+        grading_bc: 0.4,
+        transit_fwd: 0.5e-9,
+        transit_rev: 50e-9,
+        ..BjtParams::default()
+    }
+}
+
+/// Series loss of an inductor of quality `q` at the class-C stage's 13.56 MHz.
+pub fn r_of_q(l: f64, q: f64) -> f64 {
+    2.0 * std::f64::consts::PI * CLASS_C_F0 * l / q
+}
+
+/// The class-C stage of netlists/ism-13m56-classc.tank (a demo scenario of
+/// our own, with its invented transistor model) built in Rust, driven by a
+/// sine of `drive` volts from 50 Ω: self-biased base, RF choke, output pi
+/// network into 50 Ω.
+pub fn class_c(drive: f64) -> B {
+    let mut b = B::new();
+    b.vdc("vsup", "vcc", "gnd", 13.8);
+    let vd = b.vsrc(
+        "vdrv",
+        "src",
+        "gnd",
+        Waveform {
+            dc: 0.0,
+            shape: Some(sine(drive, CLASS_C_F0)),
+        },
+        50.0,
+    );
+    b.cap("cmin", "src", "gnd", 704e-12);
+    b.ind("lmin", "src", "bin", 176e-9, r_of_q(176e-9, 150.0));
+    b.cap("cin", "bin", "base", 100e-9);
+    b.r("rbias", "base", "gnd", 10.0);
+    b.c.models.push(Model {
+        name: "tw_hf25".into(),
+        params: ModelParams::Bjt(tw_hf25()),
+        origin: Origin::default(),
+    });
+    let model = b.c.models.len() - 1;
+    let (c, bb) = (b.node("coll"), b.node("base"));
+    b.c.elements.push(Element {
+        name: "q1".into(),
+        kind: ElementKind::Bjt {
+            c,
+            b: bb,
+            e: None,
+            model,
+            area: 1.0,
+        },
+        origin: Origin::default(),
+    });
+    b.ind("rfc", "vcc", "coll", 4.7e-6, 0.05);
+    b.cap("cblk", "coll", "p1", 100e-9);
+    b.cap("c1", "p1", "gnd", 7.81e-9);
+    b.ind("lpi", "p1", "out", 73.6e-9, r_of_q(73.6e-9, 200.0));
+    b.cap("c2", "out", "gnd", 2.35e-9);
+    b.r("rload", "out", "gnd", 50.0);
+    b.c.input = Some(vd);
+    b
+}
