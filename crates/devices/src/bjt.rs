@@ -52,7 +52,7 @@
 //! multiplication and breakdown, self-heating feedback (the junction
 //! temperature is an input), base push-out, excess phase, noise.
 
-use crate::contract::{val, Device, EvalCtx, EvalInfo, Idx, Stamp};
+use crate::contract::{stamp_conductance, val, Device, EvalCtx, EvalInfo, Idx, Stamp};
 use crate::error::DeviceError;
 use crate::junction::{self, Depletion};
 use tankwave_circuit::BjtParams;
@@ -583,20 +583,6 @@ impl Bjt {
             self.sign * (vb - val(x, n.ci)),
         )
     }
-}
-
-/// Stamp a resistive branch of conductance `g` between `a` and `b`.
-fn stamp_conductance(out: &mut dyn Stamp, x: &[f64], a: Idx, b: Idx, g: f64) {
-    if g == 0.0 || a == b {
-        return;
-    }
-    let i = g * (val(x, a) - val(x, b));
-    out.add_i(a, i);
-    out.add_i(b, -i);
-    out.add_g(a, a, g);
-    out.add_g(a, b, -g);
-    out.add_g(b, a, -g);
-    out.add_g(b, b, g);
 }
 
 impl Device for Bjt {

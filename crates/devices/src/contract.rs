@@ -258,3 +258,35 @@ pub enum Filter {
     /// Only the others.
     Nonlinear,
 }
+
+/// Stamp a linear resistive branch of conductance `g` from `a` to `b`: the
+/// current `g·(v_a − v_b)` leaves `a` and enters `b`, with its 2×2 block of
+/// `G` (nothing when `g` is 0 or both ends are the same unknown).
+pub(crate) fn stamp_conductance(out: &mut dyn Stamp, x: &[f64], a: Idx, b: Idx, g: f64) {
+    if g == 0.0 || a == b {
+        return;
+    }
+    let i = g * (val(x, a) - val(x, b));
+    out.add_i(a, i);
+    out.add_i(b, -i);
+    out.add_g(a, a, g);
+    out.add_g(a, b, -g);
+    out.add_g(b, a, -g);
+    out.add_g(b, b, g);
+}
+
+/// Stamp a linear capacitance `c` from `a` to `b`: charge `c·(v_a − v_b)` on
+/// `a`, its opposite on `b`, and the 2×2 block of `C` (nothing when `c` is 0
+/// or both ends are the same unknown).
+pub(crate) fn stamp_capacitance(out: &mut dyn Stamp, x: &[f64], a: Idx, b: Idx, c: f64) {
+    if c == 0.0 || a == b {
+        return;
+    }
+    let q = c * (val(x, a) - val(x, b));
+    out.add_q(a, q);
+    out.add_q(b, -q);
+    out.add_c(a, a, c);
+    out.add_c(a, b, -c);
+    out.add_c(b, a, -c);
+    out.add_c(b, b, c);
+}

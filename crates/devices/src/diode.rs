@@ -35,7 +35,7 @@
 //! Not modelled: temperature dependence of C_j0, V_j, BV and IBV; high-level
 //! injection; recombination current; noise.
 
-use crate::contract::{val, Device, EvalCtx, EvalInfo, Idx, Stamp};
+use crate::contract::{stamp_conductance, val, Device, EvalCtx, EvalInfo, Idx, Stamp};
 use crate::error::DeviceError;
 use crate::junction::{
     critical_voltage, exp_guarded, exp_m1_guarded, limit_junction, sat_current_at, thermal_voltage,
@@ -254,14 +254,7 @@ impl Device for Diode {
         let [a, k] = self.nodes;
         let ai = self.ai;
         if self.g_series > 0.0 {
-            let g = self.g_series;
-            let i = g * (val(x, a) - val(x, ai));
-            out.add_i(a, i);
-            out.add_i(ai, -i);
-            out.add_g(a, a, g);
-            out.add_g(a, ai, -g);
-            out.add_g(ai, a, -g);
-            out.add_g(ai, ai, g);
+            stamp_conductance(out, x, a, ai, self.g_series);
         }
         let v = self.vd(x);
         let mut info = EvalInfo::default();

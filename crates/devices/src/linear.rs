@@ -22,7 +22,9 @@
 //! amplitude); an isource puts `b_p = −1`, `b_n = +1` (the response to 1 A
 //! flowing from p through the source to n).
 
-use crate::contract::{val, Device, EvalCtx, EvalInfo, Idx, Stamp};
+use crate::contract::{
+    stamp_capacitance, stamp_conductance, val, Device, EvalCtx, EvalInfo, Idx, Stamp,
+};
 use crate::waveform::{breakpoints, Waveform as _};
 use tankwave_circuit::ir::Waveform;
 
@@ -57,13 +59,7 @@ impl Device for Resistor {
     }
     fn eval(&self, x: &[f64], _ctx: &EvalCtx, _s: &mut [f64], out: &mut dyn Stamp) -> EvalInfo {
         let [a, b] = self.nodes;
-        let i = self.g * (val(x, a) - val(x, b));
-        out.add_i(a, i);
-        out.add_i(b, -i);
-        out.add_g(a, a, self.g);
-        out.add_g(a, b, -self.g);
-        out.add_g(b, a, -self.g);
-        out.add_g(b, b, self.g);
+        stamp_conductance(out, x, a, b, self.g);
         EvalInfo::default()
     }
     fn op_info(&self, x: &[f64], _ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
@@ -103,13 +99,7 @@ impl Device for Capacitor {
     }
     fn eval(&self, x: &[f64], _ctx: &EvalCtx, _s: &mut [f64], out: &mut dyn Stamp) -> EvalInfo {
         let [a, b] = self.nodes;
-        let q = self.c * (val(x, a) - val(x, b));
-        out.add_q(a, q);
-        out.add_q(b, -q);
-        out.add_c(a, a, self.c);
-        out.add_c(a, b, -self.c);
-        out.add_c(b, a, -self.c);
-        out.add_c(b, b, self.c);
+        stamp_capacitance(out, x, a, b, self.c);
         EvalInfo::default()
     }
     fn op_info(&self, x: &[f64], _ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
