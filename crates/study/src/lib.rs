@@ -26,13 +26,15 @@ pub mod tune;
 pub use error::StudyError;
 pub use plan::{factor_key, Axis, AxisTarget, Plan, TolSpec, Variant};
 pub use record::{
-    merge, resume, write_csv, CsvLayout, CsvSink, DoneSet, Header, JsonlSink, MemorySink,
-    MergeInfo, Record, RecordReader, RecordSink, ResumeInfo, Shard, TeeSink, Verdict, SCHEMA,
-    SCHEMA_VERSION,
+    input_fingerprint, merge, resume, write_csv, CsvLayout, CsvSink, DoneSet, Header, JsonlSink,
+    MemorySink, MergeInfo, Record, RecordReader, RecordSink, ResumeInfo, Shard, TeeSink, Verdict,
+    SCHEMA, SCHEMA_VERSION,
 };
 pub use runner::{run_study, shard_indices, Outcome, Progress, RunInfo, StudyParams, WarmStart};
-pub use summary::{percentile_sorted, FigureStats, RequirementStats, Summary, SummaryBuilder};
+pub use summary::{
+    percentile_sorted, FigureStats, RequirementStats, Summary, SummaryBuilder, SummarySink,
+};
 pub use tune::{
-    map_around, tune, Sharpness, TuneContext, TuneCurve, TuneFigures, TuneGoal, TuneMap,
-    TuneMapParams, TuneParams, TuneResult, TuneSurface,
+    map_around, scale_drive, tune, Sharpness, TuneContext, TuneCurve, TuneFigures, TuneGoal,
+    TuneMap, TuneMapParams, TuneParams, TuneResult, TuneSurface,
 };

@@ -424,13 +424,13 @@ impl Plan {
 }
 
 /// FNV-1a, 64-bit (Fowler–Noll–Vo; offset basis 0xcbf29ce484222325, prime 0x100000001b3).
-struct Fnv(u64);
+pub(crate) struct Fnv(pub(crate) u64);
 
 impl Fnv {
-    fn new() -> Self {
+    pub(crate) fn new() -> Self {
         Fnv(0xcbf2_9ce4_8422_2325)
     }
-    fn bytes(&mut self, b: &[u8]) {
+    pub(crate) fn bytes(&mut self, b: &[u8]) {
         for &x in b {
             self.0 ^= u64::from(x);
             self.0 = self.0.wrapping_mul(0x0000_0100_0000_01b3);

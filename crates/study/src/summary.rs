@@ -16,7 +16,7 @@
 
 use std::collections::BTreeMap;
 
-use crate::record::Record;
+use crate::record::{Record, RecordSink};
 use crate::StudyError;
 
 /// Statistics of one figure.
@@ -177,6 +177,55 @@ impl SummaryBuilder {
     }
 }
 
+/// A [`RecordSink`] that adds every record to a [`SummaryBuilder`] as the
+/// records stream by and, when asked to, keeps them as well (histograms
+/// need every value). Tee it with a file sink to write and summarise in
+/// one run; `&mut SummarySink` is a sink too, so it can be teed and read
+/// afterwards.
+#[derive(Debug, Clone, Default)]
+pub struct SummarySink {
+    builder: SummaryBuilder,
+    keep: bool,
+    kept: Vec<Record>,
+}
+
+impl SummarySink {
+    /// A sink that summarises, and keeps the records if `keep`.
+    pub fn new(keep: bool) -> Self {
+        SummarySink {
+            keep,
+            ..SummarySink::default()
+        }
+    }
+
+    /// The records kept so far (empty unless made with `keep`).
+    pub fn kept(&self) -> &[Record] {
+        &self.kept
+    }
+
+    /// Finish the summary with the given percentiles (see
+    /// [`SummaryBuilder::finish`]) and hand back the kept records.
+    pub fn finish(self, percentiles: &[f64]) -> Result<(Summary, Vec<Record>), StudyError> {
+        Ok((self.builder.finish(percentiles)?, self.kept))
+    }
+}
+
+impl RecordSink for SummarySink {
+    fn record(&mut self, r: &Record) -> Result<(), StudyError> {
+        self.builder.add(r);
+        if self.keep {
+            self.kept.push(r.clone());
+        }
+        Ok(())
+    }
+}
+
+impl RecordSink for &mut SummarySink {
+    fn record(&mut self, r: &Record) -> Result<(), StudyError> {
+        (**self).record(r)
+    }
+}
+
 impl Summary {
     /// Summarise `records` with the given percentiles (e.g. `&[5.0, 95.0]`).
     pub fn from_records<'a>(
@@ -188,5 +237,54 @@ impl Summary {
             b.add(r);
         }
         b.finish(percentiles)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::record::Verdict;
+
+    fn rec(index: u64, pout: f64, pass: bool) -> Record {
+        Record {
+            index,
+            values: BTreeMap::new(),
+            metrics: [("pout_w".to_string(), pout)].into_iter().collect(),
+            verdicts: [(
+                "pout >= 1W".to_string(),
+                Verdict {
+                    pass,
+                    margin: pout - 1.0,
+                },
+            )]
+            .into_iter()
+            .collect(),
+            error: None,
+        }
+    }
+
+    /// The sink's summary equals the summary of the same records taken at
+    /// once; records are kept only when asked.
+    #[test]
+    fn sink_summarises_and_keeps_on_request() {
+        let records = [rec(0, 0.5, false), rec(1, 2.0, true), rec(2, 1.5, true)];
+        let mut keeping = SummarySink::new(true);
+        let mut plain = SummarySink::new(false);
+        for r in &records {
+            keeping.record(r).expect("memory sink");
+            // teed by reference, as a run that also writes a file uses it
+            let mut tee = crate::record::TeeSink(crate::record::MemorySink::default(), &mut plain);
+            tee.record(r).expect("memory sinks");
+        }
+        assert_eq!(keeping.kept().len(), 3);
+        assert!(plain.kept().is_empty());
+        let (s, kept) = keeping.finish(&[50.0]).expect("valid percentile");
+        assert_eq!(kept, records.to_vec());
+        assert_eq!(
+            s,
+            Summary::from_records(&records, &[50.0]).expect("same data")
+        );
+        assert_eq!(s.passed_all, 2);
+        assert!(plain.finish(&[101.0]).is_err());
     }
 }
