@@ -8,6 +8,9 @@
 //! [`network::Network`] that can be analysed by chain-matrix arithmetic and
 //! written as a stage-file fragment ready to paste.
 //!
+//! [`render`] writes each design and verification as text for people
+//! (aligned tables, the fragment, the sources); the binary prints it.
+//!
 //! It must not run the simulator except to verify a design: [`verify`]
 //! builds a circuit around a network (source with the design's source
 //! resistance, load resistor) and checks it with tankwave's own AC analysis.
@@ -22,6 +25,7 @@ pub mod loadline;
 pub mod lowpass;
 pub mod matching;
 pub mod network;
+pub mod render;
 pub mod si;
 pub mod verify;
 
@@ -34,6 +38,7 @@ pub use lowpass::{
 };
 pub use matching::{design_match, Absorption, ComplexValue, MatchDesign, MatchParams, MatchShape};
 pub use network::{ElementStress, HarmonicGain, Naming, Network, NetworkElement, Part, Placement};
+pub use render::{choke_text, loadline_text, lowpass_text, match_text, verification_text};
 pub use si::format_si;
 pub use verify::{
     circuit_for, fragment_harness, verify_fragment, verify_lowpass, verify_match, verify_network,
