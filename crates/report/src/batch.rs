@@ -1,12 +1,12 @@
-//! Text for studies: the summary of a batch (yield, statistics of every
-//! figure, the worst variant of each requirement) and the tuning result,
-//! as terminal text, and the summary as sections of the HTML report
-//! ([`study_sections`]).
+//! Text for studies: the heading of a study or tuning run, the summary of a
+//! batch (yield, statistics of every figure, the worst variant of each
+//! requirement) and the tuning result, as terminal text, and the summary as
+//! sections of the HTML report ([`study_sections`]).
 
 use crate::format::fixed;
 use crate::html::{Figure, PlainTable, StudySection};
 use crate::table::{Align, Table};
-use tankwave_study::{Summary, TuneResult};
+use tankwave_study::{RunInfo, Summary, TuneResult};
 
 fn num(v: f64) -> String {
     if !v.is_finite() {
@@ -18,6 +18,30 @@ fn num(v: f64) -> String {
     } else {
         format!("{v:.4}")
     }
+}
+
+/// The heading of a run over one stage file: its title (or
+/// "(untitled stage)"), the file name, and a blank line.
+pub fn heading(title: Option<&str>, file: &str) -> String {
+    format!("{}\n{file}\n\n", title.unwrap_or("(untitled stage)"))
+}
+
+/// The heading of a study run: the stage's title, then the file with how
+/// many variants this run recorded on how many threads (and how many an
+/// earlier run had recorded), and a blank line.
+pub fn study_heading(title: Option<&str>, file: &str, info: &RunInfo) -> String {
+    format!(
+        "{}\n{}: {} variants run on {} threads{}\n\n",
+        title.unwrap_or("(untitled stage)"),
+        file,
+        info.recorded,
+        info.threads,
+        if info.skipped > 0 {
+            format!(", {} already recorded", info.skipped)
+        } else {
+            String::new()
+        }
+    )
 }
 
 /// The summary of a study as text.
@@ -223,4 +247,29 @@ pub fn tune_text(r: &TuneResult) -> String {
         out.push_str(&t.render());
     }
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn headings() {
+        assert_eq!(heading(None, "a.tank"), "(untitled stage)\na.tank\n\n");
+        let info = RunInfo {
+            recorded: 9,
+            threads: 2,
+            skipped: 3,
+            ..RunInfo::default()
+        };
+        assert_eq!(
+            study_heading(Some("T"), "a.tank", &info),
+            "T\na.tank: 9 variants run on 2 threads, 3 already recorded\n\n"
+        );
+        let fresh = RunInfo { skipped: 0, ..info };
+        assert_eq!(
+            study_heading(Some("T"), "a.tank", &fresh),
+            "T\na.tank: 9 variants run on 2 threads\n\n"
+        );
+    }
 }

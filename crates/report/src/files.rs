@@ -17,6 +17,12 @@ pub enum ReportError {
         #[source]
         source: std::io::Error,
     },
+    /// A file was to be written where a directory is.
+    #[error("'{path}' is a directory")]
+    IsDirectory {
+        /// The path given for the file.
+        path: PathBuf,
+    },
     /// Serialising to JSON or CSV failed.
     #[error("cannot serialise {what}: {message}")]
     Serialise {
@@ -65,6 +71,22 @@ pub fn check_writable_dir(dir: &Path) -> Result<(), ReportError> {
     }
     staging_file(dir).map_err(err)?;
     Ok(())
+}
+
+/// Check, before any work is done, that a file can be written at `path`:
+/// it must not be a directory, and its directory (the current one for a
+/// bare file name) must pass [`check_writable_dir`].
+pub fn check_writable_file(path: &Path) -> Result<(), ReportError> {
+    if path.is_dir() {
+        return Err(ReportError::IsDirectory {
+            path: path.to_path_buf(),
+        });
+    }
+    let dir = match path.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d,
+        _ => Path::new("."),
+    };
+    check_writable_dir(dir)
 }
 
 /// Write several files whole, all or nothing: every file is first written to a
@@ -156,6 +178,21 @@ mod tests {
         std::fs::write(&file, b"x").unwrap();
         let e = check_writable_dir(&file).unwrap_err().to_string();
         assert!(e.contains("not a directory"), "{e}");
+    }
+
+    #[test]
+    fn writable_file_check() {
+        let dir = tempfile::tempdir().unwrap();
+        assert!(check_writable_file(&dir.path().join("report.html")).is_ok());
+        assert!(matches!(
+            check_writable_file(dir.path()),
+            Err(ReportError::IsDirectory { .. })
+        ));
+        let e = check_writable_file(&dir.path().join("missing/report.html"))
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("does not exist") && e.contains("missing"), "{e}");
+        assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0);
     }
 
     #[test]

@@ -1,13 +1,20 @@
 //! tankwave-report: everything that turns results into text or files —
-//! terminal tables ([`stage`], [`batch`]), numbers in engineering notation
+//! terminal tables ([`stage`], [`batch`], [`check`], [`overview`]), numbers in engineering notation
 //! ([`mod@format`]), CSV and JSON with a versioned schema, SVG plots drawn with
 //! plotters ([`plot`]: waveforms with the conduction interval shaded,
 //! spectrum against a mask, start-up envelope, AC sweeps, sweep curves,
 //! histograms, tuning surfaces), the self-contained HTML report ([`html`]),
 //! and whole-file writes (temporary file, then rename; [`files`]).
 //!
+//! [`assemble`] decides what a solved stage, a study or a tuning run is
+//! shown as: which plots each gets, with which units and requirement
+//! limits, the named figures a variant contributes to a study record, and
+//! the inputs of the HTML reports; [`provenance`] computes a report's file
+//! fingerprint and date from bytes and seconds.
+//!
 //! This crate never solves and never prints: it returns strings or writes the
-//! files it is asked to write; the binary decides where text goes.
+//! files it is asked to write; the binary decides where text goes, reads the
+//! files the user named and the clock.
 //!
 //! ```
 //! use tankwave_report::{si, Table, Align};
@@ -18,11 +25,15 @@
 //! ```
 #![deny(missing_docs)]
 
+pub mod assemble;
 pub mod batch;
+pub mod check;
 pub mod files;
 pub mod format;
 pub mod html;
+pub mod overview;
 pub mod plot;
+pub mod provenance;
 pub mod stage;
 pub mod table;
 

@@ -429,6 +429,17 @@ pub fn steady_json(sol: &PeriodicSolution, m: &Metrics) -> Value {
     })
 }
 
+/// CSV of the operating point: one row per unknown (`unknown,value`), the
+/// value to 13 significant digits. Names are written as they are (unknown
+/// names never hold a comma or a quote).
+pub fn op_csv(op: &OpResult) -> String {
+    let mut s = String::from("unknown,value\n");
+    for (n, v) in op.names.iter().zip(&op.x) {
+        s.push_str(&format!("{n},{v:.12e}\n"));
+    }
+    s
+}
+
 /// CSV of a transient: a time column, then every unknown.
 pub fn transient_csv(t: &TransientResult) -> String {
     let mut s = String::from("time_s");

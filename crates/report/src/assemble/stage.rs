@@ -1,0 +1,294 @@
+//! One solved stage: the results the binary collects for a stage file
+//! ([`StageResults`]), the emission masks its requirements name evaluated
+//! on the steady state, its SVG plots, the terminal text and JSON document
+//! of `run`, and its self-contained HTML report.
+
+use serde_json::{json, Value};
+use tankwave_circuit::{builtin, Analysis, Bound, Circuit, Metric, Scale};
+use tankwave_measure::{evaluate_mask, MaskEvaluation, Metrics, Verdict};
+use tankwave_solve::{AcResult, OpResult, PeriodicSolution, TransientResult};
+
+use super::Drawn;
+use crate::html::{AcView, Provenance, ReportInput};
+use crate::plot::{self, PlotParams};
+use crate::stage as text;
+
+/// The steady state of a stage and what was measured on it.
+#[derive(Debug, Clone)]
+pub struct SteadyOutcome {
+    /// The periodic solution.
+    pub solution: PeriodicSolution,
+    /// Figures measured on it.
+    pub metrics: Metrics,
+}
+
+/// Everything computed for one stage file, in the order the file declares
+/// its analyses (the binary runs the solvers and fills this in).
+#[derive(Debug, Clone, Default)]
+pub struct StageResults {
+    /// The operating point (computed first: every other analysis starts from it).
+    pub op: Option<OpResult>,
+    /// Each transient in file order.
+    pub transients: Vec<TransientResult>,
+    /// Each AC sweep in file order.
+    pub acs: Vec<AcResult>,
+    /// The first steady-state analysis, measured.
+    pub steady: Option<SteadyOutcome>,
+    /// Requirement verdicts (empty without a steady state or requirements).
+    pub verdicts: Vec<Verdict>,
+}
+
+/// Every mask a requirement on the harmonics names (a mask of the file or a
+/// built-in one), evaluated on the output harmonics at fundamental `f0`;
+/// each mask once, in the order the requirements name them. Empty without
+/// output figures; a mask that cannot be evaluated is left out.
+pub fn mask_evaluations(c: &Circuit, m: &Metrics, f0: f64) -> Vec<MaskEvaluation> {
+    let Some(out) = &m.output else {
+        return Vec::new();
+    };
+    let mut evals = Vec::new();
+    for r in &c.requirements {
+        if !matches!(r.metric, Metric::Harmonics | Metric::Harmonic(_)) {
+            continue;
+        }
+        let mask = match &r.bound {
+            Bound::Mask(i) => c.masks.get(*i).cloned(),
+            Bound::BuiltinMask(name) => builtin::builtin_mask(name),
+            Bound::Value(_) => None,
+        };
+        if let Some(mask) = mask {
+            if evals.iter().any(|e: &MaskEvaluation| e.mask == mask.name) {
+                continue;
+            }
+            if let Ok(e) = evaluate_mask(&mask, out, f0) {
+                evals.push(e);
+            }
+        }
+    }
+    evals
+}
+
+/// The SVG plots of one stage: a period plot per transistor
+/// (`period-Q.svg`), the spectrum against the first mask (`spectrum.svg`),
+/// the start-up envelope of the first transient (`startup.svg`) and the
+/// first AC sweep (`ac.svg`). `file` names the stage in the titles. A plot
+/// that cannot be drawn is noted instead.
+pub fn stage_plots(file: &str, c: &Circuit, r: &StageResults) -> Drawn {
+    let p = PlotParams::for_source(file);
+    let mut d = Drawn::default();
+    if let Some(s) = &r.steady {
+        match plot::period_plots(c, &s.solution, &p) {
+            Ok(v) => {
+                for (q, svg) in v {
+                    d.add(
+                        format!("period-{q}.svg"),
+                        format!("One steady-state period of {q}, conduction interval shaded."),
+                        Ok(svg),
+                    );
+                }
+            }
+            Err(e) => d.add("period.svg".into(), String::new(), Err(e)),
+        }
+        if let Some(o) = &s.metrics.output {
+            let masks = mask_evaluations(c, &s.metrics, s.solution.freq);
+            d.add(
+                "spectrum.svg".into(),
+                "Output harmonics in dBc against the mask.".into(),
+                plot::spectrum_plot(&o.harmonics, masks.first(), &p),
+            );
+        }
+    }
+    if let (Some(t), Some(f0)) = (r.transients.first(), steady_freq(c)) {
+        d.add(
+            "startup.svg".into(),
+            "Start-up of the output voltage with its peak envelope.".into(),
+            plot::startup_plot(c, t, f0, &p),
+        );
+    }
+    if let Some(ac) = r.acs.first() {
+        let (unknowns, scale) = ac_view(c);
+        d.add(
+            "ac.svg".into(),
+            "AC magnitude and phase.".into(),
+            plot::ac_plot(ac, &unknowns, scale, &p),
+        );
+    }
+    d
+}
+
+/// Frequency of the first steady-state analysis, if any.
+fn steady_freq(c: &Circuit) -> Option<f64> {
+    c.analyses.iter().find_map(|a| match a {
+        Analysis::Steady { freq, .. } => Some(*freq),
+        _ => None,
+    })
+}
+
+/// Which node voltage an AC plot shows (the first terminal of the output
+/// element) and on what scale (that of the first AC analysis; log without one).
+fn ac_view(c: &Circuit) -> (Vec<usize>, Scale) {
+    let scale = c
+        .analyses
+        .iter()
+        .find_map(|a| match a {
+            Analysis::Ac { scale, .. } => Some(*scale),
+            _ => None,
+        })
+        .unwrap_or(Scale::Log);
+    let mut unknowns: Vec<usize> = c
+        .output
+        .and_then(|o| c.elements.get(o))
+        .map(|e| e.kind.terminals().into_iter().flatten().collect())
+        .unwrap_or_default();
+    unknowns.truncate(1);
+    (unknowns, scale)
+}
+
+/// The self-contained HTML report of one stage: every analysis that ran,
+/// the masks its requirements name, the verdicts. `file` is the stage file
+/// as given, `file_sha256` the hex SHA-256 of its bytes (empty if unknown).
+pub fn stage_report(
+    file: &str,
+    c: &Circuit,
+    r: &StageResults,
+    file_sha256: String,
+    provenance: Provenance,
+) -> String {
+    let masks = r
+        .steady
+        .as_ref()
+        .map(|s| mask_evaluations(c, &s.metrics, s.solution.freq))
+        .unwrap_or_default();
+    let (unknowns, scale) = ac_view(c);
+    let input = ReportInput {
+        title: c.title.clone().unwrap_or_else(|| file.to_string()),
+        file: file.to_string(),
+        file_sha256,
+        circuit: Some(c),
+        solution: r.steady.as_ref().map(|s| &s.solution),
+        metrics: r.steady.as_ref().map(|s| &s.metrics),
+        verdicts: &r.verdicts,
+        masks: &masks,
+        transient: r.transients.first(),
+        ac: r.acs.first().map(|result| AcView {
+            result,
+            unknowns: &unknowns,
+            scale,
+        }),
+        studies: &[],
+        intro: Vec::new(),
+        stage_label: None,
+        omit_stage: false,
+        provenance,
+        plot: PlotParams::for_source(file),
+    };
+    crate::html::stage_report(&input)
+}
+
+/// The terminal report of one stage: title and file, the operating point,
+/// each transient and AC sweep in brief, the steady state (with solver
+/// details when `verbose`), the requirement verdicts and the safety note.
+pub fn results_text(file: &str, c: &Circuit, r: &StageResults, verbose: bool) -> String {
+    let mut s = String::new();
+    s.push_str(&format!(
+        "{}\n{}\n\n",
+        c.title.as_deref().unwrap_or("(untitled stage)"),
+        file
+    ));
+    if let Some(op) = &r.op {
+        s.push_str(&text::op_text(c, op));
+        s.push('\n');
+    }
+    for t in &r.transients {
+        s.push_str(&text::transient_text(t));
+    }
+    for ac in &r.acs {
+        s.push_str(&text::ac_text(ac));
+    }
+    if !r.transients.is_empty() || !r.acs.is_empty() {
+        s.push_str("(waveforms and sweeps: use --out DIR or --format csv)\n\n");
+    }
+    if let Some(st) = &r.steady {
+        s.push_str(&text::steady_text(c, &st.solution, &st.metrics, verbose));
+        s.push('\n');
+    }
+    if !r.verdicts.is_empty() {
+        s.push_str("Requirements\n");
+        s.push_str(&text::verdict_text(&r.verdicts));
+        let failed = r.verdicts.iter().filter(|v| !v.pass).count();
+        s.push_str(&format!(
+            "{} of {} requirements pass\n",
+            r.verdicts.len() - failed,
+            r.verdicts.len()
+        ));
+    }
+    if r.steady.is_some() {
+        s.push_str(&format!("\n{}\n", text::SAFETY_NOTE));
+    }
+    s
+}
+
+/// The JSON document of one stage (schema [`crate::SCHEMA_VERSION`], fields
+/// in docs/output.md). `tool` names the program and its version.
+pub fn results_json(tool: &str, file: &str, c: &Circuit, r: &StageResults) -> Value {
+    json!({
+        "schema": crate::SCHEMA_VERSION,
+        "tool": tool,
+        "file": file,
+        "title": c.title,
+        "op": r.op.as_ref().map(text::op_json),
+        "transients": r.transients.iter().map(text::transient_json).collect::<Vec<_>>(),
+        "ac": r.acs.iter().map(text::ac_json).collect::<Vec<_>>(),
+        "steady": r.steady.as_ref().map(|s| text::steady_json(&s.solution, &s.metrics)),
+        "requirements": serde_json::to_value(&r.verdicts).unwrap_or(Value::Null),
+        "caution": text::SAFETY_NOTE,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use tankwave_circuit::Overrides;
+
+    fn circuit(text: &str) -> Circuit {
+        match tankwave_circuit::load_str("t.tank", text, &Overrides::default()) {
+            Ok(e) => e.circuit,
+            Err(e) => panic!("test stage must elaborate: {:?}", e.diagnostics),
+        }
+    }
+
+    const DIVIDER: &str =
+        "title \"divider\"\nvsource vdrv src gnd wave=sine(amp=10V, freq=1MHz) rs=50Ohm\n\
+        resistor rload src gnd 50Ohm\noutput rload\ninput vdrv\n";
+
+    /// The AC plot shows the output element's first terminal on the scale of
+    /// the first AC analysis, log when the file has none.
+    #[test]
+    fn ac_view_follows_output_and_analysis() {
+        let c = circuit(DIVIDER);
+        let (u, s) = ac_view(&c);
+        assert_eq!(u.len(), 1);
+        assert_eq!(c.nodes.get(u[0]).map(|n| n.as_str()), Some("src"));
+        assert_eq!(s, Scale::Log);
+        assert_eq!(steady_freq(&c), None);
+        let c = circuit(&format!(
+            "{DIVIDER}analyze ac from=1kHz to=10MHz points=11 scale=linear\nanalyze steady freq=2MHz harmonics=4\n"
+        ));
+        assert_eq!(ac_view(&c).1, Scale::Linear);
+        assert_eq!(steady_freq(&c), Some(2e6));
+    }
+
+    /// Results without any analysis give only the title block.
+    #[test]
+    fn text_and_json_of_empty_results() {
+        let c = circuit(DIVIDER);
+        let r = StageResults::default();
+        assert_eq!(results_text("t.tank", &c, &r, false), "divider\nt.tank\n\n");
+        let j = results_json("tankwave 0", "t.tank", &c, &r);
+        assert_eq!(j["schema"], crate::SCHEMA_VERSION);
+        assert_eq!(j["tool"], "tankwave 0");
+        assert_eq!(j["title"], "divider");
+        assert!(j["steady"].is_null());
+        assert!(stage_plots("t.tank", &c, &r).figures.is_empty());
+    }
+}
