@@ -1,18 +1,17 @@
 //! Wiring of the library crates for one stage file: load (parse + elaborate),
 //! instantiate devices, run every analysis the file declares, measure the
-//! steady state and evaluate the requirements. Nothing here prints.
+//! steady state and evaluate the requirements, into the
+//! [`StageResults`] that tankwave-report shows. Nothing here prints.
 
 use std::path::Path;
 use std::sync::Arc;
 
 use tankwave_circuit::{Analysis, Circuit, Overrides};
 use tankwave_devices::DeviceSet;
-use tankwave_measure::{MeasureParams, Metrics, PeriodData, Verdict};
+use tankwave_measure::{MeasureParams, Metrics, PeriodData};
 use tankwave_netlist::{Diagnostic, SourceMap};
-use tankwave_solve::{
-    AcParams, AcResult, OpParams, OpResult, PeriodicSolution, SteadyParams, TransientParams,
-    TransientResult,
-};
+use tankwave_report::assemble::{StageResults, SteadyOutcome};
+use tankwave_solve::{AcParams, OpParams, PeriodicSolution, SteadyParams, TransientParams};
 
 /// A stage file that parsed and elaborated.
 pub struct Loaded {
@@ -65,28 +64,6 @@ pub fn empty_file(parsed: &tankwave_netlist::Parsed) -> Option<String> {
         .then(|| "the file holds no statements (it is empty or only comments)".to_string())
 }
 
-/// The steady state of a stage and what was measured on it.
-pub struct SteadyOutcome {
-    /// The periodic solution.
-    pub solution: PeriodicSolution,
-    /// Figures measured on it.
-    pub metrics: Metrics,
-}
-
-/// Everything computed for one file.
-pub struct Results {
-    /// The operating point (always computed first: every other analysis starts from it).
-    pub op: Option<OpResult>,
-    /// Each transient in file order.
-    pub transients: Vec<TransientResult>,
-    /// Each AC sweep in file order.
-    pub acs: Vec<AcResult>,
-    /// The first steady-state analysis, measured.
-    pub steady: Option<SteadyOutcome>,
-    /// Requirement verdicts (empty without a steady state or requirements).
-    pub verdicts: Vec<Verdict>,
-}
-
 /// Which analyses to run.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Scope {
@@ -97,7 +74,7 @@ pub enum Scope {
 }
 
 /// Run the analyses of `circuit` (with `scope`), measure and evaluate.
-pub fn solve(circuit: &Circuit, scope: Scope) -> Result<Results, Failure> {
+pub fn solve(circuit: &Circuit, scope: Scope) -> Result<StageResults, Failure> {
     solve_warm(circuit, scope, None)
 }
 
@@ -107,16 +84,10 @@ pub fn solve_warm(
     circuit: &Circuit,
     scope: Scope,
     warm: Option<&[f64]>,
-) -> Result<Results, Failure> {
+) -> Result<StageResults, Failure> {
     let devices: DeviceSet = tankwave_devices::instantiate(circuit)
         .map_err(|e| Failure::Solve(format!("cannot build the devices: {e}")))?;
-    let mut res = Results {
-        op: None,
-        transients: Vec::new(),
-        acs: Vec::new(),
-        steady: None,
-        verdicts: Vec::new(),
-    };
+    let mut res = StageResults::default();
     let solve_err = |e: tankwave_solve::SolveError| Failure::Solve(e.to_string());
     for a in &circuit.analyses {
         match a {

@@ -2,11 +2,11 @@
 //! print a verdict table; JUnit XML and JSON for CI.
 
 use super::common::{self, BAD_INPUT, FAILED, OK, SOLVER};
+use super::visual;
 use crate::pipeline::{self, Failure, Scope};
 use clap::{Args, ValueEnum};
-use serde_json::json;
 use std::path::PathBuf;
-use tankwave_measure::Verdict;
+use tankwave_report::check::{FileCheck, FileOutcome};
 
 /// Output format of `check`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
@@ -38,11 +38,6 @@ pub struct CheckArgs {
     pub sets: Vec<String>,
 }
 
-enum Outcome {
-    Verdicts(Vec<Verdict>),
-    Error { code: i32, message: String },
-}
-
 /// Run the command; returns the exit code (the worst over all files:
 /// 2 bad input, then 3 solver failure, then 1 a requirement failed, else 0).
 pub fn run(a: &CheckArgs) -> i32 {
@@ -69,7 +64,7 @@ pub fn run(a: &CheckArgs) -> i32 {
         let outcome = match pipeline::load(f, &overrides) {
             Err(fail) => {
                 let code = common::report_failure(&name, &fail);
-                Outcome::Error {
+                FileOutcome::Error {
                     code,
                     message: "bad input".into(),
                 }
@@ -82,11 +77,8 @@ pub fn run(a: &CheckArgs) -> i32 {
                             .map(|s| s.to_string_lossy().to_string())
                             .unwrap_or_else(|| "stage".into());
                         let sub = dir.join(stem);
-                        let (files, notes) =
-                            super::visual::stage_plots(&sub, &name, &l.circuit, &r);
-                        for n in notes {
-                            eprintln!("note: {n}");
-                        }
+                        let drawn = tankwave_report::assemble::stage_plots(&name, &l.circuit, &r);
+                        let files = visual::drawn_files(Some(&sub), &drawn);
                         if !files.is_empty() {
                             if let Err(e) = std::fs::create_dir_all(&sub) {
                                 eprintln!("error: cannot create '{}': {e}", sub.display());
@@ -94,7 +86,7 @@ pub fn run(a: &CheckArgs) -> i32 {
                         }
                         plot_files.extend(files);
                     }
-                    Outcome::Verdicts(r.verdicts)
+                    FileOutcome::Verdicts(r.verdicts)
                 }
                 Err(fail) => {
                     let code = common::report_failure(&name, &fail);
@@ -102,52 +94,19 @@ pub fn run(a: &CheckArgs) -> i32 {
                         Failure::Solve(m) | Failure::Setup(m) => m,
                         Failure::Input { .. } => "bad input".into(),
                     };
-                    Outcome::Error { code, message }
+                    FileOutcome::Error { code, message }
                 }
             },
         };
-        outcomes.push((name, outcome));
+        outcomes.push(FileCheck {
+            file: name,
+            outcome,
+        });
     }
     match a.format {
-        Format::Table => {
-            for (name, o) in &outcomes {
-                match o {
-                    Outcome::Verdicts(v) => {
-                        println!("{name}");
-                        print!("{}", tankwave_report::stage::verdict_text(v));
-                        let failed = v.iter().filter(|x| !x.pass).count();
-                        println!(
-                            "{}: {} of {} requirements pass\n",
-                            if failed == 0 { "PASS" } else { "FAIL" },
-                            v.len() - failed,
-                            v.len()
-                        );
-                    }
-                    Outcome::Error { code, message } => {
-                        println!("{name}\nERROR (exit {code}): {message}\n");
-                    }
-                }
-            }
-        }
+        Format::Table => print!("{}", tankwave_report::check::check_text(&outcomes)),
         Format::Json => {
-            let files: Vec<_> = outcomes
-                .iter()
-                .map(|(name, o)| match o {
-                    Outcome::Verdicts(v) => json!({
-                        "file": name,
-                        "pass": v.iter().all(|x| x.pass),
-                        "verdicts": serde_json::to_value(v).unwrap_or(serde_json::Value::Null),
-                    }),
-                    Outcome::Error { code, message } => json!({
-                        "file": name, "pass": false, "error": message, "exit_code": code,
-                    }),
-                })
-                .collect();
-            let doc = json!({
-                "schema": tankwave_report::SCHEMA_VERSION,
-                "tool": format!("tankwave {}", env!("CARGO_PKG_VERSION")),
-                "files": files,
-            });
+            let doc = tankwave_report::check::check_json(&visual::tool(), &outcomes);
             println!(
                 "{}",
                 serde_json::to_string_pretty(&doc).unwrap_or_else(|_| "{}".into())
@@ -161,24 +120,25 @@ pub fn run(a: &CheckArgs) -> i32 {
         }
     }
     if let Some(path) = &a.junit {
-        let xml = junit(&outcomes);
+        let xml = tankwave_report::check::junit_xml(&outcomes);
         if let Err(e) = tankwave_report::write_atomic(path, xml.as_bytes()) {
             eprintln!("error: {e}");
             return BAD_INPUT;
         }
     }
     let mut code = OK;
-    for (_, o) in &outcomes {
-        let c = match o {
-            Outcome::Verdicts(v) if v.iter().any(|x| !x.pass) => FAILED,
-            Outcome::Verdicts(_) => OK,
-            Outcome::Error { code, .. } => *code,
+    for f in &outcomes {
+        let c = match &f.outcome {
+            FileOutcome::Verdicts(v) if v.iter().any(|x| !x.pass) => FAILED,
+            FileOutcome::Verdicts(_) => OK,
+            FileOutcome::Error { code, .. } => *code,
         };
         code = worst(code, c);
     }
     code
 }
 
+/// The worse of two exit codes: bad input, then solver failure, then a failed requirement.
 fn worst(a: i32, b: i32) -> i32 {
     let rank = |c: i32| match c {
         BAD_INPUT => 3,
@@ -191,86 +151,4 @@ fn worst(a: i32, b: i32) -> i32 {
     } else {
         a
     }
-}
-
-fn esc(s: &str) -> String {
-    s.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-        .replace('"', "&quot;")
-        .replace('\'', "&apos;")
-}
-
-fn junit(outcomes: &[(String, Outcome)]) -> String {
-    let mut s = String::from("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
-    let total: usize = outcomes
-        .iter()
-        .map(|(_, o)| match o {
-            Outcome::Verdicts(v) => v.len(),
-            Outcome::Error { .. } => 1,
-        })
-        .sum();
-    let failures: usize = outcomes
-        .iter()
-        .map(|(_, o)| match o {
-            Outcome::Verdicts(v) => v.iter().filter(|x| !x.pass).count(),
-            Outcome::Error { .. } => 0,
-        })
-        .sum();
-    let errors = outcomes
-        .iter()
-        .filter(|(_, o)| matches!(o, Outcome::Error { .. }))
-        .count();
-    s.push_str(&format!(
-        "<testsuites name=\"tankwave check\" tests=\"{total}\" failures=\"{failures}\" errors=\"{errors}\">\n"
-    ));
-    for (name, o) in outcomes {
-        match o {
-            Outcome::Verdicts(v) => {
-                let f = v.iter().filter(|x| !x.pass).count();
-                s.push_str(&format!(
-                    "  <testsuite name=\"{}\" tests=\"{}\" failures=\"{f}\" errors=\"0\">\n",
-                    esc(name),
-                    v.len()
-                ));
-                for x in v {
-                    s.push_str(&format!(
-                        "    <testcase classname=\"{}\" name=\"{}\">\n",
-                        esc(name),
-                        esc(&x.requirement)
-                    ));
-                    let detail = format!(
-                        "limit {}, value {}, margin {}",
-                        x.limit_text, x.value_text, x.margin_text
-                    );
-                    if x.pass {
-                        s.push_str(&format!(
-                            "      <system-out>{}</system-out>\n",
-                            esc(&detail)
-                        ));
-                    } else {
-                        let msg = match &x.not_measured {
-                            Some(r) => format!("not measured: {r}"),
-                            None => detail.clone(),
-                        };
-                        s.push_str(&format!(
-                            "      <failure message=\"{}\">{}</failure>\n",
-                            esc(&msg),
-                            esc(&detail)
-                        ));
-                    }
-                    s.push_str("    </testcase>\n");
-                }
-                s.push_str("  </testsuite>\n");
-            }
-            Outcome::Error { code, message } => {
-                s.push_str(&format!(
-                    "  <testsuite name=\"{}\" tests=\"1\" failures=\"0\" errors=\"1\">\n    <testcase classname=\"{}\" name=\"solve\">\n      <error message=\"{}\">exit code {code}</error>\n    </testcase>\n  </testsuite>\n",
-                    esc(name), esc(name), esc(message)
-                ));
-            }
-        }
-    }
-    s.push_str("</testsuites>\n");
-    s
 }

@@ -82,8 +82,9 @@ pub fn value_unit(s: &str) -> Option<tankwave_netlist::units::Unit> {
         .and_then(|(_, u)| u)
 }
 
-/// Length of the longest prefix of `s` that reads as a decimal number.
-fn number_prefix_len(s: &str) -> usize {
+/// Length of the longest prefix of `s` that reads as a decimal number
+/// (optional sign, digits and points, optional exponent); 0 if none.
+pub fn number_prefix_len(s: &str) -> usize {
     let b = s.as_bytes();
     let mut i = 0;
     if i < b.len() && (b[i] == b'+' || b[i] == b'-') {

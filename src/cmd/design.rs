@@ -3,9 +3,9 @@
 //! Four subcommands over the tankwave-design crate: `loadline`, `match`,
 //! `lowpass` and `choke`. Values take SI prefixes and units as in stage files
 //! (`12.5V`, `7.1MHz`, `200pF`, `0.1dB`); a unit that does not fit the option
-//! is refused. Output is a readable table on stdout, or JSON with
-//! `--format json`. Networks are checked by tankwave's own AC analysis
-//! unless `--no-verify` is given.
+//! is refused. Output is a readable table on stdout (written by
+//! `tankwave_design::render`), or JSON with `--format json`. Networks are
+//! checked by tankwave's own AC analysis unless `--no-verify` is given.
 //!
 //! Exit codes: 0 done; 2 bad input (message on stderr); 3 the verification by
 //! AC analysis failed to run or disagreed with the design.
@@ -211,29 +211,9 @@ pub struct ChokeArgs {
 /// unit that must fit the slot (stage-file rules).
 pub fn quantity(option: &str, text: &str, slot: Slot) -> Result<f64, String> {
     let s = text.trim();
-    let b = s.as_bytes();
-    let mut end = 0;
-    if end < b.len() && (b[end] == b'+' || b[end] == b'-') {
-        end += 1;
-    }
-    let start = end;
-    while end < b.len() && (b[end].is_ascii_digit() || b[end] == b'.') {
-        end += 1;
-    }
-    if end == start {
+    let end = super::common::number_prefix_len(s);
+    if end == 0 {
         return Err(format!("{option}: '{s}' does not start with a number"));
-    }
-    if end < b.len() && (b[end] == b'e' || b[end] == b'E') {
-        let mut j = end + 1;
-        if j < b.len() && (b[j] == b'+' || b[j] == b'-') {
-            j += 1;
-        }
-        if j < b.len() && b[j].is_ascii_digit() {
-            while j < b.len() && b[j].is_ascii_digit() {
-                j += 1;
-            }
-            end = j;
-        }
     }
     let num: f64 = s[..end]
         .parse()
@@ -256,6 +236,7 @@ pub fn quantity(option: &str, text: &str, slot: Slot) -> Result<f64, String> {
     }
 }
 
+/// The fragment names from the options, with `default_prefix` for elements.
 fn naming(n: &NamingArgs, default_prefix: &str) -> design::Naming {
     design::Naming {
         prefix: n
@@ -292,7 +273,10 @@ pub fn run(args: DesignArgs) -> i32 {
     }
 }
 
+/// Why a design command gave no (or no clean) result: bad input (exit 2),
+/// or a verification that failed or disagreed (exit 3).
 enum Fail {
+    /// Bad input: the message.
     Input(String),
     /// Message, and the output to print anyway.
     Verify(String, String),
@@ -313,26 +297,14 @@ impl From<design::DesignError> for Fail {
     }
 }
 
+/// A JSON document as pretty text with a final newline.
 fn json(v: serde_json::Value) -> Result<String, Fail> {
     serde_json::to_string_pretty(&v)
         .map(|s| s + "\n")
         .map_err(|e| Fail::Input(format!("cannot write JSON: {e}")))
 }
 
-/// Two-column table of (label, value) rows.
-fn kv(rows: &[(&str, String)]) -> String {
-    let w = rows.iter().map(|r| r.0.chars().count()).max().unwrap_or(0);
-    let mut s = String::new();
-    for (k, v) in rows {
-        s.push_str(&format!("  {k:<w$}  {v}\n"));
-    }
-    s
-}
-
-fn si(v: f64, unit: &str) -> String {
-    design::format_si(v, unit, 5)
-}
-
+/// `design loadline`: the load line as a table or JSON.
 fn loadline(a: &LoadlineArgs, format: Format) -> Result<String, Fail> {
     let supply = quantity("--supply", &a.supply, Slot::Voltage)?;
     let power = quantity("--power", &a.power, Slot::Power)?;
@@ -349,123 +321,12 @@ fn loadline(a: &LoadlineArgs, format: Format) -> Result<String, Fail> {
     if format == Format::Json {
         return json(to_json!(&ll)?);
     }
-    let mut s = String::from("Load line\n");
-    s.push_str(&kv(&[
-        ("supply Vcc", si(ll.supply_v, "V")),
-        ("output power Po", si(ll.power_w, "W")),
-        ("saturation Vsat", si(ll.vsat_v, "V")),
-        ("swing Vm = Vcc - Vsat", si(ll.swing_v, "V")),
-        ("load-line resistance R", si(ll.resistance_ohm, "Ohm")),
-        ("peak collector voltage", si(ll.vce_peak_v, "V")),
-        ("conduction angle", format!("{} deg", ll.conduction_deg)),
-        (
-            "pulse coefficients a0, a1",
-            format!("{:.6}, {:.6}", ll.alpha0, ll.alpha1),
-        ),
-        ("fundamental current (peak)", si(ll.ic_fundamental_a, "A")),
-        ("peak collector current", si(ll.ic_peak_a, "A")),
-        ("DC collector current", si(ll.ic_dc_a, "A")),
-        ("DC input power", si(ll.dc_power_w, "W")),
-        (
-            "ideal collector efficiency",
-            format!("{:.1} %", 100.0 * ll.efficiency),
-        ),
-    ]));
-    s.push_str("Sources\n");
-    for src in &ll.sources {
-        s.push_str(&format!("  - {src}\n"));
-    }
-    Ok(s)
+    Ok(design::loadline_text(&ll))
 }
 
-fn network_table(net: &design::Network, reactances: Option<&[f64]>) -> String {
-    let mut s = String::new();
-    s.push_str(&format!(
-        "  {:<10} {:<9} {:<7} {:<10} {:<10} {:>12}\n",
-        "element", "part", "place", "from", "to", "value"
-    ));
-    for (i, e) in net.elements.iter().enumerate() {
-        let (part, unit) = match e.part {
-            design::Part::Inductor => ("inductor", "H"),
-            design::Part::Capacitor => ("capacitor", "F"),
-        };
-        let place = match e.placement {
-            design::Placement::Series => "series",
-            design::Placement::Shunt => "shunt",
-        };
-        let x = reactances
-            .and_then(|r| r.get(i))
-            .map(|x| format!("   X = {x:+.4} ohm"))
-            .unwrap_or_default();
-        s.push_str(&format!(
-            "  {:<10} {:<9} {:<7} {:<10} {:<10} {:>12}{x}\n",
-            e.name,
-            part,
-            place,
-            e.node_a,
-            e.node_b,
-            si(e.value, unit)
-        ));
-    }
-    s
-}
-
-fn stress_table(stress: &[design::ElementStress], power: Option<f64>, freq: f64) -> String {
-    let Some(p) = power else {
-        return String::new();
-    };
-    let mut s = format!(
-        "Element stress at {} into the load, {} (fundamental only; rate parts with margin)\n  {:<10} {:>12} {:>12} {:>12}\n",
-        si(p, "W"),
-        si(freq, "Hz"),
-        "element",
-        "V peak",
-        "I rms",
-        "reactive"
-    );
-    for e in stress {
-        s.push_str(&format!(
-            "  {:<10} {:>12} {:>12} {:>12}\n",
-            e.name,
-            si(e.v_peak, "V"),
-            si(e.i_rms, "A"),
-            format!("{:.1} var", e.reactive_power_var)
-        ));
-    }
-    s
-}
-
-fn verification_table(v: &design::Verification) -> String {
-    let mut s = format!(
-        "Verification by tankwave AC analysis: {}\n",
-        if v.passed { "PASS" } else { "FAIL" }
-    );
-    s.push_str(&format!(
-        "  Zin at f0: {:.6} {:+.6}j ohm (expected {:.6} {:+.6}j; error {:.2e}, limit {:.1e})\n",
-        v.zin_measured.re,
-        v.zin_measured.im,
-        v.zin_expected.re,
-        v.zin_expected.im,
-        v.zin_error,
-        v.params.zin_tolerance
-    ));
-    s.push_str(&format!(
-        "  {:>8} {:>12} {:>14} {:>14} {:>10}\n",
-        "harmonic", "freq", "predicted dB", "measured dB", "diff dB"
-    ));
-    for p in &v.points {
-        s.push_str(&format!(
-            "  {:>8} {:>12} {:>14.4} {:>14.4} {:>10.2e}\n",
-            p.harmonic,
-            si(p.freq, "Hz"),
-            p.predicted_db,
-            p.measured_db,
-            p.diff_db
-        ));
-    }
-    s
-}
-
+/// The output of a network design with its verification (if run): JSON
+/// with both, or the design's table followed by the verification table; a
+/// verification that disagrees is an error that still carries the output.
 fn finish(
     d: serde_json::Value,
     v: Option<design::Verification>,
@@ -481,7 +342,7 @@ fn finish(
     } else {
         let mut t = table;
         if let Some(v) = &v {
-            t.push_str(&verification_table(v));
+            t.push_str(&design::verification_text(v));
         }
         t
     };
@@ -494,6 +355,7 @@ fn finish(
     }
 }
 
+/// `design match`: a matching network, verified unless `--no-verify`.
 fn matching(a: &MatchArgs, format: Format) -> Result<String, Fail> {
     let r1 = quantity("--from", &a.from, Slot::Resistance)?;
     let r2 = quantity("--to", &a.to, Slot::Resistance)?;
@@ -543,62 +405,11 @@ fn matching(a: &MatchArgs, format: Format) -> Result<String, Fail> {
             },
         )?)
     };
-    let mut s = format!(
-        "{} match: {} -> {} at {}\n",
-        d.shape,
-        si(d.r_from, "Ohm"),
-        si(d.r_to, "Ohm"),
-        si(d.freq, "Hz")
-    );
-    let qs: Vec<String> = d.section_q.iter().map(|q| format!("{q:.4}")).collect();
-    let mut rows = vec![
-        ("loaded Q", format!("{:.4}", d.q)),
-        ("Q convention", d.q_convention.clone()),
-        ("section Qs (source side first)", qs.join(", ")),
-    ];
-    if let Some(rv) = d.r_virtual {
-        rows.push(("virtual resistance Rv", si(rv, "Ohm")));
-    }
-    if let Some(ab) = d.absorbed {
-        rows.push((
-            "absorbed output capacitance",
-            format!(
-                "{} of {} (fit {} externally)",
-                si(ab.cout_f, "F"),
-                si(ab.required_f, "F"),
-                si(ab.external_f, "F")
-            ),
-        ));
-    }
-    rows.push((
-        "Zin at f0 (chain matrix)",
-        format!(
-            "{:.6} {:+.6}j ohm",
-            d.input_impedance.re, d.input_impedance.im
-        ),
-    ));
-    s.push_str(&kv(&rows));
-    s.push_str("Elements (source side first)\n");
-    s.push_str(&network_table(&d.network, Some(&d.reactances_ohm)));
-    s.push_str(&stress_table(&d.stress, power, d.freq));
-    s.push_str("Transducer gain R1 -> R2 (chain matrix)\n");
-    for h in &d.harmonics {
-        s.push_str(&format!(
-            "  harmonic {:>2}  {:>12}  {:>10.3} dB\n",
-            h.harmonic,
-            si(h.freq, "Hz"),
-            h.gain_db
-        ));
-    }
-    s.push_str("Stage-file fragment\n");
-    s.push_str(&d.fragment);
-    s.push_str("Sources\n");
-    for src in &d.sources {
-        s.push_str(&format!("  - {src}\n"));
-    }
+    let s = design::match_text(&d, power);
     finish(to_json!(&d)?, v, format, s)
 }
 
+/// `design lowpass`: a low-pass ladder, verified unless `--no-verify`.
 fn lowpass(a: &LowpassArgs, format: Format) -> Result<String, Fail> {
     let kind = match (a.kind, &a.ripple) {
         (KindArg::Butterworth, None) => design::FilterKind::Butterworth,
@@ -647,58 +458,11 @@ fn lowpass(a: &LowpassArgs, format: Format) -> Result<String, Fail> {
             },
         )?)
     };
-    let kind_text = match d.kind {
-        design::FilterKind::Butterworth => "Butterworth".to_string(),
-        design::FilterKind::Chebyshev { ripple_db } => {
-            format!("Chebyshev, {ripple_db} dB ripple")
-        }
-    };
-    let mut s = format!(
-        "{kind_text} low-pass, order {}, cutoff {}\n",
-        d.order,
-        si(d.cutoff, "Hz")
-    );
-    let g: Vec<String> = d.prototype.g.iter().map(|g| format!("{g:.6}")).collect();
-    s.push_str(&kv(&[
-        ("prototype g1..gn", g.join(" ")),
-        ("g(n+1)", format!("{:.6}", d.prototype.g_load)),
-        ("source resistance", si(d.impedance, "Ohm")),
-        ("load resistance", si(d.load_resistance, "Ohm")),
-    ]));
-    if (d.load_resistance - d.impedance).abs() > 1e-9 * d.impedance {
-        s.push_str("  note: an even-order Chebyshev ladder needs the unequal load above\n");
-    }
-    s.push_str("Elements (source side first)\n");
-    s.push_str(&network_table(&d.network, None));
-    s.push_str(&stress_table(&d.stress, params.power, d.fundamental));
-    s.push_str(&format!(
-        "Attenuation at harmonics of {}\n  {:>8} {:>12} {:>8} {:>12} {:>12}\n",
-        si(d.fundamental, "Hz"),
-        "harmonic",
-        "freq",
-        "f/fc",
-        "formula dB",
-        "ladder dB"
-    ));
-    for h in &d.attenuation {
-        s.push_str(&format!(
-            "  {:>8} {:>12} {:>8.4} {:>12.4} {:>12.4}\n",
-            h.harmonic,
-            si(h.freq, "Hz"),
-            h.omega,
-            h.formula_db,
-            h.network_db
-        ));
-    }
-    s.push_str("Stage-file fragment\n");
-    s.push_str(&d.fragment);
-    s.push_str("Sources\n");
-    for src in &d.sources {
-        s.push_str(&format!("  - {src}\n"));
-    }
+    let s = design::lowpass_text(&d, params.power);
     finish(to_json!(&d)?, v, format, s)
 }
 
+/// `design choke`: feed choke and blocking capacitor as a table or JSON.
 fn choke(a: &ChokeArgs, format: Format) -> Result<String, Fail> {
     let f = quantity("--freq", &a.freq, Slot::Frequency)?;
     let r = quantity("--load", &a.load, Slot::Resistance)?;
@@ -716,49 +480,7 @@ fn choke(a: &ChokeArgs, format: Format) -> Result<String, Fail> {
     if format == Format::Json {
         return json(to_json!(&d)?);
     }
-    let mut s = format!(
-        "Feed choke and blocking capacitor at {} for {}\n",
-        si(d.freq, "Hz"),
-        si(d.load_ohm, "Ohm")
-    );
-    s.push_str(&kv(&[
-        (
-            "choke inductance (min)",
-            format!(
-                "{}  (X_L = {:.1} ohm)",
-                si(d.inductance_min_h, "H"),
-                d.choke_reactance_ohm
-            ),
-        ),
-        (
-            "blocking capacitance (min)",
-            format!(
-                "{}  (X_C = {:.3} ohm)",
-                si(d.capacitance_min_f, "F"),
-                d.blocking_reactance_ohm
-            ),
-        ),
-        ("assumed self-capacitance", si(d.self_capacitance_f, "F")),
-        (
-            "SRF estimate",
-            d.srf_estimate_hz
-                .map(|f| si(f, "Hz"))
-                .unwrap_or_else(|| "none (no self-capacitance assumed)".into()),
-        ),
-        (
-            "X_L at f with self-C (estimate)",
-            format!("{:.1} ohm", d.choke_reactance_with_self_c_ohm),
-        ),
-    ]));
-    s.push_str("Warnings\n");
-    for w in &d.warnings {
-        s.push_str(&format!("  - {w}\n"));
-    }
-    s.push_str("Sources\n");
-    for src in &d.sources {
-        s.push_str(&format!("  - {src}\n"));
-    }
-    Ok(s)
+    Ok(design::choke_text(&d))
 }
 
 #[cfg(test)]

@@ -7,10 +7,9 @@
 
 use super::common::{self, BAD_INPUT, OK};
 use clap::Args;
-use std::collections::BTreeMap;
-use std::fmt::Write as _;
-use std::path::{Path, PathBuf};
-use tankwave_circuit::{Analysis, Circuit, ModelKind, Overrides};
+use std::path::PathBuf;
+use tankwave_circuit::Overrides;
+use tankwave_report::overview::stage_overview;
 
 /// Arguments of `lint`.
 #[derive(Args, Debug)]
@@ -47,7 +46,8 @@ pub fn lint_files(files: &[PathBuf], overrides: &Overrides) -> i32 {
         }
         match tankwave_circuit::elaborate(&parsed, overrides) {
             Ok(e) => {
-                print!("{}", summary(f, &e.circuit, e.warnings.len()));
+                let file = f.display().to_string();
+                print!("{}", stage_overview(&file, &e.circuit, e.warnings.len()));
                 if !e.warnings.is_empty() {
                     eprint!("{}", crate::diag::render(&e.warnings, &parsed.sources));
                 }
@@ -64,110 +64,4 @@ pub fn lint_files(files: &[PathBuf], overrides: &Overrides) -> i32 {
         }
     }
     code
-}
-
-/// The short summary of one good file.
-pub fn summary(path: &Path, c: &Circuit, warnings: usize) -> String {
-    let mut s = String::new();
-    let _ = writeln!(s, "{}: ok", path.display());
-    if let Some(t) = &c.title {
-        let _ = writeln!(s, "  title:        {t}");
-    }
-    let _ = writeln!(s, "  temperature:  {:.2} degC", c.temperature_k - 273.15);
-    let _ = writeln!(s, "  nodes:        {} (plus gnd)", c.nodes.len());
-    let mut kinds: BTreeMap<&str, usize> = BTreeMap::new();
-    for e in &c.elements {
-        *kinds.entry(e.kind.keyword()).or_default() += 1;
-    }
-    let by_kind: Vec<String> = kinds.iter().map(|(k, n)| format!("{n} {k}")).collect();
-    let _ = writeln!(
-        s,
-        "  elements:     {} ({})",
-        c.elements.len(),
-        by_kind.join(", ")
-    );
-    if !c.models.is_empty() {
-        let models: Vec<String> = c
-            .models
-            .iter()
-            .map(|m| {
-                let k = match m.kind() {
-                    ModelKind::Npn => "npn",
-                    ModelKind::Pnp => "pnp",
-                    ModelKind::Diode => "diode",
-                };
-                format!("{} ({k})", m.name)
-            })
-            .collect();
-        let _ = writeln!(s, "  models:       {}", models.join(", "));
-    }
-    let name = |id: Option<usize>| {
-        id.and_then(|i| c.elements.get(i))
-            .map(|e| e.name.as_str())
-            .unwrap_or("-")
-    };
-    let _ = writeln!(s, "  input/output: {} / {}", name(c.input), name(c.output));
-    let analyses: Vec<String> = c
-        .analyses
-        .iter()
-        .map(|a| match a {
-            Analysis::Op => "op".to_string(),
-            Analysis::Transient { stop, .. } => format!("transient to {stop:e} s"),
-            Analysis::Ac {
-                from, to, points, ..
-            } => format!("ac {from:e}..{to:e} Hz, {points} points"),
-            Analysis::Steady {
-                freq, harmonics, ..
-            } => format!("steady at {freq:e} Hz, {harmonics} harmonics"),
-        })
-        .collect();
-    let _ = writeln!(
-        s,
-        "  analyses:     {}",
-        if analyses.is_empty() {
-            "none".to_string()
-        } else {
-            analyses.join("; ")
-        }
-    );
-    let _ = writeln!(s, "  masks:        {}", c.masks.len());
-    let _ = writeln!(s, "  requirements: {}", c.requirements.len());
-    let st = &c.study;
-    if !st.vary.is_empty()
-        || !st.tolerances.is_empty()
-        || st.montecarlo.is_some()
-        || !st.tune.is_empty()
-    {
-        let mut parts = Vec::new();
-        if !st.vary.is_empty() {
-            parts.push(format!("{} vary", st.vary.len()));
-        }
-        if !st.tolerances.is_empty() {
-            parts.push(format!("{} tolerance", st.tolerances.len()));
-        }
-        if let Some(m) = st.montecarlo {
-            parts.push(format!("montecarlo {} runs", m.runs));
-        }
-        if !st.tune.is_empty() {
-            parts.push(format!("{} tune", st.tune.len()));
-        }
-        let _ = writeln!(s, "  study:        {}", parts.join(", "));
-    }
-    let _ = writeln!(s, "  warnings:     {warnings}");
-    s
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn summary_counts_elements_by_kind() {
-        let text = "title \"t\"\nvsource v1 a gnd dc=1V\nresistor r1 a b 1Ohm\nresistor r2 b gnd 1Ohm\nanalyze op\n";
-        let e = tankwave_circuit::load_str("t.tank", text, &Overrides::default()).expect("valid");
-        let s = summary(Path::new("t.tank"), &e.circuit, 0);
-        assert!(s.contains("elements:     3 (2 resistor, 1 vsource)"), "{s}");
-        assert!(s.contains("nodes:        2"), "{s}");
-        assert!(s.contains("analyses:     op"), "{s}");
-    }
 }

@@ -1,10 +1,11 @@
 //! `tankwave run FILE`: solve every analysis the file declares and report.
 
 use super::common::{self, BAD_INPUT, FAILED, OK};
-use crate::pipeline::{self, Results, Scope};
+use super::visual;
+use crate::pipeline::{self, Scope};
 use clap::{Args, ValueEnum};
-use serde_json::json;
 use std::path::PathBuf;
+use tankwave_report::assemble::{self, StageResults};
 use tankwave_report::stage;
 
 /// Output format of `run`.
@@ -76,9 +77,9 @@ pub fn run(a: &RunArgs) -> i32 {
         Ok(r) => r,
         Err(f) => return common::report_failure(&file, &f),
     };
-    let doc = json_doc(&file, c, &res);
+    let doc = assemble::results_json(&visual::tool(), &file, c, &res);
     match a.format {
-        Format::Table => print!("{}", text(&file, c, &res, a.verbose)),
+        Format::Table => print!("{}", assemble::results_text(&file, c, &res, a.verbose)),
         Format::Json => println!(
             "{}",
             serde_json::to_string_pretty(&doc).unwrap_or_else(|_| "{}".into())
@@ -100,11 +101,7 @@ pub fn run(a: &RunArgs) -> i32 {
             serde_json::to_vec_pretty(&doc).unwrap_or_default(),
         )];
         if let Some(op) = &res.op {
-            let mut s = String::from("unknown,value\n");
-            for (n, v) in op.names.iter().zip(&op.x) {
-                s.push_str(&format!("{n},{v:.12e}\n"));
-            }
-            files.push((dir.join("op.csv"), s.into_bytes()));
+            files.push((dir.join("op.csv"), stage::op_csv(op).into_bytes()));
         }
         for (k, t) in res.transients.iter().enumerate() {
             files.push((
@@ -134,24 +131,27 @@ pub fn run(a: &RunArgs) -> i32 {
             return BAD_INPUT;
         }
     }
-    let mut visual: Vec<(PathBuf, Vec<u8>)> = Vec::new();
+    let mut figures: Vec<(PathBuf, Vec<u8>)> = Vec::new();
     if let Some(dir) = &a.plots {
-        let (files, notes) = super::visual::stage_plots(dir, &file, c, &res);
-        for n in notes {
-            eprintln!("note: {n}");
-        }
-        visual.extend(files);
+        let drawn = assemble::stage_plots(&file, c, &res);
+        figures.extend(visual::drawn_files(Some(dir), &drawn));
     }
     if let Some(path) = &a.report {
         let options = vec![
             ("command".to_string(), "run".to_string()),
             ("--set".to_string(), a.sets.join(" ")),
         ];
-        let html = super::visual::html_report(&a.file, &file, c, &res, options);
-        visual.push((path.clone(), html.into_bytes()));
+        let html = assemble::stage_report(
+            &file,
+            c,
+            &res,
+            visual::file_sha256(&a.file),
+            visual::provenance(options),
+        );
+        figures.push((path.clone(), html.into_bytes()));
     }
-    if !visual.is_empty() {
-        if let Err(e) = tankwave_report::files::write_all_atomic(&visual) {
+    if !figures.is_empty() {
+        if let Err(e) = tankwave_report::files::write_all_atomic(&figures) {
             eprintln!("error: {e}");
             return BAD_INPUT;
         }
@@ -163,7 +163,8 @@ pub fn run(a: &RunArgs) -> i32 {
     }
 }
 
-fn unknown_names(c: &tankwave_circuit::Circuit, res: &Results) -> Vec<String> {
+/// Names of the unknowns (from the operating point, else from the devices).
+fn unknown_names(c: &tankwave_circuit::Circuit, res: &StageResults) -> Vec<String> {
     if let Some(op) = &res.op {
         return op.names.clone();
     }
@@ -171,60 +172,4 @@ fn unknown_names(c: &tankwave_circuit::Circuit, res: &Results) -> Vec<String> {
         Ok(d) => d.names,
         Err(_) => Vec::new(),
     }
-}
-
-fn text(file: &str, c: &tankwave_circuit::Circuit, r: &Results, verbose: bool) -> String {
-    let mut s = String::new();
-    s.push_str(&format!(
-        "{}\n{}\n\n",
-        c.title.as_deref().unwrap_or("(untitled stage)"),
-        file
-    ));
-    if let Some(op) = &r.op {
-        s.push_str(&stage::op_text(c, op));
-        s.push('\n');
-    }
-    for t in &r.transients {
-        s.push_str(&stage::transient_text(t));
-    }
-    for ac in &r.acs {
-        s.push_str(&stage::ac_text(ac));
-    }
-    if !r.transients.is_empty() || !r.acs.is_empty() {
-        s.push_str("(waveforms and sweeps: use --out DIR or --format csv)\n\n");
-    }
-    if let Some(st) = &r.steady {
-        s.push_str(&stage::steady_text(c, &st.solution, &st.metrics, verbose));
-        s.push('\n');
-    }
-    if !r.verdicts.is_empty() {
-        s.push_str("Requirements\n");
-        s.push_str(&stage::verdict_text(&r.verdicts));
-        let failed = r.verdicts.iter().filter(|v| !v.pass).count();
-        s.push_str(&format!(
-            "{} of {} requirements pass\n",
-            r.verdicts.len() - failed,
-            r.verdicts.len()
-        ));
-    }
-    if r.steady.is_some() {
-        s.push_str(&format!("\n{}\n", stage::SAFETY_NOTE));
-    }
-    s
-}
-
-/// The JSON document of a run (schema `tankwave/1`, see docs/output.md).
-pub fn json_doc(file: &str, c: &tankwave_circuit::Circuit, r: &Results) -> serde_json::Value {
-    json!({
-        "schema": tankwave_report::SCHEMA_VERSION,
-        "tool": format!("tankwave {}", env!("CARGO_PKG_VERSION")),
-        "file": file,
-        "title": c.title,
-        "op": r.op.as_ref().map(stage::op_json),
-        "transients": r.transients.iter().map(stage::transient_json).collect::<Vec<_>>(),
-        "ac": r.acs.iter().map(stage::ac_json).collect::<Vec<_>>(),
-        "steady": r.steady.as_ref().map(|s| stage::steady_json(&s.solution, &s.metrics)),
-        "requirements": serde_json::to_value(&r.verdicts).unwrap_or(serde_json::Value::Null),
-        "caution": stage::SAFETY_NOTE,
-    })
 }

@@ -4,13 +4,15 @@
 //! named parameters.
 
 use super::common::{self, BAD_INPUT, FAILED, OK, SOLVER};
+use super::visual;
 use crate::pipeline;
 use clap::{Args, ValueEnum};
 use std::collections::BTreeMap;
 use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
-use tankwave_circuit::{Circuit, ElementKind, Overrides, Shape, Tune};
+use tankwave_circuit::{Overrides, Tune};
 use tankwave_measure::Metrics;
+use tankwave_report::assemble::{self, variant, NominalStage, StudyReport};
 use tankwave_study as study;
 
 /// Arguments of `study`.
@@ -108,50 +110,16 @@ pub struct TuneArgs {
     pub plot_span: f64,
 }
 
-/// Flatten the metrics of a variant into named figures (units in the names).
-pub fn flatten(c: &Circuit, m: &Metrics) -> BTreeMap<String, f64> {
-    let mut f = BTreeMap::new();
-    let mut put = |k: String, v: Option<f64>| {
-        if let Some(v) = v.filter(|v| v.is_finite()) {
-            f.insert(k, v);
-        }
-    };
-    if let Some(o) = &m.output {
-        put("pout_w".into(), Some(o.p1_w));
-        put("pout_dbm".into(), Some(o.p1_dbm));
-        put("thd".into(), o.thd);
-        for h in o.harmonics.iter().skip(1).take(4) {
-            put(format!("h{}_dbc", h.n), h.dbc);
-        }
-    }
-    put("pdc_w".into(), Some(m.pdc_w));
-    put("efficiency".into(), m.efficiency);
-    put("pae".into(), m.pae);
-    put("gain_db".into(), m.gain_db);
-    if let Some(d) = &m.drive {
-        put("input_vswr".into(), d.vswr);
-        put("pin_w".into(), Some(d.pin_w));
-    }
-    for q in &m.transistors {
-        let n = &q.element;
-        put(format!("{n}.conduction_deg"), Some(q.conduction_deg));
-        put(format!("{n}.vce_peak_v"), Some(q.vce_peak_v));
-        put(format!("{n}.ic_peak_a"), Some(q.ic_peak_a));
-        put(format!("{n}.dissipation_w"), Some(q.dissipation_w));
-        put(format!("{n}.tj_degc"), q.tj_k.map(|k| k - 273.15));
-    }
-    let _ = c;
-    f
-}
-
-/// Solve one variant: elaborate with its overrides, solve the steady state, measure, evaluate.
+/// A solved variant: what was measured, the verdicts, and the warm start
+/// for the next variant.
 type Solved = (
-    Circuit,
     Metrics,
     Vec<tankwave_measure::Verdict>,
     Option<study::WarmStart>,
 );
 
+/// Solve one variant: elaborate with its overrides, scale the drive, solve
+/// the steady state (warm-started where given), measure, evaluate.
 fn solve_variant(
     parsed: &tankwave_netlist::Parsed,
     overrides: &Overrides,
@@ -168,7 +136,7 @@ fn solve_variant(
         })?
         .circuit;
     if drive_scale != 1.0 {
-        scale_drive(&mut c, drive_scale)?;
+        study::scale_drive(&mut c, drive_scale).map_err(|e| e.to_string())?;
     }
     let r = pipeline::solve_warm(
         &c,
@@ -183,29 +151,16 @@ fn solve_variant(
         .steady
         .ok_or_else(|| "the file has no `analyze steady`".to_string())?;
     // the state at the start of the period warm-starts the next variant of the segment
-    let next: study::WarmStart = s.solution.x.iter().map(|u| u[0]).collect();
-    Ok((c, s.metrics, r.verdicts, Some(next)))
+    let next: study::WarmStart = s
+        .solution
+        .x
+        .iter()
+        .map(|u| u.first().copied().unwrap_or(0.0))
+        .collect();
+    Ok((s.metrics, r.verdicts, Some(next)))
 }
 
-/// Multiply the time-varying amplitude of the `input` source by `k`.
-fn scale_drive(c: &mut Circuit, k: f64) -> Result<(), String> {
-    let id = c
-        .input
-        .ok_or("reduced-drive tuning needs an `input` source")?;
-    match c.elements.get_mut(id).map(|e| &mut e.kind) {
-        Some(ElementKind::VSource { wave, .. }) | Some(ElementKind::ISource { wave, .. }) => {
-            match &mut wave.shape {
-                Some(Shape::Sine { amp, .. }) => {
-                    *amp *= k;
-                    Ok(())
-                }
-                _ => Err("reduced-drive tuning needs a sine drive".into()),
-            }
-        }
-        _ => Err("the `input` element is not a source".into()),
-    }
-}
-
+/// A progress bar on stderr, only when stderr is a terminal.
 fn progress_bar(total: u64) -> Option<indicatif::ProgressBar> {
     if !std::io::stderr().is_terminal() {
         return None;
@@ -219,51 +174,17 @@ fn progress_bar(total: u64) -> Option<indicatif::ProgressBar> {
     Some(pb)
 }
 
-fn file_hash(path: &Path) -> String {
-    // FNV-1a, 64 bit (public-domain hash): a fingerprint to tell stage files apart, not security.
-    let bytes = std::fs::read(path).unwrap_or_default();
-    let mut h: u64 = 0xcbf29ce484222325;
-    for b in bytes {
-        h ^= b as u64;
-        h = h.wrapping_mul(0x100000001b3);
-    }
-    format!("{h:016x}")
-}
-
-/// Feeds each record into the streaming summary (the records themselves are not kept).
-/// Also keeps the records when plots are asked for (a histogram needs every value).
-#[derive(Default)]
-struct SummarySink {
-    builder: study::SummaryBuilder,
-    keep: bool,
-    kept: Vec<study::Record>,
-}
-
-impl study::RecordSink for &mut SummarySink {
-    fn record(&mut self, r: &study::Record) -> Result<(), study::StudyError> {
-        self.builder.add(r);
-        if self.keep {
-            self.kept.push(r.clone());
-        }
-        Ok(())
-    }
-}
-
-/// Refuse a report path that cannot be written, before any work is done:
-/// a directory, or a file in a directory that is missing or not writable.
+/// Refuse a report path that cannot be written, before any work is done.
 fn check_report_path(path: &Path) -> Result<(), String> {
-    if path.is_dir() {
-        return Err(format!(
+    use tankwave_report::ReportError;
+    match tankwave_report::files::check_writable_file(path) {
+        Ok(()) => Ok(()),
+        Err(ReportError::IsDirectory { .. }) => Err(format!(
             "--report '{}' is a directory; give a file name such as study.html",
             path.display()
-        ));
+        )),
+        Err(e) => Err(format!("--report '{}': {e}", path.display())),
     }
-    let dir = match path.parent() {
-        Some(d) if !d.as_os_str().is_empty() => d,
-        _ => Path::new("."),
-    };
-    tankwave_report::files::check_writable_dir(dir)
-        .map_err(|e| format!("--report '{}': {e}", path.display()))
 }
 
 /// Run `study`; returns the exit code (1 if any variant fails a requirement or does not solve).
@@ -303,28 +224,18 @@ pub fn run(a: &StudyArgs) -> i32 {
         shard,
         ..Default::default()
     };
-    let header = study::Header::new(&plan, params.chain, shard).with_input(file_hash(&a.file));
+    let fingerprint = study::input_fingerprint(&std::fs::read(&a.file).unwrap_or_default());
+    let header = study::Header::new(&plan, params.chain, shard).with_input(fingerprint);
     let base = overrides;
     let work = |v: &study::Variant, warm: Option<&study::WarmStart>| {
         let mut o = v.overrides.clone();
         for (k, val) in &base.params {
             o.params.entry(k.clone()).or_insert(*val);
         }
-        let (c, m, verdicts, next) = solve_variant(&parsed, &o, 1.0, warm)?;
+        let (m, verdicts, next) = solve_variant(&parsed, &o, 1.0, warm)?;
         Ok(study::Outcome {
-            metrics: flatten(&c, &m),
-            verdicts: verdicts
-                .iter()
-                .map(|x| {
-                    (
-                        x.requirement.clone(),
-                        study::Verdict {
-                            pass: x.pass,
-                            margin: x.margin.unwrap_or(f64::NEG_INFINITY).max(-1e300),
-                        },
-                    )
-                })
-                .collect(),
+            metrics: variant::record_metrics(&m),
+            verdicts: variant::record_verdicts(&verdicts),
             warm: next,
         })
     };
@@ -355,10 +266,7 @@ pub fn run(a: &StudyArgs) -> i32 {
             return BAD_INPUT;
         }
     }
-    let mut summary_sink = SummarySink {
-        keep: a.plots.is_some() || a.report.is_some(),
-        ..SummarySink::default()
-    };
+    let mut summary_sink = study::SummarySink::new(a.plots.is_some() || a.report.is_some());
     let result = match &a.out {
         None => study::run_study(&plan, &params, work, &mut &mut summary_sink, &progress),
         Some(path) if a.resume => match study::resume(path, &header) {
@@ -420,7 +328,7 @@ pub fn run(a: &StudyArgs) -> i32 {
             return SOLVER;
         }
     };
-    let summary = match summary_sink.builder.finish(&a.percentiles) {
+    let (summary, kept) = match summary_sink.finish(&a.percentiles) {
         Ok(s) => s,
         Err(e) => {
             eprintln!("error: {e}");
@@ -428,22 +336,16 @@ pub fn run(a: &StudyArgs) -> i32 {
         }
     };
     if a.plots.is_some() || a.report.is_some() {
-        let (figures, notes) =
-            super::visual::study_figures(&file, &parsed, &loaded.circuit, &summary_sink.kept);
-        for n in notes {
-            eprintln!("note: {n}");
-        }
-        let mut files = match &a.plots {
-            Some(dir) => super::visual::into_files(dir, &figures),
-            None => Vec::new(),
-        };
+        let drawn = assemble::study_figures(&file, &parsed, &loaded.circuit, &kept);
+        let mut files = visual::drawn_files(a.plots.as_deref(), &drawn);
         if let Some(path) = &a.report {
-            let nominal = pipeline::solve(&loaded.circuit, pipeline::Scope::Requirements).map_err(
-                |f| match f {
-                    pipeline::Failure::Solve(m) | pipeline::Failure::Setup(m) => m,
-                    pipeline::Failure::Input { .. } => "bad input".to_string(),
-                },
-            );
+            let nominal = match pipeline::solve(&loaded.circuit, pipeline::Scope::Requirements) {
+                Ok(r) => NominalStage::Solved(Box::new(r)),
+                Err(pipeline::Failure::Solve(m) | pipeline::Failure::Setup(m)) => {
+                    NominalStage::NotSolved(m)
+                }
+                Err(pipeline::Failure::Input { .. }) => NominalStage::NotSolved("bad input".into()),
+            };
             let options = vec![
                 ("command".to_string(), "study".to_string()),
                 ("--set".to_string(), a.sets.join(" ")),
@@ -461,18 +363,18 @@ pub fn run(a: &StudyArgs) -> i32 {
                 ),
                 ("--resume".to_string(), a.resume.to_string()),
             ];
-            let html = super::visual::study_report(
+            let html = assemble::study_report(
                 &loaded.circuit,
-                super::visual::StudyReport {
-                    path: &a.file,
+                StudyReport {
                     file: &file,
+                    file_sha256: visual::file_sha256(&a.file),
                     summary: &summary,
                     total,
                     info: &info,
                     shard,
-                    figures,
+                    figures: drawn.figures,
                     nominal,
-                    options,
+                    provenance: visual::provenance(options),
                 },
             );
             files.push((path.clone(), html.into_bytes()));
@@ -482,21 +384,9 @@ pub fn run(a: &StudyArgs) -> i32 {
             return BAD_INPUT;
         }
     }
-    println!(
-        "{}\n{}: {} variants run on {} threads{}\n",
-        loaded
-            .circuit
-            .title
-            .as_deref()
-            .unwrap_or("(untitled stage)"),
-        file,
-        info.recorded,
-        info.threads,
-        if info.skipped > 0 {
-            format!(", {} already recorded", info.skipped)
-        } else {
-            String::new()
-        }
+    print!(
+        "{}",
+        tankwave_report::batch::study_heading(loaded.circuit.title.as_deref(), &file, &info)
     );
     print!("{}", tankwave_report::batch::summary_text(&summary));
     if summary.failed > 0 || summary.passed_all < summary.variants {
@@ -589,7 +479,7 @@ pub fn tune(a: &TuneArgs) -> i32 {
         match (common::parse_value(&lo), common::parse_value(&hi)) {
             (Ok(from), Ok(to)) => {
                 if let Some(u) = common::value_unit(&lo).or(common::value_unit(&hi)) {
-                    cli_units.insert(name.clone(), super::visual::unit_symbol(u).to_string());
+                    cli_units.insert(name.clone(), assemble::units::unit_symbol(u).to_string());
                 }
                 ranges.push(Tune {
                     param: name,
@@ -639,12 +529,8 @@ pub fn tune(a: &TuneArgs) -> i32 {
             params: values.clone(),
             ..Overrides::default()
         };
-        let (_c, m, _v, _w) = solve_variant(&parsed, &o, ctx.drive_scale, None)?;
-        Ok(study::TuneFigures {
-            pout: m.output.as_ref().map(|o| o.p1_w),
-            efficiency: m.efficiency,
-            input_vswr: m.drive.as_ref().and_then(|d| d.vswr),
-        })
+        let (m, _v, _w) = solve_variant(&parsed, &o, ctx.drive_scale, None)?;
+        Ok(variant::objective_figures(&m))
     };
     let r = match study::tune(&ranges, objective, goal, &params) {
         Ok(r) => r,
@@ -653,13 +539,9 @@ pub fn tune(a: &TuneArgs) -> i32 {
             return SOLVER;
         }
     };
-    println!(
-        "{}\n{file}\n",
-        loaded
-            .circuit
-            .title
-            .as_deref()
-            .unwrap_or("(untitled stage)")
+    print!(
+        "{}",
+        tankwave_report::batch::heading(loaded.circuit.title.as_deref(), &file)
     );
     print!("{}", tankwave_report::batch::tune_text(&r));
     if let Some(dir) = &a.plots {
@@ -684,15 +566,12 @@ pub fn tune(a: &TuneArgs) -> i32 {
                 let u = cli_units
                     .get(&t.param)
                     .cloned()
-                    .unwrap_or_else(|| super::visual::param_unit(&parsed, &t.param));
+                    .unwrap_or_else(|| assemble::units::param_unit(&parsed, &t.param));
                 (t.param.clone(), u)
             })
             .collect();
-        let (figures, notes) = super::visual::tune_figures(&file, goal, &map, &r.optimum, &units);
-        for n in notes {
-            eprintln!("note: {n}");
-        }
-        let files = super::visual::into_files(dir, &figures);
+        let drawn = assemble::tune_figures(&file, goal, &map, &r.optimum, &units);
+        let files = visual::drawn_files(Some(dir), &drawn);
         if let Err(e) = tankwave_report::files::write_all_atomic(&files) {
             eprintln!("error: {e}");
             return BAD_INPUT;
