@@ -185,6 +185,14 @@ fn run_json_and_out_dir() {
         "the budget above is for shooting"
     );
     assert!((p1 - 1.0).abs() < 5e-7, "p1 = {p1}");
+    // How shooting went, grid by grid: the 256-step grid and its quarter
+    // (docs/analyses.md); the periods add up to `iterations`; no balance block.
+    let sh = &v["steady"]["shooting"];
+    assert_eq!(sh["coarse_steps"], 64, "{sh}");
+    let periods = sh["coarse_periods"].as_u64().unwrap() + sh["fine_periods"].as_u64().unwrap();
+    assert_eq!(Some(periods), v["steady"]["iterations"].as_u64(), "{sh}");
+    assert!(sh["fine_periods"].as_u64().unwrap() >= 1, "{sh}");
+    assert!(v["steady"]["balance"].is_null());
     for f in ["results.json", "period.csv", "spectrum.csv"] {
         assert!(dir.path().join(f).is_file(), "{f} written");
     }

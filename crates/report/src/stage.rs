@@ -143,6 +143,40 @@ pub fn steady_text(
             "  Newton system size {}, {} samples per period\n",
             info.system_size, sol.samples_per_period
         ));
+        if let Some(sh) = &info.shooting {
+            let coarse = if sh.coarse_steps > 0 {
+                format!(
+                    "{} on the coarse grid of {} steps, ",
+                    sh.coarse_periods, sh.coarse_steps
+                )
+            } else {
+                String::new()
+            };
+            s.push_str(&format!(
+                "  shooting: {} warm-up periods, then periods integrated: {coarse}{} on the \
+                 fine grid; {} of them carried the monodromy matrix (Newton), the rest were \
+                 chord steps\n",
+                sh.warmup_periods, sh.fine_periods, sh.monodromy_periods
+            ));
+        }
+        if let Some(b) = &info.balance {
+            let tried: Vec<String> = b.harmonics_tried.iter().map(|k| k.to_string()).collect();
+            s.push_str(&format!(
+                "  harmonic balance: K tried {}, FFT size {}, {} ports{}, {} continuation \
+                 steps, {} line-search cuts, truncation {:.2e}\n",
+                tried.join(", "),
+                b.fft_size,
+                b.ports,
+                if b.reduced {
+                    " (linear network reduced)"
+                } else {
+                    ""
+                },
+                b.continuation_steps,
+                b.line_search_cuts,
+                b.truncation
+            ));
+        }
     }
     let mut t = Table::new(vec![("figure", Align::Left), ("value", Align::Right)]);
     if let Some(o) = &m.output {
@@ -425,6 +459,23 @@ pub fn steady_json(sol: &PeriodicSolution, m: &Metrics) -> Value {
         "iterations": sol.info.iterations,
         "residual": clean(sol.info.residual),
         "system_size": sol.info.system_size,
+        "shooting": sol.info.shooting.map(|sh| json!({
+            "coarse_steps": sh.coarse_steps,
+            "coarse_periods": sh.coarse_periods,
+            "fine_periods": sh.fine_periods,
+            "monodromy_periods": sh.monodromy_periods,
+            "warmup_periods": sh.warmup_periods,
+        })),
+        "balance": sol.info.balance.as_ref().map(|b| json!({
+            "harmonics": b.harmonics,
+            "harmonics_tried": b.harmonics_tried,
+            "fft_size": b.fft_size,
+            "ports": b.ports,
+            "reduced": b.reduced,
+            "continuation_steps": b.continuation_steps,
+            "line_search_cuts": b.line_search_cuts,
+            "truncation": clean(b.truncation),
+        })),
         "metrics": serde_json::to_value(m).unwrap_or(Value::Null),
     })
 }

@@ -1717,6 +1717,7 @@ fn finish(
                 line_search_cuts: totals.cuts,
                 truncation: sol.truncation,
             }),
+            shooting: None,
         },
     })
 }

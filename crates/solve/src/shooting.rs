@@ -34,7 +34,9 @@
 //! while the state is still far from the fixed point).
 
 use crate::newton::unknown_abstol;
-use crate::steady::{terminal_currents_trbdf2, PeriodicSolution, SteadyInfo, SteadyParams};
+use crate::steady::{
+    terminal_currents_trbdf2, PeriodicSolution, ShootingInfo, SteadyInfo, SteadyParams,
+};
 use crate::transient::{bdf2_coefficients, charged_rows, Method, Stepper, GAMMA};
 use crate::SolveError;
 use faer::Mat;
@@ -299,6 +301,15 @@ pub fn shooting(
     };
     let mut last = (f64::INFINITY, 0usize);
     let mut iterations = 0usize;
+    let mut report = ShootingInfo {
+        coarse_steps: if levels.len() > 1 { levels[0].ns } else { 0 },
+        warmup_periods: if warm_start.is_some() {
+            0
+        } else {
+            params.shooting.warmup_periods
+        },
+        ..ShootingInfo::default()
+    };
     let mut lu: Option<crate::linalg::RealLu> = None;
     for (li, level) in levels.iter().enumerate() {
         let h = period / level.ns as f64;
@@ -326,6 +337,14 @@ pub fn shooting(
             }
             level_iter += 1;
             iterations += 1;
+            if final_level {
+                report.fine_periods += 1;
+            } else {
+                report.coarse_periods += 1;
+            }
+            if need_sens {
+                report.monodromy_periods += 1;
+            }
             let run = integrate_period(&mut st, devices, &x0, t0, h, level.ns, need_sens)?;
             let r: Vec<f64> = run.end.iter().zip(&x0).map(|(a, b)| a - b).collect();
             let scale = scales(devices, params, &run);
@@ -373,6 +392,7 @@ pub fn shooting(
                             residual: worst.0,
                             system_size: n,
                             balance: None,
+                            shooting: Some(report),
                         },
                     });
                 }

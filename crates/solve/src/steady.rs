@@ -67,6 +67,24 @@ pub struct SteadyInfo {
     pub system_size: usize,
     /// Harmonic-balance details (harmonics used, continuation steps, …); `None` for other methods.
     pub balance: Option<crate::balance::BalanceInfo>,
+    /// Shooting details (periods per grid, monodromy matrices); `None` for other methods.
+    pub shooting: Option<ShootingInfo>,
+}
+
+/// How a shooting solve went, grid by grid.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct ShootingInfo {
+    /// Steps per period of the coarse grid (0 when it was not used).
+    pub coarse_steps: usize,
+    /// Periods integrated by the iteration on the coarse grid.
+    pub coarse_periods: usize,
+    /// Periods integrated by the iteration on the fine grid.
+    pub fine_periods: usize,
+    /// Periods that carried the monodromy matrix (Newton steps; the others
+    /// were chord steps with an earlier one).
+    pub monodromy_periods: usize,
+    /// Warm-up periods run before the iteration (0 for a warm start).
+    pub warmup_periods: usize,
 }
 
 /// Options of the plain-transient method.
@@ -315,6 +333,7 @@ pub fn settle(
                         residual: worst.0,
                         system_size: 0,
                         balance: None,
+                        shooting: None,
                     },
                 });
             }

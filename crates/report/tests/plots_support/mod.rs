@@ -106,6 +106,7 @@ pub fn class_c_stage(theta_deg: f64) -> (Circuit, PeriodicSolution) {
             residual: 0.2,
             system_size: 40,
             balance: None,
+            shooting: None,
         },
     };
     (circuit(), sol)
