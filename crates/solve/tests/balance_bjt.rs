@@ -175,11 +175,7 @@ fn shooting_warm_start_from_a_neighbour_reaches_the_cold_solution() {
     // fixed point; twice that bounds their difference.
     for (k, (a, c)) in warm.x.iter().zip(&cold.x).enumerate() {
         let peak = c.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-        let diff = a
-            .iter()
-            .zip(c)
-            .map(|(x, y)| (x - y).abs())
-            .fold(0.0, f64::max);
+        let diff = max_diff(a, c);
         assert!(
             diff <= 2.0 * (1e-7 * peak + 1e-9),
             "{}: {diff:e} of peak {peak:e}",

@@ -75,11 +75,7 @@ fn class_c_shooting_and_settle_agree() {
     let k = d.names.iter().position(|s| s == "v(out)").unwrap();
     let kc = d.names.iter().position(|s| s == "v(coll)").unwrap();
     let peak = shoot.x[k].iter().fold(0.0f64, |m, v| m.max(v.abs()));
-    let dev = shoot.x[k]
-        .iter()
-        .zip(&set.x[k])
-        .map(|(a, b)| (a - b).abs())
-        .fold(0.0, f64::max);
+    let dev = max_diff(&shoot.x[k], &set.x[k]);
     let vc_max = shoot.x[kc].iter().fold(f64::MIN, |m, v| m.max(*v));
     eprintln!(
         "class C: shooting {} iterations (n = {}), settle {} periods; output peak {peak:.3} V, \

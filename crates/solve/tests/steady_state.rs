@@ -90,11 +90,7 @@ fn shooting_rlc_matches_phasor_analysis() {
         // difference.
         params.shooting.coarse_grid = true;
         let two = steady(&b.c, &d, &params).unwrap();
-        let diff = two.x[k]
-            .iter()
-            .zip(&sol.x[k])
-            .map(|(a, b)| (a - b).abs())
-            .fold(0.0, f64::max);
+        let diff = max_diff(&two.x[k], &sol.x[k]);
         eprintln!(
             "two-grid shooting, N = {steps}: {} periods, difference from full Newton {diff:.2e} V",
             two.info.iterations
@@ -126,11 +122,7 @@ fn shooting_rlc_matches_phasor_analysis() {
     let ir = &sol.terminal_currents[1][0]; // r1, first terminal (node in): current into r1
     let ic = &sol.terminal_currents[3][0]; // c1, first terminal (node out)
     let ipk = ir.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-    let dev = ir
-        .iter()
-        .zip(ic)
-        .map(|(a, b)| (a - b).abs())
-        .fold(0.0, f64::max);
+    let dev = max_diff(ir, ic);
     eprintln!("series current: resistor vs capacitor terminal current {dev:.3e} A of {ipk:.3e} A");
     assert!(dev < 1e-6 * ipk, "{dev}");
     // The grounded terminal of c1 carries the opposite current.
@@ -156,11 +148,7 @@ fn settle_rlc_agrees_with_shooting() {
     params.method = SteadyMethod::Settle;
     let set = steady(&b.c, &d, &params).unwrap();
     let k = d.names.iter().position(|s| s == "v(out)").unwrap();
-    let dev = shoot.x[k]
-        .iter()
-        .zip(&set.x[k])
-        .map(|(a, b)| (a - b).abs())
-        .fold(0.0, f64::max);
+    let dev = max_diff(&shoot.x[k], &set.x[k]);
     eprintln!(
         "settle RLC: {} periods; max difference from shooting {dev:.3e} V",
         set.info.iterations
@@ -216,11 +204,7 @@ fn shooting_and_settle_agree_on_a_diode_rectifier() {
     let set = steady(&b.c, &d, &params).unwrap();
     let k = d.names.iter().position(|s| s == "v(out)").unwrap();
     let mean = shoot.x[k].iter().sum::<f64>() / shoot.x[k].len() as f64;
-    let dev = shoot.x[k]
-        .iter()
-        .zip(&set.x[k])
-        .map(|(a, b)| (a - b).abs())
-        .fold(0.0, f64::max);
+    let dev = max_diff(&shoot.x[k], &set.x[k]);
     eprintln!(
         "rectifier: shooting {} Newton iterations (system {}), settle {} periods; mean output {mean:.4} V; max difference {dev:.3e} V",
         shoot.info.iterations, shoot.info.system_size, set.info.iterations

@@ -9,6 +9,14 @@ pub const K_B: f64 = 1.380649e-23;
 /// Elementary charge, C (CODATA 2018, exact).
 pub const Q_E: f64 = 1.602176634e-19;
 
+/// Largest |a_i − b_i| over two equally long sample series.
+pub fn max_diff(a: &[f64], b: &[f64]) -> f64 {
+    a.iter()
+        .zip(b)
+        .map(|(x, y)| (x - y).abs())
+        .fold(0.0, f64::max)
+}
+
 /// A small circuit builder.
 pub struct B {
     pub c: Circuit,
