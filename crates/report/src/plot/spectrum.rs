@@ -69,6 +69,7 @@ pub fn spectrum_plot(
             m.mask,
             if m.pass { "passes" } else { "FAILS" },
             w.margin_db
+                .filter(|d| d.is_finite())
                 .map(|d| format!("{d:+.1} dB"))
                 .unwrap_or_else(|| "—".into()),
             w.n,
@@ -205,7 +206,11 @@ pub fn spectrum_plot(
         }
 
         if let Some(w) = worst {
-            if let (Some(a), Some(m)) = (w.allowed_dbc, w.margin_db) {
+            if let (Some(a), Some(m)) = (
+                w.allowed_dbc.filter(|a| a.is_finite()),
+                w.margin_db
+                    .filter(|m| m.is_finite() && w.measured_dbc.is_finite()),
+            ) {
                 let x = w.n as f64 + 0.36;
                 let (y0, y1) = (w.measured_dbc.clamp(floor, top), a.clamp(floor, top));
                 cv.begin("annotation", Some("worst margin"), None)?;
