@@ -24,6 +24,9 @@ pub struct StudyArgs {
     #[arg(long, value_name = "FILE")]
     pub out: Option<PathBuf>,
     /// Continue an interrupted study: skip the variants already in --out.
+    /// The summary, plots, report and exit code then cover every record in
+    /// the file (so `merge` then `study --out merged.jsonl --resume` gives
+    /// the verdict of a whole sharded study).
     #[arg(long, requires = "out")]
     pub resume: bool,
     /// Run only share i of n (0-based), e.g. `--shard 2/8`; join the outputs with `tankwave merge`.
@@ -269,7 +272,10 @@ pub fn run(a: &StudyArgs) -> i32 {
     let mut summary_sink = study::SummarySink::new(a.plots.is_some() || a.report.is_some());
     let result = match &a.out {
         None => study::run_study(&plan, &params, work, &mut &mut summary_sink, &progress),
-        Some(path) if a.resume => match study::resume(path, &header) {
+        // The records already in the file are summarised too: the summary,
+        // plots, report and exit code cover the whole study (earlier runs,
+        // or shards joined by `merge`), not only what this run adds.
+        Some(path) if a.resume => match study::resume_replaying(path, &header, &mut summary_sink) {
             Ok((done, sink, _info)) => {
                 params.done = Some(done);
                 let mut tee = study::TeeSink(sink, &mut summary_sink);

@@ -258,10 +258,11 @@ fn study_shards_merge_into_the_records_of_one_run() {
     let dir = tempfile::tempdir().unwrap();
     let file = data("study/divider.tank");
     let whole = dir.path().join("whole.jsonl");
-    let o = run(&["study", p(&file), "--out", p(&whole), "--threads", "1"]);
+    let o_whole = run(&["study", p(&file), "--out", p(&whole), "--threads", "1"]);
+    let o = &o_whole;
     // 12 variants; loads near 25 and 100 ohm deliver under 0.23 W, so some fail: exit 1
-    assert_eq!(code(&o), 1, "{}{}", stdout(&o), stderr(&o));
-    assert!(stdout(&o).contains("12 variants"), "{}", stdout(&o));
+    assert_eq!(code(o), 1, "{}{}", stdout(o), stderr(o));
+    assert!(stdout(o).contains("12 variants"), "{}", stdout(o));
     let mut shards = Vec::new();
     for i in 0..3 {
         let s = dir.path().join(format!("shard{i}.jsonl"));
@@ -286,6 +287,23 @@ fn study_shards_merge_into_the_records_of_one_run() {
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     assert_eq!(record_lines(&merged), record_lines(&whole));
     assert_eq!(record_lines(&whole).len(), 12);
+    // The verdict of the whole sharded study: resuming the merged file runs
+    // nothing and summarises every record, exactly as the unsharded run did
+    // (same summary text after the heading, same exit code).
+    let again = run(&["study", p(&file), "--out", p(&merged), "--resume"]);
+    assert_eq!(code(&again), code(&o_whole), "{}", stderr(&again));
+    assert!(
+        stdout(&again).contains("0 variants run") && stdout(&again).contains("12 already recorded"),
+        "{}",
+        stdout(&again)
+    );
+    let body = |s: String| s.lines().skip(2).collect::<Vec<_>>().join("\n");
+    assert_eq!(body(stdout(&again)), body(stdout(&o_whole)));
+    assert_eq!(
+        record_lines(&merged),
+        record_lines(&whole),
+        "nothing appended"
+    );
 }
 
 #[test]

@@ -544,6 +544,24 @@ pub fn resume(
     path: &Path,
     expected: &Header,
 ) -> Result<(DoneSet, JsonlSink<File>, ResumeInfo), StudyError> {
+    struct Discard;
+    impl RecordSink for Discard {
+        fn record(&mut self, _: &Record) -> Result<(), StudyError> {
+            Ok(())
+        }
+    }
+    resume_replaying(path, expected, &mut Discard)
+}
+
+/// [`resume`], and hand every complete record already in the file to
+/// `replay` as it is read (in file order), so that a summary of the
+/// continued run covers the whole study: the records of earlier runs, or of
+/// merged shards, and the ones about to be added.
+pub fn resume_replaying(
+    path: &Path,
+    expected: &Header,
+    replay: &mut dyn RecordSink,
+) -> Result<(DoneSet, JsonlSink<File>, ResumeInfo), StudyError> {
     let name = path.display().to_string();
     let io = |what: &str, source| StudyError::Io {
         what: format!("{what} {name}"),
@@ -566,6 +584,7 @@ pub fn resume(
                 expected.check(h, &name, true)?;
             }
             while let Some(rec) = r.next_record()? {
+                replay.record(&rec)?;
                 done.insert(rec.index);
             }
             (r.good_len(), false)

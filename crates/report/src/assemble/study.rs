@@ -199,8 +199,9 @@ pub fn study_report(c: &Circuit, r: StudyReport<'_>) -> String {
     }
     if r.info.skipped > 0 {
         intro.push(format!(
-            "{} variants recorded by an earlier run (--resume) are not in this summary.",
-            r.info.skipped
+            "The summary covers every variant in the record file: {} recorded by earlier runs \
+             or merged shards (--resume) and {} by this one.",
+            r.info.skipped, r.info.recorded
         ));
     }
     let res = match &r.nominal {
