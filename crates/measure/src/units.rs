@@ -112,7 +112,8 @@ fn decimals(x: f64, significant: usize) -> usize {
 
 /// `v` with an SI prefix and `significant` figures (1–15), e.g.
 /// `si_prefixed(4.7e-6, "H", 3)` → `"4.70 µH"`, `si_prefixed(999.96, "V", 3)`
-/// → `"1.00 kV"`. Zero is `"0 unit"`; a non-finite value is `"—"` (never
+/// → `"1.00 kV"`. Below atto the value is written in scientific notation
+/// (`"4.19e-21 W"`). Zero is `"0 unit"`; a non-finite value is `"—"` (never
 /// "NaN" in anything a person reads).
 pub fn si_prefixed(v: f64, unit: &str, significant: usize) -> String {
     if !v.is_finite() {
@@ -127,17 +128,26 @@ pub fn si_prefixed(v: f64, unit: &str, significant: usize) -> String {
     }
     let sig = significant.clamp(1, 15);
     let a = v.abs();
-    let mut chosen = SI_PREFIXES[SI_PREFIXES.len() - 1];
+    let mut chosen = None;
     for p in SI_PREFIXES {
         // round first, so that 999.96 takes the next prefix up
         let scaled = a / p.0;
         let d = decimals(scaled, sig);
         let rounded: f64 = format!("{scaled:.d$}").parse().unwrap_or(scaled);
         if rounded >= 1.0 {
-            chosen = p;
+            chosen = Some(p);
             break;
         }
     }
+    // below the smallest prefix (atto): plain scientific notation
+    let Some(chosen) = chosen else {
+        let d = sig - 1;
+        return if unit.is_empty() {
+            format!("{v:.d$e}")
+        } else {
+            format!("{v:.d$e} {unit}")
+        };
+    };
     let scaled = v / chosen.0;
     let d = decimals(scaled.abs(), sig);
     let sep = if unit.is_empty() && chosen.1.is_empty() {
@@ -166,5 +176,8 @@ mod si_tests {
         assert_eq!(si_prefixed(f64::NAN, "V", 4), "—");
         assert_eq!(si_prefixed(f64::INFINITY, "W", 3), "—");
         assert_eq!(si_prefixed(2.5, "", 3), "2.50");
+        // below atto, scientific notation rather than "0.00419 aW"
+        assert_eq!(si_prefixed(4.19e-21, "W", 3), "4.19e-21 W");
+        assert_eq!(si_prefixed(-1e-19, "", 3), "-1.00e-19");
     }
 }
