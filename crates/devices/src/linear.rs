@@ -287,7 +287,7 @@ impl Device for VSource {
             ("v", v),
             ("i", j),
             ("p_delivered", -v * j),
-            ("source", self.value(ctx)),
+            ("emf", self.value(ctx)),
         ]
     }
 }

@@ -64,7 +64,16 @@ pub fn op_text(circuit: &Circuit, op: &OpResult) -> String {
     s
 }
 
+/// The unit of a device's operating-point figure, by its name (see each
+/// device's `op_info`): charge `q` in C, flux in Wb, a source's `emf` in V,
+/// otherwise by the first letter (v, i, g, c, p: V, A, S, F, W).
 fn unit_of_figure(k: &str) -> &'static str {
+    match k {
+        "q" => return "C",
+        "flux" => return "Wb",
+        "emf" => return "V",
+        _ => {}
+    }
     if k.starts_with('v') {
         "V"
     } else if k.starts_with('i') {
@@ -595,5 +604,31 @@ fn csv_field(s: &str) -> String {
         format!("\"{}\"", s.replace('"', "\"\""))
     } else {
         s.to_string()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::unit_of_figure;
+
+    /// Every figure name the devices report gets its SI unit (SI Brochure,
+    /// 9th ed., 2019: C for charge, Wb for magnetic flux).
+    #[test]
+    fn operating_point_figures_have_units() {
+        for (name, unit) in [
+            ("v", "V"),
+            ("vbe", "V"),
+            ("emf", "V"),
+            ("i", "A"),
+            ("ic", "A"),
+            ("gm", "S"),
+            ("cpi", "F"),
+            ("p_delivered", "W"),
+            ("power", "W"),
+            ("q", "C"),
+            ("flux", "Wb"),
+        ] {
+            assert_eq!(unit_of_figure(name), unit, "{name}");
+        }
     }
 }
