@@ -17,6 +17,16 @@
 //!
 //! Every function validates its inputs and returns a [`DesignError`] carrying
 //! the offending numbers; no result ever holds a NaN.
+//!
+//! ```
+//! use tankwave_design::{load_line, LoadLineParams};
+//! // 10 W from 13.8 V with 1 V saturation, class B (180° conduction):
+//! // R = (13.8 − 1)² / (2 · 10 W) = 8.19 Ω, ideal efficiency π/4 × 12.8/13.8.
+//! let l = load_line(13.8, 10.0, 1.0, &LoadLineParams::default()).unwrap();
+//! assert!((l.resistance_ohm - 8.192).abs() < 1e-9);
+//! let eta = std::f64::consts::PI / 4.0 * 12.8 / 13.8;
+//! assert!((l.efficiency - eta).abs() < 1e-9);
+//! ```
 #![deny(missing_docs)]
 
 pub mod choke;

@@ -13,6 +13,18 @@
 //! * `F(x,t) = i(x,t) + dq/dt = 0`, each node row the sum of currents leaving
 //!   the node through the devices;
 //! * source and branch sign conventions: see [`linear`].
+//!
+//! ```
+//! // A source driving an RC: unknowns are the two node voltages, then the
+//! // source's branch current.
+//! let text = "vsource vs in gnd dc=5V\nresistor r1 in out 1kOhm\ncapacitor c1 out gnd 1nF\n";
+//! let c = tankwave_circuit::load_str("rc.tank", text, &Default::default())
+//!     .expect("a valid stage")
+//!     .circuit;
+//! let d = tankwave_devices::instantiate(&c).expect("devices");
+//! assert_eq!(d.n_unknowns, 3);
+//! assert!(d.names.iter().any(|n| n == "i(vs)"));
+//! ```
 #![deny(missing_docs)]
 
 pub mod bjt;

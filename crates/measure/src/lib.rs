@@ -10,6 +10,24 @@
 //! every `require` statement ([`evaluate`]). It must not solve circuits and
 //! does no formatting beyond short human-readable value strings in verdicts.
 //! Every figure is defined in docs/measurements.md; masks in docs/masks.md.
+//!
+//! ```
+//! use tankwave_measure::{spectrum, units};
+//! // One period of 2 + 3·cos(ωt) + 0.5·cos(2ωt), 64 samples.
+//! let x: Vec<f64> = (0..64)
+//!     .map(|n| {
+//!         let t = 2.0 * std::f64::consts::PI * n as f64 / 64.0;
+//!         2.0 + 3.0 * t.cos() + 0.5 * (2.0 * t).cos()
+//!     })
+//!     .collect();
+//! let s = spectrum(&x, 4).expect("a spectrum");
+//! assert!((s.dc() - 2.0).abs() < 1e-12);
+//! assert!((s.phasor(1).norm() - 3.0).abs() < 1e-12);
+//! // Levels: 1 W is 30 dBm; the second harmonic is 20·log10(0.5/3) dBc.
+//! assert!((units::dbm(1.0) - 30.0).abs() < 1e-12);
+//! let h2 = 20.0 * (s.phasor(2).norm() / s.phasor(1).norm()).log10();
+//! assert!((h2 + 15.563).abs() < 1e-3);
+//! ```
 #![deny(missing_docs)]
 
 pub mod error;

@@ -13,6 +13,14 @@
 //! Modules: [`plan`] (numbering, segments), [`sample`] (reproducible
 //! tolerance draws), [`runner`], [`record`] (file format, resume, merge,
 //! CSV), [`summary`], [`mod@tune`].
+//!
+//! ```
+//! // Percentiles as numpy's default (linear between order statistics):
+//! // the 5th percentile of 20, 21, …, 29 is 20 + 0.45 = 20.45.
+//! let sorted: Vec<f64> = (20..30).map(f64::from).collect();
+//! let p5 = tankwave_study::percentile_sorted(&sorted, 5.0).unwrap();
+//! assert!((p5 - 20.45).abs() < 1e-12);
+//! ```
 #![deny(missing_docs)]
 
 pub mod error;
