@@ -81,6 +81,16 @@ pub(crate) fn safe_name(name: &str) -> String {
         .collect()
 }
 
+/// A circuit elaborated from stage-file text, for the unit tests of this
+/// module's children (panics with the diagnostics on a bad test stage).
+#[cfg(test)]
+pub(crate) fn test_circuit(text: &str) -> tankwave_circuit::Circuit {
+    match tankwave_circuit::load_str("t.tank", text, &tankwave_circuit::Overrides::default()) {
+        Ok(e) => e.circuit,
+        Err(e) => panic!("test stage must elaborate: {:?}", e.diagnostics),
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

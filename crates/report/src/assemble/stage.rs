@@ -248,14 +248,8 @@ pub fn results_json(tool: &str, file: &str, c: &Circuit, r: &StageResults) -> Va
 #[cfg(test)]
 mod tests {
     use super::*;
-    use tankwave_circuit::Overrides;
 
-    fn circuit(text: &str) -> Circuit {
-        match tankwave_circuit::load_str("t.tank", text, &Overrides::default()) {
-            Ok(e) => e.circuit,
-            Err(e) => panic!("test stage must elaborate: {:?}", e.diagnostics),
-        }
-    }
+    use crate::assemble::test_circuit as circuit;
 
     const DIVIDER: &str =
         "title \"divider\"\nvsource vdrv src gnd wave=sine(amp=10V, freq=1MHz) rs=50Ohm\n\

@@ -249,14 +249,8 @@ pub fn study_report(c: &Circuit, r: StudyReport<'_>) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use tankwave_circuit::Overrides;
 
-    fn circuit(text: &str) -> Circuit {
-        match tankwave_circuit::load_str("t.tank", text, &Overrides::default()) {
-            Ok(e) => e.circuit,
-            Err(e) => panic!("test stage must elaborate: {:?}", e.diagnostics),
-        }
-    }
+    use crate::assemble::test_circuit as circuit;
 
     const STAGE: &str = "let rl = 50Ohm\nvsource vdrv src gnd wave=sine(amp=10V, freq=1MHz) rs=50Ohm\n\
         resistor rload src gnd rl\noutput rload\ninput vdrv\nanalyze steady freq=1MHz harmonics=4\n";
