@@ -16,7 +16,7 @@
 //! "nominal stage") or left out.
 
 use tankwave_circuit::{Circuit, Scale};
-use tankwave_measure::{MaskEvaluation, Metrics, StressQuantity, Verdict};
+use tankwave_measure::{MaskEvaluation, Metrics, Verdict};
 use tankwave_solve::{AcResult, PeriodicSolution, TransientResult};
 
 use crate::format::{db, fixed, si};
@@ -474,38 +474,18 @@ fn stress_section(out: &mut String, m: &Metrics, label: Option<&str>) {
     if !m.stress.is_empty() {
         table_open(out, &["element", "quantity", "value", "rating", "used"]);
         for r in &m.stress {
-            let (q, unit) = match r.quantity {
-                StressQuantity::PeakVoltage => ("peak voltage", "V"),
-                StressQuantity::RmsCurrent => ("RMS current", "A"),
-                StressQuantity::AveragePower => ("power", "W"),
-                StressQuantity::VcePeak => ("peak vce", "V"),
-                StressQuantity::IcPeak => ("peak ic", "A"),
-                StressQuantity::Dissipation => ("dissipation", "W"),
-                StressQuantity::JunctionTemp => ("junction temperature", "K"),
-            };
-            let show = |v: f64| {
-                if unit == "K" {
-                    fixed(v - 273.15, 0, "degC")
-                } else {
-                    si(v, unit)
-                }
-            };
+            let c = crate::stage::stress_cells(r);
             let over = r.fraction.is_some_and(|f| f > 1.0);
             row(
                 out,
                 &[
                     ("", r.element.clone()),
-                    ("", q.to_string()),
-                    ("num", show(r.value)),
-                    (
-                        "num",
-                        r.rating.map(show).unwrap_or_else(|| "not rated".into()),
-                    ),
+                    ("", c.quantity.to_string()),
+                    ("num", c.value),
+                    ("num", c.rating.unwrap_or_else(|| "not rated".into())),
                     (
                         if over { "fail" } else { "num" },
-                        r.fraction
-                            .map(|f| fixed(f * 100.0, 0, "%"))
-                            .unwrap_or_default(),
+                        c.used.unwrap_or_default(),
                     ),
                 ],
             );

@@ -308,30 +308,13 @@ pub fn steady_text(
             ("used", Align::Right),
         ]);
         for r in &m.stress {
-            let (q, unit) = match r.quantity {
-                StressQuantity::PeakVoltage => ("peak voltage", "V"),
-                StressQuantity::RmsCurrent => ("RMS current", "A"),
-                StressQuantity::AveragePower => ("power", "W"),
-                StressQuantity::VcePeak => ("peak vce", "V"),
-                StressQuantity::IcPeak => ("peak ic", "A"),
-                StressQuantity::Dissipation => ("dissipation", "W"),
-                StressQuantity::JunctionTemp => ("junction temperature", "K"),
-            };
-            let show = |v: f64| {
-                if unit == "K" {
-                    fixed(v - 273.15, 0, "degC")
-                } else {
-                    si(v, unit)
-                }
-            };
+            let c = stress_cells(r);
             t.row(vec![
                 r.element.clone(),
-                q.to_string(),
-                show(r.value),
-                r.rating.map(show).unwrap_or_default(),
-                r.fraction
-                    .map(|f| fixed(f * 100.0, 0, "%"))
-                    .unwrap_or_default(),
+                c.quantity.to_string(),
+                c.value,
+                c.rating.unwrap_or_default(),
+                c.used.unwrap_or_default(),
             ]);
         }
         s.push_str(&t.render());
@@ -604,6 +587,45 @@ fn csv_field(s: &str) -> String {
         format!("\"{}\"", s.replace('"', "\"\""))
     } else {
         s.to_string()
+    }
+}
+
+/// One row of the component stress table as text, shared by the terminal
+/// table and the HTML report.
+pub(crate) struct StressCells {
+    /// What is measured ("peak voltage", "RMS current", …).
+    pub quantity: &'static str,
+    /// The measured value with its unit (temperatures in degC).
+    pub value: String,
+    /// The rating in the same unit, when the element carries one.
+    pub rating: Option<String>,
+    /// The fraction of the rating used, in %.
+    pub used: Option<String>,
+}
+
+/// The text of one stress row.
+pub(crate) fn stress_cells(r: &tankwave_measure::StressRow) -> StressCells {
+    let (quantity, unit) = match r.quantity {
+        StressQuantity::PeakVoltage => ("peak voltage", "V"),
+        StressQuantity::RmsCurrent => ("RMS current", "A"),
+        StressQuantity::AveragePower => ("power", "W"),
+        StressQuantity::VcePeak => ("peak vce", "V"),
+        StressQuantity::IcPeak => ("peak ic", "A"),
+        StressQuantity::Dissipation => ("dissipation", "W"),
+        StressQuantity::JunctionTemp => ("junction temperature", "K"),
+    };
+    let show = |v: f64| {
+        if unit == "K" {
+            fixed(v - 273.15, 0, "degC")
+        } else {
+            si(v, unit)
+        }
+    };
+    StressCells {
+        quantity,
+        value: show(r.value),
+        rating: r.rating.map(show),
+        used: r.fraction.map(|f| fixed(f * 100.0, 0, "%")),
     }
 }
 
