@@ -7,7 +7,6 @@
 
 use criterion::{criterion_group, criterion_main, Criterion};
 use std::hint::black_box;
-use tankwave_circuit::ir::*;
 use tankwave_circuit::{Integration, SteadyMethod};
 use tankwave_devices::instantiate;
 use tankwave_solve::*;
@@ -16,34 +15,9 @@ use tankwave_solve::*;
 mod support;
 use support::*;
 
-/// Half-wave peak rectifier at 1 MHz: 5 V sine, diode, 1 kΩ ‖ 10 nF.
-fn rectifier() -> (B, f64) {
-    let f = 1e6;
-    let mut b = B::new();
-    b.vsrc(
-        "vs",
-        "in",
-        "gnd",
-        Waveform {
-            dc: 0.0,
-            shape: Some(sine(5.0, f)),
-        },
-        0.0,
-    );
-    b.diode(
-        "d1",
-        "in",
-        "out",
-        DiodeParams {
-            sat_current: 1e-14,
-            cj0: 2e-12,
-            transit: 1e-9,
-            ..DiodeParams::default()
-        },
-    );
-    b.r("rl", "out", "gnd", 1e3);
-    b.cap("cl", "out", "gnd", 10e-9);
-    (b, f)
+/// The rectifier of tests/support at 1 MHz.
+fn rectifier_stage() -> (B, f64) {
+    (rectifier(1e6), 1e6)
 }
 
 /// The class-C demo stage of tests/support (13.56 MHz, invented model), 20 V drive.
@@ -93,7 +67,7 @@ fn bench_stage(c: &mut Criterion, name: &str, (b, f): (B, f64)) {
 }
 
 fn benches(c: &mut Criterion) {
-    bench_stage(c, "diode rectifier", rectifier());
+    bench_stage(c, "diode rectifier", rectifier_stage());
     bench_stage(c, "class-C stage", class_c_stage());
 }
 

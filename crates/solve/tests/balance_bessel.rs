@@ -12,7 +12,6 @@
 //! Vt = kT/q with the exact CODATA 2018 constants (check-values.md).
 
 mod support;
-use num_complex::Complex64;
 use support::*;
 use tankwave_circuit::ir::{DiodeParams, Shape, Waveform};
 use tankwave_circuit::SteadyMethod;
@@ -32,17 +31,6 @@ fn bessel_i(k: usize, x: f64) -> f64 {
         term *= h * h / ((m + 1) as f64 * (m + 1 + k) as f64);
     }
     sum
-}
-
-fn coef(x: &[f64], k: usize) -> Complex64 {
-    let n = x.len() as f64;
-    x.iter()
-        .enumerate()
-        .map(|(i, v)| {
-            v * Complex64::from_polar(1.0, -2.0 * std::f64::consts::PI * (k * i) as f64 / n)
-        })
-        .sum::<Complex64>()
-        / n
 }
 
 #[test]

@@ -9,28 +9,12 @@
 //! practice), i.e. 0.3 % (0.03 dB) at k = 32 for N = 1024.
 
 mod support;
-use num_complex::Complex64;
 use support::*;
 use tankwave_circuit::SteadyMethod;
 use tankwave_devices::{instantiate, DeviceSet};
 use tankwave_solve::*;
 
 const F0: f64 = CLASS_C_F0;
-
-fn coef(x: &[f64], k: usize) -> Complex64 {
-    let n = x.len() as f64;
-    x.iter()
-        .enumerate()
-        .map(|(i, v)| {
-            v * Complex64::from_polar(1.0, -2.0 * std::f64::consts::PI * (k * i) as f64 / n)
-        })
-        .sum::<Complex64>()
-        / n
-}
-
-fn amp(x: &[f64], k: usize) -> f64 {
-    2.0 * coef(x, k).norm()
-}
 
 fn run(b: &B, method: SteadyMethod, k: usize, steps: usize) -> (DeviceSet, PeriodicSolution) {
     let d = instantiate(&b.c).unwrap();

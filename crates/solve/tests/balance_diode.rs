@@ -12,7 +12,6 @@
 //! is what a discretisation error of the reference does.
 
 mod support;
-use num_complex::Complex64;
 use support::*;
 use tankwave_circuit::ir::{DiodeParams, Shape, Waveform};
 use tankwave_circuit::SteadyMethod;
@@ -20,22 +19,6 @@ use tankwave_devices::{instantiate, DeviceSet};
 use tankwave_solve::*;
 
 const F: f64 = 1e6;
-
-/// Two-sided coefficient c_k of one period of samples (amplitude 2|c_k|).
-fn coef(x: &[f64], k: usize) -> Complex64 {
-    let n = x.len() as f64;
-    x.iter()
-        .enumerate()
-        .map(|(i, v)| {
-            v * Complex64::from_polar(1.0, -2.0 * std::f64::consts::PI * (k * i) as f64 / n)
-        })
-        .sum::<Complex64>()
-        / n
-}
-
-fn amp(x: &[f64], k: usize) -> f64 {
-    2.0 * coef(x, k).norm()
-}
 
 fn diode_model() -> DiodeParams {
     DiodeParams {
@@ -51,16 +34,6 @@ fn sine_src(a: f64) -> Waveform {
         dc: 0.0,
         shape: Some(sine(a, F)),
     }
-}
-
-/// Half-wave peak rectifier: 5 V sine, diode, 1 kΩ ‖ 10 nF load.
-fn rectifier() -> B {
-    let mut b = B::new();
-    b.vsrc("vs", "in", "gnd", sine_src(5.0), 0.0);
-    b.diode("d1", "in", "out", diode_model());
-    b.r("rl", "out", "gnd", 1e3);
-    b.cap("cl", "out", "gnd", 10e-9);
-    b
 }
 
 /// Clipper: 3 V sine behind 1 kΩ into a diode (2 Ω series) to ground, 100 pF across it.
@@ -165,7 +138,7 @@ fn node_wave(name: &'static str) -> impl Fn(&DeviceSet, &PeriodicSolution) -> Ve
 
 #[test]
 fn rectifier_balance_matches_shooting() {
-    let b = rectifier();
+    let b = rectifier(F);
     let d1 = element(&b, "d1");
     let out = node_wave("v(out)");
     let diode_current =
@@ -206,7 +179,7 @@ fn clipper_balance_matches_shooting_and_settle() {
 
 #[test]
 fn returned_solution_obeys_kcl_and_is_band_limited() {
-    let b = rectifier();
+    let b = rectifier(F);
     let p = params(SteadyMethod::Balance, 32, 256);
     let (d, s) = run(&b, &p);
     let kmax = s.harmonics;
@@ -311,7 +284,7 @@ fn reduced_and_full_formulations_agree() {
 
 #[test]
 fn continuation_on_drive_reaches_the_same_solution() {
-    let b = rectifier();
+    let b = rectifier(F);
     let mut p = params(SteadyMethod::Balance, 16, 256);
     p.balance.raise_harmonics = false;
     let (d, direct) = run(&b, &p);

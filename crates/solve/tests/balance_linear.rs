@@ -49,18 +49,6 @@ fn pi_network(dc: f64, amp: f64) -> (B, usize) {
     (b, vs)
 }
 
-/// Two-sided coefficient c_k of one period of samples.
-fn coef(x: &[f64], k: usize) -> Complex64 {
-    let n = x.len() as f64;
-    x.iter()
-        .enumerate()
-        .map(|(i, v)| {
-            v * Complex64::from_polar(1.0, -2.0 * std::f64::consts::PI * (k * i) as f64 / n)
-        })
-        .sum::<Complex64>()
-        / n
-}
-
 fn ac_at(b: &B, vs: usize, f: f64) -> AcResult {
     let d = instantiate(&b.c).unwrap();
     let p = AcParams {

@@ -14,7 +14,7 @@
 mod support;
 use num_complex::Complex64;
 use support::*;
-use tankwave_circuit::ir::{DiodeParams, Waveform};
+use tankwave_circuit::ir::Waveform;
 use tankwave_circuit::SteadyMethod;
 use tankwave_devices::instantiate;
 use tankwave_solve::*;
@@ -158,37 +158,9 @@ fn settle_rlc_agrees_with_shooting() {
     assert!(dev < 1e-5, "{dev}");
 }
 
-fn rectifier() -> B {
-    let mut b = B::new();
-    b.vsrc(
-        "vs",
-        "in",
-        "gnd",
-        Waveform {
-            dc: 0.0,
-            shape: Some(sine(5.0, F)),
-        },
-        0.0,
-    );
-    b.diode(
-        "d1",
-        "in",
-        "out",
-        DiodeParams {
-            sat_current: 1e-14,
-            cj0: 2e-12,
-            transit: 1e-9,
-            ..DiodeParams::default()
-        },
-    );
-    b.r("rl", "out", "gnd", 1e3);
-    b.cap("cl", "out", "gnd", 10e-9);
-    b
-}
-
 #[test]
 fn shooting_and_settle_agree_on_a_diode_rectifier() {
-    let b = rectifier();
+    let b = rectifier(F);
     let d = instantiate(&b.c).unwrap();
     let mut params = SteadyParams {
         freq: F,
