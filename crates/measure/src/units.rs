@@ -113,7 +113,9 @@ fn decimals(x: f64, significant: usize) -> usize {
 /// `v` with an SI prefix and `significant` figures (1–15), e.g.
 /// `si_prefixed(4.7e-6, "H", 3)` → `"4.70 µH"`, `si_prefixed(999.96, "V", 3)`
 /// → `"1.00 kV"`. Below atto the value is written in scientific notation
-/// (`"4.19e-21 W"`). Zero is `"0 unit"`; a non-finite value is `"—"` (never
+/// (`"4.19e-21 W"`). A bare number (empty `unit`) takes no prefix: it is
+/// written plainly between 1e-4 and 1e6 (`"0.550"`), in scientific notation
+/// outside. Zero is `"0 unit"`; a non-finite value is `"—"` (never
 /// "NaN" in anything a person reads).
 pub fn si_prefixed(v: f64, unit: &str, significant: usize) -> String {
     if !v.is_finite() {
@@ -128,6 +130,18 @@ pub fn si_prefixed(v: f64, unit: &str, significant: usize) -> String {
     }
     let sig = significant.clamp(1, 15);
     let a = v.abs();
+    if unit.is_empty() {
+        // A bare number (a ratio, a factor): prefixes belong to units, so it
+        // is written plainly, in scientific notation far from 1.
+        let d = decimals(a, sig);
+        let rounded: f64 = format!("{a:.d$}").parse().unwrap_or(a);
+        return if (1e-4..1e6).contains(&rounded) {
+            format!("{v:.d$}")
+        } else {
+            let d = sig - 1;
+            format!("{v:.d$e}")
+        };
+    }
     let mut chosen = None;
     for p in SI_PREFIXES {
         // round first, so that 999.96 takes the next prefix up
@@ -142,20 +156,11 @@ pub fn si_prefixed(v: f64, unit: &str, significant: usize) -> String {
     // below the smallest prefix (atto): plain scientific notation
     let Some(chosen) = chosen else {
         let d = sig - 1;
-        return if unit.is_empty() {
-            format!("{v:.d$e}")
-        } else {
-            format!("{v:.d$e} {unit}")
-        };
+        return format!("{v:.d$e} {unit}");
     };
     let scaled = v / chosen.0;
     let d = decimals(scaled.abs(), sig);
-    let sep = if unit.is_empty() && chosen.1.is_empty() {
-        ""
-    } else {
-        " "
-    };
-    format!("{scaled:.d$}{sep}{}{unit}", chosen.1)
+    format!("{scaled:.d$} {}{unit}", chosen.1)
 }
 
 #[cfg(test)]
@@ -179,5 +184,9 @@ mod si_tests {
         // below atto, scientific notation rather than "0.00419 aW"
         assert_eq!(si_prefixed(4.19e-21, "W", 3), "4.19e-21 W");
         assert_eq!(si_prefixed(-1e-19, "", 3), "-1.00e-19");
+        // a bare number takes no prefix (prefixes attach to units)
+        assert_eq!(si_prefixed(0.55, "", 3), "0.550");
+        assert_eq!(si_prefixed(12345.0, "", 3), "12345");
+        assert_eq!(si_prefixed(2.5e7, "", 3), "2.50e7");
     }
 }

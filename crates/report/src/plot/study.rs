@@ -421,16 +421,12 @@ pub fn histogram_plot(
     })
 }
 
-/// A limit value for its label: with an SI prefix when the figure has a unit,
-/// plainly (four significant digits) when it is a ratio such as an
-/// efficiency, where "550 m" would read oddly.
+/// A limit value for its label: with an SI prefix when the figure has a
+/// unit; a ratio such as an efficiency plainly, trailing zeros dropped
+/// ("0.55", not "0.550").
 fn limit_text(v: f64, unit: &str) -> String {
-    if !unit.is_empty() || v == 0.0 || !v.is_finite() {
-        return si(v, unit);
-    }
-    let digits = (3 - v.abs().log10().floor() as i32).clamp(0, 12) as usize;
-    let t = format!("{v:.digits$}");
-    if t.contains('.') {
+    let t = si(v, unit);
+    if unit.is_empty() && t.contains('.') && !t.contains('e') {
         t.trim_end_matches('0').trim_end_matches('.').to_string()
     } else {
         t
