@@ -336,79 +336,8 @@ fn headline_section(
         ));
     }
     table_open(out, &["figure", "value"]);
-    if let Some(o) = &m.output {
-        row(
-            out,
-            &[
-                ("", format!("output power into {}", o.element)),
-                (
-                    "num",
-                    format!("{} ({})", si(o.p1_w, "W"), db(o.p1_dbm, "dBm")),
-                ),
-            ],
-        );
-    }
-    row(
-        out,
-        &[("", "supply power".into()), ("num", si(m.pdc_w, "W"))],
-    );
-    if let Some(e) = m.efficiency {
-        row(
-            out,
-            &[
-                ("", "collector efficiency".into()),
-                ("num", fixed(e * 100.0, 1, "%")),
-            ],
-        );
-    }
-    if let Some(e) = m.pae {
-        row(
-            out,
-            &[
-                ("", "power-added efficiency".into()),
-                ("num", fixed(e * 100.0, 1, "%")),
-            ],
-        );
-    }
-    if let Some(g) = m.gain_db {
-        row(out, &[("", "transducer gain".into()), ("num", db(g, "dB"))]);
-    }
-    if let Some(d) = &m.drive {
-        row(
-            out,
-            &[
-                ("", format!("drive power into {}", d.element)),
-                ("num", si(d.pin_w, "W")),
-            ],
-        );
-        if let Some(z) = d.z_in {
-            row(
-                out,
-                &[
-                    ("", "input impedance".into()),
-                    (
-                        "num",
-                        format!(
-                            "{} {} j{}",
-                            si(z.re, "Ohm"),
-                            if z.im < 0.0 { "-" } else { "+" },
-                            si(z.im.abs(), "Ohm")
-                        ),
-                    ),
-                ],
-            );
-        }
-        if let Some(v) = d.vswr {
-            row(out, &[("", "input VSWR".into()), ("num", fixed(v, 2, ""))]);
-        }
-    }
-    if let Some(o) = &m.output {
-        if let Some(t) = o.thd {
-            row(
-                out,
-                &[("", "THD".into()), ("num", fixed(t * 100.0, 2, "%"))],
-            );
-        }
+    for (figure, value) in crate::stage::headline_rows(m) {
+        row(out, &[("", figure), ("num", value)]);
     }
     table_close(out);
     if let Some(o) = &m.output {

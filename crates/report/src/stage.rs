@@ -188,52 +188,8 @@ pub fn steady_text(
         }
     }
     let mut t = Table::new(vec![("figure", Align::Left), ("value", Align::Right)]);
-    if let Some(o) = &m.output {
-        t.row(vec![
-            format!("output power ({})", o.element),
-            format!("{} ({})", si(o.p1_w, "W"), db(o.p1_dbm, "dBm")),
-        ]);
-    }
-    t.row(vec!["supply power".into(), si(m.pdc_w, "W")]);
-    if let Some(e) = m.efficiency {
-        t.row(vec![
-            "collector efficiency".into(),
-            fixed(e * 100.0, 1, "%"),
-        ]);
-    }
-    if let Some(e) = m.pae {
-        t.row(vec![
-            "power-added efficiency".into(),
-            fixed(e * 100.0, 1, "%"),
-        ]);
-    }
-    if let Some(g) = m.gain_db {
-        t.row(vec!["transducer gain".into(), db(g, "dB")]);
-    }
-    if let Some(d) = &m.drive {
-        t.row(vec![
-            format!("drive power in ({})", d.element),
-            si(d.pin_w, "W"),
-        ]);
-        if let Some(z) = d.z_in {
-            t.row(vec![
-                "input impedance".into(),
-                format!(
-                    "{} {} j{}",
-                    si(z.re, "Ohm"),
-                    if z.im < 0.0 { "-" } else { "+" },
-                    si(z.im.abs(), "Ohm")
-                ),
-            ]);
-        }
-        if let Some(v) = d.vswr {
-            t.row(vec!["input VSWR".into(), fixed(v, 2, "")]);
-        }
-    }
-    if let Some(o) = &m.output {
-        if let Some(thd) = o.thd {
-            t.row(vec!["THD".into(), fixed(thd * 100.0, 2, "%")]);
-        }
+    for (figure, value) in headline_rows(m) {
+        t.row(vec![figure, value]);
     }
     s.push_str(&t.render());
 
@@ -588,6 +544,51 @@ fn csv_field(s: &str) -> String {
     } else {
         s.to_string()
     }
+}
+
+/// The headline figures as (figure, value) text, in report order, shared by
+/// the terminal report and the HTML report: output power, supply power,
+/// efficiencies, gain, drive power, input impedance and VSWR, THD (each
+/// only when measured).
+pub(crate) fn headline_rows(m: &Metrics) -> Vec<(String, String)> {
+    let mut rows = Vec::new();
+    if let Some(o) = &m.output {
+        rows.push((
+            format!("output power ({})", o.element),
+            format!("{} ({})", si(o.p1_w, "W"), db(o.p1_dbm, "dBm")),
+        ));
+    }
+    rows.push(("supply power".into(), si(m.pdc_w, "W")));
+    if let Some(e) = m.efficiency {
+        rows.push(("collector efficiency".into(), fixed(e * 100.0, 1, "%")));
+    }
+    if let Some(e) = m.pae {
+        rows.push(("power-added efficiency".into(), fixed(e * 100.0, 1, "%")));
+    }
+    if let Some(g) = m.gain_db {
+        rows.push(("transducer gain".into(), db(g, "dB")));
+    }
+    if let Some(d) = &m.drive {
+        rows.push((format!("drive power in ({})", d.element), si(d.pin_w, "W")));
+        if let Some(z) = d.z_in {
+            rows.push((
+                "input impedance".into(),
+                format!(
+                    "{} {} j{}",
+                    si(z.re, "Ohm"),
+                    if z.im < 0.0 { "-" } else { "+" },
+                    si(z.im.abs(), "Ohm")
+                ),
+            ));
+        }
+        if let Some(v) = d.vswr {
+            rows.push(("input VSWR".into(), fixed(v, 2, "")));
+        }
+    }
+    if let Some(thd) = m.output.as_ref().and_then(|o| o.thd) {
+        rows.push(("THD".into(), fixed(thd * 100.0, 2, "%")));
+    }
+    rows
 }
 
 /// One row of the component stress table as text, shared by the terminal
