@@ -300,7 +300,6 @@ pub fn shooting(
         }
     };
     let mut last = (f64::INFINITY, 0usize);
-    let mut iterations = 0usize;
     let mut report = ShootingInfo {
         coarse_steps: if levels.len() > 1 { levels[0].ns } else { 0 },
         warmup_periods: if warm_start.is_some() {
@@ -336,7 +335,6 @@ pub fn shooting(
                 });
             }
             level_iter += 1;
-            iterations += 1;
             if final_level {
                 report.fine_periods += 1;
             } else {
@@ -388,7 +386,7 @@ pub fn shooting(
                         info: SteadyInfo {
                             method: SteadyMethod::Shooting,
                             fell_back_from: None,
-                            iterations,
+                            iterations: report.coarse_periods + report.fine_periods,
                             residual: worst.0,
                             system_size: n,
                             balance: None,
