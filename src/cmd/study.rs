@@ -342,7 +342,7 @@ pub fn run(a: &StudyArgs) -> i32 {
         }
     };
     if a.plots.is_some() || a.report.is_some() {
-        let drawn = assemble::study_figures(&file, &parsed, &loaded.circuit, &kept);
+        let drawn = assemble::study_figures(&file, &loaded.circuit, &kept);
         let mut files = visual::drawn_files(a.plots.as_deref(), &drawn);
         if let Some(path) = &a.report {
             let nominal = match pipeline::solve(&loaded.circuit, pipeline::Scope::Requirements) {
@@ -572,7 +572,7 @@ pub fn tune(a: &TuneArgs) -> i32 {
                 let u = cli_units
                     .get(&t.param)
                     .cloned()
-                    .unwrap_or_else(|| assemble::units::param_unit(&parsed, &t.param));
+                    .unwrap_or_else(|| assemble::units::param_unit(&loaded.circuit, &t.param));
                 (t.param.clone(), u)
             })
             .collect();

@@ -64,7 +64,8 @@ pub fn load_str(name: &str, text: &str, overrides: &Overrides) -> Result<Elabora
 pub fn elaborate(parsed: &Parsed, overrides: &Overrides) -> Result<Elaborated, Vec<Diagnostic>> {
     let mut cx = Cx::new(parsed, overrides);
     cx.diags.extend(parsed.diagnostics.iter().cloned());
-    let circuit = cx.run();
+    let mut circuit = cx.run();
+    circuit.param_units = crate::param_units::collect(parsed);
     let mut diags = cx.diags;
     diags.sort_by_key(|d| d.span.map(|s| (s.file, s.start)).unwrap_or((0, 0)));
     if diags.iter().any(|d| d.is_error()) {

@@ -54,6 +54,10 @@ pub struct Circuit {
     pub study: StudySpec,
     /// Every `let` parameter, evaluated (after overrides).
     pub params: BTreeMap<String, f64>,
+    /// The unit symbol each parameter is shown in, where the stage file
+    /// gives one (see [`crate::param_units`]); read from the file once, so
+    /// later layers never go back to the syntax tree.
+    pub param_units: BTreeMap<String, String>,
 }
 
 /// One element instance.

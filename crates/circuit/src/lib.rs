@@ -17,6 +17,7 @@ pub mod builtin;
 pub mod elaborate;
 pub mod ir;
 pub mod models;
+pub mod param_units;
 mod topology;
 
 pub use elaborate::{elaborate, load_file, load_str, Elaborated, LoadError};

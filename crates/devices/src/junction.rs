@@ -14,7 +14,7 @@
 //! * [`junction_current`] — `I = IS (exp(V/(n V_t)) − 1)` through the guard.
 //! * [`critical_voltage`] and [`limit_junction`] — Newton step limiting of a
 //!   junction voltage (L. W. Nagel, ERL M520, 1975; from memory, as written in
-//!   the project's design/check-values.md):
+//!   docs/check-values.md):
 //!   `Vcrit = nVt ln(nVt/(√2 IS))`; if `Vnew > Vcrit` and
 //!   `|Vnew − Vold| > 2nVt`: with `Vold > 0`,
 //!   `Vnew = Vold + nVt ln(1 + (Vnew − Vold)/nVt)` (or `Vcrit` when the log
@@ -193,7 +193,7 @@ impl Depletion {
 mod tests {
     use super::*;
 
-    // design/check-values.md, "Constants": CODATA 2018 thermal voltages.
+    // docs/check-values.md, "Constants": CODATA 2018 thermal voltages.
     #[test]
     fn thermal_voltage_codata() {
         // Values given to 12 digits; f64 rounding is far below 1e-12 V.
@@ -201,7 +201,7 @@ mod tests {
         assert!((thermal_voltage(300.0) - 0.025851999786).abs() < 1e-12);
     }
 
-    // design/check-values.md, "Junction voltage limiting" (Nagel 1975, memory):
+    // docs/check-values.md, "Junction voltage limiting" (Nagel 1975, memory):
     // IS 1e-14 A, 300.15 K, n = 1. Values printed to 9 decimals, so 1e-9 V.
     #[test]
     fn critical_voltage_and_limiting_vectors() {

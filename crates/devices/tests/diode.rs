@@ -120,7 +120,7 @@ fn stamp_structure_without_series_resistance() {
 #[test]
 fn limiting_uses_state_and_stays_consistent() {
     // IS 1e-14, n = 1, measured at the circuit temperature: the check-values
-    // vector (5.0, 0.6) → 0.733006066 V (Nagel 1975, memory; design/check-values.md).
+    // vector (5.0, 0.6) → 0.733006066 V (Nagel 1975, memory; docs/check-values.md).
     let p = DiodeParams {
         t_measured: 300.15,
         ..DiodeParams::default()

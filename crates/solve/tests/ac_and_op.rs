@@ -15,7 +15,7 @@ const LS: f64 = 135.430e-9;
 const RS: f64 = 2.9;
 const RL: f64 = 50.0;
 
-/// The pi network of design/check-values.md: 2.9 Ω → 50 Ω at 7.1 MHz, Q = 10
+/// The pi network of docs/check-values.md: 2.9 Ω → 50 Ω at 7.1 MHz, Q = 10
 /// (C. Bowick, RF Circuit Design, 2nd ed., 2008, ch. 4, memory; values
 /// computed independently with numpy from the Rv form).
 fn pi_network() -> (B, usize, usize, usize) {

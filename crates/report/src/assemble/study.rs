@@ -5,7 +5,6 @@
 //! nominal stage.
 
 use tankwave_circuit::{Circuit, VaryTarget};
-use tankwave_netlist::Parsed;
 use tankwave_study::{Record, RunInfo, Shard, Summary};
 
 use super::stage::{mask_evaluations, StageResults};
@@ -19,9 +18,9 @@ use crate::plot::{self, PlotParams};
 /// every figure (with the requirement limit where one applies) and, for a
 /// sweep without Monte Carlo, `sweep-NAME.svg`, each figure against the
 /// first swept parameter with one curve per value of the second. Axis units
-/// come from the stage file (`parsed`) and the circuit. A plot that cannot
+/// come from the circuit. A plot that cannot
 /// be drawn is noted instead.
-pub fn study_figures(file: &str, parsed: &Parsed, c: &Circuit, records: &[Record]) -> Drawn {
+pub fn study_figures(file: &str, c: &Circuit, records: &[Record]) -> Drawn {
     let p = PlotParams::for_source(file);
     let mut d = Drawn::default();
     let mut names: Vec<String> = records
@@ -35,7 +34,7 @@ pub fn study_figures(file: &str, parsed: &Parsed, c: &Circuit, records: &[Record
         .vary
         .iter()
         .map(|v| match &v.target {
-            VaryTarget::Param(n) => (n.clone(), param_unit(parsed, n)),
+            VaryTarget::Param(n) => (n.clone(), param_unit(c, n)),
             VaryTarget::Element(n) => (n.clone(), element_unit(c, n).to_string()),
         })
         .collect();
@@ -275,7 +274,6 @@ mod tests {
     fn sweep_figures_per_recorded_figure() {
         let text = format!("{STAGE}vary rl [25Ohm, 50Ohm]\nrequire pout >= 0.23W\n");
         let c = circuit(&text);
-        let parsed = tankwave_netlist::parse_str("t.tank", &text);
         let rec = |i: u64, rl: f64, p: f64| Record {
             index: i,
             values: [("rl".to_string(), rl)].into_iter().collect(),
@@ -283,12 +281,7 @@ mod tests {
             verdicts: Default::default(),
             error: None,
         };
-        let d = study_figures(
-            "t.tank",
-            &parsed,
-            &c,
-            &[rec(0, 25.0, 0.22), rec(1, 50.0, 0.25)],
-        );
+        let d = study_figures("t.tank", &c, &[rec(0, 25.0, 0.22), rec(1, 50.0, 0.25)]);
         assert!(d.notes.is_empty(), "{:?}", d.notes);
         let names: Vec<&str> = d.figures.iter().map(|f| f.name.as_str()).collect();
         assert_eq!(names, vec!["hist-pout-w.svg", "sweep-pout-w.svg"]);
