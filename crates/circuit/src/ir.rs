@@ -92,7 +92,7 @@ pub enum ElementKind {
         /// Voltage rating, V.
         rating_v: Option<f64>,
     },
-    /// `inductor NAME a b VALUE [r=Ω | q=Q [qfreq=Hz]] [rating=A]`.
+    /// `inductor NAME a b VALUE [r=Ω | q=Q [q_at=Hz]] [rating=A]`.
     Inductor {
         /// Terminal a (branch current flows a → b through the inductor).
         a: NodeId,
@@ -112,7 +112,7 @@ pub enum ElementKind {
         /// Coupling coefficient, |k| ≤ 1.
         k: f64,
     },
-    /// `vsource NAME p n [dc=V] [wave=...] [rs=Ω]`: v(p) − v(n) = dc + wave(t) behind rs.
+    /// `voltage source NAME p n [dc=V] [wave=...] [rs=Ω]`: v(p) − v(n) = dc + wave(t) behind rs.
     VSource {
         /// Positive terminal.
         p: NodeId,
@@ -123,7 +123,7 @@ pub enum ElementKind {
         /// Source resistance, Ω (0 = ideal).
         rs: f64,
     },
-    /// `isource NAME p n [dc=A] [wave=...]`: current dc + wave(t) flows from p through the source to n.
+    /// `current source NAME p n [dc=A] [wave=...]`: current dc + wave(t) flows from p through the source to n.
     ISource {
         /// Terminal the current leaves the external circuit into.
         p: NodeId,
@@ -132,7 +132,7 @@ pub enum ElementKind {
         /// The source value over time.
         wave: Waveform,
     },
-    /// `diode NAME anode cathode model=M [area=X]`.
+    /// `diode NAME anode cathode part=M [area=X]`.
     Diode {
         /// Anode.
         a: NodeId,
@@ -143,7 +143,7 @@ pub enum ElementKind {
         /// Area factor (scales currents and capacitances), default 1.
         area: f64,
     },
-    /// `bjt NAME c=.. b=.. e=.. model=M [area=X]`.
+    /// `bjt NAME c=.. b=.. e=.. part=M [area=X]`.
     Bjt {
         /// Collector.
         c: NodeId,
@@ -178,8 +178,8 @@ impl ElementKind {
             ElementKind::Capacitor { .. } => "capacitor",
             ElementKind::Inductor { .. } => "inductor",
             ElementKind::Coupling { .. } => "coupling",
-            ElementKind::VSource { .. } => "vsource",
-            ElementKind::ISource { .. } => "isource",
+            ElementKind::VSource { .. } => "voltage",
+            ElementKind::ISource { .. } => "current",
             ElementKind::Diode { .. } => "diode",
             ElementKind::Bjt { .. } => "bjt",
         }
@@ -198,9 +198,9 @@ pub struct Waveform {
 /// Time-varying source shapes.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Shape {
-    /// `sine(amp, freq, phase, offset, delay, rise)`:
-    /// `offset + amp·env(t)·sin(2π freq (t − delay) + phase)` for t ≥ delay, `offset` before,
-    /// where env ramps from 0 to 1 over `rise` seconds after `delay` (raised cosine), 1 if rise = 0.
+    /// `sine(amp, freq, phase, offset, start, rise)`:
+    /// `offset + amp·env(t)·sin(2π freq (t − start) + phase)` for t ≥ start, `offset` before,
+    /// where env ramps from 0 to 1 over `rise` seconds after `start` (raised cosine), 1 if rise = 0.
     Sine {
         /// Peak amplitude.
         amp: f64,
@@ -210,30 +210,32 @@ pub enum Shape {
         phase: f64,
         /// Constant offset.
         offset: f64,
-        /// Start delay, s.
+        /// Start time (`start=`), s.
         delay: f64,
         /// Amplitude rise time, s (0 = none).
         rise: f64,
     },
-    /// `pulse(low, high, delay, rise, fall, width, period)`.
-    Pulse {
-        /// Initial value.
-        low: f64,
-        /// Pulsed value.
-        high: f64,
-        /// Delay before the first edge, s.
-        delay: f64,
+    /// `square(base, top, start, rise, fall, hold, every)`: `base` until
+    /// `start`, then a ramp to `top` over `rise`, `top` for `hold`, a ramp
+    /// back over `fall`, `base` again; repeated every `every` seconds.
+    Square {
+        /// Value before and between pulses.
+        base: f64,
+        /// Value during a pulse.
+        top: f64,
+        /// Time of the first rising edge, s.
+        start: f64,
         /// Rise time, s.
         rise: f64,
         /// Fall time, s.
         fall: f64,
-        /// Time at `high`, s.
-        width: f64,
-        /// Period, s (0 or ∞ = single pulse).
-        period: f64,
+        /// Time at `top`, s.
+        hold: f64,
+        /// Repetition period, s (0 or ∞ = a single pulse).
+        every: f64,
     },
-    /// `pwl(t1 v1 t2 v2 ...)`: piecewise linear, held flat outside, times strictly increasing.
-    Pwl(Vec<(f64, f64)>),
+    /// `table(t1: v1, t2: v2, ...)`: linear between points, held flat outside, times strictly increasing.
+    Table(Vec<(f64, f64)>),
 }
 
 /// Kind of a model block.
@@ -518,9 +520,9 @@ pub enum Scale {
 /// An `analyze` statement.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Analysis {
-    /// `analyze op`.
+    /// `analyze bias`.
     Op,
-    /// `analyze transient stop=.. [step=..] [max_step=..] [start=op|zero] [method=trapezoidal|bdf2] [tolerance=..]`.
+    /// `analyze transient stop=.. [step=..] [max_step=..] [start=bias|zero] [method=trapezoidal|bdf2] [tolerance=..]`.
     Transient {
         /// End time, s.
         stop: f64,
