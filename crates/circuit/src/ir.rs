@@ -261,7 +261,7 @@ pub struct Model {
 }
 
 /// Typed model parameters, by kind.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub enum ModelParams {
     /// Diode parameters.
     Diode(DiodeParams),

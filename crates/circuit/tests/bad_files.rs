@@ -138,9 +138,9 @@ fn suggestions_name_the_nearest_name() {
     let diags = elaborate(&parsed, &Overrides::default()).expect_err("has an error");
     let d = diags
         .iter()
-        .find(|d| d.code == "unknown-model-param")
+        .find(|d| d.code == "unknown-part-param")
         .expect("unknown param");
-    assert_eq!(d.help.as_deref(), Some("did you mean 'gain_fwd'?"));
+    assert_eq!(d.help.as_deref(), Some("did you mean 'beta_reverse'?"));
 }
 
 #[test]

@@ -33,7 +33,7 @@ fn element_statement_shape() {
                 Some(Some(Unit::Henry))
             );
             let keys: Vec<&str> = e.options.iter().map(|o| o.key.name.as_str()).collect();
-            assert_eq!(keys, vec!["q", "qfreq"]);
+            assert_eq!(keys, vec!["q", "q_at"]);
         }
         s => panic!("{s:?}"),
     }
