@@ -13,7 +13,6 @@
 use crate::builtin::builtin_names;
 use crate::ir::*;
 use crate::models::{self, Need, Param, Range, BJT_PARAMS, DIODE_PARAMS};
-use tankwave_netlist::vocab::{self, Place};
 use crate::topology;
 use std::collections::HashMap;
 use std::path::Path;
@@ -21,6 +20,7 @@ use std::sync::Arc;
 use tankwave_netlist::ast::*;
 use tankwave_netlist::expr::{self, EvalError};
 use tankwave_netlist::suggest::did_you_mean;
+use tankwave_netlist::vocab::{self, Place};
 use tankwave_netlist::{Diagnostic, Parsed, Severity, Slot, SourceMap, Span};
 
 /// A successfully elaborated stage.
@@ -660,8 +660,7 @@ impl<'a> Cx<'a> {
                             e.span,
                             "ambient temperature (in kelvin)",
                             Range::Positive,
-                        )
-                        {
+                        ) {
                             c.temperature_k = v;
                         }
                     }
@@ -820,7 +819,10 @@ impl<'a> Cx<'a> {
                                 "uniform" => Some(Distribution::Uniform),
                                 "gaussian" => Some(Distribution::Gaussian),
                                 other => {
-                                    let help = did_you_mean(other, vocab::option_words("tolerance", "distribution").iter());
+                                    let help = did_you_mean(
+                                        other,
+                                        vocab::option_words("tolerance", "distribution").iter(),
+                                    );
                                     self.error("unknown-keyword", d.span, format!("distribution must be uniform or gaussian, got '{other}'")).help = help;
                                     None
                                 }
@@ -1118,12 +1120,9 @@ impl<'a> Cx<'a> {
                 };
                 let method = match m.get("method") {
                     None => Integration::Trapezoidal,
-                    Some(o) => match self
-                        .opt_expr(o)
-                        .and_then(|e| {
-                            self.word(e, vocab::option_words("transient", "method"), "method")
-                        })?
-                    {
+                    Some(o) => match self.opt_expr(o).and_then(|e| {
+                        self.word(e, vocab::option_words("transient", "method"), "method")
+                    })? {
                         "bdf2" => Integration::Bdf2,
                         _ => Integration::Trapezoidal,
                     },

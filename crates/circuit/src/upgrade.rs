@@ -110,9 +110,9 @@ pub fn upgrade(name: &str, text: &str) -> Result<String, UpgradeError> {
         .filter(|d| {
             d.code == "old-spelling"
                 || d.span.is_some_and(|s| {
-                    rewritten
-                        .iter()
-                        .any(|&(a, b)| (s.start as usize) < b && (s.end as usize).max(s.start as usize + 1) > a)
+                    rewritten.iter().any(|&(a, b)| {
+                        (s.start as usize) < b && (s.end as usize).max(s.start as usize + 1) > a
+                    })
                 })
         })
         .map(|d| {
@@ -337,7 +337,8 @@ impl Walk<'_> {
             k = next;
         }
         let whole = self.toks[i].span.to(self.toks[k].span);
-        let body_text = &self.text[self.toks[i + 3].span.end as usize..self.toks[k].span.start as usize];
+        let body_text =
+            &self.text[self.toks[i + 3].span.end as usize..self.toks[k].span.start as usize];
         let comments: Vec<String> = body_text
             .lines()
             .filter_map(|l| l.find('#').map(|p| l[p..].trim_end().to_string()))
@@ -346,7 +347,10 @@ impl Walk<'_> {
             "npn" | "pnp" => self.blocks(&name, &kind, BJT_PARAMS, &given, &comments),
             "diode" => self.blocks(&name, &kind, DIODE_PARAMS, &given, &comments),
             _ => {
-                self.error(self.toks[i + 2].span, format!("unknown model kind '{kind}'"));
+                self.error(
+                    self.toks[i + 2].span,
+                    format!("unknown model kind '{kind}'"),
+                );
                 return;
             }
         };

@@ -61,8 +61,12 @@ fn the_mask_and_study_examples_parse() {
 }
 
 fn read_doc(name: &str) -> String {
-    std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("../../docs").join(name))
-        .unwrap_or_else(|e| panic!("docs/{name}: {e}"))
+    std::fs::read_to_string(
+        Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("../../docs")
+            .join(name),
+    )
+    .unwrap_or_else(|e| panic!("docs/{name}: {e}"))
 }
 
 /// The text between `<!-- parameters: KEY -->` and the next `<!-- end -->`.
@@ -79,8 +83,16 @@ fn models_md_parameter_tables_are_the_declaration() {
     let d = read_doc("models.md");
     let bjt = docs_table(BJT_PARAMS);
     let diode = docs_table(DIODE_PARAMS);
-    assert_eq!(marked(&d, "bipolar"), bjt, "regenerate from models::docs_table:\n{bjt}");
-    assert_eq!(marked(&d, "diode"), diode, "regenerate from models::docs_table:\n{diode}");
+    assert_eq!(
+        marked(&d, "bipolar"),
+        bjt,
+        "regenerate from models::docs_table:\n{bjt}"
+    );
+    assert_eq!(
+        marked(&d, "diode"),
+        diode,
+        "regenerate from models::docs_table:\n{diode}"
+    );
 }
 
 /// Every (name, kind) row of docs/vocabulary.md's tables: `| \`name\` | kind | why |`.
@@ -118,7 +130,11 @@ fn vocabulary_md_lists_exactly_the_words_the_language_accepts() {
         .filter(|k| !vocab::ELEMENT_KINDS.contains(k))
         .collect();
     assert_eq!(of("statement"), set(statements), "statement keywords");
-    assert_eq!(of("element"), set(vocab::ELEMENT_KINDS.to_vec()), "element kinds");
+    assert_eq!(
+        of("element"),
+        set(vocab::ELEMENT_KINDS.to_vec()),
+        "element kinds"
+    );
     assert_eq!(
         of("waveform"),
         set(vocab::WAVEFORMS.iter().map(|(n, _)| *n).collect()),
@@ -126,7 +142,10 @@ fn vocabulary_md_lists_exactly_the_words_the_language_accepts() {
     );
     assert_eq!(
         of("waveform argument"),
-        set(vocab::WAVEFORMS.iter().flat_map(|(_, a)| a.iter().copied()).collect()),
+        set(vocab::WAVEFORMS
+            .iter()
+            .flat_map(|(_, a)| a.iter().copied())
+            .collect()),
         "waveform arguments"
     );
     assert_eq!(
@@ -143,10 +162,17 @@ fn vocabulary_md_lists_exactly_the_words_the_language_accepts() {
     assert_eq!(of("option"), set(options), "options");
     assert_eq!(
         of("option word"),
-        set(vocab::OPTION_WORDS.iter().flat_map(|(_, _, w)| w.iter().copied()).collect()),
+        set(vocab::OPTION_WORDS
+            .iter()
+            .flat_map(|(_, _, w)| w.iter().copied())
+            .collect()),
         "option words"
     );
-    assert_eq!(of("part kind"), set(vocab::PART_KINDS.to_vec()), "part kinds");
+    assert_eq!(
+        of("part kind"),
+        set(vocab::PART_KINDS.to_vec()),
+        "part kinds"
+    );
     let mut bl = blocks(BJT_PARAMS);
     bl.extend(blocks(DIODE_PARAMS));
     assert_eq!(of("part block"), set(bl), "part blocks");

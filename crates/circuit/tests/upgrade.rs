@@ -14,10 +14,19 @@ fn up(text: &str) -> String {
 
 #[test]
 fn statement_keywords_and_options() {
-    assert_eq!(up("vsource v1 a gnd dc=1V rs=50Ohm\n"), "voltage v1 a gnd dc=1V internal=50Ohm\n");
+    assert_eq!(
+        up("vsource v1 a gnd dc=1V rs=50Ohm\n"),
+        "voltage v1 a gnd dc=1V internal=50Ohm\n"
+    );
     assert_eq!(up("isource i1 a gnd dc=1mA\n"), "current i1 a gnd dc=1mA\n");
-    assert_eq!(up("temperature 30degC   # warm\n"), "ambient 30degC   # warm\n");
-    assert_eq!(up("diode d1 a gnd model=dx area=2\n"), "diode d1 a gnd part=dx area=2\n");
+    assert_eq!(
+        up("temperature 30degC   # warm\n"),
+        "ambient 30degC   # warm\n"
+    );
+    assert_eq!(
+        up("diode d1 a gnd model=dx area=2\n"),
+        "diode d1 a gnd part=dx area=2\n"
+    );
     assert_eq!(
         up("inductor l1 a b 1uH q=100 qfreq=7MHz\n"),
         "inductor l1 a b 1uH q=100 q_at=7MHz\n"
@@ -67,7 +76,10 @@ fn a_file_in_the_current_spelling_is_unchanged() {
 fn models_become_parts_with_the_old_defaults_written_out() {
     let old = "# before\nmodel q npn {\n  sat_current=1pA  # from the data\n  cj_be=10pF leak_be=1pA\n}\n";
     let new = up(old);
-    assert!(new.starts_with("# before\npart q npn {\n  # from the data\n"), "{new}");
+    assert!(
+        new.starts_with("# before\npart q npn {\n  # from the data\n"),
+        "{new}"
+    );
     // Required, and defaults that changed, are written with the old values.
     for w in [
         "beta=100",
@@ -81,7 +93,12 @@ fn models_become_parts_with_the_old_defaults_written_out() {
         assert!(new.contains(w), "{w} missing in\n{new}");
     }
     // Effects that were off stay off without being written.
-    for w in ["bc_potential", "bc_grading", "bc_ideality=", "early_voltage"] {
+    for w in [
+        "bc_potential",
+        "bc_grading",
+        "bc_ideality=",
+        "early_voltage",
+    ] {
         assert!(!new.contains(w), "{w} written in\n{new}");
     }
     // Every old flat name maps onto the row of the same field, with the
@@ -129,14 +146,21 @@ fn the_old_demo_upgrades_to_the_migrated_demo_circuit() {
     }
     let a = load_file(dir.path().join("stage.tank"), &Overrides::default())
         .unwrap_or_else(|e| panic!("{:#?}", e.diagnostics));
-    let b = load_file(root.join("netlists/ism-13m56-classc.tank"), &Overrides::default())
-        .unwrap_or_else(|e| panic!("{:#?}", e.diagnostics));
+    let b = load_file(
+        root.join("netlists/ism-13m56-classc.tank"),
+        &Overrides::default(),
+    )
+    .unwrap_or_else(|e| panic!("{:#?}", e.diagnostics));
     let kinds = |c: &tankwave_circuit::Circuit| -> Vec<String> {
-        c.elements.iter().map(|e| format!("{} {:?}", e.name, e.kind)).collect()
+        c.elements
+            .iter()
+            .map(|e| format!("{} {:?}", e.name, e.kind))
+            .collect()
     };
     assert_eq!(kinds(&a.circuit), kinds(&b.circuit));
-    let params =
-        |c: &tankwave_circuit::Circuit| -> Vec<ModelParams> { c.models.iter().map(|m| m.params.clone()).collect() };
+    let params = |c: &tankwave_circuit::Circuit| -> Vec<ModelParams> {
+        c.models.iter().map(|m| m.params.clone()).collect()
+    };
     assert_eq!(params(&a.circuit), params(&b.circuit));
     assert_eq!(a.circuit.analyses, b.circuit.analyses);
     assert_eq!(a.circuit.temperature_k, b.circuit.temperature_k);
@@ -146,16 +170,26 @@ fn the_old_demo_upgrades_to_the_migrated_demo_circuit() {
 fn old_spellings_are_refused_with_the_new_form() {
     for (text, shows) in [
         ("vsource v1 a gnd dc=1V\n", "'vsource' is now 'voltage'"),
-        ("voltage v1 a gnd wave=pulse(0V, 1V)\n", "square(base=…, top=…"),
+        (
+            "voltage v1 a gnd wave=pulse(0V, 1V)\n",
+            "square(base=…, top=…",
+        ),
         ("voltage v1 a gnd wave=pwl(0 0V 1us 1V)\n", "table(0s: 0V"),
-        ("voltage v1 a gnd wave=sine(1V, 1MHz)\n", "named arguments only"),
+        (
+            "voltage v1 a gnd wave=sine(1V, 1MHz)\n",
+            "named arguments only",
+        ),
         ("voltage v1 a gnd dc=1V rs=5Ohm\n", "'rs' is now 'internal'"),
         ("model q npn { gain_fwd=5 }\n", "'model' is now 'part'"),
         ("temperature 25degC\n", "'temperature' is now 'ambient'"),
         ("analyze op\n", "'op' is now 'bias'"),
     ] {
-        let err = load_str("t.tank", &format!("{text}resistor r1 a gnd 1\n"), &Overrides::default())
-            .expect_err(text);
+        let err = load_str(
+            "t.tank",
+            &format!("{text}resistor r1 a gnd 1\n"),
+            &Overrides::default(),
+        )
+        .expect_err(text);
         let d = err
             .diagnostics
             .iter()

@@ -277,7 +277,12 @@ pub fn check(w: &ir::Waveform, element: &str) -> Result<(), DeviceError> {
                 fin("table time", t)?;
                 fin("table value", v)?;
                 if t <= prev {
-                    return Err(bad(element, "table time", t, "times must increase strictly"));
+                    return Err(bad(
+                        element,
+                        "table time",
+                        t,
+                        "times must increase strictly",
+                    ));
                 }
                 prev = t;
             }

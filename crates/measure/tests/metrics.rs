@@ -4,7 +4,7 @@ mod common;
 
 use std::f64::consts::PI;
 
-use common::{alpha_closed, bjt, bjt_model, circuit, resistor, sample, truncated_cosine, voltage source};
+use common::{alpha_closed, bjt, bjt_model, circuit, resistor, sample, truncated_cosine, vsource};
 use num_complex::Complex64;
 use tankwave_circuit::{BjtParams, Circuit};
 use tankwave_measure::units::{reflection, vswr};
@@ -30,7 +30,7 @@ fn class_c(full_deg: f64, n: usize, params: BjtParams) -> ClassC {
     let mut c = circuit(
         &["vcc", "c", "out", "b"],
         vec![
-            voltage("vcc", Some(0), None, VCC, 0.0),
+            vsource("vcc", Some(0), None, VCC, 0.0),
             bjt("q1", Some(1), Some(3), None, 0),
             resistor("rl", Some(2), None, 1.0, Some(10.0)),
         ],
@@ -152,7 +152,7 @@ fn resistor_fed_by_known_waveform() {
     let mut c = circuit(
         &["a"],
         vec![
-            voltage("vs", Some(0), None, v0, 0.0),
+            vsource("vs", Some(0), None, v0, 0.0),
             resistor("rl", Some(0), None, r, Some(2.0)),
         ],
     );
@@ -211,7 +211,7 @@ fn drive_impedance_vswr_and_available_power() {
     let i1 = vs / (z + rs);
     let v1 = z * i1;
     let n = 32;
-    let mut c = circuit(&["in"], vec![voltage("drive", Some(0), None, 0.0, rs)]);
+    let mut c = circuit(&["in"], vec![vsource("drive", Some(0), None, 0.0, rs)]);
     c.input = Some(0);
     let v = sample(n, |x| (v1 * Complex64::cis(x)).re);
     let ip: Vec<f64> = sample(n, |x| -(i1 * Complex64::cis(x)).re);
@@ -296,7 +296,7 @@ fn zero_input_never_gives_nan() {
         },
     );
     let mut c = s.circuit.clone();
-    c.elements.push(voltage("drive", Some(3), None, 0.0, 50.0));
+    c.elements.push(vsource("drive", Some(3), None, 0.0, 50.0));
     c.input = Some(3);
     s.circuit = c;
     for row in s.v.iter_mut() {

@@ -300,12 +300,7 @@ impl<'a> Parser<'a> {
             }
             old if vocab::retired(old, Place::Statement).is_some() => {
                 if let Some(r) = vocab::retired(old, Place::Statement) {
-                    self.err_help(
-                        "old-spelling",
-                        t.span,
-                        vocab::retired_message(r),
-                        None,
-                    );
+                    self.err_help("old-spelling", t.span, vocab::retired_message(r), None);
                 }
                 return Err(());
             }
@@ -414,11 +409,7 @@ impl<'a> Parser<'a> {
             self.err_help(
                 "unknown-keyword",
                 shape.span,
-                format!(
-                    "unknown waveform '{}' ({})",
-                    shape.name,
-                    names.join(", ")
-                ),
+                format!("unknown waveform '{}' ({})", shape.name, names.join(", ")),
                 help,
             );
             return Err(());
@@ -444,10 +435,7 @@ impl<'a> Parser<'a> {
                          run `tankwave upgrade FILE` to rewrite positional ones"
                             .to_string()
                     } else {
-                        format!(
-                            "{} takes named arguments only (name=value)",
-                            shape.name
-                        )
+                        format!("{} takes named arguments only (name=value)", shape.name)
                     };
                     let code = if shape.name == "sine" {
                         "old-spelling"

@@ -95,7 +95,11 @@ pub const OPTION_WORDS: &[(&str, &str, &[&str])] = &[
     ("transient", "start", &["bias", "zero"]),
     ("transient", "method", &["trapezoidal", "bdf2"]),
     ("ac", "scale", &["linear", "log"]),
-    ("steady", "method", &["auto", "balance", "shooting", "settle"]),
+    (
+        "steady",
+        "method",
+        &["auto", "balance", "shooting", "settle"],
+    ),
     ("tolerance", "distribution", &["uniform", "gaussian"]),
 ];
 

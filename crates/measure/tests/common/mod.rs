@@ -60,7 +60,7 @@ pub fn resistor(name: &str, a: NodeId, b: NodeId, r: f64, rating_w: Option<f64>)
     el(name, ElementKind::Resistor { a, b, r, rating_w })
 }
 
-pub fn voltage source(name: &str, p: NodeId, n: NodeId, dc: f64, rs: f64) -> Element {
+pub fn vsource(name: &str, p: NodeId, n: NodeId, dc: f64, rs: f64) -> Element {
     el(
         name,
         ElementKind::VSource {
