@@ -254,7 +254,7 @@ impl Walk<'_> {
         let call = self.toks[j].span.to(self.toks[k].span);
         let text = match shape {
             "pwl" => {
-                if args.iter().any(|(n, _)| n.is_some()) || args.len() % 2 != 0 {
+                if args.iter().any(|(n, _)| n.is_some()) || !args.len().is_multiple_of(2) {
                     self.error(call, "pwl(…) needs plain time value pairs to be upgraded");
                     return None;
                 }
