@@ -47,6 +47,9 @@ enum Command {
     /// Find the values of named parameters (e.g. tuning and loading capacitors) that peak the stage.
     #[command(after_help = EXIT_CODES)]
     Tune(cmd::study::TuneArgs),
+    /// Rewrite a stage file from retired spellings (vsource, pulse, model, ...) to the current ones.
+    #[command(after_help = EXIT_CODES)]
+    Upgrade(cmd::upgrade::UpgradeArgs),
     /// Synthesise a load line, matching network, low-pass filter or feed choke.
     #[command(after_help = EXIT_CODES)]
     Design(cmd::design::DesignArgs),
@@ -69,6 +72,7 @@ fn main() -> ExitCode {
         Command::Merge(a) => cmd::study::merge(&a),
         Command::Tune(a) => cmd::study::tune(&a),
         Command::Design(a) => cmd::design::run(a),
+        Command::Upgrade(a) => cmd::upgrade::run(&a),
     };
     ExitCode::from(code.clamp(0, 255) as u8)
 }

@@ -7,4 +7,5 @@ pub mod design;
 pub mod lint;
 pub mod run;
 pub mod study;
+pub mod upgrade;
 pub mod visual;

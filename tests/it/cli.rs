@@ -639,3 +639,57 @@ fn study_report_and_tune_plot_options_are_checked_before_any_work() {
     }
     assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0);
 }
+
+#[test]
+fn upgrade_prints_the_new_spelling_and_keeps_comments() {
+    let o = run(&["upgrade", p(&data("upgrade/old-ism-13m56-classc.tank"))]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let s = stdout(&o);
+    assert!(s.contains("voltage   vsup  vcc   gnd   dc=vcc"), "{s}");
+    assert!(s.contains("internal=50Ohm"), "{s}");
+    assert!(s.contains("part=tw_hf25"), "{s}");
+    assert!(s.contains("analyze bias"), "{s}");
+    assert!(s.contains("ambient 25degC"), "{s}");
+    assert!(s.contains("# Class C by self-bias"), "comments kept: {s}");
+}
+
+#[test]
+fn upgrade_out_refuses_the_input_file_and_non_regular_files() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join("old.tank");
+    std::fs::copy(data("upgrade/old-tw-drv.tank"), &f).unwrap();
+    let before = std::fs::read(&f).unwrap();
+    // The same file by another spelling of its path.
+    let sub = dir.path().join("sub");
+    std::fs::create_dir(&sub).unwrap();
+    let other = sub.join("..").join("old.tank");
+    let o = run(&["upgrade", p(&f), "--out", p(&other)]);
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    assert!(stderr(&o).contains("is the input file"), "{}", stderr(&o));
+    assert_eq!(std::fs::read(&f).unwrap(), before, "input untouched");
+    // A directory is not a regular file.
+    let o = run(&["upgrade", p(&f), "--out", p(&sub)]);
+    assert_eq!(code(&o), 2);
+    assert!(stderr(&o).contains("not a regular file"), "{}", stderr(&o));
+    // A new file is written whole and reads as the current language.
+    let new = dir.path().join("new.tank");
+    let o = run(&["upgrade", p(&f), "--out", p(&new)]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let text = std::fs::read_to_string(&new).unwrap();
+    assert!(text.starts_with("# Invented transistor model"), "{text}");
+    assert!(text.contains("part tw_drv npn {"), "{text}");
+    let lint = run(&["lint", p(&new)]);
+    assert_eq!(code(&lint), 0, "{}", stderr(&lint));
+}
+
+#[test]
+fn upgrade_of_an_unreadable_file_exits_2_with_file_line_column() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join("broken.tank");
+    std::fs::write(&f, "vsource v1 a gnd dc=1V\nresistor r1 a gnd 12.5.3\n").unwrap();
+    let o = run(&["upgrade", p(&f)]);
+    assert_eq!(code(&o), 2);
+    let e = stderr(&o);
+    assert!(e.contains("broken.tank:2:19"), "{e}");
+    assert!(stdout(&o).is_empty());
+}

@@ -43,9 +43,9 @@ fn stage(
     harmonics: usize,
 ) -> String {
     let mut s = String::from("title \"random smoke network\"\n");
-    s.push_str("model dsmoke diode { sat_current=10fA emission=1.2 r_series=0.5Ohm }\n");
+    s.push_str("part dsmoke diode { junction { sat_current=10fA ideality=1.2 } resistance { series=0.5Ohm } }\n");
     s.push_str(&format!(
-        "vsource vs n1 gnd dc={dc}V wave=sine(amp={amp}V, freq={freq}Hz) rs={rs}Ohm\n"
+        "voltage vs n1 gnd dc={dc}V wave=sine(amp={amp}V, freq={freq}Hz) internal={rs}Ohm\n"
     ));
     for k in 1..=nodes {
         let r = shunts[(k - 1) % shunts.len()];
@@ -60,7 +60,7 @@ fn stage(
         match part {
             Part::R(v) => s.push_str(&format!("resistor r{i} {na} {nb} {v}Ohm\n")),
             Part::C(v) => s.push_str(&format!("capacitor c{i} {na} {nb} {v}F\n")),
-            Part::D => s.push_str(&format!("diode d{i} {na} {nb} model=dsmoke\n")),
+            Part::D => s.push_str(&format!("diode d{i} {na} {nb} part=dsmoke\n")),
         }
     }
     for (k, l) in inductors.iter().take(nodes).enumerate() {
@@ -74,7 +74,7 @@ fn stage(
             ));
         }
     }
-    s.push_str("analyze op\n");
+    s.push_str("analyze bias\n");
     s.push_str(&format!(
         "analyze transient stop=({}/{freq}) step=(1/({freq}*32))\n",
         4

@@ -12,7 +12,7 @@ use tankwave_netlist::parse_str;
 fn generate(n: usize) -> String {
     let mut s = String::with_capacity(n * 40);
     s.push_str("title \"generated ladder\"\nlet rs = 10Ohm\nlet cs = 1nF\nlet f0 = 10MHz\n");
-    s.push_str("vsource vin n0 gnd wave=sine(amp=1V, freq=f0) rs=50Ohm\n");
+    s.push_str("voltage vin n0 gnd wave=sine(amp=1V, freq=f0) internal=50Ohm\n");
     let mut made = 1;
     let mut i = 0;
     while made < n {

@@ -12,7 +12,7 @@
 
 use crate::builtin::builtin_names;
 use crate::ir::*;
-use crate::models::{set_bjt, set_diode, Range, BJT_PARAMS, DIODE_PARAMS};
+use crate::models::{self, Need, Param, Range, BJT_PARAMS, DIODE_PARAMS};
 use crate::topology;
 use std::collections::HashMap;
 use std::path::Path;
@@ -20,6 +20,7 @@ use std::sync::Arc;
 use tankwave_netlist::ast::*;
 use tankwave_netlist::expr::{self, EvalError};
 use tankwave_netlist::suggest::did_you_mean;
+use tankwave_netlist::vocab::{self, Place};
 use tankwave_netlist::{Diagnostic, Parsed, Severity, Slot, SourceMap, Span};
 
 /// A successfully elaborated stage.
@@ -376,6 +377,12 @@ impl<'a> Cx<'a> {
                 Some(intern(n))
             }
             None => {
+                if let Some(r) = vocab::retired(n, Place::Word) {
+                    if allowed.contains(&r.new) {
+                        self.error("old-spelling", e.span, vocab::retired_message(r));
+                        return None;
+                    }
+                }
                 let help = did_you_mean(n, allowed.iter());
                 self.error(
                     "unknown-keyword",
@@ -396,9 +403,14 @@ impl<'a> Cx<'a> {
         ctx: &str,
     ) -> HashMap<&'a str, &'a Opt> {
         let mut m: HashMap<&'a str, &'a Opt> = HashMap::new();
+        let stmt_kind = ctx.split_whitespace().next().unwrap_or("");
         for o in options {
             let k = o.key.name.as_str();
             if !allowed.contains(&k) {
+                if let Some(r) = vocab::retired_option(k, stmt_kind) {
+                    self.error("old-spelling", o.key.span, vocab::retired_message(r));
+                    continue;
+                }
                 let help = if allowed.is_empty() {
                     Some(format!("{ctx} takes no options"))
                 } else {
@@ -537,12 +549,12 @@ impl<'a> Cx<'a> {
                         stmt: e,
                     });
                 }
-                Stmt::Model(m) => {
+                Stmt::Part(m) => {
                     if self.models.contains_key(m.name.name.as_str()) {
                         self.error(
                             "duplicate-name",
                             m.name.span,
-                            format!("model '{}' is already defined", m.name.name),
+                            format!("part '{}' is already defined", m.name.name),
                         );
                     } else {
                         let id = self.models.len();
@@ -603,10 +615,10 @@ impl<'a> Cx<'a> {
             }
         }
 
-        // Models.
+        // Parts.
         for s in stmts {
-            if let Stmt::Model(m) = &s.stmt {
-                if let Some(model) = self.model(m) {
+            if let Stmt::Part(m) = &s.stmt {
+                if let Some(model) = self.part(m) {
                     c.models.push(model);
                 }
             }
@@ -620,7 +632,7 @@ impl<'a> Cx<'a> {
             let single = matches!(
                 s.stmt,
                 Stmt::Title(_)
-                    | Stmt::Temperature(_)
+                    | Stmt::Ambient(_)
                     | Stmt::Output(_)
                     | Stmt::Input(_)
                     | Stmt::MonteCarlo(_)
@@ -642,11 +654,14 @@ impl<'a> Cx<'a> {
             }
             match &s.stmt {
                 Stmt::Title(t) => c.title = Some(t.clone()),
-                Stmt::Temperature(e) => {
-                    if let Some(v) = self.value(e, Slot::Temperature, "temperature") {
-                        if let Some(v) =
-                            self.check_range(v, e.span, "temperature (in kelvin)", Range::Positive)
-                        {
+                Stmt::Ambient(e) => {
+                    if let Some(v) = self.value(e, Slot::Temperature, "ambient temperature") {
+                        if let Some(v) = self.check_range(
+                            v,
+                            e.span,
+                            "ambient temperature (in kelvin)",
+                            Range::Positive,
+                        ) {
                             c.temperature_k = v;
                         }
                     }
@@ -721,13 +736,13 @@ impl<'a> Cx<'a> {
                     if let Some(e) = self.element_ref(id, "input") {
                         if !matches!(
                             self.elem_kind(e),
-                            Some(ElemKeyword::VSource | ElemKeyword::ISource)
+                            Some(ElemKeyword::Voltage | ElemKeyword::Current)
                         ) {
                             self.error(
                                 "element-kind",
                                 id.span,
                                 format!(
-                                    "input must be a vsource or isource, '{}' is a {}",
+                                    "input must be a voltage or current source, '{}' is a {}",
                                     id.name,
                                     self.elem_kind(e).map(|k| k.keyword()).unwrap_or("?")
                                 ),
@@ -805,7 +820,10 @@ impl<'a> Cx<'a> {
                                 "uniform" => Some(Distribution::Uniform),
                                 "gaussian" => Some(Distribution::Gaussian),
                                 other => {
-                                    let help = did_you_mean(other, ["uniform", "gaussian"].iter());
+                                    let help = did_you_mean(
+                                        other,
+                                        vocab::option_words("tolerance", "distribution").iter(),
+                                    );
                                     self.error("unknown-keyword", d.span, format!("distribution must be uniform or gaussian, got '{other}'")).help = help;
                                     None
                                 }
@@ -821,7 +839,7 @@ impl<'a> Cx<'a> {
                     }
                 }
                 Stmt::MonteCarlo(opts) => {
-                    let m = self.opts(opts, &["runs", "seed"], "montecarlo");
+                    let m = self.opts(opts, vocab::MONTECARLO_OPTIONS, "montecarlo");
                     let runs = match m.get("runs") {
                         Some(o) => self.opt_expr(o).and_then(|e| self.integer(e, "runs", 1)),
                         None => {
@@ -886,74 +904,37 @@ impl<'a> Cx<'a> {
         c
     }
 
-    // ---------------------------------------------------------------- models
+    // ---------------------------------------------------------------- parts
 
-    fn model(&mut self, m: &'a ModelStmt) -> Option<Model> {
+    fn part(&mut self, m: &'a PartStmt) -> Option<Model> {
         let kind = match m.kind.name.as_str() {
             "npn" => ModelKind::Npn,
             "pnp" => ModelKind::Pnp,
             "diode" => ModelKind::Diode,
             other => {
-                let help = did_you_mean(other, ["npn", "pnp", "diode"].iter());
+                let help = did_you_mean(other, vocab::PART_KINDS.iter());
                 self.error(
                     "unknown-keyword",
                     m.kind.span,
-                    format!("model kind must be npn, pnp or diode, got '{other}'"),
+                    format!(
+                        "part kind must be {}, got '{other}'",
+                        vocab::PART_KINDS.join(", ")
+                    ),
                 )
                 .help = help;
                 return None;
             }
         };
-        let table = if kind == ModelKind::Diode {
-            DIODE_PARAMS
-        } else {
-            BJT_PARAMS
-        };
-        let mut dp = DiodeParams::default();
-        let mut bp = BjtParams {
-            pnp: kind == ModelKind::Pnp,
-            ..Default::default()
-        };
-        let mut ok = true;
-        let mut seen: HashMap<&str, ()> = HashMap::new();
-        for (k, e) in &m.params {
-            let Some((name, slot, range)) = table.iter().find(|(n, _, _)| *n == k.name) else {
-                let help = did_you_mean(&k.name, table.iter().map(|(n, _, _)| n));
-                self.error(
-                    "unknown-model-param",
-                    k.span,
-                    format!("{} model has no parameter '{}'", m.kind.name, k.name),
-                )
-                .help = help;
-                ok = false;
-                continue;
-            };
-            if seen.insert(name, ()).is_some() {
-                self.error(
-                    "duplicate-option",
-                    k.span,
-                    format!("model parameter '{name}' given twice"),
-                );
-                ok = false;
-                continue;
-            }
-            match self.value_in(e, *slot, &format!("model parameter {name}"), *range) {
-                Some(v) => {
-                    if kind == ModelKind::Diode {
-                        set_diode(&mut dp, name, v);
-                    } else {
-                        set_bjt(&mut bp, name, v);
-                    }
-                }
-                None => ok = false,
-            }
-        }
-        if !ok {
-            return None;
-        }
         let params = if kind == ModelKind::Diode {
+            let mut dp = DiodeParams::default();
+            self.part_values(m, DIODE_PARAMS, &mut dp)?;
             ModelParams::Diode(dp)
         } else {
+            let mut bp = BjtParams {
+                pnp: kind == ModelKind::Pnp,
+                ..Default::default()
+            };
+            self.part_values(m, BJT_PARAMS, &mut bp)?;
             ModelParams::Bjt(bp)
         };
         Some(Model {
@@ -963,20 +944,157 @@ impl<'a> Cx<'a> {
         })
     }
 
+    /// Read a part's blocks into `out` through the declaration `table`:
+    /// unknown, misplaced, retired and duplicate names, ranges, required
+    /// parameters and defaults.
+    fn part_values<P>(&mut self, m: &'a PartStmt, table: &[Param<P>], out: &mut P) -> Option<()> {
+        let kind = m.kind.name.as_str();
+        let block_names = models::blocks(table);
+        let mut ok = true;
+        let mut given: Vec<&'static str> = Vec::new();
+        let mut values: Vec<(usize, f64)> = Vec::new();
+        for (k, _) in &m.loose {
+            let (msg, help) = match table
+                .iter()
+                .find(|p| p.name == k.name || p.old == k.name)
+            {
+                Some(p) if p.name == k.name => (
+                    format!("'{}' goes in the {} block", k.name, p.block),
+                    format!("write {} {{ {}=… }}", p.block, p.name),
+                ),
+                Some(p) => (
+                    format!(
+                        "'{}' is now '{}' in the {} block; run `tankwave upgrade FILE` to rewrite a file",
+                        k.name, p.name, p.block
+                    ),
+                    format!("write {} {{ {}=… }}", p.block, p.name),
+                ),
+                None => (
+                    format!("{kind} part has no parameter '{}'", k.name),
+                    format!("blocks: {}", block_names.join(", ")),
+                ),
+            };
+            self.error("unknown-part-param", k.span, msg).help = Some(help);
+            ok = false;
+        }
+        for b in &m.blocks {
+            if !block_names.contains(&b.name.name.as_str()) {
+                let help = did_you_mean(&b.name.name, block_names.iter())
+                    .or_else(|| Some(format!("blocks: {}", block_names.join(", "))));
+                self.error(
+                    "unknown-part-param",
+                    b.name.span,
+                    format!("{kind} part has no block '{}'", b.name.name),
+                )
+                .help = help;
+                ok = false;
+                continue;
+            }
+            for (k, e) in &b.params {
+                let Some(i) = table
+                    .iter()
+                    .position(|p| p.block == b.name.name && p.name == k.name)
+                else {
+                    let elsewhere = table.iter().find(|p| p.name == k.name);
+                    let retired = table.iter().find(|p| p.old == k.name);
+                    let (msg, help) = match (elsewhere, retired) {
+                        (Some(p), _) => (
+                            format!("'{}' belongs in the {} block, not {}", k.name, p.block, b.name.name),
+                            Some(format!("write {} {{ {}=… }}", p.block, p.name)),
+                        ),
+                        (None, Some(p)) => (
+                            format!(
+                                "'{}' is now '{}' in the {} block; run `tankwave upgrade FILE` to rewrite a file",
+                                k.name, p.name, p.block
+                            ),
+                            None,
+                        ),
+                        (None, None) => {
+                            let here: Vec<&str> = table
+                                .iter()
+                                .filter(|p| p.block == b.name.name)
+                                .map(|p| p.name)
+                                .collect();
+                            (
+                                format!("the {} block has no parameter '{}'", b.name.name, k.name),
+                                did_you_mean(&k.name, here.iter())
+                                    .or_else(|| Some(format!("{}: {}", b.name.name, here.join(", ")))),
+                            )
+                        }
+                    };
+                    self.error("unknown-part-param", k.span, msg).help = help;
+                    ok = false;
+                    continue;
+                };
+                let p = &table[i];
+                if given.contains(&p.name) {
+                    self.error(
+                        "duplicate-option",
+                        k.span,
+                        format!("part parameter '{}' given twice", p.name),
+                    );
+                    ok = false;
+                    continue;
+                }
+                given.push(p.name);
+                match self.value_in(e, p.slot, &format!("part parameter {}", p.name), p.range) {
+                    Some(v) => values.push((i, v)),
+                    None => ok = false,
+                }
+            }
+        }
+        for p in table {
+            if given.contains(&p.name) {
+                continue;
+            }
+            match p.need {
+                Need::Required => {
+                    self.error(
+                        "missing-part-param",
+                        m.name.span,
+                        format!(
+                            "part '{}' needs {} {{ {}=… }} ({} {}, which has no default)",
+                            m.name.name, p.block, p.name, p.symbol, p.meaning
+                        ),
+                    );
+                    ok = false;
+                }
+                Need::WithOthers => {
+                    if let Some(w) = p.with.iter().find(|w| given.contains(w)) {
+                        self.error(
+                            "missing-part-param",
+                            m.name.span,
+                            format!(
+                                "part '{}' gives {w}, so it needs {} {{ {}=… }} ({} {})",
+                                m.name.name, p.block, p.name, p.symbol, p.meaning
+                            ),
+                        );
+                        ok = false;
+                    }
+                }
+                Need::Cited(v, _) | Need::Off(v) => *(p.field)(out) = v,
+            }
+        }
+        if !ok {
+            return None;
+        }
+        for (i, v) in values {
+            *(table[i].field)(out) = v;
+        }
+        Some(())
+    }
+
     // ---------------------------------------------------------------- analyses
 
     fn analysis(&mut self, kind: &'a Ident, options: &'a [Opt]) -> Option<Analysis> {
+        let allowed = vocab::analysis_options(&kind.name).unwrap_or(&[]);
         match kind.name.as_str() {
-            "op" => {
-                self.opts(options, &[], "analyze op");
+            "bias" => {
+                self.opts(options, allowed, "analyze bias");
                 Some(Analysis::Op)
             }
             "transient" => {
-                let m = self.opts(
-                    options,
-                    &["stop", "step", "max_step", "start", "method", "tolerance"],
-                    "analyze transient",
-                );
+                let m = self.opts(options, allowed, "analyze transient");
                 let stop = self.required(
                     &m,
                     "stop",
@@ -994,20 +1112,18 @@ impl<'a> Cx<'a> {
                     self.opt_value(&m, "tolerance", Slot::Number, "tolerance", Range::Positive)?;
                 let start = match m.get("start") {
                     None => StartFrom::OperatingPoint,
-                    Some(o) => match self
-                        .opt_expr(o)
-                        .and_then(|e| self.word(e, &["op", "zero"], "start"))?
-                    {
+                    Some(o) => match self.opt_expr(o).and_then(|e| {
+                        self.word(e, vocab::option_words("transient", "start"), "start")
+                    })? {
                         "zero" => StartFrom::Zero,
                         _ => StartFrom::OperatingPoint,
                     },
                 };
                 let method = match m.get("method") {
                     None => Integration::Trapezoidal,
-                    Some(o) => match self
-                        .opt_expr(o)
-                        .and_then(|e| self.word(e, &["trapezoidal", "bdf2"], "method"))?
-                    {
+                    Some(o) => match self.opt_expr(o).and_then(|e| {
+                        self.word(e, vocab::option_words("transient", "method"), "method")
+                    })? {
                         "bdf2" => Integration::Bdf2,
                         _ => Integration::Trapezoidal,
                     },
@@ -1034,11 +1150,7 @@ impl<'a> Cx<'a> {
                 })
             }
             "ac" => {
-                let m = self.opts(
-                    options,
-                    &["from", "to", "points", "scale", "source", "impedance"],
-                    "analyze ac",
-                );
+                let m = self.opts(options, allowed, "analyze ac");
                 let from = self.required(
                     &m,
                     "from",
@@ -1066,7 +1178,7 @@ impl<'a> Cx<'a> {
                     None => Scale::Linear,
                     Some(o) => match self
                         .opt_expr(o)
-                        .and_then(|e| self.word(e, &["linear", "log"], "scale"))?
+                        .and_then(|e| self.word(e, vocab::option_words("ac", "scale"), "scale"))?
                     {
                         "log" => Scale::Log,
                         _ => Scale::Linear,
@@ -1092,12 +1204,12 @@ impl<'a> Cx<'a> {
                         let id = self.element_ref(&id, "analyze ac source")?;
                         if !matches!(
                             self.elem_kind(id),
-                            Some(ElemKeyword::VSource | ElemKeyword::ISource)
+                            Some(ElemKeyword::Voltage | ElemKeyword::Current)
                         ) {
                             self.error(
                                 "element-kind",
                                 e.span,
-                                "analyze ac source must be a vsource or isource",
+                                "analyze ac source must be a voltage or current source",
                             );
                             return None;
                         }
@@ -1122,11 +1234,7 @@ impl<'a> Cx<'a> {
                 })
             }
             "steady" => {
-                let m = self.opts(
-                    options,
-                    &["freq", "harmonics", "method", "steps"],
-                    "analyze steady",
-                );
+                let m = self.opts(options, allowed, "analyze steady");
                 let freq = self.required(
                     &m,
                     "freq",
@@ -1161,7 +1269,7 @@ impl<'a> Cx<'a> {
                 let method = match m.get("method") {
                     None => SteadyMethod::Auto,
                     Some(o) => match self.opt_expr(o).and_then(|e| {
-                        self.word(e, &["auto", "balance", "shooting", "settle"], "method")
+                        self.word(e, vocab::option_words("steady", "method"), "method")
                     })? {
                         "balance" => SteadyMethod::Balance,
                         "shooting" => SteadyMethod::Shooting,
@@ -1177,11 +1285,16 @@ impl<'a> Cx<'a> {
                 })
             }
             other => {
-                let help = did_you_mean(other, ["op", "transient", "ac", "steady"].iter());
+                if let Some(r) = vocab::retired(other, Place::Analysis) {
+                    self.error("old-spelling", kind.span, vocab::retired_message(r));
+                    return None;
+                }
+                let names: Vec<&str> = vocab::ANALYSES.iter().map(|(n, _)| *n).collect();
+                let help = did_you_mean(other, names.iter());
                 self.error(
                     "unknown-keyword",
                     kind.span,
-                    format!("unknown analysis '{other}' (op, transient, ac or steady)"),
+                    format!("unknown analysis '{other}' ({})", names.join(", ")),
                 )
                 .help = help;
                 None
@@ -1252,21 +1365,12 @@ impl<'a> Cx<'a> {
         let n2 = |i: usize| nodes.get(i).copied().flatten();
         match e.kind {
             ElemKeyword::Resistor | ElemKeyword::Capacitor | ElemKeyword::Inductor => {
-                let (slot, unitname, allowed, rating_slot): (Slot, &str, &[&str], Slot) =
-                    match e.kind {
-                        ElemKeyword::Resistor => {
-                            (Slot::Resistance, "resistance", &["rating"], Slot::Power)
-                        }
-                        ElemKeyword::Capacitor => {
-                            (Slot::Capacitance, "capacitance", &["rating"], Slot::Voltage)
-                        }
-                        _ => (
-                            Slot::Inductance,
-                            "inductance",
-                            &["rating", "r", "q", "qfreq"],
-                            Slot::Current,
-                        ),
-                    };
+                let allowed = vocab::element_options(kw);
+                let (slot, unitname, rating_slot) = match e.kind {
+                    ElemKeyword::Resistor => (Slot::Resistance, "resistance", Slot::Power),
+                    ElemKeyword::Capacitor => (Slot::Capacitance, "capacitance", Slot::Voltage),
+                    _ => (Slot::Inductance, "inductance", Slot::Current),
+                };
                 let m = self.opts(&e.options, allowed, &ctx);
                 let ve = e.value.as_ref()?;
                 let v = self.value(ve, slot, &format!("{kw} value"));
@@ -1317,9 +1421,9 @@ impl<'a> Cx<'a> {
                             self.opt_value(&m, "q", Slot::Number, "inductor q", Range::Positive)?;
                         let qf = self.opt_value(
                             &m,
-                            "qfreq",
+                            "q_at",
                             Slot::Frequency,
-                            "inductor qfreq",
+                            "inductor q_at",
                             Range::Positive,
                         )?;
                         let series_r = match (r, q) {
@@ -1333,11 +1437,11 @@ impl<'a> Cx<'a> {
                                 return None;
                             }
                             (Some(r), None) => {
-                                if let Some(o) = m.get("qfreq") {
+                                if let Some(o) = m.get("q_at") {
                                     self.warning(
                                         "unknown-option",
                                         o.key.span,
-                                        format!("{ctx}: qfreq= is ignored without q="),
+                                        format!("{ctx}: q_at= is ignored without q="),
                                     );
                                 }
                                 r
@@ -1347,7 +1451,7 @@ impl<'a> Cx<'a> {
                                 None => {
                                     let sp = m.get("q").map(|o| o.key.span).unwrap_or(e.name.span);
                                     self.error("inductor-loss", sp, format!("{ctx}: q= needs a frequency")).help =
-                                        Some("add qfreq=FREQ, or an 'analyze steady freq=...' whose frequency is used".into());
+                                        Some("add q_at=FREQ, or an 'analyze steady freq=...' whose frequency is used".into());
                                     return None;
                                 }
                             },
@@ -1364,7 +1468,7 @@ impl<'a> Cx<'a> {
                 }
             }
             ElemKeyword::Coupling => {
-                let m = self.opts(&e.options, &["k"], &ctx);
+                let m = self.opts(&e.options, vocab::element_options(kw), &ctx);
                 if e.nodes.len() < 2 {
                     self.error(
                         "syntax",
@@ -1431,18 +1535,18 @@ impl<'a> Cx<'a> {
                     k: k?,
                 })
             }
-            ElemKeyword::VSource | ElemKeyword::ISource => {
-                let is_v = e.kind == ElemKeyword::VSource;
-                let allowed: &[&str] = if is_v {
-                    &["dc", "wave", "rs"]
-                } else {
-                    &["dc", "wave"]
-                };
+            ElemKeyword::Voltage | ElemKeyword::Current => {
+                let is_v = e.kind == ElemKeyword::Voltage;
                 let slot = if is_v { Slot::Voltage } else { Slot::Current };
-                let m = self.opts(&e.options, allowed, &ctx);
+                let m = self.opts(&e.options, vocab::element_options(kw), &ctx);
                 let dc = self.opt_value(&m, "dc", slot, &format!("{kw} dc"), Range::Any);
-                let rs =
-                    self.opt_value(&m, "rs", Slot::Resistance, "source rs", Range::NonNegative);
+                let rs = self.opt_value(
+                    &m,
+                    "internal",
+                    Slot::Resistance,
+                    "internal resistance",
+                    Range::NonNegative,
+                );
                 let shape = match m.get("wave") {
                     None => Some(None),
                     Some(o) => match &o.value {
@@ -1451,7 +1555,7 @@ impl<'a> Cx<'a> {
                             self.error(
                                 "syntax",
                                 ex.span,
-                                "wave= takes sine(...), pulse(...) or pwl(...)",
+                                "wave= takes sine(...), square(...) or table(...)",
                             );
                             None
                         }
@@ -1473,12 +1577,7 @@ impl<'a> Cx<'a> {
             }
             ElemKeyword::Diode | ElemKeyword::Bjt => {
                 let is_d = e.kind == ElemKeyword::Diode;
-                let allowed: &[&str] = if is_d {
-                    &["model", "area"]
-                } else {
-                    &["c", "b", "e", "model", "area"]
-                };
-                let m = self.opts(&e.options, allowed, &ctx);
+                let m = self.opts(&e.options, vocab::element_options(kw), &ctx);
                 let mut term = Vec::new();
                 if !is_d {
                     for t in ["c", "b", "e"] {
@@ -1518,25 +1617,25 @@ impl<'a> Cx<'a> {
                     );
                     return None;
                 }
-                let Some(mo) = m.get("model") else {
+                let Some(mo) = m.get("part") else {
                     self.error(
                         "missing-option",
                         e.name.span,
-                        format!("{ctx} needs model=NAME"),
+                        format!("{ctx} needs part=NAME"),
                     );
                     return None;
                 };
                 let mex = self.opt_expr(mo)?;
-                let mname = self.name_of(mex, "model")?;
+                let mname = self.name_of(mex, "part")?;
                 let Some(&mid) = self.models.get(mname.name.as_str()) else {
-                    if self.is_broken(&["model"], &mname.name) {
+                    if self.is_broken(&["part"], &mname.name) {
                         return None;
                     }
                     let help = did_you_mean(&mname.name, self.models.keys());
                     self.error(
-                        "unknown-model",
+                        "unknown-part",
                         mname.span,
-                        format!("{ctx}: no model named '{}'", mname.name),
+                        format!("{ctx}: no part named '{}'", mname.name),
                     )
                     .help = help;
                     return None;
@@ -1557,13 +1656,13 @@ impl<'a> Cx<'a> {
                 };
                 if !fits {
                     let want = if is_d {
-                        "a diode model"
+                        "a diode part"
                     } else {
-                        "an npn or pnp model"
+                        "an npn or pnp part"
                     };
                     let mname_s = models.get(mid).map(|m| m.name.as_str()).unwrap_or("?");
                     self.error(
-                        "model-kind",
+                        "part-kind",
                         mname.span,
                         format!("{ctx} needs {want}, '{mname_s}' is {}", mk_name(mk)),
                     );
@@ -1590,54 +1689,43 @@ impl<'a> Cx<'a> {
     }
 
     fn wave(&mut self, w: &'a WaveAst, slot: Slot) -> Option<Shape> {
-        let names: &[&str] = match w.shape.name.as_str() {
-            "sine" => &["amp", "freq", "phase", "offset", "delay", "rise"],
-            "pulse" => &["low", "high", "delay", "rise", "fall", "width", "period"],
-            _ => &[],
-        };
-        if w.shape.name == "pwl" {
-            let mut vals = Vec::new();
+        let name = w.shape.name.as_str();
+        if name == "table" {
+            let mut pts = Vec::new();
+            let mut spans = Vec::new();
             let mut ok = true;
-            for (i, a) in w.args.iter().enumerate() {
-                if let Some(n) = &a.name {
-                    self.error(
-                        "syntax",
-                        n.span,
-                        "pwl takes plain time value pairs, no names",
-                    );
-                    ok = false;
-                    continue;
-                }
-                let s = if i % 2 == 0 { Slot::Time } else { slot };
-                match self.value(
-                    &a.value,
-                    s,
-                    if i % 2 == 0 { "pwl time" } else { "pwl value" },
-                ) {
-                    Some(v) => vals.push((v, a.value.span)),
-                    None => ok = false,
+            for (t, v) in &w.points {
+                let tv = self.value(t, Slot::Time, "table time");
+                let vv = self.value(v, slot, "table value");
+                match (tv, vv) {
+                    (Some(a), Some(b)) => {
+                        pts.push((a, b));
+                        spans.push(t.span);
+                    }
+                    _ => ok = false,
                 }
             }
             if !ok {
                 return None;
             }
-            if vals.len() < 2 || vals.len() % 2 != 0 {
+            if pts.len() < 2 {
                 self.error(
                     "bad-value",
                     w.span,
-                    format!("pwl needs time value pairs, got {} numbers", vals.len()),
+                    format!(
+                        "table needs at least two time: value points, got {}",
+                        pts.len()
+                    ),
                 );
                 return None;
             }
-            let pts: Vec<(f64, f64)> = vals.chunks(2).map(|c| (c[0].0, c[1].0)).collect();
             for (i, win) in pts.windows(2).enumerate() {
                 if win[1].0 <= win[0].0 {
-                    let sp = vals[(i + 1) * 2].1;
                     self.error(
                         "bad-value",
-                        sp,
+                        spans[i + 1],
                         format!(
-                            "pwl times must increase, got {} after {}",
+                            "table times must increase, got {} after {}",
                             fmt_num(win[1].0),
                             fmt_num(win[0].0)
                         ),
@@ -1645,53 +1733,44 @@ impl<'a> Cx<'a> {
                     return None;
                 }
             }
-            return Some(Shape::Pwl(pts));
+            return Some(Shape::Table(pts));
         }
+        let names = vocab::waveform_args(name).unwrap_or(&[]);
         let mut got: Vec<Option<(f64, Span)>> = vec![None; names.len()];
         let mut ok = true;
-        let mut positional = 0usize;
         for a in &w.args {
-            let idx = match &a.name {
-                Some(n) => match names.iter().position(|x| *x == n.name) {
-                    Some(i) => i,
-                    None => {
-                        let help = did_you_mean(&n.name, names.iter());
-                        self.error(
-                            "unknown-option",
-                            n.span,
-                            format!("{} has no argument '{}'", w.shape.name, n.name),
-                        )
-                        .help = help;
+            let n = &a.name;
+            let Some(idx) = names.iter().position(|x| *x == n.name) else {
+                if let Some(r) = vocab::retired(&n.name, Place::WaveArgument) {
+                    if names.contains(&r.new) {
+                        self.error("old-spelling", n.span, vocab::retired_message(r));
                         ok = false;
                         continue;
                     }
-                },
-                None => {
-                    positional += 1;
-                    if positional > names.len() {
-                        self.error(
-                            "syntax",
-                            a.value.span,
-                            format!("{} takes at most {} arguments", w.shape.name, names.len()),
-                        );
-                        ok = false;
-                        continue;
-                    }
-                    positional - 1
                 }
+                let help = did_you_mean(&n.name, names.iter())
+                    .or_else(|| Some(format!("{name} takes: {}", names.join(", "))));
+                self.error(
+                    "unknown-option",
+                    n.span,
+                    format!("{name} has no argument '{}'", n.name),
+                )
+                .help = help;
+                ok = false;
+                continue;
             };
             let arg = names[idx];
-            let s = match (w.shape.name.as_str(), arg) {
+            let s = match (name, arg) {
                 ("sine", "freq") => Slot::Frequency,
                 ("sine", "phase") => Slot::Angle,
-                (_, "delay" | "rise" | "fall" | "width" | "period") => Slot::Time,
+                (_, "start" | "rise" | "fall" | "hold" | "every") => Slot::Time,
                 _ => slot,
             };
             if got[idx].is_some() {
                 self.error(
                     "duplicate-option",
-                    a.value.span,
-                    format!("{} argument '{arg}' given twice", w.shape.name),
+                    n.span,
+                    format!("{name} argument '{arg}' given twice"),
                 );
                 ok = false;
                 continue;
@@ -1701,7 +1780,7 @@ impl<'a> Cx<'a> {
             } else {
                 Range::Any
             };
-            match self.value_in(&a.value, s, &format!("{} {arg}", w.shape.name), range) {
+            match self.value_in(&a.value, s, &format!("{name} {arg}"), range) {
                 Some(v) => got[idx] = Some((v, a.value.span)),
                 None => ok = false,
             }
@@ -1717,13 +1796,13 @@ impl<'a> Cx<'a> {
                     cx.error(
                         "missing-option",
                         w.span,
-                        format!("{} needs {}=", w.shape.name, names[i]),
+                        format!("{name} needs {}=", names[i]),
                     );
                     None
                 }
             }
         };
-        if w.shape.name == "sine" {
+        if name == "sine" {
             let amp = need(self, 0);
             let freq = need(self, 1);
             let (amp, freq) = (amp?, freq?);
@@ -1745,16 +1824,16 @@ impl<'a> Cx<'a> {
                 rise: g(5).unwrap_or(0.0),
             })
         } else {
-            let low = need(self, 0);
-            let high = need(self, 1);
-            Some(Shape::Pulse {
-                low: low?,
-                high: high?,
-                delay: g(2).unwrap_or(0.0),
+            let base = need(self, 0);
+            let top = need(self, 1);
+            Some(Shape::Square {
+                base: base?,
+                top: top?,
+                start: g(2).unwrap_or(0.0),
                 rise: g(3).unwrap_or(0.0),
                 fall: g(4).unwrap_or(0.0),
-                width: g(5).unwrap_or(0.0),
-                period: g(6).unwrap_or(0.0),
+                hold: g(5).unwrap_or(0.0),
+                every: g(6).unwrap_or(0.0),
             })
         }
     }
@@ -2118,8 +2197,8 @@ impl<'a> Cx<'a> {
                 Some(ElemKeyword::Resistor) => Slot::Resistance,
                 Some(ElemKeyword::Capacitor) => Slot::Capacitance,
                 Some(ElemKeyword::Inductor) => Slot::Inductance,
-                Some(ElemKeyword::VSource) => Slot::Voltage,
-                Some(ElemKeyword::ISource) => Slot::Current,
+                Some(ElemKeyword::Voltage) => Slot::Voltage,
+                Some(ElemKeyword::Current) => Slot::Current,
                 _ => Slot::Number,
             };
             (VaryTarget::Element(target.name.clone()), slot)
@@ -2230,32 +2309,16 @@ impl<'a> Cx<'a> {
 }
 
 /// Element statement keywords.
-const ELEMENT_KEYWORDS: &[&str] = &[
-    "resistor",
-    "capacitor",
-    "inductor",
-    "coupling",
-    "vsource",
-    "isource",
-    "diode",
-    "bjt",
-];
+const ELEMENT_KEYWORDS: &[&str] = vocab::ELEMENT_KINDS;
 
 /// The `'static` spelling of an option word (words are from fixed lists above).
 fn intern(w: &str) -> &'static str {
-    const WORDS: &[&str] = &[
-        "op",
-        "zero",
-        "trapezoidal",
-        "bdf2",
-        "linear",
-        "log",
-        "auto",
-        "balance",
-        "shooting",
-        "settle",
-    ];
-    WORDS.iter().find(|x| **x == w).copied().unwrap_or("")
+    vocab::OPTION_WORDS
+        .iter()
+        .flat_map(|(_, _, words)| words.iter())
+        .find(|x| **x == w)
+        .copied()
+        .unwrap_or("")
 }
 
 /// A number for messages: short, no trailing noise.

@@ -96,7 +96,7 @@ pub enum ElementKind {
         /// Voltage rating, V.
         rating_v: Option<f64>,
     },
-    /// `inductor NAME a b VALUE [r=Ω | q=Q [qfreq=Hz]] [rating=A]`.
+    /// `inductor NAME a b VALUE [r=Ω | q=Q [q_at=Hz]] [rating=A]`.
     Inductor {
         /// Terminal a (branch current flows a → b through the inductor).
         a: NodeId,
@@ -116,7 +116,7 @@ pub enum ElementKind {
         /// Coupling coefficient, |k| ≤ 1.
         k: f64,
     },
-    /// `vsource NAME p n [dc=V] [wave=...] [rs=Ω]`: v(p) − v(n) = dc + wave(t) behind rs.
+    /// `voltage source NAME p n [dc=V] [wave=...] [rs=Ω]`: v(p) − v(n) = dc + wave(t) behind rs.
     VSource {
         /// Positive terminal.
         p: NodeId,
@@ -127,7 +127,7 @@ pub enum ElementKind {
         /// Source resistance, Ω (0 = ideal).
         rs: f64,
     },
-    /// `isource NAME p n [dc=A] [wave=...]`: current dc + wave(t) flows from p through the source to n.
+    /// `current source NAME p n [dc=A] [wave=...]`: current dc + wave(t) flows from p through the source to n.
     ISource {
         /// Terminal the current leaves the external circuit into.
         p: NodeId,
@@ -136,7 +136,7 @@ pub enum ElementKind {
         /// The source value over time.
         wave: Waveform,
     },
-    /// `diode NAME anode cathode model=M [area=X]`.
+    /// `diode NAME anode cathode part=M [area=X]`.
     Diode {
         /// Anode.
         a: NodeId,
@@ -147,7 +147,7 @@ pub enum ElementKind {
         /// Area factor (scales currents and capacitances), default 1.
         area: f64,
     },
-    /// `bjt NAME c=.. b=.. e=.. model=M [area=X]`.
+    /// `bjt NAME c=.. b=.. e=.. part=M [area=X]`.
     Bjt {
         /// Collector.
         c: NodeId,
@@ -182,8 +182,8 @@ impl ElementKind {
             ElementKind::Capacitor { .. } => "capacitor",
             ElementKind::Inductor { .. } => "inductor",
             ElementKind::Coupling { .. } => "coupling",
-            ElementKind::VSource { .. } => "vsource",
-            ElementKind::ISource { .. } => "isource",
+            ElementKind::VSource { .. } => "voltage",
+            ElementKind::ISource { .. } => "current",
             ElementKind::Diode { .. } => "diode",
             ElementKind::Bjt { .. } => "bjt",
         }
@@ -202,9 +202,9 @@ pub struct Waveform {
 /// Time-varying source shapes.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Shape {
-    /// `sine(amp, freq, phase, offset, delay, rise)`:
-    /// `offset + amp·env(t)·sin(2π freq (t − delay) + phase)` for t ≥ delay, `offset` before,
-    /// where env ramps from 0 to 1 over `rise` seconds after `delay` (raised cosine), 1 if rise = 0.
+    /// `sine(amp, freq, phase, offset, start, rise)`:
+    /// `offset + amp·env(t)·sin(2π freq (t − start) + phase)` for t ≥ start, `offset` before,
+    /// where env ramps from 0 to 1 over `rise` seconds after `start` (raised cosine), 1 if rise = 0.
     Sine {
         /// Peak amplitude.
         amp: f64,
@@ -214,30 +214,32 @@ pub enum Shape {
         phase: f64,
         /// Constant offset.
         offset: f64,
-        /// Start delay, s.
+        /// Start time (`start=`), s.
         delay: f64,
         /// Amplitude rise time, s (0 = none).
         rise: f64,
     },
-    /// `pulse(low, high, delay, rise, fall, width, period)`.
-    Pulse {
-        /// Initial value.
-        low: f64,
-        /// Pulsed value.
-        high: f64,
-        /// Delay before the first edge, s.
-        delay: f64,
+    /// `square(base, top, start, rise, fall, hold, every)`: `base` until
+    /// `start`, then a ramp to `top` over `rise`, `top` for `hold`, a ramp
+    /// back over `fall`, `base` again; repeated every `every` seconds.
+    Square {
+        /// Value before and between pulses.
+        base: f64,
+        /// Value during a pulse.
+        top: f64,
+        /// Time of the first rising edge, s.
+        start: f64,
         /// Rise time, s.
         rise: f64,
         /// Fall time, s.
         fall: f64,
-        /// Time at `high`, s.
-        width: f64,
-        /// Period, s (0 or ∞ = single pulse).
-        period: f64,
+        /// Time at `top`, s.
+        hold: f64,
+        /// Repetition period, s (0 or ∞ = a single pulse).
+        every: f64,
     },
-    /// `pwl(t1 v1 t2 v2 ...)`: piecewise linear, held flat outside, times strictly increasing.
-    Pwl(Vec<(f64, f64)>),
+    /// `table(t1: v1, t2: v2, ...)`: linear between points, held flat outside, times strictly increasing.
+    Table(Vec<(f64, f64)>),
 }
 
 /// Kind of a model block.
@@ -263,7 +265,7 @@ pub struct Model {
 }
 
 /// Typed model parameters, by kind.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub enum ModelParams {
     /// Diode parameters.
     Diode(DiodeParams),
@@ -287,34 +289,35 @@ impl Model {
     }
 }
 
-/// Junction diode parameters (names are the stage-file spellings; see docs/models.md).
+/// Junction diode parameters; their stage-file names, defaults and sources
+/// are declared once in [`crate::models::DIODE_PARAMS`] (see docs/models.md).
 #[derive(Debug, Clone, PartialEq)]
 pub struct DiodeParams {
-    /// `sat_current` — saturation current I_S, A. Default 1e-14.
+    /// I_S: saturation current (A); stage file `junction { sat_current= }`.
     pub sat_current: f64,
-    /// `emission` — emission coefficient n. Default 1.
+    /// n: ideality factor (—); stage file `junction { ideality= }`.
     pub emission: f64,
-    /// `r_series` — ohmic series resistance, Ω. Default 0.
+    /// r_S: ohmic series resistance (Ω); stage file `resistance { series= }`.
     pub r_series: f64,
-    /// `cj0` — zero-bias depletion capacitance C_j0, F. Default 0.
+    /// C_j0: depletion capacitance at zero bias (F); stage file `charge { capacitance= }`.
     pub cj0: f64,
-    /// `v_junction` — built-in potential V_j, V. Default 0.7.
+    /// φ: built-in potential (V); stage file `charge { potential= }`.
     pub v_junction: f64,
-    /// `grading` — grading exponent m. Default 0.5.
+    /// m: grading exponent (—); stage file `charge { grading= }`.
     pub grading: f64,
-    /// `linear_from` — fraction of V_j above which depletion charge is linearised (F_C). Default 0.5.
+    /// k_lin: fraction of the built-in potential above which the depletion capacitance continues as a straight line (—); stage file `charge { linear_from= }`.
     pub linear_from: f64,
-    /// `transit` — transit time τ_T, s. Default 0.
+    /// τ_T: transit time (diffusion charge τ_T·I_D) (s); stage file `charge { transit= }`.
     pub transit: f64,
-    /// `breakdown` — reverse breakdown voltage, V (positive). Default ∞ (none).
+    /// V_BR: reverse breakdown voltage (V); stage file `breakdown { voltage= }`.
     pub breakdown: f64,
-    /// `breakdown_current` — current at the breakdown voltage, A. Default 1e-10.
+    /// I_BR: reverse current at the breakdown voltage (A); stage file `breakdown { current= }`.
     pub breakdown_current: f64,
-    /// `gap` — band-gap energy E_g, eV. Default 1.11.
+    /// E_g: band gap, sets how I_S rises with temperature (eV); stage file `temperature { band_gap= }`.
     pub gap: f64,
-    /// `sat_temp_exp` — saturation-current temperature exponent X_TI. Default 3.
+    /// ξ_S: exponent of T in I_S(T) besides the band-gap term (—); stage file `temperature { sat_current_exponent= }`.
     pub sat_temp_exp: f64,
-    /// `t_measured` — temperature the parameters were taken at, K. Default 298.15 (25 °C).
+    /// T_0: temperature the parameters were measured at (written in degC or K) (K); stage file `temperature { measured_at= }`.
     pub t_measured: f64,
 }
 
@@ -338,82 +341,85 @@ impl Default for DiodeParams {
     }
 }
 
-/// Bipolar transistor parameters (Gummel–Poon type), stage-file spellings; see docs/models.md.
+/// Bipolar transistor parameters (Gummel–Poon type). What each is written
+/// as in a stage file, its default and its source are declared once in
+/// [`crate::models::BJT_PARAMS`]; `Default` here is only a starting point for
+/// code (the elaborator sets every field that has an effect from that table).
 #[derive(Debug, Clone, PartialEq)]
 pub struct BjtParams {
     /// true for a pnp model.
     pub pnp: bool,
-    /// `sat_current` — transport saturation current I_S, A. Default 1e-15.
+    /// I_S: transport saturation current (A); stage file `transport { sat_current= }`.
     pub sat_current: f64,
-    /// `gain_fwd` — ideal maximum forward current gain β_F. Default 100.
+    /// β_F: ideal maximum forward current gain (—); stage file `transport { beta= }`.
     pub gain_fwd: f64,
-    /// `gain_rev` — ideal maximum reverse current gain β_R. Default 1.
+    /// β_R: ideal maximum reverse current gain (—); stage file `transport { beta_reverse= }`.
     pub gain_rev: f64,
-    /// `emission_fwd` — forward emission coefficient n_F. Default 1.
+    /// n_F: forward ideality factor of the transport current (—); stage file `transport { ideality= }`.
     pub emission_fwd: f64,
-    /// `emission_rev` — reverse emission coefficient n_R. Default 1.
+    /// n_R: reverse ideality factor of the transport current (—); stage file `transport { ideality_reverse= }`.
     pub emission_rev: f64,
-    /// `early_fwd` — forward Early voltage V_AF, V. Default ∞.
+    /// V_A: forward Early voltage (base-width modulation) (V); stage file `transport { early_voltage= }`.
     pub early_fwd: f64,
-    /// `early_rev` — reverse Early voltage V_AR, V. Default ∞.
+    /// V_B: reverse Early voltage (V); stage file `transport { early_voltage_reverse= }`.
     pub early_rev: f64,
-    /// `knee_fwd` — forward high-injection knee current I_KF, A. Default ∞.
+    /// I_KF: forward high-injection knee current (A); stage file `transport { knee_current= }`.
     pub knee_fwd: f64,
-    /// `knee_rev` — reverse high-injection knee current I_KR, A. Default ∞.
+    /// I_KR: reverse high-injection knee current (A); stage file `transport { knee_current_reverse= }`.
     pub knee_rev: f64,
-    /// `leak_be` — base–emitter recombination saturation current I_SE, A. Default 0.
+    /// I_SE: base–emitter recombination saturation current (A); stage file `leakage { be_current= }`.
     pub leak_be: f64,
-    /// `leak_be_emission` — its emission coefficient n_E. Default 1.5.
+    /// n_E: ideality factor of the base–emitter recombination current (—); stage file `leakage { be_ideality= }`.
     pub leak_be_emission: f64,
-    /// `leak_bc` — base–collector recombination saturation current I_SC, A. Default 0.
+    /// I_SC: base–collector recombination saturation current (A); stage file `leakage { bc_current= }`.
     pub leak_bc: f64,
-    /// `leak_bc_emission` — its emission coefficient n_C. Default 2.
+    /// n_C: ideality factor of the base–collector recombination current (—); stage file `leakage { bc_ideality= }`.
     pub leak_bc_emission: f64,
-    /// `r_base` — ohmic base resistance, Ω. Default 0.
+    /// r_B: ohmic base resistance (Ω); stage file `resistance { base= }`.
     pub r_base: f64,
-    /// `r_collector` — ohmic collector resistance, Ω. Default 0.
+    /// r_C: ohmic collector resistance (Ω); stage file `resistance { collector= }`.
     pub r_collector: f64,
-    /// `r_emitter` — ohmic emitter resistance, Ω. Default 0.
+    /// r_E: ohmic emitter resistance (Ω); stage file `resistance { emitter= }`.
     pub r_emitter: f64,
-    /// `cj_be` — base–emitter zero-bias depletion capacitance, F. Default 0.
+    /// C_je0: base–emitter depletion capacitance at zero bias (F); stage file `charge { be_capacitance= }`.
     pub cj_be: f64,
-    /// `vj_be` — base–emitter built-in potential, V. Default 0.75.
+    /// φ_E: base–emitter built-in potential (V); stage file `charge { be_potential= }`.
     pub vj_be: f64,
-    /// `grading_be` — base–emitter grading exponent. Default 0.33.
+    /// m_E: base–emitter grading exponent (—); stage file `charge { be_grading= }`.
     pub grading_be: f64,
-    /// `cj_bc` — base–collector zero-bias depletion capacitance, F. Default 0.
+    /// C_jc0: base–collector depletion capacitance at zero bias (F); stage file `charge { bc_capacitance= }`.
     pub cj_bc: f64,
-    /// `vj_bc` — base–collector built-in potential, V. Default 0.75.
+    /// φ_C: base–collector built-in potential (V); stage file `charge { bc_potential= }`.
     pub vj_bc: f64,
-    /// `grading_bc` — base–collector grading exponent. Default 0.33.
+    /// m_C: base–collector grading exponent (—); stage file `charge { bc_grading= }`.
     pub grading_bc: f64,
-    /// `linear_from` — depletion linearisation fraction F_C. Default 0.5.
+    /// k_lin: fraction of the built-in potential above which a depletion capacitance continues as a straight line (—); stage file `charge { linear_from= }`.
     pub linear_from: f64,
-    /// `transit_fwd` — forward transit time τ_F, s. Default 0.
+    /// τ_F: forward transit time (diffusion charge τ_F·I_CC) (s); stage file `charge { transit= }`.
     pub transit_fwd: f64,
-    /// `transit_rev` — reverse transit time τ_R, s. Default 0.
+    /// τ_R: reverse transit time (s); stage file `charge { transit_reverse= }`.
     pub transit_rev: f64,
-    /// `gap` — band-gap energy E_g, eV. Default 1.11.
+    /// E_g: band gap, sets how I_S rises with temperature (eV); stage file `temperature { band_gap= }`.
     pub gap: f64,
-    /// `sat_temp_exp` — I_S temperature exponent X_TI. Default 3.
+    /// ξ_S: exponent of T in I_S(T) besides the band-gap term (—); stage file `temperature { sat_current_exponent= }`.
     pub sat_temp_exp: f64,
-    /// `gain_temp_exp` — current-gain temperature exponent X_TB. Default 0.
+    /// ξ_β: exponent of T in β_F(T) and β_R(T) (—); stage file `temperature { beta_exponent= }`.
     pub gain_temp_exp: f64,
-    /// `t_measured` — temperature the parameters were taken at, K. Default 298.15 (25 °C).
+    /// T_0: temperature the parameters were measured at (written in degC or K) (K); stage file `temperature { measured_at= }`.
     pub t_measured: f64,
-    /// `max_vce` — collector–emitter voltage rating, V. Default ∞ (unrated).
+    /// V_CE,max: collector–emitter voltage rating (V); stage file `ratings { vce_max= }`.
     pub max_vce: f64,
-    /// `max_ic` — collector current rating, A. Default ∞.
+    /// I_C,max: collector current rating (A); stage file `ratings { ic_max= }`.
     pub max_ic: f64,
-    /// `max_power` — dissipation rating, W. Default ∞.
+    /// P_max: dissipation rating (W); stage file `ratings { power_max= }`.
     pub max_power: f64,
-    /// `max_tj` — junction temperature rating, K (written in degC). Default ∞.
+    /// T_J,max: junction temperature rating (written in degC or K) (K); stage file `ratings { tj_max= }`.
     pub max_tj: f64,
-    /// `rth_ja` — thermal resistance junction to ambient, K/W. Default ∞ (unset: use rth_jc + rth_sink if given).
+    /// θ_JA: thermal resistance junction to ambient (K/W); stage file `thermal { junction_ambient= }`.
     pub rth_ja: f64,
-    /// `rth_jc` — thermal resistance junction to case, K/W. Default ∞.
+    /// θ_JC: thermal resistance junction to case (K/W); stage file `thermal { junction_case= }`.
     pub rth_jc: f64,
-    /// `rth_sink` — thermal resistance case to ambient through the heatsink, K/W. Default ∞.
+    /// θ_CA: thermal resistance case to ambient, through the heatsink (K/W); stage file `thermal { case_ambient= }`.
     pub rth_sink: f64,
 }
 
@@ -522,9 +528,9 @@ pub enum Scale {
 /// An `analyze` statement.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Analysis {
-    /// `analyze op`.
+    /// `analyze bias`.
     Op,
-    /// `analyze transient stop=.. [step=..] [max_step=..] [start=op|zero] [method=trapezoidal|bdf2] [tolerance=..]`.
+    /// `analyze transient stop=.. [step=..] [max_step=..] [start=bias|zero] [method=trapezoidal|bdf2] [tolerance=..]`.
     Transient {
         /// End time, s.
         stop: f64,

@@ -1,13 +1,15 @@
 //! tankwave-circuit: elaboration of a parsed stage file into a checked circuit.
 //!
 //! Owns the meaning of the stage-file language: parameter evaluation with
-//! overrides, node numbering, model binding, value and unit checks, masks,
-//! requirements, study statements and topology checks. It does not parse
+//! overrides, node numbering, part binding (the part parameters are declared
+//! once, in `models`), value and unit checks, masks, requirements, study
+//! statements and topology checks; and the `upgrade` of files written in the
+//! retired spellings. It does not parse
 //! text (that is tankwave-netlist) and does not solve anything.
 //!
 //! ```
 //! use tankwave_circuit::{load_str, Overrides};
-//! let text = "vsource v1 a gnd dc=1V\nresistor r1 a gnd 50Ohm\n";
+//! let text = "voltage v1 a gnd dc=1V\nresistor r1 a gnd 50Ohm\n";
 //! let e = load_str("t.tank", text, &Overrides::default()).unwrap();
 //! assert_eq!(e.circuit.elements.len(), 2);
 //! ```
@@ -19,6 +21,7 @@ pub mod ir;
 pub mod models;
 pub mod param_units;
 mod topology;
+pub mod upgrade;
 
 pub use elaborate::{elaborate, load_file, load_str, Elaborated, LoadError};
 pub use ir::*;

@@ -105,7 +105,7 @@ pub(crate) fn check(cx: &mut Cx<'_>, c: &Circuit) {
                         cx.error(
                             "current-cutset",
                             sp,
-                            format!("isource {} drives node(s) {} that have no DC path to gnd except through current sources or capacitors", e.name, nodes.join(", ")),
+                            format!("current {} drives node(s) {} that have no DC path to gnd except through current sources or capacitors", e.name, nodes.join(", ")),
                         )
                         .help = Some("a current source needs a resistive or inductive DC path around it; add a resistor in parallel or a path to gnd".into());
                     }
@@ -205,7 +205,7 @@ pub(crate) fn check(cx: &mut Cx<'_>, c: &Circuit) {
                 sp,
                 format!("{} {} closes a loop of ideal voltage sources and/or inductors: {}", e.kind.keyword(), e.name, names.join(" -> ")),
             )
-            .help = Some("the loop current is undefined at DC; add source resistance rs= or inductor loss r=".into());
+            .help = Some("the loop current is undefined at DC; add source resistance internal= or inductor loss r=".into());
         } else {
             adj[a].push((b, ei));
             adj[b].push((a, ei));

@@ -134,13 +134,13 @@ fn suggestions_name_the_nearest_name() {
         .find(|d| d.code == "unknown-element")
         .expect("unknown element");
     assert_eq!(d.help.as_deref(), Some("did you mean 'rload'?"));
-    let parsed = parse_file(bad_dir().join("unknown_model_param.tank"));
+    let parsed = parse_file(bad_dir().join("unknown_part_param.tank"));
     let diags = elaborate(&parsed, &Overrides::default()).expect_err("has an error");
     let d = diags
         .iter()
-        .find(|d| d.code == "unknown-model-param")
+        .find(|d| d.code == "unknown-part-param")
         .expect("unknown param");
-    assert_eq!(d.help.as_deref(), Some("did you mean 'gain_fwd'?"));
+    assert_eq!(d.help.as_deref(), Some("did you mean 'beta_reverse'?"));
 }
 
 #[test]

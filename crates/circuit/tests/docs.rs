@@ -46,7 +46,7 @@ fn the_complete_example_elaborates() {
 #[test]
 fn the_mask_and_study_examples_parse() {
     let d = doc();
-    let mut text = String::from("vsource v1 a gnd dc=1V\nresistor r1 a b 1\nresistor rb b gnd 1\ncapacitor ctun a gnd 1nF\ninductor l1 a c 1uH r=1\nresistor r3 c gnd 1\nlet rb = 1\nlet vcc = 1\n");
+    let mut text = String::from("voltage v1 a gnd dc=1V\nresistor r1 a b 1\nresistor rb b gnd 1\ncapacitor ctun a gnd 1nF\ninductor l1 a c 1uH r=1\nresistor r3 c gnd 1\nlet rb = 1\nlet vcc = 1\n");
     for section in ["### mask", "### Studies"] {
         let s = d.find(section).expect("section");
         let block = &d[s..];
@@ -58,4 +58,127 @@ fn the_mask_and_study_examples_parse() {
         .unwrap_or_else(|e| panic!("{:#?}", e.diagnostics));
     assert_eq!(e.circuit.masks[0].rules.len(), 7);
     assert_eq!(e.circuit.study.vary.len(), 4);
+}
+
+fn read_doc(name: &str) -> String {
+    std::fs::read_to_string(
+        Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("../../docs")
+            .join(name),
+    )
+    .unwrap_or_else(|e| panic!("docs/{name}: {e}"))
+}
+
+/// The text between `<!-- parameters: KEY -->` and the next `<!-- end -->`.
+fn marked(doc: &str, key: &str) -> String {
+    let open = format!("<!-- parameters: {key} -->\n");
+    let a = doc.find(&open).unwrap_or_else(|| panic!("marker {open}")) + open.len();
+    let b = doc[a..].find("<!-- end -->").expect("end marker") + a;
+    doc[a..b].to_string()
+}
+
+#[test]
+fn models_md_parameter_tables_are_the_declaration() {
+    use tankwave_circuit::models::{docs_table, BJT_PARAMS, DIODE_PARAMS};
+    let d = read_doc("models.md");
+    let bjt = docs_table(BJT_PARAMS);
+    let diode = docs_table(DIODE_PARAMS);
+    assert_eq!(
+        marked(&d, "bipolar"),
+        bjt,
+        "regenerate from models::docs_table:\n{bjt}"
+    );
+    assert_eq!(
+        marked(&d, "diode"),
+        diode,
+        "regenerate from models::docs_table:\n{diode}"
+    );
+}
+
+/// Every (name, kind) row of docs/vocabulary.md's tables: `| \`name\` | kind | why |`.
+fn vocabulary() -> std::collections::BTreeSet<(String, String)> {
+    read_doc("vocabulary.md")
+        .lines()
+        .filter_map(|l| {
+            let cells: Vec<&str> = l.split('|').map(str::trim).collect();
+            if cells.len() < 4 {
+                return None;
+            }
+            let name = cells[1].strip_prefix('`')?.strip_suffix('`')?;
+            Some((name.to_string(), cells[2].to_string()))
+        })
+        .collect()
+}
+
+#[test]
+fn vocabulary_md_lists_exactly_the_words_the_language_accepts() {
+    use std::collections::BTreeSet;
+    use tankwave_circuit::models::{blocks, BJT_PARAMS, DIODE_PARAMS};
+    use tankwave_netlist::vocab;
+    let listed = vocabulary();
+    let of = |kind: &str| -> BTreeSet<String> {
+        listed
+            .iter()
+            .filter(|(_, k)| k == kind)
+            .map(|(n, _)| n.clone())
+            .collect()
+    };
+    let set = |v: Vec<&str>| -> BTreeSet<String> { v.into_iter().map(str::to_string).collect() };
+    let statements: Vec<&str> = vocab::STATEMENT_KEYWORDS
+        .iter()
+        .copied()
+        .filter(|k| !vocab::ELEMENT_KINDS.contains(k))
+        .collect();
+    assert_eq!(of("statement"), set(statements), "statement keywords");
+    assert_eq!(
+        of("element"),
+        set(vocab::ELEMENT_KINDS.to_vec()),
+        "element kinds"
+    );
+    assert_eq!(
+        of("waveform"),
+        set(vocab::WAVEFORMS.iter().map(|(n, _)| *n).collect()),
+        "waveforms"
+    );
+    assert_eq!(
+        of("waveform argument"),
+        set(vocab::WAVEFORMS
+            .iter()
+            .flat_map(|(_, a)| a.iter().copied())
+            .collect()),
+        "waveform arguments"
+    );
+    assert_eq!(
+        of("analysis"),
+        set(vocab::ANALYSES.iter().map(|(n, _)| *n).collect()),
+        "analyses"
+    );
+    let mut options: Vec<&str> = vocab::ELEMENT_OPTIONS
+        .iter()
+        .flat_map(|(_, o)| o.iter().copied())
+        .collect();
+    options.extend(vocab::ANALYSES.iter().flat_map(|(_, o)| o.iter().copied()));
+    options.extend(vocab::MONTECARLO_OPTIONS.iter().copied());
+    assert_eq!(of("option"), set(options), "options");
+    assert_eq!(
+        of("option word"),
+        set(vocab::OPTION_WORDS
+            .iter()
+            .flat_map(|(_, _, w)| w.iter().copied())
+            .collect()),
+        "option words"
+    );
+    assert_eq!(
+        of("part kind"),
+        set(vocab::PART_KINDS.to_vec()),
+        "part kinds"
+    );
+    let mut bl = blocks(BJT_PARAMS);
+    bl.extend(blocks(DIODE_PARAMS));
+    assert_eq!(of("part block"), set(bl), "part blocks");
+    let mut params: Vec<&str> = BJT_PARAMS.iter().map(|p| p.name).collect();
+    params.extend(DIODE_PARAMS.iter().map(|p| p.name));
+    assert_eq!(of("part parameter"), set(params), "part parameters");
+    // The word kept free for the keying waveform is not taken.
+    assert!(listed.iter().all(|(n, _)| n != "keyed"));
 }

@@ -176,7 +176,7 @@ fn expressions_and_parameters_defined_later() {
         "let a = (2 + 3 * 4)\nlet b = (-2^2)\nlet c = (2^3^2)\nlet d = (min(3, 1, 2) + max(1, 5) + abs(-2))\n\
          let e = (sqrt(16) + ln(exp(2)) + log10(1000) + atan(1) * 4 / pi)\nlet g = (later * 2)\nlet later = 1.5k\n\
          let h = (10nF * 2)\nlet t = (sin(pi / 2) + cos(0) + tan(0))\n\
-         vsource v1 a gnd dc=1V\nresistor r1 a gnd (later / 3)\n",
+         voltage v1 a gnd dc=1V\nresistor r1 a gnd (later / 3)\n",
     );
     let p = &e.circuit.params;
     assert_eq!(p["a"], 14.0, "precedence: * before +");
@@ -195,7 +195,7 @@ fn expressions_and_parameters_defined_later() {
 
 #[test]
 fn bare_prefix_takes_the_slot_unit_and_units_must_fit() {
-    let e = load("vsource v1 a gnd dc=1\nresistor r1 a gnd 4.7k\ncapacitor c1 a gnd 10n\ninductor l1 a b 2.5u r=0.1\nresistor r2 b gnd 1\n");
+    let e = load("voltage v1 a gnd dc=1\nresistor r1 a gnd 4.7k\ncapacitor c1 a gnd 10n\ninductor l1 a b 2.5u r=0.1\nresistor r2 b gnd 1\n");
     match elem(&e.circuit, "c1") {
         ElementKind::Capacitor { c, .. } => assert_relative_eq!(*c, 10e-9, max_relative = 1e-15),
         k => panic!("{k:?}"),
@@ -206,7 +206,7 @@ fn bare_prefix_takes_the_slot_unit_and_units_must_fit() {
     }
     let err = load_str(
         "t.tank",
-        "vsource v1 a gnd dc=1A\nresistor r1 a gnd 5F\n",
+        "voltage v1 a gnd dc=1A\nresistor r1 a gnd 5F\n",
         &Overrides::default(),
     )
     .expect_err("mismatch");
@@ -214,7 +214,7 @@ fn bare_prefix_takes_the_slot_unit_and_units_must_fit() {
     assert_eq!(
         msgs,
         vec![
-            "vsource dc needs V, got A",
+            "voltage dc needs V, got A",
             "resistor value needs Ohm, got F"
         ]
     );
@@ -241,7 +241,7 @@ fn every_problem_is_collected() {
 
 #[test]
 fn dangling_node_is_a_warning() {
-    let e = load("vsource v1 a gnd dc=1V\nresistor r1 a gnd 1Ohm\nresistor r2 a stub 1Ohm\n");
+    let e = load("voltage v1 a gnd dc=1V\nresistor r1 a gnd 1Ohm\nresistor r2 a stub 1Ohm\n");
     assert_eq!(e.warnings.len(), 1);
     assert_eq!(e.warnings[0].code, "dangling-node");
     assert_eq!(
@@ -253,13 +253,13 @@ fn dangling_node_is_a_warning() {
 #[test]
 fn lossy_parts_break_loops_and_bjt_junctions_give_dc_paths() {
     // An inductor with series r across an ideal source is fine.
-    load("vsource v1 a gnd dc=1V\ninductor l1 a gnd 1uH r=0.1Ohm\n");
+    load("voltage v1 a gnd dc=1V\ninductor l1 a gnd 1uH r=0.1Ohm\n");
     // A base reached only through a capacitor still has a DC path through the junctions.
     load(
-        "vsource v1 vcc gnd dc=12V\nvsource v2 src gnd wave=sine(1V, 1MHz, 90) rs=50Ohm\ncapacitor c1 src base 10nF\n\
-         inductor l1 vcc coll 10uH\nbjt q1 c=coll b=base e=gnd model=m\nmodel m npn { }\n",
+        "voltage v1 vcc gnd dc=12V\nvoltage v2 src gnd wave=sine(amp=1V, freq=1MHz, phase=90) internal=50Ohm\ncapacitor c1 src base 10nF\n\
+         inductor l1 vcc coll 10uH\nbjt q1 c=coll b=base e=gnd part=m\npart m npn { transport { sat_current=1fA beta=100 beta_reverse=1 } }\n",
     );
-    let e = load("vsource v2 src gnd wave=sine(1V, 1MHz, 90deg) rs=50Ohm\nresistor r1 src gnd 1\n");
+    let e = load("voltage v2 src gnd wave=sine(amp=1V, freq=1MHz, phase=90deg) internal=50Ohm\nresistor r1 src gnd 1\n");
     match elem(&e.circuit, "v2") {
         ElementKind::VSource {
             wave:
@@ -278,7 +278,7 @@ fn lossy_parts_break_loops_and_bjt_junctions_give_dc_paths() {
 #[test]
 fn coupling_and_sweeps() {
     let e = load(
-        "vsource v1 a gnd dc=0 rs=1\ninductor l1 a gnd 1uH\ninductor l2 b gnd 4uH\nresistor r1 b gnd 50\ncoupling k1 l1 l2 k=0.98\n\
+        "voltage v1 a gnd dc=0 internal=1\ninductor l1 a gnd 1uH\ninductor l2 b gnd 4uH\nresistor r1 b gnd 50\ncoupling k1 l1 l2 k=0.98\n\
          vary r1 from 10 to 50 step 10\nvary l1 from 1uH to 2uH points 3\ntolerance r1 1%\nanalyze ac from=1MHz to=2MHz points=3 source=v1 impedance=r1\n",
     );
     let c = &e.circuit;
@@ -322,7 +322,7 @@ fn coupling_and_sweeps() {
 #[test]
 fn carrier_power_conditions_in_masks() {
     let e = load(
-        "vsource v1 a gnd dc=1V\nresistor r1 a gnd 1\n\
+        "voltage v1 a gnd dc=1V\nresistor r1 a gnd 1\n\
          mask old { all if_carrier_below(5W, below 30dB, stricter(below 40dB, at_most 50mW)) when carrier 0Hz to 29.999MHz }\n",
     );
     let r = &e.circuit.masks[0].rules[0];
@@ -350,7 +350,7 @@ fn builtin_mask_names_resolve_when_present() {
     // Whatever the built-in list holds, each name must be accepted by require.
     for name in builtin::builtin_names() {
         let text =
-            format!("vsource v1 a gnd dc=1V\nresistor r1 a gnd 1\nrequire harmonics <= {name}\n");
+            format!("voltage v1 a gnd dc=1V\nresistor r1 a gnd 1\nrequire harmonics <= {name}\n");
         let e = load(&text);
         assert_eq!(
             e.circuit.requirements[0].bound,
@@ -361,8 +361,8 @@ fn builtin_mask_names_resolve_when_present() {
 
 #[test]
 fn a_broken_declaration_is_not_reported_again_where_used() {
-    // The model block never closes; the bjt that uses it must not add "no model named 'm'".
-    let text = "vsource v1 a gnd dc=1V\nresistor r1 a gnd 1\nmodel m npn {\n gain_fwd=50\nbjt q1 c=a b=a e=gnd model=m\n\
+    // The part block never closes; the bjt that uses it must not add "no part named 'm'".
+    let text = "voltage v1 a gnd dc=1V\nresistor r1 a gnd 1\npart m npn {\n transport { beta=50 }\nbjt q1 c=a b=a e=gnd part=m\n\
                 resistor r2 a gnd (x\noutput r2\nrequire vce_peak q1 <= 10V\n";
     let err = load_str("t.tank", text, &Overrides::default()).expect_err("errors");
     let codes: Vec<&str> = err.diagnostics.iter().map(|d| d.code).collect();

@@ -210,7 +210,7 @@ pub fn verify_network(
 /// the fragment as printed, and a load resistor `rload` at the output.
 pub fn fragment_harness(net: &Network, fragment: &str, extra_input_shunt: Option<f64>) -> String {
     let mut t = format!(
-        "title \"design verification\"\nvsource {SOURCE_NAME} {} gnd dc=0V rs={}\n",
+        "title \"design verification\"\nvoltage {SOURCE_NAME} {} gnd dc=0V internal={}\n",
         net.input_node,
         format_si(net.source_resistance, "Ohm", 15)
     );

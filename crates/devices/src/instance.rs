@@ -3,7 +3,7 @@
 //! Unknown order:
 //! 1. the node voltages, in [`Circuit::nodes`] order (`v(node)`), `n_nodes` of them;
 //! 2. then, walking the elements in file order, the extra unknowns each one owns:
-//!    * vsource, inductor: its branch current `i(name)`;
+//!    * voltage source, inductor: its branch current `i(name)`;
 //!    * diode with `r_series > 0`: its internal anode `v(name:a')`;
 //!    * bjt: its internal collector, base and emitter nodes `v(name:c')`,
 //!      `v(name:b')`, `v(name:e')`, each only when that ohmic resistance is

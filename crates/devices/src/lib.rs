@@ -17,7 +17,7 @@
 //! ```
 //! // A source driving an RC: unknowns are the two node voltages, then the
 //! // source's branch current.
-//! let text = "vsource vs in gnd dc=5V\nresistor r1 in out 1kOhm\ncapacitor c1 out gnd 1nF\n";
+//! let text = "voltage vs in gnd dc=5V\nresistor r1 in out 1kOhm\ncapacitor c1 out gnd 1nF\n";
 //! let c = tankwave_circuit::load_str("rc.tank", text, &Default::default())
 //!     .expect("a valid stage")
 //!     .circuit;

@@ -10,16 +10,16 @@
 //! | capacitor a–b, C | `q_a = C (v_a − v_b)`, `q_b = −q_a` |
 //! | inductor a–b, L, r, branch j (a → b through it) | rows a/b: `±j`; branch row: i-part `v_a − v_b − r j`, q-part `−φ`, `φ = L j` |
 //! | coupling of inductors k, l | adds `−M j_l` to the q-part of branch row k and `−M j_k` to row l, `M = k √(L_k L_l)`, every pair |
-//! | vsource p–n, branch j | rows p/n: `±j` (j flows into p from the circuit, through the source, out of n); branch row: `v_p − v_n − V(t) − rs j` |
-//! | isource p–n | rows p/n: `±I(t)` (I flows from p through the source to n) |
+//! | voltage source p–n, branch j | rows p/n: `±j` (j flows into p from the circuit, through the source, out of n); branch row: `v_p − v_n − V(t) − rs j` |
+//! | current source p–n | rows p/n: `±I(t)` (I flows from p through the source to n) |
 //!
 //! with `V(t) = dc_scale·dc + wave_scale·shape(t)` (see [`crate::waveform`]).
 //! A source delivering power has `j < 0`.
 //!
 //! Small-signal excitation ([`Device::ac_excitation`]), for `(G + jωC) X = b`:
-//! a vsource puts `b = +1` on its branch row (so the linearised branch row
+//! a voltage source puts `b = +1` on its branch row (so the linearised branch row
 //! reads `v_p − v_n − rs j = 1`: node voltages are the response to a 1 V source
-//! amplitude); an isource puts `b_p = −1`, `b_n = +1` (the response to 1 A
+//! amplitude); an current source puts `b_p = −1`, `b_n = +1` (the response to 1 A
 //! flowing from p through the source to n).
 
 use crate::contract::{

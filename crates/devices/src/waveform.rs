@@ -3,20 +3,20 @@
 //! A source value is `dc_scale·dc + wave_scale·shape(t)` (see
 //! [`Waveform::value`]), where the shape is one of
 //!
-//! * **sine** — `offset + amp·env(t)·sin(2π f (t − delay) + phase)` for
-//!   `t ≥ delay`, `offset` before. The envelope is a raised cosine
-//!   `env(t) = ½(1 − cos(π (t − delay)/rise))` for `0 ≤ t − delay < rise`, and 1
+//! * **sine** — `offset + amp·env(t)·sin(2π f (t − start) + phase)` for
+//!   `t ≥ start`, `offset` before. The envelope is a raised cosine
+//!   `env(t) = ½(1 − cos(π (t − start)/rise))` for `0 ≤ t − start < rise`, and 1
 //!   afterwards (1 at once when `rise = 0`). It starts and ends with zero slope,
 //!   so switching on a drive does not splash energy into harmonics.
-//! * **pulse** — `low` until `delay`, then a linear rise over `rise` to `high`,
-//!   `width` at `high`, a linear fall over `fall` back to `low`, repeated every
-//!   `period` (a period of 0 or ∞ means a single pulse). When the period is
-//!   shorter than `rise + width + fall` each cycle is cut off at the period.
-//! * **pwl** — piecewise linear through `(t_k, v_k)`, held at the first value
+//! * **square** — `base` until `start`, then a linear rise over `rise` to `top`,
+//!   `hold` at `top`, a linear fall over `fall` back to `base`, repeated
+//!   `every` seconds (0 or ∞ means a single pulse). When `every` is
+//!   shorter than `rise + hold + fall` each cycle is cut off there.
+//! * **table** — linear between the points `(t_k, v_k)`, held at the first value
 //!   before the first point and at the last value after the last one.
 //!
-//! Corners (transient breakpoints): the pulse corners, the pwl points, the sine
-//! delay and the end of the sine rise.
+//! Corners (transient breakpoints): the square wave's corners, the table's
+//! points, the sine's start and the end of its rise.
 //!
 //! [`check`] refuses non-finite numbers and bad orderings, so [`shape_value`] of
 //! a checked shape is never NaN for any time (a NaN time is read as 0).
@@ -78,14 +78,14 @@ pub fn shape_value(shape: &Shape, t: f64) -> f64 {
             };
             offset + amp * env * (std::f64::consts::TAU * frac + phase).sin()
         }
-        Shape::Pulse {
-            low,
-            high,
-            delay,
+        Shape::Square {
+            base: low,
+            top: high,
+            start: delay,
             rise,
             fall,
-            width,
-            period,
+            hold: width,
+            every: period,
         } => {
             if t < *delay {
                 return *low;
@@ -104,11 +104,11 @@ pub fn shape_value(shape: &Shape, t: f64) -> f64 {
                 *low
             }
         }
-        Shape::Pwl(pts) => pwl_value(pts, t),
+        Shape::Table(pts) => table_value(pts, t),
     }
 }
 
-fn pwl_value(pts: &[(f64, f64)], t: f64) -> f64 {
+fn table_value(pts: &[(f64, f64)], t: f64) -> f64 {
     let (Some(first), Some(last)) = (pts.first(), pts.last()) else {
         return 0.0;
     };
@@ -148,12 +148,12 @@ pub fn breakpoints(shape: &Shape, t0: f64, t1: f64, out: &mut Vec<f64>) {
                 push(delay + rise, out);
             }
         }
-        Shape::Pulse {
-            delay,
+        Shape::Square {
+            start: delay,
             rise,
             fall,
-            width,
-            period,
+            hold: width,
+            every: period,
             ..
         } => {
             let corners = [0.0, *rise, rise + width, rise + width + fall];
@@ -194,7 +194,7 @@ pub fn breakpoints(shape: &Shape, t0: f64, t1: f64, out: &mut Vec<f64>) {
             }
             out.truncate(keep);
         }
-        Shape::Pwl(pts) => {
+        Shape::Table(pts) => {
             for &(t, _) in pts {
                 push(t, out);
             }
@@ -243,41 +243,46 @@ pub fn check(w: &ir::Waveform, element: &str) -> Result<(), DeviceError> {
             nonneg("freq", *freq)?;
             fin("phase", *phase)?;
             fin("offset", *offset)?;
-            fin("delay", *delay)?;
+            fin("start", *delay)?;
             nonneg("rise", *rise)
         }
-        Some(Shape::Pulse {
-            low,
-            high,
-            delay,
+        Some(Shape::Square {
+            base: low,
+            top: high,
+            start: delay,
             rise,
             fall,
-            width,
-            period,
+            hold: width,
+            every: period,
         }) => {
-            fin("low", *low)?;
-            fin("high", *high)?;
-            fin("delay", *delay)?;
+            fin("base", *low)?;
+            fin("top", *high)?;
+            fin("start", *delay)?;
             nonneg("rise", *rise)?;
             nonneg("fall", *fall)?;
-            nonneg("width", *width)?;
+            nonneg("hold", *width)?;
             if period.is_nan() || *period < 0.0 {
                 return Err(bad(
                     element,
-                    "period",
+                    "every",
                     *period,
                     "must be ≥ 0 (0 or ∞ = single pulse)",
                 ));
             }
             Ok(())
         }
-        Some(Shape::Pwl(pts)) => {
+        Some(Shape::Table(pts)) => {
             let mut prev = f64::NEG_INFINITY;
             for &(t, v) in pts {
-                fin("pwl time", t)?;
-                fin("pwl value", v)?;
+                fin("table time", t)?;
+                fin("table value", v)?;
                 if t <= prev {
-                    return Err(bad(element, "pwl time", t, "times must increase strictly"));
+                    return Err(bad(
+                        element,
+                        "table time",
+                        t,
+                        "times must increase strictly",
+                    ));
                 }
                 prev = t;
             }
@@ -342,14 +347,14 @@ mod tests {
 
     #[test]
     fn pulse_matches_definition() {
-        let p = Shape::Pulse {
-            low: -1.0,
-            high: 3.0,
-            delay: 1.0,
+        let p = Shape::Square {
+            base: -1.0,
+            top: 3.0,
+            start: 1.0,
             rise: 0.5,
             fall: 0.25,
-            width: 2.0,
-            period: 5.0,
+            hold: 2.0,
+            every: 5.0,
         };
         let cases = [
             (0.0, -1.0),
@@ -376,14 +381,14 @@ mod tests {
 
     #[test]
     fn single_pulse_and_zero_edges() {
-        let p = Shape::Pulse {
-            low: 0.0,
-            high: 1.0,
-            delay: 0.0,
+        let p = Shape::Square {
+            base: 0.0,
+            top: 1.0,
+            start: 0.0,
             rise: 0.0,
             fall: 0.0,
-            width: 1.0,
-            period: 0.0,
+            hold: 1.0,
+            every: 0.0,
         };
         assert_eq!(shape_value(&p, 0.0), 1.0);
         assert_eq!(shape_value(&p, 0.5), 1.0);
@@ -396,7 +401,7 @@ mod tests {
 
     #[test]
     fn pwl_interpolates_and_holds() {
-        let w = Shape::Pwl(vec![(1.0, 2.0), (2.0, 4.0), (4.0, 0.0)]);
+        let w = Shape::Table(vec![(1.0, 2.0), (2.0, 4.0), (4.0, 0.0)]);
         let cases = [
             (0.0, 2.0),
             (1.0, 2.0),
@@ -412,7 +417,7 @@ mod tests {
         let mut bp = Vec::new();
         breakpoints(&w, 1.5, 4.0, &mut bp);
         assert_eq!(bp, vec![2.0]);
-        assert_eq!(shape_value(&Shape::Pwl(vec![]), 1.0), 0.0);
+        assert_eq!(shape_value(&Shape::Table(vec![]), 1.0), 0.0);
     }
 
     #[test]
@@ -429,7 +434,7 @@ mod tests {
     fn scales_apply_to_parts() {
         let w = ir::Waveform {
             dc: 10.0,
-            shape: Some(Shape::Pwl(vec![(0.0, 1.0)])),
+            shape: Some(Shape::Table(vec![(0.0, 1.0)])),
         };
         assert_eq!(w.value(5.0, 1.0, 1.0), 11.0);
         assert_eq!(w.value(5.0, 0.5, 0.0), 5.0);
@@ -440,7 +445,7 @@ mod tests {
     fn check_refuses_bad_numbers() {
         let mut w = ir::Waveform {
             dc: 0.0,
-            shape: Some(Shape::Pwl(vec![(1.0, 0.0), (1.0, 1.0)])),
+            shape: Some(Shape::Table(vec![(1.0, 0.0), (1.0, 1.0)])),
         };
         assert!(check(&w, "v1").is_err());
         w.shape = Some(sine(-1.0));
@@ -455,16 +460,16 @@ mod tests {
     fn never_nan_for_odd_times() {
         let shapes = [
             sine(1e-6),
-            Shape::Pulse {
-                low: 0.0,
-                high: 1.0,
-                delay: 0.0,
+            Shape::Square {
+                base: 0.0,
+                top: 1.0,
+                start: 0.0,
                 rise: 0.0,
                 fall: 0.0,
-                width: 0.0,
-                period: 1e-9,
+                hold: 0.0,
+                every: 1e-9,
             },
-            Shape::Pwl(vec![(0.0, 1.0), (1.0, 2.0)]),
+            Shape::Table(vec![(0.0, 1.0), (1.0, 2.0)]),
         ];
         for s in &shapes {
             for t in [

@@ -105,7 +105,7 @@ fn inductor_stamp() {
 fn vsource_and_isource_stamps() {
     let w = Waveform {
         dc: 5.0,
-        shape: Some(Shape::Pwl(vec![(0.0, 0.0), (1.0, 2.0)])),
+        shape: Some(Shape::Table(vec![(0.0, 0.0), (1.0, 2.0)])),
     };
     let c = circuit(
         &["a", "b"],
@@ -401,7 +401,7 @@ fn bad_inputs_are_typed_errors() {
     ));
     let bad_wave = Waveform {
         dc: 0.0,
-        shape: Some(Shape::Pwl(vec![(1.0, 0.0), (0.5, 1.0)])),
+        shape: Some(Shape::Table(vec![(1.0, 0.0), (0.5, 1.0)])),
     };
     let c = circuit(&["a"], vec![("v1", vsrc(Some(0), None, bad_wave, 0.0))]);
     assert!(matches!(

@@ -38,20 +38,20 @@ fn shape() -> impl Strategy<Value = Shape> {
             0.0..1e-2f64
         )
             .prop_map(
-                |(low, high, delay, rise, fall, width, period)| Shape::Pulse {
-                    low,
-                    high,
-                    delay,
+                |(low, high, delay, rise, fall, width, period)| Shape::Square {
+                    base: low,
+                    top: high,
+                    start: delay,
                     rise,
                     fall,
-                    width,
-                    period
+                    hold: width,
+                    every: period
                 }
             ),
         prop::collection::vec((0.0..1.0f64, -1e3..1e3f64), 0..8).prop_map(|mut v| {
             v.sort_by(|a, b| a.0.total_cmp(&b.0));
             v.dedup_by(|a, b| a.0 == b.0);
-            Shape::Pwl(v)
+            Shape::Table(v)
         }),
     ]
 }

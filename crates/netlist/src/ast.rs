@@ -132,13 +132,16 @@ impl Expr {
     }
 }
 
-/// A `wave=` shape: `sine(...)`, `pulse(...)` or `pwl(...)`.
+/// A `wave=` shape: `sine(...)`, `square(...)` or `table(...)` (names in
+/// [`crate::vocab::WAVEFORMS`]).
 #[derive(Debug, Clone, PartialEq)]
 pub struct WaveAst {
-    /// `sine`, `pulse` or `pwl`.
+    /// The waveform's name.
     pub shape: Ident,
-    /// Arguments, positional or `name=value`.
+    /// Arguments `name=value` (`sine`, `square`).
     pub args: Vec<WaveArg>,
+    /// `time: value` pairs (`table`).
+    pub points: Vec<(Expr, Expr)>,
     /// The whole call.
     pub span: Span,
 }
@@ -146,8 +149,8 @@ pub struct WaveAst {
 /// One argument of a wave shape.
 #[derive(Debug, Clone, PartialEq)]
 pub struct WaveArg {
-    /// The name for `name=value`, `None` for positional.
-    pub name: Option<Ident>,
+    /// The argument's name (`name=value`).
+    pub name: Ident,
     /// The value.
     pub value: Expr,
 }
@@ -155,7 +158,7 @@ pub struct WaveArg {
 /// The value of a `name=value` option.
 #[derive(Debug, Clone, PartialEq)]
 pub enum OptValue {
-    /// A value or a bare word (model names, `start=op`, …).
+    /// A value or a bare word (part names, `start=bias`, …).
     Expr(Expr),
     /// A waveform shape.
     Wave(WaveAst),
@@ -181,10 +184,10 @@ pub enum ElemKeyword {
     Inductor,
     /// `coupling`
     Coupling,
-    /// `vsource`
-    VSource,
-    /// `isource`
-    ISource,
+    /// `voltage` (a voltage source)
+    Voltage,
+    /// `current` (a current source)
+    Current,
     /// `diode`
     Diode,
     /// `bjt`
@@ -199,8 +202,8 @@ impl ElemKeyword {
             "capacitor" => ElemKeyword::Capacitor,
             "inductor" => ElemKeyword::Inductor,
             "coupling" => ElemKeyword::Coupling,
-            "vsource" => ElemKeyword::VSource,
-            "isource" => ElemKeyword::ISource,
+            "voltage" => ElemKeyword::Voltage,
+            "current" => ElemKeyword::Current,
             "diode" => ElemKeyword::Diode,
             "bjt" => ElemKeyword::Bjt,
             _ => return None,
@@ -213,8 +216,8 @@ impl ElemKeyword {
             ElemKeyword::Capacitor => "capacitor",
             ElemKeyword::Inductor => "inductor",
             ElemKeyword::Coupling => "coupling",
-            ElemKeyword::VSource => "vsource",
-            ElemKeyword::ISource => "isource",
+            ElemKeyword::Voltage => "voltage",
+            ElemKeyword::Current => "current",
             ElemKeyword::Diode => "diode",
             ElemKeyword::Bjt => "bjt",
         }
@@ -236,14 +239,26 @@ pub struct ElementStmt {
     pub options: Vec<Opt>,
 }
 
-/// `model NAME KIND { name=value ... }`.
+/// `part NAME KIND { BLOCK { name=value ... } ... }`.
 #[derive(Debug, Clone, PartialEq)]
-pub struct ModelStmt {
-    /// Model name.
+pub struct PartStmt {
+    /// Part name.
     pub name: Ident,
     /// `npn`, `pnp` or `diode`.
     pub kind: Ident,
-    /// Parameters.
+    /// The named blocks of parameters, in file order.
+    pub blocks: Vec<PartBlock>,
+    /// Parameters written outside any block (an error the elaborator
+    /// explains by naming the block each belongs in).
+    pub loose: Vec<(Ident, Expr)>,
+}
+
+/// One block of a part: `transport { sat_current=5pA beta=50 }`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PartBlock {
+    /// The block's name.
+    pub name: Ident,
+    /// Its parameters.
     pub params: Vec<(Ident, Expr)>,
 }
 
@@ -374,8 +389,8 @@ pub enum SweepAst {
 pub enum Stmt {
     /// `title "..."`.
     Title(String),
-    /// `temperature VALUE`.
-    Temperature(Expr),
+    /// `ambient VALUE` (the ambient temperature).
+    Ambient(Expr),
     /// `let NAME = VALUE`.
     Let {
         /// Name.
@@ -385,15 +400,15 @@ pub enum Stmt {
     },
     /// An element.
     Element(ElementStmt),
-    /// A model.
-    Model(ModelStmt),
+    /// A part (a transistor or diode with its parameters).
+    Part(PartStmt),
     /// `output NAME`.
     Output(Ident),
     /// `input NAME`.
     Input(Ident),
     /// `analyze KIND options`.
     Analyze {
-        /// `op`, `transient`, `ac`, `steady`.
+        /// `bias`, `transient`, `ac`, `steady`.
         kind: Ident,
         /// Options.
         options: Vec<Opt>,

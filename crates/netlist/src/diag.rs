@@ -149,7 +149,7 @@ pub const CODES: &[(&str, &str)] = &[
     ),
     (
         "duplicate-name",
-        "an element, model, parameter or mask defined twice",
+        "an element, part, parameter or mask defined twice",
     ),
     (
         "duplicate-statement",
@@ -160,11 +160,19 @@ pub const CODES: &[(&str, &str)] = &[
         "element-kind",
         "an element of the wrong kind for this place",
     ),
-    ("unknown-model", "a model name that is not defined"),
-    ("model-kind", "a model of the wrong kind for the element"),
+    ("unknown-part", "a part name that is not defined"),
+    ("part-kind", "a part of the wrong kind for the element"),
     (
-        "unknown-model-param",
-        "a model parameter name the model kind does not have",
+        "unknown-part-param",
+        "a part block or parameter name the part kind does not have",
+    ),
+    (
+        "missing-part-param",
+        "a part parameter without a default is not given",
+    ),
+    (
+        "old-spelling",
+        "a spelling of an earlier version of the language (tankwave upgrade rewrites it)",
     ),
     ("unknown-keyword", "a word not among those allowed here"),
     ("unknown-metric", "a requirement names an unknown figure"),

@@ -14,31 +14,7 @@ use nom::character::complete::{digit0, digit1, one_of, satisfy};
 use nom::combinator::{opt, recognize};
 use nom::{IResult, Parser};
 
-/// Statement keywords (a line starting with one of these begins a statement).
-pub const STATEMENT_KEYWORDS: &[&str] = &[
-    "title",
-    "temperature",
-    "include",
-    "let",
-    "resistor",
-    "capacitor",
-    "inductor",
-    "coupling",
-    "vsource",
-    "isource",
-    "diode",
-    "bjt",
-    "model",
-    "output",
-    "input",
-    "analyze",
-    "mask",
-    "require",
-    "vary",
-    "tolerance",
-    "montecarlo",
-    "tune",
-];
+pub use crate::vocab::STATEMENT_KEYWORDS;
 
 /// What a token is.
 #[derive(Debug, Clone, PartialEq)]
@@ -70,6 +46,8 @@ pub enum TokKind {
     Eq,
     /// `,`
     Comma,
+    /// `:` (between a time and a value in `table(...)`)
+    Colon,
     /// `+`
     Plus,
     /// `-`
@@ -119,6 +97,7 @@ impl TokKind {
             TokKind::RBrack => "]",
             TokKind::Eq => "=",
             TokKind::Comma => ",",
+            TokKind::Colon => ":",
             TokKind::Plus => "+",
             TokKind::Minus => "-",
             TokKind::Star => "*",
@@ -372,6 +351,7 @@ pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic
                 ']' => (TokKind::RBrack, 1),
                 '=' => (TokKind::Eq, 1),
                 ',' => (TokKind::Comma, 1),
+                ':' => (TokKind::Colon, 1),
                 '+' => (TokKind::Plus, 1),
                 '-' => (TokKind::Minus, 1),
                 '*' => (TokKind::Star, 1),
@@ -515,10 +495,10 @@ mod tests {
 
     #[test]
     fn unclosed_brace_recovers_at_next_statement() {
-        let (k, d) = kinds("model m npn {\n gain_fwd=50\nresistor r1 a b 1\n");
+        let (k, d) = kinds("part m npn {\n transport { beta=50 }\nresistor r1 a b 1\n");
         assert_eq!(d.len(), 1);
         assert_eq!(d[0].code, "unclosed-bracket");
-        assert_eq!((d[0].line, d[0].column), (1, 13));
+        assert_eq!((d[0].line, d[0].column), (1, 12));
         assert!(k.contains(&TokKind::Ident("resistor".into())));
     }
 }

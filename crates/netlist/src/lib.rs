@@ -22,6 +22,7 @@ pub mod parser;
 pub mod source;
 pub mod suggest;
 pub mod units;
+pub mod vocab;
 
 pub use ast::Statement;
 pub use diag::{Diagnostic, Severity, CODES};

@@ -8,9 +8,10 @@
 
 use crate::ast::*;
 use crate::diag::Diagnostic;
-use crate::lexer::{TokKind, Token, STATEMENT_KEYWORDS};
+use crate::lexer::{TokKind, Token};
 use crate::source::{SourceMap, Span};
 use crate::suggest::did_you_mean;
+use crate::vocab::{self, Place, ELEMENT_KINDS, STATEMENT_KEYWORDS, WAVEFORMS};
 
 /// One parsed item of a file.
 #[derive(Debug, Clone, PartialEq)]
@@ -89,7 +90,11 @@ pub fn parse_tokens(toks: &[Token], map: &SourceMap, diags: &mut Vec<Diagnostic>
                     p.toks.get(start).map(|t| &t.kind),
                     p.toks.get(start + 1).map(|t| &t.kind),
                 ) {
-                    items.push(Item::Broken(kw.clone(), name.clone()));
+                    // A retired keyword declares the same thing as its replacement.
+                    let kw = vocab::retired(kw, Place::Statement)
+                        .map(|r| r.new.to_string())
+                        .unwrap_or_else(|| kw.clone());
+                    items.push(Item::Broken(kw, name.clone()));
                 }
                 p.skip_statement()
             }
@@ -245,7 +250,7 @@ impl<'a> Parser<'a> {
                 }
                 _ => return self.expected("a quoted file name"),
             },
-            "temperature" => Stmt::Temperature(self.value()?),
+            "ambient" => Stmt::Ambient(self.value()?),
             "let" => {
                 let name = self.ident("a parameter name")?;
                 self.expect(TokKind::Eq, "'='")?;
@@ -254,16 +259,15 @@ impl<'a> Parser<'a> {
                     value: self.value()?,
                 }
             }
-            "resistor" | "capacitor" | "inductor" | "coupling" | "vsource" | "isource"
-            | "diode" | "bjt" => {
+            k if ELEMENT_KINDS.contains(&k) => {
                 let kind = ElemKeyword::from_keyword(&kw).ok_or(())?;
                 Stmt::Element(self.element(kind)?)
             }
-            "model" => Stmt::Model(self.model()?),
+            "part" => Stmt::Part(self.part()?),
             "output" => Stmt::Output(self.ident("an element name")?),
             "input" => Stmt::Input(self.ident("an element name")?),
             "analyze" => {
-                let kind = self.ident("an analysis (op, transient, ac or steady)")?;
+                let kind = self.ident("an analysis (bias, transient, ac or steady)")?;
                 Stmt::Analyze {
                     kind,
                     options: self.options()?,
@@ -293,6 +297,12 @@ impl<'a> Parser<'a> {
                 self.expect_word("to")?;
                 let to = self.value()?;
                 Stmt::Tune { param, from, to }
+            }
+            old if vocab::retired(old, Place::Statement).is_some() => {
+                if let Some(r) = vocab::retired(old, Place::Statement) {
+                    self.err_help("old-spelling", t.span, vocab::retired_message(r), None);
+                }
+                return Err(());
             }
             _ => {
                 let help = did_you_mean(&kw, STATEMENT_KEYWORDS.iter());
@@ -338,7 +348,7 @@ impl<'a> Parser<'a> {
                 }
                 value = Some(self.value()?);
             }
-            ElemKeyword::VSource | ElemKeyword::ISource | ElemKeyword::Diode => {
+            ElemKeyword::Voltage | ElemKeyword::Current | ElemKeyword::Diode => {
                 nodes.push(self.ident("a node name")?);
                 nodes.push(self.ident("a second node name")?);
             }
@@ -372,7 +382,8 @@ impl<'a> Parser<'a> {
                     let key = self.ident("an option name")?;
                     self.pos += 1; // '='
                     let value = if key.name == "wave"
-                        || (matches!(self.peek(), TokKind::Ident(s) if s == "sine" || s == "pulse" || s == "pwl")
+                        || (matches!(self.peek(), TokKind::Ident(s) if vocab::waveform_args(s).is_some()
+                            || vocab::retired(s, Place::Waveform).is_some())
                             && matches!(self.peek_at(1), TokKind::LParen))
                     {
                         OptValue::Wave(self.wave()?)
@@ -387,38 +398,68 @@ impl<'a> Parser<'a> {
     }
 
     fn wave(&mut self) -> P<WaveAst> {
-        let shape = self.ident("a wave shape (sine, pulse or pwl)")?;
-        if !matches!(shape.name.as_str(), "sine" | "pulse" | "pwl") {
-            let help = did_you_mean(&shape.name, ["sine", "pulse", "pwl"].iter());
+        let names: Vec<&str> = WAVEFORMS.iter().map(|(n, _)| *n).collect();
+        let shape = self.ident("a waveform (sine, square or table)")?;
+        if let Some(r) = vocab::retired(&shape.name, Place::Waveform) {
+            self.err_help("old-spelling", shape.span, vocab::retired_message(r), None);
+            return Err(());
+        }
+        if vocab::waveform_args(&shape.name).is_none() {
+            let help = did_you_mean(&shape.name, names.iter());
             self.err_help(
                 "unknown-keyword",
                 shape.span,
-                format!("unknown wave shape '{}' (sine, pulse or pwl)", shape.name),
+                format!("unknown waveform '{}' ({})", shape.name, names.join(", ")),
                 help,
             );
             return Err(());
         }
-        self.expect(TokKind::LParen, "'(' after the wave shape")?;
+        self.expect(TokKind::LParen, "'(' after the waveform's name")?;
         let mut args = Vec::new();
+        let mut points = Vec::new();
+        let table = shape.name == "table";
         loop {
             if self.eat(&TokKind::RParen) {
                 break;
             }
-            let name = if self.option_ahead() {
-                let n = self.ident("an argument name")?;
-                self.pos += 1;
-                Some(n)
+            if table {
+                let t = self.value()?;
+                self.expect(TokKind::Colon, "':' between a time and its value")?;
+                let v = self.value()?;
+                points.push((t, v));
             } else {
-                None
-            };
-            let value = self.value()?;
-            args.push(WaveArg { name, value });
-            self.eat(&TokKind::Comma);
+                if !self.option_ahead() {
+                    let sp = self.tok().span;
+                    let msg = if shape.name == "sine" {
+                        "sine takes named arguments only, e.g. sine(amp=4V, freq=f0); \
+                         run `tankwave upgrade FILE` to rewrite positional ones"
+                            .to_string()
+                    } else {
+                        format!("{} takes named arguments only (name=value)", shape.name)
+                    };
+                    let code = if shape.name == "sine" {
+                        "old-spelling"
+                    } else {
+                        "syntax"
+                    };
+                    self.err_help(code, sp, msg, None);
+                    return Err(());
+                }
+                let name = self.ident("an argument name")?;
+                self.pos += 1;
+                let value = self.value()?;
+                args.push(WaveArg { name, value });
+            }
+            if !self.eat(&TokKind::Comma) {
+                self.expect(TokKind::RParen, "',' or ')'")?;
+                break;
+            }
         }
         Ok(WaveAst {
             span: shape.span.to(self.prev_end()),
             shape,
             args,
+            points,
         })
     }
 
@@ -662,11 +703,12 @@ impl<'a> Parser<'a> {
         }
     }
 
-    fn model(&mut self) -> P<ModelStmt> {
-        let name = self.ident("a model name")?;
-        let kind = self.ident("a model kind (npn, pnp or diode)")?;
-        self.expect(TokKind::LBrace, "'{' to open the model parameters")?;
-        let mut params = Vec::new();
+    fn part(&mut self) -> P<PartStmt> {
+        let name = self.ident("a part name")?;
+        let kind = self.ident("a part kind (npn, pnp or diode)")?;
+        self.expect(TokKind::LBrace, "'{' to open the part's blocks")?;
+        let mut blocks = Vec::new();
+        let mut loose = Vec::new();
         loop {
             if self.eat(&TokKind::RBrace) {
                 break;
@@ -674,12 +716,33 @@ impl<'a> Parser<'a> {
             if self.eat(&TokKind::Comma) {
                 continue;
             }
-            let key = self.ident("a model parameter name or '}'")?;
-            self.expect(TokKind::Eq, "'=' after the parameter name")?;
-            let v = self.value()?;
-            params.push((key, v));
+            let key = self.ident("a block name (e.g. transport) or '}'")?;
+            if self.eat(&TokKind::Eq) {
+                // A parameter outside any block: kept so the elaborator can say where it goes.
+                loose.push((key, self.value()?));
+                continue;
+            }
+            self.expect(TokKind::LBrace, "'{' to open the block's parameters")?;
+            let mut params = Vec::new();
+            loop {
+                if self.eat(&TokKind::RBrace) {
+                    break;
+                }
+                if self.eat(&TokKind::Comma) {
+                    continue;
+                }
+                let p = self.ident("a parameter name or '}'")?;
+                self.expect(TokKind::Eq, "'=' after the parameter name")?;
+                params.push((p, self.value()?));
+            }
+            blocks.push(PartBlock { name: key, params });
         }
-        Ok(ModelStmt { name, kind, params })
+        Ok(PartStmt {
+            name,
+            kind,
+            blocks,
+            loose,
+        })
     }
 
     fn mask(&mut self) -> P<MaskStmt> {
@@ -931,4 +994,21 @@ impl<'a> Parser<'a> {
         }
         self.expected("'step' or 'points'")
     }
+}
+
+/// The span of the one value that starts at token `pos` (a number, a name, a
+/// call or a parenthesised expression, with a leading minus) and the index of
+/// the token after it; `None` if no value starts there. Used by the circuit
+/// crate's `upgrade` module to cut old files into values without evaluating them.
+pub fn value_at(toks: &[Token], pos: usize, map: &SourceMap) -> Option<(Span, usize)> {
+    let mut diags = Vec::new();
+    let mut p = Parser {
+        toks,
+        pos,
+        map,
+        diags: &mut diags,
+        depth: 0,
+    };
+    let e = p.value().ok()?;
+    Some((e.span, p.pos))
 }

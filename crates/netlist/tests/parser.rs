@@ -22,7 +22,7 @@ fn let_value(text: &str) -> Result<f64, EvalError> {
 
 #[test]
 fn element_statement_shape() {
-    match one("inductor lpi p1 out 0.56uH q=180 qfreq=13.56MHz\n") {
+    match one("inductor lpi p1 out 0.56uH q=180 q_at=13.56MHz\n") {
         Stmt::Element(e) => {
             assert_eq!(e.kind, ElemKeyword::Inductor);
             assert_eq!(e.name.name, "lpi");
@@ -33,11 +33,11 @@ fn element_statement_shape() {
                 Some(Some(Unit::Henry))
             );
             let keys: Vec<&str> = e.options.iter().map(|o| o.key.name.as_str()).collect();
-            assert_eq!(keys, vec!["q", "qfreq"]);
+            assert_eq!(keys, vec!["q", "q_at"]);
         }
         s => panic!("{s:?}"),
     }
-    match one("bjt q1 c=coll b=base e=gnd model=hfnpn\n") {
+    match one("bjt q1 c=coll b=base e=gnd part=hfnpn\n") {
         Stmt::Element(e) => assert_eq!(e.options.len(), 4),
         s => panic!("{s:?}"),
     }
@@ -108,12 +108,12 @@ fn expressions() {
 fn newlines_inside_brackets_continue_the_statement() {
     let p = parse_str(
         "t.tank",
-        "model m npn {\n  gain_fwd=50\n  sat_current=1e-14A\n}\nlet x = (1 +\n  2)\n",
+        "part m npn {\n  transport {\n    beta=50\n    sat_current=1e-14A\n  }\n}\nlet x = (1 +\n  2)\n",
     );
     assert!(p.diagnostics.is_empty(), "{:#?}", p.diagnostics);
     assert_eq!(p.statements.len(), 2);
     match &p.statements[0].stmt {
-        Stmt::Model(m) => assert_eq!(m.params.len(), 2),
+        Stmt::Part(m) => assert_eq!(m.blocks[0].params.len(), 2),
         s => panic!("{s:?}"),
     }
 }

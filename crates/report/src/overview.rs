@@ -55,7 +55,7 @@ pub fn stage_overview(file: &str, c: &Circuit, warnings: usize) -> String {
         .analyses
         .iter()
         .map(|a| match a {
-            Analysis::Op => "op".to_string(),
+            Analysis::Op => "bias".to_string(),
             Analysis::Transient { stop, .. } => format!("transient to {stop:e} s"),
             Analysis::Ac {
                 from, to, points, ..
@@ -108,11 +108,11 @@ mod tests {
 
     #[test]
     fn summary_counts_elements_by_kind() {
-        let text = "title \"t\"\nvsource v1 a gnd dc=1V\nresistor r1 a b 1Ohm\nresistor r2 b gnd 1Ohm\nanalyze op\n";
+        let text = "title \"t\"\nvoltage v1 a gnd dc=1V\nresistor r1 a b 1Ohm\nresistor r2 b gnd 1Ohm\nanalyze bias\n";
         let e = tankwave_circuit::load_str("t.tank", text, &Overrides::default()).expect("valid");
         let s = stage_overview("t.tank", &e.circuit, 0);
-        assert!(s.contains("elements:     3 (2 resistor, 1 vsource)"), "{s}");
+        assert!(s.contains("elements:     3 (2 resistor, 1 voltage)"), "{s}");
         assert!(s.contains("nodes:        2"), "{s}");
-        assert!(s.contains("analyses:     op"), "{s}");
+        assert!(s.contains("analyses:     bias"), "{s}");
     }
 }

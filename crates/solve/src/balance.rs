@@ -348,8 +348,8 @@ pub(crate) fn start_time(circuit: &Circuit, period: f64) -> f64 {
         };
         let end = match &wave.shape {
             Some(Shape::Sine { delay, rise, .. }) => delay + rise,
-            Some(Shape::Pulse { delay, .. }) => *delay,
-            Some(Shape::Pwl(pts)) => pts.last().map(|p| p.0).unwrap_or(0.0),
+            Some(Shape::Square { start: delay, .. }) => *delay,
+            Some(Shape::Table(pts)) => pts.last().map(|p| p.0).unwrap_or(0.0),
             None => 0.0,
         };
         if end.is_finite() {

@@ -12,7 +12,7 @@
 //!
 //! ```
 //! // A sine into an RC low-pass, solved for its periodic steady state.
-//! let text = "vsource vs in gnd wave=sine(amp=1V, freq=1MHz)\n\
+//! let text = "voltage vs in gnd wave=sine(amp=1V, freq=1MHz)\n\
 //!             resistor r1 in out 100Ohm\n\
 //!             capacitor c1 out gnd 1nF\n\
 //!             analyze steady freq=1MHz harmonics=4\n";

@@ -34,7 +34,7 @@ fn tank(t_off: f64) -> B {
         "t",
         Waveform {
             dc: 0.0,
-            shape: Some(Shape::Pwl(vec![(0.0, I0), (t_off, 0.0)])),
+            shape: Some(Shape::Table(vec![(0.0, I0), (t_off, 0.0)])),
         },
     );
     b

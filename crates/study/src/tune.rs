@@ -750,7 +750,7 @@ mod tests {
     #[test]
     fn drive_scaling_scales_only_the_sine_amplitude() {
         let mut c = circuit(
-            "vsource vdrv src gnd wave=sine(amp=10V, freq=1MHz) rs=50Ohm\n\
+            "voltage vdrv src gnd wave=sine(amp=10V, freq=1MHz) internal=50Ohm\n\
              resistor rload src gnd 50Ohm\noutput rload\ninput vdrv\n",
         );
         scale_drive(&mut c, 0.25).expect("a sine drive scales");
@@ -759,12 +759,12 @@ mod tests {
 
     #[test]
     fn drive_scaling_refuses_what_it_cannot_scale() {
-        let mut no_input = circuit("vsource v1 a gnd dc=1V\nresistor r1 a gnd 1Ohm\n");
+        let mut no_input = circuit("voltage v1 a gnd dc=1V\nresistor r1 a gnd 1Ohm\n");
         assert!(matches!(
             scale_drive(&mut no_input, 0.5),
             Err(StudyError::DriveNoInput)
         ));
-        let mut dc = circuit("vsource v1 a gnd dc=1V\nresistor r1 a gnd 1Ohm\ninput v1\n");
+        let mut dc = circuit("voltage v1 a gnd dc=1V\nresistor r1 a gnd 1Ohm\ninput v1\n");
         let e = scale_drive(&mut dc, 0.5).expect_err("a DC source has no sine");
         assert!(matches!(&e, StudyError::DriveNotSine { element } if element == "v1"));
         assert_eq!(e.to_string(), "reduced-drive tuning needs a sine drive");

@@ -252,7 +252,7 @@ mod tests {
     use crate::assemble::test_circuit as circuit;
 
     const DIVIDER: &str =
-        "title \"divider\"\nvsource vdrv src gnd wave=sine(amp=10V, freq=1MHz) rs=50Ohm\n\
+        "title \"divider\"\nvoltage vdrv src gnd wave=sine(amp=10V, freq=1MHz) internal=50Ohm\n\
         resistor rload src gnd 50Ohm\noutput rload\ninput vdrv\n";
 
     /// The AC plot shows the output element's first terminal on the scale of

@@ -251,7 +251,7 @@ mod tests {
 
     use crate::assemble::test_circuit as circuit;
 
-    const STAGE: &str = "let rl = 50Ohm\nvsource vdrv src gnd wave=sine(amp=10V, freq=1MHz) rs=50Ohm\n\
+    const STAGE: &str = "let rl = 50Ohm\nvoltage vdrv src gnd wave=sine(amp=10V, freq=1MHz) internal=50Ohm\n\
         resistor rload src gnd rl\noutput rload\ninput vdrv\nanalyze steady freq=1MHz harmonics=4\n";
 
     #[test]

@@ -45,7 +45,7 @@ mod tests {
     fn element_units_by_kind() {
         let e = tankwave_circuit::load_str(
             "t.tank",
-            "vsource v1 a gnd dc=1V\nresistor r1 a b 1Ohm\ncapacitor c1 b gnd 1nF\ninductor l1 b gnd 1uH\n",
+            "voltage v1 a gnd dc=1V\nresistor r1 a b 1Ohm\ncapacitor c1 b gnd 1nF\ninductor l1 b gnd 1uH\n",
             &Default::default(),
         )
         .map_err(|e| e.diagnostics)

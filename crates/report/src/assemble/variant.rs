@@ -148,7 +148,7 @@ mod tests {
 
     #[test]
     fn limits_from_plain_requirements_only() {
-        let text = "vsource vdrv src gnd wave=sine(amp=10V, freq=1MHz) rs=50Ohm\n\
+        let text = "voltage vdrv src gnd wave=sine(amp=10V, freq=1MHz) internal=50Ohm\n\
             resistor rload src gnd 50Ohm\noutput rload\ninput vdrv\n\
             analyze steady freq=1MHz harmonics=4\n\
             require pout >= 0.23W\nrequire input_vswr <= 1.5\n";

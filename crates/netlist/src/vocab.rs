@@ -1,0 +1,294 @@
+//! The words of the stage-file language, declared once.
+//!
+//! Every statement keyword, element kind, waveform and its arguments, analysis,
+//! option name and option word the parser or the elaborator accepts is listed
+//! here, and both read these tables instead of repeating string literals.
+//! docs/vocabulary.md lists the same names with the reason each is ours (or
+//! which trade term or open standard it is); a test in the circuit crate
+//! keeps the two in step. The spellings that were retired are in [`RETIRED`]:
+//! the parser and elaborator name their replacement, and the `upgrade`
+//! module rewrites them.
+
+/// Statement keywords (a line starting with one of these begins a statement).
+pub const STATEMENT_KEYWORDS: &[&str] = &[
+    "title",
+    "ambient",
+    "include",
+    "let",
+    "resistor",
+    "capacitor",
+    "inductor",
+    "coupling",
+    "voltage",
+    "current",
+    "diode",
+    "bjt",
+    "part",
+    "output",
+    "input",
+    "analyze",
+    "mask",
+    "require",
+    "vary",
+    "tolerance",
+    "montecarlo",
+    "tune",
+];
+
+/// The element statement keywords (a subset of [`STATEMENT_KEYWORDS`]).
+pub const ELEMENT_KINDS: &[&str] = &[
+    "resistor",
+    "capacitor",
+    "inductor",
+    "coupling",
+    "voltage",
+    "current",
+    "diode",
+    "bjt",
+];
+
+/// The options each element kind takes.
+pub const ELEMENT_OPTIONS: &[(&str, &[&str])] = &[
+    ("resistor", &["rating"]),
+    ("capacitor", &["rating"]),
+    ("inductor", &["rating", "r", "q", "q_at"]),
+    ("coupling", &["k"]),
+    ("voltage", &["dc", "wave", "internal"]),
+    ("current", &["dc", "wave"]),
+    ("diode", &["part", "area"]),
+    ("bjt", &["c", "b", "e", "part", "area"]),
+];
+
+/// Waveforms for `wave=`, with the names of their arguments (all named;
+/// `table` takes `time: value` pairs instead).
+pub const WAVEFORMS: &[(&str, &[&str])] = &[
+    ("sine", &["amp", "freq", "phase", "offset", "start", "rise"]),
+    (
+        "square",
+        &["base", "top", "start", "rise", "fall", "hold", "every"],
+    ),
+    ("table", &[]),
+];
+
+/// Analyses (`analyze KIND`) with the options each takes.
+pub const ANALYSES: &[(&str, &[&str])] = &[
+    ("bias", &[]),
+    (
+        "transient",
+        &["stop", "step", "max_step", "start", "method", "tolerance"],
+    ),
+    (
+        "ac",
+        &["from", "to", "points", "scale", "source", "impedance"],
+    ),
+    ("steady", &["freq", "harmonics", "method", "steps"]),
+];
+
+/// Options of `montecarlo`.
+pub const MONTECARLO_OPTIONS: &[&str] = &["runs", "seed"];
+
+/// Part kinds (`part NAME KIND { … }`).
+pub const PART_KINDS: &[&str] = &["npn", "pnp", "diode"];
+
+/// The words an option takes as its value, by (statement, option).
+pub const OPTION_WORDS: &[(&str, &str, &[&str])] = &[
+    ("transient", "start", &["bias", "zero"]),
+    ("transient", "method", &["trapezoidal", "bdf2"]),
+    ("ac", "scale", &["linear", "log"]),
+    (
+        "steady",
+        "method",
+        &["auto", "balance", "shooting", "settle"],
+    ),
+    ("tolerance", "distribution", &["uniform", "gaussian"]),
+];
+
+/// The words an option takes, by statement and option (empty if none).
+pub fn option_words(statement: &str, option: &str) -> &'static [&'static str] {
+    OPTION_WORDS
+        .iter()
+        .find(|(s, o, _)| *s == statement && *o == option)
+        .map(|(_, _, w)| *w)
+        .unwrap_or(&[])
+}
+
+/// The options an element kind takes (empty for an unknown kind).
+pub fn element_options(kind: &str) -> &'static [&'static str] {
+    ELEMENT_OPTIONS
+        .iter()
+        .find(|(k, _)| *k == kind)
+        .map(|(_, o)| *o)
+        .unwrap_or(&[])
+}
+
+/// The options an analysis takes, or `None` for an unknown analysis.
+pub fn analysis_options(kind: &str) -> Option<&'static [&'static str]> {
+    ANALYSES.iter().find(|(k, _)| *k == kind).map(|(_, o)| *o)
+}
+
+/// The argument names of a waveform, or `None` for an unknown one.
+pub fn waveform_args(shape: &str) -> Option<&'static [&'static str]> {
+    WAVEFORMS.iter().find(|(k, _)| *k == shape).map(|(_, a)| *a)
+}
+
+/// Where a retired spelling was used.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Place {
+    /// A statement keyword.
+    Statement,
+    /// A waveform name in `wave=`.
+    Waveform,
+    /// An option name of the statements listed (element kinds or analyses).
+    Option(&'static [&'static str]),
+    /// An analysis kind after `analyze`.
+    Analysis,
+    /// An option word (the value of `start=` of a transient).
+    Word,
+    /// An argument name of a waveform.
+    WaveArgument,
+}
+
+/// A spelling of an earlier version of the language and what replaced it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Retired {
+    /// The old spelling.
+    pub old: &'static str,
+    /// Where it was used.
+    pub place: Place,
+    /// The new spelling (a word of the current language).
+    pub new: &'static str,
+    /// The new form as a reader would write it.
+    pub shows: &'static str,
+}
+
+/// Every retired spelling (the message for each names the new form and
+/// `tankwave upgrade FILE`, which rewrites it).
+pub const RETIRED: &[Retired] = &[
+    Retired {
+        old: "vsource",
+        place: Place::Statement,
+        new: "voltage",
+        shows: "voltage NAME p n dc=… wave=… internal=…",
+    },
+    Retired {
+        old: "isource",
+        place: Place::Statement,
+        new: "current",
+        shows: "current NAME p n dc=… wave=…",
+    },
+    Retired {
+        old: "model",
+        place: Place::Statement,
+        new: "part",
+        shows: "part NAME npn { transport { sat_current=… beta=… beta_reverse=… } … }",
+    },
+    Retired {
+        old: "temperature",
+        place: Place::Statement,
+        new: "ambient",
+        shows: "ambient 25degC",
+    },
+    Retired {
+        old: "pulse",
+        place: Place::Waveform,
+        new: "square",
+        shows: "square(base=…, top=…, start=…, rise=…, fall=…, hold=…, every=…)",
+    },
+    Retired {
+        old: "pwl",
+        place: Place::Waveform,
+        new: "table",
+        shows: "table(0s: 0V, 1us: 1V, …)",
+    },
+    Retired {
+        old: "rs",
+        place: Place::Option(&["voltage"]),
+        new: "internal",
+        shows: "internal=50Ohm",
+    },
+    Retired {
+        old: "model",
+        place: Place::Option(&["diode", "bjt"]),
+        new: "part",
+        shows: "part=NAME",
+    },
+    Retired {
+        old: "qfreq",
+        place: Place::Option(&["inductor"]),
+        new: "q_at",
+        shows: "q=Q q_at=FREQ",
+    },
+    Retired {
+        old: "op",
+        place: Place::Analysis,
+        new: "bias",
+        shows: "analyze bias",
+    },
+    Retired {
+        old: "op",
+        place: Place::Word,
+        new: "bias",
+        shows: "start=bias",
+    },
+    Retired {
+        old: "delay",
+        place: Place::WaveArgument,
+        new: "start",
+        shows: "sine(amp=…, freq=…, start=…)",
+    },
+];
+
+/// The retired spelling `old` used at `place`, if it is one (for option
+/// names, see [`retired_option`]).
+pub fn retired(old: &str, place: Place) -> Option<&'static Retired> {
+    RETIRED.iter().find(|r| r.old == old && r.place == place)
+}
+
+/// The retired option name `old` of the statement `statement` (an element kind), if it is one.
+pub fn retired_option(old: &str, statement: &str) -> Option<&'static Retired> {
+    RETIRED
+        .iter()
+        .find(|r| r.old == old && matches!(r.place, Place::Option(k) if k.contains(&statement)))
+}
+
+/// The message for a retired spelling: what it is now and how to rewrite a file.
+pub fn retired_message(r: &Retired) -> String {
+    format!(
+        "'{}' is now '{}' (written {}); run `tankwave upgrade FILE` to rewrite a file",
+        r.old, r.new, r.shows
+    )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn every_element_kind_is_a_statement_and_has_options() {
+        for k in ELEMENT_KINDS {
+            assert!(STATEMENT_KEYWORDS.contains(k), "{k}");
+            assert!(ELEMENT_OPTIONS.iter().any(|(e, _)| e == k), "{k}");
+        }
+    }
+
+    #[test]
+    fn no_retired_spelling_is_a_current_word_in_its_place() {
+        for r in RETIRED {
+            match r.place {
+                Place::Statement => assert!(!STATEMENT_KEYWORDS.contains(&r.old)),
+                Place::Waveform => assert!(waveform_args(r.old).is_none()),
+                Place::Analysis => assert!(analysis_options(r.old).is_none()),
+                Place::Option(kinds) => {
+                    for k in kinds {
+                        assert!(!element_options(k).contains(&r.old), "{}", r.old);
+                        assert!(element_options(k).contains(&r.new), "{}", r.new);
+                    }
+                }
+                Place::Word => assert!(!option_words("transient", "start").contains(&r.old)),
+                Place::WaveArgument => {
+                    assert!(!waveform_args("sine").unwrap_or(&[]).contains(&r.old))
+                }
+            }
+        }
+    }
+}
