@@ -32,7 +32,7 @@ mod tests {
     fn param_units_come_from_elaboration() {
         let e = tankwave_circuit::load_str(
             "t.tank",
-            "let a = 2\nlet d = 5\nvsource v1 x gnd dc=1V\nresistor r1 x gnd 1Ohm\nvary d [1Ohm, 2Ohm]\n",
+            "let a = 2\nlet d = 5\nvoltage v1 x gnd dc=1V\nresistor r1 x gnd 1Ohm\nvary d [1Ohm, 2Ohm]\n",
             &Default::default(),
         )
         .map_err(|e| e.diagnostics)
