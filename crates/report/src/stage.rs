@@ -632,6 +632,16 @@ pub(crate) fn stress_cells(r: &tankwave_measure::StressRow) -> StressCells {
     }
 }
 
+/// Pulses per period of a transistor's collector current, with the
+/// saturation notches bridged inside them.
+pub(crate) fn pulses_cell(q: &tankwave_measure::TransistorMetrics) -> String {
+    match q.conduction_notches {
+        0 => q.conduction_pulses.to_string(),
+        1 => format!("{} (1 notch)", q.conduction_pulses),
+        k => format!("{} ({k} notches)", q.conduction_pulses),
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::unit_of_figure;
@@ -655,15 +665,5 @@ mod tests {
         ] {
             assert_eq!(unit_of_figure(name), unit, "{name}");
         }
-    }
-}
-
-/// Pulses per period of a transistor's collector current, with the
-/// saturation notches bridged inside them.
-pub(crate) fn pulses_cell(q: &tankwave_measure::TransistorMetrics) -> String {
-    match q.conduction_notches {
-        0 => q.conduction_pulses.to_string(),
-        1 => format!("{} (1 notch)", q.conduction_pulses),
-        k => format!("{} ({k} notches)", q.conduction_pulses),
     }
 }
