@@ -148,6 +148,7 @@ pub fn measure(circuit: &Circuit, s: &PeriodicSolution) -> Result<Metrics, Failu
         freq: s.freq,
         node_voltages: &s.x[..n_nodes],
         terminal_currents: &s.terminal_currents,
+        transport_currents: &s.transport_currents,
         harmonics: s.harmonics,
     };
     tankwave_measure::measure(&data, &MeasureParams::default())

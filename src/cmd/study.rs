@@ -163,6 +163,39 @@ fn solve_variant(
     Ok((s.metrics, r.verdicts, Some(next)))
 }
 
+/// What the records of this run are made from: the tool version, the `--set`
+/// overrides, the SHA-256 of the stage file and of every included file.
+fn provenance(
+    file: &Path,
+    parsed: &tankwave_netlist::Parsed,
+    overrides: &tankwave_circuit::Overrides,
+) -> study::Provenance {
+    use tankwave_report::provenance::sha256_hex;
+    let digest = |name: &str, bytes: &[u8]| study::FileDigest {
+        file: name.to_string(),
+        sha256: sha256_hex(bytes),
+    };
+    study::Provenance {
+        tool: format!("tankwave {}", env!("CARGO_PKG_VERSION")),
+        overrides: overrides
+            .params
+            .iter()
+            .map(|(k, v)| (k.clone(), format!("{v:e}")))
+            .collect(),
+        stage: digest(
+            &file.display().to_string(),
+            &std::fs::read(file).unwrap_or_default(),
+        ),
+        includes: parsed
+            .sources
+            .files()
+            .iter()
+            .skip(1)
+            .map(|f| digest(&f.name, f.text.as_bytes()))
+            .collect(),
+    }
+}
+
 /// A progress bar on stderr, only when stderr is a terminal.
 fn progress_bar(total: u64) -> Option<indicatif::ProgressBar> {
     if !std::io::stderr().is_terminal() {
@@ -228,7 +261,9 @@ pub fn run(a: &StudyArgs) -> i32 {
         ..Default::default()
     };
     let fingerprint = study::input_fingerprint(&std::fs::read(&a.file).unwrap_or_default());
-    let header = study::Header::new(&plan, params.chain, shard).with_input(fingerprint);
+    let header = study::Header::new(&plan, params.chain, shard)
+        .with_input(fingerprint)
+        .with_provenance(provenance(&a.file, &parsed, &overrides));
     let base = overrides;
     let work = |v: &study::Variant, warm: Option<&study::WarmStart>| {
         let mut o = v.overrides.clone();

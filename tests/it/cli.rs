@@ -693,3 +693,193 @@ fn upgrade_of_an_unreadable_file_exits_2_with_file_line_column() {
     assert!(e.contains("broken.tank:2:19"), "{e}");
     assert!(stdout(&o).is_empty());
 }
+
+/// A stage file with one include, written into `dir`: a 1 MHz source into a
+/// swept resistive load (3 variants).
+fn provenance_stage(dir: &Path, comment: &str, include_comment: &str) -> PathBuf {
+    std::fs::write(
+        dir.join("level.tank"),
+        format!("# drive level{include_comment}\nlet amp = 10V\n"),
+    )
+    .unwrap();
+    let main = dir.join("main.tank");
+    std::fs::write(
+        &main,
+        format!(
+            "title \"provenance of study records\"{comment}\n\
+             include \"level.tank\"\n\
+             let rl = 50Ohm\n\
+             voltage vdrv src gnd wave=sine(amp=amp, freq=1MHz) internal=50Ohm\n\
+             resistor rload src gnd rl\n\
+             output rload\n\
+             input vdrv\n\
+             analyze steady freq=1MHz harmonics=4\n\
+             vary rl [25Ohm, 50Ohm, 100Ohm]\n"
+        ),
+    )
+    .unwrap();
+    main
+}
+
+/// Run shard `i` of 2 of the provenance stage into `out`, with extra args.
+fn provenance_shard(main: &Path, out: &Path, i: u32, extra: &[&str]) {
+    let shard = format!("{i}/2");
+    let mut args = vec!["study", p(main), "--out", p(out), "--shard", &shard];
+    args.extend(extra);
+    let o = run(&args);
+    assert_eq!(code(&o), 0, "{}{}", stdout(&o), stderr(&o));
+}
+
+/// Merge two shards; returns the output of `merge`.
+fn provenance_merge(dir: &Path, a: &Path, b: &Path) -> Output {
+    run(&["merge", p(a), p(b), "--out", p(&dir.join("m.jsonl"))])
+}
+
+#[test]
+fn record_files_state_their_provenance() {
+    let dir = tempfile::tempdir().unwrap();
+    let main = provenance_stage(dir.path(), "", "");
+    let a = dir.path().join("a.jsonl");
+    provenance_shard(&main, &a, 0, &["--set", "amp=12V"]);
+    let text = std::fs::read_to_string(&a).unwrap();
+    let h: serde_json::Value = serde_json::from_str(text.lines().next().unwrap()).unwrap();
+    let pr = &h["provenance"];
+    assert_eq!(pr["overrides"]["amp"], "1.2e1", "{h}");
+    assert!(pr["tool"].as_str().unwrap().starts_with("tankwave "), "{h}");
+    // SHA-256 as 64 hex digits of the stage file and of the one include
+    // (FIPS 180-4 digest length, 256 bits)
+    let sha = |v: &serde_json::Value| v["sha256"].as_str().unwrap().len();
+    assert_eq!(sha(&pr["stage"]), 64);
+    assert_eq!(pr["includes"].as_array().unwrap().len(), 1);
+    assert_eq!(sha(&pr["includes"][0]), 64);
+    assert!(pr["includes"][0]["file"]
+        .as_str()
+        .unwrap()
+        .ends_with("level.tank"));
+    // the same inputs merge
+    let b = dir.path().join("b.jsonl");
+    provenance_shard(&main, &b, 1, &["--set", "amp=12V"]);
+    let o = provenance_merge(dir.path(), &a, &b);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+}
+
+#[test]
+fn merge_refuses_shards_with_different_overrides() {
+    let dir = tempfile::tempdir().unwrap();
+    let main = provenance_stage(dir.path(), "", "");
+    let (a, b) = (dir.path().join("a.jsonl"), dir.path().join("b.jsonl"));
+    provenance_shard(&main, &a, 0, &["--set", "amp=10V"]);
+    provenance_shard(&main, &b, 1, &["--set", "amp=12V"]);
+    let o = provenance_merge(dir.path(), &a, &b);
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    assert!(stderr(&o).contains("--set amp"), "{}", stderr(&o));
+    // an override on one side only differs too
+    provenance_shard(&main, &b, 1, &[]);
+    let o = provenance_merge(dir.path(), &a, &b);
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    assert!(stderr(&o).contains("--set amp"), "{}", stderr(&o));
+}
+
+#[test]
+fn merge_refuses_shards_of_a_different_stage_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let (a, b) = (dir.path().join("a.jsonl"), dir.path().join("b.jsonl"));
+    let main = provenance_stage(dir.path(), "", "");
+    provenance_shard(&main, &a, 0, &[]);
+    let main = provenance_stage(dir.path(), " # edited", "");
+    provenance_shard(&main, &b, 1, &[]);
+    let o = provenance_merge(dir.path(), &a, &b);
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    assert!(stderr(&o).contains("stage file content"), "{}", stderr(&o));
+}
+
+#[test]
+fn merge_refuses_shards_with_a_different_included_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let (a, b) = (dir.path().join("a.jsonl"), dir.path().join("b.jsonl"));
+    let main = provenance_stage(dir.path(), "", "");
+    provenance_shard(&main, &a, 0, &[]);
+    let main = provenance_stage(dir.path(), "", " (edited)");
+    provenance_shard(&main, &b, 1, &[]);
+    let o = provenance_merge(dir.path(), &a, &b);
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    assert!(
+        stderr(&o).contains("included file") && stderr(&o).contains("level.tank"),
+        "{}",
+        stderr(&o)
+    );
+}
+
+#[test]
+fn merge_refuses_records_of_another_tool_or_format_version() {
+    let dir = tempfile::tempdir().unwrap();
+    let (a, b) = (dir.path().join("a.jsonl"), dir.path().join("b.jsonl"));
+    let main = provenance_stage(dir.path(), "", "");
+    provenance_shard(&main, &a, 0, &[]);
+    provenance_shard(&main, &b, 1, &[]);
+    let text = std::fs::read_to_string(&b).unwrap();
+    let (head, rest) = text.split_once('\n').unwrap();
+    let mut h: serde_json::Value = serde_json::from_str(head).unwrap();
+    // another tool version
+    let mut t = h.clone();
+    t["provenance"]["tool"] = "tankwave 0.0.1".into();
+    std::fs::write(&b, format!("{t}\n{rest}")).unwrap();
+    let o = provenance_merge(dir.path(), &a, &b);
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    assert!(stderr(&o).contains("tool version"), "{}", stderr(&o));
+    // another record-format version
+    h["version"] = (h["version"].as_u64().unwrap() + 1).into();
+    std::fs::write(&b, format!("{h}\n{rest}")).unwrap();
+    let o = provenance_merge(dir.path(), &a, &b);
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    assert!(stderr(&o).contains("version"), "{}", stderr(&o));
+    // a file that states no provenance (written before records stated it)
+    let mut old = h.clone();
+    old["version"] = text_version(head).into();
+    old.as_object_mut().unwrap().remove("provenance");
+    std::fs::write(&b, format!("{old}\n{rest}")).unwrap();
+    let o = provenance_merge(dir.path(), &a, &b);
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    assert!(stderr(&o).contains("provenance"), "{}", stderr(&o));
+}
+
+fn text_version(head: &str) -> u64 {
+    serde_json::from_str::<serde_json::Value>(head).unwrap()["version"]
+        .as_u64()
+        .unwrap()
+}
+
+#[test]
+fn resume_refuses_records_made_with_other_settings() {
+    let dir = tempfile::tempdir().unwrap();
+    let main = provenance_stage(dir.path(), "", "");
+    let a = dir.path().join("a.jsonl");
+    provenance_shard(&main, &a, 0, &["--set", "amp=10V"]);
+    let o = run(&[
+        "study",
+        p(&main),
+        "--out",
+        p(&a),
+        "--shard",
+        "0/2",
+        "--resume",
+        "--set",
+        "amp=11V",
+    ]);
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    assert!(stderr(&o).contains("--set amp"), "{}", stderr(&o));
+    let main = provenance_stage(dir.path(), "", " (edited)");
+    let o = run(&[
+        "study",
+        p(&main),
+        "--out",
+        p(&a),
+        "--shard",
+        "0/2",
+        "--resume",
+        "--set",
+        "amp=10V",
+    ]);
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    assert!(stderr(&o).contains("included file"), "{}", stderr(&o));
+}

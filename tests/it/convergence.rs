@@ -82,6 +82,7 @@ fn every_variant_solves_or_fails_cleanly() {
                     freq: sol.freq,
                     node_voltages: &sol.x[..n],
                     terminal_currents: &sol.terminal_currents,
+                    transport_currents: &sol.transport_currents,
                     harmonics: sol.harmonics,
                 };
                 let m = tankwave_measure::measure(&data, &Default::default())

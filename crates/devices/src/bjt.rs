@@ -410,6 +410,9 @@ pub struct Components {
 pub struct Intrinsic {
     /// Collector current into the internal collector, A.
     pub ic: f64,
+    /// Transport current `I_CT = (I_F − I_R)/qb`, A: the collector current
+    /// without the base–collector recombination and leakage parts.
+    pub ict: f64,
     /// Base current into the internal base, A.
     pub ib: f64,
     /// ∂IC/∂VBE.
@@ -457,6 +460,7 @@ pub fn combine(k: &BjtConstants, vbe: f64, vbc: f64, c: &Components, gmin: f64) 
     let dqde_dvbc = -k.tf * c.fwd.v * bq.dqb_dvbc / (qb * qb);
     Intrinsic {
         ic,
+        ict,
         ib,
         dic_dvbe,
         dic_dvbc,
@@ -654,6 +658,14 @@ impl Device for Bjt {
         put(bi, 1.0, t.qbc, 0.0, t.dqbc_dvbc, true);
         put(ci, -1.0, t.qbc, 0.0, t.dqbc_dvbc, true);
         info
+    }
+
+    /// The transport current `I_CT` of the intrinsic transistor (physical
+    /// sign, into the collector for an npn), A; no junction charging current.
+    fn transport_current(&self, x: &[f64], ctx: &EvalCtx) -> Option<f64> {
+        let (vbe, vbc) = self.junction_voltages(x);
+        let t = intrinsic(&self.k, vbe, vbc, ctx.gmin);
+        Some(self.sign * t.ict).filter(|v| v.is_finite())
     }
 
     /// Terminal voltages `vbe`, `vbc`, `vce` (external, physical sign), intrinsic

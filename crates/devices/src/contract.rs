@@ -110,6 +110,14 @@ pub trait Device: Send + Sync + std::fmt::Debug {
     fn op_info(&self, _x: &[f64], _ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
         Vec::new()
     }
+    /// The intrinsic transport current at `x`, A, for a device that has one
+    /// (a bipolar transistor's collector transport current, into the
+    /// collector terminal, physical sign): the current of the active device
+    /// alone, without the junction charging (displacement) current the
+    /// terminal current carries. Measurements of conduction read it.
+    fn transport_current(&self, _x: &[f64], _ctx: &EvalCtx) -> Option<f64> {
+        None
+    }
     /// The unknown carrying its branch current, if it has one (voltage sources, inductors).
     fn branch(&self) -> Option<usize> {
         None

@@ -126,6 +126,7 @@ fn bench(c: &mut Criterion) {
                         freq: 7.1e6,
                         node_voltages: &v,
                         terminal_currents: &i,
+                        transport_currents: &[],
                         harmonics: 32,
                     },
                     &MeasureParams::default(),

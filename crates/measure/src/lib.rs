@@ -41,9 +41,9 @@ pub mod verdict;
 pub use error::MeasureError;
 pub use mask::{evaluate_mask, HarmonicRow, MaskError, MaskEvaluation};
 pub use metrics::{
-    conduction_angle_deg, conduction_intervals, measure, DriveMetrics, GainBasis, HarmonicPower,
-    Impedance, MeasureParams, Metrics, Note, OutputMetrics, StressQuantity, StressRow, SupplyPower,
-    TransistorMetrics,
+    conduction, conduction_angle_deg, conduction_intervals, measure, Conduction, DriveMetrics,
+    GainBasis, HarmonicPower, Impedance, MeasureParams, Metrics, Note, OutputMetrics,
+    StressQuantity, StressRow, SupplyPower, TransistorMetrics,
 };
 pub use period::PeriodData;
 pub use spectrum::{spectrum, Spectrum};

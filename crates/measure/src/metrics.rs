@@ -154,8 +154,14 @@ pub struct TransistorMetrics {
     pub element_id: usize,
     /// true for pnp.
     pub pnp: bool,
-    /// Conduction angle of the collector current, degrees (0..=360).
+    /// Conduction angle, degrees (0..=360): total conduction per period of
+    /// the collector transport current, saturation notches bridged
+    /// ([`conduction`]).
     pub conduction_deg: f64,
+    /// Collector current pulses per period (a bridged notch does not split one).
+    pub conduction_pulses: usize,
+    /// Saturation notches bridged inside the pulses.
+    pub conduction_notches: usize,
     /// Peak collector–emitter voltage, V.
     pub vce_peak_v: f64,
     /// Minimum collector–emitter voltage, V.
@@ -284,13 +290,168 @@ pub const EDGE_SLOPE_FRACTION: f64 = 0.25;
 /// boundary is the zero crossing of the line through the edge's last two
 /// samples. The total length of the intervals is that conduction angle.
 pub fn conduction_intervals(i: &[f64], period: f64, threshold_fraction: f64) -> Vec<(f64, f64)> {
+    conduction(i, None, period, threshold_fraction).intervals
+}
+
+/// The conduction of a transistor over one period: what the conduction
+/// angle counts (docs/measurements.md, "Conduction angle").
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Conduction {
+    /// Conducting intervals (start, end) within [0, period], sorted; one that
+    /// wraps around the period end comes back as two. Bridged notches are
+    /// inside them.
+    pub intervals: Vec<(f64, f64)>,
+    /// Total conduction per period, degrees (0..=360): the summed length of
+    /// the intervals.
+    pub angle_deg: f64,
+    /// Current pulses per period, a bridged notch not splitting its pulse.
+    pub pulses: usize,
+    /// Saturation notches bridged (dips of the current inside one pulse).
+    pub notches: usize,
+}
+
+/// A run of conduction in sample units: start position and length (circular).
+type Run = (f64, f64);
+
+/// Conduction of current `i` sampled uniformly over one period of length
+/// `period`, with the collector–emitter voltage `vce` over the same samples
+/// when known.
+///
+/// Pulses are found as in [`conduction_intervals`]. A gap between two pulses
+/// is a saturation notch, and counts as conduction, when `vce` stays below
+/// its mean over the period at every sample inside the gap (the current dips
+/// while the collector voltage is in its low half-cycle, where the transistor
+/// saturates; the gap between real pulses holds the collector voltage crest,
+/// which is above the mean, the supply voltage of a choke-fed stage). A gap
+/// with no sample inside it is bridged too. At least one gap stays open, so a
+/// period is never made fully conducting by bridging. Without `vce` no gap is
+/// bridged and every lobe counts as a pulse.
+pub fn conduction(
+    i: &[f64],
+    vce: Option<&[f64]>,
+    period: f64,
+    threshold_fraction: f64,
+) -> Conduction {
     let n = i.len();
     if n == 0 || !(period.is_finite() && period > 0.0) {
-        return Vec::new();
+        return Conduction::default();
     }
+    let runs = match conduction_runs(i, threshold_fraction) {
+        Some(r) => r,
+        None => {
+            return Conduction {
+                intervals: vec![(0.0, period)],
+                angle_deg: 360.0,
+                pulses: 1,
+                notches: 0,
+            }
+        }
+    };
+    let vce = vce.filter(|v| v.len() == n && v.iter().all(|x| x.is_finite()));
+    let (runs, notches) = bridge_notches(runs, vce, n);
+    let dt = period / n as f64;
+    let mut intervals = Vec::new();
+    for &(p0, len) in &runs {
+        let len = len.clamp(0.0, n as f64);
+        let (t0, t1) = (p0 * dt, (p0 + len) * dt);
+        if t1 <= period {
+            intervals.push((t0, t1));
+        } else {
+            intervals.push((t0, period));
+            intervals.push((0.0, (t1 - period).min(period)));
+        }
+    }
+    intervals.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let total: f64 = intervals.iter().map(|(a, b)| b - a).sum();
+    Conduction {
+        angle_deg: (total / period * 360.0).clamp(0.0, 360.0),
+        pulses: runs.len(),
+        notches,
+        intervals,
+    }
+}
+
+/// Join the runs across saturation notches (see [`conduction`]); returns the
+/// joined runs and the number of gaps bridged.
+fn bridge_notches(mut runs: Vec<Run>, vce: Option<&[f64]>, n: usize) -> (Vec<Run>, usize) {
+    let Some(vce) = vce else {
+        return (runs, 0);
+    };
+    if runs.len() < 2 {
+        return (runs, 0);
+    }
+    runs.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let nf = n as f64;
+    let mean = vce.iter().sum::<f64>() / nf;
+    let m = runs.len();
+    // gap g runs from the end of run g to the start of run g+1 (circular)
+    let gaps: Vec<(f64, f64)> = (0..m)
+        .map(|g| {
+            let (p0, len) = runs[g];
+            let end = p0 + len;
+            let mut next = runs[(g + 1) % m].0;
+            while next < end - nf {
+                next += nf;
+            }
+            if g + 1 == m {
+                next += nf;
+            }
+            (end, next)
+        })
+        .collect();
+    let mut bridge: Vec<bool> = gaps
+        .iter()
+        .map(|&(a, b)| {
+            let first = a.floor() as i64 + 1;
+            let last = b.ceil() as i64 - 1;
+            (first..=last).all(|k| {
+                vce.get(k.rem_euclid(n as i64) as usize)
+                    .is_some_and(|v| *v < mean)
+            })
+        })
+        .collect();
+    if bridge.iter().all(|b| *b) {
+        // keep the longest gap open
+        let longest = (0..m)
+            .max_by(|&a, &b| (gaps[a].1 - gaps[a].0).total_cmp(&(gaps[b].1 - gaps[b].0)))
+            .unwrap_or(0);
+        if let Some(b) = bridge.get_mut(longest) {
+            *b = false;
+        }
+    }
+    let Some(open) = bridge.iter().position(|b| !b) else {
+        return (runs, 0);
+    };
+    let mut out: Vec<Run> = Vec::new();
+    let mut notches = 0;
+    for k in 1..=m {
+        let r = (open + k) % m;
+        let (p0, len) = runs[r];
+        let prev_gap = (r + m - 1) % m;
+        match out.last_mut() {
+            Some(last) if bridge[prev_gap] => {
+                let end = gaps[r].0;
+                let mut e = end;
+                while e < last.0 {
+                    e += nf;
+                }
+                last.1 = (e - last.0).min(nf);
+                notches += 1;
+            }
+            _ => out.push((p0, len)),
+        }
+    }
+    (out, notches)
+}
+
+/// The conducting runs of `i` (start, length) in sample units, by the rule of
+/// [`conduction_intervals`]; `None` when every sample conducts, empty when
+/// none does.
+fn conduction_runs(i: &[f64], threshold_fraction: f64) -> Option<Vec<Run>> {
+    let n = i.len();
     let peak = i.iter().copied().fold(f64::NEG_INFINITY, f64::max);
-    if !(peak.is_finite() && peak > 0.0) {
-        return Vec::new();
+    if n == 0 || !(peak.is_finite() && peak > 0.0) {
+        return Some(Vec::new());
     }
     let frac = if threshold_fraction.is_finite() {
         threshold_fraction.clamp(0.0, 1.0)
@@ -304,10 +465,10 @@ pub fn conduction_intervals(i: &[f64], period: f64, threshold_fraction: f64) -> 
     let core = |k: isize| at(k) > thr;
     let count = (0..nn).filter(|&k| core(k)).count();
     if count == n {
-        return vec![(0.0, period)];
+        return None;
     }
     if count == 0 {
-        return Vec::new();
+        return Some(Vec::new());
     }
     let mut claimed = vec![false; n];
     // boundary events in sample units: (position, rising?)
@@ -359,7 +520,6 @@ pub fn conduction_intervals(i: &[f64], period: f64, threshold_fraction: f64) -> 
         }
     }
     events.sort_by(|a, b| a.0.total_cmp(&b.0));
-    let dt = period / n as f64;
     let mut out = Vec::new();
     let ne = events.len();
     for (k, &(p0, rising)) in events.iter().enumerate() {
@@ -370,17 +530,10 @@ pub fn conduction_intervals(i: &[f64], period: f64, threshold_fraction: f64) -> 
         let Some(&(p1, _)) = (1..=ne).map(|d| &events[(k + d) % ne]).find(|e| !e.1) else {
             continue;
         };
-        let len = (p1 - p0).rem_euclid(n as f64);
-        let (t0, t1) = (p0 * dt, (p0 + len) * dt);
-        if t1 <= period {
-            out.push((t0, t1));
-        } else {
-            out.push((t0, period));
-            out.push((0.0, (t1 - period).min(period)));
-        }
+        out.push((p0, (p1 - p0).rem_euclid(n as f64)));
     }
     out.sort_by(|a, b| a.0.total_cmp(&b.0));
-    out
+    Some(out)
 }
 
 /// Conduction angle of a current over one period, degrees.
@@ -403,11 +556,7 @@ pub fn conduction_intervals(i: &[f64], period: f64, threshold_fraction: f64) -> 
 ///
 /// It is the total length of the [`conduction_intervals`] of one period.
 pub fn conduction_angle_deg(i: &[f64], threshold_fraction: f64) -> f64 {
-    let total: f64 = conduction_intervals(i, 1.0, threshold_fraction)
-        .iter()
-        .map(|(a, b)| b - a)
-        .sum();
-    (total * 360.0).clamp(0.0, 360.0)
+    conduction(i, None, 1.0, threshold_fraction).angle_deg
 }
 
 fn note(notes: &mut Vec<Note>, figure: &str, reason: impl Into<String>) {
@@ -766,11 +915,21 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
                         None
                     }
                 };
+                // conduction is measured on the transport current when the
+                // solver gave it (the terminal current also carries the
+                // junction charging current)
+                let it: Vec<f64> = match p.transport(id) {
+                    Some(t) => t.iter().map(|x| s * x).collect(),
+                    None => ic.clone(),
+                };
+                let cond = conduction(&it, Some(&vce), 1.0, params.conduction_threshold);
                 let t = TransistorMetrics {
                     element: el.name.clone(),
                     element_id: id,
                     pnp,
-                    conduction_deg: conduction_angle_deg(&ic, params.conduction_threshold),
+                    conduction_deg: cond.angle_deg,
+                    conduction_pulses: cond.pulses,
+                    conduction_notches: cond.notches,
                     vce_peak_v: vce_peak,
                     vce_min_v: vce_min,
                     ic_peak_a: ic_peak,

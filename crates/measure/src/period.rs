@@ -21,6 +21,12 @@ pub struct PeriodData<'a> {
     /// terminal (ground terminal included), A. Terminals in the order of
     /// `ElementKind::terminals()`; a coupling has none.
     pub terminal_currents: &'a [Vec<Vec<f64>>],
+    /// `[element index][n]`: the intrinsic transport current of an element
+    /// that has one (a bipolar transistor's collector transport current, A,
+    /// physical sign), `None` for the others. The conduction angle is measured
+    /// on it when given; an empty slice means none is known and the terminal
+    /// current is used.
+    pub transport_currents: &'a [Option<Vec<f64>>],
     /// Number of harmonics K to measure.
     pub harmonics: usize,
 }
@@ -117,6 +123,26 @@ impl<'a> Period<'a> {
                 check_finite(name, i)?;
             }
         }
+        if !data.transport_currents.is_empty() && data.transport_currents.len() != c.elements.len()
+        {
+            return Err(MeasureError::ElementCount {
+                expected: c.elements.len(),
+                got: data.transport_currents.len(),
+            });
+        }
+        for (e, i) in data.transport_currents.iter().enumerate() {
+            let Some(i) = i else { continue };
+            let el = c.elements.get(e).map(|el| el.name.as_str()).unwrap_or("?");
+            let name = || format!("transport current of element {el} (#{e})");
+            if i.len() != samples {
+                return Err(MeasureError::Length {
+                    what: name(),
+                    expected: samples,
+                    got: i.len(),
+                });
+            }
+            check_finite(name, i)?;
+        }
         Ok(Self {
             data,
             samples,
@@ -154,6 +180,14 @@ impl<'a> Period<'a> {
             .and_then(|c| c.get(t))
             .map(|v| v.as_slice())
             .unwrap_or(&self.zeros)
+    }
+
+    /// Transport current of element `e`, if the solver gave one.
+    pub fn transport(&self, e: usize) -> Option<&[f64]> {
+        self.data
+            .transport_currents
+            .get(e)
+            .and_then(|c| c.as_deref())
     }
 
     /// Instantaneous power absorbed by element `e`: Σ_k v_k·i_k over its

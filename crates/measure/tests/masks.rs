@@ -197,6 +197,8 @@ fn transistor(name: &str, id: usize, vce: f64, tj: Option<f64>) -> TransistorMet
         element_id: id,
         pnp: false,
         conduction_deg: 150.0,
+        conduction_pulses: 1,
+        conduction_notches: 0,
         vce_peak_v: vce,
         vce_min_v: 1.0,
         ic_peak_a: 3.0,

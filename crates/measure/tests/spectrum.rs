@@ -280,6 +280,74 @@ fn conduction_angle_degenerate_and_class_b() {
     assert!((got - 180.0).abs() < 360.0 / 256.0, "{got}");
 }
 
+/// A saturating stage's collector current dips in the middle of its pulse
+/// while the collector voltage sits at its trough (common practice: the
+/// "double-humped" pulse of a saturated class-C stage). A truncated cosine
+/// of 2θ with a notch at its centre that reaches zero, over a v_ce of
+/// V_cc − V_pk cos ωt, measures 2θ within two samples, as one pulse with one
+/// notch bridged; the shaded intervals are exactly the counted angle. The
+/// same two lobes without the collector voltage are two pulses, shorter in
+/// sum (each lobe's inner edge is followed only down to the notch).
+#[test]
+fn conduction_bridges_a_saturation_notch() {
+    let n = 512;
+    let default = tankwave_measure::MeasureParams::default().conduction_threshold;
+    let vce = sample(n, |t| 13.8 - 12.6 * t.cos());
+    for ang in [120.0, 150.0, 180.0, 200.0] {
+        for (depth, width_deg) in [(1.0, 20.0), (0.8, 40.0), (1.0, 60.0)] {
+            let w = (width_deg / 2.0f64).to_radians();
+            let x: Vec<f64> = truncated_cosine(ang, n)
+                .iter()
+                .enumerate()
+                .map(|(k, v)| {
+                    let t = 2.0 * PI * k as f64 / n as f64;
+                    let d = t.min(2.0 * PI - t);
+                    // notch: a raised-cosine dip of full width width_deg at the centre
+                    let dip = if d < w {
+                        depth * 0.5 * (1.0 + (PI * d / w).cos())
+                    } else {
+                        0.0
+                    };
+                    v * (1.0 - dip)
+                })
+                .collect();
+            let c = tankwave_measure::conduction(&x, Some(&vce), 1.0, default);
+            assert!(
+                (c.angle_deg - ang).abs() <= 2.0 * 360.0 / n as f64,
+                "{ang} deg, notch {depth}x{width_deg} deg: {c:?}"
+            );
+            assert_eq!(c.pulses, 1, "{ang} deg, notch {depth}x{width_deg} deg");
+            let shaded: f64 = c.intervals.iter().map(|(a, b)| b - a).sum::<f64>() * 360.0;
+            assert!((shaded - c.angle_deg).abs() < 1e-9);
+            if depth == 1.0 {
+                assert_eq!(c.notches, 1, "{ang} deg, notch {width_deg} deg");
+                let lobes = tankwave_measure::conduction(&x, None, 1.0, default);
+                assert_eq!(lobes.pulses, 2);
+                assert!(lobes.angle_deg < c.angle_deg, "{lobes:?}");
+            }
+        }
+    }
+}
+
+/// Two pulses half a period apart (a stage that also conducts at the
+/// collector voltage crest) are two pulses, not a notch: the gap between
+/// them holds the crest, above the mean collector voltage.
+#[test]
+fn conduction_counts_separate_pulses() {
+    let n = 256;
+    let vce = sample(n, |t| 13.8 - 12.6 * t.cos());
+    let one = truncated_cosine(60.0, n);
+    let x: Vec<f64> = (0..n)
+        .map(|k| one[k] + 0.5 * one[(k + n / 2) % n])
+        .collect();
+    let c = tankwave_measure::conduction(&x, Some(&vce), 1.0, 0.05);
+    assert_eq!((c.pulses, c.notches), (2, 0), "{c:?}");
+    assert!(
+        (c.angle_deg - 120.0).abs() <= 2.0 * 360.0 / n as f64,
+        "{c:?}"
+    );
+}
+
 /// dBm and dBc (common practice: dBm = 10 log10(P / 1 mW)).
 #[test]
 fn level_conversions() {

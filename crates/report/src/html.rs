@@ -372,6 +372,7 @@ fn stress_section(out: &mut String, m: &Metrics, label: Option<&str>) {
             &[
                 "transistor",
                 "conduction",
+                "pulses",
                 "vce peak",
                 "vce min",
                 "ic peak",
@@ -385,6 +386,7 @@ fn stress_section(out: &mut String, m: &Metrics, label: Option<&str>) {
                 &[
                     ("", q.element.clone()),
                     ("num", fixed(q.conduction_deg, 0, "deg")),
+                    ("num", crate::stage::pulses_cell(q)),
                     ("num", si(q.vce_peak_v, "V")),
                     ("num", si(q.vce_min_v, "V")),
                     ("num", si(q.ic_peak_a, "A")),
@@ -534,7 +536,7 @@ pub fn stage_report(input: &ReportInput<'_>) -> String {
                         figure(
                             &mut out,
                             &format!(
-                                "One steady-state period of {name}; shaded: conduction interval."
+                                "One steady-state period of {name}; shaded: conduction as counted by the conduction angle."
                             ),
                             Ok(svg),
                         );

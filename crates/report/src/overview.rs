@@ -56,13 +56,22 @@ pub fn stage_overview(file: &str, c: &Circuit, warnings: usize) -> String {
         .iter()
         .map(|a| match a {
             Analysis::Op => "bias".to_string(),
-            Analysis::Transient { stop, .. } => format!("transient to {stop:e} s"),
+            Analysis::Transient { stop, .. } => {
+                format!("transient to {}", crate::format::si(*stop, "s"))
+            }
             Analysis::Ac {
                 from, to, points, ..
-            } => format!("ac {from:e}..{to:e} Hz, {points} points"),
+            } => format!(
+                "ac {}..{}, {points} points",
+                crate::format::si(*from, "Hz"),
+                crate::format::si(*to, "Hz")
+            ),
             Analysis::Steady {
                 freq, harmonics, ..
-            } => format!("steady at {freq:e} Hz, {harmonics} harmonics"),
+            } => format!(
+                "steady at {}, {harmonics} harmonics",
+                crate::format::si(*freq, "Hz")
+            ),
         })
         .collect();
     let _ = writeln!(
@@ -114,5 +123,14 @@ mod tests {
         assert!(s.contains("elements:     3 (2 resistor, 1 voltage)"), "{s}");
         assert!(s.contains("nodes:        2"), "{s}");
         assert!(s.contains("analyses:     bias"), "{s}");
+    }
+
+    #[test]
+    fn analysis_frequencies_carry_an_si_prefix() {
+        let text = "title \"t\"\nvoltage v1 a gnd wave=sine(amp=1V, freq=14.2MHz)\nresistor r1 a gnd 50Ohm\nanalyze steady freq=14.2MHz harmonics=8\n";
+        let e = tankwave_circuit::load_str("t.tank", text, &Overrides::default()).expect("valid");
+        let s = stage_overview("t.tank", &e.circuit, 0);
+        assert!(s.contains("steady at 14.2 MHz, 8 harmonics"), "{s}");
+        assert!(!s.contains("e7"), "{s}");
     }
 }

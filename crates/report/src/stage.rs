@@ -198,6 +198,7 @@ pub fn steady_text(
         let mut t = Table::new(vec![
             ("transistor", Align::Left),
             ("conduction", Align::Right),
+            ("pulses", Align::Right),
             ("vce peak", Align::Right),
             ("vce min", Align::Right),
             ("ic peak", Align::Right),
@@ -208,6 +209,7 @@ pub fn steady_text(
             t.row(vec![
                 q.element.clone(),
                 fixed(q.conduction_deg, 0, "deg"),
+                pulses_cell(q),
                 si(q.vce_peak_v, "V"),
                 si(q.vce_min_v, "V"),
                 si(q.ic_peak_a, "A"),
@@ -627,6 +629,16 @@ pub(crate) fn stress_cells(r: &tankwave_measure::StressRow) -> StressCells {
         value: show(r.value),
         rating: r.rating.map(show),
         used: r.fraction.map(|f| fixed(f * 100.0, 0, "%")),
+    }
+}
+
+/// Pulses per period of a transistor's collector current, with the
+/// saturation notches bridged inside them.
+pub(crate) fn pulses_cell(q: &tankwave_measure::TransistorMetrics) -> String {
+    match q.conduction_notches {
+        0 => q.conduction_pulses.to_string(),
+        1 => format!("{} (1 notch)", q.conduction_pulses),
+        k => format!("{} ({k} notches)", q.conduction_pulses),
     }
 }
 

@@ -36,22 +36,29 @@ fn period_plot_of_the_solved_class_c_stage() {
         .filter(|n| n.has_tag_name("g") && n.attribute("class") == Some("series"))
         .filter_map(|n| n.attribute("data-label"))
         .collect();
-    assert_eq!(labels, vec!["v_ce", "i_c", "v_be", "v(rl)"]);
+    assert_eq!(
+        labels,
+        vec!["v_ce", "i_c", "i_t (transport)", "v_be", "v(rl)"]
+    );
 
-    // shaded time against the measurement rule on the same samples; both
-    // place edges by the same interpolation, so they agree to rounding
-    let ic = &sol.terminal_currents[q1][0];
+    // the plot shades what the conduction angle counts: the measure's rule on
+    // the transport current with v_ce; its subtitle states that angle
+    let it = sol.transport_currents[q1]
+        .as_ref()
+        .expect("transport current");
+    let node = |name: &str| sol.x[c.nodes.iter().position(|x| x == name).expect("node")].clone();
+    let vce = node("coll");
     let t = 1.0 / sol.freq;
-    let shaded: f64 = plot::conduction_intervals(ic, t, 0.05)
-        .iter()
-        .map(|(a, b)| b - a)
-        .sum::<f64>()
-        / t
-        * 360.0;
-    let measured = tankwave_measure::conduction_angle_deg(ic, 0.05);
+    let cond = tankwave_measure::conduction(it, Some(&vce), t, 0.05);
+    let shaded: f64 = cond.intervals.iter().map(|(a, b)| b - a).sum::<f64>() / t * 360.0;
+    let measured = cond.angle_deg;
     assert!(
         (shaded - measured).abs() < 1e-6,
         "shaded {shaded} deg, measured {measured} deg"
+    );
+    assert!(
+        svg.contains(&format!("{measured:.0} deg in {} pulse", cond.pulses)),
+        "subtitle states the counted angle {measured}"
     );
     // a class-C stage conducts for less than half the period
     assert!(

@@ -1695,12 +1695,14 @@ fn finish(
             when: When(None),
         });
     }
+    let transport_currents = crate::steady::transport_currents(circuit, devices, &x, params.freq);
     Ok(PeriodicSolution {
         freq: params.freq,
         harmonics: kmax,
         samples_per_period: nout,
         x,
         terminal_currents,
+        transport_currents,
         info: SteadyInfo {
             method: SteadyMethod::Balance,
             fell_back_from: None,

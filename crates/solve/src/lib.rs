@@ -59,7 +59,7 @@ pub use newton::Tolerances;
 pub use op::{operating_point, DeviceOp, NewtonInfo, OpParams, OpResult, Strategy};
 pub use shooting::shooting;
 pub use steady::{
-    settle, steady, terminal_currents, PeriodicSolution, SettleParams, ShootingInfo,
-    ShootingParams, SteadyInfo, SteadyParams,
+    settle, steady, terminal_currents, transport_currents, PeriodicSolution, SettleParams,
+    ShootingInfo, ShootingParams, SteadyInfo, SteadyParams,
 };
 pub use transient::{transient, TransientInfo, TransientParams, TransientResult};

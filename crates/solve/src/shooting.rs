@@ -377,12 +377,19 @@ pub fn shooting(
                         &run.stage,
                         params.freq,
                     )?;
+                    let transport_currents = crate::steady::transport_currents(
+                        circuit,
+                        devices,
+                        &run.samples,
+                        params.freq,
+                    );
                     return Ok(PeriodicSolution {
                         freq: params.freq,
                         harmonics: params.harmonics,
                         samples_per_period: ns,
                         x: run.samples,
                         terminal_currents,
+                        transport_currents,
                         info: SteadyInfo {
                             method: SteadyMethod::Shooting,
                             fell_back_from: None,

@@ -33,6 +33,11 @@ pub struct PeriodicSolution {
     /// derivative taken spectrally over the period for harmonic balance, by the
     /// integration formula for shooting and settle). Empty for couplings.
     pub terminal_currents: Vec<Vec<Vec<f64>>>,
+    /// `[element index][n]`: the intrinsic transport current of an element
+    /// whose device has one ([`tankwave_devices::Device::transport_current`],
+    /// a bipolar transistor's collector transport current), A; `None` for the
+    /// others. See [`transport_currents`].
+    pub transport_currents: Vec<Option<Vec<f64>>>,
     /// How it was obtained.
     pub info: SteadyInfo,
 }
@@ -320,12 +325,14 @@ pub fn settle(
             if worst.0 <= 1.0 {
                 let terminal_currents =
                     terminal_currents_trbdf2(circuit, devices, &cur, &stage, params.freq)?;
+                let transport_currents = transport_currents(circuit, devices, &cur, params.freq);
                 return Ok(PeriodicSolution {
                     freq: params.freq,
                     harmonics: params.harmonics,
                     samples_per_period: ns,
                     x: cur,
                     terminal_currents,
+                    transport_currents,
                     info: SteadyInfo {
                         method: SteadyMethod::Settle,
                         fell_back_from: None,
@@ -515,6 +522,44 @@ pub fn terminal_currents(
     freq: f64,
 ) -> Result<Vec<Vec<Vec<f64>>>, SolveError> {
     element_currents(circuit, devices, x, None, freq)
+}
+
+/// The intrinsic transport current of every element whose device has one
+/// ([`tankwave_devices::Device::transport_current`]), at each sample of
+/// `x[unknown][n]` over one period at `freq`; `None` for the other elements
+/// (and for an element whose devices give a non-finite value or more than
+/// one transport current). Evaluated exactly at the samples (no limiting).
+pub fn transport_currents(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    x: &[Vec<f64>],
+    freq: f64,
+) -> Vec<Option<Vec<f64>>> {
+    let ns = x.first().map(|v| v.len()).unwrap_or(0);
+    let period = 1.0 / freq;
+    let mut xs = vec![0.0; x.len()];
+    (0..circuit.elements.len())
+        .map(|ei| {
+            let mut devs = devices.devices.iter().filter(|d| d.element() == ei);
+            let dev = devs.next()?;
+            if devs.next().is_some() || ns == 0 {
+                return None;
+            }
+            let mut out = Vec::with_capacity(ns);
+            for s in 0..ns {
+                for (k, v) in xs.iter_mut().enumerate() {
+                    *v = x.get(k).and_then(|r| r.get(s)).copied().unwrap_or(0.0);
+                }
+                let ctx = EvalCtx {
+                    time: s as f64 * period / ns as f64,
+                    limit: false,
+                    ..EvalCtx::default()
+                };
+                out.push(dev.transport_current(&xs, &ctx).filter(|v| v.is_finite())?);
+            }
+            Some(out)
+        })
+        .collect()
 }
 
 /// Terminal currents of a periodic solution found with TR-BDF2 steps

@@ -126,6 +126,19 @@ pub enum StudyError {
         /// The value found.
         found: String,
     },
+    /// A record file was made from other inputs or settings than this run or
+    /// the first file of a merge (see [`crate::Provenance`]).
+    #[error("{file} was made with a different {setting}: {found} there, {expected} here; records made from different inputs cannot be joined")]
+    ProvenanceMismatch {
+        /// The file.
+        file: String,
+        /// Which setting differs (`--set c1`, `stage file x.tank`, …).
+        setting: String,
+        /// The value wanted.
+        expected: String,
+        /// The value found.
+        found: String,
+    },
     /// Two inputs give different records for one variant.
     #[error("variant {index} has two different records ({first} and {second})")]
     Conflict {

@@ -35,8 +35,8 @@ pub use error::StudyError;
 pub use plan::{factor_key, Axis, AxisTarget, Plan, TolSpec, Variant};
 pub use record::{
     input_fingerprint, merge, resume, resume_replaying, write_csv, CsvLayout, CsvSink, DoneSet,
-    Header, JsonlSink, MemorySink, MergeInfo, Record, RecordReader, RecordSink, ResumeInfo, Shard,
-    TeeSink, Verdict, SCHEMA, SCHEMA_VERSION,
+    FileDigest, Header, JsonlSink, MemorySink, MergeInfo, Provenance, Record, RecordReader,
+    RecordSink, ResumeInfo, Shard, TeeSink, Verdict, SCHEMA, SCHEMA_VERSION,
 };
 pub use runner::{run_study, shard_indices, Outcome, Progress, RunInfo, StudyParams, WarmStart};
 pub use summary::{

@@ -6,7 +6,9 @@
 //!
 //! * line 1, the header: `{"schema":"tankwave-study-records","version":1,
 //!   "plan":"<16 hex digits>","variants":N,"chain":C,"shard":{"index":i,"count":n}|null,
-//!   "input":"<caller's fingerprint>"}` (`input` optional);
+//!   "input":"<caller's fingerprint>","provenance":{…}}` (`input` and
+//!   `provenance` optional; [`Provenance`]: tool version, `--set` overrides,
+//!   SHA-256 of the stage file and of every included file);
 //! * every further line, one record: `{"index":i,"values":{…},"metrics":{…},
 //!   "verdicts":{"<requirement>":{"pass":true,"margin":0.12}},"error":"…"}`
 //!   (`error` present only for a failed variant, whose metrics and verdicts are empty).
@@ -83,6 +85,93 @@ pub struct Header {
     /// resume and merge. Absent in files that did not set it.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub input: Option<String>,
+    /// What the records were made from; compared setting by setting on resume
+    /// and merge. Absent in files that did not set it.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub provenance: Option<Provenance>,
+}
+
+/// The SHA-256 of one input file.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub struct FileDigest {
+    /// The file name as the stage file (or the command line) gave it.
+    pub file: String,
+    /// SHA-256 of its bytes, 64 lowercase hex digits.
+    pub sha256: String,
+}
+
+/// What a record file was made from, stated in its header: records made from
+/// different inputs or settings are never joined (`merge`, `study --resume`).
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub struct Provenance {
+    /// Name and version of the tool that wrote the records.
+    pub tool: String,
+    /// The `--set` overrides: parameter name → value in SI units (shortest
+    /// text that reads back to the same number).
+    pub overrides: BTreeMap<String, String>,
+    /// The stage file.
+    pub stage: FileDigest,
+    /// Every included file, in order of reading.
+    pub includes: Vec<FileDigest>,
+}
+
+impl Provenance {
+    /// The first setting in which `found` differs from `self`:
+    /// (setting, value here, value there).
+    pub fn difference(&self, found: &Provenance) -> Option<(String, String, String)> {
+        if found.tool != self.tool {
+            return Some(("tool version".into(), self.tool.clone(), found.tool.clone()));
+        }
+        let keys: std::collections::BTreeSet<&String> = self
+            .overrides
+            .keys()
+            .chain(found.overrides.keys())
+            .collect();
+        for k in keys {
+            let (a, b) = (self.overrides.get(k), found.overrides.get(k));
+            if a != b {
+                let show = |v: Option<&String>| match v {
+                    Some(v) => format!("{k}={v}"),
+                    None => "not set".to_string(),
+                };
+                return Some((format!("--set {k}"), show(a), show(b)));
+            }
+        }
+        if found.stage.sha256 != self.stage.sha256 {
+            return Some((
+                format!("stage file content ({})", self.stage.file),
+                format!("SHA-256 {}", self.stage.sha256),
+                format!("SHA-256 {}", found.stage.sha256),
+            ));
+        }
+        for (k, a) in self.includes.iter().enumerate() {
+            match found.includes.get(k) {
+                Some(b) if b.sha256 == a.sha256 => {}
+                Some(b) => {
+                    return Some((
+                        format!("included file {}", a.file),
+                        format!("{} SHA-256 {}", a.file, a.sha256),
+                        format!("{} SHA-256 {}", b.file, b.sha256),
+                    ))
+                }
+                None => {
+                    return Some((
+                        format!("included file {}", a.file),
+                        "included".into(),
+                        "not included".into(),
+                    ))
+                }
+            }
+        }
+        if let Some(b) = found.includes.get(self.includes.len()) {
+            return Some((
+                format!("included file {}", b.file),
+                "not included".into(),
+                "included".into(),
+            ));
+        }
+        None
+    }
 }
 
 impl Header {
@@ -96,7 +185,14 @@ impl Header {
             chain,
             shard,
             input: None,
+            provenance: None,
         }
+    }
+
+    /// The same header stating what the records are made from.
+    pub fn with_provenance(mut self, provenance: Provenance) -> Header {
+        self.provenance = Some(provenance);
+        self
     }
 
     /// The same header with the caller's input fingerprint set.
@@ -125,6 +221,27 @@ impl Header {
                 self.version.to_string(),
                 found.version.to_string(),
             );
+        }
+        if let (Some(a), Some(b)) = (&self.provenance, &found.provenance) {
+            if let Some((setting, expected, got)) = a.difference(b) {
+                return Err(StudyError::ProvenanceMismatch {
+                    file: file.to_string(),
+                    setting,
+                    expected,
+                    found: got,
+                });
+            }
+        } else if self.provenance.is_some() != found.provenance.is_some() {
+            let say = |p: &Option<Provenance>| match p {
+                Some(p) => format!("stated ({})", p.tool),
+                None => "not stated (an older record file)".to_string(),
+            };
+            return Err(StudyError::ProvenanceMismatch {
+                file: file.to_string(),
+                setting: "record provenance".into(),
+                expected: say(&self.provenance),
+                found: say(&found.provenance),
+            });
         }
         if found.plan != self.plan {
             return mismatch("plan", self.plan.clone(), found.plan.clone());

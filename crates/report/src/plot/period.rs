@@ -2,10 +2,10 @@
 //! collector current, base–emitter voltage and the output voltage in panels
 //! sharing the time axis, with the conduction interval shaded.
 //!
-//! The conduction interval follows the rule of
-//! `tankwave_measure::conduction_angle_deg`: a run of positive collector
-//! current counts if it rises above the threshold fraction of the peak, and
-//! its edges are its zero crossings (linear interpolation between samples).
+//! The shading is exactly what the conduction angle counts
+//! (`tankwave_measure::conduction`, docs/measurements.md): the pulses of the
+//! collector transport current, drawn as a second line in the i_c panel,
+//! with saturation notches bridged.
 
 use tankwave_circuit::{Circuit, ElementId, ElementKind, ModelParams, NodeId};
 use tankwave_solve::PeriodicSolution;
@@ -138,32 +138,49 @@ pub fn period_plot(
         v.push(w.first().copied().unwrap_or(0.0));
         v
     };
-    let shades: Vec<(f64, f64)> = conduction_intervals(&ic, period, p.conduction_threshold)
-        .into_iter()
+    // shade exactly what the conduction angle counts: the measure's rule on
+    // the transport current (the terminal current when there is none)
+    let transport: Option<Vec<f64>> = match sol.transport_currents.get(element) {
+        Some(Some(t)) if t.len() == n => Some(t.iter().map(|v| s * v).collect()),
+        _ => None,
+    };
+    let it: Vec<f64> = transport.clone().unwrap_or_else(|| ic.clone());
+    check_finite(&format!("transport current of {}", el.name), &it)?;
+    let cond = tankwave_measure::conduction(&it, Some(&vce), period, p.conduction_threshold);
+    let shades: Vec<(f64, f64)> = cond
+        .intervals
+        .iter()
         .map(|(a, b)| (a / tf, b / tf))
         .collect();
-    let angle = tankwave_measure::conduction_angle_deg(&ic, p.conduction_threshold);
+    let angle = cond.angle_deg;
 
     struct Q {
         name: String,
         unit: &'static str,
         wave: Vec<f64>,
+        /// A second trace in the same panel (the transport current).
+        extra: Option<(String, Vec<f64>)>,
     }
     let mut qs = vec![
         Q {
             name: "v_ce".into(),
             unit: "V",
             wave: closed(&vce),
+            extra: None,
         },
         Q {
             name: "i_c".into(),
             unit: "A",
             wave: closed(&ic),
+            extra: transport
+                .as_ref()
+                .map(|t| ("i_t (transport)".to_string(), closed(t))),
         },
         Q {
             name: "v_be".into(),
             unit: "V",
             wave: closed(&vbe),
+            extra: None,
         },
     ];
     if let Some((name, v)) = &out {
@@ -171,6 +188,7 @@ pub fn period_plot(
             name: format!("v({name})"),
             unit: "V",
             wave: closed(v),
+            extra: None,
         });
     }
 
@@ -180,12 +198,24 @@ pub fn period_plot(
     let height = band + panel_h * qs.len() as u32 + 24;
     let title = title_of(&format!("One steady-state period of {}", el.name), p);
     let subtitle = format!(
-        "{} at {}; shaded: conduction interval ({}; i_c above {} of its peak {})",
+        "{} at {}; shaded: conduction ({} in {} pulse{}{}; {} above {} of its peak {})",
         if pnp { "pnp" } else { "npn" },
         si(sol.freq, "Hz"),
         fixed(angle, 0, "deg"),
+        cond.pulses,
+        if cond.pulses == 1 { "" } else { "s" },
+        match cond.notches {
+            0 => String::new(),
+            1 => ", 1 notch bridged".to_string(),
+            k => format!(", {k} notches bridged"),
+        },
+        if transport.is_some() {
+            "transport current"
+        } else {
+            "i_c"
+        },
         fixed(p.conduction_threshold * 100.0, 0, "%"),
-        si(ic.iter().copied().fold(f64::NEG_INFINITY, f64::max), "A"),
+        si(it.iter().copied().fold(f64::NEG_INFINITY, f64::max), "A"),
     );
     let desc = format!(
         "Panels sharing the time axis: {} over one period of {}.",
@@ -201,14 +231,27 @@ pub fn period_plot(
         let panels = rest.split_evenly((count, 1));
         let x_range = 0.0..period / tf;
         for (k, (q, area)) in qs.iter().zip(panels.iter()).enumerate() {
-            let max_abs = q.wave.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+            let extra = q.extra.iter().flat_map(|(_, w)| w.iter());
+            let max_abs = q
+                .wave
+                .iter()
+                .chain(extra)
+                .fold(0.0f64, |m, v| m.max(v.abs()));
             let (f, pre) = prefix_for(max_abs, q.unit);
             let pts: Vec<(f64, f64)> = times
                 .iter()
                 .zip(&q.wave)
                 .map(|(t, v)| (*t, v / f))
                 .collect();
-            let (lo, hi) = extent(pts.iter().map(|p| &p.1)).unwrap_or((0.0, 1.0));
+            let extra_pts: Option<(&str, Vec<(f64, f64)>)> = q.extra.as_ref().map(|(name, w)| {
+                let p = times.iter().zip(w).map(|(t, v)| (*t, v / f)).collect();
+                (name.as_str(), p)
+            });
+            let all = pts
+                .iter()
+                .chain(extra_pts.iter().flat_map(|(_, p)| p.iter()))
+                .map(|p| &p.1);
+            let (lo, hi) = extent(all).unwrap_or((0.0, 1.0));
             let x_desc = if k + 1 == count {
                 axis_desc("time", tp, "s")
             } else {
@@ -230,6 +273,14 @@ pub fn period_plot(
                 points: &pts,
                 markers: 0,
             });
+            if let Some((name, p)) = &extra_pts {
+                panel.lines.push(Line {
+                    label: (*name).to_string(),
+                    style: series_style(2),
+                    points: p,
+                    markers: 0,
+                });
+            }
             draw_panel(cv, area, &panel)?;
         }
         Ok(())

@@ -99,6 +99,7 @@ pub fn class_c_stage(theta_deg: f64) -> (Circuit, PeriodicSolution) {
             vec![ic, ib, ie],
             vec![il.clone(), il.iter().map(|v| -v).collect()],
         ],
+        transport_currents: vec![None, None],
         info: SteadyInfo {
             method: SteadyMethod::Balance,
             fell_back_from: None,
@@ -164,6 +165,8 @@ pub fn metrics() -> Metrics {
             element_id: Q1,
             pnp: false,
             conduction_deg: 150.0,
+            conduction_pulses: 1,
+            conduction_notches: 0,
             vce_peak_v: 22.5,
             vce_min_v: 1.5,
             ic_peak_a: 2.2,
