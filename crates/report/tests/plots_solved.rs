@@ -36,7 +36,7 @@ fn period_plot_of_the_solved_class_c_stage() {
         .filter(|n| n.has_tag_name("g") && n.attribute("class") == Some("series"))
         .filter_map(|n| n.attribute("data-label"))
         .collect();
-    assert_eq!(labels, vec!["v_ce", "i_c", "v_be", "v(rl)"]);
+    assert_eq!(labels, vec!["v_ce", "i_c", "v_be", "v_rl"]);
 
     // shaded time against the measurement rule on the same samples; both
     // place edges by the same interpolation, so they agree to rounding
