@@ -415,7 +415,7 @@ fn operating_points_converge_from_zero() {
                 }
                 "reverse" => {
                     assert!(vbc > 0.5 && vbe < -1.0, "reverse: {vbe} {vbc}");
-                    let ie = s * op(&q, &x, "ie");
+                    let ie = s * op(&q, &x, "i_e");
                     // emitter acts as collector: IE into the emitter ≈ βR·IB.
                     assert!(ie > 0.0 && ie / ib > 1.5 && ie / ib < 3.01, "{}", ie / ib);
                 }
