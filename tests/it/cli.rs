@@ -212,14 +212,29 @@ fn operating_point_report_uses_our_names_and_positive_supply_figures() {
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let text = stdout(&o);
     let start = text.find("Operating point").expect("an operating point");
-    let end = text[start..].find("Transient to").expect("then the transient") + start;
+    let end = text[start..]
+        .find("Transient to")
+        .expect("then the transient")
+        + start;
     let op_text = &text[start..end];
     let json = std::fs::read_to_string(dir.path().join("results.json")).unwrap();
     let csv = std::fs::read_to_string(dir.path().join("op.csv")).unwrap();
     for (what, s) in [("terminal", op_text), ("JSON", &json), ("op.csv", &csv)] {
         for old in [
-            "v(", "i(", " gpi", " cmu", "\"gpi\"", "\"cmu\"", "\"gm\"", "\"cpi\"", "\"vd\"",
-            "\"id\"", "\"gd\"", "\"cd\"", "p_delivered", "gmin",
+            "v(",
+            "i(",
+            " gpi",
+            " cmu",
+            "\"gpi\"",
+            "\"cmu\"",
+            "\"gm\"",
+            "\"cpi\"",
+            "\"vd\"",
+            "\"id\"",
+            "\"gd\"",
+            "\"cd\"",
+            "p_delivered",
+            "gmin",
         ] {
             assert!(!s.contains(old), "{what} holds the old `{old}`:\n{s}");
         }
@@ -257,7 +272,10 @@ fn operating_point_report_uses_our_names_and_positive_supply_figures() {
         .lines()
         .find(|l| l.starts_with("vsup "))
         .expect("a row for vsup");
-    assert!(!vsup.contains('-'), "negative figure for the supply: {vsup}");
+    assert!(
+        !vsup.contains('-'),
+        "negative figure for the supply: {vsup}"
+    );
     // JSON: the supply delivers, and P = V · I to rounding (the device
     // computes both from the same two numbers).
     let v: serde_json::Value = serde_json::from_str(&json).unwrap();
@@ -279,9 +297,17 @@ fn operating_point_report_uses_our_names_and_positive_supply_figures() {
     for k in ["g_m", "g_pi", "g_o", "c_pi", "c_mu", "v_be", "i_c"] {
         assert!(q1["figures"][k]["value"].is_number(), "q1 lacks {k}: {q1}");
     }
-    let currents = v["op"]["branch_currents"].as_array().expect("branch currents");
-    assert!(currents.iter().all(|c| c["name"] != "I[vsup]"), "{currents:?}");
-    assert!(currents.iter().any(|c| c["name"] == "I[lp]"), "{currents:?}");
+    let currents = v["op"]["branch_currents"]
+        .as_array()
+        .expect("branch currents");
+    assert!(
+        currents.iter().all(|c| c["name"] != "I[vsup]"),
+        "{currents:?}"
+    );
+    assert!(
+        currents.iter().any(|c| c["name"] == "I[lp]"),
+        "{currents:?}"
+    );
     // op.csv: the same figures, positive for the supply, no source branch current.
     assert!(csv.starts_with("quantity,value,unit\n"), "{csv}");
     let row = |q: &str| {
@@ -290,8 +316,14 @@ fn operating_point_report_uses_our_names_and_positive_supply_figures() {
             .and_then(|l| l.split(',').nth(1))
             .and_then(|x| x.parse::<f64>().ok())
     };
-    assert!(row("delivered_current[vsup]").is_some_and(|i| i > 0.0), "{csv}");
-    assert!(row("delivered_power[vsup]").is_some_and(|p| p > 0.0), "{csv}");
+    assert!(
+        row("delivered_current[vsup]").is_some_and(|i| i > 0.0),
+        "{csv}"
+    );
+    assert!(
+        row("delivered_power[vsup]").is_some_and(|p| p > 0.0),
+        "{csv}"
+    );
     assert!(row("g_pi[q1]").is_some_and(|g| g > 0.0), "{csv}");
     assert!(row("V[coll]").is_some(), "{csv}");
     assert!(row("I[vsup]").is_none(), "{csv}");

@@ -437,7 +437,13 @@ pub struct Intrinsic {
 
 /// Combine the components into terminal currents and charges (the Gummel–Poon
 /// equations in the module overview). `junction_leak` is put across both junctions.
-pub fn combine(k: &BjtConstants, vbe: f64, vbc: f64, c: &Components, junction_leak: f64) -> Intrinsic {
+pub fn combine(
+    k: &BjtConstants,
+    vbe: f64,
+    vbc: f64,
+    c: &Components,
+    junction_leak: f64,
+) -> Intrinsic {
     let bq = base_charge(k, vbe, vbc, c.fwd, c.rev);
     let qb = bq.qb;
     let ict = (c.fwd.v - c.rev.v) / qb;

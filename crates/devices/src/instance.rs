@@ -85,7 +85,11 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
     let temp = circuit.temperature_k;
     let mut b = Builder {
         circuit,
-        names: circuit.nodes.iter().map(|n| names::node_voltage(n)).collect(),
+        names: circuit
+            .nodes
+            .iter()
+            .map(|n| names::node_voltage(n))
+            .collect(),
         kinds: vec![UnknownKind::Voltage; circuit.nodes.len()],
     };
     let mut devices: Vec<Box<dyn Device>> = Vec::with_capacity(circuit.elements.len());

@@ -167,10 +167,7 @@ fn pnp_mirrors_npn() {
         let op = p.op_info(&xp, &exact());
         assert_eq!(on.len(), 12);
         for ((name, a), (_, b)) in on.iter().zip(&op) {
-            let flips = matches!(
-                name.key(),
-                "v_be" | "v_bc" | "v_ce" | "i_c" | "i_b" | "i_e"
-            );
+            let flips = matches!(name.key(), "v_be" | "v_bc" | "v_ce" | "i_c" | "i_b" | "i_e");
             let b = if flips { -b } else { *b };
             assert!(eq(*a, b), "{name:?}: {a} vs {b}");
         }

@@ -6,8 +6,8 @@ use crate::format::{db, fixed, si};
 use crate::table::{Align, Table};
 use serde_json::{json, Value};
 use tankwave_circuit::{Circuit, SteadyMethod};
-use tankwave_measure::{Metrics, StressQuantity, Verdict};
 use tankwave_devices::{names, OpFigure};
+use tankwave_measure::{Metrics, StressQuantity, Verdict};
 use tankwave_solve::{AcResult, OpResult, PeriodicSolution, Strategy, TransientResult};
 
 /// The caution printed with every steady-state report.
@@ -163,7 +163,11 @@ fn listed_unknowns(op: &OpResult) -> impl Iterator<Item = (usize, &String)> {
     let source_branches: Vec<usize> = op
         .devices
         .iter()
-        .filter(|d| d.figures.iter().any(|(f, _)| *f == OpFigure::DeliveredPower))
+        .filter(|d| {
+            d.figures
+                .iter()
+                .any(|(f, _)| *f == OpFigure::DeliveredPower)
+        })
         .filter_map(|d| d.branch)
         .collect();
     op.names
@@ -564,7 +568,12 @@ pub fn steady_json(sol: &PeriodicSolution, m: &Metrics) -> Value {
 pub fn op_csv(op: &OpResult) -> String {
     let mut s = String::from("quantity,value,unit\n");
     for (k, n) in listed_unknowns(op) {
-        s.push_str(&format!("{},{:.12e},{}\n", csv_field(n), op.x[k], names::unit_of(n)));
+        s.push_str(&format!(
+            "{},{:.12e},{}\n",
+            csv_field(n),
+            op.x[k],
+            names::unit_of(n)
+        ));
     }
     for d in &op.devices {
         for (f, v) in &d.figures {

@@ -330,7 +330,10 @@ fn check_params(bp: &BalanceParams) -> Result<(), SolveError> {
         return bad("truncation limits must be finite and ≥ 0".into());
     }
     if !(bp.junction_leak.is_finite() && bp.junction_leak >= 0.0) {
-        return bad(format!("junction_leak must be finite and ≥ 0, got {}", bp.junction_leak));
+        return bad(format!(
+            "junction_leak must be finite and ≥ 0, got {}",
+            bp.junction_leak
+        ));
     }
     Ok(())
 }
@@ -1432,8 +1435,8 @@ fn solve_k(
     let omega = 2.0 * std::f64::consts::PI * params.freq;
     let nfft = fft_size(kmax, bp.oversample);
     let mut fft = Fft::new(nfft);
-    let lin =
-        linear_network(devices, kmax, &mut fft, t_start, period, bp.junction_leak).map_err(|e| (e, 0, 0))?;
+    let lin = linear_network(devices, kmax, &mut fft, t_start, period, bp.junction_leak)
+        .map_err(|e| (e, 0, 0))?;
     let all: Vec<usize> = (0..n).collect();
     let singular = |f: ReduceFail| {
         (

@@ -392,8 +392,8 @@ fn period_change(
                 (a.min(*v), b.max(*v))
             });
         let mag = lo.abs().max(hi.abs());
-        let tol =
-            params.settle.rel_tolerance * ((hi - lo) + mag) + unknown_floor(devices, &params.tol, k);
+        let tol = params.settle.rel_tolerance * ((hi - lo) + mag)
+            + unknown_floor(devices, &params.tol, k);
         let ch = row
             .iter()
             .zip(old)

@@ -539,7 +539,10 @@ pub fn transient(
         return bad(format!("max_step must be positive, got {hmax}"));
     }
     if !(p.rel_tolerance > 0.0 && p.rel_tolerance < 1.0) {
-        return bad(format!("rel_tolerance must be in (0, 1), got {}", p.rel_tolerance));
+        return bad(format!(
+            "rel_tolerance must be in (0, 1), got {}",
+            p.rel_tolerance
+        ));
     }
     if p.fixed_step && p.stop / hmax.min(p.step) > 1e9 {
         return bad("more than 1e9 fixed steps".into());
