@@ -209,7 +209,7 @@ pub fn op_text(circuit: &Circuit, op: &OpResult) -> String {
             }
             t.row(row);
         }
-        if t.len() > 0 {
+        if !t.is_empty() {
             s.push_str(&format!("\n{}\n{}", sec.title, t.render()));
         }
     }
