@@ -108,7 +108,7 @@ fn balance_shooting_and_a_long_transient_agree_on_every_demo_stage() {
         let tp = TransientParams {
             stop: 500.0 / f0,
             step: 1.0 / (f0 * 64.0),
-            reltol: 1e-7,
+            rel_tolerance: 1e-7,
             ..TransientParams::default()
         };
         let t = tankwave_solve::transient(&c, &d, &tp).unwrap();

@@ -153,7 +153,7 @@ fn check_json_is_machine_readable() {
     let o = run(&["check", p(&data("check/pass.tank")), "--format", "json"]);
     assert_eq!(code(&o), 0);
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("valid JSON");
-    assert_eq!(v["schema"], "tankwave/1");
+    assert_eq!(v["schema"], "tankwave/2");
     assert_eq!(v["files"][0]["pass"], true);
     assert_eq!(v["files"][0]["verdicts"].as_array().unwrap().len(), 2);
 }
@@ -171,7 +171,7 @@ fn run_json_and_out_dir() {
     ]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("valid JSON");
-    assert_eq!(v["schema"], "tankwave/1");
+    assert_eq!(v["schema"], "tankwave/2");
     // maximum power transfer: P = amp^2 / (8 Rs) = 400/400 = 1 W (any circuit-analysis text).
     // The stage is solved by shooting (the automatic choice here), which
     // integrates the period with 256 TR-BDF2 steps. Its numerical damping
@@ -197,6 +197,136 @@ fn run_json_and_out_dir() {
         assert!(dir.path().join(f).is_file(), "{f} written");
     }
     assert!(!stdout(&o).contains("NaN"));
+}
+
+/// The operating-point report in the terminal, in JSON and in op.csv uses
+/// tankwave's names (`V[node]`, `I[element]`, g_m, g_π, C_π, C_μ, words for
+/// the rest) and none of the classic printout notation; every number shown
+/// carries a unit; a supply feeding the stage reports a positive delivered
+/// current and power, with power = voltage × current (common practice).
+#[test]
+fn operating_point_report_uses_our_names_and_positive_supply_figures() {
+    let dir = tempfile::tempdir().unwrap();
+    let stage = root().join("netlists/driver-3m6-transformer.tank");
+    let o = run(&["run", p(&stage), "--out", p(dir.path())]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let text = stdout(&o);
+    let start = text.find("Operating point").expect("an operating point");
+    let end = text[start..]
+        .find("Transient to")
+        .expect("then the transient")
+        + start;
+    let op_text = &text[start..end];
+    let json = std::fs::read_to_string(dir.path().join("results.json")).unwrap();
+    let csv = std::fs::read_to_string(dir.path().join("op.csv")).unwrap();
+    for (what, s) in [("terminal", op_text), ("JSON", &json), ("op.csv", &csv)] {
+        for old in [
+            "v(",
+            "i(",
+            " gpi",
+            " cmu",
+            "\"gpi\"",
+            "\"cmu\"",
+            "\"gm\"",
+            "\"cpi\"",
+            "\"vd\"",
+            "\"id\"",
+            "\"gd\"",
+            "\"cd\"",
+            "p_delivered",
+            "gmin",
+        ] {
+            assert!(!s.contains(old), "{what} holds the old `{old}`:\n{s}");
+        }
+    }
+    for new in [
+        "Node voltages",
+        "V[coll]",
+        "V[q1:b']",
+        "delivered current",
+        "delivered power",
+        "g_m",
+        "g_π",
+        "g_o",
+        "C_π",
+        "C_μ",
+    ] {
+        assert!(op_text.contains(new), "terminal lacks `{new}`:\n{op_text}");
+    }
+    // Every number in the terminal report of the operating point is followed
+    // by its unit (the iteration count in the heading is a count).
+    for line in op_text.lines().skip(1) {
+        let words: Vec<&str> = line.split_whitespace().collect();
+        for (k, w) in words.iter().enumerate() {
+            if w.parse::<f64>().is_ok() {
+                let unit = words.get(k + 1).copied().unwrap_or("");
+                assert!(
+                    !unit.is_empty() && unit.parse::<f64>().is_err(),
+                    "`{w}` without a unit in: {line}"
+                );
+            }
+        }
+    }
+    // The supply row of the terminal report has no negative figure.
+    let vsup = op_text
+        .lines()
+        .find(|l| l.starts_with("vsup "))
+        .expect("a row for vsup");
+    assert!(
+        !vsup.contains('-'),
+        "negative figure for the supply: {vsup}"
+    );
+    // JSON: the supply delivers, and P = V · I to rounding (the device
+    // computes both from the same two numbers).
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let elements = v["op"]["elements"].as_array().expect("op.elements");
+    let sup = elements
+        .iter()
+        .find(|e| e["element"] == "vsup")
+        .expect("vsup in op.elements");
+    let fig = |k: &str| sup["figures"][k]["value"].as_f64().unwrap_or(f64::NAN);
+    let (volts, amps, watts) = (
+        fig("voltage"),
+        fig("delivered_current"),
+        fig("delivered_power"),
+    );
+    assert!(amps > 0.0 && watts > 0.0, "{sup}");
+    assert!((watts - volts * amps).abs() <= 1e-12 * watts, "{sup}");
+    assert_eq!(sup["figures"]["delivered_power"]["unit"], "W");
+    let q1 = elements.iter().find(|e| e["element"] == "q1").expect("q1");
+    for k in ["g_m", "g_pi", "g_o", "c_pi", "c_mu", "v_be", "i_c"] {
+        assert!(q1["figures"][k]["value"].is_number(), "q1 lacks {k}: {q1}");
+    }
+    let currents = v["op"]["branch_currents"]
+        .as_array()
+        .expect("branch currents");
+    assert!(
+        currents.iter().all(|c| c["name"] != "I[vsup]"),
+        "{currents:?}"
+    );
+    assert!(
+        currents.iter().any(|c| c["name"] == "I[lp]"),
+        "{currents:?}"
+    );
+    // op.csv: the same figures, positive for the supply, no source branch current.
+    assert!(csv.starts_with("quantity,value,unit\n"), "{csv}");
+    let row = |q: &str| {
+        csv.lines()
+            .find(|l| l.starts_with(&format!("{q},")))
+            .and_then(|l| l.split(',').nth(1))
+            .and_then(|x| x.parse::<f64>().ok())
+    };
+    assert!(
+        row("delivered_current[vsup]").is_some_and(|i| i > 0.0),
+        "{csv}"
+    );
+    assert!(
+        row("delivered_power[vsup]").is_some_and(|p| p > 0.0),
+        "{csv}"
+    );
+    assert!(row("g_pi[q1]").is_some_and(|g| g > 0.0), "{csv}");
+    assert!(row("V[coll]").is_some(), "{csv}");
+    assert!(row("I[vsup]").is_none(), "{csv}");
 }
 
 #[test]

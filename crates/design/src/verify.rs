@@ -32,6 +32,7 @@ use crate::matching::{ComplexValue, MatchDesign};
 use crate::network::{Network, Part, Placement};
 use crate::si::format_si;
 use tankwave_circuit::{Circuit, Element, ElementKind, NodeId, Origin, Overrides, Scale, Waveform};
+use tankwave_devices::names;
 
 /// Options of the verification.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -298,9 +299,9 @@ fn verify_circuit(
         res.index(name)
             .ok_or_else(|| DesignError::Solver(format!("the AC result has no unknown {name}")))
     };
-    let k_in = idx(&format!("v({})", net.input_node))?;
-    let k_out = idx(&format!("v({})", net.output_node))?;
-    let k_src = idx(&format!("i({SOURCE_NAME})"))?;
+    let k_in = idx(&names::node_voltage(&net.input_node))?;
+    let k_out = idx(&names::node_voltage(&net.output_node))?;
+    let k_src = idx(&names::branch_current(SOURCE_NAME))?;
     let (rs, rl) = (net.source_resistance, net.load_resistance);
     let mut points = Vec::new();
     let mut zin_measured = Complex64::new(f64::NAN, f64::NAN);

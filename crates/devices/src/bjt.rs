@@ -20,8 +20,8 @@
 //! qb  = (q1/2) (1 + √(1 + 4 q2))
 //! I_CT = (I_F − I_R) / qb
 //! I_B = I_F/BF + ISE (exp(VBE/(NE Vt)) − 1) + I_R/BR + ISC (exp(VBC/(NC Vt)) − 1)
-//!       + gmin (VBE + VBC)
-//! I_C = I_CT − I_R/BR − ISC (exp(VBC/(NC Vt)) − 1) − gmin VBC
+//!       + junction_leak (VBE + VBC)
+//! I_C = I_CT − I_R/BR − ISC (exp(VBC/(NC Vt)) − 1) − junction_leak VBC
 //! I_E = −(I_C + I_B)
 //! Q_BE = Q_dep(VBE; CJE, VJE, MJE, FC) + TF · I_F / qb
 //! Q_BC = Q_dep(VBC; CJC, VJC, MJC, FC) + TR · I_R
@@ -54,6 +54,7 @@
 
 use crate::contract::{stamp_conductance, val, Device, EvalCtx, EvalInfo, Idx, Stamp};
 use crate::error::DeviceError;
+use crate::figure::OpFigure;
 use crate::junction::{self, Depletion};
 use tankwave_circuit::BjtParams;
 
@@ -438,8 +439,14 @@ pub struct Intrinsic {
 }
 
 /// Combine the components into terminal currents and charges (the Gummel–Poon
-/// equations in the module overview). `gmin` is put across both junctions.
-pub fn combine(k: &BjtConstants, vbe: f64, vbc: f64, c: &Components, gmin: f64) -> Intrinsic {
+/// equations in the module overview). `junction_leak` is put across both junctions.
+pub fn combine(
+    k: &BjtConstants,
+    vbe: f64,
+    vbc: f64,
+    c: &Components,
+    junction_leak: f64,
+) -> Intrinsic {
     let bq = base_charge(k, vbe, vbc, c.fwd, c.rev);
     let qb = bq.qb;
     let ict = (c.fwd.v - c.rev.v) / qb;
@@ -449,12 +456,12 @@ pub fn combine(k: &BjtConstants, vbe: f64, vbc: f64, c: &Components, gmin: f64) 
         + c.leak_be.v
         + c.rev.v / k.gain_rev
         + c.leak_bc.v
-        + gmin * (vbe + vbc);
-    let dib_dvbe = c.fwd.d / k.gain_fwd + c.leak_be.d + gmin;
-    let dib_dvbc = c.rev.d / k.gain_rev + c.leak_bc.d + gmin;
-    let ic = ict - c.rev.v / k.gain_rev - c.leak_bc.v - gmin * vbc;
+        + junction_leak * (vbe + vbc);
+    let dib_dvbe = c.fwd.d / k.gain_fwd + c.leak_be.d + junction_leak;
+    let dib_dvbc = c.rev.d / k.gain_rev + c.leak_bc.d + junction_leak;
+    let ic = ict - c.rev.v / k.gain_rev - c.leak_bc.v - junction_leak * vbc;
     let dic_dvbe = dict_dvbe;
-    let dic_dvbc = dict_dvbc - c.rev.d / k.gain_rev - c.leak_bc.d - gmin;
+    let dic_dvbc = dict_dvbc - c.rev.d / k.gain_rev - c.leak_bc.d - junction_leak;
     let qde = k.tf * c.fwd.v / qb;
     let dqde_dvbe = k.tf * (c.fwd.d / qb - c.fwd.v * bq.dqb_dvbe / (qb * qb));
     let dqde_dvbc = -k.tf * c.fwd.v * bq.dqb_dvbc / (qb * qb);
@@ -498,8 +505,8 @@ pub fn components(k: &BjtConstants, vbe: f64, vbc: f64) -> Components {
 }
 
 /// Intrinsic currents and charges at (VBE, VBC) in the npn sense.
-pub fn intrinsic(k: &BjtConstants, vbe: f64, vbc: f64, gmin: f64) -> Intrinsic {
-    combine(k, vbe, vbc, &components(k, vbe, vbc), gmin)
+pub fn intrinsic(k: &BjtConstants, vbe: f64, vbc: f64, junction_leak: f64) -> Intrinsic {
+    combine(k, vbe, vbc, &components(k, vbe, vbc), junction_leak)
 }
 
 /// Ratings of a transistor model (the `max_*` and thermal fields of
@@ -627,7 +634,7 @@ impl Device for Bjt {
             s[0] = vbe_l;
             s[1] = vbc_l;
         }
-        let t = intrinsic(k, vbe_l, vbc_l, ctx.gmin);
+        let t = intrinsic(k, vbe_l, vbc_l, ctx.junction_leak);
         // Linearise about the limited point: f(v_l) + ∂f/∂v (v − v_l).
         let (dbe, dbc) = (vbe - vbe_l, vbc - vbc_l);
         let s = self.sign;
@@ -664,20 +671,20 @@ impl Device for Bjt {
     /// sign, into the collector for an npn), A; no junction charging current.
     fn transport_current(&self, x: &[f64], ctx: &EvalCtx) -> Option<f64> {
         let (vbe, vbc) = self.junction_voltages(x);
-        let t = intrinsic(&self.k, vbe, vbc, ctx.gmin);
+        let t = intrinsic(&self.k, vbe, vbc, ctx.junction_leak);
         Some(self.sign * t.ict).filter(|v| v.is_finite())
     }
 
-    /// Terminal voltages `vbe`, `vbc`, `vce` (external, physical sign), intrinsic
-    /// currents into the terminals `ic`, `ib`, `ie` (physical sign; equal to the
+    /// Terminal voltages V_BE, V_BC, V_CE (external, physical sign), intrinsic
+    /// currents into the terminals I_C, I_B, I_E (physical sign; equal to the
     /// terminal currents at a solution), small-signal figures of the intrinsic
-    /// transistor `gm = ∂IC/∂VBE` and `gpi = ∂IB/∂VBE` (VCE fixed),
-    /// `go = ∂IC/∂VCE` (VBE fixed), `cpi = ∂Q_BE/∂VBE`,
-    /// `cmu = ∂Q_BC/∂VBC`, and the dissipation `power = VCE·IC + VBE·IB`, W.
-    fn op_info(&self, x: &[f64], ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
+    /// transistor g_m = ∂I_C/∂V_BE and g_π = ∂I_B/∂V_BE (V_CE fixed),
+    /// g_o = ∂I_C/∂V_CE (V_BE fixed), C_π = ∂Q_BE/∂V_BE,
+    /// C_μ = ∂Q_BC/∂V_BC, and the dissipation V_CE·I_C + V_BE·I_B, W.
+    fn op_info(&self, x: &[f64], ctx: &EvalCtx) -> Vec<(OpFigure, f64)> {
         let n = self.nodes;
         let (vbe, vbc) = self.junction_voltages(x);
-        let t = intrinsic(&self.k, vbe, vbc, ctx.gmin);
+        let t = intrinsic(&self.k, vbe, vbc, ctx.junction_leak);
         let s = self.sign;
         let vb = val(x, n.b);
         let (ext_vbe, ext_vbc) = (vb - val(x, n.e), vb - val(x, n.c));
@@ -685,18 +692,18 @@ impl Device for Bjt {
         let (ic, ib) = (s * t.ic, s * t.ib);
         let power = ext_vce * ic + ext_vbe * ib;
         let out = vec![
-            ("vbe", ext_vbe),
-            ("vbc", ext_vbc),
-            ("vce", ext_vce),
-            ("ic", ic),
-            ("ib", ib),
-            ("ie", -(ic + ib)),
-            ("gm", t.dic_dvbe + t.dic_dvbc),
-            ("gpi", t.dib_dvbe + t.dib_dvbc),
-            ("go", -t.dic_dvbc),
-            ("cpi", t.dqbe_dvbe),
-            ("cmu", t.dqbc_dvbc),
-            ("power", power),
+            (OpFigure::BaseEmitterVoltage, ext_vbe),
+            (OpFigure::BaseCollectorVoltage, ext_vbc),
+            (OpFigure::CollectorEmitterVoltage, ext_vce),
+            (OpFigure::CollectorCurrent, ic),
+            (OpFigure::BaseCurrent, ib),
+            (OpFigure::EmitterCurrent, -(ic + ib)),
+            (OpFigure::Transconductance, t.dic_dvbe + t.dic_dvbc),
+            (OpFigure::InputConductance, t.dib_dvbe + t.dib_dvbc),
+            (OpFigure::OutputConductance, -t.dic_dvbc),
+            (OpFigure::BaseEmitterCapacitance, t.dqbe_dvbe),
+            (OpFigure::BaseCollectorCapacitance, t.dqbc_dvbc),
+            (OpFigure::Dissipation, power),
         ];
         // A non-finite figure (only possible with absurd parameters) is left out
         // rather than reported.

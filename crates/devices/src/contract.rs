@@ -25,6 +25,8 @@
 //! linearisation about the limited point, `i(v_lim) + G·(v − v_lim)`, so the
 //! residual stays consistent with `x`, and reports that it limited.
 
+use crate::figure::OpFigure;
+
 /// Unknown index: `None` is ground (and is ignored by a [`Stamp`]).
 pub type Idx = Option<usize>;
 
@@ -51,7 +53,7 @@ pub struct EvalCtx {
     /// Multiplier on the time-varying part of every independent source (drive continuation).
     pub wave_scale: f64,
     /// Conductance a nonlinear device puts across each junction, S.
-    pub gmin: f64,
+    pub junction_leak: f64,
     /// Apply junction limiting (Newton iterations) or evaluate exactly at `x`.
     pub limit: bool,
 }
@@ -62,7 +64,7 @@ impl Default for EvalCtx {
             time: 0.0,
             dc_scale: 1.0,
             wave_scale: 1.0,
-            gmin: 1e-12,
+            junction_leak: 1e-12,
             limit: false,
         }
     }
@@ -106,8 +108,8 @@ pub trait Device: Send + Sync + std::fmt::Debug {
     fn ac_excitation(&self, _out: &mut dyn FnMut(usize, f64)) {}
     /// Times in `[t0, t1)` where its waveform has a corner (transient breakpoints).
     fn breakpoints(&self, _t0: f64, _t1: f64, _out: &mut Vec<f64>) {}
-    /// Named operating-point figures at `x` (e.g. `vbe`, `ic`, `gm`), SI units.
-    fn op_info(&self, _x: &[f64], _ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
+    /// Operating-point figures at `x` (e.g. V_BE, I_C, g_m), SI units (see [`OpFigure`]).
+    fn op_info(&self, _x: &[f64], _ctx: &EvalCtx) -> Vec<(OpFigure, f64)> {
         Vec::new()
     }
     /// The intrinsic transport current at `x`, A, for a device that has one

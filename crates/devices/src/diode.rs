@@ -8,7 +8,7 @@
 //! ```text
 //! I_f(V) = A·IS(T)·(exp(V/(nV_t)) − 1)                       forward (ideal) current
 //! I_b(V) = −A·IBV·exp(−(V + BV)/(nV_t))                      reverse breakdown (BV finite)
-//! I(V)   = I_f + I_b + gmin·V                                 current a' → k
+//! I(V)   = I_f + I_b + junction_leak·V                                 current a' → k
 //! Q(V)   = A·Q_dep(V) + τ·I_f                                 charge on a' (−Q on k)
 //! ```
 //!
@@ -18,7 +18,7 @@
 //!   for any breakdown above a few tenths of a volt.
 //! * `Q_dep` is the graded-junction depletion charge of [`crate::junction::Depletion`]
 //!   (C_j0 scaled by `A`); the diffusion charge uses the ideal forward current
-//!   only (not the breakdown or gmin parts).
+//!   only (not the breakdown or junction_leak parts).
 //! * With `r_series > 0` the diode owns an internal anode node `a'` and puts a
 //!   conductance `A / r_series` between `a` and `a'` (the series resistance
 //!   scales inversely with area).
@@ -37,6 +37,7 @@
 
 use crate::contract::{stamp_conductance, val, Device, EvalCtx, EvalInfo, Idx, Stamp};
 use crate::error::DeviceError;
+use crate::figure::OpFigure;
 use crate::junction::{
     critical_voltage, exp_guarded, exp_m1_guarded, limit_junction, sat_current_at, thermal_voltage,
     Depletion,
@@ -105,7 +106,7 @@ fn depletion_of(p: &DiodeParams, area: f64) -> Depletion {
 /// Junction quantities at one voltage.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct JunctionEval {
-    /// Current a' → k, A (including gmin·V).
+    /// Current a' → k, A (including junction_leak·V).
     pub i: f64,
     /// dI/dV, S.
     pub g: f64,
@@ -187,8 +188,8 @@ impl Diode {
     }
 
     /// Current, conductance, charge and capacitance of the junction at `v`
-    /// (exact, no limiting), with `gmin` across it.
-    pub fn junction(&self, v: f64, gmin: f64) -> JunctionEval {
+    /// (exact, no limiting), with `junction_leak` across it.
+    pub fn junction(&self, v: f64, junction_leak: f64) -> JunctionEval {
         let (em1, de) = exp_m1_guarded(v / self.n_vt);
         let i_f = self.is_t * em1;
         let g_f = self.is_t * de / self.n_vt;
@@ -200,8 +201,8 @@ impl Diode {
         };
         let (qd, cd) = self.dep.eval(v);
         JunctionEval {
-            i: i_f + i_b + gmin * v,
-            g: g_f + g_b + gmin,
+            i: i_f + i_b + junction_leak * v,
+            g: g_f + g_b + junction_leak,
             q: qd + self.transit * i_f,
             c: cd + self.transit * g_f,
         }
@@ -267,7 +268,7 @@ impl Device for Diode {
             }
             _ => v,
         };
-        let j = self.junction(vl, ctx.gmin);
+        let j = self.junction(vl, ctx.junction_leak);
         let dv = v - vl;
         let i = j.i + j.g * dv;
         let q = j.q + j.c * dv;
@@ -283,9 +284,14 @@ impl Device for Diode {
         }
         info
     }
-    fn op_info(&self, x: &[f64], ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
+    fn op_info(&self, x: &[f64], ctx: &EvalCtx) -> Vec<(OpFigure, f64)> {
         let v = self.vd(x);
-        let j = self.junction(v, ctx.gmin);
-        vec![("vd", v), ("id", j.i), ("gd", j.g), ("cd", j.c)]
+        let j = self.junction(v, ctx.junction_leak);
+        vec![
+            (OpFigure::ForwardVoltage, v),
+            (OpFigure::JunctionCurrent, j.i),
+            (OpFigure::JunctionConductance, j.g),
+            (OpFigure::JunctionCapacitance, j.c),
+        ]
     }
 }

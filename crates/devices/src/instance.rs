@@ -1,13 +1,15 @@
 //! Building the devices of a circuit and numbering its unknowns.
 //!
 //! Unknown order:
-//! 1. the node voltages, in [`Circuit::nodes`] order (`v(node)`), `n_nodes` of them;
+//! 1. the node voltages, in [`Circuit::nodes`] order (`V[node]`), `n_nodes` of them;
 //! 2. then, walking the elements in file order, the extra unknowns each one owns:
-//!    * voltage source, inductor: its branch current `i(name)`;
-//!    * diode with `r_series > 0`: its internal anode `v(name:a')`;
-//!    * bjt: its internal collector, base and emitter nodes `v(name:c')`,
-//!      `v(name:b')`, `v(name:e')`, each only when that ohmic resistance is
-//!      nonzero (the order is c', b', e').
+//!    * voltage source, inductor: its branch current `I[name]`;
+//!    * diode with `r_series > 0`: its internal anode `V[name:a']`;
+//!    * bipolar transistor: its internal collector, base and emitter nodes
+//!      `V[name:c']`, `V[name:b']`, `V[name:e']`, each only when that ohmic
+//!      resistance is nonzero (the order is c', b', e').
+//!
+//! The names are written by [`crate::names`].
 //!
 //! Couplings own no unknowns; they are built after every inductor branch is
 //! known, so a coupling may name inductors declared after it, and they come
@@ -23,6 +25,7 @@ use crate::contract::{Device, DeviceSet, Idx, UnknownKind};
 use crate::diode::Diode;
 use crate::error::DeviceError;
 use crate::linear::{Capacitor, Coupling, ISource, Inductor, Resistor, VSource};
+use crate::names;
 use crate::waveform;
 use tankwave_circuit::ir::{Circuit, ElementKind, ModelParams, NodeId};
 
@@ -82,7 +85,11 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
     let temp = circuit.temperature_k;
     let mut b = Builder {
         circuit,
-        names: circuit.nodes.iter().map(|n| format!("v({n})")).collect(),
+        names: circuit
+            .nodes
+            .iter()
+            .map(|n| names::node_voltage(n))
+            .collect(),
         kinds: vec![UnknownKind::Voltage; circuit.nodes.len()],
     };
     let mut devices: Vec<Box<dyn Device>> = Vec::with_capacity(circuit.elements.len());
@@ -121,7 +128,7 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                 let l = positive(name, "inductance", *l)?;
                 let r = nonneg(name, "r", *series_r)?;
                 let (na, nb) = (b.node(name, *a)?, b.node(name, *bn)?);
-                let j = b.alloc(format!("i({name})"), UnknownKind::Current);
+                let j = b.alloc(names::branch_current(name), UnknownKind::Current);
                 coils[id] = Some((j, l));
                 devices.push(Box::new(Inductor::new(id, na, nb, j, l, r)));
             }
@@ -149,7 +156,7 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                 waveform::check(wave, name)?;
                 let rs = nonneg(name, "rs", *rs)?;
                 let (np, nn) = (b.node(name, *p)?, b.node(name, *n)?);
-                let j = b.alloc(format!("i({name})"), UnknownKind::Current);
+                let j = b.alloc(names::branch_current(name), UnknownKind::Current);
                 devices.push(Box::new(VSource::new(id, np, nn, j, wave.clone(), rs)));
             }
             ElementKind::ISource { p, n, wave } => {
@@ -187,7 +194,7 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                 crate::diode::check_params(p, name)?;
                 let (na, nk) = (b.node(name, *a)?, b.node(name, *k)?);
                 let ai = if p.r_series > 0.0 {
-                    Some(b.alloc(format!("v({name}:a')"), UnknownKind::Voltage))
+                    Some(b.alloc(names::internal_node(name, "a"), UnknownKind::Voltage))
                 } else {
                     na
                 };
@@ -237,7 +244,7 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                 let need = Bjt::internal_nodes_needed(p);
                 let mut internal = |need: bool, ext: Idx, tag: &str| {
                     if need {
-                        Some(b.alloc(format!("v({name}:{tag}')"), UnknownKind::Voltage))
+                        Some(b.alloc(names::internal_node(name, tag), UnknownKind::Voltage))
                     } else {
                         ext
                     }

@@ -9,7 +9,8 @@
 //! Conventions shared by every model (details in each module):
 //! * unknowns are the node voltages first (in `circuit.nodes` order), then the
 //!   extra unknowns allocated by [`instantiate`] in element order (branch
-//!   currents of vsources and inductors, internal nodes of devices);
+//!   currents of voltage sources and inductors, internal nodes of devices),
+//!   named by [`names`] (`V[node]`, `I[element]`);
 //! * `F(x,t) = i(x,t) + dq/dt = 0`, each node row the sum of currents leaving
 //!   the node through the devices;
 //! * source and branch sign conventions: see [`linear`].
@@ -23,7 +24,7 @@
 //!     .circuit;
 //! let d = tankwave_devices::instantiate(&c).expect("devices");
 //! assert_eq!(d.n_unknowns, 3);
-//! assert!(d.names.iter().any(|n| n == "i(vs)"));
+//! assert!(d.names.iter().any(|n| n == "I[vs]"));
 //! ```
 #![deny(missing_docs)]
 
@@ -31,10 +32,13 @@ pub mod bjt;
 pub mod contract;
 pub mod diode;
 pub mod error;
+pub mod figure;
 pub mod instance;
 pub mod junction;
 pub mod linear;
+pub mod names;
 pub mod waveform;
 pub use contract::*;
 pub use error::DeviceError;
+pub use figure::OpFigure;
 pub use instance::instantiate;

@@ -25,6 +25,7 @@
 use crate::contract::{
     stamp_capacitance, stamp_conductance, val, Device, EvalCtx, EvalInfo, Idx, Stamp,
 };
+use crate::figure::OpFigure;
 use crate::waveform::{breakpoints, Waveform as _};
 use tankwave_circuit::ir::Waveform;
 
@@ -62,9 +63,13 @@ impl Device for Resistor {
         stamp_conductance(out, x, a, b, self.g);
         EvalInfo::default()
     }
-    fn op_info(&self, x: &[f64], _ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
+    fn op_info(&self, x: &[f64], _ctx: &EvalCtx) -> Vec<(OpFigure, f64)> {
         let v = val(x, self.nodes[0]) - val(x, self.nodes[1]);
-        vec![("v", v), ("i", self.g * v), ("p", self.g * v * v)]
+        vec![
+            (OpFigure::Voltage, v),
+            (OpFigure::Current, self.g * v),
+            (OpFigure::Power, self.g * v * v),
+        ]
     }
 }
 
@@ -102,9 +107,9 @@ impl Device for Capacitor {
         stamp_capacitance(out, x, a, b, self.c);
         EvalInfo::default()
     }
-    fn op_info(&self, x: &[f64], _ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
+    fn op_info(&self, x: &[f64], _ctx: &EvalCtx) -> Vec<(OpFigure, f64)> {
         let v = val(x, self.nodes[0]) - val(x, self.nodes[1]);
-        vec![("v", v), ("q", self.c * v)]
+        vec![(OpFigure::Voltage, v), (OpFigure::Charge, self.c * v)]
     }
 }
 
@@ -164,9 +169,9 @@ impl Device for Inductor {
     fn branch(&self) -> Option<usize> {
         Some(self.branch)
     }
-    fn op_info(&self, x: &[f64], _ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
+    fn op_info(&self, x: &[f64], _ctx: &EvalCtx) -> Vec<(OpFigure, f64)> {
         let j = x[self.branch];
-        vec![("i", j), ("flux", self.l * j)]
+        vec![(OpFigure::Current, j), (OpFigure::Flux, self.l * j)]
     }
 }
 
@@ -279,15 +284,15 @@ impl Device for VSource {
     fn branch(&self) -> Option<usize> {
         Some(self.branch)
     }
-    fn op_info(&self, x: &[f64], ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
+    fn op_info(&self, x: &[f64], ctx: &EvalCtx) -> Vec<(OpFigure, f64)> {
         let j = x[self.branch];
         let v = val(x, self.nodes[0]) - val(x, self.nodes[1]);
-        // Power delivered to the circuit: current leaves p into the circuit as −j.
+        // The current leaves p into the circuit as −j; it delivers v·(−j).
         vec![
-            ("v", v),
-            ("i", j),
-            ("p_delivered", -v * j),
-            ("emf", self.value(ctx)),
+            (OpFigure::SetVoltage, self.value(ctx)),
+            (OpFigure::Voltage, v),
+            (OpFigure::DeliveredCurrent, -j),
+            (OpFigure::DeliveredPower, -v * j),
         ]
     }
 }
@@ -345,10 +350,16 @@ impl Device for ISource {
             breakpoints(s, t0, t1, out);
         }
     }
-    fn op_info(&self, x: &[f64], ctx: &EvalCtx) -> Vec<(&'static str, f64)> {
+    fn op_info(&self, x: &[f64], ctx: &EvalCtx) -> Vec<(OpFigure, f64)> {
         let i = self.value(ctx);
         let v = val(x, self.nodes[0]) - val(x, self.nodes[1]);
-        // I enters the source at p: it absorbs v·I, so it delivers −v·I to the circuit.
-        vec![("v", v), ("i", i), ("p_delivered", -v * i)]
+        // I enters the source at p and leaves it at n into the circuit: it
+        // absorbs v·I, so it delivers −v·I to the circuit.
+        vec![
+            (OpFigure::Voltage, v),
+            (OpFigure::Current, i),
+            (OpFigure::DeliveredCurrent, i),
+            (OpFigure::DeliveredPower, -v * i),
+        ]
     }
 }

@@ -8,10 +8,10 @@ use tankwave_circuit::BjtParams;
 use tankwave_devices::bjt::{intrinsic, Bjt, BjtConstants, BjtNodes};
 use tankwave_devices::{DenseStamp, Device, EvalCtx};
 
-/// Exact evaluation without gmin.
+/// Exact evaluation without junction_leak.
 fn ctx0() -> EvalCtx {
     EvalCtx {
-        gmin: 0.0,
+        junction_leak: 0.0,
         limit: false,
         ..EvalCtx::default()
     }
@@ -41,7 +41,7 @@ fn currents(q: &Bjt, vbe: f64, vbc: f64) -> (f64, f64) {
 fn op(q: &Bjt, vbe: f64, vbc: f64, name: &str) -> f64 {
     q.op_info(&[vbe - vbc, vbe], &ctx0())
         .into_iter()
-        .find(|(n, _)| *n == name)
+        .find(|(n, _)| n.key() == name)
         .map(|(_, v)| v)
         .expect("op_info figure present")
 }
@@ -183,8 +183,8 @@ fn output_conductance_is_ic_over_early_voltage() {
     for &vce in &[1.0, 2.0, 5.0, 10.0, 20.0] {
         let vbe = 0.68;
         let vbc = vbe - vce;
-        let ic = op(&q, vbe, vbc, "ic");
-        let go = op(&q, vbe, vbc, "go");
+        let ic = op(&q, vbe, vbc, "i_c");
+        let go = op(&q, vbe, vbc, "g_o");
         let vcb = -vbc;
         assert!((go * vaf / ic - 1.0).abs() <= vcb / (vaf + vcb) + 1e-9);
         assert!(
@@ -202,7 +202,7 @@ fn output_conductance_is_ic_over_early_voltage() {
 /// Depletion capacitance (check-values.md; I. Getreu 1976, memory):
 /// C = Cj0 (1 − V/Vj)^−m below FC·Vj, the tangent-line continuation
 /// C = Cj0 (1 − FC)^−(1+m) (1 − FC(1+m) + m V/Vj) above, and dQ/dV = C on both
-/// sides. The reported cpi/cmu are checked against the closed form (1e-12
+/// sides. The reported C_π/C_μ are checked against the closed form (1e-12
 /// relative, rounding) and against a central difference of the stamped charge
 /// (h = 1e-5 V: truncation error ~ h² C''/6 < 1e-8 relative here, so 1e-7).
 #[test]
@@ -242,7 +242,7 @@ fn depletion_capacitance_both_sides_of_linearisation() {
         -10.0, -2.0, -0.3, 0.0, 0.2, 0.29, 0.31, 0.37, 0.38, 0.5, 0.7, 0.9,
     ] {
         // VBE = v with VBC = −5 (BC fixed), then VBC = v with VBE = −5.
-        let cpi = op(&q, v, -5.0, "cpi");
+        let cpi = op(&q, v, -5.0, "c_pi");
         let want = closed(v, cje, vje, mje);
         assert!(
             (cpi / want - 1.0).abs() < 1e-12,
@@ -253,7 +253,7 @@ fn depletion_capacitance_both_sides_of_linearisation() {
             (dq / want - 1.0).abs() < 1e-7,
             "dQbe/dV at {v}: {dq} vs {want}"
         );
-        let cmu = op(&q, -5.0, v, "cmu");
+        let cmu = op(&q, -5.0, v, "c_mu");
         let want = closed(v, cjc, vjc, mjc);
         assert!(
             (cmu / want - 1.0).abs() < 1e-12,

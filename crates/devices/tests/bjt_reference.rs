@@ -116,7 +116,7 @@ fn matches_numpy_reference_at_every_bias_point() {
         };
         let q = Bjt::new(0, nodes, &set.p, set.area, set.temp);
         let ctx = EvalCtx {
-            gmin: 0.0,
+            junction_leak: 0.0,
             limit: false,
             ..EvalCtx::default()
         };

@@ -167,9 +167,9 @@ fn pnp_mirrors_npn() {
         let op = p.op_info(&xp, &exact());
         assert_eq!(on.len(), 12);
         for ((name, a), (_, b)) in on.iter().zip(&op) {
-            let flips = matches!(*name, "vbe" | "vbc" | "vce" | "ic" | "ib" | "ie");
+            let flips = matches!(name.key(), "v_be" | "v_bc" | "v_ce" | "i_c" | "i_b" | "i_e");
             let b = if flips { -b } else { *b };
-            assert!(eq(*a, b), "{name}: {a} vs {b}");
+            assert!(eq(*a, b), "{name:?}: {a} vs {b}");
         }
     }
 }
@@ -198,7 +198,7 @@ fn limiting_both_junctions_and_linearisation() {
     let q = Bjt::new(0, nodes, &p, 1.0, 300.15);
     let lim = EvalCtx {
         limit: true,
-        gmin: 0.0,
+        junction_leak: 0.0,
         ..EvalCtx::default()
     };
     // VBE 0.6 → 5.0 with VBC held at −1 V: only BE is limited.
@@ -321,7 +321,7 @@ fn residual(q: &Bjt, x: &[f64], ties: &[Tie]) -> f64 {
 fn op(q: &Bjt, x: &[f64], name: &str) -> f64 {
     q.op_info(x, &exact())
         .into_iter()
-        .find(|(n, _)| *n == name)
+        .find(|(n, _)| n.key() == name)
         .map(|(_, v)| v)
         .expect("figure")
 }
@@ -390,8 +390,8 @@ fn operating_points_converge_from_zero() {
             let (x, its) = newton(&q, 6, &ties);
             assert!(residual(&q, &x, &ties) < 1e-9, "{region} pnp {pnp}: KCL");
             assert!(its < 100, "{region}: {its} iterations");
-            let (vbe, vbc) = (s * op(&q, &x, "vbe"), s * op(&q, &x, "vbc"));
-            let (ic, ib) = (s * op(&q, &x, "ic"), s * op(&q, &x, "ib"));
+            let (vbe, vbc) = (s * op(&q, &x, "v_be"), s * op(&q, &x, "v_bc"));
+            let (ic, ib) = (s * op(&q, &x, "i_c"), s * op(&q, &x, "i_b"));
             match region {
                 "forward" => {
                     assert!(vbe > 0.5 && vbc < -1.0, "forward: {vbe} {vbc}");
@@ -412,7 +412,7 @@ fn operating_points_converge_from_zero() {
                 }
                 "reverse" => {
                     assert!(vbc > 0.5 && vbe < -1.0, "reverse: {vbe} {vbc}");
-                    let ie = s * op(&q, &x, "ie");
+                    let ie = s * op(&q, &x, "i_e");
                     // emitter acts as collector: IE into the emitter ≈ βR·IB.
                     assert!(ie > 0.0 && ie / ib > 1.5 && ie / ib < 3.01, "{}", ie / ib);
                 }

@@ -53,7 +53,7 @@ fn diode_circuit(p: DiodeParams, area: f64) -> tankwave_circuit::ir::Circuit {
 #[test]
 fn internal_node_is_allocated_and_named() {
     let set = instantiate(&diode_circuit(full_params(), 1.0)).unwrap();
-    assert_eq!(set.names, vec!["v(a)", "v(k)", "v(d1:a')"]);
+    assert_eq!(set.names, vec!["V[a]", "V[k]", "V[d1:a']"]);
     assert_eq!(set.state_len, 1);
     let set = instantiate(&diode_circuit(DiodeParams::default(), 1.0)).unwrap();
     assert_eq!(set.n_unknowns, 2);
@@ -90,7 +90,7 @@ fn stamp_structure_without_series_resistance() {
     let set = instantiate(&diode_circuit(p, 1.0)).unwrap();
     let d = set.devices[0].as_ref();
     let ctx = EvalCtx {
-        gmin: 0.0,
+        junction_leak: 0.0,
         ..EvalCtx::default()
     };
     let x = [0.6, 0.0];
@@ -128,7 +128,7 @@ fn limiting_uses_state_and_stays_consistent() {
     let d = Diode::new(0, Some(0), None, Some(0), &p, 1.0, 300.15);
     let ctx = EvalCtx {
         limit: true,
-        gmin: 0.0,
+        junction_leak: 0.0,
         ..EvalCtx::default()
     };
     let mut st = [0.6];
@@ -151,7 +151,7 @@ fn limiting_uses_state_and_stays_consistent() {
     let info = d.eval(
         &[5.0],
         &EvalCtx {
-            gmin: 0.0,
+            junction_leak: 0.0,
             ..EvalCtx::default()
         },
         &mut st2,
@@ -176,7 +176,7 @@ fn breakdown_current_and_reverse_limiting() {
     };
     let d = Diode::new(0, Some(0), None, Some(0), &p, 1.0, 300.15);
     // At V = −BV the breakdown term is exactly −IBV; the forward term adds −IS
-    // (1 − e^{−BV/nVt} ≈ 1). gmin = 0 here.
+    // (1 − e^{−BV/nVt} ≈ 1). junction_leak = 0 here.
     let i = d.junction(-6.0, 0.0).i;
     assert!((i - (-1e-6 - 1e-14)).abs() < 1e-15, "{i:e}");
     // One nVt further in reverse the breakdown term has grown by e.
@@ -227,13 +227,13 @@ fn op_info_reports_junction_figures() {
     let d = set.devices[0].as_ref();
     let x = [0.75, 0.0, 0.7];
     let info = d.op_info(&x, &EvalCtx::default());
-    let get = |k: &str| info.iter().find(|(n, _)| *n == k).unwrap().1;
-    assert!((get("vd") - 0.7).abs() < 1e-15);
+    let get = |k: &str| info.iter().find(|(n, _)| n.key() == k).unwrap().1;
+    assert!((get("forward_voltage") - 0.7).abs() < 1e-15);
     let s = stamp(d, 3, &x, &EvalCtx::default());
-    assert_eq!(get("id"), -s.i[1]);
+    assert_eq!(get("junction_current"), -s.i[1]);
     // g_series = 1/0.5 = 2 S shares the entry; subtracting it rounds at 1 ulp of 2 S.
-    assert!((get("gd") - (s.g_at(2, 2) - 2.0)).abs() < 1e-15);
-    assert_eq!(get("cd"), s.c_at(2, 2));
+    assert!((get("junction_conductance") - (s.g_at(2, 2) - 2.0)).abs() < 1e-15);
+    assert_eq!(get("junction_capacitance"), s.c_at(2, 2));
 }
 
 #[test]

@@ -96,8 +96,8 @@ fn extra_unknowns_follow_element_order() {
     ));
     let set = instantiate(&c).unwrap();
     let want = [
-        "v(in)", "v(b)", "v(c)", "i(vdrv)", "v(d1:a')", "v(q1:b')", "i(lc)", "v(q2:c')",
-        "v(q2:b')", "v(q2:e')",
+        "V[in]", "V[b]", "V[c]", "I[vdrv]", "V[d1:a']", "V[q1:b']", "I[lc]", "V[q2:c']",
+        "V[q2:b']", "V[q2:e']",
     ];
     assert_eq!(set.names, want);
     assert_eq!(set.n_nodes, 3);

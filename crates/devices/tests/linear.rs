@@ -5,7 +5,7 @@
 mod common;
 use common::*;
 use tankwave_circuit::ir::{ElementKind, Shape, Waveform};
-use tankwave_devices::{instantiate, DeviceError, EvalCtx, UnknownKind};
+use tankwave_devices::{instantiate, DeviceError, EvalCtx, OpFigure, UnknownKind};
 
 fn dc(v: f64) -> Waveform {
     Waveform { dc: v, shape: None }
@@ -81,7 +81,7 @@ fn resistor_and_capacitor_stamps() {
 fn inductor_stamp() {
     let c = circuit(&["a", "b"], vec![("l1", ind(Some(0), Some(1), 1e-6, 2.0))]);
     let set = instantiate(&c).unwrap();
-    assert_eq!(set.names, vec!["v(a)", "v(b)", "i(l1)"]);
+    assert_eq!(set.names, vec!["V[a]", "V[b]", "I[l1]"]);
     assert_eq!(set.kinds[2], UnknownKind::Current);
     assert_eq!(set.devices[0].branch(), Some(2));
     let x = [3.0, 1.0, 0.5];
@@ -115,7 +115,7 @@ fn vsource_and_isource_stamps() {
         ],
     );
     let set = instantiate(&c).unwrap();
-    assert_eq!(set.names, vec!["v(a)", "v(b)", "i(v1)"]);
+    assert_eq!(set.names, vec!["V[a]", "V[b]", "I[v1]"]);
     let x = [7.0, 1.0, -0.1];
     let ctx = EvalCtx {
         time: 0.5,
@@ -162,7 +162,7 @@ fn ac0_solve(set: &tankwave_devices::DeviceSet, src: usize) -> Vec<f64> {
 // Voltage divider and Ohm's law (common practice).
 #[test]
 fn vsource_divider_dc_and_ac_agree() {
-    // Source 10 V behind 50 Ω into 50 Ω: v(out) = 5 V, source delivers power (j < 0).
+    // Source 10 V behind 50 Ω into 50 Ω: V[out] = 5 V, source delivers power (j < 0).
     // A direct solve of two unknowns with exact decimal data: only rounding
     // (~1e-16 relative) separates the results from the hand values, and the
     // bounds below (1e-13 to 2e-12 relative) catch any wrong stamp.
@@ -181,10 +181,17 @@ fn vsource_divider_dc_and_ac_agree() {
     let xa = ac0_solve(&set, 0);
     assert!((xa[0] - 0.5).abs() < 1e-13);
     assert!((xa[1] + 0.01).abs() < 1e-15);
-    // Power delivered as reported by op_info.
+    // As op_info reports it: a supply feeding a load delivers a positive
+    // current (0.1 A out of its + terminal, though its branch current is
+    // −0.1 A) and a positive power, 5 V · 0.1 A = 0.5 W (Ohm's law).
     let info = set.devices[0].op_info(&x, &EvalCtx::default());
-    let p = info.iter().find(|(k, _)| *k == "p_delivered").unwrap().1;
+    let get = |f: OpFigure| info.iter().find(|(k, _)| *k == f).unwrap().1;
+    let i = get(OpFigure::DeliveredCurrent);
+    assert!((i - 0.1).abs() < 1e-14, "delivered current = {i}");
+    let p = get(OpFigure::DeliveredPower);
     assert!((p - 0.5).abs() < 1e-12, "p = {p}");
+    assert!((get(OpFigure::SetVoltage) - 10.0).abs() < 1e-15);
+    assert!((p - get(OpFigure::Voltage) * i).abs() < 1e-12);
 }
 
 // Ohm's law (common practice).
@@ -205,6 +212,12 @@ fn isource_into_resistor_dc_and_ac_agree() {
     assert!((x[0] - 0.1).abs() < 1e-14);
     let xa = ac0_solve(&set, 0);
     assert!((xa[0] - 100.0).abs() < 1e-11);
+    // It feeds the load: 1 mA into a node at 0.1 V delivers 0.1 mW; current
+    // and power are both positive.
+    let info = set.devices[0].op_info(&x, &EvalCtx::default());
+    let get = |f: OpFigure| info.iter().find(|(k, _)| *k == f).unwrap().1;
+    assert_eq!(get(OpFigure::DeliveredCurrent), 1e-3);
+    assert!((get(OpFigure::DeliveredPower) - 1e-4).abs() < 1e-17);
     // Reversed: current drawn out of `out`.
     let c = circuit(
         &["out"],
@@ -232,7 +245,7 @@ fn inductor_is_dc_short_through_its_resistance() {
         ],
     );
     let set = instantiate(&c).unwrap();
-    assert_eq!(set.names, vec!["v(in)", "v(out)", "i(v1)", "i(l1)"]);
+    assert_eq!(set.names, vec!["V[in]", "V[out]", "I[v1]", "I[l1]"]);
     let x = dc_solve(&set);
     assert!((x[1] - 0.5).abs() < 1e-14);
     assert!((x[3] - 0.5).abs() < 1e-14);
@@ -461,7 +474,7 @@ fn coupled_coils_open_secondary_ratio() {
     // The 1 GΩ load draws ~1.8 nA: relative loading ≈ ωL2/1e9 ≈ 2.5e-8.
     assert!(
         (xr[1] - 1.8).abs() < 1e-6,
-        "v(out) = {} + j{}",
+        "V[out] = {} + j{}",
         xr[1],
         xi[1]
     );

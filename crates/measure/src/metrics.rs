@@ -102,7 +102,7 @@ pub struct SupplyPower {
     pub element_id: usize,
     /// Average power delivered into the circuit −mean(Σ v_k i_k), W.
     pub power_w: f64,
-    /// Mean terminal voltage v(p) − v(n), V.
+    /// Mean terminal voltage V_p − V_n, V.
     pub voltage_v: f64,
     /// Mean current delivered out of the p terminal into the circuit, A.
     pub current_a: f64,

@@ -163,7 +163,7 @@ impl<'a> Period<'a> {
         }
     }
 
-    /// v(a) − v(b) over the period.
+    /// V_a − V_b over the period.
     pub fn across(&self, a: NodeId, b: NodeId) -> Vec<f64> {
         self.node(a)
             .iter()

@@ -43,4 +43,4 @@ pub use table::{Align, Table};
 
 /// Version of the JSON documents tankwave writes (`"schema"` field).
 /// Bump the major number on any incompatible change; docs/output.md describes the fields.
-pub const SCHEMA_VERSION: &str = "tankwave/1";
+pub const SCHEMA_VERSION: &str = "tankwave/2";

@@ -6,6 +6,7 @@ use crate::format::{db, fixed, si};
 use crate::table::{Align, Table};
 use serde_json::{json, Value};
 use tankwave_circuit::{Circuit, SteadyMethod};
+use tankwave_devices::{names, OpFigure};
 use tankwave_measure::{Metrics, StressQuantity, Verdict};
 use tankwave_solve::{AcResult, OpResult, PeriodicSolution, Strategy, TransientResult};
 
@@ -34,59 +35,186 @@ fn method_name(m: SteadyMethod) -> &'static str {
 fn strategy_text(s: &Strategy) -> String {
     match s {
         Strategy::Newton => "Newton".to_string(),
-        Strategy::GminStepping { stages } => format!("gmin stepping, {stages} stages"),
+        Strategy::LeakStepping { stages } => format!("junction-leak stepping, {stages} stages"),
         Strategy::SourceStepping { stages } => format!("source stepping, {stages} stages"),
     }
 }
 
-/// Text report of an operating point: node voltages, branch currents, device figures.
+/// One section of the operating-point report: every device that reports
+/// `marker`, one row each, with these columns (a figure a device does not
+/// report prints as "—").
+struct OpSection {
+    /// Section heading.
+    title: &'static str,
+    /// Header of the name column.
+    head: &'static str,
+    /// The figure that puts a device in this section.
+    marker: OpFigure,
+    /// The figures shown, in column order.
+    columns: &'static [OpFigure],
+}
+
+/// The element sections of the operating-point report, in report order.
+const OP_SECTIONS: &[OpSection] = &[
+    OpSection {
+        title: "Sources (delivered current and power are positive when the source supplies the circuit)",
+        head: "source",
+        marker: OpFigure::DeliveredPower,
+        columns: &[
+            OpFigure::SetVoltage,
+            OpFigure::Voltage,
+            OpFigure::DeliveredCurrent,
+            OpFigure::DeliveredPower,
+        ],
+    },
+    OpSection {
+        title: "Transistors, bias (currents positive into the terminal)",
+        head: "transistor",
+        marker: OpFigure::CollectorCurrent,
+        columns: &[
+            OpFigure::BaseEmitterVoltage,
+            OpFigure::BaseCollectorVoltage,
+            OpFigure::CollectorEmitterVoltage,
+            OpFigure::CollectorCurrent,
+            OpFigure::BaseCurrent,
+            OpFigure::EmitterCurrent,
+            OpFigure::Dissipation,
+        ],
+    },
+    OpSection {
+        title: "Transistors, small signal (intrinsic transistor)",
+        head: "transistor",
+        marker: OpFigure::Transconductance,
+        columns: &[
+            OpFigure::Transconductance,
+            OpFigure::InputConductance,
+            OpFigure::OutputConductance,
+            OpFigure::BaseEmitterCapacitance,
+            OpFigure::BaseCollectorCapacitance,
+        ],
+    },
+    OpSection {
+        title: "Diodes (junction, anode to cathode)",
+        head: "diode",
+        marker: OpFigure::ForwardVoltage,
+        columns: &[
+            OpFigure::ForwardVoltage,
+            OpFigure::JunctionCurrent,
+            OpFigure::JunctionConductance,
+            OpFigure::JunctionCapacitance,
+        ],
+    },
+    OpSection {
+        title: "Resistors",
+        head: "resistor",
+        marker: OpFigure::Power,
+        columns: &[OpFigure::Voltage, OpFigure::Current, OpFigure::Power],
+    },
+    OpSection {
+        title: "Capacitors",
+        head: "capacitor",
+        marker: OpFigure::Charge,
+        columns: &[OpFigure::Voltage, OpFigure::Charge],
+    },
+    OpSection {
+        title: "Inductors",
+        head: "inductor",
+        marker: OpFigure::Flux,
+        columns: &[OpFigure::Current, OpFigure::Flux],
+    },
+];
+
+/// How a person reads an operating-point figure: plain words, or the
+/// textbook symbol of a transistor quantity (g_m, g_π, C_π, … as
+/// circuit-design textbooks write the hybrid-π model).
+pub fn figure_label(f: OpFigure) -> &'static str {
+    match f {
+        OpFigure::Voltage => "voltage",
+        OpFigure::Current => "current",
+        OpFigure::Power => "power",
+        OpFigure::Charge => "charge",
+        OpFigure::Flux => "flux",
+        OpFigure::SetVoltage => "set voltage",
+        OpFigure::DeliveredCurrent => "delivered current",
+        OpFigure::DeliveredPower => "delivered power",
+        OpFigure::ForwardVoltage => "forward voltage",
+        OpFigure::JunctionCurrent => "current",
+        OpFigure::JunctionConductance => "conductance",
+        OpFigure::JunctionCapacitance => "capacitance",
+        OpFigure::BaseEmitterVoltage => "V_BE",
+        OpFigure::BaseCollectorVoltage => "V_BC",
+        OpFigure::CollectorEmitterVoltage => "V_CE",
+        OpFigure::CollectorCurrent => "I_C",
+        OpFigure::BaseCurrent => "I_B",
+        OpFigure::EmitterCurrent => "I_E",
+        OpFigure::Transconductance => "g_m",
+        OpFigure::InputConductance => "g_π",
+        OpFigure::OutputConductance => "g_o",
+        OpFigure::BaseEmitterCapacitance => "C_π",
+        OpFigure::BaseCollectorCapacitance => "C_μ",
+        OpFigure::Dissipation => "dissipation",
+    }
+}
+
+/// The unknowns an operating-point report lists by name: every node voltage
+/// and every branch current except a source's (a source is shown by the
+/// current it delivers, see [`OP_SECTIONS`]), as (index, name).
+fn listed_unknowns(op: &OpResult) -> impl Iterator<Item = (usize, &String)> {
+    let source_branches: Vec<usize> = op
+        .devices
+        .iter()
+        .filter(|d| {
+            d.figures
+                .iter()
+                .any(|(f, _)| *f == OpFigure::DeliveredPower)
+        })
+        .filter_map(|d| d.branch)
+        .collect();
+    op.names
+        .iter()
+        .enumerate()
+        .filter(move |(k, _)| !source_branches.contains(k))
+}
+
+/// Text report of an operating point: node voltages, then one table per
+/// kind of element (sources with delivered current and power, transistors,
+/// diodes, resistors, capacitors, inductors), every number with its unit.
 pub fn op_text(circuit: &Circuit, op: &OpResult) -> String {
     let mut s = format!(
-        "Operating point ({}, {} iterations)\n",
+        "Operating point ({}, {} iterations)\n\nNode voltages\n",
         strategy_text(&op.info.strategy),
         op.info.iterations
     );
-    let mut t = Table::new(vec![("unknown", Align::Left), ("value", Align::Right)]);
-    for (name, v) in op.names.iter().zip(&op.x) {
-        let unit = if name.starts_with("i(") { "A" } else { "V" };
-        t.row(vec![name.clone(), si(*v, unit)]);
+    let mut t = Table::new(vec![("node", Align::Left), ("voltage", Align::Right)]);
+    for (k, name) in listed_unknowns(op) {
+        if names::unit_of(name) == "V" {
+            t.row(vec![name.clone(), si(op.x[k], "V")]);
+        }
     }
     s.push_str(&t.render());
-    for d in &op.devices {
-        let figs: Vec<String> = d
-            .figures
-            .iter()
-            .map(|(k, v)| format!("{k} = {}", si(*v, unit_of_figure(k))))
-            .collect();
-        s.push_str(&format!("  {}: {}\n", d.name, figs.join(", ")));
+    for sec in OP_SECTIONS {
+        let mut head = vec![(sec.head, Align::Left)];
+        head.extend(sec.columns.iter().map(|f| (figure_label(*f), Align::Right)));
+        let mut t = Table::new(head);
+        for d in &op.devices {
+            if !d.figures.iter().any(|(f, _)| *f == sec.marker) {
+                continue;
+            }
+            let mut row = vec![d.name.clone()];
+            for c in sec.columns {
+                row.push(match d.figures.iter().find(|(f, _)| f == c) {
+                    Some((f, v)) => si(*v, f.unit()),
+                    None => "—".to_string(),
+                });
+            }
+            t.row(row);
+        }
+        if !t.is_empty() {
+            s.push_str(&format!("\n{}\n{}", sec.title, t.render()));
+        }
     }
     let _ = circuit;
     s
-}
-
-/// The unit of a device's operating-point figure, by its name (see each
-/// device's `op_info`): charge `q` in C, flux in Wb, a source's `emf` in V,
-/// otherwise by the first letter (v, i, g, c, p: V, A, S, F, W).
-fn unit_of_figure(k: &str) -> &'static str {
-    match k {
-        "q" => return "C",
-        "flux" => return "Wb",
-        "emf" => return "V",
-        _ => {}
-    }
-    if k.starts_with('v') {
-        "V"
-    } else if k.starts_with('i') {
-        "A"
-    } else if k.starts_with('g') {
-        "S"
-    } else if k.starts_with('c') {
-        "F"
-    } else if k.starts_with('p') {
-        "W"
-    } else {
-        ""
-    }
 }
 
 /// One-paragraph summary of a transient run.
@@ -351,16 +479,21 @@ fn clean(v: f64) -> Value {
     }
 }
 
-/// JSON of an operating point.
+/// JSON of an operating point: node voltages and branch currents by
+/// name (`V[node]`, `I[element]`; a source's branch current is left out,
+/// its delivered current is among its figures), then every element's
+/// figures keyed by [`OpFigure::key`], each with its unit.
 pub fn op_json(op: &OpResult) -> Value {
+    let unknown = |k: usize, n: &String| json!({"name": n, "value": clean(op.x[k]), "unit": names::unit_of(n)});
     json!({
         "iterations": op.info.iterations,
         "residual": clean(op.info.residual),
         "strategy": strategy_text(&op.info.strategy),
-        "unknowns": op.names.iter().zip(&op.x).map(|(n, v)| json!({"name": n, "value": clean(*v), "unit": if n.starts_with("i(") {"A"} else {"V"}})).collect::<Vec<_>>(),
-        "devices": op.devices.iter().map(|d| json!({
+        "node_voltages": listed_unknowns(op).filter(|(_, n)| names::unit_of(n) == "V").map(|(k, n)| unknown(k, n)).collect::<Vec<_>>(),
+        "branch_currents": listed_unknowns(op).filter(|(_, n)| names::unit_of(n) == "A").map(|(k, n)| unknown(k, n)).collect::<Vec<_>>(),
+        "elements": op.devices.iter().map(|d| json!({
             "element": d.name,
-            "figures": d.figures.iter().map(|(k, v)| json!({"name": k, "value": clean(*v), "unit": unit_of_figure(k)})).collect::<Vec<_>>(),
+            "figures": d.figures.iter().map(|(f, v)| (f.key().to_string(), json!({"value": clean(*v), "unit": f.unit()}))).collect::<serde_json::Map<String, Value>>(),
         })).collect::<Vec<_>>(),
     })
 }
@@ -430,13 +563,25 @@ pub fn steady_json(sol: &PeriodicSolution, m: &Metrics) -> Value {
     })
 }
 
-/// CSV of the operating point: one row per unknown (`unknown,value`), the
-/// value to 13 significant digits. Names are written as they are (unknown
-/// names never hold a comma or a quote).
+/// CSV of the operating point (`quantity,value,unit`): one row per node
+/// voltage and branch current as in [`op_json`] (`V[coll]`, `I[rfc]`), then
+/// one row per element figure written `key[element]` (`g_m[q1]`,
+/// `delivered_power[vsup]`), the value to 13 significant digits.
 pub fn op_csv(op: &OpResult) -> String {
-    let mut s = String::from("unknown,value\n");
-    for (n, v) in op.names.iter().zip(&op.x) {
-        s.push_str(&format!("{n},{v:.12e}\n"));
+    let mut s = String::from("quantity,value,unit\n");
+    for (k, n) in listed_unknowns(op) {
+        s.push_str(&format!(
+            "{},{:.12e},{}\n",
+            csv_field(n),
+            op.x[k],
+            names::unit_of(n)
+        ));
+    }
+    for d in &op.devices {
+        for (f, v) in &d.figures {
+            let q = format!("{}[{}]", f.key(), d.name);
+            s.push_str(&format!("{},{v:.12e},{}\n", csv_field(&q), f.unit()));
+        }
     }
     s
 }
@@ -476,7 +621,8 @@ pub fn period_csv(circuit: &Circuit, names: &[String], sol: &PeriodicSolution) -
             .map(|e| e.name.as_str())
             .unwrap_or("?");
         for (k, col) in terms.iter().enumerate() {
-            s.push_str(&format!(",i({name}:{})", k + 1));
+            s.push(',');
+            s.push_str(&csv_field(&names::terminal_current(name, k + 1)));
             cols.push(col);
         }
     }
@@ -644,26 +790,17 @@ pub(crate) fn pulses_cell(q: &tankwave_measure::TransistorMetrics) -> String {
 
 #[cfg(test)]
 mod tests {
-    use super::unit_of_figure;
+    use super::{figure_label, OP_SECTIONS};
+    use tankwave_devices::OpFigure;
 
-    /// Every figure name the devices report gets its SI unit (SI Brochure,
-    /// 9th ed., 2019: C for charge, Wb for magnetic flux).
+    /// Every figure a device reports has a label and appears in a section of
+    /// the text report (the JSON and CSV list every figure by key).
     #[test]
-    fn operating_point_figures_have_units() {
-        for (name, unit) in [
-            ("v", "V"),
-            ("vbe", "V"),
-            ("emf", "V"),
-            ("i", "A"),
-            ("ic", "A"),
-            ("gm", "S"),
-            ("cpi", "F"),
-            ("p_delivered", "W"),
-            ("power", "W"),
-            ("q", "C"),
-            ("flux", "Wb"),
-        ] {
-            assert_eq!(unit_of_figure(name), unit, "{name}");
+    fn every_figure_is_labelled_and_placed() {
+        for f in OpFigure::ALL {
+            assert!(!figure_label(f).is_empty(), "{f:?}");
+            let placed = OP_SECTIONS.iter().any(|s| s.columns.contains(&f));
+            assert!(placed, "{f:?} is in no section of the text report");
         }
     }
 }

@@ -19,9 +19,9 @@ fn period_plot_has_four_panels_and_shaded_conduction() {
     let svg = plot::period_plot(&c, &sol, Q1, &params()).expect("plot");
     keep("period_Q1.svg", &svg);
     let doc = parse(&svg);
-    assert_eq!(series_labels(&doc), vec!["v_ce", "i_c", "v_be", "v(RL)"]);
+    assert_eq!(series_labels(&doc), vec!["v_ce", "i_c", "v_be", "v_RL"]);
     let texts = texts(&doc);
-    for label in ["time (ns)", "v_ce (V)", "i_c (A)", "v_be (V)", "v(RL) (V)"] {
+    for label in ["time (ns)", "v_ce (V)", "i_c (A)", "v_be (V)", "v_RL (V)"] {
         assert!(
             texts.iter().any(|t| t == label),
             "axis label {label} missing in {texts:?}"
@@ -138,11 +138,11 @@ fn startup_plot_has_wave_and_envelopes() {
     let doc = parse(&svg);
     assert_eq!(
         series_labels(&doc),
-        vec!["v(RL)", "upper envelope", "lower envelope"]
+        vec!["v_RL", "upper envelope", "lower envelope"]
     );
     let texts = texts(&doc);
     assert!(texts.iter().any(|t| t == "time (µs)"), "{texts:?}");
-    assert!(texts.iter().any(|t| t == "v(RL) (V)"));
+    assert!(texts.iter().any(|t| t == "v_RL (V)"));
     assert_eq!(count_class(&doc, "reference"), 1, "the 90 % settling mark");
 }
 
@@ -202,13 +202,13 @@ fn ac_plot_log_and_linear() {
         // each unknown appears in the magnitude and in the phase panel
         assert_eq!(
             series_labels(&doc),
-            vec!["v(in)", "v(out)", "v(in)", "v(out)"]
+            vec!["V[in]", "V[out]", "V[in]", "V[out]"]
         );
         let texts = texts(&doc);
         assert!(texts.iter().any(|t| t == "magnitude (dB)"));
         assert!(texts.iter().any(|t| t == "phase (deg)"));
         assert!(texts.iter().any(|t| t == "frequency (MHz)"), "{texts:?}");
-        assert_eq!(legend_labels(&doc), vec!["v(in)", "v(out)"]);
+        assert_eq!(legend_labels(&doc), vec!["V[in]", "V[out]"]);
     }
     let mut bad = ac_result();
     bad.freq[0] = 0.0;

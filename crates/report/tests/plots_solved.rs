@@ -38,7 +38,7 @@ fn period_plot_of_the_solved_class_c_stage() {
         .collect();
     assert_eq!(
         labels,
-        vec!["v_ce", "i_c", "i_t (transport)", "v_be", "v(rl)"]
+        vec!["v_ce", "i_c", "i_t (transport)", "v_be", "v_rl"]
     );
 
     // the plot shades what the conduction angle counts: the measure's rule on

@@ -171,7 +171,7 @@ pub fn ac(
     let ctx = EvalCtx {
         time: p.op.time,
         wave_scale: p.op.wave_scale,
-        gmin: p.op.gmin,
+        junction_leak: p.op.junction_leak,
         limit: false,
         ..EvalCtx::default()
     };

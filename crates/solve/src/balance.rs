@@ -71,11 +71,11 @@
 //!    norm halves the step up to [`BalanceParams::max_halvings`] times.
 //!
 //! # Convergence test
-//! Per port row `r` and harmonic `k`: `|R_rk| ≤ reltol·s_r + abs`, where `s_r`
+//! Per port row `r` and harmonic `k`: `|R_rk| ≤ rel_tolerance·s_r + abs`, where `s_r`
 //! is the largest magnitude over the harmonics of any term of that row
-//! (`Ŷ X`, `Ŝ`, `I`, `kωQ`) and `abs` is `abstol` for a node row (A) or
-//! `vntol` for a branch row (V); and the last full Newton update within
-//! `reltol·max_k |X_k| + (vntol | abstol)` for every port.
+//! (`Ŷ X`, `Ŝ`, `I`, `kωQ`) and `abs` is `current_floor` for a node row (A) or
+//! `voltage_floor` for a branch row (V); and the last full Newton update within
+//! `rel_tolerance·max_k |X_k| + (voltage_floor | current_floor)` for every port.
 //! [`SteadyInfo::residual`] is the largest `|R_rk|/tol` (≤ 1 when converged).
 //!
 //! # Harmonic count
@@ -149,7 +149,7 @@ pub struct BalanceParams {
     /// Reduce the linear network to the nonlinear device ports (default true).
     pub reduce: bool,
     /// Junction conductance the devices add, S (default 1e-12).
-    pub gmin: f64,
+    pub junction_leak: f64,
     /// Line-search halvings per Newton step before the level fails (default 12).
     pub max_halvings: usize,
     /// Junction limiting at every sample of the nonlinear evaluation (default
@@ -172,7 +172,7 @@ impl Default for BalanceParams {
             truncation_rel: 1e-5,
             truncation_abs: 1e-9,
             reduce: true,
-            gmin: 1e-12,
+            junction_leak: 1e-12,
             max_halvings: 12,
             limit: true,
         }
@@ -220,7 +220,7 @@ pub fn balance(
     // Operating point at zero drive: the exact solution at s = 0.
     let op = OpParams {
         tol: params.tol,
-        gmin: bp.gmin,
+        junction_leak: bp.junction_leak,
         wave_scale: 0.0,
         linear_solver: params.linear_solver,
         ..OpParams::default()
@@ -228,7 +228,7 @@ pub fn balance(
     let mut state = devices.initial_state();
     let (x_op, _) = solve_op(devices, &op, &vec![0.0; n], &mut state)?;
     let ports_structural = if bp.reduce {
-        nonlinear_ports(devices, &x_op, bp.gmin)
+        nonlinear_ports(devices, &x_op, bp.junction_leak)
     } else {
         (0..n).collect()
     };
@@ -329,8 +329,11 @@ fn check_params(bp: &BalanceParams) -> Result<(), SolveError> {
     if !(finite_nonneg(bp.truncation_rel) && finite_nonneg(bp.truncation_abs)) {
         return bad("truncation limits must be finite and ≥ 0".into());
     }
-    if !(bp.gmin.is_finite() && bp.gmin >= 0.0) {
-        return bad(format!("gmin must be finite and ≥ 0, got {}", bp.gmin));
+    if !(bp.junction_leak.is_finite() && bp.junction_leak >= 0.0) {
+        return bad(format!(
+            "junction_leak must be finite and ≥ 0, got {}",
+            bp.junction_leak
+        ));
     }
     Ok(())
 }
@@ -395,13 +398,13 @@ impl Stamp for Touched {
 }
 
 /// Unknowns touched by any nonlinear device (structurally, at the operating point).
-fn nonlinear_ports(devices: &DeviceSet, x_op: &[f64], gmin: f64) -> Vec<usize> {
+fn nonlinear_ports(devices: &DeviceSet, x_op: &[f64], junction_leak: f64) -> Vec<usize> {
     let mut t = Touched {
         hit: vec![false; devices.n_unknowns],
     };
     let mut state = devices.initial_state();
     let ctx = EvalCtx {
-        gmin,
+        junction_leak,
         limit: false,
         ..EvalCtx::default()
     };
@@ -548,7 +551,7 @@ fn linear_network(
     fft: &mut Fft,
     t_start: f64,
     period: f64,
-    gmin: f64,
+    junction_leak: f64,
 ) -> Result<Linear, SolveError> {
     let n = devices.n_unknowns;
     let ns = fft.n;
@@ -559,7 +562,7 @@ fn linear_network(
         time: t,
         dc_scale: 1.0,
         wave_scale: s,
-        gmin,
+        junction_leak,
         limit: false,
     };
     devices.eval_all(&x0, &ctx(t_start, 0.0), &mut state, &mut st, Filter::Linear);
@@ -824,7 +827,7 @@ struct Problem<'a> {
     omega: f64,
     t_start: f64,
     period: f64,
-    gmin: f64,
+    junction_leak: f64,
     fft: Fft,
     tol: crate::Tolerances,
     /// Absolute residual tolerance of each port row (A for node rows, V for branch rows).
@@ -897,16 +900,16 @@ impl<'a> Problem<'a> {
             .ports
             .iter()
             .map(|&u| match kind(u) {
-                Some(UnknownKind::Current) => params.tol.vntol,
-                _ => params.tol.abstol,
+                Some(UnknownKind::Current) => params.tol.voltage_floor,
+                _ => params.tol.current_floor,
             })
             .collect();
         let var_abs = red
             .ports
             .iter()
             .map(|&u| match kind(u) {
-                Some(UnknownKind::Current) => params.tol.abstol,
-                _ => params.tol.vntol,
+                Some(UnknownKind::Current) => params.tol.current_floor,
+                _ => params.tol.voltage_floor,
             })
             .collect();
         Self {
@@ -917,7 +920,7 @@ impl<'a> Problem<'a> {
             omega,
             t_start,
             period: 1.0 / params.freq,
-            gmin: params.balance.gmin,
+            junction_leak: params.balance.junction_leak,
             fft: Fft::new(nfft),
             tol: params.tol,
             row_abs,
@@ -976,7 +979,7 @@ impl<'a> Problem<'a> {
                 time: self.t_start + s as f64 * self.period / ns as f64,
                 dc_scale: 1.0,
                 wave_scale: 1.0,
-                gmin: self.gmin,
+                junction_leak: self.junction_leak,
                 limit: self.limit,
             };
             st.clear();
@@ -1076,7 +1079,7 @@ impl<'a> Problem<'a> {
         scale
             .iter()
             .zip(&self.row_abs)
-            .map(|(s, a)| self.tol.reltol * s + a)
+            .map(|(s, a)| self.tol.rel_tolerance * s + a)
             .collect()
     }
 
@@ -1275,7 +1278,7 @@ impl<'a> Problem<'a> {
                     let mag = (0..=kmax)
                         .map(|k| xt[k * p + r].norm() * if k == 0 { 1.0 } else { 2.0 })
                         .fold(0.0f64, f64::max);
-                    let lim = self.tol.reltol * mag + self.var_abs[r];
+                    let lim = self.tol.rel_tolerance * mag + self.var_abs[r];
                     let d = (0..=kmax)
                         .map(|k| step[k * p + r].norm())
                         .fold(0.0f64, f64::max);
@@ -1432,8 +1435,8 @@ fn solve_k(
     let omega = 2.0 * std::f64::consts::PI * params.freq;
     let nfft = fft_size(kmax, bp.oversample);
     let mut fft = Fft::new(nfft);
-    let lin =
-        linear_network(devices, kmax, &mut fft, t_start, period, bp.gmin).map_err(|e| (e, 0, 0))?;
+    let lin = linear_network(devices, kmax, &mut fft, t_start, period, bp.junction_leak)
+        .map_err(|e| (e, 0, 0))?;
     let all: Vec<usize> = (0..n).collect();
     let singular = |f: ReduceFail| {
         (
@@ -1772,7 +1775,7 @@ fn currents(
                 time: sol.t_start + s as f64 * period / ns as f64,
                 dc_scale: 1.0,
                 wave_scale: 1.0,
-                gmin: params.balance.gmin,
+                junction_leak: params.balance.junction_leak,
                 limit: false,
             };
             stamp.element_terminals(&ed, &xs, &ctx, &mut state, |j, i, q| {

@@ -29,7 +29,7 @@
 //! assert!(s.info.residual <= 1.0);
 //! // |H| = 1/√(1 + (ωRC)²) at 1 MHz, RC = 100 ns (common practice): the output
 //! // peaks near 0.85 V; 256 steps per period leave an error near 5e-5 of it.
-//! let k = d.names.iter().position(|n| n == "v(out)").unwrap();
+//! let k = d.names.iter().position(|n| n == "V[out]").unwrap();
 //! let peak = s.x[k].iter().fold(0.0f64, |m, v| m.max(v.abs()));
 //! let h = 1.0 / (1.0 + (2.0 * std::f64::consts::PI * 1e6 * 100e-9f64).powi(2)).sqrt();
 //! assert!((peak - h).abs() < 1e-3);

@@ -3,12 +3,12 @@
 //! The residual solved is `f(x) = i(x) + α·q(x) + h + g_s·x_v`, where `α` and
 //! the history vector `h` come from the integration formula (both zero for
 //! DC) and `g_s` is an optional shunt conductance from every node voltage to
-//! ground (gmin stepping). The Jacobian is `G + α·C + g_s·I_v`.
+//! ground (junction-leak stepping). The Jacobian is `G + α·C + g_s·I_v`.
 //!
 //! Convergence needs, at once: no device reported a limited junction, every
-//! update small, `|Δx_k| ≤ reltol·max(|x_k|) + (vntol | abstol)` by the
-//! unknown's kind, and every residual small, `|f_r| ≤ reltol·s_r + (abstol |
-//! vntol)` where `s_r = Σ_c |J_rc x_c| + |α q_r| + |h_r|` is the size of the
+//! update small, `|Δx_k| ≤ rel_tolerance·max(|x_k|) + (voltage_floor | current_floor)` by the
+//! unknown's kind, and every residual small, `|f_r| ≤ rel_tolerance·s_r + (current_floor |
+//! voltage_floor)` where `s_r = Σ_c |J_rc x_c| + |α q_r| + |h_r|` is the size of the
 //! terms in that equation (a node equation is in amperes, a branch equation
 //! in volts).
 
@@ -19,19 +19,19 @@ use tankwave_devices::{DenseStamp, DeviceSet, EvalCtx, Filter, UnknownKind};
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Tolerances {
     /// Relative tolerance on updates and residuals (default 1e-6).
-    pub reltol: f64,
+    pub rel_tolerance: f64,
     /// Absolute tolerance on node voltages and branch-equation residuals, V (default 1e-9).
-    pub vntol: f64,
+    pub voltage_floor: f64,
     /// Absolute tolerance on branch currents and node-equation residuals, A (default 1e-12).
-    pub abstol: f64,
+    pub current_floor: f64,
 }
 
 impl Default for Tolerances {
     fn default() -> Self {
         Self {
-            reltol: 1e-6,
-            vntol: 1e-9,
-            abstol: 1e-12,
+            rel_tolerance: 1e-6,
+            voltage_floor: 1e-9,
+            current_floor: 1e-12,
         }
     }
 }
@@ -151,10 +151,10 @@ fn residual_ok(sys: &System<'_>, ws: &Workspace, x: &[f64]) -> (bool, usize, f64
             s += h[r].abs();
         }
         let abs = match sys.devices.kinds.get(r) {
-            Some(UnknownKind::Current) => sys.tol.vntol,
-            _ => sys.tol.abstol,
+            Some(UnknownKind::Current) => sys.tol.voltage_floor,
+            _ => sys.tol.current_floor,
         };
-        let tol = sys.tol.reltol * s + abs;
+        let tol = sys.tol.rel_tolerance * s + abs;
         let f = ws.f[r].abs();
         let ratio = f / tol;
         if !(ratio <= 1.0) {
@@ -170,10 +170,10 @@ fn residual_ok(sys: &System<'_>, ws: &Workspace, x: &[f64]) -> (bool, usize, f64
 }
 
 /// Absolute tolerance of unknown `k` (by its kind).
-pub(crate) fn unknown_abstol(devices: &DeviceSet, tol: &Tolerances, k: usize) -> f64 {
+pub(crate) fn unknown_floor(devices: &DeviceSet, tol: &Tolerances, k: usize) -> f64 {
     match devices.kinds.get(k) {
-        Some(UnknownKind::Current) => tol.abstol,
-        _ => tol.vntol,
+        Some(UnknownKind::Current) => tol.current_floor,
+        _ => tol.voltage_floor,
     }
 }
 
@@ -227,8 +227,8 @@ pub(crate) fn solve(
                 return Err(Failure::NonFinite(k));
             }
             let xn = x[k] + d;
-            let tol = sys.tol.reltol * x[k].abs().max(xn.abs())
-                + unknown_abstol(sys.devices, &sys.tol, k);
+            let tol = sys.tol.rel_tolerance * x[k].abs().max(xn.abs())
+                + unknown_floor(sys.devices, &sys.tol, k);
             if d.abs() > tol {
                 update_ok = false;
             }

@@ -1,4 +1,4 @@
-//! DC operating point: Newton–Raphson with device limiting, then gmin
+//! DC operating point: Newton–Raphson with device limiting, then junction_leak
 //! stepping and source stepping as fallbacks.
 //!
 //! The operating point solves `i(x, t) = 0` (capacitors open, inductors
@@ -7,8 +7,8 @@
 //! analysis uses 0, the pure bias point).
 //!
 //! Fallbacks, tried in order when plain Newton fails:
-//! 1. gmin stepping: a shunt conductance from every node to ground, started
-//!    at `gmin_start` and divided by 10 per stage down to zero, each stage
+//! 1. junction-leak stepping: a shunt conductance from every node to ground, started
+//!    at `leak_start` and divided by 10 per stage down to zero, each stage
 //!    starting from the previous solution;
 //! 2. source stepping: every source's constant part scaled by `dc_scale`
 //!    from 0 to 1 in adaptive increments (halved on failure, grown 1.5× on
@@ -18,7 +18,7 @@ use crate::linalg::LinearSolver;
 use crate::newton::{self, Failure, System, Tolerances, Workspace};
 use crate::SolveError;
 use tankwave_circuit::Circuit;
-use tankwave_devices::{DeviceSet, EvalCtx};
+use tankwave_devices::{DeviceSet, EvalCtx, OpFigure};
 
 /// Options of the operating point.
 #[derive(Debug, Clone, PartialEq)]
@@ -28,12 +28,12 @@ pub struct OpParams {
     /// Newton iteration limit per solve (default 100).
     pub max_iter: usize,
     /// Junction conductance the devices add, S (default 1e-12).
-    pub gmin: f64,
-    /// Try gmin stepping when plain Newton fails (default true).
-    pub gmin_stepping: bool,
-    /// First shunt conductance of gmin stepping, S (default 1e-2).
-    pub gmin_start: f64,
-    /// Try source stepping when gmin stepping fails (default true).
+    pub junction_leak: f64,
+    /// Try junction-leak stepping when plain Newton fails (default true).
+    pub leak_stepping: bool,
+    /// First shunt conductance of junction-leak stepping, S (default 1e-2).
+    pub leak_start: f64,
+    /// Try source stepping when junction-leak stepping fails (default true).
     pub source_stepping: bool,
     /// Time at which the sources are evaluated, s (default 0).
     pub time: f64,
@@ -48,9 +48,9 @@ impl Default for OpParams {
         Self {
             tol: Tolerances::default(),
             max_iter: 100,
-            gmin: 1e-12,
-            gmin_stepping: true,
-            gmin_start: 1e-2,
+            junction_leak: 1e-12,
+            leak_stepping: true,
+            leak_start: 1e-2,
             source_stepping: true,
             time: 0.0,
             wave_scale: 1.0,
@@ -64,8 +64,8 @@ impl Default for OpParams {
 pub enum Strategy {
     /// Plain Newton from the initial guess.
     Newton,
-    /// gmin stepping with this many stages.
-    GminStepping {
+    /// junction-leak stepping with this many stages.
+    LeakStepping {
         /// Stages solved.
         stages: usize,
     },
@@ -94,8 +94,11 @@ pub struct DeviceOp {
     pub element: usize,
     /// Element name.
     pub name: String,
-    /// Named figures from [`tankwave_devices::Device::op_info`] (SI units).
-    pub figures: Vec<(&'static str, f64)>,
+    /// The unknown carrying its branch current, if it has one (voltage
+    /// sources, inductors): see [`tankwave_devices::Device::branch`].
+    pub branch: Option<usize>,
+    /// Figures from [`tankwave_devices::Device::op_info`] (SI units).
+    pub figures: Vec<(OpFigure, f64)>,
 }
 
 /// The operating point.
@@ -112,7 +115,8 @@ pub struct OpResult {
 }
 
 impl OpResult {
-    /// Value of the unknown called `name` (e.g. `v(coll)`).
+    /// Value of the unknown called `name` (e.g. `V[coll]`, see
+    /// [`tankwave_devices::names`]).
     pub fn value(&self, name: &str) -> Option<f64> {
         self.names.iter().position(|n| n == name).map(|k| self.x[k])
     }
@@ -140,6 +144,7 @@ pub fn operating_point(
                     .get(element)
                     .map(|e| e.name.clone())
                     .unwrap_or_default(),
+                branch: d.branch(),
                 figures,
             });
         }
@@ -157,7 +162,7 @@ fn base_ctx(params: &OpParams, dc_scale: f64) -> EvalCtx {
         time: params.time,
         dc_scale,
         wave_scale: params.wave_scale * dc_scale,
-        gmin: params.gmin,
+        junction_leak: params.junction_leak,
         limit: true,
     }
 }
@@ -216,11 +221,11 @@ pub(crate) fn solve_op(
             f
         }
     };
-    // 2. gmin stepping.
-    if params.gmin_stepping {
+    // 2. junction-leak stepping.
+    if params.leak_stepping {
         let mut x = x0.to_vec();
         let mut st = devices.initial_state();
-        let mut g = params.gmin_start;
+        let mut g = params.leak_start;
         let mut stages = 0usize;
         let mut ok = true;
         let mut its = 0usize;
@@ -237,7 +242,7 @@ pub(crate) fn solve_op(
                             NewtonInfo {
                                 iterations: total + its,
                                 residual: c.residual,
-                                strategy: Strategy::GminStepping { stages },
+                                strategy: Strategy::LeakStepping { stages },
                             },
                         ));
                     }
@@ -250,7 +255,7 @@ pub(crate) fn solve_op(
             if !ok {
                 break;
             }
-            g = if g <= params.gmin.max(1e-15) {
+            g = if g <= params.junction_leak.max(1e-15) {
                 0.0
             } else {
                 g / 10.0

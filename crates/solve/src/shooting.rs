@@ -29,11 +29,11 @@
 //! less than tenfold. A warm start from a solved neighbour skips the warm-up
 //! and only takes the coarse `Φ` at its point. Converged on the fine grid when
 //! every `|x_k(T) − x_k(0)|` AND every component of the update is within
-//! `reltol·max_n |x_k| + (vntol | abstol)`
+//! `rel_tolerance·max_n |x_k| + (voltage_floor | current_floor)`
 //! (the update test catches slow modes, whose periodicity error is tiny
 //! while the state is still far from the fixed point).
 
-use crate::newton::unknown_abstol;
+use crate::newton::unknown_floor;
 use crate::steady::{
     terminal_currents_trbdf2, PeriodicSolution, ShootingInfo, SteadyInfo, SteadyParams,
 };
@@ -147,14 +147,14 @@ fn integrate_period(
     })
 }
 
-/// Per-unknown tolerance: `reltol · peak over the period + absolute tolerance`.
+/// Per-unknown tolerance: `rel_tolerance · peak over the period + absolute tolerance`.
 fn scales(devices: &DeviceSet, params: &SteadyParams, run: &PeriodRun) -> Vec<f64> {
     run.samples
         .iter()
         .enumerate()
         .map(|(k, row)| {
             let mag = row.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-            params.shooting.reltol * mag + unknown_abstol(devices, &params.tol, k)
+            params.shooting.rel_tolerance * mag + unknown_floor(devices, &params.tol, k)
         })
         .collect()
 }

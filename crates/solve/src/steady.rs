@@ -11,7 +11,7 @@
 
 use crate::error::When;
 use crate::linalg::LinearSolver;
-use crate::newton::{unknown_abstol, Tolerances};
+use crate::newton::{unknown_floor, Tolerances};
 use crate::transient::Stepper;
 use crate::SolveError;
 use tankwave_circuit::{Analysis, Circuit, SteadyMethod};
@@ -99,14 +99,14 @@ pub struct SettleParams {
     pub max_periods: usize,
     /// Relative tolerance of the period-to-period change, against each
     /// unknown's peak-to-peak range plus its peak magnitude (default 1e-6).
-    pub reltol: f64,
+    pub rel_tolerance: f64,
 }
 
 impl Default for SettleParams {
     fn default() -> Self {
         Self {
             max_periods: 5000,
-            reltol: 1e-6,
+            rel_tolerance: 1e-6,
         }
     }
 }
@@ -128,7 +128,7 @@ pub struct ShootingParams {
     pub coarse_grid: bool,
     /// Relative tolerance of the periodicity error `x(T) − x(0)` against
     /// each unknown's peak magnitude over the period (default 1e-7).
-    pub reltol: f64,
+    pub rel_tolerance: f64,
     /// A warm start: the state at the start of a period from a solved
     /// neighbouring variant (same unknowns). When given (and of the right
     /// length) the warm-up periods are skipped and Newton starts from it.
@@ -141,7 +141,7 @@ impl Default for ShootingParams {
             warmup_periods: 2,
             max_iter: 50,
             coarse_grid: true,
-            reltol: 1e-7,
+            rel_tolerance: 1e-7,
             initial: None,
         }
     }
@@ -384,7 +384,7 @@ const REPEAT_TOLERANCES: f64 = 100.0;
 
 /// Largest change between two periods against the settle tolerance:
 /// (ratio, change, unknown, tolerance, change / (range + peak)), tolerance
-/// `reltol·(range + peak) + abstol`.
+/// `rel_tolerance·(range + peak) + current_floor`.
 fn period_change(
     devices: &DeviceSet,
     params: &SteadyParams,
@@ -399,8 +399,8 @@ fn period_change(
                 (a.min(*v), b.max(*v))
             });
         let mag = lo.abs().max(hi.abs());
-        let tol =
-            params.settle.reltol * ((hi - lo) + mag) + unknown_abstol(devices, &params.tol, k);
+        let tol = params.settle.rel_tolerance * ((hi - lo) + mag)
+            + unknown_floor(devices, &params.tol, k);
         let ch = row
             .iter()
             .zip(old)

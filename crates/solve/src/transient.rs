@@ -12,7 +12,7 @@
 //! Local truncation error, per row of `q`, from divided differences of the
 //! accepted charges (`q''' ≈ 6·q[t₁,t₀,t₋₁,t₋₂]`): trapezoidal `h³q'''/12`,
 //! BDF2 `h₁²(h₁+h₀)² q''' / (6(2h₁+h₀))`, backward Euler `h² q''/2`. A step is
-//! accepted when every row's estimate is within `reltol·max|q_r| + chgtol`
+//! accepted when every row's estimate is within `rel_tolerance·max|q_r| + charge_floor`
 //! (max over the run so far); the next step is `h·clamp(0.9·err^(−1/3), 0.2, 2)`.
 //! Device breakpoints are landed on exactly, and the integration restarts
 //! there (one backward-Euler step of 1e-3 of the output step, then the chosen method).
@@ -40,10 +40,10 @@ pub struct TransientParams {
     /// Relative tolerance of the local truncation error per step, against each
     /// charge's running peak (default 1e-8, chosen so every validation circuit,
     /// the driven resonant RLC included, stays within 1e-4 of its closed form;
-    /// global error scales about as reltol^(2/3)).
-    pub reltol: f64,
+    /// global error scales about as rel_tolerance^(2/3)).
+    pub rel_tolerance: f64,
     /// Absolute tolerance of the local truncation error, C or Wb (default 1e-15).
-    pub chgtol: f64,
+    pub charge_floor: f64,
     /// Newton tolerances per step.
     pub newton: Tolerances,
     /// Newton iterations per step before the step is cut (default 30).
@@ -64,8 +64,8 @@ impl Default for TransientParams {
             max_step: None,
             start: StartFrom::OperatingPoint,
             method: Integration::Trapezoidal,
-            reltol: 1e-8,
-            chgtol: 1e-15,
+            rel_tolerance: 1e-8,
+            charge_floor: 1e-15,
             newton: Tolerances::default(),
             max_newton: 30,
             min_step: None,
@@ -85,7 +85,7 @@ impl TransientParams {
                 max_step,
                 start,
                 method,
-                reltol,
+                reltol: rel_tolerance,
             } => {
                 let d = Self::default();
                 Some(Self {
@@ -94,7 +94,7 @@ impl TransientParams {
                     max_step: *max_step,
                     start: *start,
                     method: *method,
-                    reltol: reltol.unwrap_or(d.reltol),
+                    rel_tolerance: rel_tolerance.unwrap_or(d.rel_tolerance),
                     ..d
                 })
             }
@@ -271,7 +271,7 @@ pub(crate) struct Stepper<'a> {
     pub devices: &'a DeviceSet,
     pub tol: Tolerances,
     pub max_newton: usize,
-    pub gmin: f64,
+    pub junction_leak: f64,
     pub ws: Workspace,
     pub state: Vec<f64>,
     pub t: f64,
@@ -293,7 +293,7 @@ impl<'a> Stepper<'a> {
             devices,
             tol,
             max_newton: 30,
-            gmin: 1e-12,
+            junction_leak: 1e-12,
             ws: Workspace::new(n, lin),
             state: devices.initial_state(),
             t: 0.0,
@@ -328,7 +328,7 @@ impl<'a> Stepper<'a> {
         p: &OpParams,
     ) -> Result<(Self, NewtonInfo), SolveError> {
         let mut s = Self::blank(devices, p.tol, p.linear_solver);
-        s.gmin = p.gmin;
+        s.junction_leak = p.junction_leak;
         let x0 = vec![0.0; devices.n_unknowns];
         let (x, info) = op::solve_op(devices, p, &x0, &mut s.state)?;
         s.init_at(&x, p.time);
@@ -350,7 +350,7 @@ impl<'a> Stepper<'a> {
             time: t,
             dc_scale: 1.0,
             wave_scale: 1.0,
-            gmin: self.gmin,
+            junction_leak: self.junction_leak,
             limit,
         }
     }
@@ -538,8 +538,11 @@ pub fn transient(
     if !(hmax.is_finite() && hmax > 0.0) {
         return bad(format!("max_step must be positive, got {hmax}"));
     }
-    if !(p.reltol > 0.0 && p.reltol < 1.0) {
-        return bad(format!("reltol must be in (0, 1), got {}", p.reltol));
+    if !(p.rel_tolerance > 0.0 && p.rel_tolerance < 1.0) {
+        return bad(format!(
+            "rel_tolerance must be in (0, 1), got {}",
+            p.rel_tolerance
+        ));
     }
     if p.fixed_step && p.stop / hmax.min(p.step) > 1e9 {
         return bad("more than 1e9 fixed steps".into());
@@ -567,7 +570,7 @@ pub fn transient(
         ),
     };
     st.max_newton = p.max_newton;
-    st.gmin = p.op.gmin;
+    st.junction_leak = p.op.junction_leak;
 
     // Breakpoints.
     let mut bps = Vec::new();
@@ -753,7 +756,7 @@ fn lte(seg: &[(f64, Vec<f64>)], a: &Attempt, order: usize, h0: Option<f64>) -> O
 fn worst_ratio(e: &[f64], qmax: &[f64], q1: &[f64], p: &TransientParams) -> (f64, usize) {
     let mut w = (0.0f64, 0usize);
     for r in 0..e.len() {
-        let tol = p.reltol * qmax[r].max(q1[r].abs()) + p.chgtol;
+        let tol = p.rel_tolerance * qmax[r].max(q1[r].abs()) + p.charge_floor;
         let ratio = e[r].abs() / tol;
         if !(ratio <= w.0) {
             w = (ratio, r);

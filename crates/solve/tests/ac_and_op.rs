@@ -42,8 +42,8 @@ fn pi_network_transfer_matches_complex_arithmetic() {
         ..AcParams::default()
     };
     let r = ac(&b.c, &d, &p).unwrap();
-    let kin = r.index("v(in)").unwrap();
-    let kout = r.index("v(out)").unwrap();
+    let kin = r.index("V[in]").unwrap();
+    let kout = r.index("V[out]").unwrap();
     let mut worst = 0.0f64;
     for (fi, &f) in r.freq.iter().enumerate() {
         // Direct complex arithmetic of the ladder driven by 1 V behind RS.
@@ -75,7 +75,7 @@ fn pi_network_gain_and_impedances_match_worked_example() {
         ..AcParams::default()
     };
     let r = ac(&b.c, &d, &p).unwrap();
-    let kout = r.index("v(out)").unwrap();
+    let kout = r.index("V[out]").unwrap();
     for (fi, want) in [0.0, -30.554, -42.518].iter().enumerate() {
         let vout = r.x[fi][kout].norm();
         // P_load / P_available for a 1 V peak source behind RS.
@@ -134,7 +134,7 @@ fn coupled_inductors_approach_the_ideal_transformer_ratio() {
             },
         )
         .unwrap();
-        let ratio = r.x[0][r.index("v(s)").unwrap()] / r.x[0][r.index("v(p)").unwrap()];
+        let ratio = r.x[0][r.index("V[s]").unwrap()] / r.x[0][r.index("V[p]").unwrap()];
         let m = k * (l1 * l2).sqrt();
         let w = 2.0 * std::f64::consts::PI * f;
         let exact = 1.0 / Complex64::new(l1 / m, w * (l1 * l2 - m * m) / (m * rload));
@@ -164,11 +164,11 @@ fn coupled_inductors_approach_the_ideal_transformer_ratio() {
 #[test]
 fn diode_dc_curve_matches_shockley_by_bisection() {
     // W. Shockley, Bell Syst. Tech. J. 28(3), 1949: I = IS (e^(V/(n Vt)) − 1);
-    // the device also puts gmin across the junction, included here.
+    // the device also puts junction_leak across the junction, included here.
     let is = 1e-14;
     let nn = 1.0;
     let r = 1e3;
-    let gmin = OpParams::default().gmin;
+    let junction_leak = OpParams::default().junction_leak;
     let t = 298.15;
     let nvt = nn * vt(t);
     for vsup in [0.2, 0.5, 0.7, 1.0, 2.0, 5.0, 20.0] {
@@ -189,9 +189,9 @@ fn diode_dc_curve_matches_shockley_by_bisection() {
         );
         let d = instantiate(&b.c).unwrap();
         let op = operating_point(&b.c, &d, &OpParams::default()).unwrap();
-        let vd = op.value("v(a)").unwrap();
-        // Bisection on (vsup − v)/r = IS(e^(v/nVt) − 1) + gmin·v.
-        let f = |v: f64| (vsup - v) / r - is * (v / nvt).exp_m1() - gmin * v;
+        let vd = op.value("V[a]").unwrap();
+        // Bisection on (vsup − v)/r = IS(e^(v/nVt) − 1) + junction_leak·v.
+        let f = |v: f64| (vsup - v) / r - is * (v / nvt).exp_m1() - junction_leak * v;
         let (mut lo, mut hi) = (0.0, vsup);
         for _ in 0..200 {
             let mid = 0.5 * (lo + hi);
@@ -206,7 +206,7 @@ fn diode_dc_curve_matches_shockley_by_bisection() {
             "diode at {vsup} V supply: {vd:.9} V vs {vref:.9} V ({} iterations, {:?})",
             op.info.iterations, op.info.strategy
         );
-        // Newton stops within reltol 1e-6 of the update (plus vntol 1e-9 V).
+        // Newton stops within rel_tolerance 1e-6 of the update (plus voltage_floor 1e-9 V).
         assert!((vd - vref).abs() < 1e-6 * vref + 1e-9, "{vd} vs {vref}");
         assert!(
             !op.devices.is_empty(),
@@ -226,7 +226,7 @@ fn floating_node_is_reported_by_name() {
     let e = operating_point(&b.c, &d, &OpParams::default()).unwrap_err();
     let msg = e.to_string();
     eprintln!("{msg}");
-    assert!(msg.contains("v(float)"), "{msg}");
+    assert!(msg.contains("V[float]"), "{msg}");
     assert!(matches!(e, SolveError::Singular { .. }), "{e:?}");
 }
 

@@ -75,7 +75,7 @@ fn cosine_driven_junction_current_matches_bessel_series() {
             ..SteadyParams::default()
         };
         // No junction shunt conductance: the closed form has none.
-        p.balance.gmin = 0.0;
+        p.balance.junction_leak = 0.0;
         let s = steady(&bb.c, &d, &p).unwrap();
         let el = bb.c.elements.iter().position(|e| e.name == "d1").unwrap();
         let i = &s.terminal_currents[el][0];

@@ -43,9 +43,9 @@ fn class_c_stage_balance_matches_shooting() {
     let node =
         |s: &PeriodicSolution, n: &str| s.x[d.names.iter().position(|x| x == n).unwrap()].clone();
     let waves = [
-        ("v(out)", node(&hb, "v(out)"), node(&sh, "v(out)")),
-        ("v(base)", node(&hb, "v(base)"), node(&sh, "v(base)")),
-        ("v(coll)", node(&hb, "v(coll)"), node(&sh, "v(coll)")),
+        ("V[out]", node(&hb, "V[out]"), node(&sh, "V[out]")),
+        ("V[base]", node(&hb, "V[base]"), node(&sh, "V[base]")),
+        ("V[coll]", node(&hb, "V[coll]"), node(&sh, "V[coll]")),
         (
             "collector current",
             hb.terminal_currents[q1][0].clone(),
@@ -104,9 +104,9 @@ fn class_c_stage_obeys_kcl() {
         .flatten()
         .flatten()
         .fold(0.0f64, |m, v| m.max(v.abs()));
-    // Per harmonic the node residual is within reltol·scale + abstol; summed
+    // Per harmonic the node residual is within rel_tolerance·scale + current_floor; summed
     // over 2K+1 harmonics (see balance_diode.rs).
-    let tol = (2 * kmax + 1) as f64 * (p.tol.reltol * ipk + p.tol.abstol);
+    let tol = (2 * kmax + 1) as f64 * (p.tol.rel_tolerance * ipk + p.tol.current_floor);
     let mut worst = 0.0f64;
     for node in 0..d.n_nodes {
         for n in 0..s.samples_per_period {
@@ -154,8 +154,8 @@ fn shooting_warm_start_from_a_neighbour_reaches_the_cold_solution() {
         cold.info.iterations, warm.info.iterations
     );
     assert!(warm.info.iterations < cold.info.iterations);
-    // Each solution is within its stopping test, reltol·peak + vntol
-    // (1e-7·peak + 1e-9 V; currents have the smaller abstol 1e-12 A), of the
+    // Each solution is within its stopping test, rel_tolerance·peak + voltage_floor
+    // (1e-7·peak + 1e-9 V; currents have the smaller current_floor 1e-12 A), of the
     // fixed point; twice that bounds their difference.
     for (k, (a, c)) in warm.x.iter().zip(&cold.x).enumerate() {
         let peak = c.iter().fold(0.0f64, |m, v| m.max(v.abs()));

@@ -140,7 +140,7 @@ fn node_wave(name: &'static str) -> impl Fn(&DeviceSet, &PeriodicSolution) -> Ve
 fn rectifier_balance_matches_shooting() {
     let b = rectifier(F);
     let d1 = element(&b, "d1");
-    let out = node_wave("v(out)");
+    let out = node_wave("V[out]");
     let diode_current =
         move |_: &DeviceSet, s: &PeriodicSolution| s.terminal_currents[d1][0].clone();
     check_against(
@@ -148,14 +148,14 @@ fn rectifier_balance_matches_shooting() {
         &b,
         SteadyMethod::Shooting,
         &[512, 1024],
-        &[("v(out)", &out), ("diode current", &diode_current)],
+        &[("V[out]", &out), ("diode current", &diode_current)],
     );
 }
 
 #[test]
 fn clipper_balance_matches_shooting_and_settle() {
     let b = clipper();
-    let out = node_wave("v(out)");
+    let out = node_wave("V[out]");
     let r1 = element(&b, "r1");
     let current = move |_: &DeviceSet, s: &PeriodicSolution| s.terminal_currents[r1][0].clone();
     check_against(
@@ -163,7 +163,7 @@ fn clipper_balance_matches_shooting_and_settle() {
         &b,
         SteadyMethod::Shooting,
         &[512, 1024],
-        &[("v(out)", &out), ("r1 current", &current)],
+        &[("V[out]", &out), ("r1 current", &current)],
     );
     // Settle: the load time constant is 0.1 µs = T/10, so the plain transient
     // settles in a few periods and its settle tolerance (1e-6 of the range) is
@@ -173,7 +173,7 @@ fn clipper_balance_matches_shooting_and_settle() {
         &b,
         SteadyMethod::Settle,
         &[512, 1024],
-        &[("v(out)", &out)],
+        &[("V[out]", &out)],
     );
 }
 
@@ -186,15 +186,15 @@ fn returned_solution_obeys_kcl_and_is_band_limited() {
     let ns = s.samples_per_period;
     assert!(ns.is_power_of_two() && ns > 2 * kmax);
     // KCL at every node and sample: the residual of every harmonic is within
-    // reltol·scale + abstol of its row, so the sum over 2K+1 harmonics is
-    // within (2K+1)·(reltol·Ipeak + abstol), Ipeak bounding every term of the row.
+    // rel_tolerance·scale + current_floor of its row, so the sum over 2K+1 harmonics is
+    // within (2K+1)·(rel_tolerance·Ipeak + current_floor), Ipeak bounding every term of the row.
     let ipk = s
         .terminal_currents
         .iter()
         .flatten()
         .flatten()
         .fold(0.0f64, |m, v| m.max(v.abs()));
-    let tol = (2 * kmax + 1) as f64 * (p.tol.reltol * ipk + p.tol.abstol);
+    let tol = (2 * kmax + 1) as f64 * (p.tol.rel_tolerance * ipk + p.tol.current_floor);
     let mut worst = 0.0f64;
     for node in 0..d.n_nodes {
         for n in 0..ns {
@@ -214,7 +214,7 @@ fn returned_solution_obeys_kcl_and_is_band_limited() {
     // Tellegen's theorem (follows from KCL; common practice): the mean power
     // delivered by the source equals the mean power absorbed by the others.
     let v = |name: &str| s.x[d.names.iter().position(|x| x == name).unwrap()].clone();
-    let (vin, vout) = (v("v(in)"), v("v(out)"));
+    let (vin, vout) = (v("V[in]"), v("V[out]"));
     let mean = |f: &dyn Fn(usize) -> f64| (0..ns).map(f).sum::<f64>() / ns as f64;
     let tc = &s.terminal_currents;
     let (vs, d1, rl, cl) = (
@@ -270,7 +270,7 @@ fn reduced_and_full_formulations_agree() {
     );
     assert!(ri.reduced && !fi.reduced);
     assert!(ri.ports < fi.ports && fi.ports == d.n_unknowns);
-    // Both converge to the same equations within reltol = 1e-6 of the residual
+    // Both converge to the same equations within rel_tolerance = 1e-6 of the residual
     // scale; the waveforms may differ by that order relative to their peak.
     for u in 0..d.n_unknowns {
         let pk = red.x[u].iter().fold(0.0f64, |m, v| m.max(v.abs()));

@@ -126,7 +126,7 @@ fn pi_network_transducer_gain_is_zero_db_at_design_frequency() {
     let (b, _) = pi_network(0.0, amp);
     let sol = hb(&b, 4, true);
     let d = instantiate(&b.c).unwrap();
-    let k = d.names.iter().position(|s| s == "v(b)").unwrap();
+    let k = d.names.iter().position(|s| s == "V[b]").unwrap();
     let v = 2.0 * coef(&sol.x[k], 1).norm();
     let p_load = v * v / (2.0 * RL);
     let p_avail = amp * amp / (8.0 * RS);
@@ -142,8 +142,8 @@ fn dc_bias_plus_sine_gives_divider_dc_and_ac_fundamental() {
     let acr = ac_at(&b, vs, F0);
     let sol = hb(&b, 8, true);
     let d = instantiate(&b.c).unwrap();
-    let kb = d.names.iter().position(|s| s == "v(b)").unwrap();
-    let ka = d.names.iter().position(|s| s == "v(a)").unwrap();
+    let kb = d.names.iter().position(|s| s == "V[b]").unwrap();
+    let ka = d.names.iter().position(|s| s == "V[a]").unwrap();
     // DC: the inductor shorts a to b, so v(a) = v(b) = dc·(RL‖rb)/(RS + RL‖rb)
     // (voltage divider; common practice).
     let rp = RL * 1e6 / (RL + 1e6);

@@ -72,8 +72,8 @@ fn class_c_shooting_and_settle_agree() {
     let shoot = steady(&b.c, &d, &p).unwrap();
     p.method = SteadyMethod::Settle;
     let set = steady(&b.c, &d, &p).unwrap();
-    let k = d.names.iter().position(|s| s == "v(out)").unwrap();
-    let kc = d.names.iter().position(|s| s == "v(coll)").unwrap();
+    let k = d.names.iter().position(|s| s == "V[out]").unwrap();
+    let kc = d.names.iter().position(|s| s == "V[coll]").unwrap();
     let peak = shoot.x[k].iter().fold(0.0f64, |m, v| m.max(v.abs()));
     let dev = max_diff(&shoot.x[k], &set.x[k]);
     let vc_max = shoot.x[kc].iter().fold(f64::MIN, |m, v| m.max(*v));
@@ -98,7 +98,7 @@ fn class_c_shooting_and_settle_agree() {
         .fold(0.0, f64::max);
     eprintln!("KCL at q1: worst |ic + ib + ie| = {worst:.3e} A of {icmax:.3e} A");
     // The terminal currents use the integrator's own dq/dt, so KCL at the
-    // internal base node holds to the Newton tolerance (reltol 1e-6 on each
+    // internal base node holds to the Newton tolerance (rel_tolerance 1e-6 on each
     // equation's terms); allow 1e-6 of the peak.
     assert!(worst <= 1e-6 * icmax, "{worst}");
     // Class C: the collector conducts for part of the cycle only.

@@ -41,8 +41,8 @@ fn tank(t_off: f64) -> B {
 }
 
 fn energy(r: &TransientResult, s: usize) -> f64 {
-    let v = r.x[s][r.index("v(t)").unwrap()];
-    let i = r.x[s][r.index("i(l1)").unwrap()];
+    let v = r.x[s][r.index("V[t]").unwrap()];
+    let i = r.x[s][r.index("I[l1]").unwrap()];
     0.5 * C * v * v + 0.5 * L * i * i
 }
 
@@ -56,7 +56,7 @@ fn trapezoidal_keeps_tank_energy_over_1000_periods() {
         stop: 1000.0 * period + t_off,
         step: period / 20.0,
         method: Integration::Trapezoidal,
-        reltol: 1e-4,
+        rel_tolerance: 1e-4,
         ..TransientParams::default()
     };
     let r = transient(&b.c, &d, &p).unwrap();

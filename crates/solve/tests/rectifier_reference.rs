@@ -1,6 +1,6 @@
 //! Half-wave rectifier with an RC load against a scipy reference
 //! (tests/reference/solve/rectifier.py: solve_ivp Radau, rtol 1e-11, the
-//! Shockley diode with the solver's gmin; data committed as rectifier.csv).
+//! Shockley diode with the solver's junction_leak; data committed as rectifier.csv).
 
 mod support;
 use support::*;
@@ -66,7 +66,7 @@ fn half_wave_rectifier_matches_radau_reference() {
             ..TransientParams::default()
         };
         let r = transient(&b.c, &d, &p).unwrap();
-        let k = r.index("v(out)").unwrap();
+        let k = r.index("V[out]").unwrap();
         let on_grid = r.resample(&tr);
         let err = on_grid
             .iter()

@@ -1,5 +1,5 @@
 //! Solver options that must not change answers: the sparse LU path, the op
-//! fallbacks (gmin and source stepping), transient resampling, and error
+//! fallbacks (junction_leak and source stepping), transient resampling, and error
 //! reporting for bad parameters.
 
 mod support;
@@ -72,7 +72,7 @@ fn sparse_and_dense_lu_give_the_same_operating_point_and_transient() {
     p.op.linear_solver = LinearSolver::Sparse;
     let s = transient(&rc.c, &dr, &p).unwrap();
     assert_eq!(a.time.len(), s.time.len());
-    let k = a.index("v(out)").unwrap();
+    let k = a.index("V[out]").unwrap();
     let dev =
         a.x.iter()
             .zip(&s.x)
@@ -101,13 +101,13 @@ fn op_fallbacks_reach_the_plain_newton_answer() {
     assert!(plain.info.iterations > 4);
     assert_ne!(r.info.strategy, Strategy::Newton);
     for (a, s) in plain.x.iter().zip(&r.x) {
-        // Both converged to Newton tolerance (reltol 1e-6).
+        // Both converged to Newton tolerance (rel_tolerance 1e-6).
         assert!((a - s).abs() <= 4e-6 * a.abs().max(1e-3), "{a} vs {s}");
     }
     // Source stepping alone.
     let src = OpParams {
         max_iter: 4,
-        gmin_stepping: false,
+        leak_stepping: false,
         ..OpParams::default()
     };
     let r2 = operating_point(&b.c, &d, &src).unwrap();
@@ -115,7 +115,7 @@ fn op_fallbacks_reach_the_plain_newton_answer() {
     // Nothing allowed: the error names an unknown and the iteration count.
     let none = OpParams {
         max_iter: 4,
-        gmin_stepping: false,
+        leak_stepping: false,
         source_stepping: false,
         ..OpParams::default()
     };
@@ -152,7 +152,7 @@ fn resampling_a_smooth_waveform_is_accurate() {
     .unwrap();
     let (t, v) = r.uniform(tau / 100.0);
     assert_eq!(t.len(), 301);
-    let k = r.index("v(out)").unwrap();
+    let k = r.index("V[out]").unwrap();
     let e = t
         .iter()
         .zip(&v)
@@ -179,7 +179,7 @@ fn bad_transient_parameters_are_refused() {
             ..TransientParams::default()
         },
         TransientParams {
-            reltol: 2.0,
+            rel_tolerance: 2.0,
             ..TransientParams::default()
         },
     ] {
@@ -233,6 +233,6 @@ fn shooting_with_sparse_lu_matches_dense() {
             .map(|(x, y)| (x - y).abs())
             .fold(0.0, f64::max);
     // Same equations and Newton path; only rounding in the factorisations differs
-    // (Newton stops within reltol 1e-6, so allow 1e-7 V on volt-level signals).
+    // (Newton stops within rel_tolerance 1e-6, so allow 1e-7 V on volt-level signals).
     assert!(dev < 1e-7, "{dev}");
 }

@@ -62,7 +62,7 @@ fn compare(sol: &PeriodicSolution, k: usize, h: Complex64) -> f64 {
 fn shooting_rlc_matches_phasor_analysis() {
     let b = rlc();
     let d = instantiate(&b.c).unwrap();
-    let k = d.names.iter().position(|s| s == "v(out)").unwrap();
+    let k = d.names.iter().position(|s| s == "V[out]").unwrap();
     let w = 2.0 * std::f64::consts::PI * F;
     let peak = phasor(w).norm() * AMP;
     let mut errs = Vec::new();
@@ -84,7 +84,7 @@ fn shooting_rlc_matches_phasor_analysis() {
         assert!(sol.info.iterations <= 2, "{:?}", sol.info);
         // The default two-grid iteration (coarse Newton, fine chord steps)
         // reaches the same fixed point: each solution is within its stopping
-        // test, reltol·peak + vntol = 1e-7·peak + 1e-9 V, of the fixed point
+        // test, rel_tolerance·peak + voltage_floor = 1e-7·peak + 1e-9 V, of the fixed point
         // (the chord steps contract about a hundredfold, so the distance left
         // after the last update is below that update); twice that bounds the
         // difference.
@@ -147,7 +147,7 @@ fn settle_rlc_agrees_with_shooting() {
     let shoot = steady(&b.c, &d, &params).unwrap();
     params.method = SteadyMethod::Settle;
     let set = steady(&b.c, &d, &params).unwrap();
-    let k = d.names.iter().position(|s| s == "v(out)").unwrap();
+    let k = d.names.iter().position(|s| s == "V[out]").unwrap();
     let dev = max_diff(&shoot.x[k], &set.x[k]);
     eprintln!(
         "settle RLC: {} periods; max difference from shooting {dev:.3e} V",
@@ -174,7 +174,7 @@ fn shooting_and_settle_agree_on_a_diode_rectifier() {
     let shoot = steady(&b.c, &d, &params).unwrap();
     params.method = SteadyMethod::Settle;
     let set = steady(&b.c, &d, &params).unwrap();
-    let k = d.names.iter().position(|s| s == "v(out)").unwrap();
+    let k = d.names.iter().position(|s| s == "V[out]").unwrap();
     let mean = shoot.x[k].iter().sum::<f64>() / shoot.x[k].len() as f64;
     let dev = max_diff(&shoot.x[k], &set.x[k]);
     eprintln!(

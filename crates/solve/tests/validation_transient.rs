@@ -46,7 +46,7 @@ fn rc_step_response_matches_closed_form() {
     b.cap("c1", "out", "gnd", c);
     for m in [Integration::Trapezoidal, Integration::Bdf2] {
         let res = run(&b, &params(5.0 * tau, tau / 20.0, m));
-        let k = res.index("v(out)").unwrap();
+        let k = res.index("V[out]").unwrap();
         let e = max_err(&res, k, |t| v * (1.0 - (-t / tau).exp())) / v;
         eprintln!(
             "RC {m:?}: max error {e:.3e} of V over {} steps",
@@ -68,7 +68,7 @@ fn rl_step_response_matches_closed_form() {
     b.ind("l1", "mid", "gnd", l, 0.0);
     for m in [Integration::Trapezoidal, Integration::Bdf2] {
         let res = run(&b, &params(5.0 * tau, tau / 20.0, m));
-        let k = res.index("i(l1)").unwrap();
+        let k = res.index("I[l1]").unwrap();
         let e = max_err(&res, k, |t| v / r * (1.0 - (-t / tau).exp())) / (v / r);
         eprintln!(
             "RL {m:?}: max error {e:.3e} of V/R over {} steps",
@@ -94,7 +94,7 @@ fn underdamped_series_rlc_step_matches_closed_form() {
     let period = 2.0 * std::f64::consts::PI / wd;
     for m in [Integration::Trapezoidal, Integration::Bdf2] {
         let res = run(&b, &params(5.0 * period, period / 50.0, m));
-        let k = res.index("v(out)").unwrap();
+        let k = res.index("V[out]").unwrap();
         let e = max_err(&res, k, |t| {
             v * (1.0 - (-alpha * t).exp() * ((wd * t).cos() + alpha / wd * (wd * t).sin()))
         }) / v;
@@ -121,7 +121,7 @@ fn trapezoidal_rule_converges_at_second_order() {
         let mut p = params(2.0 * tau, h, Integration::Trapezoidal);
         p.fixed_step = true;
         let res = run(&b, &p);
-        let k = res.index("v(out)").unwrap();
+        let k = res.index("V[out]").unwrap();
         errs.push(max_err(&res, k, |t| v * (1.0 - (-t / tau).exp())));
     }
     eprintln!("trapezoidal fixed-step errors: {errs:?}");
@@ -176,7 +176,7 @@ fn sine_driven_rlc_settles_to_the_phasor_solution() {
             ..TransientParams::default()
         };
         let res = run(&b, &p);
-        let k = res.index("v(out)").unwrap();
+        let k = res.index("V[out]").unwrap();
         let grid: Vec<f64> = (0..=100)
             .map(|i| 39.0 * period + i as f64 * period / 100.0)
             .collect();
@@ -197,19 +197,19 @@ fn sine_driven_rlc_settles_to_the_phasor_solution() {
     // responds as at ω(1 + (ωh)²/12), BDF2 as at ω(1 + (ωh)²/3) (from their
     // error constants, h³/12 and 2h³/9 on q per step; common practice). Near
     // resonance a relative frequency error δ moves the response by about 2Q·δ.
-    // The step is set by the truncation-error tolerance: (ωh)³/12 = reltol for
-    // the trapezoidal rule, (2/9)(ωh)³ = reltol for BDF2. So the expected
-    // errors are 2Q(12·reltol)^(2/3)/12 and 2Q(4.5·reltol)^(2/3)/3: 1.18e-4 and
-    // 2.46e-4 at reltol 1e-7, because Q ≈ 6.3 amplifies them; hence the default
-    // reltol 1e-8, where they are 2.5e-5 and 5.3e-5. The accuracy target is
+    // The step is set by the truncation-error tolerance: (ωh)³/12 = rel_tolerance for
+    // the trapezoidal rule, (2/9)(ωh)³ = rel_tolerance for BDF2. So the expected
+    // errors are 2Q(12·rel_tolerance)^(2/3)/12 and 2Q(4.5·rel_tolerance)^(2/3)/3: 1.18e-4 and
+    // 2.46e-4 at rel_tolerance 1e-7, because Q ≈ 6.3 amplifies them; hence the default
+    // rel_tolerance 1e-8, where they are 2.5e-5 and 5.3e-5. The accuracy target is
     // 1e-4 relative at the default tolerances. The model is first order (error
     // constants only; it leaves out the start-up remainder and the resampling
     // onto the check grid), so it is checked to within a factor of 2 in both
     // directions: the measured error must follow it, not merely stay small.
     let q = w * l / r;
-    let reltol = TransientParams::default().reltol;
-    let expect_trap = 2.0 * q * (12.0 * reltol).powf(2.0 / 3.0) / 12.0;
-    let expect_bdf2 = 2.0 * q * (4.5 * reltol).powf(2.0 / 3.0) / 3.0;
+    let rel_tolerance = TransientParams::default().rel_tolerance;
+    let expect_trap = 2.0 * q * (12.0 * rel_tolerance).powf(2.0 / 3.0) / 12.0;
+    let expect_bdf2 = 2.0 * q * (4.5 * rel_tolerance).powf(2.0 / 3.0) / 3.0;
     eprintln!("expected {expect_trap:.3e} (trapezoidal), {expect_bdf2:.3e} (BDF2)");
     for (e, x) in [(errs[0], expect_trap), (errs[1], expect_bdf2)] {
         assert!(e < 1e-4, "error {e:.3e} above the 1e-4 target");

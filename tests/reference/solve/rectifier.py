@@ -2,8 +2,8 @@
 
 Circuit (all values invented for this check):
     vs: 10 V peak, 1 kHz sine from 0 at t = 0 (no source resistance)
-    d1: junction diode, I = IS*(exp(V/(n*Vt)) - 1) + gmin*V (W. Shockley,
-        Bell Syst. Tech. J. 28(3), 1949; gmin is the solver's junction
+    d1: junction diode, I = IS*(exp(V/(n*Vt)) - 1) + junction_leak*V (W. Shockley,
+        Bell Syst. Tech. J. 28(3), 1949; junction_leak is the solver's junction
         conductance, 1e-12 S), IS = 1e-14 A, n = 1, at 298.15 K
     load: R = 1 kOhm parallel C = 10 uF from the cathode to ground
 
@@ -25,18 +25,18 @@ T = 298.15
 VT = K_B * T / Q_E
 IS = 1e-14
 N = 1.0
-GMIN = 1e-12
+JUNCTION_LEAK = 1e-12
 AMP, FREQ = 10.0, 1e3
 R, C = 1e3, 10e-6
 STOP, DT = 5e-3, 1e-6
 
 
 def diode(u):
-    return IS * np.expm1(u / (N * VT)) + GMIN * u
+    return IS * np.expm1(u / (N * VT)) + JUNCTION_LEAK * u
 
 
 def ddiode(u):
-    return IS / (N * VT) * np.exp(u / (N * VT)) + GMIN
+    return IS / (N * VT) * np.exp(u / (N * VT)) + JUNCTION_LEAK
 
 
 def f(t, y):

@@ -185,7 +185,7 @@ pub fn period_plot(
     ];
     if let Some((name, v)) = &out {
         qs.push(Q {
-            name: format!("v({name})"),
+            name: tankwave_devices::names::element_voltage(name),
             unit: "V",
             wave: closed(v),
             extra: None,

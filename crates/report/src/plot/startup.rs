@@ -104,7 +104,13 @@ pub fn startup_plot(
     }
     let at = |row: &Vec<f64>, n: Option<usize>| n.and_then(|k| row.get(k).copied()).unwrap_or(0.0);
     let v: Vec<f64> = tr.x.iter().map(|row| at(row, a) - at(row, b)).collect();
-    startup_plot_series(&tr.time, &v, freq_hz, &format!("v({})", el.name), p)
+    startup_plot_series(
+        &tr.time,
+        &v,
+        freq_hz,
+        &tankwave_devices::names::element_voltage(&el.name),
+        p,
+    )
 }
 
 /// The start-up plot from plain data: `v` against `time` (seconds), labelled

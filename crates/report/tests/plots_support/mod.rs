@@ -272,10 +272,10 @@ pub fn startup_run() -> (Circuit, TransientResult) {
         .collect();
     let tr = TransientResult {
         names: vec![
-            "v(vcc)".into(),
-            "v(col)".into(),
-            "v(base)".into(),
-            "v(out)".into(),
+            "V[vcc]".into(),
+            "V[col]".into(),
+            "V[base]".into(),
+            "V[out]".into(),
         ],
         time,
         x,
@@ -306,12 +306,12 @@ pub fn ac_result() -> AcResult {
         .collect();
     AcResult {
         freq,
-        names: vec!["v(in)".into(), "v(out)".into()],
+        names: vec!["V[in]".into(), "V[out]".into()],
         x,
         impedance: None,
         op: OpResult {
             x: vec![0.0, 0.0],
-            names: vec!["v(in)".into(), "v(out)".into()],
+            names: vec!["V[in]".into(), "V[out]".into()],
             info: NewtonInfo {
                 iterations: 1,
                 residual: 0.0,
