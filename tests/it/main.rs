@@ -2,7 +2,8 @@
 //! `bad_input`), agreement of the steady-state methods on every demo stage
 //! (`agreement`), the convergence sweep over the class-C demo
 //! (`convergence`), and a bounded solve of random small circuits
-//! (`fuzz_smoke`). Data lives under tests/data/.
+//! (`fuzz_smoke`), and hostile input from strangers (`hostile`). Data
+//! lives under tests/data/.
 
 mod agreement;
 mod bad_input;
@@ -10,4 +11,5 @@ mod cli;
 mod convergence;
 mod fuzz_smoke;
 mod harness;
+mod hostile;
 mod trade;

@@ -310,9 +310,9 @@ impl State {
                 // stage file (a system file, say): say so, and show none of
                 // its content.
                 let new_errors = self.diags[diags_before..].iter().any(|d| d.is_error());
-                let read_any = self.stmts.len() > stmts_before || self.broken.len() > broken_before;
-                if new_errors && !read_any {
+                if new_errors && self.stmts.len() == stmts_before {
                     self.diags.truncate(diags_before);
+                    self.broken.truncate(broken_before);
                     let d = self.map.error(
                         "include-not-stage",
                         span,
