@@ -265,3 +265,25 @@ fn threads_far_beyond_the_cores_are_refused() {
     assert_eq!(code(&o), BAD_INPUT, "{}", stderr(&o));
     assert!(stderr(&o).contains("--threads"), "{}", stderr(&o));
 }
+
+/// `check` on a stage whose `require efficiency` must fail with the cause named.
+fn efficiency_fails(file: &str, cause: &str) {
+    let o = run(&["check", p(&data(file))]);
+    let out = stdout(&o);
+    assert_eq!(code(&o), 1, "{out}{}", stderr(&o));
+    assert!(out.contains("FAIL: 0 of 1"), "{out}");
+    assert!(out.contains(cause), "{out}");
+}
+
+#[test]
+fn efficiency_fed_through_from_the_drive_fails() {
+    // the load takes 10 mW from the drive against 1 mW from the supply:
+    // today's code passed this at 1000 %
+    efficiency_fails("hostile/efficiency_feedthrough.tank", "feeds through");
+}
+
+#[test]
+fn efficiency_with_an_idle_supply_fails() {
+    // 1 pW of supply power, under the 1 uW floor (passed at 1e12 % before)
+    efficiency_fails("hostile/efficiency_idle_supply.tank", "below the floor");
+}

@@ -476,6 +476,32 @@ pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic
     toks
 }
 
+/// Push a diagnostic unless [`crate::LIMITS`]`.max_diagnostics_collected`
+/// are already held (the lexer then only carries on to the end of the file).
+fn push_capped(diags: &mut Vec<Diagnostic>, d: Diagnostic) {
+    if diags.len() < crate::LIMITS.max_diagnostics_collected {
+        diags.push(d);
+    }
+}
+
+/// Number of characters in `s`.
+fn rest_len_chars(s: &str) -> usize {
+    s.chars().count()
+}
+
+/// Byte length of the run of characters at the start of `rest` that cannot
+/// start any token: a run of junk (a file of NUL bytes, say) is one token
+/// and one diagnostic, not one per byte.
+fn bad_run_len(rest: &str) -> usize {
+    rest.char_indices()
+        .find(|&(_, ch)| {
+            ch.is_alphanumeric() || ch.is_whitespace() || "()[]{}=,+-*/^<>\"#.'_".contains(ch)
+        })
+        .map(|(i, _)| i)
+        .unwrap_or(rest.len())
+        .max(rest.chars().next().map(char::len_utf8).unwrap_or(1))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -539,30 +565,4 @@ mod tests {
         assert_eq!((d[0].line, d[0].column), (1, 13));
         assert!(k.contains(&TokKind::Ident("resistor".into())));
     }
-}
-
-/// Push a diagnostic unless [`crate::LIMITS`]`.max_diagnostics_collected`
-/// are already held (the lexer then only carries on to the end of the file).
-fn push_capped(diags: &mut Vec<Diagnostic>, d: Diagnostic) {
-    if diags.len() < crate::LIMITS.max_diagnostics_collected {
-        diags.push(d);
-    }
-}
-
-/// Number of characters in `s`.
-fn rest_len_chars(s: &str) -> usize {
-    s.chars().count()
-}
-
-/// Byte length of the run of characters at the start of `rest` that cannot
-/// start any token: a run of junk (a file of NUL bytes, say) is one token
-/// and one diagnostic, not one per byte.
-fn bad_run_len(rest: &str) -> usize {
-    rest.char_indices()
-        .find(|&(_, ch)| {
-            ch.is_alphanumeric() || ch.is_whitespace() || "()[]{}=,+-*/^<>\"#.'_".contains(ch)
-        })
-        .map(|(i, _)| i)
-        .unwrap_or(rest.len())
-        .max(rest.chars().next().map(char::len_utf8).unwrap_or(1))
 }
