@@ -30,7 +30,8 @@ pub struct CheckArgs {
     #[arg(long, value_name = "FILE")]
     pub junit: Option<PathBuf>,
     /// Write SVG plots of each file (period waveforms, spectrum against the
-    /// mask) to DIR/STEM/, STEM being the file name without extension.
+    /// mask) to DIR/STEM-HASH/, STEM being the file name without extension
+    /// and HASH 8 hex digits of the SHA-256 of its canonical path (docs/security.md).
     #[arg(long, value_name = "DIR")]
     pub plots: Option<PathBuf>,
     /// Override a `let` parameter in every file, e.g. `--set vcc=12V` (repeatable).

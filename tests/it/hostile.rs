@@ -287,3 +287,26 @@ fn efficiency_with_an_idle_supply_fails() {
     // 1 pW of supply power, under the 1 uW floor (passed at 1e12 % before)
     efficiency_fails("hostile/efficiency_idle_supply.tank", "below the floor");
 }
+
+#[test]
+fn two_stage_files_of_the_same_name_keep_their_own_plots() {
+    let dir = tempfile::tempdir().unwrap();
+    let (a, b) = (dir.path().join("a"), dir.path().join("b"));
+    let plots = dir.path().join("plots");
+    for d in [&a, &b, &plots] {
+        fs::create_dir(d).unwrap();
+    }
+    fs::copy(data("check/pass.tank"), a.join("stage.tank")).unwrap();
+    fs::copy(data("check/pass.tank"), b.join("stage.tank")).unwrap();
+    let o = run(&[
+        "check",
+        p(&a.join("stage.tank")),
+        p(&b.join("stage.tank")),
+        "--plots",
+        p(&plots),
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let subs = names(&plots);
+    assert_eq!(subs.len(), 2, "{subs:?}");
+    assert!(subs.iter().all(|s| s.starts_with("stage-")), "{subs:?}");
+}
