@@ -310,7 +310,11 @@ impl State {
                 // stage file (a system file, say): say so, and show none of
                 // its content.
                 let new_errors = self.diags[diags_before..].iter().any(|d| d.is_error());
-                if new_errors && self.stmts.len() == stmts_before {
+                // (errors of its own includes are shown as they are)
+                let nested = self.diags[diags_before..]
+                    .iter()
+                    .any(|d| d.code.starts_with("include-"));
+                if new_errors && !nested && self.stmts.len() == stmts_before {
                     self.diags.truncate(diags_before);
                     self.broken.truncate(broken_before);
                     let d = self.map.error(
