@@ -25,6 +25,11 @@ and can cause RF burns; transmit only as your licence and local rules allow.";
 struct Cli {
     #[command(subcommand)]
     command: Command,
+    /// Also allow `include`s from under DIR (repeatable). By default an
+    /// include must lie under the directory of the stage file named on the
+    /// command line or its parents up to the enclosing repository root.
+    #[arg(long = "include-root", value_name = "DIR", global = true)]
+    include_roots: Vec<std::path::PathBuf>,
 }
 
 #[derive(Subcommand, Debug)]
@@ -64,6 +69,7 @@ fn main() -> ExitCode {
             return ExitCode::from(code);
         }
     };
+    pipeline::set_include_roots(cli.include_roots.clone());
     let code = match cli.command {
         Command::Lint(a) => cmd::lint::run(&a),
         Command::Run(a) => cmd::run::run(&a),

@@ -3,8 +3,8 @@
 //! steady state and evaluate the requirements, into the
 //! [`StageResults`] that tankwave-report shows. Nothing here prints.
 
-use std::path::Path;
-use std::sync::Arc;
+use std::path::{Path, PathBuf};
+use std::sync::{Arc, OnceLock};
 
 use tankwave_circuit::{Analysis, Circuit, Overrides};
 use tankwave_devices::DeviceSet;
@@ -38,9 +38,31 @@ pub enum Failure {
     Setup(String),
 }
 
+/// The include roots given with `--include-root`.
+static INCLUDE_ROOTS: OnceLock<Vec<PathBuf>> = OnceLock::new();
+
+/// Record the `--include-root` directories (once, at start-up).
+pub fn set_include_roots(roots: Vec<PathBuf>) {
+    let _ = INCLUDE_ROOTS.set(roots);
+}
+
+/// Parse the stage file at `path`, includes confined to its default roots
+/// and those given with `--include-root`.
+pub fn parse(path: &Path) -> tankwave_netlist::Parsed {
+    let roots = INCLUDE_ROOTS.get().map(Vec::as_slice).unwrap_or(&[]);
+    tankwave_netlist::parse_file_with_roots(path, roots)
+}
+
+/// Every file `path` reads (itself and its includes), for the output checks.
+pub fn input_files(path: &Path) -> Vec<PathBuf> {
+    let mut files = parse(path).files_read;
+    files.push(path.to_path_buf());
+    files
+}
+
 /// Parse and elaborate `path` with `overrides`.
 pub fn load(path: &Path, overrides: &Overrides) -> Result<Loaded, Failure> {
-    let parsed = tankwave_netlist::parse_file(path);
+    let parsed = parse(path);
     if let Some(m) = empty_file(&parsed) {
         return Err(Failure::Setup(m));
     }

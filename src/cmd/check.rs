@@ -30,7 +30,8 @@ pub struct CheckArgs {
     #[arg(long, value_name = "FILE")]
     pub junit: Option<PathBuf>,
     /// Write SVG plots of each file (period waveforms, spectrum against the
-    /// mask) to DIR/STEM/, STEM being the file name without extension.
+    /// mask) to DIR/STEM-HASH/, STEM being the file name without extension
+    /// and HASH 8 hex digits of the SHA-256 of its canonical path (docs/security.md).
     #[arg(long, value_name = "DIR")]
     pub plots: Option<PathBuf>,
     /// Override a `let` parameter in every file, e.g. `--set vcc=12V` (repeatable).
@@ -52,10 +53,19 @@ pub fn run(a: &CheckArgs) -> i32 {
         if !dir.is_dir() {
             eprintln!(
                 "error: plot directory '{}' does not exist or is not a directory",
-                dir.display()
+                common::esc(&dir.display().to_string())
             );
             return BAD_INPUT;
         }
+    }
+    let mut inputs = tankwave_report::outputs::Inputs::default();
+    for f in &a.files {
+        inputs.add(&pipeline::input_files(f));
+    }
+    let dirs: Vec<&std::path::Path> = a.plots.iter().map(PathBuf::as_path).collect();
+    let junit: Vec<PathBuf> = a.junit.iter().cloned().collect();
+    if let Err(code) = common::check_outputs(&junit, &dirs, &inputs) {
+        return code;
     }
     let mut plot_files: Vec<(PathBuf, Vec<u8>)> = Vec::new();
     let mut outcomes = Vec::new();
@@ -76,7 +86,11 @@ pub fn run(a: &CheckArgs) -> i32 {
                             .file_stem()
                             .map(|s| s.to_string_lossy().to_string())
                             .unwrap_or_else(|| "stage".into());
-                        let sub = dir.join(stem);
+                        let canon = std::fs::canonicalize(f).unwrap_or_else(|_| f.clone());
+                        let sub = dir.join(tankwave_report::outputs::plot_subdir(
+                            &stem,
+                            &canon.to_string_lossy(),
+                        ));
                         let drawn = tankwave_report::assemble::stage_plots(&name, &l.circuit, &r);
                         let files = visual::drawn_files(Some(&sub), &drawn);
                         if !files.is_empty() {
@@ -104,16 +118,17 @@ pub fn run(a: &CheckArgs) -> i32 {
         });
     }
     match a.format {
-        Format::Table => print!("{}", tankwave_report::check::check_text(&outcomes)),
+        Format::Table => common::show(&tankwave_report::check::check_text(&outcomes)),
         Format::Json => {
             let doc = tankwave_report::check::check_json(&visual::tool(), &outcomes);
-            println!(
-                "{}",
-                serde_json::to_string_pretty(&doc).unwrap_or_else(|_| "{}".into())
-            );
+            common::show_json(&serde_json::to_string_pretty(&doc).unwrap_or_else(|_| "{}".into()));
         }
     }
     if !plot_files.is_empty() {
+        let paths: Vec<PathBuf> = plot_files.iter().map(|(p, _)| p.clone()).collect();
+        if let Err(code) = common::check_outputs(&paths, &[], &inputs) {
+            return code;
+        }
         if let Err(e) = tankwave_report::files::write_all_atomic(&plot_files) {
             eprintln!("error: {e}");
             return BAD_INPUT;

@@ -31,6 +31,38 @@ pub fn overrides(sets: &[String]) -> Result<Overrides, String> {
     })
 }
 
+/// Print text for a person on stdout, with control characters from the
+/// input (a title, a name) escaped.
+pub fn show(text: &str) {
+    print!("{}", tankwave_netlist::escape::escape(text));
+}
+
+/// Print a JSON document on stdout (one line feed after it), with the
+/// control characters serde leaves raw escaped.
+pub fn show_json(doc: &str) {
+    println!("{}", tankwave_netlist::escape::escape_json(doc));
+}
+
+/// Refuse, before any work, output paths that could destroy an input or
+/// replace something that is not a regular file; the message on stderr.
+pub fn check_outputs(
+    files: &[std::path::PathBuf],
+    dirs: &[&std::path::Path],
+    inputs: &tankwave_report::outputs::Inputs,
+) -> Result<(), i32> {
+    for d in dirs {
+        if let Err(e) = tankwave_report::files::check_writable_dir(d) {
+            eprintln!("error: output directory: {e}");
+            return Err(BAD_INPUT);
+        }
+    }
+    if let Err(e) = tankwave_report::outputs::check_output_files(files, inputs) {
+        eprintln!("error: {e}");
+        return Err(BAD_INPUT);
+    }
+    Ok(())
+}
+
 /// Print a failure to stderr and return its exit code.
 pub fn report_failure(file: &str, f: &Failure) -> i32 {
     match f {
@@ -42,14 +74,19 @@ pub fn report_failure(file: &str, f: &Failure) -> i32 {
             BAD_INPUT
         }
         Failure::Setup(m) => {
-            eprintln!("error: {file}: {m}");
+            eprintln!("error: {}: {}", esc(file), esc(m));
             BAD_INPUT
         }
         Failure::Solve(m) => {
-            eprintln!("error: {file}: solver failed: {m}");
+            eprintln!("error: {}: solver failed: {}", esc(file), esc(m));
             SOLVER
         }
     }
+}
+
+/// Text made safe for the terminal.
+pub fn esc(s: &str) -> std::borrow::Cow<'_, str> {
+    tankwave_netlist::escape::escape(s)
 }
 
 /// Parse one value as written on the command line: a number, an optional SI

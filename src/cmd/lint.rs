@@ -38,16 +38,16 @@ pub fn run(a: &LintArgs) -> i32 {
 pub fn lint_files(files: &[PathBuf], overrides: &Overrides) -> i32 {
     let mut code = OK;
     for f in files {
-        let parsed = tankwave_netlist::parse_file(f);
+        let parsed = crate::pipeline::parse(f);
         if let Some(m) = crate::pipeline::empty_file(&parsed) {
-            eprintln!("error: {}: {m}", f.display());
+            eprintln!("error: {}: {m}", common::esc(&f.display().to_string()));
             code = BAD_INPUT;
             continue;
         }
         match tankwave_circuit::elaborate(&parsed, overrides) {
             Ok(e) => {
                 let file = f.display().to_string();
-                print!("{}", stage_overview(&file, &e.circuit, e.warnings.len()));
+                common::show(&stage_overview(&file, &e.circuit, e.warnings.len()));
                 if !e.warnings.is_empty() {
                     eprint!("{}", crate::diag::render(&e.warnings, &parsed.sources));
                 }
@@ -57,7 +57,7 @@ pub fn lint_files(files: &[PathBuf], overrides: &Overrides) -> i32 {
                 eprint!("{}", crate::diag::render(&diags, &parsed.sources));
                 eprintln!(
                     "{}: {errors} error(s); nothing is simulated from a file with errors\n",
-                    f.display()
+                    common::esc(&f.display().to_string())
                 );
                 code = BAD_INPUT;
             }

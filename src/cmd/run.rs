@@ -60,7 +60,7 @@ pub fn run(a: &RunArgs) -> i32 {
         if !dir.is_dir() {
             eprintln!(
                 "error: output directory '{}' does not exist or is not a directory",
-                dir.display()
+                common::esc(&dir.display().to_string())
             );
             return BAD_INPUT;
         }
@@ -69,6 +69,19 @@ pub fn run(a: &RunArgs) -> i32 {
         Ok(l) => l,
         Err(f) => return common::report_failure(&file, &f),
     };
+    let inputs = tankwave_report::outputs::Inputs::new(&pipeline::input_files(&a.file));
+    let mut out_files: Vec<PathBuf> = a.report.iter().cloned().collect();
+    if let Some(dir) = &a.out {
+        out_files.extend(out_file_names(&loaded.circuit).iter().map(|n| dir.join(n)));
+    }
+    let dirs: Vec<&std::path::Path> = [&a.out, &a.plots]
+        .into_iter()
+        .flatten()
+        .map(PathBuf::as_path)
+        .collect();
+    if let Err(code) = common::check_outputs(&out_files, &dirs, &inputs) {
+        return code;
+    }
     if !loaded.warnings.is_empty() {
         eprint!("{}", crate::diag::render(&loaded.warnings, &loaded.sources));
     }
@@ -79,18 +92,17 @@ pub fn run(a: &RunArgs) -> i32 {
     };
     let doc = assemble::results_json(&visual::tool(), &file, c, &res);
     match a.format {
-        Format::Table => print!("{}", assemble::results_text(&file, c, &res, a.verbose)),
-        Format::Json => println!(
-            "{}",
-            serde_json::to_string_pretty(&doc).unwrap_or_else(|_| "{}".into())
-        ),
+        Format::Table => common::show(&assemble::results_text(&file, c, &res, a.verbose)),
+        Format::Json => {
+            common::show_json(&serde_json::to_string_pretty(&doc).unwrap_or_else(|_| "{}".into()))
+        }
         Format::Csv => match &res.steady {
-            Some(s) => print!("{}", stage::spectrum_csv(&s.metrics)),
+            Some(s) => common::show(&stage::spectrum_csv(&s.metrics)),
             None => {
                 if let Some(t) = res.transients.first() {
-                    print!("{}", stage::transient_csv(t))
+                    common::show(&stage::transient_csv(t))
                 } else if let Some(ac) = res.acs.first() {
-                    print!("{}", stage::ac_csv(ac))
+                    common::show(&stage::ac_csv(ac))
                 }
             }
         },
@@ -151,6 +163,10 @@ pub fn run(a: &RunArgs) -> i32 {
         figures.push((path.clone(), html.into_bytes()));
     }
     if !figures.is_empty() {
+        let paths: Vec<PathBuf> = figures.iter().map(|(p, _)| p.clone()).collect();
+        if let Err(code) = common::check_outputs(&paths, &[], &inputs) {
+            return code;
+        }
         if let Err(e) = tankwave_report::files::write_all_atomic(&figures) {
             eprintln!("error: {e}");
             return BAD_INPUT;
@@ -161,6 +177,24 @@ pub fn run(a: &RunArgs) -> i32 {
     } else {
         OK
     }
+}
+
+/// The names of the files `--out` may write for `c` (every one is checked
+/// before work starts).
+fn out_file_names(c: &tankwave_circuit::Circuit) -> Vec<String> {
+    use tankwave_circuit::Analysis;
+    let mut names: Vec<String> = ["results.json", "op.csv", "period.csv", "spectrum.csv"]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+    let count = |f: fn(&Analysis) -> bool| c.analyses.iter().filter(|a| f(a)).count();
+    for k in 1..=count(|a| matches!(a, Analysis::Transient { .. })) {
+        names.push(format!("transient-{k}.csv"));
+    }
+    for k in 1..=count(|a| matches!(a, Analysis::Ac { .. })) {
+        names.push(format!("ac-{k}.csv"));
+    }
+    names
 }
 
 /// Names of the unknowns (from the operating point, else from the devices).

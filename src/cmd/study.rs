@@ -223,6 +223,25 @@ fn check_report_path(path: &Path) -> Result<(), String> {
     }
 }
 
+/// Refuse a `--threads` of 0 or more than `LIMITS.max_threads_per_core`
+/// times the available cores.
+fn check_threads(threads: Option<usize>) -> Result<(), String> {
+    let Some(n) = threads else {
+        return Ok(());
+    };
+    let cores = std::thread::available_parallelism()
+        .map(|c| c.get())
+        .unwrap_or(1);
+    let cap = cores * tankwave_netlist::LIMITS.max_threads_per_core;
+    if n == 0 || n > cap {
+        return Err(format!(
+            "--threads {n}: give 1 to {cap} ({} per core on {cores} cores)",
+            tankwave_netlist::LIMITS.max_threads_per_core
+        ));
+    }
+    Ok(())
+}
+
 /// Run `study`; returns the exit code (1 if any variant fails a requirement or does not solve).
 pub fn run(a: &StudyArgs) -> i32 {
     let file = a.file.display().to_string();
@@ -237,7 +256,16 @@ pub fn run(a: &StudyArgs) -> i32 {
         Ok(l) => l,
         Err(f) => return common::report_failure(&file, &f),
     };
-    let parsed = tankwave_netlist::parse_file(&a.file);
+    let parsed = crate::pipeline::parse(&a.file);
+    let inputs = tankwave_report::outputs::Inputs::new(&pipeline::input_files(&a.file));
+    let outs: Vec<PathBuf> = a.out.iter().chain(a.report.iter()).cloned().collect();
+    if let Err(code) = common::check_outputs(&outs, &[], &inputs) {
+        return code;
+    }
+    if let Err(m) = check_threads(a.threads) {
+        eprintln!("error: {m}");
+        return BAD_INPUT;
+    }
     let plan = match study::Plan::from_circuit(&loaded.circuit) {
         Ok(p) => p,
         Err(e) => {
@@ -420,16 +448,21 @@ pub fn run(a: &StudyArgs) -> i32 {
             );
             files.push((path.clone(), html.into_bytes()));
         }
+        let paths: Vec<PathBuf> = files.iter().map(|(p, _)| p.clone()).collect();
+        if let Err(code) = common::check_outputs(&paths, &[], &inputs) {
+            return code;
+        }
         if let Err(e) = tankwave_report::files::write_all_atomic(&files) {
             eprintln!("error: {e}");
             return BAD_INPUT;
         }
     }
-    print!(
-        "{}",
-        tankwave_report::batch::study_heading(loaded.circuit.title.as_deref(), &file, &info)
-    );
-    print!("{}", tankwave_report::batch::summary_text(&summary));
+    common::show(&tankwave_report::batch::study_heading(
+        loaded.circuit.title.as_deref(),
+        &file,
+        &info,
+    ));
+    common::show(&tankwave_report::batch::summary_text(&summary));
     if summary.failed > 0 || summary.passed_all < summary.variants {
         FAILED
     } else {
@@ -439,6 +472,22 @@ pub fn run(a: &StudyArgs) -> i32 {
 
 /// Run `merge`.
 pub fn merge(a: &MergeArgs) -> i32 {
+    for p in &a.inputs {
+        match std::fs::metadata(p) {
+            Ok(md) if !md.is_file() => {
+                eprintln!(
+                    "error: cannot read '{}': not a regular file",
+                    common::esc(&p.display().to_string())
+                );
+                return BAD_INPUT;
+            }
+            _ => {}
+        }
+    }
+    let guard = tankwave_report::outputs::Inputs::new(&a.inputs);
+    if let Err(code) = common::check_outputs(std::slice::from_ref(&a.out), &[], &guard) {
+        return code;
+    }
     let mut inputs = Vec::new();
     for p in &a.inputs {
         match std::fs::File::open(p) {
@@ -504,7 +553,7 @@ pub fn tune(a: &TuneArgs) -> i32 {
         Ok(l) => l,
         Err(f) => return common::report_failure(&file, &f),
     };
-    let parsed = tankwave_netlist::parse_file(&a.file);
+    let parsed = crate::pipeline::parse(&a.file);
     let mut ranges: Vec<Tune> = Vec::new();
     // units written in --param ranges (for plot axes)
     let mut cli_units: BTreeMap<String, String> = BTreeMap::new();
@@ -580,11 +629,11 @@ pub fn tune(a: &TuneArgs) -> i32 {
             return SOLVER;
         }
     };
-    print!(
-        "{}",
-        tankwave_report::batch::heading(loaded.circuit.title.as_deref(), &file)
-    );
-    print!("{}", tankwave_report::batch::tune_text(&r));
+    common::show(&tankwave_report::batch::heading(
+        loaded.circuit.title.as_deref(),
+        &file,
+    ));
+    common::show(&tankwave_report::batch::tune_text(&r));
     if let Some(dir) = &a.plots {
         let map = match study::map_around(&ranges, &r.optimum, objective, &map_params) {
             Ok(m) => m,
@@ -613,6 +662,11 @@ pub fn tune(a: &TuneArgs) -> i32 {
             .collect();
         let drawn = assemble::tune_figures(&file, goal, &map, &r.optimum, &units);
         let files = visual::drawn_files(Some(dir), &drawn);
+        let inputs = tankwave_report::outputs::Inputs::new(&pipeline::input_files(&a.file));
+        let paths: Vec<PathBuf> = files.iter().map(|(p, _)| p.clone()).collect();
+        if let Err(code) = common::check_outputs(&paths, &[], &inputs) {
+            return code;
+        }
         if let Err(e) = tankwave_report::files::write_all_atomic(&files) {
             eprintln!("error: {e}");
             return BAD_INPUT;

@@ -517,7 +517,20 @@ fn study_and_check_write_plots() {
         p(dir.path()),
     ]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
-    assert!(dir.path().join("pass/spectrum.svg").is_file());
+    // DIR/STEM-HASH/, HASH from the stage file's canonical path (docs/security.md)
+    let sub: Vec<_> = std::fs::read_dir(dir.path())
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| {
+            p.is_dir()
+                && p.file_name()
+                    .unwrap()
+                    .to_string_lossy()
+                    .starts_with("pass-")
+        })
+        .collect();
+    assert_eq!(sub.len(), 1, "{sub:?}");
+    assert!(sub[0].join("spectrum.svg").is_file());
 }
 
 #[test]

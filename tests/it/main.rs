@@ -2,8 +2,9 @@
 //! `bad_input`), agreement of the steady-state methods on every demo stage
 //! (`agreement`), the convergence sweep over the class-C demo
 //! (`convergence`), and a bounded solve of random small circuits
-//! (`fuzz_smoke`), and the crate layering and syntax-tree boundary
-//! (`layering`). Data lives under tests/data/.
+//! (`fuzz_smoke`), hostile input from strangers (`hostile`), and the
+//! crate layering and syntax-tree boundary (`layering`). Data lives under
+//! tests/data/.
 
 mod agreement;
 mod bad_input;
@@ -11,5 +12,6 @@ mod cli;
 mod convergence;
 mod fuzz_smoke;
 mod harness;
+mod hostile;
 mod layering;
 mod trade;

@@ -91,4 +91,22 @@ pub enum MeasureError {
     /// The circuit has no nodes, elements or samples to measure.
     #[error("nothing to measure: the period has no samples")]
     Empty,
+    /// The solution breaks the energy balance: more power leaves at the
+    /// output than the supplies and the drive deliver (so the power-added
+    /// efficiency would exceed 100 %). The solution cannot be a steady state.
+    #[error(
+        "energy balance broken: output power {pout_w:e} W exceeds supply power {pdc_w:e} W \
+         plus drive power {pin_w:e} W beyond the tolerance {tol_w:e} W; the periodic \
+         solution is not a true steady state (try more steps per period or harmonics)"
+    )]
+    EnergyBalance {
+        /// Output power at the fundamental, W.
+        pout_w: f64,
+        /// Supply power, W.
+        pdc_w: f64,
+        /// Drive input power, W.
+        pin_w: f64,
+        /// The tolerance allowed, W.
+        tol_w: f64,
+    },
 }

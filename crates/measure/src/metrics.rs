@@ -559,6 +559,19 @@ pub fn conduction_angle_deg(i: &[f64], threshold_fraction: f64) -> f64 {
     conduction(i, None, 1.0, threshold_fraction).angle_deg
 }
 
+/// Supply power below which collector efficiency is not meaningful, W
+/// (1 µW: a stage drawing less is off; common practice).
+pub const EFFICIENCY_FLOOR_W: f64 = 1e-6;
+
+/// Relative tolerance of the energy balance P_out ≤ P_dc + P_in: 1.2 % of
+/// the power budget, the acceptance figure of the steady-state methods on
+/// the fundamental (0.05 dB, tests/it/agreement.rs), so a solution the
+/// methods accept never trips it.
+pub const ENERGY_BALANCE_REL: f64 = 0.012;
+
+/// Absolute tolerance of the energy balance, W (1 nW, below any figure shown).
+pub const ENERGY_BALANCE_ABS_W: f64 = 1e-9;
+
 fn note(notes: &mut Vec<Note>, figure: &str, reason: impl Into<String>) {
     notes.push(Note {
         figure: figure.to_string(),
@@ -758,6 +771,28 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
 
     // ---- efficiency, PAE, gain ----
     let efficiency = match p1_out {
+        Some(_) if pdc_w > 0.0 && pdc_w < EFFICIENCY_FLOOR_W => {
+            note(
+                &mut notes,
+                "efficiency",
+                format!(
+                    "not meaningful: supply power {pdc_w:.3e} W is below the floor of \
+                     {EFFICIENCY_FLOOR_W:.0e} W"
+                ),
+            );
+            None
+        }
+        Some(po) if pdc_w > 0.0 && po >= pdc_w => {
+            note(
+                &mut notes,
+                "efficiency",
+                format!(
+                    "not meaningful: drive power feeds through to the output \
+                     (output {po:.3e} W >= supply {pdc_w:.3e} W)"
+                ),
+            );
+            None
+        }
         Some(po) if pdc_w > 0.0 => finite(po / pdc_w),
         Some(_) => {
             note(
@@ -776,6 +811,18 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
             None
         }
     };
+    if let (Some(po), Some(d)) = (p1_out, &drive) {
+        let budget = pdc_w.max(0.0) + d.pin_w.max(0.0);
+        let tol_w = ENERGY_BALANCE_REL * budget + ENERGY_BALANCE_ABS_W;
+        if po > budget + tol_w {
+            return Err(MeasureError::EnergyBalance {
+                pout_w: po,
+                pdc_w,
+                pin_w: d.pin_w,
+                tol_w,
+            });
+        }
+    }
     let pae = match (p1_out, &drive) {
         (Some(po), Some(d)) if pdc_w > 0.0 => finite((po - d.pin_w) / pdc_w),
         (None, _) => {

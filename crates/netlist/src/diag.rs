@@ -134,6 +134,15 @@ pub const CODES: &[(&str, &str)] = &[
         "a file includes itself, directly or through others",
     ),
     (
+        "include-limit",
+        "includes nested too deep or too many files included",
+    ),
+    (
+        "include-outside",
+        "an included file lies outside the include roots",
+    ),
+    ("include-not-stage", "an included file is not a stage file"),
+    (
         "unknown-name",
         "a value names a parameter that is not defined",
     ),

@@ -204,7 +204,8 @@ pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic
                 // A statement keyword at the start of a line while a bracket is open:
                 // the bracket was never closed. Report it and start afresh here.
                 for (k, sp) in stack.drain(..).take(3) {
-                    diags.push(
+                    push_capped(
+                        diags,
                         map.error(
                             "unclosed-bracket",
                             sp,
@@ -245,11 +246,14 @@ pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic
                     let total = e0.saturating_add(pe as i64);
                     let value = format!("{mant}e{total}").parse::<f64>().unwrap_or(f64::NAN);
                     if !value.is_finite() {
-                        diags.push(map.error(
-                            "bad-number",
-                            span,
-                            format!("'{}' is too large a number", &text[pos..end]),
-                        ));
+                        push_capped(
+                            diags,
+                            map.error(
+                                "bad-number",
+                                span,
+                                format!("'{}' is too large a number", &text[pos..end]),
+                            ),
+                        );
                         toks.push(Token {
                             kind: TokKind::Error,
                             span,
@@ -272,7 +276,8 @@ pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic
                     } else {
                         None
                     };
-                    diags.push(
+                    push_capped(
+                        diags,
                         map.error(
                             code,
                             span,
@@ -320,7 +325,8 @@ pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic
                 None => {
                     let line_end = rest.find('\n').unwrap_or(rest.len());
                     let span = Span::new(file, pos, pos + line_end);
-                    diags.push(
+                    push_capped(
+                        diags,
                         map.error(
                             "unterminated-string",
                             Span::new(file, pos, pos + 1),
@@ -359,18 +365,23 @@ pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic
                 '^' => (TokKind::Caret, 1),
                 '<' => (TokKind::Lt, 1),
                 '>' => (TokKind::Gt, 1),
-                _ => (TokKind::Error, c.len_utf8()),
+                _ => (TokKind::Error, bad_run_len(rest)),
             },
         };
         let span = Span::new(file, pos, pos + n);
         rest = &rest[n..];
         match kind {
             TokKind::Error => {
-                diags.push(map.error(
-                    "bad-character",
-                    span,
-                    format!("unexpected character '{}'", c.escape_debug()),
-                ));
+                let count = rest_len_chars(&text[pos..pos + n]);
+                let message = if count == 1 {
+                    format!("unexpected character '{}'", c.escape_debug())
+                } else {
+                    format!(
+                        "{count} unexpected characters, the first '{}'",
+                        c.escape_debug()
+                    )
+                };
+                push_capped(diags, map.error("bad-character", span, message));
                 toks.push(Token { kind, span });
             }
             TokKind::LParen | TokKind::LBrace | TokKind::LBrack => {
@@ -387,7 +398,8 @@ pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic
                     stack.pop();
                     toks.push(Token { kind, span });
                 } else if let Some((open, osp)) = stack.last().cloned() {
-                    diags.push(
+                    push_capped(
+                        diags,
                         map.error(
                             "unexpected-close",
                             span,
@@ -403,11 +415,14 @@ pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic
                         span,
                     });
                 } else {
-                    diags.push(map.error(
-                        "unexpected-close",
-                        span,
-                        format!("{} without an opening partner", kind.describe()),
-                    ));
+                    push_capped(
+                        diags,
+                        map.error(
+                            "unexpected-close",
+                            span,
+                            format!("{} without an opening partner", kind.describe()),
+                        ),
+                    );
                     toks.push(Token {
                         kind: TokKind::Error,
                         span,
@@ -425,17 +440,46 @@ pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic
         });
     }
     for (k, sp) in stack.drain(..).take(3) {
-        diags.push(map.error(
-            "unclosed-bracket",
-            sp,
-            format!("{} is never closed", k.describe()),
-        ));
+        push_capped(
+            diags,
+            map.error(
+                "unclosed-bracket",
+                sp,
+                format!("{} is never closed", k.describe()),
+            ),
+        );
     }
     toks.push(Token {
         kind: TokKind::Eof,
         span: Span::new(file, len, len),
     });
     toks
+}
+
+/// Push a diagnostic unless [`crate::LIMITS`]`.max_diagnostics_collected`
+/// are already held (the lexer then only carries on to the end of the file).
+fn push_capped(diags: &mut Vec<Diagnostic>, d: Diagnostic) {
+    if diags.len() < crate::LIMITS.max_diagnostics_collected {
+        diags.push(d);
+    }
+}
+
+/// Number of characters in `s`.
+fn rest_len_chars(s: &str) -> usize {
+    s.chars().count()
+}
+
+/// Byte length of the run of characters at the start of `rest` that cannot
+/// start any token: a run of junk (a file of NUL bytes, say) is one token
+/// and one diagnostic, not one per byte.
+fn bad_run_len(rest: &str) -> usize {
+    rest.char_indices()
+        .find(|&(_, ch)| {
+            ch.is_alphanumeric() || ch.is_whitespace() || "()[]{}=,+-*/^<>\"#.'_".contains(ch)
+        })
+        .map(|(i, _)| i)
+        .unwrap_or(rest.len())
+        .max(rest.chars().next().map(char::len_utf8).unwrap_or(1))
 }
 
 #[cfg(test)]

@@ -16,8 +16,10 @@
 
 pub mod ast;
 pub mod diag;
+pub mod escape;
 pub mod expr;
 pub mod lexer;
+pub mod limits;
 pub mod parser;
 pub mod source;
 pub mod suggest;
@@ -26,6 +28,7 @@ pub mod vocab;
 
 pub use ast::Statement;
 pub use diag::{Diagnostic, Severity, CODES};
+pub use limits::{Limits, LIMITS};
 pub use source::{FileId, SourceMap, Span};
 pub use units::{Slot, Unit};
 
@@ -33,10 +36,10 @@ use parser::Item;
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
 
-/// Largest file read (bigger files are refused with `io-error`).
-pub const MAX_FILE_BYTES: u64 = 64 << 20;
-/// Deepest include nesting.
-pub const MAX_INCLUDE_DEPTH: usize = 64;
+/// Largest file read (bigger files are refused with `io-error`); see [`LIMITS`].
+pub const MAX_FILE_BYTES: u64 = LIMITS.max_file_bytes;
+/// Deepest include nesting; see [`LIMITS`].
+pub const MAX_INCLUDE_DEPTH: usize = LIMITS.max_include_depth;
 
 /// The result of parsing: statements (includes spliced in), sources and diagnostics.
 #[derive(Debug, Clone)]
@@ -50,6 +53,8 @@ pub struct Parsed {
     /// Statements that failed to parse, as (keyword, name): their names are
     /// known to exist, so uses elsewhere are not reported as unknown again.
     pub broken: Vec<(String, String)>,
+    /// Every file read from disk (the top file and each include), as opened.
+    pub files_read: Vec<PathBuf>,
 }
 
 impl Parsed {
@@ -64,20 +69,70 @@ struct State {
     diags: Vec<Diagnostic>,
     stmts: Vec<Statement>,
     broken: Vec<(String, String)>,
+    /// Canonical include roots: an include must resolve under one of them.
+    roots: Vec<PathBuf>,
+    /// Files read so far (the top file included).
+    reads: usize,
+    files_read: Vec<PathBuf>,
 }
 
-/// Parse a stage file from disk (includes are resolved relative to each including file).
+impl State {
+    fn new(roots: Vec<PathBuf>) -> State {
+        State {
+            map: SourceMap::new(),
+            diags: Vec::new(),
+            stmts: Vec::new(),
+            broken: Vec::new(),
+            roots,
+            reads: 1,
+            files_read: Vec::new(),
+        }
+    }
+}
+
+/// The default include roots of a stage file: its directory and that
+/// directory's parents up to the enclosing repository root (the nearest
+/// directory holding `.git`); without a repository, its directory only.
+/// Paths are canonical.
+pub fn default_include_roots(path: &Path) -> Vec<PathBuf> {
+    let dir = match path.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let dir = canonical(&dir);
+    let mut chain = Vec::new();
+    let mut cur = Some(dir.as_path());
+    while let Some(d) = cur {
+        chain.push(d.to_path_buf());
+        if d.join(".git").exists() {
+            return chain;
+        }
+        cur = d.parent();
+    }
+    vec![dir]
+}
+
+/// Parse a stage file from disk. Includes are resolved relative to each
+/// including file and must lie under the [`default_include_roots`] of `path`.
 pub fn parse_file(path: impl AsRef<Path>) -> Parsed {
+    parse_file_with_roots(path, &[])
+}
+
+/// [`parse_file`], with `extra_roots` allowed for includes besides the
+/// default ones (directories that do not exist are ignored).
+pub fn parse_file_with_roots(path: impl AsRef<Path>, extra_roots: &[PathBuf]) -> Parsed {
     let path = path.as_ref();
     let name = path.display().to_string();
-    let mut st = State {
-        map: SourceMap::new(),
-        diags: Vec::new(),
-        stmts: Vec::new(),
-        broken: Vec::new(),
-    };
+    let mut roots = default_include_roots(path);
+    roots.extend(
+        extra_roots
+            .iter()
+            .filter_map(|r| std::fs::canonicalize(r).ok()),
+    );
+    let mut st = State::new(roots);
     match read_limited(path) {
         Ok(bytes) => {
+            st.files_read.push(path.to_path_buf());
             let mut stack = vec![canonical(path)];
             let dir = path.parent().map(Path::to_path_buf).unwrap_or_default();
             st.source(&name, &bytes, None, &dir, &mut stack);
@@ -98,13 +153,8 @@ pub fn parse_str(name: &str, text: &str) -> Parsed {
 
 /// Parse bytes given in memory (non-UTF-8 input gives a `not-utf8` diagnostic).
 pub fn parse_bytes(name: &str, bytes: &[u8]) -> Parsed {
-    let mut st = State {
-        map: SourceMap::new(),
-        diags: Vec::new(),
-        stmts: Vec::new(),
-        broken: Vec::new(),
-    };
     let p = Path::new(name);
+    let mut st = State::new(default_include_roots(p));
     let dir = p.parent().map(Path::to_path_buf).unwrap_or_default();
     let mut stack = vec![canonical(p)];
     st.source(name, bytes, None, &dir, &mut stack);
@@ -120,11 +170,11 @@ fn read_limited(p: &Path) -> Result<Vec<u8>, String> {
     if !md.is_file() {
         return Err("not a regular file".into());
     }
-    if md.len() > MAX_FILE_BYTES {
+    if md.len() > LIMITS.max_file_bytes {
         return Err(format!(
             "file is {} bytes, more than the {} byte limit",
             md.len(),
-            MAX_FILE_BYTES
+            LIMITS.max_file_bytes
         ));
     }
     std::fs::read(p).map_err(|e| e.to_string())
@@ -137,6 +187,7 @@ impl State {
             sources: Arc::new(self.map),
             diagnostics: self.diags,
             broken: self.broken,
+            files_read: self.files_read,
         }
     }
 
@@ -185,13 +236,14 @@ impl State {
     fn include(&mut self, rel: &str, span: Span, dir: &Path, stack: &mut Vec<PathBuf>) {
         let path = dir.join(rel);
         let canon = canonical(&path);
+        let shown = crate::escape::escape(rel).into_owned();
         if let Some(pos) = stack.iter().position(|p| *p == canon) {
             let chain: Vec<String> = stack[pos..]
                 .iter()
                 .chain(std::iter::once(&canon))
                 .map(|p| {
                     p.file_name()
-                        .map(|f| f.to_string_lossy().into_owned())
+                        .map(|f| crate::escape::escape(&f.to_string_lossy()).into_owned())
                         .unwrap_or_default()
                 })
                 .collect();
@@ -203,35 +255,89 @@ impl State {
             self.diags.push(d);
             return;
         }
-        if stack.len() >= MAX_INCLUDE_DEPTH {
+        if stack.len() >= LIMITS.max_include_depth {
             let d = self.map.error(
-                "include-cycle",
+                "include-limit",
                 span,
-                format!("includes nested more than {MAX_INCLUDE_DEPTH} deep"),
+                format!(
+                    "includes nested more than {} deep",
+                    LIMITS.max_include_depth
+                ),
             );
             self.diags.push(d);
             return;
         }
+        if self.reads >= LIMITS.max_includes {
+            let d = self.map.error(
+                "include-limit",
+                span,
+                format!(
+                    "more than {} files included for one stage file",
+                    LIMITS.max_includes
+                ),
+            );
+            self.diags.push(d);
+            return;
+        }
+        if canon.exists() && !self.roots.iter().any(|r| canon.starts_with(r)) {
+            let d = self.map.error(
+                "include-outside",
+                span,
+                format!("cannot include '{shown}': it lies outside the include roots"),
+            );
+            let roots: Vec<String> = self
+                .roots
+                .iter()
+                .map(|r| crate::escape::escape(&r.display().to_string()).into_owned())
+                .collect();
+            self.diags.push(d.with_help(format!(
+                "includes may come from {}; add a directory with --include-root",
+                roots.join(", ")
+            )));
+            return;
+        }
         match read_limited(&path) {
             Ok(bytes) => {
+                self.reads += 1;
+                self.files_read.push(path.clone());
                 stack.push(canon);
                 let sub = path.parent().map(Path::to_path_buf).unwrap_or_default();
                 let name = path.display().to_string();
+                let (diags_before, stmts_before) = (self.diags.len(), self.stmts.len());
+                let broken_before = self.broken.len();
                 self.source(&name, &bytes, Some((span.file, span.start)), &sub, stack);
                 stack.pop();
+                // A file of which not one statement could be read is not a
+                // stage file (a system file, say): say so, and show none of
+                // its content.
+                let new_errors = self.diags[diags_before..].iter().any(|d| d.is_error());
+                // (errors of its own includes are shown as they are)
+                let nested = self.diags[diags_before..]
+                    .iter()
+                    .any(|d| d.code.starts_with("include-"));
+                if new_errors && !nested && self.stmts.len() == stmts_before {
+                    self.diags.truncate(diags_before);
+                    self.broken.truncate(broken_before);
+                    let d = self.map.error(
+                        "include-not-stage",
+                        span,
+                        format!("cannot include '{shown}': it is not a stage file"),
+                    );
+                    self.diags.push(d);
+                }
             }
             Err(e) => {
                 let d = self.map.error(
                     "include-missing",
                     span,
-                    format!("cannot include '{rel}': {e}"),
+                    format!("cannot include '{shown}': {e}"),
                 );
                 self.diags.push(d.with_help(format!(
                     "the path is taken relative to {}",
                     if dir.as_os_str().is_empty() {
                         "the current directory".into()
                     } else {
-                        dir.display().to_string()
+                        crate::escape::escape(&dir.display().to_string()).into_owned()
                     }
                 )));
             }

@@ -131,8 +131,10 @@ impl<'a> Parser<'a> {
         self.toks[i].span
     }
     fn err(&mut self, span: Span, msg: impl Into<String>) {
-        let d = self.map.error("syntax", span, msg);
-        self.diags.push(d);
+        if self.diags.len() < crate::LIMITS.max_diagnostics_collected {
+            let d = self.map.error("syntax", span, msg);
+            self.diags.push(d);
+        }
     }
     fn err_help(
         &mut self,
@@ -141,8 +143,10 @@ impl<'a> Parser<'a> {
         msg: impl Into<String>,
         help: Option<String>,
     ) {
-        let d = self.map.error(code, span, msg).with_help_opt(help);
-        self.diags.push(d);
+        if self.diags.len() < crate::LIMITS.max_diagnostics_collected {
+            let d = self.map.error(code, span, msg).with_help_opt(help);
+            self.diags.push(d);
+        }
     }
     /// Report "expected X" at the current token (unless it is an already-reported bad token).
     fn expected<T>(&mut self, what: &str) -> P<T> {

@@ -53,6 +53,8 @@ pub struct SourceFile {
     line_starts: Vec<u32>,
     /// Where this file was included from (file and byte offset of the include statement).
     pub included_from: Option<(FileId, u32)>,
+    /// True if the text is all ASCII (columns are then byte differences).
+    ascii: bool,
 }
 
 /// All files read for one parse.
@@ -80,8 +82,10 @@ impl SourceMap {
                 line_starts.push((i + 1).min(u32::MAX as usize) as u32);
             }
         }
+        let ascii = text.is_ascii();
         self.files.push(SourceFile {
             name: name.to_string(),
+            ascii,
             text,
             line_starts,
             included_from,
@@ -111,7 +115,9 @@ impl SourceMap {
         let ls = f.line_starts.get(idx).copied().unwrap_or(0) as usize;
         let off = (offset as usize).min(f.text.len());
         let col = match f.text.get(ls..off) {
-            Some(s) => s.chars().count(),
+            Some(_) if f.ascii => off.saturating_sub(ls),
+            // a byte-order mark at the start of the file is not a column
+            Some(s) => s.strip_prefix('\u{feff}').unwrap_or(s).chars().count(),
             None => off.saturating_sub(ls),
         };
         ((idx + 1) as u32, (col + 1) as u32)

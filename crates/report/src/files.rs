@@ -23,6 +23,15 @@ pub enum ReportError {
         /// The path given for the file.
         path: PathBuf,
     },
+    /// An output path that would destroy an input or replace something
+    /// that is not a regular file.
+    #[error("refusing to write '{}': {why}", crate::escape_path(path))]
+    Refused {
+        /// The path given for the output.
+        path: PathBuf,
+        /// Why it is refused.
+        why: String,
+    },
     /// Serialising to JSON or CSV failed.
     #[error("cannot serialise {what}: {message}")]
     Serialise {
@@ -43,14 +52,48 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), ReportError> {
 /// mode temporary files default to: the renamed output must be as readable as
 /// any file the user writes.
 fn staging_file(dir: &Path) -> std::io::Result<tempfile::NamedTempFile> {
+    remove_stale_staging(dir);
+    let prefix = format!("{STAGING_PREFIX}{}-", std::process::id());
     let mut b = tempfile::Builder::new();
-    b.prefix(".tankwave-");
+    b.prefix(&prefix);
     #[cfg(unix)]
     {
         use std::os::unix::fs::PermissionsExt;
         b.permissions(std::fs::Permissions::from_mode(0o666));
     }
     b.tempfile_in(dir)
+}
+
+/// Name prefix of our temporary files: `.tankwave-PID-XXXXXX`, PID being
+/// the process that made it.
+pub const STAGING_PREFIX: &str = ".tankwave-";
+
+/// Remove temporary files of our own naming pattern left in `dir` by a
+/// process that no longer runs (a run killed between writing and renaming):
+/// only regular files named `.tankwave-PID-…` whose PID has no entry under
+/// /proc. Failures are ignored (the files are merely left).
+pub fn remove_stale_staging(dir: &Path) {
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return;
+    };
+    if !Path::new("/proc/self").exists() {
+        return;
+    }
+    for e in entries.flatten() {
+        let name = e.file_name();
+        let Some(rest) = name.to_str().and_then(|n| n.strip_prefix(STAGING_PREFIX)) else {
+            continue;
+        };
+        let Some(pid) = rest.split('-').next().and_then(|p| p.parse::<u32>().ok()) else {
+            continue;
+        };
+        if pid == std::process::id() || Path::new(&format!("/proc/{pid}")).exists() {
+            continue;
+        }
+        if e.file_type().is_ok_and(|t| t.is_file()) {
+            let _ = std::fs::remove_file(e.path());
+        }
+    }
 }
 
 /// Check, before any work is done, that files can be created in `dir`:
@@ -93,6 +136,19 @@ pub fn check_writable_file(path: &Path) -> Result<(), ReportError> {
 /// temporary file; only when all succeeded are they renamed into place. If a
 /// rename fails midway, the files already renamed are removed again.
 pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<(), ReportError> {
+    for (path, _) in files {
+        if let Ok(md) = std::fs::metadata(path) {
+            if md.is_dir() {
+                return Err(ReportError::IsDirectory { path: path.clone() });
+            }
+            if !md.is_file() {
+                return Err(ReportError::Refused {
+                    path: path.clone(),
+                    why: "it exists and is not a regular file".into(),
+                });
+            }
+        }
+    }
     let mut staged = Vec::with_capacity(files.len());
     for (path, bytes) in files {
         let err = |source| ReportError::Write {
@@ -193,6 +249,31 @@ mod tests {
             .to_string();
         assert!(e.contains("does not exist") && e.contains("missing"), "{e}");
         assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0);
+    }
+
+    #[test]
+    fn stale_temporaries_of_dead_processes_are_removed() {
+        let dir = tempfile::tempdir().unwrap();
+        // a pid above the kernel's pid_max (4194304) never runs
+        let stale = dir.path().join(".tankwave-4294967-abc123");
+        std::fs::write(&stale, b"half").unwrap();
+        let mine = dir
+            .path()
+            .join(format!(".tankwave-{}-keep", std::process::id()));
+        std::fs::write(&mine, b"x").unwrap();
+        let other = dir.path().join(".tankwave-notapid");
+        std::fs::write(&other, b"x").unwrap();
+        write_atomic(&dir.path().join("a.txt"), b"1").unwrap();
+        assert!(!stale.exists(), "stale temporary removed");
+        assert!(mine.exists() && other.exists(), "others kept");
+    }
+
+    #[test]
+    fn never_replaces_a_device() {
+        let e = write_atomic(Path::new("/dev/null"), b"x")
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("not a regular file"), "{e}");
     }
 
     #[test]

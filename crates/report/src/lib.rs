@@ -31,6 +31,7 @@ pub mod check;
 pub mod files;
 pub mod format;
 pub mod html;
+pub mod outputs;
 pub mod overview;
 pub mod plot;
 pub mod provenance;
@@ -40,6 +41,11 @@ pub mod table;
 pub use files::{write_atomic, ReportError};
 pub use format::{db, fixed, si};
 pub use table::{Align, Table};
+
+/// A path as text safe to show on a terminal (control characters escaped).
+pub fn escape_path(p: &std::path::Path) -> String {
+    tankwave_netlist::escape::escape(&p.display().to_string()).into_owned()
+}
 
 /// Version of the JSON documents tankwave writes (`"schema"` field).
 /// Bump the major number on any incompatible change; docs/output.md describes the fields.

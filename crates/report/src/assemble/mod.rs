@@ -70,8 +70,36 @@ impl Drawn {
 pub fn figure_files(dir: &Path, figures: &[NamedFigure]) -> Vec<(PathBuf, Vec<u8>)> {
     figures
         .iter()
-        .map(|f| (dir.join(&f.name), f.svg.clone().into_bytes()))
+        .map(|f| {
+            (
+                dir.join(safe_file_name(&f.name)),
+                f.svg.clone().into_bytes(),
+            )
+        })
         .collect()
+}
+
+/// A file name that stays in its directory: ASCII letters, digits, `-`, `_`
+/// and `.` kept, everything else (a `/`, a control character) made `-`,
+/// leading dots made `-` (no hidden files, no `..`); never empty.
+pub fn safe_file_name(name: &str) -> String {
+    let s: String = name
+        .chars()
+        .map(|ch| {
+            if ch.is_ascii_alphanumeric() || matches!(ch, '-' | '_' | '.') {
+                ch
+            } else {
+                '-'
+            }
+        })
+        .collect();
+    let dots = s.len() - s.trim_start_matches('.').len();
+    let s = format!("{}{}", "-".repeat(dots), &s[dots..]);
+    if s.is_empty() {
+        "plot".to_string()
+    } else {
+        s
+    }
 }
 
 /// A name made safe for a file name: ASCII letters and digits kept, all else `-`.

@@ -1,0 +1,70 @@
+//! Every resource limit tankwave applies to untrusted input, in one place.
+//!
+//! Stage files arrive from strangers (pull requests run in CI), so every
+//! size a file or a command-line value can choose is bounded here, and each
+//! bound is checked where the value is read (with file:line:column from
+//! `lint` on) rather than discovered by a solver running out of memory or
+//! time. docs/security.md lists these values and why each was chosen; change
+//! them here and there together.
+
+/// The resource limits. [`LIMITS`] holds the values in force.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Limits {
+    /// Largest stage file (or included file) read, in bytes.
+    pub max_file_bytes: u64,
+    /// Deepest include nesting (the file named on the command line is depth 1).
+    pub max_include_depth: usize,
+    /// Most files read for one stage file (the top file and every include,
+    /// counted each time it is included).
+    pub max_includes: usize,
+    /// Most diagnostics collected from one file; reading carries on, but
+    /// further problems are only counted.
+    pub max_diagnostics_collected: usize,
+    /// Most diagnostics drawn on the terminal per file; the rest are
+    /// summarised as "and N more".
+    pub max_diagnostics_shown: usize,
+    /// Deepest nesting of brackets, unary operators and calls in one expression.
+    pub max_expression_depth: usize,
+    /// Longest chain of parameters defined through each other.
+    pub max_parameter_chain: usize,
+    /// Most points of one AC sweep.
+    pub max_ac_points: f64,
+    /// Most output steps (stop / step) of one transient analysis.
+    pub max_transient_steps: f64,
+    /// Most harmonics of a steady-state analysis.
+    pub max_harmonics: f64,
+    /// Most time steps per period of a steady-state analysis.
+    pub max_steps_per_period: f64,
+    /// Most elements in one circuit (a stand-in for the memory a solve needs:
+    /// the dense Jacobians grow with the square of the unknowns).
+    pub max_elements: usize,
+    /// Most worker threads per available core (`--threads` above this many
+    /// times the cores is refused).
+    pub max_threads_per_core: usize,
+    /// Characters of a source line shown around the place a diagnostic points at.
+    pub snippet_chars: usize,
+}
+
+/// The limits in force.
+pub const LIMITS: Limits = Limits {
+    max_file_bytes: 64 << 20,
+    max_include_depth: 16,
+    max_includes: 256,
+    max_diagnostics_collected: 1000,
+    max_diagnostics_shown: 100,
+    max_expression_depth: 64,
+    max_parameter_chain: 1000,
+    max_ac_points: 100_000.0,
+    max_transient_steps: 10_000_000.0,
+    max_harmonics: 256.0,
+    max_steps_per_period: 65_536.0,
+    max_elements: 20_000,
+    max_threads_per_core: 4,
+    snippet_chars: 120,
+};
+
+impl Default for Limits {
+    fn default() -> Limits {
+        LIMITS
+    }
+}
