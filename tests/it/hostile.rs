@@ -100,7 +100,7 @@ fn run_out_onto_an_included_file_is_refused() {
     let stage = dir.path().join("stage.tank");
     fs::write(
         &stage,
-        "vsource v1 a gnd dc=1V\ninclude \"results.json\"\nanalyze op\n",
+        "voltage v1 a gnd dc=1V\ninclude \"results.json\"\nanalyze bias\n",
     )
     .unwrap();
     let o = run(&["run", p(&stage), "--out", p(dir.path())]);
@@ -180,7 +180,7 @@ fn include_root_option_admits_a_directory() {
     let inc = lib.path().join("part.tank");
     fs::write(
         &stage,
-        format!("vsource v1 a gnd dc=1V\ninclude \"{}\"\n", p(&inc)),
+        format!("voltage v1 a gnd dc=1V\ninclude \"{}\"\n", p(&inc)),
     )
     .unwrap();
     let o = run(&["lint", p(&stage)]);

@@ -44,7 +44,7 @@ pub use table::{Align, Table};
 
 /// A path as text safe to show on a terminal (control characters escaped).
 pub fn escape_path(p: &std::path::Path) -> String {
-    tankwave_netlist::escape::escape(&p.display().to_string()).into_owned()
+    tankwave_circuit::escape::escape(&p.display().to_string()).into_owned()
 }
 
 /// Version of the JSON documents tankwave writes (`"schema"` field).
