@@ -39,6 +39,18 @@ pub(crate) struct Period<'a> {
     zeros: Vec<f64>,
 }
 
+/// One sampled series: `samples` long and finite everywhere.
+fn check_series(what: impl Fn() -> String, x: &[f64], samples: usize) -> Result<(), MeasureError> {
+    if x.len() != samples {
+        return Err(MeasureError::Length {
+            what: what(),
+            expected: samples,
+            got: x.len(),
+        });
+    }
+    check_finite(what, x)
+}
+
 fn check_finite(what: impl Fn() -> String, x: &[f64]) -> Result<(), MeasureError> {
     match x.iter().enumerate().find(|(_, v)| !v.is_finite()) {
         Some((index, &value)) => Err(MeasureError::NotFinite {
@@ -83,15 +95,11 @@ impl<'a> Period<'a> {
             .ok_or(MeasureError::Empty)?;
         crate::spectrum::check_samples(samples, data.harmonics)?;
         for (k, v) in data.node_voltages.iter().enumerate() {
-            let name = || format!("voltage of node {}", c.node_name(Some(k)));
-            if v.len() != samples {
-                return Err(MeasureError::Length {
-                    what: name(),
-                    expected: samples,
-                    got: v.len(),
-                });
-            }
-            check_finite(name, v)?;
+            check_series(
+                || format!("voltage of node {}", c.node_name(Some(k))),
+                v,
+                samples,
+            )?;
         }
         for (e, (el, cur)) in c.elements.iter().zip(data.terminal_currents).enumerate() {
             let terms = el.kind.terminals();
@@ -112,15 +120,11 @@ impl<'a> Period<'a> {
                 }
             }
             for (t, i) in cur.iter().enumerate() {
-                let name = || format!("current of element {} (#{e}) terminal {t}", el.name);
-                if i.len() != samples {
-                    return Err(MeasureError::Length {
-                        what: name(),
-                        expected: samples,
-                        got: i.len(),
-                    });
-                }
-                check_finite(name, i)?;
+                check_series(
+                    || format!("current of element {} (#{e}) terminal {t}", el.name),
+                    i,
+                    samples,
+                )?;
             }
         }
         if !data.transport_currents.is_empty() && data.transport_currents.len() != c.elements.len()
@@ -133,15 +137,11 @@ impl<'a> Period<'a> {
         for (e, i) in data.transport_currents.iter().enumerate() {
             let Some(i) = i else { continue };
             let el = c.elements.get(e).map(|el| el.name.as_str()).unwrap_or("?");
-            let name = || format!("transport current of element {el} (#{e})");
-            if i.len() != samples {
-                return Err(MeasureError::Length {
-                    what: name(),
-                    expected: samples,
-                    got: i.len(),
-                });
-            }
-            check_finite(name, i)?;
+            check_series(
+                || format!("transport current of element {el} (#{e})"),
+                i,
+                samples,
+            )?;
         }
         Ok(Self {
             data,
