@@ -1108,7 +1108,7 @@ impl<'a> Cx<'a> {
                     .unwrap_or(stop / 1000.0);
                 let max_step =
                     self.opt_value(&m, "max_step", Slot::Time, "max_step", Range::Positive)?;
-                let reltol =
+                let rel_tolerance =
                     self.opt_value(&m, "tolerance", Slot::Number, "tolerance", Range::Positive)?;
                 let start = match m.get("start") {
                     None => StartFrom::OperatingPoint,
@@ -1146,7 +1146,7 @@ impl<'a> Cx<'a> {
                     max_step,
                     start,
                     method,
-                    reltol,
+                    rel_tolerance,
                 })
             }
             "ac" => {

@@ -542,8 +542,8 @@ pub enum Analysis {
         start: StartFrom,
         /// Integration method.
         method: Integration,
-        /// Relative tolerance of the local truncation error (default 1e-4... see docs/analyses.md).
-        reltol: Option<f64>,
+        /// Relative tolerance of the local truncation error (`tolerance=`; default in docs/analyses.md).
+        rel_tolerance: Option<f64>,
     },
     /// `analyze ac from=.. to=.. points=.. [scale=linear|log] [source=NAME] [impedance=NAME]`.
     Ac {

@@ -85,7 +85,7 @@ impl TransientParams {
                 max_step,
                 start,
                 method,
-                reltol: rel_tolerance,
+                rel_tolerance,
             } => {
                 let d = Self::default();
                 Some(Self {
