@@ -113,7 +113,7 @@ pub fn solve_warm(
     let solve_err = |e: tankwave_solve::SolveError| Failure::Solve(e.to_string());
     for a in &circuit.analyses {
         match a {
-            Analysis::Op => {
+            Analysis::Bias => {
                 if scope == Scope::All && res.op.is_none() {
                     res.op = Some(
                         tankwave_solve::operating_point(circuit, &devices, &OpParams::default())

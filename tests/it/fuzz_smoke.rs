@@ -110,7 +110,7 @@ fn bounded_solve(text: &str) {
     assert!(finite(&op.x), "operating point finite: {:?}\n{text}", op.x);
     for a in &circuit.analyses {
         match a {
-            Analysis::Op => {}
+            Analysis::Bias => {}
             Analysis::Transient { .. } => {
                 let mut p = TransientParams::from_analysis(a).unwrap();
                 p.stop = p.stop.min(200.0 * p.step);

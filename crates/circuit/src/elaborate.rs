@@ -1091,7 +1091,7 @@ impl<'a> Cx<'a> {
         match kind.name.as_str() {
             "bias" => {
                 self.opts(options, allowed, "analyze bias");
-                Some(Analysis::Op)
+                Some(Analysis::Bias)
             }
             "transient" => {
                 let m = self.opts(options, allowed, "analyze transient");
@@ -1565,14 +1565,14 @@ impl<'a> Cx<'a> {
                 let wave = Waveform { dc, shape: shape? };
                 let (p, n) = (n2(0), n2(1));
                 if is_v {
-                    Some(ElementKind::VSource {
+                    Some(ElementKind::VoltageSource {
                         p,
                         n,
                         wave,
                         rs: rs?.unwrap_or(0.0),
                     })
                 } else {
-                    Some(ElementKind::ISource { p, n, wave })
+                    Some(ElementKind::CurrentSource { p, n, wave })
                 }
             }
             ElemKeyword::Diode | ElemKeyword::Bjt => {

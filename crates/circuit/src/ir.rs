@@ -117,7 +117,7 @@ pub enum ElementKind {
         k: f64,
     },
     /// `voltage source NAME p n [dc=V] [wave=...] [rs=Ω]`: v(p) − v(n) = dc + wave(t) behind rs.
-    VSource {
+    VoltageSource {
         /// Positive terminal.
         p: NodeId,
         /// Negative terminal.
@@ -128,7 +128,7 @@ pub enum ElementKind {
         rs: f64,
     },
     /// `current source NAME p n [dc=A] [wave=...]`: current dc + wave(t) flows from p through the source to n.
-    ISource {
+    CurrentSource {
         /// Terminal the current leaves the external circuit into.
         p: NodeId,
         /// Terminal the current returns to the external circuit from.
@@ -169,7 +169,9 @@ impl ElementKind {
             ElementKind::Resistor { a, b, .. }
             | ElementKind::Capacitor { a, b, .. }
             | ElementKind::Inductor { a, b, .. } => vec![*a, *b],
-            ElementKind::VSource { p, n, .. } | ElementKind::ISource { p, n, .. } => vec![*p, *n],
+            ElementKind::VoltageSource { p, n, .. } | ElementKind::CurrentSource { p, n, .. } => {
+                vec![*p, *n]
+            }
             ElementKind::Diode { a, k, .. } => vec![*a, *k],
             ElementKind::Bjt { c, b, e, .. } => vec![*c, *b, *e],
             ElementKind::Coupling { .. } => vec![],
@@ -182,8 +184,8 @@ impl ElementKind {
             ElementKind::Capacitor { .. } => "capacitor",
             ElementKind::Inductor { .. } => "inductor",
             ElementKind::Coupling { .. } => "coupling",
-            ElementKind::VSource { .. } => "voltage",
-            ElementKind::ISource { .. } => "current",
+            ElementKind::VoltageSource { .. } => "voltage",
+            ElementKind::CurrentSource { .. } => "current",
             ElementKind::Diode { .. } => "diode",
             ElementKind::Bjt { .. } => "bjt",
         }
@@ -529,7 +531,7 @@ pub enum Scale {
 #[derive(Debug, Clone, PartialEq)]
 pub enum Analysis {
     /// `analyze bias`.
-    Op,
+    Bias,
     /// `analyze transient stop=.. [step=..] [max_step=..] [start=bias|zero] [method=trapezoidal|bdf2] [tolerance=..]`.
     Transient {
         /// End time, s.

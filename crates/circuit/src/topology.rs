@@ -51,7 +51,7 @@ fn dc_edges(k: &ElementKind) -> Vec<(usize, usize)> {
         ElementKind::Resistor { a, b, .. } | ElementKind::Inductor { a, b, .. } => {
             vec![(idx(*a), idx(*b))]
         }
-        ElementKind::VSource { p, n, .. } => vec![(idx(*p), idx(*n))],
+        ElementKind::VoltageSource { p, n, .. } => vec![(idx(*p), idx(*n))],
         ElementKind::Diode { a, k, .. } => vec![(idx(*a), idx(*k))],
         ElementKind::Bjt { c, b, e, .. } => vec![(idx(*b), idx(*c)), (idx(*b), idx(*e))],
         _ => vec![],
@@ -92,7 +92,7 @@ pub(crate) fn check(cx: &mut Cx<'_>, c: &Circuit) {
         let mut reported: Vec<usize> = Vec::new();
         // Current sources feeding a cut-off part first.
         for (ei, e) in c.elements.iter().enumerate() {
-            if let ElementKind::ISource { p, n: m, .. } = &e.kind {
+            if let ElementKind::CurrentSource { p, n: m, .. } = &e.kind {
                 let (rp, rn) = (dsu.find(idx(*p)), dsu.find(idx(*m)));
                 for r in [rp, rn] {
                     if r != g && rp != rn && !reported.contains(&r) {
@@ -152,7 +152,7 @@ pub(crate) fn check(cx: &mut Cx<'_>, c: &Circuit) {
     let mut adj: Vec<Vec<(usize, usize)>> = vec![Vec::new(); n];
     for (ei, e) in c.elements.iter().enumerate() {
         let (a, b) = match &e.kind {
-            ElementKind::VSource { p, n, rs, .. } if *rs == 0.0 => (idx(*p), idx(*n)),
+            ElementKind::VoltageSource { p, n, rs, .. } if *rs == 0.0 => (idx(*p), idx(*n)),
             ElementKind::Inductor { a, b, series_r, .. } if *series_r == 0.0 => (idx(*a), idx(*b)),
             _ => continue,
         };

@@ -52,7 +52,7 @@ fn class_c_stage_elaborates() {
         k => panic!("{k:?}"),
     }
     match elem(c, "vdrv") {
-        ElementKind::VSource { wave, rs, .. } => {
+        ElementKind::VoltageSource { wave, rs, .. } => {
             assert_eq!(*rs, 50.0);
             assert_eq!(
                 wave.shape,
@@ -261,7 +261,7 @@ fn lossy_parts_break_loops_and_bjt_junctions_give_dc_paths() {
     );
     let e = load("voltage v2 src gnd wave=sine(amp=1V, freq=1MHz, phase=90deg) internal=50Ohm\nresistor r1 src gnd 1\n");
     match elem(&e.circuit, "v2") {
-        ElementKind::VSource {
+        ElementKind::VoltageSource {
             wave:
                 Waveform {
                     shape: Some(Shape::Sine { phase, .. }),

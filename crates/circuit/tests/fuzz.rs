@@ -105,8 +105,10 @@ fn assert_finite(c: &Circuit) {
                 assert!(l.is_finite() && series_r.is_finite())
             }
             ElementKind::Coupling { k, .. } => assert!(k.abs() <= 1.0),
-            ElementKind::VSource { wave, rs, .. } => assert!(wave.dc.is_finite() && rs.is_finite()),
-            ElementKind::ISource { wave, .. } => assert!(wave.dc.is_finite()),
+            ElementKind::VoltageSource { wave, rs, .. } => {
+                assert!(wave.dc.is_finite() && rs.is_finite())
+            }
+            ElementKind::CurrentSource { wave, .. } => assert!(wave.dc.is_finite()),
             ElementKind::Diode { area, .. } | ElementKind::Bjt { area, .. } => {
                 assert!(area.is_finite())
             }

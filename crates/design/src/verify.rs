@@ -131,7 +131,7 @@ pub fn circuit_for(net: &Network) -> Result<Circuit, DesignError> {
     let origin = Origin::default();
     c.elements.push(Element {
         name: SOURCE_NAME.into(),
-        kind: ElementKind::VSource {
+        kind: ElementKind::VoltageSource {
             p: input,
             n: None,
             wave: Waveform::default(),

@@ -24,7 +24,7 @@ use crate::bjt::{Bjt, BjtNodes};
 use crate::contract::{Device, DeviceSet, Idx, UnknownKind};
 use crate::diode::Diode;
 use crate::error::DeviceError;
-use crate::linear::{Capacitor, Coupling, ISource, Inductor, Resistor, VSource};
+use crate::linear::{Capacitor, Coupling, CurrentSource, Inductor, Resistor, VoltageSource};
 use crate::names;
 use crate::waveform;
 use tankwave_circuit::ir::{Circuit, ElementKind, ModelParams, NodeId};
@@ -152,16 +152,23 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                 }
                 couplings.push((id, inductors.clone(), *k));
             }
-            ElementKind::VSource { p, n, wave, rs } => {
+            ElementKind::VoltageSource { p, n, wave, rs } => {
                 waveform::check(wave, name)?;
                 let rs = nonneg(name, "rs", *rs)?;
                 let (np, nn) = (b.node(name, *p)?, b.node(name, *n)?);
                 let j = b.alloc(names::branch_current(name), UnknownKind::Current);
-                devices.push(Box::new(VSource::new(id, np, nn, j, wave.clone(), rs)));
+                devices.push(Box::new(VoltageSource::new(
+                    id,
+                    np,
+                    nn,
+                    j,
+                    wave.clone(),
+                    rs,
+                )));
             }
-            ElementKind::ISource { p, n, wave } => {
+            ElementKind::CurrentSource { p, n, wave } => {
                 waveform::check(wave, name)?;
-                devices.push(Box::new(ISource::new(
+                devices.push(Box::new(CurrentSource::new(
                     id,
                     b.node(name, *p)?,
                     b.node(name, *n)?,

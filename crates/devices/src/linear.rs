@@ -222,7 +222,7 @@ impl Device for Coupling {
 
 /// Independent voltage source with series resistance; owns branch unknown `j`.
 #[derive(Debug, Clone)]
-pub struct VSource {
+pub struct VoltageSource {
     element: usize,
     nodes: [Idx; 2],
     branch: usize,
@@ -230,7 +230,7 @@ pub struct VSource {
     rs: f64,
 }
 
-impl VSource {
+impl VoltageSource {
     /// Source between `p` and `n` with branch current unknown `branch`.
     pub fn new(element: usize, p: Idx, n: Idx, branch: usize, wave: Waveform, rs: f64) -> Self {
         Self {
@@ -247,7 +247,7 @@ impl VSource {
     }
 }
 
-impl Device for VSource {
+impl Device for VoltageSource {
     fn element(&self) -> usize {
         self.element
     }
@@ -299,13 +299,13 @@ impl Device for VSource {
 
 /// Independent current source: I(t) flows from `p` through the source to `n`.
 #[derive(Debug, Clone)]
-pub struct ISource {
+pub struct CurrentSource {
     element: usize,
     nodes: [Idx; 2],
     wave: Waveform,
 }
 
-impl ISource {
+impl CurrentSource {
     /// Source between `p` and `n`.
     pub fn new(element: usize, p: Idx, n: Idx, wave: Waveform) -> Self {
         Self {
@@ -320,7 +320,7 @@ impl ISource {
     }
 }
 
-impl Device for ISource {
+impl Device for CurrentSource {
     fn element(&self) -> usize {
         self.element
     }

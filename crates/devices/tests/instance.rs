@@ -23,7 +23,7 @@ fn extra_unknowns_follow_element_order() {
         vec![
             (
                 "vdrv",
-                ElementKind::VSource {
+                ElementKind::VoltageSource {
                     p: Some(0),
                     n: None,
                     wave: Waveform::default(),

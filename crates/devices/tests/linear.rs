@@ -37,10 +37,10 @@ fn ind(a: Option<usize>, b: Option<usize>, l: f64, r: f64) -> ElementKind {
     }
 }
 fn vsrc(p: Option<usize>, n: Option<usize>, wave: Waveform, rs: f64) -> ElementKind {
-    ElementKind::VSource { p, n, wave, rs }
+    ElementKind::VoltageSource { p, n, wave, rs }
 }
 fn isrc(p: Option<usize>, n: Option<usize>, wave: Waveform) -> ElementKind {
-    ElementKind::ISource { p, n, wave }
+    ElementKind::CurrentSource { p, n, wave }
 }
 
 /// Compare a dense stamp matrix with the expected one (exact: the stamps are

@@ -21,7 +21,7 @@ fn el(name: &str, kind: ElementKind) -> Element {
 }
 
 fn stage() -> Circuit {
-    let src = |p, rs| ElementKind::VSource {
+    let src = |p, rs| ElementKind::VoltageSource {
         p,
         n: None,
         wave: Waveform::default(),

@@ -710,7 +710,9 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
     let mut supplies = Vec::new();
     for (id, el) in c.elements.iter().enumerate() {
         let (pn, nn) = match &el.kind {
-            ElementKind::VSource { p, n, .. } | ElementKind::ISource { p, n, .. } => (*p, *n),
+            ElementKind::VoltageSource { p, n, .. } | ElementKind::CurrentSource { p, n, .. } => {
+                (*p, *n)
+            }
             _ => continue,
         };
         if c.input == Some(id) {
@@ -735,7 +737,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
         Some(id) => match c.elements.get(id).map(|e| (e, &e.kind)) {
             Some((
                 el,
-                ElementKind::VSource {
+                ElementKind::VoltageSource {
                     p: pn, n: nn, rs, ..
                 },
             )) => Some(drive_metrics(
@@ -747,7 +749,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
                 Some(*rs),
                 &mut notes,
             )?),
-            Some((el, ElementKind::ISource { p: pn, n: nn, .. })) => {
+            Some((el, ElementKind::CurrentSource { p: pn, n: nn, .. })) => {
                 Some(drive_metrics(&p, id, &el.name, *pn, *nn, None, &mut notes)?)
             }
             Some((el, _)) => {

@@ -55,7 +55,7 @@ pub fn stage_overview(file: &str, c: &Circuit, warnings: usize) -> String {
         .analyses
         .iter()
         .map(|a| match a {
-            Analysis::Op => "bias".to_string(),
+            Analysis::Bias => "bias".to_string(),
             Analysis::Transient { stop, .. } => {
                 format!("transient to {}", crate::format::si(*stop, "s"))
             }

@@ -346,7 +346,9 @@ pub(crate) fn start_time(circuit: &Circuit, period: f64) -> f64 {
     let mut t = 0.0f64;
     for el in &circuit.elements {
         let wave = match &el.kind {
-            ElementKind::VSource { wave, .. } | ElementKind::ISource { wave, .. } => wave,
+            ElementKind::VoltageSource { wave, .. } | ElementKind::CurrentSource { wave, .. } => {
+                wave
+            }
             _ => continue,
         };
         let end = match &wave.shape {

@@ -430,7 +430,8 @@ fn delayed_and_rising_drive_is_taken_after_its_rise() {
     // the same source without delay/rise once the phase is matched.
     let mut b = clipper();
     let k = element(&b, "vs");
-    if let tankwave_circuit::ir::ElementKind::VSource { wave, .. } = &mut b.c.elements[k].kind {
+    if let tankwave_circuit::ir::ElementKind::VoltageSource { wave, .. } = &mut b.c.elements[k].kind
+    {
         wave.shape = Some(Shape::Sine {
             amp: 3.0,
             freq: F,

@@ -109,7 +109,7 @@ pub fn scale_drive(c: &mut Circuit, k: f64) -> Result<(), StudyError> {
     };
     let name = element.name.clone();
     match &mut element.kind {
-        ElementKind::VSource { wave, .. } | ElementKind::ISource { wave, .. } => {
+        ElementKind::VoltageSource { wave, .. } | ElementKind::CurrentSource { wave, .. } => {
             match &mut wave.shape {
                 Some(Shape::Sine { amp, .. }) => {
                     *amp *= k;
@@ -737,7 +737,7 @@ mod tests {
     fn drive_amp(c: &Circuit) -> Option<f64> {
         let e = c.elements.get(c.input?)?;
         match &e.kind {
-            ElementKind::VSource { wave, .. } | ElementKind::ISource { wave, .. } => {
+            ElementKind::VoltageSource { wave, .. } | ElementKind::CurrentSource { wave, .. } => {
                 match wave.shape {
                     Some(Shape::Sine { amp, .. }) => Some(amp),
                     _ => None,

@@ -63,7 +63,7 @@ pub fn resistor(name: &str, a: NodeId, b: NodeId, r: f64, rating_w: Option<f64>)
 pub fn vsource(name: &str, p: NodeId, n: NodeId, dc: f64, rs: f64) -> Element {
     el(
         name,
-        ElementKind::VSource {
+        ElementKind::VoltageSource {
             p,
             n,
             wave: Waveform { dc, shape: None },

@@ -142,14 +142,14 @@ impl B {
     }
     pub fn vsrc(&mut self, name: &str, p: &str, n: &str, wave: Waveform, rs: f64) -> ElementId {
         let (p, n) = (self.node(p), self.node(n));
-        self.push(name, ElementKind::VSource { p, n, wave, rs })
+        self.push(name, ElementKind::VoltageSource { p, n, wave, rs })
     }
     pub fn vdc(&mut self, name: &str, p: &str, n: &str, dc: f64) -> ElementId {
         self.vsrc(name, p, n, Waveform { dc, shape: None }, 0.0)
     }
     pub fn isrc(&mut self, name: &str, p: &str, n: &str, wave: Waveform) -> ElementId {
         let (p, n) = (self.node(p), self.node(n));
-        self.push(name, ElementKind::ISource { p, n, wave })
+        self.push(name, ElementKind::CurrentSource { p, n, wave })
     }
     pub fn diode(&mut self, name: &str, a: &str, k: &str, params: DiodeParams) -> ElementId {
         self.c.models.push(Model {
