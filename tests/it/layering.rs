@@ -33,7 +33,13 @@ fn metadata() -> serde_json::Value {
     let root = env!("CARGO_MANIFEST_DIR");
     let cargo = std::env::var("CARGO").unwrap_or_else(|_| "cargo".into());
     let out = Command::new(cargo)
-        .args(["metadata", "--format-version", "1", "--no-deps", "--offline"])
+        .args([
+            "metadata",
+            "--format-version",
+            "1",
+            "--no-deps",
+            "--offline",
+        ])
         .current_dir(root)
         .output()
         .expect("cargo metadata could not be started");
@@ -82,7 +88,11 @@ fn rust_files(dir: &Path, out: &mut Vec<std::path::PathBuf>) {
 fn every_library_crate_is_in_the_order_and_depends_only_on_earlier_ones() {
     let crates = workspace_crates();
     let libs: Vec<_> = crates.iter().filter(|(n, _, _)| n != "tankwave").collect();
-    assert_eq!(libs.len(), ORDER.len(), "a crate is missing from ORDER: {libs:?}");
+    assert_eq!(
+        libs.len(),
+        ORDER.len(),
+        "a crate is missing from ORDER: {libs:?}"
+    );
     for (name, deps, _) in libs {
         let rank = ORDER
             .iter()
@@ -93,7 +103,10 @@ fn every_library_crate_is_in_the_order_and_depends_only_on_earlier_ones() {
                 .iter()
                 .position(|o| o == d)
                 .unwrap_or_else(|| panic!("{name} depends on {d}, which is not a library crate"));
-            assert!(dr < rank, "layering: {name} depends on {d}, which comes after it");
+            assert!(
+                dr < rank,
+                "layering: {name} depends on {d}, which comes after it"
+            );
         }
     }
 }
@@ -110,7 +123,11 @@ fn nothing_after_elaboration_reads_the_syntax_tree() {
         );
         let mut files = Vec::new();
         rust_files(&src, &mut files);
-        assert!(!files.is_empty(), "{name}: no sources under {}", src.display());
+        assert!(
+            !files.is_empty(),
+            "{name}: no sources under {}",
+            src.display()
+        );
         for f in files {
             let text = std::fs::read_to_string(&f).expect("readable source");
             assert!(
@@ -135,10 +152,15 @@ fn library_crates_never_print() {
             for (i, line) in text.lines().enumerate() {
                 let code = line.split("//").next().unwrap_or("");
                 for mac in ["println!", "eprintln!", "print!", "eprint!", "dbg!"] {
-                    let hit = code.match_indices(mac).any(|(at, _)| {
-                        at == 0 || !code.as_bytes()[at - 1].is_ascii_alphanumeric()
-                    });
-                    assert!(!hit, "{}:{}: a library crate prints ({mac})", f.display(), i + 1);
+                    let hit = code
+                        .match_indices(mac)
+                        .any(|(at, _)| at == 0 || !code.as_bytes()[at - 1].is_ascii_alphanumeric());
+                    assert!(
+                        !hit,
+                        "{}:{}: a library crate prints ({mac})",
+                        f.display(),
+                        i + 1
+                    );
                 }
             }
         }

@@ -25,7 +25,7 @@ pub mod upgrade;
 
 pub use elaborate::{elaborate, load_file, load_str, Elaborated, LoadError};
 pub use ir::*;
-pub use tankwave_netlist::{parse_file, parse_str, Diagnostic, Parsed, Severity, SourceMap};
 /// Escaping of text for the terminal (control characters, bidi overrides),
 /// shared with later layers so that they never need the parser crate.
 pub use tankwave_netlist::escape;
+pub use tankwave_netlist::{parse_file, parse_str, Diagnostic, Parsed, Severity, SourceMap};

@@ -47,7 +47,11 @@ pub(crate) fn collect(parsed: &Parsed) -> BTreeMap<String, String> {
             _ => continue,
         };
         if let Some(u) = u {
-            let table = if is_let { &mut from_let } else { &mut from_range };
+            let table = if is_let {
+                &mut from_let
+            } else {
+                &mut from_range
+            };
             table.entry(name.clone()).or_insert(u);
         }
     }
