@@ -1148,3 +1148,40 @@ fn resume_refuses_records_made_with_other_settings() {
     assert_eq!(code(&o), 2, "{}", stderr(&o));
     assert!(stderr(&o).contains("included file"), "{}", stderr(&o));
 }
+
+#[test]
+fn commands_that_print_voltages_or_powers_show_the_caution_once_unless_asked_not_to() {
+    let check = root().join("tests/data/check/pass.tank");
+    let study = root().join("tests/data/study/sweep.tank");
+    let tune = data("tune/tank.tank");
+    let commands: Vec<Vec<&str>> = vec![
+        vec!["check", p(&check)],
+        vec!["study", p(&study)],
+        vec!["tune", p(&tune)],
+        vec![
+            "design", "match", "--from", "6Ohm", "--to", "50Ohm", "--freq", "14.2MHz", "--shape",
+            "l", "--power", "10W",
+        ],
+        vec![
+            "design", "lowpass", "--kind", "butterworth", "--order", "5", "--cutoff", "20MHz",
+            "--power", "10W",
+        ],
+    ];
+    // the one caution text `run` also prints in its report
+    let caution = tankwave_report::stage::SAFETY_NOTE;
+    for args in &commands {
+        let o = run(args);
+        // the sweep study fails a requirement by design (exit 1)
+        assert!(code(&o) <= 1, "{args:?}: {}{}", stdout(&o), stderr(&o));
+        assert_eq!(stderr(&o).matches(caution).count(), 1, "{args:?}: {}", stderr(&o));
+        assert!(!stdout(&o).contains(caution), "{args:?}: on stderr only");
+        let mut quiet = vec!["--no-caution"];
+        quiet.extend(args.iter().copied());
+        let o = run(&quiet);
+        assert!(code(&o) <= 1, "{quiet:?}: {}", stderr(&o));
+        assert!(!stderr(&o).contains("Caution"), "{quiet:?}: {}", stderr(&o));
+    }
+    // `run` keeps it in its report
+    let o = run(&["run", p(&check)]);
+    assert!(stdout(&o).contains(caution), "{}", stdout(&o));
+}
