@@ -1163,8 +1163,16 @@ fn commands_that_print_voltages_or_powers_show_the_caution_once_unless_asked_not
             "l", "--power", "10W",
         ],
         vec![
-            "design", "lowpass", "--kind", "butterworth", "--order", "5", "--cutoff", "20MHz",
-            "--power", "10W",
+            "design",
+            "lowpass",
+            "--kind",
+            "butterworth",
+            "--order",
+            "5",
+            "--cutoff",
+            "20MHz",
+            "--power",
+            "10W",
         ],
     ];
     // the one caution text `run` also prints in its report
@@ -1173,7 +1181,12 @@ fn commands_that_print_voltages_or_powers_show_the_caution_once_unless_asked_not
         let o = run(args);
         // the sweep study fails a requirement by design (exit 1)
         assert!(code(&o) <= 1, "{args:?}: {}{}", stdout(&o), stderr(&o));
-        assert_eq!(stderr(&o).matches(caution).count(), 1, "{args:?}: {}", stderr(&o));
+        assert_eq!(
+            stderr(&o).matches(caution).count(),
+            1,
+            "{args:?}: {}",
+            stderr(&o)
+        );
         assert!(!stdout(&o).contains(caution), "{args:?}: on stderr only");
         let mut quiet = vec!["--no-caution"];
         quiet.extend(args.iter().copied());
@@ -1184,4 +1197,21 @@ fn commands_that_print_voltages_or_powers_show_the_caution_once_unless_asked_not
     // `run` keeps it in its report
     let o = run(&["run", p(&check)]);
     assert!(stdout(&o).contains(caution), "{}", stdout(&o));
+}
+
+#[test]
+fn lint_states_frequencies_in_a_message_with_an_si_prefix() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join("rev.tank");
+    std::fs::write(
+        &f,
+        "voltage v1 a gnd wave=sine(amp=1V, freq=14.2MHz)\nresistor r1 a gnd 50Ohm\n\
+         analyze ac from=14.2MHz to=1MHz points=3 source=v1\n",
+    )
+    .unwrap();
+    let o = run(&["lint", p(&f)]);
+    assert_eq!(code(&o), 2);
+    let e = stderr(&o);
+    assert!(e.contains("from=14.20 MHz to=1.000 MHz"), "{e}");
+    assert!(!e.contains("e7"), "{e}");
 }
