@@ -30,6 +30,22 @@ struct Cli {
     /// command line or its parents up to the enclosing repository root.
     #[arg(long = "include-root", value_name = "DIR", global = true)]
     include_roots: Vec<std::path::PathBuf>,
+    /// Leave out the safety caution that `check`, `study`, `tune`,
+    /// `design match` and `design lowpass` print on stderr (for CI logs;
+    /// `run` keeps it in its report).
+    #[arg(long = "no-caution", global = true)]
+    no_caution: bool,
+}
+
+/// Whether a command prints voltages or powers of a stage, and so shows the
+/// safety caution on stderr (`run` carries it in its report instead).
+fn shows_caution(c: &Command) -> bool {
+    use cmd::design::DesignCommand;
+    match c {
+        Command::Check(_) | Command::Study(_) | Command::Tune(_) => true,
+        Command::Design(d) => matches!(d.what, DesignCommand::Match(_) | DesignCommand::Lowpass(_)),
+        Command::Lint(_) | Command::Run(_) | Command::Merge(_) | Command::Upgrade(_) => false,
+    }
 }
 
 #[derive(Subcommand, Debug)]
@@ -70,6 +86,10 @@ fn main() -> ExitCode {
         }
     };
     pipeline::set_include_roots(cli.include_roots.clone());
+    if !cli.no_caution && shows_caution(&cli.command) {
+        // the same single text `run` prints in its report
+        eprintln!("{}", tankwave_report::stage::SAFETY_NOTE);
+    }
     let code = match cli.command {
         Command::Lint(a) => cmd::lint::run(&a),
         Command::Run(a) => cmd::run::run(&a),

@@ -91,7 +91,8 @@ pub struct TuneArgs {
     /// Tune at this fraction of the drive amplitude, then report at full drive (as on the bench).
     #[arg(long, value_name = "FRACTION")]
     pub search_drive: Option<f64>,
-    /// Most optimiser iterations.
+    /// Most optimiser iterations per start (the search restarts once from
+    /// its best point, so a run allows twice this many; the result says so).
     #[arg(long, default_value_t = 200)]
     pub max_iters: u64,
     /// Write SVG plots of the goal around the optimum to this directory: the
@@ -462,7 +463,10 @@ pub fn run(a: &StudyArgs) -> i32 {
         &file,
         &info,
     ));
-    common::show(&tankwave_report::batch::summary_text(&summary));
+    common::show(&tankwave_report::batch::summary_text(
+        &summary,
+        &assemble::variant::requirement_units(&loaded.circuit),
+    ));
     if summary.failed > 0 || summary.passed_all < summary.variants {
         FAILED
     } else {
@@ -633,7 +637,17 @@ pub fn tune(a: &TuneArgs) -> i32 {
         loaded.circuit.title.as_deref(),
         &file,
     ));
-    common::show(&tankwave_report::batch::tune_text(&r));
+    let units: BTreeMap<String, String> = ranges
+        .iter()
+        .map(|t| {
+            let u = cli_units
+                .get(&t.param)
+                .cloned()
+                .unwrap_or_else(|| assemble::units::param_unit(&loaded.circuit, &t.param));
+            (t.param.clone(), u)
+        })
+        .collect();
+    common::show(&tankwave_report::batch::tune_text(&r, &units));
     if let Some(dir) = &a.plots {
         let map = match study::map_around(&ranges, &r.optimum, objective, &map_params) {
             Ok(m) => m,
@@ -650,16 +664,6 @@ pub fn tune(a: &TuneArgs) -> i32 {
                 map.first_failure.as_deref().unwrap_or("no message")
             );
         }
-        let units = ranges
-            .iter()
-            .map(|t| {
-                let u = cli_units
-                    .get(&t.param)
-                    .cloned()
-                    .unwrap_or_else(|| assemble::units::param_unit(&loaded.circuit, &t.param));
-                (t.param.clone(), u)
-            })
-            .collect();
         let drawn = assemble::tune_figures(&file, goal, &map, &r.optimum, &units);
         let files = visual::drawn_files(Some(dir), &drawn);
         let inputs = tankwave_report::outputs::Inputs::new(&pipeline::input_files(&a.file));

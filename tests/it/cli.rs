@@ -542,7 +542,8 @@ fn tune_finds_the_resonance_of_a_simple_tank() {
         .lines()
         .find(|l| l.starts_with("ctank "))
         .expect("optimum row");
-    let c: f64 = line.split_whitespace().nth(1).unwrap().parse().unwrap();
+    let mut w = line.split_whitespace().skip(1);
+    let c = si_value(w.next().unwrap(), w.next().unwrap(), "F");
     // resonance C = 1/((2 pi f)^2 L) with f = 1 MHz, L = 10 uH (any circuit-analysis text).
     // The stage is linear and solved by harmonic balance, which is exact for it,
     // so two errors remain: the tuner stops when the simplex costs agree to
@@ -582,7 +583,127 @@ fn optimum(out: &str, name: &str) -> f64 {
         .lines()
         .find(|l| l.starts_with(&format!("{name} ")))
         .unwrap_or_else(|| panic!("no optimum row for {name} in:\n{out}"));
-    line.split_whitespace().nth(1).unwrap().parse().unwrap()
+    let mut w = line.split_whitespace().skip(1);
+    si_value(w.next().unwrap(), w.next().unwrap(), "F")
+}
+
+/// The value of `number` written with `unit`, an SI-prefixed form of `base`
+/// (e.g. "2.5330", "nF", "F" gives 2.533e-9).
+fn si_value(number: &str, unit: &str, base: &str) -> f64 {
+    let prefix = unit
+        .strip_suffix(base)
+        .unwrap_or_else(|| panic!("'{unit}' is not a unit of {base}"));
+    let scale = match prefix {
+        "" => 1.0,
+        "f" => 1e-15,
+        "p" => 1e-12,
+        "n" => 1e-9,
+        "µ" | "u" => 1e-6,
+        "m" => 1e-3,
+        "k" => 1e3,
+        "M" => 1e6,
+        "G" => 1e9,
+        other => panic!("unknown SI prefix '{other}'"),
+    };
+    number.parse::<f64>().expect("a number") * scale
+}
+
+/// Decimal numbers in `line` (a number with a point or an exponent) that no
+/// unit follows; counts (whole numbers) and `#` indices are not checked.
+fn bare_decimals(line: &str) -> Vec<String> {
+    let tokens: Vec<&str> = line
+        .split_whitespace()
+        .map(|t| t.trim_end_matches([',', ';', ')']).trim_start_matches('('))
+        .collect();
+    let is_decimal = |t: &str| t.parse::<f64>().is_ok() && (t.contains('.') || t.contains('e'));
+    let is_unit = |t: &str| !t.is_empty() && t.parse::<f64>().is_err() && t != "—";
+    tokens
+        .iter()
+        .enumerate()
+        .filter(|(i, t)| is_decimal(t) && !tokens.get(i + 1).is_some_and(|u| is_unit(u)))
+        .map(|(_, t)| t.to_string())
+        .collect()
+}
+
+#[test]
+fn study_summary_prints_every_figure_and_margin_with_its_unit() {
+    let dir = tempfile::tempdir().unwrap();
+    let o = run(&[
+        "study",
+        p(&root().join("netlists/studies/classc-supply-and-parts.tank")),
+        "--plots",
+        p(dir.path()),
+    ]);
+    assert!(code(&o) <= 1, "{}{}", stdout(&o), stderr(&o));
+    let s = stdout(&o);
+    for line in s.lines() {
+        // VSWR is a plain ratio: it has no unit
+        if line.starts_with("input_vswr") {
+            continue;
+        }
+        assert!(
+            bare_decimals(line).is_empty(),
+            "number without unit in '{line}'"
+        );
+    }
+    let row = |name: &str| {
+        s.lines()
+            .find(|l| l.starts_with(name))
+            .unwrap_or_else(|| panic!("no row {name} in:\n{s}"))
+            .to_string()
+    };
+    // efficiency is a fraction, printed in percent
+    assert!(row("efficiency ").contains(" %"), "{s}");
+    assert!(row("pout_w ").contains(" W"), "{s}");
+    // margins in the requirement's unit: a fraction in percentage points, power in W
+    assert!(row("require efficiency").contains("% points"), "{s}");
+    assert!(row("require pout").trim_end().ends_with('W'), "{s}");
+    // the histogram's limit label reads 55 % for `efficiency >= 55%`
+    let svg = std::fs::read_to_string(dir.path().join("hist-efficiency.svg")).unwrap();
+    let doc = roxmltree::Document::parse(&svg).unwrap();
+    let texts = svg_texts(&doc);
+    assert!(texts.iter().any(|t| t == "limit 55 %"), "{texts:?}");
+}
+
+#[test]
+fn tune_prints_values_with_units_and_the_iterations_it_allowed() {
+    let o = run(&[
+        "tune",
+        p(&data("tune/lmatch.tank")),
+        "--max-iters",
+        "20",
+        "--param",
+        "ctune=3nF:12nF",
+        "--param",
+        "cload=4000pF:16000pF",
+    ]);
+    assert_eq!(code(&o), 0, "{}{}", stdout(&o), stderr(&o));
+    let s = stdout(&o);
+    for line in s.lines() {
+        if line.starts_with("At the optimum") {
+            // the VSWR at the end is a plain ratio
+            let (figures, _vswr) = line.split_once("input VSWR").unwrap();
+            assert!(bare_decimals(figures).is_empty(), "'{line}'");
+        } else {
+            assert!(
+                bare_decimals(line).is_empty(),
+                "number without unit in '{line}'"
+            );
+        }
+    }
+    // 20 iterations per start, two starts (the first and one restart)
+    assert!(s.contains(" of 40 allowed iterations"), "{s}");
+    for name in ["ctune", "cload"] {
+        let row = s
+            .lines()
+            .find(|l| l.starts_with(&format!("{name} ")))
+            .unwrap();
+        assert!(row.trim_end().ends_with("nF"), "{row}");
+    }
+    assert!(
+        s.contains("output power 250 mW") || s.contains("output power 249"),
+        "{s}"
+    );
 }
 
 #[test]
@@ -714,11 +835,12 @@ fn study_report_is_self_contained_and_holds_the_summary() {
         "{rows:?}"
     );
     // figure statistics: the divider gives 0.2222 W at 25 and 100 ohm and 0.25 W at 50 ohm
+    // (mean 0.2315 W), printed to three significant digits with their unit
     let pout = rows
         .iter()
         .find(|r| r.first().map(String::as_str) == Some("pout_w"))
         .expect("pout_w statistics row");
-    assert_eq!(&pout[1..6], ["3", "0.2222", "0.2315", "0.2222", "0.2500"]);
+    assert_eq!(&pout[1..6], ["3", "222 mW", "231 mW", "222 mW", "250 mW"]);
     // the study's plots inline: a histogram and a sweep curve per figure, plus
     // the nominal stage's spectrum
     let captions: Vec<&str> = doc
@@ -1025,4 +1147,71 @@ fn resume_refuses_records_made_with_other_settings() {
     ]);
     assert_eq!(code(&o), 2, "{}", stderr(&o));
     assert!(stderr(&o).contains("included file"), "{}", stderr(&o));
+}
+
+#[test]
+fn commands_that_print_voltages_or_powers_show_the_caution_once_unless_asked_not_to() {
+    let check = root().join("tests/data/check/pass.tank");
+    let study = root().join("tests/data/study/sweep.tank");
+    let tune = data("tune/tank.tank");
+    let commands: Vec<Vec<&str>> = vec![
+        vec!["check", p(&check)],
+        vec!["study", p(&study)],
+        vec!["tune", p(&tune)],
+        vec![
+            "design", "match", "--from", "6Ohm", "--to", "50Ohm", "--freq", "14.2MHz", "--shape",
+            "l", "--power", "10W",
+        ],
+        vec![
+            "design",
+            "lowpass",
+            "--kind",
+            "butterworth",
+            "--order",
+            "5",
+            "--cutoff",
+            "20MHz",
+            "--power",
+            "10W",
+        ],
+    ];
+    // the one caution text `run` also prints in its report
+    let caution = tankwave_report::stage::SAFETY_NOTE;
+    for args in &commands {
+        let o = run(args);
+        // the sweep study fails a requirement by design (exit 1)
+        assert!(code(&o) <= 1, "{args:?}: {}{}", stdout(&o), stderr(&o));
+        assert_eq!(
+            stderr(&o).matches(caution).count(),
+            1,
+            "{args:?}: {}",
+            stderr(&o)
+        );
+        assert!(!stdout(&o).contains(caution), "{args:?}: on stderr only");
+        let mut quiet = vec!["--no-caution"];
+        quiet.extend(args.iter().copied());
+        let o = run(&quiet);
+        assert!(code(&o) <= 1, "{quiet:?}: {}", stderr(&o));
+        assert!(!stderr(&o).contains("Caution"), "{quiet:?}: {}", stderr(&o));
+    }
+    // `run` keeps it in its report
+    let o = run(&["run", p(&check)]);
+    assert!(stdout(&o).contains(caution), "{}", stdout(&o));
+}
+
+#[test]
+fn lint_states_frequencies_in_a_message_with_an_si_prefix() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join("rev.tank");
+    std::fs::write(
+        &f,
+        "voltage v1 a gnd wave=sine(amp=1V, freq=14.2MHz)\nresistor r1 a gnd 50Ohm\n\
+         analyze ac from=14.2MHz to=1MHz points=3 source=v1\n",
+    )
+    .unwrap();
+    let o = run(&["lint", p(&f)]);
+    assert_eq!(code(&o), 2);
+    let e = stderr(&o);
+    assert!(e.contains("from=14.20 MHz to=1.000 MHz"), "{e}");
+    assert!(!e.contains("e7"), "{e}");
 }

@@ -1189,9 +1189,9 @@ impl<'a> Cx<'a> {
                         "bad-value",
                         kind.span,
                         format!(
-                            "ac sweep must go upward, got from={} Hz to={} Hz",
-                            fmt_num(from),
-                            fmt_num(to)
+                            "ac sweep must go upward, got from={} to={}",
+                            crate::si::si_prefixed(from, "Hz", 4),
+                            crate::si::si_prefixed(to, "Hz", 4)
                         ),
                     );
                     return None;
@@ -1997,9 +1997,9 @@ impl<'a> Cx<'a> {
                 "bad-value",
                 span,
                 format!(
-                    "frequency range must go upward, got {} Hz to {} Hz",
-                    fmt_num(x),
-                    fmt_num(y)
+                    "frequency range must go upward, got {} to {}",
+                    crate::si::si_prefixed(x, "Hz", 4),
+                    crate::si::si_prefixed(y, "Hz", 4)
                 ),
             );
             return None;

@@ -20,6 +20,7 @@ pub mod elaborate;
 pub mod ir;
 pub mod models;
 pub mod param_units;
+pub mod si;
 mod topology;
 pub mod upgrade;
 

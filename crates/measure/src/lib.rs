@@ -47,4 +47,4 @@ pub use metrics::{
 };
 pub use period::PeriodData;
 pub use spectrum::{spectrum, Spectrum};
-pub use verdict::{evaluate, evaluate_one, Unit, Verdict};
+pub use verdict::{evaluate, evaluate_one, metric_unit, Unit, Verdict};

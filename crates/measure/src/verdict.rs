@@ -175,7 +175,8 @@ fn metric_name(c: &Circuit, m: &Metric) -> String {
     }
 }
 
-fn metric_unit(m: &Metric) -> Unit {
+/// The unit of a requirement's value, limit and margin for `m`.
+pub fn metric_unit(m: &Metric) -> Unit {
     match m {
         Metric::Pout | Metric::Pdc | Metric::Dissipation(_) => Unit::Watt,
         Metric::Efficiency | Metric::Pae | Metric::Thd | Metric::Stress(_) => Unit::Fraction,

@@ -3,9 +3,12 @@
 //! requirement) and the tuning result, as terminal text, and the summary as
 //! sections of the HTML report ([`study_sections`]).
 
-use crate::format::fixed;
+use crate::assemble::variant::show_figure;
+use crate::format::{fixed, si};
 use crate::html::{Figure, PlainTable, StudySection};
 use crate::table::{Align, Table};
+use std::collections::BTreeMap;
+use tankwave_measure::Unit;
 use tankwave_study::{RunInfo, Summary, TuneResult};
 
 fn num(v: f64) -> String {
@@ -44,8 +47,18 @@ pub fn study_heading(title: Option<&str>, file: &str, info: &RunInfo) -> String 
     )
 }
 
-/// The summary of a study as text.
-pub fn summary_text(s: &Summary) -> String {
+/// A requirement's worst margin in the requirement's unit (`units` maps a
+/// requirement text to it); a bare number only when the unit is unknown.
+fn margin_text(units: &BTreeMap<String, Unit>, name: &str, m: f64) -> String {
+    match units.get(name) {
+        Some(u) if m.is_finite() => u.show_margin(m),
+        _ => num(m),
+    }
+}
+
+/// The summary of a study as text; `units` gives each requirement's unit
+/// (requirement text → unit) so that margins print with it.
+pub fn summary_text(s: &Summary, units: &BTreeMap<String, Unit>) -> String {
     let mut out = format!(
         "{} variants, {} failed to solve; {} pass every requirement (yield {})\n\n",
         s.variants,
@@ -71,8 +84,9 @@ pub fn summary_text(s: &Summary) -> String {
     }
     let mut t = Table::new(headers);
     for (name, f) in &s.figures {
-        let mut row = vec![name.clone(), num(f.min), num(f.median), num(f.max)];
-        row.extend(f.percentiles.iter().map(|(_, v)| num(*v)));
+        let show = |v: f64| show_figure(name, v);
+        let mut row = vec![name.clone(), show(f.min), show(f.median), show(f.max)];
+        row.extend(f.percentiles.iter().map(|(_, v)| show(*v)));
         t.row(row);
     }
     out.push_str(&t.render());
@@ -89,7 +103,7 @@ pub fn summary_text(s: &Summary) -> String {
                 name.clone(),
                 format!("{} of {}", r.passed, r.evaluated),
                 format!("#{}", r.worst_index),
-                num(r.worst_margin),
+                margin_text(units, name, r.worst_margin),
             ]);
         }
         out.push_str(&t.render());
@@ -102,7 +116,13 @@ pub fn summary_text(s: &Summary) -> String {
 /// statistics of every figure (count, min, mean, median, max and the
 /// summary's percentiles) followed by `figures` (histograms, sweep curves).
 /// `heading` names the study, e.g. "Monte Carlo over stage.tank".
-pub fn study_sections(s: &Summary, heading: &str, figures: Vec<Figure>) -> Vec<StudySection> {
+/// `units` gives each requirement's unit as for [`summary_text`].
+pub fn study_sections(
+    s: &Summary,
+    units: &BTreeMap<String, Unit>,
+    heading: &str,
+    figures: Vec<Figure>,
+) -> Vec<StudySection> {
     let mut lines = vec![
         ("variants".to_string(), s.variants.to_string()),
         ("failed to solve".to_string(), s.failed.to_string()),
@@ -140,7 +160,7 @@ pub fn study_sections(s: &Summary, heading: &str, figures: Vec<Figure>) -> Vec<S
                     (r.evaluated - r.passed.min(r.evaluated)).to_string(),
                     s.variants.saturating_sub(r.evaluated).to_string(),
                     format!("#{}", r.worst_index),
-                    num(r.worst_margin),
+                    margin_text(units, name, r.worst_margin),
                 ]
             })
             .collect(),
@@ -162,15 +182,16 @@ pub fn study_sections(s: &Summary, heading: &str, figures: Vec<Figure>) -> Vec<S
             .figures
             .iter()
             .map(|(name, f)| {
+                let show = |v: f64| show_figure(name, v);
                 let mut r = vec![
                     name.clone(),
                     f.count.to_string(),
-                    num(f.min),
-                    num(f.mean),
-                    num(f.median),
-                    num(f.max),
+                    show(f.min),
+                    show(f.mean),
+                    show(f.median),
+                    show(f.max),
                 ];
-                r.extend(f.percentiles.iter().map(|(_, v)| num(*v)));
+                r.extend(f.percentiles.iter().map(|(_, v)| show(*v)));
                 r
             })
             .collect(),
@@ -191,22 +212,31 @@ pub fn study_sections(s: &Summary, heading: &str, figures: Vec<Figure>) -> Vec<S
     ]
 }
 
-/// The result of a tuning run as text.
-pub fn tune_text(r: &TuneResult) -> String {
+/// A parameter value with its unit (empty when none is known), five
+/// significant digits so that a tuned value can be written back.
+fn param_value(v: f64, unit: &str) -> String {
+    tankwave_measure::units::si_prefixed(v, unit, 5)
+}
+
+/// The result of a tuning run as text. `units` gives each parameter's unit
+/// (from the file or the `--param` range).
+pub fn tune_text(r: &TuneResult, units: &BTreeMap<String, String>) -> String {
+    let unit = |k: &str| units.get(k).map(String::as_str).unwrap_or("");
     let mut out = format!(
-        "Tuning {} after {} iterations ({} evaluations, {} failed)\n",
+        "Tuning {} after {} of {} allowed iterations ({} evaluations, {} failed)\n",
         if r.converged {
             "converged"
         } else {
             "stopped without converging"
         },
         r.iterations,
+        r.allowed_iterations,
         r.evaluations,
         r.failed_evaluations
     );
     let mut t = Table::new(vec![("parameter", Align::Left), ("optimum", Align::Right)]);
     for (k, v) in &r.optimum {
-        t.row(vec![k.clone(), num(*v)]);
+        t.row(vec![k.clone(), param_value(*v, unit(k))]);
     }
     out.push_str(&t.render());
     if !r.at_bound.is_empty() {
@@ -216,11 +246,14 @@ pub fn tune_text(r: &TuneResult) -> String {
         ));
     }
     out.push_str(&format!(
-        "\nAt the optimum (full drive): output power {} W, efficiency {}, input VSWR {}\n",
-        r.figures.pout.map(num).unwrap_or_else(|| "—".into()),
+        "\nAt the optimum (full drive): output power {}, efficiency {}, input VSWR {}\n",
+        r.figures
+            .pout
+            .map(|p| si(p, "W"))
+            .unwrap_or_else(|| "—".into()),
         r.figures
             .efficiency
-            .map(|e| fixed(e * 100.0, 1, "%"))
+            .map(crate::format::percent)
             .unwrap_or_else(|| "—".into()),
         r.figures.input_vswr.map(num).unwrap_or_else(|| "—".into())
     ));
@@ -235,7 +268,7 @@ pub fn tune_text(r: &TuneResult) -> String {
         for s in &r.sharpness {
             t.row(vec![
                 s.param.clone(),
-                num(s.step),
+                param_value(s.step, unit(&s.param)),
                 s.minus
                     .map(|v| fixed(v * 100.0, 3, "%"))
                     .unwrap_or_else(|| "—".into()),

@@ -19,6 +19,18 @@ pub fn fixed(v: f64, decimals: usize, unit: &str) -> String {
     }
 }
 
+/// A fraction in percent with three significant digits, e.g.
+/// `percent(0.7538)` → `"75.4 %"`, `percent(-0.1037)` → `"-10.4 %"`.
+pub fn percent(v: f64) -> String {
+    if !v.is_finite() {
+        return "—".to_string();
+    }
+    format!(
+        "{} %",
+        tankwave_measure::units::si_prefixed(v * 100.0, "", 3)
+    )
+}
+
 /// Decibels with one decimal and a unit such as `dBc` or `dBm`; very small
 /// levels print as `< -200 dBc` instead of -inf.
 pub fn db(v: f64, unit: &str) -> String {
@@ -52,5 +64,8 @@ mod tests {
         assert_eq!(db(-43.04, "dBc"), "-43.0 dBc");
         assert_eq!(db(f64::NEG_INFINITY, "dBc"), "< -200 dBc");
         assert_eq!(fixed(61.234, 1, "%"), "61.2 %");
+        assert_eq!(percent(0.7538), "75.4 %");
+        assert_eq!(percent(-0.1037), "-10.4 %");
+        assert_eq!(percent(0.004), "0.400 %");
     }
 }

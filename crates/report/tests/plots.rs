@@ -559,6 +559,9 @@ fn study_sections_and_a_study_report() {
     .unwrap();
     let sections = tankwave_report::batch::study_sections(
         &summary,
+        &[("pout >= 2W".to_string(), tankwave_measure::Unit::Watt)]
+            .into_iter()
+            .collect(),
         "Study of demo-stage.tw",
         vec![Figure {
             caption: "Histogram of pout_w".into(),
@@ -576,10 +579,10 @@ fn study_sections_and_a_study_report() {
     assert!(lines.contains(&("pass every requirement", "2 of 4")));
     assert!(lines.contains(&("yield", "50.0 %")));
     let req = sections[0].table.as_ref().unwrap();
-    // passed, failed, not evaluated, worst variant, worst margin (1 − 2 = −1)
+    // passed, failed, not evaluated, worst variant, worst margin (1 W − 2 W = −1 W)
     assert_eq!(
         req.rows,
-        vec![vec!["pout >= 2W", "2", "1", "1", "#0", "-1.0000"]]
+        vec![vec!["pout >= 2W", "2", "1", "1", "#0", "-1.000 W"]]
     );
     let stats = sections[1].table.as_ref().unwrap();
     assert_eq!(
@@ -590,7 +593,7 @@ fn study_sections_and_a_study_report() {
     assert_eq!(
         stats.rows,
         vec![vec![
-            "pout_w", "3", "1.0000", "2.0000", "2.0000", "3.0000", "2.0000"
+            "pout_w", "3", "1.00 W", "2.00 W", "2.00 W", "3.00 W", "2.00 W"
         ]]
     );
     assert_eq!(sections[1].figures.len(), 1);

@@ -183,6 +183,9 @@ pub struct TuneResult {
     pub goal_value: f64,
     /// Nelder–Mead iterations over all starts.
     pub iterations: u64,
+    /// The iterations the run allowed over all starts: `max_iters` per start
+    /// times the number of starts.
+    pub allowed_iterations: u64,
     /// Objective evaluations (search, report and sharpness).
     pub evaluations: u64,
     /// Evaluations that failed.
@@ -473,6 +476,7 @@ where
         search_figures,
         goal_value,
         iterations,
+        allowed_iterations: params.max_iters.saturating_mul(params.restarts as u64 + 1),
         evaluations: counted.evaluations.load(Ordering::Relaxed),
         failed_evaluations: counted.failures.load(Ordering::Relaxed),
         converged,

@@ -9,7 +9,7 @@ use tankwave_study::{Record, RunInfo, Shard, Summary};
 
 use super::stage::{mask_evaluations, StageResults};
 use super::units::{element_unit, param_unit};
-use super::variant::{figure_limit, figure_unit};
+use super::variant::{figure_is_fraction, figure_limit, figure_unit};
 use super::{safe_name, Drawn, NamedFigure};
 use crate::html::{Figure, Provenance, ReportInput};
 use crate::plot::{self, PlotParams};
@@ -39,12 +39,21 @@ pub fn study_figures(file: &str, c: &Circuit, records: &[Record]) -> Drawn {
         })
         .collect();
     for name in &names {
+        // fractions (efficiency, PAE, THD) are drawn in percent
+        let (scale, unit) = if figure_is_fraction(name) {
+            (100.0, "%")
+        } else {
+            (1.0, figure_unit(name))
+        };
         let values: Vec<f64> = records
             .iter()
-            .filter_map(|r| r.metrics.get(name).copied())
+            .filter_map(|r| r.metrics.get(name).map(|v| v * scale))
             .collect();
         let safe = safe_name(name);
-        let limit = figure_limit(c, name);
+        let limit = figure_limit(c, name).map(|l| plot::Limit {
+            value: l.value * scale,
+            ..l
+        });
         let limit_note = if limit.is_some() {
             "; dashed: the requirement limit"
         } else {
@@ -53,7 +62,7 @@ pub fn study_figures(file: &str, c: &Circuit, records: &[Record]) -> Drawn {
         let spec = plot::HistogramSpec {
             title: format!("{name} over {} variants", values.len()),
             name: name.clone(),
-            unit: figure_unit(name).to_string(),
+            unit: unit.to_string(),
             limit: limit.clone(),
             bins: None,
         };
@@ -74,7 +83,7 @@ pub fn study_figures(file: &str, c: &Circuit, records: &[Record]) -> Drawn {
             .filter_map(|r| {
                 let x = *r.values.get(x_key)?;
                 let g = g_key.and_then(|k| r.values.get(k).copied()).unwrap_or(0.0);
-                Some((x, g, *r.metrics.get(name)?))
+                Some((x, g, *r.metrics.get(name)? * scale))
             })
             .collect();
         let curves = plot::SweepCurves {
@@ -82,7 +91,7 @@ pub fn study_figures(file: &str, c: &Circuit, records: &[Record]) -> Drawn {
             x_name: x_key.clone(),
             x_unit: x_unit.clone(),
             y_name: name.clone(),
-            y_unit: figure_unit(name).to_string(),
+            y_unit: unit.to_string(),
             curves: plot::SweepCurves::group(&pts, g_key.map(|s| s.as_str()).unwrap_or(""), ""),
             limit: limit.map(|l| (l.value, l.label)),
         };
@@ -182,8 +191,12 @@ pub fn study_report(c: &Circuit, r: StudyReport<'_>) -> String {
             svg: f.svg,
         })
         .collect();
-    let sections =
-        crate::batch::study_sections(r.summary, &format!("Study of {}", r.file), figures);
+    let sections = crate::batch::study_sections(
+        r.summary,
+        &super::variant::requirement_units(c),
+        &format!("Study of {}", r.file),
+        figures,
+    );
     let mut intro = vec![format!(
         "{}. This run recorded {} of them on {} threads.",
         study_description(c, r.total),

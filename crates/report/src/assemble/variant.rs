@@ -80,6 +80,36 @@ pub fn objective_figures(m: &Metrics) -> TuneFigures {
     }
 }
 
+/// The unit of each `require` of the stage, keyed by requirement text as
+/// study records key their verdicts, so that margins print with it.
+pub fn requirement_units(c: &Circuit) -> BTreeMap<String, tankwave_measure::Unit> {
+    c.requirements
+        .iter()
+        .map(|r| (r.text.clone(), tankwave_measure::metric_unit(&r.metric)))
+        .collect()
+}
+
+/// Whether a flattened figure is a plain fraction (efficiency, PAE, THD),
+/// which people read in percent.
+pub fn figure_is_fraction(name: &str) -> bool {
+    matches!(name, "efficiency" | "pae" | "thd")
+}
+
+/// A flattened figure for people: SI prefix and unit for W, V and A, two
+/// decimals for decibels, one for degrees, percent for fractions, three
+/// significant digits for a plain ratio (VSWR).
+pub fn show_figure(name: &str, v: f64) -> String {
+    if figure_is_fraction(name) {
+        return crate::format::percent(v);
+    }
+    match figure_unit(name) {
+        u @ ("W" | "V" | "A") => crate::format::si(v, u),
+        u @ ("dBc" | "dBm" | "dB") => crate::format::fixed(v, 2, u),
+        u @ ("deg" | "degC") => crate::format::fixed(v, 1, u),
+        u => tankwave_measure::units::si_prefixed(v, u, 3),
+    }
+}
+
 /// Unit of a flattened figure, from its name's suffix (empty for a ratio).
 pub fn figure_unit(name: &str) -> &'static str {
     if name.ends_with("_w") {

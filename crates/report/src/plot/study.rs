@@ -425,6 +425,10 @@ pub fn histogram_plot(
 /// unit; a ratio such as an efficiency plainly, trailing zeros dropped
 /// ("0.55", not "0.550").
 fn limit_text(v: f64, unit: &str) -> String {
+    if unit == "%" {
+        // a percentage reads plainly, without trailing zeros: "60 %"
+        return format!("{} %", limit_text(v, ""));
+    }
     let t = si(v, unit);
     if unit.is_empty() && t.contains('.') && !t.contains('e') {
         t.trim_end_matches('0').trim_end_matches('.').to_string()
@@ -443,5 +447,6 @@ mod tests {
         assert_eq!(limit_text(1234.6, ""), "1235");
         assert_eq!(limit_text(0.000123, ""), "0.000123");
         assert_eq!(limit_text(12.0, "W"), si(12.0, "W"));
+        assert_eq!(limit_text(60.0, "%"), "60 %");
     }
 }
