@@ -553,6 +553,12 @@ pub fn tune(a: &TuneArgs) -> i32 {
             return BAD_INPUT;
         }
     }
+    if let Some(f) = a.search_drive {
+        if !(f.is_finite() && f > 0.0 && f <= 1.0) {
+            eprintln!("error: --search-drive is a fraction of the drive amplitude, above 0 and at most 1; got {f}");
+            return BAD_INPUT;
+        }
+    }
     let loaded = match pipeline::load(&a.file, &Overrides::default()) {
         Ok(l) => l,
         Err(f) => return common::report_failure(&file, &f),
@@ -572,6 +578,21 @@ pub fn tune(a: &TuneArgs) -> i32 {
         };
         match (common::parse_value(&lo), common::parse_value(&hi)) {
             (Ok(from), Ok(to)) => {
+                if from >= to {
+                    eprintln!(
+                        "error: --param {name}: the range must run from a smaller to a larger \
+                         value, got {lo} to {hi}"
+                    );
+                    return BAD_INPUT;
+                }
+                if !loaded.circuit.params.contains_key(&name)
+                    && loaded.circuit.element(&name).is_none()
+                {
+                    eprintln!(
+                        "error: --param {name}: {file} has no parameter or element of that name"
+                    );
+                    return BAD_INPUT;
+                }
                 if let Some(u) = common::value_unit(&lo).or(common::value_unit(&hi)) {
                     cli_units.insert(name.clone(), assemble::units::unit_symbol(u).to_string());
                 }

@@ -310,3 +310,36 @@ fn two_stage_files_of_the_same_name_keep_their_own_plots() {
     assert_eq!(subs.len(), 2, "{subs:?}");
     assert!(subs.iter().all(|s| s.starts_with("stage-")), "{subs:?}");
 }
+
+/// `tune` refuses, before any solve, a `--param` range that is reversed or
+/// of zero width, one that names nothing in the file, and a `--search-drive`
+/// that is not a fraction in (0, 1] (NaN included): each is bad input
+/// (exit 2) with the option named, never a solver failure.
+#[test]
+fn tune_refuses_unusable_ranges_and_search_drive() {
+    let (_d, stage) = stage_copy();
+    let cases: &[(&[&str], &str)] = &[
+        (&["--param", "r1=100Ohm:10Ohm"], "--param r1"),
+        (&["--param", "r1=50Ohm:50Ohm"], "--param r1"),
+        (&["--param", "nosuch=1:2"], "no parameter or element"),
+        (
+            &["--param", "r1=10Ohm:100Ohm", "--search-drive", "NaN"],
+            "--search-drive",
+        ),
+        (
+            &["--param", "r1=10Ohm:100Ohm", "--search-drive", "0"],
+            "--search-drive",
+        ),
+        (
+            &["--param", "r1=10Ohm:100Ohm", "--search-drive", "1.5"],
+            "--search-drive",
+        ),
+    ];
+    for (extra, says) in cases {
+        let mut args = vec!["tune", p(&stage)];
+        args.extend_from_slice(extra);
+        let o = run(&args);
+        assert_eq!(code(&o), BAD_INPUT, "{extra:?}: {}", stderr(&o));
+        assert!(stderr(&o).contains(says), "{extra:?}: {}", stderr(&o));
+    }
+}
