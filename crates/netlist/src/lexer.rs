@@ -14,7 +14,7 @@ use nom::character::complete::{digit0, digit1, one_of, satisfy};
 use nom::combinator::{opt, recognize};
 use nom::{IResult, Parser};
 
-pub use crate::vocab::STATEMENT_KEYWORDS;
+use crate::vocab::is_statement_keyword;
 
 /// What a token is.
 #[derive(Debug, Clone, PartialEq)]
@@ -198,7 +198,7 @@ pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic
         if let Ok((r, name)) = ident(rest) {
             if line_start
                 && !stack.is_empty()
-                && STATEMENT_KEYWORDS.contains(&name)
+                && is_statement_keyword(name)
                 && !r.trim_start_matches([' ', '\t']).starts_with('=')
             {
                 // A statement keyword at the start of a line while a bracket is open:

@@ -11,7 +11,7 @@ use crate::diag::Diagnostic;
 use crate::lexer::{TokKind, Token};
 use crate::source::{SourceMap, Span};
 use crate::suggest::did_you_mean;
-use crate::vocab::{self, Place, ELEMENT_KINDS, STATEMENT_KEYWORDS, WAVEFORMS};
+use crate::vocab::{self, Place, ELEMENT_KINDS, WAVEFORMS};
 
 /// One parsed item of a file.
 #[derive(Debug, Clone, PartialEq)]
@@ -309,7 +309,7 @@ impl<'a> Parser<'a> {
                 return Err(());
             }
             _ => {
-                let help = did_you_mean(&kw, STATEMENT_KEYWORDS.iter());
+                let help = did_you_mean(&kw, vocab::statement_keywords());
                 let msg = if matches!(self.peek(), TokKind::Eq) {
                     format!(
                         "unknown statement '{kw}' (parameters are defined with 'let {kw} = ...')"

@@ -9,20 +9,13 @@
 //! the parser and elaborator name their replacement, and the `upgrade`
 //! module rewrites them.
 
-/// Statement keywords (a line starting with one of these begins a statement).
-pub const STATEMENT_KEYWORDS: &[&str] = &[
+/// Statement keywords other than the element kinds ([`ELEMENT_KINDS`]); a
+/// line starting with either begins a statement (see [`statement_keywords`]).
+pub const OTHER_STATEMENTS: &[&str] = &[
     "title",
     "ambient",
     "include",
     "let",
-    "resistor",
-    "capacitor",
-    "inductor",
-    "coupling",
-    "voltage",
-    "current",
-    "diode",
-    "bjt",
     "part",
     "output",
     "input",
@@ -35,7 +28,7 @@ pub const STATEMENT_KEYWORDS: &[&str] = &[
     "tune",
 ];
 
-/// The element statement keywords (a subset of [`STATEMENT_KEYWORDS`]).
+/// The element statement keywords.
 pub const ELEMENT_KINDS: &[&str] = &[
     "resistor",
     "capacitor",
@@ -46,6 +39,16 @@ pub const ELEMENT_KINDS: &[&str] = &[
     "diode",
     "bjt",
 ];
+
+/// Every statement keyword: the element kinds, then the other statements.
+pub fn statement_keywords() -> impl Iterator<Item = &'static &'static str> {
+    ELEMENT_KINDS.iter().chain(OTHER_STATEMENTS)
+}
+
+/// Whether `word` begins a statement.
+pub fn is_statement_keyword(word: &str) -> bool {
+    statement_keywords().any(|k| *k == word)
+}
 
 /// The options each element kind takes.
 pub const ELEMENT_OPTIONS: &[(&str, &[&str])] = &[
@@ -266,7 +269,8 @@ mod tests {
     #[test]
     fn every_element_kind_is_a_statement_and_has_options() {
         for k in ELEMENT_KINDS {
-            assert!(STATEMENT_KEYWORDS.contains(k), "{k}");
+            assert!(is_statement_keyword(k), "{k}");
+            assert!(!OTHER_STATEMENTS.contains(k), "{k} listed twice");
             assert!(ELEMENT_OPTIONS.iter().any(|(e, _)| e == k), "{k}");
         }
     }
@@ -275,7 +279,7 @@ mod tests {
     fn no_retired_spelling_is_a_current_word_in_its_place() {
         for r in RETIRED {
             match r.place {
-                Place::Statement => assert!(!STATEMENT_KEYWORDS.contains(&r.old)),
+                Place::Statement => assert!(!is_statement_keyword(r.old)),
                 Place::Waveform => assert!(waveform_args(r.old).is_none()),
                 Place::Analysis => assert!(analysis_options(r.old).is_none()),
                 Place::Option(kinds) => {
