@@ -272,7 +272,18 @@ pub fn lex(text: &str, file: FileId, map: &SourceMap, diags: &mut Vec<Diagnostic
                         "unknown-unit"
                     };
                     let help = if code == "unknown-unit" {
-                        Some("units: Ohm Ω F H V A W Hz s % dB dBm dBc degC deg; prefixes: f p n u µ m k M G T".to_string())
+                        let number = &text[pos..end - suf.len()];
+                        let tips = crate::units::suffix_suggestions(suf);
+                        Some(if tips.is_empty() {
+                            crate::units::suffix_help()
+                        } else {
+                            let tips: Vec<String> =
+                                tips.iter().map(|t| format!("{number}{t}")).collect();
+                            format!(
+                                "did you mean {}? (units are case-sensitive)",
+                                tips.join(" or ")
+                            )
+                        })
                     } else {
                         None
                     };
@@ -535,6 +546,19 @@ mod tests {
             codes,
             vec!["unknown-unit", "unterminated-string", "unexpected-close"]
         );
+    }
+
+    #[test]
+    fn a_wrong_case_unit_suggests_the_number_written_right() {
+        let (_, d) = kinds("a 10uh b 4.7kohms c 12xyz");
+        let helps: Vec<String> = d
+            .iter()
+            .map(|d| d.help.clone().unwrap_or_default())
+            .collect();
+        assert!(helps[0].contains("did you mean 10uH?"), "{helps:?}");
+        assert!(helps[1].contains("did you mean 4.7kOhm?"), "{helps:?}");
+        // No near spelling: the list of units and prefixes instead.
+        assert!(helps[2].contains("K is kelvin"), "{helps:?}");
     }
 
     #[test]

@@ -149,6 +149,59 @@ pub fn split_suffix(s: &str) -> Result<(i32, Option<Unit>), String> {
     Err(format!("'{s}' is not an SI prefix and/or a known unit"))
 }
 
+/// Spellings a suffix may mean when [`split_suffix`] refused it: the known
+/// prefix + unit spellings that equal it ignoring ASCII case, or ignoring a
+/// plural `s` (`uh` → `uH`, `pf` → `pF`, `ohms` → `Ohm`, `mhz` → `MHz` or
+/// `mHz`). The most plausible first: an upper-case `M` before a lower-case
+/// `m` for hertz (a radio frequency), the other way round otherwise.
+pub fn suffix_suggestions(s: &str) -> Vec<String> {
+    let singular = s.strip_suffix('s').filter(|r| !r.is_empty());
+    let matches = |cand: &str| {
+        cand.eq_ignore_ascii_case(s) || singular.is_some_and(|r| cand.eq_ignore_ascii_case(r))
+    };
+    let mut out: Vec<String> = Vec::new();
+    for (n, _) in UNITS {
+        if matches(n) {
+            out.push(n.to_string());
+        }
+    }
+    for (p, _) in PREFIXES {
+        for (n, u) in UNITS {
+            let cand = format!("{p}{n}");
+            if u.takes_prefix() && matches(&cand) && !out.contains(&cand) {
+                out.push(cand);
+            }
+        }
+        if matches(p) && !out.iter().any(|c| c == p) {
+            out.push(p.to_string());
+        }
+    }
+    let hertz = s.to_ascii_lowercase().ends_with("hz");
+    out.sort_by_key(|c| {
+        let upper_mega = c.starts_with('M');
+        // false sorts first: put the likely reading first.
+        if hertz {
+            !upper_mega
+        } else {
+            upper_mega
+        }
+    });
+    out.retain(|c| c != s);
+    out
+}
+
+/// The one-line list of units and prefixes that a bad suffix's help shows,
+/// derived from the tables above (one place per fact).
+pub fn suffix_help() -> String {
+    let units: Vec<&str> = UNITS.iter().map(|(n, _)| *n).collect();
+    let prefixes: Vec<&str> = PREFIXES.iter().map(|(p, _)| *p).collect();
+    format!(
+        "units: {}; prefixes: {} (kilo is a lower-case k; K is kelvin)",
+        units.join(" "),
+        prefixes.join(" ")
+    )
+}
+
 /// Convert a number written with `unit` to a plain SI number:
 /// `%` → fraction, `dBm` → W, `degC` → K; every other unit is already SI.
 pub fn to_si(value: f64, unit: Option<Unit>) -> f64 {
@@ -243,6 +296,40 @@ impl Slot {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A wrong-case or plural suffix gets the spelling it was meant to be
+    /// (common practice: SI symbols are case-sensitive, BIPM SI Brochure,
+    /// 9th ed. 2019, section 5.2, which is why they are not simply accepted).
+    #[test]
+    fn wrong_case_suffixes_get_suggestions() {
+        assert_eq!(suffix_suggestions("uh"), vec!["uH"]);
+        assert_eq!(suffix_suggestions("pf"), vec!["pF"]);
+        assert_eq!(suffix_suggestions("nf"), vec!["nF"]);
+        assert_eq!(suffix_suggestions("ohm"), vec!["Ohm"]);
+        assert_eq!(suffix_suggestions("ohms"), vec!["Ohm"]);
+        assert_eq!(suffix_suggestions("kohm"), vec!["kOhm"]);
+        // A frequency reads as mega first, anything else as milli first.
+        assert_eq!(suffix_suggestions("mhz"), vec!["MHz", "mHz"]);
+        assert!(suffix_suggestions("xyz").is_empty());
+        // Every suggestion is itself accepted.
+        for s in ["uh", "pf", "ohms", "mhz", "KHZ", "dbm", "hz"] {
+            for t in suffix_suggestions(s) {
+                assert!(split_suffix(&t).is_ok(), "{s} -> {t}");
+            }
+        }
+    }
+
+    /// The help line lists every unit and prefix of the tables.
+    #[test]
+    fn suffix_help_lists_the_tables() {
+        let h = suffix_help();
+        for (n, _) in UNITS {
+            assert!(h.contains(n), "{n} missing from {h}");
+        }
+        for (p, _) in PREFIXES {
+            assert!(h.contains(p), "{p} missing from {h}");
+        }
+    }
 
     /// Prefix values checked against the BIPM SI Brochure, 9th edition (2019),
     /// table 7 "SI prefixes": femto 10^-15, pico 10^-12, nano 10^-9,
