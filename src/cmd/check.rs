@@ -50,11 +50,8 @@ pub fn run(a: &CheckArgs) -> i32 {
         }
     };
     if let Some(dir) = &a.plots {
-        if !dir.is_dir() {
-            eprintln!(
-                "error: plot directory '{}' does not exist or is not a directory",
-                common::esc(&dir.display().to_string())
-            );
+        if let Err(e) = tankwave_report::files::ensure_output_dir(dir) {
+            eprintln!("error: plot directory: {e}");
             return BAD_INPUT;
         }
     }

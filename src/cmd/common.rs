@@ -51,7 +51,7 @@ pub fn check_outputs(
     inputs: &tankwave_report::outputs::Inputs,
 ) -> Result<(), i32> {
     for d in dirs {
-        if let Err(e) = tankwave_report::files::check_writable_dir(d) {
+        if let Err(e) = tankwave_report::files::ensure_output_dir(d) {
             eprintln!("error: output directory: {e}");
             return Err(BAD_INPUT);
         }

@@ -57,11 +57,8 @@ pub fn run(a: &RunArgs) -> i32 {
         }
     };
     for dir in [&a.out, &a.plots].into_iter().flatten() {
-        if !dir.is_dir() {
-            eprintln!(
-                "error: output directory '{}' does not exist or is not a directory",
-                common::esc(&dir.display().to_string())
-            );
+        if let Err(e) = tankwave_report::files::ensure_output_dir(dir) {
+            eprintln!("error: output directory: {e}");
             return BAD_INPUT;
         }
     }

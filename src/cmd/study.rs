@@ -315,14 +315,7 @@ pub fn run(a: &StudyArgs) -> i32 {
         }
     };
     if let Some(dir) = &a.plots {
-        if !dir.is_dir() {
-            eprintln!(
-                "error: plot directory '{}' does not exist or is not a directory",
-                dir.display()
-            );
-            return BAD_INPUT;
-        }
-        if let Err(e) = tankwave_report::files::check_writable_dir(dir) {
+        if let Err(e) = tankwave_report::files::ensure_output_dir(dir) {
             eprintln!("error: plot directory: {e}");
             return BAD_INPUT;
         }
@@ -548,7 +541,7 @@ pub fn tune(a: &TuneArgs) -> i32 {
             eprintln!("error: --plot-points/--plot-span: {e}");
             return BAD_INPUT;
         }
-        if let Err(e) = tankwave_report::files::check_writable_dir(dir) {
+        if let Err(e) = tankwave_report::files::ensure_output_dir(dir) {
             eprintln!("error: plot directory: {e}");
             return BAD_INPUT;
         }

@@ -3,7 +3,8 @@
 //! (`agreement`), the convergence sweep over the class-C demo
 //! (`convergence`), and a bounded solve of random small circuits
 //! (`fuzz_smoke`), hostile input from strangers (`hostile`), and the
-//! crate layering and syntax-tree boundary (`layering`). Data lives under
+//! crate layering and syntax-tree boundary (`layering`), and the README
+//! commands as written (`readme`). Data lives under
 //! tests/data/.
 
 mod agreement;
@@ -14,4 +15,5 @@ mod fuzz_smoke;
 mod harness;
 mod hostile;
 mod layering;
+mod readme;
 mod trade;

@@ -92,7 +92,9 @@ impl State {
 
 /// The default include roots of a stage file: its directory and that
 /// directory's parents up to the enclosing repository root (the nearest
-/// directory holding `.git`); without a repository, its directory only.
+/// directory holding `.git`); without a repository, its directory and its
+/// parents up to the current working directory when the file lies under it
+/// (an unpacked archive run from its top), else its directory only.
 /// Paths are canonical.
 pub fn default_include_roots(path: &Path) -> Vec<PathBuf> {
     let dir = match path.parent() {
@@ -108,6 +110,15 @@ pub fn default_include_roots(path: &Path) -> Vec<PathBuf> {
             return chain;
         }
         cur = d.parent();
+    }
+    if let Ok(cwd) = std::env::current_dir() {
+        let cwd = canonical(&cwd);
+        if dir.starts_with(&cwd) {
+            return chain
+                .into_iter()
+                .take_while(|d| d.starts_with(&cwd))
+                .collect();
+        }
     }
     vec![dir]
 }

@@ -9,7 +9,7 @@ use std::path::{Path, PathBuf};
 #[derive(Debug, thiserror::Error)]
 pub enum ReportError {
     /// The output directory or file could not be written.
-    #[error("cannot write '{path}': {source}")]
+    #[error("cannot write '{}': {source}", crate::escape_path(path))]
     Write {
         /// The path being written.
         path: PathBuf,
@@ -18,7 +18,7 @@ pub enum ReportError {
         source: std::io::Error,
     },
     /// A file was to be written where a directory is.
-    #[error("'{path}' is a directory")]
+    #[error("'{}' is a directory", crate::escape_path(path))]
     IsDirectory {
         /// The path given for the file.
         path: PathBuf,
@@ -114,6 +114,20 @@ pub fn check_writable_dir(dir: &Path) -> Result<(), ReportError> {
     }
     staging_file(dir).map_err(err)?;
     Ok(())
+}
+
+/// Make sure `dir` can take output files, creating it (and missing parents)
+/// when nothing exists at that path; then check it as
+/// [`check_writable_dir`] does. Something that exists and is not a
+/// directory is refused, never replaced.
+pub fn ensure_output_dir(dir: &Path) -> Result<(), ReportError> {
+    if std::fs::symlink_metadata(dir).is_err() {
+        std::fs::create_dir_all(dir).map_err(|source| ReportError::Write {
+            path: dir.to_path_buf(),
+            source,
+        })?;
+    }
+    check_writable_dir(dir)
 }
 
 /// Check, before any work is done, that a file can be written at `path`:
@@ -234,6 +248,20 @@ mod tests {
         std::fs::write(&file, b"x").unwrap();
         let e = check_writable_dir(&file).unwrap_err().to_string();
         assert!(e.contains("not a directory"), "{e}");
+    }
+
+    #[test]
+    fn output_directories_are_created_but_nothing_is_replaced() {
+        let dir = tempfile::tempdir().unwrap();
+        let nested = dir.path().join("a/b");
+        ensure_output_dir(&nested).unwrap();
+        assert!(nested.is_dir());
+        ensure_output_dir(&nested).unwrap();
+        let file = dir.path().join("plain");
+        std::fs::write(&file, b"x").unwrap();
+        let e = ensure_output_dir(&file).unwrap_err().to_string();
+        assert!(e.contains("not a directory"), "{e}");
+        assert_eq!(std::fs::read(&file).unwrap(), b"x");
     }
 
     #[test]
