@@ -12,7 +12,8 @@
 //!
 //! Modules: [`plan`] (numbering, segments), [`sample`] (reproducible
 //! tolerance draws), [`runner`], [`record`] (file format, resume, merge,
-//! CSV), [`summary`], [`mod@tune`].
+//! CSV), [`summary`], [`sensitivity`] (rank correlation of inputs and
+//! figures), [`mod@tune`].
 //!
 //! ```
 //! // Percentiles as numpy's default (linear between order statistics):
@@ -28,6 +29,7 @@ pub mod plan;
 pub mod record;
 pub mod runner;
 pub mod sample;
+pub mod sensitivity;
 pub mod summary;
 pub mod tune;
 
@@ -39,6 +41,7 @@ pub use record::{
     RecordSink, ResumeInfo, Shard, TeeSink, Verdict, SCHEMA, SCHEMA_VERSION,
 };
 pub use runner::{run_study, shard_indices, Outcome, Progress, RunInfo, StudyParams, WarmStart};
+pub use sensitivity::{spearman, Drivers};
 pub use summary::{
     percentile_sorted, FigureStats, RequirementStats, Summary, SummaryBuilder, SummarySink,
 };

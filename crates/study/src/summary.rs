@@ -13,10 +13,14 @@
 //!   h = (n − 1)·p/100, and the value is x_⌊h⌋ + (h − ⌊h⌋)·(x_⌊h⌋+1 − x_⌊h⌋).
 //! * For every requirement: how many variants passed, and the variant with
 //!   the smallest margin (the first such index on ties).
+//! * For every figure and every requirement's margin: the swept values and
+//!   tolerance factors that drive it, by rank correlation
+//!   ([`crate::sensitivity`]).
 
 use std::collections::BTreeMap;
 
 use crate::record::{Record, RecordSink};
+use crate::sensitivity::{Drivers, SensitivityBuilder};
 use crate::StudyError;
 
 /// Statistics of one figure.
@@ -64,6 +68,11 @@ pub struct Summary {
     pub figures: BTreeMap<String, FigureStats>,
     /// Statistics of every requirement, by its text.
     pub requirements: BTreeMap<String, RequirementStats>,
+    /// The inputs that drive each figure, by figure name (only figures
+    /// with a driver above the noise level).
+    pub figure_drivers: BTreeMap<String, Drivers>,
+    /// The inputs that drive each requirement's margin, by requirement text.
+    pub requirement_drivers: BTreeMap<String, Drivers>,
 }
 
 /// The `p`-th percentile (0..=100) of `sorted` (ascending, non-empty) by
@@ -88,12 +97,14 @@ pub fn percentile_sorted(sorted: &[f64], p: f64) -> Result<f64, StudyError> {
 }
 
 /// Builds a [`Summary`] one record at a time (e.g. straight from a
-/// [`crate::RecordReader`]), keeping only the figures' values (8 bytes per
-/// variant per figure), never the records.
+/// [`crate::RecordReader`]), keeping only the figures' values, the inputs
+/// and the margins (8 bytes each per variant), never the records.
 #[derive(Debug, Clone, Default)]
 pub struct SummaryBuilder {
     summary: Summary,
     values: BTreeMap<String, Vec<f64>>,
+    figure_drivers: SensitivityBuilder,
+    requirement_drivers: SensitivityBuilder,
 }
 
 impl SummaryBuilder {
@@ -118,6 +129,13 @@ impl SummaryBuilder {
                 self.values.entry(k.clone()).or_default().push(v);
             }
         }
+        self.figure_drivers.add(&r.values, &r.metrics);
+        let margins: BTreeMap<String, f64> = r
+            .verdicts
+            .iter()
+            .map(|(k, v)| (k.clone(), v.margin))
+            .collect();
+        self.requirement_drivers.add(&r.values, &margins);
         for (k, v) in &r.verdicts {
             if !v.margin.is_finite() {
                 continue;
@@ -146,6 +164,8 @@ impl SummaryBuilder {
             return Err(StudyError::BadPercentile { p });
         }
         let mut s = self.summary;
+        s.figure_drivers = self.figure_drivers.finish();
+        s.requirement_drivers = self.requirement_drivers.finish();
         if s.variants > 0 {
             s.yield_fraction = s.passed_all as f64 / s.variants as f64;
         }

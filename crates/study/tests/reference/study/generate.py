@@ -5,7 +5,8 @@ Writes reference.json, which the Rust tests read. Sources:
   * numpy.linspace / numpy.logspace for sweep points;
   * numpy.percentile(method="linear") (Hyndman & Fan definition 7) for percentiles;
   * scipy.stats.truncnorm for the moments of a normal truncated at +-3 sigma;
-  * scipy.stats.uniform for the moments of the uniform tolerance.
+  * scipy.stats.uniform for the moments of the uniform tolerance;
+  * scipy.stats.spearmanr for the rank correlations of the sensitivity table.
 """
 import json
 
@@ -49,6 +50,26 @@ out["truncnorm3"] = {"mean": float(m), "var": float(v), "excess_kurtosis": float
                      "beyond_1sigma": float(2.0 * tn.sf(1.0))}
 m, v, s, k = stats.uniform(loc=-1.0, scale=2.0).stats(moments="mvsk")
 out["uniform_pm1"] = {"mean": float(m), "var": float(v), "excess_kurtosis": float(k)}
+
+# Spearman rank correlation (scipy.stats.spearmanr: Pearson correlation of
+# the ranks, ties given their average rank).
+rng2 = np.random.default_rng(20261204)
+spear = []
+x = rng2.normal(0.0, 1.0, 40)
+for name, y in [
+    ("linear_noisy", 2.0 * x + rng2.normal(0.0, 1.0, 40)),
+    ("monotone_cubic", x ** 3),
+    ("decreasing", -np.exp(x)),
+    ("independent", rng2.normal(0.0, 1.0, 40)),
+    ("ties", np.round(x)),
+]:
+    rho = stats.spearmanr(x, y).statistic
+    spear.append({"name": name, "x": x.tolist(), "y": y.tolist(), "rho": float(rho)})
+xt = np.array([1.0, 2.0, 2.0, 3.0, 3.0, 3.0, 4.0, 5.0])
+yt = np.array([2.0, 1.0, 4.0, 3.0, 3.0, 6.0, 5.0, 5.0])
+spear.append({"name": "ties_both", "x": xt.tolist(), "y": yt.tolist(),
+              "rho": float(stats.spearmanr(xt, yt).statistic)})
+out["spearman"] = spear
 
 with open("reference.json", "w") as f:
     json.dump(out, f, indent=1)
