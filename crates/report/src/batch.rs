@@ -1,6 +1,7 @@
 //! Text for studies: the heading of a study or tuning run, the summary of a
 //! batch (yield, statistics of every figure, the worst variant of each
-//! requirement) and the tuning result, as terminal text, and the summary as
+//! requirement, the inputs that drive each figure and margin) and the
+//! tuning result, as terminal text, and the summary as
 //! sections of the HTML report ([`study_sections`]).
 
 use crate::assemble::variant::show_figure;
@@ -56,6 +57,45 @@ fn margin_text(units: &BTreeMap<String, Unit>, name: &str, m: f64) -> String {
     }
 }
 
+/// Inputs shown per target in the drivers table.
+const DRIVERS_SHOWN: usize = 4;
+
+/// The heading line of the drivers table: what ρ is and the noise level.
+fn drivers_caption(s: &Summary) -> Option<String> {
+    let n = s
+        .figure_drivers
+        .values()
+        .chain(s.requirement_drivers.values())
+        .map(|d| d.variants)
+        .max()?;
+    Some(format!(
+        "What drives each figure and margin (Spearman rank correlation ρ of the swept \
+         values and tolerance factors over {n} variants; |ρ| below {} is chance at the 5 % level)",
+        fixed(tankwave_study::sensitivity::noise_level(n as usize), 2, "")
+    ))
+}
+
+/// Rows of the drivers table: target, then its strongest inputs with ρ.
+fn drivers_rows(s: &Summary) -> Vec<Vec<String>> {
+    let show = |d: &tankwave_study::Drivers| {
+        let mut parts: Vec<String> = d
+            .inputs
+            .iter()
+            .take(DRIVERS_SHOWN)
+            .map(|(name, rho)| format!("{name} {rho:+.2}"))
+            .collect();
+        if d.inputs.len() > DRIVERS_SHOWN {
+            parts.push(format!("and {} more", d.inputs.len() - DRIVERS_SHOWN));
+        }
+        parts.join(", ")
+    };
+    s.figure_drivers
+        .iter()
+        .chain(s.requirement_drivers.iter().map(|(k, d)| (k, d)))
+        .map(|(k, d)| vec![k.clone(), show(d)])
+        .collect()
+}
+
 /// The summary of a study as text; `units` gives each requirement's unit
 /// (requirement text → unit) so that margins print with it.
 pub fn summary_text(s: &Summary, units: &BTreeMap<String, Unit>) -> String {
@@ -105,6 +145,17 @@ pub fn summary_text(s: &Summary, units: &BTreeMap<String, Unit>) -> String {
                 format!("#{}", r.worst_index),
                 margin_text(units, name, r.worst_margin),
             ]);
+        }
+        out.push_str(&t.render());
+    }
+    if let Some(caption) = drivers_caption(s) {
+        out.push_str(&format!("\n{caption}\n"));
+        let mut t = Table::new(vec![
+            ("figure or requirement", Align::Left),
+            ("driven by (ρ)", Align::Left),
+        ]);
+        for row in drivers_rows(s) {
+            t.row(row);
         }
         out.push_str(&t.render());
     }
@@ -196,7 +247,7 @@ pub fn study_sections(
             })
             .collect(),
     };
-    vec![
+    let mut sections = vec![
         StudySection {
             title: heading.to_string(),
             lines,
@@ -209,7 +260,19 @@ pub fn study_sections(
             table: (!s.figures.is_empty()).then_some(stats),
             figures,
         },
-    ]
+    ];
+    if let Some(caption) = drivers_caption(s) {
+        sections.push(StudySection {
+            title: "What drives the figures".to_string(),
+            lines: vec![("method".to_string(), caption)],
+            table: Some(PlainTable {
+                header: vec!["figure or requirement".into(), "driven by (ρ)".into()],
+                rows: drivers_rows(s),
+            }),
+            figures: Vec::new(),
+        });
+    }
+    sections
 }
 
 /// A parameter value with its unit (empty when none is known), five
@@ -285,6 +348,26 @@ pub fn tune_text(r: &TuneResult, units: &BTreeMap<String, String>) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn drivers_table_lists_inputs_with_signed_rho() {
+        let mut s = Summary::default();
+        assert!(drivers_caption(&s).is_none(), "no table without drivers");
+        s.figure_drivers.insert(
+            "pout_w".into(),
+            tankwave_study::Drivers {
+                variants: 60,
+                noise_level: tankwave_study::sensitivity::noise_level(60),
+                inputs: vec![("c1.factor".into(), -0.93), ("vcc".into(), 0.41)],
+            },
+        );
+        let text = summary_text(&s, &BTreeMap::new());
+        assert!(text.contains("c1.factor -0.93, vcc +0.41"), "{text}");
+        // 1.96/sqrt(59) = 0.255...
+        assert!(text.contains("|ρ| below 0.26"), "{text}");
+        let sections = study_sections(&s, &BTreeMap::new(), "h", Vec::new());
+        assert_eq!(sections.last().unwrap().title, "What drives the figures");
+    }
 
     #[test]
     fn headings() {
