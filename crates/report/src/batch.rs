@@ -91,7 +91,7 @@ fn drivers_rows(s: &Summary) -> Vec<Vec<String>> {
     };
     s.figure_drivers
         .iter()
-        .chain(s.requirement_drivers.iter().map(|(k, d)| (k, d)))
+        .chain(s.requirement_drivers.iter())
         .map(|(k, d)| vec![k.clone(), show(d)])
         .collect()
 }
