@@ -116,6 +116,18 @@ fn check_exit_codes_pass_fail_bad_unsolvable() {
     assert_eq!(code(&o), 2);
 }
 
+/// A failing `require stress` names the element and quantity that set it
+/// (the output capacitor of a matched pi network at 1 W into 50 Ohm sees
+/// the load's peak voltage, 10 V: P = V^2/(2R), common practice).
+#[test]
+fn a_failing_stress_requirement_names_its_element() {
+    let o = run(&["check", p(&data("check/stress.tank")), "--no-caution"]);
+    assert_eq!(code(&o), 1, "{}{}", stdout(&o), stderr(&o));
+    let out = stdout(&o);
+    assert!(out.contains("at c2 peak voltage"), "{out}");
+    assert!(out.contains("83.3"), "{out}");
+}
+
 #[test]
 fn check_writes_junit_that_parses() {
     let dir = tempfile::tempdir().unwrap();

@@ -257,9 +257,10 @@ fn verdicts_section(out: &mut String, verdicts: &[Verdict], label: Option<&str>)
         &["requirement", "line", "limit", "value", "margin", "verdict"],
     );
     for v in verdicts {
-        let value = match &v.not_measured {
-            Some(why) => format!("not measured: {why}"),
-            None => v.value_text.clone(),
+        let value = match (&v.not_measured, crate::stage::located_at(v)) {
+            (Some(why), _) => format!("not measured: {why}"),
+            (None, Some(at)) => format!("{} (at {at})", v.value_text),
+            (None, None) => v.value_text.clone(),
         };
         row(
             out,

@@ -412,6 +412,17 @@ pub fn steady_text(
     s
 }
 
+/// Where a verdict's value was found (element and quantity, e.g. `rfc peak
+/// current`), when the requirement's own text does not already name that
+/// element: a `require stress` or an unselected per-transistor requirement
+/// then says which part set its value.
+pub fn located_at(v: &Verdict) -> Option<&str> {
+    let at = v.element.as_deref()?;
+    let name = at.split_whitespace().next()?;
+    let named = v.requirement.split_whitespace().any(|w| w == name);
+    (!named).then_some(at)
+}
+
 /// The verdict table: requirement, limit, value, margin, pass/fail; mask
 /// requirements list each harmonic's margin beneath.
 pub fn verdict_text(verdicts: &[Verdict]) -> String {
@@ -430,6 +441,15 @@ pub fn verdict_text(verdicts: &[Verdict]) -> String {
             v.margin_text.clone(),
             if v.pass { "pass" } else { "FAIL" }.to_string(),
         ]);
+        if let Some(at) = located_at(v) {
+            t.row(vec![
+                format!("  at {at}"),
+                String::new(),
+                String::new(),
+                String::new(),
+                String::new(),
+            ]);
+        }
         let mut hidden = 0usize;
         let mut hidden_min = f64::INFINITY;
         for h in &v.harmonics {
