@@ -108,9 +108,45 @@ pub const PALETTE: [SeriesStyle; 6] = [
     },
 ];
 
-/// The style of series `k` (the palette repeats after six series).
+/// Dash patterns: the palette's six, then one more, so that the number of
+/// patterns (7) is prime to the number of colours (6).
+const DASHES: [&str; 7] = [
+    "none",
+    "9 4",
+    "2 3",
+    "10 3 2 3",
+    "5 3",
+    "12 3 2 3 2 3",
+    "1 5",
+];
+
+/// Markers in the palette's order.
+const MARKERS: [Marker; 6] = [
+    Marker::Disc,
+    Marker::Triangle,
+    Marker::Square,
+    Marker::Cross,
+    Marker::Ring,
+    Marker::Diamond,
+];
+
+/// How many series [`series_style`] keeps apart: colour, dash and marker
+/// together differ for the first 6 × 7 × 6 = 252 series.
+pub const DISTINCT_STYLES: usize = PALETTE.len() * DASHES.len() * MARKERS.len();
+
+/// The style of series `k`. The first six are the [`PALETTE`]; after that
+/// the colour cycles with period 6, the dash pattern moves on by one per
+/// round of six and the marker by one per seven rounds, so that no two of
+/// the first [`DISTINCT_STYLES`] series look alike.
 pub fn series_style(k: usize) -> SeriesStyle {
-    PALETTE[k % PALETTE.len()]
+    let c = k % PALETTE.len();
+    let round = k / PALETTE.len();
+    let base = PALETTE[c];
+    SeriesStyle {
+        dash: DASHES[(c + round) % DASHES.len()],
+        marker: MARKERS[(c + round / DASHES.len()) % MARKERS.len()],
+        ..base
+    }
 }
 
 /// Ink for text and axes.
@@ -725,4 +761,30 @@ pub(crate) fn draw_panel(
         canvas.end()?;
     }
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_first_six_series_are_the_palette() {
+        for (k, p) in PALETTE.iter().enumerate() {
+            assert_eq!(series_style(k), *p);
+        }
+    }
+
+    #[test]
+    fn no_two_of_the_first_252_series_look_alike() {
+        let styles: Vec<SeriesStyle> = (0..DISTINCT_STYLES).map(series_style).collect();
+        for i in 0..styles.len() {
+            for j in i + 1..styles.len() {
+                let (a, b) = (styles[i], styles[j]);
+                assert!(
+                    (a.color, a.dash, a.marker) != (b.color, b.dash, b.marker),
+                    "series {i} and {j} share a style"
+                );
+            }
+        }
+    }
 }
