@@ -1,5 +1,5 @@
 //! Periodic steady state: the types every steady method shares, the
-//! dispatcher [`steady`] and the time origin of the period ([`start_time`]).
+//! dispatcher [`steady`] and the time origin of the period (`start_time`).
 //!
 //! Every method produces a [`PeriodicSolution`]: each unknown sampled at
 //! `N` uniform points of one period `T = 1/freq`, `x[k][n] = x_k(n·T/N)`,

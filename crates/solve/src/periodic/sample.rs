@@ -1,11 +1,11 @@
 //! Sampling a periodic solution: the current into every terminal of every
 //! element, and the transport currents, at the samples of one period.
 //!
-//! One sampler ([`sample_currents`]) evaluates each element's devices alone
+//! One sampler (`sample_currents`) evaluates each element's devices alone
 //! at every sample and forms `i + dq/dt` per terminal; how `dq/dt` is formed
-//! is its parameter ([`Derivative`]): the spectral derivative on the sample
-//! grid ([`Spectral`]), the TR-BDF2 stage formula the integrator used
-//! ([`TrBdf2`], shooting and settle), or harmonic balance's `jkωQ_k` on its
+//! is its parameter (`Derivative`): the spectral derivative on the sample
+//! grid (`Spectral`), the TR-BDF2 stage formula the integrator used
+//! (`TrBdf2`, shooting and settle), or harmonic balance's `jkωQ_k` on its
 //! own grid (in `balance`).
 
 use super::{PeriodicSolution, SteadyInfo, SteadyParams};
