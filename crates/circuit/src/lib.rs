@@ -19,6 +19,7 @@ pub mod builtin;
 pub mod elaborate;
 pub mod ir;
 pub mod models;
+pub mod options;
 pub mod param_units;
 pub mod si;
 mod topology;

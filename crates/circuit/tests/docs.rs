@@ -114,6 +114,7 @@ fn vocabulary() -> std::collections::BTreeSet<(String, String)> {
 fn vocabulary_md_lists_exactly_the_words_the_language_accepts() {
     use std::collections::BTreeSet;
     use tankwave_circuit::models::{blocks, BJT_PARAMS, DIODE_PARAMS};
+    use tankwave_circuit::options;
     use tankwave_netlist::vocab;
     let listed = vocabulary();
     let of = |kind: &str| -> BTreeSet<String> {
@@ -147,24 +148,11 @@ fn vocabulary_md_lists_exactly_the_words_the_language_accepts() {
             .collect()),
         "waveform arguments"
     );
-    assert_eq!(
-        of("analysis"),
-        set(vocab::ANALYSES.iter().map(|(n, _)| *n).collect()),
-        "analyses"
-    );
-    let mut options: Vec<&str> = vocab::ELEMENT_OPTIONS
-        .iter()
-        .flat_map(|(_, o)| o.iter().copied())
-        .collect();
-    options.extend(vocab::ANALYSES.iter().flat_map(|(_, o)| o.iter().copied()));
-    options.extend(vocab::MONTECARLO_OPTIONS.iter().copied());
-    assert_eq!(of("option"), set(options), "options");
+    assert_eq!(of("analysis"), set(options::analysis::kinds()), "analyses");
+    assert_eq!(of("option"), set(options::all_option_names()), "options");
     assert_eq!(
         of("option word"),
-        set(vocab::OPTION_WORDS
-            .iter()
-            .flat_map(|(_, _, w)| w.iter().copied())
-            .collect()),
+        set(options::all_option_words()),
         "option words"
     );
     assert_eq!(

@@ -373,3 +373,79 @@ fn a_broken_declaration_is_not_reported_again_where_used() {
         err.diagnostics
     );
 }
+
+/// Every option that takes a word, from the declaration: each of its words
+/// gives a circuit, and a misspelt word (one letter dropped) is an
+/// `unknown-keyword` error at the word, naming the word meant, never a
+/// default.
+#[test]
+fn every_option_word_is_read_and_a_misspelt_one_is_an_error() {
+    use tankwave_circuit::options::analysis;
+    let base = "voltage v1 a gnd dc=1V\nresistor r1 a gnd 50Ohm\n";
+    let required = |kind: &str| match kind {
+        "transient" => "stop=1us",
+        "ac" => "from=1MHz to=2MHz",
+        "steady" => "freq=1MHz",
+        _ => "",
+    };
+    let mut checked = 0;
+    for (kind, table) in analysis::ALL {
+        for o in table.iter() {
+            for w in o.words() {
+                let line = format!("analyze {kind} {} {}={w}", required(kind), o.name);
+                load(&format!("{base}{line}\n"));
+                let bad: String = w.chars().take(w.chars().count() - 1).collect();
+                let line = format!("analyze {kind} {} {}={bad}", required(kind), o.name);
+                let err = load_str("t.tank", &format!("{base}{line}\n"), &Overrides::default())
+                    .expect_err(&line);
+                let d = &err.diagnostics[0];
+                assert_eq!(d.code, "unknown-keyword", "{line}");
+                assert_eq!(
+                    (d.line, d.column as usize),
+                    (3, line.rfind('=').unwrap() + 2),
+                    "{line}"
+                );
+                assert_eq!(
+                    d.help.as_deref(),
+                    Some(format!("did you mean '{w}'?").as_str()),
+                    "{line}"
+                );
+                checked += 1;
+            }
+        }
+    }
+    // start (2), transient method (2), scale (2), steady method (4).
+    assert_eq!(checked, 10);
+}
+
+/// Defaults come from the declaration: an analysis with only its required
+/// options gets the table's numbers and words.
+#[test]
+fn defaults_are_the_declared_ones() {
+    use tankwave_circuit::options::{analysis, Default};
+    let e = load("voltage v1 a gnd dc=1V\nresistor r1 a gnd 50Ohm\nanalyze ac from=1MHz to=2MHz\nanalyze steady freq=1MHz\n");
+    let num = |o: &tankwave_circuit::options::OptionSpec| match o.default {
+        Default::Number(v) => v as usize,
+        d => panic!("{d:?}"),
+    };
+    match &e.circuit.analyses[0] {
+        Analysis::Ac { points, scale, .. } => {
+            assert_eq!(*points, num(&analysis::POINTS));
+            assert_eq!(*scale, Scale::Linear);
+        }
+        a => panic!("{a:?}"),
+    }
+    match &e.circuit.analyses[1] {
+        Analysis::Steady {
+            harmonics,
+            steps_per_period,
+            method,
+            ..
+        } => {
+            assert_eq!(*harmonics, num(&analysis::HARMONICS));
+            assert_eq!(*steps_per_period, num(&analysis::STEPS));
+            assert_eq!(*method, SteadyMethod::Auto);
+        }
+        a => panic!("{a:?}"),
+    }
+}

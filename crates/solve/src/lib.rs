@@ -41,25 +41,22 @@
 #![allow(clippy::neg_cmp_op_on_partial_ord, clippy::needless_range_loop)]
 
 pub mod ac;
-pub mod balance;
 pub mod error;
 pub mod linalg;
 mod newton;
 pub mod op;
-pub mod shooting;
+pub mod periodic;
 mod spectral;
-pub mod steady;
 pub mod transient;
 
 pub use ac::{ac, AcParams, AcResult};
-pub use balance::{balance, BalanceInfo, BalanceParams};
 pub use error::{SolveError, When};
 pub use linalg::LinearSolver;
 pub use newton::Tolerances;
 pub use op::{operating_point, DeviceOp, NewtonInfo, OpParams, OpResult, Strategy};
-pub use shooting::shooting;
-pub use steady::{
-    settle, steady, terminal_currents, transport_currents, PeriodicSolution, SettleParams,
-    ShootingInfo, ShootingParams, SteadyInfo, SteadyParams,
+pub use periodic::{
+    balance, settle, shooting, steady, terminal_currents, transport_currents, BalanceInfo,
+    BalanceParams, PeriodicSolution, SettleParams, ShootingInfo, ShootingParams, SteadyInfo,
+    SteadyParams,
 };
 pub use transient::{transient, TransientInfo, TransientParams, TransientResult};

@@ -33,26 +33,27 @@
 //! (the update test catches slow modes, whose periodicity error is tiny
 //! while the state is still far from the fixed point).
 
+use super::sample::trbdf2_solution;
+use super::{start_time, PeriodicSolution, ShootingInfo, SteadyInfo, SteadyParams};
 use crate::newton::unknown_floor;
-use crate::steady::{
-    terminal_currents_trbdf2, PeriodicSolution, ShootingInfo, SteadyInfo, SteadyParams,
-};
 use crate::transient::{bdf2_coefficients, charged_rows, Method, Stepper, GAMMA};
 use crate::SolveError;
 use faer::Mat;
 use tankwave_circuit::{Circuit, SteadyMethod};
 use tankwave_devices::DeviceSet;
 
-/// One period integrated from `x0`.
-struct PeriodRun {
+/// One period integrated from `x0` (with [`integrate_period`] and
+/// `with_sens`, the monodromy matrix of the orbit, e.g. for a check of its
+/// multipliers).
+pub(crate) struct PeriodRun {
     /// Unknowns at the start of every step, `[unknown][step]`.
-    samples: Vec<Vec<f64>>,
+    pub(crate) samples: Vec<Vec<f64>>,
     /// Unknowns at every TR-BDF2 intermediate stage, `[unknown][step]`.
-    stage: Vec<Vec<f64>>,
+    pub(crate) stage: Vec<Vec<f64>>,
     /// `x(T)`.
-    end: Vec<f64>,
+    pub(crate) end: Vec<f64>,
     /// `Φ = ∂x(T)/∂x₀` when asked for.
-    monodromy: Option<Mat<f64>>,
+    pub(crate) monodromy: Option<Mat<f64>>,
 }
 
 /// The charged-row part of `G` and the whole of `C` at the stepper's last evaluation.
@@ -75,7 +76,7 @@ fn g_hat_and_c(st: &Stepper<'_>, n: usize) -> (Mat<f64>, Mat<f64>) {
 
 /// Integrate one period of `ns` uniform TR-BDF2 steps from `x0` at `t0`,
 /// with the monodromy matrix when `with_sens`.
-fn integrate_period(
+pub(crate) fn integrate_period(
     st: &mut Stepper<'_>,
     devices: &DeviceSet,
     x0: &[f64],
@@ -244,7 +245,7 @@ pub fn shooting(
     // Warm up past the end of every source's start-up (delay and amplitude
     // rise), then a few periods more: the period that is shot must see the
     // sources in their periodic form.
-    let settled_from = crate::balance::start_time(circuit, period);
+    let settled_from = start_time(circuit, period);
     let startup = (settled_from / period).round();
     if !(startup.is_finite() && startup <= 100_000.0) {
         return Err(SolveError::BadParams(format!(
@@ -370,36 +371,23 @@ pub fn shooting(
             let update = worst_ratio(&dx, &scale, devices, st.t)?.0;
             if worst.0 <= level.target && update <= level.target {
                 if final_level {
-                    let terminal_currents = terminal_currents_trbdf2(
+                    let info = SteadyInfo {
+                        method: SteadyMethod::Shooting,
+                        fell_back_from: None,
+                        iterations: report.coarse_periods + report.fine_periods,
+                        residual: worst.0,
+                        system_size: n,
+                        balance: None,
+                        shooting: Some(report),
+                    };
+                    return trbdf2_solution(
                         circuit,
                         devices,
-                        &run.samples,
+                        params,
+                        run.samples,
                         &run.stage,
-                        params.freq,
-                    )?;
-                    let transport_currents = crate::steady::transport_currents(
-                        circuit,
-                        devices,
-                        &run.samples,
-                        params.freq,
+                        info,
                     );
-                    return Ok(PeriodicSolution {
-                        freq: params.freq,
-                        harmonics: params.harmonics,
-                        samples_per_period: ns,
-                        x: run.samples,
-                        terminal_currents,
-                        transport_currents,
-                        info: SteadyInfo {
-                            method: SteadyMethod::Shooting,
-                            fell_back_from: None,
-                            iterations: report.coarse_periods + report.fine_periods,
-                            residual: worst.0,
-                            system_size: n,
-                            balance: None,
-                            shooting: Some(report),
-                        },
-                    });
                 }
                 // on to the next level from the improved point
                 for k in 0..n {

@@ -94,17 +94,17 @@
 //! harmonics (`I_k + jkωQ_k` of the element's devices, `k ≤ K`), so they obey
 //! KCL at every node and every sample to within the harmonic residual.
 
+use super::sample::{sample_currents, transport_currents, Derivative, Grid};
+use super::{start_time, PeriodicSolution, SteadyInfo, SteadyParams};
 use crate::error::When;
 use crate::linalg::{LinearSolver, RealLu};
 use crate::op::{solve_op, OpParams};
-use crate::steady::{ElementDevices, IqStamp, PeriodicSolution, SteadyInfo, SteadyParams};
 use crate::SolveError;
 use faer::linalg::solvers::Solve;
 use faer::Mat;
 use num_complex::Complex64 as C64;
 use realfft::{ComplexToReal, RealFftPlanner, RealToComplex};
 use std::sync::Arc;
-use tankwave_circuit::ir::{ElementKind, Shape};
 use tankwave_circuit::{Circuit, SteadyMethod};
 use tankwave_devices::{DenseStamp, DeviceSet, EvalCtx, Filter, Idx, Stamp, UnknownKind};
 
@@ -336,37 +336,6 @@ fn check_params(bp: &BalanceParams) -> Result<(), SolveError> {
         ));
     }
     Ok(())
-}
-
-/// First whole number of periods after every source's delay, rise and last
-/// corner: the time origin of the period harmonic balance solves for (the
-/// sources are periodic from there on). Other periodic methods can start
-/// their period here too, so that all of them see the same drive.
-pub(crate) fn start_time(circuit: &Circuit, period: f64) -> f64 {
-    let mut t = 0.0f64;
-    for el in &circuit.elements {
-        let wave = match &el.kind {
-            ElementKind::VoltageSource { wave, .. } | ElementKind::CurrentSource { wave, .. } => {
-                wave
-            }
-            _ => continue,
-        };
-        let end = match &wave.shape {
-            Some(Shape::Sine { delay, rise, .. }) => delay + rise,
-            Some(Shape::Square { start: delay, .. }) => *delay,
-            Some(Shape::Table(pts)) => pts.last().map(|p| p.0).unwrap_or(0.0),
-            None => 0.0,
-        };
-        if end.is_finite() {
-            t = t.max(end);
-        }
-    }
-    let periods = (t / period).ceil();
-    if periods.is_finite() && periods > 0.0 {
-        periods * period
-    } else {
-        0.0
-    }
 }
 
 /// A stamp that only records which rows and columns are touched.
@@ -1700,7 +1669,7 @@ fn finish(
             when: When(None),
         });
     }
-    let transport_currents = crate::steady::transport_currents(circuit, devices, &x, params.freq);
+    let transport_currents = transport_currents(circuit, devices, &x, params.freq);
     Ok(PeriodicSolution {
         freq: params.freq,
         harmonics: kmax,
@@ -1741,9 +1710,6 @@ fn currents(
     let n = devices.n_unknowns;
     let kmax = sol.kmax;
     let ns = sol.nfft;
-    let nout = out_fft.n;
-    let period = 1.0 / params.freq;
-    let omega = 2.0 * std::f64::consts::PI * params.freq;
     let mut fft = Fft::new(ns);
     // Every unknown on the evaluation grid.
     let mut coef = vec![ZERO; kmax + 1];
@@ -1754,71 +1720,52 @@ fn currents(
         }
         fft.inverse(&coef, xu);
     }
-    let mut state = devices.initial_state();
-    let mut xs = vec![0.0; n];
-    let mut out = Vec::with_capacity(circuit.elements.len());
-    let mut stamp = IqStamp::new(n);
-    let mut ci = vec![ZERO; kmax + 1];
-    let mut cq = vec![ZERO; kmax + 1];
-    for (ei, el) in circuit.elements.iter().enumerate() {
-        let terms = el.kind.terminals();
-        if terms.is_empty() {
-            out.push(Vec::new());
-            continue;
-        }
-        let ed = ElementDevices::new(devices, ei, terms.clone());
-        let mut iv = vec![vec![0.0; ns]; terms.len()];
-        let mut qv = vec![vec![0.0; ns]; terms.len()];
-        for s in 0..ns {
-            for (u, xv) in xs.iter_mut().enumerate() {
-                *xv = xt[u][s];
-            }
-            let ctx = EvalCtx {
-                time: sol.t_start + s as f64 * period / ns as f64,
-                dc_scale: 1.0,
-                wave_scale: 1.0,
-                junction_leak: params.balance.junction_leak,
-                limit: false,
-            };
-            stamp.element_terminals(&ed, &xs, &ctx, &mut state, |j, i, q| {
-                iv[j][s] = i;
-                qv[j][s] = q;
-            });
-        }
-        let mut cur = vec![vec![0.0; nout]; terms.len()];
-        for j in 0..terms.len() {
-            if terms[j].is_none() {
-                continue;
-            }
-            fft.forward(&iv[j], &mut ci);
-            fft.forward(&qv[j], &mut cq);
-            for k in 0..=kmax {
-                coef[k] = ci[k] + J * (k as f64 * omega) * cq[k];
-            }
-            out_fft.inverse(&coef, &mut cur[j]);
-        }
-        // Grounded terminal: minus the sum of the others (charge neutrality).
-        let grounded: Vec<usize> = (0..terms.len()).filter(|&j| terms[j].is_none()).collect();
-        if grounded.len() == 1 {
-            let g = grounded[0];
-            let minus_sum: Vec<f64> = (0..nout)
-                .map(|s| {
-                    -(0..terms.len())
-                        .filter(|&j| j != g)
-                        .map(|j| cur[j][s])
-                        .sum::<f64>()
-                })
-                .collect();
-            cur[g] = minus_sum;
-        }
-        if let Some(j) = cur.iter().position(|c| c.iter().any(|v| !v.is_finite())) {
-            return Err(SolveError::NonFinite {
-                analysis: "harmonic balance (terminal currents)".into(),
-                unknown: format!("terminal {} of {}", j + 1, el.name),
-                when: When(None),
-            });
-        }
-        out.push(cur);
+    let grid = Grid {
+        x: &xt,
+        t0: sol.t_start,
+        period: 1.0 / params.freq,
+        junction_leak: params.balance.junction_leak,
+    };
+    let mut rule = Harmonics {
+        fft,
+        out: out_fft,
+        omega: 2.0 * std::f64::consts::PI * params.freq,
+        ci: vec![ZERO; kmax + 1],
+        cq: vec![ZERO; kmax + 1],
+        coef,
+    };
+    sample_currents(
+        circuit,
+        devices,
+        &grid,
+        &mut rule,
+        "harmonic balance (terminal currents)",
+    )
+}
+
+/// The derivative rule of harmonic balance: `I_k + jkωQ_k` for `k ≤ K` from
+/// the samples of the evaluation grid, resampled on the output grid.
+struct Harmonics<'f> {
+    fft: Fft,
+    out: &'f mut Fft,
+    omega: f64,
+    ci: Vec<C64>,
+    cq: Vec<C64>,
+    coef: Vec<C64>,
+}
+
+impl Derivative<'_> for Harmonics<'_> {
+    fn out_len(&self, _ns: usize) -> usize {
+        self.out.n
     }
-    Ok(out)
+    fn current(&mut self, i: &[f64], q: &[f64], _: &[f64]) -> Vec<f64> {
+        self.fft.forward(i, &mut self.ci);
+        self.fft.forward(q, &mut self.cq);
+        for (k, c) in self.coef.iter_mut().enumerate() {
+            *c = self.ci[k] + J * (k as f64 * self.omega) * self.cq[k];
+        }
+        let mut cur = vec![0.0; self.out.n];
+        self.out.inverse(&self.coef, &mut cur);
+        cur
+    }
 }

@@ -1,0 +1,151 @@
+//! `analyze bias|transient|ac|steady`: options read through
+//! [`crate::options::analysis`], checked against each other.
+
+use super::{fmt_num, Cx};
+use crate::ir::*;
+use crate::options::{self, analysis as o};
+use tankwave_netlist::ast::{ElemKeyword, Ident, Opt};
+use tankwave_netlist::suggest::did_you_mean;
+use tankwave_netlist::vocab::{self, Place};
+
+impl<'a> Cx<'a> {
+    pub(super) fn analysis(&mut self, kind: &'a Ident, options: &'a [Opt]) -> Option<Analysis> {
+        let Some(table) = o::of(&kind.name) else {
+            self.unknown_analysis(kind);
+            return None;
+        };
+        let ctx = format!("analyze {}", kind.name);
+        let m = self.opts(options, table, &ctx);
+        match kind.name.as_str() {
+            "bias" => Some(Analysis::Bias),
+            "transient" => self.transient(kind, &m),
+            "ac" => self.ac(kind, &m),
+            _ => self.steady(kind, &m),
+        }
+    }
+
+    fn unknown_analysis(&mut self, kind: &Ident) {
+        let other = kind.name.as_str();
+        if let Some(r) = vocab::retired(other, Place::Analysis) {
+            self.error("old-spelling", kind.span, vocab::retired_message(r));
+            return;
+        }
+        let names = o::kinds();
+        let help = did_you_mean(other, names.iter());
+        self.error(
+            "unknown-keyword",
+            kind.span,
+            format!("unknown analysis '{other}' ({})", names.join(", ")),
+        )
+        .help = help;
+    }
+
+    fn transient(&mut self, kind: &Ident, m: &super::opts::Given<'a>) -> Option<Analysis> {
+        let stop = self.required(m, &o::STOP, kind.span, "analyze transient")?;
+        let step = self
+            .opt_value(m, &o::STEP, "step")?
+            .unwrap_or(stop / o::STEPS_PER_STOP);
+        let max_step = self.opt_value(m, &o::MAX_STEP, "max_step")?;
+        let rel_tolerance = self.opt_value(m, &o::TOLERANCE, "tolerance")?;
+        let start = self.opt_word(m, &o::START, &options::START_WORDS)?;
+        let method = self.opt_word(m, &o::INTEGRATION, &options::INTEGRATION_WORDS)?;
+        if step > stop {
+            self.error(
+                "bad-value",
+                kind.span,
+                format!(
+                    "transient step {} s is longer than stop {} s",
+                    fmt_num(step),
+                    fmt_num(stop)
+                ),
+            );
+            return None;
+        }
+        Some(Analysis::Transient {
+            stop,
+            step,
+            max_step,
+            start,
+            method,
+            rel_tolerance,
+        })
+    }
+
+    fn ac(&mut self, kind: &Ident, m: &super::opts::Given<'a>) -> Option<Analysis> {
+        let from = self.required(m, &o::FROM, kind.span, "analyze ac")?;
+        let to = self.required(m, &o::TO, kind.span, "analyze ac")?;
+        let points = self.opt_count(m, &o::POINTS)?.unwrap_or(1) as usize;
+        let scale = self.opt_word(m, &o::SCALE, &options::SCALE_WORDS)?;
+        if to < from {
+            self.error(
+                "bad-value",
+                kind.span,
+                format!(
+                    "ac sweep must go upward, got from={} to={}",
+                    crate::si::si_prefixed(from, "Hz", 4),
+                    crate::si::si_prefixed(to, "Hz", 4)
+                ),
+            );
+            return None;
+        }
+        let source = match self.given_expr(m, &o::SOURCE)? {
+            None => None,
+            Some(e) => {
+                let id = self.name_of(e, "source")?;
+                let id = self.element_ref(&id, "analyze ac source")?;
+                if !matches!(
+                    self.elem_kind(id),
+                    Some(ElemKeyword::Voltage | ElemKeyword::Current)
+                ) {
+                    self.error(
+                        "element-kind",
+                        e.span,
+                        "analyze ac source must be a voltage or current source",
+                    );
+                    return None;
+                }
+                Some(id)
+            }
+        };
+        let impedance_at = match self.given_expr(m, &o::IMPEDANCE)? {
+            None => None,
+            Some(e) => {
+                let id = self.name_of(e, "impedance")?;
+                Some(self.element_ref(&id, "analyze ac impedance")?)
+            }
+        };
+        Some(Analysis::Ac {
+            from,
+            to,
+            points,
+            scale,
+            source,
+            impedance_at,
+        })
+    }
+
+    fn steady(&mut self, kind: &Ident, m: &super::opts::Given<'a>) -> Option<Analysis> {
+        let freq = self.required(m, &o::FREQ, kind.span, "analyze steady")?;
+        let harmonics = self.opt_count(m, &o::HARMONICS)?.unwrap_or(1) as usize;
+        let steps = self.opt_count(m, &o::STEPS)?.unwrap_or(8);
+        if !steps.is_power_of_two() {
+            let at = match self.given_expr(m, &o::STEPS) {
+                Some(Some(e)) => e.span,
+                _ => kind.span,
+            };
+            self.error(
+                "bad-value",
+                at,
+                format!("steps per period must be a power of two, got {steps}"),
+            );
+            return None;
+        }
+        let method = self.opt_word(m, &o::STEADY_METHOD, &options::STEADY_WORDS)?;
+        Some(Analysis::Steady {
+            freq,
+            harmonics,
+            method,
+            steps_per_period: steps as usize,
+        })
+    }
+}

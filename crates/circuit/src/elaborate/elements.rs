@@ -1,0 +1,542 @@
+//! Element statements (`resistor`, `capacitor`, `inductor`, `coupling`,
+//! `voltage`, `current`, `diode`, `bjt`), node numbering, element references,
+//! and the `output` and `input` statements. Options are read through
+//! [`crate::options::element`].
+
+use super::{fmt_num, Cx, ELEMENT_KEYWORDS};
+use crate::ir::*;
+use crate::options::{element as o, OptionSpec};
+use tankwave_netlist::ast::*;
+use tankwave_netlist::suggest::did_you_mean;
+use tankwave_netlist::Slot;
+
+/// What the element pass knows about the parts.
+pub(super) struct PartsSeen<'m> {
+    models: &'m [Model],
+    kinds: &'m [ModelKind],
+    ok: bool,
+}
+
+impl<'a> Cx<'a> {
+    /// Every element, in declaration order (ids stay those of pass 1: a
+    /// failed element keeps its place). True if every element elaborated.
+    pub(super) fn elements(
+        &mut self,
+        c: &mut Circuit,
+        model_kinds: &[ModelKind],
+        model_ok: bool,
+    ) -> bool {
+        let steady_freq = c.analyses.iter().find_map(|a| match a {
+            Analysis::Steady { freq, .. } => Some(*freq),
+            _ => None,
+        });
+        let models = std::mem::take(&mut c.models);
+        let parts = PartsSeen {
+            models: &models,
+            kinds: model_kinds,
+            ok: model_ok,
+        };
+        let elems: Vec<&'a ElementStmt> = self.elems.iter().map(|e| e.stmt).collect();
+        let mut all_ok = true;
+        for e in elems {
+            self.elem_spans.push(e.name.span);
+            let kind = self.element(e, &parts, steady_freq).unwrap_or_else(|| {
+                all_ok = false;
+                // A placeholder keeps the ids aligned with pass 1.
+                ElementKind::Resistor {
+                    a: None,
+                    b: None,
+                    r: 1.0,
+                    rating_w: None,
+                }
+            });
+            c.elements.push(Element {
+                name: e.name.name.clone(),
+                kind,
+                origin: self.origin(e.name.span),
+            });
+        }
+        c.models = models;
+        all_ok
+    }
+
+    pub(super) fn node(&mut self, name: &str) -> NodeId {
+        if name == "gnd" {
+            return None;
+        }
+        if let Some(i) = self.nodes.get(name) {
+            return Some(*i);
+        }
+        let i = self.node_names.len();
+        self.node_names.push(name.to_string());
+        self.nodes.insert(name.to_string(), i);
+        Some(i)
+    }
+
+    pub(super) fn element_ref(&mut self, id: &Ident, ctx: &str) -> Option<ElementId> {
+        match self.elem_ids.get(id.name.as_str()) {
+            Some(i) => Some(*i),
+            None if self.is_broken(ELEMENT_KEYWORDS, &id.name) => None,
+            None => {
+                let help = did_you_mean(&id.name, self.elem_ids.keys());
+                self.error(
+                    "unknown-element",
+                    id.span,
+                    format!("{ctx}: '{}' is not an element", id.name),
+                )
+                .help = help;
+                None
+            }
+        }
+    }
+
+    pub(super) fn elem_kind(&self, id: ElementId) -> Option<ElemKeyword> {
+        self.elems.get(id).map(|e| e.kind)
+    }
+
+    /// The keyword of an element's kind, for messages.
+    pub(super) fn kind_word(&self, id: ElementId) -> &'static str {
+        self.elem_kind(id).map(|k| k.keyword()).unwrap_or("?")
+    }
+
+    /// An element's main value after the variant's overrides.
+    fn main_value(&mut self, name: &str, v: f64) -> f64 {
+        let mut v = v;
+        if let Some(r) = self.ov.element_values.get(name) {
+            v = *r;
+        }
+        if let Some(f) = self.ov.element_factors.get(name) {
+            v *= f;
+        }
+        v
+    }
+
+    fn element(
+        &mut self,
+        e: &'a ElementStmt,
+        parts: &PartsSeen<'_>,
+        steady_freq: Option<f64>,
+    ) -> Option<ElementKind> {
+        match e.kind {
+            ElemKeyword::Resistor | ElemKeyword::Capacitor | ElemKeyword::Inductor => {
+                self.passive(e, steady_freq)
+            }
+            ElemKeyword::Coupling => self.coupling(e),
+            ElemKeyword::Voltage | ElemKeyword::Current => self.source(e),
+            ElemKeyword::Diode | ElemKeyword::Bjt => self.semiconductor(e, parts),
+        }
+    }
+
+    /// The node of the `i`-th positional terminal (ground if absent).
+    fn terminal(&mut self, e: &ElementStmt, i: usize) -> NodeId {
+        e.nodes.get(i).and_then(|n| self.node(&n.name))
+    }
+
+    /// Number the positional nodes of an element in order of appearance.
+    fn terminals(&mut self, e: &ElementStmt) -> (NodeId, NodeId) {
+        for n in &e.nodes {
+            self.node(&n.name);
+        }
+        (self.terminal(e, 0), self.terminal(e, 1))
+    }
+
+    fn passive(&mut self, e: &'a ElementStmt, steady_freq: Option<f64>) -> Option<ElementKind> {
+        let name = e.name.name.as_str();
+        let kw = e.kind.keyword();
+        let ctx = format!("{kw} {name}");
+        let (a, b) = self.terminals(e);
+        let (slot, unitname, rating) = match e.kind {
+            ElemKeyword::Resistor => (Slot::Resistance, "resistance", o::RESISTOR_RATING),
+            ElemKeyword::Capacitor => (Slot::Capacitance, "capacitance", o::CAPACITOR_RATING),
+            _ => (Slot::Inductance, "inductance", o::INDUCTOR_RATING),
+        };
+        let m = self.opts(&e.options, o::of(kw), &ctx);
+        let ve = e.value.as_ref()?;
+        let v = self.value(ve, slot, &format!("{kw} value"));
+        let rating = self.opt_value(&m, &rating, &format!("{kw} rating"));
+        let v = self.main_value(name, v?);
+        if v <= 0.0 {
+            self.error(
+                "bad-value",
+                ve.span,
+                format!(
+                    "{ctx}: {unitname} must be > 0 {}, got {}",
+                    slot.describe(),
+                    fmt_num(v)
+                ),
+            );
+            return None;
+        }
+        let rating = rating?;
+        match e.kind {
+            ElemKeyword::Resistor => Some(ElementKind::Resistor {
+                a,
+                b,
+                r: v,
+                rating_w: rating,
+            }),
+            ElemKeyword::Capacitor => Some(ElementKind::Capacitor {
+                a,
+                b,
+                c: v,
+                rating_v: rating,
+            }),
+            _ => Some(ElementKind::Inductor {
+                a,
+                b,
+                l: v,
+                series_r: self.inductor_loss(e, &m, &ctx, v, steady_freq)?,
+                rating_a: rating,
+            }),
+        }
+    }
+
+    /// An inductor's series loss resistance from `r=`, or from `q=` at
+    /// `q_at=` (or at the steady frequency).
+    fn inductor_loss(
+        &mut self,
+        e: &ElementStmt,
+        m: &super::opts::Given<'a>,
+        ctx: &str,
+        l: f64,
+        steady_freq: Option<f64>,
+    ) -> Option<f64> {
+        let r = self.opt_value(m, &o::INDUCTOR_R, "inductor r")?;
+        let q = self.opt_value(m, &o::INDUCTOR_Q, "inductor q")?;
+        let qf = self.opt_value(m, &o::INDUCTOR_Q_AT, "inductor q_at")?;
+        let key_span = |spec: &OptionSpec| m.get(spec.name).map(|o| o.key.span);
+        match (r, q) {
+            (Some(_), Some(_)) => {
+                let sp = key_span(&o::INDUCTOR_Q).unwrap_or(e.name.span);
+                self.error(
+                    "syntax",
+                    sp,
+                    format!("{ctx}: give the loss as r= or as q=, not both"),
+                );
+                None
+            }
+            (Some(r), None) => {
+                if let Some(sp) = key_span(&o::INDUCTOR_Q_AT) {
+                    self.warning(
+                        "unknown-option",
+                        sp,
+                        format!("{ctx}: q_at= is ignored without q="),
+                    );
+                }
+                Some(r)
+            }
+            (None, Some(q)) => {
+                match qf.or(steady_freq) {
+                    Some(f) => Some(2.0 * std::f64::consts::PI * f * l / q),
+                    None => {
+                        let sp = key_span(&o::INDUCTOR_Q).unwrap_or(e.name.span);
+                        self.error("inductor-loss", sp, format!("{ctx}: q= needs a frequency")).help =
+                        Some("add q_at=FREQ, or an 'analyze steady freq=...' whose frequency is used".into());
+                        None
+                    }
+                }
+            }
+            (None, None) => Some(0.0),
+        }
+    }
+
+    fn coupling(&mut self, e: &'a ElementStmt) -> Option<ElementKind> {
+        let name = e.name.name.as_str();
+        let ctx = format!("{} {name}", e.kind.keyword());
+        let m = self.opts(&e.options, o::of(e.kind.keyword()), &ctx);
+        if e.nodes.len() < 2 {
+            self.error(
+                "syntax",
+                e.name.span,
+                format!("{ctx} needs at least two inductor names"),
+            );
+            return None;
+        }
+        let inductors = self.coupled_inductors(e, &ctx);
+        let k = match self.given_expr(&m, &o::COUPLING_K)? {
+            Some(ex) => {
+                let k = self.value(ex, Slot::Number, "coupling k")?;
+                let k = self.main_value(name, k);
+                if k.abs() > 1.0 {
+                    self.error(
+                        "coupling-range",
+                        ex.span,
+                        format!(
+                            "{ctx}: coupling coefficient must satisfy |k| <= 1, got {}",
+                            fmt_num(k)
+                        ),
+                    );
+                    return None;
+                }
+                Some(k)
+            }
+            None => {
+                self.error("missing-option", e.name.span, format!("{ctx} needs k="));
+                None
+            }
+        };
+        Some(ElementKind::Coupling {
+            inductors: inductors?,
+            k: k?,
+        })
+    }
+
+    /// The inductors a coupling names: each an inductor, none twice.
+    fn coupled_inductors(&mut self, e: &ElementStmt, ctx: &str) -> Option<Vec<ElementId>> {
+        let mut ids = Vec::new();
+        let mut ok = true;
+        for n in &e.nodes {
+            match self.element_ref(n, ctx) {
+                Some(id) if self.elem_kind(id) == Some(ElemKeyword::Inductor) => {
+                    if ids.contains(&id) {
+                        self.error(
+                            "duplicate-name",
+                            n.span,
+                            format!("{ctx}: inductor '{}' named twice", n.name),
+                        );
+                        ok = false;
+                    }
+                    ids.push(id);
+                }
+                Some(id) => {
+                    let k = self.kind_word(id);
+                    self.error(
+                        "element-kind",
+                        n.span,
+                        format!("{ctx} couples inductors, '{}' is a {k}", n.name),
+                    );
+                    ok = false;
+                }
+                None => ok = false,
+            }
+        }
+        ok.then_some(ids)
+    }
+
+    fn source(&mut self, e: &'a ElementStmt) -> Option<ElementKind> {
+        let name = e.name.name.as_str();
+        let kw = e.kind.keyword();
+        let ctx = format!("{kw} {name}");
+        let (p, n) = self.terminals(e);
+        let is_v = e.kind == ElemKeyword::Voltage;
+        let (slot, dc_spec) = if is_v {
+            (Slot::Voltage, o::VOLTAGE_DC)
+        } else {
+            (Slot::Current, o::CURRENT_DC)
+        };
+        let m = self.opts(&e.options, o::of(kw), &ctx);
+        let dc = self.opt_value(&m, &dc_spec, &format!("{kw} dc"));
+        let rs = if is_v {
+            self.opt_value(&m, &o::INTERNAL, "internal resistance")
+        } else {
+            Some(None)
+        };
+        let shape = match m.get(o::WAVE.name) {
+            None => Some(None),
+            Some(opt) => match &opt.value {
+                OptValue::Wave(w) => self.wave(w, slot).map(Some),
+                OptValue::Expr(ex) => {
+                    self.error(
+                        "syntax",
+                        ex.span,
+                        "wave= takes sine(...), square(...) or table(...)",
+                    );
+                    None
+                }
+            },
+        };
+        let dc = self.main_value(name, dc?.unwrap_or(0.0));
+        let wave = Waveform { dc, shape: shape? };
+        if is_v {
+            Some(ElementKind::VoltageSource {
+                p,
+                n,
+                wave,
+                rs: rs?.unwrap_or(0.0),
+            })
+        } else {
+            Some(ElementKind::CurrentSource { p, n, wave })
+        }
+    }
+
+    fn semiconductor(&mut self, e: &'a ElementStmt, parts: &PartsSeen<'_>) -> Option<ElementKind> {
+        let name = e.name.name.as_str();
+        let kw = e.kind.keyword();
+        let ctx = format!("{kw} {name}");
+        let is_d = e.kind == ElemKeyword::Diode;
+        let (a, k) = self.terminals(e);
+        let m = self.opts(&e.options, o::of(kw), &ctx);
+        let term = if is_d {
+            Vec::new()
+        } else {
+            self.bjt_terminals(e, &m, &ctx)?
+        };
+        let area = self.opt_value(&m, &o::AREA, "area")?.unwrap_or(1.0);
+        let area = self.main_value(name, area);
+        if area <= 0.0 {
+            self.error(
+                "bad-value",
+                e.name.span,
+                format!("{ctx}: area must be > 0, got {}", fmt_num(area)),
+            );
+            return None;
+        }
+        let model = self.bind_part(e, &m, &ctx, parts)?;
+        if is_d {
+            Some(ElementKind::Diode { a, k, model, area })
+        } else {
+            Some(ElementKind::Bjt {
+                c: term[0],
+                b: term[1],
+                e: term[2],
+                model,
+                area,
+            })
+        }
+    }
+
+    /// The collector, base and emitter nodes of a bjt (`c=`, `b=`, `e=`, all required).
+    fn bjt_terminals(
+        &mut self,
+        e: &ElementStmt,
+        m: &super::opts::Given<'a>,
+        ctx: &str,
+    ) -> Option<Vec<NodeId>> {
+        let mut term = Vec::new();
+        for (spec, what) in [
+            (o::COLLECTOR, "collector"),
+            (o::BASE, "base"),
+            (o::EMITTER, "emitter"),
+        ] {
+            let t = spec.name;
+            match self.given_expr(m, &spec)? {
+                Some(ex) => {
+                    let id = self.name_of(ex, &format!("{t}= (a node)"))?;
+                    term.push(self.node(&id.name));
+                }
+                None => {
+                    self.error(
+                        "missing-option",
+                        e.name.span,
+                        format!("{ctx} needs {t}= (the {what} node)"),
+                    );
+                    return None;
+                }
+            }
+        }
+        Some(term)
+    }
+
+    /// The part named by `part=`, which must exist and be of a kind that fits the element.
+    fn bind_part(
+        &mut self,
+        e: &ElementStmt,
+        m: &super::opts::Given<'a>,
+        ctx: &str,
+        parts: &PartsSeen<'_>,
+    ) -> Option<ModelId> {
+        let is_d = e.kind == ElemKeyword::Diode;
+        let Some(mex) = self.given_expr(m, &o::PART)? else {
+            self.error(
+                "missing-option",
+                e.name.span,
+                format!("{ctx} needs part=NAME"),
+            );
+            return None;
+        };
+        let mname = self.name_of(mex, "part")?;
+        let Some(&mid) = self.models.get(mname.name.as_str()) else {
+            if self.is_broken(&["part"], &mname.name) {
+                return None;
+            }
+            let help = did_you_mean(&mname.name, self.models.keys());
+            self.error(
+                "unknown-part",
+                mname.span,
+                format!("{ctx}: no part named '{}'", mname.name),
+            )
+            .help = help;
+            return None;
+        };
+        if !parts.ok {
+            return None;
+        }
+        let mk = *parts.kinds.get(mid)?;
+        let fits = if is_d {
+            mk == ModelKind::Diode
+        } else {
+            mk != ModelKind::Diode
+        };
+        if !fits {
+            let want = if is_d {
+                "a diode part"
+            } else {
+                "an npn or pnp part"
+            };
+            let mname_s = parts
+                .models
+                .get(mid)
+                .map(|m| m.name.as_str())
+                .unwrap_or("?");
+            self.error(
+                "part-kind",
+                mname.span,
+                format!(
+                    "{ctx} needs {want}, '{mname_s}' is {}",
+                    super::parts::kind_word(mk)
+                ),
+            );
+            return None;
+        }
+        Some(mid)
+    }
+
+    /// `output` and `input`: which element's power is the output, which source is the drive.
+    pub(super) fn ports(&mut self, stmts: &'a [Statement], c: &mut Circuit) {
+        for s in stmts {
+            match &s.stmt {
+                Stmt::Output(id) => {
+                    if let Some(e) = self.element_ref(id, "output") {
+                        if matches!(
+                            self.elem_kind(e),
+                            Some(ElemKeyword::Coupling | ElemKeyword::Bjt)
+                        ) {
+                            self.error(
+                                "element-kind",
+                                id.span,
+                                format!(
+                                    "output must be a two-terminal element, '{}' is a {}",
+                                    id.name,
+                                    self.kind_word(e)
+                                ),
+                            );
+                        } else {
+                            c.output = Some(e);
+                        }
+                    }
+                }
+                Stmt::Input(id) => {
+                    if let Some(e) = self.element_ref(id, "input") {
+                        if !matches!(
+                            self.elem_kind(e),
+                            Some(ElemKeyword::Voltage | ElemKeyword::Current)
+                        ) {
+                            self.error(
+                                "element-kind",
+                                id.span,
+                                format!(
+                                    "input must be a voltage or current source, '{}' is a {}",
+                                    id.name,
+                                    self.kind_word(e)
+                                ),
+                            );
+                        } else {
+                            c.input = Some(e);
+                        }
+                    }
+                }
+                _ => {}
+            }
+        }
+    }
+}

@@ -1,0 +1,322 @@
+//! Periodic steady state: the types every steady method shares, the
+//! dispatcher [`steady`] and the time origin of the period (`start_time`).
+//!
+//! Every method produces a [`PeriodicSolution`]: each unknown sampled at
+//! `N` uniform points of one period `T = 1/freq`, `x[k][n] = x_k(n·T/N)`,
+//! plus the current into every terminal of every element over the same
+//! samples. One file per part, no file importing from a sibling that
+//! imports it:
+//! - [`sample`]: the one terminal-current sampler, with the derivative rule
+//!   as its parameter, and the transport currents (imports no sibling);
+//! - [`mod@balance`]: harmonic balance (imports `sample`);
+//! - [`mod@shooting`]: Newton on the state at the period start; one period
+//!   with its monodromy matrix `Φ = ∂x(T)/∂x₀` is `shooting::integrate_period`
+//!   (crate-visible, for checks of the orbit's multipliers; imports `sample`);
+//! - [`mod@settle`]: plain transient until one period repeats the previous one
+//!   (imports `sample`).
+
+pub mod balance;
+pub mod sample;
+pub mod settle;
+pub mod shooting;
+
+pub use balance::{balance, BalanceInfo, BalanceParams};
+pub use sample::{terminal_currents, transport_currents};
+pub use settle::settle;
+pub use shooting::shooting;
+
+use crate::linalg::LinearSolver;
+use crate::newton::Tolerances;
+use crate::SolveError;
+use tankwave_circuit::ir::{ElementKind, Shape};
+use tankwave_circuit::{Analysis, Circuit, SteadyMethod};
+use tankwave_devices::DeviceSet;
+
+/// A periodic steady state sampled over one period.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PeriodicSolution {
+    /// Fundamental frequency, Hz.
+    pub freq: f64,
+    /// Number of harmonics K the solution is meant to carry.
+    pub harmonics: usize,
+    /// Samples per period N (a power of two, N > 2K).
+    pub samples_per_period: usize,
+    /// `x[unknown][n]`: value at `t = n·T/N` over one period.
+    pub x: Vec<Vec<f64>>,
+    /// `[element index in circuit.elements][terminal][n]`: current INTO the
+    /// element at that terminal, `i + dq/dt` from the element's devices (the
+    /// derivative taken spectrally over the period for harmonic balance, by the
+    /// integration formula for shooting and settle). Empty for couplings.
+    pub terminal_currents: Vec<Vec<Vec<f64>>>,
+    /// `[element index][n]`: the intrinsic transport current of an element
+    /// whose device has one ([`tankwave_devices::Device::transport_current`],
+    /// a bipolar transistor's collector transport current), A; `None` for the
+    /// others. See [`transport_currents`].
+    pub transport_currents: Vec<Option<Vec<f64>>>,
+    /// How it was obtained.
+    pub info: SteadyInfo,
+}
+
+impl PeriodicSolution {
+    /// Period, s.
+    pub fn period(&self) -> f64 {
+        1.0 / self.freq
+    }
+    /// Sample times `n·T/N`.
+    pub fn times(&self) -> Vec<f64> {
+        let n = self.samples_per_period;
+        (0..n).map(|k| k as f64 / (n as f64 * self.freq)).collect()
+    }
+}
+
+/// Report of a steady-state solve.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SteadyInfo {
+    /// Method that produced the solution.
+    pub method: SteadyMethod,
+    /// Method tried first that failed, if any.
+    pub fell_back_from: Option<SteadyMethod>,
+    /// Newton iterations (balance), simulated periods (settle), or, for
+    /// shooting, the periods integrated by the iteration on both grids (Newton
+    /// and chord steps; the warm-up periods are not counted).
+    pub iterations: usize,
+    /// Final residual: largest scaled periodicity error (shooting, settle) or
+    /// harmonic residual (balance); ≤ 1 means within tolerance.
+    pub residual: f64,
+    /// Order of the Newton system solved (0 for settle).
+    pub system_size: usize,
+    /// Harmonic-balance details (harmonics used, continuation steps, …); `None` for other methods.
+    pub balance: Option<BalanceInfo>,
+    /// Shooting details (periods per grid, monodromy matrices); `None` for other methods.
+    pub shooting: Option<ShootingInfo>,
+}
+
+/// How a shooting solve went, grid by grid.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct ShootingInfo {
+    /// Steps per period of the coarse grid (0 when it was not used).
+    pub coarse_steps: usize,
+    /// Periods integrated by the iteration on the coarse grid.
+    pub coarse_periods: usize,
+    /// Periods integrated by the iteration on the fine grid.
+    pub fine_periods: usize,
+    /// Periods that carried the monodromy matrix (Newton steps; the others
+    /// were chord steps with an earlier one).
+    pub monodromy_periods: usize,
+    /// Warm-up periods run before the iteration (0 for a warm start).
+    pub warmup_periods: usize,
+}
+
+/// Options of the plain-transient method.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SettleParams {
+    /// Most periods simulated before giving up (default 5000).
+    pub max_periods: usize,
+    /// Relative tolerance of the period-to-period change, against each
+    /// unknown's peak-to-peak range plus its peak magnitude (default 1e-6).
+    pub rel_tolerance: f64,
+}
+
+impl Default for SettleParams {
+    fn default() -> Self {
+        Self {
+            max_periods: 5000,
+            rel_tolerance: 1e-6,
+        }
+    }
+}
+
+/// Options of shooting.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ShootingParams {
+    /// Transient periods run from the operating point (started where the sources
+    /// have become periodic), on the coarse grid, before the first Newton step
+    /// (default 2).
+    pub warmup_periods: usize,
+    /// Newton iteration limit on each grid (default 50).
+    pub max_iter: usize,
+    /// Run the warm-up and the iteration from far away on a coarse grid of a
+    /// quarter of the steps per period (when there are at least 128), and on
+    /// the fine grid iterate with the coarse `Φ − I` as a chord Jacobian
+    /// (default true). When false, every iteration is a full Newton step on
+    /// the fine grid.
+    pub coarse_grid: bool,
+    /// Relative tolerance of the periodicity error `x(T) − x(0)` against
+    /// each unknown's peak magnitude over the period (default 1e-7).
+    pub rel_tolerance: f64,
+    /// A warm start: the state at the start of a period from a solved
+    /// neighbouring variant (same unknowns). When given (and of the right
+    /// length) the warm-up periods are skipped and Newton starts from it.
+    pub initial: Option<Vec<f64>>,
+}
+
+impl Default for ShootingParams {
+    fn default() -> Self {
+        Self {
+            warmup_periods: 2,
+            max_iter: 50,
+            coarse_grid: true,
+            rel_tolerance: 1e-7,
+            initial: None,
+        }
+    }
+}
+
+/// Options of a periodic steady-state solve.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SteadyParams {
+    /// Fundamental frequency, Hz.
+    pub freq: f64,
+    /// Harmonics K (default 32).
+    pub harmonics: usize,
+    /// Method (default auto).
+    pub method: SteadyMethod,
+    /// Time steps per period for shooting and settle (power of two, default 256;
+    /// raised to the next power of two above 2K when smaller).
+    pub steps_per_period: usize,
+    /// Newton tolerances of every time step and of the operating point.
+    pub tol: Tolerances,
+    /// Shooting options.
+    pub shooting: ShootingParams,
+    /// Settle options.
+    pub settle: SettleParams,
+    /// Harmonic-balance options.
+    pub balance: BalanceParams,
+    /// Linear solver.
+    pub linear_solver: LinearSolver,
+}
+
+impl Default for SteadyParams {
+    fn default() -> Self {
+        Self {
+            freq: 1e6,
+            harmonics: 32,
+            method: SteadyMethod::Auto,
+            steps_per_period: 256,
+            tol: Tolerances::default(),
+            shooting: ShootingParams::default(),
+            settle: SettleParams::default(),
+            balance: BalanceParams::default(),
+            linear_solver: LinearSolver::default(),
+        }
+    }
+}
+
+impl SteadyParams {
+    /// Options from an `analyze steady` statement (`None` for other analyses).
+    pub fn from_analysis(a: &Analysis) -> Option<Self> {
+        match a {
+            Analysis::Steady {
+                freq,
+                harmonics,
+                method,
+                steps_per_period,
+            } => Some(Self {
+                freq: *freq,
+                harmonics: *harmonics,
+                method: *method,
+                steps_per_period: *steps_per_period,
+                ..Self::default()
+            }),
+            _ => None,
+        }
+    }
+
+    /// Samples per period actually used: `steps_per_period` rounded up to a
+    /// power of two and raised until it exceeds `2·harmonics`.
+    pub fn samples(&self) -> usize {
+        let mut n = self.steps_per_period.max(4).next_power_of_two();
+        while n <= 2 * self.harmonics {
+            n *= 2;
+        }
+        n
+    }
+
+    pub(crate) fn check(&self) -> Result<(), SolveError> {
+        if !(self.freq.is_finite() && self.freq > 0.0) {
+            return Err(SolveError::BadParams(format!(
+                "steady-state frequency must be positive and finite, got {}",
+                self.freq
+            )));
+        }
+        if self.harmonics == 0 || self.harmonics > 1 << 16 {
+            return Err(SolveError::BadParams(format!(
+                "harmonics must be between 1 and 65536, got {}",
+                self.harmonics
+            )));
+        }
+        if self.steps_per_period > 1 << 20 {
+            return Err(SolveError::BadParams(format!(
+                "steps per period {} is too many",
+                self.steps_per_period
+            )));
+        }
+        Ok(())
+    }
+}
+
+/// Periodic steady state by the method in `params` (auto: harmonic balance
+/// first, shooting as the fallback, recorded in [`SteadyInfo::fell_back_from`]).
+pub fn steady(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    params: &SteadyParams,
+) -> Result<PeriodicSolution, SolveError> {
+    params.check()?;
+    match params.method {
+        SteadyMethod::Shooting => shooting(circuit, devices, params),
+        SteadyMethod::Settle => settle(circuit, devices, params),
+        SteadyMethod::Balance => balance(circuit, devices, params),
+        SteadyMethod::Auto => {
+            // Shooting first: on the demo stages it is several times faster
+            // than harmonic balance with its automatic raise of K (measured in
+            // benches/stages.rs), and both agree within the acceptance figures
+            // (tests/it/agreement.rs). Balance is the fallback; when both fail
+            // the error names both.
+            match shooting(circuit, devices, params) {
+                Ok(s) => Ok(s),
+                Err(first) => match balance(circuit, devices, params) {
+                    Ok(mut s) => {
+                        s.info.fell_back_from = Some(SteadyMethod::Shooting);
+                        Ok(s)
+                    }
+                    Err(second) => Err(SolveError::BothFailed {
+                        first: Box::new(first),
+                        second: Box::new(second),
+                    }),
+                },
+            }
+        }
+    }
+}
+
+/// First whole number of periods after every source's delay, rise and last
+/// corner: the time origin of the period harmonic balance solves for (the
+/// sources are periodic from there on). Other periodic methods can start
+/// their period here too, so that all of them see the same drive.
+pub(crate) fn start_time(circuit: &Circuit, period: f64) -> f64 {
+    let mut t = 0.0f64;
+    for el in &circuit.elements {
+        let wave = match &el.kind {
+            ElementKind::VoltageSource { wave, .. } | ElementKind::CurrentSource { wave, .. } => {
+                wave
+            }
+            _ => continue,
+        };
+        let end = match &wave.shape {
+            Some(Shape::Sine { delay, rise, .. }) => delay + rise,
+            Some(Shape::Square { start: delay, .. }) => *delay,
+            Some(Shape::Table(pts)) => pts.last().map(|p| p.0).unwrap_or(0.0),
+            None => 0.0,
+        };
+        if end.is_finite() {
+            t = t.max(end);
+        }
+    }
+    let periods = (t / period).ceil();
+    if periods.is_finite() && periods > 0.0 {
+        periods * period
+    } else {
+        0.0
+    }
+}

@@ -1,0 +1,131 @@
+//! Settle: the periodic steady state by plain transient, at the
+//! discretisation shooting uses, until one period repeats the previous one.
+
+use super::sample::trbdf2_solution;
+use super::{PeriodicSolution, SteadyInfo, SteadyParams};
+use crate::newton::unknown_floor;
+use crate::transient::Stepper;
+use crate::SolveError;
+use tankwave_circuit::{Circuit, SteadyMethod};
+use tankwave_devices::DeviceSet;
+
+/// Plain transient at `N` fixed TR-BDF2 steps per period (the discretisation
+/// shooting uses, so both reach the same discrete solution) from the
+/// operating point until the largest period-to-period change is within
+/// tolerance; the last period is the result.
+pub fn settle(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    params: &SteadyParams,
+) -> Result<PeriodicSolution, SolveError> {
+    params.check()?;
+    let n = devices.n_unknowns;
+    let ns = params.samples();
+    let period = 1.0 / params.freq;
+    let h = period / ns as f64;
+    let mut st = Stepper::from_op(devices, params.tol, params.linear_solver, 0.0)?;
+    // the last few periods, newest last, for the repeat test on failure
+    let mut history: std::collections::VecDeque<Vec<Vec<f64>>> =
+        std::collections::VecDeque::with_capacity(MAX_REPEAT + 1);
+    let mut last_change = (f64::INFINITY, 0.0, 0usize, 0.0);
+    for p in 0..params.settle.max_periods {
+        let mut cur = vec![vec![0.0; ns]; n];
+        let mut stage = vec![vec![0.0; ns]; n];
+        for s in 0..ns {
+            for (k, row) in cur.iter_mut().enumerate() {
+                row[s] = st.x[k];
+            }
+            // Land exactly on the period grid to avoid drift of t.
+            let t1 = (p * ns + s + 1) as f64 * h;
+            let xg = st
+                .step_trbdf2(t1)
+                .map_err(|e| e.into_error(devices, "settle"))?;
+            for (k, row) in stage.iter_mut().enumerate() {
+                row[s] = xg[k];
+            }
+        }
+        if let Some(pv) = history.back() {
+            let worst = period_change(devices, params, &cur, pv);
+            last_change = (worst.1, worst.3, worst.2, worst.4);
+            if worst.0 <= 1.0 {
+                let info = SteadyInfo {
+                    method: SteadyMethod::Settle,
+                    fell_back_from: None,
+                    iterations: p + 1,
+                    residual: worst.0,
+                    system_size: 0,
+                    balance: None,
+                    shooting: None,
+                };
+                return trbdf2_solution(circuit, devices, params, cur, &stage, info);
+            }
+        }
+        if history.len() > MAX_REPEAT {
+            history.pop_front();
+        }
+        history.push_back(cur);
+    }
+    // Not periodic at the drive frequency: does the end repeat every m periods?
+    let repeats_every = history.back().and_then(|last| {
+        (2..=MAX_REPEAT).find(|&m| {
+            history.len() > m
+                && period_change(devices, params, last, &history[history.len() - 1 - m]).0
+                    <= REPEAT_TOLERANCES
+        })
+    });
+    Err(SolveError::NotSettled {
+        periods: params.settle.max_periods,
+        change: last_change.0,
+        tolerance: last_change.1,
+        unknown: devices
+            .names
+            .get(last_change.2)
+            .cloned()
+            .unwrap_or_default(),
+        repeats_every,
+        relative_change: last_change.3,
+    })
+}
+
+/// Longest repeat (in periods) looked for when settle fails.
+const MAX_REPEAT: usize = 4;
+
+/// A repeat every m periods counts when the change over m periods is within
+/// this many settle tolerances (the settle tolerance is for the fundamental
+/// period; a subharmonic state reached after the same number of periods is
+/// settled less tightly, and 100 tolerances, 1e-4 of the swing at the default,
+/// still tells a repeating state from a drifting or chaotic one).
+const REPEAT_TOLERANCES: f64 = 100.0;
+
+/// Largest change between two periods against the settle tolerance:
+/// (ratio, change, unknown, tolerance, change / (range + peak)), tolerance
+/// `rel_tolerance·(range + peak) + current_floor`.
+fn period_change(
+    devices: &DeviceSet,
+    params: &SteadyParams,
+    cur: &[Vec<f64>],
+    pv: &[Vec<f64>],
+) -> (f64, f64, usize, f64, f64) {
+    let mut worst = (0.0f64, 0.0f64, 0usize, 0.0f64, 0.0f64);
+    for (k, (row, old)) in cur.iter().zip(pv).enumerate() {
+        let (lo, hi) = row
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
+                (a.min(*v), b.max(*v))
+            });
+        let mag = lo.abs().max(hi.abs());
+        let tol = params.settle.rel_tolerance * ((hi - lo) + mag)
+            + unknown_floor(devices, &params.tol, k);
+        let ch = row
+            .iter()
+            .zip(old)
+            .fold(0.0f64, |m, (a, b)| m.max((a - b).abs()));
+        let ratio = ch / tol;
+        if !(ratio <= worst.0) {
+            let size = (hi - lo) + mag;
+            let rel = if size > 0.0 { ch / size } else { 0.0 };
+            worst = (ratio, ch, k, tol, rel);
+        }
+    }
+    worst
+}
