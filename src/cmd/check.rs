@@ -3,7 +3,7 @@
 
 use super::common::{self, BAD_INPUT, FAILED, OK, SOLVER};
 use super::visual;
-use crate::pipeline::{self, Failure, Scope};
+use tankwave_stage::{Scope, SolveOptions, StageError};
 use clap::{Args, ValueEnum};
 use std::path::PathBuf;
 use tankwave_report::check::{FileCheck, FileOutcome};
@@ -60,7 +60,7 @@ pub fn run(a: &CheckArgs) -> i32 {
     }
     let mut inputs = tankwave_report::outputs::Inputs::default();
     for f in &a.files {
-        inputs.add(&pipeline::input_files(f));
+        inputs.add(&common::input_files(f));
     }
     let dirs: Vec<&std::path::Path> = a.plots.iter().map(PathBuf::as_path).collect();
     let junit: Vec<PathBuf> = a.junit.iter().cloned().collect();
@@ -71,7 +71,7 @@ pub fn run(a: &CheckArgs) -> i32 {
     let mut outcomes = Vec::new();
     for f in &a.files {
         let name = f.display().to_string();
-        let outcome = match pipeline::load(f, &overrides) {
+        let outcome = match common::load(f, &overrides) {
             Err(fail) => {
                 let code = common::report_failure(&name, &fail);
                 FileOutcome::Error {
@@ -79,7 +79,7 @@ pub fn run(a: &CheckArgs) -> i32 {
                     message: "bad input".into(),
                 }
             }
-            Ok(l) => match pipeline::solve(&l.circuit, Scope::Requirements) {
+            Ok(l) => match tankwave_stage::solve(&l.circuit, &SolveOptions::scope(Scope::Requirements)) {
                 Ok(r) => {
                     if let Some(dir) = &a.plots {
                         let stem = f
@@ -105,8 +105,8 @@ pub fn run(a: &CheckArgs) -> i32 {
                 Err(fail) => {
                     let code = common::report_failure(&name, &fail);
                     let message = match fail {
-                        Failure::Solve(m) | Failure::Setup(m) => m,
-                        Failure::Input { .. } => "bad input".into(),
+                        StageError::Input { .. } => "bad input".into(),
+                        e => e.to_string(),
                     };
                     FileOutcome::Error { code, message }
                 }
