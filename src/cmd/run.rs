@@ -83,7 +83,10 @@ pub fn run(a: &RunArgs) -> i32 {
         return code;
     }
     if !loaded.warnings.is_empty() {
-        eprint!("{}", crate::diag::render(&loaded.warnings, loaded.sources()));
+        eprint!(
+            "{}",
+            crate::diag::render(&loaded.warnings, loaded.sources())
+        );
     }
     let c = &loaded.circuit;
     let res = match tankwave_stage::solve(c, &SolveOptions::scope(Scope::All)) {

@@ -78,7 +78,10 @@ mod tests {
     #[test]
     fn blank_text_is_blank_and_a_stage_elaborates() {
         assert!(StageSource::from_text("t.tank", "# only a comment\n\n").is_blank());
-        let s = StageSource::from_text("t.tank", "voltage v1 a gnd dc=1V\nresistor r1 a gnd 50Ohm\n");
+        let s = StageSource::from_text(
+            "t.tank",
+            "voltage v1 a gnd dc=1V\nresistor r1 a gnd 50Ohm\n",
+        );
         assert!(!s.is_blank());
         let e = s.elaborate(&Overrides::default()).expect("a valid stage");
         assert_eq!(e.circuit.elements.len(), 2);

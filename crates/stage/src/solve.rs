@@ -174,8 +174,7 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
         match a {
             Analysis::Bias => {
                 if opts.scope == Scope::All && res.op.is_none() {
-                    match tankwave_solve::operating_point(circuit, &devices, &OpParams::default())
-                    {
+                    match tankwave_solve::operating_point(circuit, &devices, &OpParams::default()) {
                         Ok(op) => res.op = Some(op),
                         Err(e) => fail(&mut res, e.into())?,
                     }

@@ -43,6 +43,6 @@ pub use summary::{
     percentile_sorted, FigureStats, RequirementStats, Summary, SummaryBuilder, SummarySink,
 };
 pub use tune::{
-    map_around, tune, Sharpness, TuneContext, TuneCurve, TuneFigures, TuneGoal,
-    TuneMap, TuneMapParams, TuneParams, TuneResult, TuneSurface,
+    map_around, tune, Sharpness, TuneContext, TuneCurve, TuneFigures, TuneGoal, TuneMap,
+    TuneMapParams, TuneParams, TuneResult, TuneSurface,
 };

@@ -7,12 +7,12 @@
 use tankwave_circuit::{Circuit, VaryTarget};
 use tankwave_study::{Record, RunInfo, Shard, Summary};
 
-use tankwave_stage::{mask_evaluations, StageResults};
 use super::units::{element_unit, param_unit};
 use super::variant::{figure_is_fraction, figure_limit, figure_unit};
 use super::{safe_name, Drawn, NamedFigure};
 use crate::html::{Figure, Provenance, ReportInput};
 use crate::plot::{self, PlotParams};
+use tankwave_stage::{mask_evaluations, StageResults};
 
 /// Figures of a study from its `records`: `hist-NAME.svg`, a histogram of
 /// every figure (with the requirement limit where one applies) and, for a
