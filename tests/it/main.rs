@@ -2,7 +2,7 @@
 //! `bad_input`), agreement of the steady-state methods on every demo stage
 //! (`agreement`), the convergence sweep over the class-C demo
 //! (`convergence`), and a bounded solve of random small circuits
-//! (`fuzz_smoke`), hostile input from strangers (`hostile`), and the
+//! (`fuzz_smoke`), the demo outputs against golden files (`golden`), hostile input from strangers (`hostile`), and the
 //! crate layering and syntax-tree boundary (`layering`). Data lives under
 //! tests/data/.
 
@@ -11,6 +11,7 @@ mod bad_input;
 mod cli;
 mod convergence;
 mod fuzz_smoke;
+mod golden;
 mod harness;
 mod hostile;
 mod layering;
