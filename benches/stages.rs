@@ -8,7 +8,8 @@
 //!   periods at the default accuracy, and against the settled brute-force
 //!   transient (method settle), as ratios;
 //! - for the class-C demo, the transient over 300 periods with its step count;
-//! - a Monte Carlo study of the class-C demo on 1 and 2 threads: variants per
+//! - a Monte Carlo study of the class-C demo on 1 and 2 threads (the
+//!   per-variant work of `tankwave study`, from tankwave-stage): variants per
 //!   second and the speed-up.
 //!
 //! - the convergence sweep over the class-C stage (drive 0.05x..3x, supply
@@ -19,8 +20,9 @@
 
 use std::path::{Path, PathBuf};
 use std::time::Instant;
-use tankwave_circuit::{Circuit, Overrides, SteadyMethod};
+use tankwave_circuit::{Circuit, Overrides, StageSource, SteadyMethod};
 use tankwave_solve::{SteadyParams, TransientParams};
+use tankwave_stage::{Scope, SolveOptions};
 
 fn median(mut v: Vec<f64>) -> f64 {
     v.sort_by(|a, b| a.total_cmp(b));
@@ -38,7 +40,7 @@ fn time<F: FnMut()>(repeats: usize, mut f: F) -> f64 {
 }
 
 fn load(p: &Path) -> Circuit {
-    tankwave_circuit::load_file(p, &Overrides::default())
+    tankwave_stage::load(p, &[], &Overrides::default())
         .unwrap_or_else(|e| panic!("{}: {e}", p.display()))
         .circuit
 }
@@ -124,7 +126,7 @@ fn main() {
         .ok()
         .and_then(|s| s.parse().ok())
         .unwrap_or(1000);
-    let parsed = tankwave_netlist::parse_file(root.join("netlists/ism-13m56-classc.tank"));
+    let source = StageSource::read(&root.join("netlists/ism-13m56-classc.tank"), &[]);
     let mut spec = classc.study.clone();
     spec.tolerances = ["c1", "c2", "lpi", "rbias"]
         .iter()
@@ -137,19 +139,9 @@ fn main() {
     spec.montecarlo = Some(tankwave_circuit::MonteCarlo { runs: n, seed: 1 });
     let names: Vec<&str> = classc.elements.iter().map(|e| e.name.as_str()).collect();
     let plan = tankwave_study::Plan::new(&spec, &names).expect("plan");
-    let work = |v: &tankwave_study::Variant, _w: Option<&tankwave_study::WarmStart>| {
-        let c = tankwave_circuit::elaborate(&parsed, &v.overrides)
-            .map_err(|_| "elaborate".to_string())?
-            .circuit;
-        let d = tankwave_devices::instantiate(&c).map_err(|e| e.to_string())?;
-        let s = tankwave_solve::steady(&c, &d, &steady_params(&c)).map_err(|e| e.to_string())?;
-        let mut metrics = std::collections::BTreeMap::new();
-        metrics.insert("iterations".to_string(), s.info.iterations as f64);
-        Ok(tankwave_study::Outcome {
-            metrics,
-            verdicts: Default::default(),
-            warm: None,
-        })
+    // the work of `tankwave study` for one variant (warm starts included)
+    let work = |v: &tankwave_study::Variant, w: Option<&tankwave_study::WarmStart>| {
+        tankwave_stage::study_outcome(&source, &Overrides::default(), v, w)
     };
     let mut rates = Vec::new();
     for threads in [1usize, 2] {
@@ -185,7 +177,7 @@ fn main() {
 }
 
 fn convergence_sweep(root: &Path) {
-    let parsed = tankwave_netlist::parse_file(root.join("tests/data/sweep/classc-load.tank"));
+    let source = StageSource::read(&root.join("tests/data/sweep/classc-load.tank"), &[]);
     let mut variants: Vec<Vec<(&str, f64)>> = Vec::new();
     for d in [0.05, 0.2, 0.5, 0.8, 1.0, 1.5, 2.0, 3.0] {
         for v in [5.0, 9.0, 13.8, 20.0, 30.0] {
@@ -214,14 +206,17 @@ fn convergence_sweep(root: &Path) {
         for (k, x) in v {
             o.params.insert((*k).to_string(), *x);
         }
-        let c = tankwave_circuit::elaborate(&parsed, &o)
+        let c = tankwave_stage::load_source(source.clone(), &o)
             .expect("elaborates")
             .circuit;
-        let d = tankwave_devices::instantiate(&c).expect("devices");
         let t = Instant::now();
-        match tankwave_solve::steady(&c, &d, &steady_params(&c)) {
-            Ok(s) => {
-                assert!(s.x.iter().flatten().all(|x| x.is_finite()), "NaN in {v:?}");
+        match tankwave_stage::solve(&c, &SolveOptions::scope(Scope::Requirements)) {
+            Ok(r) => {
+                let s = r.steady.expect("a steady state");
+                assert!(
+                    s.solution.x.iter().flatten().all(|x| x.is_finite()),
+                    "NaN in {v:?}"
+                );
                 solved += 1;
             }
             Err(e) => eprintln!("{v:?}: {e}"),

@@ -1,10 +1,10 @@
 //! The `tankwave` command line: a thin shell over the library crates. It
-//! parses arguments, calls the crates in data-flow order, prints, writes
-//! files and picks the exit code. It is the only code that prints.
+//! parses arguments, calls tankwave-stage (and the other crates) to load,
+//! solve and present, prints, writes files and picks the exit code. It is
+//! the only code that prints.
 
 mod cmd;
 mod diag;
-mod pipeline;
 
 use clap::{Parser, Subcommand};
 use std::process::ExitCode;
@@ -85,7 +85,7 @@ fn main() -> ExitCode {
             return ExitCode::from(code);
         }
     };
-    pipeline::set_include_roots(cli.include_roots.clone());
+    cmd::common::set_include_roots(cli.include_roots.clone());
     if !cli.no_caution && shows_caution(&cli.command) {
         // the same single text `run` prints in its report
         eprintln!("{}", tankwave_report::stage::SAFETY_NOTE);

@@ -1,20 +1,13 @@
-//! Fuzz target `stage`: arbitrary bytes through parse, elaborate, device
-//! instantiation and a bounded solve. Every step may return an error; none may
-//! panic, hang, or return a non-finite number inside a successful result.
+//! Fuzz target `stage`: arbitrary bytes through the stage crate's pipeline
+//! (parse, elaborate, device instantiation and a solve bounded by
+//! `tankwave_stage::Caps`, going on past a failed analysis). Every step may
+//! return an error; none may panic, hang, or return a non-finite number
+//! inside a successful result.
 #![no_main]
 
 use libfuzzer_sys::fuzz_target;
-use tankwave_circuit::{Analysis, Overrides};
-use tankwave_solve::{AcParams, OpParams, SteadyParams, TransientParams};
-
-/// Most unknowns for which the analyses beyond the operating point are run.
-const MAX_UNKNOWNS: usize = 20;
-/// Cap on the harmonics of a steady-state solve.
-const MAX_HARMONICS: usize = 8;
-/// Cap on the output steps of a transient.
-const MAX_STEPS: f64 = 200.0;
-/// Cap on the points of an AC sweep.
-const MAX_AC_POINTS: usize = 16;
+use tankwave_circuit::{Overrides, StageSource};
+use tankwave_stage::{Caps, Scope, SolveOptions};
 
 fn all_finite(v: &[f64]) -> bool {
     v.iter().all(|x| x.is_finite())
@@ -23,16 +16,19 @@ fn all_finite(v: &[f64]) -> bool {
 fuzz_target!(|data: &[u8]| {
     // A name in a directory that does not exist, so `include` statements
     // resolve to nothing on disk (relative ones at least).
-    let parsed = tankwave_netlist::parse_bytes("/nonexistent-fuzz-dir/stage.tank", data);
-    let Ok(el) = tankwave_circuit::elaborate(&parsed, &Overrides::default()) else {
+    let source = StageSource::from_bytes("/nonexistent-fuzz-dir/stage.tank", data);
+    let Ok(stage) = tankwave_stage::load_source(source, &Overrides::default()) else {
         return;
     };
-    let circuit = el.circuit;
-    let Ok(devices) = tankwave_devices::instantiate(&circuit) else {
+    let opts = SolveOptions {
+        caps: Some(Caps::default()),
+        keep_going: true,
+        ..SolveOptions::scope(Scope::All)
+    };
+    let Ok(r) = tankwave_stage::solve(&stage.circuit, &opts) else {
         return;
     };
-
-    if let Ok(op) = tankwave_solve::operating_point(&circuit, &devices, &OpParams::default()) {
+    if let Some(op) = &r.op {
         assert!(all_finite(&op.x), "non-finite operating point: {:?}", op.x);
         assert!(op.info.residual.is_finite());
         for d in &op.devices {
@@ -41,79 +37,35 @@ fuzz_target!(|data: &[u8]| {
             }
         }
     }
-    if devices.n_unknowns > MAX_UNKNOWNS {
-        return;
+    for t in &r.transients {
+        assert!(all_finite(&t.time), "non-finite transient time");
+        for row in &t.x {
+            assert!(all_finite(row), "non-finite transient value");
+        }
     }
-
-    for a in &circuit.analyses {
-        match a {
-            Analysis::Op => {}
-            Analysis::Transient { .. } => {
-                let Some(mut p) = TransientParams::from_analysis(a) else {
-                    continue;
-                };
-                if !(p.step.is_finite() && p.step > 0.0 && p.stop.is_finite()) {
-                    // Let the solver reject it: that path must not panic either.
-                    let _ = tankwave_solve::transient(&circuit, &devices, &p);
-                    continue;
-                }
-                p.stop = p.stop.min(MAX_STEPS * p.step);
-                let max_step = p.max_step.unwrap_or(p.step).min(p.step);
-                p.max_step = Some(max_step);
-                // Bound the number of internal steps: at most ~1e3 per output step.
-                p.min_step = Some(p.step * 1e-3);
-                if let Ok(r) = tankwave_solve::transient(&circuit, &devices, &p) {
-                    assert!(all_finite(&r.time), "non-finite transient time");
-                    for row in &r.x {
-                        assert!(all_finite(row), "non-finite transient value");
-                    }
-                }
-            }
-            Analysis::Ac { .. } => {
-                let Some(mut p) = AcParams::from_analysis(a) else {
-                    continue;
-                };
-                p.points = p.points.min(MAX_AC_POINTS);
-                if let Ok(r) = tankwave_solve::ac(&circuit, &devices, &p) {
-                    assert!(all_finite(&r.freq));
-                    for row in &r.x {
-                        assert!(
-                            row.iter().all(|c| c.re.is_finite() && c.im.is_finite()),
-                            "non-finite AC response"
-                        );
-                    }
-                    if let Some(z) = &r.impedance {
-                        assert!(
-                            z.iter().all(|c| c.re.is_finite() && c.im.is_finite()),
-                            "non-finite AC impedance"
-                        );
-                    }
-                }
-            }
-            Analysis::Steady { .. } => {
-                let Some(mut p) = SteadyParams::from_analysis(a) else {
-                    continue;
-                };
-                p.harmonics = p.harmonics.min(MAX_HARMONICS);
-                // 128 keeps both grids of shooting in play (the coarse one needs N ≥ 128)
-                p.steps_per_period = p.steps_per_period.min(128);
-                p.balance.max_harmonics = MAX_HARMONICS;
-                p.balance.max_levels = p.balance.max_levels.min(40);
-                p.balance.max_iter = p.balance.max_iter.min(30);
-                p.shooting.max_iter = p.shooting.max_iter.min(20);
-                p.shooting.warmup_periods = p.shooting.warmup_periods.min(2);
-                p.settle.max_periods = p.settle.max_periods.min(50);
-                if let Ok(s) = tankwave_solve::steady(&circuit, &devices, &p) {
-                    assert!(s.freq.is_finite());
-                    for row in &s.x {
-                        assert!(all_finite(row), "non-finite steady-state sample");
-                    }
-                    for el in &s.terminal_currents {
-                        for t in el {
-                            assert!(all_finite(t), "non-finite terminal current");
-                        }
-                    }
-                }
+    for ac in &r.acs {
+        assert!(all_finite(&ac.freq));
+        for row in &ac.x {
+            assert!(
+                row.iter().all(|c| c.re.is_finite() && c.im.is_finite()),
+                "non-finite AC response"
+            );
+        }
+        if let Some(z) = &ac.impedance {
+            assert!(
+                z.iter().all(|c| c.re.is_finite() && c.im.is_finite()),
+                "non-finite AC impedance"
+            );
+        }
+    }
+    if let Some(s) = &r.steady {
+        assert!(s.solution.freq.is_finite());
+        for row in &s.solution.x {
+            assert!(all_finite(row), "non-finite steady-state sample");
+        }
+        for el in &s.solution.terminal_currents {
+            for t in el {
+                assert!(all_finite(t), "non-finite terminal current");
             }
         }
     }

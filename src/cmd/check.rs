@@ -3,10 +3,10 @@
 
 use super::common::{self, BAD_INPUT, FAILED, OK, SOLVER};
 use super::visual;
-use crate::pipeline::{self, Failure, Scope};
 use clap::{Args, ValueEnum};
 use std::path::PathBuf;
 use tankwave_report::check::{FileCheck, FileOutcome};
+use tankwave_stage::{Scope, SolveOptions, StageError};
 
 /// Output format of `check`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
@@ -57,7 +57,7 @@ pub fn run(a: &CheckArgs) -> i32 {
     }
     let mut inputs = tankwave_report::outputs::Inputs::default();
     for f in &a.files {
-        inputs.add(&pipeline::input_files(f));
+        inputs.add(&common::input_files(f));
     }
     let dirs: Vec<&std::path::Path> = a.plots.iter().map(PathBuf::as_path).collect();
     let junit: Vec<PathBuf> = a.junit.iter().cloned().collect();
@@ -68,7 +68,7 @@ pub fn run(a: &CheckArgs) -> i32 {
     let mut outcomes = Vec::new();
     for f in &a.files {
         let name = f.display().to_string();
-        let outcome = match pipeline::load(f, &overrides) {
+        let outcome = match common::load(f, &overrides) {
             Err(fail) => {
                 let code = common::report_failure(&name, &fail);
                 FileOutcome::Error {
@@ -76,38 +76,41 @@ pub fn run(a: &CheckArgs) -> i32 {
                     message: "bad input".into(),
                 }
             }
-            Ok(l) => match pipeline::solve(&l.circuit, Scope::Requirements) {
-                Ok(r) => {
-                    if let Some(dir) = &a.plots {
-                        let stem = f
-                            .file_stem()
-                            .map(|s| s.to_string_lossy().to_string())
-                            .unwrap_or_else(|| "stage".into());
-                        let canon = std::fs::canonicalize(f).unwrap_or_else(|_| f.clone());
-                        let sub = dir.join(tankwave_report::outputs::plot_subdir(
-                            &stem,
-                            &canon.to_string_lossy(),
-                        ));
-                        let drawn = tankwave_report::assemble::stage_plots(&name, &l.circuit, &r);
-                        let files = visual::drawn_files(Some(&sub), &drawn);
-                        if !files.is_empty() {
-                            if let Err(e) = std::fs::create_dir_all(&sub) {
-                                eprintln!("error: cannot create '{}': {e}", sub.display());
+            Ok(l) => {
+                match tankwave_stage::solve(&l.circuit, &SolveOptions::scope(Scope::Requirements)) {
+                    Ok(r) => {
+                        if let Some(dir) = &a.plots {
+                            let stem = f
+                                .file_stem()
+                                .map(|s| s.to_string_lossy().to_string())
+                                .unwrap_or_else(|| "stage".into());
+                            let canon = std::fs::canonicalize(f).unwrap_or_else(|_| f.clone());
+                            let sub = dir.join(tankwave_report::outputs::plot_subdir(
+                                &stem,
+                                &canon.to_string_lossy(),
+                            ));
+                            let drawn =
+                                tankwave_report::assemble::stage_plots(&name, &l.circuit, &r);
+                            let files = visual::drawn_files(Some(&sub), &drawn);
+                            if !files.is_empty() {
+                                if let Err(e) = std::fs::create_dir_all(&sub) {
+                                    eprintln!("error: cannot create '{}': {e}", sub.display());
+                                }
                             }
+                            plot_files.extend(files);
                         }
-                        plot_files.extend(files);
+                        FileOutcome::Verdicts(r.verdicts)
                     }
-                    FileOutcome::Verdicts(r.verdicts)
+                    Err(fail) => {
+                        let code = common::report_failure(&name, &fail);
+                        let message = match fail {
+                            StageError::Input { .. } => "bad input".into(),
+                            e => e.to_string(),
+                        };
+                        FileOutcome::Error { code, message }
+                    }
                 }
-                Err(fail) => {
-                    let code = common::report_failure(&name, &fail);
-                    let message = match fail {
-                        Failure::Solve(m) | Failure::Setup(m) => m,
-                        Failure::Input { .. } => "bad input".into(),
-                    };
-                    FileOutcome::Error { code, message }
-                }
-            },
+            }
         };
         outcomes.push(FileCheck {
             file: name,

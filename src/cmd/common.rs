@@ -1,9 +1,12 @@
-//! Pieces shared by the subcommands: parameter overrides from `--set`,
-//! reporting failures with the right exit code.
+//! Pieces shared by the subcommands: parameter overrides from `--set`, the
+//! `--include-root` directories, loading a stage through tankwave-stage,
+//! reporting its failures with the right exit code.
 
-use crate::pipeline::Failure;
 use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+use std::sync::OnceLock;
 use tankwave_circuit::Overrides;
+use tankwave_stage::{Stage, StageError};
 
 /// Exit code: all good.
 pub const OK: i32 = 0;
@@ -29,6 +32,30 @@ pub fn overrides(sets: &[String]) -> Result<Overrides, String> {
         params,
         ..Overrides::default()
     })
+}
+
+/// The include roots given with `--include-root`.
+static INCLUDE_ROOTS: OnceLock<Vec<PathBuf>> = OnceLock::new();
+
+/// Record the `--include-root` directories (once, at start-up).
+pub fn set_include_roots(roots: Vec<PathBuf>) {
+    let _ = INCLUDE_ROOTS.set(roots);
+}
+
+/// The `--include-root` directories.
+pub fn include_roots() -> &'static [PathBuf] {
+    INCLUDE_ROOTS.get().map(Vec::as_slice).unwrap_or(&[])
+}
+
+/// Load the stage file at `path` with `overrides` (includes confined to
+/// its default roots and the `--include-root` directories).
+pub fn load(path: &Path, overrides: &Overrides) -> Result<Stage, StageError> {
+    tankwave_stage::load(path, include_roots(), overrides)
+}
+
+/// Every file the stage at `path` reads (itself and its includes).
+pub fn input_files(path: &Path) -> Vec<PathBuf> {
+    tankwave_stage::input_files(path, include_roots())
 }
 
 /// Print text for a person on stdout, with control characters from the
@@ -63,25 +90,32 @@ pub fn check_outputs(
     Ok(())
 }
 
-/// Print a failure to stderr and return its exit code.
-pub fn report_failure(file: &str, f: &Failure) -> i32 {
+/// The exit code of a failure: 2 when the input is at fault, 3 when the
+/// solver (or the measurement of its result) failed.
+pub fn exit_code(f: &StageError) -> i32 {
+    if f.is_input() {
+        BAD_INPUT
+    } else {
+        SOLVER
+    }
+}
+
+/// Print a failure to stderr (diagnostics drawn with their source lines)
+/// and return its exit code.
+pub fn report_failure(file: &str, f: &StageError) -> i32 {
     match f {
-        Failure::Input {
+        StageError::Input {
             diagnostics,
             sources,
-        } => {
-            eprint!("{}", crate::diag::render(diagnostics, sources));
-            BAD_INPUT
-        }
-        Failure::Setup(m) => {
-            eprintln!("error: {}: {}", esc(file), esc(m));
-            BAD_INPUT
-        }
-        Failure::Solve(m) => {
-            eprintln!("error: {}: solver failed: {}", esc(file), esc(m));
-            SOLVER
-        }
+        } => eprint!("{}", crate::diag::render(diagnostics, sources)),
+        e if e.is_input() => eprintln!("error: {}: {}", esc(file), esc(&e.to_string())),
+        e => eprintln!(
+            "error: {}: solver failed: {}",
+            esc(file),
+            esc(&e.to_string())
+        ),
     }
+    exit_code(f)
 }
 
 /// Text made safe for the terminal.

@@ -10,6 +10,7 @@ use clap::Args;
 use std::path::PathBuf;
 use tankwave_circuit::Overrides;
 use tankwave_report::overview::stage_overview;
+use tankwave_stage::StageError;
 
 /// Arguments of `lint`.
 #[derive(Args, Debug)]
@@ -38,27 +39,28 @@ pub fn run(a: &LintArgs) -> i32 {
 pub fn lint_files(files: &[PathBuf], overrides: &Overrides) -> i32 {
     let mut code = OK;
     for f in files {
-        let parsed = crate::pipeline::parse(f);
-        if let Some(m) = crate::pipeline::empty_file(&parsed) {
-            eprintln!("error: {}: {m}", common::esc(&f.display().to_string()));
-            code = BAD_INPUT;
-            continue;
-        }
-        match tankwave_circuit::elaborate(&parsed, overrides) {
+        match common::load(f, overrides) {
             Ok(e) => {
                 let file = f.display().to_string();
                 common::show(&stage_overview(&file, &e.circuit, e.warnings.len()));
                 if !e.warnings.is_empty() {
-                    eprint!("{}", crate::diag::render(&e.warnings, &parsed.sources));
+                    eprint!("{}", crate::diag::render(&e.warnings, e.sources()));
                 }
             }
-            Err(diags) => {
-                let errors = diags.iter().filter(|d| d.is_error()).count();
-                eprint!("{}", crate::diag::render(&diags, &parsed.sources));
+            Err(StageError::Input {
+                diagnostics,
+                sources,
+            }) => {
+                let errors = diagnostics.iter().filter(|d| d.is_error()).count();
+                eprint!("{}", crate::diag::render(&diagnostics, &sources));
                 eprintln!(
                     "{}: {errors} error(s); nothing is simulated from a file with errors\n",
                     common::esc(&f.display().to_string())
                 );
+                code = BAD_INPUT;
+            }
+            Err(e) => {
+                eprintln!("error: {}: {e}", common::esc(&f.display().to_string()));
                 code = BAD_INPUT;
             }
         }

@@ -2,11 +2,11 @@
 
 use super::common::{self, BAD_INPUT, FAILED, OK};
 use super::visual;
-use crate::pipeline::{self, Scope};
 use clap::{Args, ValueEnum};
 use std::path::PathBuf;
-use tankwave_report::assemble::{self, StageResults};
+use tankwave_report::assemble;
 use tankwave_report::stage;
+use tankwave_stage::{Scope, SolveOptions, StageResults};
 
 /// Output format of `run`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
@@ -62,11 +62,11 @@ pub fn run(a: &RunArgs) -> i32 {
             return BAD_INPUT;
         }
     }
-    let loaded = match pipeline::load(&a.file, &overrides) {
+    let loaded = match common::load(&a.file, &overrides) {
         Ok(l) => l,
         Err(f) => return common::report_failure(&file, &f),
     };
-    let inputs = tankwave_report::outputs::Inputs::new(&pipeline::input_files(&a.file));
+    let inputs = tankwave_report::outputs::Inputs::new(&common::input_files(&a.file));
     let mut out_files: Vec<PathBuf> = a.report.iter().cloned().collect();
     if let Some(dir) = &a.out {
         out_files.extend(out_file_names(&loaded.circuit).iter().map(|n| dir.join(n)));
@@ -80,10 +80,13 @@ pub fn run(a: &RunArgs) -> i32 {
         return code;
     }
     if !loaded.warnings.is_empty() {
-        eprint!("{}", crate::diag::render(&loaded.warnings, &loaded.sources));
+        eprint!(
+            "{}",
+            crate::diag::render(&loaded.warnings, loaded.sources())
+        );
     }
     let c = &loaded.circuit;
-    let res = match pipeline::solve(c, Scope::All) {
+    let res = match tankwave_stage::solve(c, &SolveOptions::scope(Scope::All)) {
         Ok(r) => r,
         Err(f) => return common::report_failure(&file, &f),
     };

@@ -5,14 +5,13 @@
 
 use super::common::{self, BAD_INPUT, FAILED, OK, SOLVER};
 use super::visual;
-use crate::pipeline;
 use clap::{Args, ValueEnum};
 use std::collections::BTreeMap;
 use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
 use tankwave_circuit::{Overrides, Tune};
-use tankwave_measure::Metrics;
-use tankwave_report::assemble::{self, variant, NominalStage, StudyReport};
+use tankwave_report::assemble::{self, NominalStage, StudyReport};
+use tankwave_stage::{Scope, SolveOptions, StageSource};
 use tankwave_study as study;
 
 /// Arguments of `study`.
@@ -114,61 +113,11 @@ pub struct TuneArgs {
     pub plot_span: f64,
 }
 
-/// A solved variant: what was measured, the verdicts, and the warm start
-/// for the next variant.
-type Solved = (
-    Metrics,
-    Vec<tankwave_measure::Verdict>,
-    Option<study::WarmStart>,
-);
-
-/// Solve one variant: elaborate with its overrides, scale the drive, solve
-/// the steady state (warm-started where given), measure, evaluate.
-fn solve_variant(
-    parsed: &tankwave_netlist::Parsed,
-    overrides: &Overrides,
-    drive_scale: f64,
-    warm: Option<&study::WarmStart>,
-) -> Result<Solved, String> {
-    let mut c = tankwave_circuit::elaborate(parsed, overrides)
-        .map_err(|d| {
-            let first = d.iter().find(|x| x.is_error()).map(|x| x.message.clone());
-            format!(
-                "does not elaborate: {}",
-                first.unwrap_or_else(|| "error".into())
-            )
-        })?
-        .circuit;
-    if drive_scale != 1.0 {
-        study::scale_drive(&mut c, drive_scale).map_err(|e| e.to_string())?;
-    }
-    let r = pipeline::solve_warm(
-        &c,
-        pipeline::Scope::Requirements,
-        warm.map(|w| w.as_slice()),
-    )
-    .map_err(|f| match f {
-        pipeline::Failure::Solve(m) | pipeline::Failure::Setup(m) => m,
-        pipeline::Failure::Input { .. } => "bad input".into(),
-    })?;
-    let s = r
-        .steady
-        .ok_or_else(|| "the file has no `analyze steady`".to_string())?;
-    // the state at the start of the period warm-starts the next variant of the segment
-    let next: study::WarmStart = s
-        .solution
-        .x
-        .iter()
-        .map(|u| u.first().copied().unwrap_or(0.0))
-        .collect();
-    Ok((s.metrics, r.verdicts, Some(next)))
-}
-
 /// What the records of this run are made from: the tool version, the `--set`
 /// overrides, the SHA-256 of the stage file and of every included file.
 fn provenance(
     file: &Path,
-    parsed: &tankwave_netlist::Parsed,
+    source: &StageSource,
     overrides: &tankwave_circuit::Overrides,
 ) -> study::Provenance {
     use tankwave_report::provenance::sha256_hex;
@@ -187,8 +136,8 @@ fn provenance(
             &file.display().to_string(),
             &std::fs::read(file).unwrap_or_default(),
         ),
-        includes: parsed
-            .sources
+        includes: source
+            .sources()
             .files()
             .iter()
             .skip(1)
@@ -253,12 +202,11 @@ pub fn run(a: &StudyArgs) -> i32 {
             return BAD_INPUT;
         }
     };
-    let loaded = match pipeline::load(&a.file, &overrides) {
+    let loaded = match common::load(&a.file, &overrides) {
         Ok(l) => l,
         Err(f) => return common::report_failure(&file, &f),
     };
-    let parsed = crate::pipeline::parse(&a.file);
-    let inputs = tankwave_report::outputs::Inputs::new(&pipeline::input_files(&a.file));
+    let inputs = tankwave_report::outputs::Inputs::new(&common::input_files(&a.file));
     let outs: Vec<PathBuf> = a.out.iter().chain(a.report.iter()).cloned().collect();
     if let Err(code) = common::check_outputs(&outs, &[], &inputs) {
         return code;
@@ -292,19 +240,10 @@ pub fn run(a: &StudyArgs) -> i32 {
     let fingerprint = study::input_fingerprint(&std::fs::read(&a.file).unwrap_or_default());
     let header = study::Header::new(&plan, params.chain, shard)
         .with_input(fingerprint)
-        .with_provenance(provenance(&a.file, &parsed, &overrides));
+        .with_provenance(provenance(&a.file, &loaded.source, &overrides));
     let base = overrides;
     let work = |v: &study::Variant, warm: Option<&study::WarmStart>| {
-        let mut o = v.overrides.clone();
-        for (k, val) in &base.params {
-            o.params.entry(k.clone()).or_insert(*val);
-        }
-        let (m, verdicts, next) = solve_variant(&parsed, &o, 1.0, warm)?;
-        Ok(study::Outcome {
-            metrics: variant::record_metrics(&m),
-            verdicts: variant::record_verdicts(&verdicts),
-            warm: next,
-        })
+        tankwave_stage::study_outcome(&loaded.source, &base, v, warm)
     };
     let total = plan.len();
     let pb = progress_bar(total);
@@ -402,12 +341,13 @@ pub fn run(a: &StudyArgs) -> i32 {
         let drawn = assemble::study_figures(&file, &loaded.circuit, &kept);
         let mut files = visual::drawn_files(a.plots.as_deref(), &drawn);
         if let Some(path) = &a.report {
-            let nominal = match pipeline::solve(&loaded.circuit, pipeline::Scope::Requirements) {
+            let opts = SolveOptions::scope(Scope::Requirements);
+            let nominal = match tankwave_stage::solve(&loaded.circuit, &opts) {
                 Ok(r) => NominalStage::Solved(Box::new(r)),
-                Err(pipeline::Failure::Solve(m) | pipeline::Failure::Setup(m)) => {
-                    NominalStage::NotSolved(m)
+                Err(tankwave_stage::StageError::Input { .. }) => {
+                    NominalStage::NotSolved("bad input".into())
                 }
-                Err(pipeline::Failure::Input { .. }) => NominalStage::NotSolved("bad input".into()),
+                Err(e) => NominalStage::NotSolved(e.to_string()),
             };
             let options = vec![
                 ("command".to_string(), "study".to_string()),
@@ -552,11 +492,10 @@ pub fn tune(a: &TuneArgs) -> i32 {
             return BAD_INPUT;
         }
     }
-    let loaded = match pipeline::load(&a.file, &Overrides::default()) {
+    let loaded = match common::load(&a.file, &Overrides::default()) {
         Ok(l) => l,
         Err(f) => return common::report_failure(&file, &f),
     };
-    let parsed = crate::pipeline::parse(&a.file);
     let mut ranges: Vec<Tune> = Vec::new();
     // units written in --param ranges (for plot axes)
     let mut cli_units: BTreeMap<String, String> = BTreeMap::new();
@@ -633,12 +572,7 @@ pub fn tune(a: &TuneArgs) -> i32 {
         ..Default::default()
     };
     let objective = |values: &BTreeMap<String, f64>, ctx: &study::TuneContext| {
-        let o = Overrides {
-            params: values.clone(),
-            ..Overrides::default()
-        };
-        let (m, _v, _w) = solve_variant(&parsed, &o, ctx.drive_scale, None)?;
-        Ok(variant::objective_figures(&m))
+        tankwave_stage::tune_figures(&loaded.source, values, ctx)
     };
     let r = match study::tune(&ranges, objective, goal, &params) {
         Ok(r) => r,
@@ -680,7 +614,7 @@ pub fn tune(a: &TuneArgs) -> i32 {
         }
         let drawn = assemble::tune_figures(&file, goal, &map, &r.optimum, &units);
         let files = visual::drawn_files(Some(dir), &drawn);
-        let inputs = tankwave_report::outputs::Inputs::new(&pipeline::input_files(&a.file));
+        let inputs = tankwave_report::outputs::Inputs::new(&common::input_files(&a.file));
         let paths: Vec<PathBuf> = files.iter().map(|(p, _)| p.clone()).collect();
         if let Err(code) = common::check_outputs(&paths, &[], &inputs) {
             return code;

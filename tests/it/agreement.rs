@@ -67,7 +67,7 @@ fn db(p: f64) -> f64 {
 #[test]
 fn balance_shooting_and_a_long_transient_agree_on_every_demo_stage() {
     for f in demo_stages() {
-        let c = tankwave_circuit::load_file(&f, &Overrides::default())
+        let c = tankwave_stage::load(&f, &[], &Overrides::default())
             .unwrap()
             .circuit;
         let d = tankwave_devices::instantiate(&c).unwrap();

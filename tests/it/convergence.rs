@@ -54,45 +54,38 @@ pub fn ci_variants() -> Vec<Overrides> {
 #[test]
 fn every_variant_solves_or_fails_cleanly() {
     let file = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/data/sweep/classc-load.tank");
-    let parsed = tankwave_netlist::parse_file(&file);
-    assert!(!parsed.has_errors(), "{:?}", parsed.diagnostics);
+    let source = tankwave_stage::StageSource::read(&file, &[]);
+    assert!(
+        source.parse_diagnostics().is_empty(),
+        "{:?}",
+        source.parse_diagnostics()
+    );
     let variants = ci_variants();
     let mut solved = 0;
     for (k, o) in variants.iter().enumerate() {
-        let c = tankwave_circuit::elaborate(&parsed, o)
-            .unwrap_or_else(|d| panic!("variant {k} does not elaborate: {d:?}"))
-            .circuit;
-        let devices = tankwave_devices::instantiate(&c).expect("devices");
-        let params = c
-            .analyses
-            .iter()
-            .find_map(tankwave_solve::SteadyParams::from_analysis)
-            .expect("steady analysis");
-        match tankwave_solve::steady(&c, &devices, &params) {
-            Ok(sol) => {
+        let stage = tankwave_stage::load_source(source.clone(), o)
+            .unwrap_or_else(|e| panic!("variant {k} does not elaborate: {e:?}"));
+        let opts = tankwave_stage::SolveOptions::scope(tankwave_stage::Scope::Requirements);
+        match tankwave_stage::solve(&stage.circuit, &opts) {
+            Ok(r) => {
+                let s = r.steady.expect("the file asks for a steady state");
+                let sol = &s.solution;
                 for col in sol.x.iter().chain(sol.terminal_currents.iter().flatten()) {
                     assert!(
                         col.iter().all(|v| v.is_finite()),
                         "variant {k}: non-finite sample"
                     );
                 }
-                let n = c.nodes.len();
-                let data = tankwave_measure::PeriodData {
-                    circuit: &c,
-                    freq: sol.freq,
-                    node_voltages: &sol.x[..n],
-                    terminal_currents: &sol.terminal_currents,
-                    transport_currents: &sol.transport_currents,
-                    harmonics: sol.harmonics,
-                };
-                let m = tankwave_measure::measure(&data, &Default::default())
-                    .unwrap_or_else(|e| panic!("variant {k}: measurement failed: {e}"));
+                let m = &s.metrics;
                 let json = serde_json::to_string(&m).expect("metrics serialise");
                 assert!(
                     !json.contains("NaN") && !json.contains("null,\"dbm\""),
                     "variant {k}"
                 );
                 solved += 1;
+            }
+            Err(e @ tankwave_stage::StageError::Measure(_)) => {
+                panic!("variant {k}: measurement failed: {e}")
             }
             Err(e) => {
                 let msg = e.to_string();

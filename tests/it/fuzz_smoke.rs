@@ -1,14 +1,14 @@
 //! Smoke version of the `stage` fuzz target (fuzz/fuzz_targets/stage.rs) for
 //! the normal test run: random but valid R/C/L/diode networks driven by a
-//! source go through parse, elaborate, device instantiation and the same
-//! bounded solve (operating point, then transient, AC and steady state with
-//! capped sizes). The operating point must succeed; the other analyses may
+//! source go through the stage crate's load and the same bounded solve
+//! (operating point, then transient, AC and steady state with capped sizes,
+//! going on past a failed analysis). The operating point must succeed; the other analyses may
 //! return an error, but none may panic, and every successful result must be
 //! finite.
 
 use proptest::prelude::*;
-use tankwave_circuit::{Analysis, Overrides};
-use tankwave_solve::{AcParams, OpParams, SteadyParams, TransientParams};
+use tankwave_circuit::Overrides;
+use tankwave_stage::{Caps, Scope, SolveOptions};
 
 /// One two-terminal part between two nodes (0 is gnd).
 #[derive(Debug, Clone)]
@@ -92,65 +92,60 @@ fn finite(v: &[f64]) -> bool {
     v.iter().all(|x| x.is_finite())
 }
 
-/// The bounded solve of the fuzz target, on text that must elaborate.
+/// The bounded solve of the fuzz target, on text that must elaborate: the
+/// stage crate's own pipeline with caps, going on past a failed analysis.
 fn bounded_solve(text: &str) {
-    let parsed = tankwave_netlist::parse_bytes("smoke.tank", text.as_bytes());
+    let source = tankwave_stage::StageSource::from_text("smoke.tank", text);
     assert!(
-        parsed.diagnostics.is_empty(),
+        source.parse_diagnostics().is_empty(),
         "generated text parses cleanly: {:?}\n{text}",
-        parsed.diagnostics
+        source.parse_diagnostics()
     );
-    let circuit = match tankwave_circuit::elaborate(&parsed, &Overrides::default()) {
-        Ok(e) => e.circuit,
-        Err(d) => panic!("a valid network elaborates: {d:?}\n{text}"),
+    let stage = match tankwave_stage::load_source(source, &Overrides::default()) {
+        Ok(s) => s,
+        Err(e) => panic!("a valid network elaborates: {e:?}\n{text}"),
     };
-    let devices = tankwave_devices::instantiate(&circuit).expect("devices build");
-    let op = tankwave_solve::operating_point(&circuit, &devices, &OpParams::default())
-        .unwrap_or_else(|e| panic!("operating point of a resistive-path network: {e}\n{text}"));
+    let opts = SolveOptions {
+        caps: Some(Caps {
+            max_unknowns: usize::MAX,
+            max_steps_per_period: 64,
+            ..Caps::default()
+        }),
+        keep_going: true,
+        ..SolveOptions::scope(Scope::All)
+    };
+    let r = tankwave_stage::solve(&stage.circuit, &opts)
+        .unwrap_or_else(|e| panic!("devices build for a valid network: {e}\n{text}"));
+    let op = r.op.as_ref().unwrap_or_else(|| {
+        panic!(
+            "operating point of a resistive-path network: {:?}\n{text}",
+            r.failures
+        )
+    });
     assert!(finite(&op.x), "operating point finite: {:?}\n{text}", op.x);
-    for a in &circuit.analyses {
-        match a {
-            Analysis::Bias => {}
-            Analysis::Transient { .. } => {
-                let mut p = TransientParams::from_analysis(a).unwrap();
-                p.stop = p.stop.min(200.0 * p.step);
-                p.min_step = Some(p.step * 1e-3);
-                if let Ok(r) = tankwave_solve::transient(&circuit, &devices, &p) {
-                    assert!(finite(&r.time));
-                    assert!(
-                        r.x.iter().all(|row| finite(row)),
-                        "transient finite\n{text}"
-                    );
-                }
-            }
-            Analysis::Ac { .. } => {
-                let mut p = AcParams::from_analysis(a).unwrap();
-                p.points = p.points.min(16);
-                if let Ok(r) = tankwave_solve::ac(&circuit, &devices, &p) {
-                    assert!(
-                        r.x.iter()
-                            .flatten()
-                            .all(|c| c.re.is_finite() && c.im.is_finite()),
-                        "AC finite\n{text}"
-                    );
-                }
-            }
-            Analysis::Steady { .. } => {
-                let mut p = SteadyParams::from_analysis(a).unwrap();
-                p.harmonics = p.harmonics.min(8);
-                p.steps_per_period = p.steps_per_period.min(64);
-                p.balance.max_harmonics = 8;
-                p.balance.max_levels = p.balance.max_levels.min(40);
-                p.shooting.max_iter = p.shooting.max_iter.min(20);
-                p.settle.max_periods = p.settle.max_periods.min(50);
-                if let Ok(s) = tankwave_solve::steady(&circuit, &devices, &p) {
-                    assert!(
-                        s.x.iter().all(|row| finite(row)),
-                        "steady state finite\n{text}"
-                    );
-                }
-            }
-        }
+    for t in &r.transients {
+        assert!(finite(&t.time));
+        assert!(
+            t.x.iter().all(|row| finite(row)),
+            "transient finite\n{text}"
+        );
+    }
+    for ac in &r.acs {
+        assert!(
+            ac.x.iter()
+                .flatten()
+                .all(|c| c.re.is_finite() && c.im.is_finite()),
+            "AC finite\n{text}"
+        );
+    }
+    if let Some(s) = &r.steady {
+        assert!(
+            s.solution.x.iter().all(|row| finite(row)),
+            "steady state finite\n{text}"
+        );
+    }
+    for e in &r.failures {
+        assert!(!e.to_string().is_empty(), "a failure says what failed");
     }
 }
 

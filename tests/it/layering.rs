@@ -22,6 +22,7 @@ const ORDER: &[&str] = &[
     "tankwave-solve",
     "tankwave-measure",
     "tankwave-study",
+    "tankwave-stage",
     "tankwave-report",
     "tankwave-design",
 ];

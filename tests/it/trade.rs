@@ -6,25 +6,27 @@
 
 use std::path::PathBuf;
 use tankwave_circuit::{Circuit, ElementKind, Overrides};
-use tankwave_solve::SteadyParams;
+use tankwave_stage::{Scope, SolveOptions, SteadyOutcome};
 
 fn load(name: &str) -> Circuit {
     let f = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
         .join("netlists")
         .join(name);
-    tankwave_circuit::load_file(&f, &Overrides::default())
+    tankwave_stage::load(&f, &[], &Overrides::default())
         .unwrap()
         .circuit
 }
 
+/// The steady state of `c`, measured.
+fn steady_outcome(c: &Circuit) -> SteadyOutcome {
+    tankwave_stage::solve(c, &SolveOptions::scope(Scope::Requirements))
+        .unwrap()
+        .steady
+        .expect("the stage asks for a steady state")
+}
+
 fn steady(c: &Circuit) -> tankwave_solve::PeriodicSolution {
-    let d = tankwave_devices::instantiate(c).unwrap();
-    let p = c
-        .analyses
-        .iter()
-        .find_map(SteadyParams::from_analysis)
-        .unwrap();
-    tankwave_solve::steady(c, &d, &p).unwrap()
+    steady_outcome(c).solution
 }
 
 /// Fundamental phasor amplitude of one period of samples.
@@ -134,18 +136,11 @@ fn conduction_angle_stays_continuous_into_saturation() {
         let mut o = Overrides::default();
         o.params.insert("drive".into(), drive);
         o.element_factors.insert("rload".into(), 3.0);
-        let c = tankwave_circuit::load_file(&f, &o).unwrap().circuit;
-        let s = steady(&c);
-        let n = c.nodes.len();
-        let data = tankwave_measure::PeriodData {
-            circuit: &c,
-            freq: s.freq,
-            node_voltages: &s.x[..n],
-            terminal_currents: &s.terminal_currents,
-            transport_currents: &s.transport_currents,
-            harmonics: s.harmonics,
-        };
-        let m = tankwave_measure::measure(&data, &Default::default()).unwrap();
+        let c = tankwave_stage::load(&f, &[], &o).unwrap().circuit;
+        let SteadyOutcome {
+            solution: s,
+            metrics: m,
+        } = steady_outcome(&c);
         let q = &m.transistors[0];
         seen.push((
             drive,

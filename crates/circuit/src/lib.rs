@@ -22,11 +22,13 @@ pub mod models;
 pub mod options;
 pub mod param_units;
 pub mod si;
+pub mod source;
 mod topology;
 pub mod upgrade;
 
 pub use elaborate::{elaborate, load_file, load_str, Elaborated, LoadError};
 pub use ir::*;
+pub use source::StageSource;
 /// Escaping of text for the terminal (control characters, bidi overrides),
 /// shared with later layers so that they never need the parser crate.
 pub use tankwave_netlist::escape;

@@ -216,20 +216,4 @@ pub enum StudyError {
         /// Upper bound.
         to: f64,
     },
-    /// Reduced-drive tuning of a stage that names no `input` element.
-    #[error("reduced-drive tuning needs an `input` source")]
-    DriveNoInput,
-    /// The `input` element is not a voltage or current source (or not an
-    /// element of the circuit at all, when `element` is `None`).
-    #[error("the `input` element is not a source")]
-    DriveNotSource {
-        /// The element's name.
-        element: Option<String>,
-    },
-    /// The `input` source has no sine wave whose amplitude could be scaled.
-    #[error("reduced-drive tuning needs a sine drive")]
-    DriveNotSine {
-        /// The source's name.
-        element: String,
-    },
 }

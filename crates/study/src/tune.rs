@@ -26,7 +26,7 @@
 //!
 //! Reduced drive: with `search_drive = Some(s)` the objective is asked at
 //! drive scale s during the search (the caller scales its source, e.g. with
-//! [`scale_drive`]), and the optimum is then reported at full drive (scale 1).
+//! `tankwave_stage::scale_drive`), and the optimum is then reported at full drive (scale 1).
 //!
 //! Sharpness of the optimum, per parameter: the relative change of the goal
 //! figure (pout, efficiency or VSWR), (f(x ± δ) − f(x))/|f(x)|, when that
@@ -53,7 +53,7 @@ use std::sync::atomic::{AtomicU64, Ordering};
 use argmin::core::{CostFunction, Executor, State, TerminationReason, TerminationStatus};
 use argmin::solver::neldermead::NelderMead;
 use rayon::prelude::*;
-use tankwave_circuit::{Circuit, ElementKind, Shape, Tune};
+use tankwave_circuit::Tune;
 
 use crate::StudyError;
 
@@ -95,33 +95,6 @@ pub struct TuneFigures {
 pub struct TuneContext {
     /// Drive scale to apply to the input source (1 = full drive).
     pub drive_scale: f64,
-}
-
-/// Multiply the amplitude of the sine wave of the circuit's `input` source
-/// (voltage or current) by `k`, as an objective does for
-/// [`TuneContext::drive_scale`]. The DC value and every other element stay
-/// as they are.
-pub fn scale_drive(c: &mut Circuit, k: f64) -> Result<(), StudyError> {
-    let id = c.input.ok_or(StudyError::DriveNoInput)?;
-    let element = match c.elements.get_mut(id) {
-        Some(e) => e,
-        None => return Err(StudyError::DriveNotSource { element: None }),
-    };
-    let name = element.name.clone();
-    match &mut element.kind {
-        ElementKind::VoltageSource { wave, .. } | ElementKind::CurrentSource { wave, .. } => {
-            match &mut wave.shape {
-                Some(Shape::Sine { amp, .. }) => {
-                    *amp *= k;
-                    Ok(())
-                }
-                _ => Err(StudyError::DriveNotSine { element: name }),
-            }
-        }
-        _ => Err(StudyError::DriveNotSource {
-            element: Some(name),
-        }),
-    }
 }
 
 /// Options of [`tune`].
@@ -725,52 +698,4 @@ where
         }
     }
     Ok(map)
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    fn circuit(text: &str) -> Circuit {
-        match tankwave_circuit::load_str("t.tank", text, &Default::default()) {
-            Ok(e) => e.circuit,
-            Err(e) => panic!("test stage must elaborate: {:?}", e.diagnostics),
-        }
-    }
-
-    fn drive_amp(c: &Circuit) -> Option<f64> {
-        let e = c.elements.get(c.input?)?;
-        match &e.kind {
-            ElementKind::VoltageSource { wave, .. } | ElementKind::CurrentSource { wave, .. } => {
-                match wave.shape {
-                    Some(Shape::Sine { amp, .. }) => Some(amp),
-                    _ => None,
-                }
-            }
-            _ => None,
-        }
-    }
-
-    #[test]
-    fn drive_scaling_scales_only_the_sine_amplitude() {
-        let mut c = circuit(
-            "voltage vdrv src gnd wave=sine(amp=10V, freq=1MHz) internal=50Ohm\n\
-             resistor rload src gnd 50Ohm\noutput rload\ninput vdrv\n",
-        );
-        scale_drive(&mut c, 0.25).expect("a sine drive scales");
-        assert_eq!(drive_amp(&c), Some(2.5));
-    }
-
-    #[test]
-    fn drive_scaling_refuses_what_it_cannot_scale() {
-        let mut no_input = circuit("voltage v1 a gnd dc=1V\nresistor r1 a gnd 1Ohm\n");
-        assert!(matches!(
-            scale_drive(&mut no_input, 0.5),
-            Err(StudyError::DriveNoInput)
-        ));
-        let mut dc = circuit("voltage v1 a gnd dc=1V\nresistor r1 a gnd 1Ohm\ninput v1\n");
-        let e = scale_drive(&mut dc, 0.5).expect_err("a DC source has no sine");
-        assert!(matches!(&e, StudyError::DriveNotSine { element } if element == "v1"));
-        assert_eq!(e.to_string(), "reduced-drive tuning needs a sine drive");
-    }
 }

@@ -3,16 +3,15 @@
 //! their axes, the named figures a solved variant contributes to a study
 //! record, and the inputs of the self-contained HTML reports.
 //!
-//! The binary wires the solver crates together and hands their results
-//! here; these functions decide what is drawn and shown and return SVG and
+//! tankwave-stage solves a stage and hands its results here; these functions decide what is drawn and shown and return SVG and
 //! HTML text. They read no files and consult no clock: the stage file's
 //! SHA-256 and the date arrive from the caller ([`crate::provenance`]
 //! computes them from bytes and seconds). A plot that cannot be drawn
 //! becomes a note in [`Drawn::notes`], never a failure.
 //!
-//! Modules: [`stage`] (one solved stage: the results it holds, its plots,
-//! mask evaluations, terminal text, JSON and HTML report), [`variant`] (the
-//! named figures of one solved variant, their units and requirement limits),
+//! Modules: [`stage`] (one solved stage: its plots, terminal text, JSON and
+//! HTML report), [`variant`] (the named figures of a study record for
+//! people: their units and requirement limits),
 //! [`units`] (axis units read from the stage file), [`study`] (study figures
 //! and the study report), [`tune`] (figures of a tuning run).
 
@@ -26,10 +25,7 @@ use std::path::{Path, PathBuf};
 
 use crate::plot::PlotError;
 
-pub use stage::{
-    mask_evaluations, results_json, results_text, stage_plots, stage_report, StageResults,
-    SteadyOutcome,
-};
+pub use stage::{results_json, results_text, stage_plots, stage_report};
 pub use study::{study_figures, study_report, NominalStage, StudyReport};
 pub use tune::{goal_axis, tune_figures};
 

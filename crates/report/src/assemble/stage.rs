@@ -1,72 +1,15 @@
-//! One solved stage: the results the binary collects for a stage file
-//! ([`StageResults`]), the emission masks its requirements name evaluated
-//! on the steady state, its SVG plots, the terminal text and JSON document
-//! of `run`, and its self-contained HTML report.
+//! One solved stage ([`StageResults`], from tankwave-stage): its SVG plots
+//! (with the emission masks its requirements name), the terminal text and
+//! JSON document of `run`, and its self-contained HTML report.
 
 use serde_json::{json, Value};
-use tankwave_circuit::{builtin, Analysis, Bound, Circuit, Metric, Scale};
-use tankwave_measure::{evaluate_mask, MaskEvaluation, Metrics, Verdict};
-use tankwave_solve::{AcResult, OpResult, PeriodicSolution, TransientResult};
+use tankwave_circuit::{Analysis, Circuit, Scale};
+use tankwave_stage::{mask_evaluations, StageResults};
 
 use super::Drawn;
 use crate::html::{AcView, Provenance, ReportInput};
 use crate::plot::{self, PlotParams};
 use crate::stage as text;
-
-/// The steady state of a stage and what was measured on it.
-#[derive(Debug, Clone)]
-pub struct SteadyOutcome {
-    /// The periodic solution.
-    pub solution: PeriodicSolution,
-    /// Figures measured on it.
-    pub metrics: Metrics,
-}
-
-/// Everything computed for one stage file, in the order the file declares
-/// its analyses (the binary runs the solvers and fills this in).
-#[derive(Debug, Clone, Default)]
-pub struct StageResults {
-    /// The operating point (computed first: every other analysis starts from it).
-    pub op: Option<OpResult>,
-    /// Each transient in file order.
-    pub transients: Vec<TransientResult>,
-    /// Each AC sweep in file order.
-    pub acs: Vec<AcResult>,
-    /// The first steady-state analysis, measured.
-    pub steady: Option<SteadyOutcome>,
-    /// Requirement verdicts (empty without a steady state or requirements).
-    pub verdicts: Vec<Verdict>,
-}
-
-/// Every mask a requirement on the harmonics names (a mask of the file or a
-/// built-in one), evaluated on the output harmonics at fundamental `f0`;
-/// each mask once, in the order the requirements name them. Empty without
-/// output figures; a mask that cannot be evaluated is left out.
-pub fn mask_evaluations(c: &Circuit, m: &Metrics, f0: f64) -> Vec<MaskEvaluation> {
-    let Some(out) = &m.output else {
-        return Vec::new();
-    };
-    let mut evals = Vec::new();
-    for r in &c.requirements {
-        if !matches!(r.metric, Metric::Harmonics | Metric::Harmonic(_)) {
-            continue;
-        }
-        let mask = match &r.bound {
-            Bound::Mask(i) => c.masks.get(*i).cloned(),
-            Bound::BuiltinMask(name) => builtin::builtin_mask(name),
-            Bound::Value(_) => None,
-        };
-        if let Some(mask) = mask {
-            if evals.iter().any(|e: &MaskEvaluation| e.mask == mask.name) {
-                continue;
-            }
-            if let Ok(e) = evaluate_mask(&mask, out, f0) {
-                evals.push(e);
-            }
-        }
-    }
-    evals
-}
 
 /// The SVG plots of one stage: a period plot per transistor
 /// (`period-Q.svg`), the spectrum against the first mask (`spectrum.svg`),
@@ -90,7 +33,7 @@ pub fn stage_plots(file: &str, c: &Circuit, r: &StageResults) -> Drawn {
             Err(e) => d.add("period.svg".into(), String::new(), Err(e)),
         }
         if let Some(o) = &s.metrics.output {
-            let masks = mask_evaluations(c, &s.metrics, s.solution.freq);
+            let masks = mask_evaluations(c, &s.metrics, s.solution.freq).evaluated;
             d.add(
                 "spectrum.svg".into(),
                 "Output harmonics in dBc against the mask.".into(),
@@ -157,7 +100,7 @@ pub fn stage_report(
     let masks = r
         .steady
         .as_ref()
-        .map(|s| mask_evaluations(c, &s.metrics, s.solution.freq))
+        .map(|s| mask_evaluations(c, &s.metrics, s.solution.freq).evaluated)
         .unwrap_or_default();
     let (unknowns, scale) = ac_view(c);
     let input = ReportInput {

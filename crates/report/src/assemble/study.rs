@@ -7,12 +7,12 @@
 use tankwave_circuit::{Circuit, VaryTarget};
 use tankwave_study::{Record, RunInfo, Shard, Summary};
 
-use super::stage::{mask_evaluations, StageResults};
 use super::units::{element_unit, param_unit};
 use super::variant::{figure_is_fraction, figure_limit, figure_unit};
 use super::{safe_name, Drawn, NamedFigure};
 use crate::html::{Figure, Provenance, ReportInput};
 use crate::plot::{self, PlotParams};
+use tankwave_stage::{mask_evaluations, StageResults};
 
 /// Figures of a study from its `records`: `hist-NAME.svg`, a histogram of
 /// every figure (with the requirement limit where one applies) and, for a
@@ -235,7 +235,7 @@ pub fn study_report(c: &Circuit, r: StudyReport<'_>) -> String {
     };
     let steady = res.and_then(|x| x.steady.as_ref());
     let masks = steady
-        .map(|s| mask_evaluations(c, &s.metrics, s.solution.freq))
+        .map(|s| mask_evaluations(c, &s.metrics, s.solution.freq).evaluated)
         .unwrap_or_default();
     let input = ReportInput {
         title: c.title.clone().unwrap_or_else(|| r.file.to_string()),

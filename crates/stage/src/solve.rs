@@ -1,0 +1,283 @@
+//! Solving a loaded stage: every analysis the file declares (or only what
+//! its requirements need), the steady state optionally warm-started from a
+//! neighbouring variant, measured and its requirements evaluated, into
+//! [`StageResults`]. [`Caps`] bound the work for untrusted input (the fuzz
+//! target and its smoke test).
+
+use tankwave_circuit::{Analysis, Circuit};
+use tankwave_devices::DeviceSet;
+use tankwave_measure::{MeasureParams, Metrics, PeriodData, Verdict};
+use tankwave_solve::{
+    AcParams, AcResult, OpParams, OpResult, PeriodicSolution, SteadyParams, TransientParams,
+    TransientResult,
+};
+
+use crate::StageError;
+
+/// The steady state of a stage and what was measured on it.
+#[derive(Debug, Clone)]
+pub struct SteadyOutcome {
+    /// The periodic solution.
+    pub solution: PeriodicSolution,
+    /// Figures measured on it.
+    pub metrics: Metrics,
+}
+
+impl SteadyOutcome {
+    /// The state at the start of the period: the warm start of a
+    /// neighbouring variant.
+    pub fn warm_start(&self) -> Vec<f64> {
+        self.solution
+            .x
+            .iter()
+            .map(|u| u.first().copied().unwrap_or(0.0))
+            .collect()
+    }
+}
+
+/// Everything computed for one stage file, in the order the file declares
+/// its analyses.
+#[derive(Debug, Default)]
+pub struct StageResults {
+    /// The operating point (computed first: every other analysis starts from it).
+    pub op: Option<OpResult>,
+    /// Each transient in file order.
+    pub transients: Vec<TransientResult>,
+    /// Each AC sweep in file order.
+    pub acs: Vec<AcResult>,
+    /// The first steady-state analysis, measured.
+    pub steady: Option<SteadyOutcome>,
+    /// Requirement verdicts (empty without a steady state or requirements).
+    pub verdicts: Vec<Verdict>,
+    /// The analyses that failed, when solving with
+    /// [`SolveOptions::keep_going`] (always empty otherwise: the first
+    /// failure is returned as the error).
+    pub failures: Vec<StageError>,
+}
+
+impl Clone for StageResults {
+    /// A copy of the results; the failures (errors are not `Clone`) are left out.
+    fn clone(&self) -> Self {
+        StageResults {
+            op: self.op.clone(),
+            transients: self.transients.clone(),
+            acs: self.acs.clone(),
+            steady: self.steady.clone(),
+            verdicts: self.verdicts.clone(),
+            failures: Vec::new(),
+        }
+    }
+}
+
+/// Which analyses to run.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Scope {
+    /// Every analysis in the file.
+    #[default]
+    All,
+    /// Only what the requirements need: the steady state.
+    Requirements,
+}
+
+/// Bounds on the work of one solve, for input nobody has checked (the fuzz
+/// target): each analysis is shrunk to at most these sizes before it runs.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Caps {
+    /// Most unknowns for which the analyses beyond the operating point run.
+    pub max_unknowns: usize,
+    /// Most output steps of a transient (its stop time is cut to fit; the
+    /// internal step is kept within 1/1000 of the output step and at most
+    /// the output step).
+    pub max_transient_steps: f64,
+    /// Most points of an AC sweep.
+    pub max_ac_points: usize,
+    /// Most harmonics of a steady state (and of balance's own refinement).
+    pub max_harmonics: usize,
+    /// Most time steps per period of a steady state.
+    pub max_steps_per_period: usize,
+    /// Most continuation levels of harmonic balance.
+    pub max_balance_levels: usize,
+    /// Most Newton iterations of harmonic balance.
+    pub max_balance_iter: usize,
+    /// Most iterations of shooting.
+    pub max_shooting_iter: usize,
+    /// Most warm-up periods of shooting.
+    pub max_warmup_periods: usize,
+    /// Most periods of settling.
+    pub max_settle_periods: usize,
+}
+
+impl Default for Caps {
+    /// Small enough for a fuzzer's time budget; 128 steps per period keep
+    /// both grids of shooting in play (the coarse one needs 128 or more).
+    fn default() -> Self {
+        Caps {
+            max_unknowns: 20,
+            max_transient_steps: 200.0,
+            max_ac_points: 16,
+            max_harmonics: 8,
+            max_steps_per_period: 128,
+            max_balance_levels: 40,
+            max_balance_iter: 30,
+            max_shooting_iter: 20,
+            max_warmup_periods: 2,
+            max_settle_periods: 50,
+        }
+    }
+}
+
+/// How to solve a stage.
+#[derive(Debug, Clone, Default)]
+pub struct SolveOptions<'a> {
+    /// Which analyses to run.
+    pub scope: Scope,
+    /// The state at the start of a period of a solved neighbouring variant,
+    /// to warm-start the steady state.
+    pub warm: Option<&'a [f64]>,
+    /// Bounds on the work (`None`: the analyses as the file declares them).
+    pub caps: Option<Caps>,
+    /// Go on after an analysis fails, collecting the failures in
+    /// [`StageResults::failures`], instead of returning the first.
+    pub keep_going: bool,
+}
+
+impl SolveOptions<'_> {
+    /// The analyses of `scope`, as declared, stopping at the first failure.
+    pub fn scope(scope: Scope) -> Self {
+        SolveOptions {
+            scope,
+            ..SolveOptions::default()
+        }
+    }
+}
+
+/// Run the analyses of `circuit` as `opts` asks, measure the steady state
+/// and evaluate the requirements.
+pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults, StageError> {
+    let devices: DeviceSet = tankwave_devices::instantiate(circuit).map_err(StageError::Devices)?;
+    let mut res = StageResults::default();
+    let beyond_op = opts
+        .caps
+        .is_none_or(|c| devices.n_unknowns <= c.max_unknowns);
+    // the first failure ends the solve unless the options say to go on
+    let fail = |res: &mut StageResults, e: StageError| -> Result<(), StageError> {
+        if opts.keep_going {
+            res.failures.push(e);
+            Ok(())
+        } else {
+            Err(e)
+        }
+    };
+    // a steady state that failed (going on) or was left out by the caps
+    let mut steady_tried = false;
+    for a in &circuit.analyses {
+        match a {
+            Analysis::Bias => {
+                if opts.scope == Scope::All && res.op.is_none() {
+                    match tankwave_solve::operating_point(circuit, &devices, &OpParams::default()) {
+                        Ok(op) => res.op = Some(op),
+                        Err(e) => fail(&mut res, e.into())?,
+                    }
+                }
+            }
+            Analysis::Transient { .. } => {
+                if opts.scope == Scope::All && beyond_op {
+                    let mut p = TransientParams::from_analysis(a).unwrap_or_default();
+                    if let Some(c) = &opts.caps {
+                        cap_transient(&mut p, c);
+                    }
+                    match tankwave_solve::transient(circuit, &devices, &p) {
+                        Ok(t) => res.transients.push(t),
+                        Err(e) => fail(&mut res, e.into())?,
+                    }
+                }
+            }
+            Analysis::Ac { .. } => {
+                if opts.scope == Scope::All && beyond_op {
+                    if let Some(mut p) = AcParams::from_analysis(a) {
+                        if let Some(c) = &opts.caps {
+                            p.points = p.points.min(c.max_ac_points);
+                        }
+                        match tankwave_solve::ac(circuit, &devices, &p) {
+                            Ok(r) => res.acs.push(r),
+                            Err(e) => fail(&mut res, e.into())?,
+                        }
+                    }
+                }
+            }
+            Analysis::Steady { .. } => {
+                if res.steady.is_some() || steady_tried {
+                    continue;
+                }
+                if !beyond_op {
+                    steady_tried = true;
+                    continue;
+                }
+                let Some(mut p) = SteadyParams::from_analysis(a) else {
+                    continue;
+                };
+                p.shooting.initial = opts.warm.map(|w| w.to_vec());
+                if let Some(c) = &opts.caps {
+                    cap_steady(&mut p, c);
+                }
+                let solved = tankwave_solve::steady(circuit, &devices, &p)
+                    .map_err(StageError::from)
+                    .and_then(|solution| {
+                        let metrics = measure(circuit, &solution)?;
+                        Ok(SteadyOutcome { solution, metrics })
+                    });
+                match solved {
+                    Ok(s) => res.steady = Some(s),
+                    Err(e) => {
+                        fail(&mut res, e)?;
+                        // a failed steady state is not tried again from a later statement
+                        steady_tried = true;
+                    }
+                }
+            }
+        }
+    }
+    if let Some(s) = &res.steady {
+        res.verdicts = tankwave_measure::evaluate(circuit, &s.metrics);
+    } else if !circuit.requirements.is_empty() && !steady_tried {
+        fail(&mut res, StageError::RequirementsWithoutSteady)?;
+    }
+    Ok(res)
+}
+
+/// Shrink a transient to the caps (left alone when its step or stop time
+/// is not a positive finite number: the solver refuses those itself).
+fn cap_transient(p: &mut TransientParams, c: &Caps) {
+    if !(p.step.is_finite() && p.step > 0.0 && p.stop.is_finite()) {
+        return;
+    }
+    p.stop = p.stop.min(c.max_transient_steps * p.step);
+    p.max_step = Some(p.max_step.unwrap_or(p.step).min(p.step));
+    p.min_step = Some(p.step * 1e-3);
+}
+
+/// Shrink a steady state to the caps.
+fn cap_steady(p: &mut SteadyParams, c: &Caps) {
+    p.harmonics = p.harmonics.min(c.max_harmonics);
+    p.steps_per_period = p.steps_per_period.min(c.max_steps_per_period);
+    p.balance.max_harmonics = c.max_harmonics;
+    p.balance.max_levels = p.balance.max_levels.min(c.max_balance_levels);
+    p.balance.max_iter = p.balance.max_iter.min(c.max_balance_iter);
+    p.shooting.max_iter = p.shooting.max_iter.min(c.max_shooting_iter);
+    p.shooting.warmup_periods = p.shooting.warmup_periods.min(c.max_warmup_periods);
+    p.settle.max_periods = p.settle.max_periods.min(c.max_settle_periods);
+}
+
+/// Measure a periodic solution of `circuit`.
+pub fn measure(circuit: &Circuit, s: &PeriodicSolution) -> Result<Metrics, StageError> {
+    let n_nodes = circuit.nodes.len().min(s.x.len());
+    let data = PeriodData {
+        circuit,
+        freq: s.freq,
+        node_voltages: &s.x[..n_nodes],
+        terminal_currents: &s.terminal_currents,
+        transport_currents: &s.transport_currents,
+        harmonics: s.harmonics,
+    };
+    tankwave_measure::measure(&data, &MeasureParams::default()).map_err(StageError::Measure)
+}
