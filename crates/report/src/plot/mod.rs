@@ -32,7 +32,7 @@ mod study;
 mod surface;
 
 pub use ac::ac_plot;
-pub use canvas::{series_style, Marker, SeriesStyle, PALETTE};
+pub use canvas::{series_style, Marker, SeriesStyle, DISTINCT_STYLES, PALETTE};
 pub use period::{conduction_intervals, period_plot, period_plots};
 pub use spectrum::spectrum_plot;
 pub use startup::{peak_envelope, startup_plot, startup_plot_series, EnvelopePoint};
