@@ -127,7 +127,7 @@ type Solved = (
 fn solve_variant(
     parsed: &tankwave_netlist::Parsed,
     overrides: &Overrides,
-    drive_scale: f64,
+    ctx: &study::TuneContext,
     warm: Option<&study::WarmStart>,
 ) -> Result<Solved, String> {
     let mut c = tankwave_circuit::elaborate(parsed, overrides)
@@ -139,9 +139,7 @@ fn solve_variant(
             )
         })?
         .circuit;
-    if drive_scale != 1.0 {
-        study::scale_drive(&mut c, drive_scale).map_err(|e| e.to_string())?;
-    }
+    study::apply_context(&mut c, ctx).map_err(|e| e.to_string())?;
     let r = pipeline::solve_warm(
         &c,
         pipeline::Scope::Requirements,
@@ -299,7 +297,7 @@ pub fn run(a: &StudyArgs) -> i32 {
         for (k, val) in &base.params {
             o.params.entry(k.clone()).or_insert(*val);
         }
-        let (m, verdicts, next) = solve_variant(&parsed, &o, 1.0, warm)?;
+        let (m, verdicts, next) = solve_variant(&parsed, &o, &study::TuneContext::default(), warm)?;
         Ok(study::Outcome {
             metrics: variant::record_metrics(&m),
             verdicts: variant::record_verdicts(&verdicts),
@@ -644,7 +642,7 @@ pub fn tune(a: &TuneArgs) -> i32 {
             params: values.clone(),
             ..Overrides::default()
         };
-        let (m, _v, _w) = solve_variant(&parsed, &o, ctx.drive_scale, None)?;
+        let (m, _v, _w) = solve_variant(&parsed, &o, ctx, None)?;
         Ok(variant::objective_figures(&m))
     };
     let r = match study::tune(&ranges, objective, goal, &params) {
@@ -697,5 +695,15 @@ pub fn tune(a: &TuneArgs) -> i32 {
             return BAD_INPUT;
         }
     }
-    OK
+    match &r.constraint {
+        Some(c) if !c.met => {
+            eprintln!(
+                "error: {file}: the tuner could not meet the minimum output power {} under \
+                 every steady-state method",
+                tankwave_measure::units::si_prefixed(c.pout_min, "W", 4)
+            );
+            FAILED
+        }
+        _ => OK,
+    }
 }

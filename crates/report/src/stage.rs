@@ -23,7 +23,8 @@ pub const CLOSE_CALL_DB: f64 = 10.0;
 /// Harmonics listed in the text report (all of them are in the JSON).
 pub const SHOWN_HARMONICS: usize = 16;
 
-fn method_name(m: SteadyMethod) -> &'static str {
+/// How a steady-state method is named in text and JSON.
+pub(crate) fn method_name(m: SteadyMethod) -> &'static str {
     match m {
         SteadyMethod::Auto => "auto",
         SteadyMethod::Balance => "harmonic balance",
