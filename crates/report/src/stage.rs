@@ -260,7 +260,7 @@ pub fn steady_text(
     let mut s = String::new();
     let info = &sol.info;
     s.push_str(&format!(
-        "Steady state at {} by {}{}: {} {}, residual {:.2e}, {} harmonics\n",
+        "Steady state at {} by {}{}: {} {}, relative residual {:.1e} (tolerance {:.0e}), {} harmonics\n",
         si(sol.freq, "Hz"),
         method_name(info.method),
         match info.fell_back_from {
@@ -274,6 +274,7 @@ pub fn steady_text(
             "iterations"
         },
         info.residual,
+        info.tolerance,
         sol.harmonics
     ));
     if verbose {
@@ -542,6 +543,7 @@ pub fn steady_json(sol: &PeriodicSolution, m: &Metrics) -> Value {
         "fell_back_from": sol.info.fell_back_from.map(method_name),
         "iterations": sol.info.iterations,
         "residual": clean(sol.info.residual),
+        "tolerance": clean(sol.info.tolerance),
         "system_size": sol.info.system_size,
         "shooting": sol.info.shooting.map(|sh| json!({
             "coarse_steps": sh.coarse_steps,
