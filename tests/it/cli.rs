@@ -713,7 +713,7 @@ fn printed_powers(out: &str) -> Vec<(String, f64)> {
         .filter(|l| l.contains(", efficiency "))
         .filter_map(|l| {
             let (head, rest) = l.split_once("output power ")?;
-            let mut w = rest.split(|c: char| c == ' ' || c == ',');
+            let mut w = rest.split([' ', ',']);
             let v = si_value(w.next()?, w.next()?, "W");
             Some((head.trim().to_string(), v))
         })

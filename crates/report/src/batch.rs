@@ -273,7 +273,10 @@ pub fn tune_text(r: &TuneResult, units: &BTreeMap<String, String>) -> String {
         }
     }
     if let Some(c) = &r.constraint {
-        let worst = c.worst_pout.map(|p| si(p, "W")).unwrap_or_else(|| "—".into());
+        let worst = c
+            .worst_pout
+            .map(|p| si(p, "W"))
+            .unwrap_or_else(|| "—".into());
         let by = c
             .worst_method
             .map(crate::stage::method_name)

@@ -43,7 +43,7 @@ pub use summary::{
     percentile_sorted, FigureStats, RequirementStats, Summary, SummaryBuilder, SummarySink,
 };
 pub use tune::{
-    apply_context, map_around, round_optimum, scale_drive, tune, ConstraintCheck, Confirmation,
-    Sharpness, TuneContext, TuneCurve, TuneFigures, TuneGoal,
-    TuneMap, TuneMapParams, TuneParams, TuneResult, TuneSurface,
+    apply_context, map_around, round_optimum, scale_drive, tune, Confirmation, ConstraintCheck,
+    Sharpness, TuneContext, TuneCurve, TuneFigures, TuneGoal, TuneMap, TuneMapParams, TuneParams,
+    TuneResult, TuneSurface,
 };

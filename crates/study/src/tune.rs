@@ -332,10 +332,10 @@ where
         // Non-finite figures become absent, so no NaN reaches a result.
         let finite = |v: Option<f64>| v.filter(|x| x.is_finite());
         let r = (self.objective)(&self.point(x), ctx).map(|f| TuneFigures {
-                pout: finite(f.pout),
-                efficiency: finite(f.efficiency),
-                input_vswr: finite(f.input_vswr),
-            });
+            pout: finite(f.pout),
+            efficiency: finite(f.efficiency),
+            input_vswr: finite(f.input_vswr),
+        });
         if r.is_err() {
             self.failures.fetch_add(1, Ordering::Relaxed);
         }
@@ -528,46 +528,43 @@ where
     let mut converged = false;
     let step = params.initial_step * std::f64::consts::PI;
     // One Nelder–Mead run from `y_best` with first step `step`, at `drive`.
-    let mut run = |y_best: &mut Vec<f64>,
-                   step: f64,
-                   drive: f64,
-                   goal: TuneGoal|
-     -> Result<(), StudyError> {
-        let mut simplex = vec![y_best.clone()];
-        for k in 0..y_best.len() {
-            let mut v = y_best.clone();
-            if let Some(c) = v.get_mut(k) {
-                // Step towards the middle of the range so that the vertex moves x.
-                *c += if *c > 0.0 { -step } else { step };
+    let mut run =
+        |y_best: &mut Vec<f64>, step: f64, drive: f64, goal: TuneGoal| -> Result<(), StudyError> {
+            let mut simplex = vec![y_best.clone()];
+            for k in 0..y_best.len() {
+                let mut v = y_best.clone();
+                if let Some(c) = v.get_mut(k) {
+                    // Step towards the middle of the range so that the vertex moves x.
+                    *c += if *c > 0.0 { -step } else { step };
+                }
+                simplex.push(v);
             }
-            simplex.push(v);
-        }
-        let solver = NelderMead::new(simplex)
-            .with_sd_tolerance(params.tolerance)
-            .map_err(|e| StudyError::Optimiser(e.to_string()))?;
-        let problem = Search {
-            counted: &counted,
-            ranges: &bounds,
-            goal,
-            pout_ref,
-            drive,
+            let solver = NelderMead::new(simplex)
+                .with_sd_tolerance(params.tolerance)
+                .map_err(|e| StudyError::Optimiser(e.to_string()))?;
+            let problem = Search {
+                counted: &counted,
+                ranges: &bounds,
+                goal,
+                pout_ref,
+                drive,
+            };
+            let res = Executor::new(problem, solver)
+                .configure(|s| s.max_iters(params.max_iters))
+                .run()
+                .map_err(|e| StudyError::Optimiser(e.to_string()))?;
+            let state = res.state();
+            iterations += state.get_iter();
+            allowed_iterations = allowed_iterations.saturating_add(params.max_iters);
+            converged = matches!(
+                state.get_termination_status(),
+                TerminationStatus::Terminated(TerminationReason::SolverConverged)
+            );
+            if let Some(p) = state.get_best_param() {
+                *y_best = p.clone();
+            }
+            Ok(())
         };
-        let res = Executor::new(problem, solver)
-            .configure(|s| s.max_iters(params.max_iters))
-            .run()
-            .map_err(|e| StudyError::Optimiser(e.to_string()))?;
-        let state = res.state();
-        iterations += state.get_iter();
-        allowed_iterations = allowed_iterations.saturating_add(params.max_iters);
-        converged = matches!(
-            state.get_termination_status(),
-            TerminationStatus::Terminated(TerminationReason::SolverConverged)
-        );
-        if let Some(p) = state.get_best_param() {
-            *y_best = p.clone();
-        }
-        Ok(())
-    };
     let mut margin = params.pout_margin;
     for _ in 0..=params.restarts {
         run(

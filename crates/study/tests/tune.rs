@@ -157,7 +157,9 @@ fn two_parameters_and_the_efficiency_goal() {
         "{res:?}"
     );
     assert!((res.optimum["y"] + 1.0).abs() < 1e-3, "{res:?}");
-    let check = res.constraint.expect("the efficiency goal checks its minimum");
+    let check = res
+        .constraint
+        .expect("the efficiency goal checks its minimum");
     assert!(check.met && check.worst_pout.unwrap() >= 35.0, "{check:?}");
 }
 
@@ -201,7 +203,10 @@ fn the_minimum_output_power_holds_under_every_method_at_full_drive() {
     .unwrap();
     let check = res.constraint.clone().expect("checked");
     assert!(check.met, "{res:?}");
-    assert!(check.margin > p.pout_margin, "the margin was raised: {check:?}");
+    assert!(
+        check.margin > p.pout_margin,
+        "the margin was raised: {check:?}"
+    );
     assert_eq!(res.confirmations.len(), 3);
     for c in &res.confirmations {
         let pout = c.figures.as_ref().unwrap().pout.unwrap();
