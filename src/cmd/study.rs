@@ -624,5 +624,15 @@ pub fn tune(a: &TuneArgs) -> i32 {
             return BAD_INPUT;
         }
     }
-    OK
+    match &r.constraint {
+        Some(c) if !c.met => {
+            eprintln!(
+                "error: {file}: the tuner could not meet the minimum output power {} under \
+                 every steady-state method",
+                tankwave_measure::units::si_prefixed(c.pout_min, "W", 4)
+            );
+            FAILED
+        }
+        _ => OK,
+    }
 }

@@ -278,7 +278,7 @@ pub fn study_sections(
 /// A parameter value with its unit (empty when none is known), five
 /// significant digits so that a tuned value can be written back.
 fn param_value(v: f64, unit: &str) -> String {
-    tankwave_measure::units::si_prefixed(v, unit, 5)
+    tankwave_measure::units::si_prefixed(v, unit, tankwave_study::tune::OPTIMUM_DIGITS)
 }
 
 /// The result of a tuning run as text. `units` gives each parameter's unit
@@ -308,18 +308,55 @@ pub fn tune_text(r: &TuneResult, units: &BTreeMap<String, String>) -> String {
             r.at_bound.join(", ")
         ));
     }
+    let figures = |f: &tankwave_study::TuneFigures| {
+        format!(
+            "output power {}, efficiency {}, input VSWR {}",
+            f.pout.map(|p| si(p, "W")).unwrap_or_else(|| "—".into()),
+            f.efficiency
+                .map(crate::format::percent)
+                .unwrap_or_else(|| "—".into()),
+            f.input_vswr.map(num).unwrap_or_else(|| "—".into())
+        )
+    };
     out.push_str(&format!(
-        "\nAt the optimum (full drive): output power {}, efficiency {}, input VSWR {}\n",
-        r.figures
-            .pout
-            .map(|p| si(p, "W"))
-            .unwrap_or_else(|| "—".into()),
-        r.figures
-            .efficiency
-            .map(crate::format::percent)
-            .unwrap_or_else(|| "—".into()),
-        r.figures.input_vswr.map(num).unwrap_or_else(|| "—".into())
+        "\nAt the optimum (full drive): {}\n",
+        figures(&r.figures)
     ));
+    if let Some(f) = &r.search_figures {
+        out.push_str(&format!("At the search drive: {}\n", figures(f)));
+    }
+    if !r.confirmations.is_empty() {
+        out.push_str("Solved again at the optimum (full drive):\n");
+        for c in &r.confirmations {
+            let name = crate::stage::method_name(c.method);
+            match &c.figures {
+                Ok(f) => out.push_str(&format!("  {name}: {}\n", figures(f))),
+                Err(e) => out.push_str(&format!("  {name}: did not solve ({e})\n")),
+            }
+        }
+    }
+    if let Some(c) = &r.constraint {
+        let worst = c
+            .worst_pout
+            .map(|p| si(p, "W"))
+            .unwrap_or_else(|| "—".into());
+        let by = c
+            .worst_method
+            .map(crate::stage::method_name)
+            .unwrap_or("the stage's own method");
+        out.push_str(&if c.met {
+            format!(
+                "Minimum output power {} met: at least {worst} under every method (least by {by})\n",
+                si(c.pout_min, "W")
+            )
+        } else {
+            format!(
+                "Minimum output power {} NOT met: {worst} by {by} (searched with a margin of {})\n",
+                si(c.pout_min, "W"),
+                fixed(c.margin * 100.0, 3, "%")
+            )
+        });
+    }
     if !r.sharpness.is_empty() {
         out.push_str("\nSharpness of the peak (relative change of the goal at ± step):\n");
         let mut t = Table::new(vec![

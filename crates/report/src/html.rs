@@ -328,12 +328,13 @@ fn headline_section(
     h2(out, "figures", "Headline figures", label);
     if let Some(s) = sol {
         out.push_str(&format!(
-            "<p>Periodic steady state at {}: {} harmonics, {} samples per period, {} iterations, residual {:.2e}.</p>\n",
+            "<p>Periodic steady state at {}: {} harmonics, {} samples per period, {} iterations, relative residual {:.1e} (tolerance {:.0e}).</p>\n",
             escape(&si(s.freq, "Hz")),
             s.harmonics,
             s.samples_per_period,
             s.info.iterations,
-            s.info.residual
+            s.info.residual,
+            s.info.tolerance
         ));
     }
     table_open(out, &["figure", "value"]);

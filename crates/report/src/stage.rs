@@ -23,7 +23,8 @@ pub const CLOSE_CALL_DB: f64 = 10.0;
 /// Harmonics listed in the text report (all of them are in the JSON).
 pub const SHOWN_HARMONICS: usize = 16;
 
-fn method_name(m: SteadyMethod) -> &'static str {
+/// How a steady-state method is named in text and JSON.
+pub(crate) fn method_name(m: SteadyMethod) -> &'static str {
     match m {
         SteadyMethod::Auto => "auto",
         SteadyMethod::Balance => "harmonic balance",
@@ -259,7 +260,7 @@ pub fn steady_text(
     let mut s = String::new();
     let info = &sol.info;
     s.push_str(&format!(
-        "Steady state at {} by {}{}: {} {}, residual {:.2e}, {} harmonics\n",
+        "Steady state at {} by {}{}: {} {}, relative residual {:.1e} (tolerance {:.0e}), {} harmonics\n",
         si(sol.freq, "Hz"),
         method_name(info.method),
         match info.fell_back_from {
@@ -273,6 +274,7 @@ pub fn steady_text(
             "iterations"
         },
         info.residual,
+        info.tolerance,
         sol.harmonics
     ));
     if verbose {
@@ -561,6 +563,7 @@ pub fn steady_json(sol: &PeriodicSolution, m: &Metrics) -> Value {
         "fell_back_from": sol.info.fell_back_from.map(method_name),
         "iterations": sol.info.iterations,
         "residual": clean(sol.info.residual),
+        "tolerance": clean(sol.info.tolerance),
         "system_size": sol.info.system_size,
         "shooting": sol.info.shooting.map(|sh| json!({
             "coarse_steps": sh.coarse_steps,

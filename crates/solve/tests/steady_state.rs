@@ -268,3 +268,43 @@ fn settle_calls_an_incommensurate_state_not_periodic() {
         "{e}"
     );
 }
+
+/// Every method reports the same convergence measure: the relative residual
+/// of its convergence test (a fraction of the size of what it tests), at most
+/// the relative tolerance it met, which is reported beside it. A converged
+/// settle used to report the ratio to its tolerance (about 0.99, which read
+/// as a 99 % error); now it reports about 1e-6 and its tolerance 1e-6.
+#[test]
+fn every_method_reports_a_relative_residual_within_its_tolerance() {
+    let b = rectifier(F);
+    let d = instantiate(&b.c).unwrap();
+    let defaults = SteadyParams::default();
+    for (method, tolerance) in [
+        (SteadyMethod::Shooting, defaults.shooting.rel_tolerance),
+        (SteadyMethod::Settle, defaults.settle.rel_tolerance),
+        (SteadyMethod::Balance, defaults.tol.rel_tolerance),
+    ] {
+        let params = SteadyParams {
+            freq: F,
+            harmonics: 16,
+            method,
+            ..SteadyParams::default()
+        };
+        let sol = steady(&b.c, &d, &params).unwrap();
+        let info = &sol.info;
+        eprintln!(
+            "{method:?}: residual {:.2e}, tolerance {:.0e}",
+            info.residual, info.tolerance
+        );
+        assert_eq!(info.method, method);
+        assert_eq!(info.tolerance, tolerance, "{method:?}");
+        assert!(
+            info.residual >= 0.0 && info.residual <= info.tolerance,
+            "{method:?}: {info:?}"
+        );
+    }
+    // the documented defaults (docs/analyses.md)
+    assert_eq!(defaults.shooting.rel_tolerance, 1e-7);
+    assert_eq!(defaults.settle.rel_tolerance, 1e-6);
+    assert_eq!(defaults.tol.rel_tolerance, 1e-6);
+}

@@ -2,6 +2,7 @@
 //! source multiplied by a factor, for searches at reduced drive (tuning "as
 //! on the bench" at a fraction of the drive, reported at full drive).
 
+use tankwave_study::TuneContext;
 use tankwave_circuit::{Circuit, ElementKind, Shape};
 
 /// Why the drive could not be scaled.
@@ -49,6 +50,23 @@ pub fn scale_drive(c: &mut Circuit, k: f64) -> Result<(), DriveError> {
             element: Some(name),
         }),
     }
+}
+
+/// Prepare a variant for a tuning objective: scale its drive by
+/// [`TuneContext::drive_scale`] (see [`scale_drive`]) and make every
+/// `analyze steady` use [`TuneContext::method`] when one is given.
+pub fn apply_context(c: &mut Circuit, ctx: &TuneContext) -> Result<(), DriveError> {
+    if ctx.drive_scale != 1.0 {
+        scale_drive(c, ctx.drive_scale)?;
+    }
+    if let Some(m) = ctx.method {
+        for a in &mut c.analyses {
+            if let tankwave_circuit::Analysis::Steady { method, .. } = a {
+                *method = m;
+            }
+        }
+    }
+    Ok(())
 }
 
 #[cfg(test)]

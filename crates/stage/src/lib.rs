@@ -49,7 +49,7 @@ pub mod record;
 pub mod solve;
 pub mod variant;
 
-pub use drive::{scale_drive, DriveError};
+pub use drive::{apply_context, scale_drive, DriveError};
 pub use error::StageError;
 pub use load::{input_files, load, load_source, Stage};
 pub use masks::{mask_evaluations, MaskEvaluations, MaskFailure};

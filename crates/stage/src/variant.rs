@@ -10,7 +10,7 @@ use tankwave_circuit::{Overrides, StageSource};
 use tankwave_measure::{Metrics, Verdict};
 use tankwave_study::{Outcome, TuneContext, TuneFigures, Variant, WarmStart};
 
-use crate::{record, scale_drive, solve, Scope, SolveOptions, StageError};
+use crate::{apply_context, record, solve, Scope, SolveOptions, StageError};
 
 /// A solved variant: what was measured, the verdicts, and the warm start
 /// for the next variant of its segment.
@@ -24,13 +24,14 @@ pub struct VariantSolution {
     pub warm: WarmStart,
 }
 
-/// Solve one variant: elaborate `source` with `overrides`, scale the drive
-/// by `drive_scale` (1 leaves it alone), solve the steady state
-/// (warm-started from `warm` where given), measure, evaluate.
+/// Solve one variant: elaborate `source` with `overrides`, apply `ctx`
+/// (scale the drive, pick the steady-state method; the default leaves the
+/// stage alone), solve the steady state (warm-started from `warm` where
+/// given), measure, evaluate.
 pub fn solve_variant(
     source: &StageSource,
     overrides: &Overrides,
-    drive_scale: f64,
+    ctx: &TuneContext,
     warm: Option<&WarmStart>,
 ) -> Result<VariantSolution, StageError> {
     let mut c = source
@@ -40,9 +41,7 @@ pub fn solve_variant(
             sources: source.sources().clone(),
         })?
         .circuit;
-    if drive_scale != 1.0 {
-        scale_drive(&mut c, drive_scale)?;
-    }
+    apply_context(&mut c, ctx)?;
     let opts = SolveOptions {
         warm: warm.map(|w| w.as_slice()),
         ..SolveOptions::scope(Scope::Requirements)
@@ -69,7 +68,7 @@ pub fn study_outcome(
     for (k, val) in &base.params {
         o.params.entry(k.clone()).or_insert(*val);
     }
-    let s = solve_variant(source, &o, 1.0, warm).map_err(|e| e.to_string())?;
+    let s = solve_variant(source, &o, &TuneContext::default(), warm).map_err(|e| e.to_string())?;
     Ok(Outcome {
         metrics: record::record_metrics(&s.metrics),
         verdicts: record::record_verdicts(&s.verdicts),
@@ -78,7 +77,8 @@ pub fn study_outcome(
 }
 
 /// The tuning work for one point: the parameters set to `values`, solved
-/// at the drive of `ctx` (cold start), and the figures the goal reads.
+/// at the drive and with the method of `ctx` (cold start), and the figures
+/// the goal reads.
 pub fn tune_figures(
     source: &StageSource,
     values: &BTreeMap<String, f64>,
@@ -88,6 +88,6 @@ pub fn tune_figures(
         params: values.clone(),
         ..Overrides::default()
     };
-    let s = solve_variant(source, &o, ctx.drive_scale, None).map_err(|e| e.to_string())?;
+    let s = solve_variant(source, &o, ctx, None).map_err(|e| e.to_string())?;
     Ok(record::objective_figures(&s.metrics))
 }

@@ -46,6 +46,6 @@ pub use summary::{
     percentile_sorted, FigureStats, RequirementStats, Summary, SummaryBuilder, SummarySink,
 };
 pub use tune::{
-    map_around, tune, Sharpness, TuneContext, TuneCurve, TuneFigures, TuneGoal, TuneMap,
-    TuneMapParams, TuneParams, TuneResult, TuneSurface,
+    map_around, round_optimum, tune, Confirmation, ConstraintCheck, Sharpness, TuneContext,
+    TuneCurve, TuneFigures, TuneGoal, TuneMap, TuneMapParams, TuneParams, TuneResult, TuneSurface,
 };

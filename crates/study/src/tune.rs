@@ -26,7 +26,28 @@
 //!
 //! Reduced drive: with `search_drive = Some(s)` the objective is asked at
 //! drive scale s during the search (the caller scales its source, e.g. with
-//! `tankwave_stage::scale_drive`), and the optimum is then reported at full drive (scale 1).
+//! `tankwave_stage::scale_drive`), and the optimum is then reported at full drive (scale 1),
+//! with the figures at the search drive beside it. A minimum output power is
+//! a full-drive promise, so at the search drive it is judged against the
+//! power the start point gives there (`pout_min` times the ratio of the start
+//! point's output power at the search drive to that at full drive), and the
+//! search then goes on at full drive from the reduced-drive optimum (one
+//! Nelder–Mead run with a quarter of the first step) with the true constraint.
+//!
+//! The constraint keeps its promise. `MaximiseEfficiencyAt { pout_min }` is
+//! searched against `pout_min·(1 + pout_margin)` (default margin 1e-3, more
+//! than twice the largest disagreement in output power between the
+//! steady-state methods at their defaults, 4e-4, docs/analyses.md). The
+//! optimum is rounded to [`OPTIMUM_DIGITS`] significant digits, the digits
+//! printed, so the values a person copies into the stage file are the ones
+//! checked; it is then solved afresh at full drive with the stage's own
+//! method and with every method in `confirm_methods` (balance, shooting,
+//! settle by default). When the smallest output power among them falls short
+//! of `pout_min` by less than 1% (method disagreement or rounding), the
+//! margin is raised to twice the shortfall plus the old margin and the
+//! full-drive search runs once more; if it still falls short, or fell short
+//! by more (no point of the search meets the minimum), the result says so
+//! ([`ConstraintCheck::met`] false) and the caller fails.
 //!
 //! Sharpness of the optimum, per parameter: the relative change of the goal
 //! figure (pout, efficiency or VSWR), (f(x ± δ) − f(x))/|f(x)|, when that
@@ -53,7 +74,7 @@ use std::sync::atomic::{AtomicU64, Ordering};
 use argmin::core::{CostFunction, Executor, State, TerminationReason, TerminationStatus};
 use argmin::solver::neldermead::NelderMead;
 use rayon::prelude::*;
-use tankwave_circuit::Tune;
+use tankwave_circuit::{SteadyMethod, Tune};
 
 use crate::StudyError;
 
@@ -95,7 +116,34 @@ pub struct TuneFigures {
 pub struct TuneContext {
     /// Drive scale to apply to the input source (1 = full drive).
     pub drive_scale: f64,
+    /// Steady-state method to solve with (`None`: the one the stage names).
+    pub method: Option<SteadyMethod>,
 }
+
+impl Default for TuneContext {
+    /// Full drive, the stage's own method.
+    fn default() -> Self {
+        TuneContext {
+            drive_scale: 1.0,
+            method: None,
+        }
+    }
+}
+
+/// Significant digits the optimum is rounded to before it is confirmed (and
+/// printed with): what a person copies into the stage file is what was solved.
+pub const OPTIMUM_DIGITS: usize = 5;
+
+/// `v` rounded to [`OPTIMUM_DIGITS`] significant digits.
+pub fn round_optimum(v: f64) -> f64 {
+    if !v.is_finite() || v == 0.0 {
+        return v;
+    }
+    format!("{:.*e}", OPTIMUM_DIGITS - 1, v)
+        .parse()
+        .unwrap_or(v)
+}
+
 
 /// Options of [`tune`].
 #[derive(Debug, Clone, PartialEq)]
@@ -114,6 +162,11 @@ pub struct TuneParams {
     pub search_drive: Option<f64>,
     /// Relative parameter step of the sharpness figure. Default 0.01 (1%).
     pub sharpness_step: f64,
+    /// Relative margin above `pout_min` the search aims for. Default 1e-3.
+    pub pout_margin: f64,
+    /// Steady-state methods the optimum is confirmed with at full drive
+    /// (besides the stage's own). Default balance, shooting and settle.
+    pub confirm_methods: Vec<SteadyMethod>,
 }
 
 impl Default for TuneParams {
@@ -126,6 +179,12 @@ impl Default for TuneParams {
             restarts: 1,
             search_drive: None,
             sharpness_step: 0.01,
+            pout_margin: 1e-3,
+            confirm_methods: vec![
+                SteadyMethod::Balance,
+                SteadyMethod::Shooting,
+                SteadyMethod::Settle,
+            ],
         }
     }
 }
@@ -141,6 +200,31 @@ pub struct Sharpness {
     pub minus: Option<f64>,
     /// Relative change of the goal figure at x + δ.
     pub plus: Option<f64>,
+}
+
+/// The optimum solved afresh with one steady-state method at full drive.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Confirmation {
+    /// The method.
+    pub method: SteadyMethod,
+    /// The figures, or why that method gave none.
+    pub figures: Result<TuneFigures, String>,
+}
+
+/// Whether the optimum meets the minimum output power under every method.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ConstraintCheck {
+    /// The minimum output power asked for, W.
+    pub pout_min: f64,
+    /// The smallest output power at the optimum over the stage's own method
+    /// and every confirming method that solved, W (`None` if none gave one).
+    pub worst_pout: Option<f64>,
+    /// The method that gave it (`None` for the stage's own method).
+    pub worst_method: Option<SteadyMethod>,
+    /// `worst_pout ≥ pout_min`.
+    pub met: bool,
+    /// The relative margin above `pout_min` the last search aimed for.
+    pub margin: f64,
 }
 
 /// The result of [`tune`].
@@ -169,6 +253,10 @@ pub struct TuneResult {
     pub sharpness: Vec<Sharpness>,
     /// Parameters within 0.1% of the range width of an end (the optimum may lie outside).
     pub at_bound: Vec<String>,
+    /// The optimum solved with each confirming method at full drive.
+    pub confirmations: Vec<Confirmation>,
+    /// The minimum output power and whether it holds (efficiency goal only).
+    pub constraint: Option<ConstraintCheck>,
 }
 
 const FAILED_COST: f64 = 1e6;
@@ -188,15 +276,23 @@ where
         self.names.iter().cloned().zip(x.iter().copied()).collect()
     }
     fn eval(&self, x: &[f64], drive_scale: f64) -> Result<TuneFigures, String> {
+        self.eval_with(
+            x,
+            &TuneContext {
+                drive_scale,
+                method: None,
+            },
+        )
+    }
+    fn eval_with(&self, x: &[f64], ctx: &TuneContext) -> Result<TuneFigures, String> {
         self.evaluations.fetch_add(1, Ordering::Relaxed);
         // Non-finite figures become absent, so no NaN reaches a result.
         let finite = |v: Option<f64>| v.filter(|x| x.is_finite());
-        let r =
-            (self.objective)(&self.point(x), &TuneContext { drive_scale }).map(|f| TuneFigures {
-                pout: finite(f.pout),
-                efficiency: finite(f.efficiency),
-                input_vswr: finite(f.input_vswr),
-            });
+        let r = (self.objective)(&self.point(x), ctx).map(|f| TuneFigures {
+            pout: finite(f.pout),
+            efficiency: finite(f.efficiency),
+            input_vswr: finite(f.input_vswr),
+        });
         if r.is_err() {
             self.failures.fetch_add(1, Ordering::Relaxed);
         }
@@ -335,6 +431,16 @@ where
         }
     }
     let drive = params.search_drive.unwrap_or(1.0);
+    let reduced = drive != 1.0;
+    if !(params.pout_margin.is_finite() && params.pout_margin >= 0.0) {
+        return Err(StudyError::Objective {
+            at: "goal".to_string(),
+            message: format!(
+                "the output power margin {} must be zero or positive",
+                params.pout_margin
+            ),
+        });
+    }
     let counted = Counted {
         names: &names,
         objective: &objective,
@@ -354,50 +460,141 @@ where
         .filter(|p| p.is_finite() && p.abs() > 0.0)
         .map(f64::abs)
         .unwrap_or(1.0);
+    // A minimum output power is a full-drive promise; at a reduced drive it is
+    // judged against what the start point gives there.
+    let search_power_ratio = match goal {
+        TuneGoal::MaximiseEfficiencyAt { .. } if reduced => {
+            let full = counted.eval(&x0, 1.0).map_err(|m| objective_err(&x0, m))?;
+            match (start_figures.pout, full.pout) {
+                (Some(ps), Some(pf)) if ps > 0.0 && pf > 0.0 => ps / pf,
+                _ => drive * drive,
+            }
+        }
+        _ => 1.0,
+    };
+    let with_margin = |margin: f64, ratio: f64| match goal {
+        TuneGoal::MaximiseEfficiencyAt { pout_min } => TuneGoal::MaximiseEfficiencyAt {
+            pout_min: pout_min * (1.0 + margin) * ratio,
+        },
+        g => g,
+    };
 
     let mut y_best = to_y(&bounds, &x0);
     let mut iterations = 0;
+    let mut allowed_iterations = 0u64;
     let mut converged = false;
     let step = params.initial_step * std::f64::consts::PI;
-    for _ in 0..=params.restarts {
-        let mut simplex = vec![y_best.clone()];
-        for k in 0..y_best.len() {
-            let mut v = y_best.clone();
-            if let Some(c) = v.get_mut(k) {
-                // Step towards the middle of the range so that the vertex moves x.
-                *c += if *c > 0.0 { -step } else { step };
+    // One Nelder–Mead run from `y_best` with first step `step`, at `drive`.
+    let mut run =
+        |y_best: &mut Vec<f64>, step: f64, drive: f64, goal: TuneGoal| -> Result<(), StudyError> {
+            let mut simplex = vec![y_best.clone()];
+            for k in 0..y_best.len() {
+                let mut v = y_best.clone();
+                if let Some(c) = v.get_mut(k) {
+                    // Step towards the middle of the range so that the vertex moves x.
+                    *c += if *c > 0.0 { -step } else { step };
+                }
+                simplex.push(v);
             }
-            simplex.push(v);
-        }
-        let solver = NelderMead::new(simplex)
-            .with_sd_tolerance(params.tolerance)
-            .map_err(|e| StudyError::Optimiser(e.to_string()))?;
-        let problem = Search {
-            counted: &counted,
-            ranges: &bounds,
-            goal,
-            pout_ref,
-            drive,
+            let solver = NelderMead::new(simplex)
+                .with_sd_tolerance(params.tolerance)
+                .map_err(|e| StudyError::Optimiser(e.to_string()))?;
+            let problem = Search {
+                counted: &counted,
+                ranges: &bounds,
+                goal,
+                pout_ref,
+                drive,
+            };
+            let res = Executor::new(problem, solver)
+                .configure(|s| s.max_iters(params.max_iters))
+                .run()
+                .map_err(|e| StudyError::Optimiser(e.to_string()))?;
+            let state = res.state();
+            iterations += state.get_iter();
+            allowed_iterations = allowed_iterations.saturating_add(params.max_iters);
+            converged = matches!(
+                state.get_termination_status(),
+                TerminationStatus::Terminated(TerminationReason::SolverConverged)
+            );
+            if let Some(p) = state.get_best_param() {
+                *y_best = p.clone();
+            }
+            Ok(())
         };
-        let res = Executor::new(problem, solver)
-            .configure(|s| s.max_iters(params.max_iters))
-            .run()
-            .map_err(|e| StudyError::Optimiser(e.to_string()))?;
-        let state = res.state();
-        iterations += state.get_iter();
-        converged = matches!(
-            state.get_termination_status(),
-            TerminationStatus::Terminated(TerminationReason::SolverConverged)
-        );
-        if let Some(p) = state.get_best_param() {
-            y_best = p.clone();
-        }
+    let mut margin = params.pout_margin;
+    for _ in 0..=params.restarts {
+        run(
+            &mut y_best,
+            step,
+            drive,
+            with_margin(margin, search_power_ratio),
+        )?;
     }
-    let x_best = to_x(&bounds, &y_best);
+    let constrained = matches!(goal, TuneGoal::MaximiseEfficiencyAt { .. });
+    if reduced && constrained {
+        // the constraint holds at full drive: finish the search there
+        run(&mut y_best, step / 4.0, 1.0, with_margin(margin, 1.0))?;
+    }
 
-    let full = counted
-        .eval(&x_best, 1.0)
-        .map_err(|m| objective_err(&x_best, m))?;
+    // The optimum as printed, solved afresh at full drive with every method;
+    // one more full-drive search with a larger margin if it falls short.
+    let mut attempt = 0;
+    let (x_best, full, confirmations, constraint) = loop {
+        let x_best: Vec<f64> = to_x(&bounds, &y_best)
+            .into_iter()
+            .zip(&bounds)
+            .map(|(x, &(a, b))| round_optimum(x).clamp(a, b))
+            .collect();
+        let full = counted
+            .eval(&x_best, 1.0)
+            .map_err(|m| objective_err(&x_best, m))?;
+        let confirmations: Vec<Confirmation> = params
+            .confirm_methods
+            .iter()
+            .map(|&m| Confirmation {
+                method: m,
+                figures: counted.eval_with(
+                    &x_best,
+                    &TuneContext {
+                        drive_scale: 1.0,
+                        method: Some(m),
+                    },
+                ),
+            })
+            .collect();
+        let TuneGoal::MaximiseEfficiencyAt { pout_min } = goal else {
+            break (x_best, full, confirmations, None);
+        };
+        let mut worst: Option<(f64, Option<SteadyMethod>)> = full.pout.map(|p| (p, None));
+        for c in &confirmations {
+            if let Ok(TuneFigures { pout: Some(p), .. }) = c.figures {
+                if worst.is_none_or(|(w, _)| p < w) {
+                    worst = Some((p, Some(c.method)));
+                }
+            }
+        }
+        let met = worst.is_some_and(|(w, _)| w >= pout_min);
+        let check = ConstraintCheck {
+            pout_min,
+            worst_pout: worst.map(|w| w.0),
+            worst_method: worst.and_then(|w| w.1),
+            met,
+            margin,
+        };
+        match worst {
+            // A shortfall of up to 1% is method disagreement or rounding, which
+            // a larger margin cures; a larger one means the search found no
+            // point that meets the minimum.
+            Some((w, _)) if !met && attempt == 0 && w >= 0.99 * pout_min => {
+                attempt += 1;
+                margin += 2.0 * (pout_min / w - 1.0);
+                y_best = to_y(&bounds, &x_best);
+                run(&mut y_best, step / 4.0, 1.0, with_margin(margin, 1.0))?;
+            }
+            _ => break (x_best, full, confirmations, Some(check)),
+        }
+    };
     let goal_value = figure(goal, &full).map_err(|m| objective_err(&x_best, m))?;
     let search_figures = match params.search_drive {
         Some(s) if s != 1.0 => Some(
@@ -449,12 +646,14 @@ where
         search_figures,
         goal_value,
         iterations,
-        allowed_iterations: params.max_iters.saturating_mul(params.restarts as u64 + 1),
+        allowed_iterations,
         evaluations: counted.evaluations.load(Ordering::Relaxed),
         failed_evaluations: counted.failures.load(Ordering::Relaxed),
         converged,
         sharpness,
         at_bound,
+        confirmations,
+        constraint,
     })
 }
 
@@ -652,7 +851,7 @@ where
         }
     }
     let finite = |v: Option<f64>| v.filter(|x| x.is_finite());
-    let ctx = TuneContext { drive_scale: 1.0 };
+    let ctx = TuneContext::default();
     let results: Vec<Result<TuneFigures, String>> = jobs
         .par_iter()
         .map(|p| {

@@ -119,7 +119,8 @@ fn reduced_drive_search_reports_at_full_drive() {
 /// Two parameters with a known optimum: efficiency η = 0.8 − (x − 3)² /100 − (y + 1)²/50,
 /// pout = 10·x W; with pout ≥ 25 W the optimum is x = 3, y = −1 (pout 30 W, constraint slack).
 /// With pout ≥ 35 W the constraint binds: the penalty 10·(1 − 10x/35) has slope 100/35 per
-/// unit x, far steeper than the efficiency's, so x → 3.5 and y → −1.
+/// unit x, far steeper than the efficiency's, so x → 3.5 and y → −1; the tuner aims at
+/// 35 W·(1 + margin), so x → 3.5·(1 + margin).
 #[test]
 fn two_parameters_and_the_efficiency_goal() {
     let obj = |p: &BTreeMap<String, f64>, _: &TuneContext| {
@@ -150,8 +151,101 @@ fn two_parameters_and_the_efficiency_goal() {
         &TuneParams::default(),
     )
     .unwrap();
-    assert!((res.optimum["x"] - 3.5).abs() < 1e-3, "{res:?}");
+    let margin = TuneParams::default().pout_margin;
+    assert!(
+        (res.optimum["x"] - 3.5 * (1.0 + margin)).abs() < 1e-3,
+        "{res:?}"
+    );
     assert!((res.optimum["y"] + 1.0).abs() < 1e-3, "{res:?}");
+    let check = res
+        .constraint
+        .expect("the efficiency goal checks its minimum");
+    assert!(check.met && check.worst_pout.unwrap() >= 35.0, "{check:?}");
+}
+
+/// The tank of [`tank`] with an efficiency that falls as the power rises,
+/// η = 1 − P/(1000 W) (so the efficiency goal pushes the power down onto its
+/// minimum), and one steady-state method that reads `shortfall` low in power,
+/// as a method with a larger discretisation error would.
+fn tank_with_methods(
+    shortfall: f64,
+) -> impl Fn(&BTreeMap<String, f64>, &TuneContext) -> Result<TuneFigures, String> {
+    move |point, ctx| {
+        let mut f = tank(point, ctx)?;
+        if let Some(p) = f.pout.as_mut() {
+            if ctx.method == Some(tankwave_circuit::SteadyMethod::Settle) {
+                *p *= 1.0 - shortfall;
+            }
+        }
+        f.efficiency = f.pout.map(|p| 1.0 - p / 1000.0);
+        Ok(f)
+    }
+}
+
+/// A minimum output power is met at full drive under every method, with the
+/// optimum rounded to the printed digits, even when the search runs at half
+/// drive (where the tank gives a quarter of the power, so 400 W is out of
+/// reach) and one method reads 0.5 % low (five times the default margin, so
+/// the first confirmation falls short and the search is redone with a
+/// larger margin).
+#[test]
+fn the_minimum_output_power_holds_under_every_method_at_full_drive() {
+    let p = TuneParams {
+        search_drive: Some(0.5),
+        ..Default::default()
+    };
+    let res = tune(
+        &[range("ctun", 100e-12, 1000e-12)],
+        tank_with_methods(5e-3),
+        TuneGoal::MaximiseEfficiencyAt { pout_min: 400.0 },
+        &p,
+    )
+    .unwrap();
+    let check = res.constraint.clone().expect("checked");
+    assert!(check.met, "{res:?}");
+    assert!(
+        check.margin > p.pout_margin,
+        "the margin was raised: {check:?}"
+    );
+    assert_eq!(res.confirmations.len(), 3);
+    for c in &res.confirmations {
+        let pout = c.figures.as_ref().unwrap().pout.unwrap();
+        assert!(pout >= 400.0, "{:?}: {pout} W", c.method);
+    }
+    assert!(res.figures.pout.unwrap() >= 400.0);
+    // the constraint binds: the power sits just above its minimum (500 W is
+    // reachable at resonance), within the raised margin plus the tuner's tolerance
+    let full = res.figures.pout.unwrap();
+    assert!(full < 400.0 * (1.0 + 2.0 * check.margin), "{full} W");
+    // the figures at the search drive are a quarter of those at full drive
+    // (power goes with the drive squared in this linear tank)
+    let half = res.search_figures.unwrap().pout.unwrap();
+    assert!((full / half - 4.0).abs() < 1e-12);
+    // the optimum carries only the printed digits
+    let c = res.optimum["ctun"];
+    assert_eq!(round_optimum(c), c);
+    assert_eq!(format!("{:.4e}", c).parse::<f64>().unwrap(), c);
+}
+
+/// A minimum the stage cannot reach (the tank gives at most 500 W) is
+/// reported as not met instead of an optimum that silently falls short.
+#[test]
+fn an_unreachable_minimum_output_power_is_reported_as_not_met() {
+    let res = tune(
+        &[range("ctun", 100e-12, 1000e-12)],
+        tank_with_methods(0.0),
+        TuneGoal::MaximiseEfficiencyAt { pout_min: 600.0 },
+        &TuneParams {
+            search_drive: Some(0.5),
+            ..Default::default()
+        },
+    )
+    .unwrap();
+    let check = res.constraint.expect("checked");
+    assert!(!check.met);
+    let worst = check.worst_pout.unwrap();
+    // the search still went for the power: resonance gives 500 W
+    assert!(worst < 600.0 && worst > 499.0, "{worst}");
 }
 
 #[test]
@@ -256,7 +350,7 @@ fn map_around_one_parameter_is_a_curve_through_the_optimum() {
     assert!((width / (0.2 * (b - a)) - 1.0).abs() < 1e-12, "{width}");
     assert!(((c.xs[0] + c.xs[c.xs.len() - 1]) / 2.0 / c0() - 1.0).abs() < 1e-12);
     let powers: Vec<f64> = c.figures.iter().map(|f| f.unwrap().pout.unwrap()).collect();
-    let ctx = TuneContext { drive_scale: 1.0 };
+    let ctx = TuneContext::default();
     for (x, p) in c.xs.iter().zip(&powers) {
         let point: BTreeMap<String, f64> = [("ctun".to_string(), *x)].into_iter().collect();
         assert_eq!(*p, tank(&point, &ctx).unwrap().pout.unwrap());

@@ -101,10 +101,11 @@ pub fn class_c_stage(theta_deg: f64) -> (Circuit, PeriodicSolution) {
         ],
         transport_currents: vec![None, None],
         info: SteadyInfo {
+            tolerance: 1e-6,
             method: SteadyMethod::Balance,
             fell_back_from: None,
             iterations: 7,
-            residual: 0.2,
+            residual: 2e-7,
             system_size: 40,
             balance: None,
             shooting: None,

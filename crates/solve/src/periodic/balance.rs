@@ -76,7 +76,9 @@
 //! (`Ŷ X`, `Ŝ`, `I`, `kωQ`) and `abs` is `current_floor` for a node row (A) or
 //! `voltage_floor` for a branch row (V); and the last full Newton update within
 //! `rel_tolerance·max_k |X_k| + (voltage_floor | current_floor)` for every port.
-//! [`SteadyInfo::residual`] is the largest `|R_rk|/tol` (≤ 1 when converged).
+//! [`SteadyInfo::residual`] is the largest `|R_rk|/tol` times `rel_tolerance`:
+//! the harmonic residual relative to the size of its row's terms (the floor
+//! counted in), at most [`SteadyInfo::tolerance`] = `rel_tolerance` when converged.
 //!
 //! # Harmonic count
 //! After convergence, the top tenth of the kept harmonics (at least one) of
@@ -1681,7 +1683,8 @@ fn finish(
             method: SteadyMethod::Balance,
             fell_back_from: None,
             iterations: totals.iterations,
-            residual: sol.ratio,
+            residual: sol.ratio * params.tol.rel_tolerance,
+            tolerance: params.tol.rel_tolerance,
             system_size: sol.system_size,
             balance: Some(BalanceInfo {
                 harmonics: kmax,

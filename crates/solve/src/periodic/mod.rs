@@ -80,9 +80,19 @@ pub struct SteadyInfo {
     /// shooting, the periods integrated by the iteration on both grids (Newton
     /// and chord steps; the warm-up periods are not counted).
     pub iterations: usize,
-    /// Final residual: largest scaled periodicity error (shooting, settle) or
-    /// harmonic residual (balance); ≤ 1 means within tolerance.
+    /// Final residual, one measure for every method: the largest error of
+    /// the method's convergence test relative to the size of what it tests
+    /// (a dimensionless fraction; each unknown's or row's absolute floor,
+    /// `voltage_floor` or `current_floor`, is counted as part of that size).
+    /// For shooting and settle the error is the change of each unknown over
+    /// one period, against its peak over the period (shooting) or its
+    /// peak-to-peak range plus peak (settle); for harmonic balance it is the
+    /// residual of each equation at each harmonic, against the largest term
+    /// of that equation. Converged means `residual ≤ tolerance`.
     pub residual: f64,
+    /// The relative tolerance the residual was held to (the method's
+    /// `rel_tolerance`: 1e-7 shooting, 1e-6 settle and harmonic balance by default).
+    pub tolerance: f64,
     /// Order of the Newton system solved (0 for settle).
     pub system_size: usize,
     /// Harmonic-balance details (harmonics used, continuation steps, …); `None` for other methods.
