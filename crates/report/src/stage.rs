@@ -419,6 +419,10 @@ pub fn steady_text(
 /// element: a `require stress` or an unselected per-transistor requirement
 /// then says which part set its value.
 pub fn located_at(v: &Verdict) -> Option<&str> {
+    // Mask and harmonics verdicts list every harmonic beneath already.
+    if !v.harmonics.is_empty() {
+        return None;
+    }
     let at = v.element.as_deref()?;
     let name = at.split_whitespace().next()?;
     let named = v.requirement.split_whitespace().any(|w| w == name);

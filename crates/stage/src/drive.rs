@@ -2,8 +2,8 @@
 //! source multiplied by a factor, for searches at reduced drive (tuning "as
 //! on the bench" at a fraction of the drive, reported at full drive).
 
-use tankwave_study::TuneContext;
 use tankwave_circuit::{Circuit, ElementKind, Shape};
+use tankwave_study::TuneContext;
 
 /// Why the drive could not be scaled.
 #[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]

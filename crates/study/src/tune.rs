@@ -144,7 +144,6 @@ pub fn round_optimum(v: f64) -> f64 {
         .unwrap_or(v)
 }
 
-
 /// Options of [`tune`].
 #[derive(Debug, Clone, PartialEq)]
 pub struct TuneParams {
