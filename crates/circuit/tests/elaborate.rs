@@ -168,6 +168,36 @@ fn parse_once_elaborate_with_overrides() {
     let codes: Vec<&str> = d.iter().map(|d| d.code).collect();
     assert_eq!(codes, vec!["bad-override", "bad-override"]);
     assert_eq!(d[0].help.as_deref(), Some("did you mean 'rb'?"));
+
+    // --set on an element's name says how to make its value a parameter.
+    let el = c.elements.first().expect("an element").name.clone();
+    let mut on_element = Overrides::default();
+    on_element.params.insert(el.clone(), 1.0);
+    let d = elaborate(&p, &on_element).expect_err("an element is not a parameter");
+    let help = d[0].help.as_deref().unwrap_or_default();
+    assert!(
+        help.contains("is an element") && help.contains(&format!("let {el}_value")),
+        "{help}"
+    );
+}
+
+/// An unknown mask with no near name lists the built-in masks.
+#[test]
+fn an_unknown_mask_lists_the_built_in_ones() {
+    let text = "resistor r1 a gnd 50Ohm\nvoltage v1 a gnd dc=1V\noutput r1\nanalyze steady freq=1MHz\nrequire harmonics <= zzzzzzzz\n";
+    let e = match load_str("m.tank", text, &Overrides::default()) {
+        Ok(_) => panic!("an unknown mask elaborates"),
+        Err(e) => e,
+    };
+    let m = e
+        .diagnostics
+        .iter()
+        .find(|d| d.code == "unknown-mask")
+        .expect("unknown-mask");
+    let help = m.help.as_deref().unwrap_or_default();
+    for b in tankwave_circuit::builtin::builtin_names() {
+        assert!(help.contains(&b), "{help}");
+    }
 }
 
 #[test]

@@ -254,7 +254,15 @@ impl<'a> Cx<'a> {
     fn check_overrides(&mut self) {
         for k in self.ov.params.keys() {
             if !self.lets.contains_key(k.as_str()) {
-                let help = did_you_mean(k, self.lets.keys());
+                let help = if self.elem_ids.contains_key(k.as_str()) {
+                    Some(format!(
+                        "'{k}' is an element, and --set changes parameters: write its value as \
+                         a parameter in the file (e.g. `let {k}_value = …` and `{k}_value` in \
+                         the element's line), then --set {k}_value=…"
+                    ))
+                } else {
+                    did_you_mean(k, self.lets.keys())
+                };
                 self.diags.push(
                     Diagnostic::global(
                         "bad-override",

@@ -176,7 +176,12 @@ impl<'a> Cx<'a> {
         }
         let mut cands: Vec<String> = masks.keys().map(|s| s.to_string()).collect();
         cands.extend(builtin_names());
-        let help = did_you_mean(name, cands.iter());
+        let help = did_you_mean(name, cands.iter()).or_else(|| {
+            Some(format!(
+                "the built-in masks are {}; a `mask NAME {{ … }}` block in the file defines another",
+                builtin_names().join(", ")
+            ))
+        });
         self.error(
             "unknown-mask",
             r.bound.span,
