@@ -399,6 +399,7 @@ pub fn run(a: &StudyArgs) -> i32 {
     common::show(&tankwave_report::batch::summary_text(
         &summary,
         &assemble::variant::requirement_units(&loaded.circuit),
+        &assemble::units::value_units(&loaded.circuit, &summary),
     ));
     if summary.failed > 0 || summary.passed_all < summary.variants {
         FAILED

@@ -657,6 +657,15 @@ fn study_summary_prints_every_figure_and_margin_with_its_unit() {
         s.contains("What drives"),
         "the summary ranks the drivers:\n{s}"
     );
+    // The worst variant of each requirement is named by its values too.
+    let worst = s
+        .lines()
+        .find(|l| l.starts_with("require pout"))
+        .unwrap_or_default();
+    assert!(
+        worst.contains("vcc = ") && worst.contains(" V") && worst.contains("c1 ×"),
+        "{worst}"
+    );
     for line in before_drivers.lines() {
         // VSWR is a plain ratio: it has no unit
         if line.starts_with("input_vswr") {

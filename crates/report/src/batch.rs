@@ -96,9 +96,53 @@ fn drivers_rows(s: &Summary) -> Vec<Vec<String>> {
         .collect()
 }
 
+/// A variant's values for people: each swept value with its unit
+/// (`value_units`: value key → unit symbol, empty when none), each
+/// tolerance factor (`….factor`) as a multiplier `c1 ×0.9700`.
+pub fn variant_values(
+    values: &BTreeMap<String, f64>,
+    value_units: &BTreeMap<String, String>,
+) -> String {
+    values
+        .iter()
+        .map(|(k, v)| match k.strip_suffix(".factor") {
+            Some(el) => format!("{el} ×{v:.4}"),
+            None => {
+                let unit = value_units.get(k).map(String::as_str).unwrap_or("");
+                format!(
+                    "{k} = {}",
+                    tankwave_measure::units::si_prefixed(*v, unit, 4)
+                )
+            }
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// "#N" and, when the variant has values, what they are.
+fn worst_variant(
+    r: &tankwave_study::RequirementStats,
+    value_units: &BTreeMap<String, String>,
+) -> String {
+    if r.worst_values.is_empty() {
+        format!("#{}", r.worst_index)
+    } else {
+        format!(
+            "#{} ({})",
+            r.worst_index,
+            variant_values(&r.worst_values, value_units)
+        )
+    }
+}
+
 /// The summary of a study as text; `units` gives each requirement's unit
-/// (requirement text → unit) so that margins print with it.
-pub fn summary_text(s: &Summary, units: &BTreeMap<String, Unit>) -> String {
+/// (requirement text → unit) so that margins print with it; `value_units`
+/// the unit of each swept value, to name the worst variants by their values.
+pub fn summary_text(
+    s: &Summary,
+    units: &BTreeMap<String, Unit>,
+    value_units: &BTreeMap<String, String>,
+) -> String {
     let mut out = format!(
         "{} variants, {} failed to solve; {} pass every requirement (yield {})\n\n",
         s.variants,
@@ -142,7 +186,7 @@ pub fn summary_text(s: &Summary, units: &BTreeMap<String, Unit>) -> String {
             t.row(vec![
                 name.clone(),
                 format!("{} of {}", r.passed, r.evaluated),
-                format!("#{}", r.worst_index),
+                worst_variant(r, value_units),
                 margin_text(units, name, r.worst_margin),
             ]);
         }
@@ -167,10 +211,11 @@ pub fn summary_text(s: &Summary, units: &BTreeMap<String, Unit>) -> String {
 /// statistics of every figure (count, min, mean, median, max and the
 /// summary's percentiles) followed by `figures` (histograms, sweep curves).
 /// `heading` names the study, e.g. "Monte Carlo over stage.tank".
-/// `units` gives each requirement's unit as for [`summary_text`].
+/// `units` and `value_units` as for [`summary_text`].
 pub fn study_sections(
     s: &Summary,
     units: &BTreeMap<String, Unit>,
+    value_units: &BTreeMap<String, String>,
     heading: &str,
     figures: Vec<Figure>,
 ) -> Vec<StudySection> {
@@ -210,7 +255,7 @@ pub fn study_sections(
                     r.passed.to_string(),
                     (r.evaluated - r.passed.min(r.evaluated)).to_string(),
                     s.variants.saturating_sub(r.evaluated).to_string(),
-                    format!("#{}", r.worst_index),
+                    worst_variant(r, value_units),
                     margin_text(units, name, r.worst_margin),
                 ]
             })
@@ -398,11 +443,11 @@ mod tests {
                 inputs: vec![("c1.factor".into(), -0.93), ("vcc".into(), 0.41)],
             },
         );
-        let text = summary_text(&s, &BTreeMap::new());
+        let text = summary_text(&s, &BTreeMap::new(), &BTreeMap::new());
         assert!(text.contains("c1.factor -0.93, vcc +0.41"), "{text}");
         // 1.96/sqrt(59) = 0.255...
         assert!(text.contains("|ρ| below 0.26"), "{text}");
-        let sections = study_sections(&s, &BTreeMap::new(), "h", Vec::new());
+        let sections = study_sections(&s, &BTreeMap::new(), &BTreeMap::new(), "h", Vec::new());
         assert_eq!(sections.last().unwrap().title, "What drives the figures");
     }
 

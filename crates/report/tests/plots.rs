@@ -562,6 +562,7 @@ fn study_sections_and_a_study_report() {
         &[("pout >= 2W".to_string(), tankwave_measure::Unit::Watt)]
             .into_iter()
             .collect(),
+        &Default::default(),
         "Study of demo-stage.tw",
         vec![Figure {
             caption: "Histogram of pout_w".into(),

@@ -51,6 +51,9 @@ pub struct RequirementStats {
     pub worst_index: u64,
     /// That margin.
     pub worst_margin: f64,
+    /// The worst variant's swept values and tolerance factors (its record's
+    /// `values`), so that it can be named by what makes it, not only by number.
+    pub worst_values: BTreeMap<String, f64>,
 }
 
 /// The summary of a set of records.
@@ -145,6 +148,7 @@ impl SummaryBuilder {
                 passed: 0,
                 worst_index: r.index,
                 worst_margin: v.margin,
+                worst_values: r.values.clone(),
             });
             e.evaluated += 1;
             if v.pass {
@@ -154,6 +158,7 @@ impl SummaryBuilder {
             {
                 e.worst_margin = v.margin;
                 e.worst_index = r.index;
+                e.worst_values = r.values.clone();
             }
         }
     }

@@ -194,6 +194,7 @@ pub fn study_report(c: &Circuit, r: StudyReport<'_>) -> String {
     let sections = crate::batch::study_sections(
         r.summary,
         &super::variant::requirement_units(c),
+        &super::units::value_units(c, r.summary),
         &format!("Study of {}", r.file),
         figures,
     );

@@ -24,6 +24,29 @@ pub fn element_unit(c: &Circuit, name: &str) -> &'static str {
     }
 }
 
+/// The unit of every swept value a summary names (a `let` parameter's or
+/// an element's main value), keyed as in the records; tolerance factors are
+/// left out (they are plain multipliers).
+pub fn value_units(
+    c: &Circuit,
+    s: &tankwave_study::Summary,
+) -> std::collections::BTreeMap<String, String> {
+    s.requirements
+        .values()
+        .flat_map(|r| r.worst_values.keys())
+        .filter(|k| !k.ends_with(".factor"))
+        .map(|k| {
+            let u = param_unit(c, k);
+            let u = if u.is_empty() {
+                element_unit(c, k).to_string()
+            } else {
+                u
+            };
+            (k.clone(), u)
+        })
+        .collect()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
