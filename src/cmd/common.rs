@@ -17,6 +17,7 @@ pub const SOLVER: i32 = 3;
 /// Parse `name=value` pairs (value in the stage-file syntax: `12V`, `2.2nF`, `(1/3)`).
 pub fn overrides(sets: &[String]) -> Result<Overrides, String> {
     let mut params = BTreeMap::new();
+    let mut param_units = BTreeMap::new();
     for s in sets {
         let Some((k, v)) = s.split_once('=') else {
             return Err(format!("--set expects name=value, got '{s}'"));
@@ -24,9 +25,14 @@ pub fn overrides(sets: &[String]) -> Result<Overrides, String> {
         let k = k.trim();
         let value = parse_value(v.trim()).map_err(|e| format!("--set {k}: {e}"))?;
         params.insert(k.to_string(), value);
+        if let Some(u) = value_unit(v) {
+            let symbol = tankwave_circuit::param_units::si_symbol(u);
+            param_units.insert(k.to_string(), symbol.to_string());
+        }
     }
     Ok(Overrides {
         params,
+        param_units,
         ..Overrides::default()
     })
 }

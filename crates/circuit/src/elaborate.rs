@@ -67,6 +67,10 @@ pub fn elaborate(parsed: &Parsed, overrides: &Overrides) -> Result<Elaborated, V
     cx.diags.extend(parsed.diagnostics.iter().cloned());
     let mut circuit = cx.run();
     circuit.param_units = crate::param_units::collect(parsed);
+    cx.diags.extend(crate::bounds::override_units(
+        &circuit.param_units,
+        overrides,
+    ));
     let mut diags = cx.diags;
     diags.sort_by_key(|d| d.span.map(|s| (s.file, s.start)).unwrap_or((0, 0)));
     if diags.iter().any(|d| d.is_error()) {
@@ -607,9 +611,14 @@ impl<'a> Cx<'a> {
         }
 
         // Evaluate every parameter (reports cycles and bad expressions even if unused).
-        let mut names: Vec<&'a str> = self.lets.keys().copied().collect();
-        names.sort_by_key(|n| self.lets.get(n).map(|(i, _)| (i.span.file, i.span.start)));
-        for n in &names {
+        // In dependency order, so that no evaluation recurses through a chain.
+        let plan =
+            crate::bounds::param_order(&self.lets, |n| self.ov.params.contains_key(n), self.map);
+        self.diags.extend(plan.diags);
+        for n in &plan.failed {
+            self.pstate.insert(n, PState::Failed);
+        }
+        for n in &plan.order {
             if let Ok(Some(v)) = self.param(n) {
                 c.params.insert(n.to_string(), v);
             }
@@ -627,6 +636,7 @@ impl<'a> Cx<'a> {
         let model_ok = c.models.len() == self.models.len();
 
         // Singletons, analyses (needed for inductor q= defaults).
+        let mut analysis_spans: Vec<Span> = Vec::new();
         let mut seen: HashMap<&str, Span> = HashMap::new();
         for s in stmts {
             let single = matches!(
@@ -668,7 +678,12 @@ impl<'a> Cx<'a> {
                 }
                 Stmt::Analyze { kind, options } => {
                     if let Some(a) = self.analysis(kind, options) {
-                        c.analyses.push(a);
+                        let too_large = crate::bounds::analysis(self.map, kind, options, &a);
+                        if too_large.is_empty() {
+                            c.analyses.push(a);
+                            analysis_spans.push(kind.span);
+                        }
+                        self.diags.extend(too_large);
                     }
                 }
                 _ => {}
@@ -708,6 +723,8 @@ impl<'a> Cx<'a> {
             debug_assert_eq!(c.elements.len(), id + 1);
         }
         c.nodes = std::mem::take(&mut self.node_names);
+        let too_large = crate::bounds::size(self.map, &c, &self.elem_spans, &analysis_spans);
+        self.diags.extend(too_large);
 
         // Output, input.
         for s in stmts {
