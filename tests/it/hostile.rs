@@ -514,3 +514,38 @@ fn huge_numbers_in_record_headers_are_refused_promptly() {
         assert!(t.elapsed() < Duration::from_secs(20));
     }
 }
+
+/// The 13.56 MHz demo with a 1 kΩ load: shooting converges to an orbit that
+/// is not stable (method=settle never settles), and the stage was reported
+/// at 5.23 W. Its largest Floquet multiplier (1.07+0.33j, |μ| 1.12) refuses
+/// it: a solver failure (exit 3) with the reason, no figure printed.
+#[test]
+fn an_unstable_orbit_is_a_solver_failure_not_a_figure() {
+    let o = run(&[
+        "run",
+        p(&data("hostile/classc_1k_load.tank")),
+        "--no-caution",
+    ]);
+    let (out, err) = (stdout(&o), stderr(&o));
+    assert_eq!(code(&o), 3, "{out}{err}");
+    assert!(err.contains("Floquet multiplier"), "{err}");
+    assert!(err.contains("is not stable"), "{err}");
+    assert!(!out.contains("output power"), "{out}");
+    // the same file with the 50 Ω load it was designed for is accepted and
+    // shows its largest multiplier
+    let models = crate::harness::root().join("netlists/models");
+    let good = fs::read_to_string(data("hostile/classc_1k_load.tank"))
+        .unwrap()
+        .replace("1kOhm", "50Ohm")
+        .replace("../../../netlists/models", p(&models));
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join("classc_50_load.tank");
+    fs::write(&f, good).unwrap();
+    let o = run(&["run", p(&f), "--no-caution", "--include-root", p(&models)]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    assert!(
+        stdout(&o).contains("largest Floquet multiplier |μ| 0."),
+        "{}",
+        stdout(&o)
+    );
+}

@@ -1725,6 +1725,7 @@ fn finish(
                 truncation: sol.truncation,
             }),
             shooting: None,
+            floquet: None,
         },
     })
 }

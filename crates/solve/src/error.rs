@@ -125,6 +125,15 @@ pub enum SolveError {
         /// over the last period.
         relative_change: f64,
     },
+    /// A steady state that Newton found but that is not a stable periodic
+    /// orbit (see [`crate::floquet`]): never reported as a result.
+    #[error("{analysis}: no verified periodic state: {reason}; method=settle shows what the stage does instead")]
+    NotPeriodic {
+        /// The method that found the orbit.
+        analysis: String,
+        /// Why it was refused, with the numbers.
+        reason: String,
+    },
     /// Invalid analysis parameters.
     #[error("invalid analysis parameters: {0}")]
     BadParams(String),

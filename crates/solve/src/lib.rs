@@ -43,6 +43,7 @@
 pub mod ac;
 pub mod balance;
 pub mod error;
+pub mod floquet;
 pub mod linalg;
 mod newton;
 pub mod op;

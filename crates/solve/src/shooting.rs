@@ -44,15 +44,15 @@ use tankwave_circuit::{Circuit, SteadyMethod};
 use tankwave_devices::DeviceSet;
 
 /// One period integrated from `x0`.
-struct PeriodRun {
+pub(crate) struct PeriodRun {
     /// Unknowns at the start of every step, `[unknown][step]`.
-    samples: Vec<Vec<f64>>,
+    pub(crate) samples: Vec<Vec<f64>>,
     /// Unknowns at every TR-BDF2 intermediate stage, `[unknown][step]`.
     stage: Vec<Vec<f64>>,
     /// `x(T)`.
-    end: Vec<f64>,
+    pub(crate) end: Vec<f64>,
     /// `Φ = ∂x(T)/∂x₀` when asked for.
-    monodromy: Option<Mat<f64>>,
+    pub(crate) monodromy: Option<Mat<f64>>,
 }
 
 /// The charged-row part of `G` and the whole of `C` at the stepper's last evaluation.
@@ -75,7 +75,7 @@ fn g_hat_and_c(st: &Stepper<'_>, n: usize) -> (Mat<f64>, Mat<f64>) {
 
 /// Integrate one period of `ns` uniform TR-BDF2 steps from `x0` at `t0`,
 /// with the monodromy matrix when `with_sens`.
-fn integrate_period(
+pub(crate) fn integrate_period(
     st: &mut Stepper<'_>,
     devices: &DeviceSet,
     x0: &[f64],
@@ -398,6 +398,7 @@ pub fn shooting(
                             system_size: n,
                             balance: None,
                             shooting: Some(report),
+                            floquet: None,
                         },
                     });
                 }

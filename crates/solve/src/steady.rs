@@ -74,6 +74,9 @@ pub struct SteadyInfo {
     pub balance: Option<crate::balance::BalanceInfo>,
     /// Shooting details (periods per grid, monodromy matrices); `None` for other methods.
     pub shooting: Option<ShootingInfo>,
+    /// The Floquet multipliers that verified the orbit ([`crate::floquet`]);
+    /// `None` only before verification.
+    pub floquet: Option<crate::floquet::FloquetInfo>,
 }
 
 /// How a shooting solve went, grid by grid.
@@ -248,19 +251,23 @@ pub fn steady(
     params: &SteadyParams,
 ) -> Result<PeriodicSolution, SolveError> {
     params.check()?;
+    // Every orbit is verified before it is accepted (crate::floquet).
+    let verify = |s| crate::floquet::verify(circuit, devices, params, s);
     match params.method {
-        SteadyMethod::Shooting => crate::shooting::shooting(circuit, devices, params),
-        SteadyMethod::Settle => settle(circuit, devices, params),
-        SteadyMethod::Balance => run_balance(circuit, devices, params),
+        SteadyMethod::Shooting => {
+            crate::shooting::shooting(circuit, devices, params).and_then(verify)
+        }
+        SteadyMethod::Settle => settle(circuit, devices, params).and_then(verify),
+        SteadyMethod::Balance => run_balance(circuit, devices, params).and_then(verify),
         SteadyMethod::Auto => {
             // Shooting first: on the demo stages it is several times faster
             // than harmonic balance with its automatic raise of K (measured in
             // benches/stages.rs), and both agree within the acceptance figures
             // (tests/it/agreement.rs). Balance is the fallback; when both fail
             // the error names both.
-            match crate::shooting::shooting(circuit, devices, params) {
+            match crate::shooting::shooting(circuit, devices, params).and_then(verify) {
                 Ok(s) => Ok(s),
-                Err(first) => match run_balance(circuit, devices, params) {
+                Err(first) => match run_balance(circuit, devices, params).and_then(verify) {
                     Ok(mut s) => {
                         s.info.fell_back_from = Some(SteadyMethod::Shooting);
                         Ok(s)
@@ -341,6 +348,7 @@ pub fn settle(
                         system_size: 0,
                         balance: None,
                         shooting: None,
+                        floquet: None,
                     },
                 });
             }
