@@ -414,6 +414,29 @@ pub(crate) fn size(
     out
 }
 
+/// Warn at every `tolerance` statement of a file that has no `montecarlo`:
+/// tolerances are applied only to Monte Carlo samples (docs/studies.md), so
+/// without one they do nothing.
+pub(crate) fn unused_tolerances(parsed: &tankwave_netlist::Parsed, c: &Circuit) -> Vec<Diagnostic> {
+    if c.study.montecarlo.is_some() {
+        return Vec::new();
+    }
+    parsed
+        .statements
+        .iter()
+        .filter(|s| matches!(s.stmt, tankwave_netlist::ast::Stmt::Tolerance { .. }))
+        .map(|s| {
+            let mut d = parsed.sources.warning(
+                "tolerance-unused",
+                s.keyword.span,
+                "tolerance has no effect without montecarlo: tolerances are drawn only for Monte Carlo samples",
+            );
+            d.help = Some("add e.g. 'montecarlo runs=100', or remove the tolerance".into());
+            d
+        })
+        .collect()
+}
+
 /// Check every unit written with an override (`ov.param_units`) against the
 /// unit the stage file gives that parameter (`file_units`, SI symbols from
 /// [`crate::param_units::collect`]); a plain number is taken as given in the

@@ -67,6 +67,8 @@ pub fn elaborate(parsed: &Parsed, overrides: &Overrides) -> Result<Elaborated, V
     cx.diags.extend(parsed.diagnostics.iter().cloned());
     let mut circuit = cx.run();
     circuit.param_units = crate::param_units::collect(parsed);
+    cx.diags
+        .extend(crate::bounds::unused_tolerances(parsed, &circuit));
     cx.diags.extend(crate::bounds::override_units(
         &circuit.param_units,
         overrides,

@@ -216,6 +216,10 @@ pub const CODES: &[(&str, &str)] = &[
         "current sources (and capacitors) alone connect a part of the circuit",
     ),
     (
+        "tolerance-unused",
+        "warning: a `tolerance` in a file without `montecarlo` (tolerances apply only to Monte Carlo samples)",
+    ),
+    (
         "dangling-node",
         "warning: a node touched by only one element",
     ),
