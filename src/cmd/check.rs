@@ -77,6 +77,7 @@ pub fn run(a: &CheckArgs) -> i32 {
                 FileOutcome::Error {
                     code,
                     message: "bad input".into(),
+                    problems: common::problems(&fail),
                 }
             }
             Ok(l) => match pipeline::solve(&l.circuit, Scope::Requirements) {
@@ -104,11 +105,16 @@ pub fn run(a: &CheckArgs) -> i32 {
                 }
                 Err(fail) => {
                     let code = common::report_failure(&name, &fail);
+                    let problems = common::problems(&fail);
                     let message = match fail {
                         Failure::Solve(m) | Failure::Setup(m) => m,
                         Failure::Input { .. } => "bad input".into(),
                     };
-                    FileOutcome::Error { code, message }
+                    FileOutcome::Error {
+                        code,
+                        message,
+                        problems,
+                    }
                 }
             },
         };

@@ -37,6 +37,24 @@ pub fn overrides(sets: &[String]) -> Result<Overrides, String> {
     })
 }
 
+/// The diagnostics of a bad-input failure as the check outputs carry them.
+pub fn problems(fail: &Failure) -> Vec<tankwave_report::check::Problem> {
+    let Failure::Input { diagnostics, .. } = fail else {
+        return Vec::new();
+    };
+    diagnostics
+        .iter()
+        .map(|d| tankwave_report::check::Problem {
+            file: d.file.clone(),
+            line: d.line,
+            column: d.column,
+            severity: if d.is_error() { "error" } else { "warning" }.into(),
+            code: d.code.into(),
+            message: d.message.clone(),
+        })
+        .collect()
+}
+
 /// Print text for a person on stdout, with control characters from the
 /// input (a title, a name) escaped.
 pub fn show(text: &str) {

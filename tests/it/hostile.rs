@@ -549,3 +549,89 @@ fn an_unstable_orbit_is_a_solver_failure_not_a_figure() {
         stdout(&o)
     );
 }
+
+#[test]
+fn a_mask_error_is_reported_once() {
+    // the mask's rule is wrong and a requirement names the mask: one error
+    // (the requirement does not report the broken mask again)
+    let (_d, f) =
+        stage_with("mask m1 {\n  harmonics from 2 below 40V\n}\nrequire harmonics <= m1\n");
+    let e = lint_refuses(
+        &f,
+        &["stage.tank:7:26", "below needs dB, got V", "1 error(s)"],
+    );
+    assert_eq!(e.matches("below needs dB").count(), 1, "{e}");
+}
+
+#[test]
+fn check_json_and_junit_carry_the_diagnostics() {
+    let (dir, f) = stage_with("resistor r9 b gnd 5F\n");
+    let o = run(&["check", p(&f), "--format", "json", "--no-caution"]);
+    assert_eq!(code(&o), BAD_INPUT);
+    let doc: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let d = &doc["files"][0]["diagnostics"][0];
+    assert_eq!(d["code"], "unit-mismatch", "{doc}");
+    assert_eq!(
+        (d["line"].as_u64(), d["column"].as_u64()),
+        (Some(6), Some(19)),
+        "{doc}"
+    );
+    assert_eq!(d["severity"], "error");
+    let junit = dir.path().join("junit.xml");
+    let o = run(&["check", p(&f), "--junit", p(&junit), "--no-caution"]);
+    assert_eq!(code(&o), BAD_INPUT);
+    let xml = fs::read_to_string(&junit).unwrap();
+    assert!(
+        xml.contains(":6:19: error[unit-mismatch]: resistor value needs Ohm, got F"),
+        "{xml}"
+    );
+}
+
+#[test]
+fn a_lone_carriage_return_ends_a_line() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join("cr.tank");
+    fs::write(
+        &f,
+        "voltage v1 a gnd dc=1V\rresistor r1 a gnd 5F\rresistor r2 a gnd 50Ohm\r",
+    )
+    .unwrap();
+    let o = run(&["lint", p(&f)]);
+    assert_eq!(code(&o), BAD_INPUT);
+    // the bad value is on line 2, column 19, not "line 1, column 42"
+    assert!(stderr(&o).contains("cr.tank:2:19"), "{}", stderr(&o));
+    assert!(stderr(&o).contains("1 error(s)"), "{}", stderr(&o));
+}
+
+#[test]
+fn a_tolerance_without_montecarlo_is_warned() {
+    let (_d, f) = stage_with("tolerance r1 5%\n");
+    let o = run(&["lint", p(&f)]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let all = format!("{}{}", stdout(&o), stderr(&o));
+    assert!(all.contains("tolerance-unused"), "{all}");
+    assert!(all.contains("stage.tank:6:1"), "{all}");
+    let (_d, f) = stage_with("tolerance r1 5%\nmontecarlo runs=2\n");
+    let o = run(&["lint", p(&f)]);
+    assert!(!format!("{}{}", stdout(&o), stderr(&o)).contains("tolerance-unused"));
+}
+
+#[test]
+fn a_record_repeated_in_a_records_file_is_counted_once_on_resume() {
+    let (dir, f) = stage_with("let r = 50Ohm\nvary r [50Ohm, 100Ohm]\n");
+    let rec = dir.path().join("rec.jsonl");
+    run(&["study", p(&f), "--out", p(&rec), "--no-caution"]);
+    let text = fs::read_to_string(&rec).unwrap();
+    let lines: Vec<&str> = text.lines().collect();
+    assert_eq!(lines.len(), 3, "{text}");
+    // header, variant 0 twice, variant 1 missing
+    fs::write(&rec, format!("{}\n{}\n{}\n", lines[0], lines[1], lines[1])).unwrap();
+    let o = run(&["study", p(&f), "--out", p(&rec), "--resume", "--no-caution"]);
+    let all = format!("{}{}", stdout(&o), stderr(&o));
+    assert!(
+        all.contains("1 variants run") && all.contains("1 already recorded"),
+        "{all}"
+    );
+    // the summary covers the study's 2 variants, not 3 records
+    assert!(all.contains("\n2 variants,"), "{all}");
+}

@@ -658,7 +658,8 @@ pub fn resume(
 }
 
 /// [`resume`], and hand every complete record already in the file to
-/// `replay` as it is read (in file order), so that a summary of the
+/// `replay` as it is read (in file order; a variant recorded more than once
+/// only the first time), so that a summary of the
 /// continued run covers the whole study: the records of earlier runs, or of
 /// merged shards, and the ones about to be added.
 pub fn resume_replaying(
@@ -688,8 +689,11 @@ pub fn resume_replaying(
                 expected.check(h, &name, true)?;
             }
             while let Some(rec) = r.next_record()? {
-                replay.record(&rec)?;
-                done.insert(rec.index);
+                // A variant recorded twice (a file appended to by hand, or
+                // two runs racing) is counted and summarised once.
+                if done.insert(rec.index) {
+                    replay.record(&rec)?;
+                }
             }
             (r.good_len(), false)
         }
