@@ -67,12 +67,14 @@ pub enum SolveError {
         when: When,
     },
     /// The Jacobian has no usable pivot.
-    #[error("{analysis}: singular matrix{when}: no pivot for {unknown} (a floating node or a loop of voltage sources and inductors?)")]
+    #[error("{analysis}: singular matrix{when}: no pivot for {unknown}: {cause}")]
     Singular {
         /// Which analysis failed.
         analysis: String,
         /// Name of the unknown whose column has no pivot.
         unknown: String,
+        /// What the numbers point to ([`crate::singular`]).
+        cause: String,
         /// Simulation time, if any.
         when: When,
     },

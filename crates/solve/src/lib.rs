@@ -48,6 +48,7 @@ pub mod linalg;
 mod newton;
 pub mod op;
 pub mod shooting;
+pub mod singular;
 mod spectral;
 pub mod steady;
 pub mod transient;
