@@ -74,6 +74,7 @@ pub fn run(a: &CheckArgs) -> i32 {
                 FileOutcome::Error {
                     code,
                     message: "bad input".into(),
+                    problems: common::problems(&fail),
                 }
             }
             Ok(l) => {
@@ -103,11 +104,16 @@ pub fn run(a: &CheckArgs) -> i32 {
                     }
                     Err(fail) => {
                         let code = common::report_failure(&name, &fail);
+                        let problems = common::problems(&fail);
                         let message = match fail {
                             StageError::Input { .. } => "bad input".into(),
                             e => e.to_string(),
                         };
-                        FileOutcome::Error { code, message }
+                        FileOutcome::Error {
+                            code,
+                            message,
+                            problems,
+                        }
                     }
                 }
             }

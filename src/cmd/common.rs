@@ -20,6 +20,7 @@ pub const SOLVER: i32 = 3;
 /// Parse `name=value` pairs (value in the stage-file syntax: `12V`, `2.2nF`, `(1/3)`).
 pub fn overrides(sets: &[String]) -> Result<Overrides, String> {
     let mut params = BTreeMap::new();
+    let mut param_units = BTreeMap::new();
     for s in sets {
         let Some((k, v)) = s.split_once('=') else {
             return Err(format!("--set expects name=value, got '{s}'"));
@@ -27,9 +28,14 @@ pub fn overrides(sets: &[String]) -> Result<Overrides, String> {
         let k = k.trim();
         let value = parse_value(v.trim()).map_err(|e| format!("--set {k}: {e}"))?;
         params.insert(k.to_string(), value);
+        if let Some(u) = value_unit(v) {
+            let symbol = tankwave_circuit::param_units::si_symbol(u);
+            param_units.insert(k.to_string(), symbol.to_string());
+        }
     }
     Ok(Overrides {
         params,
+        param_units,
         ..Overrides::default()
     })
 }
@@ -56,6 +62,24 @@ pub fn load(path: &Path, overrides: &Overrides) -> Result<Stage, StageError> {
 /// Every file the stage at `path` reads (itself and its includes).
 pub fn input_files(path: &Path) -> Vec<PathBuf> {
     tankwave_stage::input_files(path, include_roots())
+}
+
+/// The diagnostics of a bad-input failure as the check outputs carry them.
+pub fn problems(fail: &StageError) -> Vec<tankwave_report::check::Problem> {
+    let StageError::Input { diagnostics, .. } = fail else {
+        return Vec::new();
+    };
+    diagnostics
+        .iter()
+        .map(|d| tankwave_report::check::Problem {
+            file: d.file.clone(),
+            line: d.line,
+            column: d.column,
+            severity: if d.is_error() { "error" } else { "warning" }.into(),
+            code: d.code.into(),
+            message: d.message.clone(),
+        })
+        .collect()
 }
 
 /// Print text for a person on stdout, with control characters from the

@@ -343,3 +343,295 @@ fn tune_refuses_unusable_ranges_and_search_drive() {
         assert!(stderr(&o).contains(says), "{extra:?}: {}", stderr(&o));
     }
 }
+
+/// The divider stage with `extra` appended, written to a fresh directory as
+/// `stage.tank`; returns (directory guard, stage path).
+fn stage_with(extra: &str) -> (tempfile::TempDir, PathBuf) {
+    let dir = tempfile::tempdir().unwrap();
+    let stage = dir.path().join("stage.tank");
+    let base = fs::read_to_string(data("hostile/divider.tank")).unwrap();
+    fs::write(&stage, format!("{base}{extra}")).unwrap();
+    (dir, stage)
+}
+
+/// `lint` on `stage` must exit 2 and say each of `says` on stderr.
+fn lint_refuses(stage: &Path, says: &[&str]) -> String {
+    let o = run(&["lint", p(stage)]);
+    let e = stderr(&o);
+    assert_eq!(code(&o), BAD_INPUT, "{e}");
+    for s in says {
+        assert!(e.contains(s), "missing {s:?} in\n{e}");
+    }
+    e
+}
+
+#[test]
+fn an_expression_too_deep_or_too_long_is_refused_by_lint() {
+    // 100 000 brackets overflowed the stack; 200 000 terms built a tree as
+    // deep as it is long (the divider file has 5 lines, so the let is line 6)
+    let deep = format!("let x = {}1{}\n", "(".repeat(100_000), ")".repeat(100_000));
+    let (_d, f) = stage_with(&deep);
+    lint_refuses(&f, &["stage.tank:6:", "nested more than 128 levels"]);
+    let long = format!("let x = ({})\n", vec!["1"; 200_000].join("+"));
+    let (_d, f) = stage_with(&long);
+    // the 1001st '+' is at column 9 + 2·1000 = 2009 ("let x = (" is 9 characters)
+    lint_refuses(&f, &["stage.tank:6:2011", "longer than 1000 terms"]);
+}
+
+#[test]
+fn a_long_parameter_chain_is_refused_once_without_recursion() {
+    // p1 = p0 + 1, …: evaluated recursively, 100 000 of these overflowed the stack
+    let mut text = String::from("let p0 = 1\n");
+    for i in 1..100_000 {
+        text.push_str(&format!("let p{i} = (p{} + 1)\n", i - 1));
+    }
+    let (_d, f) = stage_with(&text);
+    let e = lint_refuses(
+        &f,
+        &["parameter 'p1000' is defined through a chain of more than 1000"],
+    );
+    // p1000 is on line 6 + 1000; the parameters after it fail silently
+    assert!(e.contains("stage.tank:1006:5"), "{e}");
+    assert!(e.contains("1 error(s)"), "{e}");
+}
+
+#[test]
+fn a_parameter_cycle_is_named_once_and_shortened() {
+    let (_d, f) = stage_with("let a = b\nlet b = c\nlet c = a\nlet d = (a + 1)\n");
+    let e = lint_refuses(&f, &["stage.tank:6:5", "parameter cycle: a -> b -> c -> a"]);
+    assert_eq!(e.matches("parameter cycle").count(), 1, "{e}");
+    let mut text = String::new();
+    for i in 0..50_000 {
+        text.push_str(&format!("let q{i} = (q{} + 1)\n", (i + 1) % 50_000));
+    }
+    let (_d, f) = stage_with(&text);
+    let e = lint_refuses(
+        &f,
+        &["q0 -> q1 -> q2 -> (49994 more) -> q49997 -> q49998 -> q49999 -> q0"],
+    );
+    assert!(e.len() < 4096, "{} bytes of diagnostics", e.len());
+}
+
+#[test]
+fn counts_a_solver_cannot_use_are_refused_by_lint_at_their_place() {
+    let (_d, f) = stage_with(
+        "analyze steady freq=7MHz harmonics=1e9\n\
+         analyze steady freq=7MHz steps=16777216\n\
+         analyze ac from=1MHz to=2MHz points=1e7\n\
+         analyze transient stop=1s step=1ns\n",
+    );
+    lint_refuses(
+        &f,
+        &[
+            "stage.tank:6:36",
+            "harmonics: 1000000000 asked, at most 256 allowed",
+            "stage.tank:7:32",
+            "steps per period: 16777216 asked, at most 65536 allowed",
+            "stage.tank:8:37",
+            "AC points: 10000000 asked, at most 100000 allowed",
+            "stage.tank:9:32",
+            "transient output steps (stop / step): 1000000000 asked",
+        ],
+    );
+}
+
+#[test]
+fn a_circuit_too_large_for_memory_is_refused_by_lint() {
+    // 40 diodes in a chain, balance at 256 harmonics: the dense Jacobian of
+    // 120 port unknowns × 513 real coefficients needs ~60 GB (estimate in
+    // tankwave_circuit::bounds); at the default 32 harmonics it fits
+    let mut text = String::from("part dx diode {\n  junction { sat_current=2pA ideality=1 }\n}\n");
+    for i in 0..40 {
+        text.push_str(&format!("diode d{i} n{i} n{} part=dx\n", i + 1));
+    }
+    text.push_str("resistor rs b n0 50Ohm\nresistor rl n40 gnd 50Ohm\n");
+    let (_d, f) = stage_with(&format!("{text}analyze steady freq=7MHz harmonics=256\n"));
+    let line = 6 + 3 + 40 + 2;
+    lint_refuses(
+        &f,
+        &[
+            &format!("stage.tank:{line}:9"),
+            "of memory for",
+            "at most 2.15 GB",
+        ],
+    );
+    let (_d, f) = stage_with(&format!("{text}analyze steady freq=7MHz\n"));
+    let o = run(&["lint", p(&f)]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+}
+
+#[test]
+fn set_values_are_unit_checked_like_the_files_own() {
+    let (_d, f) = stage_with("let rl = 50Ohm\nlet k = 2\n");
+    for (set, says) in [
+        (
+            "rl=5nF",
+            "override of 'rl' is in F, but the stage file gives 'rl' in Ohm",
+        ),
+        (
+            "k=5V",
+            "override of 'k' is in V, but the stage file gives 'k' as a plain number",
+        ),
+    ] {
+        let o = run(&["lint", p(&f), "--set", set]);
+        assert_eq!(code(&o), BAD_INPUT, "{set}");
+        assert!(stderr(&o).contains(says), "{set}: {}", stderr(&o));
+    }
+    for set in ["rl=5kOhm", "rl=75"] {
+        let o = run(&["lint", p(&f), "--set", set]);
+        assert_eq!(code(&o), 0, "{set}: {}", stderr(&o));
+    }
+}
+
+#[test]
+fn huge_numbers_in_record_headers_are_refused_promptly() {
+    let (dir, f) = stage_with("let r = 50Ohm\nvary r [50Ohm, 100Ohm]\n");
+    let rec = dir.path().join("rec.jsonl");
+    let o = run(&["study", p(&f), "--out", p(&rec), "--no-caution"]);
+    assert!(rec.exists(), "{}", stderr(&o));
+    let text = fs::read_to_string(&rec).unwrap();
+    for (from, to, says) in [
+        (
+            "\"variants\":2",
+            "\"variants\":1000000000000000000",
+            "header variants is 1000000000000000000, expected 2",
+        ),
+        ("\"variants\":2", "\"variants\":1e18", "not a study header"),
+        (
+            "\"chain\":4",
+            "\"chain\":1000000000000000000",
+            "header chain is 1000000000000000000",
+        ),
+    ] {
+        assert!(text.contains(from), "{text}");
+        let bad = dir.path().join("bad.jsonl");
+        fs::write(&bad, text.replacen(from, to, 1)).unwrap();
+        let t = Instant::now();
+        let o = run(&["study", p(&f), "--out", p(&bad), "--resume", "--no-caution"]);
+        assert_eq!(code(&o), BAD_INPUT, "{to}: {}", stderr(&o));
+        assert!(stderr(&o).contains(says), "{to}: {}", stderr(&o));
+        // measured 0.01 s; 20 s only guards a hang
+        assert!(t.elapsed() < Duration::from_secs(20));
+    }
+}
+
+/// The 13.56 MHz demo with a 1 kΩ load: shooting converges to an orbit that
+/// is not stable (method=settle never settles), and the stage was reported
+/// at 5.23 W. Its largest Floquet multiplier (1.07+0.33j, |μ| 1.12) refuses
+/// it: a solver failure (exit 3) with the reason, no figure printed.
+#[test]
+fn an_unstable_orbit_is_a_solver_failure_not_a_figure() {
+    let o = run(&[
+        "run",
+        p(&data("hostile/classc_1k_load.tank")),
+        "--no-caution",
+    ]);
+    let (out, err) = (stdout(&o), stderr(&o));
+    assert_eq!(code(&o), 3, "{out}{err}");
+    assert!(err.contains("Floquet multiplier"), "{err}");
+    assert!(err.contains("is not stable"), "{err}");
+    assert!(!out.contains("output power"), "{out}");
+    // the same file with the 50 Ω load it was designed for is accepted and
+    // shows its largest multiplier
+    let models = crate::harness::root().join("netlists/models");
+    let good = fs::read_to_string(data("hostile/classc_1k_load.tank"))
+        .unwrap()
+        .replace("1kOhm", "50Ohm")
+        .replace("../../../netlists/models", p(&models));
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join("classc_50_load.tank");
+    fs::write(&f, good).unwrap();
+    let o = run(&["run", p(&f), "--no-caution", "--include-root", p(&models)]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    assert!(
+        stdout(&o).contains("largest Floquet multiplier |μ| 0."),
+        "{}",
+        stdout(&o)
+    );
+}
+
+#[test]
+fn a_mask_error_is_reported_once() {
+    // the mask's rule is wrong and a requirement names the mask: one error
+    // (the requirement does not report the broken mask again)
+    let (_d, f) =
+        stage_with("mask m1 {\n  harmonics from 2 below 40V\n}\nrequire harmonics <= m1\n");
+    let e = lint_refuses(
+        &f,
+        &["stage.tank:7:26", "below needs dB, got V", "1 error(s)"],
+    );
+    assert_eq!(e.matches("below needs dB").count(), 1, "{e}");
+}
+
+#[test]
+fn check_json_and_junit_carry_the_diagnostics() {
+    let (dir, f) = stage_with("resistor r9 b gnd 5F\n");
+    let o = run(&["check", p(&f), "--format", "json", "--no-caution"]);
+    assert_eq!(code(&o), BAD_INPUT);
+    let doc: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let d = &doc["files"][0]["diagnostics"][0];
+    assert_eq!(d["code"], "unit-mismatch", "{doc}");
+    assert_eq!(
+        (d["line"].as_u64(), d["column"].as_u64()),
+        (Some(6), Some(19)),
+        "{doc}"
+    );
+    assert_eq!(d["severity"], "error");
+    let junit = dir.path().join("junit.xml");
+    let o = run(&["check", p(&f), "--junit", p(&junit), "--no-caution"]);
+    assert_eq!(code(&o), BAD_INPUT);
+    let xml = fs::read_to_string(&junit).unwrap();
+    assert!(
+        xml.contains(":6:19: error[unit-mismatch]: resistor value needs Ohm, got F"),
+        "{xml}"
+    );
+}
+
+#[test]
+fn a_lone_carriage_return_ends_a_line() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join("cr.tank");
+    fs::write(
+        &f,
+        "voltage v1 a gnd dc=1V\rresistor r1 a gnd 5F\rresistor r2 a gnd 50Ohm\r",
+    )
+    .unwrap();
+    let o = run(&["lint", p(&f)]);
+    assert_eq!(code(&o), BAD_INPUT);
+    // the bad value is on line 2, column 19, not "line 1, column 42"
+    assert!(stderr(&o).contains("cr.tank:2:19"), "{}", stderr(&o));
+    assert!(stderr(&o).contains("1 error(s)"), "{}", stderr(&o));
+}
+
+#[test]
+fn a_tolerance_without_montecarlo_is_warned() {
+    let (_d, f) = stage_with("tolerance r1 5%\n");
+    let o = run(&["lint", p(&f)]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let all = format!("{}{}", stdout(&o), stderr(&o));
+    assert!(all.contains("tolerance-unused"), "{all}");
+    assert!(all.contains("stage.tank:6:1"), "{all}");
+    let (_d, f) = stage_with("tolerance r1 5%\nmontecarlo runs=2\n");
+    let o = run(&["lint", p(&f)]);
+    assert!(!format!("{}{}", stdout(&o), stderr(&o)).contains("tolerance-unused"));
+}
+
+#[test]
+fn a_record_repeated_in_a_records_file_is_counted_once_on_resume() {
+    let (dir, f) = stage_with("let r = 50Ohm\nvary r [50Ohm, 100Ohm]\n");
+    let rec = dir.path().join("rec.jsonl");
+    run(&["study", p(&f), "--out", p(&rec), "--no-caution"]);
+    let text = fs::read_to_string(&rec).unwrap();
+    let lines: Vec<&str> = text.lines().collect();
+    assert_eq!(lines.len(), 3, "{text}");
+    // header, variant 0 twice, variant 1 missing
+    fs::write(&rec, format!("{}\n{}\n{}\n", lines[0], lines[1], lines[1])).unwrap();
+    let o = run(&["study", p(&f), "--out", p(&rec), "--resume", "--no-caution"]);
+    let all = format!("{}{}", stdout(&o), stderr(&o));
+    assert!(
+        all.contains("1 variants run") && all.contains("1 already recorded"),
+        "{all}"
+    );
+    // the summary covers the study's 2 variants, not 3 records
+    assert!(all.contains("\n2 variants,"), "{all}");
+}

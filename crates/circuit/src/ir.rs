@@ -907,6 +907,10 @@ pub struct Overrides {
     pub element_values: BTreeMap<String, f64>,
     /// Element main-value multipliers (by element name), applied after replacements.
     pub element_factors: BTreeMap<String, f64>,
+    /// The SI unit symbol written with a parameter value given from outside
+    /// (`--set rl=5nF` gives `rl` → `F`; see [`crate::param_units::si_symbol`]),
+    /// checked against the unit the stage file gives that parameter.
+    pub param_units: BTreeMap<String, String>,
 }
 
 impl Circuit {

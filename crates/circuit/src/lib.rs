@@ -15,6 +15,7 @@
 //! ```
 #![deny(missing_docs)]
 
+pub mod bounds;
 pub mod builtin;
 pub mod elaborate;
 pub mod ir;

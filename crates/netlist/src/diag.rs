@@ -148,6 +148,14 @@ pub const CODES: &[(&str, &str)] = &[
     ),
     ("param-cycle", "parameters defined in terms of each other"),
     (
+        "param-chain",
+        "a parameter defined through a chain of more than 1000 others (docs/security.md)",
+    ),
+    (
+        "too-large",
+        "a count or size beyond the limits of docs/security.md (harmonics, steps, points, elements, estimated memory)",
+    ),
+    (
         "eval-error",
         "an expression divides by zero or gives a non-finite number",
     ),
@@ -206,6 +214,10 @@ pub const CODES: &[(&str, &str)] = &[
     (
         "current-cutset",
         "current sources (and capacitors) alone connect a part of the circuit",
+    ),
+    (
+        "tolerance-unused",
+        "warning: a `tolerance` in a file without `montecarlo` (tolerances apply only to Monte Carlo samples)",
     ),
     (
         "dangling-node",

@@ -23,8 +23,12 @@ pub struct Limits {
     /// Most diagnostics drawn on the terminal per file; the rest are
     /// summarised as "and N more".
     pub max_diagnostics_shown: usize,
-    /// Deepest nesting of brackets, unary operators and calls in one expression.
+    /// Deepest nesting in one expression, in parser levels: a bracket (or a
+    /// call's argument) counts two levels, a sign or a power one.
     pub max_expression_depth: usize,
+    /// Most operands in one expression (operators, powers and call arguments
+    /// each add one); a longer expression's tree would be as deep as it is long.
+    pub max_expression_terms: usize,
     /// Longest chain of parameters defined through each other.
     pub max_parameter_chain: usize,
     /// Most points of one AC sweep.
@@ -35,9 +39,12 @@ pub struct Limits {
     pub max_harmonics: f64,
     /// Most time steps per period of a steady-state analysis.
     pub max_steps_per_period: f64,
-    /// Most elements in one circuit (a stand-in for the memory a solve needs:
-    /// the dense Jacobians grow with the square of the unknowns).
+    /// Most elements in one circuit.
     pub max_elements: usize,
+    /// Most memory, in bytes, one analysis may be estimated to need (the
+    /// dense matrices grow with the square of the unknowns; see
+    /// `tankwave_circuit::bounds` for the estimate).
+    pub max_analysis_bytes: f64,
     /// Most worker threads per available core (`--threads` above this many
     /// times the cores is refused).
     pub max_threads_per_core: usize,
@@ -52,13 +59,15 @@ pub const LIMITS: Limits = Limits {
     max_includes: 256,
     max_diagnostics_collected: 1000,
     max_diagnostics_shown: 100,
-    max_expression_depth: 64,
+    max_expression_depth: 128,
+    max_expression_terms: 1000,
     max_parameter_chain: 1000,
     max_ac_points: 100_000.0,
     max_transient_steps: 10_000_000.0,
     max_harmonics: 256.0,
     max_steps_per_period: 65_536.0,
     max_elements: 20_000,
+    max_analysis_bytes: 2.0 * (1u64 << 30) as f64,
     max_threads_per_core: 4,
     snippet_chars: 120,
 };

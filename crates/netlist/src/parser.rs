@@ -31,10 +31,13 @@ struct Parser<'a> {
     map: &'a SourceMap,
     diags: &'a mut Vec<Diagnostic>,
     depth: usize,
+    /// Operands read so far in the expression being parsed (reset at its start).
+    terms: usize,
 }
 
-/// Deepest nesting of expressions and limits (guards the stack on hostile input).
-pub const MAX_NESTING: usize = 200;
+/// Deepest nesting of expressions and limits in parser levels (guards the
+/// stack on hostile input); see [`crate::LIMITS`]`.max_expression_depth`.
+pub const MAX_NESTING: usize = crate::LIMITS.max_expression_depth;
 
 type P<T> = Result<T, ()>;
 
@@ -51,6 +54,7 @@ pub fn parse_tokens(toks: &[Token], map: &SourceMap, diags: &mut Vec<Diagnostic>
         map,
         diags,
         depth: 0,
+        terms: 0,
     };
     let mut items = Vec::new();
     loop {
@@ -531,9 +535,31 @@ impl<'a> Parser<'a> {
 
     fn enter(&mut self) -> P<()> {
         self.depth += 1;
+        if self.depth == 1 {
+            self.terms = 0;
+        }
         if self.depth > MAX_NESTING {
             let sp = self.tok().span;
-            self.err(sp, format!("nested more than {MAX_NESTING} deep"));
+            self.err(
+                sp,
+                format!(
+                    "expression nested more than {MAX_NESTING} levels deep \
+                     (a bracket counts two levels, a sign or power one)"
+                ),
+            );
+            return Err(());
+        }
+        Ok(())
+    }
+
+    /// Count one more operand of the expression being parsed; refuse an
+    /// expression longer than [`crate::LIMITS`]`.max_expression_terms` (its
+    /// tree would be as deep as it is long).
+    fn term_read(&mut self, at: Span) -> P<()> {
+        self.terms += 1;
+        let max = crate::LIMITS.max_expression_terms;
+        if self.terms > max {
+            self.err(at, format!("expression longer than {max} terms"));
             return Err(());
         }
         Ok(())
@@ -554,6 +580,8 @@ impl<'a> Parser<'a> {
                 TokKind::Minus => BinOp::Sub,
                 _ => return Ok(lhs),
             };
+            let at = self.tok().span;
+            self.term_read(at)?;
             self.pos += 1;
             let rhs = self.term()?;
             let span = lhs.span.to(rhs.span);
@@ -573,6 +601,8 @@ impl<'a> Parser<'a> {
                 TokKind::Slash => BinOp::Div,
                 _ => return Ok(lhs),
             };
+            let at = self.tok().span;
+            self.term_read(at)?;
             self.pos += 1;
             let rhs = self.unary()?;
             let span = lhs.span.to(rhs.span);
@@ -616,6 +646,10 @@ impl<'a> Parser<'a> {
             });
         }
         let base = self.atom()?;
+        if matches!(self.peek(), TokKind::Caret) {
+            let at = self.tok().span;
+            self.term_read(at)?;
+        }
         if self.eat(&TokKind::Caret) {
             let exp = self.unary()?;
             let span = base.span.to(exp.span);
@@ -655,6 +689,8 @@ impl<'a> Parser<'a> {
                     let mut args = Vec::new();
                     if !self.eat(&TokKind::RParen) {
                         loop {
+                            let at = self.tok().span;
+                            self.term_read(at)?;
                             args.push(self.expr()?);
                             if self.eat(&TokKind::Comma) {
                                 continue;
@@ -1012,6 +1048,7 @@ pub fn value_at(toks: &[Token], pos: usize, map: &SourceMap) -> Option<(Span, us
         map,
         diags: &mut diags,
         depth: 0,
+        terms: 0,
     };
     let e = p.value().ok()?;
     Some((e.span, p.pos))

@@ -69,13 +69,27 @@ impl SourceMap {
         SourceMap::default()
     }
 
-    /// Add a file and return its id.
+    /// Add a file and return its id. A lone carriage return (one not
+    /// followed by a line feed, the old Macintosh line end) is stored as a
+    /// line feed, so that lines are counted alike by the lexer, by the
+    /// places of diagnostics and by the drawing of source lines; the text
+    /// keeps its length, so every byte offset stays valid.
     pub fn add(
         &mut self,
         name: &str,
-        text: String,
+        mut text: String,
         included_from: Option<(FileId, u32)>,
     ) -> FileId {
+        if text.contains('\r') {
+            let mut bytes = text.into_bytes();
+            for i in 0..bytes.len() {
+                if bytes[i] == b'\r' && bytes.get(i + 1) != Some(&b'\n') {
+                    bytes[i] = b'\n';
+                }
+            }
+            // Replacing one ASCII byte by another keeps the text UTF-8.
+            text = String::from_utf8(bytes).unwrap_or_default();
+        }
         let mut line_starts = vec![0u32];
         for (i, b) in text.bytes().enumerate() {
             if b == b'\n' {

@@ -19,7 +19,37 @@ pub enum FileOutcome {
         code: i32,
         /// What went wrong.
         message: String,
+        /// The problems found in the file (bad input), in file order.
+        problems: Vec<Problem>,
     },
+}
+
+/// One problem found in a stage file, as the outputs carry it.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Problem {
+    /// File name.
+    pub file: String,
+    /// Line (1-based; 0 when the problem has no place).
+    pub line: u32,
+    /// Column in characters (1-based; 0 when none).
+    pub column: u32,
+    /// `error` or `warning`.
+    pub severity: String,
+    /// The diagnostic code (docs/language.md).
+    pub code: String,
+    /// The message.
+    pub message: String,
+}
+
+impl Problem {
+    /// `file:line:column: severity[code]: message`, control characters escaped.
+    pub fn line_text(&self) -> String {
+        tankwave_circuit::escape::escape(&format!(
+            "{}:{}:{}: {}[{}]: {}",
+            self.file, self.line, self.column, self.severity, self.code, self.message
+        ))
+        .into_owned()
+    }
 }
 
 /// One checked file: its name as given and its outcome.
@@ -49,7 +79,7 @@ pub fn check_text(files: &[FileCheck]) -> String {
                     v.len()
                 ));
             }
-            FileOutcome::Error { code, message } => {
+            FileOutcome::Error { code, message, .. } => {
                 s.push_str(&format!("{}\nERROR (exit {code}): {message}\n\n", f.file));
             }
         }
@@ -68,8 +98,13 @@ pub fn check_json(tool: &str, files: &[FileCheck]) -> Value {
                 "pass": v.iter().all(|x| x.pass),
                 "verdicts": serde_json::to_value(v).unwrap_or(Value::Null),
             }),
-            FileOutcome::Error { code, message } => json!({
+            FileOutcome::Error {
+                code,
+                message,
+                problems,
+            } => json!({
                 "file": f.file, "pass": false, "error": message, "exit_code": code,
+                "diagnostics": serde_json::to_value(problems).unwrap_or(Value::Null),
             }),
         })
         .collect();
@@ -156,10 +191,19 @@ pub fn junit_xml(files: &[FileCheck]) -> String {
                 }
                 s.push_str("  </testsuite>\n");
             }
-            FileOutcome::Error { code, message } => {
+            FileOutcome::Error {
+                code,
+                message,
+                problems,
+            } => {
+                let mut body = format!("exit code {code}");
+                for p in problems {
+                    body.push('\n');
+                    body.push_str(&p.line_text());
+                }
                 s.push_str(&format!(
-                    "  <testsuite name=\"{}\" tests=\"1\" failures=\"0\" errors=\"1\">\n    <testcase classname=\"{}\" name=\"solve\">\n      <error message=\"{}\">exit code {code}</error>\n    </testcase>\n  </testsuite>\n",
-                    esc(name), esc(name), esc(message)
+                    "  <testsuite name=\"{}\" tests=\"1\" failures=\"0\" errors=\"1\">\n    <testcase classname=\"{}\" name=\"solve\">\n      <error message=\"{}\">{}</error>\n    </testcase>\n  </testsuite>\n",
+                    esc(name), esc(name), esc(message), esc(&body)
                 ));
             }
         }
@@ -206,6 +250,7 @@ mod tests {
                 outcome: FileOutcome::Error {
                     code: 3,
                     message: "singular \"matrix\"".into(),
+                    problems: Vec::new(),
                 },
             },
         ]

@@ -260,7 +260,8 @@ pub fn steady_text(
     let mut s = String::new();
     let info = &sol.info;
     s.push_str(&format!(
-        "Steady state at {} by {}{}: {} {}, relative residual {:.1e} (tolerance {:.0e}), {} harmonics\n",
+        "Steady state at {} by {}{}: {} {}, relative residual {:.1e} (tolerance {:.0e}), {} harmonics{}
+",
         si(sol.freq, "Hz"),
         method_name(info.method),
         match info.fell_back_from {
@@ -275,7 +276,11 @@ pub fn steady_text(
         },
         info.residual,
         info.tolerance,
-        sol.harmonics
+        sol.harmonics,
+        match &info.floquet {
+            Some(f) => format!(", largest Floquet multiplier |μ| {:.4}", f.largest),
+            None => String::new(),
+        }
     ));
     if verbose {
         s.push_str(&format!(
@@ -569,6 +574,12 @@ pub fn steady_json(sol: &PeriodicSolution, m: &Metrics) -> Value {
         "residual": clean(sol.info.residual),
         "tolerance": clean(sol.info.tolerance),
         "system_size": sol.info.system_size,
+        "floquet": sol.info.floquet.as_ref().map(|f| json!({
+            "largest_magnitude": clean(f.largest),
+            "margin": clean(f.margin),
+            "multipliers": f.multipliers.iter().map(|(re, im)| json!([clean(*re), clean(*im)])).collect::<Vec<_>>(),
+            "repeat_change_tolerance_units": clean(f.repeat_change),
+        })),
         "shooting": sol.info.shooting.map(|sh| json!({
             "coarse_steps": sh.coarse_steps,
             "coarse_periods": sh.coarse_periods,

@@ -67,12 +67,14 @@ pub enum SolveError {
         when: When,
     },
     /// The Jacobian has no usable pivot.
-    #[error("{analysis}: singular matrix{when}: no pivot for {unknown} (a floating node or a loop of voltage sources and inductors?)")]
+    #[error("{analysis}: singular matrix{when}: no pivot for {unknown}: {cause}")]
     Singular {
         /// Which analysis failed.
         analysis: String,
         /// Name of the unknown whose column has no pivot.
         unknown: String,
+        /// What the numbers point to ([`crate::singular`]).
+        cause: String,
         /// Simulation time, if any.
         when: When,
     },
@@ -124,6 +126,15 @@ pub enum SolveError {
         /// That change against the unknown's peak-to-peak range plus peak
         /// over the last period.
         relative_change: f64,
+    },
+    /// A steady state that Newton found but that is not a stable periodic
+    /// orbit (see [`crate::floquet`]): never reported as a result.
+    #[error("{analysis}: no verified periodic state: {reason}; method=settle shows what the stage does instead")]
+    NotPeriodic {
+        /// The method that found the orbit.
+        analysis: String,
+        /// Why it was refused, with the numbers.
+        reason: String,
     },
     /// Invalid analysis parameters.
     #[error("invalid analysis parameters: {0}")]

@@ -46,6 +46,8 @@ pub mod linalg;
 mod newton;
 pub mod op;
 pub mod periodic;
+pub use periodic::floquet;
+pub mod singular;
 mod spectral;
 pub mod transient;
 

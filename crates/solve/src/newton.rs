@@ -82,8 +82,9 @@ pub(crate) enum Failure {
         /// from stopping (an update still too large, or a limited junction).
         stalled: Option<Stall>,
     },
-    /// No pivot for this unknown.
-    Singular(usize),
+    /// No pivot for this unknown, and what the numbers point to
+    /// ([`crate::singular`]; `None` when the matrix was not kept).
+    Singular(usize, Option<String>),
     /// A non-finite value in this unknown.
     NonFinite(usize),
 }
@@ -214,7 +215,9 @@ pub(crate) fn solve(
         if it == sys.max_iter {
             break;
         }
-        ws.lu.factor(&ws.jac).map_err(Failure::Singular)?;
+        ws.lu.factor(&ws.jac).map_err(|k| {
+            Failure::Singular(k, Some(crate::singular::cause(&ws.jac, n, k, sys.devices)))
+        })?;
         for r in 0..n {
             ws.dx[r] = -ws.f[r];
         }
@@ -301,9 +304,10 @@ pub(crate) fn to_error(
             },
             when,
         },
-        Failure::Singular(k) => crate::SolveError::Singular {
+        Failure::Singular(k, cause) => crate::SolveError::Singular {
             analysis: analysis.to_string(),
             unknown: name(k),
+            cause: cause.unwrap_or_else(|| crate::singular::guess(devices, k)),
             when,
         },
         Failure::NonFinite(k) => crate::SolveError::NonFinite {

@@ -411,7 +411,7 @@ impl<'a> Stepper<'a> {
                         .as_ref()
                         .map(|p| (&p.0, &p.1, p.2))
                         .ok_or(StepFail {
-                            failure: Failure::Singular(0),
+                            failure: Failure::Singular(0, None),
                             time: t1,
                         })?;
                 let (a0, a1, a2) = bdf2_coefficients(h, h0);
@@ -636,7 +636,7 @@ pub fn transient(
                 if h < hmin {
                     let worst = match &f.failure {
                         Failure::NoConvergence { worst, .. } => *worst,
-                        Failure::Singular(k) | Failure::NonFinite(k) => *k,
+                        Failure::Singular(k, _) | Failure::NonFinite(k) => *k,
                     };
                     return Err(SolveError::StepTooSmall {
                         time: st.t,

@@ -475,11 +475,12 @@ impl RecordSink for MemorySink {
     }
 }
 
-/// The set of variant indices already recorded (one bit per variant).
+/// The set of variant indices already recorded. Kept sparse (memory grows
+/// with the records read, not with the indices they name), so that a record
+/// file naming variant 10^18 costs one entry, not 10^18 bits.
 #[derive(Debug, Clone, Default, PartialEq, Eq)]
 pub struct DoneSet {
-    bits: Vec<u64>,
-    count: u64,
+    indices: std::collections::BTreeSet<u64>,
 }
 
 impl DoneSet {
@@ -489,33 +490,19 @@ impl DoneSet {
     }
     /// Mark `index` done; returns false if it already was.
     pub fn insert(&mut self, index: u64) -> bool {
-        let (w, b) = ((index / 64) as usize, index % 64);
-        if self.bits.len() <= w {
-            self.bits.resize(w + 1, 0);
-        }
-        let Some(word) = self.bits.get_mut(w) else {
-            return false;
-        };
-        let fresh = *word & (1 << b) == 0;
-        *word |= 1 << b;
-        if fresh {
-            self.count += 1;
-        }
-        fresh
+        self.indices.insert(index)
     }
     /// Is `index` done?
     pub fn contains(&self, index: u64) -> bool {
-        self.bits
-            .get((index / 64) as usize)
-            .is_some_and(|w| w & (1 << (index % 64)) != 0)
+        self.indices.contains(&index)
     }
     /// Number of indices done.
     pub fn len(&self) -> u64 {
-        self.count
+        self.indices.len() as u64
     }
     /// True if nothing is done.
     pub fn is_empty(&self) -> bool {
-        self.count == 0
+        self.indices.is_empty()
     }
 }
 
@@ -671,7 +658,8 @@ pub fn resume(
 }
 
 /// [`resume`], and hand every complete record already in the file to
-/// `replay` as it is read (in file order), so that a summary of the
+/// `replay` as it is read (in file order; a variant recorded more than once
+/// only the first time), so that a summary of the
 /// continued run covers the whole study: the records of earlier runs, or of
 /// merged shards, and the ones about to be added.
 pub fn resume_replaying(
@@ -701,8 +689,11 @@ pub fn resume_replaying(
                 expected.check(h, &name, true)?;
             }
             while let Some(rec) = r.next_record()? {
-                replay.record(&rec)?;
-                done.insert(rec.index);
+                // A variant recorded twice (a file appended to by hand, or
+                // two runs racing) is counted and summarised once.
+                if done.insert(rec.index) {
+                    replay.record(&rec)?;
+                }
             }
             (r.good_len(), false)
         }

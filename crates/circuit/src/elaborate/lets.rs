@@ -33,9 +33,14 @@ impl<'a> Cx<'a> {
 
     /// Evaluate every parameter (reports cycles and bad expressions even if unused).
     pub(super) fn evaluate_params(&mut self, c: &mut Circuit) {
-        let mut names: Vec<&'a str> = self.lets.keys().copied().collect();
-        names.sort_by_key(|n| self.lets.get(n).map(|(i, _)| (i.span.file, i.span.start)));
-        for n in &names {
+        // In dependency order, so that no evaluation recurses through a chain.
+        let plan =
+            crate::bounds::param_order(&self.lets, |n| self.ov.params.contains_key(n), self.map);
+        self.diags.extend(plan.diags);
+        for n in &plan.failed {
+            self.pstate.insert(n, PState::Failed);
+        }
+        for n in &plan.order {
             if let Ok(Some(v)) = self.param(n) {
                 c.params.insert(n.to_string(), v);
             }

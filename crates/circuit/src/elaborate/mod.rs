@@ -78,6 +78,12 @@ pub fn elaborate(parsed: &Parsed, overrides: &Overrides) -> Result<Elaborated, V
     cx.diags.extend(parsed.diagnostics.iter().cloned());
     let mut circuit = cx.run();
     circuit.param_units = crate::param_units::collect(parsed);
+    cx.diags
+        .extend(crate::bounds::unused_tolerances(parsed, &circuit));
+    cx.diags.extend(crate::bounds::override_units(
+        &circuit.param_units,
+        overrides,
+    ));
     let mut diags = cx.diags;
     diags.sort_by_key(|d| d.span.map(|s| (s.file, s.start)).unwrap_or((0, 0)));
     if diags.iter().any(|d| d.is_error()) {
@@ -121,6 +127,8 @@ pub(crate) struct Cx<'a> {
     nodes: HashMap<String, usize>,
     node_names: Vec<String>,
     pub(crate) elem_spans: Vec<Span>,
+    /// Spans of the analyses kept (for the size estimate of `bounds::size`).
+    analysis_spans: Vec<Span>,
 }
 
 impl<'a> Cx<'a> {
@@ -140,6 +148,7 @@ impl<'a> Cx<'a> {
             nodes: HashMap::new(),
             node_names: Vec::new(),
             elem_spans: Vec::new(),
+            analysis_spans: Vec::new(),
         }
     }
 
@@ -211,6 +220,8 @@ impl<'a> Cx<'a> {
         self.singletons(stmts, &mut c);
         let all_elems_ok = self.elements(&mut c, &model_kinds, model_ok);
         c.nodes = std::mem::take(&mut self.node_names);
+        let too_large = crate::bounds::size(self.map, &c, &self.elem_spans, &self.analysis_spans);
+        self.diags.extend(too_large);
         self.ports(stmts, &mut c);
         let mask_ids = self.masks(stmts, &mut c);
         self.requirements_and_studies(stmts, &mask_ids, &mut c);
@@ -340,7 +351,12 @@ impl<'a> Cx<'a> {
                 }
                 Stmt::Analyze { kind, options } => {
                     if let Some(a) = self.analysis(kind, options) {
-                        c.analyses.push(a);
+                        let too_large = crate::bounds::analysis(self.map, kind, options, &a);
+                        if too_large.is_empty() {
+                            c.analyses.push(a);
+                            self.analysis_spans.push(kind.span);
+                        }
+                        self.diags.extend(too_large);
                     }
                 }
                 _ => {}

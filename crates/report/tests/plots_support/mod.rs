@@ -109,6 +109,7 @@ pub fn class_c_stage(theta_deg: f64) -> (Circuit, PeriodicSolution) {
             system_size: 40,
             balance: None,
             shooting: None,
+            floquet: None,
         },
     };
     (circuit(), sol)

@@ -1353,6 +1353,12 @@ impl<'a> Problem<'a> {
                 SolveError::Singular {
                     analysis,
                     unknown: format!("{} at harmonic {k}{part}", name(a)),
+                    cause: self
+                        .red
+                        .ports
+                        .get(a)
+                        .map(|&u| crate::singular::guess(self.devices, u))
+                        .unwrap_or_default(),
                     when: When(None),
                 }
             }
@@ -1423,6 +1429,10 @@ fn solve_k(
                     .and_then(|c| devices.names.get(c))
                     .cloned()
                     .unwrap_or_else(|| "a non-finite entry".into()),
+                cause: f
+                    .column
+                    .map(|c| crate::singular::guess(devices, c))
+                    .unwrap_or_else(|| "a non-finite value in the linear network".into()),
                 when: When(None),
             },
             0,
@@ -1697,6 +1707,7 @@ fn finish(
                 truncation: sol.truncation,
             }),
             shooting: None,
+            floquet: None,
         },
     })
 }

@@ -16,6 +16,7 @@
 //!   (imports `sample`).
 
 pub mod balance;
+pub mod floquet;
 pub mod sample;
 pub mod settle;
 pub mod shooting;
@@ -99,6 +100,9 @@ pub struct SteadyInfo {
     pub balance: Option<BalanceInfo>,
     /// Shooting details (periods per grid, monodromy matrices); `None` for other methods.
     pub shooting: Option<ShootingInfo>,
+    /// The Floquet multipliers that verified the orbit ([`floquet`]);
+    /// `None` only before verification.
+    pub floquet: Option<floquet::FloquetInfo>,
 }
 
 /// How a shooting solve went, grid by grid.
@@ -273,19 +277,21 @@ pub fn steady(
     params: &SteadyParams,
 ) -> Result<PeriodicSolution, SolveError> {
     params.check()?;
+    // Every orbit is verified before it is accepted (floquet).
+    let verify = |s| floquet::verify(circuit, devices, params, s);
     match params.method {
-        SteadyMethod::Shooting => shooting(circuit, devices, params),
-        SteadyMethod::Settle => settle(circuit, devices, params),
-        SteadyMethod::Balance => balance(circuit, devices, params),
+        SteadyMethod::Shooting => shooting(circuit, devices, params).and_then(verify),
+        SteadyMethod::Settle => settle(circuit, devices, params).and_then(verify),
+        SteadyMethod::Balance => balance(circuit, devices, params).and_then(verify),
         SteadyMethod::Auto => {
             // Shooting first: on the demo stages it is several times faster
             // than harmonic balance with its automatic raise of K (measured in
             // benches/stages.rs), and both agree within the acceptance figures
             // (tests/it/agreement.rs). Balance is the fallback; when both fail
             // the error names both.
-            match shooting(circuit, devices, params) {
+            match shooting(circuit, devices, params).and_then(verify) {
                 Ok(s) => Ok(s),
-                Err(first) => match balance(circuit, devices, params) {
+                Err(first) => match balance(circuit, devices, params).and_then(verify) {
                     Ok(mut s) => {
                         s.info.fell_back_from = Some(SteadyMethod::Shooting);
                         Ok(s)

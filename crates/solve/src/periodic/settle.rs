@@ -57,6 +57,7 @@ pub fn settle(
                     system_size: 0,
                     balance: None,
                     shooting: None,
+                    floquet: None,
                 };
                 return trbdf2_solution(circuit, devices, params, cur, &stage, info);
             }

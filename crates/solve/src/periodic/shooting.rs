@@ -201,6 +201,9 @@ fn factor_monodromy(
     lu.factor(&jm).map_err(|k| SolveError::Singular {
         analysis: "shooting (monodromy − I)".into(),
         unknown: devices.names.get(k).cloned().unwrap_or_default(),
+        cause: "a Floquet multiplier equal to 1: the periodic state is not isolated (a level \
+                nothing fixes over a period)"
+            .into(),
         when: crate::error::When(Some(t0)),
     })?;
     Ok(lu)
@@ -380,6 +383,7 @@ pub fn shooting(
                         system_size: n,
                         balance: None,
                         shooting: Some(report),
+                        floquet: None,
                     };
                     return trbdf2_solution(
                         circuit,
@@ -413,9 +417,11 @@ pub fn shooting(
 /// Factor the Jacobian the last Newton solve left in the workspace (at its converged point).
 fn factor(st: &mut Stepper<'_>, devices: &DeviceSet, t: f64) -> Result<(), SolveError> {
     let Stepper { ws, .. } = st;
+    let n = devices.n_unknowns;
     ws.lu.factor(&ws.jac).map_err(|k| SolveError::Singular {
         analysis: "shooting".into(),
         unknown: devices.names.get(k).cloned().unwrap_or_default(),
+        cause: crate::singular::cause(&ws.jac, n, k, devices),
         when: crate::error::When(Some(t)),
     })
 }
