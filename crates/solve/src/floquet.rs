@@ -9,7 +9,7 @@
 //! 1. **Multipliers.** One period is integrated from the solution's state at
 //!    the start of a period with the sensitivity (monodromy) matrix
 //!    `Φ = ∂x(T)/∂x(0)`, exactly as shooting carries it
-//!    ([`crate::shooting`]: the same TR-BDF2 steps, `N` per period). The
+//!    ([`mod@crate::shooting`]: the same TR-BDF2 steps, `N` per period). The
 //!    eigenvalues `μ` of `Φ` are the Floquet multipliers of the orbit as the
 //!    integrator sees it (G. Floquet 1883; for circuits, Aprille and Trick
 //!    1972, who introduced shooting with `Φ`). A perturbation of the orbit
@@ -72,7 +72,7 @@ pub struct FloquetInfo {
 
 /// TR-BDF2's amplification factor `R(z)` for `y' = λy`, `z = λh`: a
 /// trapezoidal stage over `γh`, then a BDF2 stage through `0, γh, h` (the
-/// coefficients of [`crate::transient`]).
+/// coefficients of [`mod@crate::transient`]).
 pub fn amplification(z: Complex64) -> Complex64 {
     let one = Complex64::new(1.0, 0.0);
     let r1 = (one + z * (GAMMA / 2.0)) / (one - z * (GAMMA / 2.0));
