@@ -37,7 +37,7 @@ fuzz_target!(|data: &[u8]| {
         assert!(op.info.residual.is_finite());
         for d in &op.devices {
             for (name, v) in &d.figures {
-                assert!(v.is_finite(), "non-finite device figure {name} of {}", d.name);
+                assert!(v.is_finite(), "non-finite device figure {name:?} of {}", d.name);
             }
         }
     }
@@ -47,7 +47,7 @@ fuzz_target!(|data: &[u8]| {
 
     for a in &circuit.analyses {
         match a {
-            Analysis::Op => {}
+            Analysis::Bias => {}
             Analysis::Transient { .. } => {
                 let Some(mut p) = TransientParams::from_analysis(a) else {
                     continue;
