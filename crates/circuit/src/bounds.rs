@@ -3,17 +3,17 @@
 //! Every size a stage file chooses is compared with
 //! [`tankwave_netlist::LIMITS`] here, so that `lint` already refuses it with
 //! file:line:column (exit 2) instead of a solver running out of memory or time
-//! (docs/security.md lists the values). Three checks live here:
+//! (docs/security.md lists the values). The checks here:
 //!
-//! * [`param_order`]: the order in which the `let` parameters are evaluated,
+//! * `param_order`: the order in which the `let` parameters are evaluated,
 //!   found without recursion (Kahn's topological sort), so that evaluating a
 //!   parameter never recurses through a chain of others; chains longer than
 //!   `max_parameter_chain` and cycles are reported.
-//! * [`analysis`]: the counts an analysis asks for (AC points, transient
+//! * `analysis`: the counts an analysis asks for (AC points, transient
 //!   steps, harmonics, steps per period).
-//! * [`size`]: the number of elements, and an estimate of the memory each
+//! * `size`: the number of elements, and an estimate of the memory each
 //!   analysis needs from the number of unknowns ([`unknowns`]).
-//! * [`override_units`]: a value set from outside (`--set`) carries the unit
+//! * `override_units`: a value set from outside (`--set`) carries the unit
 //!   the stage file gives that parameter, as a value in the file must.
 
 use crate::ir::{Analysis, Circuit, ElementKind, Overrides};

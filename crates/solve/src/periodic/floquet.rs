@@ -72,7 +72,7 @@ pub struct FloquetInfo {
 
 /// TR-BDF2's amplification factor `R(z)` for `y' = λy`, `z = λh`: a
 /// trapezoidal stage over `γh`, then a BDF2 stage through `0, γh, h` (the
-/// coefficients of [`crate::transient`]).
+/// coefficients of [`mod@crate::transient`]).
 pub fn amplification(z: Complex64) -> Complex64 {
     let one = Complex64::new(1.0, 0.0);
     let r1 = (one + z * (GAMMA / 2.0)) / (one - z * (GAMMA / 2.0));
@@ -108,6 +108,33 @@ pub fn multipliers(phi: &Mat<f64>) -> Result<Vec<Complex64>, String> {
         .collect();
     mu.sort_by(|a, b| b.norm().total_cmp(&a.norm()));
     Ok(mu)
+}
+
+/// The unknowns that carry most of the (real) mode of multiplier `m`,
+/// largest share first: the right singular vector of `Φ − Re(m)·I` for its
+/// smallest singular value. Empty for a complex `m` or when the SVD fails.
+fn mode_unknowns(phi: &Mat<f64>, m: Complex64) -> Vec<usize> {
+    let n = phi.nrows();
+    if n == 0 || m.im.abs() > 1e-9 * m.norm().max(1.0) {
+        return Vec::new();
+    }
+    let a = nalgebra::DMatrix::<f64>::from_fn(n, n, |r, c| {
+        phi[(r, c)] - if r == c { m.re } else { 0.0 }
+    });
+    let Some(svd) = nalgebra::linalg::SVD::try_new(a, false, true, f64::EPSILON, 200 * n) else {
+        return Vec::new();
+    };
+    let Some(vt) = svd.v_t.as_ref() else {
+        return Vec::new();
+    };
+    let imin = (0..n)
+        .min_by(|i, j| svd.singular_values[*i].total_cmp(&svd.singular_values[*j]))
+        .unwrap_or(0);
+    let mut idx: Vec<usize> = (0..n).collect();
+    idx.sort_by(|i, j| vt[(imin, *j)].abs().total_cmp(&vt[(imin, *i)].abs()));
+    let top = vt[(imin, idx[0])].abs();
+    idx.retain(|k| vt[(imin, *k)].abs() >= 0.1 * top);
+    idx
 }
 
 /// The first whole period at or after which every source is periodic.
@@ -152,11 +179,21 @@ pub fn verify(
     let largest = mu.first().map(|m| m.norm()).unwrap_or(0.0);
     if largest.is_nan() || largest >= 1.0 - delta {
         let m = mu.first().copied().unwrap_or_default();
+        let names: Vec<String> = mode_unknowns(phi, m)
+            .into_iter()
+            .take(4)
+            .filter_map(|k| devices.names.get(k).cloned())
+            .collect();
+        let lives_in = if names.is_empty() {
+            String::new()
+        } else {
+            format!("; the mode lives mostly in {}", names.join(", "))
+        };
         return Err(SolveError::NotPeriodic {
             analysis: analysis.into(),
             reason: format!(
                 "the orbit is not stable: its largest Floquet multiplier is {:.4}{:+.4}j, \
-                 |μ| = {:.6} ≥ 1 − δ with δ = {:.1e}{}",
+                 |μ| = {:.6} ≥ 1 − δ with δ = {:.1e}{}{lives_in}",
                 m.re,
                 m.im,
                 largest,
