@@ -9,7 +9,7 @@
 //! 1. **Multipliers.** One period is integrated from the solution's state at
 //!    the start of a period with the sensitivity (monodromy) matrix
 //!    `Φ = ∂x(T)/∂x(0)`, exactly as shooting carries it
-//!    ([`crate::periodic::shooting`]: the same TR-BDF2 steps, `N` per period). The
+//!    ([`mod@crate::periodic::shooting`]: the same TR-BDF2 steps, `N` per period). The
 //!    eigenvalues `μ` of `Φ` are the Floquet multipliers of the orbit as the
 //!    integrator sees it (G. Floquet 1883; for circuits, Aprille and Trick
 //!    1972, who introduced shooting with `Φ`). A perturbation of the orbit
