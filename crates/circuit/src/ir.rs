@@ -712,39 +712,58 @@ pub enum Cmp {
     Gt,
 }
 
-/// A figure a requirement constrains (the names are the stage-file spellings).
-#[derive(Debug, Clone, PartialEq)]
-pub enum Metric {
-    /// `pout` — output power at the fundamental, W.
-    Pout,
-    /// `efficiency` — collector efficiency, fraction.
-    Efficiency,
-    /// `pae` — power-added efficiency, fraction.
-    Pae,
-    /// `gain` — transducer gain, dB.
-    Gain,
-    /// `harmonic N` — level of harmonic N, dBc.
-    Harmonic(u32),
-    /// `harmonics` — every harmonic against a mask.
-    Harmonics,
-    /// `thd` — total harmonic distortion, fraction.
-    Thd,
-    /// `input_vswr` — input VSWR against the source resistance.
-    InputVswr,
-    /// `vce_peak [Q]` — peak collector–emitter voltage, V.
-    VcePeak(Option<ElementId>),
-    /// `ic_peak [Q]` — peak collector current, A.
-    IcPeak(Option<ElementId>),
-    /// `dissipation [Q]` — average transistor dissipation, W.
-    Dissipation(Option<ElementId>),
-    /// `tj [Q]` — junction temperature, K (written in degC).
-    JunctionTemp(Option<ElementId>),
-    /// `stress [ELEMENT]` — fraction of the element's rating used (all rated elements if none).
-    Stress(Option<ElementId>),
-    /// `pdc` — total DC input power, W.
-    Pdc,
-    /// `conduction [Q]` — conduction angle, degrees.
-    Conduction(Option<ElementId>),
+/// A figure a requirement constrains: a figure of the catalogue
+/// ([`crate::figure`]), the harmonic number for `harmonic N`, and the element
+/// a per-element figure is about (none: every such element, the worst counts).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Metric {
+    /// The figure.
+    pub figure: crate::figure::Figure,
+    /// The harmonic number, for `harmonic N`.
+    pub harmonic: Option<u32>,
+    /// The element, for a per-element figure.
+    pub element: Option<ElementId>,
+}
+
+impl Metric {
+    /// A figure about the whole stage (or every element of its kind).
+    pub fn of(figure: crate::figure::Figure) -> Metric {
+        Metric {
+            figure,
+            harmonic: None,
+            element: None,
+        }
+    }
+
+    /// A per-element figure about `element` (`None`: every such element).
+    pub fn about(figure: crate::figure::Figure, element: Option<ElementId>) -> Metric {
+        Metric {
+            element,
+            ..Metric::of(figure)
+        }
+    }
+
+    /// `harmonic N`.
+    pub fn harmonic(n: u32) -> Metric {
+        Metric {
+            harmonic: Some(n),
+            ..Metric::of(crate::figure::Figure::Harmonic)
+        }
+    }
+
+    /// The figure as a stage file writes it (`pout`, `harmonic 3`,
+    /// `vce_peak q1`), element names from `c`.
+    pub fn spelled(&self, c: &Circuit) -> String {
+        let mut s = self.figure.word().unwrap_or("?").to_string();
+        if let Some(n) = self.harmonic {
+            s.push_str(&format!(" {n}"));
+        }
+        if let Some(i) = self.element {
+            s.push(' ');
+            s.push_str(c.elements.get(i).map(|e| e.name.as_str()).unwrap_or("?"));
+        }
+        s
+    }
 }
 
 /// What a requirement compares against.

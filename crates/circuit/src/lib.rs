@@ -18,6 +18,7 @@
 pub mod bounds;
 pub mod builtin;
 pub mod elaborate;
+pub mod figure;
 pub mod ir;
 pub mod models;
 pub mod options;
@@ -25,12 +26,15 @@ pub mod param_units;
 pub mod si;
 pub mod source;
 mod topology;
+pub mod unit;
 pub mod upgrade;
 
 pub use elaborate::{elaborate, load_file, load_str, Elaborated, LoadError};
+pub use figure::{About, Figure};
 pub use ir::*;
 pub use source::StageSource;
 /// Escaping of text for the terminal (control characters, bidi overrides),
 /// shared with later layers so that they never need the parser crate.
 pub use tankwave_netlist::escape;
 pub use tankwave_netlist::{parse_file, parse_str, Diagnostic, Parsed, Severity, SourceMap};
+pub use unit::Unit;

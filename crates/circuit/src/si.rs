@@ -87,6 +87,29 @@ pub fn si_prefixed(v: f64, unit: &str, significant: usize) -> String {
     format!("{scaled:.d$} {}{unit}", chosen.1)
 }
 
+/// Fixed decimals with a unit, e.g. `fixed(61.234, 1, "deg")` → `"61.2 deg"`;
+/// "—" for a value that is not finite.
+pub fn fixed(v: f64, decimals: usize, unit: &str) -> String {
+    if !v.is_finite() {
+        return "—".to_string();
+    }
+    if unit.is_empty() {
+        format!("{:.*}", decimals, v)
+    } else {
+        format!("{:.*} {}", decimals, v, unit)
+    }
+}
+
+/// A fraction in percent with three significant digits, e.g.
+/// `percent(0.7538)` → `"75.4 %"`, `percent(-0.1037)` → `"-10.4 %"`; "—"
+/// for a value that is not finite.
+pub fn percent(v: f64) -> String {
+    if !v.is_finite() {
+        return "—".to_string();
+    }
+    format!("{} %", si_prefixed(v * 100.0, "", 3))
+}
+
 #[cfg(test)]
 mod si_tests {
     use super::si_prefixed;

@@ -169,3 +169,54 @@ fn vocabulary_md_lists_exactly_the_words_the_language_accepts() {
     // The word kept free for the keying waveform is not taken.
     assert!(listed.iter().all(|(n, _)| n != "keyed"));
 }
+
+/// The `require` table of docs/language.md lists exactly the figures of the
+/// catalogue a requirement may name, in its order, each with its label and
+/// the element it may be about.
+#[test]
+fn require_table_is_the_figure_catalogue() {
+    use tankwave_circuit::{About, Figure};
+    let d = doc();
+    let rows: Vec<&str> = d
+        .lines()
+        .skip_while(|l| !l.starts_with("### require"))
+        .skip_while(|l| !l.starts_with("| figure |"))
+        .skip(2)
+        .take_while(|l| l.starts_with('|'))
+        .collect();
+    let figures: Vec<Figure> = Figure::ALL
+        .iter()
+        .copied()
+        .filter(|f| f.word().is_some())
+        .collect();
+    assert_eq!(rows.len(), figures.len(), "one row per figure:\n{rows:#?}");
+    for (row, f) in rows.iter().zip(&figures) {
+        let cells: Vec<&str> = row.split('|').map(str::trim).collect();
+        let word = f.word().unwrap_or_default();
+        assert!(
+            cells[1].starts_with(&format!("`{word}")) && cells[1].ends_with(f.label()),
+            "row {row} should name `{word}` — {}",
+            f.label()
+        );
+        let element = match f.about() {
+            About::Transistor => "bjt",
+            About::RatedPart => "rated resistor, capacitor or inductor",
+            _ => "–",
+        };
+        assert_eq!(cells[3], element, "element column of {word}");
+    }
+    // and docs/vocabulary.md gives the reason for each word
+    let vocab = std::fs::read_to_string(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("../../docs/vocabulary.md"),
+    )
+    .expect("docs/vocabulary.md");
+    let listed: std::collections::BTreeSet<&str> = vocab
+        .lines()
+        .filter_map(|l| {
+            let c: Vec<&str> = l.split('|').map(str::trim).collect();
+            (c.len() > 3 && c[2] == "figure").then(|| c[1].trim_matches('`'))
+        })
+        .collect();
+    let words: std::collections::BTreeSet<&str> = Figure::words().collect();
+    assert_eq!(listed, words, "figures in docs/vocabulary.md");
+}

@@ -105,9 +105,12 @@ fn class_c_stage_elaborates() {
     assert_eq!(c.requirements.len(), 7);
     assert_eq!(c.requirements[0].bound, Bound::Mask(0));
     assert_eq!(c.requirements[2].bound, Bound::Value(0.6));
-    assert_eq!(c.requirements[3].metric, Metric::VcePeak(c.element("q1")));
+    assert_eq!(
+        c.requirements[3].metric,
+        Metric::about(tankwave_circuit::Figure::VcePeak, c.element("q1"))
+    );
     assert_eq!(c.requirements[4].bound, Bound::Value(423.15));
-    assert_eq!(c.requirements[6].metric, Metric::Harmonic(3));
+    assert_eq!(c.requirements[6].metric, Metric::harmonic(3));
     assert_eq!(c.requirements[1].text, "require pout >= 20W");
     assert_eq!(
         c.study.vary[0].sweep,

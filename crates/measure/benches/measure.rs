@@ -6,6 +6,7 @@ use std::f64::consts::PI;
 use std::hint::black_box;
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
+use tankwave_circuit::Figure;
 use tankwave_circuit::{
     BjtParams, Bound, Circuit, Cmp, Element, ElementKind, Metric, Model, ModelParams, Origin,
     Requirement, Waveform,
@@ -84,7 +85,7 @@ fn stage() -> Circuit {
         output: Some(4),
         input: Some(5),
         requirements: vec![Requirement {
-            metric: Metric::Harmonics,
+            metric: Metric::of(Figure::Harmonics),
             cmp: Cmp::Le,
             bound: Bound::BuiltinMask("us_amateur".into()),
             text: String::new(),

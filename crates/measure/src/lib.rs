@@ -8,7 +8,10 @@
 //! gain, drive impedance and VSWR, transistor figures, component stress),
 //! checks harmonics against emission masks ([`evaluate_mask`]) and checks
 //! every `require` statement ([`evaluate`]). It must not solve circuits and
-//! does no formatting beyond short human-readable value strings in verdicts.
+//! does no formatting: verdicts carry typed values (a number and its
+//! [`Unit`]) that the report writes. Every figure is declared once, in the
+//! catalogue (`tankwave_circuit::figure_catalogue!`, computed here in
+//! [`figure`]).
 //! Every figure is defined in docs/measurements.md; masks in docs/masks.md.
 //!
 //! ```
@@ -31,6 +34,7 @@
 #![deny(missing_docs)]
 
 pub mod error;
+pub mod figure;
 pub mod mask;
 pub mod metrics;
 pub mod period;
@@ -39,6 +43,7 @@ pub mod units;
 pub mod verdict;
 
 pub use error::MeasureError;
+pub use figure::{About, Figure};
 pub use mask::{evaluate_mask, HarmonicRow, MaskError, MaskEvaluation};
 pub use metrics::{
     conduction, conduction_angle_deg, conduction_intervals, measure, Conduction, DriveMetrics,

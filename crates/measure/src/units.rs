@@ -80,4 +80,7 @@ pub fn vswr(z: Complex64, r0: f64) -> Option<f64> {
 
 /// SI prefixes and the SI formatter live with the circuit crate (the lowest
 /// that prints numbers); re-exported here where measurement code finds them.
-pub use tankwave_circuit::si::{si_prefixed, SI_PREFIXES};
+pub use tankwave_circuit::si::{fixed, percent, si_prefixed, SI_PREFIXES};
+/// The unit of a quantity (one type for the workspace, declared in the
+/// circuit crate).
+pub use tankwave_circuit::unit::Unit;

@@ -2,100 +2,19 @@
 //!
 //! Margins are in the metric's natural unit (the unit of `Verdict::unit`)
 //! with the sign positive = passing. A figure that could not be measured
-//! gives a failing verdict whose `not_measured` says why.
+//! gives a failing verdict whose `not_measured` says why. Which value a
+//! figure has comes from the catalogue ([`crate::figure`]); verdicts carry
+//! typed values (number and [`Unit`]) and the report writes them for people.
 
-use serde::Serialize;
 use tankwave_circuit::{builtin, Bound, Circuit, Cmp, Mask, Metric, Requirement};
 
+use crate::figure::{value, About, Value};
 use crate::mask::{evaluate_mask, HarmonicRow};
 use crate::metrics::{Metrics, StressRow};
-
-/// Unit of a requirement's value, limit and margin.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-pub enum Unit {
-    /// Watts.
-    Watt,
-    /// A plain fraction (shown as %).
-    Fraction,
-    /// Decibels (gain).
-    Db,
-    /// Decibels relative to the carrier.
-    Dbc,
-    /// Volts.
-    Volt,
-    /// Amperes.
-    Ampere,
-    /// Kelvin (shown also in °C).
-    Kelvin,
-    /// Degrees of angle.
-    Degree,
-    /// A plain ratio (VSWR).
-    Ratio,
-}
-
-impl Unit {
-    /// Short symbol of the unit ("W", "dB", …; "" for fractions and ratios).
-    pub fn symbol(self) -> &'static str {
-        match self {
-            Unit::Watt => "W",
-            Unit::Fraction | Unit::Ratio => "",
-            Unit::Db => "dB",
-            Unit::Dbc => "dBc",
-            Unit::Volt => "V",
-            Unit::Ampere => "A",
-            Unit::Kelvin => "K",
-            Unit::Degree => "deg",
-        }
-    }
-
-    /// A value in this unit, for people.
-    pub fn show(self, v: f64) -> String {
-        match self {
-            Unit::Watt => engineering(v, "W"),
-            Unit::Volt => engineering(v, "V"),
-            Unit::Ampere => engineering(v, "A"),
-            Unit::Fraction => format!("{:.2} %", v * 100.0),
-            Unit::Db => format!("{v:.2} dB"),
-            Unit::Dbc => format!("{v:.2} dBc"),
-            Unit::Kelvin => format!("{:.1} degC", v - 273.15),
-            Unit::Degree => format!("{v:.1} deg"),
-            Unit::Ratio => format!("{v:.3}"),
-        }
-    }
-
-    /// A difference (margin) in this unit, for people.
-    pub fn show_margin(self, m: f64) -> String {
-        match self {
-            Unit::Fraction => format!("{:+.2} % points", m * 100.0),
-            Unit::Kelvin => format!("{m:+.1} K"),
-            Unit::Dbc => format!("{m:+.2} dB"),
-            Unit::Watt | Unit::Volt | Unit::Ampere => {
-                let s = engineering(m.abs(), self.symbol());
-                if m < 0.0 {
-                    format!("-{s}")
-                } else {
-                    format!("+{s}")
-                }
-            }
-            _ => {
-                let s = self.show(m);
-                if m >= 0.0 {
-                    format!("+{s}")
-                } else {
-                    s
-                }
-            }
-        }
-    }
-}
-
-/// Format with an SI prefix (µ, m, k, M …) and 4 significant figures.
-fn engineering(v: f64, unit: &str) -> String {
-    crate::units::si_prefixed(v, unit, 4)
-}
+pub use tankwave_circuit::unit::Unit;
 
 /// The outcome of one requirement.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct Verdict {
     /// The requirement's text as written.
     pub requirement: String,
@@ -109,16 +28,13 @@ pub struct Verdict {
     pub cmp: String,
     /// The numeric limit (for a mask: the allowed level at the worst harmonic).
     pub limit: Option<f64>,
-    /// The limit for people, with its unit (or the mask name).
-    pub limit_text: String,
+    /// The mask the requirement names as its bound, by name (`#i` for a
+    /// mask index that does not exist); `None` for a numeric bound.
+    pub mask: Option<String>,
     /// The measured value (for a mask: the level of the worst harmonic).
     pub value: Option<f64>,
-    /// The value for people, with its unit, or "not measured".
-    pub value_text: String,
     /// Margin in `unit`, positive = passing.
     pub margin: Option<f64>,
-    /// The margin for people.
-    pub margin_text: String,
     /// Whether the requirement holds (false when not measured).
     pub pass: bool,
     /// Why the figure could not be measured, if so.
@@ -148,46 +64,10 @@ pub fn compare(cmp: Cmp, value: f64, limit: f64) -> (f64, bool) {
     }
 }
 
-fn metric_name(c: &Circuit, m: &Metric) -> String {
-    let el = |id: &Option<usize>, base: &str| match id {
-        Some(i) => format!(
-            "{base} {}",
-            c.elements.get(*i).map(|e| e.name.as_str()).unwrap_or("?")
-        ),
-        None => base.to_string(),
-    };
-    match m {
-        Metric::Pout => "pout".into(),
-        Metric::Efficiency => "efficiency".into(),
-        Metric::Pae => "pae".into(),
-        Metric::Gain => "gain".into(),
-        Metric::Harmonic(n) => format!("harmonic {n}"),
-        Metric::Harmonics => "harmonics".into(),
-        Metric::Thd => "thd".into(),
-        Metric::InputVswr => "input_vswr".into(),
-        Metric::VcePeak(e) => el(e, "vce_peak"),
-        Metric::IcPeak(e) => el(e, "ic_peak"),
-        Metric::Dissipation(e) => el(e, "dissipation"),
-        Metric::JunctionTemp(e) => el(e, "tj"),
-        Metric::Stress(e) => el(e, "stress"),
-        Metric::Pdc => "pdc".into(),
-        Metric::Conduction(e) => el(e, "conduction"),
-    }
-}
-
-/// The unit of a requirement's value, limit and margin for `m`.
+/// The unit of a requirement's value, limit and margin for `m` (the
+/// figure's unit in the catalogue).
 pub fn metric_unit(m: &Metric) -> Unit {
-    match m {
-        Metric::Pout | Metric::Pdc | Metric::Dissipation(_) => Unit::Watt,
-        Metric::Efficiency | Metric::Pae | Metric::Thd | Metric::Stress(_) => Unit::Fraction,
-        Metric::Gain => Unit::Db,
-        Metric::Harmonic(_) | Metric::Harmonics => Unit::Dbc,
-        Metric::InputVswr => Unit::Ratio,
-        Metric::VcePeak(_) => Unit::Volt,
-        Metric::IcPeak(_) => Unit::Ampere,
-        Metric::JunctionTemp(_) => Unit::Kelvin,
-        Metric::Conduction(_) => Unit::Degree,
-    }
+    m.figure.unit()
 }
 
 /// A value candidate: (element it belongs to, value).
@@ -195,7 +75,7 @@ type Candidate = (Option<String>, f64);
 
 struct Draft {
     limit: Option<f64>,
-    limit_text: String,
+    mask: Option<String>,
     outcome: Result<(Candidate, f64, bool), String>,
     harmonics: Vec<HarmonicRow>,
 }
@@ -218,15 +98,15 @@ fn worst(cmp: Cmp, limit: f64, cands: Vec<Candidate>) -> Option<(Candidate, f64,
         .min_by(|a, b| a.1.total_cmp(&b.1))
 }
 
-/// A bound for people: "<= 36.00 V", "mask us_amateur_hf".
-fn bound_text(c: &Circuit, b: &Bound, cmp: Cmp, unit: Unit) -> String {
+/// The mask a bound names, by name (`None` for a numeric bound).
+fn mask_name(c: &Circuit, b: &Bound) -> Option<String> {
     match b {
-        Bound::Value(v) => format!("{} {}", cmp_text(cmp), unit.show(*v)),
-        Bound::Mask(i) => match c.masks.get(*i) {
-            Some(m) => format!("mask {}", m.name),
-            None => format!("mask #{i}"),
-        },
-        Bound::BuiltinMask(name) => format!("mask {name}"),
+        Bound::Value(_) => None,
+        Bound::Mask(i) => Some(match c.masks.get(*i) {
+            Some(m) => m.name.clone(),
+            None => format!("#{i}"),
+        }),
+        Bound::BuiltinMask(name) => Some(name.clone()),
     }
 }
 
@@ -312,26 +192,17 @@ fn stress_candidates(
 
 /// The value candidates of a non-harmonic metric.
 fn scalar(c: &Circuit, metrics: &Metrics, r: &Requirement) -> Result<Vec<Candidate>, String> {
-    let one = |v: Option<f64>, figure: &str| -> Result<Vec<Candidate>, String> {
-        v.map(|x| vec![(None, x)])
-            .ok_or_else(|| why(metrics, figure, "not measured"))
-    };
-    match &r.metric {
-        Metric::Pout => one(metrics.output.as_ref().map(|o| o.p1_w), "pout"),
-        Metric::Efficiency => one(metrics.efficiency, "efficiency"),
-        Metric::Pae => one(metrics.pae, "pae"),
-        Metric::Gain => one(metrics.gain_db, "gain"),
-        Metric::Thd => one(
-            metrics.output.as_ref().and_then(|o| o.thd),
-            if metrics.output.is_some() {
-                "thd"
-            } else {
-                "pout"
-            },
-        ),
-        Metric::InputVswr => one(metrics.drive.as_ref().and_then(|d| d.vswr), "input_vswr"),
-        Metric::Pdc => Ok(vec![(None, metrics.pdc_w)]),
-        Metric::Harmonic(n) => {
+    let m = &r.metric;
+    match value(m.figure) {
+        Value::Stage(get) => get(metrics)
+            .map(|x| vec![(None, x)])
+            .map_err(|note| why(metrics, note, "not measured")),
+        Value::Transistor(get) => {
+            transistor_candidates(c, metrics, &m.element, m.figure.word().unwrap_or("?"), get)
+        }
+        Value::RatedPart => stress_candidates(c, metrics, &m.element),
+        Value::Harmonic => {
+            let n = m.harmonic.unwrap_or(0);
             let o = metrics
                 .output
                 .as_ref()
@@ -339,48 +210,34 @@ fn scalar(c: &Circuit, metrics: &Metrics, r: &Requirement) -> Result<Vec<Candida
             let h = o
                 .harmonics
                 .iter()
-                .find(|h| h.n == *n as usize)
+                .find(|h| h.n == n as usize)
                 .ok_or_else(|| {
                     format!(
                         "harmonic {n} is beyond the {} harmonics computed",
                         metrics.harmonics
                     )
                 })?;
-            one(h.dbc, "harmonics")
+            h.dbc
+                .map(|x| vec![(None, x)])
+                .ok_or_else(|| why(metrics, "harmonics", "not measured"))
         }
-        Metric::VcePeak(s) => {
-            transistor_candidates(c, metrics, s, "vce_peak", |t| Some(t.vce_peak_v))
-        }
-        Metric::IcPeak(s) => transistor_candidates(c, metrics, s, "ic_peak", |t| Some(t.ic_peak_a)),
-        Metric::Dissipation(s) => {
-            transistor_candidates(c, metrics, s, "dissipation", |t| Some(t.dissipation_w))
-        }
-        Metric::JunctionTemp(s) => transistor_candidates(c, metrics, s, "tj", |t| t.tj_k),
-        Metric::Conduction(s) => {
-            transistor_candidates(c, metrics, s, "conduction", |t| Some(t.conduction_deg))
-        }
-        Metric::Stress(s) => stress_candidates(c, metrics, s),
-        Metric::Harmonics => Err("internal: harmonics handled elsewhere".to_string()),
+        Value::Mask => Err("internal: harmonics handled elsewhere".to_string()),
     }
 }
 
-fn harmonics_draft(
-    c: &Circuit,
-    metrics: &Metrics,
-    r: &Requirement,
-    unit: Unit,
-    only: Option<usize>,
-) -> Draft {
+fn harmonics_draft(c: &Circuit, metrics: &Metrics, r: &Requirement, only: Option<usize>) -> Draft {
     let mut d = Draft {
-        limit: None,
-        limit_text: String::new(),
+        limit: match r.bound {
+            Bound::Value(v) if v.is_finite() => Some(v),
+            _ => None,
+        },
+        mask: mask_name(c, &r.bound),
         outcome: Err(String::new()),
         harmonics: Vec::new(),
     };
     let mask = match resolve_mask(c, &r.bound) {
         Ok(m) => m,
         Err(e) => {
-            d.limit_text = bound_text(c, &r.bound, r.cmp, unit);
             d.outcome = Err(e);
             return d;
         }
@@ -394,7 +251,7 @@ fn harmonics_draft(
     };
     let rows: Vec<HarmonicRow> = match (&mask, &r.bound) {
         (Some(m), _) => {
-            d.limit_text = format!("mask {}", m.name);
+            d.mask = Some(m.name.clone());
             match evaluate_mask(m, output, metrics.freq_hz) {
                 Ok(ev) => ev.rows,
                 Err(e) => {
@@ -405,7 +262,6 @@ fn harmonics_draft(
         }
         (None, Bound::Value(lim)) => {
             d.limit = Some(*lim);
-            d.limit_text = format!("{} {}", cmp_text(r.cmp), unit.show(*lim));
             let p1 = output.p1_w;
             if !(p1.is_finite() && p1 > 0.0) {
                 d.outcome = Err(why(metrics, "harmonics", "no carrier power"));
@@ -476,11 +332,15 @@ pub fn evaluate(circuit: &Circuit, metrics: &Metrics) -> Vec<Verdict> {
 /// Check one requirement against `metrics`.
 pub fn evaluate_one(circuit: &Circuit, metrics: &Metrics, r: &Requirement) -> Verdict {
     let unit = metric_unit(&r.metric);
-    let draft = match (&r.metric, &r.bound) {
-        (Metric::Harmonics, _) => harmonics_draft(circuit, metrics, r, unit, None),
-        (Metric::Harmonic(n), Bound::Mask(_) | Bound::BuiltinMask(_)) => {
-            harmonics_draft(circuit, metrics, r, unit, Some(*n as usize))
-        }
+    let about = r.metric.figure.about();
+    let draft = match (about, &r.bound) {
+        (About::Mask, _) => harmonics_draft(circuit, metrics, r, None),
+        (About::Harmonic, Bound::Mask(_) | Bound::BuiltinMask(_)) => harmonics_draft(
+            circuit,
+            metrics,
+            r,
+            Some(r.metric.harmonic.unwrap_or(0) as usize),
+        ),
         (_, Bound::Value(lim)) => {
             let lim = *lim;
             let outcome = if lim.is_finite() {
@@ -492,57 +352,35 @@ pub fn evaluate_one(circuit: &Circuit, metrics: &Metrics, r: &Requirement) -> Ve
             };
             Draft {
                 limit: lim.is_finite().then_some(lim),
-                limit_text: format!("{} {}", cmp_text(r.cmp), unit.show(lim)),
+                mask: None,
                 outcome,
                 harmonics: Vec::new(),
             }
         }
         (_, b) => Draft {
             limit: None,
-            limit_text: bound_text(circuit, b, r.cmp, unit),
+            mask: mask_name(circuit, b),
             outcome: Err("a mask bound applies only to harmonics".to_string()),
             harmonics: Vec::new(),
         },
     };
-    let metric = metric_name(circuit, &r.metric);
-    match draft.outcome {
-        Ok(((element, value), margin, pass)) => Verdict {
-            requirement: r.text.clone(),
-            line: r.origin.line,
-            metric,
-            unit,
-            cmp: cmp_text(r.cmp).to_string(),
-            limit: draft.limit,
-            limit_text: draft.limit_text,
-            value: Some(value),
-            value_text: unit.show(value),
-            margin: Some(margin),
-            margin_text: if unit == Unit::Dbc || unit == Unit::Db {
-                format!("{margin:+.2} dB")
-            } else {
-                unit.show_margin(margin)
-            },
-            pass,
-            not_measured: None,
-            element,
-            harmonics: draft.harmonics,
-        },
-        Err(reason) => Verdict {
-            requirement: r.text.clone(),
-            line: r.origin.line,
-            metric,
-            unit,
-            cmp: cmp_text(r.cmp).to_string(),
-            limit: draft.limit,
-            limit_text: draft.limit_text,
-            value: None,
-            value_text: format!("not measured: {reason}"),
-            margin: None,
-            margin_text: String::new(),
-            pass: false,
-            not_measured: Some(reason),
-            element: None,
-            harmonics: draft.harmonics,
-        },
+    let (value, margin, pass, not_measured, element) = match draft.outcome {
+        Ok(((element, value), margin, pass)) => (Some(value), Some(margin), pass, None, element),
+        Err(reason) => (None, None, false, Some(reason), None),
+    };
+    Verdict {
+        requirement: r.text.clone(),
+        line: r.origin.line,
+        metric: r.metric.spelled(circuit),
+        unit,
+        cmp: cmp_text(r.cmp).to_string(),
+        limit: draft.limit,
+        mask: draft.mask,
+        value,
+        margin,
+        pass,
+        not_measured,
+        element,
+        harmonics: draft.harmonics,
     }
 }

@@ -6,6 +6,7 @@
 //! amateur row below 30 MHz (secondary source) and general row (memory).
 
 use tankwave_circuit::builtin::{builtin_mask, builtin_names};
+use tankwave_circuit::Figure;
 use tankwave_circuit::{
     Bound, Circuit, Cmp, Limit, LimitExpr, Mask, MaskRange, MaskRule, Metric, Origin, Requirement,
 };
@@ -280,7 +281,7 @@ fn circuit_with(reqs: Vec<Requirement>) -> Circuit {
 #[test]
 fn mask_verdicts_around_boundaries() {
     let c = circuit_with(vec![req(
-        Metric::Harmonics,
+        Metric::of(Figure::Harmonics),
         Cmp::Le,
         builtin("us_amateur_hf"),
     )]);
@@ -300,7 +301,7 @@ fn mask_verdicts_around_boundaries() {
         assert_eq!(v.unit, Unit::Dbc);
     }
     let c = circuit_with(vec![req(
-        Metric::Harmonics,
+        Metric::of(Figure::Harmonics),
         Cmp::Le,
         builtin("itu_amateur_hf"),
     )]);
@@ -311,7 +312,7 @@ fn mask_verdicts_around_boundaries() {
     }
     // pre-2003 at 4.9 W vs 5 W: −35 dBc passes below 5 W (30 dB needed), fails at 5 W (40 dB).
     let c = circuit_with(vec![req(
-        Metric::Harmonics,
+        Metric::of(Figure::Harmonics),
         Cmp::Le,
         builtin("us_amateur_hf_pre2003"),
     )]);
@@ -319,7 +320,7 @@ fn mask_verdicts_around_boundaries() {
     assert!(!evaluate(&c, &metrics(5.0, &[-35.0], 3.6e6))[0].pass);
     // Single-harmonic requirement against a mask.
     let c = circuit_with(vec![req(
-        Metric::Harmonic(2),
+        Metric::harmonic(2),
         Cmp::Le,
         builtin("us_amateur"),
     )]);
@@ -379,30 +380,61 @@ fn mask_evaluation_rows_and_errors() {
 #[test]
 fn scalar_verdicts() {
     let c = circuit_with(vec![
-        req(Metric::Pout, Cmp::Ge, Bound::Value(20.0)),
-        req(Metric::Efficiency, Cmp::Ge, Bound::Value(0.75)),
-        req(Metric::VcePeak(None), Cmp::Le, Bound::Value(36.0)),
-        req(Metric::VcePeak(Some(1)), Cmp::Le, Bound::Value(36.0)),
-        req(Metric::JunctionTemp(Some(2)), Cmp::Le, Bound::Value(423.15)),
-        req(Metric::JunctionTemp(None), Cmp::Le, Bound::Value(423.15)),
-        req(Metric::Stress(None), Cmp::Le, Bound::Value(0.8)),
-        req(Metric::Stress(None), Cmp::Lt, Bound::Value(0.8)),
-        req(Metric::InputVswr, Cmp::Le, Bound::Value(2.0)),
-        req(Metric::Harmonic(3), Cmp::Le, Bound::Value(-40.0)),
-        req(Metric::Harmonic(9), Cmp::Le, Bound::Value(-40.0)),
-        req(Metric::Harmonics, Cmp::Le, Bound::Value(-45.0)),
-        req(Metric::Pout, Cmp::Le, builtin("us_amateur_hf")),
-        req(Metric::Harmonics, Cmp::Le, builtin("nope")),
-        req(Metric::Harmonics, Cmp::Le, builtin("us_amateur")),
-        req(Metric::Gain, Cmp::Gt, Bound::Value(12.0)),
+        req(Metric::of(Figure::Pout), Cmp::Ge, Bound::Value(20.0)),
+        req(Metric::of(Figure::Efficiency), Cmp::Ge, Bound::Value(0.75)),
+        req(
+            Metric::about(Figure::VcePeak, None),
+            Cmp::Le,
+            Bound::Value(36.0),
+        ),
+        req(
+            Metric::about(Figure::VcePeak, Some(1)),
+            Cmp::Le,
+            Bound::Value(36.0),
+        ),
+        req(
+            Metric::about(Figure::Tj, Some(2)),
+            Cmp::Le,
+            Bound::Value(423.15),
+        ),
+        req(
+            Metric::about(Figure::Tj, None),
+            Cmp::Le,
+            Bound::Value(423.15),
+        ),
+        req(
+            Metric::about(Figure::Stress, None),
+            Cmp::Le,
+            Bound::Value(0.8),
+        ),
+        req(
+            Metric::about(Figure::Stress, None),
+            Cmp::Lt,
+            Bound::Value(0.8),
+        ),
+        req(Metric::of(Figure::InputVswr), Cmp::Le, Bound::Value(2.0)),
+        req(Metric::harmonic(3), Cmp::Le, Bound::Value(-40.0)),
+        req(Metric::harmonic(9), Cmp::Le, Bound::Value(-40.0)),
+        req(Metric::of(Figure::Harmonics), Cmp::Le, Bound::Value(-45.0)),
+        req(Metric::of(Figure::Pout), Cmp::Le, builtin("us_amateur_hf")),
+        req(Metric::of(Figure::Harmonics), Cmp::Le, builtin("nope")),
+        req(
+            Metric::of(Figure::Harmonics),
+            Cmp::Le,
+            builtin("us_amateur"),
+        ),
+        req(Metric::of(Figure::Gain), Cmp::Gt, Bound::Value(12.0)),
     ]);
     let m = metrics(25.0, &[-50.0, -42.0], 7e6);
     let v = evaluate(&c, &m);
     assert_eq!(v.len(), 16);
     assert!(v[0].pass && (v[0].margin.unwrap() - 5.0).abs() < 1e-12);
-    assert_eq!(v[0].value_text, "25.00 W");
+    assert_eq!(v[0].unit.show(v[0].value.unwrap()), "25.00 W");
     assert!(!v[1].pass && (v[1].margin.unwrap() + 0.05).abs() < 1e-12);
-    assert_eq!(v[1].margin_text, "-5.00 % points");
+    assert_eq!(
+        v[1].unit.show_margin(v[1].margin.unwrap()),
+        "-5.00 % points"
+    );
     // Worst of q1 (30 V) and q2 (34 V).
     assert!(v[2].pass && v[2].element.as_deref() == Some("q2"));
     assert!((v[2].margin.unwrap() - 2.0).abs() < 1e-12);
@@ -428,8 +460,11 @@ fn scalar_verdicts() {
         .unwrap()
         .contains("only to harmonics"));
     assert!(v[13].not_measured.as_deref().unwrap().contains("nope"));
-    assert_eq!(v[13].limit_text, "mask nope");
-    assert_eq!(v[2].limit_text, "<= 36.00 V");
+    assert_eq!(v[13].mask.as_deref(), Some("nope"));
+    assert_eq!(
+        (v[2].cmp.as_str(), v[2].unit.show(v[2].limit.unwrap())),
+        ("<=", "36.00 V".to_string())
+    );
     assert_eq!(v[6].element.as_deref(), Some("c1 peak voltage"));
     assert!(!v[14].pass && v[14].harmonics.len() == 2);
     // Strict comparison at equality fails.

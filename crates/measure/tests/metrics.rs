@@ -6,6 +6,7 @@ use std::f64::consts::PI;
 
 use common::{alpha_closed, bjt, bjt_model, circuit, resistor, sample, truncated_cosine, vsource};
 use num_complex::Complex64;
+use tankwave_circuit::Figure;
 use tankwave_circuit::{BjtParams, Circuit};
 use tankwave_measure::units::{reflection, vswr};
 use tankwave_measure::{
@@ -455,11 +456,11 @@ fn measure_then_evaluate() {
     };
     c.requirements = vec![
         req(
-            Metric::Harmonics,
+            Metric::of(Figure::Harmonics),
             Cmp::Le,
             Bound::BuiltinMask("us_amateur_hf".into()),
         ),
-        req(Metric::Pout, Cmp::Ge, Bound::Value(120.0)),
+        req(Metric::of(Figure::Pout), Cmp::Ge, Bound::Value(120.0)),
     ];
     let v = sample(n, |x| v1 * x.cos() + v2 * (2.0 * x + 0.3).cos());
     let i: Vec<f64> = v.iter().map(|x| x / r).collect();
@@ -494,21 +495,21 @@ mod never_panics {
     fn every_metric() -> Vec<Requirement> {
         let q = Some(1);
         let metrics = [
-            (Metric::Pout, 1.0),
-            (Metric::Efficiency, 0.5),
-            (Metric::Pae, 0.5),
-            (Metric::Gain, 10.0),
-            (Metric::Harmonic(2), -30.0),
-            (Metric::Harmonics, -40.0),
-            (Metric::Thd, 0.1),
-            (Metric::InputVswr, 2.0),
-            (Metric::VcePeak(q), 30.0),
-            (Metric::IcPeak(None), 3.0),
-            (Metric::Dissipation(q), 10.0),
-            (Metric::JunctionTemp(None), 400.0),
-            (Metric::Stress(None), 0.8),
-            (Metric::Pdc, 10.0),
-            (Metric::Conduction(q), 180.0),
+            (Metric::of(Figure::Pout), 1.0),
+            (Metric::of(Figure::Efficiency), 0.5),
+            (Metric::of(Figure::Pae), 0.5),
+            (Metric::of(Figure::Gain), 10.0),
+            (Metric::harmonic(2), -30.0),
+            (Metric::of(Figure::Harmonics), -40.0),
+            (Metric::of(Figure::Thd), 0.1),
+            (Metric::of(Figure::InputVswr), 2.0),
+            (Metric::about(Figure::VcePeak, q), 30.0),
+            (Metric::about(Figure::IcPeak, None), 3.0),
+            (Metric::about(Figure::Dissipation, q), 10.0),
+            (Metric::about(Figure::Tj, None), 400.0),
+            (Metric::about(Figure::Stress, None), 0.8),
+            (Metric::of(Figure::Pdc), 10.0),
+            (Metric::about(Figure::Conduction, q), 180.0),
         ];
         let mut v: Vec<Requirement> = metrics
             .into_iter()
@@ -521,7 +522,7 @@ mod never_panics {
             })
             .collect();
         v.push(Requirement {
-            metric: Metric::Harmonics,
+            metric: Metric::of(Figure::Harmonics),
             cmp: Cmp::Le,
             bound: Bound::BuiltinMask("itu_amateur".into()),
             text: String::new(),

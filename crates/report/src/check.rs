@@ -96,7 +96,7 @@ pub fn check_json(tool: &str, files: &[FileCheck]) -> Value {
             FileOutcome::Verdicts(v) => json!({
                 "file": f.file,
                 "pass": v.iter().all(|x| x.pass),
-                "verdicts": serde_json::to_value(v).unwrap_or(Value::Null),
+                "verdicts": crate::format::verdicts_json(v),
             }),
             FileOutcome::Error {
                 code,
@@ -169,7 +169,9 @@ pub fn junit_xml(files: &[FileCheck]) -> String {
                     ));
                     let detail = format!(
                         "limit {}, value {}, margin {}",
-                        x.limit_text, x.value_text, x.margin_text
+                        crate::format::limit_text(x),
+                        crate::format::value_text(x),
+                        crate::format::margin_text(x)
                     );
                     if x.pass {
                         s.push_str(&format!(
@@ -224,11 +226,9 @@ mod tests {
             unit: tankwave_measure::Unit::Watt,
             cmp: ">=".into(),
             limit: Some(1.0),
-            limit_text: "1 W".into(),
+            mask: None,
             value: Some(2.0),
-            value_text: "2 W".into(),
             margin: Some(1.0),
-            margin_text: "1 W".into(),
             pass,
             not_measured: not_measured.map(String::from),
             element: None,

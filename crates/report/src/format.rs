@@ -7,29 +7,12 @@ pub fn si(v: f64, unit: &str) -> String {
     tankwave_measure::units::si_prefixed(v, unit, 3)
 }
 
-/// Fixed decimals with a unit, e.g. `fixed(61.234, 1, "%")` → `"61.2 %"`.
-pub fn fixed(v: f64, decimals: usize, unit: &str) -> String {
-    if !v.is_finite() {
-        return "—".to_string();
-    }
-    if unit.is_empty() {
-        format!("{:.*}", decimals, v)
-    } else {
-        format!("{:.*} {}", decimals, v, unit)
-    }
-}
-
+/// Fixed decimals with a unit, e.g. `fixed(61.234, 1, "%")` → `"61.2 %"`
+/// (the workspace's one number writer, `tankwave_circuit::si`).
+pub use tankwave_measure::units::fixed;
 /// A fraction in percent with three significant digits, e.g.
-/// `percent(0.7538)` → `"75.4 %"`, `percent(-0.1037)` → `"-10.4 %"`.
-pub fn percent(v: f64) -> String {
-    if !v.is_finite() {
-        return "—".to_string();
-    }
-    format!(
-        "{} %",
-        tankwave_measure::units::si_prefixed(v * 100.0, "", 3)
-    )
-}
+/// `percent(0.7538)` → `"75.4 %"`.
+pub use tankwave_measure::units::percent;
 
 /// Decibels with one decimal and a unit such as `dBc` or `dBm`; very small
 /// levels print as `< -200 dBc` instead of -inf.
@@ -41,6 +24,56 @@ pub fn db(v: f64, unit: &str) -> String {
         return format!("< -200 {unit}");
     }
     format!("{:.1} {}", v, unit)
+}
+
+/// The limit of a verdict for people: the comparison and the bound in the
+/// figure's unit (`<= 36.00 V`), or the mask it names (`mask NAME`).
+pub fn limit_text(v: &tankwave_measure::Verdict) -> String {
+    match &v.mask {
+        Some(name) => format!("mask {name}"),
+        None => format!("{} {}", v.cmp, v.unit.show(v.limit.unwrap_or(f64::NAN))),
+    }
+}
+
+/// The measured value of a verdict for people, or `not measured: why`.
+pub fn value_text(v: &tankwave_measure::Verdict) -> String {
+    match (v.value, &v.not_measured) {
+        (Some(x), _) => v.unit.show(x),
+        (None, Some(why)) => format!("not measured: {why}"),
+        (None, None) => "not measured".to_string(),
+    }
+}
+
+/// The margin of a verdict for people (empty when not measured).
+pub fn margin_text(v: &tankwave_measure::Verdict) -> String {
+    v.margin.map(|m| v.unit.show_margin(m)).unwrap_or_default()
+}
+
+/// A verdict in the JSON output (docs/output.md, `requirements`): its
+/// typed fields and, beside them, the texts people read.
+pub fn verdict_json(v: &tankwave_measure::Verdict) -> serde_json::Value {
+    serde_json::json!({
+        "requirement": v.requirement,
+        "line": v.line,
+        "metric": v.metric,
+        "unit": v.unit,
+        "cmp": v.cmp,
+        "limit": v.limit,
+        "limit_text": limit_text(v),
+        "value": v.value,
+        "value_text": value_text(v),
+        "margin": v.margin,
+        "margin_text": margin_text(v),
+        "pass": v.pass,
+        "not_measured": v.not_measured,
+        "element": v.element,
+        "harmonics": v.harmonics,
+    })
+}
+
+/// Every verdict in the JSON output.
+pub fn verdicts_json(vs: &[tankwave_measure::Verdict]) -> serde_json::Value {
+    serde_json::Value::Array(vs.iter().map(verdict_json).collect())
 }
 
 #[cfg(test)]

@@ -259,8 +259,8 @@ fn verdicts_section(out: &mut String, verdicts: &[Verdict], label: Option<&str>)
     for v in verdicts {
         let value = match (&v.not_measured, crate::stage::located_at(v)) {
             (Some(why), _) => format!("not measured: {why}"),
-            (None, Some(at)) => format!("{} (at {at})", v.value_text),
-            (None, None) => v.value_text.clone(),
+            (None, Some(at)) => format!("{} (at {at})", crate::format::value_text(v)),
+            (None, None) => crate::format::value_text(v),
         };
         row(
             out,
@@ -274,9 +274,9 @@ fn verdicts_section(out: &mut String, verdicts: &[Verdict], label: Option<&str>)
                         String::new()
                     },
                 ),
-                ("num", v.limit_text.clone()),
+                ("num", crate::format::limit_text(v)),
                 ("num", value),
-                ("num", v.margin_text.clone()),
+                ("num", crate::format::margin_text(v)),
                 (
                     if v.pass { "pass" } else { "fail" },
                     if v.pass { "PASS".into() } else { "FAIL".into() },

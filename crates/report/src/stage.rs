@@ -447,9 +447,9 @@ pub fn verdict_text(verdicts: &[Verdict]) -> String {
     for v in verdicts {
         t.row(vec![
             v.requirement.clone(),
-            v.limit_text.clone(),
-            v.value_text.clone(),
-            v.margin_text.clone(),
+            crate::format::limit_text(v),
+            crate::format::value_text(v),
+            crate::format::margin_text(v),
             if v.pass { "pass" } else { "FAIL" }.to_string(),
         ]);
         if let Some(at) = located_at(v) {

@@ -2,7 +2,7 @@
 //! harmonics of its steady state. A mask that cannot be evaluated is kept
 //! as a [`MaskFailure`], not dropped: the caller decides how to show it.
 
-use tankwave_circuit::{builtin, Bound, Circuit, Metric};
+use tankwave_circuit::{builtin, About, Bound, Circuit};
 use tankwave_measure::{evaluate_mask, MaskError, MaskEvaluation, Metrics};
 
 /// A mask a requirement names that could not be evaluated.
@@ -33,7 +33,7 @@ pub fn mask_evaluations(c: &Circuit, m: &Metrics, f0: f64) -> MaskEvaluations {
         return out;
     };
     for r in &c.requirements {
-        if !matches!(r.metric, Metric::Harmonics | Metric::Harmonic(_)) {
+        if !matches!(r.metric.figure.about(), About::Mask | About::Harmonic) {
             continue;
         }
         let mask = match &r.bound {

@@ -3,37 +3,28 @@
 
 use super::{fmt_num, Cx};
 use crate::builtin::builtin_names;
+use crate::figure::{About, Figure};
 use crate::ir::*;
+use crate::unit::Unit;
 use std::collections::HashMap;
 use tankwave_netlist::ast::*;
 use tankwave_netlist::suggest::did_you_mean;
 use tankwave_netlist::{Slot, Span};
 
-/// The figures a requirement may name.
-const METRICS: &[&str] = &[
-    "pout",
-    "efficiency",
-    "pae",
-    "gain",
-    "harmonic",
-    "harmonics",
-    "thd",
-    "input_vswr",
-    "vce_peak",
-    "ic_peak",
-    "dissipation",
-    "tj",
-    "stress",
-    "pdc",
-    "conduction",
-];
-
-/// The figures that are about one element.
-fn takes_element(m: &str) -> bool {
-    matches!(
-        m,
-        "vce_peak" | "ic_peak" | "dissipation" | "tj" | "stress" | "conduction"
-    )
+/// The unit slot of a `require` bound on a figure of `unit` (the catalogue
+/// declares the unit, the slot follows).
+fn bound_slot(unit: Unit) -> Slot {
+    match unit {
+        Unit::Watt | Unit::Dbm => Slot::Power,
+        Unit::Fraction => Slot::Fraction,
+        Unit::Db | Unit::Dbc => Slot::Db,
+        Unit::Volt => Slot::Voltage,
+        Unit::Ampere => Slot::Current,
+        Unit::Ohm => Slot::Resistance,
+        Unit::Kelvin | Unit::DegC => Slot::Temperature,
+        Unit::Degree => Slot::Angle,
+        Unit::Ratio => Slot::Number,
+    }
 }
 
 impl<'a> Cx<'a> {
@@ -44,9 +35,10 @@ impl<'a> Cx<'a> {
         masks: &HashMap<&'a str, usize>,
     ) -> Option<Requirement> {
         let m = r.metric.name.as_str();
-        if !METRICS.contains(&m) {
-            let help = did_you_mean(m, METRICS.iter())
-                .or_else(|| Some(format!("figures: {}", METRICS.join(", "))));
+        let Some(figure) = Figure::from_word(m) else {
+            let words: Vec<&str> = Figure::words().collect();
+            let help = did_you_mean(m, words.iter())
+                .or_else(|| Some(format!("figures: {}", words.join(", "))));
             self.error(
                 "unknown-metric",
                 r.metric.span,
@@ -54,14 +46,14 @@ impl<'a> Cx<'a> {
             )
             .help = help;
             return None;
-        }
+        };
         if let Some(n) = &r.number {
-            if m != "harmonic" {
+            if figure.about() != About::Harmonic {
                 self.error("syntax", n.span, format!("'{m}' takes no number"));
                 return None;
             }
         }
-        let element = self.required_element(r, m)?;
+        let element = self.required_element(r, figure)?;
         let cmp = match r.cmp {
             CmpAst::Le => Cmp::Le,
             CmpAst::Ge => Cmp::Ge,
@@ -75,23 +67,39 @@ impl<'a> Cx<'a> {
             .collect::<Vec<_>>()
             .join(" ");
         let origin = self.origin(span);
-        if m == "harmonics" {
+        if figure.about() == About::Mask {
             if cmp != Cmp::Le {
                 self.error("syntax", r.cmp_span, "harmonics are required <= a mask");
                 return None;
             }
             let bound = self.mask_bound(r, masks)?;
             return Some(Requirement {
-                metric: Metric::Harmonics,
+                metric: Metric::of(figure),
                 cmp,
                 bound,
                 text,
                 origin,
             });
         }
-        let (metric, slot) = self.metric(r, m, element)?;
-        let v = self.value(&r.bound, slot, &format!("require {m}"))?;
-        if matches!(metric, Metric::InputVswr) && v < 1.0 {
+        let harmonic = match (figure.about(), &r.number) {
+            (About::Harmonic, Some(n)) => Some(self.integer(n, "harmonic number", 2)? as u32),
+            (About::Harmonic, None) => {
+                self.error(
+                    "syntax",
+                    r.metric.span,
+                    format!("require {m} N needs the harmonic number N (e.g. {m} 3 <= -50dBc)"),
+                );
+                return None;
+            }
+            _ => None,
+        };
+        let metric = Metric {
+            figure,
+            harmonic,
+            element,
+        };
+        let v = self.value(&r.bound, bound_slot(figure.unit()), &format!("require {m}"))?;
+        if figure == Figure::InputVswr && v < 1.0 {
             self.error(
                 "bad-value",
                 r.bound.span,
@@ -110,11 +118,12 @@ impl<'a> Cx<'a> {
 
     /// The element a figure is about: only for per-element figures, of the
     /// right kind. `Some(None)`: the figure is about the whole stage.
-    fn required_element(&mut self, r: &RequireStmt, m: &str) -> Option<Option<ElementId>> {
+    fn required_element(&mut self, r: &RequireStmt, figure: Figure) -> Option<Option<ElementId>> {
         let Some(id) = &r.element else {
             return Some(None);
         };
-        if !takes_element(m) {
+        let m = figure.word().unwrap_or("?");
+        if !figure.about().takes_element() {
             self.error(
                 "syntax",
                 id.span,
@@ -124,7 +133,7 @@ impl<'a> Cx<'a> {
         }
         let eid = self.element_ref(id, &format!("require {m}"))?;
         let k = self.elem_kind(eid);
-        if m == "stress" {
+        if figure.about() == About::RatedPart {
             if !matches!(
                 k,
                 Some(ElemKeyword::Resistor | ElemKeyword::Capacitor | ElemKeyword::Inductor)
@@ -189,49 +198,5 @@ impl<'a> Cx<'a> {
         )
         .help = help;
         None
-    }
-
-    /// The typed figure and the unit slot of its bound.
-    fn metric(
-        &mut self,
-        r: &RequireStmt,
-        m: &str,
-        element: Option<ElementId>,
-    ) -> Option<(Metric, Slot)> {
-        Some(match m {
-            "pout" => (Metric::Pout, Slot::Power),
-            "efficiency" => (Metric::Efficiency, Slot::Fraction),
-            "pae" => (Metric::Pae, Slot::Fraction),
-            "gain" => (Metric::Gain, Slot::Db),
-            "harmonic" => {
-                let Some(n) = &r.number else {
-                    self.error("syntax", r.metric.span, "require harmonic N needs the harmonic number N (e.g. harmonic 3 <= -50dBc)");
-                    return None;
-                };
-                (
-                    Metric::Harmonic(self.integer(n, "harmonic number", 2)? as u32),
-                    Slot::Db,
-                )
-            }
-            "thd" => (Metric::Thd, Slot::Fraction),
-            "input_vswr" => (Metric::InputVswr, Slot::Number),
-            "vce_peak" => (Metric::VcePeak(element), Slot::Voltage),
-            "ic_peak" => (Metric::IcPeak(element), Slot::Current),
-            "dissipation" => (Metric::Dissipation(element), Slot::Power),
-            "tj" => (Metric::JunctionTemp(element), Slot::Temperature),
-            "stress" => (Metric::Stress(element), Slot::Fraction),
-            "pdc" => (Metric::Pdc, Slot::Power),
-            "conduction" => (Metric::Conduction(element), Slot::Angle),
-            other => {
-                // Every word of METRICS is matched above; a word added there
-                // and not here is refused rather than read as another figure.
-                self.error(
-                    "unknown-metric",
-                    r.metric.span,
-                    format!("unknown figure '{other}'"),
-                );
-                return None;
-            }
-        })
     }
 }

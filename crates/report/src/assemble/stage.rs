@@ -183,7 +183,7 @@ pub fn results_json(tool: &str, file: &str, c: &Circuit, r: &StageResults) -> Va
         "transients": r.transients.iter().map(text::transient_json).collect::<Vec<_>>(),
         "ac": r.acs.iter().map(text::ac_json).collect::<Vec<_>>(),
         "steady": r.steady.as_ref().map(|s| text::steady_json(&s.solution, &s.metrics)),
-        "requirements": serde_json::to_value(&r.verdicts).unwrap_or(Value::Null),
+        "requirements": crate::format::verdicts_json(&r.verdicts),
         "caution": text::SAFETY_NOTE,
     })
 }

@@ -8,7 +8,7 @@ use tankwave_circuit::{Circuit, VaryTarget};
 use tankwave_study::{Record, RunInfo, Shard, Summary};
 
 use super::units::{element_unit, param_unit};
-use super::variant::{figure_is_fraction, figure_limit, figure_unit};
+use super::variant::{figure_limit, record_unit};
 use super::{safe_name, Drawn, NamedFigure};
 use crate::html::{Figure, Provenance, ReportInput};
 use crate::plot::{self, PlotParams};
@@ -39,12 +39,10 @@ pub fn study_figures(file: &str, c: &Circuit, records: &[Record]) -> Drawn {
         })
         .collect();
     for name in &names {
-        // fractions (efficiency, PAE, THD) are drawn in percent
-        let (scale, unit) = if figure_is_fraction(name) {
-            (100.0, "%")
-        } else {
-            (1.0, figure_unit(name))
-        };
+        // the axis unit of the figure (fractions are drawn in percent)
+        let (scale, unit) = record_unit(name)
+            .map(tankwave_measure::Unit::axis)
+            .unwrap_or((1.0, ""));
         let values: Vec<f64> = records
             .iter()
             .filter_map(|r| r.metrics.get(name).map(|v| v * scale))

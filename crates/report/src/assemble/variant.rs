@@ -1,84 +1,64 @@
 //! The named figures of a study record (laid out by
-//! `tankwave_stage::record`) for people: the unit of a flattened name, how
-//! it is shown, and the limit a `require` puts on it, for the axes of study
-//! plots.
+//! `tankwave_stage::record` from the figure catalogue) for people: the unit
+//! of a record key, how a value is shown, and the limit a `require` puts on
+//! it, for the axes of study plots. Everything here is looked up in the
+//! catalogue (`tankwave_measure::figure`), never guessed from a name.
 
 use std::collections::BTreeMap;
 
-use tankwave_circuit::{Bound, Circuit, Cmp, Metric};
+use tankwave_circuit::{Bound, Circuit, Cmp};
+use tankwave_measure::figure::{About, Figure};
+use tankwave_measure::Unit;
 
 use crate::plot::Limit;
 
 /// The unit of each `require` of the stage, keyed by requirement text as
 /// study records key their verdicts, so that margins print with it.
-pub fn requirement_units(c: &Circuit) -> BTreeMap<String, tankwave_measure::Unit> {
+pub fn requirement_units(c: &Circuit) -> BTreeMap<String, Unit> {
     c.requirements
         .iter()
         .map(|r| (r.text.clone(), tankwave_measure::metric_unit(&r.metric)))
         .collect()
 }
 
-/// Whether a flattened figure is a plain fraction (efficiency, PAE, THD),
+/// The unit a record keeps the figure of record key `name` in (`None` for
+/// a key the catalogue does not know).
+pub fn record_unit(name: &str) -> Option<Unit> {
+    Figure::from_record_key(name).map(|f| f.unit().in_records())
+}
+
+/// Whether a recorded figure is a plain fraction (efficiency, PAE, THD),
 /// which people read in percent.
 pub fn figure_is_fraction(name: &str) -> bool {
-    matches!(name, "efficiency" | "pae" | "thd")
+    record_unit(name) == Some(Unit::Fraction)
 }
 
-/// A flattened figure for people: SI prefix and unit for W, V and A, two
-/// decimals for decibels, one for degrees, percent for fractions, three
-/// significant digits for a plain ratio (VSWR).
+/// A recorded figure for people, in its unit ([`Unit::brief`]); a key the
+/// catalogue does not know is shown as a plain number.
 pub fn show_figure(name: &str, v: f64) -> String {
-    if figure_is_fraction(name) {
-        return crate::format::percent(v);
-    }
-    match figure_unit(name) {
-        u @ ("W" | "V" | "A") => crate::format::si(v, u),
-        u @ ("dBc" | "dBm" | "dB") => crate::format::fixed(v, 2, u),
-        u @ ("deg" | "degC") => crate::format::fixed(v, 1, u),
-        u => tankwave_measure::units::si_prefixed(v, u, 3),
+    match record_unit(name) {
+        Some(u) => u.brief(v),
+        None => tankwave_measure::units::si_prefixed(v, "", 3),
     }
 }
 
-/// Unit of a flattened figure, from its name's suffix (empty for a ratio).
+/// Symbol of the unit a recorded figure is kept in (empty for a fraction,
+/// a ratio or an unknown key).
 pub fn figure_unit(name: &str) -> &'static str {
-    if name.ends_with("_w") {
-        "W"
-    } else if name.ends_with("_v") {
-        "V"
-    } else if name.ends_with("_a") {
-        "A"
-    } else if name.ends_with("_dbc") {
-        "dBc"
-    } else if name.ends_with("_dbm") {
-        "dBm"
-    } else if name.ends_with("_db") {
-        "dB"
-    } else if name.ends_with("_deg") {
-        "deg"
-    } else if name.ends_with("_degc") {
-        "degC"
-    } else {
-        ""
-    }
+    record_unit(name).map(Unit::symbol).unwrap_or("")
 }
 
-/// The limit the first `require` on a flattened figure puts on it, if the
-/// figure is one of the plain ones (pout, efficiency, PAE, gain, VSWR, THD)
-/// and the bound is a number. `pass_above` is set for `>=` and `>`.
+/// The limit the first `require` on a recorded per-stage figure puts on
+/// it, if the bound is a number. `pass_above` is set for `>=` and `>`.
 pub fn figure_limit(c: &Circuit, name: &str) -> Option<Limit> {
     c.requirements.iter().find_map(|r| {
-        let key = match r.metric {
-            Metric::Pout => "pout_w",
-            Metric::Efficiency => "efficiency",
-            Metric::Pae => "pae",
-            Metric::Gain => "gain_db",
-            Metric::InputVswr => "input_vswr",
-            Metric::Thd => "thd",
-            _ => return None,
-        };
-        match (&r.bound, key == name) {
-            (Bound::Value(v), true) => Some(Limit {
-                value: *v,
+        let f = r.metric.figure;
+        if f.about() != About::Stage || f.record() != Some(name) {
+            return None;
+        }
+        match r.bound {
+            Bound::Value(v) => Some(Limit {
+                value: v,
                 label: r.text.clone(),
                 pass_above: matches!(r.cmp, Cmp::Ge | Cmp::Gt),
             }),
@@ -93,7 +73,7 @@ mod tests {
     use tankwave_circuit::Overrides;
 
     #[test]
-    fn units_from_suffixes() {
+    fn units_from_the_catalogue() {
         assert_eq!(figure_unit("pout_w"), "W");
         assert_eq!(figure_unit("q1.vce_peak_v"), "V");
         assert_eq!(figure_unit("q1.ic_peak_a"), "A");
@@ -103,6 +83,13 @@ mod tests {
         assert_eq!(figure_unit("q1.conduction_deg"), "deg");
         assert_eq!(figure_unit("q1.tj_degc"), "degC");
         assert_eq!(figure_unit("efficiency"), "");
+        assert!(figure_is_fraction("thd"));
+        assert!(!figure_is_fraction("input_vswr"));
+        assert_eq!(show_figure("q1.tj_degc", 104.96), "105.0 degC");
+        assert_eq!(show_figure("efficiency", 0.6051), "60.5 %");
+        assert_eq!(show_figure("pout_w", 14.55), "14.6 W");
+        assert_eq!(show_figure("input_vswr", 1.2345), "1.23");
+        assert_eq!(show_figure("not_a_figure", 2.5), "2.50");
     }
 
     #[test]
