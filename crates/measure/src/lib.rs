@@ -31,6 +31,7 @@
 #![deny(missing_docs)]
 
 pub mod error;
+pub mod load;
 pub mod mask;
 pub mod metrics;
 pub mod period;
@@ -39,6 +40,7 @@ pub mod units;
 pub mod verdict;
 
 pub use error::MeasureError;
+pub use load::{collector_loads, CollectorLoad, HarmonicLoad, LOAD_HARMONICS};
 pub use mask::{evaluate_mask, HarmonicRow, MaskError, MaskEvaluation};
 pub use metrics::{
     conduction, conduction_angle_deg, conduction_intervals, measure, Conduction, DriveMetrics,

@@ -31,6 +31,17 @@ pub fn percent(v: f64) -> String {
     )
 }
 
+/// A complex impedance as `R + jX` with SI prefixes, e.g.
+/// `impedance(4.0, -0.28)` → `"4.00 Ohm - j280 mOhm"`.
+pub fn impedance(re: f64, im: f64) -> String {
+    format!(
+        "{} {} j{}",
+        si(re, "Ohm"),
+        if im < 0.0 { "-" } else { "+" },
+        si(im.abs(), "Ohm")
+    )
+}
+
 /// Decibels with one decimal and a unit such as `dBc` or `dBm`; very small
 /// levels print as `< -200 dBc` instead of -inf.
 pub fn db(v: f64, unit: &str) -> String {
@@ -57,6 +68,7 @@ mod tests {
         assert_eq!(si(0.0, "V"), "0 V");
         assert_eq!(si(f64::NAN, "V"), "—");
         assert_eq!(si(250.0, "Ohm"), "250 Ohm");
+        assert_eq!(impedance(4.0, -0.28), "4.00 Ohm - j280 mOhm");
     }
 
     #[test]

@@ -49,7 +49,7 @@ pub mod periodic;
 mod spectral;
 pub mod transient;
 
-pub use ac::{ac, AcParams, AcResult};
+pub use ac::{ac, impedance_without, AcParams, AcResult};
 pub use error::{SolveError, When};
 pub use linalg::LinearSolver;
 pub use newton::Tolerances;

@@ -53,6 +53,8 @@ pub use drive::{scale_drive, DriveError};
 pub use error::StageError;
 pub use load::{input_files, load, load_source, Stage};
 pub use masks::{mask_evaluations, MaskEvaluations, MaskFailure};
-pub use solve::{measure, solve, Caps, Scope, SolveOptions, StageResults, SteadyOutcome};
+pub use solve::{
+    collector_loads, measure, solve, Caps, Scope, SolveOptions, StageResults, SteadyOutcome,
+};
 pub use tankwave_circuit::StageSource;
 pub use variant::{solve_variant, study_outcome, tune_figures, VariantSolution};
