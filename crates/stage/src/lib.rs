@@ -13,6 +13,8 @@
 //!   warm-started, measured ([`measure()`]) and its requirements evaluated,
 //!   into [`StageResults`]; [`Caps`] bound the work for unchecked input;
 //! - [`mask_evaluations`]: the emission masks the requirements name;
+//! - [`mismatch`]: the output load moved around circles of constant VSWR,
+//!   each load solved with a warm start, the worst case of each requirement;
 //! - [`scale_drive`]: the drive of a reduced-drive search;
 //! - [`variant`]: the per-variant work of studies and tuning runs, and
 //!   [`record`]: the layout of a study record.
@@ -45,6 +47,7 @@ pub mod drive;
 pub mod error;
 pub mod load;
 pub mod masks;
+pub mod mismatch;
 pub mod record;
 pub mod solve;
 pub mod variant;
