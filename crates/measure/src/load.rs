@@ -134,7 +134,7 @@ fn impedance(v: Complex64, i: Complex64, floor_a: f64) -> (Option<Impedance>, Op
             floor_a
         ))
     };
-    if !(i.norm() >= floor_a) {
+    if i.norm().is_nan() || i.norm() < floor_a {
         return (None, unresolved());
     }
     let z = -v / i;

@@ -101,7 +101,7 @@ mod tests {
         let r = rows(std::slice::from_ref(&l));
         assert_eq!(r[0][5], "4.00 Ohm - j280 mOhm");
         assert_eq!(r[1][5], "not resolved (ic below 100 µA)");
-        let t = loads_text(&[l.clone()]);
+        let t = loads_text(std::slice::from_ref(&l));
         assert!(t.contains("13.6 MHz") && t.contains("not resolved"));
         let j = loads_json(&[l]);
         assert_eq!(j[0]["harmonics"][1]["z"], Value::Null);
