@@ -140,6 +140,7 @@ fn conduction_angle_stays_continuous_into_saturation() {
         let SteadyOutcome {
             solution: s,
             metrics: m,
+            ..
         } = steady_outcome(&c);
         let q = &m.transistors[0];
         seen.push((

@@ -35,6 +35,7 @@
 
 pub mod error;
 pub mod figure;
+pub mod load;
 pub mod mask;
 pub mod metrics;
 pub mod period;
@@ -44,6 +45,7 @@ pub mod verdict;
 
 pub use error::MeasureError;
 pub use figure::{About, Figure};
+pub use load::{collector_loads, CollectorLoad, HarmonicLoad, LOAD_HARMONICS};
 pub use mask::{evaluate_mask, HarmonicRow, MaskError, MaskEvaluation};
 pub use metrics::{
     conduction, conduction_angle_deg, conduction_intervals, measure, Conduction, DriveMetrics,

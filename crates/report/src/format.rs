@@ -14,6 +14,17 @@ pub use tankwave_measure::units::fixed;
 /// `percent(0.7538)` → `"75.4 %"`.
 pub use tankwave_measure::units::percent;
 
+/// A complex impedance as `R + jX` with SI prefixes, e.g.
+/// `impedance(4.0, -0.28)` → `"4.00 Ohm - j280 mOhm"`.
+pub fn impedance(re: f64, im: f64) -> String {
+    format!(
+        "{} {} j{}",
+        si(re, "Ohm"),
+        if im < 0.0 { "-" } else { "+" },
+        si(im.abs(), "Ohm")
+    )
+}
+
 /// Decibels with one decimal and a unit such as `dBc` or `dBm`; very small
 /// levels print as `< -200 dBc` instead of -inf.
 pub fn db(v: f64, unit: &str) -> String {
@@ -90,6 +101,7 @@ mod tests {
         assert_eq!(si(0.0, "V"), "0 V");
         assert_eq!(si(f64::NAN, "V"), "—");
         assert_eq!(si(250.0, "Ohm"), "250 Ohm");
+        assert_eq!(impedance(4.0, -0.28), "4.00 Ohm - j280 mOhm");
     }
 
     #[test]

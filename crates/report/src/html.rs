@@ -16,7 +16,7 @@
 //! "nominal stage") or left out.
 
 use tankwave_circuit::{Circuit, Scale};
-use tankwave_measure::{MaskEvaluation, Metrics, Verdict};
+use tankwave_measure::{CollectorLoad, MaskEvaluation, Metrics, Verdict};
 use tankwave_solve::{AcResult, PeriodicSolution, TransientResult};
 
 use crate::format::{db, fixed, si};
@@ -102,6 +102,9 @@ pub struct ReportInput<'a> {
     pub solution: Option<&'a PeriodicSolution>,
     /// Figures measured from it.
     pub metrics: Option<&'a Metrics>,
+    /// The load each transistor's collector sees at the fundamental and
+    /// harmonics (empty: no section).
+    pub loads: &'a [CollectorLoad],
     /// Requirement verdicts.
     pub verdicts: &'a [Verdict],
     /// Emission masks evaluated against the output.
@@ -434,6 +437,27 @@ fn stress_section(out: &mut String, m: &Metrics, label: Option<&str>) {
     }
 }
 
+fn loads_section(out: &mut String, loads: &[CollectorLoad], label: Option<&str>) {
+    if loads.is_empty() {
+        return;
+    }
+    h2(out, "collector-load", "Load seen by the collector", label);
+    out.push_str(
+        "<p>Z = −V<sub>ce,n</sub> / I<sub>c,n</sub> at each harmonic: the impedance of the \
+         network outside the transistor, seen from its collector (docs/measurements.md).</p>\n",
+    );
+    table_open(out, &crate::loads::HEADER);
+    for r in crate::loads::rows(loads) {
+        let cells: Vec<(&str, String)> = r
+            .into_iter()
+            .enumerate()
+            .map(|(k, c)| (if k == 0 { "" } else { "num" }, c))
+            .collect();
+        row(out, &cells);
+    }
+    table_close(out);
+}
+
 /// The whole report as one HTML document.
 pub fn stage_report(input: &ReportInput<'_>) -> String {
     let mut out = String::with_capacity(64 * 1024);
@@ -570,6 +594,7 @@ pub fn stage_report(input: &ReportInput<'_>) -> String {
         if let Some(m) = input.metrics {
             stress_section(&mut out, m, label);
         }
+        loads_section(&mut out, input.loads, label);
     }
 
     out.push_str("<h2 id=\"safety\">Safety</h2>\n");

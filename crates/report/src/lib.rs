@@ -31,6 +31,7 @@ pub mod check;
 pub mod files;
 pub mod format;
 pub mod html;
+pub mod loads;
 pub mod outputs;
 pub mod overview;
 pub mod plot;

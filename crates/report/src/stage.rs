@@ -759,12 +759,7 @@ pub(crate) fn headline_rows(m: &Metrics) -> Vec<(String, String)> {
         if let Some(z) = d.z_in {
             rows.push((
                 "input impedance".into(),
-                format!(
-                    "{} {} j{}",
-                    si(z.re, "Ohm"),
-                    if z.im < 0.0 { "-" } else { "+" },
-                    si(z.im.abs(), "Ohm")
-                ),
+                crate::format::impedance(z.re, z.im),
             ));
         }
         if let Some(v) = d.vswr {

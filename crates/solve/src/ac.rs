@@ -18,7 +18,7 @@ use crate::linalg::solve_complex;
 use crate::op::{operating_point, OpParams, OpResult};
 use crate::SolveError;
 use num_complex::Complex64;
-use tankwave_circuit::{Analysis, Circuit, ElementId, Scale};
+use tankwave_circuit::{Analysis, Circuit, ElementId, NodeId, Scale};
 use tankwave_devices::{DenseStamp, DeviceSet, EvalCtx, Filter};
 
 /// Options of an AC sweep.
@@ -203,7 +203,7 @@ pub fn ac(
     }
     let impedance = match p.impedance_at {
         None => None,
-        Some(e) => Some(impedance_sweep(
+        Some(e) => Some(element_impedance_sweep(
             circuit, devices, &op.x, &ctx, &st, e, &freq,
         )?),
     };
@@ -258,7 +258,38 @@ fn solve_at(
     Ok(x)
 }
 
-fn impedance_sweep(
+/// The small-signal impedance between nodes `port.0` and `port.1` of
+/// `circuit` with element `removed` taken out, at each frequency in `freq`,
+/// Ω: linearised at the operating point (sources' time-varying parts off),
+/// a unit current injected into `port.0` and drawn from `port.1`, every
+/// source off, `Z = V(port.0) − V(port.1)`. For a transistor removed and its
+/// collector and emitter as the port, this is the impedance of the
+/// collector's external network (the check of the collector load figures,
+/// docs/measurements.md).
+pub fn impedance_without(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    removed: ElementId,
+    port: (NodeId, NodeId),
+    freq: &[f64],
+) -> Result<Vec<Complex64>, SolveError> {
+    let p = AcParams::default();
+    let op = operating_point(circuit, devices, &p.op)?;
+    let ctx = EvalCtx {
+        time: p.op.time,
+        wave_scale: p.op.wave_scale,
+        junction_leak: p.op.junction_leak,
+        limit: false,
+        ..EvalCtx::default()
+    };
+    let mut st = DenseStamp::new(devices.n_unknowns);
+    let mut state = devices.initial_state();
+    devices.eval_all(&op.x, &ctx, &mut state, &mut st, Filter::All);
+    let name = element_name(circuit, removed);
+    impedance_sweep(devices, &op.x, &ctx, &st, removed, &name, port, freq)
+}
+
+fn element_impedance_sweep(
     circuit: &Circuit,
     devices: &DeviceSet,
     x: &[f64],
@@ -267,7 +298,6 @@ fn impedance_sweep(
     e: ElementId,
     freq: &[f64],
 ) -> Result<Vec<Complex64>, SolveError> {
-    let n = devices.n_unknowns;
     let el = circuit
         .elements
         .get(e)
@@ -280,10 +310,34 @@ fn impedance_sweep(
             terms.len()
         )));
     }
+    impedance_sweep(
+        devices,
+        x,
+        ctx,
+        full,
+        e,
+        &el.name,
+        (terms[0], terms[1]),
+        freq,
+    )
+}
+
+#[allow(clippy::too_many_arguments)]
+fn impedance_sweep(
+    devices: &DeviceSet,
+    x: &[f64],
+    ctx: &EvalCtx,
+    full: &DenseStamp,
+    e: ElementId,
+    name: &str,
+    port: (NodeId, NodeId),
+    freq: &[f64],
+) -> Result<Vec<Complex64>, SolveError> {
+    let n = devices.n_unknowns;
+    let terms = [port.0, port.1];
     if terms[0] == terms[1] {
         return Err(SolveError::BadParams(format!(
-            "element '{}' has both terminals on one node",
-            el.name
+            "the impedance port at '{name}' has both terminals on one node"
         )));
     }
     // Contributions of the element's own devices, to be removed.
@@ -324,14 +378,13 @@ fn impedance_sweep(
                 Some(e) => *e += v,
                 None => {
                     return Err(SolveError::BadParams(format!(
-                        "element '{}' names node #{k} outside the {n} unknowns",
-                        el.name
+                        "the port at '{name}' names node #{k} outside the {n} unknowns"
                     )))
                 }
             }
         }
     }
-    let what = format!("impedance at '{}'", el.name);
+    let what = format!("impedance at '{name}'");
     let mut z = Vec::with_capacity(freq.len());
     for &f in freq {
         let v = solve_at(devices, &g, &c, f, &b, &what)?;
@@ -339,6 +392,5 @@ fn impedance_sweep(
         let vb = terms[1].and_then(|k| v.get(k).copied()).unwrap_or_default();
         z.push(va - vb);
     }
-    let _ = circuit;
     Ok(z)
 }

@@ -51,7 +51,7 @@ pub mod singular;
 mod spectral;
 pub mod transient;
 
-pub use ac::{ac, AcParams, AcResult};
+pub use ac::{ac, impedance_without, AcParams, AcResult};
 pub use error::{SolveError, When};
 pub use linalg::LinearSolver;
 pub use newton::Tolerances;

@@ -46,6 +46,10 @@ pub enum StageError {
     /// The steady state solved but could not be measured.
     #[error("measuring the steady state: {0}")]
     Measure(#[source] MeasureError),
+    /// A mismatch sweep cannot be set up for this stage (no output
+    /// resistor, a bad circle).
+    #[error("mismatch sweep: {0}")]
+    Mismatch(String),
 }
 
 impl StageError {
@@ -59,6 +63,7 @@ impl StageError {
                 | StageError::RequirementsWithoutSteady
                 | StageError::NoSteady
                 | StageError::Drive(_)
+                | StageError::Mismatch(_)
         )
     }
 }

@@ -13,6 +13,8 @@
 //!   warm-started, measured ([`measure()`]) and its requirements evaluated,
 //!   into [`StageResults`]; [`Caps`] bound the work for unchecked input;
 //! - [`mask_evaluations`]: the emission masks the requirements name;
+//! - [`mismatch`]: the output load moved around circles of constant VSWR,
+//!   each load solved with a warm start, the worst case of each requirement;
 //! - [`scale_drive`]: the drive of a reduced-drive search;
 //! - [`variant`]: the per-variant work of studies and tuning runs, and
 //!   [`record`]: the layout of a study record.
@@ -45,6 +47,7 @@ pub mod drive;
 pub mod error;
 pub mod load;
 pub mod masks;
+pub mod mismatch;
 pub mod record;
 pub mod solve;
 pub mod variant;
@@ -53,6 +56,8 @@ pub use drive::{apply_context, scale_drive, DriveError};
 pub use error::StageError;
 pub use load::{input_files, load, load_source, Stage};
 pub use masks::{mask_evaluations, MaskEvaluations, MaskFailure};
-pub use solve::{measure, solve, Caps, Scope, SolveOptions, StageResults, SteadyOutcome};
+pub use solve::{
+    collector_loads, measure, solve, Caps, Scope, SolveOptions, StageResults, SteadyOutcome,
+};
 pub use tankwave_circuit::StageSource;
 pub use variant::{solve_variant, study_outcome, tune_figures, VariantSolution};

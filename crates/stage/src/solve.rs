@@ -6,7 +6,7 @@
 
 use tankwave_circuit::{Analysis, Circuit};
 use tankwave_devices::DeviceSet;
-use tankwave_measure::{MeasureParams, Metrics, PeriodData, Verdict};
+use tankwave_measure::{CollectorLoad, MeasureParams, Metrics, PeriodData, Verdict};
 use tankwave_solve::{
     AcParams, AcResult, OpParams, OpResult, PeriodicSolution, SteadyParams, TransientParams,
     TransientResult,
@@ -21,6 +21,9 @@ pub struct SteadyOutcome {
     pub solution: PeriodicSolution,
     /// Figures measured on it.
     pub metrics: Metrics,
+    /// The load each transistor's collector sees at the fundamental and
+    /// harmonics 2..5 ([`tankwave_measure::load`]).
+    pub loads: Vec<CollectorLoad>,
 }
 
 impl SteadyOutcome {
@@ -224,7 +227,12 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
                     .map_err(StageError::from)
                     .and_then(|solution| {
                         let metrics = measure(circuit, &solution)?;
-                        Ok(SteadyOutcome { solution, metrics })
+                        let loads = collector_loads(circuit, &solution)?;
+                        Ok(SteadyOutcome {
+                            solution,
+                            metrics,
+                            loads,
+                        })
                     });
                 match solved {
                     Ok(s) => res.steady = Some(s),
@@ -268,16 +276,29 @@ fn cap_steady(p: &mut SteadyParams, c: &Caps) {
     p.settle.max_periods = p.settle.max_periods.min(c.max_settle_periods);
 }
 
-/// Measure a periodic solution of `circuit`.
-pub fn measure(circuit: &Circuit, s: &PeriodicSolution) -> Result<Metrics, StageError> {
+/// The measurement's view of a periodic solution of `circuit`.
+fn period_data<'a>(circuit: &'a Circuit, s: &'a PeriodicSolution) -> PeriodData<'a> {
     let n_nodes = circuit.nodes.len().min(s.x.len());
-    let data = PeriodData {
+    PeriodData {
         circuit,
         freq: s.freq,
         node_voltages: &s.x[..n_nodes],
         terminal_currents: &s.terminal_currents,
         transport_currents: &s.transport_currents,
         harmonics: s.harmonics,
-    };
-    tankwave_measure::measure(&data, &MeasureParams::default()).map_err(StageError::Measure)
+    }
+}
+
+/// Measure a periodic solution of `circuit`.
+pub fn measure(circuit: &Circuit, s: &PeriodicSolution) -> Result<Metrics, StageError> {
+    tankwave_measure::measure(&period_data(circuit, s), &MeasureParams::default())
+        .map_err(StageError::Measure)
+}
+
+/// The collector load of every transistor of a periodic solution of `circuit`.
+pub fn collector_loads(
+    circuit: &Circuit,
+    s: &PeriodicSolution,
+) -> Result<Vec<CollectorLoad>, StageError> {
+    tankwave_measure::collector_loads(&period_data(circuit, s)).map_err(StageError::Measure)
 }

@@ -110,6 +110,7 @@ pub fn stage_report(
         circuit: Some(c),
         solution: r.steady.as_ref().map(|s| &s.solution),
         metrics: r.steady.as_ref().map(|s| &s.metrics),
+        loads: r.steady.as_ref().map(|s| s.loads.as_slice()).unwrap_or(&[]),
         verdicts: &r.verdicts,
         masks: &masks,
         transient: r.transients.first(),
@@ -153,6 +154,11 @@ pub fn results_text(file: &str, c: &Circuit, r: &StageResults, verbose: bool) ->
     }
     if let Some(st) = &r.steady {
         s.push_str(&text::steady_text(c, &st.solution, &st.metrics, verbose));
+        let loads = crate::loads::loads_text(&st.loads);
+        if !loads.is_empty() {
+            s.push('\n');
+            s.push_str(&loads);
+        }
         s.push('\n');
     }
     if !r.verdicts.is_empty() {
@@ -182,7 +188,13 @@ pub fn results_json(tool: &str, file: &str, c: &Circuit, r: &StageResults) -> Va
         "op": r.op.as_ref().map(text::op_json),
         "transients": r.transients.iter().map(text::transient_json).collect::<Vec<_>>(),
         "ac": r.acs.iter().map(text::ac_json).collect::<Vec<_>>(),
-        "steady": r.steady.as_ref().map(|s| text::steady_json(&s.solution, &s.metrics)),
+        "steady": r.steady.as_ref().map(|s| {
+            let mut j = text::steady_json(&s.solution, &s.metrics);
+            if let Some(o) = j.as_object_mut() {
+                o.insert("collector_loads".into(), crate::loads::loads_json(&s.loads));
+            }
+            j
+        }),
         "requirements": crate::format::verdicts_json(&r.verdicts),
         "caution": text::SAFETY_NOTE,
     })

@@ -243,6 +243,7 @@ pub fn study_report(c: &Circuit, r: StudyReport<'_>) -> String {
         circuit: Some(c),
         solution: steady.map(|s| &s.solution),
         metrics: steady.map(|s| &s.metrics),
+        loads: steady.map(|s| s.loads.as_slice()).unwrap_or(&[]),
         verdicts: res.map(|x| x.verdicts.as_slice()).unwrap_or(&[]),
         masks: &masks,
         transient: None,
