@@ -65,13 +65,12 @@ fn handles_and_names_agree_on_every_demo_unknown() {
                 }
                 None => assert!(!has_branch, "{}: {} lacks its branch", f.display(), el.name),
             }
-            let tags = ["c", "b", "e"];
-            for t in 0..el.kind.terminals().len() {
+            let tags = match el.kind {
+                ElementKind::Diode { .. } => ["a", "k", ""],
+                _ => ["c", "b", "e"],
+            };
+            for (t, tag) in tags.iter().enumerate().take(el.kind.terminals().len()) {
                 if let Some(u) = d.internal_of(id.terminal(t)) {
-                    let tag = match el.kind {
-                        ElementKind::Diode { .. } => "a",
-                        _ => tags[t],
-                    };
                     assert_eq!(d.name(u), names::internal_node(&el.name, tag));
                     assert_eq!(d.kind(u), UnknownKind::Voltage);
                     reached.push(u);

@@ -72,7 +72,8 @@ fn every_demo_choke_has_many_times_the_collector_load_reactance() {
             let vc: Vec<f64> = (0..s.samples_per_period)
                 .map(|i| UnknownId::voltage(coll).map_or(0.0, |u| s.wave(u)[i]))
                 .collect();
-            let r_load = fundamental(&vc) / fundamental(s.terminal_current(qi.terminal(0)).unwrap());
+            let r_load =
+                fundamental(&vc) / fundamental(s.terminal_current(qi.terminal(0)).unwrap());
             // the feed choke: an inductor from the collector node to a node held by a source
             let chokes: Vec<(ElementId, f64)> = c
                 .element_ids()

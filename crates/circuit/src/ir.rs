@@ -755,7 +755,12 @@ impl Metric {
         }
         if let Some(i) = self.element {
             s.push(' ');
-            s.push_str(c.elements.get(i.index()).map(|e| e.name.as_str()).unwrap_or("?"));
+            s.push_str(
+                c.elements
+                    .get(i.index())
+                    .map(|e| e.name.as_str())
+                    .unwrap_or("?"),
+            );
         }
         s
     }

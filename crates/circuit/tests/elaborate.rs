@@ -317,7 +317,10 @@ fn coupling_and_sweeps() {
     let c = &e.circuit;
     match elem(c, "k1") {
         ElementKind::Coupling { inductors, k } => {
-            assert_eq!(inductors, &vec![c.element("l1").unwrap(), c.element("l2").unwrap()]);
+            assert_eq!(
+                inductors,
+                &vec![c.element("l1").unwrap(), c.element("l2").unwrap()]
+            );
             assert_eq!(inductors[0].index(), 1);
             assert_eq!(*k, 0.98);
         }

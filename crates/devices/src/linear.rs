@@ -23,8 +23,7 @@
 //! flowing from p through the source to n).
 
 use crate::contract::{
-    UnknownId,
-    stamp_capacitance, stamp_conductance, val, Device, EvalCtx, EvalInfo, Idx, Stamp,
+    stamp_capacitance, stamp_conductance, val, Device, EvalCtx, EvalInfo, Idx, Stamp, UnknownId,
 };
 use crate::figure::OpFigure;
 use crate::waveform::{breakpoints, Waveform as _};

@@ -3,10 +3,10 @@
 
 mod common;
 use common::*;
-use tankwave_circuit::ir::{ModelId, NodeId, 
-    BjtParams, DiodeParams, ElementKind, Model, ModelParams, Origin, Waveform,
+use tankwave_circuit::ir::{
+    BjtParams, DiodeParams, ElementKind, Model, ModelId, ModelParams, NodeId, Origin, Waveform,
 };
-use tankwave_devices::{UnknownId, instantiate, DeviceError, UnknownKind};
+use tankwave_devices::{instantiate, DeviceError, UnknownId, UnknownKind};
 
 fn model(name: &str, params: ModelParams) -> Model {
     Model {
@@ -120,7 +120,11 @@ fn extra_unknowns_follow_element_order() {
     assert_eq!(off, set.state_len);
     assert_eq!(set.initial_state().len(), set.state_len);
     // Every device knows its element; terminals are the external ones.
-    let q2 = set.devices.iter().find(|d| d.element().index() == 4).unwrap();
+    let q2 = set
+        .devices
+        .iter()
+        .find(|d| d.element().index() == 4)
+        .unwrap();
     assert_eq!(q2.terminals(), &[Some(2), Some(1), None]);
     // The handles find the same unknowns the names say (the names are for
     // display only; code goes through the handles).
@@ -135,11 +139,20 @@ fn extra_unknowns_follow_element_order() {
     assert_eq!(set.voltage_of(NodeId::node(3)), None);
     assert_eq!(at(set.branch_of(el("vdrv"))), Some("I[vdrv]".into()));
     assert_eq!(at(set.branch_of(el("lc"))), Some("I[lc]".into()));
-    assert_eq!(set.kind(set.branch_of(el("lc")).unwrap()), UnknownKind::Current);
+    assert_eq!(
+        set.kind(set.branch_of(el("lc")).unwrap()),
+        UnknownKind::Current
+    );
     assert_eq!(set.branch_of(el("d1")), None);
-    assert_eq!(at(set.internal_of(el("d1").terminal(0))), Some("V[d1:a']".into()));
+    assert_eq!(
+        at(set.internal_of(el("d1").terminal(0))),
+        Some("V[d1:a']".into())
+    );
     assert_eq!(set.internal_of(el("d1").terminal(1)), None);
-    assert_eq!(at(set.internal_of(el("q1").terminal(1))), Some("V[q1:b']".into()));
+    assert_eq!(
+        at(set.internal_of(el("q1").terminal(1))),
+        Some("V[q1:b']".into())
+    );
     assert_eq!(set.internal_of(el("q1").terminal(0)), None);
     for (t, tag) in [(0, "c"), (1, "b"), (2, "e")] {
         let u = set.internal_of(el("q2").terminal(t));

@@ -167,7 +167,11 @@ fn ac0_solve(set: &tankwave_devices::DeviceSet, src: usize) -> Vec<f64> {
     let n = set.n_unknowns;
     let s = stamp_all(set, &vec![0.0; n], &EvalCtx::default());
     let mut b = vec![0.0; n];
-    let d = set.devices.iter().find(|d| d.element().index() == src).unwrap();
+    let d = set
+        .devices
+        .iter()
+        .find(|d| d.element().index() == src)
+        .unwrap();
     d.ac_excitation(&mut |r, v| b[r] += v);
     solve(s.g.clone(), b)
 }
@@ -285,7 +289,11 @@ fn coupling_adds_mutual_fluxes() {
     );
     let set = instantiate(&c).unwrap();
     assert_eq!(set.n_unknowns, 6);
-    let k = set.devices.iter().find(|d| d.element() == ElementId::new(0)).unwrap();
+    let k = set
+        .devices
+        .iter()
+        .find(|d| d.element() == ElementId::new(0))
+        .unwrap();
     assert!(k.terminals().is_empty());
     let x = [0.0, 0.0, 0.0, 1.0, 2.0, 3.0];
     let s = stamp(k.as_ref(), 6, &x, &EvalCtx::default());
@@ -453,7 +461,11 @@ fn ac_solve(set: &tankwave_devices::DeviceSet, src: usize, w: f64) -> (Vec<f64>,
         }
     }
     let mut b = vec![0.0; m];
-    let d = set.devices.iter().find(|d| d.element().index() == src).unwrap();
+    let d = set
+        .devices
+        .iter()
+        .find(|d| d.element().index() == src)
+        .unwrap();
     d.ac_excitation(&mut |r, v| b[r] += v);
     let x = solve(a, b);
     (x[..n].to_vec(), x[n..].to_vec())

@@ -3,9 +3,9 @@
 //! K = 32 harmonics, and the same at N = 4096, then judging a mask.
 
 use std::f64::consts::PI;
+use std::hint::black_box;
 #[allow(unused_imports)]
 use tankwave_circuit::handle::*;
-use std::hint::black_box;
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
 use tankwave_circuit::Figure;

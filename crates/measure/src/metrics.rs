@@ -931,7 +931,11 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
                         note(
                             &mut notes,
                             &format!("tj {}", el.name),
-                            format!("model #{} of {} is not a bipolar model", model.index(), el.name),
+                            format!(
+                                "model #{} of {} is not a bipolar model",
+                                model.index(),
+                                el.name
+                            ),
                         );
                         None
                     }

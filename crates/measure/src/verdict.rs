@@ -142,7 +142,10 @@ fn transistor_candidates(
         return Err(match sel {
             Some(i) => format!(
                 "element {} is not a bipolar transistor",
-                c.elements.get(i.index()).map(|e| e.name.as_str()).unwrap_or("?")
+                c.elements
+                    .get(i.index())
+                    .map(|e| e.name.as_str())
+                    .unwrap_or("?")
             ),
             None => "the circuit has no bipolar transistor".to_string(),
         });
@@ -182,7 +185,10 @@ fn stress_candidates(
         return Err(match sel {
             Some(i) => format!(
                 "element {} has no rating to compare with",
-                c.elements.get(i.index()).map(|e| e.name.as_str()).unwrap_or("?")
+                c.elements
+                    .get(i.index())
+                    .map(|e| e.name.as_str())
+                    .unwrap_or("?")
             ),
             None => "no element in the circuit carries a rating".to_string(),
         });

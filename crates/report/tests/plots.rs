@@ -6,9 +6,9 @@
 mod plots_support;
 
 use plots_support::*;
+use tankwave_circuit::ElementId;
 use tankwave_report::html::{stage_report, AcView, Figure, Provenance, ReportInput, StudySection};
 use tankwave_report::plot::{self, PlotParams};
-use tankwave_circuit::ElementId;
 
 fn params() -> PlotParams {
     PlotParams::for_source("demo-stage.tw")

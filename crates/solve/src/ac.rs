@@ -299,15 +299,9 @@ fn element_impedance_sweep(
     e: ElementId,
     freq: &[f64],
 ) -> Result<Vec<Complex64>, SolveError> {
-    let el = circuit
-        .elements
-        .get(e.index())
-        .ok_or_else(|| {
-            SolveError::BadParams(format!(
-                "impedance element #{} does not exist",
-                e.index()
-            ))
-        })?;
+    let el = circuit.elements.get(e.index()).ok_or_else(|| {
+        SolveError::BadParams(format!("impedance element #{} does not exist", e.index()))
+    })?;
     let terms = el.kind.terminals();
     if terms.len() != 2 {
         return Err(SolveError::BadParams(format!(

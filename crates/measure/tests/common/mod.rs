@@ -61,7 +61,13 @@ pub fn nid(i: Option<usize>) -> NodeId {
     i.map(NodeId::node).unwrap_or(NodeId::GROUND)
 }
 
-pub fn resistor(name: &str, a: Option<usize>, b: Option<usize>, r: f64, rating_w: Option<f64>) -> Element {
+pub fn resistor(
+    name: &str,
+    a: Option<usize>,
+    b: Option<usize>,
+    r: f64,
+    rating_w: Option<f64>,
+) -> Element {
     el(
         name,
         ElementKind::Resistor {
@@ -85,7 +91,13 @@ pub fn vsource(name: &str, p: Option<usize>, n: Option<usize>, dc: f64, rs: f64)
     )
 }
 
-pub fn bjt(name: &str, c: Option<usize>, b: Option<usize>, e: Option<usize>, model: usize) -> Element {
+pub fn bjt(
+    name: &str,
+    c: Option<usize>,
+    b: Option<usize>,
+    e: Option<usize>,
+    model: usize,
+) -> Element {
     el(
         name,
         ElementKind::Bjt {

@@ -81,8 +81,8 @@ pub fn period_plot(
         .get(element.index())
         .ok_or(PlotError::NoElement {
             index: element.index(),
-        count: circuit.elements.len(),
-    })?;
+            count: circuit.elements.len(),
+        })?;
     let ElementKind::Bjt { c, b, e, model, .. } = &el.kind else {
         return Err(PlotError::NotTransistor {
             element: el.name.clone(),

@@ -79,10 +79,13 @@ pub fn startup_plot(
         what: "output element".into(),
         why: "the circuit names no output element".into(),
     })?;
-    let el = circuit.elements.get(id.index()).ok_or(PlotError::NoElement {
-        index: id.index(),
-        count: circuit.elements.len(),
-    })?;
+    let el = circuit
+        .elements
+        .get(id.index())
+        .ok_or(PlotError::NoElement {
+            index: id.index(),
+            count: circuit.elements.len(),
+        })?;
     let terms = el.kind.terminals();
     let (a, b) = match (terms.first(), terms.get(1)) {
         (Some(a), Some(b)) => (

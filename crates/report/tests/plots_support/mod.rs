@@ -6,10 +6,10 @@ use std::f64::consts::PI;
 
 use num_complex::Complex64;
 use tankwave_circuit::handle::{ElementId, ModelId, NodeId};
-use tankwave_devices::UnknownKind;
 use tankwave_circuit::{
     BjtParams, Circuit, Element, ElementKind, Model, ModelParams, Origin, SteadyMethod,
 };
+use tankwave_devices::UnknownKind;
 use tankwave_measure::{
     HarmonicPower, HarmonicRow, MaskEvaluation, Metrics, OutputMetrics, StressQuantity, StressRow,
     TransistorMetrics, Unit, Verdict,

@@ -81,9 +81,7 @@ impl PeriodicSolution {
     }
     /// The transport current of element `e` over the period, if it has one.
     pub fn transport_current(&self, e: ElementId) -> Option<&[f64]> {
-        self.transport_currents
-            .get(e.index())?
-            .as_deref()
+        self.transport_currents.get(e.index())?.as_deref()
     }
 }
 
