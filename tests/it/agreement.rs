@@ -12,7 +12,8 @@
 //! 500 periods.
 
 use std::path::PathBuf;
-use tankwave_circuit::{Circuit, ElementKind, Overrides, SteadyMethod};
+use tankwave_circuit::{Circuit, ElementKind, NodeId, Overrides, SteadyMethod};
+use tankwave_devices::UnknownId;
 use tankwave_solve::{PeriodicSolution, SteadyParams, TransientParams};
 
 fn demo_stages() -> Vec<PathBuf> {
@@ -27,7 +28,7 @@ fn demo_stages() -> Vec<PathBuf> {
 }
 
 /// The output resistor's terminals and resistance.
-fn output_resistor(c: &Circuit) -> (Option<usize>, Option<usize>, f64) {
+fn output_resistor(c: &Circuit) -> (NodeId, NodeId, f64) {
     let e = &c.elements[c.output.expect("output element")];
     match e.kind {
         ElementKind::Resistor { a, b, r, .. } => (a, b, r),
@@ -53,8 +54,8 @@ fn harmonic_powers(v: &[f64], r: f64, k: usize) -> Vec<f64> {
         .collect()
 }
 
-fn across(sol: &PeriodicSolution, a: Option<usize>, b: Option<usize>) -> Vec<f64> {
-    let get = |n: Option<usize>, i: usize| n.map(|k| sol.x[k][i]).unwrap_or(0.0);
+fn across(sol: &PeriodicSolution, a: NodeId, b: NodeId) -> Vec<f64> {
+    let get = |n: NodeId, i: usize| UnknownId::voltage(n).map_or(0.0, |u| sol.wave(u)[i]);
     (0..sol.samples_per_period)
         .map(|i| get(a, i) - get(b, i))
         .collect()
@@ -116,7 +117,7 @@ fn balance_shooting_and_a_long_transient_agree_on_every_demo_stage() {
         let t0 = 499.0 / f0;
         let grid: Vec<f64> = (0..n).map(|i| t0 + i as f64 / (f0 * n as f64)).collect();
         let x = t.resample(&grid);
-        let get = |node: Option<usize>, i: usize| node.map(|q| x[i][q]).unwrap_or(0.0);
+        let get = |node: NodeId, i: usize| d.voltage_of(node).map_or(0.0, |u| x[i][u.index()]);
         let v: Vec<f64> = (0..n).map(|i| get(a, i) - get(b, i)).collect();
         let tr = harmonic_powers(&v, r, 1);
         let dt = (db(tr[0]) - db(hb[0])).abs();

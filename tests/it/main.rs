@@ -2,7 +2,8 @@
 //! `bad_input`), agreement of the steady-state methods on every demo stage
 //! (`agreement`), the convergence sweep over the class-C demo
 //! (`convergence`), and a bounded solve of random small circuits
-//! (`fuzz_smoke`), the demo outputs against golden files (`golden`),
+//! (`fuzz_smoke`), the demo outputs against golden files (`golden`), the
+//! typed handles against the displayed names on every demo (`handles`),
 //! hostile input from strangers (`hostile`), the crate layering and
 //! syntax-tree boundary (`layering`), and the README commands as written
 //! (`readme`). Data lives under
@@ -14,6 +15,7 @@ mod cli;
 mod convergence;
 mod fuzz_smoke;
 mod golden;
+mod handles;
 mod harness;
 mod hostile;
 mod layering;

@@ -5,7 +5,8 @@
 //! collector load resistance.
 
 use std::path::PathBuf;
-use tankwave_circuit::{Circuit, ElementKind, Overrides};
+use tankwave_circuit::{Circuit, ElementId, ElementKind, Overrides};
+use tankwave_devices::UnknownId;
 use tankwave_stage::{Scope, SolveOptions, SteadyOutcome};
 
 fn load(name: &str) -> Circuit {
@@ -47,7 +48,7 @@ fn self_biased_class_c_stage_conducts_for_less_than_half_a_cycle() {
     let c = load("ism-13m56-classc.tank");
     let s = steady(&c);
     let q = c.element("q1").unwrap();
-    let ic = &s.terminal_currents[q][0];
+    let ic = s.terminal_current(q.terminal(0)).unwrap();
     let angle = tankwave_measure::conduction_angle_deg(ic, 0.05);
     assert!(angle < 180.0, "conduction angle {angle:.1} deg");
 }
@@ -63,20 +64,19 @@ fn every_demo_choke_has_many_times_the_collector_load_reactance() {
         let c = load(name);
         let s = steady(&c);
         let w = 2.0 * std::f64::consts::PI * s.freq;
-        for (qi, e) in c.elements.iter().enumerate() {
+        for (qi, e) in c.element_ids() {
             let ElementKind::Bjt { c: coll, .. } = e.kind else {
                 continue;
             };
             // collector load resistance seen at the fundamental: |Vc1| / |Ic1|
             let vc: Vec<f64> = (0..s.samples_per_period)
-                .map(|i| coll.map(|k| s.x[k][i]).unwrap_or(0.0))
+                .map(|i| UnknownId::voltage(coll).map_or(0.0, |u| s.wave(u)[i]))
                 .collect();
-            let r_load = fundamental(&vc) / fundamental(&s.terminal_currents[qi][0]);
+            let r_load =
+                fundamental(&vc) / fundamental(s.terminal_current(qi.terminal(0)).unwrap());
             // the feed choke: an inductor from the collector node to a node held by a source
-            let chokes: Vec<(usize, f64)> = c
-                .elements
-                .iter()
-                .enumerate()
+            let chokes: Vec<(ElementId, f64)> = c
+                .element_ids()
                 .filter_map(|(i, x)| match x.kind {
                     ElementKind::Inductor { a, b, l, .. } if a == coll || b == coll => Some((i, l)),
                     _ => None,
@@ -151,7 +151,7 @@ fn conduction_angle_stays_continuous_into_saturation() {
         ));
         let qi = c.element("q1").unwrap();
         old.push(tankwave_measure::conduction_angle_deg(
-            &s.terminal_currents[qi][0],
+            s.terminal_current(qi.terminal(0)).unwrap(),
             0.05,
         ));
     }

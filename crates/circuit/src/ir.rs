@@ -1,7 +1,9 @@
 //! The elaborated circuit: the plain-data value every later stage consumes.
 //!
 //! Everything here is already checked and evaluated to SI numbers: nodes are
-//! numbered (ground is `None`), models are bound by kind, parameters are
+//! numbered (ground is [`NodeId::GROUND`]; nodes, elements and models are
+//! referred to by the typed handles of [`crate::handle`], names kept for
+//! display and files), models are bound by kind, parameters are
 //! evaluated. Solvers, measurements and studies read these types and never
 //! look back at text.
 
@@ -18,14 +20,7 @@ pub struct Origin {
     pub column: u32,
 }
 
-/// A node reference: `None` is ground (`gnd`), `Some(i)` indexes [`Circuit::nodes`].
-pub type NodeId = Option<usize>;
-
-/// Index into [`Circuit::elements`].
-pub type ElementId = usize;
-
-/// Index into [`Circuit::models`].
-pub type ModelId = usize;
+pub use crate::handle::{ElementId, ModelId, NodeId, Terminal};
 
 /// A whole elaborated stage.
 #[derive(Debug, Clone, Default)]
@@ -34,7 +29,7 @@ pub struct Circuit {
     pub title: Option<String>,
     /// Ambient temperature in kelvin (`temperature`, default 25 °C = 298.15 K).
     pub temperature_k: f64,
-    /// Names of the non-ground nodes; `NodeId` `Some(i)` is `nodes[i]`.
+    /// Names of the non-ground nodes; [`NodeId::node`]`(i)` is `nodes[i]`.
     pub nodes: Vec<String>,
     /// Every element in file order.
     pub elements: Vec<Element>,
@@ -760,7 +755,12 @@ impl Metric {
         }
         if let Some(i) = self.element {
             s.push(' ');
-            s.push_str(c.elements.get(i).map(|e| e.name.as_str()).unwrap_or("?"));
+            s.push_str(
+                c.elements
+                    .get(i.index())
+                    .map(|e| e.name.as_str())
+                    .unwrap_or("?"),
+            );
         }
         s
     }
@@ -933,22 +933,32 @@ pub struct Overrides {
 }
 
 impl Circuit {
-    /// Look up a node by name (`gnd` gives `Some(None)`).
+    /// Look up a node by the name a person wrote (`gnd` gives [`NodeId::GROUND`]).
     pub fn node(&self, name: &str) -> Option<NodeId> {
         if name == "gnd" {
-            return Some(None);
+            return Some(NodeId::GROUND);
         }
-        self.nodes.iter().position(|n| n == name).map(Some)
+        self.nodes.iter().position(|n| n == name).map(NodeId::node)
     }
-    /// Look up an element by name.
+    /// Look up an element by the name a person wrote.
     pub fn element(&self, name: &str) -> Option<ElementId> {
-        self.elements.iter().position(|e| e.name == name)
+        self.elements
+            .iter()
+            .position(|e| e.name == name)
+            .map(ElementId::new)
     }
     /// Display name of a node.
     pub fn node_name(&self, n: NodeId) -> &str {
-        match n {
+        match n.index() {
             None => "gnd",
             Some(i) => self.nodes.get(i).map(|s| s.as_str()).unwrap_or("?"),
         }
+    }
+    /// Every element with its handle, in file order.
+    pub fn element_ids(&self) -> impl Iterator<Item = (ElementId, &Element)> {
+        self.elements
+            .iter()
+            .enumerate()
+            .map(|(i, e)| (ElementId::new(i), e))
     }
 }

@@ -19,6 +19,7 @@ pub mod bounds;
 pub mod builtin;
 pub mod elaborate;
 pub mod figure;
+pub mod handle;
 pub mod ir;
 pub mod models;
 pub mod options;

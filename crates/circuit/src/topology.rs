@@ -42,7 +42,7 @@ impl Dsu {
 }
 
 fn idx(n: NodeId) -> usize {
-    n.map(|i| i + 1).unwrap_or(0)
+    n.index().map(|i| i + 1).unwrap_or(0)
 }
 
 /// DC-conducting terminal pairs of an element.
@@ -88,7 +88,7 @@ pub(crate) fn check(cx: &mut Cx<'_>, c: &Circuit) {
         let touches_gnd = c
             .elements
             .iter()
-            .any(|e| e.kind.terminals().contains(&None));
+            .any(|e| e.kind.terminals().contains(&NodeId::GROUND));
         let mut reported: Vec<usize> = Vec::new();
         // Current sources feeding a cut-off part first.
         for (ei, e) in c.elements.iter().enumerate() {

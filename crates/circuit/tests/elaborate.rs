@@ -317,7 +317,11 @@ fn coupling_and_sweeps() {
     let c = &e.circuit;
     match elem(c, "k1") {
         ElementKind::Coupling { inductors, k } => {
-            assert_eq!(inductors, &vec![1, 2]);
+            assert_eq!(
+                inductors,
+                &vec![c.element("l1").unwrap(), c.element("l2").unwrap()]
+            );
+            assert_eq!(inductors[0].index(), 1);
             assert_eq!(*k, 0.98);
         }
         k => panic!("{k:?}"),
@@ -337,13 +341,15 @@ fn coupling_and_sweeps() {
     );
     assert_eq!(c.study.tolerances[0].fraction, 0.01);
     assert_eq!(c.study.tolerances[0].distribution, Distribution::Uniform);
+    let (v1, r1) = (c.element("v1"), c.element("r1"));
+    assert_eq!(r1.map(|e| e.index()), Some(3));
     assert!(matches!(
         c.analyses[0],
         Analysis::Ac {
-            source: Some(0),
-            impedance_at: Some(3),
+            source,
+            impedance_at,
             ..
-        }
+        } if source == v1 && impedance_at == r1
     ));
 }
 

@@ -31,7 +31,9 @@ use crate::lowpass::LowpassDesign;
 use crate::matching::{ComplexValue, MatchDesign};
 use crate::network::{Network, Part, Placement};
 use crate::si::format_si;
-use tankwave_circuit::{Circuit, Element, ElementKind, NodeId, Origin, Overrides, Scale, Waveform};
+use tankwave_circuit::{
+    Circuit, Element, ElementId, ElementKind, NodeId, Origin, Overrides, Scale, Waveform,
+};
 use tankwave_devices::names;
 
 /// Options of the verification.
@@ -117,14 +119,11 @@ pub fn circuit_for(net: &Network) -> Result<Circuit, DesignError> {
         ..Circuit::default()
     };
     let node = |c: &mut Circuit, name: &str| -> NodeId {
-        if name == "gnd" {
-            return None;
-        }
-        if let Some(i) = c.nodes.iter().position(|n| n == name) {
-            return Some(i);
+        if let Some(n) = c.node(name) {
+            return n;
         }
         c.nodes.push(name.to_string());
-        Some(c.nodes.len() - 1)
+        NodeId::node(c.nodes.len() - 1)
     };
     let input = node(&mut c, &net.input_node);
     let output = node(&mut c, &net.output_node);
@@ -133,18 +132,18 @@ pub fn circuit_for(net: &Network) -> Result<Circuit, DesignError> {
         name: SOURCE_NAME.into(),
         kind: ElementKind::VoltageSource {
             p: input,
-            n: None,
+            n: NodeId::GROUND,
             wave: Waveform::default(),
             rs: net.source_resistance,
         },
         origin: origin.clone(),
     });
-    c.input = Some(0);
+    c.input = Some(ElementId::new(0));
     for e in &net.elements {
         positive("element value", e.value)?;
         let a = node(&mut c, &e.node_a);
         let b = match e.placement {
-            Placement::Shunt => None,
+            Placement::Shunt => NodeId::GROUND,
             Placement::Series => node(&mut c, &e.node_b),
         };
         let kind = match e.part {
@@ -172,13 +171,13 @@ pub fn circuit_for(net: &Network) -> Result<Circuit, DesignError> {
         name: LOAD_NAME.into(),
         kind: ElementKind::Resistor {
             a: output,
-            b: None,
+            b: NodeId::GROUND,
             r: net.load_resistance,
             rating_w: None,
         },
         origin,
     });
-    c.output = Some(c.elements.len() - 1);
+    c.output = Some(ElementId::new(c.elements.len() - 1));
     Ok(c)
 }
 
@@ -295,13 +294,18 @@ fn verify_circuit(
     };
     let res = tankwave_solve::ac(circuit, &devices, &ac_params)
         .map_err(|e| DesignError::Solver(e.to_string()))?;
-    let idx = |name: &str| {
-        res.index(name)
-            .ok_or_else(|| DesignError::Solver(format!("the AC result has no unknown {name}")))
-    };
-    let k_in = idx(&names::node_voltage(&net.input_node))?;
-    let k_out = idx(&names::node_voltage(&net.output_node))?;
-    let k_src = idx(&names::branch_current(SOURCE_NAME))?;
+    let missing = |what: &str| DesignError::Solver(format!("the AC result has no unknown {what}"));
+    let node = |name: &str| circuit.node(name).and_then(|n| devices.voltage_of(n));
+    let k_in = node(&net.input_node)
+        .ok_or_else(|| missing(&names::node_voltage(&net.input_node)))?
+        .index();
+    let k_out = node(&net.output_node)
+        .ok_or_else(|| missing(&names::node_voltage(&net.output_node)))?
+        .index();
+    let k_src = devices
+        .branch_of(source)
+        .ok_or_else(|| missing(&names::branch_current(SOURCE_NAME)))?
+        .index();
     let (rs, rl) = (net.source_resistance, net.load_resistance);
     let mut points = Vec::new();
     let mut zin_measured = Complex64::new(f64::NAN, f64::NAN);

@@ -56,7 +56,7 @@ use crate::contract::{stamp_conductance, val, Device, EvalCtx, EvalInfo, Idx, St
 use crate::error::DeviceError;
 use crate::figure::OpFigure;
 use crate::junction::{self, Depletion};
-use tankwave_circuit::BjtParams;
+use tankwave_circuit::{BjtParams, ElementId};
 
 /// Smallest q1 denominator used as is; below it the hyperbolic floor applies.
 pub const Q1_FLOOR: f64 = 0.1;
@@ -549,7 +549,7 @@ pub fn ratings(p: &BjtParams) -> BjtRatings {
 /// An instantiated bipolar transistor.
 #[derive(Debug, Clone)]
 pub struct Bjt {
-    element: usize,
+    element: ElementId,
     nodes: BjtNodes,
     terminals: [Idx; 3],
     k: BjtConstants,
@@ -567,7 +567,7 @@ impl Bjt {
     }
 
     /// Build from model parameters, an area factor and the device temperature (K).
-    pub fn new(element: usize, nodes: BjtNodes, p: &BjtParams, area: f64, temp_k: f64) -> Bjt {
+    pub fn new(element: ElementId, nodes: BjtNodes, p: &BjtParams, area: f64, temp_k: f64) -> Bjt {
         let k = BjtConstants::new(p, area, temp_k);
         Bjt {
             element,
@@ -597,7 +597,7 @@ impl Bjt {
 }
 
 impl Device for Bjt {
-    fn element(&self) -> usize {
+    fn element(&self) -> ElementId {
         self.element
     }
     fn terminals(&self) -> &[Idx] {

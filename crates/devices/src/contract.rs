@@ -26,6 +26,7 @@
 //! residual stays consistent with `x`, and reports that it limited.
 
 use crate::figure::OpFigure;
+use tankwave_circuit::{ElementId, NodeId, Terminal, Unit};
 
 /// Unknown index: `None` is ground (and is ignored by a [`Stamp`]).
 pub type Idx = Option<usize>;
@@ -77,7 +78,7 @@ pub struct EvalInfo {
     pub limited: bool,
 }
 
-/// Kind of an extra unknown a device owns.
+/// Kind of an unknown.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum UnknownKind {
     /// A node voltage (V).
@@ -86,10 +87,57 @@ pub enum UnknownKind {
     Current,
 }
 
+impl UnknownKind {
+    /// The unit its values are in: volts for a voltage, amperes for a current.
+    pub fn unit(self) -> Unit {
+        match self {
+            UnknownKind::Voltage => Unit::Volt,
+            UnknownKind::Current => Unit::Ampere,
+        }
+    }
+}
+
+/// One unknown of an instantiated circuit: its place in the state vector
+/// `x` (and in [`DeviceSet::names`] and [`DeviceSet::kinds`]). Get one from
+/// the circuit's handles with [`DeviceSet::voltage_of`],
+/// [`DeviceSet::branch_of`] and [`DeviceSet::internal_of`]; only a name a
+/// person typed is looked up by [`DeviceSet::unknown`].
+///
+/// An element handle is not an unknown:
+///
+/// ```compile_fail
+/// use tankwave_devices::UnknownId;
+/// fn unknown_only(_: UnknownId) {}
+/// unknown_only(tankwave_circuit::ElementId::new(0));
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub struct UnknownId(u32);
+
+impl UnknownId {
+    /// The unknown `x[index]`.
+    pub fn new(index: usize) -> UnknownId {
+        // The analysis-memory bound of elaboration (`bounds.rs`) keeps the
+        // unknowns of any accepted circuit far below 2³².
+        UnknownId(u32::try_from(index).expect("unknown indices fit in 32 bits"))
+    }
+    /// Its index in the state vector.
+    pub fn index(self) -> usize {
+        self.0 as usize
+    }
+    /// The voltage unknown of node `n` (`None` for ground). The node
+    /// voltages are the first unknowns, in node order, in every
+    /// [`DeviceSet`]; this is the one place that rule is written, for
+    /// readers holding a solution without its device set.
+    /// [`DeviceSet::voltage_of`] also checks that the node is of the circuit.
+    pub fn voltage(n: NodeId) -> Option<UnknownId> {
+        n.index().map(UnknownId::new)
+    }
+}
+
 /// One element, written once, serving every analysis.
 pub trait Device: Send + Sync + std::fmt::Debug {
-    /// Index of the element in [`tankwave_circuit::Circuit::elements`] it was built from.
-    fn element(&self) -> usize;
+    /// The element of [`tankwave_circuit::Circuit::elements`] it was built from.
+    fn element(&self) -> ElementId;
     /// External terminal unknowns in the element's terminal order (ground = `None`).
     fn terminals(&self) -> &[Idx];
     /// True when `i` is affine in `x` and `q` linear in `x` (G and C constant).
@@ -121,7 +169,7 @@ pub trait Device: Send + Sync + std::fmt::Debug {
         None
     }
     /// The unknown carrying its branch current, if it has one (voltage sources, inductors).
-    fn branch(&self) -> Option<usize> {
+    fn branch(&self) -> Option<UnknownId> {
         None
     }
 }
@@ -211,10 +259,16 @@ pub struct DeviceSet {
     pub n_unknowns: usize,
     /// Number of external node voltages (the first unknowns).
     pub n_nodes: usize,
-    /// Display name of every unknown (`v(coll)`, `i(vsup)`, `v(q1:b')`).
+    /// Display name of every unknown (`V[coll]`, `I[vsup]`, `V[q1:b']`,
+    /// written by [`crate::names`]): for people and files only; code finds
+    /// an unknown by its handles ([`DeviceSet::voltage_of`], …).
     pub names: Vec<String>,
-    /// Kind of every unknown.
+    /// Kind of every unknown (and so its unit, [`UnknownKind::unit`]).
     pub kinds: Vec<UnknownKind>,
+    /// The branch-current unknown of each element, by element index.
+    pub(crate) branches: Vec<Option<UnknownId>>,
+    /// The internal nodes: the terminal each sits behind and its unknown.
+    pub(crate) internals: Vec<(Terminal, UnknownId)>,
     /// Offset of each device's state slice in the state vector.
     pub state_offsets: Vec<usize>,
     /// Length of the state vector.
@@ -222,6 +276,46 @@ pub struct DeviceSet {
 }
 
 impl DeviceSet {
+    /// The voltage unknown of node `n` (`None` for ground, or a node not of this circuit).
+    pub fn voltage_of(&self, n: NodeId) -> Option<UnknownId> {
+        UnknownId::voltage(n).filter(|u| u.index() < self.n_nodes)
+    }
+    /// The branch-current unknown of element `e` (voltage sources and
+    /// inductors have one; `None` for every other element).
+    pub fn branch_of(&self, e: ElementId) -> Option<UnknownId> {
+        self.branches.get(e.index()).copied().flatten()
+    }
+    /// The internal node behind terminal `t` of a device (a transistor's
+    /// `b'` behind its base), when its ohmic resistance made one.
+    pub fn internal_of(&self, t: Terminal) -> Option<UnknownId> {
+        self.internals
+            .iter()
+            .find(|(at, _)| *at == t)
+            .map(|&(_, u)| u)
+    }
+    /// Every unknown, in state-vector order.
+    pub fn unknowns(&self) -> impl Iterator<Item = UnknownId> {
+        (0..self.n_unknowns).map(UnknownId::new)
+    }
+    /// Display name of unknown `u`.
+    pub fn name(&self, u: UnknownId) -> &str {
+        self.names.get(u.index()).map(|s| s.as_str()).unwrap_or("?")
+    }
+    /// Kind of unknown `u`.
+    pub fn kind(&self, u: UnknownId) -> UnknownKind {
+        self.kinds
+            .get(u.index())
+            .copied()
+            .unwrap_or(UnknownKind::Voltage)
+    }
+    /// The unknown a person named (`V[coll]`, `I[rfc]`), for names typed on
+    /// the command line or read from files; code uses the handles.
+    pub fn unknown(&self, name: &str) -> Option<UnknownId> {
+        self.names
+            .iter()
+            .position(|n| n == name)
+            .map(UnknownId::new)
+    }
     /// A fresh state vector with every device's initial state.
     pub fn initial_state(&self) -> Vec<f64> {
         let mut s = vec![0.0; self.state_len];

@@ -42,7 +42,7 @@ use crate::junction::{
     critical_voltage, exp_guarded, exp_m1_guarded, limit_junction, sat_current_at, thermal_voltage,
     Depletion,
 };
-use tankwave_circuit::ir::DiodeParams;
+use tankwave_circuit::ir::{DiodeParams, ElementId};
 
 /// Check diode model parameters (and the area/temperature separately in
 /// [`crate::instantiate`]). `element` names the element in the error.
@@ -119,7 +119,7 @@ pub struct JunctionEval {
 /// A junction diode instance (see the module doc).
 #[derive(Debug, Clone)]
 pub struct Diode {
-    element: usize,
+    element: ElementId,
     nodes: [Idx; 2],
     ai: Idx,
     g_series: f64,
@@ -138,7 +138,7 @@ impl Diode {
     /// anode (equal to `a` when `p.r_series == 0`). Parameters must pass
     /// [`check_params`]; `area > 0`, `temp_k > 0`.
     pub fn new(
-        element: usize,
+        element: ElementId,
         a: Idx,
         k: Idx,
         ai: Idx,
@@ -234,7 +234,7 @@ impl Diode {
 }
 
 impl Device for Diode {
-    fn element(&self) -> usize {
+    fn element(&self) -> ElementId {
         self.element
     }
     fn terminals(&self) -> &[Idx] {

@@ -9,7 +9,10 @@
 //!      `V[name:c']`, `V[name:b']`, `V[name:e']`, each only when that ohmic
 //!      resistance is nonzero (the order is c', b', e').
 //!
-//! The names are written by [`crate::names`].
+//! The names are written by [`crate::names`], for display and files; the
+//! [`DeviceSet`] maps the circuit's handles to the unknowns
+//! ([`DeviceSet::voltage_of`] a node, [`DeviceSet::branch_of`] an element,
+//! [`DeviceSet::internal_of`] the terminal an internal node sits behind).
 //!
 //! Couplings own no unknowns; they are built after every inductor branch is
 //! known, so a coupling may name inductors declared after it, and they come
@@ -21,13 +24,13 @@
 //! the number.
 
 use crate::bjt::{Bjt, BjtNodes};
-use crate::contract::{Device, DeviceSet, Idx, UnknownKind};
+use crate::contract::{Device, DeviceSet, Idx, UnknownId, UnknownKind};
 use crate::diode::Diode;
 use crate::error::DeviceError;
 use crate::linear::{Capacitor, Coupling, CurrentSource, Inductor, Resistor, VoltageSource};
 use crate::names;
 use crate::waveform;
-use tankwave_circuit::ir::{Circuit, ElementKind, ModelParams, NodeId};
+use tankwave_circuit::ir::{Circuit, ElementId, ElementKind, ModelParams, NodeId, Terminal};
 
 fn bad(element: &str, param: &'static str, value: f64, reason: &'static str) -> DeviceError {
     DeviceError::BadParameter {
@@ -58,11 +61,13 @@ struct Builder<'c> {
     circuit: &'c Circuit,
     names: Vec<String>,
     kinds: Vec<UnknownKind>,
+    branches: Vec<Option<UnknownId>>,
+    internals: Vec<(Terminal, UnknownId)>,
 }
 
 impl Builder<'_> {
     fn node(&self, element: &str, n: NodeId) -> Result<Idx, DeviceError> {
-        match n {
+        match n.index() {
             None => Ok(None),
             Some(i) if i < self.circuit.nodes.len() => Ok(Some(i)),
             Some(i) => Err(DeviceError::BadReference {
@@ -78,6 +83,18 @@ impl Builder<'_> {
         self.kinds.push(kind);
         self.names.len() - 1
     }
+    /// Allocate the branch current of element `id`.
+    fn branch(&mut self, id: ElementId, name: &str) -> usize {
+        let j = self.alloc(names::branch_current(name), UnknownKind::Current);
+        self.branches[id.index()] = Some(UnknownId::new(j));
+        j
+    }
+    /// Allocate the internal node behind terminal `t`, named `tag'`.
+    fn internal(&mut self, t: Terminal, name: &str, tag: &str) -> usize {
+        let j = self.alloc(names::internal_node(name, tag), UnknownKind::Voltage);
+        self.internals.push((t, UnknownId::new(j)));
+        j
+    }
 }
 
 /// Build every device of `circuit`, allocating the extra unknowns and naming all of them.
@@ -91,13 +108,15 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
             .map(|n| names::node_voltage(n))
             .collect(),
         kinds: vec![UnknownKind::Voltage; circuit.nodes.len()],
+        branches: vec![None; circuit.elements.len()],
+        internals: Vec::new(),
     };
     let mut devices: Vec<Box<dyn Device>> = Vec::with_capacity(circuit.elements.len());
     // (branch, inductance) of each inductor element, for couplings.
     let mut coils: Vec<Option<(usize, f64)>> = vec![None; circuit.elements.len()];
     let mut couplings = Vec::new();
 
-    for (id, el) in circuit.elements.iter().enumerate() {
+    for (id, el) in circuit.element_ids() {
         let name = el.name.as_str();
         match &el.kind {
             ElementKind::Resistor { a, b: bn, r, .. } => {
@@ -128,8 +147,8 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                 let l = positive(name, "inductance", *l)?;
                 let r = nonneg(name, "r", *series_r)?;
                 let (na, nb) = (b.node(name, *a)?, b.node(name, *bn)?);
-                let j = b.alloc(names::branch_current(name), UnknownKind::Current);
-                coils[id] = Some((j, l));
+                let j = b.branch(id, name);
+                coils[id.index()] = Some((j, l));
                 devices.push(Box::new(Inductor::new(id, na, nb, j, l, r)));
             }
             ElementKind::Coupling { inductors, k } => {
@@ -156,7 +175,7 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                 waveform::check(wave, name)?;
                 let rs = nonneg(name, "rs", *rs)?;
                 let (np, nn) = (b.node(name, *p)?, b.node(name, *n)?);
-                let j = b.alloc(names::branch_current(name), UnknownKind::Current);
+                let j = b.branch(id, name);
                 devices.push(Box::new(VoltageSource::new(
                     id,
                     np,
@@ -176,7 +195,7 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                 )));
             }
             ElementKind::Diode { a, k, model, area } => {
-                let p = match circuit.models.get(*model).map(|m| &m.params) {
+                let p = match circuit.models.get(model.index()).map(|m| &m.params) {
                     Some(ModelParams::Diode(p)) => p,
                     Some(_) => {
                         return Err(DeviceError::WrongKind {
@@ -191,7 +210,7 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                         return Err(DeviceError::BadReference {
                             element: name.to_string(),
                             what: "model",
-                            index: *model,
+                            index: model.index(),
                             available: circuit.models.len(),
                         })
                     }
@@ -201,7 +220,7 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                 crate::diode::check_params(p, name)?;
                 let (na, nk) = (b.node(name, *a)?, b.node(name, *k)?);
                 let ai = if p.r_series > 0.0 {
-                    Some(b.alloc(names::internal_node(name, "a"), UnknownKind::Voltage))
+                    Some(b.internal(id.terminal(0), name, "a"))
                 } else {
                     na
                 };
@@ -224,7 +243,7 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                 model,
                 area,
             } => {
-                let p = match circuit.models.get(*model).map(|m| &m.params) {
+                let p = match circuit.models.get(model.index()).map(|m| &m.params) {
                     Some(ModelParams::Bjt(p)) => p,
                     Some(_) => {
                         return Err(DeviceError::WrongKind {
@@ -239,7 +258,7 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                         return Err(DeviceError::BadReference {
                             element: name.to_string(),
                             what: "model",
-                            index: *model,
+                            index: model.index(),
                             available: circuit.models.len(),
                         })
                     }
@@ -249,16 +268,16 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                 crate::bjt::check_params(p, name, area, temp)?;
                 let (nc, nb, ne) = (b.node(name, *c)?, b.node(name, *bb)?, b.node(name, *e)?);
                 let need = Bjt::internal_nodes_needed(p);
-                let mut internal = |need: bool, ext: Idx, tag: &str| {
+                let mut internal = |need: bool, ext: Idx, terminal: usize, tag: &str| {
                     if need {
-                        Some(b.alloc(names::internal_node(name, tag), UnknownKind::Voltage))
+                        Some(b.internal(id.terminal(terminal), name, tag))
                     } else {
                         ext
                     }
                 };
-                let ci = internal(need[0], nc, "c");
-                let bi = internal(need[1], nb, "b");
-                let ei = internal(need[2], ne, "e");
+                let ci = internal(need[0], nc, 0, "c");
+                let bi = internal(need[1], nb, 1, "b");
+                let ei = internal(need[2], ne, 2, "e");
                 let nodes = BjtNodes {
                     c: nc,
                     b: nb,
@@ -276,7 +295,7 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
         let name = &circuit.elements[id].name;
         let mut list = Vec::with_capacity(members.len());
         for m in members {
-            match coils.get(m) {
+            match coils.get(m.index()) {
                 Some(Some(c)) => {
                     if list.iter().any(|&(j, _)| j == c.0) {
                         return Err(DeviceError::WrongKind {
@@ -303,7 +322,7 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                     return Err(DeviceError::BadReference {
                         element: name.clone(),
                         what: "element",
-                        index: m,
+                        index: m.index(),
                         available: circuit.elements.len(),
                     })
                 }
@@ -324,6 +343,8 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
         n_nodes: circuit.nodes.len(),
         names: b.names,
         kinds: b.kinds,
+        branches: b.branches,
+        internals: b.internals,
         state_offsets,
         state_len,
     })

@@ -23,23 +23,23 @@
 //! flowing from p through the source to n).
 
 use crate::contract::{
-    stamp_capacitance, stamp_conductance, val, Device, EvalCtx, EvalInfo, Idx, Stamp,
+    stamp_capacitance, stamp_conductance, val, Device, EvalCtx, EvalInfo, Idx, Stamp, UnknownId,
 };
 use crate::figure::OpFigure;
 use crate::waveform::{breakpoints, Waveform as _};
-use tankwave_circuit::ir::Waveform;
+use tankwave_circuit::ir::{ElementId, Waveform};
 
 /// Linear resistor between `a` and `b`.
 #[derive(Debug, Clone)]
 pub struct Resistor {
-    element: usize,
+    element: ElementId,
     nodes: [Idx; 2],
     g: f64,
 }
 
 impl Resistor {
     /// Resistor of `r` Ω (must be > 0 and finite; checked by [`crate::instantiate`]).
-    pub fn new(element: usize, a: Idx, b: Idx, r: f64) -> Self {
+    pub fn new(element: ElementId, a: Idx, b: Idx, r: f64) -> Self {
         Self {
             element,
             nodes: [a, b],
@@ -49,7 +49,7 @@ impl Resistor {
 }
 
 impl Device for Resistor {
-    fn element(&self) -> usize {
+    fn element(&self) -> ElementId {
         self.element
     }
     fn terminals(&self) -> &[Idx] {
@@ -76,14 +76,14 @@ impl Device for Resistor {
 /// Linear capacitor between `a` and `b`.
 #[derive(Debug, Clone)]
 pub struct Capacitor {
-    element: usize,
+    element: ElementId,
     nodes: [Idx; 2],
     c: f64,
 }
 
 impl Capacitor {
     /// Capacitor of `c` F.
-    pub fn new(element: usize, a: Idx, b: Idx, c: f64) -> Self {
+    pub fn new(element: ElementId, a: Idx, b: Idx, c: f64) -> Self {
         Self {
             element,
             nodes: [a, b],
@@ -93,7 +93,7 @@ impl Capacitor {
 }
 
 impl Device for Capacitor {
-    fn element(&self) -> usize {
+    fn element(&self) -> ElementId {
         self.element
     }
     fn terminals(&self) -> &[Idx] {
@@ -116,7 +116,7 @@ impl Device for Capacitor {
 /// Inductor between `a` and `b` with series loss `r`; owns branch unknown `j`.
 #[derive(Debug, Clone)]
 pub struct Inductor {
-    element: usize,
+    element: ElementId,
     nodes: [Idx; 2],
     branch: usize,
     l: f64,
@@ -125,7 +125,7 @@ pub struct Inductor {
 
 impl Inductor {
     /// Inductor of `l` H with series resistance `r` Ω and branch current unknown `branch`.
-    pub fn new(element: usize, a: Idx, b: Idx, branch: usize, l: f64, r: f64) -> Self {
+    pub fn new(element: ElementId, a: Idx, b: Idx, branch: usize, l: f64, r: f64) -> Self {
         Self {
             element,
             nodes: [a, b],
@@ -141,7 +141,7 @@ impl Inductor {
 }
 
 impl Device for Inductor {
-    fn element(&self) -> usize {
+    fn element(&self) -> ElementId {
         self.element
     }
     fn terminals(&self) -> &[Idx] {
@@ -166,8 +166,8 @@ impl Device for Inductor {
         out.add_c(jr, jr, -self.l);
         EvalInfo::default()
     }
-    fn branch(&self) -> Option<usize> {
-        Some(self.branch)
+    fn branch(&self) -> Option<UnknownId> {
+        Some(UnknownId::new(self.branch))
     }
     fn op_info(&self, x: &[f64], _ctx: &EvalCtx) -> Vec<(OpFigure, f64)> {
         let j = x[self.branch];
@@ -178,7 +178,7 @@ impl Device for Inductor {
 /// Magnetic coupling between two or more inductors (mutual fluxes only).
 #[derive(Debug, Clone)]
 pub struct Coupling {
-    element: usize,
+    element: ElementId,
     /// (branch unknown, inductance) of every coupled inductor.
     coils: Vec<(usize, f64)>,
     k: f64,
@@ -186,7 +186,7 @@ pub struct Coupling {
 
 impl Coupling {
     /// Couple the inductors given as (branch unknown, inductance H) with coefficient `k`.
-    pub fn new(element: usize, coils: Vec<(usize, f64)>, k: f64) -> Self {
+    pub fn new(element: ElementId, coils: Vec<(usize, f64)>, k: f64) -> Self {
         Self { element, coils, k }
     }
     /// Mutual inductance of the coupled pair (m, n), H.
@@ -196,7 +196,7 @@ impl Coupling {
 }
 
 impl Device for Coupling {
-    fn element(&self) -> usize {
+    fn element(&self) -> ElementId {
         self.element
     }
     fn terminals(&self) -> &[Idx] {
@@ -223,7 +223,7 @@ impl Device for Coupling {
 /// Independent voltage source with series resistance; owns branch unknown `j`.
 #[derive(Debug, Clone)]
 pub struct VoltageSource {
-    element: usize,
+    element: ElementId,
     nodes: [Idx; 2],
     branch: usize,
     wave: Waveform,
@@ -232,7 +232,7 @@ pub struct VoltageSource {
 
 impl VoltageSource {
     /// Source between `p` and `n` with branch current unknown `branch`.
-    pub fn new(element: usize, p: Idx, n: Idx, branch: usize, wave: Waveform, rs: f64) -> Self {
+    pub fn new(element: ElementId, p: Idx, n: Idx, branch: usize, wave: Waveform, rs: f64) -> Self {
         Self {
             element,
             nodes: [p, n],
@@ -248,7 +248,7 @@ impl VoltageSource {
 }
 
 impl Device for VoltageSource {
-    fn element(&self) -> usize {
+    fn element(&self) -> ElementId {
         self.element
     }
     fn terminals(&self) -> &[Idx] {
@@ -281,8 +281,8 @@ impl Device for VoltageSource {
             breakpoints(s, t0, t1, out);
         }
     }
-    fn branch(&self) -> Option<usize> {
-        Some(self.branch)
+    fn branch(&self) -> Option<UnknownId> {
+        Some(UnknownId::new(self.branch))
     }
     fn op_info(&self, x: &[f64], ctx: &EvalCtx) -> Vec<(OpFigure, f64)> {
         let j = x[self.branch];
@@ -300,14 +300,14 @@ impl Device for VoltageSource {
 /// Independent current source: I(t) flows from `p` through the source to `n`.
 #[derive(Debug, Clone)]
 pub struct CurrentSource {
-    element: usize,
+    element: ElementId,
     nodes: [Idx; 2],
     wave: Waveform,
 }
 
 impl CurrentSource {
     /// Source between `p` and `n`.
-    pub fn new(element: usize, p: Idx, n: Idx, wave: Waveform) -> Self {
+    pub fn new(element: ElementId, p: Idx, n: Idx, wave: Waveform) -> Self {
         Self {
             element,
             nodes: [p, n],
@@ -321,7 +321,7 @@ impl CurrentSource {
 }
 
 impl Device for CurrentSource {
-    fn element(&self) -> usize {
+    fn element(&self) -> ElementId {
         self.element
     }
     fn terminals(&self) -> &[Idx] {

@@ -1,7 +1,11 @@
 //! The names of the unknowns, written in one place.
 //!
 //! Every unknown gets a name a person reads in reports, JSON, CSV headers and
-//! plot legends, and which other crates use to look an unknown up:
+//! plot legends, and types on the command line (`--probe`). The names are
+//! for display and files only: code finds an unknown through the circuit's
+//! handles ([`crate::DeviceSet::voltage_of`], [`crate::DeviceSet::branch_of`],
+//! [`crate::DeviceSet::internal_of`]) and takes its unit from its kind
+//! ([`crate::UnknownKind::unit`]), never from parsing a name.
 //!
 //! | unknown | name | example |
 //! | --- | --- | --- |
@@ -45,29 +49,16 @@ pub fn element_voltage(element: &str) -> String {
     format!("v_{element}")
 }
 
-/// The SI unit of the unknown called `name`: `A` for a current (`I[…]`),
-/// otherwise `V`.
-pub fn unit_of(name: &str) -> &'static str {
-    if name.starts_with("I[") {
-        "A"
-    } else {
-        "V"
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
 
     #[test]
-    fn names_and_units() {
+    fn names() {
         assert_eq!(node_voltage("coll"), "V[coll]");
         assert_eq!(branch_current("rfc"), "I[rfc]");
         assert_eq!(internal_node("q1", "b"), "V[q1:b']");
         assert_eq!(terminal_current("q1", 2), "I[q1:2]");
         assert_eq!(element_voltage("rload"), "v_rload");
-        assert_eq!(unit_of(&branch_current("rfc")), "A");
-        assert_eq!(unit_of(&node_voltage("coll")), "V");
-        assert_eq!(unit_of(&internal_node("q1", "b")), "V");
     }
 }

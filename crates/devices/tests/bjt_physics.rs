@@ -27,7 +27,7 @@ fn grounded_emitter(p: &BjtParams, temp_k: f64) -> Bjt {
         bi: Some(1),
         ei: None,
     };
-    Bjt::new(0, nodes, p, 1.0, temp_k)
+    Bjt::new(tankwave_circuit::ElementId::new(0), nodes, p, 1.0, temp_k)
 }
 
 /// (IC, IB) at (VBE, VBC).
@@ -448,8 +448,8 @@ fn area_factor_is_parallel_devices() {
         bi: Some(4),
         ei: Some(5),
     };
-    let one = Bjt::new(0, nodes, &p, 1.0, 300.0);
-    let three = Bjt::new(0, nodes, &p, 3.0, 300.0);
+    let one = Bjt::new(tankwave_circuit::ElementId::new(0), nodes, &p, 1.0, 300.0);
+    let three = Bjt::new(tankwave_circuit::ElementId::new(0), nodes, &p, 3.0, 300.0);
     for &(vbe, vbc) in &[(0.75, -4.0), (0.8, 0.6), (-1.0, 0.7), (0.9, -1.0)] {
         let x = [
             0.3 - vbc + vbe + 0.01,

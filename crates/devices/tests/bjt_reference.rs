@@ -114,7 +114,13 @@ fn matches_numpy_reference_at_every_bias_point() {
             bi: Some(1),
             ei: Some(2),
         };
-        let q = Bjt::new(0, nodes, &set.p, set.area, set.temp);
+        let q = Bjt::new(
+            tankwave_circuit::ElementId::new(0),
+            nodes,
+            &set.p,
+            set.area,
+            set.temp,
+        );
         let ctx = EvalCtx {
             junction_leak: 0.0,
             limit: false,

@@ -50,7 +50,7 @@ fn six_node(p: &BjtParams) -> Bjt {
         bi: Some(4),
         ei: Some(5),
     };
-    Bjt::new(0, nodes, p, 1.0, 320.0)
+    Bjt::new(tankwave_circuit::ElementId::new(0), nodes, p, 1.0, 320.0)
 }
 
 fn exact() -> EvalCtx {
@@ -195,7 +195,7 @@ fn limiting_both_junctions_and_linearisation() {
         bi: Some(1),
         ei: None,
     };
-    let q = Bjt::new(0, nodes, &p, 1.0, 300.15);
+    let q = Bjt::new(tankwave_circuit::ElementId::new(0), nodes, &p, 1.0, 300.15);
     let lim = EvalCtx {
         limit: true,
         junction_leak: 0.0,

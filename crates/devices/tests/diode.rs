@@ -3,7 +3,7 @@
 
 mod common;
 use common::*;
-use tankwave_circuit::ir::{DiodeParams, ElementKind, Model, ModelParams, Origin};
+use tankwave_circuit::ir::{DiodeParams, ElementKind, Model, ModelId, ModelParams, NodeId, Origin};
 use tankwave_devices::diode::Diode;
 use tankwave_devices::junction::{critical_voltage, thermal_voltage};
 use tankwave_devices::{instantiate, DenseStamp, Device, DeviceError, EvalCtx};
@@ -39,9 +39,9 @@ fn diode_circuit(p: DiodeParams, area: f64) -> tankwave_circuit::ir::Circuit {
         vec![(
             "d1",
             ElementKind::Diode {
-                a: Some(0),
-                k: Some(1),
-                model: 0,
+                a: NodeId::node(0),
+                k: NodeId::node(1),
+                model: ModelId::new(0),
                 area,
             },
         )],
@@ -105,7 +105,7 @@ fn stamp_structure_without_series_resistance() {
     // Value: IS(T)·(exp(0.6/Vt) − 1) at the circuit's 300.15 K (the default model is
     // measured at 298.15 K, so IS is the temperature-scaled one).
     let dd = Diode::new(
-        0,
+        tankwave_circuit::ElementId::new(0),
         Some(0),
         Some(1),
         Some(0),
@@ -125,7 +125,15 @@ fn limiting_uses_state_and_stays_consistent() {
         t_measured: 300.15,
         ..DiodeParams::default()
     };
-    let d = Diode::new(0, Some(0), None, Some(0), &p, 1.0, 300.15);
+    let d = Diode::new(
+        tankwave_circuit::ElementId::new(0),
+        Some(0),
+        None,
+        Some(0),
+        &p,
+        1.0,
+        300.15,
+    );
     let ctx = EvalCtx {
         limit: true,
         junction_leak: 0.0,
@@ -174,7 +182,15 @@ fn breakdown_current_and_reverse_limiting() {
         t_measured: 300.15,
         ..DiodeParams::default()
     };
-    let d = Diode::new(0, Some(0), None, Some(0), &p, 1.0, 300.15);
+    let d = Diode::new(
+        tankwave_circuit::ElementId::new(0),
+        Some(0),
+        None,
+        Some(0),
+        &p,
+        1.0,
+        300.15,
+    );
     // At V = −BV the breakdown term is exactly −IBV; the forward term adds −IS
     // (1 − e^{−BV/nVt} ≈ 1). junction_leak = 0 here.
     let i = d.junction(-6.0, 0.0).i;
@@ -184,7 +200,15 @@ fn breakdown_current_and_reverse_limiting() {
     let i2 = d.junction(-6.0 - vt, 0.0).i;
     assert!(((i2 + 1e-14) / (i + 1e-14) - std::f64::consts::E).abs() < 1e-12);
     // Area scales the breakdown current.
-    let d2 = Diode::new(0, Some(0), None, Some(0), &p, 3.0, 300.15);
+    let d2 = Diode::new(
+        tankwave_circuit::ElementId::new(0),
+        Some(0),
+        None,
+        Some(0),
+        &p,
+        3.0,
+        300.15,
+    );
     assert!((d2.junction(-6.0, 0.0).i - 3.0 * i).abs() < 1e-15);
     // A large reverse step into breakdown is limited by the mirrored limiter.
     let (vl, lim) = d.limit(-20.0, -6.0);
@@ -207,7 +231,15 @@ fn temperature_and_area_scaling() {
     };
     let (k, q) = (1.380649e-23, 1.602176634e-19);
     for t in [260.0, 298.15, 330.0, 380.0] {
-        let d = Diode::new(0, Some(0), None, Some(0), &p, 2.5, t);
+        let d = Diode::new(
+            tankwave_circuit::ElementId::new(0),
+            Some(0),
+            None,
+            Some(0),
+            &p,
+            2.5,
+            t,
+        );
         let is_t = 1e-14
             * (t / 298.15f64).powf(3.0 / 1.1)
             * ((1.11 * q / (1.1 * k)) * (1.0 / 298.15 - 1.0 / t)).exp();

@@ -54,7 +54,15 @@ fn diode_matches_numpy_reference() {
         sat_temp_exp: get("sat_temp_exp"),
         t_measured: get("t_measured"),
     };
-    let d = Diode::new(0, Some(0), None, Some(0), &p, get("area"), get("temp"));
+    let d = Diode::new(
+        tankwave_circuit::ElementId::new(0),
+        Some(0),
+        None,
+        Some(0),
+        &p,
+        get("area"),
+        get("temp"),
+    );
     // Both sides evaluate the same closed forms in f64 in a different order:
     // agreement to 1e-9 relative leaves room only for rounding.
     let close = |a: f64, b: f64| (a - b).abs() <= 1e-9 * a.abs().max(b.abs()) + 1e-300;

@@ -4,9 +4,9 @@
 mod common;
 use common::*;
 use tankwave_circuit::ir::{
-    BjtParams, DiodeParams, ElementKind, Model, ModelParams, Origin, Waveform,
+    BjtParams, DiodeParams, ElementKind, Model, ModelId, ModelParams, NodeId, Origin, Waveform,
 };
-use tankwave_devices::{instantiate, DeviceError, UnknownKind};
+use tankwave_devices::{instantiate, DeviceError, UnknownId, UnknownKind};
 
 fn model(name: &str, params: ModelParams) -> Model {
     Model {
@@ -24,8 +24,8 @@ fn extra_unknowns_follow_element_order() {
             (
                 "vdrv",
                 ElementKind::VoltageSource {
-                    p: Some(0),
-                    n: None,
+                    p: NodeId::node(0),
+                    n: NodeId::GROUND,
                     wave: Waveform::default(),
                     rs: 50.0,
                 },
@@ -33,27 +33,27 @@ fn extra_unknowns_follow_element_order() {
             (
                 "d1",
                 ElementKind::Diode {
-                    a: Some(1),
-                    k: None,
-                    model: 0,
+                    a: NodeId::node(1),
+                    k: NodeId::GROUND,
+                    model: ModelId::new(0),
                     area: 1.0,
                 },
             ),
             (
                 "q1",
                 ElementKind::Bjt {
-                    c: Some(2),
-                    b: Some(1),
-                    e: None,
-                    model: 1,
+                    c: NodeId::node(2),
+                    b: NodeId::node(1),
+                    e: NodeId::GROUND,
+                    model: ModelId::new(1),
                     area: 1.0,
                 },
             ),
             (
                 "lc",
                 ElementKind::Inductor {
-                    a: Some(2),
-                    b: Some(0),
+                    a: NodeId::node(2),
+                    b: NodeId::node(0),
                     l: 1e-6,
                     series_r: 0.0,
                     rating_a: None,
@@ -62,10 +62,10 @@ fn extra_unknowns_follow_element_order() {
             (
                 "q2",
                 ElementKind::Bjt {
-                    c: Some(2),
-                    b: Some(1),
-                    e: None,
-                    model: 2,
+                    c: NodeId::node(2),
+                    b: NodeId::node(1),
+                    e: NodeId::GROUND,
+                    model: ModelId::new(2),
                     area: 2.0,
                 },
             ),
@@ -120,8 +120,57 @@ fn extra_unknowns_follow_element_order() {
     assert_eq!(off, set.state_len);
     assert_eq!(set.initial_state().len(), set.state_len);
     // Every device knows its element; terminals are the external ones.
-    let q2 = set.devices.iter().find(|d| d.element() == 4).unwrap();
+    let q2 = set
+        .devices
+        .iter()
+        .find(|d| d.element().index() == 4)
+        .unwrap();
     assert_eq!(q2.terminals(), &[Some(2), Some(1), None]);
+    // The handles find the same unknowns the names say (the names are for
+    // display only; code goes through the handles).
+    let el = |n: &str| c.element(n).unwrap();
+    let at = |u: Option<UnknownId>| u.map(|u| set.name(u).to_string());
+    for node in ["in", "b", "c"] {
+        let u = set.voltage_of(c.node(node).unwrap());
+        assert_eq!(at(u), Some(format!("V[{node}]")));
+        assert_eq!(set.kind(u.unwrap()), UnknownKind::Voltage);
+    }
+    assert_eq!(set.voltage_of(NodeId::GROUND), None);
+    assert_eq!(set.voltage_of(NodeId::node(3)), None);
+    assert_eq!(at(set.branch_of(el("vdrv"))), Some("I[vdrv]".into()));
+    assert_eq!(at(set.branch_of(el("lc"))), Some("I[lc]".into()));
+    assert_eq!(
+        set.kind(set.branch_of(el("lc")).unwrap()),
+        UnknownKind::Current
+    );
+    assert_eq!(set.branch_of(el("d1")), None);
+    assert_eq!(
+        at(set.internal_of(el("d1").terminal(0))),
+        Some("V[d1:a']".into())
+    );
+    assert_eq!(set.internal_of(el("d1").terminal(1)), None);
+    assert_eq!(
+        at(set.internal_of(el("q1").terminal(1))),
+        Some("V[q1:b']".into())
+    );
+    assert_eq!(set.internal_of(el("q1").terminal(0)), None);
+    for (t, tag) in [(0, "c"), (1, "b"), (2, "e")] {
+        let u = set.internal_of(el("q2").terminal(t));
+        assert_eq!(at(u), Some(format!("V[q2:{tag}']")));
+    }
+    // Every unknown is reached by exactly one handle, and its name finds it back.
+    let mut reached: Vec<UnknownId> = (0..c.nodes.len())
+        .filter_map(|i| set.voltage_of(NodeId::node(i)))
+        .collect();
+    for (id, _) in c.element_ids() {
+        reached.extend(set.branch_of(id));
+        reached.extend((0..3).filter_map(|t| set.internal_of(id.terminal(t))));
+    }
+    reached.sort();
+    assert_eq!(reached, set.unknowns().collect::<Vec<_>>());
+    for u in set.unknowns() {
+        assert_eq!(set.unknown(set.name(u)), Some(u));
+    }
 }
 
 #[test]
@@ -131,9 +180,9 @@ fn model_kind_mismatch_and_temperature_are_refused() {
         vec![(
             "d1",
             ElementKind::Diode {
-                a: Some(0),
-                k: None,
-                model: 0,
+                a: NodeId::node(0),
+                k: NodeId::GROUND,
+                model: ModelId::new(0),
                 area: 1.0,
             },
         )],
@@ -165,9 +214,9 @@ fn model_kind_mismatch_and_temperature_are_refused() {
     }
     c.temperature_k = 300.0;
     c.elements[0].kind = ElementKind::Diode {
-        a: Some(0),
-        k: None,
-        model: 5,
+        a: NodeId::node(0),
+        k: NodeId::GROUND,
+        model: ModelId::new(5),
         area: 1.0,
     };
     assert!(matches!(
@@ -187,10 +236,10 @@ fn bjt_parameters_are_checked() {
         vec![(
             "q1",
             ElementKind::Bjt {
-                c: Some(0),
-                b: Some(1),
-                e: None,
-                model: 0,
+                c: NodeId::node(0),
+                b: NodeId::node(1),
+                e: NodeId::GROUND,
+                model: ModelId::new(0),
                 area: 1.0,
             },
         )],

@@ -4,8 +4,12 @@
 
 mod common;
 use common::*;
-use tankwave_circuit::ir::{ElementKind, Shape, Waveform};
-use tankwave_devices::{instantiate, DeviceError, EvalCtx, OpFigure, UnknownKind};
+use tankwave_circuit::ir::{ElementId, ElementKind, Shape, Waveform};
+use tankwave_devices::{instantiate, DeviceError, EvalCtx, OpFigure, UnknownId, UnknownKind};
+
+fn ids(i: &[usize]) -> Vec<ElementId> {
+    i.iter().map(|&i| ElementId::new(i)).collect()
+}
 
 fn dc(v: f64) -> Waveform {
     Waveform { dc: v, shape: None }
@@ -13,34 +17,43 @@ fn dc(v: f64) -> Waveform {
 
 fn res(a: Option<usize>, b: Option<usize>, r: f64) -> ElementKind {
     ElementKind::Resistor {
-        a,
-        b,
+        a: nid(a),
+        b: nid(b),
         r,
         rating_w: None,
     }
 }
 fn cap(a: Option<usize>, b: Option<usize>, c: f64) -> ElementKind {
     ElementKind::Capacitor {
-        a,
-        b,
+        a: nid(a),
+        b: nid(b),
         c,
         rating_v: None,
     }
 }
 fn ind(a: Option<usize>, b: Option<usize>, l: f64, r: f64) -> ElementKind {
     ElementKind::Inductor {
-        a,
-        b,
+        a: nid(a),
+        b: nid(b),
         l,
         series_r: r,
         rating_a: None,
     }
 }
 fn vsrc(p: Option<usize>, n: Option<usize>, wave: Waveform, rs: f64) -> ElementKind {
-    ElementKind::VoltageSource { p, n, wave, rs }
+    ElementKind::VoltageSource {
+        p: nid(p),
+        n: nid(n),
+        wave,
+        rs,
+    }
 }
 fn isrc(p: Option<usize>, n: Option<usize>, wave: Waveform) -> ElementKind {
-    ElementKind::CurrentSource { p, n, wave }
+    ElementKind::CurrentSource {
+        p: nid(p),
+        n: nid(n),
+        wave,
+    }
 }
 
 /// Compare a dense stamp matrix with the expected one (exact: the stamps are
@@ -83,7 +96,7 @@ fn inductor_stamp() {
     let set = instantiate(&c).unwrap();
     assert_eq!(set.names, vec!["V[a]", "V[b]", "I[l1]"]);
     assert_eq!(set.kinds[2], UnknownKind::Current);
-    assert_eq!(set.devices[0].branch(), Some(2));
+    assert_eq!(set.devices[0].branch(), Some(UnknownId::new(2)));
     let x = [3.0, 1.0, 0.5];
     let s = stamp(set.devices[0].as_ref(), 3, &x, &EvalCtx::default());
     #[rustfmt::skip]
@@ -154,7 +167,11 @@ fn ac0_solve(set: &tankwave_devices::DeviceSet, src: usize) -> Vec<f64> {
     let n = set.n_unknowns;
     let s = stamp_all(set, &vec![0.0; n], &EvalCtx::default());
     let mut b = vec![0.0; n];
-    let d = set.devices.iter().find(|d| d.element() == src).unwrap();
+    let d = set
+        .devices
+        .iter()
+        .find(|d| d.element().index() == src)
+        .unwrap();
     d.ac_excitation(&mut |r, v| b[r] += v);
     solve(s.g.clone(), b)
 }
@@ -261,7 +278,7 @@ fn coupling_adds_mutual_fluxes() {
             (
                 "k1",
                 ElementKind::Coupling {
-                    inductors: vec![1, 2, 3],
+                    inductors: ids(&[1, 2, 3]),
                     k: 0.5,
                 },
             ),
@@ -272,7 +289,11 @@ fn coupling_adds_mutual_fluxes() {
     );
     let set = instantiate(&c).unwrap();
     assert_eq!(set.n_unknowns, 6);
-    let k = set.devices.iter().find(|d| d.element() == 0).unwrap();
+    let k = set
+        .devices
+        .iter()
+        .find(|d| d.element() == ElementId::new(0))
+        .unwrap();
     assert!(k.terminals().is_empty());
     let x = [0.0, 0.0, 0.0, 1.0, 2.0, 3.0];
     let s = stamp(k.as_ref(), 6, &x, &EvalCtx::default());
@@ -320,7 +341,7 @@ fn finite_difference_jacobians_of_linear_elements() {
             (
                 "k1",
                 ElementKind::Coupling {
-                    inductors: vec![2, 3],
+                    inductors: ids(&[2, 3]),
                     k: -0.7,
                 },
             ),
@@ -363,7 +384,7 @@ fn bad_inputs_are_typed_errors() {
             (
                 "k1",
                 ElementKind::Coupling {
-                    inductors: vec![0, 2],
+                    inductors: ids(&[0, 2]),
                     k: 0.1,
                 },
             ),
@@ -384,7 +405,7 @@ fn bad_inputs_are_typed_errors() {
             (
                 "k1",
                 ElementKind::Coupling {
-                    inductors: vec![0, 1],
+                    inductors: ids(&[0, 1]),
                     k: 0.1,
                 },
             ),
@@ -402,7 +423,7 @@ fn bad_inputs_are_typed_errors() {
             (
                 "k1",
                 ElementKind::Coupling {
-                    inductors: vec![0, 1],
+                    inductors: ids(&[0, 1]),
                     k: 1.5,
                 },
             ),
@@ -440,7 +461,11 @@ fn ac_solve(set: &tankwave_devices::DeviceSet, src: usize, w: f64) -> (Vec<f64>,
         }
     }
     let mut b = vec![0.0; m];
-    let d = set.devices.iter().find(|d| d.element() == src).unwrap();
+    let d = set
+        .devices
+        .iter()
+        .find(|d| d.element().index() == src)
+        .unwrap();
     d.ac_excitation(&mut |r, v| b[r] += v);
     let x = solve(a, b);
     (x[..n].to_vec(), x[n..].to_vec())
@@ -461,7 +486,7 @@ fn coupled_coils_open_secondary_ratio() {
             (
                 "k1",
                 ElementKind::Coupling {
-                    inductors: vec![1, 2],
+                    inductors: ids(&[1, 2]),
                     k: 0.9,
                 },
             ),
@@ -498,7 +523,7 @@ fn coupled_coils_in_series_aid_and_oppose() {
                 (
                     "k1",
                     ElementKind::Coupling {
-                        inductors: vec![1, 2],
+                        inductors: ids(&[1, 2]),
                         k,
                     },
                 ),

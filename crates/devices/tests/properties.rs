@@ -82,7 +82,7 @@ proptest! {
             breakdown_current: 1e-8,
             ..DiodeParams::default()
         };
-        let d = Diode::new(0, Some(0), Some(1), Some(0), &p, 1.0, 310.0);
+        let d = Diode::new(tankwave_circuit::ElementId::new(0), Some(0), Some(1), Some(0), &p, 1.0, 310.0);
         // Central differences with h = 1e-7·max(|x|, 1) V; same error budget as the
         // fixed-bias test in tests/diode.rs (truncation ≲ 1e-10, rounding floor added in fd_check).
         fd_check(&d, &[v + 0.5, 0.5], &EvalCtx::default(), 1e-7, 1.0, 1e-6);
@@ -91,7 +91,7 @@ proptest! {
     #[test]
     fn limiting_only_backs_off_the_exponential(vnew in -60.0..60.0f64, vold in -60.0..60.0f64) {
         let p = DiodeParams { breakdown: 20.0, ..DiodeParams::default() };
-        let d = Diode::new(0, Some(0), None, Some(0), &p, 1.0, 300.0);
+        let d = Diode::new(tankwave_circuit::ElementId::new(0), Some(0), None, Some(0), &p, 1.0, 300.0);
         let (vl, limited) = d.limit(vnew, vold);
         prop_assert!(vl.is_finite());
         if limited {

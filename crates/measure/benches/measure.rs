@@ -4,6 +4,8 @@
 
 use std::f64::consts::PI;
 use std::hint::black_box;
+#[allow(unused_imports)]
+use tankwave_circuit::handle::*;
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
 use tankwave_circuit::Figure;
@@ -24,7 +26,7 @@ fn el(name: &str, kind: ElementKind) -> Element {
 fn stage() -> Circuit {
     let src = |p, rs| ElementKind::VoltageSource {
         p,
-        n: None,
+        n: NodeId::GROUND,
         wave: Waveform::default(),
         rs,
     };
@@ -32,22 +34,22 @@ fn stage() -> Circuit {
         temperature_k: 298.15,
         nodes: ["vcc", "c", "out", "b", "in"].map(String::from).to_vec(),
         elements: vec![
-            el("vcc", src(Some(0), 0.0)),
+            el("vcc", src(NodeId::node(0), 0.0)),
             el(
                 "q1",
                 ElementKind::Bjt {
-                    c: Some(1),
-                    b: Some(3),
-                    e: None,
-                    model: 0,
+                    c: NodeId::node(1),
+                    b: NodeId::node(3),
+                    e: NodeId::GROUND,
+                    model: ModelId::new(0),
                     area: 1.0,
                 },
             ),
             el(
                 "ltank",
                 ElementKind::Inductor {
-                    a: Some(1),
-                    b: Some(2),
+                    a: NodeId::node(1),
+                    b: NodeId::node(2),
                     l: 1e-6,
                     series_r: 0.0,
                     rating_a: Some(5.0),
@@ -56,8 +58,8 @@ fn stage() -> Circuit {
             el(
                 "ctank",
                 ElementKind::Capacitor {
-                    a: Some(2),
-                    b: None,
+                    a: NodeId::node(2),
+                    b: NodeId::GROUND,
                     c: 1e-9,
                     rating_v: Some(500.0),
                 },
@@ -65,13 +67,13 @@ fn stage() -> Circuit {
             el(
                 "rl",
                 ElementKind::Resistor {
-                    a: Some(2),
-                    b: None,
+                    a: NodeId::node(2),
+                    b: NodeId::GROUND,
                     r: 50.0,
                     rating_w: Some(100.0),
                 },
             ),
-            el("drive", src(Some(4), 50.0)),
+            el("drive", src(NodeId::node(4), 50.0)),
         ],
         models: vec![Model {
             name: "m".into(),
@@ -82,8 +84,8 @@ fn stage() -> Circuit {
             }),
             origin: Origin::default(),
         }],
-        output: Some(4),
-        input: Some(5),
+        output: Some(ElementId::new(4)),
+        input: Some(ElementId::new(5)),
         requirements: vec![Requirement {
             metric: Metric::of(Figure::Harmonics),
             cmp: Cmp::Le,

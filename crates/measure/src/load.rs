@@ -24,7 +24,7 @@
 
 use num_complex::Complex64;
 use serde::Serialize;
-use tankwave_circuit::ElementKind;
+use tankwave_circuit::{ElementId, ElementKind};
 
 use crate::error::MeasureError;
 use crate::metrics::Impedance;
@@ -73,7 +73,7 @@ pub struct CollectorLoad {
     /// Transistor name.
     pub element: String,
     /// Transistor index.
-    pub element_id: usize,
+    pub element_id: ElementId,
     /// The floor |I_c,n| must reach to be resolved, A.
     pub floor_a: f64,
     /// Harmonics 1..=min(K, [`LOAD_HARMONICS`]), in order.
@@ -87,7 +87,7 @@ pub fn collector_loads(data: &PeriodData<'_>) -> Result<Vec<CollectorLoad>, Meas
     let c = data.circuit;
     let k = data.harmonics.min(LOAD_HARMONICS);
     let mut out = Vec::new();
-    for (id, el) in c.elements.iter().enumerate() {
+    for (id, el) in c.element_ids() {
         let ElementKind::Bjt {
             c: coll, e: emit, ..
         } = &el.kind

@@ -7,7 +7,7 @@
 
 use num_complex::Complex64;
 use serde::Serialize;
-use tankwave_circuit::{ElementKind, ModelParams};
+use tankwave_circuit::{ElementId, ElementKind, ModelParams};
 
 use crate::error::MeasureError;
 use crate::period::{Period, PeriodData};
@@ -76,7 +76,7 @@ pub struct OutputMetrics {
     /// Output element name.
     pub element: String,
     /// Output element index.
-    pub element_id: usize,
+    pub element_id: ElementId,
     /// Harmonics 1..=K, in order (index 0 is the fundamental).
     pub harmonics: Vec<HarmonicPower>,
     /// Power at the fundamental P_1, W.
@@ -99,7 +99,7 @@ pub struct SupplyPower {
     /// Source name.
     pub element: String,
     /// Source index.
-    pub element_id: usize,
+    pub element_id: ElementId,
     /// Average power delivered into the circuit −mean(Σ v_k i_k), W.
     pub power_w: f64,
     /// Mean terminal voltage V_p − V_n, V.
@@ -123,7 +123,7 @@ pub struct DriveMetrics {
     /// Drive source name.
     pub element: String,
     /// Drive source index.
-    pub element_id: usize,
+    pub element_id: ElementId,
     /// Source resistance Rs, Ω (0 for an ideal source; `None` for a current source).
     pub source_resistance_ohm: Option<f64>,
     /// Peak fundamental voltage at the source terminals |V1|, V.
@@ -151,7 +151,7 @@ pub struct TransistorMetrics {
     /// Element name.
     pub element: String,
     /// Element index.
-    pub element_id: usize,
+    pub element_id: ElementId,
     /// true for pnp.
     pub pnp: bool,
     /// Conduction angle, degrees (0..=360): total conduction per period of
@@ -218,7 +218,7 @@ pub struct StressRow {
     /// Element name.
     pub element: String,
     /// Element index.
-    pub element_id: usize,
+    pub element_id: ElementId,
     /// What is measured.
     pub quantity: StressQuantity,
     /// The value, in `unit`.
@@ -589,7 +589,7 @@ fn rating(r: Option<f64>) -> Option<f64> {
 
 fn stress_row(
     name: &str,
-    id: usize,
+    id: ElementId,
     quantity: StressQuantity,
     value: f64,
     unit: &str,
@@ -622,12 +622,12 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
             None
         }
         Some(id) => {
-            match c.elements.get(id) {
+            match c.elements.get(id.index()) {
                 None => {
                     note(
                         &mut notes,
                         "pout",
-                        format!("output element index {id} does not exist"),
+                        format!("output element index {} does not exist", id.index()),
                     );
                     None
                 }
@@ -708,7 +708,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
 
     // ---- supplies ----
     let mut supplies = Vec::new();
-    for (id, el) in c.elements.iter().enumerate() {
+    for (id, el) in c.element_ids() {
         let (pn, nn) = match &el.kind {
             ElementKind::VoltageSource { p, n, .. } | ElementKind::CurrentSource { p, n, .. } => {
                 (*p, *n)
@@ -734,7 +734,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
             note(&mut notes, "input_vswr", "no input element is declared");
             None
         }
-        Some(id) => match c.elements.get(id).map(|e| (e, &e.kind)) {
+        Some(id) => match c.elements.get(id.index()).map(|e| (e, &e.kind)) {
             Some((
                 el,
                 ElementKind::VoltageSource {
@@ -764,7 +764,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
                 note(
                     &mut notes,
                     "input_vswr",
-                    format!("input element index {id} does not exist"),
+                    format!("input element index {} does not exist", id.index()),
                 );
                 None
             }
@@ -877,7 +877,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
     let mut transistors = Vec::new();
     let mut stress = Vec::new();
     let t_amb = c.temperature_k;
-    for (id, el) in c.elements.iter().enumerate() {
+    for (id, el) in c.element_ids() {
         match &el.kind {
             ElementKind::Capacitor { a, b, rating_v, .. } => {
                 let v = p.across(*a, *b);
@@ -925,13 +925,17 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
                 model,
                 ..
             } => {
-                let bp = match c.models.get(*model).map(|m| &m.params) {
+                let bp = match c.models.get(model.index()).map(|m| &m.params) {
                     Some(ModelParams::Bjt(bp)) => Some(bp),
                     _ => {
                         note(
                             &mut notes,
                             &format!("tj {}", el.name),
-                            format!("model #{model} of {} is not a bipolar model", el.name),
+                            format!(
+                                "model #{} of {} is not a bipolar model",
+                                model.index(),
+                                el.name
+                            ),
                         );
                         None
                     }
@@ -1058,7 +1062,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
 
 fn drive_metrics(
     p: &Period<'_>,
-    id: usize,
+    id: ElementId,
     name: &str,
     pn: tankwave_circuit::NodeId,
     nn: tankwave_circuit::NodeId,

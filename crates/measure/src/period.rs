@@ -1,6 +1,6 @@
 //! The input of every measurement: one period of a steady state, checked.
 
-use tankwave_circuit::{Circuit, NodeId};
+use tankwave_circuit::{Circuit, ElementId, NodeId};
 
 use crate::error::MeasureError;
 
@@ -96,7 +96,7 @@ impl<'a> Period<'a> {
         crate::spectrum::check_samples(samples, data.harmonics)?;
         for (k, v) in data.node_voltages.iter().enumerate() {
             check_series(
-                || format!("voltage of node {}", c.node_name(Some(k))),
+                || format!("voltage of node {}", c.node_name(NodeId::node(k))),
                 v,
                 samples,
             )?;
@@ -110,11 +110,11 @@ impl<'a> Period<'a> {
                     got: cur.len(),
                 });
             }
-            for node in terms.iter().flatten() {
-                if *node >= c.nodes.len() {
+            for node in terms.iter().filter_map(|n| n.index()) {
+                if node >= c.nodes.len() {
                     return Err(MeasureError::NodeIndex {
                         element: el.name.clone(),
-                        node: *node,
+                        node,
                         nodes: c.nodes.len(),
                     });
                 }
@@ -152,7 +152,7 @@ impl<'a> Period<'a> {
 
     /// Voltage of a node over the period (ground gives zeros).
     pub fn node(&self, n: NodeId) -> &[f64] {
-        match n {
+        match n.index() {
             None => &self.zeros,
             Some(i) => self
                 .data
@@ -173,28 +173,28 @@ impl<'a> Period<'a> {
     }
 
     /// Current into element `e` at terminal `t` (zeros if absent).
-    pub fn current(&self, e: usize, t: usize) -> &[f64] {
+    pub fn current(&self, e: ElementId, t: usize) -> &[f64] {
         self.data
             .terminal_currents
-            .get(e)
+            .get(e.index())
             .and_then(|c| c.get(t))
             .map(|v| v.as_slice())
             .unwrap_or(&self.zeros)
     }
 
     /// Transport current of element `e`, if the solver gave one.
-    pub fn transport(&self, e: usize) -> Option<&[f64]> {
+    pub fn transport(&self, e: ElementId) -> Option<&[f64]> {
         self.data
             .transport_currents
-            .get(e)
+            .get(e.index())
             .and_then(|c| c.as_deref())
     }
 
     /// Instantaneous power absorbed by element `e`: Σ_k v_k·i_k over its
     /// terminals, voltages from ground.
-    pub fn absorbed(&self, e: usize) -> Vec<f64> {
+    pub fn absorbed(&self, e: ElementId) -> Vec<f64> {
         let mut p = vec![0.0; self.samples];
-        if let Some(el) = self.data.circuit.elements.get(e) {
+        if let Some(el) = self.data.circuit.elements.get(e.index()) {
             for (t, node) in el.kind.terminals().into_iter().enumerate() {
                 let v = self.node(node);
                 let i = self.current(e, t);

@@ -6,7 +6,7 @@
 //! figure has comes from the catalogue ([`crate::figure`]); verdicts carry
 //! typed values (number and [`Unit`]) and the report writes them for people.
 
-use tankwave_circuit::{builtin, Bound, Circuit, Cmp, Mask, Metric, Requirement};
+use tankwave_circuit::{builtin, Bound, Circuit, Cmp, ElementId, Mask, Metric, Requirement};
 
 use crate::figure::{value, About, Value};
 use crate::mask::{evaluate_mask, HarmonicRow};
@@ -129,7 +129,7 @@ fn resolve_mask(c: &Circuit, b: &Bound) -> Result<Option<Mask>, String> {
 fn transistor_candidates(
     c: &Circuit,
     metrics: &Metrics,
-    sel: &Option<usize>,
+    sel: &Option<ElementId>,
     figure: &str,
     get: impl Fn(&crate::metrics::TransistorMetrics) -> Option<f64>,
 ) -> Result<Vec<Candidate>, String> {
@@ -142,7 +142,10 @@ fn transistor_candidates(
         return Err(match sel {
             Some(i) => format!(
                 "element {} is not a bipolar transistor",
-                c.elements.get(*i).map(|e| e.name.as_str()).unwrap_or("?")
+                c.elements
+                    .get(i.index())
+                    .map(|e| e.name.as_str())
+                    .unwrap_or("?")
             ),
             None => "the circuit has no bipolar transistor".to_string(),
         });
@@ -164,7 +167,7 @@ fn transistor_candidates(
 fn stress_candidates(
     c: &Circuit,
     metrics: &Metrics,
-    sel: &Option<usize>,
+    sel: &Option<ElementId>,
 ) -> Result<Vec<Candidate>, String> {
     let rows: Vec<&StressRow> = metrics
         .stress
@@ -182,7 +185,10 @@ fn stress_candidates(
         return Err(match sel {
             Some(i) => format!(
                 "element {} has no rating to compare with",
-                c.elements.get(*i).map(|e| e.name.as_str()).unwrap_or("?")
+                c.elements
+                    .get(i.index())
+                    .map(|e| e.name.as_str())
+                    .unwrap_or("?")
             ),
             None => "no element in the circuit carries a rating".to_string(),
         });

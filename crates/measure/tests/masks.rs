@@ -6,6 +6,8 @@
 //! amateur row below 30 MHz (secondary source) and general row (memory).
 
 use tankwave_circuit::builtin::{builtin_mask, builtin_names};
+#[allow(unused_imports)]
+use tankwave_circuit::handle::*;
 use tankwave_circuit::Figure;
 use tankwave_circuit::{
     Bound, Circuit, Cmp, Limit, LimitExpr, Mask, MaskRange, MaskRule, Metric, Origin, Requirement,
@@ -181,7 +183,7 @@ fn output(p1: f64, dbcs: &[f64], f0: f64) -> OutputMetrics {
     }
     OutputMetrics {
         element: "rl".into(),
-        element_id: 0,
+        element_id: ElementId::new(0),
         harmonics,
         p1_w: p1,
         p1_dbm: db(p1 / 1e-3),
@@ -195,7 +197,7 @@ fn output(p1: f64, dbcs: &[f64], f0: f64) -> OutputMetrics {
 fn transistor(name: &str, id: usize, vce: f64, tj: Option<f64>) -> TransistorMetrics {
     TransistorMetrics {
         element: name.into(),
-        element_id: id,
+        element_id: ElementId::new(id),
         pnp: false,
         conduction_deg: 150.0,
         conduction_pulses: 1,
@@ -229,7 +231,7 @@ fn metrics(p1: f64, dbcs: &[f64], f0: f64) -> Metrics {
         ],
         stress: vec![StressRow {
             element: "c1".into(),
-            element_id: 3,
+            element_id: ElementId::new(3),
             quantity: StressQuantity::PeakVoltage,
             value: 80.0,
             unit: "V".into(),
@@ -263,8 +265,8 @@ fn circuit_with(reqs: Vec<Requirement>) -> Circuit {
         c.elements.push(tankwave_circuit::Element {
             name: name.into(),
             kind: tankwave_circuit::ElementKind::Resistor {
-                a: None,
-                b: None,
+                a: NodeId::GROUND,
+                b: NodeId::GROUND,
                 r: 1.0,
                 rating_w: None,
             },
@@ -388,12 +390,12 @@ fn scalar_verdicts() {
             Bound::Value(36.0),
         ),
         req(
-            Metric::about(Figure::VcePeak, Some(1)),
+            Metric::about(Figure::VcePeak, Some(ElementId::new(1))),
             Cmp::Le,
             Bound::Value(36.0),
         ),
         req(
-            Metric::about(Figure::Tj, Some(2)),
+            Metric::about(Figure::Tj, Some(ElementId::new(2))),
             Cmp::Le,
             Bound::Value(423.15),
         ),

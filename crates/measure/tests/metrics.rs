@@ -3,6 +3,8 @@
 mod common;
 
 use std::f64::consts::PI;
+#[allow(unused_imports)]
+use tankwave_circuit::handle::*;
 
 use common::{alpha_closed, bjt, bjt_model, circuit, resistor, sample, truncated_cosine, vsource};
 use num_complex::Complex64;
@@ -37,7 +39,7 @@ fn class_c(full_deg: f64, n: usize, params: BjtParams) -> ClassC {
         ],
     );
     c.models.push(bjt_model(params));
-    c.output = Some(2);
+    c.output = Some(ElementId::new(2));
     let r = VCC / (alpha_closed(1, full_deg) * IMAX);
     if let Some(tankwave_circuit::Element {
         kind: tankwave_circuit::ElementKind::Resistor { r: rr, .. },
@@ -158,8 +160,8 @@ fn resistor_fed_by_known_waveform() {
             resistor("rl", Some(0), None, r, Some(2.0)),
         ],
     );
-    c.output = Some(1);
-    c.input = Some(0);
+    c.output = Some(ElementId::new(1));
+    c.input = Some(ElementId::new(0));
     let v = sample(n, |x| v0 + v1 * x.cos() + v3 * (3.0 * x + phi).cos());
     let i: Vec<f64> = v.iter().map(|x| x / r).collect();
     let neg: Vec<f64> = i.iter().map(|x| -x).collect();
@@ -215,7 +217,7 @@ fn drive_impedance_vswr_and_available_power() {
     let v1 = z * i1;
     let n = 32;
     let mut c = circuit(&["in"], vec![vsource("drive", Some(0), None, 0.0, rs)]);
-    c.input = Some(0);
+    c.input = Some(ElementId::new(0));
     let v = sample(n, |x| (v1 * Complex64::cis(x)).re);
     let ip: Vec<f64> = sample(n, |x| -(i1 * Complex64::cis(x)).re);
     let ineg: Vec<f64> = ip.iter().map(|x| -x).collect();
@@ -301,7 +303,7 @@ fn zero_input_never_gives_nan() {
     );
     let mut c = s.circuit.clone();
     c.elements.push(vsource("drive", Some(3), None, 0.0, 50.0));
-    c.input = Some(3);
+    c.input = Some(ElementId::new(3));
     s.circuit = c;
     for row in s.v.iter_mut() {
         row.iter_mut().for_each(|x| *x = 0.0);
@@ -446,7 +448,7 @@ fn measure_then_evaluate() {
     let v2 = v1 * 10f64.powf(-45.0 / 20.0);
     let n = 128;
     let mut c = circuit(&["a"], vec![resistor("rl", Some(0), None, r, None)]);
-    c.output = Some(0);
+    c.output = Some(ElementId::new(0));
     let req = |metric, cmp, bound| Requirement {
         metric,
         cmp,
@@ -493,7 +495,7 @@ mod never_panics {
 
     /// One requirement of every metric kind (all `<=`).
     fn every_metric() -> Vec<Requirement> {
-        let q = Some(1);
+        let q = Some(ElementId::new(1));
         let metrics = [
             (Metric::of(Figure::Pout), 1.0),
             (Metric::of(Figure::Efficiency), 0.5),

@@ -77,7 +77,7 @@ mod tests {
     fn resolved_and_unresolved_rows() {
         let l = CollectorLoad {
             element: "q1".into(),
-            element_id: 3,
+            element_id: tankwave_circuit::ElementId::new(3),
             floor_a: 1e-4,
             harmonics: vec![
                 HarmonicLoad {

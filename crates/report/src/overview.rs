@@ -45,8 +45,8 @@ pub fn stage_overview(file: &str, c: &Circuit, warnings: usize) -> String {
             .collect();
         let _ = writeln!(s, "  models:       {}", models.join(", "));
     }
-    let name = |id: Option<usize>| {
-        id.and_then(|i| c.elements.get(i))
+    let name = |id: Option<tankwave_circuit::ElementId>| {
+        id.and_then(|i| c.elements.get(i.index()))
             .map(|e| e.name.as_str())
             .unwrap_or("-")
     };

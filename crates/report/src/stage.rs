@@ -6,7 +6,7 @@ use crate::format::{db, fixed, si};
 use crate::table::{Align, Table};
 use serde_json::{json, Value};
 use tankwave_circuit::{Circuit, SteadyMethod};
-use tankwave_devices::{names, OpFigure};
+use tankwave_devices::{names, OpFigure, UnknownId, UnknownKind};
 use tankwave_measure::{Metrics, StressQuantity, Verdict};
 use tankwave_solve::{AcResult, OpResult, PeriodicSolution, Strategy, TransientResult};
 
@@ -159,9 +159,10 @@ pub fn figure_label(f: OpFigure) -> &'static str {
 
 /// The unknowns an operating-point report lists by name: every node voltage
 /// and every branch current except a source's (a source is shown by the
-/// current it delivers, see [`OP_SECTIONS`]), as (index, name).
-fn listed_unknowns(op: &OpResult) -> impl Iterator<Item = (usize, &String)> {
-    let source_branches: Vec<usize> = op
+/// current it delivers, see [`OP_SECTIONS`]), as (index, name, kind); the
+/// kind gives the unit, the name is only shown.
+fn listed_unknowns(op: &OpResult) -> impl Iterator<Item = (usize, &String, UnknownKind)> {
+    let source_branches: Vec<UnknownId> = op
         .devices
         .iter()
         .filter(|d| {
@@ -173,8 +174,10 @@ fn listed_unknowns(op: &OpResult) -> impl Iterator<Item = (usize, &String)> {
         .collect();
     op.names
         .iter()
+        .zip(&op.kinds)
         .enumerate()
-        .filter(move |(k, _)| !source_branches.contains(k))
+        .filter(move |(k, _)| !source_branches.contains(&UnknownId::new(*k)))
+        .map(|(k, (n, kind))| (k, n, *kind))
 }
 
 /// Text report of an operating point: node voltages, then one table per
@@ -187,8 +190,8 @@ pub fn op_text(circuit: &Circuit, op: &OpResult) -> String {
         op.info.iterations
     );
     let mut t = Table::new(vec![("node", Align::Left), ("voltage", Align::Right)]);
-    for (k, name) in listed_unknowns(op) {
-        if names::unit_of(name) == "V" {
+    for (k, name, kind) in listed_unknowns(op) {
+        if kind == UnknownKind::Voltage {
             t.row(vec![name.clone(), si(op.x[k], "V")]);
         }
     }
@@ -515,13 +518,13 @@ fn clean(v: f64) -> Value {
 /// its delivered current is among its figures), then every element's
 /// figures keyed by [`OpFigure::key`], each with its unit.
 pub fn op_json(op: &OpResult) -> Value {
-    let unknown = |k: usize, n: &String| json!({"name": n, "value": clean(op.x[k]), "unit": names::unit_of(n)});
+    let unknown = |(k, n, kind): (usize, &String, UnknownKind)| json!({"name": n, "value": clean(op.x[k]), "unit": kind.unit().symbol()});
     json!({
         "iterations": op.info.iterations,
         "residual": clean(op.info.residual),
         "strategy": strategy_text(&op.info.strategy),
-        "node_voltages": listed_unknowns(op).filter(|(_, n)| names::unit_of(n) == "V").map(|(k, n)| unknown(k, n)).collect::<Vec<_>>(),
-        "branch_currents": listed_unknowns(op).filter(|(_, n)| names::unit_of(n) == "A").map(|(k, n)| unknown(k, n)).collect::<Vec<_>>(),
+        "node_voltages": listed_unknowns(op).filter(|u| u.2 == UnknownKind::Voltage).map(unknown).collect::<Vec<_>>(),
+        "branch_currents": listed_unknowns(op).filter(|u| u.2 == UnknownKind::Current).map(unknown).collect::<Vec<_>>(),
         "elements": op.devices.iter().map(|d| json!({
             "element": d.name,
             "figures": d.figures.iter().map(|(f, v)| (f.key().to_string(), json!({"value": clean(*v), "unit": f.unit()}))).collect::<serde_json::Map<String, Value>>(),
@@ -607,12 +610,12 @@ pub fn steady_json(sol: &PeriodicSolution, m: &Metrics) -> Value {
 /// `delivered_power[vsup]`), the value to 13 significant digits.
 pub fn op_csv(op: &OpResult) -> String {
     let mut s = String::from("quantity,value,unit\n");
-    for (k, n) in listed_unknowns(op) {
+    for (k, n, kind) in listed_unknowns(op) {
         s.push_str(&format!(
             "{},{:.12e},{}\n",
             csv_field(n),
             op.x[k],
-            names::unit_of(n)
+            kind.unit().symbol()
         ));
     }
     for d in &op.devices {

@@ -6,6 +6,7 @@
 mod plots_support;
 
 use plots_support::*;
+use tankwave_circuit::ElementId;
 use tankwave_report::html::{stage_report, AcView, Figure, Provenance, ReportInput, StudySection};
 use tankwave_report::plot::{self, PlotParams};
 
@@ -49,7 +50,7 @@ fn conduction_intervals_match_the_measured_angle() {
     // at the zero crossing is well under one sample (1.4°), so 0.5° holds.
     for theta in [120.0, 150.0, 200.0] {
         let (_, sol) = class_c_stage(theta);
-        let ic = &sol.terminal_currents[Q1][0];
+        let ic = sol.terminal_current(Q1.terminal(0)).unwrap();
         let t = 1.0 / sol.freq;
         let iv = plot::conduction_intervals(ic, t, 0.05);
         let shaded: f64 = iv.iter().map(|(a, b)| b - a).sum::<f64>() / t * 360.0;
@@ -76,7 +77,7 @@ fn period_plot_rejects_a_non_transistor_and_bad_shapes() {
         Err(plot::PlotError::NotTransistor { .. })
     ));
     assert!(matches!(
-        plot::period_plot(&c, &sol, 99, &params()),
+        plot::period_plot(&c, &sol, ElementId::new(99), &params()),
         Err(plot::PlotError::NoElement { index: 99, .. })
     ));
     sol.x[1][3] = f64::NAN;

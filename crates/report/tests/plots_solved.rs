@@ -24,7 +24,7 @@ fn period_plot_of_the_solved_class_c_stage() {
         .expect("the stage asks for a steady state");
     let params = SteadyParams::from_analysis(a).expect("steady parameters");
     let sol = steady(&c, &devices, &params).expect("steady state");
-    let q1 = c.elements.iter().position(|e| e.name == "q1").expect("q1");
+    let q1 = c.element("q1").expect("q1");
     let svg =
         plot::period_plot(&c, &sol, q1, &PlotParams::for_source("classc-load.tank")).expect("plot");
     if let Ok(dir) = std::env::var("TW_PLOT_OUT") {
@@ -43,9 +43,7 @@ fn period_plot_of_the_solved_class_c_stage() {
 
     // the plot shades what the conduction angle counts: the measure's rule on
     // the transport current with v_ce; its subtitle states that angle
-    let it = sol.transport_currents[q1]
-        .as_ref()
-        .expect("transport current");
+    let it = sol.transport_current(q1).expect("transport current");
     let node = |name: &str| sol.x[c.nodes.iter().position(|x| x == name).expect("node")].clone();
     let vce = node("coll");
     let t = 1.0 / sol.freq;

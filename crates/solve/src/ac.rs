@@ -19,7 +19,7 @@ use crate::op::{operating_point, OpParams, OpResult};
 use crate::SolveError;
 use num_complex::Complex64;
 use tankwave_circuit::{Analysis, Circuit, ElementId, NodeId, Scale};
-use tankwave_devices::{DenseStamp, DeviceSet, EvalCtx, Filter};
+use tankwave_devices::{DenseStamp, DeviceSet, EvalCtx, Filter, UnknownId};
 
 /// Options of an AC sweep.
 #[derive(Debug, Clone, PartialEq)]
@@ -114,7 +114,8 @@ pub struct AcResult {
 }
 
 impl AcResult {
-    /// Index of the unknown called `name`.
+    /// Index of the unknown a person named (`--probe V[out]`); code takes
+    /// the index from a handle ([`tankwave_devices::DeviceSet::voltage_of`], …).
     pub fn index(&self, name: &str) -> Option<usize> {
         self.names.iter().position(|n| n == name)
     }
@@ -219,9 +220,9 @@ pub fn ac(
 fn element_name(circuit: &Circuit, e: ElementId) -> String {
     circuit
         .elements
-        .get(e)
+        .get(e.index())
         .map(|x| x.name.clone())
-        .unwrap_or_else(|| format!("element #{e}"))
+        .unwrap_or_else(|| format!("element #{}", e.index()))
 }
 
 fn solve_at(
@@ -298,10 +299,9 @@ fn element_impedance_sweep(
     e: ElementId,
     freq: &[f64],
 ) -> Result<Vec<Complex64>, SolveError> {
-    let el = circuit
-        .elements
-        .get(e)
-        .ok_or_else(|| SolveError::BadParams(format!("impedance element #{e} does not exist")))?;
+    let el = circuit.elements.get(e.index()).ok_or_else(|| {
+        SolveError::BadParams(format!("impedance element #{} does not exist", e.index()))
+    })?;
     let terms = el.kind.terminals();
     if terms.len() != 2 {
         return Err(SolveError::BadParams(format!(
@@ -373,7 +373,7 @@ fn impedance_sweep(
     }
     let mut b = vec![Complex64::new(0.0, 0.0); n];
     for (t, v) in terms.iter().zip([1.0, -1.0]) {
-        if let Some(k) = *t {
+        if let Some(k) = UnknownId::voltage(*t).map(|u| u.index()) {
             match b.get_mut(k) {
                 Some(e) => *e += v,
                 None => {
@@ -388,8 +388,9 @@ fn impedance_sweep(
     let mut z = Vec::with_capacity(freq.len());
     for &f in freq {
         let v = solve_at(devices, &g, &c, f, &b, &what)?;
-        let va = terms[0].and_then(|k| v.get(k).copied()).unwrap_or_default();
-        let vb = terms[1].and_then(|k| v.get(k).copied()).unwrap_or_default();
+        let at = |t: NodeId| UnknownId::voltage(t).and_then(|u| v.get(u.index()).copied());
+        let va = at(terms[0]).unwrap_or_default();
+        let vb = at(terms[1]).unwrap_or_default();
         z.push(va - vb);
     }
     Ok(z)

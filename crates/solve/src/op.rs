@@ -17,8 +17,8 @@
 use crate::linalg::LinearSolver;
 use crate::newton::{self, Failure, System, Tolerances, Workspace};
 use crate::SolveError;
-use tankwave_circuit::Circuit;
-use tankwave_devices::{DeviceSet, EvalCtx, OpFigure};
+use tankwave_circuit::{Circuit, ElementId};
+use tankwave_devices::{DeviceSet, EvalCtx, OpFigure, UnknownId, UnknownKind};
 
 /// Options of the operating point.
 #[derive(Debug, Clone, PartialEq)]
@@ -90,13 +90,13 @@ pub struct NewtonInfo {
 /// Operating-point figures of one device.
 #[derive(Debug, Clone, PartialEq)]
 pub struct DeviceOp {
-    /// Index into `circuit.elements`.
-    pub element: usize,
+    /// The element.
+    pub element: ElementId,
     /// Element name.
     pub name: String,
     /// The unknown carrying its branch current, if it has one (voltage
     /// sources, inductors): see [`tankwave_devices::Device::branch`].
-    pub branch: Option<usize>,
+    pub branch: Option<UnknownId>,
     /// Figures from [`tankwave_devices::Device::op_info`] (SI units).
     pub figures: Vec<(OpFigure, f64)>,
 }
@@ -106,8 +106,10 @@ pub struct DeviceOp {
 pub struct OpResult {
     /// Every unknown (node voltages first, then branch currents and internal nodes).
     pub x: Vec<f64>,
-    /// Their names.
+    /// Their display names (`V[coll]`, `I[rfc]`, see [`tankwave_devices::names`]).
     pub names: Vec<String>,
+    /// Their kinds (and so their units, [`UnknownKind::unit`]).
+    pub kinds: Vec<UnknownKind>,
     /// How it converged.
     pub info: NewtonInfo,
     /// Device operating-point figures (devices that report any).
@@ -115,8 +117,12 @@ pub struct OpResult {
 }
 
 impl OpResult {
-    /// Value of the unknown called `name` (e.g. `V[coll]`, see
-    /// [`tankwave_devices::names`]).
+    /// Value of unknown `u` (from [`DeviceSet::voltage_of`] and the other handle lookups).
+    pub fn at(&self, u: UnknownId) -> f64 {
+        self.x.get(u.index()).copied().unwrap_or(f64::NAN)
+    }
+    /// Value of the unknown a person named (e.g. `V[coll]` typed on the
+    /// command line, see [`tankwave_devices::names`]); code uses [`OpResult::at`].
     pub fn value(&self, name: &str) -> Option<f64> {
         self.names.iter().position(|n| n == name).map(|k| self.x[k])
     }
@@ -141,7 +147,7 @@ pub fn operating_point(
                 element,
                 name: circuit
                     .elements
-                    .get(element)
+                    .get(element.index())
                     .map(|e| e.name.clone())
                     .unwrap_or_default(),
                 branch: d.branch(),
@@ -152,6 +158,7 @@ pub fn operating_point(
     Ok(OpResult {
         x,
         names: devices.names.clone(),
+        kinds: devices.kinds.clone(),
         info,
         devices: devs,
     })

@@ -134,7 +134,8 @@ pub struct TransientResult {
 }
 
 impl TransientResult {
-    /// Index of the unknown called `name`.
+    /// Index of the unknown a person named (`--probe V[out]`); code takes
+    /// the index from a handle ([`tankwave_devices::DeviceSet::voltage_of`], …).
     pub fn index(&self, name: &str) -> Option<usize> {
         self.names.iter().position(|n| n == name)
     }

@@ -4,7 +4,7 @@
 mod support;
 use num_complex::Complex64;
 use support::*;
-use tankwave_circuit::ir::{DiodeParams, Scale, Waveform};
+use tankwave_circuit::ir::{DiodeParams, ElementId, Scale, Waveform};
 use tankwave_devices::instantiate;
 use tankwave_solve::*;
 
@@ -18,7 +18,7 @@ const RL: f64 = 50.0;
 /// The pi network of docs/check-values.md: 2.9 Ω → 50 Ω at 7.1 MHz, Q = 10
 /// (C. Bowick, RF Circuit Design, 2nd ed., 2008, ch. 4, memory; values
 /// computed independently with numpy from the Rv form).
-fn pi_network() -> (B, usize, usize, usize) {
+fn pi_network() -> (B, ElementId, ElementId, usize) {
     let mut b = B::new();
     let vs = b.vsrc("vs", "in", "gnd", Waveform::default(), RS);
     b.cap("c1", "in", "gnd", C1);

@@ -10,7 +10,7 @@
 
 mod support;
 use support::*;
-use tankwave_circuit::SteadyMethod;
+use tankwave_circuit::{NodeId, SteadyMethod};
 use tankwave_devices::{instantiate, DeviceSet};
 use tankwave_solve::*;
 
@@ -113,7 +113,7 @@ fn class_c_stage_obeys_kcl() {
             let mut sum = 0.0;
             for (ei, el) in b.c.elements.iter().enumerate() {
                 for (j, t) in el.kind.terminals().iter().enumerate() {
-                    if *t == Some(node) {
+                    if *t == NodeId::node(node) {
                         sum += s.terminal_currents[ei][j][n];
                     }
                 }

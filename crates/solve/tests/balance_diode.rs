@@ -14,7 +14,7 @@
 mod support;
 use support::*;
 use tankwave_circuit::ir::{DiodeParams, Shape, Waveform};
-use tankwave_circuit::SteadyMethod;
+use tankwave_circuit::{NodeId, SteadyMethod};
 use tankwave_devices::{instantiate, DeviceSet};
 use tankwave_solve::*;
 
@@ -201,7 +201,7 @@ fn returned_solution_obeys_kcl_and_is_band_limited() {
             let mut sum = 0.0;
             for (ei, el) in b.c.elements.iter().enumerate() {
                 for (j, t) in el.kind.terminals().iter().enumerate() {
-                    if *t == Some(node) {
+                    if *t == NodeId::node(node) {
                         sum += s.terminal_currents[ei][j][n];
                     }
                 }

@@ -12,7 +12,7 @@
 mod support;
 use num_complex::Complex64;
 use support::*;
-use tankwave_circuit::ir::Waveform;
+use tankwave_circuit::ir::{ElementId, Waveform};
 use tankwave_circuit::SteadyMethod;
 use tankwave_devices::instantiate;
 use tankwave_solve::*;
@@ -26,7 +26,7 @@ const LP: f64 = 135.430e-9;
 const RS: f64 = 2.9;
 const RL: f64 = 50.0;
 
-fn pi_network(dc: f64, amp: f64) -> (B, usize) {
+fn pi_network(dc: f64, amp: f64) -> (B, ElementId) {
     let mut b = B::new();
     let vs = b.vsrc(
         "vs",
@@ -49,7 +49,7 @@ fn pi_network(dc: f64, amp: f64) -> (B, usize) {
     (b, vs)
 }
 
-fn ac_at(b: &B, vs: usize, f: f64) -> AcResult {
+fn ac_at(b: &B, vs: ElementId, f: f64) -> AcResult {
     let d = instantiate(&b.c).unwrap();
     let p = AcParams {
         from: f,

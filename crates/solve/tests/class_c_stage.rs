@@ -90,7 +90,7 @@ fn class_c_shooting_and_settle_agree() {
 
     // KCL at the transistor: the three terminal currents sum to zero.
     let q = b.c.element("q1").unwrap();
-    let tc = &shoot.terminal_currents[q];
+    let tc = &shoot.terminal_currents[q.index()];
     assert_eq!(tc.len(), 3);
     let icmax = tc[0].iter().fold(0.0f64, |m, v| m.max(v.abs()));
     let worst = (0..shoot.samples_per_period)

@@ -31,7 +31,7 @@ pub enum DriveError {
 /// as they are.
 pub fn scale_drive(c: &mut Circuit, k: f64) -> Result<(), DriveError> {
     let id = c.input.ok_or(DriveError::NoInput)?;
-    let element = match c.elements.get_mut(id) {
+    let element = match c.elements.get_mut(id.index()) {
         Some(e) => e,
         None => return Err(DriveError::NotSource { element: None }),
     };
@@ -81,7 +81,7 @@ mod tests {
     }
 
     fn drive_amp(c: &Circuit) -> Option<f64> {
-        let e = c.elements.get(c.input?)?;
+        let e = c.elements.get(c.input?.index())?;
         match &e.kind {
             ElementKind::VoltageSource { wave, .. } | ElementKind::CurrentSource { wave, .. } => {
                 match wave.shape {

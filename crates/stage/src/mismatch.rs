@@ -112,8 +112,8 @@ pub fn with_load(circuit: &Circuit, z: Complex64, freq: f64) -> Result<Circuit, 
         .ok_or_else(|| setup_error("a mismatch sweep needs an output element".into()))?;
     let el = circuit
         .elements
-        .get(id)
-        .ok_or_else(|| setup_error(format!("output element #{id} does not exist")))?;
+        .get(id.index())
+        .ok_or_else(|| setup_error(format!("output element #{} does not exist", id.index())))?;
     let ElementKind::Resistor { a, b, .. } = el.kind else {
         return Err(setup_error(format!(
             "a mismatch sweep replaces the output resistor; output '{}' is a {}",
@@ -132,7 +132,7 @@ pub fn with_load(circuit: &Circuit, z: Complex64, freq: f64) -> Result<Circuit, 
     if let Some(Element {
         kind: ElementKind::Resistor { r, .. },
         ..
-    }) = c.elements.get_mut(id)
+    }) = c.elements.get_mut(id.index())
     {
         *r = 1.0 / y.re;
     }
@@ -175,7 +175,7 @@ pub fn reference_of(circuit: &Circuit, reference: Option<f64>) -> Result<f64, St
     }
     match circuit
         .output
-        .and_then(|id| circuit.elements.get(id))
+        .and_then(|id| circuit.elements.get(id.index()))
         .map(|e| &e.kind)
     {
         Some(ElementKind::Resistor { r, .. }) => Ok(*r),

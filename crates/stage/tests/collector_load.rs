@@ -5,7 +5,8 @@
 use std::path::PathBuf;
 
 use num_complex::Complex64;
-use tankwave_circuit::{Circuit, ElementKind, Overrides, SteadyMethod};
+use tankwave_circuit::{Circuit, ElementId, ElementKind, NodeId, Overrides, SteadyMethod};
+use tankwave_devices::UnknownId;
 use tankwave_measure::CollectorLoad;
 use tankwave_solve::{PeriodicSolution, SteadyParams};
 
@@ -29,10 +30,10 @@ fn solve(c: &Circuit, method: SteadyMethod) -> PeriodicSolution {
     tankwave_solve::steady(c, &d, &p).expect("the steady state solves")
 }
 
-fn bjt_port(c: &Circuit, id: usize) -> (Option<usize>, Option<usize>) {
+fn bjt_port(c: &Circuit, id: ElementId) -> (NodeId, NodeId) {
     match &c.elements[id].kind {
         ElementKind::Bjt { c, e, .. } => (*c, *e),
-        _ => panic!("element {id} is not a transistor"),
+        _ => panic!("element {id:?} is not a transistor"),
     }
 }
 
@@ -164,7 +165,10 @@ fn class_c_fundamental_load_is_the_load_line() {
 
     let (coll, emit) = bjt_port(&c, l.element_id);
     let vce: Vec<f64> = (0..s.samples_per_period)
-        .map(|k| coll.map_or(0.0, |i| s.x[i][k]) - emit.map_or(0.0, |i| s.x[i][k]))
+        .map(|k| {
+            let v = |n| UnknownId::voltage(n).map_or(0.0, |u| s.wave(u)[k]);
+            v(coll) - v(emit)
+        })
         .collect();
     let spec = tankwave_measure::spectrum(&vce, s.harmonics).expect("spectrum");
     let vmin = vce.iter().copied().fold(f64::INFINITY, f64::min);

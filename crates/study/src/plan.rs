@@ -168,10 +168,10 @@ impl Plan {
         let mut tolerances = Vec::with_capacity(spec.tolerances.len());
         for (position, t) in spec.tolerances.iter().enumerate() {
             let element = element_names
-                .get(t.element)
+                .get(t.element.index())
                 .ok_or(StudyError::UnknownElement {
                     position,
-                    element: t.element,
+                    element: t.element.index(),
                     count: element_names.len(),
                 })?
                 .to_string();

@@ -44,8 +44,8 @@ impl<'a> Cx<'a> {
                 all_ok = false;
                 // A placeholder keeps the ids aligned with pass 1.
                 ElementKind::Resistor {
-                    a: None,
-                    b: None,
+                    a: NodeId::GROUND,
+                    b: NodeId::GROUND,
                     r: 1.0,
                     rating_w: None,
                 }
@@ -62,15 +62,15 @@ impl<'a> Cx<'a> {
 
     pub(super) fn node(&mut self, name: &str) -> NodeId {
         if name == "gnd" {
-            return None;
+            return NodeId::GROUND;
         }
         if let Some(i) = self.nodes.get(name) {
-            return Some(*i);
+            return NodeId::node(*i);
         }
         let i = self.node_names.len();
         self.node_names.push(name.to_string());
         self.nodes.insert(name.to_string(), i);
-        Some(i)
+        NodeId::node(i)
     }
 
     pub(super) fn element_ref(&mut self, id: &Ident, ctx: &str) -> Option<ElementId> {
@@ -91,7 +91,7 @@ impl<'a> Cx<'a> {
     }
 
     pub(super) fn elem_kind(&self, id: ElementId) -> Option<ElemKeyword> {
-        self.elems.get(id).map(|e| e.kind)
+        self.elems.get(id.index()).map(|e| e.kind)
     }
 
     /// The keyword of an element's kind, for messages.
@@ -129,7 +129,10 @@ impl<'a> Cx<'a> {
 
     /// The node of the `i`-th positional terminal (ground if absent).
     fn terminal(&mut self, e: &ElementStmt, i: usize) -> NodeId {
-        e.nodes.get(i).and_then(|n| self.node(&n.name))
+        e.nodes
+            .get(i)
+            .map(|n| self.node(&n.name))
+            .unwrap_or(NodeId::GROUND)
     }
 
     /// Number the positional nodes of an element in order of appearance.
@@ -461,7 +464,7 @@ impl<'a> Cx<'a> {
         if !parts.ok {
             return None;
         }
-        let mk = *parts.kinds.get(mid)?;
+        let mk = *parts.kinds.get(mid.index())?;
         let fits = if is_d {
             mk == ModelKind::Diode
         } else {
@@ -475,7 +478,7 @@ impl<'a> Cx<'a> {
             };
             let mname_s = parts
                 .models
-                .get(mid)
+                .get(mid.index())
                 .map(|m| m.name.as_str())
                 .unwrap_or("?");
             self.error(

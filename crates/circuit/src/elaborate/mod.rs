@@ -244,9 +244,9 @@ impl<'a> Cx<'a> {
     }
 
     fn declare_element(&mut self, e: &'a ElementStmt) {
-        let id = self.elems.len();
+        let id = ElementId::new(self.elems.len());
         if let Some(prev) = self.elem_ids.get(e.name.name.as_str()) {
-            let line = self.line_of(self.elems[*prev].stmt.name.span);
+            let line = self.line_of(self.elems[prev.index()].stmt.name.span);
             self.error(
                 "duplicate-name",
                 e.name.span,

@@ -34,7 +34,7 @@ impl<'a> Cx<'a> {
                 format!("part '{}' is already defined", m.name.name),
             );
         } else {
-            let id = self.models.len();
+            let id = ModelId::new(self.models.len());
             self.models.insert(m.name.name.as_str(), id);
         }
     }

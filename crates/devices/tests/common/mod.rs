@@ -2,7 +2,7 @@
 //! finite-difference Jacobian check and a small dense solver.
 #![allow(dead_code)]
 
-use tankwave_circuit::ir::{Circuit, Element, ElementKind, Origin};
+use tankwave_circuit::ir::{Circuit, Element, ElementKind, NodeId, Origin};
 use tankwave_devices::{DenseStamp, Device, DeviceSet, EvalCtx};
 
 /// A circuit with the given node names and elements (named e0, e1, ... unless given).
@@ -20,6 +20,11 @@ pub fn circuit(nodes: &[&str], elements: Vec<(&str, ElementKind)>) -> Circuit {
             .collect(),
         ..Default::default()
     }
+}
+
+/// The node handle of node index `i` (`None` is ground).
+pub fn nid(i: Option<usize>) -> NodeId {
+    i.map(NodeId::node).unwrap_or(NodeId::GROUND)
 }
 
 /// Evaluate one device at `x`.

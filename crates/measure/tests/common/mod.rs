@@ -5,7 +5,7 @@
 use std::f64::consts::PI;
 
 use tankwave_circuit::{
-    BjtParams, Circuit, Element, ElementKind, Model, ModelParams, NodeId, Origin, Waveform,
+    BjtParams, Circuit, Element, ElementKind, Model, ModelId, ModelParams, NodeId, Origin, Waveform,
 };
 
 /// Truncated cosine of peak 1 and full conduction angle `full_deg`, N samples,
@@ -56,30 +56,55 @@ pub fn el(name: &str, kind: ElementKind) -> Element {
     }
 }
 
-pub fn resistor(name: &str, a: NodeId, b: NodeId, r: f64, rating_w: Option<f64>) -> Element {
-    el(name, ElementKind::Resistor { a, b, r, rating_w })
+/// The node handle of node index `i` (`None` is ground).
+pub fn nid(i: Option<usize>) -> NodeId {
+    i.map(NodeId::node).unwrap_or(NodeId::GROUND)
 }
 
-pub fn vsource(name: &str, p: NodeId, n: NodeId, dc: f64, rs: f64) -> Element {
+pub fn resistor(
+    name: &str,
+    a: Option<usize>,
+    b: Option<usize>,
+    r: f64,
+    rating_w: Option<f64>,
+) -> Element {
+    el(
+        name,
+        ElementKind::Resistor {
+            a: nid(a),
+            b: nid(b),
+            r,
+            rating_w,
+        },
+    )
+}
+
+pub fn vsource(name: &str, p: Option<usize>, n: Option<usize>, dc: f64, rs: f64) -> Element {
     el(
         name,
         ElementKind::VoltageSource {
-            p,
-            n,
+            p: nid(p),
+            n: nid(n),
             wave: Waveform { dc, shape: None },
             rs,
         },
     )
 }
 
-pub fn bjt(name: &str, c: NodeId, b: NodeId, e: NodeId, model: usize) -> Element {
+pub fn bjt(
+    name: &str,
+    c: Option<usize>,
+    b: Option<usize>,
+    e: Option<usize>,
+    model: usize,
+) -> Element {
     el(
         name,
         ElementKind::Bjt {
-            c,
-            b,
-            e,
-            model,
+            c: nid(c),
+            b: nid(b),
+            e: nid(e),
+            model: ModelId::new(model),
             area: 1.0,
         },
     )

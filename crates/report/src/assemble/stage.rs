@@ -4,6 +4,7 @@
 
 use serde_json::{json, Value};
 use tankwave_circuit::{Analysis, Circuit, Scale};
+use tankwave_devices::UnknownId;
 use tankwave_stage::{mask_evaluations, StageResults};
 
 use super::Drawn;
@@ -80,8 +81,14 @@ fn ac_view(c: &Circuit) -> (Vec<usize>, Scale) {
         .unwrap_or(Scale::Log);
     let mut unknowns: Vec<usize> = c
         .output
-        .and_then(|o| c.elements.get(o))
-        .map(|e| e.kind.terminals().into_iter().flatten().collect())
+        .and_then(|o| c.elements.get(o.index()))
+        .map(|e| {
+            e.kind
+                .terminals()
+                .into_iter()
+                .filter_map(|n| UnknownId::voltage(n).map(|u| u.index()))
+                .collect()
+        })
         .unwrap_or_default();
     unknowns.truncate(1);
     (unknowns, scale)

@@ -125,7 +125,7 @@ fn study_description(c: &Circuit, total: u64) -> String {
             .study
             .tolerances
             .iter()
-            .filter_map(|t| c.elements.get(t.element).map(|e| e.name.as_str()))
+            .filter_map(|t| c.elements.get(t.element.index()).map(|e| e.name.as_str()))
             .collect();
         parts.push(format!(
             "{} Monte Carlo runs per grid point (seed {}) with tolerances on {}",

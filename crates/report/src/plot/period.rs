@@ -8,6 +8,7 @@
 //! with saturation notches bridged.
 
 use tankwave_circuit::{Circuit, ElementId, ElementKind, ModelParams, NodeId};
+use tankwave_devices::UnknownId;
 use tankwave_solve::PeriodicSolution;
 
 use super::canvas::{axis_desc, draw_panel, extent, padded, prefix_for, render, Line, Panel};
@@ -18,7 +19,7 @@ pub use tankwave_measure::conduction_intervals;
 
 fn node_wave(sol: &PeriodicSolution, node: NodeId, what: &str) -> Result<Vec<f64>, PlotError> {
     let n = sol.samples_per_period;
-    match node {
+    match UnknownId::voltage(node).map(|u| u.index()) {
         None => Ok(vec![0.0; n]),
         Some(k) => {
             let w = sol.x.get(k).ok_or_else(|| PlotError::Shape {
@@ -51,7 +52,7 @@ fn output_wave(
     let Some(id) = circuit.output else {
         return Ok(None);
     };
-    let Some(el) = circuit.elements.get(id) else {
+    let Some(el) = circuit.elements.get(id.index()) else {
         return Ok(None);
     };
     let t = el.kind.terminals();
@@ -75,10 +76,13 @@ pub fn period_plot(
     element: ElementId,
     p: &PlotParams,
 ) -> Result<String, PlotError> {
-    let el = circuit.elements.get(element).ok_or(PlotError::NoElement {
-        index: element,
-        count: circuit.elements.len(),
-    })?;
+    let el = circuit
+        .elements
+        .get(element.index())
+        .ok_or(PlotError::NoElement {
+            index: element.index(),
+            count: circuit.elements.len(),
+        })?;
     let ElementKind::Bjt { c, b, e, model, .. } = &el.kind else {
         return Err(PlotError::NotTransistor {
             element: el.name.clone(),
@@ -97,7 +101,7 @@ pub fn period_plot(
             why: format!("{} Hz is not a positive number", sol.freq),
         });
     }
-    let pnp = matches!(circuit.models.get(*model).map(|m| &m.params), Some(ModelParams::Bjt(bp)) if bp.pnp);
+    let pnp = matches!(circuit.models.get(model.index()).map(|m| &m.params), Some(ModelParams::Bjt(bp)) if bp.pnp);
     let s = if pnp { -1.0 } else { 1.0 };
     let vc = node_wave(sol, *c, &el.name)?;
     let vb = node_wave(sol, *b, &el.name)?;
@@ -105,9 +109,7 @@ pub fn period_plot(
     let vce = diff(&vc, &ve, s);
     let vbe = diff(&vb, &ve, s);
     let ic_raw = sol
-        .terminal_currents
-        .get(element)
-        .and_then(|t| t.first())
+        .terminal_current(element.terminal(0))
         .ok_or_else(|| PlotError::Shape {
             what: format!("collector current of {}", el.name),
             expected: 1,
@@ -140,8 +142,8 @@ pub fn period_plot(
     };
     // shade exactly what the conduction angle counts: the measure's rule on
     // the transport current (the terminal current when there is none)
-    let transport: Option<Vec<f64>> = match sol.transport_currents.get(element) {
-        Some(Some(t)) if t.len() == n => Some(t.iter().map(|v| s * v).collect()),
+    let transport: Option<Vec<f64>> = match sol.transport_current(element) {
+        Some(t) if t.len() == n => Some(t.iter().map(|v| s * v).collect()),
         _ => None,
     };
     let it: Vec<f64> = transport.clone().unwrap_or_else(|| ic.clone());
@@ -295,9 +297,7 @@ pub fn period_plots(
     p: &PlotParams,
 ) -> Result<Vec<(String, String)>, PlotError> {
     circuit
-        .elements
-        .iter()
-        .enumerate()
+        .element_ids()
         .filter(|(_, e)| matches!(e.kind, ElementKind::Bjt { .. }))
         .map(|(id, e)| Ok((e.name.clone(), period_plot(circuit, sol, id, p)?)))
         .collect()

@@ -3,6 +3,7 @@
 //! final amplitude marked.
 
 use tankwave_circuit::Circuit;
+use tankwave_devices::UnknownId;
 use tankwave_solve::TransientResult;
 
 use super::canvas::{
@@ -78,13 +79,19 @@ pub fn startup_plot(
         what: "output element".into(),
         why: "the circuit names no output element".into(),
     })?;
-    let el = circuit.elements.get(id).ok_or(PlotError::NoElement {
-        index: id,
-        count: circuit.elements.len(),
-    })?;
+    let el = circuit
+        .elements
+        .get(id.index())
+        .ok_or(PlotError::NoElement {
+            index: id.index(),
+            count: circuit.elements.len(),
+        })?;
     let terms = el.kind.terminals();
     let (a, b) = match (terms.first(), terms.get(1)) {
-        (Some(a), Some(b)) => (*a, *b),
+        (Some(a), Some(b)) => (
+            UnknownId::voltage(*a).map(|u| u.index()),
+            UnknownId::voltage(*b).map(|u| u.index()),
+        ),
         _ => {
             return Err(PlotError::BadParameter {
                 what: format!("output element {}", el.name),

@@ -5,9 +5,11 @@
 use std::f64::consts::PI;
 
 use num_complex::Complex64;
+use tankwave_circuit::handle::{ElementId, ModelId, NodeId};
 use tankwave_circuit::{
     BjtParams, Circuit, Element, ElementKind, Model, ModelParams, Origin, SteadyMethod,
 };
+use tankwave_devices::UnknownKind;
 use tankwave_measure::{
     HarmonicPower, HarmonicRow, MaskEvaluation, Metrics, OutputMetrics, StressQuantity, StressRow,
     TransistorMetrics, Unit, Verdict,
@@ -21,9 +23,9 @@ use tankwave_solve::{
 /// Carrier of the demo stage, Hz.
 pub const F0: f64 = 7.1e6;
 /// Element index of the transistor.
-pub const Q1: usize = 0;
+pub const Q1: ElementId = ElementId::new(0);
 /// Element index of the load.
-pub const RL: usize = 1;
+pub const RL: ElementId = ElementId::new(1);
 /// Samples per period.
 pub const N: usize = 256;
 
@@ -44,10 +46,10 @@ pub fn circuit() -> Circuit {
             Element {
                 name: "Q1".into(),
                 kind: ElementKind::Bjt {
-                    c: Some(1),
-                    b: Some(2),
-                    e: None,
-                    model: 0,
+                    c: NodeId::node(1),
+                    b: NodeId::node(2),
+                    e: NodeId::GROUND,
+                    model: ModelId::new(0),
                     area: 1.0,
                 },
                 origin: origin(),
@@ -55,8 +57,8 @@ pub fn circuit() -> Circuit {
             Element {
                 name: "RL".into(),
                 kind: ElementKind::Resistor {
-                    a: Some(3),
-                    b: None,
+                    a: NodeId::node(3),
+                    b: NodeId::GROUND,
                     r: 50.0,
                     rating_w: None,
                 },
@@ -310,6 +312,7 @@ pub fn ac_result() -> AcResult {
         op: OpResult {
             x: vec![0.0, 0.0],
             names: vec!["V[in]".into(), "V[out]".into()],
+            kinds: vec![UnknownKind::Voltage; 2],
             info: NewtonInfo {
                 iterations: 1,
                 residual: 0.0,

@@ -30,8 +30,8 @@ use crate::linalg::LinearSolver;
 use crate::newton::Tolerances;
 use crate::SolveError;
 use tankwave_circuit::ir::{ElementKind, Shape};
-use tankwave_circuit::{Analysis, Circuit, SteadyMethod};
-use tankwave_devices::DeviceSet;
+use tankwave_circuit::{Analysis, Circuit, ElementId, SteadyMethod, Terminal};
+use tankwave_devices::{DeviceSet, UnknownId};
 
 /// A periodic steady state sampled over one period.
 #[derive(Debug, Clone, PartialEq)]
@@ -67,6 +67,21 @@ impl PeriodicSolution {
     pub fn times(&self) -> Vec<f64> {
         let n = self.samples_per_period;
         (0..n).map(|k| k as f64 / (n as f64 * self.freq)).collect()
+    }
+    /// The period of unknown `u` (empty if `u` is not of this solution).
+    pub fn wave(&self, u: UnknownId) -> &[f64] {
+        self.x.get(u.index()).map(|v| v.as_slice()).unwrap_or(&[])
+    }
+    /// The current into terminal `t` over the period, if the solution has it.
+    pub fn terminal_current(&self, t: Terminal) -> Option<&[f64]> {
+        self.terminal_currents
+            .get(t.element().index())?
+            .get(t.index())
+            .map(|v| v.as_slice())
+    }
+    /// The transport current of element `e` over the period, if it has one.
+    pub fn transport_current(&self, e: ElementId) -> Option<&[f64]> {
+        self.transport_currents.get(e.index())?.as_deref()
     }
 }
 

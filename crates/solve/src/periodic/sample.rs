@@ -12,7 +12,7 @@ use super::{PeriodicSolution, SteadyInfo, SteadyParams};
 use crate::error::When;
 use crate::transient::{bdf2_coefficients, GAMMA};
 use crate::SolveError;
-use tankwave_circuit::Circuit;
+use tankwave_circuit::{Circuit, ElementId};
 use tankwave_devices::{DeviceSet, EvalCtx, Idx, Stamp};
 
 /// A stamp that keeps only the currents and charges (shared by every
@@ -89,7 +89,7 @@ pub(crate) struct ElementDevices<'a> {
 
 impl<'a> ElementDevices<'a> {
     /// Element `ei` of the circuit, with terminals `terms`.
-    pub(crate) fn new(devices: &'a DeviceSet, ei: usize, terms: Vec<Idx>) -> Self {
+    pub(crate) fn new(devices: &'a DeviceSet, ei: ElementId, terms: Vec<Idx>) -> Self {
         let devs = devices
             .devices
             .iter()
@@ -303,13 +303,17 @@ pub(crate) fn sample_currents<'a>(
     let mut out = Vec::with_capacity(circuit.elements.len());
     let mut xs = vec![0.0; n];
     let mut stamp = IqStamp::new(n);
-    for (ei, el) in circuit.elements.iter().enumerate() {
+    for (ei, el) in circuit.element_ids() {
         let terms = el.kind.terminals();
         if terms.is_empty() {
             out.push(Vec::new());
             continue;
         }
-        let ed = ElementDevices::new(devices, ei, terms.clone());
+        let units = terms
+            .iter()
+            .map(|&t| devices.voltage_of(t).map(|u| u.index()))
+            .collect();
+        let ed = ElementDevices::new(devices, ei, units);
         let nt = terms.len();
         // q of this element's terminals at the stage points, when the rule has them.
         let mut qg = vec![Vec::new(); nt];
@@ -336,13 +340,13 @@ pub(crate) fn sample_currents<'a>(
             });
         }
         let mut cur: Vec<Vec<f64>> = (0..nt)
-            .map(|j| match terms[j] {
-                Some(_) => rule.current(&iv[j], &qv[j], &qg[j]),
-                None => vec![0.0; nout],
+            .map(|j| match terms[j].is_ground() {
+                false => rule.current(&iv[j], &qv[j], &qg[j]),
+                true => vec![0.0; nout],
             })
             .collect();
         // Grounded terminal: minus the sum of the others (charge neutrality).
-        let grounded: Vec<usize> = (0..nt).filter(|&j| terms[j].is_none()).collect();
+        let grounded: Vec<usize> = (0..nt).filter(|&j| terms[j].is_ground()).collect();
         if let [g] = grounded[..] {
             for s in 0..nout {
                 let sum: f64 = (0..nt).filter(|&j| j != g).map(|j| cur[j][s]).sum();
@@ -375,8 +379,9 @@ pub fn transport_currents(
     let ns = x.first().map(|v| v.len()).unwrap_or(0);
     let period = 1.0 / freq;
     let mut xs = vec![0.0; x.len()];
-    (0..circuit.elements.len())
-        .map(|ei| {
+    circuit
+        .element_ids()
+        .map(|(ei, _)| {
             let mut devs = devices.devices.iter().filter(|d| d.element() == ei);
             let dev = devs.next()?;
             if devs.next().is_some() || ns == 0 {

@@ -83,14 +83,11 @@ impl B {
         }
     }
     pub fn node(&mut self, name: &str) -> NodeId {
-        if name == "gnd" {
-            return None;
-        }
-        if let Some(i) = self.c.nodes.iter().position(|n| n == name) {
-            return Some(i);
+        if let Some(n) = self.c.node(name) {
+            return n;
         }
         self.c.nodes.push(name.to_string());
-        Some(self.c.nodes.len() - 1)
+        NodeId::node(self.c.nodes.len() - 1)
     }
     fn push(&mut self, name: &str, kind: ElementKind) -> ElementId {
         self.c.elements.push(Element {
@@ -98,7 +95,7 @@ impl B {
             kind,
             origin: Origin::default(),
         });
-        self.c.elements.len() - 1
+        ElementId::new(self.c.elements.len() - 1)
     }
     pub fn r(&mut self, name: &str, a: &str, b: &str, r: f64) -> ElementId {
         let (a, b) = (self.node(a), self.node(b));
@@ -157,7 +154,7 @@ impl B {
             params: ModelParams::Diode(params),
             origin: Origin::default(),
         });
-        let model = self.c.models.len() - 1;
+        let model = ModelId::new(self.c.models.len() - 1);
         let (a, k) = (self.node(a), self.node(k));
         self.push(
             name,
@@ -196,7 +193,7 @@ impl B {
             params: ModelParams::Bjt(params),
             origin: Origin::default(),
         });
-        let model = self.c.models.len() - 1;
+        let model = ModelId::new(self.c.models.len() - 1);
         let (c, b, e) = (self.node(c), self.node(b), self.node(e));
         self.push(
             name,
@@ -274,14 +271,14 @@ pub fn class_c(drive: f64) -> B {
         params: ModelParams::Bjt(tw_hf25()),
         origin: Origin::default(),
     });
-    let model = b.c.models.len() - 1;
+    let model = ModelId::new(b.c.models.len() - 1);
     let (c, bb) = (b.node("coll"), b.node("base"));
     b.c.elements.push(Element {
         name: "q1".into(),
         kind: ElementKind::Bjt {
             c,
             b: bb,
-            e: None,
+            e: NodeId::GROUND,
             model,
             area: 1.0,
         },

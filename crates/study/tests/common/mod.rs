@@ -28,7 +28,7 @@ pub fn vary_element(name: &str, sweep: Sweep) -> Vary {
 
 pub fn tol(element: usize, fraction: f64, distribution: Distribution) -> Tolerance {
     Tolerance {
-        element,
+        element: tankwave_circuit::ElementId::new(element),
         fraction,
         distribution,
     }
