@@ -48,6 +48,17 @@ pub struct RunArgs {
 
 /// Run the command; returns the exit code.
 pub fn run(a: &RunArgs) -> i32 {
+    let clock = crate::progress::Clock::start();
+    let code = run_timed(a);
+    // the closing time line only after work was done (not after refused options)
+    if code != BAD_INPUT {
+        clock.report();
+    }
+    code
+}
+
+/// [`run`] without the closing time line.
+fn run_timed(a: &RunArgs) -> i32 {
     let file = a.file.display().to_string();
     let overrides = match common::overrides(&a.sets) {
         Ok(o) => o,
@@ -86,7 +97,16 @@ pub fn run(a: &RunArgs) -> i32 {
         );
     }
     let c = &loaded.circuit;
-    let res = match tankwave_stage::solve(c, &SolveOptions::scope(Scope::All)) {
+    let shown = crate::progress::Analyses::new(&file);
+    let solved = tankwave_stage::solve(
+        c,
+        &SolveOptions {
+            observer: Some(&shown),
+            ..SolveOptions::scope(Scope::All)
+        },
+    );
+    shown.finish();
+    let res = match solved {
         Ok(r) => r,
         Err(f) => return common::report_failure(&file, &f),
     };
