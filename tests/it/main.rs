@@ -1,7 +1,7 @@
 //! The integration-test binary: the `tankwave` command end to end (`cli`,
 //! `bad_input`), agreement of the steady-state methods on every demo stage
 //! (`agreement`), the convergence sweep over the class-C demo
-//! (`convergence`), and a bounded solve of random small circuits
+//! (`convergence`), what a new user meets first (`first_hour`), and a bounded solve of random small circuits
 //! (`fuzz_smoke`), the demo outputs against golden files (`golden`),
 //! hostile input from strangers (`hostile`), the crate layering and
 //! syntax-tree boundary (`layering`), and the README commands as written
@@ -12,6 +12,7 @@ mod agreement;
 mod bad_input;
 mod cli;
 mod convergence;
+mod first_hour;
 mod fuzz_smoke;
 mod golden;
 mod harness;
