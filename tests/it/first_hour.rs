@@ -188,3 +188,101 @@ fn a_transient_csv_can_be_thinned_and_limited_to_chosen_signals() {
     assert_eq!(code(&bad), 2);
     assert!(stderr(&bad).contains("V[out]"), "{}", stderr(&bad));
 }
+
+/// A sweep over two axes draws one curve per value of the second, and each
+/// curve's legend label carries that value's unit (`amp = 5.00 V`).
+#[test]
+fn sweep_legends_carry_units() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let file = data("study/sweep2.tank");
+    let o = run(&[
+        "study",
+        p(&file),
+        "--quiet",
+        "--no-caution",
+        "--plots",
+        p(dir.path()),
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let svg = std::fs::read_to_string(dir.path().join("sweep-pout-w.svg")).expect("sweep plot");
+    let doc = roxmltree::Document::parse(&svg).expect("well-formed SVG");
+    let legend: Vec<&str> = doc
+        .descendants()
+        .filter(|n| {
+            n.has_tag_name("g")
+                && n.attribute("class")
+                    .is_some_and(|c| c.contains("legend-entry"))
+        })
+        .filter_map(|n| n.attribute("data-label"))
+        .collect();
+    assert!(legend.contains(&"amp = 5.00 V"), "{legend:?}");
+    assert!(legend.contains(&"amp = 10.0 V"), "{legend:?}");
+}
+
+/// The HTML report of a stage opens with the verdict, then the spectrum;
+/// the per-harmonic rows of a mask requirement are folded in a
+/// `<details>` (open when a harmonic fails); the start-up transient's
+/// caption gives its settling time.
+#[test]
+fn html_report_opens_with_the_verdict_and_the_spectrum() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let html = dir.path().join("r.html");
+    let file = crate::harness::root().join("netlists/ism-13m56-classc.tank");
+    let o = run(&["run", p(&file), "--quiet", "--report", p(&html)]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let text = std::fs::read_to_string(&html).expect("report");
+    let opts = roxmltree::ParsingOptions {
+        allow_dtd: true,
+        ..Default::default()
+    };
+    let doc = roxmltree::Document::parse_with_options(&text, opts).expect("well-formed XML");
+    let sections: Vec<&str> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("h2"))
+        .filter_map(|n| n.attribute("id"))
+        .collect();
+    assert_eq!(sections.first(), Some(&"verdicts"), "{sections:?}");
+    assert_eq!(sections.get(1), Some(&"spectrum"), "{sections:?}");
+    let details: Vec<_> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("details"))
+        .collect();
+    assert_eq!(details.len(), 1, "one mask requirement");
+    // every harmonic is within the mask in this stage, so its rows start folded
+    assert_eq!(details[0].attribute("open"), None);
+    let rows = details[0]
+        .descendants()
+        .filter(|n| n.has_tag_name("tr"))
+        .count();
+    assert!(rows > 5, "{rows} rows");
+    // the verdict table itself holds no harmonic rows
+    let first_table = doc
+        .descendants()
+        .find(|n| n.has_tag_name("table"))
+        .expect("a table");
+    assert!(!first_table
+        .descendants()
+        .any(|n| n.text().is_some_and(|t| t.starts_with("harmonic "))));
+    let settle = text
+        .split("Settling time: the output reaches 90 % of its final amplitude at ")
+        .nth(1)
+        .expect("settling time in the start-up caption");
+    let mut words = settle.split_whitespace();
+    let number: f64 = words.next().and_then(|w| w.parse().ok()).expect("a number");
+    let unit = words
+        .next()
+        .and_then(|w| w.split('.').next())
+        .expect("a unit");
+    let scale = match unit {
+        "s" => 1.0,
+        "ms" => 1e-3,
+        "µs" => 1e-6,
+        "ns" => 1e-9,
+        other => panic!("unit {other}"),
+    };
+    // within the run: the transient of this stage stops at 300/f0 = 22.1 µs,
+    // and the drive rises over its first 20 periods (1.47 µs), so the
+    // output cannot settle before that
+    let t = number * scale;
+    assert!(t > 20.0 / 13.56e6 && t < 300.0 / 13.56e6, "{t}");
+}
