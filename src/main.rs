@@ -5,6 +5,7 @@
 
 mod cmd;
 mod diag;
+mod progress;
 
 use clap::{Parser, Subcommand};
 use std::process::ExitCode;
@@ -35,6 +36,10 @@ struct Cli {
     /// `run` keeps it in its report).
     #[arg(long = "no-caution", global = true)]
     no_caution: bool,
+    /// No progress bars and no closing `finished in …` line on stderr
+    /// (bars are drawn only when stderr is a terminal anyway).
+    #[arg(long, short = 'q', global = true)]
+    quiet: bool,
 }
 
 /// Whether a command prints voltages or powers of a stage, and so shows the
@@ -86,6 +91,7 @@ fn main() -> ExitCode {
         }
     };
     cmd::common::set_include_roots(cli.include_roots.clone());
+    progress::set_quiet(cli.quiet);
     if !cli.no_caution && shows_caution(&cli.command) {
         // the same single text `run` prints in its report
         eprintln!("{}", tankwave_report::stage::SAFETY_NOTE);

@@ -42,6 +42,14 @@ pub struct CheckArgs {
 /// Run the command; returns the exit code (the worst over all files:
 /// 2 bad input, then 3 solver failure, then 1 a requirement failed, else 0).
 pub fn run(a: &CheckArgs) -> i32 {
+    let clock = crate::progress::Clock::start();
+    let code = run_timed(a);
+    clock.report();
+    code
+}
+
+/// [`run`] without the closing time line.
+fn run_timed(a: &CheckArgs) -> i32 {
     let overrides = match common::overrides(&a.sets) {
         Ok(o) => o,
         Err(m) => {
@@ -78,7 +86,14 @@ pub fn run(a: &CheckArgs) -> i32 {
                 }
             }
             Ok(l) => {
-                match tankwave_stage::solve(&l.circuit, &SolveOptions::scope(Scope::Requirements)) {
+                let shown = crate::progress::Analyses::new(&name);
+                let opts = SolveOptions {
+                    observer: Some(&shown),
+                    ..SolveOptions::scope(Scope::Requirements)
+                };
+                let solved = tankwave_stage::solve(&l.circuit, &opts);
+                shown.finish();
+                match solved {
                     Ok(r) => {
                         if let Some(dir) = &a.plots {
                             let stem = f

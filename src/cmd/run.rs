@@ -41,6 +41,16 @@ pub struct RunArgs {
     /// Write a self-contained HTML report (inline SVG and CSS, no network) to this file.
     #[arg(long, value_name = "FILE.html")]
     pub report: Option<PathBuf>,
+    /// In a transient's CSV (transient-N.csv, `--format csv`), keep one
+    /// accepted step in N (the first and the last are always kept).
+    #[arg(long, value_name = "N", default_value_t = 1,
+          value_parser = clap::value_parser!(u64).range(1..))]
+    pub csv_every: u64,
+    /// In a transient's CSV, write only these signals, comma-separated:
+    /// unknowns as the report names them (`V[out]`, `I[rfc]`) or bare node
+    /// names (`out` for `V[out]`).
+    #[arg(long, value_name = "LIST", value_delimiter = ',')]
+    pub csv_signals: Vec<String>,
     /// Print solver details (Newton system size, iterations, samples).
     #[arg(long, short)]
     pub verbose: bool,
@@ -48,6 +58,17 @@ pub struct RunArgs {
 
 /// Run the command; returns the exit code.
 pub fn run(a: &RunArgs) -> i32 {
+    let clock = crate::progress::Clock::start();
+    let code = run_timed(a);
+    // the closing time line only after work was done (not after refused options)
+    if code != BAD_INPUT {
+        clock.report();
+    }
+    code
+}
+
+/// [`run`] without the closing time line.
+fn run_timed(a: &RunArgs) -> i32 {
     let file = a.file.display().to_string();
     let overrides = match common::overrides(&a.sets) {
         Ok(o) => o,
@@ -86,7 +107,35 @@ pub fn run(a: &RunArgs) -> i32 {
         );
     }
     let c = &loaded.circuit;
-    let res = match tankwave_stage::solve(c, &SolveOptions::scope(Scope::All)) {
+    // the transient's CSV columns, checked before any solving
+    let columns = if a.csv_signals.is_empty() {
+        None
+    } else {
+        let names = tankwave_devices::instantiate(c)
+            .map(|d| d.names)
+            .unwrap_or_default();
+        match stage::transient_columns(&names, &a.csv_signals) {
+            Ok(cols) => Some(cols),
+            Err(m) => {
+                eprintln!("error: --csv-signals: {}", common::esc(&m));
+                return BAD_INPUT;
+            }
+        }
+    };
+    let chosen = stage::TransientCsv {
+        every: usize::try_from(a.csv_every).unwrap_or(usize::MAX),
+        columns,
+    };
+    let shown = crate::progress::Analyses::new(&file);
+    let solved = tankwave_stage::solve(
+        c,
+        &SolveOptions {
+            observer: Some(&shown),
+            ..SolveOptions::scope(Scope::All)
+        },
+    );
+    shown.finish();
+    let res = match solved {
         Ok(r) => r,
         Err(f) => return common::report_failure(&file, &f),
     };
@@ -100,7 +149,7 @@ pub fn run(a: &RunArgs) -> i32 {
             Some(s) => common::show(&stage::spectrum_csv(&s.metrics)),
             None => {
                 if let Some(t) = res.transients.first() {
-                    common::show(&stage::transient_csv(t))
+                    common::show(&stage::transient_csv_chosen(t, &chosen))
                 } else if let Some(ac) = res.acs.first() {
                     common::show(&stage::ac_csv(ac))
                 }
@@ -118,7 +167,7 @@ pub fn run(a: &RunArgs) -> i32 {
         for (k, t) in res.transients.iter().enumerate() {
             files.push((
                 dir.join(format!("transient-{}.csv", k + 1)),
-                stage::transient_csv(t).into_bytes(),
+                stage::transient_csv_chosen(t, &chosen).into_bytes(),
             ));
         }
         for (k, ac) in res.acs.iter().enumerate() {

@@ -7,7 +7,6 @@ use super::common::{self, BAD_INPUT, FAILED, OK, SOLVER};
 use super::visual;
 use clap::{Args, ValueEnum};
 use std::collections::BTreeMap;
-use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
 use tankwave_circuit::{Overrides, Tune};
 use tankwave_report::assemble::{self, NominalStage, StudyReport};
@@ -49,6 +48,19 @@ pub struct StudyArgs {
     /// then the nominal stage (the file's own values, steady state only).
     #[arg(long, value_name = "FILE.html")]
     pub report: Option<PathBuf>,
+    /// What to print on stdout: the summary as text, or as one JSON
+    /// document (counts, figure statistics, worst variants, drivers).
+    #[arg(long, value_enum, default_value = "table")]
+    pub format: SummaryFormat,
+}
+
+/// Output format of the `study` summary.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum SummaryFormat {
+    /// Readable tables.
+    Table,
+    /// One JSON document (docs/output.md).
+    Json,
 }
 
 /// Arguments of `merge`.
@@ -146,9 +158,9 @@ fn provenance(
     }
 }
 
-/// A progress bar on stderr, only when stderr is a terminal.
+/// A progress bar on stderr, only when stderr is a terminal and not `--quiet`.
 fn progress_bar(total: u64) -> Option<indicatif::ProgressBar> {
-    if !std::io::stderr().is_terminal() {
+    if !crate::progress::bars() {
         return None;
     }
     let pb = indicatif::ProgressBar::new(total);
@@ -194,6 +206,16 @@ fn check_threads(threads: Option<usize>) -> Result<(), String> {
 
 /// Run `study`; returns the exit code (1 if any variant fails a requirement or does not solve).
 pub fn run(a: &StudyArgs) -> i32 {
+    let clock = crate::progress::Clock::start();
+    let code = run_timed(a);
+    if code != BAD_INPUT {
+        clock.report();
+    }
+    code
+}
+
+/// [`run`] without the closing time line.
+fn run_timed(a: &StudyArgs) -> i32 {
     let file = a.file.display().to_string();
     let overrides = match common::overrides(&a.sets) {
         Ok(o) => o,
@@ -391,16 +413,33 @@ pub fn run(a: &StudyArgs) -> i32 {
             return BAD_INPUT;
         }
     }
-    common::show(&tankwave_report::batch::study_heading(
-        loaded.circuit.title.as_deref(),
-        &file,
-        &info,
-    ));
-    common::show(&tankwave_report::batch::summary_text(
-        &summary,
-        &assemble::variant::requirement_units(&loaded.circuit),
-        &assemble::units::value_units(&loaded.circuit, &summary),
-    ));
+    let units = assemble::variant::requirement_units(&loaded.circuit);
+    let value_units = assemble::units::value_units(&loaded.circuit, &summary);
+    match a.format {
+        SummaryFormat::Table => {
+            common::show(&tankwave_report::batch::study_heading(
+                loaded.circuit.title.as_deref(),
+                &file,
+                &info,
+            ));
+            common::show(&tankwave_report::batch::summary_text(
+                &summary,
+                &units,
+                &value_units,
+            ));
+        }
+        SummaryFormat::Json => {
+            let doc = serde_json::json!({
+                "schema": tankwave_report::SCHEMA_VERSION,
+                "tool": visual::tool(),
+                "file": file,
+                "title": loaded.circuit.title,
+                "run": {"recorded": info.recorded, "skipped": info.skipped, "threads": info.threads},
+                "summary": tankwave_report::batch::summary_json(&summary, &units, &value_units),
+            });
+            common::show_json(&serde_json::to_string_pretty(&doc).unwrap_or_else(|_| "{}".into()));
+        }
+    }
     if summary.failed > 0 || summary.passed_all < summary.variants {
         FAILED
     } else {
@@ -472,6 +511,16 @@ pub fn merge(a: &MergeArgs) -> i32 {
 
 /// Run `tune`.
 pub fn tune(a: &TuneArgs) -> i32 {
+    let clock = crate::progress::Clock::start();
+    let code = tune_timed(a);
+    if code != BAD_INPUT {
+        clock.report();
+    }
+    code
+}
+
+/// [`tune`] without the closing time line.
+fn tune_timed(a: &TuneArgs) -> i32 {
     let file = a.file.display().to_string();
     let map_params = study::TuneMapParams {
         points: a.plot_points.unwrap_or(0),
@@ -572,10 +621,26 @@ pub fn tune(a: &TuneArgs) -> i32 {
         search_drive: a.search_drive,
         ..Default::default()
     };
+    // the tuner tells its progress by calling the objective: one tick per solve
+    let pb = crate::progress::bar(
+        0,
+        "{spinner} {elapsed:>4} {msg}: {pos} steady states solved",
+    );
     let objective = |values: &BTreeMap<String, f64>, ctx: &study::TuneContext| {
-        tankwave_stage::tune_figures(&loaded.source, values, ctx)
+        let r = tankwave_stage::tune_figures(&loaded.source, values, ctx);
+        if let Some(pb) = &pb {
+            pb.inc(1);
+        }
+        r
     };
-    let r = match study::tune(&ranges, objective, goal, &params) {
+    if let Some(pb) = &pb {
+        pb.set_message("tuning");
+    }
+    let tuned = study::tune(&ranges, objective, goal, &params);
+    if let Some(pb) = &pb {
+        pb.finish_and_clear();
+    }
+    let r = match tuned {
         Ok(r) => r,
         Err(e) => {
             eprintln!("error: {file}: tuning failed: {e}");
@@ -598,7 +663,15 @@ pub fn tune(a: &TuneArgs) -> i32 {
         .collect();
     common::show(&tankwave_report::batch::tune_text(&r, &units));
     if let Some(dir) = &a.plots {
-        let map = match study::map_around(&ranges, &r.optimum, objective, &map_params) {
+        if let Some(pb) = &pb {
+            pb.reset();
+            pb.set_message("mapping the goal around the optimum");
+        }
+        let mapped = study::map_around(&ranges, &r.optimum, objective, &map_params);
+        if let Some(pb) = &pb {
+            pb.finish_and_clear();
+        }
+        let map = match mapped {
             Ok(m) => m,
             Err(e) => {
                 eprintln!("error: {file}: mapping the goal around the optimum: {e}");

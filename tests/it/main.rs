@@ -1,9 +1,10 @@
 //! The integration-test binary: the `tankwave` command end to end (`cli`,
 //! `bad_input`), agreement of the steady-state methods on every demo stage
 //! (`agreement`), the convergence sweep over the class-C demo
-//! (`convergence`), and a bounded solve of random small circuits
-//! (`fuzz_smoke`), the demo outputs against golden files (`golden`), the
-//! typed handles against the displayed names on every demo (`handles`),
+//! (`convergence`), what a new user meets first (`first_hour`), a bounded
+//! solve of random small circuits (`fuzz_smoke`), the demo outputs against
+//! golden files (`golden`), the typed handles against the displayed names on
+//! every demo (`handles`),
 //! hostile input from strangers (`hostile`), the crate layering and
 //! syntax-tree boundary (`layering`), and the README commands as written
 //! (`readme`). Data lives under
@@ -13,6 +14,7 @@ mod agreement;
 mod bad_input;
 mod cli;
 mod convergence;
+mod first_hour;
 mod fuzz_smoke;
 mod golden;
 mod handles;

@@ -570,6 +570,20 @@ pub enum Analysis {
     },
 }
 
+impl Analysis {
+    /// The word after `analyze` that declares this analysis (the keys of
+    /// [`crate::options::analysis::ALL`]).
+    pub fn keyword(&self) -> &'static str {
+        let k = match self {
+            Analysis::Bias => 0,
+            Analysis::Transient { .. } => 1,
+            Analysis::Ac { .. } => 2,
+            Analysis::Steady { .. } => 3,
+        };
+        crate::options::analysis::ALL[k].0
+    }
+}
+
 /// A mask: spurious-emission limits as rules.
 #[derive(Debug, Clone)]
 pub struct Mask {

@@ -206,6 +206,105 @@ pub fn summary_text(
     out
 }
 
+/// The drivers of each target as JSON: target → `[{"input", "rho"}, …]`,
+/// strongest first (every input at or above the noise level).
+fn drivers_json(d: &BTreeMap<String, tankwave_study::Drivers>) -> serde_json::Value {
+    d.iter()
+        .map(|(k, d)| {
+            let inputs: Vec<serde_json::Value> = d
+                .inputs
+                .iter()
+                .map(|(name, rho)| serde_json::json!({"input": name, "rho": rho}))
+                .collect();
+            (k.clone(), serde_json::Value::Array(inputs))
+        })
+        .collect::<serde_json::Map<_, _>>()
+        .into()
+}
+
+/// The summary of a study as one JSON document (`study --format json`;
+/// docs/output.md): counts and yield, statistics of every figure with its
+/// unit, each requirement's pass count and worst variant (index, values,
+/// margin with unit), and the sensitivity (`drivers`: Spearman ρ of every
+/// swept value and tolerance factor that drives a figure or a margin above
+/// the noise level). `units` and `value_units` as for [`summary_text`].
+pub fn summary_json(
+    s: &Summary,
+    units: &BTreeMap<String, Unit>,
+    value_units: &BTreeMap<String, String>,
+) -> serde_json::Value {
+    use serde_json::json;
+    let figures: serde_json::Map<String, serde_json::Value> = s
+        .figures
+        .iter()
+        .map(|(name, f)| {
+            let percentiles: serde_json::Map<String, serde_json::Value> = f
+                .percentiles
+                .iter()
+                .map(|(p, v)| (format!("p{p}"), json!(v)))
+                .collect();
+            let stats = json!({
+                "unit": crate::assemble::variant::figure_unit(name),
+                "count": f.count,
+                "min": f.min,
+                "median": f.median,
+                "mean": f.mean,
+                "max": f.max,
+                "percentiles": percentiles,
+            });
+            (name.clone(), stats)
+        })
+        .collect();
+    let requirements: serde_json::Map<String, serde_json::Value> = s
+        .requirements
+        .iter()
+        .map(|(name, r)| {
+            let values: serde_json::Map<String, serde_json::Value> = r
+                .worst_values
+                .iter()
+                .map(|(k, v)| {
+                    let unit = if k.ends_with(".factor") {
+                        ""
+                    } else {
+                        value_units.get(k).map(String::as_str).unwrap_or("")
+                    };
+                    (k.clone(), json!({"value": v, "unit": unit}))
+                })
+                .collect();
+            let stats = json!({
+                "evaluated": r.evaluated,
+                "passed": r.passed,
+                "worst_variant": {"index": r.worst_index, "values": values},
+                "worst_margin": r.worst_margin,
+                "margin_unit": units.get(name).map(|u| u.symbol()).unwrap_or(""),
+            });
+            (name.clone(), stats)
+        })
+        .collect();
+    let n = s
+        .figure_drivers
+        .values()
+        .chain(s.requirement_drivers.values())
+        .map(|d| d.variants)
+        .max()
+        .unwrap_or(0);
+    json!({
+        "variants": s.variants,
+        "failed": s.failed,
+        "passed_all": s.passed_all,
+        "yield": s.yield_fraction,
+        "figures": figures,
+        "requirements": requirements,
+        "drivers": {
+            "method": "spearman",
+            "variants": n,
+            "noise_level": tankwave_study::sensitivity::noise_level(n as usize),
+            "figures": drivers_json(&s.figure_drivers),
+            "requirements": drivers_json(&s.requirement_drivers),
+        },
+    })
+}
+
 /// The summary of a study as two report sections: the counts (variants,
 /// failures, yield) with pass/fail counts per requirement, then the
 /// statistics of every figure (count, min, mean, median, max and the

@@ -286,11 +286,27 @@ fn verdicts_section(out: &mut String, verdicts: &[Verdict], label: Option<&str>)
                 ),
             ],
         );
+    }
+    table_close(out);
+    // the per-harmonic rows of mask requirements, folded (open when one fails)
+    for v in verdicts.iter().filter(|v| !v.harmonics.is_empty()) {
+        let failing = v.harmonics.iter().filter(|h| !h.pass).count();
+        out.push_str(&format!(
+            "<details class=\"harmonics\"{}><summary>{}: {} harmonics, {}</summary>\n",
+            if failing > 0 { " open=\"open\"" } else { "" },
+            escape(&v.requirement),
+            v.harmonics.len(),
+            if failing > 0 {
+                format!("{failing} FAIL")
+            } else {
+                "every one within its limit".to_string()
+            }
+        ));
+        table_open(out, &["harmonic", "limit", "value", "margin", "verdict"]);
         for h in &v.harmonics {
-            out.push_str("<tr class=\"sub\">");
+            out.push_str("<tr>");
             let cells = [
                 ("", format!("harmonic {} ({})", h.n, si(h.freq_hz, "Hz"))),
-                ("", String::new()),
                 (
                     "num",
                     h.allowed_dbc
@@ -318,8 +334,9 @@ fn verdicts_section(out: &mut String, verdicts: &[Verdict], label: Option<&str>)
             }
             out.push_str("</tr>\n");
         }
+        table_close(out);
+        out.push_str("</details>\n");
     }
-    table_close(out);
 }
 
 fn headline_section(
@@ -524,7 +541,7 @@ pub fn stage_report(input: &ReportInput<'_>) -> String {
         verdicts_section(&mut out, input.verdicts, label);
 
         if let Some(m) = input.metrics {
-            headline_section(&mut out, m, input.solution, label);
+            // the verdict, then the spectrum, then the figures behind them
             if let Some(o) = &m.output {
                 h2(&mut out, "spectrum", "Spectrum against the mask", label);
                 if input.masks.is_empty() {
@@ -542,6 +559,7 @@ pub fn stage_report(input: &ReportInput<'_>) -> String {
                     );
                 }
             }
+            headline_section(&mut out, m, input.solution, label);
         }
 
         let have_waves = (input.circuit.is_some() && input.solution.is_some())
@@ -577,9 +595,20 @@ pub fn stage_report(input: &ReportInput<'_>) -> String {
                 .map(|s| s.freq)
                 .or(input.metrics.map(|m| m.freq_hz))
                 .unwrap_or(0.0);
+            let caption = match plot::startup_settling(c, t, f) {
+                Some(ts) => format!(
+                    "Start-up transient of the output voltage with its per-period peak \
+                     envelope. Settling time: the output reaches 90 % of its final amplitude \
+                     at {}.",
+                    si(ts, "s")
+                ),
+                None => "Start-up transient of the output voltage with its per-period peak \
+                         envelope (no settling time: no complete period with a swing)."
+                    .to_string(),
+            };
             figure(
                 &mut out,
-                "Start-up transient of the output voltage with its per-period peak envelope.",
+                &caption,
                 plot::startup_plot(c, t, f, &plot_params),
             );
         }

@@ -253,6 +253,107 @@ pub fn ac_text(a: &AcResult) -> String {
     )
 }
 
+/// What the terminal table of an AC sweep shows: the unknown at the output
+/// (index into the sweep's unknowns), the source driven with unit amplitude
+/// and the element whose impedance the analysis asked for.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct AcLabels<'a> {
+    /// The output unknown (the output element's first terminal), if any.
+    pub output: Option<usize>,
+    /// Name of the driven source.
+    pub source: &'a str,
+    /// Name of the element at which the impedance is reported, if asked.
+    pub impedance_at: Option<&'a str>,
+}
+
+/// Frequencies shown in the terminal table of an AC sweep (evenly spread
+/// over its points; the point of largest response is added).
+pub const AC_TABLE_ROWS: usize = 9;
+
+/// Collector current at bias below which a transistor counts as cut off in
+/// the note under an AC table, A (common practice: a microampere gives a
+/// transconductance of about 40 µS, a voltage gain below 0.01 into the
+/// tens of ohms of a power stage's load).
+pub const CUT_OFF_CURRENT: f64 = 1e-6;
+
+/// The terminal table of an AC sweep: up to [`AC_TABLE_ROWS`] frequencies
+/// (and the one of largest response), with the magnitude and phase at the
+/// output and the impedance asked for; then a note for every transistor
+/// cut off at its bias point (its small-signal response is only
+/// feedthrough). Empty when there is nothing to show.
+pub fn ac_table(a: &AcResult, l: &AcLabels<'_>) -> String {
+    let n = a.freq.len();
+    let out = l
+        .output
+        .filter(|&k| a.x.first().is_some_and(|x| k < x.len()));
+    let z = a.impedance.as_ref().filter(|z| z.len() == n);
+    if n == 0 || (out.is_none() && z.is_none()) {
+        return String::new();
+    }
+    let mag: Vec<f64> = out.map(|k| a.magnitude_db(k)).unwrap_or_default();
+    let phase: Vec<f64> = out.map(|k| a.phase_deg(k)).unwrap_or_default();
+    let mut rows: Vec<usize> = (0..AC_TABLE_ROWS)
+        .map(|i| (i * (n - 1) + (AC_TABLE_ROWS - 1) / 2) / (AC_TABLE_ROWS - 1))
+        .collect();
+    let peak = mag
+        .iter()
+        .enumerate()
+        .filter(|(_, v)| v.is_finite())
+        .max_by(|x, y| x.1.total_cmp(y.1))
+        .map(|(k, _)| k);
+    rows.extend(peak);
+    rows.sort_unstable();
+    rows.dedup();
+    let out_name = out
+        .and_then(|k| a.names.get(k))
+        .cloned()
+        .unwrap_or_default();
+    let mut head: Vec<(String, Align)> = vec![("frequency".into(), Align::Right)];
+    if out.is_some() {
+        head.push((format!("{out_name} gain"), Align::Right));
+        head.push((format!("{out_name} phase"), Align::Right));
+    }
+    if let Some(at) = l.impedance_at {
+        head.push((format!("impedance at {at}"), Align::Right));
+    }
+    let mut t = Table::new(head.iter().map(|(h, al)| (h.as_str(), *al)).collect());
+    for &k in &rows {
+        let mut row = vec![si(a.freq[k], "Hz")];
+        if out.is_some() {
+            let mark = if Some(k) == peak { " (largest)" } else { "" };
+            row.push(format!("{}{mark}", db(mag[k], "dB")));
+            row.push(fixed(phase[k], 1, "°"));
+        }
+        if let (Some(z), Some(_)) = (z, l.impedance_at) {
+            row.push(crate::format::impedance(z[k].re, z[k].im));
+        }
+        t.row(row);
+    }
+    let mut s = format!(
+        "Small-signal response to a unit amplitude at {} (gain: output amplitude over drive amplitude)\n",
+        l.source
+    );
+    s.push_str(&t.render());
+    for d in &a.op.devices {
+        let ic = d
+            .figures
+            .iter()
+            .find(|(f, _)| *f == OpFigure::CollectorCurrent)
+            .map(|(_, v)| *v);
+        if let Some(ic) = ic.filter(|ic| ic.abs() < CUT_OFF_CURRENT) {
+            s.push_str(&format!(
+                "note: {} is cut off at its bias point (I_C = {}): the AC analysis linearises \
+                 there, so it shows only what the network and the junction capacitances pass \
+                 (feedthrough), not the gain the stage has when the drive swings it into \
+                 conduction; the steady state shows that\n",
+                d.name,
+                si(ic, "A")
+            ));
+        }
+    }
+    s
+}
+
 /// The readable steady-state report: headline figures, harmonics, transistors, stress.
 pub fn steady_text(
     circuit: &Circuit,
@@ -629,17 +730,60 @@ pub fn op_csv(op: &OpResult) -> String {
 
 /// CSV of a transient: a time column, then every unknown.
 pub fn transient_csv(t: &TransientResult) -> String {
+    transient_csv_chosen(t, &TransientCsv::default())
+}
+
+/// Which rows and columns of a transient go into its CSV (`run --csv-every`,
+/// `--csv-signals`; docs/output.md).
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
+pub struct TransientCsv {
+    /// Keep one accepted step in this many (the first and the last are
+    /// always kept); 0 and 1 keep every step.
+    pub every: usize,
+    /// The unknowns to write, as indices into the result's names, in this
+    /// order (`None`: every unknown).
+    pub columns: Option<Vec<usize>>,
+}
+
+/// The columns of `names` (the unknowns of a transient) that `wanted` asks
+/// for: each an unknown's name (`V[out]`, `I[rfc]`) or a node's bare name
+/// (`out` for `V[out]`). An unknown name is an error naming what there is.
+pub fn transient_columns(names: &[String], wanted: &[String]) -> Result<Vec<usize>, String> {
+    wanted
+        .iter()
+        .map(|w| {
+            let w = w.trim();
+            let voltage = format!("V[{w}]");
+            names
+                .iter()
+                .position(|n| n == w)
+                .or_else(|| names.iter().position(|n| *n == voltage))
+                .ok_or_else(|| format!("no signal '{w}'; the transient has {}", names.join(", ")))
+        })
+        .collect()
+}
+
+/// CSV of a transient with the rows and columns `chosen` keeps: a time
+/// column, then the chosen unknowns.
+pub fn transient_csv_chosen(t: &TransientResult, chosen: &TransientCsv) -> String {
+    let all: Vec<usize> = (0..t.names.len()).collect();
+    let columns = chosen.columns.as_deref().unwrap_or(&all);
     let mut s = String::from("time_s");
-    for n in &t.names {
+    for &c in columns {
         s.push(',');
-        s.push_str(&csv_field(n));
+        s.push_str(&csv_field(t.names.get(c).map(String::as_str).unwrap_or("")));
     }
     s.push('\n');
+    let every = chosen.every.max(1);
+    let last = t.time.len().saturating_sub(1);
     for (k, time) in t.time.iter().enumerate() {
+        if k % every != 0 && k != last {
+            continue;
+        }
         s.push_str(&format!("{time:.12e}"));
         if let Some(row) = t.x.get(k) {
-            for v in row {
-                s.push_str(&format!(",{v:.9e}"));
+            for &c in columns {
+                s.push_str(&format!(",{:.9e}", row.get(c).copied().unwrap_or(f64::NAN)));
             }
         }
         s.push('\n');

@@ -61,4 +61,6 @@ pub use periodic::{
     BalanceParams, PeriodicSolution, SettleParams, ShootingInfo, ShootingParams, SteadyInfo,
     SteadyParams,
 };
-pub use transient::{transient, TransientInfo, TransientParams, TransientResult};
+pub use transient::{
+    transient, transient_observed, TransientInfo, TransientParams, TransientResult,
+};

@@ -523,11 +523,25 @@ pub(crate) fn charged_rows(stamp: &tankwave_devices::DenseStamp) -> Vec<bool> {
 
 /// Run a transient analysis.
 pub fn transient(
-    _circuit: &Circuit,
+    circuit: &Circuit,
     devices: &DeviceSet,
     params: &TransientParams,
 ) -> Result<TransientResult, SolveError> {
+    transient_observed(circuit, devices, params, &|_| {})
+}
+
+/// Run a transient analysis, telling `progress` the fraction of the stop
+/// time reached (0 to 1) as steps are accepted: at most once per thousandth
+/// of the run, so a caller's progress display stays cheap. The solver prints
+/// nothing itself.
+pub fn transient_observed(
+    _circuit: &Circuit,
+    devices: &DeviceSet,
+    params: &TransientParams,
+    progress: &(dyn Fn(f64) + Sync),
+) -> Result<TransientResult, SolveError> {
     let p = params;
+    let mut told = 0.0f64;
     let bad = |m: String| Err(SolveError::BadParams(m));
     if !(p.stop.is_finite() && p.stop > 0.0) {
         return bad(format!("stop time must be positive, got {}", p.stop));
@@ -689,6 +703,11 @@ pub fn transient(
         let q1 = a.q.clone();
         st.commit(a);
         res.info.accepted += 1;
+        let reached = (st.t / p.stop).clamp(0.0, 1.0);
+        if reached - told >= 1e-3 {
+            told = reached;
+            progress(reached);
+        }
         res.time.push(st.t);
         res.x.push(st.x.clone());
         for (m, v) in qmax.iter_mut().zip(&q1) {

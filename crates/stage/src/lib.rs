@@ -57,7 +57,8 @@ pub use error::StageError;
 pub use load::{input_files, load, load_source, Stage};
 pub use masks::{mask_evaluations, MaskEvaluations, MaskFailure};
 pub use solve::{
-    collector_loads, measure, solve, Caps, Scope, SolveOptions, StageResults, SteadyOutcome,
+    collector_loads, measure, solve, Caps, Observer, Scope, SolveOptions, StageResults,
+    SteadyOutcome,
 };
 pub use tankwave_circuit::StageSource;
 pub use variant::{solve_variant, study_outcome, tune_figures, VariantSolution};

@@ -129,6 +129,30 @@ impl Default for Caps {
     }
 }
 
+/// What a caller is told while a stage is being solved, e.g. to draw a
+/// progress bar: this crate prints nothing, the command line does. Every
+/// method does nothing by default.
+pub trait Observer: Sync {
+    /// Analysis `index` (0-based) of the `count` this solve will run has
+    /// started; `what` names its kind (`bias`, `transient`, `ac`, `steady`,
+    /// the words of `analyze`).
+    fn started(&self, index: usize, count: usize, what: &str) {
+        let _ = (index, count, what);
+    }
+    /// The running analysis has done this fraction (0 to 1) of its work
+    /// (told only by analyses that know how far they are: a transient, by
+    /// the time reached).
+    fn advanced(&self, fraction: f64) {
+        let _ = fraction;
+    }
+}
+
+impl std::fmt::Debug for dyn Observer + '_ {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str("Observer")
+    }
+}
+
 /// How to solve a stage.
 #[derive(Debug, Clone, Default)]
 pub struct SolveOptions<'a> {
@@ -142,6 +166,8 @@ pub struct SolveOptions<'a> {
     /// Go on after an analysis fails, collecting the failures in
     /// [`StageResults::failures`], instead of returning the first.
     pub keep_going: bool,
+    /// Told as each analysis starts and advances (`None`: nobody listens).
+    pub observer: Option<&'a dyn Observer>,
 }
 
 impl SolveOptions<'_> {
@@ -173,7 +199,17 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
     };
     // a steady state that failed (going on) or was left out by the caps
     let mut steady_tried = false;
+    let runs = |a: &Analysis| match a {
+        Analysis::Steady { .. } => true,
+        _ => opts.scope == Scope::All,
+    };
+    let count = circuit.analyses.iter().filter(|a| runs(a)).count();
+    let mut index = 0;
     for a in &circuit.analyses {
+        if let (Some(o), true) = (opts.observer, runs(a)) {
+            o.started(index, count, a.keyword());
+            index += 1;
+        }
         match a {
             Analysis::Bias => {
                 if opts.scope == Scope::All && res.op.is_none() {
@@ -189,7 +225,12 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
                     if let Some(c) = &opts.caps {
                         cap_transient(&mut p, c);
                     }
-                    match tankwave_solve::transient(circuit, &devices, &p) {
+                    let told = |f: f64| {
+                        if let Some(o) = opts.observer {
+                            o.advanced(f);
+                        }
+                    };
+                    match tankwave_solve::transient_observed(circuit, &devices, &p, &told) {
                         Ok(t) => res.transients.push(t),
                         Err(e) => fail(&mut res, e.into())?,
                     }

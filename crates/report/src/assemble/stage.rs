@@ -153,8 +153,30 @@ pub fn results_text(file: &str, c: &Circuit, r: &StageResults, verbose: bool) ->
     for t in &r.transients {
         s.push_str(&text::transient_text(t));
     }
-    for ac in &r.acs {
+    let (view, _) = ac_view(c);
+    let ac_analyses = c.analyses.iter().filter_map(|a| match a {
+        Analysis::Ac {
+            source,
+            impedance_at,
+            ..
+        } => Some((*source, *impedance_at)),
+        _ => None,
+    });
+    for (ac, (source, impedance_at)) in r.acs.iter().zip(ac_analyses) {
         s.push_str(&text::ac_text(ac));
+        let name = |e: Option<tankwave_circuit::ElementId>| {
+            e.and_then(|e| c.elements.get(e.index())).map(|e| e.name.as_str())
+        };
+        let labels = text::AcLabels {
+            output: view.first().copied(),
+            source: name(source.or(c.input)).unwrap_or("the input"),
+            impedance_at: name(impedance_at),
+        };
+        let table = text::ac_table(ac, &labels);
+        if !table.is_empty() {
+            s.push_str(&table);
+            s.push('\n');
+        }
     }
     if !r.transients.is_empty() || !r.acs.is_empty() {
         s.push_str("(waveforms and sweeps: use --out DIR or --format csv)\n\n");

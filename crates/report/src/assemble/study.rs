@@ -90,7 +90,12 @@ pub fn study_figures(file: &str, c: &Circuit, records: &[Record]) -> Drawn {
             x_unit: x_unit.clone(),
             y_name: name.clone(),
             y_unit: unit.to_string(),
-            curves: plot::SweepCurves::group(&pts, g_key.map(|s| s.as_str()).unwrap_or(""), ""),
+            // the legend names each curve by its value with the unit of the swept value
+            curves: plot::SweepCurves::group(
+                &pts,
+                g_key.map(|s| s.as_str()).unwrap_or(""),
+                axes.get(1).map(|(_, u)| u.as_str()).unwrap_or(""),
+            ),
             limit: limit.map(|l| (l.value, l.label)),
         };
         d.add(

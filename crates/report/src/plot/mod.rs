@@ -34,8 +34,10 @@ mod surface;
 pub use ac::ac_plot;
 pub use canvas::{series_style, Marker, SeriesStyle, DISTINCT_STYLES, PALETTE};
 pub use period::{conduction_intervals, period_plot, period_plots};
-pub use spectrum::spectrum_plot;
-pub use startup::{peak_envelope, startup_plot, startup_plot_series, EnvelopePoint};
+pub use spectrum::{label_box, place_labels, spectrum_plot};
+pub use startup::{
+    peak_envelope, startup_plot, startup_plot_series, startup_settling, EnvelopePoint,
+};
 pub use study::{histogram_plot, sweep_plot, Curve, HistogramSpec, Limit, SweepCurves};
 pub use surface::{surface_plot, tuning_curve_plot, Surface};
 

@@ -132,6 +132,7 @@ pub fn spectrum_plot(
         cv.end()?;
 
         cv.begin("series", Some("measured level"), None)?;
+        let mut wanted: Vec<(i32, i32, String)> = Vec::new();
         for &(n, level, _) in &bars {
             let x = n as f64;
             let y = level.clamp(floor, top);
@@ -142,27 +143,26 @@ pub fn spectrum_plot(
                     Rectangle::new([(x - 0.3, floor), (x + 0.3, y)], INK.stroke_width(1)),
                 ])
                 .map_err(draw_err)?;
+            // the value above the bar; a level below the floor says so in its label
+            let text = if level < floor {
+                format!("{level:.0} (below)")
+            } else {
+                format!("{level:.1}")
+            };
             let px = chart.backend_coord(&(x, y));
+            wanted.push((px.0, px.1 - 4, text));
+        }
+        for (x, bottom, text) in place_labels(&wanted, LABEL_FONT) {
             cv.root
                 .draw(&Text::new(
-                    format!("{level:.1}"),
-                    (px.0, px.1 - 4),
-                    (FONT, 12)
+                    text,
+                    (x, bottom),
+                    (FONT, LABEL_FONT)
                         .into_font()
                         .color(&INK)
                         .pos(Pos::new(HPos::Center, VPos::Bottom)),
                 ))
                 .map_err(draw_err)?;
-            if level < floor {
-                let px = chart.backend_coord(&(x, floor));
-                cv.root
-                    .draw(&Text::new(
-                        "below".to_string(),
-                        (px.0 - 16, px.1 - 18),
-                        (FONT, 12).into_font().color(&INK),
-                    ))
-                    .map_err(draw_err)?;
-            }
         }
         cv.end()?;
 
@@ -271,4 +271,41 @@ pub fn spectrum_plot(
         cv.legend(&legend_area, 8, 30, &entries)?;
         cv.end()
     })
+}
+
+/// Font size of the value labels over the bars, px.
+const LABEL_FONT: u32 = 12;
+
+/// A label's box as drawn centred on `x` with its bottom at `bottom`:
+/// (left, top, right, bottom) in px, from a generous width per character
+/// (0.62 of the font size, wider than the digits and letters of the sans
+/// faces SVG viewers pick) and the font size as height.
+pub fn label_box(x: i32, bottom: i32, text: &str, font: u32) -> (i32, i32, i32, i32) {
+    let w = (text.chars().count() as f64 * 0.62 * font as f64).ceil() as i32;
+    (x - w / 2 - 1, bottom - font as i32, x + w / 2 + 1, bottom)
+}
+
+/// Place value labels (centre x, bottom y, text) so that no two boxes
+/// overlap: each label goes at its wanted place or, if that overlaps a
+/// label already placed, is lifted a line at a time (up to four lines);
+/// a label that still does not fit is left out (the value stays in the
+/// harmonics table).
+pub fn place_labels(wanted: &[(i32, i32, String)], font: u32) -> Vec<(i32, i32, String)> {
+    let overlaps = |a: (i32, i32, i32, i32), b: (i32, i32, i32, i32)| {
+        a.0 < b.2 && b.0 < a.2 && a.1 < b.3 && b.1 < a.3
+    };
+    let mut placed: Vec<(i32, i32, String)> = Vec::new();
+    let mut boxes: Vec<(i32, i32, i32, i32)> = Vec::new();
+    for (x, bottom, text) in wanted {
+        let step = font as i32 + 2;
+        let spot = (0..5).map(|k| bottom - k * step).find(|&b| {
+            let bx = label_box(*x, b, text, font);
+            !boxes.iter().any(|o| overlaps(*o, bx))
+        });
+        if let Some(b) = spot {
+            boxes.push(label_box(*x, b, text, font));
+            placed.push((*x, b, text.clone()));
+        }
+    }
+    placed
 }

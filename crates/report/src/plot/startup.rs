@@ -75,6 +75,55 @@ pub fn startup_plot(
     freq_hz: f64,
     p: &PlotParams,
 ) -> Result<String, PlotError> {
+    let (label, v) = output_voltage(circuit, tr)?;
+    startup_plot_series(&tr.time, &v, freq_hz, &label, p)
+}
+
+/// When the start-up of the output voltage settles: the time of the peak
+/// of the first complete carrier period whose amplitude reaches 90 % of
+/// the last complete period's (the mark of the start-up plot); `None` when
+/// the run has no output voltage or no complete period with a swing.
+pub fn startup_settling(circuit: &Circuit, tr: &TransientResult, freq_hz: f64) -> Option<f64> {
+    let (_, v) = output_voltage(circuit, tr).ok()?;
+    if tr.time.len() != v.len() || !(freq_hz.is_finite() && freq_hz > 0.0) {
+        return None;
+    }
+    let env = peak_envelope(&tr.time, &v, freq_hz);
+    let (_, t_hi) = extent(&tr.time)?;
+    settling(&complete_periods(&env, tr.time[0], t_hi, freq_hz))
+}
+
+/// The envelope points of the complete periods (the last may be cut short).
+fn complete_periods(
+    env: &[EnvelopePoint],
+    t0: f64,
+    t_hi: f64,
+    freq_hz: f64,
+) -> Vec<&EnvelopePoint> {
+    let period = 1.0 / freq_hz;
+    env.iter()
+        .filter(|e| t0 + (e.period as f64 + 1.0) * period <= t_hi * (1.0 + 1e-12))
+        .collect()
+}
+
+/// Settling mark: the first period whose amplitude reaches 90 % of the last one's.
+fn settling(full: &[&EnvelopePoint]) -> Option<f64> {
+    let amp = |e: &EnvelopePoint| (e.max - e.min) / 2.0;
+    let last = full.last()?;
+    let target = 0.9 * amp(last);
+    if target > 0.0 {
+        full.iter().find(|e| amp(e) >= target).map(|e| e.t_max)
+    } else {
+        None
+    }
+}
+
+/// The voltage across the circuit's output element over a transient run,
+/// with its label.
+fn output_voltage(
+    circuit: &Circuit,
+    tr: &TransientResult,
+) -> Result<(String, Vec<f64>), PlotError> {
     let id = circuit.output.ok_or_else(|| PlotError::BadParameter {
         what: "output element".into(),
         why: "the circuit names no output element".into(),
@@ -111,13 +160,7 @@ pub fn startup_plot(
     }
     let at = |row: &Vec<f64>, n: Option<usize>| n.and_then(|k| row.get(k).copied()).unwrap_or(0.0);
     let v: Vec<f64> = tr.x.iter().map(|row| at(row, a) - at(row, b)).collect();
-    startup_plot_series(
-        &tr.time,
-        &v,
-        freq_hz,
-        &tankwave_devices::names::element_voltage(&el.name),
-        p,
-    )
+    Ok((tankwave_devices::names::element_voltage(&el.name), v))
 }
 
 /// The start-up plot from plain data: `v` against `time` (seconds), labelled
@@ -159,24 +202,10 @@ pub fn startup_plot_series(
     let width = p.width.max(320);
     let wave = decimate(&ts, &vs, width as usize);
     // complete periods only for the envelope (the last may be cut short)
-    let full: Vec<&EnvelopePoint> = {
-        let period = 1.0 / freq_hz;
-        env.iter()
-            .filter(|e| time[0] + (e.period as f64 + 1.0) * period <= t_hi * (1.0 + 1e-12))
-            .collect()
-    };
+    let full = complete_periods(&env, time[0], t_hi, freq_hz);
     let upper: Vec<(f64, f64)> = full.iter().map(|e| (e.t_max / tf, e.max / vf)).collect();
     let lower: Vec<(f64, f64)> = full.iter().map(|e| (e.t_min / tf, e.min / vf)).collect();
-    // settling mark: first period whose amplitude reaches 90 % of the last one's
-    let amp = |e: &EnvelopePoint| (e.max - e.min) / 2.0;
-    let settle = full.last().and_then(|last| {
-        let target = 0.9 * amp(last);
-        if target > 0.0 {
-            full.iter().find(|e| amp(e) >= target).map(|e| e.t_max)
-        } else {
-            None
-        }
-    });
+    let settle = settling(&full);
     let subtitle = format!(
         "{} periods of {} simulated; envelope: largest and smallest value in each period{}",
         env.len(),

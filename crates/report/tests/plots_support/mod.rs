@@ -117,7 +117,7 @@ pub fn class_c_stage(theta_deg: f64) -> (Circuit, PeriodicSolution) {
     (circuit(), sol)
 }
 
-fn harmonic(n: usize, dbc: f64) -> HarmonicPower {
+pub fn harmonic(n: usize, dbc: f64) -> HarmonicPower {
     let p1 = 9.0;
     let p = p1 * 10f64.powf(dbc / 10.0);
     HarmonicPower {
