@@ -267,7 +267,10 @@ fn a_netlist_too_large_for_memory_is_refused_by_lint_at_its_place() {
     let t = Instant::now();
     let e = lint_refuses(
         &f,
-        &["stage.tank:50001:1", "more than 50000 statements in one stage file"],
+        &[
+            "stage.tank:50001:1",
+            "more than 50000 statements in one stage file",
+        ],
     );
     assert_eq!(e.matches("statements in one stage file").count(), 1, "{e}");
     // 200 000 parameters of 1.3 KB each, spread over includes, were all
@@ -276,15 +279,25 @@ fn a_netlist_too_large_for_memory_is_refused_by_lint_at_its_place() {
     let dir = tempfile::tempdir().unwrap();
     let term = format!("({})", vec!["1"; 640].join("+"));
     for k in 0..3 {
-        let text: String = (0..4000).map(|i| format!("let q{k}_{i} = {term}\n")).collect();
+        let text: String = (0..4000)
+            .map(|i| format!("let q{k}_{i} = {term}\n"))
+            .collect();
         fs::write(dir.path().join(format!("part{k}.tank")), text).unwrap();
     }
     let base = fs::read_to_string(data("hostile/divider.tank")).unwrap();
     let top = dir.path().join("stage.tank");
-    let incs: String = (0..3).map(|k| format!("include \"part{k}.tank\"\n")).collect();
+    let incs: String = (0..3)
+        .map(|k| format!("include \"part{k}.tank\"\n"))
+        .collect();
     fs::write(&top, format!("{base}{incs}")).unwrap();
-    let e = lint_refuses(&top, &["part0.tank:", "more than 500000 terms in its expressions"]);
-    assert!(!e.contains("part1.tank"), "reading went on past the limit:\n{e}");
+    let e = lint_refuses(
+        &top,
+        &["part0.tank:", "more than 500000 terms in its expressions"],
+    );
+    assert!(
+        !e.contains("part1.tank"),
+        "reading went on past the limit:\n{e}"
+    );
     // two includes of 5 MB of comments each: over the 8 MiB read for one stage file
     let dir = tempfile::tempdir().unwrap();
     let line = format!("# {}\n", "x".repeat(1000));
@@ -300,7 +313,11 @@ fn a_netlist_too_large_for_memory_is_refused_by_lint_at_its_place() {
     .unwrap();
     lint_refuses(
         &top,
-        &["stage.tank:7:1", "cannot include 'part1.tank'", "more than 8388608"],
+        &[
+            "stage.tank:7:1",
+            "cannot include 'part1.tank'",
+            "more than 8388608",
+        ],
     );
     // measured 1.5 s for the three together (debug build); 60 s only guards a hang
     assert!(t.elapsed() < Duration::from_secs(60));
