@@ -62,14 +62,17 @@ fn main() {
                 ..SteadyParams::default()
             };
             let sol = steady(&b.c, &d, &p).expect("steady");
-            let largest = sol.info.floquet.as_ref().map(|i| i.largest).unwrap_or(f64::NAN);
+            let largest = sol
+                .info
+                .floquet
+                .as_ref()
+                .map(|i| i.largest)
+                .unwrap_or(f64::NAN);
             let t_solve = time(repeats, || {
                 std::hint::black_box(steady(&b.c, &d, &p).expect("steady"));
             });
             let t_verify = time(repeats, || {
-                std::hint::black_box(
-                    floquet::verify(&b.c, &d, &p, sol.clone()).expect("verified"),
-                );
+                std::hint::black_box(floquet::verify(&b.c, &d, &p, sol.clone()).expect("verified"));
             });
             // the solve without its verification
             let rest = (t_solve - t_verify).max(f64::MIN_POSITIVE);
