@@ -16,7 +16,6 @@ use tankwave_devices::instantiate;
 use tankwave_solve::*;
 
 #[path = "../tests/support/mod.rs"]
-#[allow(dead_code)]
 mod support;
 use support::*;
 
