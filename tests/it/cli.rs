@@ -1334,3 +1334,77 @@ fn lint_states_frequencies_in_a_message_with_an_si_prefix() {
     assert!(e.contains("from=14.20 MHz to=1.000 MHz"), "{e}");
     assert!(!e.contains("e7"), "{e}");
 }
+
+/// The `design` tables write every value through the one SI formatter
+/// (`17.037 nF`), and only the stage-file fragment keeps the stage-file
+/// spelling (`17.037nF`) so that it can be pasted. The network is the pi
+/// match of docs/check-values.md (2.9 Ω → 50 Ω at 7.1 MHz, Q = 10: C1 =
+/// 17.0370 nF, L = 135.430 nH; C. Bowick, RF Circuit Design, ch. 4, from memory).
+#[test]
+fn design_tables_use_the_shared_si_formatter() {
+    let o = run(&[
+        "--no-caution",
+        "design",
+        "match",
+        "--from",
+        "2.9",
+        "--to",
+        "50",
+        "--freq",
+        "7.1MHz",
+        "--q",
+        "10",
+        "--shape",
+        "pi",
+        "--power",
+        "25W",
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let s = stdout(&o);
+    let (tables, rest) = s.split_once("Stage-file fragment\n").expect("a fragment");
+    let (fragment, _) = rest.split_once("Sources\n").expect("sources after it");
+    assert!(
+        tables.contains("17.037 nF") && tables.contains("135.43 nH"),
+        "{tables}"
+    );
+    assert!(tables.contains("X = -1.3157 Ohm"), "{tables}");
+    assert!(
+        fragment.contains("capacitor cm1 in gnd 17.037nF"),
+        "{fragment}"
+    );
+    // no number glued to its unit, and no lower-case unit spelling, in the tables
+    let glued = regex_lite_glued(tables);
+    assert!(
+        glued.is_empty(),
+        "stage-file spelling in the tables: {glued:?}\n{tables}"
+    );
+    assert!(!tables.contains(" ohm"), "{tables}");
+    let o = run(&["design", "choke", "--freq", "7MHz", "--load", "50"]);
+    let s = stdout(&o);
+    assert!(s.contains("(X_L = 500.00 Ohm)"), "{s}");
+    assert!(regex_lite_glued(&s).is_empty(), "{s}");
+}
+
+/// Words of `text` made of a number directly followed by a unit letter
+/// (`98.363pF`, `5Ohm`), outside lines starting with `#` or a part keyword.
+fn regex_lite_glued(text: &str) -> Vec<String> {
+    text.lines()
+        .filter(|l| {
+            !l.starts_with('#') && !l.starts_with("capacitor ") && !l.starts_with("inductor ")
+        })
+        .flat_map(|l| l.split_whitespace())
+        .map(|w| w.trim_matches(|c: char| ",;()".contains(c)))
+        .filter(|w| {
+            let digits = w.trim_start_matches(['+', '-']);
+            let n = digits
+                .find(|c: char| !(c.is_ascii_digit() || c == '.'))
+                .unwrap_or(digits.len());
+            n > 0 && n < digits.len() && {
+                let tail = &digits[n..];
+                // 1e-5 style numbers and 5.3e-6 are numbers, not units
+                !tail.starts_with('e') && tail.chars().next().is_some_and(|c| c.is_alphabetic())
+            }
+        })
+        .map(str::to_string)
+        .collect()
+}

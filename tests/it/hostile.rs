@@ -259,6 +259,71 @@ fn twenty_thousand_errors_are_capped_and_reported_fast() {
 }
 
 #[test]
+fn a_netlist_too_large_for_memory_is_refused_by_lint_at_its_place() {
+    // 60 000 one-line parameters: over the statement limit (50 000, docs/security.md);
+    // the divider file has 5 lines, so statement 50 001 is on line 50 001
+    let text: String = (0..60_000).map(|i| format!("let p{i} = 1\n")).collect();
+    let (_d, f) = stage_with(&text);
+    let t = Instant::now();
+    let e = lint_refuses(
+        &f,
+        &[
+            "stage.tank:50001:1",
+            "more than 50000 statements in one stage file",
+        ],
+    );
+    assert_eq!(e.matches("statements in one stage file").count(), 1, "{e}");
+    // 200 000 parameters of 1.3 KB each, spread over includes, were all
+    // accepted (a 58 MB file took 6.5 GB and 60 s); the term limit (500 000
+    // in all expressions together) stops reading inside the first include
+    let dir = tempfile::tempdir().unwrap();
+    let term = format!("({})", vec!["1"; 640].join("+"));
+    for k in 0..3 {
+        let text: String = (0..4000)
+            .map(|i| format!("let q{k}_{i} = {term}\n"))
+            .collect();
+        fs::write(dir.path().join(format!("part{k}.tank")), text).unwrap();
+    }
+    let base = fs::read_to_string(data("hostile/divider.tank")).unwrap();
+    let top = dir.path().join("stage.tank");
+    let incs: String = (0..3)
+        .map(|k| format!("include \"part{k}.tank\"\n"))
+        .collect();
+    fs::write(&top, format!("{base}{incs}")).unwrap();
+    let e = lint_refuses(
+        &top,
+        &["part0.tank:", "more than 500000 terms in its expressions"],
+    );
+    assert!(
+        !e.contains("part1.tank"),
+        "reading went on past the limit:\n{e}"
+    );
+    // two includes of 5 MB of comments each: over the 8 MiB read for one stage file
+    let dir = tempfile::tempdir().unwrap();
+    let line = format!("# {}\n", "x".repeat(1000));
+    let text = line.repeat(5000);
+    for k in 0..2 {
+        fs::write(dir.path().join(format!("part{k}.tank")), &text).unwrap();
+    }
+    let top = dir.path().join("stage.tank");
+    fs::write(
+        &top,
+        format!("{base}include \"part0.tank\"\ninclude \"part1.tank\"\n"),
+    )
+    .unwrap();
+    lint_refuses(
+        &top,
+        &[
+            "stage.tank:7:1",
+            "cannot include 'part1.tank'",
+            "more than 8388608",
+        ],
+    );
+    // measured 1.5 s for the three together (debug build); 60 s only guards a hang
+    assert!(t.elapsed() < Duration::from_secs(60));
+}
+
+#[test]
 fn threads_far_beyond_the_cores_are_refused() {
     let (_d, stage) = stage_copy();
     let o = run(&["study", p(&stage), "--threads", "10000"]);
@@ -380,9 +445,10 @@ fn an_expression_too_deep_or_too_long_is_refused_by_lint() {
 
 #[test]
 fn a_long_parameter_chain_is_refused_once_without_recursion() {
-    // p1 = p0 + 1, …: evaluated recursively, 100 000 of these overflowed the stack
+    // p1 = p0 + 1, …: evaluated recursively, 100 000 of these overflowed the
+    // stack; 40 000 stay under the statement limit (50 000)
     let mut text = String::from("let p0 = 1\n");
-    for i in 1..100_000 {
+    for i in 1..40_000 {
         text.push_str(&format!("let p{i} = (p{} + 1)\n", i - 1));
     }
     let (_d, f) = stage_with(&text);
@@ -401,13 +467,14 @@ fn a_parameter_cycle_is_named_once_and_shortened() {
     let e = lint_refuses(&f, &["stage.tank:6:5", "parameter cycle: a -> b -> c -> a"]);
     assert_eq!(e.matches("parameter cycle").count(), 1, "{e}");
     let mut text = String::new();
-    for i in 0..50_000 {
-        text.push_str(&format!("let q{i} = (q{} + 1)\n", (i + 1) % 50_000));
+    // 40 000 stay under the statement limit (50 000)
+    for i in 0..40_000 {
+        text.push_str(&format!("let q{i} = (q{} + 1)\n", (i + 1) % 40_000));
     }
     let (_d, f) = stage_with(&text);
     let e = lint_refuses(
         &f,
-        &["q0 -> q1 -> q2 -> (49994 more) -> q49997 -> q49998 -> q49999 -> q0"],
+        &["q0 -> q1 -> q2 -> (39994 more) -> q39997 -> q39998 -> q39999 -> q0"],
     );
     assert!(e.len() < 4096, "{} bytes of diagnostics", e.len());
 }

@@ -1,18 +1,42 @@
 //! Designs as text for people: aligned tables of each design's figures, its
 //! elements (with reactances and, given a power, their stress), its
 //! harmonic response, the stage-file fragment to paste and the sources of
-//! its formulas, and the table of a verification by AC analysis. Values are
-//! written with SI prefixes at five significant digits ([`crate::format_si`]).
-//! The functions return strings; the caller decides where they go.
+//! its formulas, and the table of a verification by AC analysis. Values in
+//! the tables are written by the workspace's one SI formatter
+//! ([`tankwave_circuit::si`]: a space before the unit, five significant
+//! digits); only the stage-file fragment keeps the stage-file spelling
+//! (`98.363pF`, [`crate::format_si`]) so that it can be pasted. The
+//! functions return strings; the caller decides where they go.
 
 use crate::{
     ChokeDesign, ElementStress, FilterKind, LoadLine, LowpassDesign, MatchDesign, Network, Part,
     Placement, Verification,
 };
 
-/// `v` with an SI prefix at five significant digits.
+/// `v` with an SI prefix at five significant digits, by the shared formatter.
 fn si(v: f64, unit: &str) -> String {
-    crate::format_si(v, unit, 5)
+    tankwave_circuit::si::si_prefixed(v, unit, 5)
+}
+
+/// A signed reactance or other signed value with its unit, `+` shown.
+fn signed(v: f64, unit: &str) -> String {
+    let t = si(v, unit);
+    if v > 0.0 {
+        format!("+{t}")
+    } else {
+        t
+    }
+}
+
+/// A complex impedance `R ± jX` in ohms, each part by the shared formatter.
+fn impedance(z: crate::ComplexValue) -> String {
+    let sign = if z.im < 0.0 { '-' } else { '+' };
+    format!("{} {sign} j{}", si(z.re, "Ohm"), si(z.im.abs(), "Ohm"))
+}
+
+/// A level in dB with `decimals` decimals.
+fn db(v: f64, decimals: usize) -> String {
+    tankwave_circuit::si::fixed(v, decimals, "dB")
 }
 
 /// Two-column table of (label, value) rows, labels padded to the longest.
@@ -44,7 +68,10 @@ pub fn loadline_text(ll: &LoadLine) -> String {
         ("swing Vm = Vcc - Vsat", si(ll.swing_v, "V")),
         ("load-line resistance R", si(ll.resistance_ohm, "Ohm")),
         ("peak collector voltage", si(ll.vce_peak_v, "V")),
-        ("conduction angle", format!("{} deg", ll.conduction_deg)),
+        (
+            "conduction angle",
+            tankwave_circuit::si::fixed(ll.conduction_deg, 1, "deg"),
+        ),
         (
             "pulse coefficients a0, a1",
             format!("{:.6}, {:.6}", ll.alpha0, ll.alpha1),
@@ -55,7 +82,7 @@ pub fn loadline_text(ll: &LoadLine) -> String {
         ("DC input power", si(ll.dc_power_w, "W")),
         (
             "ideal collector efficiency",
-            format!("{:.1} %", 100.0 * ll.efficiency),
+            tankwave_circuit::si::percent(ll.efficiency),
         ),
     ]));
     s.push_str(&sources(&ll.sources));
@@ -81,7 +108,7 @@ fn network_table(net: &Network, reactances: Option<&[f64]>) -> String {
         };
         let x = reactances
             .and_then(|r| r.get(i))
-            .map(|x| format!("   X = {x:+.4} ohm"))
+            .map(|x| format!("   X = {}", signed(*x, "Ohm")))
             .unwrap_or_default();
         s.push_str(&format!(
             "  {:<10} {:<9} {:<7} {:<10} {:<10} {:>12}{x}\n",
@@ -116,7 +143,7 @@ fn stress_table(stress: &[ElementStress], power: Option<f64>, freq: f64) -> Stri
             e.name,
             si(e.v_peak, "V"),
             si(e.i_rms, "A"),
-            format!("{:.1} var", e.reactive_power_var)
+            si(e.reactive_power_var, "var")
         ));
     }
     s
@@ -130,26 +157,24 @@ pub fn verification_text(v: &Verification) -> String {
         if v.passed { "PASS" } else { "FAIL" }
     );
     s.push_str(&format!(
-        "  Zin at f0: {:.6} {:+.6}j ohm (expected {:.6} {:+.6}j; error {:.2e}, limit {:.1e})\n",
-        v.zin_measured.re,
-        v.zin_measured.im,
-        v.zin_expected.re,
-        v.zin_expected.im,
-        v.zin_error,
-        v.params.zin_tolerance
+        "  Zin at f0: {} (expected {}; relative error {}, limit {})\n",
+        impedance(v.zin_measured),
+        impedance(v.zin_expected),
+        tankwave_circuit::si::si_prefixed(v.zin_error, "", 3),
+        tankwave_circuit::si::si_prefixed(v.params.zin_tolerance, "", 2)
     ));
     s.push_str(&format!(
-        "  {:>8} {:>12} {:>14} {:>14} {:>10}\n",
-        "harmonic", "freq", "predicted dB", "measured dB", "diff dB"
+        "  {:>8} {:>12} {:>14} {:>14} {:>12}\n",
+        "harmonic", "freq", "predicted", "measured", "difference"
     ));
     for p in &v.points {
         s.push_str(&format!(
-            "  {:>8} {:>12} {:>14.4} {:>14.4} {:>10.2e}\n",
+            "  {:>8} {:>12} {:>14} {:>14} {:>12}\n",
             p.harmonic,
             si(p.freq, "Hz"),
-            p.predicted_db,
-            p.measured_db,
-            p.diff_db
+            db(p.predicted_db, 4),
+            db(p.measured_db, 4),
+            format!("{} dB", tankwave_circuit::si::si_prefixed(p.diff_db, "", 2))
         ));
     }
     s
@@ -185,13 +210,7 @@ pub fn match_text(d: &MatchDesign, power: Option<f64>) -> String {
             ),
         ));
     }
-    rows.push((
-        "Zin at f0 (chain matrix)",
-        format!(
-            "{:.6} {:+.6}j ohm",
-            d.input_impedance.re, d.input_impedance.im
-        ),
-    ));
+    rows.push(("Zin at f0 (chain matrix)", impedance(d.input_impedance)));
     s.push_str(&kv(&rows));
     s.push_str("Elements (source side first)\n");
     s.push_str(&network_table(&d.network, Some(&d.reactances_ohm)));
@@ -199,10 +218,10 @@ pub fn match_text(d: &MatchDesign, power: Option<f64>) -> String {
     s.push_str("Transducer gain R1 -> R2 (chain matrix)\n");
     for h in &d.harmonics {
         s.push_str(&format!(
-            "  harmonic {:>2}  {:>12}  {:>10.3} dB\n",
+            "  harmonic {:>2}  {:>12}  {:>12}\n",
             h.harmonic,
             si(h.freq, "Hz"),
-            h.gain_db
+            db(h.gain_db, 3)
         ));
     }
     s.push_str("Stage-file fragment\n");
@@ -217,7 +236,10 @@ pub fn lowpass_text(d: &LowpassDesign, power: Option<f64>) -> String {
     let kind_text = match d.kind {
         FilterKind::Butterworth => "Butterworth".to_string(),
         FilterKind::Chebyshev { ripple_db } => {
-            format!("Chebyshev, {ripple_db} dB ripple")
+            format!(
+                "Chebyshev, {} dB ripple",
+                tankwave_circuit::si::si_prefixed(ripple_db, "", 3)
+            )
         }
     };
     let mut s = format!(
@@ -244,17 +266,17 @@ pub fn lowpass_text(d: &LowpassDesign, power: Option<f64>) -> String {
         "harmonic",
         "freq",
         "f/fc",
-        "formula dB",
-        "ladder dB"
+        "formula",
+        "ladder"
     ));
     for h in &d.attenuation {
         s.push_str(&format!(
-            "  {:>8} {:>12} {:>8.4} {:>12.4} {:>12.4}\n",
+            "  {:>8} {:>12} {:>8.4} {:>12} {:>12}\n",
             h.harmonic,
             si(h.freq, "Hz"),
             h.omega,
-            h.formula_db,
-            h.network_db
+            db(h.formula_db, 4),
+            db(h.network_db, 4)
         ));
     }
     s.push_str("Stage-file fragment\n");
@@ -274,17 +296,17 @@ pub fn choke_text(d: &ChokeDesign) -> String {
         (
             "choke inductance (min)",
             format!(
-                "{}  (X_L = {:.1} ohm)",
+                "{}  (X_L = {})",
                 si(d.inductance_min_h, "H"),
-                d.choke_reactance_ohm
+                si(d.choke_reactance_ohm, "Ohm")
             ),
         ),
         (
             "blocking capacitance (min)",
             format!(
-                "{}  (X_C = {:.3} ohm)",
+                "{}  (X_C = {})",
                 si(d.capacitance_min_f, "F"),
-                d.blocking_reactance_ohm
+                si(d.blocking_reactance_ohm, "Ohm")
             ),
         ),
         ("assumed self-capacitance", si(d.self_capacitance_f, "F")),
@@ -296,7 +318,7 @@ pub fn choke_text(d: &ChokeDesign) -> String {
         ),
         (
             "X_L at f with self-C (estimate)",
-            format!("{:.1} ohm", d.choke_reactance_with_self_c_ohm),
+            si(d.choke_reactance_with_self_c_ohm, "Ohm"),
         ),
     ]));
     s.push_str("Warnings\n");
@@ -328,14 +350,14 @@ mod tests {
         assert_eq!(stress_table(std::slice::from_ref(&e), None, 7.1e6), "");
         let t = stress_table(&[e], Some(25.0), 7.1e6);
         assert!(
-            t.starts_with("Element stress at 25W into the load, 7.1MHz"),
+            t.starts_with("Element stress at 25.000 W into the load, 7.1000 MHz"),
             "{t}"
         );
         assert!(
-            t.contains("lm1") && t.contains("12V") && t.contains("500mA"),
+            t.contains("lm1") && t.contains("12.000 V") && t.contains("500.00 mA"),
             "{t}"
         );
-        assert!(t.contains("3.4 var"), "{t}");
+        assert!(t.contains("3.4000 var"), "{t}");
     }
 
     /// The load-line example of docs/design.md (12.5 V, 25 W, Vsat 1 V,
@@ -351,7 +373,7 @@ mod tests {
             .lines()
             .find(|l| l.starts_with("  load-line resistance R "))
             .expect("a resistance row");
-        assert!(line.ends_with(" 2.645Ohm"), "{line}");
+        assert!(line.ends_with(" 2.6450 Ohm"), "{line}");
         assert!(t.contains("Sources\n  - "), "{t}");
     }
 }

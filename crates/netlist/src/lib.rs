@@ -74,6 +74,13 @@ struct State {
     /// Files read so far (the top file included).
     reads: usize,
     files_read: Vec<PathBuf>,
+    /// Bytes read so far, every file together ([`Limits::max_total_bytes`]).
+    bytes: u64,
+    /// Expression operands the file may still hold ([`Limits::max_total_terms`]).
+    terms_left: usize,
+    /// Set once the statement or term budget is spent (reported once):
+    /// nothing more is read.
+    full: bool,
 }
 
 impl State {
@@ -86,6 +93,9 @@ impl State {
             roots,
             reads: 1,
             files_read: Vec::new(),
+            bytes: 0,
+            terms_left: LIMITS.max_total_terms,
+            full: false,
         }
     }
 }
@@ -217,6 +227,7 @@ impl State {
                 Some(e.valid_up_to()),
             ),
         };
+        self.bytes += bytes.len() as u64;
         let file = self.map.add(name, text, from);
         if let Some(at) = bad_at {
             // Offsets in the lossy text equal the original ones up to the first bad byte.
@@ -234,10 +245,36 @@ impl State {
             .map(|f| f.text.clone())
             .unwrap_or_default();
         let toks = lexer::lex(&text, file, &self.map, &mut self.diags);
-        let items = parser::parse_tokens(&toks, &self.map, &mut self.diags);
+        if self.full {
+            return;
+        }
+        let items = parser::parse_tokens(&toks, &self.map, &mut self.diags, &mut self.terms_left);
+        if self.terms_left == 0 {
+            self.full = true;
+        }
         for item in items {
+            if self.full && !matches!(item, Item::Broken(..)) {
+                break;
+            }
             match item {
-                Item::Stmt(s) => self.stmts.push(*s),
+                Item::Stmt(s) => {
+                    if self.stmts.len() >= LIMITS.max_statements {
+                        let mut d = self.map.error(
+                            "too-large",
+                            s.keyword.span,
+                            format!(
+                                "more than {} statements in one stage file (its includes \
+                                 counted in); reading stops here",
+                                LIMITS.max_statements
+                            ),
+                        );
+                        d.help = Some("the limits are listed in docs/security.md".into());
+                        self.diags.push(d);
+                        self.full = true;
+                        break;
+                    }
+                    self.stmts.push(*s)
+                }
                 Item::Include(rel, span) => self.include(&rel, span, dir, stack),
                 Item::Broken(kw, name) => self.broken.push((kw, name)),
             }
@@ -290,6 +327,9 @@ impl State {
             self.diags.push(d);
             return;
         }
+        if self.full {
+            return;
+        }
         if canon.exists() && !self.roots.iter().any(|r| canon.starts_with(r)) {
             let d = self.map.error(
                 "include-outside",
@@ -305,6 +345,21 @@ impl State {
                 "includes may come from {}; add a directory with --include-root",
                 roots.join(", ")
             )));
+            return;
+        }
+        let size = std::fs::metadata(&path).map(|m| m.len()).unwrap_or(0);
+        if self.bytes.saturating_add(size) > LIMITS.max_total_bytes {
+            let mut d = self.map.error(
+                "include-limit",
+                span,
+                format!(
+                    "cannot include '{shown}': the stage file and its includes would hold \
+                     more than {} bytes",
+                    LIMITS.max_total_bytes
+                ),
+            );
+            d.help = Some("the limits are listed in docs/security.md".into());
+            self.diags.push(d);
             return;
         }
         match read_limited(&path) {
@@ -326,7 +381,7 @@ impl State {
                 let nested = self.diags[diags_before..]
                     .iter()
                     .any(|d| d.code.starts_with("include-"));
-                if new_errors && !nested && self.stmts.len() == stmts_before {
+                if new_errors && !nested && !self.full && self.stmts.len() == stmts_before {
                     self.diags.truncate(diags_before);
                     self.broken.truncate(broken_before);
                     let d = self.map.error(

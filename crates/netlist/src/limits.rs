@@ -12,6 +12,16 @@
 pub struct Limits {
     /// Largest stage file (or included file) read, in bytes.
     pub max_file_bytes: u64,
+    /// Most bytes read for one stage file: the top file and every include
+    /// together (parsing holds tokens and a syntax tree of roughly a hundred
+    /// times this).
+    pub max_total_bytes: u64,
+    /// Most statements in one stage file, its includes counted in.
+    pub max_statements: usize,
+    /// Most operands in all the expressions of one stage file together, its
+    /// includes counted in (bounds the memory of the syntax tree and of
+    /// evaluating it).
+    pub max_total_terms: usize,
     /// Deepest include nesting (the file named on the command line is depth 1).
     pub max_include_depth: usize,
     /// Most files read for one stage file (the top file and every include,
@@ -54,7 +64,10 @@ pub struct Limits {
 
 /// The limits in force.
 pub const LIMITS: Limits = Limits {
-    max_file_bytes: 64 << 20,
+    max_file_bytes: 8 << 20,
+    max_total_bytes: 8 << 20,
+    max_statements: 50_000,
+    max_total_terms: 500_000,
     max_include_depth: 16,
     max_includes: 256,
     max_diagnostics_collected: 1000,

@@ -33,6 +33,11 @@ struct Parser<'a> {
     depth: usize,
     /// Operands read so far in the expression being parsed (reset at its start).
     terms: usize,
+    /// Operands the stage file may still hold in all its expressions
+    /// ([`crate::LIMITS`]`.max_total_terms` at the start of the top file).
+    terms_left: usize,
+    /// Set when `terms_left` ran out (reported once): parsing stops.
+    exhausted: bool,
 }
 
 /// Deepest nesting of expressions and limits in parser levels (guards the
@@ -47,7 +52,16 @@ struct Bumped {
 }
 
 /// Parse a token stream (from [`crate::lexer::lex`]) into items.
-pub fn parse_tokens(toks: &[Token], map: &SourceMap, diags: &mut Vec<Diagnostic>) -> Vec<Item> {
+/// `terms_left` is the number of expression operands the stage file may still
+/// hold ([`crate::LIMITS`]`.max_total_terms` for the whole file and its
+/// includes); it is reduced by those read here. When it runs out, the place
+/// is reported once and parsing stops (then `*terms_left` is 0).
+pub fn parse_tokens(
+    toks: &[Token],
+    map: &SourceMap,
+    diags: &mut Vec<Diagnostic>,
+    terms_left: &mut usize,
+) -> Vec<Item> {
     let mut p = Parser {
         toks,
         pos: 0,
@@ -55,9 +69,15 @@ pub fn parse_tokens(toks: &[Token], map: &SourceMap, diags: &mut Vec<Diagnostic>
         diags,
         depth: 0,
         terms: 0,
+        terms_left: *terms_left,
+        exhausted: *terms_left == 0,
     };
     let mut items = Vec::new();
     loop {
+        if p.exhausted {
+            p.terms_left = 0;
+            break;
+        }
         match p.peek() {
             TokKind::Eof => break,
             TokKind::Newline => {
@@ -104,6 +124,7 @@ pub fn parse_tokens(toks: &[Token], map: &SourceMap, diags: &mut Vec<Diagnostic>
             }
         }
     }
+    *terms_left = p.terms_left;
     items
 }
 
@@ -556,6 +577,24 @@ impl<'a> Parser<'a> {
     /// expression longer than [`crate::LIMITS`]`.max_expression_terms` (its
     /// tree would be as deep as it is long).
     fn term_read(&mut self, at: Span) -> P<()> {
+        if self.terms_left == 0 {
+            if !self.exhausted {
+                self.exhausted = true;
+                let total = crate::LIMITS.max_total_terms;
+                let mut d = self.map.error(
+                    "too-large",
+                    at,
+                    format!(
+                        "the stage file holds more than {total} terms in its expressions \
+                         (its includes counted in); reading stops here"
+                    ),
+                );
+                d.help = Some("the limits are listed in docs/security.md".into());
+                self.diags.push(d);
+            }
+            return Err(());
+        }
+        self.terms_left -= 1;
         self.terms += 1;
         let max = crate::LIMITS.max_expression_terms;
         if self.terms > max {
@@ -1049,6 +1088,8 @@ pub fn value_at(toks: &[Token], pos: usize, map: &SourceMap) -> Option<(Span, us
         diags: &mut diags,
         depth: 0,
         terms: 0,
+        terms_left: usize::MAX,
+        exhausted: false,
     };
     let e = p.value().ok()?;
     Some((e.span, p.pos))

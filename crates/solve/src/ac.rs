@@ -243,7 +243,8 @@ fn solve_at(
     let x = solve_complex(n, &a, b).map_err(|k| SolveError::Singular {
         analysis: format!("{what} at {f:.6e} Hz"),
         unknown: devices.names.get(k).cloned().unwrap_or_default(),
-        cause: crate::singular::guess(devices, k),
+        cause: crate::singular::cause_complex(&a, n, |j| j, devices)
+            .unwrap_or_else(|| crate::singular::guess(devices, k)),
         when: When(None),
     })?;
     if let Some(k) = x

@@ -4,6 +4,7 @@
 
 mod support;
 use support::*;
+use tankwave_circuit::ir::Waveform;
 use tankwave_devices::instantiate;
 use tankwave_solve::*;
 
@@ -56,5 +57,70 @@ fn a_loop_of_voltage_sources_is_named_as_one() {
         "{msg}"
     );
     assert!(msg.contains("I[v1]") && msg.contains("I[v2]"), "{msg}");
+    assert!(!msg.contains("floating"), "{msg}");
+}
+
+/// A source across a lossless series LC, with a resistor across the source so
+/// that the operating point exists: at ω = 1/√(LC) the LC branch has zero
+/// impedance, so its current is not fixed (the AC matrix is singular there).
+/// L = C = 1 puts the resonance at ω = 1 rad/s, f = 1/(2π) Hz (common practice).
+fn series_lc(wave: Waveform) -> (B, usize) {
+    let mut b = B::new();
+    let vs = b.vsrc("vs", "a", "gnd", wave, 0.0);
+    b.r("r1", "a", "gnd", 1e3);
+    b.ind("l1", "a", "b", 1.0, 0.0);
+    b.cap("c1", "b", "gnd", 1.0);
+    b.c.input = Some(vs);
+    (b, vs)
+}
+
+const F_RES: f64 = 1.0 / (2.0 * std::f64::consts::PI);
+
+#[test]
+fn ac_at_a_lossless_resonance_names_the_resonance() {
+    let (b, vs) = series_lc(Waveform::default());
+    let d = instantiate(&b.c).unwrap();
+    let p = AcParams {
+        from: F_RES,
+        to: F_RES,
+        points: 1,
+        source: Some(vs),
+        ..AcParams::default()
+    };
+    let e = ac(&b.c, &d, &p).unwrap_err();
+    assert!(matches!(e, SolveError::Singular { .. }), "{e:?}");
+    let msg = e.to_string();
+    assert!(msg.contains("a resonance with nothing to damp it"), "{msg}");
+    assert!(msg.contains("V[b]") && msg.contains("I[l1]"), "{msg}");
+    assert!(!msg.contains("floating"), "{msg}");
+    // Off the resonance the same circuit solves.
+    let p = AcParams {
+        from: 2.0 * F_RES,
+        to: 2.0 * F_RES,
+        ..p
+    };
+    assert!(ac(&b.c, &d, &p).is_ok());
+}
+
+#[test]
+fn harmonic_balance_at_a_lossless_resonance_reads_its_newton_matrix() {
+    let (b, _) = series_lc(Waveform {
+        dc: 0.0,
+        shape: Some(sine(1.0, F_RES)),
+    });
+    let d = instantiate(&b.c).unwrap();
+    let params = SteadyParams {
+        freq: F_RES,
+        harmonics: 3,
+        method: tankwave_circuit::SteadyMethod::Balance,
+        ..SteadyParams::default()
+    };
+    let e = steady(&b.c, &d, &params).unwrap_err();
+    let msg = e.to_string();
+    eprintln!("{msg}");
+    assert!(matches!(e, SolveError::Singular { .. }), "{e:?}");
+    // The null space of the Newton matrix holds the inductor current and the
+    // node behind it, together: not a floating node.
+    assert!(msg.contains("I[l1]") && msg.contains("V[b]"), "{msg}");
     assert!(!msg.contains("floating"), "{msg}");
 }

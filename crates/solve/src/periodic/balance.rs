@@ -826,6 +826,8 @@ enum Fail {
     Singular {
         iterations: usize,
         slot: usize,
+        /// What the numbers of the Newton matrix point to ([`crate::singular`]).
+        cause: Option<String>,
     },
     NonFinite {
         iterations: usize,
@@ -1182,6 +1184,12 @@ impl<'a> Problem<'a> {
             lu.factor(&jac).map_err(|slot| Fail::Singular {
                 iterations: it,
                 slot,
+                cause: crate::singular::cause_mapped(
+                    &jac,
+                    m,
+                    |j| self.red.ports.get(j % p.max(1)).copied().unwrap_or(0),
+                    self.devices,
+                ),
             })?;
             let mut dx = vec![0.0; m];
             for k in 0..=kmax {
@@ -1339,7 +1347,7 @@ impl<'a> Problem<'a> {
                 },
                 when: When(None),
             },
-            Fail::Singular { slot, .. } => {
+            Fail::Singular { slot, cause, .. } => {
                 let p = self.p().max(1);
                 let (sl, a) = (slot / p, slot % p);
                 let (k, part) = if sl == 0 {
@@ -1353,12 +1361,13 @@ impl<'a> Problem<'a> {
                 SolveError::Singular {
                     analysis,
                     unknown: format!("{} at harmonic {k}{part}", name(a)),
-                    cause: self
-                        .red
-                        .ports
-                        .get(a)
-                        .map(|&u| crate::singular::guess(self.devices, u))
-                        .unwrap_or_default(),
+                    cause: cause.unwrap_or_else(|| {
+                        self.red
+                            .ports
+                            .get(a)
+                            .map(|&u| crate::singular::guess(self.devices, u))
+                            .unwrap_or_default()
+                    }),
                     when: When(None),
                 }
             }
