@@ -28,10 +28,20 @@ fn signed(v: f64, unit: &str) -> String {
     }
 }
 
-/// A complex impedance `R ± jX` in ohms, each part by the shared formatter.
+/// Parts of an impedance smaller than this fraction of its magnitude are
+/// rounding residue of the chain-matrix arithmetic (double precision carries
+/// about 16 digits; a ladder of a few sections loses at most a few), shown as
+/// zero rather than as a figure like `j206 aOhm` (common practice).
+const RESIDUE: f64 = 1e-9;
+
+/// A complex impedance `R ± jX` in ohms, each part by the shared formatter;
+/// a part below [`RESIDUE`] of the magnitude is shown as zero.
 fn impedance(z: crate::ComplexValue) -> String {
-    let sign = if z.im < 0.0 { '-' } else { '+' };
-    format!("{} {sign} j{}", si(z.re, "Ohm"), si(z.im.abs(), "Ohm"))
+    let mag = z.re.hypot(z.im);
+    let clean = |v: f64| if v.abs() <= RESIDUE * mag { 0.0 } else { v };
+    let (re, im) = (clean(z.re), clean(z.im));
+    let sign = if im < 0.0 { '-' } else { '+' };
+    format!("{} {sign} j{}", si(re, "Ohm"), si(im.abs(), "Ohm"))
 }
 
 /// A level in dB with `decimals` decimals.
@@ -332,6 +342,15 @@ pub fn choke_text(d: &ChokeDesign) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn rounding_residue_of_an_impedance_shows_as_zero() {
+        let z = |re, im| crate::ComplexValue { re, im };
+        // 2e-16 Ohm beside 2.9 Ohm is below the residue: zero.
+        assert_eq!(impedance(z(2.9, 2.06e-16)), "2.9000 Ohm + j0 Ohm");
+        // a real reactance of 1 mOhm beside 2.9 Ohm is kept.
+        assert!(impedance(z(2.9, -1e-3)).contains("- j1.0000 mOhm"), "{}", impedance(z(2.9, -1e-3)));
+    }
 
     #[test]
     fn key_value_rows_align_on_the_longest_label() {
