@@ -287,7 +287,13 @@ fn run_timed(a: &StudyArgs) -> i32 {
             return BAD_INPUT;
         }
     }
-    let mut summary_sink = study::SummarySink::new(a.plots.is_some() || a.report.is_some());
+    // A plain sweep short enough for a per-point table keeps its records for it.
+    let point_table = plan.montecarlo().is_none()
+        && plan.tolerances().is_empty()
+        && !plan.axes().is_empty()
+        && plan.len() <= tankwave_report::batch::SWEEP_TABLE_POINTS as u64;
+    let mut summary_sink =
+        study::SummarySink::new(a.plots.is_some() || a.report.is_some() || point_table);
     let result = match &a.out {
         None => study::run_study(&plan, &params, work, &mut &mut summary_sink, &progress),
         // The records already in the file are summarised too: the summary,
@@ -427,6 +433,9 @@ fn run_timed(a: &StudyArgs) -> i32 {
                 &units,
                 &value_units,
             ));
+            if let Some(points) = tankwave_report::batch::sweep_points_text(&kept, &value_units) {
+                common::show(&points);
+            }
         }
         SummaryFormat::Json => {
             let doc = serde_json::json!({

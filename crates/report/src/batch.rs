@@ -206,6 +206,84 @@ pub fn summary_text(
     out
 }
 
+/// Sweeps of at most this many points print one row per point after the
+/// summary (a longer sweep reads better as its plot; common practice).
+pub const SWEEP_TABLE_POINTS: usize = 60;
+
+/// The figures a per-point sweep table shows, when measured: the headline
+/// figures of a power stage.
+const SWEEP_TABLE_FIGURES: [tankwave_circuit::figure::Figure; 3] = [
+    tankwave_circuit::figure::Figure::Pout,
+    tankwave_circuit::figure::Figure::Efficiency,
+    tankwave_circuit::figure::Figure::Gain,
+];
+
+/// One row per point of a plain sweep (no tolerances): the swept values with
+/// their units, the headline figures measured and the verdict of the point
+/// (`pass`, the failed requirements, or why it did not solve). `None` for a
+/// Monte Carlo study, an empty one or one of more than
+/// [`SWEEP_TABLE_POINTS`] records.
+pub fn sweep_points_text(
+    records: &[tankwave_study::Record],
+    value_units: &BTreeMap<String, String>,
+) -> Option<String> {
+    if records.is_empty()
+        || records.len() > SWEEP_TABLE_POINTS
+        || records
+            .iter()
+            .any(|r| r.values.is_empty() || r.values.keys().any(|k| k.ends_with(".factor")))
+    {
+        return None;
+    }
+    let mut sorted: Vec<&tankwave_study::Record> = records.iter().collect();
+    sorted.sort_by_key(|r| r.index);
+    let keys: Vec<String> = sorted[0].values.keys().cloned().collect();
+    let figures: Vec<&str> = SWEEP_TABLE_FIGURES
+        .iter()
+        .filter_map(|f| f.record())
+        .filter(|f| sorted.iter().any(|r| r.metrics.contains_key(*f)))
+        .collect();
+    let mut headers: Vec<(&str, Align)> = vec![("#", Align::Right)];
+    headers.extend(keys.iter().map(|k| (k.as_str(), Align::Right)));
+    headers.extend(figures.iter().map(|f| (*f, Align::Right)));
+    headers.push(("verdict", Align::Left));
+    let mut t = Table::new(headers);
+    for r in sorted {
+        let mut row = vec![format!("{}", r.index)];
+        for k in &keys {
+            let unit = value_units.get(k).map(String::as_str).unwrap_or("");
+            row.push(match r.values.get(k) {
+                Some(v) => tankwave_measure::units::si_prefixed(*v, unit, 4),
+                None => "-".into(),
+            });
+        }
+        for f in &figures {
+            row.push(match r.metrics.get(*f) {
+                Some(v) => show_figure(f, *v),
+                None => "-".into(),
+            });
+        }
+        let failed: Vec<&str> = r
+            .verdicts
+            .iter()
+            .filter(|(_, v)| !v.pass)
+            .map(|(k, _)| k.as_str())
+            .collect();
+        row.push(match (&r.error, failed.is_empty()) {
+            (Some(e), _) => format!("not solved: {}", first_line(e)),
+            (None, true) => "pass".into(),
+            (None, false) => format!("FAIL {}", failed.join("; ")),
+        });
+        t.row(row);
+    }
+    Some(format!("\nEach point of the sweep\n{}", t.render()))
+}
+
+/// The first line of a message, for a table cell.
+fn first_line(s: &str) -> &str {
+    s.lines().next().unwrap_or("")
+}
+
 /// The drivers of each target as JSON: target → `[{"input", "rho"}, …]`,
 /// strongest first (every input at or above the noise level).
 fn drivers_json(d: &BTreeMap<String, tankwave_study::Drivers>) -> serde_json::Value {
