@@ -120,6 +120,11 @@ pub fn stage_report(
             scale,
         }),
         studies: &[],
+        load_sweeps: r
+            .ruggedness
+            .iter()
+            .map(crate::ruggedness::ruggedness_section)
+            .collect(),
         intro: Vec::new(),
         stage_label: None,
         omit_stage: false,
@@ -171,7 +176,11 @@ pub fn results_text(file: &str, c: &Circuit, r: &StageResults, verbose: bool) ->
             r.verdicts.len()
         ));
     }
-    if r.steady.is_some() {
+    for sweep in &r.ruggedness {
+        s.push('\n');
+        s.push_str(&crate::ruggedness::ruggedness_text(sweep));
+    }
+    if r.steady.is_some() || !r.ruggedness.is_empty() {
         s.push_str(&format!("\n{}\n", text::SAFETY_NOTE));
     }
     s
@@ -196,6 +205,7 @@ pub fn results_json(tool: &str, file: &str, c: &Circuit, r: &StageResults) -> Va
             j
         }),
         "requirements": crate::format::verdicts_json(&r.verdicts),
+        "ruggedness": r.ruggedness.iter().map(crate::ruggedness::ruggedness_json).collect::<Vec<_>>(),
         "caution": text::SAFETY_NOTE,
     })
 }
