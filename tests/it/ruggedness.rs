@@ -61,10 +61,16 @@ fn circles_within_the_requirement_pass_and_reach_the_report() {
     let f = dir.path().join("two.tank");
     std::fs::write(&f, text).unwrap();
     let report = dir.path().join("r.html");
-    let out = run(&["run", p(&f), "--report", p(&report)]);
+    let plots = dir.path().join("plots");
+    std::fs::create_dir(&plots).unwrap();
+    let out = run(&["run", p(&f), "--report", p(&report), "--plots", p(&plots)]);
     assert_eq!(code(&out), 0, "{}", stdout(&out));
+    let svg = std::fs::read_to_string(plots.join("smith-ruggedness.svg")).unwrap();
+    // 2 circles × 8 phases, each load one marker on the chart
+    assert_eq!(svg.matches("class=\"load\"").count(), 16);
     let html = std::fs::read_to_string(&report).unwrap();
     assert!(html.contains("id=\"load-sweeps\""));
+    assert!(html.contains("tw-smith"), "the chart is in the report");
     assert!(html.contains("1 of 1 requirements hold at every load"));
     roxmltree::Document::parse(html.trim_start_matches("<!DOCTYPE html>\n")).expect("well-formed");
 }

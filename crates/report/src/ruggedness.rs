@@ -294,8 +294,65 @@ pub fn ruggedness_json(s: &MismatchSweep) -> Value {
     })
 }
 
-/// The HTML section of a sweep, as a study section (lines, table).
-pub fn ruggedness_section(s: &MismatchSweep) -> crate::html::StudySection {
+/// The loads of a sweep on a Smith chart: one series per circle, the loads
+/// where a requirement has its worst case ringed, loads that did not solve
+/// crossed out.
+pub fn ruggedness_chart(s: &MismatchSweep) -> crate::plot::SmithChart {
+    let mut series: Vec<f64> = Vec::new();
+    for p in &s.points {
+        if !series.contains(&p.vswr) {
+            series.push(p.vswr);
+        }
+    }
+    let points = s
+        .points
+        .iter()
+        .enumerate()
+        .map(|(k, p)| {
+            let worst: Vec<&str> = s
+                .worst
+                .iter()
+                .filter(|w| w.at == k)
+                .map(|w| w.requirement.as_str())
+                .collect();
+            let mut label = format!("{}: Z = {}", load_name(p), impedance(p.z.re, p.z.im));
+            if !worst.is_empty() {
+                label.push_str(&format!("; worst case of {}", worst.join(", ")));
+            }
+            if p.failure.is_some() {
+                label.push_str("; not solved");
+            }
+            crate::plot::SmithPoint {
+                gamma: crate::plot::smith::gamma_of(p.z, s.reference_ohm),
+                series: series.iter().position(|v| *v == p.vswr).unwrap_or(0),
+                worst: !worst.is_empty(),
+                unsolved: p.failure.is_some(),
+                label,
+            }
+        })
+        .collect();
+    crate::plot::SmithChart {
+        title: "Loads on circles of constant VSWR".into(),
+        z0: s.reference_ohm,
+        series: series
+            .iter()
+            .map(|v| format!("VSWR {}", trim(*v)))
+            .collect(),
+        circles: true,
+        points,
+        ..Default::default()
+    }
+}
+
+/// The caption of the chart of a sweep.
+pub const CHART_CAPTION: &str =
+    "The loads of the sweep on a Smith chart; ringed: where a requirement has its worst case.";
+
+/// The HTML section of a sweep, as a study section (lines, table, chart).
+pub fn ruggedness_section(
+    s: &MismatchSweep,
+    p: &crate::plot::PlotParams,
+) -> crate::html::StudySection {
     let mut lines: Vec<(String, String)> = worst_rows(s)
         .into_iter()
         .map(|r| {
@@ -319,6 +376,12 @@ pub fn ruggedness_section(s: &MismatchSweep) -> crate::html::StudySection {
             header: HEADER.iter().map(|h| h.to_string()).collect(),
             rows: rows(s),
         }),
-        figures: Vec::new(),
+        figures: crate::plot::smith_plot(&ruggedness_chart(s), p)
+            .map(|svg| crate::html::Figure {
+                caption: CHART_CAPTION.into(),
+                svg,
+            })
+            .into_iter()
+            .collect(),
     }
 }

@@ -14,7 +14,8 @@ use crate::stage as text;
 /// The SVG plots of one stage: a period plot per transistor
 /// (`period-Q.svg`), the spectrum against the first mask (`spectrum.svg`),
 /// the start-up envelope of the first transient (`startup.svg`) and the
-/// first AC sweep (`ac.svg`). `file` names the stage in the titles. A plot
+/// first AC sweep (`ac.svg`) and the loads of each ruggedness sweep on a
+/// Smith chart (`smith-ruggedness.svg`, then `smith-ruggedness-2.svg`, …). `file` names the stage in the titles. A plot
 /// that cannot be drawn is noted instead.
 pub fn stage_plots(file: &str, c: &Circuit, r: &StageResults) -> Drawn {
     let p = PlotParams::for_source(file);
@@ -54,6 +55,18 @@ pub fn stage_plots(file: &str, c: &Circuit, r: &StageResults) -> Drawn {
             "ac.svg".into(),
             "AC magnitude and phase.".into(),
             plot::ac_plot(ac, &unknowns, scale, &p),
+        );
+    }
+    for (k, s) in r.ruggedness.iter().enumerate() {
+        let name = if k == 0 {
+            "smith-ruggedness.svg".to_string()
+        } else {
+            format!("smith-ruggedness-{}.svg", k + 1)
+        };
+        d.add(
+            name,
+            crate::ruggedness::CHART_CAPTION.into(),
+            plot::smith_plot(&crate::ruggedness::ruggedness_chart(s), &p),
         );
     }
     d
@@ -123,7 +136,7 @@ pub fn stage_report(
         load_sweeps: r
             .ruggedness
             .iter()
-            .map(crate::ruggedness::ruggedness_section)
+            .map(|s| crate::ruggedness::ruggedness_section(s, &PlotParams::for_source(file)))
             .collect(),
         intro: Vec::new(),
         stage_label: None,
