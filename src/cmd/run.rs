@@ -221,7 +221,11 @@ fn run_timed(a: &RunArgs) -> i32 {
             return BAD_INPUT;
         }
     }
-    if res.verdicts.iter().any(|v| !v.pass) {
+    let sweep_failed = res
+        .ruggedness
+        .iter()
+        .any(|s| s.worst.iter().any(|w| !w.pass));
+    if sweep_failed || res.verdicts.iter().any(|v| !v.pass) {
         FAILED
     } else {
         OK

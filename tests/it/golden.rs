@@ -20,6 +20,7 @@ const DEMOS: &[&str] = &[
     "netlists/driver-3m6-transformer.tank",
     "netlists/ism-13m56-classc.tank",
     "netlists/failing/cw-7m1-nofilter.tank",
+    "netlists/loads/ism-13m56-ruggedness.tank",
 ];
 
 /// The outputs compared: (file suffix, extra arguments of `run`).

@@ -22,4 +22,5 @@ mod harness;
 mod hostile;
 mod layering;
 mod readme;
+mod ruggedness;
 mod trade;

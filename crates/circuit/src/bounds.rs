@@ -211,6 +211,7 @@ fn option_span(options: &[Opt], key: &str) -> Option<Span> {
         .find(|o| o.key.name == key)
         .map(|o| match &o.value {
             OptValue::Expr(e) => e.span,
+            OptValue::List(_, span) => *span,
             OptValue::Wave(_) => o.key.span,
         })
 }
@@ -313,6 +314,18 @@ pub(crate) fn analysis(
                 ));
             }
         }
+        Analysis::Ruggedness { vswr, phases, .. } => {
+            let loads = vswr.len() as f64 * *phases as f64;
+            if loads > LIMITS.max_loads {
+                out.push(too_many(
+                    map,
+                    at("phases"),
+                    "loads of a sweep (circles × phases)",
+                    loads,
+                    LIMITS.max_loads,
+                ));
+            }
+        }
     }
     out
 }
@@ -351,6 +364,8 @@ pub fn analysis_bytes(c: &Circuit, a: &Analysis) -> f64 {
         Analysis::Bias => dense,
         Analysis::Transient { stop, step, .. } => dense + 8.0 * u * (stop / step + 1.0),
         Analysis::Ac { points, .. } => 2.0 * dense + 16.0 * u * *points as f64,
+        // one load's circuit at a time, plus its figures
+        Analysis::Ruggedness { .. } => dense,
         Analysis::Steady {
             harmonics,
             steps_per_period,

@@ -147,6 +147,13 @@ macro_rules! figure_catalogue {
                 label: "peak collector–emitter voltage",
                 about: Transistor(|t| Some(t.vce_peak_v)),
             },
+            VbeReverse {
+                word: Some("vbe_reverse"),
+                record: None,
+                unit: Volt,
+                label: "peak reverse base–emitter voltage",
+                about: Transistor(|t| Some(t.vbe_reverse_v)),
+            },
             IcPeak {
                 word: Some("ic_peak"),
                 record: Some("ic_peak_a"),

@@ -568,6 +568,17 @@ pub enum Analysis {
         /// Time steps per period for shooting/settle (power of two, default 256).
         steps_per_period: usize,
     },
+    /// `analyze ruggedness vswr=[S, …] [phases=N] [reference=Ω]`: the output
+    /// load moved around circles of constant VSWR (docs/analyses.md,
+    /// "Mismatch sweep").
+    Ruggedness {
+        /// The VSWR of each circle (1 ≤ S ≤ 100), in file order.
+        vswr: Vec<f64>,
+        /// Loads per circle, at phases 360°·k/N.
+        phases: usize,
+        /// The reference impedance, Ω (`None`: the output resistor's value).
+        reference: Option<f64>,
+    },
 }
 
 impl Analysis {
@@ -579,6 +590,7 @@ impl Analysis {
             Analysis::Transient { .. } => 1,
             Analysis::Ac { .. } => 2,
             Analysis::Steady { .. } => 3,
+            Analysis::Ruggedness { .. } => 4,
         };
         crate::options::analysis::ALL[k].0
     }

@@ -37,6 +37,9 @@ pub enum Takes {
     Value(Slot, Range),
     /// A whole number at least this large.
     Count(u64),
+    /// One value, or several in brackets (`[a, b, c]`), each in this unit
+    /// slot and within this range.
+    List(Slot, Range),
     /// One word of a fixed set.
     Word(&'static dyn WordSet),
     /// The name of an element.
@@ -105,6 +108,7 @@ impl OptionSpec {
             Takes::Element => s.push_str("ELEMENT"),
             Takes::Node => s.push_str("NODE"),
             Takes::Part => s.push('P'),
+            Takes::List(..) => s.push_str("[…]"),
             Takes::Value(..) | Takes::Count(_) | Takes::Wave => {}
         }
         s.push('`');
@@ -412,6 +416,31 @@ pub mod analysis {
         "time samples per period, a power of two",
     );
 
+    /// `vswr=` of a ruggedness sweep: the circles.
+    pub const VSWR: OptionSpec = opt(
+        "vswr",
+        Takes::List(Slot::Number, Range::Positive),
+        Default::Required,
+        "the VSWR of each circle of loads, 1 to 100",
+    );
+    /// The largest VSWR a circle may have: beyond it the load is an open or
+    /// a short circuit to within 2 % in |Γ|.
+    pub const VSWR_MAX: f64 = 100.0;
+    /// `phases=` of a ruggedness sweep.
+    pub const PHASES: OptionSpec = opt(
+        "phases",
+        Takes::Count(1),
+        Default::Number(12.0),
+        "loads per circle, at equal steps of the reflection's phase",
+    );
+    /// `reference=` of a ruggedness sweep.
+    pub const REFERENCE: OptionSpec = opt(
+        "reference",
+        Takes::Value(Slot::Resistance, Range::Positive),
+        Default::Derived("the output resistor"),
+        "the impedance the VSWR is counted against",
+    );
+
     /// The options of each analysis, by kind.
     pub const ALL: &[(&str, &[OptionSpec])] = &[
         ("bias", &[]),
@@ -421,6 +450,7 @@ pub mod analysis {
         ),
         ("ac", &[FROM, TO, POINTS, SCALE, SOURCE, IMPEDANCE]),
         ("steady", &[FREQ, HARMONICS, STEADY_METHOD, STEPS]),
+        ("ruggedness", &[VSWR, PHASES, REFERENCE]),
     ];
 
     /// The options of an analysis, or `None` for an unknown analysis.

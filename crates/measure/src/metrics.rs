@@ -166,6 +166,10 @@ pub struct TransistorMetrics {
     pub vce_peak_v: f64,
     /// Minimum collector–emitter voltage, V.
     pub vce_min_v: f64,
+    /// Peak reverse base–emitter voltage max(−v_be), V (0 when the
+    /// junction is never reversed): what an emitter–base breakdown rating
+    /// is checked against.
+    pub vbe_reverse_v: f64,
     /// Peak collector current, A.
     pub ic_peak_a: f64,
     /// Mean collector current (DC), A.
@@ -921,6 +925,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
             }
             ElementKind::Bjt {
                 c: nc,
+                b: nb,
                 e: ne,
                 model,
                 ..
@@ -946,6 +951,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
                 let vce: Vec<f64> = p.across(*nc, *ne).iter().map(|x| s * x).collect();
                 let vce_peak = vce.iter().copied().fold(f64::NEG_INFINITY, f64::max);
                 let vce_min = vce.iter().copied().fold(f64::INFINITY, f64::min);
+                let vbe_reverse = p.across(*nb, *ne).iter().fold(0.0f64, |m, x| m.max(-s * x));
                 let ic_peak = ic.iter().copied().fold(f64::NEG_INFINITY, f64::max);
                 let diss = mean(&p.absorbed(id));
                 let rth = bp.and_then(|b| b.thermal_resistance());
@@ -985,6 +991,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
                     conduction_notches: cond.notches,
                     vce_peak_v: vce_peak,
                     vce_min_v: vce_min,
+                    vbe_reverse_v: vbe_reverse,
                     ic_peak_a: ic_peak,
                     ic_mean_a: mean(&ic),
                     dissipation_w: diss,

@@ -204,6 +204,7 @@ fn transistor(name: &str, id: usize, vce: f64, tj: Option<f64>) -> TransistorMet
         conduction_notches: 0,
         vce_peak_v: vce,
         vce_min_v: 1.0,
+        vbe_reverse_v: 2.0,
         ic_peak_a: 3.0,
         ic_mean_a: 0.8,
         dissipation_w: 8.0,

@@ -28,6 +28,7 @@ struct ClassC {
 
 const VCC: f64 = 12.5;
 const IMAX: f64 = 3.0;
+const VB: f64 = 3.0;
 
 fn class_c(full_deg: f64, n: usize, params: BjtParams) -> ClassC {
     let mut c = circuit(
@@ -55,7 +56,9 @@ fn class_c(full_deg: f64, n: usize, params: BjtParams) -> ClassC {
     let vc = sample(n, |x| VCC - VCC * x.cos());
     let vout = sample(n, |x| VCC * x.cos());
     let iout: Vec<f64> = vout.iter().map(|v| v / r).collect();
-    let v = vec![vec![VCC; n], vc, vout, vec![0.0; n]];
+    // the base swings ±VB around the grounded emitter: a reverse peak of VB
+    let vb = sample(n, |x| VB * x.cos());
+    let v = vec![vec![VCC; n], vc, vout, vb];
     let i = vec![
         vec![ic.iter().map(|x| -x).collect(), ic.clone()],
         vec![ic.clone(), vec![0.0; n], ic.iter().map(|x| -x).collect()],
@@ -116,6 +119,9 @@ fn ideal_class_c_efficiency_and_transistor_figures() {
         assert!((q.dissipation_w - (m.pdc_w - out.p1_w)).abs() < 1e-6 * m.pdc_w);
         assert!((q.vce_peak_v - 2.0 * VCC).abs() < 1e-9);
         assert!(q.vce_min_v.abs() < 1e-9);
+        // the base at VB cos x (sampled at x = 0 and π): the reverse peak is
+        // VB exactly (common practice: the peak of the reversed voltage)
+        assert!((q.vbe_reverse_v - VB).abs() < 1e-12);
         assert!((q.ic_peak_a - IMAX).abs() < 1e-12);
         assert!((q.conduction_deg - ang).abs() <= 360.0 / n as f64);
         let tj = 298.15 + 5.0 * q.dissipation_w; // common practice: Tj = Ta + Rth·P
@@ -359,6 +365,9 @@ fn pnp_signs_and_missing_rth() {
     assert!(q.pnp);
     assert!((q.ic_peak_a - IMAX).abs() < 1e-12);
     assert!((q.vce_peak_v - 2.0 * VCC).abs() < 1e-9);
+    // the base voltage flipped with the rest: the pnp's junction is reversed
+    // by VB at the other half of the period, the same peak
+    assert!((q.vbe_reverse_v - VB).abs() < 1e-12);
     assert!((q.conduction_deg - 180.0).abs() <= 360.0 / n as f64);
     assert!(q.dissipation_w > 0.0);
     assert!(q.tj_k.is_none() && m.note("tj q1").is_some());

@@ -162,6 +162,9 @@ pub enum OptValue {
     Expr(Expr),
     /// A waveform shape.
     Wave(WaveAst),
+    /// A list of values in brackets (`vswr=[1.5, 2, 3]`), with the place
+    /// of the whole list.
+    List(Vec<Expr>, Span),
 }
 
 /// A `name=value` option.

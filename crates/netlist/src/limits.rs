@@ -49,6 +49,9 @@ pub struct Limits {
     pub max_harmonics: f64,
     /// Most time steps per period of a steady-state analysis.
     pub max_steps_per_period: f64,
+    /// Most loads one sweep of the output load solves (circles × phases,
+    /// or the points of a load-pull grid).
+    pub max_loads: f64,
     /// Most elements in one circuit.
     pub max_elements: usize,
     /// Most memory, in bytes, one analysis may be estimated to need (the
@@ -79,6 +82,7 @@ pub const LIMITS: Limits = Limits {
     max_transient_steps: 10_000_000.0,
     max_harmonics: 256.0,
     max_steps_per_period: 65_536.0,
+    max_loads: 10_000.0,
     max_elements: 20_000,
     max_analysis_bytes: 2.0 * (1u64 << 30) as f64,
     max_threads_per_core: 4,

@@ -416,12 +416,27 @@ impl<'a> Parser<'a> {
                             && matches!(self.peek_at(1), TokKind::LParen))
                     {
                         OptValue::Wave(self.wave()?)
+                    } else if matches!(self.peek(), TokKind::LBrack) {
+                        self.option_list()?
                     } else {
                         OptValue::Expr(self.value()?)
                     };
                     out.push(Opt { key, value });
                 }
                 _ => return self.expected("a name=value option"),
+            }
+        }
+    }
+
+    /// `[v, v, …]` after an option's `=`: one or more values.
+    fn option_list(&mut self) -> P<OptValue> {
+        let open = self.expect(TokKind::LBrack, "'['")?;
+        let mut v = Vec::new();
+        loop {
+            v.push(self.value()?);
+            if !self.eat(&TokKind::Comma) {
+                let close = self.expect(TokKind::RBrack, "',' or ']'")?;
+                return Ok(OptValue::List(v, open.span.to(close.span)));
             }
         }
     }

@@ -115,6 +115,9 @@ pub struct ReportInput<'a> {
     pub ac: Option<AcView<'a>>,
     /// Study summaries.
     pub studies: &'a [StudySection],
+    /// Sweeps of the output load (ruggedness circles), shown after the
+    /// collector load as sections of lines, a table and figures.
+    pub load_sweeps: Vec<StudySection>,
     /// Paragraphs shown under the file line (e.g. what a study report holds).
     pub intro: Vec<String>,
     /// Appended to the headings of the stage sections (requirements,
@@ -475,6 +478,31 @@ fn loads_section(out: &mut String, loads: &[CollectorLoad], label: Option<&str>)
     table_close(out);
 }
 
+/// A study section (or a sweep of the output load): its title, key lines,
+/// table and figures.
+fn section(out: &mut String, s: &StudySection) {
+    out.push_str(&format!("<h3>{}</h3>\n", escape(&s.title)));
+    if !s.lines.is_empty() {
+        out.push_str("<dl class=\"kv\">\n");
+        for (k, v) in &s.lines {
+            out.push_str(&format!("<dt>{}</dt><dd>{}</dd>\n", escape(k), escape(v)));
+        }
+        out.push_str("</dl>\n");
+    }
+    if let Some(t) = &s.table {
+        let header: Vec<&str> = t.header.iter().map(|h| h.as_str()).collect();
+        table_open(out, &header);
+        for r in &t.rows {
+            let cells: Vec<(&str, String)> = r.iter().map(|c| ("", c.clone())).collect();
+            row(out, &cells);
+        }
+        table_close(out);
+    }
+    for f in &s.figures {
+        figure(out, &f.caption, Ok(f.svg.clone()));
+    }
+}
+
 /// The whole report as one HTML document.
 pub fn stage_report(input: &ReportInput<'_>) -> String {
     let mut out = String::with_capacity(64 * 1024);
@@ -513,26 +541,7 @@ pub fn stage_report(input: &ReportInput<'_>) -> String {
     if !input.studies.is_empty() {
         out.push_str("<h2 id=\"studies\">Studies</h2>\n");
         for s in input.studies {
-            out.push_str(&format!("<h3>{}</h3>\n", escape(&s.title)));
-            if !s.lines.is_empty() {
-                out.push_str("<dl class=\"kv\">\n");
-                for (k, v) in &s.lines {
-                    out.push_str(&format!("<dt>{}</dt><dd>{}</dd>\n", escape(k), escape(v)));
-                }
-                out.push_str("</dl>\n");
-            }
-            if let Some(t) = &s.table {
-                let header: Vec<&str> = t.header.iter().map(|h| h.as_str()).collect();
-                table_open(&mut out, &header);
-                for r in &t.rows {
-                    let cells: Vec<(&str, String)> = r.iter().map(|c| ("", c.clone())).collect();
-                    row(&mut out, &cells);
-                }
-                table_close(&mut out);
-            }
-            for f in &s.figures {
-                figure(&mut out, &f.caption, Ok(f.svg.clone()));
-            }
+            section(&mut out, s);
         }
     }
 
@@ -624,6 +633,12 @@ pub fn stage_report(input: &ReportInput<'_>) -> String {
             stress_section(&mut out, m, label);
         }
         loads_section(&mut out, input.loads, label);
+        if !input.load_sweeps.is_empty() {
+            h2(&mut out, "load-sweeps", "Sweeps of the output load", label);
+            for s in &input.load_sweeps {
+                section(&mut out, s);
+            }
+        }
     }
 
     out.push_str("<h2 id=\"safety\">Safety</h2>\n");

@@ -36,6 +36,7 @@ pub mod outputs;
 pub mod overview;
 pub mod plot;
 pub mod provenance;
+pub mod ruggedness;
 pub mod stage;
 pub mod table;
 

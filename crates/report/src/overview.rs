@@ -72,6 +72,9 @@ pub fn stage_overview(file: &str, c: &Circuit, warnings: usize) -> String {
                 "steady at {}, {harmonics} harmonics",
                 crate::format::si(*freq, "Hz")
             ),
+            Analysis::Ruggedness { vswr, phases, .. } => {
+                format!("ruggedness, {} circles of {phases} loads", vswr.len())
+            }
         })
         .collect();
     let _ = writeln!(

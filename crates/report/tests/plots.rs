@@ -498,6 +498,7 @@ fn html_report_is_self_contained_and_well_formed() {
             scale: tankwave_circuit::Scale::Log,
         }),
         studies: &studies,
+        load_sweeps: Vec::new(),
         intro: vec!["A study & its <nominal> stage.".into()],
         stage_label: None,
         omit_stage: false,
@@ -668,6 +669,7 @@ fn study_sections_and_a_study_report() {
         loads: &[],
         verdicts: &verdicts,
         studies: &sections,
+        load_sweeps: Vec::new(),
         intro: vec!["4 variants <of a sweep>".into()],
         stage_label: Some("nominal stage".into()),
         ..Default::default()

@@ -18,7 +18,7 @@ use num_complex::Complex64;
 use tankwave_circuit::{Analysis, Circuit, Element, ElementKind};
 use tankwave_measure::{Metrics, Verdict};
 
-use crate::solve::{solve, Scope, SolveOptions};
+use crate::solve::{solve, Caps, Scope, SolveOptions};
 use crate::StageError;
 
 /// One circle of constant VSWR.
@@ -47,9 +47,15 @@ pub fn delivered_fraction(gamma_magnitude: f64) -> f64 {
     1.0 - gamma_magnitude * gamma_magnitude
 }
 
-/// Z = Z0 (1 + Γ)/(1 − Γ) (Pozar §2.3).
+/// Z = Z0 (1 + Γ)/(1 − Γ) (Pozar §2.3); a reactance below 1e-12 of the
+/// resistance (the rounding of Γ on the real axis) is taken as zero.
 pub fn load_impedance(z0: f64, gamma: Complex64) -> Complex64 {
-    z0 * (1.0 + gamma) / (1.0 - gamma)
+    let z = z0 * (1.0 + gamma) / (1.0 - gamma);
+    if z.im.abs() < 1e-12 * z.re.abs() {
+        Complex64::new(z.re, 0.0)
+    } else {
+        z
+    }
 }
 
 /// One load of the sweep and what it gave.
@@ -67,6 +73,12 @@ pub struct LoadPoint {
     pub metrics: Option<Metrics>,
     /// Requirement verdicts at this load (empty when it did not solve).
     pub verdicts: Vec<Verdict>,
+    /// The largest Floquet multiplier |μ| of the periodic solution at this
+    /// load (below 1: the orbit is stable; `None` when it did not solve).
+    pub floquet_largest: Option<f64>,
+    /// Newton iterations (harmonic balance), or periods integrated
+    /// (shooting, settling), this load's steady state took.
+    pub iterations: usize,
     /// Why it did not solve.
     pub failure: Option<String>,
 }
@@ -195,20 +207,28 @@ pub fn sweep(
     circles: &[Circle],
     reference: Option<f64>,
 ) -> Result<MismatchSweep, StageError> {
+    let nominal = solve(circuit, &SolveOptions::scope(Scope::Requirements))?;
+    let nominal_warm = nominal.steady.as_ref().map(|s| s.warm_start());
+    sweep_from(circuit, circles, reference, nominal_warm.as_deref(), None)
+}
+
+/// [`sweep`] from the nominal stage's solved state `nominal` (the state at
+/// the start of its period; `None`: the first load of each circle starts
+/// cold), each load's solve bounded by `caps` when given.
+pub fn sweep_from(
+    circuit: &Circuit,
+    circles: &[Circle],
+    reference: Option<f64>,
+    nominal: Option<&[f64]>,
+    caps: Option<Caps>,
+) -> Result<MismatchSweep, StageError> {
     let z0 = reference_of(circuit, reference)?;
     if !(z0.is_finite() && z0 > 0.0) {
         return Err(setup_error(format!(
             "reference impedance {z0} Ω is not positive"
         )));
     }
-    let freq = circuit
-        .analyses
-        .iter()
-        .find_map(|a| match a {
-            Analysis::Steady { freq, .. } => Some(*freq),
-            _ => None,
-        })
-        .ok_or(StageError::RequirementsWithoutSteady)?;
+    let freq = steady_freq(circuit)?;
     for c in circles {
         if !(c.vswr.is_finite() && c.vswr >= 1.0) || c.phases == 0 {
             return Err(setup_error(format!(
@@ -217,12 +237,10 @@ pub fn sweep(
             )));
         }
     }
-    let nominal = solve(circuit, &SolveOptions::scope(Scope::Requirements))?;
-    let nominal_warm = nominal.steady.as_ref().map(|s| s.warm_start());
     let mut points = Vec::new();
     for circle in circles {
         let g = gamma_magnitude(circle.vswr);
-        let mut warm = nominal_warm.clone();
+        let mut warm: Option<Vec<f64>> = nominal.map(<[f64]>::to_vec);
         for k in 0..circle.phases {
             let phase_deg = 360.0 * k as f64 / circle.phases as f64;
             let gamma = Complex64::from_polar(g, phase_deg.to_radians());
@@ -234,13 +252,17 @@ pub fn sweep(
                 z,
                 metrics: None,
                 verdicts: Vec::new(),
+                floquet_largest: None,
+                iterations: 0,
                 failure: None,
             };
-            match solve_load(circuit, z, freq, warm.as_deref()) {
-                Ok((m, v, x0)) => {
-                    point.metrics = Some(m);
-                    point.verdicts = v;
-                    warm = Some(x0);
+            match solve_load(circuit, z, freq, warm.as_deref(), caps) {
+                Ok(s) => {
+                    point.metrics = Some(s.metrics);
+                    point.verdicts = s.verdicts;
+                    point.floquet_largest = s.floquet_largest;
+                    point.iterations = s.iterations;
+                    warm = Some(s.warm);
                 }
                 Err(e) => point.failure = Some(e.to_string()),
             }
@@ -258,13 +280,40 @@ pub fn sweep(
     })
 }
 
-type Solved = (Metrics, Vec<Verdict>, Vec<f64>);
+/// The frequency of the first `analyze steady`.
+pub fn steady_freq(circuit: &Circuit) -> Result<f64, StageError> {
+    circuit
+        .analyses
+        .iter()
+        .find_map(|a| match a {
+            Analysis::Steady { freq, .. } => Some(*freq),
+            _ => None,
+        })
+        .ok_or(StageError::RequirementsWithoutSteady)
+}
 
-fn solve_load(
+/// What one load gave.
+pub struct Solved {
+    /// Figures measured at the load.
+    pub metrics: Metrics,
+    /// Requirement verdicts at the load.
+    pub verdicts: Vec<Verdict>,
+    /// The largest Floquet multiplier of the periodic solution.
+    pub floquet_largest: Option<f64>,
+    /// Iterations (or periods) the steady state took.
+    pub iterations: usize,
+    /// The state at the start of the period: the next load's warm start.
+    pub warm: Vec<f64>,
+}
+
+/// Solve the stage with its output load replaced by `z` at `freq`, warm-started
+/// from `warm` (a neighbouring load's state; `None`: cold), bounded by `caps`.
+pub fn solve_load(
     circuit: &Circuit,
     z: Complex64,
     freq: f64,
     warm: Option<&[f64]>,
+    caps: Option<Caps>,
 ) -> Result<Solved, StageError> {
     let c = with_load(circuit, z, freq)?;
     let n = tankwave_devices::instantiate(&c)
@@ -280,12 +329,18 @@ fn solve_load(
         &SolveOptions {
             scope: Scope::Requirements,
             warm: fitted.as_deref(),
+            caps,
             ..SolveOptions::default()
         },
     )?;
     let s = r.steady.ok_or(StageError::RequirementsWithoutSteady)?;
-    let x0 = s.warm_start();
-    Ok((s.metrics, r.verdicts, x0))
+    Ok(Solved {
+        warm: s.warm_start(),
+        floquet_largest: s.solution.info.floquet.as_ref().map(|f| f.largest),
+        iterations: s.solution.info.iterations,
+        metrics: s.metrics,
+        verdicts: r.verdicts,
+    })
 }
 
 /// The verdict with the smallest margin per requirement; a requirement

@@ -12,6 +12,7 @@ use tankwave_solve::{
     TransientResult,
 };
 
+use crate::mismatch::{sweep_from, Circle, MismatchSweep};
 use crate::StageError;
 
 /// The steady state of a stage and what was measured on it.
@@ -52,6 +53,9 @@ pub struct StageResults {
     pub steady: Option<SteadyOutcome>,
     /// Requirement verdicts (empty without a steady state or requirements).
     pub verdicts: Vec<Verdict>,
+    /// Each `analyze ruggedness` in file order: the output load moved
+    /// around its circles ([`crate::mismatch`]).
+    pub ruggedness: Vec<MismatchSweep>,
     /// The analyses that failed, when solving with
     /// [`SolveOptions::keep_going`] (always empty otherwise: the first
     /// failure is returned as the error).
@@ -67,6 +71,7 @@ impl Clone for StageResults {
             acs: self.acs.clone(),
             steady: self.steady.clone(),
             verdicts: self.verdicts.clone(),
+            ruggedness: self.ruggedness.clone(),
             failures: Vec::new(),
         }
     }
@@ -109,6 +114,11 @@ pub struct Caps {
     /// Most periods of settling.
     pub max_settle_periods: usize,
 }
+
+/// Most circles, and phases per circle, of a ruggedness sweep under [`Caps`].
+pub const CAPPED_CIRCLES: usize = 2;
+/// See [`CAPPED_CIRCLES`].
+pub const CAPPED_PHASES: usize = 4;
 
 impl Default for Caps {
     /// Small enough for a fuzzer's time budget; 128 steps per period keep
@@ -249,6 +259,8 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
                     }
                 }
             }
+            // run after the loop, from the nominal steady state
+            Analysis::Ruggedness { .. } => {}
             Analysis::Steady { .. } => {
                 if res.steady.is_some() || steady_tried {
                     continue;
@@ -288,7 +300,38 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
     }
     if let Some(s) = &res.steady {
         res.verdicts = tankwave_measure::evaluate(circuit, &s.metrics);
-    } else if !circuit.requirements.is_empty() && !steady_tried {
+    }
+    if opts.scope == Scope::All && beyond_op {
+        let nominal = res.steady.as_ref().map(|s| s.warm_start());
+        for a in &circuit.analyses {
+            let Analysis::Ruggedness {
+                vswr,
+                phases,
+                reference,
+            } = a
+            else {
+                continue;
+            };
+            let mut circles: Vec<Circle> = vswr
+                .iter()
+                .map(|&vswr| Circle {
+                    vswr,
+                    phases: *phases,
+                })
+                .collect();
+            if opts.caps.is_some() {
+                circles.truncate(CAPPED_CIRCLES);
+                for c in &mut circles {
+                    c.phases = c.phases.min(CAPPED_PHASES);
+                }
+            }
+            match sweep_from(circuit, &circles, *reference, nominal.as_deref(), opts.caps) {
+                Ok(s) => res.ruggedness.push(s),
+                Err(e) => fail(&mut res, e)?,
+            }
+        }
+    }
+    if res.steady.is_none() && !circuit.requirements.is_empty() && !steady_tried {
         fail(&mut res, StageError::RequirementsWithoutSteady)?;
     }
     Ok(res)

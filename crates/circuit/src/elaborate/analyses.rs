@@ -1,4 +1,4 @@
-//! `analyze bias|transient|ac|steady`: options read through
+//! `analyze bias|transient|ac|steady|ruggedness`: options read through
 //! [`crate::options::analysis`], checked against each other.
 
 use super::{fmt_num, Cx};
@@ -20,6 +20,7 @@ impl<'a> Cx<'a> {
             "bias" => Some(Analysis::Bias),
             "transient" => self.transient(kind, &m),
             "ac" => self.ac(kind, &m),
+            "ruggedness" => self.ruggedness(kind, &m),
             _ => self.steady(kind, &m),
         }
     }
@@ -147,5 +148,73 @@ impl<'a> Cx<'a> {
             method,
             steps_per_period: steps as usize,
         })
+    }
+
+    fn ruggedness(&mut self, kind: &Ident, m: &super::opts::Given<'a>) -> Option<Analysis> {
+        let Some(vswr) = self.opt_list(m, &o::VSWR)? else {
+            self.error(
+                "missing-option",
+                kind.span,
+                "analyze ruggedness needs vswr= (one VSWR, or several in brackets)",
+            );
+            return None;
+        };
+        if let Some((bad, at)) = vswr.iter().find(|(s, _)| !(1.0..=o::VSWR_MAX).contains(s)) {
+            self.error(
+                "bad-value",
+                *at,
+                format!(
+                    "a VSWR is from 1 to {}, got {}",
+                    fmt_num(o::VSWR_MAX),
+                    fmt_num(*bad)
+                ),
+            );
+            return None;
+        }
+        let vswr: Vec<f64> = vswr.into_iter().map(|(v, _)| v).collect();
+        let phases = self.opt_count(m, &o::PHASES)?.unwrap_or(1) as usize;
+        let reference = self.opt_value(m, &o::REFERENCE, "reference impedance")?;
+        Some(Analysis::Ruggedness {
+            vswr,
+            phases,
+            reference,
+        })
+    }
+
+    /// A sweep of the output load needs an `output` that is a resistor
+    /// (the load it replaces) and an `analyze steady` (what each load is
+    /// solved by); checked once the ports are known.
+    pub(super) fn check_load_sweeps(&mut self, c: &Circuit) {
+        let has_steady = c
+            .analyses
+            .iter()
+            .any(|a| matches!(a, Analysis::Steady { .. }));
+        let output_is_resistor = matches!(
+            c.output.and_then(|id| c.elements.get(id.index())).map(|e| &e.kind),
+            Some(ElementKind::Resistor { .. })
+        );
+        let spans: Vec<_> = c
+            .analyses
+            .iter()
+            .zip(self.analysis_spans.clone())
+            .filter(|(a, _)| matches!(a, Analysis::Ruggedness { .. }))
+            .map(|(_, s)| s)
+            .collect();
+        for span in spans {
+            if !has_steady {
+                self.error(
+                    "missing-option",
+                    span,
+                    "analyze ruggedness solves each load in steady state: the file needs an analyze steady",
+                );
+            }
+            if !output_is_resistor {
+                self.error(
+                    "element-kind",
+                    span,
+                    "analyze ruggedness replaces the output load: the file needs `output` naming a resistor",
+                );
+            }
+        }
     }
 }

@@ -338,6 +338,14 @@ impl<'a> Cx<'a> {
             None => Some(None),
             Some(opt) => match &opt.value {
                 OptValue::Wave(w) => self.wave(w, slot).map(Some),
+                OptValue::List(_, span) => {
+                    self.error(
+                        "syntax",
+                        *span,
+                        "wave= takes sine(...), square(...) or table(...)",
+                    );
+                    None
+                }
                 OptValue::Expr(ex) => {
                     self.error(
                         "syntax",

@@ -223,6 +223,9 @@ impl<'a> Cx<'a> {
         let too_large = crate::bounds::size(self.map, &c, &self.elem_spans, &self.analysis_spans);
         self.diags.extend(too_large);
         self.ports(stmts, &mut c);
+        if !self.has_errors() {
+            self.check_load_sweeps(&c);
+        }
         let mask_ids = self.masks(stmts, &mut c);
         self.requirements_and_studies(stmts, &mask_ids, &mut c);
         if all_elems_ok && !self.has_errors() {

@@ -74,6 +74,14 @@ impl<'a> Cx<'a> {
                 );
                 None
             }
+            OptValue::List(_, span) => {
+                self.error(
+                    "syntax",
+                    *span,
+                    format!("option '{}' takes one value, not a list", o.key.name),
+                );
+                None
+            }
         }
     }
 
@@ -117,6 +125,44 @@ impl<'a> Cx<'a> {
             Some(e) => self.integer(e, spec.name, min).map(Some),
             None => Some(default_number(spec).map(|v| v as u64)),
         }
+    }
+
+    /// A list option (one value, or several in brackets), each value in the
+    /// table's slot and range, with its place; `None` inside when it was not
+    /// given. `None`: an error was reported.
+    pub(super) fn opt_list(
+        &mut self,
+        m: &Given<'a>,
+        spec: &OptionSpec,
+    ) -> Option<Option<Vec<(f64, Span)>>> {
+        let Takes::List(slot, range) = spec.takes else {
+            debug_assert!(false, "option {} takes no list", spec.name);
+            return None;
+        };
+        let Some(o) = m.get(spec.name) else {
+            return Some(None);
+        };
+        let exprs: Vec<&Expr> = match &o.value {
+            OptValue::Expr(e) => vec![e],
+            OptValue::List(v, _) => v.iter().collect(),
+            OptValue::Wave(w) => {
+                self.error(
+                    "syntax",
+                    w.span,
+                    format!("option '{}' takes values, not a wave shape", spec.name),
+                );
+                return None;
+            }
+        };
+        let mut out = Vec::with_capacity(exprs.len());
+        let mut ok = true;
+        for e in exprs {
+            match self.value_in(e, slot, spec.name, range) {
+                Some(v) => out.push((v, e.span)),
+                None => ok = false,
+            }
+        }
+        ok.then_some(Some(out))
     }
 
     /// A required option: missing is a `missing-option` error at `at`.

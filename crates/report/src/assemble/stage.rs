@@ -15,7 +15,8 @@ use crate::stage as text;
 /// The SVG plots of one stage: a period plot per transistor
 /// (`period-Q.svg`), the spectrum against the first mask (`spectrum.svg`),
 /// the start-up envelope of the first transient (`startup.svg`) and the
-/// first AC sweep (`ac.svg`). `file` names the stage in the titles. A plot
+/// first AC sweep (`ac.svg`) and the loads of each ruggedness sweep on a
+/// Smith chart (`smith-ruggedness.svg`, then `smith-ruggedness-2.svg`, …). `file` names the stage in the titles. A plot
 /// that cannot be drawn is noted instead.
 pub fn stage_plots(file: &str, c: &Circuit, r: &StageResults) -> Drawn {
     let p = PlotParams::for_source(file);
@@ -55,6 +56,18 @@ pub fn stage_plots(file: &str, c: &Circuit, r: &StageResults) -> Drawn {
             "ac.svg".into(),
             "AC magnitude and phase.".into(),
             plot::ac_plot(ac, &unknowns, scale, &p),
+        );
+    }
+    for (k, s) in r.ruggedness.iter().enumerate() {
+        let name = if k == 0 {
+            "smith-ruggedness.svg".to_string()
+        } else {
+            format!("smith-ruggedness-{}.svg", k + 1)
+        };
+        d.add(
+            name,
+            crate::ruggedness::CHART_CAPTION.into(),
+            plot::smith_plot(&crate::ruggedness::ruggedness_chart(s), &p),
         );
     }
     d
@@ -127,6 +140,11 @@ pub fn stage_report(
             scale,
         }),
         studies: &[],
+        load_sweeps: r
+            .ruggedness
+            .iter()
+            .map(|s| crate::ruggedness::ruggedness_section(s, &PlotParams::for_source(file)))
+            .collect(),
         intro: Vec::new(),
         stage_label: None,
         omit_stage: false,
@@ -200,7 +218,11 @@ pub fn results_text(file: &str, c: &Circuit, r: &StageResults, verbose: bool) ->
             r.verdicts.len()
         ));
     }
-    if r.steady.is_some() {
+    for sweep in &r.ruggedness {
+        s.push('\n');
+        s.push_str(&crate::ruggedness::ruggedness_text(sweep));
+    }
+    if r.steady.is_some() || !r.ruggedness.is_empty() {
         s.push_str(&format!("\n{}\n", text::SAFETY_NOTE));
     }
     s
@@ -225,6 +247,7 @@ pub fn results_json(tool: &str, file: &str, c: &Circuit, r: &StageResults) -> Va
             j
         }),
         "requirements": crate::format::verdicts_json(&r.verdicts),
+        "ruggedness": r.ruggedness.iter().map(crate::ruggedness::ruggedness_json).collect::<Vec<_>>(),
         "caution": text::SAFETY_NOTE,
     })
 }

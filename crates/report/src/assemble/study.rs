@@ -254,6 +254,7 @@ pub fn study_report(c: &Circuit, r: StudyReport<'_>) -> String {
         transient: None,
         ac: None,
         studies: &sections,
+        load_sweeps: Vec::new(),
         intro,
         stage_label: Some("nominal stage".to_string()),
         omit_stage: res.is_none(),

@@ -18,7 +18,8 @@
 //! - [`ac_plot`]: AC magnitude and phase;
 //! - [`sweep_plot`]: a figure against a parameter, one curve per value of a second;
 //! - [`histogram_plot`]: Monte Carlo histogram with the requirement limit;
-//! - [`surface_plot`] / [`tuning_curve_plot`]: the tuning objective around the optimum.
+//! - [`surface_plot`] / [`tuning_curve_plot`]: the tuning objective around the optimum;
+//! - [`smith_plot`]: loads, contours and an optimum on a Smith chart (hand-written SVG).
 //!
 //! Bad input (empty or non-finite data, an element that is not a transistor,
 //! a solution of the wrong shape) gives a [`PlotError`], never a panic.
@@ -26,6 +27,7 @@
 mod ac;
 mod canvas;
 mod period;
+pub mod smith;
 mod spectrum;
 mod startup;
 mod study;
@@ -34,6 +36,7 @@ mod surface;
 pub use ac::ac_plot;
 pub use canvas::{series_style, Marker, SeriesStyle, DISTINCT_STYLES, PALETTE};
 pub use period::{conduction_intervals, period_plot, period_plots};
+pub use smith::{smith_plot, Contour, SmithChart, SmithPoint};
 pub use spectrum::{label_box, place_labels, spectrum_plot};
 pub use startup::{
     peak_envelope, startup_plot, startup_plot_series, startup_settling, EnvelopePoint,

@@ -173,6 +173,7 @@ pub fn metrics() -> Metrics {
             conduction_notches: 0,
             vce_peak_v: 22.5,
             vce_min_v: 1.5,
+            vbe_reverse_v: 3.0,
             ic_peak_a: 2.2,
             ic_mean_a: 1.04,
             dissipation_w: 3.5,
