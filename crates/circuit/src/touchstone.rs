@@ -700,6 +700,115 @@ impl Network {
     }
 }
 
+/// What a measured network is at a frequency its file does not cover.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Outside {
+    /// Nothing said: such a frequency is an error at lint time.
+    Refuse,
+    /// Every port open (zero admittance).
+    Open,
+    /// The nearest point of the file (at 0 Hz, the real part of its
+    /// admittance, since a DC admittance is real).
+    Hold,
+    /// Every port terminated in this resistance, Ω (> 0), the ports uncoupled.
+    Resistance(f64),
+}
+
+/// A measured network as the circuit uses it: the admittance matrix at each
+/// point of its file and what holds outside the file's band.
+///
+/// Between points the admittance is interpolated linearly in its real and
+/// imaginary parts, entry by entry (documented in docs/analyses.md); the
+/// error of that is second order in the point spacing.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MeasuredNetwork {
+    /// Number of ports (1 or 2).
+    pub ports: usize,
+    /// Frequencies of the file, Hz, strictly increasing.
+    pub freqs: Vec<f64>,
+    /// `ports²` admittances per point, S, row order.
+    pub y: Vec<Complex64>,
+    /// What holds outside `freqs`.
+    pub outside: Outside,
+}
+
+impl MeasuredNetwork {
+    /// The network of a file read by [`read`]: every point converted to an
+    /// admittance matrix, or the index of the first point that has none.
+    pub fn from_network(net: &Network, outside: Outside) -> Result<MeasuredNetwork, usize> {
+        let mut y = Vec::with_capacity(net.data.len());
+        for k in 0..net.freqs.len() {
+            y.extend(net.admittance_at(k).ok_or(k)?);
+        }
+        Ok(MeasuredNetwork {
+            ports: net.ports,
+            freqs: net.freqs.clone(),
+            y,
+            outside,
+        })
+    }
+
+    /// True if `f` lies within the file's band (first to last point).
+    pub fn covers(&self, f: f64) -> bool {
+        match (self.freqs.first(), self.freqs.last()) {
+            (Some(a), Some(b)) => f >= *a && f <= *b,
+            _ => false,
+        }
+    }
+
+    /// The band of the file, Hz.
+    pub fn band(&self) -> (f64, f64) {
+        (
+            self.freqs.first().copied().unwrap_or(0.0),
+            self.freqs.last().copied().unwrap_or(0.0),
+        )
+    }
+
+    /// The admittance matrix at `f` (Hz), S, row order: interpolated
+    /// within the band, by the [`Outside`] rule beyond it; `None` outside the
+    /// band when the rule is [`Outside::Refuse`].
+    pub fn admittance(&self, f: f64) -> Option<Vec<Complex64>> {
+        let n2 = self.ports * self.ports;
+        let at = |k: usize| self.y.get(k * n2..(k + 1) * n2).map(<[Complex64]>::to_vec);
+        let last = self.freqs.len().checked_sub(1)?;
+        if !self.covers(f) {
+            let zero = Complex64::new(0.0, 0.0);
+            return match self.outside {
+                Outside::Refuse => None,
+                Outside::Open => Some(vec![zero; n2]),
+                Outside::Resistance(r) => Some(
+                    (0..n2)
+                        .map(|i| {
+                            if i % (self.ports + 1) == 0 {
+                                Complex64::new(1.0 / r, 0.0)
+                            } else {
+                                zero
+                            }
+                        })
+                        .collect(),
+                ),
+                Outside::Hold => {
+                    let k = if f < self.freqs[0] { 0 } else { last };
+                    let mut v = at(k)?;
+                    if f == 0.0 {
+                        v.iter_mut().for_each(|x| x.im = 0.0);
+                    }
+                    Some(v)
+                }
+            };
+        }
+        // The last point at or below f.
+        let k = self.freqs.partition_point(|x| *x <= f).saturating_sub(1);
+        if k >= last {
+            return at(last);
+        }
+        let (f0, f1) = (self.freqs[k], self.freqs[k + 1]);
+        let t = (f - f0) / (f1 - f0);
+        let (a, b) = (at(k)?, at(k + 1)?);
+        Some(a.iter().zip(&b).map(|(a, b)| a + (b - a) * t).collect())
+    }
+}
+
 fn inv1(z: Complex64) -> Option<Complex64> {
     let r = z.inv();
     (z.norm() > 1e-300 && r.re.is_finite() && r.im.is_finite()).then_some(r)
@@ -786,6 +895,32 @@ mod tests {
     fn a_short_has_no_admittance() {
         let n = read("a.s1p", "# Hz S RI R 50\n1 -1 0\n").unwrap();
         assert!(n.admittance_at(0).is_none());
+    }
+
+    #[test]
+    fn interpolation_and_outside_rules() {
+        let n = read("a.s1p", "# Hz Y RI R 1\n10 1 0\n20 3 2\n").unwrap();
+        let m = MeasuredNetwork::from_network(&n, Outside::Refuse).unwrap();
+        // Linear in real and imaginary parts: halfway is the mean.
+        assert_eq!(m.admittance(15.0).unwrap()[0], Complex64::new(2.0, 1.0));
+        assert_eq!(m.admittance(20.0).unwrap()[0], Complex64::new(3.0, 2.0));
+        assert!(m.admittance(5.0).is_none() && m.admittance(21.0).is_none());
+        let hold = MeasuredNetwork {
+            outside: Outside::Hold,
+            ..m.clone()
+        };
+        assert_eq!(hold.admittance(30.0).unwrap()[0], Complex64::new(3.0, 2.0));
+        assert_eq!(hold.admittance(0.0).unwrap()[0], Complex64::new(1.0, 0.0));
+        let r = MeasuredNetwork {
+            outside: Outside::Resistance(4.0),
+            ..m.clone()
+        };
+        assert_eq!(r.admittance(0.0).unwrap()[0], Complex64::new(0.25, 0.0));
+        let open = MeasuredNetwork {
+            outside: Outside::Open,
+            ..m
+        };
+        assert_eq!(open.admittance(1e9).unwrap()[0], Complex64::new(0.0, 0.0));
     }
 
     #[test]

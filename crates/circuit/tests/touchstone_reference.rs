@@ -72,7 +72,7 @@ fn every_file_written_by_the_reference_library_reads_back() {
         }
         seen += 1;
     }
-    assert_eq!(seen, 12, "every file the generator writes is checked");
+    assert_eq!(seen, 13, "every file the generator writes is checked");
     // Both versions, S, Y and Z, one- and two-port are among them.
     assert!(kinds.contains(&(false, 'Y', 1)) && kinds.contains(&(true, 'Z', 2)));
     assert!(kinds.contains(&(true, 'S', 1)) && kinds.contains(&(false, 'S', 2)));

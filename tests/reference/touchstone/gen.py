@@ -7,6 +7,8 @@ theory (common practice):
   rlc1  a one-port: R = 20 ohm in series with L = 1.2 uH, that in parallel
         with C = 150 pF, over 1..60 MHz (121 points);
         Z = 1 / (j w C + 1 / (R + j w L)).
+  rlc1g the same one-port on a grid of 0.25 MHz steps, 0.25..60 MHz (240
+        points), on which every harmonic of 2 MHz falls.
   pi2   a two-port low-pass pi: shunt C1 = 330 pF, series L = 0.68 uH,
         shunt C2 = 330 pF, over 0.5..50 MHz (100 points); its admittance
         matrix is Y11 = j w C1 + 1/(j w L), Y22 = j w C2 + 1/(j w L),
@@ -34,6 +36,16 @@ HERE = os.path.dirname(os.path.abspath(__file__))
 
 def rlc1():
     f = np.linspace(1e6, 60e6, 121)
+    w = 2 * np.pi * f
+    r, l, c = 20.0, 1.2e-6, 150e-12
+    z = 1 / (1j * w * c + 1 / (r + 1j * w * l))
+    return f, (1 / z).reshape(-1, 1, 1)
+
+
+def rlc1g():
+    # The same one-port on a grid of 0.25 MHz steps (0.25..60 MHz), so that
+    # every harmonic of 2 MHz up to 60 MHz falls on a point of the file.
+    f = 0.25e6 * np.arange(1, 241)
     w = 2 * np.pi * f
     r, l, c = 20.0, 1.2e-6, 150e-12
     z = 1 / (1j * w * c + 1 / (r + 1j * w * l))
@@ -69,6 +81,7 @@ CASES = [
     ("rlc1_y_ma_v1", rlc1, 50.0, "mhz", "Y", "ma", "1.0"),
     ("rlc1_ri_v2", rlc1, 50.0, "mhz", "S", "ri", "2.0"),
     ("rlc1_z_db_v2", rlc1, 50.0, "mhz", "Z", "db", "2.0"),
+    ("rlc1g_ri_v1", rlc1g, 50.0, "mhz", "S", "ri", "1.0"),
     ("pi2_ri_v1", pi2, 50.0, "mhz", "S", "ri", "1.0"),
     ("pi2_db_v1_z25", pi2, 25.0, "ghz", "S", "db", "1.0"),
     ("pi2_y_ri_v1", pi2, 50.0, "mhz", "Y", "ri", "1.0"),
