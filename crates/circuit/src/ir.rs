@@ -155,6 +155,15 @@ pub enum ElementKind {
         /// Area factor, default 1.
         area: f64,
     },
+    /// `measured NAME p1 n1 [p2 n2] "FILE" [outside=…]`: a one- or
+    /// two-port network measured over frequency (a Touchstone file), used
+    /// exactly at each frequency in AC and harmonic balance.
+    Measured {
+        /// The (positive, negative) terminals of each port.
+        ports: Vec<(NodeId, NodeId)>,
+        /// Its admittance over frequency and its out-of-band rule.
+        network: std::sync::Arc<crate::touchstone::MeasuredNetwork>,
+    },
 }
 
 impl ElementKind {
@@ -170,6 +179,9 @@ impl ElementKind {
             ElementKind::Diode { a, k, .. } => vec![*a, *k],
             ElementKind::Bjt { c, b, e, .. } => vec![*c, *b, *e],
             ElementKind::Coupling { .. } => vec![],
+            ElementKind::Measured { ports, .. } => {
+                ports.iter().flat_map(|(p, n)| [*p, *n]).collect()
+            }
         }
     }
     /// The statement keyword of this kind (`"resistor"`, …).
@@ -183,6 +195,7 @@ impl ElementKind {
             ElementKind::CurrentSource { .. } => "current",
             ElementKind::Diode { .. } => "diode",
             ElementKind::Bjt { .. } => "bjt",
+            ElementKind::Measured { .. } => "measured",
         }
     }
 }

@@ -27,6 +27,7 @@ pub mod param_units;
 pub mod si;
 pub mod source;
 mod topology;
+pub mod touchstone;
 pub mod unit;
 pub mod upgrade;
 

@@ -139,6 +139,12 @@ const fn opt(name: &'static str, takes: Takes, default: Default, doc: &'static s
 
 // ------------------------------------------------------------------ words
 
+/// `outside=` of a measured network: what it is beyond its file's band.
+pub static OUTSIDE_WORDS: Words<crate::touchstone::Outside, 3> = Words([
+    ("refuse", crate::touchstone::Outside::Refuse),
+    ("open", crate::touchstone::Outside::Open),
+    ("hold", crate::touchstone::Outside::Hold),
+]);
 /// `start=` of a transient.
 pub static START_WORDS: Words<StartFrom, 2> = Words([
     ("bias", StartFrom::OperatingPoint),
@@ -271,6 +277,21 @@ pub mod element {
     /// `e=` of a bjt.
     pub const EMITTER: OptionSpec = opt("e", Takes::Node, Default::Required, "the emitter node");
 
+    /// `outside=` of a measured network.
+    pub const OUTSIDE: OptionSpec = opt(
+        "outside",
+        Takes::Word(&OUTSIDE_WORDS),
+        Default::Word("refuse"),
+        "what the network is at a frequency its file does not cover: refuse (an error), open, or hold the nearest point",
+    );
+    /// `outside_r=` of a measured network.
+    pub const OUTSIDE_R: OptionSpec = opt(
+        "outside_r",
+        Takes::Value(Slot::Resistance, Range::Positive),
+        Default::Absent,
+        "terminate every port in this resistance at a frequency the file does not cover",
+    );
+
     /// The options of each element kind, by keyword.
     pub const ALL: &[(&str, &[OptionSpec])] = &[
         ("resistor", &[RESISTOR_RATING]),
@@ -284,6 +305,7 @@ pub mod element {
         ("current", &[CURRENT_DC, WAVE]),
         ("diode", &[PART, AREA]),
         ("bjt", &[COLLECTOR, BASE, EMITTER, PART, AREA]),
+        ("measured", &[OUTSIDE, OUTSIDE_R]),
     ];
 
     /// The options of an element kind (empty for an unknown kind).

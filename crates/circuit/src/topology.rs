@@ -54,6 +54,23 @@ fn dc_edges(k: &ElementKind) -> Vec<(usize, usize)> {
         ElementKind::VoltageSource { p, n, .. } => vec![(idx(*p), idx(*n))],
         ElementKind::Diode { a, k, .. } => vec![(idx(*a), idx(*k))],
         ElementKind::Bjt { c, b, e, .. } => vec![(idx(*b), idx(*c)), (idx(*b), idx(*e))],
+        // A measured network conducts at DC between the ports its DC
+        // conductance matrix (Re Y(0)) couples.
+        ElementKind::Measured { ports, network } => {
+            let np = ports.len();
+            let y = network.admittance(0.0).unwrap_or_default();
+            let mut out = Vec::new();
+            for i in 0..np {
+                for j in 0..np {
+                    if y.get(i * np + j).is_some_and(|v| v.re != 0.0) {
+                        let (pi, ni) = ports[i];
+                        let (pj, nj) = ports[j];
+                        out.extend([(idx(pi), idx(ni)), (idx(pj), idx(nj)), (idx(pi), idx(pj))]);
+                    }
+                }
+            }
+            out
+        }
         _ => vec![],
     }
 }

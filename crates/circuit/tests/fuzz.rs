@@ -112,6 +112,13 @@ fn assert_finite(c: &Circuit) {
             ElementKind::Diode { area, .. } | ElementKind::Bjt { area, .. } => {
                 assert!(area.is_finite())
             }
+            ElementKind::Measured { network, .. } => {
+                assert!(network.freqs.iter().all(|f| f.is_finite()));
+                assert!(network
+                    .y
+                    .iter()
+                    .all(|y| y.re.is_finite() && y.im.is_finite()));
+            }
         }
     }
 }

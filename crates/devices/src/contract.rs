@@ -172,6 +172,19 @@ pub trait Device: Send + Sync + std::fmt::Debug {
     fn branch(&self) -> Option<UnknownId> {
         None
     }
+    /// For an element defined over frequency (a measured network): what it
+    /// adds to `G + jωC` at `f` (Hz) beyond what [`Device::eval`] stamps, as
+    /// (row, column, admittance in S); `None` where it is not defined (a
+    /// frequency outside its file's band with no out-of-band rule). Every
+    /// other device adds nothing.
+    fn frequency_admittance(&self, _f: f64) -> Option<Vec<(usize, usize, num_complex::Complex64)>> {
+        Some(Vec::new())
+    }
+    /// True for an element known only over frequency (a measured network):
+    /// time-domain analyses (transient, shooting, settle) refuse it.
+    fn frequency_domain(&self) -> bool {
+        false
+    }
 }
 
 /// A [`Stamp`] that records everything into dense row-major vectors of size n

@@ -194,6 +194,30 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                     wave.clone(),
                 )));
             }
+            ElementKind::Measured { ports, network } => {
+                let mut terms = Vec::with_capacity(2 * ports.len());
+                for (p, n) in ports {
+                    terms.push(b.node(name, *p)?);
+                    terms.push(b.node(name, *n)?);
+                }
+                if ports.len() != network.ports {
+                    return Err(DeviceError::WrongKind {
+                        element: name.to_string(),
+                        reason: format!(
+                            "{} ports wired for a {}-port network",
+                            ports.len(),
+                            network.ports
+                        ),
+                    });
+                }
+                let d = crate::measured::Measured::new(id, terms, network.clone()).ok_or_else(|| {
+                    DeviceError::WrongKind {
+                        element: name.to_string(),
+                        reason: "the measured network has no value at 0 Hz (the bias point): its file does not cover it and it names no out-of-band rule".into(),
+                    }
+                })?;
+                devices.push(Box::new(d));
+            }
             ElementKind::Diode { a, k, model, area } => {
                 let p = match circuit.models.get(model.index()).map(|m| &m.params) {
                     Some(ModelParams::Diode(p)) => p,

@@ -36,6 +36,7 @@ pub mod figure;
 pub mod instance;
 pub mod junction;
 pub mod linear;
+pub mod measured;
 pub mod names;
 pub mod waveform;
 pub use contract::*;

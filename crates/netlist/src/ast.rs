@@ -195,6 +195,8 @@ pub enum ElemKeyword {
     Diode,
     /// `bjt`
     Bjt,
+    /// `measured`: a network measured over frequency, from a Touchstone file.
+    Measured,
 }
 
 impl ElemKeyword {
@@ -209,6 +211,7 @@ impl ElemKeyword {
             "current" => ElemKeyword::Current,
             "diode" => ElemKeyword::Diode,
             "bjt" => ElemKeyword::Bjt,
+            "measured" => ElemKeyword::Measured,
             _ => return None,
         })
     }
@@ -223,6 +226,7 @@ impl ElemKeyword {
             ElemKeyword::Current => "current",
             ElemKeyword::Diode => "diode",
             ElemKeyword::Bjt => "bjt",
+            ElemKeyword::Measured => "measured",
         }
     }
 }
@@ -240,6 +244,23 @@ pub struct ElementStmt {
     pub value: Option<Expr>,
     /// `name=value` options.
     pub options: Vec<Opt>,
+    /// The data file a `measured` element names (quoted, after its nodes).
+    pub file: Option<DataFile>,
+}
+
+/// A data file named in a statement (a Touchstone file of a `measured`
+/// element), read by the parser like an include: under the include roots,
+/// within the file-size limit, its text added to the source map so that
+/// problems inside it are reported at its own line and column.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DataFile {
+    /// The path as written (relative to the file that names it).
+    pub path: String,
+    /// Where the quoted path is written.
+    pub span: Span,
+    /// The file in the source map, once read (`None`: it could not be read,
+    /// and a diagnostic says why).
+    pub source: Option<crate::source::FileId>,
 }
 
 /// `part NAME KIND { BLOCK { name=value ... } ... }`.

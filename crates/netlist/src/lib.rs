@@ -257,7 +257,7 @@ impl State {
                 break;
             }
             match item {
-                Item::Stmt(s) => {
+                Item::Stmt(mut s) => {
                     if self.stmts.len() >= LIMITS.max_statements {
                         let mut d = self.map.error(
                             "too-large",
@@ -273,10 +273,94 @@ impl State {
                         self.full = true;
                         break;
                     }
+                    if let ast::Stmt::Element(e) = &mut s.stmt {
+                        if let Some(f) = &mut e.file {
+                            f.source = self.data_file(&f.path, f.span, dir);
+                        }
+                    }
                     self.stmts.push(*s)
                 }
                 Item::Include(rel, span) => self.include(&rel, span, dir, stack),
                 Item::Broken(kw, name) => self.broken.push((kw, name)),
+            }
+        }
+    }
+
+    /// Read a data file named at `span` (a Touchstone file): relative to
+    /// `dir`, under the include roots, within the file-size limit, counted
+    /// with the includes. Its text goes into the source map; it is not parsed
+    /// here.
+    fn data_file(&mut self, rel: &str, span: Span, dir: &Path) -> Option<FileId> {
+        let path = dir.join(rel);
+        let canon = canonical(&path);
+        let shown = crate::escape::escape(rel).into_owned();
+        if self.reads >= LIMITS.max_includes {
+            let d = self.map.error(
+                "include-limit",
+                span,
+                format!(
+                    "more than {} files read for one stage file",
+                    LIMITS.max_includes
+                ),
+            );
+            self.diags.push(d);
+            return None;
+        }
+        if canon.exists() && !self.roots.iter().any(|r| canon.starts_with(r)) {
+            let d = self.map.error(
+                "include-outside",
+                span,
+                format!("cannot read '{shown}': it lies outside the include roots"),
+            );
+            self.diags.push(d.with_help(
+                "data files are read from the same directories as includes; add one with --include-root",
+            ));
+            return None;
+        }
+        let size = std::fs::metadata(&path).map(|m| m.len()).unwrap_or(0);
+        if self.bytes.saturating_add(size) > LIMITS.max_total_bytes {
+            let mut d = self.map.error(
+                "include-limit",
+                span,
+                format!(
+                    "cannot read '{shown}': the stage file, its includes and data files \
+                     would hold more than {} bytes",
+                    LIMITS.max_total_bytes
+                ),
+            );
+            d.help = Some("the limits are listed in docs/security.md".into());
+            self.diags.push(d);
+            return None;
+        }
+        match read_limited(&path) {
+            Ok(bytes) => {
+                self.reads += 1;
+                self.bytes += bytes.len() as u64;
+                self.files_read.push(path.clone());
+                match String::from_utf8(bytes) {
+                    Ok(text) => {
+                        let name = path.display().to_string();
+                        Some(self.map.add(&name, text, Some((span.file, span.start))))
+                    }
+                    Err(_) => {
+                        let d = self.map.error(
+                            "not-utf8",
+                            span,
+                            format!("cannot read '{shown}': it is not text"),
+                        );
+                        self.diags.push(d);
+                        None
+                    }
+                }
+            }
+            Err(e) => {
+                let d = self.map.error(
+                    "include-missing",
+                    span,
+                    format!("cannot read '{shown}': {e}"),
+                );
+                self.diags.push(d);
+                None
             }
         }
     }

@@ -43,6 +43,8 @@ pub struct Limits {
     pub max_parameter_chain: usize,
     /// Most points of one AC sweep.
     pub max_ac_points: f64,
+    /// Most frequency points of one Touchstone file (a measured network).
+    pub max_network_points: usize,
     /// Most output steps (stop / step) of one transient analysis.
     pub max_transient_steps: f64,
     /// Most harmonics of a steady-state analysis.
@@ -79,6 +81,7 @@ pub const LIMITS: Limits = Limits {
     max_expression_terms: 1000,
     max_parameter_chain: 1000,
     max_ac_points: 100_000.0,
+    max_network_points: 100_000,
     max_transient_steps: 10_000_000.0,
     max_harmonics: 256.0,
     max_steps_per_period: 65_536.0,

@@ -357,6 +357,7 @@ impl<'a> Parser<'a> {
         let name = self.ident(&format!("a name for the {}", kind.keyword()))?;
         let mut nodes = Vec::new();
         let mut value = None;
+        let mut file = None;
         match kind {
             ElemKeyword::Resistor | ElemKeyword::Capacitor | ElemKeyword::Inductor => {
                 nodes.push(self.ident("a node name")?);
@@ -387,6 +388,26 @@ impl<'a> Parser<'a> {
                 }
             }
             ElemKeyword::Bjt => {}
+            ElemKeyword::Measured => {
+                while matches!(self.peek(), TokKind::Ident(_)) && !self.option_ahead() {
+                    nodes.push(self.ident("a node name")?);
+                }
+                match self.peek().clone() {
+                    TokKind::Str(s) => {
+                        let sp = self.tok().span;
+                        self.pos += 1;
+                        file = Some(DataFile {
+                            path: s,
+                            span: sp,
+                            source: None,
+                        });
+                    }
+                    _ => {
+                        return self
+                            .expected("the quoted name of a Touchstone file after the nodes")
+                    }
+                }
+            }
         }
         let options = self.options()?;
         Ok(ElementStmt {
@@ -395,6 +416,7 @@ impl<'a> Parser<'a> {
             nodes,
             value,
             options,
+            file,
         })
     }
 

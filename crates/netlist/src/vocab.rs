@@ -40,6 +40,7 @@ pub const ELEMENT_KINDS: &[&str] = &[
     "current",
     "diode",
     "bjt",
+    "measured",
 ];
 
 /// Every statement keyword: the element kinds, then the other statements.

@@ -383,7 +383,11 @@ pub fn steady_text(
         sol.harmonics,
         match &info.floquet {
             Some(f) => format!(", largest Floquet multiplier |μ| {:.4}", f.largest),
-            None => String::new(),
+            // Only a stage with a measured network is accepted unverified
+            // (solve::periodic: the Floquet check integrates in time).
+            None => ", orbit stability NOT verified (a measured network has no time-domain \
+                      model for the Floquet check)"
+                .to_string(),
         }
     ));
     if verbose {

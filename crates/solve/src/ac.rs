@@ -199,7 +199,7 @@ pub fn ac(
             )));
         }
         for &f in &freq {
-            xs.push(solve_at(devices, &st.g, &st.c, f, &b, "AC")?);
+            xs.push(solve_at(devices, &st.g, &st.c, f, &b, "AC", None)?);
         }
     }
     let impedance = match p.impedance_at {
@@ -225,6 +225,8 @@ fn element_name(circuit: &Circuit, e: ElementId) -> String {
         .unwrap_or_else(|| format!("element #{}", e.index()))
 }
 
+/// Solve `(G + jωC + Y_f) X = b` at `f`, `Y_f` what the elements defined
+/// over frequency (measured networks) add there, except `skip`'s.
 fn solve_at(
     devices: &DeviceSet,
     g: &[f64],
@@ -232,14 +234,16 @@ fn solve_at(
     f: f64,
     b: &[Complex64],
     what: &str,
+    skip: Option<ElementId>,
 ) -> Result<Vec<Complex64>, SolveError> {
     let n = devices.n_unknowns;
     let w = 2.0 * std::f64::consts::PI * f;
-    let a: Vec<Complex64> = g
+    let mut a: Vec<Complex64> = g
         .iter()
         .zip(c)
         .map(|(gv, cv)| Complex64::new(*gv, w * cv))
         .collect();
+    add_frequency_admittance(devices, f, skip, &mut a)?;
     let x = solve_complex(n, &a, b).map_err(|k| SolveError::Singular {
         analysis: format!("{what} at {f:.6e} Hz"),
         unknown: devices.names.get(k).cloned().unwrap_or_default(),
@@ -258,6 +262,34 @@ fn solve_at(
         });
     }
     Ok(x)
+}
+
+/// Add to the dense `n×n` matrix `a` what every element defined over
+/// frequency (a measured network) adds at `f` beyond its DC stamp, except
+/// the element `skip`. A frequency such an element is not defined at is
+/// refused (elaboration already refuses it for the analyses of the file).
+pub(crate) fn add_frequency_admittance(
+    devices: &DeviceSet,
+    f: f64,
+    skip: Option<ElementId>,
+    a: &mut [Complex64],
+) -> Result<(), SolveError> {
+    let n = devices.n_unknowns;
+    for d in devices.devices.iter().filter(|d| Some(d.element()) != skip) {
+        let Some(entries) = d.frequency_admittance(f) else {
+            return Err(SolveError::BadParams(format!(
+                "measured network #{} is not defined at {f:.6e} Hz, outside its file's band \
+                 (give it outside=open, outside=hold or outside_r=)",
+                d.element().index()
+            )));
+        };
+        for (r, col, y) in entries {
+            if let Some(v) = a.get_mut(r * n + col) {
+                *v += y;
+            }
+        }
+    }
+    Ok(())
 }
 
 /// The small-signal impedance between nodes `port.0` and `port.1` of
@@ -388,7 +420,7 @@ fn impedance_sweep(
     let what = format!("impedance at '{name}'");
     let mut z = Vec::with_capacity(freq.len());
     for &f in freq {
-        let v = solve_at(devices, &g, &c, f, &b, &what)?;
+        let v = solve_at(devices, &g, &c, f, &b, &what, Some(e))?;
         let at = |t: NodeId| UnknownId::voltage(t).and_then(|u| v.get(u.index()).copied());
         let va = at(terms[0]).unwrap_or_default();
         let vb = at(terms[1]).unwrap_or_default();

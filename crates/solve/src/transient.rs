@@ -521,6 +521,21 @@ pub(crate) fn charged_rows(stamp: &tankwave_devices::DenseStamp) -> Vec<bool> {
         .collect()
 }
 
+/// The error of a time-domain analysis (transient, shooting, settle) asked
+/// of a circuit with a measured network, which needs a fitted time-domain
+/// model this build does not have.
+pub fn time_domain_refused(circuit: &Circuit, e: tankwave_circuit::ElementId) -> SolveError {
+    let name = circuit
+        .elements
+        .get(e.index())
+        .map(|x| x.name.as_str())
+        .unwrap_or("?");
+    SolveError::BadParams(format!(
+        "measured network '{name}' needs its fitted model; not yet supported in time-domain \
+         analyses (use AC or harmonic balance)"
+    ))
+}
+
 /// Run a transient analysis.
 pub fn transient(
     circuit: &Circuit,
@@ -535,11 +550,14 @@ pub fn transient(
 /// of the run, so a caller's progress display stays cheap. The solver prints
 /// nothing itself.
 pub fn transient_observed(
-    _circuit: &Circuit,
+    circuit: &Circuit,
     devices: &DeviceSet,
     params: &TransientParams,
     progress: &(dyn Fn(f64) + Sync),
 ) -> Result<TransientResult, SolveError> {
+    if let Some(d) = devices.devices.iter().find(|d| d.frequency_domain()) {
+        return Err(time_domain_refused(circuit, d.element()));
+    }
     let p = params;
     let mut told = 0.0f64;
     let bad = |m: String| Err(SolveError::BadParams(m));

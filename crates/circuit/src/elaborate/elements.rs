@@ -40,7 +40,12 @@ impl<'a> Cx<'a> {
         let mut all_ok = true;
         for e in elems {
             self.elem_spans.push(e.name.span);
-            let kind = self.element(e, &parts, steady_freq).unwrap_or_else(|| {
+            let kind = if e.kind == ElemKeyword::Measured {
+                self.measured(e, &c.analyses)
+            } else {
+                self.element(e, &parts, steady_freq)
+            };
+            let kind = kind.unwrap_or_else(|| {
                 all_ok = false;
                 // A placeholder keeps the ids aligned with pass 1.
                 ElementKind::Resistor {
@@ -124,7 +129,151 @@ impl<'a> Cx<'a> {
             ElemKeyword::Coupling => self.coupling(e),
             ElemKeyword::Voltage | ElemKeyword::Current => self.source(e),
             ElemKeyword::Diode | ElemKeyword::Bjt => self.semiconductor(e, parts),
+            ElemKeyword::Measured => None,
         }
+    }
+
+    /// A measured network: its Touchstone file read (problems in it reported
+    /// at their line and column in that file), its ports, its out-of-band
+    /// rule, and every frequency the analyses need checked against the
+    /// file's band (docs/analyses.md, "Measured networks").
+    fn measured(&mut self, e: &'a ElementStmt, analyses: &[Analysis]) -> Option<ElementKind> {
+        use crate::touchstone::{read, MeasuredNetwork, Outside};
+        let name = e.name.name.as_str();
+        let ctx = format!("measured {name}");
+        for n in &e.nodes {
+            self.node(&n.name);
+        }
+        let m = self.opts(&e.options, o::of("measured"), &ctx);
+        let word = self.opt_word(&m, &o::OUTSIDE, &crate::options::OUTSIDE_WORDS);
+        let r = self.opt_value(&m, &o::OUTSIDE_R, "outside_r")?;
+        let outside = match (m.contains_key(o::OUTSIDE.name), r) {
+            (true, Some(_)) => {
+                let sp = m
+                    .get(o::OUTSIDE_R.name)
+                    .map(|o| o.key.span)
+                    .unwrap_or(e.name.span);
+                self.error(
+                    "syntax",
+                    sp,
+                    format!("{ctx}: give outside= or outside_r=, not both"),
+                );
+                return None;
+            }
+            (_, Some(r)) => Outside::Resistance(r),
+            (_, None) => word?,
+        };
+        let file = e.file.as_ref()?;
+        let id = file.source?;
+        let src = self.map.file(id)?;
+        let (fname, text) = (src.name.clone(), src.text.clone());
+        let net = match read(&fname, &text) {
+            Ok(n) => n,
+            Err(err) => {
+                let sp = tankwave_netlist::Span::new(id, err.start, err.end);
+                self.error("touchstone", sp, format!("{ctx}: {}", err.message));
+                return None;
+            }
+        };
+        if e.nodes.len() != 2 * net.ports {
+            self.error(
+                "syntax",
+                e.name.span,
+                format!(
+                    "{ctx}: the file holds a {}-port, which takes {} nodes (a positive and a negative one per port), got {}",
+                    net.ports,
+                    2 * net.ports,
+                    e.nodes.len()
+                ),
+            );
+            return None;
+        }
+        let network = match MeasuredNetwork::from_network(&net, outside) {
+            Ok(n) => n,
+            Err(k) => {
+                self.error(
+                    "touchstone",
+                    file.span,
+                    format!(
+                        "{ctx}: the point at {} has no admittance (a short circuit)",
+                        crate::si::si_prefixed(net.freqs[k], "Hz", 6)
+                    ),
+                );
+                return None;
+            }
+        };
+        if outside == Outside::Refuse {
+            let (lo, hi) = network.band();
+            let mut needs: Vec<(f64, String)> = vec![(0.0, "the bias point (0 Hz)".into())];
+            for a in analyses {
+                match a {
+                    Analysis::Ac { from, to, .. } => {
+                        needs.push((*from, "the AC sweep".into()));
+                        needs.push((*to, "the AC sweep".into()));
+                    }
+                    Analysis::Steady {
+                        freq, harmonics, ..
+                    } => {
+                        needs.push((
+                            *freq * *harmonics as f64,
+                            format!("harmonic {harmonics} of the steady state"),
+                        ));
+                    }
+                    _ => {}
+                }
+            }
+            if let Some((f, what)) = needs.iter().find(|(f, _)| !network.covers(*f)) {
+                self.error(
+                    "out-of-band",
+                    file.span,
+                    format!(
+                        "{ctx}: {what} needs {}, outside the file's band {} to {}",
+                        crate::si::si_prefixed(*f, "Hz", 6),
+                        crate::si::si_prefixed(lo, "Hz", 6),
+                        crate::si::si_prefixed(hi, "Hz", 6)
+                    ),
+                )
+                .help = Some(
+                    "say what the network is there: outside=open, outside=hold (the nearest point) or outside_r=RES"
+                        .into(),
+                );
+                return None;
+            }
+        }
+        for a in analyses {
+            let time_domain = match a {
+                Analysis::Transient { .. } => Some("a transient"),
+                Analysis::Steady {
+                    method: SteadyMethod::Shooting,
+                    ..
+                } => Some("shooting"),
+                Analysis::Steady {
+                    method: SteadyMethod::Settle,
+                    ..
+                } => Some("settle"),
+                _ => None,
+            };
+            if let Some(what) = time_domain {
+                self.error(
+                    "time-domain",
+                    e.name.span,
+                    format!(
+                        "{ctx}: {what} needs the fitted time-domain model of a measured network; not yet supported in time-domain analyses"
+                    ),
+                )
+                .help = Some("use AC and 'analyze steady method=balance' (harmonic balance)".into());
+                return None;
+            }
+        }
+        let mut t = e.nodes.iter().map(|n| self.node(&n.name));
+        let mut ports = Vec::new();
+        while let (Some(p), Some(n)) = (t.next(), t.next()) {
+            ports.push((p, n));
+        }
+        Some(ElementKind::Measured {
+            ports,
+            network: std::sync::Arc::new(network),
+        })
     }
 
     /// The node of the `i`-th positional terminal (ground if absent).

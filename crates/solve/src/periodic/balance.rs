@@ -516,6 +516,10 @@ struct Linear {
     src_dc: Vec<f64>,
     /// `[k][row]`: coefficients of the time-varying source terms at full drive.
     src_wave: Vec<Vec<C64>>,
+    /// `[k]`: what the elements defined over frequency (measured networks)
+    /// add to `Y_k` at `k·f0` beyond their DC stamp, by (row, column); empty
+    /// at `k = 0`, where their stamp is exact.
+    extra: Vec<std::collections::HashMap<(usize, usize), C64>>,
 }
 
 fn linear_network(
@@ -598,12 +602,30 @@ fn linear_network(
             src_wave[k][r] = coef[k];
         }
     }
+    let mut extra = vec![std::collections::HashMap::new(); kmax + 1];
+    for (k, e) in extra.iter_mut().enumerate().skip(1) {
+        let f = k as f64 / period;
+        for d in &devices.devices {
+            let Some(entries) = d.frequency_admittance(f) else {
+                return Err(SolveError::BadParams(format!(
+                    "harmonic balance: measured network #{} is not defined at harmonic {k} \
+                     ({f:.6e} Hz), outside its file's band (give it outside=open, outside=hold \
+                     or outside_r=, or fewer harmonics)",
+                    d.element().index()
+                )));
+            };
+            for (r, col, y) in entries {
+                *e.entry((r, col)).or_insert(ZERO) += y;
+            }
+        }
+    }
     Ok(Linear {
         n,
         g,
         c,
         src_dc,
         src_wave,
+        extra,
     })
 }
 
@@ -708,7 +730,15 @@ fn reduce(lin: &Linear, ports: &[usize], kmax: usize, omega: f64) -> Result<Redu
     };
     for k in 0..=kmax {
         let w = k as f64 * omega;
-        let y = |r: usize, c: usize| C64::new(lin.g[r * n + c], w * lin.c[r * n + c]);
+        let fd = &lin.extra[k];
+        let y = |r: usize, c: usize| {
+            let base = C64::new(lin.g[r * n + c], w * lin.c[r * n + c]);
+            if fd.is_empty() {
+                base
+            } else {
+                base + fd.get(&(r, c)).copied().unwrap_or(ZERO)
+            }
+        };
         let mut yhat: Vec<C64> = Vec::with_capacity(p * p);
         for &r in ports {
             for &c in ports {
@@ -1757,13 +1787,73 @@ fn currents(
         cq: vec![ZERO; kmax + 1],
         coef,
     };
-    sample_currents(
+    let mut cur = sample_currents(
         circuit,
         devices,
         &grid,
         &mut rule,
         "harmonic balance (terminal currents)",
-    )
+    )?;
+    measured_currents(circuit, params.freq, sol, rule.out, &mut cur)?;
+    Ok(cur)
+}
+
+/// The terminal currents of every measured network, from its admittance at
+/// each harmonic: `I_i,k = Σ_j Y_ij(k·f0) V_j,k` into the positive terminal
+/// of port `i` (and out of its negative one), `V_j,k` the harmonic `k` of
+/// port `j`'s voltage; `Re Y(0)` at `k = 0`, as the element's DC stamp.
+fn measured_currents(
+    circuit: &Circuit,
+    freq: f64,
+    sol: &Solved,
+    out: &mut Fft,
+    cur: &mut [Vec<Vec<f64>>],
+) -> Result<(), SolveError> {
+    let volt = |row: &[C64], node: tankwave_circuit::NodeId| {
+        tankwave_devices::UnknownId::voltage(node)
+            .and_then(|u| row.get(u.index()).copied())
+            .unwrap_or(ZERO)
+    };
+    for (id, el) in circuit.element_ids() {
+        let tankwave_circuit::ElementKind::Measured { ports, network } = &el.kind else {
+            continue;
+        };
+        let np = ports.len();
+        let mut coef = vec![vec![ZERO; sol.kmax + 1]; np];
+        for (k, row) in sol.x_full.iter().enumerate().take(sol.kmax + 1) {
+            let f = k as f64 * freq;
+            let Some(mut y) = network.admittance(f) else {
+                return Err(SolveError::BadParams(format!(
+                    "harmonic balance: measured network '{}' is not defined at {f:.6e} Hz",
+                    el.name
+                )));
+            };
+            if k == 0 {
+                y.iter_mut().for_each(|v| v.im = 0.0);
+            }
+            let v: Vec<C64> = ports
+                .iter()
+                .map(|(p, n)| volt(row, *p) - volt(row, *n))
+                .collect();
+            for (i, c) in coef.iter_mut().enumerate() {
+                c[k] = (0..np).map(|j| y[i * np + j] * v[j]).sum();
+            }
+        }
+        let Some(slot) = cur.get_mut(id.index()) else {
+            continue;
+        };
+        for (i, c) in coef.iter().enumerate() {
+            let mut samples = vec![0.0; out.n];
+            out.inverse(c, &mut samples);
+            if let Some(t) = slot.get_mut(2 * i) {
+                t.clone_from(&samples);
+            }
+            if let Some(t) = slot.get_mut(2 * i + 1) {
+                *t = samples.iter().map(|v| -v).collect();
+            }
+        }
+    }
+    Ok(())
 }
 
 /// The derivative rule of harmonic balance: `I_k + jkωQ_k` for `k ≤ K` from

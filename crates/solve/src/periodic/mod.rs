@@ -116,7 +116,9 @@ pub struct SteadyInfo {
     /// Shooting details (periods per grid, monodromy matrices); `None` for other methods.
     pub shooting: Option<ShootingInfo>,
     /// The Floquet multipliers that verified the orbit ([`floquet`]);
-    /// `None` only before verification.
+    /// `None` before verification, and for a stage with a measured network,
+    /// which harmonic balance solves unverified (the check integrates in
+    /// time; reports say the orbit's stability was not verified).
     pub floquet: Option<floquet::FloquetInfo>,
 }
 
@@ -292,6 +294,17 @@ pub fn steady(
     params: &SteadyParams,
 ) -> Result<PeriodicSolution, SolveError> {
     params.check()?;
+    // A measured network is known only over frequency: harmonic balance
+    // uses it exactly; the time-domain methods, and the Floquet check,
+    // which integrates in time, would need its fitted model.
+    if let Some(d) = devices.devices.iter().find(|d| d.frequency_domain()) {
+        return match params.method {
+            SteadyMethod::Balance | SteadyMethod::Auto => balance(circuit, devices, params),
+            SteadyMethod::Shooting | SteadyMethod::Settle => {
+                Err(crate::transient::time_domain_refused(circuit, d.element()))
+            }
+        };
+    }
     // Every orbit is verified before it is accepted (floquet).
     let verify = |s| floquet::verify(circuit, devices, params, s);
     match params.method {

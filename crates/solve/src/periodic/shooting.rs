@@ -240,6 +240,9 @@ pub fn shooting(
     params: &SteadyParams,
 ) -> Result<PeriodicSolution, SolveError> {
     params.check()?;
+    if let Some(d) = devices.devices.iter().find(|d| d.frequency_domain()) {
+        return Err(crate::transient::time_domain_refused(circuit, d.element()));
+    }
     let n = devices.n_unknowns;
     let ns = params.samples();
     let period = 1.0 / params.freq;
