@@ -24,16 +24,21 @@ pub fn element_unit(c: &Circuit, name: &str) -> &'static str {
     }
 }
 
-/// The unit of every swept value a summary names (a `let` parameter's or
+/// The unit of every swept value (each `vary` of the stage, and every value
+/// a summary names: a `let` parameter's or
 /// an element's main value), keyed as in the records; tolerance factors are
 /// left out (they are plain multipliers).
 pub fn value_units(
     c: &Circuit,
     s: &tankwave_study::Summary,
 ) -> std::collections::BTreeMap<String, String> {
+    let swept = c.study.vary.iter().map(|v| match &v.target {
+        tankwave_circuit::VaryTarget::Param(n) | tankwave_circuit::VaryTarget::Element(n) => n,
+    });
     s.requirements
         .values()
         .flat_map(|r| r.worst_values.keys())
+        .chain(swept)
         .filter(|k| !k.ends_with(".factor"))
         .map(|k| {
             let u = param_unit(c, k);
