@@ -349,7 +349,11 @@ mod tests {
         // 2e-16 Ohm beside 2.9 Ohm is below the residue: zero.
         assert_eq!(impedance(z(2.9, 2.06e-16)), "2.9000 Ohm + j0 Ohm");
         // a real reactance of 1 mOhm beside 2.9 Ohm is kept.
-        assert!(impedance(z(2.9, -1e-3)).contains("- j1.0000 mOhm"), "{}", impedance(z(2.9, -1e-3)));
+        assert!(
+            impedance(z(2.9, -1e-3)).contains("- j1.0000 mOhm"),
+            "{}",
+            impedance(z(2.9, -1e-3))
+        );
     }
 
     #[test]

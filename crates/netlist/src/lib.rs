@@ -317,19 +317,7 @@ impl State {
             ));
             return None;
         }
-        let size = std::fs::metadata(&path).map(|m| m.len()).unwrap_or(0);
-        if self.bytes.saturating_add(size) > LIMITS.max_total_bytes {
-            let mut d = self.map.error(
-                "include-limit",
-                span,
-                format!(
-                    "cannot read '{shown}': the stage file, its includes and data files \
-                     would hold more than {} bytes",
-                    LIMITS.max_total_bytes
-                ),
-            );
-            d.help = Some("the limits are listed in docs/security.md".into());
-            self.diags.push(d);
+        if self.over_byte_cap(&path, span, &shown) {
             return None;
         }
         match read_limited(&path) {
@@ -363,6 +351,28 @@ impl State {
                 None
             }
         }
+    }
+
+    /// True (and an `include-limit` error at `span`) when reading `path`
+    /// would take the stage file, its includes and data files together past
+    /// [`Limits::max_total_bytes`].
+    fn over_byte_cap(&mut self, path: &Path, span: Span, shown: &str) -> bool {
+        let size = std::fs::metadata(path).map(|m| m.len()).unwrap_or(0);
+        if self.bytes.saturating_add(size) <= LIMITS.max_total_bytes {
+            return false;
+        }
+        let mut d = self.map.error(
+            "include-limit",
+            span,
+            format!(
+                "cannot read '{shown}': the stage file, its includes and data files would \
+                 hold more than {} bytes",
+                LIMITS.max_total_bytes
+            ),
+        );
+        d.help = Some("the limits are listed in docs/security.md".into());
+        self.diags.push(d);
+        true
     }
 
     fn include(&mut self, rel: &str, span: Span, dir: &Path, stack: &mut Vec<PathBuf>) {
@@ -431,19 +441,7 @@ impl State {
             )));
             return;
         }
-        let size = std::fs::metadata(&path).map(|m| m.len()).unwrap_or(0);
-        if self.bytes.saturating_add(size) > LIMITS.max_total_bytes {
-            let mut d = self.map.error(
-                "include-limit",
-                span,
-                format!(
-                    "cannot include '{shown}': the stage file and its includes would hold \
-                     more than {} bytes",
-                    LIMITS.max_total_bytes
-                ),
-            );
-            d.help = Some("the limits are listed in docs/security.md".into());
-            self.diags.push(d);
+        if self.over_byte_cap(&path, span, &shown) {
             return;
         }
         match read_limited(&path) {

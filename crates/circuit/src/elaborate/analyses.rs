@@ -190,7 +190,9 @@ impl<'a> Cx<'a> {
             .iter()
             .any(|a| matches!(a, Analysis::Steady { .. }));
         let output_is_resistor = matches!(
-            c.output.and_then(|id| c.elements.get(id.index())).map(|e| &e.kind),
+            c.output
+                .and_then(|id| c.elements.get(id.index()))
+                .map(|e| &e.kind),
             Some(ElementKind::Resistor { .. })
         );
         let spans: Vec<_> = c
