@@ -165,7 +165,8 @@ pub fn results_text(file: &str, c: &Circuit, r: &StageResults, verbose: bool) ->
     for (ac, (source, impedance_at)) in r.acs.iter().zip(ac_analyses) {
         s.push_str(&text::ac_text(ac));
         let name = |e: Option<tankwave_circuit::ElementId>| {
-            e.and_then(|e| c.elements.get(e.index())).map(|e| e.name.as_str())
+            e.and_then(|e| c.elements.get(e.index()))
+                .map(|e| e.name.as_str())
         };
         let labels = text::AcLabels {
             output: view.first().copied(),

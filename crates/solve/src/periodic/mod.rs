@@ -16,6 +16,7 @@
 //!   (imports `sample`).
 
 pub mod balance;
+mod floor;
 pub mod floquet;
 pub mod sample;
 pub mod settle;
@@ -118,6 +119,13 @@ pub struct SteadyInfo {
     /// The Floquet multipliers that verified the orbit ([`floquet`]);
     /// `None` only before verification.
     pub floquet: Option<floquet::FloquetInfo>,
+    /// The numerical floor, per unknown (`[unknown]`, V or A, a peak
+    /// amplitude): harmonics of that unknown smaller than this are not
+    /// resolved by the method (estimated from its own error: the truncation
+    /// tail for harmonic balance, the difference from a solve on half the
+    /// grid for shooting and settle; docs/measurements.md, "Numerical
+    /// floor"). Empty when it was not estimated.
+    pub floor: Vec<f64>,
 }
 
 /// How a shooting solve went, grid by grid.
