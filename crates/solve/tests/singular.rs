@@ -64,7 +64,7 @@ fn a_loop_of_voltage_sources_is_named_as_one() {
 /// that the operating point exists: at ω = 1/√(LC) the LC branch has zero
 /// impedance, so its current is not fixed (the AC matrix is singular there).
 /// L = C = 1 puts the resonance at ω = 1 rad/s, f = 1/(2π) Hz (common practice).
-fn series_lc(wave: Waveform) -> (B, usize) {
+fn series_lc(wave: Waveform) -> (B, tankwave_circuit::ElementId) {
     let mut b = B::new();
     let vs = b.vsrc("vs", "a", "gnd", wave, 0.0);
     b.r("r1", "a", "gnd", 1e3);

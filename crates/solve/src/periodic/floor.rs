@@ -102,7 +102,7 @@ mod tests {
         // 20 harmonics 1, 0.1, 0.01, …: the top tenth is harmonics 19 and 20,
         // the larger of them is 1e-18 (exact DFT of a trigonometric sum, to
         // rounding, about 1e-16 of the peak; common practice).
-        let amps: Vec<f64> = (0..20).map(|k| 10f64.powi(-(k as i32))).collect();
+        let amps: Vec<f64> = (0..20).map(|k| 10f64.powi(-k)).collect();
         let x = vec![wave(64, &amps)];
         let f = tail_floor(&x, 20, 0.0);
         assert!(f[0] < 1e-15 && f[0] >= 0.0, "{}", f[0]);
