@@ -125,6 +125,7 @@ fn bench(c: &mut Criterion) {
             b.iter(|| {
                 let m = measure(
                     &PeriodData {
+                        node_floors: &[],
                         circuit: &circuit,
                         freq: 7.1e6,
                         node_voltages: &v,

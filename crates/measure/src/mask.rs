@@ -12,7 +12,6 @@ use tankwave_circuit::{Mask, MaskRange, MaskRule};
 use thiserror::Error;
 
 use crate::metrics::OutputMetrics;
-use crate::units::dbc;
 
 /// Why a mask could not be evaluated.
 #[derive(Debug, Clone, PartialEq, Error)]
@@ -52,8 +51,13 @@ pub struct HarmonicRow {
     pub freq_hz: f64,
     /// Power at the output element, W.
     pub power_w: f64,
-    /// Measured level, dBc.
+    /// The level judged, dBc: the measured level when `resolved`, else the
+    /// numerical floor (an upper bound on the true level; a limit passes
+    /// only when the floor itself meets it).
     pub measured_dbc: f64,
+    /// Whether the harmonic is above the numerical floor; when not, the
+    /// method cannot tell its level, only that it is below `measured_dbc`.
+    pub resolved: bool,
     /// Allowed level, dBc; `None` where no rule covers this harmonic.
     pub allowed_dbc: Option<f64>,
     /// Allowed − measured, dB (positive passes); `None` where unconstrained.
@@ -143,7 +147,9 @@ pub fn evaluate_mask(
     let mut rows = Vec::new();
     let mut covered = false;
     for h in output.harmonics.iter().filter(|h| h.n >= 2) {
-        let measured = dbc(h.power_w, p1).ok_or(MaskError::NoCarrier { p1_w: p1 })?;
+        let measured = output
+            .judged_dbc(h)
+            .ok_or(MaskError::NoCarrier { p1_w: p1 })?;
         let allowed = allowed_dbc(mask, h.n, f0_hz, p1)?;
         covered |= allowed.is_some();
         let margin = allowed.map(|a| a - measured);
@@ -152,6 +158,7 @@ pub fn evaluate_mask(
             freq_hz: h.freq_hz,
             power_w: h.power_w,
             measured_dbc: measured,
+            resolved: h.resolved,
             allowed_dbc: allowed,
             margin_db: margin,
             pass: margin.is_none_or(|m| m >= 0.0),

@@ -62,8 +62,12 @@ pub struct HarmonicPower {
     pub power_w: f64,
     /// The same in dBm (power floored at 1e-30 W).
     pub dbm: f64,
-    /// Relative to the fundamental, dBc; `None` if the fundamental power is not positive.
+    /// Relative to the fundamental, dBc; `None` if the fundamental power is
+    /// not positive, or if the harmonic is not resolved (below the floor).
     pub dbc: Option<f64>,
+    /// Whether the level is above the numerical floor
+    /// ([`OutputMetrics::floor_dbc`]); the fundamental always is.
+    pub resolved: bool,
     /// Peak amplitude of the voltage across the output element at this harmonic, V.
     pub voltage_v: f64,
     /// Peak amplitude of the current through it, A.
@@ -91,6 +95,25 @@ pub struct OutputMetrics {
     pub total_power_w: f64,
     /// THD on power: sqrt(Σ_{n≥2} max(P_n, 0) / P_1), fraction; `None` if P_1 ≤ 0.
     pub thd: Option<f64>,
+    /// The numerical floor at the output, dBc: `20·log10(δV/|V_1|)` with
+    /// δV the solver's floor of the voltage across the output element (the
+    /// level a harmonic of that amplitude has in a resistive load). A
+    /// harmonic whose voltage amplitude is not above δV is not resolved.
+    /// `None` when the solver gave no floor (or there is no carrier).
+    pub floor_dbc: Option<f64>,
+}
+
+impl OutputMetrics {
+    /// The level harmonic `h` is judged by against an upper limit, dBc: its
+    /// measured level when resolved, the floor (an upper bound on the true
+    /// level) when not; `None` without a carrier.
+    pub fn judged_dbc(&self, h: &HarmonicPower) -> Option<f64> {
+        if h.resolved {
+            dbc(h.power_w, self.p1_w)
+        } else {
+            self.floor_dbc
+        }
+    }
 }
 
 /// Average power delivered by one supply (a source other than the drive).
@@ -625,20 +648,19 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
             note(&mut notes, "pout", "no output element is declared");
             None
         }
-        Some(id) => {
-            match c.elements.get(id.index()) {
-                None => {
+        Some(id) => match c.elements.get(id.index()) {
+            None => {
+                note(
+                    &mut notes,
+                    "pout",
+                    format!("output element index {} does not exist", id.index()),
+                );
+                None
+            }
+            Some(el) => {
+                let terms = el.kind.terminals();
+                if terms.len() != 2 {
                     note(
-                        &mut notes,
-                        "pout",
-                        format!("output element index {} does not exist", id.index()),
-                    );
-                    None
-                }
-                Some(el) => {
-                    let terms = el.kind.terminals();
-                    if terms.len() != 2 {
-                        note(
                         &mut notes,
                         "pout",
                         format!(
@@ -647,66 +669,75 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
                             terms.len()
                         ),
                     );
-                        None
+                    None
+                } else {
+                    let v = p.across(terms[0], terms[1]);
+                    let i = p.current(id, 0);
+                    let sv = spectrum(&v, k_max)?;
+                    let si = spectrum(i, k_max)?;
+                    let powers: Vec<f64> = (1..=k_max)
+                        .map(|n| harmonic_power(sv.phasor(n), si.phasor(n)))
+                        .collect();
+                    let p1 = powers.first().copied().unwrap_or(0.0);
+                    let floor_v = p.floor_across(terms[0], terms[1]);
+                    let v1 = sv.amplitude(1);
+                    let floor_dbc = floor_v
+                        .filter(|_| p1 > 0.0 && v1 > 0.0)
+                        .and_then(|f| finite(20.0 * (f.max(1e-300) / v1).log10()));
+                    let harmonics = powers
+                        .iter()
+                        .enumerate()
+                        .map(|(idx, &pw)| {
+                            let n = idx + 1;
+                            let resolved = n == 1 || floor_v.is_none_or(|f| sv.amplitude(n) > f);
+                            HarmonicPower {
+                                n,
+                                freq_hz: n as f64 * f0,
+                                power_w: pw,
+                                dbm: dbm(pw),
+                                dbc: dbc(pw, p1).filter(|_| resolved),
+                                resolved,
+                                voltage_v: sv.amplitude(n),
+                                current_a: si.amplitude(n),
+                            }
+                        })
+                        .collect();
+                    let harmonic_power_w: f64 = powers.iter().skip(1).sum();
+                    let positive_harm: f64 = powers.iter().skip(1).map(|x| x.max(0.0)).sum();
+                    let thd = if p1 > 0.0 {
+                        finite((positive_harm / p1).sqrt())
                     } else {
-                        let v = p.across(terms[0], terms[1]);
-                        let i = p.current(id, 0);
-                        let sv = spectrum(&v, k_max)?;
-                        let si = spectrum(i, k_max)?;
-                        let powers: Vec<f64> = (1..=k_max)
-                            .map(|n| harmonic_power(sv.phasor(n), si.phasor(n)))
-                            .collect();
-                        let p1 = powers.first().copied().unwrap_or(0.0);
-                        let harmonics = powers
-                            .iter()
-                            .enumerate()
-                            .map(|(idx, &pw)| {
-                                let n = idx + 1;
-                                HarmonicPower {
-                                    n,
-                                    freq_hz: n as f64 * f0,
-                                    power_w: pw,
-                                    dbm: dbm(pw),
-                                    dbc: dbc(pw, p1),
-                                    voltage_v: sv.amplitude(n),
-                                    current_a: si.amplitude(n),
-                                }
-                            })
-                            .collect();
-                        let harmonic_power_w: f64 = powers.iter().skip(1).sum();
-                        let positive_harm: f64 = powers.iter().skip(1).map(|x| x.max(0.0)).sum();
-                        let thd = if p1 > 0.0 {
-                            finite((positive_harm / p1).sqrt())
-                        } else {
-                            note(
-                                &mut notes,
-                                "thd",
-                                format!("fundamental output power is {p1:e} W, not positive"),
-                            );
-                            None
-                        };
-                        if p1 <= 0.0 {
-                            note(
+                        note(
+                            &mut notes,
+                            "thd",
+                            format!("fundamental output power is {p1:e} W, not positive"),
+                        );
+                        None
+                    };
+                    if p1 <= 0.0 {
+                        note(
                             &mut notes,
                             "harmonics",
-                            format!("fundamental output power is {p1:e} W: no carrier to refer dBc to"),
+                            format!(
+                                "fundamental output power is {p1:e} W: no carrier to refer dBc to"
+                            ),
                         );
-                        }
-                        Some(OutputMetrics {
-                            element: el.name.clone(),
-                            element_id: id,
-                            harmonics,
-                            p1_w: p1,
-                            p1_dbm: dbm(p1),
-                            harmonic_power_w,
-                            dc_power_w: sv.dc() * si.dc(),
-                            total_power_w: mean_product(&v, i),
-                            thd,
-                        })
                     }
+                    Some(OutputMetrics {
+                        element: el.name.clone(),
+                        element_id: id,
+                        harmonics,
+                        p1_w: p1,
+                        p1_dbm: dbm(p1),
+                        harmonic_power_w,
+                        dc_power_w: sv.dc() * si.dc(),
+                        total_power_w: mean_product(&v, i),
+                        thd,
+                        floor_dbc,
+                    })
                 }
             }
-        }
+        },
     };
     let p1_out = output.as_ref().map(|o| o.p1_w);
 

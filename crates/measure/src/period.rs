@@ -29,6 +29,12 @@ pub struct PeriodData<'a> {
     pub transport_currents: &'a [Option<Vec<f64>>],
     /// Number of harmonics K to measure.
     pub harmonics: usize,
+    /// `[node index]`: the solver's numerical floor of each node voltage, V
+    /// (a peak harmonic amplitude below which the method does not resolve a
+    /// harmonic of that node; docs/measurements.md, "Numerical floor").
+    /// Empty when the solver did not estimate one: every harmonic then
+    /// counts as resolved.
+    pub node_floors: &'a [f64],
 }
 
 /// A validated view of [`PeriodData`] with helpers for element voltages.
@@ -170,6 +176,18 @@ impl<'a> Period<'a> {
             .zip(self.node(b))
             .map(|(x, y)| x - y)
             .collect()
+    }
+
+    /// The numerical floor of the voltage between two nodes, V: the sum of
+    /// the nodes' floors (ground has none); `None` when no floor is known.
+    pub fn floor_across(&self, a: NodeId, b: NodeId) -> Option<f64> {
+        let f = self.data.node_floors;
+        if f.is_empty() {
+            return None;
+        }
+        let of = |n: NodeId| n.index().map_or(Some(0.0), |i| f.get(i).copied());
+        let v = of(a)? + of(b)?;
+        v.is_finite().then_some(v.max(0.0))
     }
 
     /// Current into element `e` at terminal `t` (zeros if absent).

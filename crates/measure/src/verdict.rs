@@ -223,6 +223,21 @@ fn scalar(c: &Circuit, metrics: &Metrics, r: &Requirement) -> Result<Vec<Candida
                         metrics.harmonics
                     )
                 })?;
+            if !h.resolved {
+                // below the floor: only an upper limit the floor itself
+                // meets passes, judged by the floor (never a false pass)
+                let floor = o.floor_dbc.unwrap_or(f64::INFINITY);
+                let upper = matches!(r.cmp, Cmp::Le | Cmp::Lt);
+                return match r.bound {
+                    Bound::Value(lim) if upper && compare(r.cmp, floor, lim).1 => {
+                        Ok(vec![(None, floor)])
+                    }
+                    _ => Err(format!(
+                        "harmonic {n} is below the numerical floor ({floor:.1} dBc) of the \
+                         method, which cannot resolve it against this limit"
+                    )),
+                };
+            }
             h.dbc
                 .map(|x| vec![(None, x)])
                 .ok_or_else(|| why(metrics, "harmonics", "not measured"))
@@ -278,13 +293,16 @@ fn harmonics_draft(c: &Circuit, metrics: &Metrics, r: &Requirement, only: Option
                 .iter()
                 .filter(|h| h.n >= 2)
                 .filter_map(|h| {
-                    let meas = h.dbc?;
+                    let meas = output.judged_dbc(h)?;
                     let (m, pass) = compare(r.cmp, meas, *lim);
+                    // an unresolved harmonic passes only an upper limit
+                    let pass = pass && (h.resolved || matches!(r.cmp, Cmp::Le | Cmp::Lt));
                     Some(HarmonicRow {
                         n: h.n,
                         freq_hz: h.freq_hz,
                         power_w: h.power_w,
                         measured_dbc: meas,
+                        resolved: h.resolved,
                         allowed_dbc: Some(*lim),
                         margin_db: Some(m),
                         pass,

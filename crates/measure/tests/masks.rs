@@ -161,6 +161,7 @@ fn combined_masks_pick_row_by_fundamental() {
 
 fn output(p1: f64, dbcs: &[f64], f0: f64) -> OutputMetrics {
     let mut harmonics = vec![HarmonicPower {
+        resolved: true,
         n: 1,
         freq_hz: f0,
         power_w: p1,
@@ -172,6 +173,7 @@ fn output(p1: f64, dbcs: &[f64], f0: f64) -> OutputMetrics {
     for (i, d) in dbcs.iter().enumerate() {
         let p = p1 * 10f64.powf(d / 10.0);
         harmonics.push(HarmonicPower {
+            resolved: true,
             n: i + 2,
             freq_hz: (i + 2) as f64 * f0,
             power_w: p,
@@ -182,6 +184,7 @@ fn output(p1: f64, dbcs: &[f64], f0: f64) -> OutputMetrics {
         });
     }
     OutputMetrics {
+        floor_dbc: None,
         element: "rl".into(),
         element_id: ElementId::new(0),
         harmonics,
@@ -475,4 +478,56 @@ fn scalar_verdicts() {
     // Fundamental out of every row: the mask cannot judge, the verdict fails.
     let v = evaluate(&c, &metrics(25.0, &[-80.0, -80.0], 430e6));
     assert!(!v[14].pass && v[14].not_measured.as_deref().unwrap().contains("no rule"));
+}
+
+/// The floor rule (docs/measurements.md, "Numerical floor"; common
+/// practice: a level the method cannot resolve is only known to lie below
+/// its floor). Harmonic 3 is below a −90 dBc floor: a limit at −80 dBc is met
+/// (judged by the floor), one at −100 dBc is not a pass, for the mask and the
+/// single-harmonic requirement alike, and a lower bound never passes.
+#[test]
+fn an_unresolved_harmonic_passes_only_a_limit_its_floor_meets() {
+    let mut m = metrics(100.0, &[-50.0, -150.0], 7.1e6);
+    let o = m.output.as_mut().unwrap();
+    o.floor_dbc = Some(-90.0);
+    o.harmonics[2].resolved = false;
+    o.harmonics[2].dbc = None;
+    let judge = |lim: f64, cmp: Cmp| {
+        let c = circuit_with(vec![req(Metric::harmonic(3), cmp, Bound::Value(lim))]);
+        evaluate(&c, &m)[0].clone()
+    };
+    let v = judge(-80.0, Cmp::Le);
+    assert!(v.pass && v.not_measured.is_none(), "{v:?}");
+    assert_eq!(v.value, Some(-90.0));
+    let v = judge(-100.0, Cmp::Le);
+    assert!(!v.pass, "{v:?}");
+    assert!(v
+        .not_measured
+        .as_deref()
+        .unwrap()
+        .contains("numerical floor"));
+    assert!(!judge(-200.0, Cmp::Ge).pass);
+    // a mask over harmonics 2 and 3
+    let mask = |lim: f64| Mask {
+        name: "own".into(),
+        rules: vec![MaskRule {
+            range: MaskRange::Harmonics {
+                from: 2,
+                to: Some(3),
+            },
+            carrier: None,
+            limit: Limit::Dbc(LimitExpr::Const(lim)),
+        }],
+        origin: Origin::default(),
+    };
+    let o = m.output.as_ref().unwrap();
+    let ev = evaluate_mask(&mask(-45.0), o, 7.1e6).unwrap();
+    let row = &ev.rows[1];
+    assert!(ev.pass && row.pass && !row.resolved);
+    assert_eq!(row.measured_dbc, -90.0);
+    let ev = evaluate_mask(&mask(-95.0), o, 7.1e6).unwrap();
+    // harmonic 2 at −50 dBc fails on its own; harmonic 3 cannot be resolved
+    assert!(!ev.rows[1].pass && !ev.rows[1].resolved);
+    let ev = evaluate_mask(&mask(-40.0), o, 7.1e6).unwrap();
+    assert!(ev.pass);
 }

@@ -75,6 +75,7 @@ fn class_c(full_deg: f64, n: usize, params: BjtParams) -> ClassC {
 fn run(s: &ClassC, k: usize) -> Metrics {
     measure(
         &PeriodData {
+            node_floors: &[],
             circuit: &s.circuit,
             freq: 7.1e6,
             node_voltages: &s.v,
@@ -173,6 +174,7 @@ fn resistor_fed_by_known_waveform() {
     let neg: Vec<f64> = i.iter().map(|x| -x).collect();
     let m = measure(
         &PeriodData {
+            node_floors: &[],
             circuit: &c,
             freq: 3.5e6,
             node_voltages: std::slice::from_ref(&v),
@@ -229,6 +231,7 @@ fn drive_impedance_vswr_and_available_power() {
     let ineg: Vec<f64> = ip.iter().map(|x| -x).collect();
     let m = measure(
         &PeriodData {
+            node_floors: &[],
             circuit: &c,
             freq: 14e6,
             node_voltages: &[v],
@@ -265,6 +268,7 @@ fn check_no_nan(v: &serde_json::Value, key: &str, path: &str) {
         "gain_basis",
         "thd",
         "dbc",
+        "floor_dbc",
         "source_resistance_ohm",
         "emf1_v",
         "pavs_w",
@@ -381,6 +385,7 @@ fn malformed_periods_are_errors() {
     let data = |v: &'_ [Vec<f64>], i: &'_ [Vec<Vec<f64>>], k: usize, f: f64| {
         measure(
             &PeriodData {
+                node_floors: &[],
                 circuit: &s.circuit,
                 freq: f,
                 node_voltages: v,
@@ -478,6 +483,7 @@ fn measure_then_evaluate() {
     let neg: Vec<f64> = i.iter().map(|x| -x).collect();
     let m = measure(
         &PeriodData {
+            node_floors: &[],
             circuit: &c,
             freq: 7.1e6,
             node_voltages: std::slice::from_ref(&v),
@@ -578,6 +584,7 @@ mod never_panics {
                 .collect();
             let m = measure(
                 &PeriodData {
+                    node_floors: &[],
                     circuit: &s.circuit,
                     freq: 1e6,
                     node_voltages: &v,
@@ -597,5 +604,47 @@ mod never_panics {
                 prop_assert!(v.pass == v.margin.is_some_and(|x| x >= 0.0) || v.margin.is_none());
             }
         }
+    }
+}
+
+/// The output floor in dBc is 20·log10(δV/|V1|) of the voltage floor the
+/// solver gives per node (docs/measurements.md, "Numerical floor"): 1 mV
+/// under a 10 V carrier is −80 dBc; harmonic 3 at 0.5 V is resolved, the
+/// absent harmonic 2 is not and has no level (common practice: power in a
+/// resistor, as the test above).
+#[test]
+fn harmonics_under_the_node_floor_are_not_resolved() {
+    let (v1, v3, r) = (10.0, 0.5, 50.0);
+    let n = 64;
+    let mut c = circuit(
+        &["a"],
+        vec![
+            vsource("vs", Some(0), None, 0.0, 0.0),
+            resistor("rl", Some(0), None, r, None),
+        ],
+    );
+    c.output = Some(ElementId::new(1));
+    let v = sample(n, |x| v1 * x.cos() + v3 * (3.0 * x).cos());
+    let i: Vec<f64> = v.iter().map(|x| x / r).collect();
+    let neg: Vec<f64> = i.iter().map(|x| -x).collect();
+    let m = measure(
+        &PeriodData {
+            node_floors: &[1e-3],
+            circuit: &c,
+            freq: 3.5e6,
+            node_voltages: std::slice::from_ref(&v),
+            terminal_currents: &[vec![neg.clone(), i.clone()], vec![i, neg]],
+            transport_currents: &[],
+            harmonics: 5,
+        },
+        &MeasureParams::default(),
+    )
+    .unwrap();
+    let o = m.output.as_ref().unwrap();
+    assert!((o.floor_dbc.unwrap() + 80.0).abs() < 1e-9);
+    assert!(o.harmonics[0].resolved && o.harmonics[2].resolved);
+    assert!((o.harmonics[2].dbc.unwrap() - 20.0 * (v3 / v1).log10()).abs() < 1e-9);
+    for k in [1, 3, 4] {
+        assert!(!o.harmonics[k].resolved && o.harmonics[k].dbc.is_none());
     }
 }

@@ -37,6 +37,55 @@ pub fn db(v: f64, unit: &str) -> String {
     format!("{:.1} {}", v, unit)
 }
 
+/// The level of output harmonic `h` for people: its dBc level, or
+/// "below floor (−N dBc)" when the method does not resolve it
+/// (docs/measurements.md, "Numerical floor"), or "—" without a carrier.
+pub fn harmonic_level(h: &tankwave_measure::HarmonicPower, floor_dbc: Option<f64>) -> String {
+    match (h.resolved, h.dbc) {
+        (true, Some(d)) => db(d, "dBc"),
+        (false, _) => below_floor(floor_dbc),
+        _ => "—".into(),
+    }
+}
+
+/// The power of output harmonic `h` in dBm, or "—" when it is below the
+/// floor (its number would be solver noise).
+pub fn harmonic_power(h: &tankwave_measure::HarmonicPower) -> String {
+    if h.resolved {
+        db(h.dbm, "dBm")
+    } else {
+        "—".into()
+    }
+}
+
+/// The judged level of a mask row: the measured level, or "below floor
+/// (−N dBc)" for an unresolved harmonic (judged by the floor).
+pub fn row_level(h: &tankwave_measure::HarmonicRow) -> String {
+    if h.resolved {
+        db(h.measured_dbc, "dBc")
+    } else {
+        below_floor(Some(h.measured_dbc))
+    }
+}
+
+/// The verdict word of a mask row: an unresolved harmonic that does not
+/// pass is one the method cannot resolve, not a measured failure.
+pub fn row_verdict(h: &tankwave_measure::HarmonicRow) -> &'static str {
+    match (h.pass, h.resolved) {
+        (true, _) => "pass",
+        (false, true) => "FAIL",
+        (false, false) => "FAIL: not resolved",
+    }
+}
+
+/// "below floor (−N dBc)".
+fn below_floor(floor_dbc: Option<f64>) -> String {
+    match floor_dbc {
+        Some(f) => format!("below floor ({})", db(f, "dBc")),
+        None => "below floor".into(),
+    }
+}
+
 /// The limit of a verdict for people: the comparison and the bound in the
 /// figure's unit (`<= 36.00 V`), or the mask it names (`mask NAME`).
 pub fn limit_text(v: &tankwave_measure::Verdict) -> String {

@@ -19,7 +19,7 @@ use tankwave_circuit::{Circuit, Scale};
 use tankwave_measure::{CollectorLoad, MaskEvaluation, Metrics, Verdict};
 use tankwave_solve::{AcResult, PeriodicSolution, TransientResult};
 
-use crate::format::{db, fixed, si};
+use crate::format::{db, fixed, harmonic_level, harmonic_power, row_level, si};
 use crate::plot::{self, PlotParams};
 
 /// The caution printed in every HTML report.
@@ -316,7 +316,7 @@ fn verdicts_section(out: &mut String, verdicts: &[Verdict], label: Option<&str>)
                         .map(|a| db(a, "dBc"))
                         .unwrap_or_else(|| "no limit".into()),
                 ),
-                ("num", db(h.measured_dbc, "dBc")),
+                ("num", row_level(h)),
                 (
                     "num",
                     h.margin_db
@@ -325,7 +325,11 @@ fn verdicts_section(out: &mut String, verdicts: &[Verdict], label: Option<&str>)
                 ),
                 (
                     if h.pass { "" } else { "fail" },
-                    if h.pass { "ok".into() } else { "FAIL".into() },
+                    match (h.pass, h.resolved) {
+                        (true, _) => "ok".into(),
+                        (false, true) => "FAIL".into(),
+                        (false, false) => "FAIL: not resolved".into(),
+                    },
                 ),
             ];
             for (class, text) in cells {
@@ -374,11 +378,8 @@ fn headline_section(
                 &[
                     ("num", h.n.to_string()),
                     ("num", si(h.freq_hz, "Hz")),
-                    ("num", db(h.dbm, "dBm")),
-                    (
-                        "num",
-                        h.dbc.map(|d| db(d, "dBc")).unwrap_or_else(|| "—".into()),
-                    ),
+                    ("num", harmonic_power(h)),
+                    ("num", harmonic_level(h, o.floor_dbc)),
                 ],
             );
         }

@@ -2,7 +2,7 @@
 //! then harmonics, then stress, then requirements), the JSON document with
 //! every figure and its unit, and CSV files of waveforms and spectra.
 
-use crate::format::{db, fixed, si};
+use crate::format::{db, fixed, harmonic_level, harmonic_power, row_level, row_verdict, si};
 use crate::table::{Align, Table};
 use serde_json::{json, Value};
 use tankwave_circuit::{Circuit, SteadyMethod};
@@ -477,8 +477,8 @@ pub fn steady_text(
             t.row(vec![
                 h.n.to_string(),
                 si(h.freq_hz, "Hz"),
-                db(h.dbm, "dBm"),
-                h.dbc.map(|d| db(d, "dBc")).unwrap_or_else(|| "—".into()),
+                harmonic_power(h),
+                harmonic_level(h, o.floor_dbc),
             ]);
         }
         s.push_str(&t.render());
@@ -495,6 +495,19 @@ pub fn steady_text(
                 SHOWN_HARMONICS + 1,
                 o.harmonics.len(),
                 db(worst, "dBc")
+            ));
+        } else if o.harmonics.len() > SHOWN_HARMONICS {
+            s.push_str(&format!(
+                "harmonics {}..{}: all below floor ({})\n",
+                SHOWN_HARMONICS + 1,
+                o.harmonics.len(),
+                o.floor_dbc.map(|f| db(f, "dBc")).unwrap_or_default()
+            ));
+        }
+        if let Some(f) = o.floor_dbc {
+            s.push_str(&format!(
+                "numerical floor {} (harmonics below it are not resolved by the method)\n",
+                db(f, "dBc")
             ));
         }
     }
@@ -582,9 +595,9 @@ pub fn verdict_text(verdicts: &[Verdict]) -> String {
                 t.row(vec![
                     format!("  harmonic {} ({})", h.n, si(h.freq_hz, "Hz")),
                     db(a, "dBc"),
-                    db(h.measured_dbc, "dBc"),
+                    row_level(h),
                     format!("{:+.1} dB", mg),
-                    if mg >= 0.0 { "pass" } else { "FAIL" }.to_string(),
+                    row_verdict(h).to_string(),
                 ]);
             }
         }

@@ -105,6 +105,7 @@ proptest! {
             .iter()
             .enumerate()
             .map(|(k, d)| HarmonicPower {
+                resolved: true,
                 n: k + 1,
                 freq_hz: (k + 1) as f64 * 7e6,
                 power_w: 1.0,
@@ -118,6 +119,7 @@ proptest! {
             .iter()
             .enumerate()
             .map(|(k, a)| HarmonicRow {
+                resolved: true,
                 n: k + 2,
                 freq_hz: (k + 2) as f64 * 7e6,
                 power_w: 0.0,

@@ -370,6 +370,7 @@ fn period_data<'a>(circuit: &'a Circuit, s: &'a PeriodicSolution) -> PeriodData<
         terminal_currents: &s.terminal_currents,
         transport_currents: &s.transport_currents,
         harmonics: s.harmonics,
+        node_floors: s.info.floor.get(..n_nodes).unwrap_or(&[]),
     }
 }
 

@@ -18,7 +18,9 @@ const FLOOR_LIMIT: f64 = -160.0;
 /// The output harmonics (from `Metrics::output`) as bars in dBc, with the
 /// allowed level of `mask` (if given) as a step line over each harmonic it
 /// constrains, bars that exceed the mask filled darker, and the worst margin
-/// written on the figure. Harmonics without a dBc level are left out.
+/// written on the figure. Harmonics without a dBc level are left out; those
+/// below the solver's numerical floor draw no bar, only a "(below floor)"
+/// label at the foot of the axis.
 pub fn spectrum_plot(
     harmonics: &[HarmonicPower],
     mask: Option<&MaskEvaluation>,
@@ -44,7 +46,19 @@ pub fn spectrum_plot(
     let rows = mask.map(|m| m.rows.as_slice()).unwrap_or(&[]);
     let allowed = |n: usize| rows.iter().find(|r| r.n == n).and_then(|r| r.allowed_dbc);
     let fails = |n: usize| rows.iter().any(|r| r.n == n && !r.pass);
-    let k_max = bars.iter().map(|b| b.0).max().unwrap_or(1).max(1);
+    // harmonics below the solver's numerical floor: no bar, a label at the axis
+    let unresolved: Vec<usize> = harmonics
+        .iter()
+        .filter(|h| !h.resolved)
+        .map(|h| h.n)
+        .collect();
+    let k_max = bars
+        .iter()
+        .map(|b| b.0)
+        .chain(unresolved.iter().copied())
+        .max()
+        .unwrap_or(1)
+        .max(1);
     let lowest = bars
         .iter()
         .map(|b| b.1)
@@ -151,6 +165,10 @@ pub fn spectrum_plot(
             };
             let px = chart.backend_coord(&(x, y));
             wanted.push((px.0, px.1 - 4, text));
+        }
+        for &n in &unresolved {
+            let px = chart.backend_coord(&(n as f64, floor));
+            wanted.push((px.0, px.1 - 4, "(below floor)".to_string()));
         }
         for (x, bottom, text) in place_labels(&wanted, LABEL_FONT) {
             cv.root

@@ -112,6 +112,7 @@ pub fn class_c_stage(theta_deg: f64) -> (Circuit, PeriodicSolution) {
             balance: None,
             shooting: None,
             floquet: None,
+            floor: Vec::new(),
         },
     };
     (circuit(), sol)
@@ -121,6 +122,7 @@ pub fn harmonic(n: usize, dbc: f64) -> HarmonicPower {
     let p1 = 9.0;
     let p = p1 * 10f64.powf(dbc / 10.0);
     HarmonicPower {
+        resolved: true,
         n,
         freq_hz: n as f64 * F0,
         power_w: p,
@@ -147,6 +149,7 @@ pub fn metrics() -> Metrics {
         harmonics: 5,
         samples: N,
         output: Some(OutputMetrics {
+            floor_dbc: None,
             element: "RL".into(),
             element_id: RL,
             p1_w: 9.0,
@@ -203,6 +206,7 @@ pub fn mask_eval() -> MaskEvaluation {
             let allowed = if n == 2 { None } else { Some(allowed) };
             let margin = allowed.map(|a| a - measured);
             HarmonicRow {
+                resolved: true,
                 n,
                 freq_hz: n as f64 * F0,
                 power_w: 0.0,

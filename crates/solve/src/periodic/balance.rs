@@ -1721,6 +1721,7 @@ fn finish(
         });
     }
     let transport_currents = transport_currents(circuit, devices, &x, params.freq);
+    let floor = super::floor::tail_floor(&x, kmax, params.tol.rel_tolerance);
     Ok(PeriodicSolution {
         freq: params.freq,
         harmonics: kmax,
@@ -1747,6 +1748,7 @@ fn finish(
             }),
             shooting: None,
             floquet: None,
+            floor,
         },
     })
 }

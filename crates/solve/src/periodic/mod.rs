@@ -16,6 +16,7 @@
 //!   (imports `sample`).
 
 pub mod balance;
+mod floor;
 pub mod floquet;
 pub mod sample;
 pub mod settle;
@@ -120,6 +121,13 @@ pub struct SteadyInfo {
     /// which harmonic balance solves unverified (the check integrates in
     /// time; reports say the orbit's stability was not verified).
     pub floquet: Option<floquet::FloquetInfo>,
+    /// The numerical floor, per unknown (`[unknown]`, V or A, a peak
+    /// amplitude): harmonics of that unknown smaller than this are not
+    /// resolved by the method (estimated from its own error: the truncation
+    /// tail for harmonic balance, the difference from a solve on half the
+    /// grid for shooting and settle; docs/measurements.md, "Numerical
+    /// floor"). Empty when it was not estimated.
+    pub floor: Vec<f64>,
 }
 
 /// How a shooting solve went, grid by grid.

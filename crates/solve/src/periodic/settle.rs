@@ -51,6 +51,23 @@ pub fn settle(
             let worst = period_change(devices, params, &cur, pv);
             last_change = (worst.1, worst.3, worst.2, worst.4);
             if worst.0 <= 1.0 {
+                // the numerical floor: keep going on half the grid until
+                // that repeats too (from here, at the same phase)
+                let floor = match half_grid(&mut st, devices, params, (p + 1) as f64 * period) {
+                    Some(h) => super::floor::grid_floor(
+                        &cur,
+                        &h,
+                        params.harmonics,
+                        params.settle.rel_tolerance,
+                    ),
+                    // no second grid: the spectrum's own tail (conservative;
+                    // floor.rs), never no floor at all
+                    None => super::floor::tail_floor(
+                        &cur,
+                        params.harmonics,
+                        params.settle.rel_tolerance,
+                    ),
+                };
                 let info = SteadyInfo {
                     method: SteadyMethod::Settle,
                     fell_back_from: None,
@@ -61,6 +78,7 @@ pub fn settle(
                     balance: None,
                     shooting: None,
                     floquet: None,
+                    floor,
                 };
                 return trbdf2_solution(circuit, devices, params, cur, &stage, info);
             }
@@ -90,6 +108,42 @@ pub fn settle(
         repeats_every,
         relative_change: last_change.3,
     })
+}
+
+/// The settled orbit continued on a grid of `ns/2` steps per period from
+/// time `t_start` (a whole number of periods) until one period repeats the
+/// previous one within the settle tolerance: the last period's samples, or
+/// `None` when the half grid cannot carry harmonic 2, a step fails, or it
+/// does not repeat within `max_periods` (the floor is then not estimated).
+fn half_grid(
+    st: &mut Stepper<'_>,
+    devices: &DeviceSet,
+    params: &SteadyParams,
+    t_start: f64,
+) -> Option<Vec<Vec<f64>>> {
+    let n = devices.n_unknowns;
+    let ns = params.samples() / 2;
+    if ns < 8 {
+        return None;
+    }
+    let h = 1.0 / (params.freq * ns as f64);
+    let mut prev: Option<Vec<Vec<f64>>> = None;
+    for p in 0..params.settle.max_periods {
+        let mut cur = vec![vec![0.0; ns]; n];
+        for s in 0..ns {
+            for (k, row) in cur.iter_mut().enumerate() {
+                row[s] = st.x[k];
+            }
+            st.step_trbdf2(t_start + (p * ns + s + 1) as f64 * h).ok()?;
+        }
+        if let Some(pv) = &prev {
+            if period_change(devices, params, &cur, pv).0 <= 1.0 {
+                return Some(cur);
+            }
+        }
+        prev = Some(cur);
+    }
+    None
 }
 
 /// Longest repeat (in periods) looked for when settle fails.

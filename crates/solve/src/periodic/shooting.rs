@@ -377,6 +377,23 @@ pub fn shooting(
             let update = worst_ratio(&dx, &scale, devices, st.t)?.0;
             if worst.0 <= level.target && update <= level.target {
                 if final_level {
+                    // the numerical floor: the orbit again on half the grid
+                    let half = half_grid(&mut st, devices, params, &x0, t0, period, ns, f);
+                    let floor = match half {
+                        Ok(Some(h)) => super::floor::grid_floor(
+                            &run.samples,
+                            &h,
+                            params.harmonics,
+                            params.shooting.rel_tolerance,
+                        ),
+                        // no second grid: the spectrum's own tail
+                        // (conservative; floor.rs), never no floor at all
+                        _ => super::floor::tail_floor(
+                            &run.samples,
+                            params.harmonics,
+                            params.shooting.rel_tolerance,
+                        ),
+                    };
                     let info = SteadyInfo {
                         method: SteadyMethod::Shooting,
                         fell_back_from: None,
@@ -387,6 +404,7 @@ pub fn shooting(
                         balance: None,
                         shooting: Some(report),
                         floquet: None,
+                        floor,
                     };
                     return trbdf2_solution(
                         circuit,
@@ -415,6 +433,57 @@ pub fn shooting(
         }
     }
     Err(SolveError::BadParams("shooting: no level ran".into()))
+}
+
+/// The orbit on a grid of `ns/2` steps per period, warm-started from the
+/// fine fixed point `x0` with the fine `Φ − I` (`fine`) as the chord
+/// Jacobian (recomputed on the half grid when a chord step shrinks the
+/// error less than tenfold), converged to the same tolerance: its samples
+/// (`[unknown][step]`), or `None` when the half grid is too coarse to carry
+/// harmonic 2 or the iteration does not converge within `max_iter` periods
+/// (the floor is then not estimated).
+#[allow(clippy::too_many_arguments)]
+fn half_grid(
+    st: &mut Stepper<'_>,
+    devices: &DeviceSet,
+    params: &SteadyParams,
+    x0: &[f64],
+    t0: f64,
+    period: f64,
+    ns: usize,
+    fine: &crate::linalg::RealLu,
+) -> Result<Option<Vec<Vec<f64>>>, SolveError> {
+    let half = ns / 2;
+    if half < 8 {
+        return Ok(None);
+    }
+    let h = period / half as f64;
+    let mut x = x0.to_vec();
+    let mut own: Option<crate::linalg::RealLu> = None;
+    let mut need_sens = false;
+    let mut prev = f64::INFINITY;
+    for _ in 0..params.shooting.max_iter {
+        let run = integrate_period(st, devices, &x, t0, h, half, need_sens)?;
+        let r: Vec<f64> = run.end.iter().zip(&x).map(|(a, b)| a - b).collect();
+        let scale = scales(devices, params, &run);
+        let worst = worst_ratio(&r, &scale, devices, st.t)?.0;
+        if let Some(phi) = &run.monodromy {
+            own = Some(factor_monodromy(phi, devices, t0)?);
+        }
+        let lu = own.as_ref().unwrap_or(fine);
+        let mut dx: Vec<f64> = r.iter().map(|v| -v).collect();
+        lu.solve(&mut dx);
+        let update = worst_ratio(&dx, &scale, devices, st.t)?.0;
+        if worst <= 1.0 && update <= 1.0 {
+            return Ok(Some(run.samples));
+        }
+        need_sens = run.monodromy.is_none() && worst > CHORD_CONTRACTION * prev;
+        prev = worst;
+        for (a, d) in x.iter_mut().zip(&dx) {
+            *a += d;
+        }
+    }
+    Ok(None)
 }
 
 /// Factor the Jacobian the last Newton solve left in the workspace (at its converged point).
