@@ -317,7 +317,7 @@ impl State {
             ));
             return None;
         }
-        if self.over_byte_cap(&path, span, &shown) {
+        if self.over_byte_cap(&path, span, &shown, "read") {
             return None;
         }
         match read_limited(&path) {
@@ -355,8 +355,9 @@ impl State {
 
     /// True (and an `include-limit` error at `span`) when reading `path`
     /// would take the stage file, its includes and data files together past
-    /// [`Limits::max_total_bytes`].
-    fn over_byte_cap(&mut self, path: &Path, span: Span, shown: &str) -> bool {
+    /// [`Limits::max_total_bytes`]; `verb` says what was refused (`include`,
+    /// `read`).
+    fn over_byte_cap(&mut self, path: &Path, span: Span, shown: &str, verb: &str) -> bool {
         let size = std::fs::metadata(path).map(|m| m.len()).unwrap_or(0);
         if self.bytes.saturating_add(size) <= LIMITS.max_total_bytes {
             return false;
@@ -365,8 +366,8 @@ impl State {
             "include-limit",
             span,
             format!(
-                "cannot read '{shown}': the stage file, its includes and data files would \
-                 hold more than {} bytes",
+                "cannot {verb} '{shown}': the stage file, its includes and data files \
+                 would hold more than {} bytes",
                 LIMITS.max_total_bytes
             ),
         );
@@ -441,7 +442,7 @@ impl State {
             )));
             return;
         }
-        if self.over_byte_cap(&path, span, &shown) {
+        if self.over_byte_cap(&path, span, &shown, "include") {
             return;
         }
         match read_limited(&path) {
