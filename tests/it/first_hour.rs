@@ -219,6 +219,40 @@ fn sweep_legends_carry_units() {
     assert!(legend.contains(&"amp = 10.0 V"), "{legend:?}");
 }
 
+/// A plain sweep prints one row per point: the swept values with their
+/// units, the headline figures and each point's verdict (issue: failures say
+/// where). The 10 V source behind 50 Ohm into rl = 50 Ohm puts half its
+/// amplitude on the load: (5 V)² / (2 · 50 Ohm) = 250 mW (voltage divider
+/// and P = V²/2R for a sine of peak V; common practice).
+#[test]
+fn a_sweep_prints_each_point_with_its_values_and_verdict() {
+    let o = run(&[
+        "study",
+        p(&data("study/sweep2.tank")),
+        "--quiet",
+        "--no-caution",
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let out = stdout(&o);
+    let table = out
+        .split("Each point of the sweep\n")
+        .nth(1)
+        .expect("a per-point table");
+    let rows: Vec<&str> = table
+        .lines()
+        .skip(2)
+        .filter(|l| !l.trim().is_empty())
+        .collect();
+    assert_eq!(rows.len(), 6, "{table}");
+    let point3 = rows
+        .iter()
+        .find(|r| r.trim_start().starts_with("3 "))
+        .expect("point 3");
+    for want in ["10.00 V", "50.00 Ohm", "250 mW", "pass"] {
+        assert!(point3.contains(want), "{want:?} in {point3:?}");
+    }
+}
+
 /// The HTML report of a stage opens with the verdict, then the spectrum;
 /// the per-harmonic rows of a mask requirement are folded in a
 /// `<details>` (open when a harmonic fails); the start-up transient's

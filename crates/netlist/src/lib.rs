@@ -366,8 +366,8 @@ impl State {
             "include-limit",
             span,
             format!(
-                "cannot {verb} '{shown}': the stage file, its includes and data files \
-                 would hold more than {} bytes",
+                "cannot {verb} '{shown}': more than {} bytes in the stage file, its \
+                 includes and data files together",
                 LIMITS.max_total_bytes
             ),
         );
