@@ -494,11 +494,14 @@ impl BjtParams {
 /// Integration method for transient analysis.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum Integration {
-    /// Trapezoidal rule (default).
-    #[default]
+    /// Trapezoidal rule.
     Trapezoidal,
     /// Second-order backward differentiation.
     Bdf2,
+    /// Five-stage L-stable singly diagonally implicit Runge–Kutta method of
+    /// order 4 with an embedded order-3 error estimate (default).
+    #[default]
+    Sdirk4,
 }
 
 /// How a transient starts.

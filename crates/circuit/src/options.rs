@@ -151,7 +151,8 @@ pub static START_WORDS: Words<StartFrom, 2> = Words([
     ("zero", StartFrom::Zero),
 ]);
 /// `method=` of a transient.
-pub static INTEGRATION_WORDS: Words<Integration, 2> = Words([
+pub static INTEGRATION_WORDS: Words<Integration, 3> = Words([
+    ("sdirk4", Integration::Sdirk4),
     ("trapezoidal", Integration::Trapezoidal),
     ("bdf2", Integration::Bdf2),
 ]);
@@ -357,7 +358,7 @@ pub mod analysis {
     pub const INTEGRATION: OptionSpec = opt(
         "method",
         Takes::Word(&INTEGRATION_WORDS),
-        Default::Word("trapezoidal"),
+        Default::Word("sdirk4"),
         "the integration rule",
     );
     /// `tolerance=` of a transient.

@@ -76,7 +76,7 @@ fn bench(c: &mut Criterion) {
         let mut p = TransientParams {
             stop: 200e-9,
             step: 1e-9,
-            rel_tolerance: 1e-5,
+            rel_tolerance: Some(1e-5),
             ..TransientParams::default()
         };
         p.op.linear_solver = kind;

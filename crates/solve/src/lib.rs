@@ -62,5 +62,6 @@ pub use periodic::{
     SteadyParams,
 };
 pub use transient::{
-    transient, transient_observed, TransientInfo, TransientParams, TransientResult,
+    default_rel_tolerance, transient, transient_observed, TransientInfo, TransientParams,
+    TransientResult,
 };

@@ -58,7 +58,11 @@ fn half_wave_rectifier_matches_radau_reference() {
     b.cap("cl", "out", "gnd", 10e-6);
     let d = instantiate(&b.c).unwrap();
     let peak = vr.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-    for m in [Integration::Trapezoidal, Integration::Bdf2] {
+    for m in [
+        Integration::Trapezoidal,
+        Integration::Bdf2,
+        Integration::Sdirk4,
+    ] {
         let p = TransientParams {
             stop: 5e-3,
             step: 10e-6,

@@ -44,7 +44,11 @@ fn rc_step_response_matches_closed_form() {
     b.vdc("vin", "in", "gnd", v);
     b.r("r1", "in", "out", r);
     b.cap("c1", "out", "gnd", c);
-    for m in [Integration::Trapezoidal, Integration::Bdf2] {
+    for m in [
+        Integration::Trapezoidal,
+        Integration::Bdf2,
+        Integration::Sdirk4,
+    ] {
         let res = run(&b, &params(5.0 * tau, tau / 20.0, m));
         let k = res.index("V[out]").unwrap();
         let e = max_err(&res, k, |t| v * (1.0 - (-t / tau).exp())) / v;
@@ -66,7 +70,11 @@ fn rl_step_response_matches_closed_form() {
     b.vdc("vin", "in", "gnd", v);
     b.r("r1", "in", "mid", r);
     b.ind("l1", "mid", "gnd", l, 0.0);
-    for m in [Integration::Trapezoidal, Integration::Bdf2] {
+    for m in [
+        Integration::Trapezoidal,
+        Integration::Bdf2,
+        Integration::Sdirk4,
+    ] {
         let res = run(&b, &params(5.0 * tau, tau / 20.0, m));
         let k = res.index("I[l1]").unwrap();
         let e = max_err(&res, k, |t| v / r * (1.0 - (-t / tau).exp())) / (v / r);
@@ -92,7 +100,11 @@ fn underdamped_series_rlc_step_matches_closed_form() {
     b.ind("l1", "a", "out", l, 0.0);
     b.cap("c1", "out", "gnd", c);
     let period = 2.0 * std::f64::consts::PI / wd;
-    for m in [Integration::Trapezoidal, Integration::Bdf2] {
+    for m in [
+        Integration::Trapezoidal,
+        Integration::Bdf2,
+        Integration::Sdirk4,
+    ] {
         let res = run(&b, &params(5.0 * period, period / 50.0, m));
         let k = res.index("V[out]").unwrap();
         let e = max_err(&res, k, |t| {
@@ -168,7 +180,11 @@ fn sine_driven_rlc_settles_to_the_phasor_solution() {
     // The start-up transient decays as e^(−Rt/2L): after 40 periods, e^(−20) ≈ 2e-9.
     let period = 1.0 / f;
     let mut errs = Vec::new();
-    for m in [Integration::Trapezoidal, Integration::Bdf2] {
+    for m in [
+        Integration::Trapezoidal,
+        Integration::Bdf2,
+        Integration::Sdirk4,
+    ] {
         let p = TransientParams {
             stop: 40.0 * period,
             step: period / 50.0,
@@ -207,7 +223,8 @@ fn sine_driven_rlc_settles_to_the_phasor_solution() {
     // onto the check grid), so it is checked to within a factor of 2 in both
     // directions: the measured error must follow it, not merely stay small.
     let q = w * l / r;
-    let rel_tolerance = TransientParams::default().rel_tolerance;
+    let rel_tolerance = default_rel_tolerance(Integration::Trapezoidal);
+    assert_eq!(rel_tolerance, default_rel_tolerance(Integration::Bdf2));
     let expect_trap = 2.0 * q * (12.0 * rel_tolerance).powf(2.0 / 3.0) / 12.0;
     let expect_bdf2 = 2.0 * q * (4.5 * rel_tolerance).powf(2.0 / 3.0) / 3.0;
     eprintln!("expected {expect_trap:.3e} (trapezoidal), {expect_bdf2:.3e} (BDF2)");
@@ -215,4 +232,7 @@ fn sine_driven_rlc_settles_to_the_phasor_solution() {
         assert!(e < 1e-4, "error {e:.3e} above the 1e-4 target");
         assert!(e < 2.0 * x && e > 0.5 * x, "error {e:.3e} vs model {x:.3e}");
     }
+    // SDIRK4 at its own default tolerance meets the same 1e-4 target; its
+    // frequency error is of fourth order, so no warping model is checked.
+    assert!(errs[2] < 1e-4, "SDIRK4 error {:.3e} above 1e-4", errs[2]);
 }
