@@ -112,15 +112,31 @@ fn main() {
         step: 1.0 / (f0 * 64.0),
         ..TransientParams::default()
     };
-    let mut steps = 0;
-    let t300 = time(1, || {
-        let r = tankwave_solve::transient(&classc, &d, &tp).expect("transient");
-        steps = r.info.accepted;
-    });
-    println!(
-        "\nclass-C demo, transient over 300 periods: {t300:.3} s, {steps} accepted steps ({:.0} per period)",
-        steps as f64 / 300.0
-    );
+    // the default rule (SDIRK4 at its own tolerance) against the trapezoidal
+    // rule at its own, in the same run
+    println!();
+    let mut t_by = Vec::new();
+    for method in [
+        tankwave_circuit::Integration::Sdirk4,
+        tankwave_circuit::Integration::Trapezoidal,
+    ] {
+        let tp = TransientParams {
+            method,
+            ..tp.clone()
+        };
+        let mut steps = 0;
+        let t300 = time(1, || {
+            let r = tankwave_solve::transient(&classc, &d, &tp).expect("transient");
+            steps = r.info.accepted;
+        });
+        println!(
+            "class-C demo, transient over 300 periods by {method:?} (tolerance {:.0e}): {t300:.3} s, {steps} accepted steps ({:.0} per period)",
+            tp.tolerance(),
+            steps as f64 / 300.0
+        );
+        t_by.push(t300);
+    }
+    println!("time ratio SDIRK4 / trapezoidal: {:.2}", t_by[0] / t_by[1]);
 
     let n: usize = std::env::var("TANKWAVE_BENCH_VARIANTS")
         .ok()

@@ -453,8 +453,8 @@ fn every_option_word_is_read_and_a_misspelt_one_is_an_error() {
             }
         }
     }
-    // start (2), transient method (2), scale (2), steady method (4).
-    assert_eq!(checked, 10);
+    // start (2), transient method (3), scale (2), steady method (4).
+    assert_eq!(checked, 11);
 }
 
 /// Defaults come from the declaration: an analysis with only its required

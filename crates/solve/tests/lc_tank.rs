@@ -56,7 +56,7 @@ fn trapezoidal_keeps_tank_energy_over_1000_periods() {
         stop: 1000.0 * period + t_off,
         step: period / 20.0,
         method: Integration::Trapezoidal,
-        rel_tolerance: 1e-4,
+        rel_tolerance: Some(1e-4),
         ..TransientParams::default()
     };
     let r = transient(&b.c, &d, &p).unwrap();

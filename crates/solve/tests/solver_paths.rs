@@ -179,7 +179,7 @@ fn bad_transient_parameters_are_refused() {
             ..TransientParams::default()
         },
         TransientParams {
-            rel_tolerance: 2.0,
+            rel_tolerance: Some(2.0),
             ..TransientParams::default()
         },
     ] {
