@@ -553,16 +553,17 @@ impl<'a> Stepper<'a> {
         let alpha = 1.0 / (SDIRK4_GAMMA * h);
         let mut ks: Vec<Vec<f64>> = Vec::with_capacity(SDIRK4_C.len());
         let mut hist = vec![0.0; n];
-        // first guess: linear extrapolation from the previous point
-        let mut guess = self.x.clone();
+        // Known points as (time in units of h from t₀, x): the previous
+        // point, the current one, then each stage as it is solved; every
+        // stage starts from the straight line through the two known points
+        // nearest its time (the stage times are not monotone).
+        let mut known: Vec<(f64, Vec<f64>)> = Vec::with_capacity(SDIRK4_C.len() + 2);
         if let Some((_, xp, hp)) = &self.prev {
             if *hp > 0.0 {
-                let r = SDIRK4_C[0] * h / hp;
-                for k in 0..n {
-                    guess[k] += (self.x[k] - xp[k]) * r;
-                }
+                known.push((-hp / h, xp.clone()));
             }
         }
+        known.push((0.0, self.x.clone()));
         let mut last = None;
         for (i, row) in SDIRK4_A.iter().enumerate() {
             for (r, hr) in hist.iter_mut().enumerate() {
@@ -577,10 +578,11 @@ impl<'a> Stepper<'a> {
             } else {
                 self.t + SDIRK4_C[i] * h
             };
+            let guess = stage_guess(&known, SDIRK4_C[i]);
             let (x, q, state) = self.solve_stage(ti, alpha, &hist, guess)?;
             let k: Vec<f64> = (0..n).map(|r| alpha * q[r] + hist[r]).collect();
             ks.push(k);
-            guess = x.clone();
+            known.push((SDIRK4_C[i], x.clone()));
             last = Some((x, q, state));
         }
         let (x, q, state) = last.ok_or(StepFail {
@@ -651,6 +653,30 @@ impl<'a> Stepper<'a> {
     pub fn restart(&mut self) {
         self.prev = None;
         self.qdot_valid = false;
+    }
+}
+
+/// The value at time `c` (in units of the step from its start) on the
+/// straight line through the two points of `known` nearest `c`; the one
+/// point's value when there is only one.
+fn stage_guess(known: &[(f64, Vec<f64>)], c: f64) -> Vec<f64> {
+    let mut order: Vec<usize> = (0..known.len()).collect();
+    order.sort_by(|&a, &b| (known[a].0 - c).abs().total_cmp(&(known[b].0 - c).abs()));
+    match order.as_slice() {
+        [] => Vec::new(),
+        [only] => known[*only].1.clone(),
+        [a, b, ..] => {
+            let (ca, xa) = (&known[*a].0, &known[*a].1);
+            let (cb, xb) = (&known[*b].0, &known[*b].1);
+            if (ca - cb).abs() < 1e-12 {
+                return xa.clone();
+            }
+            let w = (c - cb) / (ca - cb);
+            xa.iter()
+                .zip(xb)
+                .map(|(va, vb)| vb + w * (va - vb))
+                .collect()
+        }
     }
 }
 
