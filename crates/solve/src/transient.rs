@@ -300,6 +300,9 @@ impl StepFail {
     }
 }
 
+/// A solved stage: the unknowns, their charges `q(x)` and the device state.
+type Stage = (Vec<f64>, Vec<f64>, Vec<f64>);
+
 /// A solved but not yet accepted step.
 #[derive(Debug, Clone)]
 pub(crate) struct Attempt {
@@ -512,7 +515,7 @@ impl<'a> Stepper<'a> {
         alpha: f64,
         hist: &[f64],
         guess: Vec<f64>,
-    ) -> Result<(Vec<f64>, Vec<f64>, Vec<f64>), StepFail> {
+    ) -> Result<Stage, StepFail> {
         let mut x1 = guess;
         let mut state = self.state.clone();
         let sys = System {
