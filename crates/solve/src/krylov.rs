@@ -306,7 +306,7 @@ where
         if hn <= 1e-13 * scale.max(f64::MIN_POSITIVE) || m == n {
             exact = true;
         }
-        if exact || m >= cap || m % params.block.max(1) == 0 {
+        if exact || m >= cap || m.is_multiple_of(params.block.max(1)) {
             let mut hm = vec![0.0; m * m];
             for (j, c) in h.iter().enumerate() {
                 for (i, val) in c.iter().enumerate().take(m) {
