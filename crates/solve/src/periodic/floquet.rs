@@ -253,7 +253,8 @@ pub(crate) fn verify_with(
         .iter()
         .map(|row| row.first().copied().unwrap_or(0.0))
         .collect();
-    let dense_small = params.shooting.mode.resolve(n) == ShootingMode::Dense;
+    let dense_small = params.shooting.mode.resolve(n) == ShootingMode::Dense
+        || !super::shooting::record_fits(n, ns);
     let reuse = last.and_then(|l| {
         let mono = match (l.monodromy, l.lin) {
             (Some(phi), _) => Monodromy::Dense(phi),

@@ -68,7 +68,9 @@ pub enum ShootingMode {
     Auto,
     /// Carry the dense monodromy matrix through the period and factor `Φ − I`.
     Dense,
-    /// Keep the per-step factors and solve by GMRES on `v ↦ Φv` (module overview).
+    /// Keep the per-step factors and solve by GMRES on `v ↦ Φv` (module
+    /// overview); dense all the same when the factors of a period would not
+    /// fit in [`RECORD_BYTES`].
     MatrixFree,
 }
 
@@ -86,6 +88,22 @@ impl ShootingMode {
             other => other,
         }
     }
+}
+
+/// Most memory the stored factors of one period may take, bytes (256 MiB):
+/// beyond it (a very fine grid of a large circuit) shooting carries the dense
+/// `Φ`, whose memory does not grow with the steps, and the Floquet check
+/// integrates its own period.
+pub const RECORD_BYTES: f64 = 256.0 * 1024.0 * 1024.0;
+
+/// Whether the stored factors of a period of `ns` steps of an `n`-unknown
+/// system fit in [`RECORD_BYTES`]: two factorizations and three sparse
+/// matrices a step, each factor counted as at most 32 stored entries a row
+/// (8 bytes, 16 with its index; a pessimistic bound for the fill of these
+/// circuits' sparse LU, exact for the dense LU below 16 unknowns).
+pub(crate) fn record_fits(n: usize, ns: usize) -> bool {
+    let per_step = 2.0 * 16.0 * n as f64 * n.min(32) as f64 + 3.0 * 16.0 * 8.0 * n as f64;
+    ns as f64 * per_step <= RECORD_BYTES
 }
 
 /// What a period carries besides the orbit.
@@ -557,7 +575,8 @@ pub(crate) fn shooting_with_final(
     let n = devices.n_unknowns;
     let ns = params.samples();
     let period = 1.0 / params.freq;
-    let free = params.shooting.mode.resolve(n) == ShootingMode::MatrixFree;
+    let keep = record_fits(n, ns);
+    let free = params.shooting.mode.resolve(n) == ShootingMode::MatrixFree && keep;
     let newton_sens = if free { Sens::Record } else { Sens::Dense };
     let err = |e: crate::transient::StepFail| e.into_error(devices, "shooting");
     let mut st = Stepper::from_op(devices, params.tol, params.linear_solver, 0.0)?;
@@ -668,7 +687,7 @@ pub(crate) fn shooting_with_final(
             // step: if it is the last one, the Floquet check reuses them.
             let sens = if need_sens {
                 newton_sens
-            } else if final_level {
+            } else if final_level && keep {
                 Sens::Record
             } else {
                 Sens::None
@@ -850,4 +869,30 @@ fn factor(st: &mut Stepper<'_>, devices: &DeviceSet, t: f64) -> Result<(), Solve
         cause: crate::singular::cause(&ws.jac, n, k, devices),
         when: crate::error::When(Some(t)),
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn stored_factors_are_bounded_in_memory() {
+        // the N = 16 bench circuit at the default grid fits (about 73 MiB)
+        assert!(record_fits(212, 256));
+        // the largest grid a file may ask for does not, even for the demo
+        // stage (about 990 MiB): dense Φ then
+        assert!(!record_fits(212, 65_536));
+        assert!(!record_fits(17, 65_536));
+        // the demo stage on 4,096 steps a period does (about 62 MiB)
+        assert!(record_fits(17, 4_096));
+        assert_eq!(
+            ShootingMode::Auto.resolve(MATRIX_FREE_FROM - 1),
+            ShootingMode::Dense
+        );
+        assert_eq!(
+            ShootingMode::Auto.resolve(MATRIX_FREE_FROM),
+            ShootingMode::MatrixFree
+        );
+        assert_eq!(ShootingMode::Dense.resolve(10_000), ShootingMode::Dense);
+    }
 }
