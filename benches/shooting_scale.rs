@@ -178,6 +178,10 @@ fn main() {
     let t_warm = time(5, || {
         std::hint::black_box(tankwave_solve::steady(&cn, &dn, &warm).expect("warm"));
     });
+    // the warm solve without its verification
+    let t_warm_shoot = time(5, || {
+        std::hint::black_box(tankwave_solve::shooting(&cn, &dn, &warm).expect("warm"));
+    });
     // one plain transient period: the stage's own transient analysis (300
     // periods from the operating point at the default accuracy) per period
     let tp = cn
@@ -212,5 +216,9 @@ fn main() {
          warm/cold {:.3}, warm/period {:.2}",
         t_warm / t_cold,
         t_warm / t_period
+    );
+    println!(
+        "  of the warm solve, shooting alone {t_warm_shoot:.4} s ({:.2}), its Floquet check the rest",
+        t_warm_shoot / t_warm
     );
 }
