@@ -40,8 +40,10 @@
 //! units, from a fixed start vector); only those matter for stability. A
 //! shooting solution is checked with the last period shooting itself
 //! integrated at the solution (its factors or its `Φ`, and its end state as
-//! the start of the repetition), so the check integrates no period with
-//! sensitivities of its own; other methods' solutions are integrated here.
+//! the start of the repetition) when that period kept them (a Newton
+//! period, or a chord period that was likely the last), so the check then
+//! integrates no period with sensitivities of its own; otherwise, and for
+//! other methods' solutions, the period is integrated here.
 //!
 //! A failure of either test is [`crate::SolveError::NotPeriodic`] (a solver
 //! failure, exit 3) with the reason and the numbers, never a figure.

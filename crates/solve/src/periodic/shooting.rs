@@ -544,6 +544,10 @@ struct Level {
 /// least this much, or the next period recomputes the monodromy matrix.
 const CHORD_CONTRACTION: f64 = 0.1;
 
+/// Scaled periodicity error of the previous period below which a chord
+/// period on the final level keeps its factors for the Floquet check.
+const LIKELY_LAST: f64 = 100.0;
+
 /// Periodic steady state by shooting-Newton.
 ///
 /// Two levels: a coarse one (a quarter of the steps per period) does the
@@ -683,11 +687,14 @@ pub(crate) fn shooting_with_final(
             if need_sens {
                 report.monodromy_periods += 1;
             }
-            // A period on the final level keeps its factors even on a chord
-            // step: if it is the last one, the Floquet check reuses them.
+            // A chord period on the final level that is likely the last
+            // one keeps its factors, for the Floquet check to reuse; keeping
+            // them costs about half a period more (measured on the class-C
+            // demo), so only where the previous period's error was within
+            // LIKELY_LAST units (a chord step shrinks it about a hundredfold).
             let sens = if need_sens {
                 newton_sens
-            } else if final_level && keep {
+            } else if final_level && keep && prev_resid <= LIKELY_LAST {
                 Sens::Record
             } else {
                 Sens::None
