@@ -42,6 +42,7 @@
 
 pub mod ac;
 pub mod error;
+pub mod krylov;
 pub mod linalg;
 mod newton;
 pub mod op;
@@ -58,8 +59,8 @@ pub use newton::Tolerances;
 pub use op::{operating_point, DeviceOp, NewtonInfo, OpParams, OpResult, Strategy};
 pub use periodic::{
     balance, settle, shooting, steady, terminal_currents, transport_currents, BalanceInfo,
-    BalanceParams, PeriodicSolution, SettleParams, ShootingInfo, ShootingParams, SteadyInfo,
-    SteadyParams,
+    BalanceParams, PeriodicSolution, SettleParams, ShootingInfo, ShootingMode, ShootingParams,
+    SteadyInfo, SteadyParams,
 };
 pub use transient::{
     default_rel_tolerance, transient, transient_observed, TransientInfo, TransientParams,

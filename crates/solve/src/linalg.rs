@@ -201,6 +201,91 @@ impl RealLu {
     }
 }
 
+/// A copy of one factorisation, kept after the solver has moved on (the
+/// per-step factors of a shooting period, reused by the matrix-free
+/// monodromy operator).
+#[derive(Debug, Clone)]
+pub(crate) enum Factors {
+    /// Dense LU with partial pivoting.
+    Dense(faer::linalg::solvers::PartialPivLu<f64>),
+    /// Sparse LU.
+    Sparse(Lu<usize, f64>),
+}
+
+impl Factors {
+    /// Solve `A x = b` in place.
+    pub(crate) fn solve_in_place(&self, b: &mut [f64]) {
+        let n = b.len();
+        let m = MatMut::from_column_major_slice_mut(b, n, 1);
+        match self {
+            Factors::Dense(lu) => lu.solve_in_place(m),
+            Factors::Sparse(lu) => lu.solve_in_place(m),
+        }
+    }
+}
+
+impl RealLu {
+    /// A copy of the last factorisation (`None` before the first).
+    pub(crate) fn snapshot(&self) -> Option<Factors> {
+        match self.kind {
+            LinearSolver::Dense => self.dense.clone().map(Factors::Dense),
+            _ => self
+                .sparse
+                .as_ref()
+                .and_then(|s| s.lu.clone())
+                .map(Factors::Sparse),
+        }
+    }
+}
+
+/// A sparse matrix in compressed rows, for products with the matrices a
+/// period keeps (charges and conductances per step).
+#[derive(Debug, Clone, Default)]
+pub(crate) struct Csr {
+    ptr: Vec<usize>,
+    col: Vec<usize>,
+    val: Vec<f64>,
+}
+
+impl Csr {
+    /// The nonzeros of the row-major `n×n` matrix `a`, rows where `keep`
+    /// is false left empty.
+    pub(crate) fn from_rows(a: &[f64], n: usize, keep: impl Fn(usize) -> bool) -> Self {
+        let mut m = Csr {
+            ptr: Vec::with_capacity(n + 1),
+            ..Csr::default()
+        };
+        m.ptr.push(0);
+        for r in 0..n {
+            if keep(r) {
+                for (c, &v) in a[r * n..(r + 1) * n].iter().enumerate() {
+                    if v != 0.0 {
+                        m.col.push(c);
+                        m.val.push(v);
+                    }
+                }
+            }
+            m.ptr.push(m.col.len());
+        }
+        m
+    }
+
+    /// `out += alpha · A x`.
+    pub(crate) fn mul_add(&self, alpha: f64, x: &[f64], out: &mut [f64]) {
+        for (r, o) in out
+            .iter_mut()
+            .enumerate()
+            .take(self.ptr.len().saturating_sub(1))
+        {
+            let mut s = 0.0;
+            for k in self.ptr[r]..self.ptr[r + 1] {
+                s += self.val[k] * x[self.col[k]];
+            }
+            *o += alpha * s;
+        }
+    }
+}
+
 fn first_nonfinite_col(a: &[f64], n: usize) -> usize {
     a.iter()
         .position(|v| !v.is_finite())

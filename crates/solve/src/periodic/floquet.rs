@@ -33,10 +33,24 @@
 //!    discretisations, hundreds of units on the class-C stage; a stable map
 //!    only shrinks that.)
 //!
+//! **Without `Φ`.** From [`super::shooting::MATRIX_FREE_FROM`] unknowns (by
+//! the shooting mode) `Φ` is never formed: the period keeps its per-step
+//! factors and the multipliers of largest magnitude come from the Arnoldi
+//! process on `v ↦ Φv` ([`crate::krylov::dominant_eigenvalues`], in tolerance
+//! units, from a fixed start vector); only those matter for stability. A
+//! shooting solution is checked with the last period shooting itself
+//! integrated at the solution (its factors or its `Φ`, and its end state as
+//! the start of the repetition) when that period kept them (a Newton
+//! period, or a chord period that was likely the last), so the check then
+//! integrates no period with sensitivities of its own; otherwise, and for
+//! other methods' solutions, the period is integrated here.
+//!
 //! A failure of either test is [`crate::SolveError::NotPeriodic`] (a solver
 //! failure, exit 3) with the reason and the numbers, never a figure.
 
+use super::shooting::{FinalPeriod, PeriodLin, Sens, ShootingMode};
 use super::{PeriodicSolution, SteadyParams};
+use crate::krylov::{dominant_eigenvalues, ArnoldiParams};
 use crate::transient::{bdf2_coefficients, Stepper, GAMMA};
 use crate::SolveError;
 use faer::Mat;
@@ -149,7 +163,85 @@ pub fn verify(
     circuit: &Circuit,
     devices: &DeviceSet,
     params: &SteadyParams,
+    sol: PeriodicSolution,
+) -> Result<PeriodicSolution, SolveError> {
+    verify_with(circuit, devices, params, sol, None)
+}
+
+/// The monodromy of the checked period, in either form.
+enum Monodromy {
+    Dense(Mat<f64>),
+    Free(PeriodLin),
+}
+
+/// Multipliers of largest magnitude first, and the unknowns that carry the
+/// mode of the first (computed only when asked: on a failure).
+type ModeOf<'a> = Box<dyn Fn(Complex64) -> Vec<usize> + 'a>;
+
+fn multipliers_of<'a>(
+    m: &'a Monodromy,
+    scale: &[f64],
+) -> Result<(Vec<Complex64>, ModeOf<'a>), String> {
+    match m {
+        Monodromy::Dense(phi) => {
+            let mu = multipliers(phi)?;
+            Ok((mu, Box::new(move |z| mode_unknowns(phi, z))))
+        }
+        Monodromy::Free(lin) => {
+            let n = lin.order();
+            // in tolerance units, as shooting's Newton steps
+            let apply = |v: &[f64], out: &mut [f64]| {
+                let w: Vec<f64> = v.iter().zip(scale).map(|(a, s)| a * s).collect();
+                lin.apply(&w, out);
+                for (o, s) in out.iter_mut().zip(scale) {
+                    *o /= s;
+                }
+            };
+            // a fixed start with a component along every unknown
+            let start: Vec<f64> = (0..n)
+                .map(|k| 1.0 + 0.5 * (1.7 * k as f64 + 0.3).sin())
+                .collect();
+            let p = ArnoldiParams {
+                wanted: SHOWN,
+                ..ArnoldiParams::default()
+            };
+            let e = dominant_eigenvalues(apply, &start, &p)
+                .ok_or_else(|| "the Arnoldi estimate of the multipliers failed".to_string())?;
+            if !(e.change <= ARNOLDI_SETTLED) {
+                return Err(format!(
+                    "the multipliers of largest magnitude did not settle: they still moved \
+                     by {:.1e} with {} Arnoldi vectors",
+                    e.change, e.basis
+                ));
+            }
+            let vector = e.vector;
+            Ok((
+                e.values,
+                Box::new(move |_| {
+                    let top = vector.iter().fold(0.0f64, |a, b| a.max(b.abs()));
+                    let mut idx: Vec<usize> = (0..vector.len())
+                        .filter(|&k| vector[k].abs() >= 0.1 * top && top > 0.0)
+                        .collect();
+                    idx.sort_by(|i, j| vector[*j].abs().total_cmp(&vector[*i].abs()));
+                    idx
+                }),
+            ))
+        }
+    }
+}
+
+/// Largest relative change of the wanted Arnoldi multipliers accepted as
+/// settled: a tenth of the margin δ at 256 steps per period (3.4e-7), so the
+/// test `|μ| < 1 − δ` is not decided by the estimate's own movement.
+pub const ARNOLDI_SETTLED: f64 = 3e-8;
+
+/// [`verify`], reusing the last period shooting integrated (`last`) when given.
+pub(crate) fn verify_with(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    params: &SteadyParams,
     mut sol: PeriodicSolution,
+    last: Option<FinalPeriod>,
 ) -> Result<PeriodicSolution, SolveError> {
     let n = devices.n_unknowns;
     if n == 0 || sol.x.len() != n {
@@ -158,28 +250,69 @@ pub fn verify(
     let period = 1.0 / params.freq;
     let ns = params.samples();
     let h = period / ns as f64;
-    let t0 = start_of_period(circuit, period);
     let x0: Vec<f64> = sol
         .x
         .iter()
         .map(|row| row.first().copied().unwrap_or(0.0))
         .collect();
-    let mut st = Stepper::from_zero(devices, params.tol, params.linear_solver, t0);
-    let run = super::shooting::integrate_period(&mut st, devices, &x0, t0, h, ns, true)?;
-    let phi = run
-        .monodromy
-        .as_ref()
-        .ok_or_else(|| SolveError::BadParams("Floquet check: no monodromy matrix".into()))?;
+    let dense_small = params.shooting.mode.resolve(n) == ShootingMode::Dense
+        || !super::shooting::record_fits(n, ns);
+    let reuse = last.and_then(|l| {
+        let mono = match (l.monodromy, l.lin) {
+            (Some(phi), _) => Monodromy::Dense(phi),
+            (None, Some(lin)) if dense_small => Monodromy::Dense(lin.monodromy()),
+            (None, Some(lin)) => Monodromy::Free(lin),
+            (None, None) => return None,
+        };
+        Some((l.t0, l.end, mono))
+    });
+    let (t0, mut st, end, samples, mono) = match reuse {
+        Some((t0, end, mono)) => {
+            let st = Stepper::from_zero(devices, params.tol, params.linear_solver, t0);
+            (t0, st, end, sol.x.clone(), mono)
+        }
+        _ => {
+            let t0 = start_of_period(circuit, period);
+            let mut st = Stepper::from_zero(devices, params.tol, params.linear_solver, t0);
+            let sens = if dense_small {
+                Sens::Dense
+            } else {
+                Sens::Record
+            };
+            let run = super::shooting::integrate_period(&mut st, devices, &x0, t0, h, ns, sens)?;
+            let mono = match (run.monodromy, run.lin) {
+                (Some(phi), _) => Monodromy::Dense(phi),
+                (None, Some(l)) => Monodromy::Free(l),
+                (None, None) => {
+                    return Err(SolveError::BadParams(
+                        "Floquet check: no monodromy matrix".into(),
+                    ))
+                }
+            };
+            (t0, st, run.end, run.samples, mono)
+        }
+    };
+    // Tolerance units, as shooting's own test.
+    let scale: Vec<f64> = samples
+        .iter()
+        .enumerate()
+        .map(|(k, row)| {
+            let peak = row.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+            params.shooting.rel_tolerance * peak
+                + crate::newton::unknown_floor(devices, &params.tol, k)
+        })
+        .collect();
     let analysis = method_name(sol.info.method);
-    let mu = multipliers(phi).map_err(|reason| SolveError::NotPeriodic {
-        analysis: analysis.into(),
-        reason,
-    })?;
+    let (mu, mode_of) =
+        multipliers_of(&mono, &scale).map_err(|reason| SolveError::NotPeriodic {
+            analysis: analysis.into(),
+            reason,
+        })?;
     let delta = margin(ns);
     let largest = mu.first().map(|m| m.norm()).unwrap_or(0.0);
     if largest.is_nan() || largest >= 1.0 - delta {
         let m = mu.first().copied().unwrap_or_default();
-        let names: Vec<String> = mode_unknowns(phi, m)
+        let names: Vec<String> = mode_of(m)
             .into_iter()
             .take(4)
             .filter_map(|k| devices.names.get(k).cloned())
@@ -203,21 +336,11 @@ pub fn verify(
         });
     }
     // Repetition over a few more periods, in shooting's tolerance units.
-    let scale: Vec<f64> = run
-        .samples
-        .iter()
-        .enumerate()
-        .map(|(k, row)| {
-            let peak = row.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-            params.shooting.rel_tolerance * peak
-                + crate::newton::unknown_floor(devices, &params.tol, k)
-        })
-        .collect();
     // The change over the period just integrated (from the solution's state).
     let first = (0..n)
-        .map(|k| (run.end[k] - x0[k]).abs() / scale[k])
+        .map(|k| (end[k] - x0[k]).abs() / scale[k])
         .fold(0.0f64, f64::max);
-    let mut prev = run.end.clone();
+    let mut prev = end;
     let mut worst = (0.0f64, 0usize, 0usize);
     for p in 1..=EXTRA_PERIODS {
         let tp = t0 + p as f64 * period;

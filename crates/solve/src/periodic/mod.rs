@@ -25,7 +25,7 @@ pub mod shooting;
 pub use balance::{balance, BalanceInfo, BalanceParams};
 pub use sample::{terminal_currents, transport_currents};
 pub use settle::settle;
-pub use shooting::shooting;
+pub use shooting::{shooting, ShootingMode, MATRIX_FREE_FROM};
 
 use crate::linalg::LinearSolver;
 use crate::newton::Tolerances;
@@ -144,6 +144,10 @@ pub struct ShootingInfo {
     pub monodromy_periods: usize,
     /// Warm-up periods run before the iteration (0 for a warm start).
     pub warmup_periods: usize,
+    /// Newton steps were matrix-free ([`ShootingMode`]).
+    pub matrix_free: bool,
+    /// Products with the monodromy operator taken by GMRES (matrix-free only).
+    pub krylov_products: usize,
 }
 
 /// Options of the plain-transient method.
@@ -187,6 +191,8 @@ pub struct ShootingParams {
     /// neighbouring variant (same unknowns). When given (and of the right
     /// length) the warm-up periods are skipped and Newton starts from it.
     pub initial: Option<Vec<f64>>,
+    /// Dense monodromy matrix or matrix-free Newton–Krylov (default auto, by size).
+    pub mode: ShootingMode,
 }
 
 impl Default for ShootingParams {
@@ -197,6 +203,7 @@ impl Default for ShootingParams {
             coarse_grid: true,
             rel_tolerance: 1e-7,
             initial: None,
+            mode: ShootingMode::Auto,
         }
     }
 }
@@ -316,7 +323,7 @@ pub fn steady(
     // Every orbit is verified before it is accepted (floquet).
     let verify = |s| floquet::verify(circuit, devices, params, s);
     match params.method {
-        SteadyMethod::Shooting => shooting(circuit, devices, params).and_then(verify),
+        SteadyMethod::Shooting => verified_shooting(circuit, devices, params),
         SteadyMethod::Settle => settle(circuit, devices, params).and_then(verify),
         SteadyMethod::Balance => balance(circuit, devices, params).and_then(verify),
         SteadyMethod::Auto => {
@@ -325,7 +332,7 @@ pub fn steady(
             // benches/stages.rs), and both agree within the acceptance figures
             // (tests/it/agreement.rs). Balance is the fallback; when both fail
             // the error names both.
-            match shooting(circuit, devices, params).and_then(verify) {
+            match verified_shooting(circuit, devices, params) {
                 Ok(s) => Ok(s),
                 Err(first) => match balance(circuit, devices, params).and_then(verify) {
                     Ok(mut s) => {
@@ -340,6 +347,17 @@ pub fn steady(
             }
         }
     }
+}
+
+/// Shooting, verified with the last period it integrated (no period of
+/// its own with sensitivities in the check).
+fn verified_shooting(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    params: &SteadyParams,
+) -> Result<PeriodicSolution, SolveError> {
+    let (s, last) = shooting::shooting_with_final(circuit, devices, params)?;
+    floquet::verify_with(circuit, devices, params, s, Some(last))
 }
 
 /// First whole number of periods after every source's delay, rise and last

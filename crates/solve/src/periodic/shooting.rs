@@ -32,9 +32,25 @@
 //! `rel_tolerance·max_n |x_k| + (voltage_floor | current_floor)`
 //! (the update test catches slow modes, whose periodicity error is tiny
 //! while the state is still far from the fixed point).
+//!
+//! **Matrix-free Newton (large circuits).** Carrying `Φ` costs `n` sensitivity
+//! columns through every step, dense products of order `n³` per step. From
+//! [`MATRIX_FREE_FROM`] unknowns ([`ShootingMode::Auto`]) the period instead
+//! keeps, per step, the factorizations of its two stage Jacobians and the
+//! sparse `C` and `Ĝ` it used (`PeriodLin`); `v ↦ Φv` is then one pass of
+//! the vector through those stored factors (the two stage formulas above with
+//! one column), and `(Φ − I) Δx₀ = −r` is solved by restarted GMRES
+//! ([`crate::krylov::gmres`]) in tolerance units (each unknown divided by its
+//! scale, so the norm weighs volts and amperes alike) — a Newton–Krylov
+//! shooting method (R. Telichevesky, K. S. Kundert, J. K. White, "Efficient
+//! steady-state analysis based on matrix-free Krylov-subspace methods",
+//! DAC 1995, from memory). The levels, chord steps and tests are the same:
+//! a chord step reuses an older period's stored factors.
 
 use super::sample::trbdf2_solution;
 use super::{start_time, PeriodicSolution, ShootingInfo, SteadyInfo, SteadyParams};
+use crate::krylov::{gmres, GmresParams};
+use crate::linalg::{Csr, Factors};
 use crate::newton::unknown_floor;
 use crate::transient::{bdf2_coefficients, charged_rows, Method, Stepper, GAMMA};
 use crate::SolveError;
@@ -42,9 +58,139 @@ use faer::Mat;
 use tankwave_circuit::{Circuit, SteadyMethod};
 use tankwave_devices::DeviceSet;
 
-/// One period integrated from `x0` (with [`integrate_period`] and
-/// `with_sens`, the monodromy matrix of the orbit, e.g. for a check of its
-/// multipliers).
+/// How shooting solves its Newton system `(Φ − I) Δx₀ = −r`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum ShootingMode {
+    /// Dense `Φ` below [`MATRIX_FREE_FROM`] unknowns, matrix-free from there
+    /// on (default; the crossover measured in `benches/shooting_scale.rs`,
+    /// docs/performance.md).
+    #[default]
+    Auto,
+    /// Carry the dense monodromy matrix through the period and factor `Φ − I`.
+    Dense,
+    /// Keep the per-step factors and solve by GMRES on `v ↦ Φv` (module
+    /// overview); dense all the same when the factors of a period would not
+    /// fit in [`RECORD_BYTES`].
+    MatrixFree,
+}
+
+/// Order from which [`ShootingMode::Auto`] goes matrix-free: between the
+/// 56 unknowns where the dense `Φ` was still faster and the 82 where the
+/// matrix-free step was (docs/performance.md, "Shooting against circuit size").
+pub const MATRIX_FREE_FROM: usize = 70;
+
+impl ShootingMode {
+    /// The concrete mode for a system of order `n`.
+    pub fn resolve(self, n: usize) -> ShootingMode {
+        match self {
+            ShootingMode::Auto if n < MATRIX_FREE_FROM => ShootingMode::Dense,
+            ShootingMode::Auto => ShootingMode::MatrixFree,
+            other => other,
+        }
+    }
+}
+
+/// Most memory the stored factors of one period may take, bytes (256 MiB):
+/// beyond it (a very fine grid of a large circuit) shooting carries the dense
+/// `Φ`, whose memory does not grow with the steps, and the Floquet check
+/// integrates its own period.
+pub const RECORD_BYTES: f64 = 256.0 * 1024.0 * 1024.0;
+
+/// Whether the stored factors of a period of `ns` steps of an `n`-unknown
+/// system fit in [`RECORD_BYTES`]: two factorizations and three sparse
+/// matrices a step, each factor counted as at most 32 stored entries a row
+/// (8 bytes, 16 with its index; a pessimistic bound for the fill of these
+/// circuits' sparse LU, exact for the dense LU below 16 unknowns).
+pub(crate) fn record_fits(n: usize, ns: usize) -> bool {
+    let per_step = 2.0 * 16.0 * n as f64 * n.min(32) as f64 + 3.0 * 16.0 * 8.0 * n as f64;
+    ns as f64 * per_step <= RECORD_BYTES
+}
+
+/// What a period carries besides the orbit.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum Sens {
+    /// Nothing.
+    None,
+    /// The dense monodromy matrix.
+    Dense,
+    /// The per-step factors of the matrix-free operator ([`PeriodLin`]).
+    Record,
+}
+
+/// One TR-BDF2 step's linearisation, as the sensitivity recursion needs it.
+#[derive(Debug, Clone)]
+struct StepLin {
+    /// Charged-row part of `G` at the start of the step.
+    g0: Csr,
+    /// `C` at the start of the step.
+    c0: Csr,
+    /// `C` at the intermediate point.
+    cg: Csr,
+    /// Trapezoidal stage coefficient `2/(γh)`.
+    alpha1: f64,
+    /// BDF2 coefficients of the second stage (`a1`, `a2`).
+    a1: f64,
+    a2: f64,
+    /// Factors of `G_γ + α₁C_γ` and of `G₁ + a₀C₁`.
+    lu_g: Factors,
+    lu_1: Factors,
+}
+
+/// The linearisation of one period: everything `v ↦ Φv` needs, without `Φ`.
+#[derive(Debug, Clone)]
+pub(crate) struct PeriodLin {
+    n: usize,
+    steps: Vec<StepLin>,
+}
+
+impl PeriodLin {
+    /// Order of the operator.
+    pub(crate) fn order(&self) -> usize {
+        self.n
+    }
+
+    /// `out = Φ v`: `v` carried through every stored step (module overview).
+    pub(crate) fn apply(&self, v: &[f64], out: &mut [f64]) {
+        let n = self.n;
+        let mut s0 = v.to_vec();
+        let mut sg = vec![0.0; n];
+        for st in &self.steps {
+            // (G_γ + α₁C_γ) S_γ = (α₁C₀ − Ĝ₀) S₀
+            sg.fill(0.0);
+            st.c0.mul_add(st.alpha1, &s0, &mut sg);
+            st.g0.mul_add(-1.0, &s0, &mut sg);
+            st.lu_g.solve_in_place(&mut sg);
+            // (G₁ + a₀C₁) S₁ = −(a₁ C_γ S_γ + a₂ C₀ S₀)
+            out.fill(0.0);
+            st.cg.mul_add(-st.a1, &sg, out);
+            st.c0.mul_add(-st.a2, &s0, out);
+            st.lu_1.solve_in_place(out);
+            s0.copy_from_slice(out);
+        }
+        out.copy_from_slice(&s0);
+    }
+
+    /// The dense `Φ`, one column per application (for small systems).
+    pub(crate) fn monodromy(&self) -> Mat<f64> {
+        let n = self.n;
+        let mut phi = Mat::<f64>::zeros(n, n);
+        let mut e = vec![0.0; n];
+        let mut col = vec![0.0; n];
+        for j in 0..n {
+            e.fill(0.0);
+            e[j] = 1.0;
+            self.apply(&e, &mut col);
+            for i in 0..n {
+                phi[(i, j)] = col[i];
+            }
+        }
+        phi
+    }
+}
+
+/// One period integrated from `x0` (with [`integrate_period`] and a
+/// [`Sens`], the monodromy matrix or the operator of the orbit, e.g. for a
+/// check of its multipliers).
 pub(crate) struct PeriodRun {
     /// Unknowns at the start of every step, `[unknown][step]`.
     pub(crate) samples: Vec<Vec<f64>>,
@@ -52,8 +198,10 @@ pub(crate) struct PeriodRun {
     pub(crate) stage: Vec<Vec<f64>>,
     /// `x(T)`.
     pub(crate) end: Vec<f64>,
-    /// `Φ = ∂x(T)/∂x₀` when asked for.
+    /// `Φ = ∂x(T)/∂x₀` when asked for ([`Sens::Dense`]).
     pub(crate) monodromy: Option<Mat<f64>>,
+    /// The matrix-free operator when asked for ([`Sens::Record`]).
+    pub(crate) lin: Option<PeriodLin>,
 }
 
 /// The charged-row part of `G` and the whole of `C` at the stepper's last evaluation.
@@ -74,8 +222,24 @@ fn g_hat_and_c(st: &Stepper<'_>, n: usize) -> (Mat<f64>, Mat<f64>) {
     (g, c)
 }
 
+/// [`g_hat_and_c`], sparse.
+fn g_hat_and_c_sparse(st: &Stepper<'_>, n: usize) -> (Csr, Csr) {
+    let ch = charged_rows(&st.ws.stamp);
+    (
+        Csr::from_rows(&st.ws.stamp.g, n, |r| ch[r]),
+        Csr::from_rows(&st.ws.stamp.c, n, |_| true),
+    )
+}
+
+/// The factors just computed in the stepper's workspace.
+fn snapshot(st: &Stepper<'_>, t: f64) -> Result<Factors, SolveError> {
+    st.ws.lu.snapshot().ok_or_else(|| {
+        SolveError::BadParams(format!("shooting: no factorization to keep at t = {t:e} s"))
+    })
+}
+
 /// Integrate one period of `ns` uniform TR-BDF2 steps from `x0` at `t0`,
-/// with the monodromy matrix when `with_sens`.
+/// carrying what `sens` asks for.
 pub(crate) fn integrate_period(
     st: &mut Stepper<'_>,
     devices: &DeviceSet,
@@ -83,69 +247,223 @@ pub(crate) fn integrate_period(
     t0: f64,
     h: f64,
     ns: usize,
-    with_sens: bool,
+    sens: Sens,
 ) -> Result<PeriodRun, SolveError> {
     let n = devices.n_unknowns;
     let err = |e: crate::transient::StepFail| e.into_error(devices, "shooting");
     st.init_at(x0, t0);
     let mut samples = vec![vec![0.0; ns]; n];
     let mut stage = vec![vec![0.0; ns]; n];
-    if !with_sens {
-        for s in 0..ns {
-            for (k, row) in samples.iter_mut().enumerate() {
-                row[s] = st.x[k];
+    match sens {
+        Sens::None => {
+            for s in 0..ns {
+                for (k, row) in samples.iter_mut().enumerate() {
+                    row[s] = st.x[k];
+                }
+                let xg = st.step_trbdf2(t0 + (s + 1) as f64 * h).map_err(err)?;
+                for (k, row) in stage.iter_mut().enumerate() {
+                    row[s] = xg[k];
+                }
             }
-            let xg = st.step_trbdf2(t0 + (s + 1) as f64 * h).map_err(err)?;
-            for (k, row) in stage.iter_mut().enumerate() {
-                row[s] = xg[k];
+            Ok(PeriodRun {
+                samples,
+                stage,
+                end: st.x.clone(),
+                monodromy: None,
+                lin: None,
+            })
+        }
+        Sens::Record => {
+            let (mut g0, mut c0) = g_hat_and_c_sparse(st, n);
+            let mut steps = Vec::with_capacity(ns);
+            for s in 0..ns {
+                for (k, row) in samples.iter_mut().enumerate() {
+                    row[s] = st.x[k];
+                }
+                let t1 = t0 + (s + 1) as f64 * h;
+                let tg = st.t + GAMMA * (t1 - st.t);
+                let alpha1 = 2.0 / (tg - st.t);
+                let a = st.attempt(tg, Method::Trapezoidal).map_err(err)?;
+                factor(st, devices, tg)?;
+                let lu_g = snapshot(st, tg)?;
+                let cg = Csr::from_rows(&st.ws.stamp.c, n, |_| true);
+                let h0 = tg - st.t;
+                st.commit(a);
+                for (k, row) in stage.iter_mut().enumerate() {
+                    row[s] = st.x[k];
+                }
+                let (_, a1, a2) = bdf2_coefficients(t1 - st.t, h0);
+                let b = st.attempt(t1, Method::Bdf2).map_err(err)?;
+                factor(st, devices, t1)?;
+                let lu_1 = snapshot(st, t1)?;
+                let (g1, c1) = g_hat_and_c_sparse(st, n);
+                steps.push(StepLin {
+                    g0: std::mem::replace(&mut g0, g1),
+                    c0: std::mem::replace(&mut c0, c1),
+                    cg,
+                    alpha1,
+                    a1,
+                    a2,
+                    lu_g,
+                    lu_1,
+                });
+                st.commit(b);
+            }
+            Ok(PeriodRun {
+                samples,
+                stage,
+                end: st.x.clone(),
+                monodromy: None,
+                lin: Some(PeriodLin { n, steps }),
+            })
+        }
+        Sens::Dense => {
+            // Sensitivity of q̇ is −G in rows that carry charge and 0 elsewhere.
+            let (mut g0, mut c0) = g_hat_and_c(st, n);
+            let mut sens = Mat::<f64>::identity(n, n);
+            for s in 0..ns {
+                for (k, row) in samples.iter_mut().enumerate() {
+                    row[s] = st.x[k];
+                }
+                let t1 = t0 + (s + 1) as f64 * h;
+                let tg = st.t + GAMMA * (t1 - st.t);
+                // Stage 1, trapezoidal to t + γh: (G_γ + α₁C_γ) S_γ = (α₁C₀ − Ĝ₀) S₀.
+                let alpha1 = 2.0 / (tg - st.t);
+                let a = st.attempt(tg, Method::Trapezoidal).map_err(err)?;
+                factor(st, devices, tg)?;
+                let m = Mat::<f64>::from_fn(n, n, |r, c| alpha1 * c0[(r, c)] - g0[(r, c)]);
+                let mut sg = &m * &sens;
+                st.ws.lu.solve_mat(sg.as_mut());
+                let cg = Mat::<f64>::from_fn(n, n, |r, c| st.ws.stamp.c_at(r, c));
+                let h0 = tg - st.t;
+                st.commit(a);
+                for (k, row) in stage.iter_mut().enumerate() {
+                    row[s] = st.x[k];
+                }
+                // Stage 2, BDF2 through t, t + γh, t1:
+                // (G₁ + a0·C₁) S₁ = −(a1·C_γ S_γ + a2·C₀ S₀).
+                let (_, a1, a2) = bdf2_coefficients(t1 - st.t, h0);
+                let b = st.attempt(t1, Method::Bdf2).map_err(err)?;
+                factor(st, devices, t1)?;
+                let mut s1 = &cg * &sg * (-a1) + &c0 * &sens * (-a2);
+                st.ws.lu.solve_mat(s1.as_mut());
+                sens = s1;
+                (g0, c0) = g_hat_and_c(st, n);
+                st.commit(b);
+            }
+            Ok(PeriodRun {
+                samples,
+                stage,
+                end: st.x.clone(),
+                monodromy: Some(sens),
+                lin: None,
+            })
+        }
+    }
+}
+
+/// The Jacobian `Φ − I` of a shooting Newton step, in either form.
+enum Jacobian {
+    /// `Φ − I` factored densely.
+    Dense(Box<crate::linalg::RealLu>),
+    /// The matrix-free operator of a stored period.
+    Free(PeriodLin),
+}
+
+/// GMRES options of a matrix-free Newton step: an inexact Newton step
+/// (R. S. Dembo, S. C. Eisenstat, T. Steihaug, "Inexact Newton methods",
+/// SIAM J. Numer. Anal. 19(2), 1982, from memory) whose linear residual, in
+/// tolerance units, is held to 1e-3 of the right-hand side: even along a
+/// slow mode with multiplier 0.99 (error amplified 100×) the step still
+/// removes nine tenths of the error, so the outer iteration keeps
+/// converging, and its own tests (periodicity error and update within one
+/// unit) decide when to stop. Restarted every 40 vectors.
+const NEWTON_GMRES: GmresParams = GmresParams {
+    restart: 40,
+    max_iter: 400,
+    rel_tolerance: 1e-3,
+};
+
+impl Jacobian {
+    /// `Δ` with `(Φ − I) Δ = −r`; `scale` the tolerance of each unknown
+    /// (the matrix-free solve works in those units). Adds the operator
+    /// applications to `applications`.
+    fn solve(
+        &self,
+        r: &[f64],
+        scale: &[f64],
+        devices: &DeviceSet,
+        t0: f64,
+        applications: &mut usize,
+    ) -> Result<Vec<f64>, SolveError> {
+        match self {
+            Jacobian::Dense(lu) => {
+                let mut dx: Vec<f64> = r.iter().map(|v| -v).collect();
+                lu.solve(&mut dx);
+                Ok(dx)
+            }
+            Jacobian::Free(lin) => {
+                let n = lin.order();
+                let b: Vec<f64> = r.iter().zip(scale).map(|(v, s)| -v / s).collect();
+                let mut y = vec![0.0; n];
+                let mut tmp = vec![0.0; n];
+                let info = gmres(
+                    |v, out| {
+                        for k in 0..n {
+                            tmp[k] = v[k] * scale[k];
+                        }
+                        lin.apply(&tmp, out);
+                        for k in 0..n {
+                            out[k] = out[k] / scale[k] - v[k];
+                        }
+                    },
+                    &b,
+                    &mut y,
+                    &NEWTON_GMRES,
+                );
+                *applications += info.applications;
+                // a stagnating solve: Φ − I (nearly) singular, as the dense
+                // factorization would report
+                if !(info.residual <= 1e-2) {
+                    let worst = b
+                        .iter()
+                        .enumerate()
+                        .fold((0usize, 0.0f64), |w, (k, v)| {
+                            if v.abs() > w.1 {
+                                (k, v.abs())
+                            } else {
+                                w
+                            }
+                        })
+                        .0;
+                    return Err(SolveError::Singular {
+                        analysis: "shooting (monodromy − I, matrix-free)".into(),
+                        unknown: devices.names.get(worst).cloned().unwrap_or_default(),
+                        cause: format!(
+                            "GMRES left {:.1e} of the periodicity error after {} products                              with the monodromy operator: a Floquet multiplier at or near 1                              (a level nothing fixes over a period)",
+                            info.residual, info.applications
+                        ),
+                        when: crate::error::When(Some(t0)),
+                    });
+                }
+                Ok(y.iter().zip(scale).map(|(v, s)| v * s).collect())
             }
         }
-        return Ok(PeriodRun {
-            samples,
-            stage,
-            end: st.x.clone(),
-            monodromy: None,
-        });
     }
-    // Sensitivity of q̇ is −G in rows that carry charge and 0 elsewhere.
-    let (mut g0, mut c0) = g_hat_and_c(st, n);
-    let mut sens = Mat::<f64>::identity(n, n);
-    for s in 0..ns {
-        for (k, row) in samples.iter_mut().enumerate() {
-            row[s] = st.x[k];
-        }
-        let t1 = t0 + (s + 1) as f64 * h;
-        let tg = st.t + GAMMA * (t1 - st.t);
-        // Stage 1, trapezoidal to t + γh: (G_γ + α₁C_γ) S_γ = (α₁C₀ − Ĝ₀) S₀.
-        let alpha1 = 2.0 / (tg - st.t);
-        let a = st.attempt(tg, Method::Trapezoidal).map_err(err)?;
-        factor(st, devices, tg)?;
-        let m = Mat::<f64>::from_fn(n, n, |r, c| alpha1 * c0[(r, c)] - g0[(r, c)]);
-        let mut sg = &m * &sens;
-        st.ws.lu.solve_mat(sg.as_mut());
-        let cg = Mat::<f64>::from_fn(n, n, |r, c| st.ws.stamp.c_at(r, c));
-        let h0 = tg - st.t;
-        st.commit(a);
-        for (k, row) in stage.iter_mut().enumerate() {
-            row[s] = st.x[k];
-        }
-        // Stage 2, BDF2 through t, t + γh, t1:
-        // (G₁ + a0·C₁) S₁ = −(a1·C_γ S_γ + a2·C₀ S₀).
-        let (_, a1, a2) = bdf2_coefficients(t1 - st.t, h0);
-        let b = st.attempt(t1, Method::Bdf2).map_err(err)?;
-        factor(st, devices, t1)?;
-        let mut s1 = &cg * &sg * (-a1) + &c0 * &sens * (-a2);
-        st.ws.lu.solve_mat(s1.as_mut());
-        sens = s1;
-        (g0, c0) = g_hat_and_c(st, n);
-        st.commit(b);
-    }
-    Ok(PeriodRun {
-        samples,
-        stage,
-        end: st.x.clone(),
-        monodromy: Some(sens),
-    })
+}
+
+/// The last period shooting integrated at its solution, for the Floquet
+/// check ([`super::floquet`]), which then integrates no period of its own
+/// with sensitivities.
+pub(crate) struct FinalPeriod {
+    /// `x(T)` of that period, from the solution's start state.
+    pub(crate) end: Vec<f64>,
+    /// Its time origin.
+    pub(crate) t0: f64,
+    /// The dense `Φ`, when that period carried it.
+    pub(crate) monodromy: Option<Mat<f64>>,
+    /// The matrix-free operator, otherwise.
+    pub(crate) lin: Option<PeriodLin>,
 }
 
 /// Per-unknown tolerance: `rel_tolerance · peak over the period + absolute tolerance`.
@@ -226,6 +544,10 @@ struct Level {
 /// least this much, or the next period recomputes the monodromy matrix.
 const CHORD_CONTRACTION: f64 = 0.1;
 
+/// Scaled periodicity error of the previous period below which a chord
+/// period on the final level keeps its factors for the Floquet check.
+const LIKELY_LAST: f64 = 100.0;
+
 /// Periodic steady state by shooting-Newton.
 ///
 /// Two levels: a coarse one (a quarter of the steps per period) does the
@@ -233,12 +555,23 @@ const CHORD_CONTRACTION: f64 = 0.1;
 /// relative to the tolerance scale, cheaply; the fine one then starts from
 /// there with the coarse `Φ − I` (which differs from the fine one by the
 /// discretisation error) as a chord Jacobian, recomputing the monodromy
-/// matrix only when the chord iteration stops contracting.
+/// matrix only when the chord iteration stops contracting. Dense `Φ` or
+/// matrix-free by [`ShootingMode`] (module overview).
 pub fn shooting(
     circuit: &Circuit,
     devices: &DeviceSet,
     params: &SteadyParams,
 ) -> Result<PeriodicSolution, SolveError> {
+    shooting_with_final(circuit, devices, params).map(|(s, _)| s)
+}
+
+/// [`shooting`], with the last period it integrated at the solution (for
+/// the Floquet check).
+pub(crate) fn shooting_with_final(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    params: &SteadyParams,
+) -> Result<(PeriodicSolution, FinalPeriod), SolveError> {
     params.check()?;
     if let Some(d) = devices.devices.iter().find(|d| d.frequency_domain()) {
         return Err(crate::transient::time_domain_refused(circuit, d.element()));
@@ -246,6 +579,9 @@ pub fn shooting(
     let n = devices.n_unknowns;
     let ns = params.samples();
     let period = 1.0 / params.freq;
+    let keep = record_fits(n, ns);
+    let free = params.shooting.mode.resolve(n) == ShootingMode::MatrixFree && keep;
+    let newton_sens = if free { Sens::Record } else { Sens::Dense };
     let err = |e: crate::transient::StepFail| e.into_error(devices, "shooting");
     let mut st = Stepper::from_op(devices, params.tol, params.linear_solver, 0.0)?;
     // Warm up past the end of every source's start-up (delay and amplitude
@@ -314,13 +650,14 @@ pub fn shooting(
         } else {
             params.shooting.warmup_periods
         },
+        matrix_free: free,
         ..ShootingInfo::default()
     };
-    let mut lu: Option<crate::linalg::RealLu> = None;
+    let mut jac: Option<Jacobian> = None;
     for (li, level) in levels.iter().enumerate() {
         let h = period / level.ns as f64;
         let final_level = li + 1 == levels.len();
-        let mut need_sens = lu.is_none();
+        let mut need_sens = jac.is_none();
         let mut prev_resid = f64::INFINITY;
         let mut level_iter = 0usize;
         loop {
@@ -350,13 +687,33 @@ pub fn shooting(
             if need_sens {
                 report.monodromy_periods += 1;
             }
-            let run = integrate_period(&mut st, devices, &x0, t0, h, level.ns, need_sens)?;
+            // A chord period on the final level that is likely the last
+            // one keeps its factors, for the Floquet check to reuse; keeping
+            // them costs about half a period more (measured on the class-C
+            // demo), so only where the previous period's error was within
+            // LIKELY_LAST units (a chord step shrinks it about a hundredfold).
+            let sens = if need_sens {
+                newton_sens
+            } else if final_level && keep && prev_resid <= LIKELY_LAST {
+                Sens::Record
+            } else {
+                Sens::None
+            };
+            let mut run = integrate_period(&mut st, devices, &x0, t0, h, level.ns, sens)?;
             let r: Vec<f64> = run.end.iter().zip(&x0).map(|(a, b)| a - b).collect();
             let scale = scales(devices, params, &run);
             let worst = worst_ratio(&r, &scale, devices, st.t)?;
             last = (r[worst.1].abs(), worst.1);
+            let mut from_this_run = false;
             if let Some(phi) = &run.monodromy {
-                lu = Some(factor_monodromy(phi, devices, t0)?);
+                jac = Some(Jacobian::Dense(Box::new(factor_monodromy(
+                    phi, devices, t0,
+                )?)));
+            } else if need_sens {
+                if let Some(lin) = run.lin.take() {
+                    jac = Some(Jacobian::Free(lin));
+                    from_this_run = true;
+                }
             }
             // Newton (or chord) update: (Φ − I) Δ = −r. Computed before the
             // convergence test: a slow mode (a bias network whose time
@@ -364,7 +721,7 @@ pub fn shooting(
             // error r but a large distance to the fixed point, Δ ≈ r / (1 − λ).
             // Converged only when both the residual and the update are within
             // tolerance.
-            let Some(f) = lu.as_ref() else {
+            let Some(f) = jac.as_ref() else {
                 return Err(SolveError::BadParams(
                     "shooting: no monodromy matrix".into(),
                 ));
@@ -372,13 +729,22 @@ pub fn shooting(
             if level.jacobian_only {
                 break;
             }
-            let mut dx: Vec<f64> = r.iter().map(|v| -v).collect();
-            f.solve(&mut dx);
+            let dx = f.solve(&r, &scale, devices, t0, &mut report.krylov_products)?;
             let update = worst_ratio(&dx, &scale, devices, st.t)?.0;
             if worst.0 <= level.target && update <= level.target {
                 if final_level {
                     // the numerical floor: the orbit again on half the grid
-                    let half = half_grid(&mut st, devices, params, &x0, t0, period, ns, f);
+                    let half = half_grid(
+                        &mut st,
+                        devices,
+                        params,
+                        &x0,
+                        t0,
+                        period,
+                        ns,
+                        f,
+                        &mut report.krylov_products,
+                    );
                     let floor = match half {
                         Ok(Some(h)) => super::floor::grid_floor(
                             &run.samples,
@@ -394,6 +760,17 @@ pub fn shooting(
                             params.shooting.rel_tolerance,
                         ),
                     };
+                    let lin = match (run.lin.take(), from_this_run, jac) {
+                        (Some(l), _, _) => Some(l),
+                        (None, true, Some(Jacobian::Free(l))) => Some(l),
+                        _ => None,
+                    };
+                    let last_period = FinalPeriod {
+                        end: run.end.clone(),
+                        t0,
+                        monodromy: run.monodromy.take(),
+                        lin,
+                    };
                     let info = SteadyInfo {
                         method: SteadyMethod::Shooting,
                         fell_back_from: None,
@@ -406,14 +783,9 @@ pub fn shooting(
                         floquet: None,
                         floor,
                     };
-                    return trbdf2_solution(
-                        circuit,
-                        devices,
-                        params,
-                        run.samples,
-                        &run.stage,
-                        info,
-                    );
+                    let sol =
+                        trbdf2_solution(circuit, devices, params, run.samples, &run.stage, info)?;
+                    return Ok((sol, last_period));
                 }
                 // on to the next level from the improved point
                 for k in 0..n {
@@ -424,8 +796,7 @@ pub fn shooting(
             // A chord step that did not contract well: the next period
             // recomputes the monodromy matrix.
             // Coarse levels, far from the orbit, take full Newton steps.
-            need_sens = !final_level
-                || (run.monodromy.is_none() && worst.0 > CHORD_CONTRACTION * prev_resid);
+            need_sens = !final_level || (!need_sens && worst.0 > CHORD_CONTRACTION * prev_resid);
             prev_resid = worst.0;
             for k in 0..n {
                 x0[k] += dx[k];
@@ -451,33 +822,42 @@ fn half_grid(
     t0: f64,
     period: f64,
     ns: usize,
-    fine: &crate::linalg::RealLu,
+    fine: &Jacobian,
+    products: &mut usize,
 ) -> Result<Option<Vec<Vec<f64>>>, SolveError> {
     let half = ns / 2;
     if half < 8 {
         return Ok(None);
     }
     let h = period / half as f64;
+    let own_sens = match fine {
+        Jacobian::Dense(_) => Sens::Dense,
+        Jacobian::Free(_) => Sens::Record,
+    };
     let mut x = x0.to_vec();
-    let mut own: Option<crate::linalg::RealLu> = None;
+    let mut own: Option<Jacobian> = None;
     let mut need_sens = false;
     let mut prev = f64::INFINITY;
     for _ in 0..params.shooting.max_iter {
-        let run = integrate_period(st, devices, &x, t0, h, half, need_sens)?;
+        let sens = if need_sens { own_sens } else { Sens::None };
+        let run = integrate_period(st, devices, &x, t0, h, half, sens)?;
         let r: Vec<f64> = run.end.iter().zip(&x).map(|(a, b)| a - b).collect();
         let scale = scales(devices, params, &run);
         let worst = worst_ratio(&r, &scale, devices, st.t)?.0;
         if let Some(phi) = &run.monodromy {
-            own = Some(factor_monodromy(phi, devices, t0)?);
+            own = Some(Jacobian::Dense(Box::new(factor_monodromy(
+                phi, devices, t0,
+            )?)));
+        } else if let Some(lin) = run.lin {
+            own = Some(Jacobian::Free(lin));
         }
-        let lu = own.as_ref().unwrap_or(fine);
-        let mut dx: Vec<f64> = r.iter().map(|v| -v).collect();
-        lu.solve(&mut dx);
+        let jac = own.as_ref().unwrap_or(fine);
+        let dx = jac.solve(&r, &scale, devices, t0, products)?;
         let update = worst_ratio(&dx, &scale, devices, st.t)?.0;
         if worst <= 1.0 && update <= 1.0 {
             return Ok(Some(run.samples));
         }
-        need_sens = run.monodromy.is_none() && worst > CHORD_CONTRACTION * prev;
+        need_sens = !need_sens && worst > CHORD_CONTRACTION * prev;
         prev = worst;
         for (a, d) in x.iter_mut().zip(&dx) {
             *a += d;
@@ -496,4 +876,30 @@ fn factor(st: &mut Stepper<'_>, devices: &DeviceSet, t: f64) -> Result<(), Solve
         cause: crate::singular::cause(&ws.jac, n, k, devices),
         when: crate::error::When(Some(t)),
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn stored_factors_are_bounded_in_memory() {
+        // the N = 16 bench circuit at the default grid fits (about 73 MiB)
+        assert!(record_fits(212, 256));
+        // the largest grid a file may ask for does not, even for the demo
+        // stage (about 990 MiB): dense Φ then
+        assert!(!record_fits(212, 65_536));
+        assert!(!record_fits(17, 65_536));
+        // the demo stage on 4,096 steps a period does (about 62 MiB)
+        assert!(record_fits(17, 4_096));
+        assert_eq!(
+            ShootingMode::Auto.resolve(MATRIX_FREE_FROM - 1),
+            ShootingMode::Dense
+        );
+        assert_eq!(
+            ShootingMode::Auto.resolve(MATRIX_FREE_FROM),
+            ShootingMode::MatrixFree
+        );
+        assert_eq!(ShootingMode::Dense.resolve(10_000), ShootingMode::Dense);
+    }
 }
