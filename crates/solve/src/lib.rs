@@ -42,6 +42,7 @@
 
 pub mod ac;
 pub mod error;
+pub mod gmres;
 pub mod linalg;
 mod newton;
 pub mod op;

@@ -115,6 +115,18 @@ const ZERO: C64 = C64 { re: 0.0, im: 0.0 };
 /// Largest real Newton system (dense: its Jacobian takes 8·n² bytes, and
 /// the LU a copy); a raise of K stops short of it, a request above it is refused.
 const MAX_SYSTEM: usize = 5000;
+/// Largest real Newton system solved by GMRES (it stores the devices' G(t),
+/// C(t) over their pattern and the reduced network per harmonic, never the
+/// Jacobian); a raise of K stops short of it, a request above it is refused.
+const MAX_KRYLOV_SYSTEM: usize = 100_000;
+/// Most complex entries of the reduced linear network over every harmonic,
+/// `(K+1)·p²` (16 bytes each: 256 MB).
+const MAX_NETWORK_ENTRIES: usize = 16 << 20;
+/// Relative residual GMRES reaches in a Newton step, `‖J δ + R‖ ≤ η ‖R‖`:
+/// an inexact Newton step with η this small converges as the exact one to
+/// well below the Newton tolerances (common practice: η ≪ the ratio of
+/// successive Newton residuals near convergence).
+const KRYLOV_TOLERANCE: f64 = 1e-7;
 /// Pivots below this fraction of the largest entry count as zero.
 const PIVOT_FLOOR: f64 = 1e-14;
 /// Relative tolerance of the source periodicity check (common practice: well
@@ -158,7 +170,14 @@ pub struct BalanceParams {
     /// true): each sample keeps its own limiting state, as a DC Newton would,
     /// and convergence needs no sample limited.
     pub limit: bool,
+    /// Real Newton system size from which the step is solved by GMRES with a
+    /// block-diagonal preconditioner instead of a dense LU of the Jacobian
+    /// (default [`KRYLOV_FROM`], measured: docs/performance.md).
+    pub krylov_from: usize,
 }
+
+/// Default of [`BalanceParams::krylov_from`].
+pub const KRYLOV_FROM: usize = 400;
 
 impl Default for BalanceParams {
     fn default() -> Self {
@@ -177,6 +196,7 @@ impl Default for BalanceParams {
             junction_leak: 1e-12,
             max_halvings: 12,
             limit: true,
+            krylov_from: KRYLOV_FROM,
         }
     }
 }
@@ -201,6 +221,8 @@ pub struct BalanceInfo {
     pub line_search_cuts: usize,
     /// Largest top-band harmonic over its limit (≤ 1: truncation negligible).
     pub truncation: f64,
+    /// GMRES products over every Newton step (0: every step by dense LU).
+    pub krylov_iterations: usize,
 }
 
 /// Periodic steady state by harmonic balance.
@@ -240,6 +262,7 @@ pub fn balance(
     let mut total_iter = 0usize;
     let mut cuts = 0usize;
     let mut levels = 0usize;
+    let mut krylov = 0usize;
     let mut best: Option<Solved> = None;
     let mut warm: Option<Vec<Vec<C64>>> = None;
     loop {
@@ -266,6 +289,7 @@ pub fn balance(
                             iterations: total_iter,
                             cuts,
                             levels,
+                            krylov,
                         };
                         return finish(circuit, devices, params, b, tried, t);
                     }
@@ -276,8 +300,9 @@ pub fn balance(
         total_iter += solved.iterations;
         cuts += solved.cuts;
         levels += solved.continuation_steps;
+        krylov += solved.krylov_iterations;
         let next = (2 * k).min(bp.max_harmonics);
-        let fits = solved.ports * (2 * next + 1) <= MAX_SYSTEM;
+        let fits = fits(solved.ports, next, bp);
         let more = solved.truncation > 1.0 && bp.raise_harmonics && k < bp.max_harmonics && fits;
         warm = Some(solved.x_full.clone());
         best = Some(solved);
@@ -292,6 +317,7 @@ pub fn balance(
                 iterations: total_iter,
                 cuts,
                 levels,
+                krylov,
             };
             finish(circuit, devices, params, b, tried, t)
         }
@@ -455,12 +481,16 @@ impl Fft {
     }
 }
 
-/// A stamp into the port-restricted i, q, G, C (p and p×p).
+/// A stamp into the port-restricted i, q (length p) and G, C, kept sparse:
+/// the (row, column) pairs the nonlinear devices stamp, in the order first
+/// seen (`pattern`, grown as new pairs appear), with their values per sample.
 struct PortStamp<'a> {
     port_of: &'a [Option<usize>],
-    p: usize,
     i: Vec<f64>,
     q: Vec<f64>,
+    /// Position of each (row, column) in `pattern`.
+    index: std::collections::HashMap<(usize, usize), usize>,
+    pattern: Vec<(usize, usize)>,
     g: Vec<f64>,
     c: Vec<f64>,
     escaped: bool,
@@ -482,6 +512,17 @@ impl PortStamp<'_> {
         self.g.fill(0.0);
         self.c.fill(0.0);
     }
+    /// Position of (r, c) in the pattern, added when new.
+    fn slot(&mut self, r: usize, c: usize) -> usize {
+        let next = self.pattern.len();
+        let e = *self.index.entry((r, c)).or_insert(next);
+        if e == next {
+            self.pattern.push((r, c));
+            self.g.push(0.0);
+            self.c.push(0.0);
+        }
+        e
+    }
 }
 
 impl Stamp for PortStamp<'_> {
@@ -497,12 +538,14 @@ impl Stamp for PortStamp<'_> {
     }
     fn add_g(&mut self, row: Idx, col: Idx, v: f64) {
         if let (Some(Some(r)), Some(Some(c))) = (self.port(row), self.port(col)) {
-            self.g[r * self.p + c] += v;
+            let e = self.slot(r, c);
+            self.g[e] += v;
         }
     }
     fn add_c(&mut self, row: Idx, col: Idx, v: f64) {
         if let (Some(Some(r)), Some(Some(c))) = (self.port(row), self.port(col)) {
-            self.c[r * self.p + c] += v;
+            let e = self.slot(r, c);
+            self.c[e] += v;
         }
     }
 }
@@ -816,9 +859,14 @@ struct NlEval {
     /// `[k][r]`, k ≤ K.
     i: Vec<Vec<C64>>,
     q: Vec<Vec<C64>>,
-    /// `[m][r·p + c]`, m ≤ 2K.
+    /// The (row, column) port pairs of G and C that the devices stamp.
+    pattern: Vec<(usize, usize)>,
+    /// `[m][e]` for the pattern entry `e`, m ≤ 2K.
     g: Vec<Vec<C64>>,
     c: Vec<Vec<C64>>,
+    /// `[e][sample]`: G and C over the period, for the matrix-free product.
+    gt: Vec<Vec<f64>>,
+    ct: Vec<Vec<f64>>,
 }
 
 /// One harmonic-balance problem at a fixed K.
@@ -827,7 +875,10 @@ struct Problem<'a> {
     red: Reduced,
     port_of: Vec<Option<usize>>,
     kmax: usize,
-    omega: f64,
+    /// Angular frequency of each harmonic slot `k = 0..=K` (`k·ω` for one
+    /// tone): the blocks of the linear network, the `jω Q` terms and the
+    /// preconditioner read it from here, not from `k`.
+    freqs: Vec<f64>,
     t_start: f64,
     period: f64,
     junction_leak: f64,
@@ -843,6 +894,13 @@ struct Problem<'a> {
     /// Limiting state of the devices at every sample (`N × state_len`),
     /// from the last converged solve.
     states: Vec<f64>,
+    /// The G, C pattern learnt so far (see [`PortStamp`]).
+    index: std::collections::HashMap<(usize, usize), usize>,
+    pattern: Vec<(usize, usize)>,
+    /// Solve the Newton system by GMRES (see [`BalanceParams::krylov_from`]).
+    krylov: bool,
+    /// GMRES products over every Newton step of this problem.
+    krylov_iterations: usize,
 }
 
 /// Why a Newton solve at one drive level stopped.
@@ -922,7 +980,7 @@ impl<'a> Problem<'a> {
             red,
             port_of,
             kmax,
-            omega,
+            freqs: (0..=kmax).map(|k| k as f64 * omega).collect(),
             t_start,
             period: 1.0 / params.freq,
             junction_leak: params.balance.junction_leak,
@@ -933,6 +991,10 @@ impl<'a> Problem<'a> {
             max_halvings: params.balance.max_halvings,
             limit: params.balance.limit,
             states: devices.initial_state().repeat(nfft),
+            index: std::collections::HashMap::new(),
+            pattern: Vec::new(),
+            krylov: false,
+            krylov_iterations: 0,
         }
     }
 
@@ -962,18 +1024,20 @@ impl<'a> Problem<'a> {
         }
         let mut it = vec![vec![0.0; ns]; p];
         let mut qt = vec![vec![0.0; ns]; p];
-        let mut gt = vec![vec![0.0; ns]; p * p];
-        let mut ct = vec![vec![0.0; ns]; p * p];
+        let nnz = self.pattern.len();
+        let mut gt = vec![vec![0.0; ns]; nnz];
+        let mut ct = vec![vec![0.0; ns]; nnz];
         let mut xs = vec![0.0; n];
         let sl = self.devices.state_len;
         let mut limited = false;
         let mut st = PortStamp {
             port_of: &self.port_of,
-            p,
             i: vec![0.0; p],
             q: vec![0.0; p],
-            g: vec![0.0; p * p],
-            c: vec![0.0; p * p],
+            index: std::mem::take(&mut self.index),
+            pattern: std::mem::take(&mut self.pattern),
+            g: vec![0.0; nnz],
+            c: vec![0.0; nnz],
             escaped: false,
         };
         for s in 0..ns {
@@ -997,12 +1061,19 @@ impl<'a> Problem<'a> {
                 it[r][s] = st.i[r];
                 qt[r][s] = st.q[r];
             }
-            for e in 0..p * p {
-                gt[e][s] = st.g[e];
-                ct[e][s] = st.c[e];
+            // a pair first stamped at this sample was zero before it
+            gt.resize(st.pattern.len(), vec![0.0; ns]);
+            ct.resize(st.pattern.len(), vec![0.0; ns]);
+            for (e, (g, c)) in st.g.iter().zip(&st.c).enumerate() {
+                gt[e][s] = *g;
+                ct[e][s] = *c;
             }
         }
-        if st.escaped {
+        let escaped = st.escaped;
+        self.index = st.index;
+        self.pattern = st.pattern;
+        let nnz = self.pattern.len();
+        if escaped {
             return Err(Fail::Escaped { iterations: 0 });
         }
         let nonfinite = |v: &[Vec<f64>]| v.iter().position(|w| w.iter().any(|a| !a.is_finite()));
@@ -1015,14 +1086,17 @@ impl<'a> Problem<'a> {
         if let Some(e) = nonfinite(&gt).or(nonfinite(&ct)) {
             return Err(Fail::NonFinite {
                 iterations: 0,
-                port: e / p.max(1),
+                port: self.pattern.get(e).map_or(0, |rc| rc.0),
             });
         }
         let mut ev = NlEval {
             i: vec![vec![ZERO; p]; kmax + 1],
             q: vec![vec![ZERO; p]; kmax + 1],
-            g: vec![vec![ZERO; p * p]; 2 * kmax + 1],
-            c: vec![vec![ZERO; p * p]; 2 * kmax + 1],
+            pattern: self.pattern.clone(),
+            g: vec![vec![ZERO; nnz]; 2 * kmax + 1],
+            c: vec![vec![ZERO; nnz]; 2 * kmax + 1],
+            gt: Vec::new(),
+            ct: Vec::new(),
         };
         let mut c1 = vec![ZERO; kmax + 1];
         let mut c2 = vec![ZERO; 2 * kmax + 1];
@@ -1036,7 +1110,7 @@ impl<'a> Problem<'a> {
                 dst[r] = *v;
             }
         }
-        for e in 0..p * p {
+        for e in 0..nnz {
             if gt[e].iter().any(|v| *v != 0.0) {
                 self.fft.forward(&gt[e], &mut c2);
                 for (dst, v) in ev.g.iter_mut().zip(&c2) {
@@ -1050,6 +1124,8 @@ impl<'a> Problem<'a> {
                 }
             }
         }
+        ev.gt = gt;
+        ev.ct = ct;
         Ok((ev, limited))
     }
 
@@ -1059,7 +1135,7 @@ impl<'a> Problem<'a> {
         let mut res = vec![ZERO; (self.kmax + 1) * p];
         let mut scale = vec![0.0f64; p];
         for k in 0..=self.kmax {
-            let w = k as f64 * self.omega;
+            let w = self.freqs[k];
             let y = &self.red.yhat[k];
             for r in 0..p {
                 let mut yx = ZERO;
@@ -1124,29 +1200,40 @@ impl<'a> Problem<'a> {
             }
         };
         for k in 0..=kmax {
-            let w = k as f64 * self.omega;
+            let w = self.freqs[k];
             let rows: [Option<usize>; 2] = if k == 0 {
                 [Some(0), None]
             } else {
                 [Some(2 * k - 1), Some(2 * k)]
             };
             for l in 0..=kmax {
-                for r in 0..p {
-                    for c in 0..p {
-                        let e = r * p + c;
-                        let y = if k == l { self.red.yhat[k][e] } else { ZERO };
-                        let (da, db) = if l == 0 {
-                            (ev.g[k][e] + J * w * ev.c[k][e] + y, None)
-                        } else {
+                // the linear network on the diagonal blocks (dense p×p), then
+                // the conversion matrices over the devices' pattern
+                let ylin = (k == l).then(|| (0..p * p).map(move |e| (e / p, e % p, None::<usize>)));
+                let conv = ev
+                    .pattern
+                    .iter()
+                    .enumerate()
+                    .map(|(e, &(r, c))| (r, c, Some(e)));
+                for (r, c, e) in ylin.into_iter().flatten().chain(conv) {
+                    let (da, db) = match e {
+                        None => {
+                            let y = self.red.yhat[k][r * p + c];
+                            (y, (l > 0).then_some(J * y))
+                        }
+                        Some(e) if l == 0 => (ev.g[k][e] + J * w * ev.c[k][e], None),
+                        Some(e) => {
                             let (km, kp) = (k as isize - l as isize, (k + l) as isize);
                             let gm = ghat(km, e, &ev.g);
                             let gp = ghat(kp, e, &ev.g);
                             let cm = ghat(km, e, &ev.c);
                             let cp = ghat(kp, e, &ev.c);
-                            let da = gm + gp + J * w * (cm + cp) + y;
-                            let db = J * (gm - gp) - w * (cm - cp) + J * y;
+                            let da = gm + gp + J * w * (cm + cp);
+                            let db = J * (gm - gp) - w * (cm - cp);
                             (da, Some(db))
-                        };
+                        }
+                    };
+                    {
                         let cols: [usize; 2] = if l == 0 {
                             [c, usize::MAX]
                         } else {
@@ -1166,6 +1253,148 @@ impl<'a> Problem<'a> {
             }
         }
         jac
+    }
+
+    /// The Newton step by GMRES: on entry `b = −R` (real layout), on
+    /// success the step. The Jacobian is never formed: its product with a
+    /// vector is the linear network per harmonic plus the devices' G(t),
+    /// C(t) applied sample by sample ([`Problem::jacobian_product`]); the
+    /// preconditioner is block-diagonal over the harmonics (each block the
+    /// linear network plus the period average of G and C, P. Feldmann,
+    /// R. C. Melville, D. Long, "Efficient frequency domain analysis of large
+    /// nonlinear analog circuits", CICC 1996, from memory). Returns false
+    /// (and leaves `b`) when a block is singular or GMRES does not reach its
+    /// tolerance: the caller then factors the full Jacobian.
+    fn krylov_step(&mut self, ev: &NlEval, b: &mut [f64]) -> bool {
+        let p = self.p();
+        let Some(blocks) = self.preconditioner(ev) else {
+            return false;
+        };
+        let precond = |v: &[f64], out: &mut [f64]| {
+            let mut z = Mat::<C64>::zeros(p, 1);
+            for (k, lu) in blocks.iter().enumerate() {
+                for r in 0..p {
+                    z[(r, 0)] = if k == 0 {
+                        C64::new(v[r], 0.0)
+                    } else {
+                        C64::new(v[(2 * k - 1) * p + r], v[2 * k * p + r])
+                    };
+                }
+                lu.solve_in_place(z.as_mut());
+                for r in 0..p {
+                    if k == 0 {
+                        out[r] = z[(r, 0)].re;
+                    } else {
+                        out[(2 * k - 1) * p + r] = z[(r, 0)].re;
+                        out[2 * k * p + r] = z[(r, 0)].im;
+                    }
+                }
+            }
+        };
+        let mut fft = Fft::new(self.fft.n);
+        let mut x = vec![0.0; b.len()];
+        let info = crate::gmres::gmres(
+            |v, out| self.jacobian_product(ev, &mut fft, v, out),
+            precond,
+            b,
+            &mut x,
+            &crate::gmres::GmresParams {
+                rel_tolerance: KRYLOV_TOLERANCE,
+                restart: 60,
+                max_iter: 600,
+            },
+        );
+        self.krylov_iterations += info.iterations;
+        // Above the dense limit there is nothing to fall back to: a step that
+        // halves the linear residual still descends (the line search guards).
+        let take = info.converged || (self.size() > MAX_SYSTEM && info.residual < 0.5);
+        if take {
+            b.copy_from_slice(&x);
+        }
+        take
+    }
+
+    /// Per harmonic `k`: the LU of `Ŷ_k + Ĝ₀ + jω_k Ĉ₀` (`None` when one is singular).
+    fn preconditioner(&self, ev: &NlEval) -> Option<Vec<faer::linalg::solvers::PartialPivLu<C64>>> {
+        let p = self.p();
+        (0..=self.kmax)
+            .map(|k| {
+                let w = self.freqs[k];
+                let mut a = Mat::<C64>::from_fn(p, p, |r, c| self.red.yhat[k][r * p + c]);
+                for (e, &(r, c)) in ev.pattern.iter().enumerate() {
+                    a[(r, c)] += ev.g[0][e] + J * w * ev.c[0][e];
+                }
+                complex_lu(a).ok()
+            })
+            .collect()
+    }
+
+    /// `out = J v` for the real Newton layout, without forming `J`: per
+    /// harmonic the reduced linear network `Ŷ_k V_k`, plus the devices'
+    /// `G(t) v(t)` and `C(t) v(t)` on the evaluation grid transformed back
+    /// (`δI_k + jω_k δQ_k`). On the grid of `N ≥ 4K` samples this is
+    /// exactly the product with the conversion-matrix Jacobian of
+    /// [`Problem::jacobian`] (no aliasing onto the kept harmonics).
+    fn jacobian_product(&self, ev: &NlEval, fft: &mut Fft, v: &[f64], out: &mut [f64]) {
+        let p = self.p();
+        let kmax = self.kmax;
+        let ns = fft.n;
+        let at = |k: usize, r: usize| {
+            if k == 0 {
+                C64::new(v[r], 0.0)
+            } else {
+                C64::new(v[(2 * k - 1) * p + r], v[2 * k * p + r])
+            }
+        };
+        let mut acc = vec![ZERO; (kmax + 1) * p];
+        for k in 0..=kmax {
+            let y = &self.red.yhat[k];
+            for r in 0..p {
+                let mut s = ZERO;
+                for c in 0..p {
+                    s += y[r * p + c] * at(k, c);
+                }
+                acc[k * p + r] = s;
+            }
+        }
+        let mut coef = vec![ZERO; kmax + 1];
+        let mut vt = vec![vec![0.0; ns]; p];
+        for (r, w) in vt.iter_mut().enumerate() {
+            for (k, c) in coef.iter_mut().enumerate() {
+                *c = at(k, r);
+            }
+            fft.inverse(&coef, w);
+        }
+        let mut it = vec![vec![0.0; ns]; p];
+        let mut qt = vec![vec![0.0; ns]; p];
+        for (e, &(r, c)) in ev.pattern.iter().enumerate() {
+            let (g, cc, x) = (&ev.gt[e], &ev.ct[e], &vt[c]);
+            for s in 0..ns {
+                it[r][s] += g[s] * x[s];
+                qt[r][s] += cc[s] * x[s];
+            }
+        }
+        for r in 0..p {
+            fft.forward(&it[r], &mut coef);
+            for k in 0..=kmax {
+                acc[k * p + r] += coef[k];
+            }
+            fft.forward(&qt[r], &mut coef);
+            for k in 0..=kmax {
+                acc[k * p + r] += J * self.freqs[k] * coef[k];
+            }
+        }
+        for k in 0..=kmax {
+            for r in 0..p {
+                let a = acc[k * p + r];
+                if k == 0 {
+                    out[r] = a.re;
+                } else {
+                    out[(2 * k - 1) * p + r] = a.re;
+                    out[2 * k * p + r] = a.im;
+                }
+            }
+        }
     }
 
     /// Newton with line search at drive `s` from `x` (updated in place).
@@ -1210,17 +1439,6 @@ impl<'a> Problem<'a> {
             if it == max_iter {
                 break;
             }
-            let jac = self.jacobian(&ev);
-            lu.factor(&jac).map_err(|slot| Fail::Singular {
-                iterations: it,
-                slot,
-                cause: crate::singular::cause_mapped(
-                    &jac,
-                    m,
-                    |j| self.red.ports.get(j % p.max(1)).copied().unwrap_or(0),
-                    self.devices,
-                ),
-            })?;
             let mut dx = vec![0.0; m];
             for k in 0..=kmax {
                 for r in 0..p {
@@ -1233,7 +1451,28 @@ impl<'a> Problem<'a> {
                     }
                 }
             }
-            lu.solve(&mut dx);
+            let solved_by_krylov = self.krylov && self.krylov_step(&ev, &mut dx);
+            if !solved_by_krylov && m > MAX_SYSTEM {
+                return Err(Fail::NoConvergence {
+                    iterations: it + 1,
+                    worst: last.1,
+                    residual: last.2,
+                });
+            }
+            if !solved_by_krylov {
+                let jac = self.jacobian(&ev);
+                lu.factor(&jac).map_err(|slot| Fail::Singular {
+                    iterations: it,
+                    slot,
+                    cause: crate::singular::cause_mapped(
+                        &jac,
+                        m,
+                        |j| self.red.ports.get(j % p.max(1)).copied().unwrap_or(0),
+                        self.devices,
+                    ),
+                })?;
+                lu.solve(&mut dx);
+            }
             if let Some(e) = dx.iter().position(|v| !v.is_finite()) {
                 return Err(Fail::NonFinite {
                     iterations: it,
@@ -1427,7 +1666,41 @@ struct Solved {
     continuation_steps: usize,
     truncation: f64,
     system_size: usize,
+    krylov_iterations: usize,
     t_start: f64,
+}
+
+/// Largest real Newton system for the options: the GMRES limit when GMRES
+/// takes over below the dense limit, else the dense limit.
+fn max_system(bp: &BalanceParams) -> usize {
+    if bp.krylov_from <= MAX_SYSTEM {
+        MAX_KRYLOV_SYSTEM
+    } else {
+        MAX_SYSTEM
+    }
+}
+
+/// Whether `p` ports at `kmax` harmonics fit the limits (checked before
+/// anything of that size is allocated).
+fn fits(p: usize, kmax: usize, bp: &BalanceParams) -> bool {
+    let size = p.saturating_mul(2 * kmax + 1);
+    let entries = p.saturating_mul(p).saturating_mul(kmax + 1);
+    size <= max_system(bp) && entries <= MAX_NETWORK_ENTRIES
+}
+
+fn check_size(p: usize, kmax: usize, bp: &BalanceParams) -> Result<(), SolveError> {
+    if fits(p, kmax, bp) {
+        return Ok(());
+    }
+    Err(SolveError::BadParams(format!(
+        "harmonic balance: the Newton system would have {} unknowns ({p} ports × {} \
+         real harmonic terms) and the linear network {} entries over the harmonics; \
+         the limits are {} unknowns and {MAX_NETWORK_ENTRIES} entries; use fewer harmonics",
+        p.saturating_mul(2 * kmax + 1),
+        2 * kmax + 1,
+        p.saturating_mul(p).saturating_mul(kmax + 1),
+        max_system(bp),
+    )))
 }
 
 /// FFT size of the nonlinear evaluation for `k` harmonics.
@@ -1456,6 +1729,7 @@ fn solve_k(
     let lin = linear_network(devices, kmax, &mut fft, t_start, period, bp.junction_leak)
         .map_err(|e| (e, 0, 0))?;
     let all: Vec<usize> = (0..n).collect();
+    check_size(ports_structural.len(), kmax, bp).map_err(|e| (e, 0, 0))?;
     let singular = |f: ReduceFail| {
         (
             SolveError::Singular {
@@ -1478,32 +1752,27 @@ fn solve_k(
             0,
         )
     };
+    let reduce_all = || {
+        check_size(n, kmax, bp).map_err(|e| (e, 0, 0))?;
+        reduce(&lin, &all, kmax, omega).map_err(singular)
+    };
     let red = match reduce_growing(&lin, ports_structural, kmax, omega) {
         Ok(r) => r,
-        Err(_) => reduce(&lin, &all, kmax, omega).map_err(singular)?,
+        Err(_) => reduce_all()?,
     };
     let reduced = !red.others.is_empty();
-    let size = red.ports.len() * (2 * kmax + 1);
-    if size > MAX_SYSTEM {
-        return Err((
-            SolveError::BadParams(format!(
-                "harmonic balance: the Newton system would have {size} unknowns \
-                 ({} ports × {} real harmonic terms), above the limit of {MAX_SYSTEM}; \
-                 use fewer harmonics",
-                red.ports.len(),
-                2 * kmax + 1
-            )),
-            0,
-            0,
-        ));
-    }
+    check_size(red.ports.len(), kmax, bp).map_err(|e| (e, 0, 0))?;
+    let krylov = red.ports.len() * (2 * kmax + 1) >= bp.krylov_from;
     let mut prob = Problem::new(devices, red, kmax, nfft, omega, t_start, params);
+    prob.krylov = krylov;
     let attempt = run_levels(&mut prob, params, x_op, warm);
     let attempt = match attempt {
         Err((Fail::Escaped { .. }, _, _)) if reduced => {
             // A device stamped outside the structural ports: keep every unknown.
-            let red = reduce(&lin, &all, kmax, omega).map_err(singular)?;
+            let red = reduce_all()?;
+            let krylov = red.ports.len() * (2 * kmax + 1) >= bp.krylov_from;
             prob = Problem::new(devices, red, kmax, nfft, omega, t_start, params);
+            prob.krylov = krylov;
             run_levels(&mut prob, params, x_op, warm)
         }
         other => other,
@@ -1539,6 +1808,7 @@ fn solve_k(
         ports: prob.p(),
         reduced,
         system_size: prob.size(),
+        krylov_iterations: prob.krylov_iterations,
         x_full,
         iterations,
         cuts,
@@ -1685,6 +1955,7 @@ struct Totals {
     iterations: usize,
     cuts: usize,
     levels: usize,
+    krylov: usize,
 }
 
 /// Build the [`PeriodicSolution`] from a converged solve.
@@ -1745,6 +2016,7 @@ fn finish(
                 continuation_steps: totals.levels,
                 line_search_cuts: totals.cuts,
                 truncation: sol.truncation,
+                krylov_iterations: totals.krylov,
             }),
             shooting: None,
             floquet: None,
