@@ -99,10 +99,9 @@
 use super::sample::{sample_currents, transport_currents, Derivative, Grid};
 use super::{start_time, PeriodicSolution, SteadyInfo, SteadyParams};
 use crate::error::When;
-use crate::linalg::{LinearSolver, RealLu};
+use crate::linalg::{DenseLu, LinearSolver, RealLu};
 use crate::op::{solve_op, OpParams};
 use crate::SolveError;
-use faer::linalg::solvers::Solve;
 use faer::Mat;
 use num_complex::Complex64 as C64;
 use realfft::{ComplexToReal, RealFftPlanner, RealToComplex};
@@ -673,7 +672,7 @@ fn linear_network(
 }
 
 /// Dense complex LU with a pivot check.
-fn complex_lu(m: Mat<C64>) -> Result<faer::linalg::solvers::PartialPivLu<C64>, usize> {
+fn complex_lu(m: Mat<C64>) -> Result<DenseLu<C64>, usize> {
     let n = m.nrows();
     let mut amax = 0.0f64;
     for j in 0..n {
@@ -684,7 +683,7 @@ fn complex_lu(m: Mat<C64>) -> Result<faer::linalg::solvers::PartialPivLu<C64>, u
     if !(amax > 0.0 && amax.is_finite()) {
         return Err(0);
     }
-    let lu = m.partial_piv_lu();
+    let lu = DenseLu::new(m);
     let u = lu.U();
     for k in 0..n {
         let pivot = u[(k, k)].norm();
@@ -1315,7 +1314,7 @@ impl<'a> Problem<'a> {
     }
 
     /// Per harmonic `k`: the LU of `Ŷ_k + Ĝ₀ + jω_k Ĉ₀` (`None` when one is singular).
-    fn preconditioner(&self, ev: &NlEval) -> Option<Vec<faer::linalg::solvers::PartialPivLu<C64>>> {
+    fn preconditioner(&self, ev: &NlEval) -> Option<Vec<DenseLu<C64>>> {
         let p = self.p();
         (0..=self.kmax)
             .map(|k| {
