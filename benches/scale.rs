@@ -68,10 +68,19 @@ fn main() {
             };
             let mut times = Vec::new();
             let mut its = 0;
+            let mut detail = String::new();
             for _ in 0..repeats {
                 let s = Instant::now();
                 match tankwave_solve::steady(&c, &d, &p) {
-                    Ok(r) => its = r.info.iterations,
+                    Ok(r) => {
+                        its = r.info.iterations;
+                        if let Some(b) = &r.info.balance {
+                            detail = format!(
+                                "K {:?}, {} ports, {} GMRES products",
+                                b.harmonics_tried, b.ports, b.krylov_iterations
+                            );
+                        }
+                    }
                     Err(e) => {
                         println!("{n:>4} {name}: failed: {e}");
                         break;
@@ -86,7 +95,7 @@ fn main() {
             let base = *first[m].get_or_insert(t);
             last[m] = (n, t);
             println!(
-                "{:>4} {:>10} {:<9} {:>10.4} {:>6} {:>10.2}",
+                "{:>4} {:>10} {:<9} {:>10.4} {:>6} {:>10.2}   {detail}",
                 n,
                 d.n_unknowns,
                 name,

@@ -1338,39 +1338,53 @@ impl<'a> Problem<'a> {
         let p = self.p();
         let kmax = self.kmax;
         let ns = fft.n;
-        let at = |k: usize, r: usize| {
-            if k == 0 {
-                C64::new(v[r], 0.0)
-            } else {
-                C64::new(v[(2 * k - 1) * p + r], v[2 * k * p + r])
+        // v as complex harmonics [k·p + r]
+        let mut xc = vec![ZERO; (kmax + 1) * p];
+        xc[..p]
+            .iter_mut()
+            .zip(&v[..p])
+            .for_each(|(x, a)| *x = C64::new(*a, 0.0));
+        for k in 1..=kmax {
+            let (re, im) = (
+                &v[(2 * k - 1) * p..2 * k * p],
+                &v[2 * k * p..(2 * k + 1) * p],
+            );
+            for ((x, a), b) in xc[k * p..(k + 1) * p].iter_mut().zip(re).zip(im) {
+                *x = C64::new(*a, *b);
             }
-        };
+        }
         let mut acc = vec![ZERO; (kmax + 1) * p];
         for k in 0..=kmax {
-            let y = &self.red.yhat[k];
-            for r in 0..p {
-                let mut s = ZERO;
-                for c in 0..p {
-                    s += y[r * p + c] * at(k, c);
+            let xk = &xc[k * p..(k + 1) * p];
+            for (a, yrow) in acc[k * p..(k + 1) * p]
+                .iter_mut()
+                .zip(self.red.yhat[k].chunks_exact(p.max(1)))
+            {
+                let (mut sr, mut si) = (0.0, 0.0);
+                for (y, x) in yrow.iter().zip(xk) {
+                    sr += y.re * x.re - y.im * x.im;
+                    si += y.re * x.im + y.im * x.re;
                 }
-                acc[k * p + r] = s;
+                *a = C64::new(sr, si);
             }
         }
         let mut coef = vec![ZERO; kmax + 1];
         let mut vt = vec![vec![0.0; ns]; p];
         for (r, w) in vt.iter_mut().enumerate() {
             for (k, c) in coef.iter_mut().enumerate() {
-                *c = at(k, r);
+                *c = xc[k * p + r];
             }
             fft.inverse(&coef, w);
         }
         let mut it = vec![vec![0.0; ns]; p];
         let mut qt = vec![vec![0.0; ns]; p];
         for (e, &(r, c)) in ev.pattern.iter().enumerate() {
-            let (g, cc, x) = (&ev.gt[e], &ev.ct[e], &vt[c]);
-            for s in 0..ns {
-                it[r][s] += g[s] * x[s];
-                qt[r][s] += cc[s] * x[s];
+            let x = &vt[c];
+            for ((d, g), xs) in it[r].iter_mut().zip(&ev.gt[e]).zip(x) {
+                *d += g * xs;
+            }
+            for ((d, g), xs) in qt[r].iter_mut().zip(&ev.ct[e]).zip(x) {
+                *d += g * xs;
             }
         }
         for r in 0..p {
@@ -1383,15 +1397,15 @@ impl<'a> Problem<'a> {
                 acc[k * p + r] += J * self.freqs[k] * coef[k];
             }
         }
-        for k in 0..=kmax {
+        out[..p]
+            .iter_mut()
+            .zip(&acc[..p])
+            .for_each(|(o, a)| *o = a.re);
+        for k in 1..=kmax {
             for r in 0..p {
                 let a = acc[k * p + r];
-                if k == 0 {
-                    out[r] = a.re;
-                } else {
-                    out[(2 * k - 1) * p + r] = a.re;
-                    out[2 * k * p + r] = a.im;
-                }
+                out[(2 * k - 1) * p + r] = a.re;
+                out[2 * k * p + r] = a.im;
             }
         }
     }
