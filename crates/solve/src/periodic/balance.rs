@@ -53,7 +53,19 @@
 //!   `∂R_k/∂a_l = Ĝ_{k−l} + Ĝ_{k+l} + jkω(Ĉ_{k−l} + Ĉ_{k+l}) + [k=l] Ŷ_k` and
 //!   `∂R_k/∂b_l = j(Ĝ_{k−l} − Ĝ_{k+l}) − kω(Ĉ_{k−l} − Ĉ_{k+l}) + [k=l] jŶ_k`
 //!   (for `l = 0` only `Ĝ_k + jkωĈ_k`). It is the exact derivative of the
-//!   discrete residual; it is factored by dense LU with partial pivoting.
+//!   discrete residual. Below [`BalanceParams::krylov_from`] real unknowns it
+//!   is assembled over the devices' (row, column) pattern only and factored
+//!   by dense LU with partial pivoting; from there on it is never formed:
+//!   the step is solved by restarted GMRES ([`crate::gmres`]) with the
+//!   product `J v` computed per harmonic (`Ŷ_k V_k`) plus `G(t) v(t)`,
+//!   `C(t) v(t)` sample by sample on the evaluation grid (the same numbers as
+//!   the conversion matrices), and a block-diagonal preconditioner, one
+//!   `p×p` LU per harmonic of `Ŷ_k + Ĝ₀ + jω_k Ĉ₀` (P. Feldmann,
+//!   R. C. Melville, D. Long, CICC 1996, from memory). The frequency of each
+//!   harmonic slot is data (`Problem::freqs`), so another frequency set
+//!   (several tones) reuses the blocks; only the transform between the
+//!   harmonics and the samples is single-tone. When GMRES does not reach
+//!   its tolerance the step falls back to the dense LU (below its limit).
 //!
 //! # Convergence aids
 //! 1. Start from the operating point at zero drive (the exact solution at
@@ -152,7 +164,9 @@ pub struct BalanceParams {
     /// Double K while the top harmonics are not negligible (default true).
     pub raise_harmonics: bool,
     /// Cap on the raised K (default 128). K is also never raised past a Newton
-    /// system of 5000 real unknowns (ports × (2K+1)).
+    /// system of 100 000 real unknowns (ports × (2K+1); 5000 when GMRES is
+    /// off, see [`BalanceParams::krylov_from`]) nor a reduced linear network of
+    /// more than 16 Mi complex entries over the harmonics.
     pub max_harmonics: usize,
     /// Top-harmonic limit relative to the largest fundamental (default 1e-5,
     /// i.e. 100 dB down: 20 dB below the -80 dBc floor the reports resolve).
