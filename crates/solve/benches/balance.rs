@@ -66,6 +66,16 @@ fn bench_stage(c: &mut Criterion, name: &str, (b, f): (B, f64)) {
             bch.iter(|| black_box(steady(&b.c, &d, &p).expect("steady")))
         });
     }
+    // A warm start from the solved state (a study's neighbouring variant):
+    // balance at K = 32 from it, against the cold solve above.
+    let mut p = steady_params(f, SteadyMethod::Balance, false, true);
+    let cold = steady(&b.c, &d, &p).expect("steady");
+    p.balance.initial = Some(cold.x.iter().map(|u| u[0]).collect());
+    let s = steady(&b.c, &d, &p).expect("steady");
+    eprintln!("{name} / balance K=32 warm-started: {:?}", s.info);
+    g.bench_function("balance K=32 warm-started", |bch| {
+        bch.iter(|| black_box(steady(&b.c, &d, &p).expect("steady")))
+    });
     let tp = TransientParams {
         stop: 10.0 / f,
         step: 1.0 / (256.0 * f),

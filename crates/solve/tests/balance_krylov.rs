@@ -70,3 +70,43 @@ fn gmres_step_matches_dense_step_on_class_c() {
 fn gmres_step_matches_dense_step_on_rectifier() {
     compare(&rectifier(1e6), 1e6, 16);
 }
+
+/// A warm start (the state at the start of the period of a solved
+/// neighbour, here the same stage) is honoured: the solve lands on the same
+/// periodic state (to the Newton tolerance, as above) in fewer Newton
+/// iterations than from the operating point, and a warm start of the wrong
+/// length is ignored.
+#[test]
+fn warm_start_is_honoured() {
+    let b = class_c(20.0);
+    let d = instantiate(&b.c).expect("devices");
+    let mut p = SteadyParams {
+        freq: CLASS_C_F0,
+        harmonics: 32,
+        method: SteadyMethod::Balance,
+        ..SteadyParams::default()
+    };
+    p.balance.raise_harmonics = false;
+    let cold = steady(&b.c, &d, &p).expect("cold solve");
+    p.balance.initial = Some(cold.x.iter().map(|u| u[0]).collect());
+    let warm = steady(&b.c, &d, &p).expect("warm solve");
+    assert!(
+        warm.info.iterations < cold.info.iterations,
+        "warm {} vs cold {} iterations",
+        warm.info.iterations,
+        cold.info.iterations
+    );
+    let scale = cold
+        .x
+        .iter()
+        .map(|u| fundamental(u).norm())
+        .fold(0.0f64, f64::max);
+    for (a, b) in cold.x.iter().zip(&warm.x) {
+        for (va, vb) in a.iter().zip(b) {
+            assert!((va - vb).abs() <= 1e-5 * scale, "{va} vs {vb}");
+        }
+    }
+    p.balance.initial = Some(vec![0.0; 3]);
+    let ignored = steady(&b.c, &d, &p).expect("bad warm start ignored");
+    assert_eq!(ignored.info.iterations, cold.info.iterations);
+}

@@ -187,6 +187,15 @@ pub struct BalanceParams {
     /// block-diagonal preconditioner instead of a dense LU of the Jacobian
     /// (default [`KRYLOV_FROM`], measured: docs/performance.md).
     pub krylov_from: usize,
+    /// A warm start: the state at the start of a period from a solved
+    /// neighbouring variant (same unknowns, as [`ShootingParams::initial`]).
+    /// When given (and of the right length and finite) one period is
+    /// integrated from it and its harmonics start Newton at full drive;
+    /// should that fail, the solve goes on from the operating point as
+    /// without it.
+    ///
+    /// [`ShootingParams::initial`]: super::ShootingParams::initial
+    pub initial: Option<Vec<f64>>,
 }
 
 /// Default of [`BalanceParams::krylov_from`].
@@ -210,6 +219,7 @@ impl Default for BalanceParams {
             max_halvings: 12,
             limit: true,
             krylov_from: KRYLOV_FROM,
+            initial: None,
         }
     }
 }
@@ -277,7 +287,11 @@ pub fn balance(
     let mut levels = 0usize;
     let mut krylov = 0usize;
     let mut best: Option<Solved> = None;
-    let mut warm: Option<Vec<Vec<C64>>> = None;
+    let mut warm: Option<Vec<Vec<C64>>> = bp
+        .initial
+        .as_deref()
+        .filter(|x| x.len() == n && x.iter().all(|v| v.is_finite()))
+        .and_then(|x0| warm_harmonics(devices, params, x0, t_start, k));
     loop {
         tried.push(k);
         let attempt = solve_k(
@@ -1844,6 +1858,41 @@ fn solve_k(
         truncation,
         t_start,
     })
+}
+
+/// Harmonics `[k][unknown]` (k ≤ `kmax`) of one period integrated from the
+/// state `x0` at `t_start` (a warm start), on a grid of 4K steps (at least
+/// 64) by TR-BDF2; `None` when a step fails.
+fn warm_harmonics(
+    devices: &DeviceSet,
+    params: &SteadyParams,
+    x0: &[f64],
+    t_start: f64,
+    kmax: usize,
+) -> Option<Vec<Vec<C64>>> {
+    let n = devices.n_unknowns;
+    let ns = fft_size(kmax, 4).max(64);
+    let h = 1.0 / (params.freq * ns as f64);
+    let mut st =
+        crate::transient::Stepper::from_zero(devices, params.tol, params.linear_solver, t_start);
+    st.init_at(x0, t_start);
+    let mut wave = vec![vec![0.0; ns]; n];
+    for s in 0..ns {
+        for (w, v) in wave.iter_mut().zip(&st.x) {
+            w[s] = *v;
+        }
+        st.step_trbdf2(t_start + (s + 1) as f64 * h).ok()?;
+    }
+    let mut fft = Fft::new(ns);
+    let mut coef = vec![ZERO; kmax + 1];
+    let mut out = vec![vec![ZERO; n]; kmax + 1];
+    for (u, w) in wave.iter().enumerate() {
+        fft.forward(w, &mut coef);
+        for (row, c) in out.iter_mut().zip(&coef) {
+            row[u] = *c;
+        }
+    }
+    out.iter().flatten().all(|v| v.is_finite()).then_some(out)
 }
 
 /// Port harmonics `[k·p + r]` from harmonics of every unknown (any K, zero-padded).
