@@ -3,7 +3,10 @@
 //!
 //! Balance runs twice: with the default automatic raise of K (32 → until the
 //! top tenth of the harmonics is below 1e-6 of the fundamental, capped at 128)
-//! and at a fixed K = 32. Shooting and the transient use 256 steps per period.
+//! and at a fixed K = 32. The automatic raise runs twice: with the Newton
+//! step by GMRES from 400 real unknowns (the default) and by dense LU only
+//! (`krylov_from` off), so the two are compared in one run. Shooting and the
+//! transient use 256 steps per period.
 
 use criterion::{criterion_group, criterion_main, Criterion};
 use std::hint::black_box;
@@ -25,7 +28,7 @@ fn class_c_stage() -> (B, f64) {
     (class_c(20.0), CLASS_C_F0)
 }
 
-fn steady_params(f: f64, method: SteadyMethod, raise: bool) -> SteadyParams {
+fn steady_params(f: f64, method: SteadyMethod, raise: bool, krylov: bool) -> SteadyParams {
     let mut p = SteadyParams {
         freq: f,
         harmonics: 32,
@@ -34,6 +37,9 @@ fn steady_params(f: f64, method: SteadyMethod, raise: bool) -> SteadyParams {
         ..SteadyParams::default()
     };
     p.balance.raise_harmonics = raise;
+    if !krylov {
+        p.balance.krylov_from = usize::MAX;
+    }
     p
 }
 
@@ -42,18 +48,34 @@ fn bench_stage(c: &mut Criterion, name: &str, (b, f): (B, f64)) {
     let mut g = c.benchmark_group(name);
     g.sample_size(10)
         .measurement_time(std::time::Duration::from_secs(4));
-    for (label, method, raise) in [
-        ("balance auto-K", SteadyMethod::Balance, true),
-        ("balance K=32", SteadyMethod::Balance, false),
-        ("shooting 256 steps", SteadyMethod::Shooting, false),
+    for (label, method, raise, krylov) in [
+        ("balance auto-K", SteadyMethod::Balance, true, true),
+        (
+            "balance auto-K, dense LU only",
+            SteadyMethod::Balance,
+            true,
+            false,
+        ),
+        ("balance K=32", SteadyMethod::Balance, false, true),
+        ("shooting 256 steps", SteadyMethod::Shooting, false, true),
     ] {
-        let p = steady_params(f, method, raise);
+        let p = steady_params(f, method, raise, krylov);
         let s = steady(&b.c, &d, &p).expect("steady");
         eprintln!("{name} / {label}: {:?}", s.info);
         g.bench_function(label, |bch| {
             bch.iter(|| black_box(steady(&b.c, &d, &p).expect("steady")))
         });
     }
+    // A warm start from the solved state (a study's neighbouring variant):
+    // balance at K = 32 from it, against the cold solve above.
+    let mut p = steady_params(f, SteadyMethod::Balance, false, true);
+    let cold = steady(&b.c, &d, &p).expect("steady");
+    p.balance.initial = Some(cold.x.iter().map(|u| u[0]).collect());
+    let s = steady(&b.c, &d, &p).expect("steady");
+    eprintln!("{name} / balance K=32 warm-started: {:?}", s.info);
+    g.bench_function("balance K=32 warm-started", |bch| {
+        bch.iter(|| black_box(steady(&b.c, &d, &p).expect("steady")))
+    });
     let tp = TransientParams {
         stop: 10.0 / f,
         step: 1.0 / (256.0 * f),

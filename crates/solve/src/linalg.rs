@@ -44,12 +44,121 @@ impl LinearSolver {
 /// Pivots below this fraction of the largest matrix entry count as zero.
 const PIVOT_FLOOR: f64 = 1e-14;
 
+/// Order from which a dense factorisation and its solves use faer's
+/// parallel kernels (rayon); below it they run on the calling thread. faer's
+/// default is every thread for every size, and a small system then spends
+/// its time in thread synchronisation (futex and sched_yield calls) rather
+/// than arithmetic. Measured (docs/performance.md, `cargo bench -p
+/// tankwave-solve --bench threads`).
+pub const PARALLEL_FROM: usize = 4096;
+
+/// The thread setting for a dense system of order `n`: one thread below
+/// [`PARALLEL_FROM`], faer's global setting from there on.
+pub fn par_for(n: usize) -> faer::Par {
+    if n < PARALLEL_FROM {
+        faer::Par::Seq
+    } else {
+        faer::get_global_parallelism()
+    }
+}
+
+/// Dense LU with partial pivoting whose factorisation and solves run on the
+/// threads [`par_for`] picks for its order (faer's own `partial_piv_lu`
+/// always takes the global setting).
+#[derive(Debug, Clone)]
+pub struct DenseLu<T: faer::traits::ComplexField> {
+    l: Mat<T>,
+    u: Mat<T>,
+    fwd: Vec<usize>,
+    bwd: Vec<usize>,
+    par: faer::Par,
+}
+
+impl<T: faer::traits::ComplexField> DenseLu<T> {
+    /// Factor the square matrix `a` on the threads [`par_for`] picks.
+    pub fn new(a: Mat<T>) -> Self {
+        let par = par_for(a.nrows());
+        Self::with_par(a, par)
+    }
+
+    /// Factor the square matrix `a` on the threads `par` (for measuring).
+    pub fn with_par(mut a: Mat<T>, par: faer::Par) -> Self {
+        use faer::dyn_stack::{MemBuffer, MemStack};
+        use faer::linalg::lu::partial_pivoting::factor;
+        let n = a.nrows();
+        let mut fwd = vec![0usize; n];
+        let mut bwd = vec![0usize; n];
+        let mut mem = MemBuffer::new(factor::lu_in_place_scratch::<usize, T>(
+            n,
+            n,
+            par,
+            Default::default(),
+        ));
+        factor::lu_in_place(
+            a.as_mut(),
+            &mut fwd,
+            &mut bwd,
+            par,
+            MemStack::new(&mut mem),
+            Default::default(),
+        );
+        let l = Mat::<T>::from_fn(n, n, |i, j| {
+            if i == j {
+                T::one_impl()
+            } else if i > j {
+                a[(i, j)].clone()
+            } else {
+                T::zero_impl()
+            }
+        });
+        let u = Mat::<T>::from_fn(n, n, |i, j| {
+            if i <= j {
+                a[(i, j)].clone()
+            } else {
+                T::zero_impl()
+            }
+        });
+        Self {
+            l,
+            u,
+            fwd,
+            bwd,
+            par,
+        }
+    }
+
+    /// The upper factor `U` (its diagonal holds the pivots).
+    #[allow(non_snake_case)]
+    pub fn U(&self) -> faer::MatRef<'_, T> {
+        self.u.as_ref()
+    }
+
+    /// Solve `A X = B` in place.
+    pub fn solve_in_place(&self, rhs: MatMut<'_, T>) {
+        use faer::dyn_stack::{MemBuffer, MemStack};
+        use faer::linalg::lu::partial_pivoting::solve;
+        let n = self.l.nrows();
+        let k = rhs.ncols();
+        let perm = faer::perm::PermRef::new_checked(&self.fwd, &self.bwd, n);
+        let mut mem = MemBuffer::new(solve::solve_in_place_scratch::<usize, T>(n, k, self.par));
+        solve::solve_in_place_with_conj(
+            self.l.as_ref(),
+            self.u.as_ref(),
+            perm,
+            faer::Conj::No,
+            rhs,
+            self.par,
+            MemStack::new(&mut mem),
+        );
+    }
+}
+
 /// A factorisation of a square real matrix given row-major.
 #[derive(Debug)]
 pub struct RealLu {
     kind: LinearSolver,
     n: usize,
-    dense: Option<faer::linalg::solvers::PartialPivLu<f64>>,
+    dense: Option<DenseLu<f64>>,
     sparse: Option<SparseState>,
 }
 
@@ -94,7 +203,7 @@ impl RealLu {
         match self.kind {
             LinearSolver::Dense => {
                 let m = Mat::<f64>::from_fn(n, n, |i, j| a[i * n + j]);
-                let lu = m.partial_piv_lu();
+                let lu = DenseLu::new(m);
                 let u = lu.U();
                 for k in 0..n {
                     let p = u[(k, k)];
@@ -207,7 +316,7 @@ impl RealLu {
 #[derive(Debug, Clone)]
 pub(crate) enum Factors {
     /// Dense LU with partial pivoting.
-    Dense(faer::linalg::solvers::PartialPivLu<f64>),
+    Dense(DenseLu<f64>),
     /// Sparse LU.
     Sparse(Lu<usize, f64>),
 }

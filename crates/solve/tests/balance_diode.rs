@@ -408,11 +408,19 @@ fn failures_are_typed_errors() {
         Err(SolveError::BadParams(m)) => assert!(m.contains("not periodic"), "{m}"),
         other => panic!("expected a periodicity error, got {other:?}"),
     }
-    // A Newton system too large to factor densely is refused with the numbers.
-    let p4 = params(SteadyMethod::Balance, 4000, 256);
+    // A Newton system too large to factor densely is refused with the
+    // numbers when GMRES is turned off ...
+    let mut p4 = params(SteadyMethod::Balance, 4000, 256);
+    p4.balance.krylov_from = usize::MAX;
     match steady(&b.c, &d, &p4) {
         Err(SolveError::BadParams(m)) => assert!(m.contains("16002 unknowns"), "{m}"),
         other => panic!("expected a size error, got {other:?}"),
+    }
+    // ... and above the GMRES limit (100 000 real unknowns) in any case.
+    let p5 = params(SteadyMethod::Balance, 30000, 256);
+    match steady(&b.c, &d, &p5) {
+        Err(SolveError::BadParams(m)) => assert!(m.contains("120002 unknowns"), "{m}"),
+        other => panic!("expected a size error, got {:?}", other.map(|s| s.info)),
     }
     // Bad options are refused, not panicked on.
     let mut p3 = params(SteadyMethod::Balance, 8, 256);

@@ -273,6 +273,7 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
                     continue;
                 };
                 p.shooting.initial = opts.warm.map(|w| w.to_vec());
+                p.balance.initial = opts.warm.map(|w| w.to_vec());
                 if let Some(c) = &opts.caps {
                     cap_steady(&mut p, c);
                 }

@@ -53,7 +53,19 @@
 //!   `∂R_k/∂a_l = Ĝ_{k−l} + Ĝ_{k+l} + jkω(Ĉ_{k−l} + Ĉ_{k+l}) + [k=l] Ŷ_k` and
 //!   `∂R_k/∂b_l = j(Ĝ_{k−l} − Ĝ_{k+l}) − kω(Ĉ_{k−l} − Ĉ_{k+l}) + [k=l] jŶ_k`
 //!   (for `l = 0` only `Ĝ_k + jkωĈ_k`). It is the exact derivative of the
-//!   discrete residual; it is factored by dense LU with partial pivoting.
+//!   discrete residual. Below [`BalanceParams::krylov_from`] real unknowns it
+//!   is assembled over the devices' (row, column) pattern only and factored
+//!   by dense LU with partial pivoting; from there on it is never formed:
+//!   the step is solved by restarted GMRES ([`crate::krylov::gmres`], right-preconditioned) with the
+//!   product `J v` computed per harmonic (`Ŷ_k V_k`) plus `G(t) v(t)`,
+//!   `C(t) v(t)` sample by sample on the evaluation grid (the same numbers as
+//!   the conversion matrices), and a block-diagonal preconditioner, one
+//!   `p×p` LU per harmonic of `Ŷ_k + Ĝ₀ + jω_k Ĉ₀` (P. Feldmann,
+//!   R. C. Melville, D. Long, CICC 1996, from memory). The frequency of each
+//!   harmonic slot is data (`Problem::freqs`), so another frequency set
+//!   (several tones) reuses the blocks; only the transform between the
+//!   harmonics and the samples is single-tone. When GMRES does not reach
+//!   its tolerance the step falls back to the dense LU (below its limit).
 //!
 //! # Convergence aids
 //! 1. Start from the operating point at zero drive (the exact solution at
@@ -99,10 +111,9 @@
 use super::sample::{sample_currents, transport_currents, Derivative, Grid};
 use super::{start_time, PeriodicSolution, SteadyInfo, SteadyParams};
 use crate::error::When;
-use crate::linalg::{LinearSolver, RealLu};
+use crate::linalg::{DenseLu, LinearSolver, RealLu};
 use crate::op::{solve_op, OpParams};
 use crate::SolveError;
-use faer::linalg::solvers::Solve;
 use faer::Mat;
 use num_complex::Complex64 as C64;
 use realfft::{ComplexToReal, RealFftPlanner, RealToComplex};
@@ -115,6 +126,18 @@ const ZERO: C64 = C64 { re: 0.0, im: 0.0 };
 /// Largest real Newton system (dense: its Jacobian takes 8·n² bytes, and
 /// the LU a copy); a raise of K stops short of it, a request above it is refused.
 const MAX_SYSTEM: usize = 5000;
+/// Largest real Newton system solved by GMRES (it stores the devices' G(t),
+/// C(t) over their pattern and the reduced network per harmonic, never the
+/// Jacobian); a raise of K stops short of it, a request above it is refused.
+const MAX_KRYLOV_SYSTEM: usize = 100_000;
+/// Most complex entries of the reduced linear network over every harmonic,
+/// `(K+1)·p²` (16 bytes each: 256 MB).
+const MAX_NETWORK_ENTRIES: usize = 16 << 20;
+/// Relative residual GMRES reaches in a Newton step, `‖J δ + R‖ ≤ η ‖R‖`:
+/// an inexact Newton step with η this small converges as the exact one to
+/// well below the Newton tolerances (common practice: η ≪ the ratio of
+/// successive Newton residuals near convergence).
+const KRYLOV_TOLERANCE: f64 = 1e-7;
 /// Pivots below this fraction of the largest entry count as zero.
 const PIVOT_FLOOR: f64 = 1e-14;
 /// Relative tolerance of the source periodicity check (common practice: well
@@ -141,7 +164,9 @@ pub struct BalanceParams {
     /// Double K while the top harmonics are not negligible (default true).
     pub raise_harmonics: bool,
     /// Cap on the raised K (default 128). K is also never raised past a Newton
-    /// system of 5000 real unknowns (ports × (2K+1)).
+    /// system of 100 000 real unknowns (ports × (2K+1); 5000 when GMRES is
+    /// off, see [`BalanceParams::krylov_from`]) nor a reduced linear network of
+    /// more than 16 Mi complex entries over the harmonics.
     pub max_harmonics: usize,
     /// Top-harmonic limit relative to the largest fundamental (default 1e-5,
     /// i.e. 100 dB down: 20 dB below the -80 dBc floor the reports resolve).
@@ -158,7 +183,23 @@ pub struct BalanceParams {
     /// true): each sample keeps its own limiting state, as a DC Newton would,
     /// and convergence needs no sample limited.
     pub limit: bool,
+    /// Real Newton system size from which the step is solved by GMRES with a
+    /// block-diagonal preconditioner instead of a dense LU of the Jacobian
+    /// (default [`KRYLOV_FROM`], measured: docs/performance.md).
+    pub krylov_from: usize,
+    /// A warm start: the state at the start of a period from a solved
+    /// neighbouring variant (same unknowns, as [`ShootingParams::initial`]).
+    /// When given (and of the right length and finite) one period is
+    /// integrated from it and its harmonics start Newton at full drive;
+    /// should that fail, the solve goes on from the operating point as
+    /// without it.
+    ///
+    /// [`ShootingParams::initial`]: super::ShootingParams::initial
+    pub initial: Option<Vec<f64>>,
 }
+
+/// Default of [`BalanceParams::krylov_from`].
+pub const KRYLOV_FROM: usize = 400;
 
 impl Default for BalanceParams {
     fn default() -> Self {
@@ -177,6 +218,8 @@ impl Default for BalanceParams {
             junction_leak: 1e-12,
             max_halvings: 12,
             limit: true,
+            krylov_from: KRYLOV_FROM,
+            initial: None,
         }
     }
 }
@@ -201,6 +244,8 @@ pub struct BalanceInfo {
     pub line_search_cuts: usize,
     /// Largest top-band harmonic over its limit (≤ 1: truncation negligible).
     pub truncation: f64,
+    /// GMRES products over every Newton step (0: every step by dense LU).
+    pub krylov_iterations: usize,
 }
 
 /// Periodic steady state by harmonic balance.
@@ -240,8 +285,13 @@ pub fn balance(
     let mut total_iter = 0usize;
     let mut cuts = 0usize;
     let mut levels = 0usize;
+    let mut krylov = 0usize;
     let mut best: Option<Solved> = None;
-    let mut warm: Option<Vec<Vec<C64>>> = None;
+    let mut warm: Option<Vec<Vec<C64>>> = bp
+        .initial
+        .as_deref()
+        .filter(|x| x.len() == n && x.iter().all(|v| v.is_finite()))
+        .and_then(|x0| warm_harmonics(devices, params, x0, t_start, k));
     loop {
         tried.push(k);
         let attempt = solve_k(
@@ -266,6 +316,7 @@ pub fn balance(
                             iterations: total_iter,
                             cuts,
                             levels,
+                            krylov,
                         };
                         return finish(circuit, devices, params, b, tried, t);
                     }
@@ -276,8 +327,9 @@ pub fn balance(
         total_iter += solved.iterations;
         cuts += solved.cuts;
         levels += solved.continuation_steps;
+        krylov += solved.krylov_iterations;
         let next = (2 * k).min(bp.max_harmonics);
-        let fits = solved.ports * (2 * next + 1) <= MAX_SYSTEM;
+        let fits = fits(solved.ports, next, bp);
         let more = solved.truncation > 1.0 && bp.raise_harmonics && k < bp.max_harmonics && fits;
         warm = Some(solved.x_full.clone());
         best = Some(solved);
@@ -292,6 +344,7 @@ pub fn balance(
                 iterations: total_iter,
                 cuts,
                 levels,
+                krylov,
             };
             finish(circuit, devices, params, b, tried, t)
         }
@@ -455,12 +508,16 @@ impl Fft {
     }
 }
 
-/// A stamp into the port-restricted i, q, G, C (p and p×p).
+/// A stamp into the port-restricted i, q (length p) and G, C, kept sparse:
+/// the (row, column) pairs the nonlinear devices stamp, in the order first
+/// seen (`pattern`, grown as new pairs appear), with their values per sample.
 struct PortStamp<'a> {
     port_of: &'a [Option<usize>],
-    p: usize,
     i: Vec<f64>,
     q: Vec<f64>,
+    /// Position of each (row, column) in `pattern`.
+    index: std::collections::HashMap<(usize, usize), usize>,
+    pattern: Vec<(usize, usize)>,
     g: Vec<f64>,
     c: Vec<f64>,
     escaped: bool,
@@ -482,6 +539,17 @@ impl PortStamp<'_> {
         self.g.fill(0.0);
         self.c.fill(0.0);
     }
+    /// Position of (r, c) in the pattern, added when new.
+    fn slot(&mut self, r: usize, c: usize) -> usize {
+        let next = self.pattern.len();
+        let e = *self.index.entry((r, c)).or_insert(next);
+        if e == next {
+            self.pattern.push((r, c));
+            self.g.push(0.0);
+            self.c.push(0.0);
+        }
+        e
+    }
 }
 
 impl Stamp for PortStamp<'_> {
@@ -497,12 +565,14 @@ impl Stamp for PortStamp<'_> {
     }
     fn add_g(&mut self, row: Idx, col: Idx, v: f64) {
         if let (Some(Some(r)), Some(Some(c))) = (self.port(row), self.port(col)) {
-            self.g[r * self.p + c] += v;
+            let e = self.slot(r, c);
+            self.g[e] += v;
         }
     }
     fn add_c(&mut self, row: Idx, col: Idx, v: f64) {
         if let (Some(Some(r)), Some(Some(c))) = (self.port(row), self.port(col)) {
-            self.c[r * self.p + c] += v;
+            let e = self.slot(r, c);
+            self.c[e] += v;
         }
     }
 }
@@ -630,7 +700,7 @@ fn linear_network(
 }
 
 /// Dense complex LU with a pivot check.
-fn complex_lu(m: Mat<C64>) -> Result<faer::linalg::solvers::PartialPivLu<C64>, usize> {
+fn complex_lu(m: Mat<C64>) -> Result<DenseLu<C64>, usize> {
     let n = m.nrows();
     let mut amax = 0.0f64;
     for j in 0..n {
@@ -641,7 +711,7 @@ fn complex_lu(m: Mat<C64>) -> Result<faer::linalg::solvers::PartialPivLu<C64>, u
     if !(amax > 0.0 && amax.is_finite()) {
         return Err(0);
     }
-    let lu = m.partial_piv_lu();
+    let lu = DenseLu::new(m);
     let u = lu.U();
     for k in 0..n {
         let pivot = u[(k, k)].norm();
@@ -816,9 +886,14 @@ struct NlEval {
     /// `[k][r]`, k ≤ K.
     i: Vec<Vec<C64>>,
     q: Vec<Vec<C64>>,
-    /// `[m][r·p + c]`, m ≤ 2K.
+    /// The (row, column) port pairs of G and C that the devices stamp.
+    pattern: Vec<(usize, usize)>,
+    /// `[m][e]` for the pattern entry `e`, m ≤ 2K.
     g: Vec<Vec<C64>>,
     c: Vec<Vec<C64>>,
+    /// `[e][sample]`: G and C over the period, for the matrix-free product.
+    gt: Vec<Vec<f64>>,
+    ct: Vec<Vec<f64>>,
 }
 
 /// One harmonic-balance problem at a fixed K.
@@ -827,7 +902,10 @@ struct Problem<'a> {
     red: Reduced,
     port_of: Vec<Option<usize>>,
     kmax: usize,
-    omega: f64,
+    /// Angular frequency of each harmonic slot `k = 0..=K` (`k·ω` for one
+    /// tone): the blocks of the linear network, the `jω Q` terms and the
+    /// preconditioner read it from here, not from `k`.
+    freqs: Vec<f64>,
     t_start: f64,
     period: f64,
     junction_leak: f64,
@@ -843,6 +921,13 @@ struct Problem<'a> {
     /// Limiting state of the devices at every sample (`N × state_len`),
     /// from the last converged solve.
     states: Vec<f64>,
+    /// The G, C pattern learnt so far (see [`PortStamp`]).
+    index: std::collections::HashMap<(usize, usize), usize>,
+    pattern: Vec<(usize, usize)>,
+    /// Solve the Newton system by GMRES (see [`BalanceParams::krylov_from`]).
+    krylov: bool,
+    /// GMRES products over every Newton step of this problem.
+    krylov_iterations: usize,
 }
 
 /// Why a Newton solve at one drive level stopped.
@@ -922,7 +1007,7 @@ impl<'a> Problem<'a> {
             red,
             port_of,
             kmax,
-            omega,
+            freqs: (0..=kmax).map(|k| k as f64 * omega).collect(),
             t_start,
             period: 1.0 / params.freq,
             junction_leak: params.balance.junction_leak,
@@ -933,6 +1018,10 @@ impl<'a> Problem<'a> {
             max_halvings: params.balance.max_halvings,
             limit: params.balance.limit,
             states: devices.initial_state().repeat(nfft),
+            index: std::collections::HashMap::new(),
+            pattern: Vec::new(),
+            krylov: false,
+            krylov_iterations: 0,
         }
     }
 
@@ -962,18 +1051,20 @@ impl<'a> Problem<'a> {
         }
         let mut it = vec![vec![0.0; ns]; p];
         let mut qt = vec![vec![0.0; ns]; p];
-        let mut gt = vec![vec![0.0; ns]; p * p];
-        let mut ct = vec![vec![0.0; ns]; p * p];
+        let nnz = self.pattern.len();
+        let mut gt = vec![vec![0.0; ns]; nnz];
+        let mut ct = vec![vec![0.0; ns]; nnz];
         let mut xs = vec![0.0; n];
         let sl = self.devices.state_len;
         let mut limited = false;
         let mut st = PortStamp {
             port_of: &self.port_of,
-            p,
             i: vec![0.0; p],
             q: vec![0.0; p],
-            g: vec![0.0; p * p],
-            c: vec![0.0; p * p],
+            index: std::mem::take(&mut self.index),
+            pattern: std::mem::take(&mut self.pattern),
+            g: vec![0.0; nnz],
+            c: vec![0.0; nnz],
             escaped: false,
         };
         for s in 0..ns {
@@ -997,12 +1088,19 @@ impl<'a> Problem<'a> {
                 it[r][s] = st.i[r];
                 qt[r][s] = st.q[r];
             }
-            for e in 0..p * p {
-                gt[e][s] = st.g[e];
-                ct[e][s] = st.c[e];
+            // a pair first stamped at this sample was zero before it
+            gt.resize(st.pattern.len(), vec![0.0; ns]);
+            ct.resize(st.pattern.len(), vec![0.0; ns]);
+            for (e, (g, c)) in st.g.iter().zip(&st.c).enumerate() {
+                gt[e][s] = *g;
+                ct[e][s] = *c;
             }
         }
-        if st.escaped {
+        let escaped = st.escaped;
+        self.index = st.index;
+        self.pattern = st.pattern;
+        let nnz = self.pattern.len();
+        if escaped {
             return Err(Fail::Escaped { iterations: 0 });
         }
         let nonfinite = |v: &[Vec<f64>]| v.iter().position(|w| w.iter().any(|a| !a.is_finite()));
@@ -1015,14 +1113,17 @@ impl<'a> Problem<'a> {
         if let Some(e) = nonfinite(&gt).or(nonfinite(&ct)) {
             return Err(Fail::NonFinite {
                 iterations: 0,
-                port: e / p.max(1),
+                port: self.pattern.get(e).map_or(0, |rc| rc.0),
             });
         }
         let mut ev = NlEval {
             i: vec![vec![ZERO; p]; kmax + 1],
             q: vec![vec![ZERO; p]; kmax + 1],
-            g: vec![vec![ZERO; p * p]; 2 * kmax + 1],
-            c: vec![vec![ZERO; p * p]; 2 * kmax + 1],
+            pattern: self.pattern.clone(),
+            g: vec![vec![ZERO; nnz]; 2 * kmax + 1],
+            c: vec![vec![ZERO; nnz]; 2 * kmax + 1],
+            gt: Vec::new(),
+            ct: Vec::new(),
         };
         let mut c1 = vec![ZERO; kmax + 1];
         let mut c2 = vec![ZERO; 2 * kmax + 1];
@@ -1036,7 +1137,7 @@ impl<'a> Problem<'a> {
                 dst[r] = *v;
             }
         }
-        for e in 0..p * p {
+        for e in 0..nnz {
             if gt[e].iter().any(|v| *v != 0.0) {
                 self.fft.forward(&gt[e], &mut c2);
                 for (dst, v) in ev.g.iter_mut().zip(&c2) {
@@ -1050,6 +1151,8 @@ impl<'a> Problem<'a> {
                 }
             }
         }
+        ev.gt = gt;
+        ev.ct = ct;
         Ok((ev, limited))
     }
 
@@ -1059,7 +1162,7 @@ impl<'a> Problem<'a> {
         let mut res = vec![ZERO; (self.kmax + 1) * p];
         let mut scale = vec![0.0f64; p];
         for k in 0..=self.kmax {
-            let w = k as f64 * self.omega;
+            let w = self.freqs[k];
             let y = &self.red.yhat[k];
             for r in 0..p {
                 let mut yx = ZERO;
@@ -1124,29 +1227,40 @@ impl<'a> Problem<'a> {
             }
         };
         for k in 0..=kmax {
-            let w = k as f64 * self.omega;
+            let w = self.freqs[k];
             let rows: [Option<usize>; 2] = if k == 0 {
                 [Some(0), None]
             } else {
                 [Some(2 * k - 1), Some(2 * k)]
             };
             for l in 0..=kmax {
-                for r in 0..p {
-                    for c in 0..p {
-                        let e = r * p + c;
-                        let y = if k == l { self.red.yhat[k][e] } else { ZERO };
-                        let (da, db) = if l == 0 {
-                            (ev.g[k][e] + J * w * ev.c[k][e] + y, None)
-                        } else {
+                // the linear network on the diagonal blocks (dense p×p), then
+                // the conversion matrices over the devices' pattern
+                let ylin = (k == l).then(|| (0..p * p).map(move |e| (e / p, e % p, None::<usize>)));
+                let conv = ev
+                    .pattern
+                    .iter()
+                    .enumerate()
+                    .map(|(e, &(r, c))| (r, c, Some(e)));
+                for (r, c, e) in ylin.into_iter().flatten().chain(conv) {
+                    let (da, db) = match e {
+                        None => {
+                            let y = self.red.yhat[k][r * p + c];
+                            (y, (l > 0).then_some(J * y))
+                        }
+                        Some(e) if l == 0 => (ev.g[k][e] + J * w * ev.c[k][e], None),
+                        Some(e) => {
                             let (km, kp) = (k as isize - l as isize, (k + l) as isize);
                             let gm = ghat(km, e, &ev.g);
                             let gp = ghat(kp, e, &ev.g);
                             let cm = ghat(km, e, &ev.c);
                             let cp = ghat(kp, e, &ev.c);
-                            let da = gm + gp + J * w * (cm + cp) + y;
-                            let db = J * (gm - gp) - w * (cm - cp) + J * y;
+                            let da = gm + gp + J * w * (cm + cp);
+                            let db = J * (gm - gp) - w * (cm - cp);
                             (da, Some(db))
-                        };
+                        }
+                    };
+                    {
                         let cols: [usize; 2] = if l == 0 {
                             [c, usize::MAX]
                         } else {
@@ -1166,6 +1280,169 @@ impl<'a> Problem<'a> {
             }
         }
         jac
+    }
+
+    /// The Newton step by GMRES: on entry `b = −R` (real layout), on
+    /// success the step. The Jacobian is never formed: its product with a
+    /// vector is the linear network per harmonic plus the devices' G(t),
+    /// C(t) applied sample by sample ([`Problem::jacobian_product`]); the
+    /// preconditioner is block-diagonal over the harmonics (each block the
+    /// linear network plus the period average of G and C, P. Feldmann,
+    /// R. C. Melville, D. Long, "Efficient frequency domain analysis of large
+    /// nonlinear analog circuits", CICC 1996, from memory). Returns false
+    /// (and leaves `b`) when a block is singular or GMRES does not reach its
+    /// tolerance: the caller then factors the full Jacobian.
+    fn krylov_step(&mut self, ev: &NlEval, b: &mut [f64]) -> bool {
+        let p = self.p();
+        let Some(blocks) = self.preconditioner(ev) else {
+            return false;
+        };
+        let precond = |v: &[f64], out: &mut [f64]| {
+            let mut z = Mat::<C64>::zeros(p, 1);
+            for (k, lu) in blocks.iter().enumerate() {
+                for r in 0..p {
+                    z[(r, 0)] = if k == 0 {
+                        C64::new(v[r], 0.0)
+                    } else {
+                        C64::new(v[(2 * k - 1) * p + r], v[2 * k * p + r])
+                    };
+                }
+                lu.solve_in_place(z.as_mut());
+                for r in 0..p {
+                    if k == 0 {
+                        out[r] = z[(r, 0)].re;
+                    } else {
+                        out[(2 * k - 1) * p + r] = z[(r, 0)].re;
+                        out[2 * k * p + r] = z[(r, 0)].im;
+                    }
+                }
+            }
+        };
+        let mut fft = Fft::new(self.fft.n);
+        // right preconditioning: GMRES on `J M⁻¹ y = b`, then `x = M⁻¹ y`,
+        // so the residual it reports is the true one, ‖b − J x‖
+        let mut y = vec![0.0; b.len()];
+        let mut mv = vec![0.0; b.len()];
+        let info = crate::krylov::gmres(
+            |v, out| {
+                precond(v, &mut mv);
+                self.jacobian_product(ev, &mut fft, &mv, out)
+            },
+            b,
+            &mut y,
+            &crate::krylov::GmresParams {
+                rel_tolerance: KRYLOV_TOLERANCE,
+                restart: 60,
+                max_iter: 600,
+            },
+        );
+        let mut x = vec![0.0; b.len()];
+        precond(&y, &mut x);
+        self.krylov_iterations += info.applications;
+        // Above the dense limit there is nothing to fall back to: a step that
+        // halves the linear residual still descends (the line search guards).
+        let take = info.converged || (self.size() > MAX_SYSTEM && info.residual < 0.5);
+        if take {
+            b.copy_from_slice(&x);
+        }
+        take
+    }
+
+    /// Per harmonic `k`: the LU of `Ŷ_k + Ĝ₀ + jω_k Ĉ₀` (`None` when one is singular).
+    fn preconditioner(&self, ev: &NlEval) -> Option<Vec<DenseLu<C64>>> {
+        let p = self.p();
+        (0..=self.kmax)
+            .map(|k| {
+                let w = self.freqs[k];
+                let mut a = Mat::<C64>::from_fn(p, p, |r, c| self.red.yhat[k][r * p + c]);
+                for (e, &(r, c)) in ev.pattern.iter().enumerate() {
+                    a[(r, c)] += ev.g[0][e] + J * w * ev.c[0][e];
+                }
+                complex_lu(a).ok()
+            })
+            .collect()
+    }
+
+    /// `out = J v` for the real Newton layout, without forming `J`: per
+    /// harmonic the reduced linear network `Ŷ_k V_k`, plus the devices'
+    /// `G(t) v(t)` and `C(t) v(t)` on the evaluation grid transformed back
+    /// (`δI_k + jω_k δQ_k`). On the grid of `N ≥ 4K` samples this is
+    /// exactly the product with the conversion-matrix Jacobian of
+    /// [`Problem::jacobian`] (no aliasing onto the kept harmonics).
+    fn jacobian_product(&self, ev: &NlEval, fft: &mut Fft, v: &[f64], out: &mut [f64]) {
+        let p = self.p();
+        let kmax = self.kmax;
+        let ns = fft.n;
+        // v as complex harmonics [k·p + r]
+        let mut xc = vec![ZERO; (kmax + 1) * p];
+        xc[..p]
+            .iter_mut()
+            .zip(&v[..p])
+            .for_each(|(x, a)| *x = C64::new(*a, 0.0));
+        for k in 1..=kmax {
+            let (re, im) = (
+                &v[(2 * k - 1) * p..2 * k * p],
+                &v[2 * k * p..(2 * k + 1) * p],
+            );
+            for ((x, a), b) in xc[k * p..(k + 1) * p].iter_mut().zip(re).zip(im) {
+                *x = C64::new(*a, *b);
+            }
+        }
+        let mut acc = vec![ZERO; (kmax + 1) * p];
+        for k in 0..=kmax {
+            let xk = &xc[k * p..(k + 1) * p];
+            for (a, yrow) in acc[k * p..(k + 1) * p]
+                .iter_mut()
+                .zip(self.red.yhat[k].chunks_exact(p.max(1)))
+            {
+                let (mut sr, mut si) = (0.0, 0.0);
+                for (y, x) in yrow.iter().zip(xk) {
+                    sr += y.re * x.re - y.im * x.im;
+                    si += y.re * x.im + y.im * x.re;
+                }
+                *a = C64::new(sr, si);
+            }
+        }
+        let mut coef = vec![ZERO; kmax + 1];
+        let mut vt = vec![vec![0.0; ns]; p];
+        for (r, w) in vt.iter_mut().enumerate() {
+            for (k, c) in coef.iter_mut().enumerate() {
+                *c = xc[k * p + r];
+            }
+            fft.inverse(&coef, w);
+        }
+        let mut it = vec![vec![0.0; ns]; p];
+        let mut qt = vec![vec![0.0; ns]; p];
+        for (e, &(r, c)) in ev.pattern.iter().enumerate() {
+            let x = &vt[c];
+            for ((d, g), xs) in it[r].iter_mut().zip(&ev.gt[e]).zip(x) {
+                *d += g * xs;
+            }
+            for ((d, g), xs) in qt[r].iter_mut().zip(&ev.ct[e]).zip(x) {
+                *d += g * xs;
+            }
+        }
+        for r in 0..p {
+            fft.forward(&it[r], &mut coef);
+            for k in 0..=kmax {
+                acc[k * p + r] += coef[k];
+            }
+            fft.forward(&qt[r], &mut coef);
+            for k in 0..=kmax {
+                acc[k * p + r] += J * self.freqs[k] * coef[k];
+            }
+        }
+        out[..p]
+            .iter_mut()
+            .zip(&acc[..p])
+            .for_each(|(o, a)| *o = a.re);
+        for k in 1..=kmax {
+            for r in 0..p {
+                let a = acc[k * p + r];
+                out[(2 * k - 1) * p + r] = a.re;
+                out[2 * k * p + r] = a.im;
+            }
+        }
     }
 
     /// Newton with line search at drive `s` from `x` (updated in place).
@@ -1210,17 +1487,6 @@ impl<'a> Problem<'a> {
             if it == max_iter {
                 break;
             }
-            let jac = self.jacobian(&ev);
-            lu.factor(&jac).map_err(|slot| Fail::Singular {
-                iterations: it,
-                slot,
-                cause: crate::singular::cause_mapped(
-                    &jac,
-                    m,
-                    |j| self.red.ports.get(j % p.max(1)).copied().unwrap_or(0),
-                    self.devices,
-                ),
-            })?;
             let mut dx = vec![0.0; m];
             for k in 0..=kmax {
                 for r in 0..p {
@@ -1233,7 +1499,28 @@ impl<'a> Problem<'a> {
                     }
                 }
             }
-            lu.solve(&mut dx);
+            let solved_by_krylov = self.krylov && self.krylov_step(&ev, &mut dx);
+            if !solved_by_krylov && m > MAX_SYSTEM {
+                return Err(Fail::NoConvergence {
+                    iterations: it + 1,
+                    worst: last.1,
+                    residual: last.2,
+                });
+            }
+            if !solved_by_krylov {
+                let jac = self.jacobian(&ev);
+                lu.factor(&jac).map_err(|slot| Fail::Singular {
+                    iterations: it,
+                    slot,
+                    cause: crate::singular::cause_mapped(
+                        &jac,
+                        m,
+                        |j| self.red.ports.get(j % p.max(1)).copied().unwrap_or(0),
+                        self.devices,
+                    ),
+                })?;
+                lu.solve(&mut dx);
+            }
             if let Some(e) = dx.iter().position(|v| !v.is_finite()) {
                 return Err(Fail::NonFinite {
                     iterations: it,
@@ -1427,7 +1714,41 @@ struct Solved {
     continuation_steps: usize,
     truncation: f64,
     system_size: usize,
+    krylov_iterations: usize,
     t_start: f64,
+}
+
+/// Largest real Newton system for the options: the GMRES limit when GMRES
+/// takes over below the dense limit, else the dense limit.
+fn max_system(bp: &BalanceParams) -> usize {
+    if bp.krylov_from <= MAX_SYSTEM {
+        MAX_KRYLOV_SYSTEM
+    } else {
+        MAX_SYSTEM
+    }
+}
+
+/// Whether `p` ports at `kmax` harmonics fit the limits (checked before
+/// anything of that size is allocated).
+fn fits(p: usize, kmax: usize, bp: &BalanceParams) -> bool {
+    let size = p.saturating_mul(2 * kmax + 1);
+    let entries = p.saturating_mul(p).saturating_mul(kmax + 1);
+    size <= max_system(bp) && entries <= MAX_NETWORK_ENTRIES
+}
+
+fn check_size(p: usize, kmax: usize, bp: &BalanceParams) -> Result<(), SolveError> {
+    if fits(p, kmax, bp) {
+        return Ok(());
+    }
+    Err(SolveError::BadParams(format!(
+        "harmonic balance: the Newton system would have {} unknowns ({p} ports × {} \
+         real harmonic terms) and the linear network {} entries over the harmonics; \
+         the limits are {} unknowns and {MAX_NETWORK_ENTRIES} entries; use fewer harmonics",
+        p.saturating_mul(2 * kmax + 1),
+        2 * kmax + 1,
+        p.saturating_mul(p).saturating_mul(kmax + 1),
+        max_system(bp),
+    )))
 }
 
 /// FFT size of the nonlinear evaluation for `k` harmonics.
@@ -1456,6 +1777,7 @@ fn solve_k(
     let lin = linear_network(devices, kmax, &mut fft, t_start, period, bp.junction_leak)
         .map_err(|e| (e, 0, 0))?;
     let all: Vec<usize> = (0..n).collect();
+    check_size(ports_structural.len(), kmax, bp).map_err(|e| (e, 0, 0))?;
     let singular = |f: ReduceFail| {
         (
             SolveError::Singular {
@@ -1478,32 +1800,27 @@ fn solve_k(
             0,
         )
     };
+    let reduce_all = || {
+        check_size(n, kmax, bp).map_err(|e| (e, 0, 0))?;
+        reduce(&lin, &all, kmax, omega).map_err(singular)
+    };
     let red = match reduce_growing(&lin, ports_structural, kmax, omega) {
         Ok(r) => r,
-        Err(_) => reduce(&lin, &all, kmax, omega).map_err(singular)?,
+        Err(_) => reduce_all()?,
     };
     let reduced = !red.others.is_empty();
-    let size = red.ports.len() * (2 * kmax + 1);
-    if size > MAX_SYSTEM {
-        return Err((
-            SolveError::BadParams(format!(
-                "harmonic balance: the Newton system would have {size} unknowns \
-                 ({} ports × {} real harmonic terms), above the limit of {MAX_SYSTEM}; \
-                 use fewer harmonics",
-                red.ports.len(),
-                2 * kmax + 1
-            )),
-            0,
-            0,
-        ));
-    }
+    check_size(red.ports.len(), kmax, bp).map_err(|e| (e, 0, 0))?;
+    let krylov = red.ports.len() * (2 * kmax + 1) >= bp.krylov_from;
     let mut prob = Problem::new(devices, red, kmax, nfft, omega, t_start, params);
+    prob.krylov = krylov;
     let attempt = run_levels(&mut prob, params, x_op, warm);
     let attempt = match attempt {
         Err((Fail::Escaped { .. }, _, _)) if reduced => {
             // A device stamped outside the structural ports: keep every unknown.
-            let red = reduce(&lin, &all, kmax, omega).map_err(singular)?;
+            let red = reduce_all()?;
+            let krylov = red.ports.len() * (2 * kmax + 1) >= bp.krylov_from;
             prob = Problem::new(devices, red, kmax, nfft, omega, t_start, params);
+            prob.krylov = krylov;
             run_levels(&mut prob, params, x_op, warm)
         }
         other => other,
@@ -1539,6 +1856,7 @@ fn solve_k(
         ports: prob.p(),
         reduced,
         system_size: prob.size(),
+        krylov_iterations: prob.krylov_iterations,
         x_full,
         iterations,
         cuts,
@@ -1547,6 +1865,41 @@ fn solve_k(
         truncation,
         t_start,
     })
+}
+
+/// Harmonics `[k][unknown]` (k ≤ `kmax`) of one period integrated from the
+/// state `x0` at `t_start` (a warm start), on a grid of 4K steps (at least
+/// 64) by TR-BDF2; `None` when a step fails.
+fn warm_harmonics(
+    devices: &DeviceSet,
+    params: &SteadyParams,
+    x0: &[f64],
+    t_start: f64,
+    kmax: usize,
+) -> Option<Vec<Vec<C64>>> {
+    let n = devices.n_unknowns;
+    let ns = fft_size(kmax, 4).max(64);
+    let h = 1.0 / (params.freq * ns as f64);
+    let mut st =
+        crate::transient::Stepper::from_zero(devices, params.tol, params.linear_solver, t_start);
+    st.init_at(x0, t_start);
+    let mut wave = vec![vec![0.0; ns]; n];
+    for s in 0..ns {
+        for (w, v) in wave.iter_mut().zip(&st.x) {
+            w[s] = *v;
+        }
+        st.step_trbdf2(t_start + (s + 1) as f64 * h).ok()?;
+    }
+    let mut fft = Fft::new(ns);
+    let mut coef = vec![ZERO; kmax + 1];
+    let mut out = vec![vec![ZERO; n]; kmax + 1];
+    for (u, w) in wave.iter().enumerate() {
+        fft.forward(w, &mut coef);
+        for (row, c) in out.iter_mut().zip(&coef) {
+            row[u] = *c;
+        }
+    }
+    out.iter().flatten().all(|v| v.is_finite()).then_some(out)
 }
 
 /// Port harmonics `[k·p + r]` from harmonics of every unknown (any K, zero-padded).
@@ -1685,6 +2038,7 @@ struct Totals {
     iterations: usize,
     cuts: usize,
     levels: usize,
+    krylov: usize,
 }
 
 /// Build the [`PeriodicSolution`] from a converged solve.
@@ -1745,6 +2099,7 @@ fn finish(
                 continuation_steps: totals.levels,
                 line_search_cuts: totals.cuts,
                 truncation: sol.truncation,
+                krylov_iterations: totals.krylov,
             }),
             shooting: None,
             floquet: None,
