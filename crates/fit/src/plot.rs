@@ -1,0 +1,1 @@
+//! SVG plots of data against model, one per curve.

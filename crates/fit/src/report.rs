@@ -1,0 +1,72 @@
+//! The fit report for a person: per curve RMS and worst error in the
+//! curve's unit and in percent, the parameters found, the stages run and
+//! the parameters the curves leave open.
+
+use crate::fit::FitResult;
+use tankwave_circuit::si::si_prefixed;
+
+/// The report as plain text.
+pub fn text(name: &str, r: &FitResult) -> String {
+    let mut s = format!("Fit of bipolar model '{name}'\n\nCurves (errors are model − data):\n");
+    s.push_str(&format!(
+        "  {:<8} {:>6}  {:>12} {:>8}  {:>12} {:>8}  {:>5}  file\n",
+        "curve", "points", "RMS", "RMS %", "worst", "worst %", "line"
+    ));
+    for c in &r.curves {
+        let unit = c.kind.measured().unit();
+        s.push_str(&format!(
+            "  {:<8} {:>6}  {:>12} {:>8.2}  {:>12} {:>8.2}  {:>5}  {}\n",
+            c.kind.word(),
+            c.points.iter().filter(|q| q.used).count(),
+            si_prefixed(c.rms, unit, 3),
+            c.rms_rel * 100.0,
+            si_prefixed(c.worst, unit, 3),
+            c.worst_rel * 100.0,
+            c.worst_line,
+            c.file
+        ));
+        if let Some(o) = c.left_out_rms_rel {
+            s.push_str(&format!(
+                "  {:<8} points left out of the fit: RMS {:.1} %\n",
+                "", o * 100.0
+            ));
+        }
+    }
+    s.push_str("\nParameters fitted:\n");
+    for k in &r.fitted {
+        let (b, w) = k.place();
+        let mark = if r.at_bound.contains(k) { "  (at a bound)" } else { "" };
+        let open = if r.undetermined.iter().any(|u| u.knob == *k) {
+            "  (not determined, see below)"
+        } else {
+            ""
+        };
+        s.push_str(&format!(
+            "  {:<6} {:<26} {:>14}{mark}{open}\n",
+            k.symbol(),
+            format!("{b}.{w}"),
+            si_prefixed(k.get(&r.params), k.unit(), 4)
+        ));
+    }
+    if !r.undetermined.is_empty() {
+        s.push_str("\nNot determined by these curves:\n");
+        for u in &r.undetermined {
+            s.push_str(&format!("  {:<6} {}\n", u.knob.symbol(), u.why));
+        }
+    }
+    s.push_str("\nStages:\n");
+    for st in &r.stages {
+        let names: Vec<&str> = st.knobs.iter().map(|k| k.symbol()).collect();
+        s.push_str(&format!(
+            "  {:<32} {:<40} {:>5} evaluations, {}\n",
+            st.name,
+            names.join(" "),
+            st.evaluations,
+            st.termination
+        ));
+    }
+    for n in &r.notes {
+        s.push_str(&format!("\nnote: {n}\n"));
+    }
+    s
+}
