@@ -133,7 +133,11 @@ impl CurveKind {
     pub fn columns(self) -> (Column, Option<Column>, Column) {
         use Quantity::*;
         match self {
-            CurveKind::Gain => (col("ic", Current), Some(col("vce", Voltage)), col("gain", Ratio)),
+            CurveKind::Gain => (
+                col("ic", Current),
+                Some(col("vce", Voltage)),
+                col("gain", Ratio),
+            ),
             CurveKind::BaseVoltage => (
                 col("ic", Current),
                 Some(col("vce", Voltage)),
@@ -147,7 +151,11 @@ impl CurveKind {
                 Some(col("vce", Voltage)),
                 col("ft", Frequency),
             ),
-            CurveKind::Saturation => (col("ic", Current), Some(col("ib", Current)), col("vce", Voltage)),
+            CurveKind::Saturation => (
+                col("ic", Current),
+                Some(col("ib", Current)),
+                col("vce", Voltage),
+            ),
         }
     }
 
@@ -239,7 +247,11 @@ fn unit_factor(q: Quantity, unit: Option<&str>) -> Result<f64, String> {
         (Quantity::Ratio, None) => Ok(1.0),
         (Quantity::Ratio, Some(u)) if u.is_empty() || u == "1" => Ok(1.0),
         (Quantity::Ratio, Some(u)) => Err(format!("has the unit '{u}' but is {}", q.what())),
-        (_, None) => Err(format!("has no unit; it is {}, e.g. [{}]", q.what(), q.unit())),
+        (_, None) => Err(format!(
+            "has no unit; it is {}, e.g. [{}]",
+            q.what(),
+            q.unit()
+        )),
         (_, Some(u)) => {
             let base = q.unit();
             let f = u
@@ -259,7 +271,10 @@ pub fn parse(kind: CurveKind, file: &str, text: &str) -> Result<Curve, FitError>
         msg,
     };
     if text.len() > MAX_BYTES {
-        return Err(err(1, format!("more than the {MAX_BYTES} byte limit of a curve file")));
+        return Err(err(
+            1,
+            format!("more than the {MAX_BYTES} byte limit of a curve file"),
+        ));
     }
     let mut rdr = csv::ReaderBuilder::new()
         .has_headers(true)
@@ -283,11 +298,18 @@ pub fn parse(kind: CurveKind, file: &str, text: &str) -> Result<Curve, FitError>
     if headers.is_empty() || headers.iter().all(|h| h.is_empty()) {
         return Err(err(
             header_line,
-            format!("no header line; a {} file starts with `{}`", kind.word(), kind.header_hint()),
+            format!(
+                "no header line; a {} file starts with `{}`",
+                kind.word(),
+                kind.header_hint()
+            ),
         ));
     }
     let (ca, cb, cy) = kind.columns();
-    let wanted: Vec<Column> = std::iter::once(ca).chain(cb).chain(std::iter::once(cy)).collect();
+    let wanted: Vec<Column> = std::iter::once(ca)
+        .chain(cb)
+        .chain(std::iter::once(cy))
+        .collect();
     // index and factor of each wanted column, then the weight column
     let mut found: Vec<Option<(usize, f64)>> = vec![None; wanted.len()];
     let mut weight: Option<usize> = None;
@@ -295,10 +317,16 @@ pub fn parse(kind: CurveKind, file: &str, text: &str) -> Result<Curve, FitError>
         let (name, unit) = split_header(h);
         if name == "weight" {
             if weight.is_some() {
-                return Err(err(header_line, "the column 'weight' is given twice".into()));
+                return Err(err(
+                    header_line,
+                    "the column 'weight' is given twice".into(),
+                ));
             }
             if let Some(u) = unit.filter(|u| !u.is_empty() && u != "1") {
-                return Err(err(header_line, format!("the column 'weight' has the unit '{u}'; a weight has none")));
+                return Err(err(
+                    header_line,
+                    format!("the column 'weight' has the unit '{u}'; a weight has none"),
+                ));
             }
             weight = Some(i);
             continue;
@@ -315,7 +343,10 @@ pub fn parse(kind: CurveKind, file: &str, text: &str) -> Result<Curve, FitError>
             ));
         };
         if found[k].is_some() {
-            return Err(err(header_line, format!("the column '{name}' is given twice")));
+            return Err(err(
+                header_line,
+                format!("the column '{name}' is given twice"),
+            ));
         }
         let f = unit_factor(wanted[k].quantity, unit.as_deref())
             .map_err(|m| err(header_line, format!("the column '{name}' {m}")))?;
@@ -346,7 +377,10 @@ pub fn parse(kind: CurveKind, file: &str, text: &str) -> Result<Curve, FitError>
             continue;
         }
         if points.len() >= MAX_POINTS {
-            return Err(err(line, format!("more than {MAX_POINTS} points in one curve")));
+            return Err(err(
+                line,
+                format!("more than {MAX_POINTS} points in one curve"),
+            ));
         }
         let mut vals = Vec::with_capacity(cols.len());
         for (k, &(i, f)) in cols.iter().enumerate() {
@@ -354,12 +388,18 @@ pub fn parse(kind: CurveKind, file: &str, text: &str) -> Result<Curve, FitError>
             let Some(s) = rec.get(i).filter(|s| !s.is_empty()) else {
                 return Err(err(line, format!("no value in the column '{name}'")));
             };
-            let v: f64 = s
-                .parse()
-                .map_err(|_| err(line, format!("'{s}' in the column '{name}' is not a number")))?;
+            let v: f64 = s.parse().map_err(|_| {
+                err(
+                    line,
+                    format!("'{s}' in the column '{name}' is not a number"),
+                )
+            })?;
             let v = v * f;
             if !v.is_finite() {
-                return Err(err(line, format!("'{s}' in the column '{name}' is not a finite number")));
+                return Err(err(
+                    line,
+                    format!("'{s}' in the column '{name}' is not a finite number"),
+                ));
             }
             vals.push(v);
         }
@@ -374,7 +414,10 @@ pub fn parse(kind: CurveKind, file: &str, text: &str) -> Result<Curve, FitError>
                         .parse()
                         .map_err(|_| err(line, format!("weight '{s}' is not a number")))?;
                     if !(w.is_finite() && w >= 0.0) {
-                        return Err(err(line, format!("weight '{s}' must be a finite number ≥ 0")));
+                        return Err(err(
+                            line,
+                            format!("weight '{s}' must be a finite number ≥ 0"),
+                        ));
                     }
                     w
                 }
@@ -411,7 +454,9 @@ fn check_point(kind: CurveKind, a: f64, b: f64, y: f64) -> Result<(), String> {
     match kind {
         CurveKind::OutputCap | CurveKind::InputCap => {
             if a < 0.0 {
-                return Err(format!("reverse voltage {a} V is negative; give the magnitude of a reverse bias"));
+                return Err(format!(
+                    "reverse voltage {a} V is negative; give the magnitude of a reverse bias"
+                ));
             }
         }
         _ => {
@@ -459,11 +504,26 @@ mod tests {
         assert!(e.to_string().contains("'ic' has the unit 'V'"), "{e}");
         let e = parse(CurveKind::OutputCap, "c.csv", "reverse[V]\n1\n").unwrap_err();
         assert!(e.to_string().contains("'cap' is missing"), "{e}");
-        let e = parse(CurveKind::OutputCap, "c.csv", "reverse[V],cap[pF]\n1,10\n2,9\n").unwrap_err();
+        let e = parse(
+            CurveKind::OutputCap,
+            "c.csv",
+            "reverse[V],cap[pF]\n1,10\n2,9\n",
+        )
+        .unwrap_err();
         assert!(e.to_string().contains("needs at least"), "{e}");
-        let e = parse(CurveKind::OutputCap, "c.csv", "reverse[V],cap[pF]\n1,10\n2,x\n").unwrap_err();
+        let e = parse(
+            CurveKind::OutputCap,
+            "c.csv",
+            "reverse[V],cap[pF]\n1,10\n2,x\n",
+        )
+        .unwrap_err();
         assert!(e.to_string().starts_with("c.csv:3:"), "{e}");
-        let e = parse(CurveKind::Transition, "f.csv", "ic[A],vce[V],ft[MHz],colour\n").unwrap_err();
+        let e = parse(
+            CurveKind::Transition,
+            "f.csv",
+            "ic[A],vce[V],ft[MHz],colour\n",
+        )
+        .unwrap_err();
         assert!(e.to_string().contains("unknown column 'colour'"), "{e}");
     }
 }

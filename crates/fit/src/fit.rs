@@ -12,7 +12,11 @@
 //!    f_T points up to the peak of f_T (a constant τ_F cannot follow f_T
 //!    falling at high current: those points are left out, and their misfit
 //!    is reported);
-//! 4. **saturation**: β_R and r_C from the saturation-voltage curve.
+//! 4. **saturation**: β_R and r_C from the saturation-voltage curve;
+//! 5. **all together**: every parameter fitted above, on every point used
+//!    above, so that the result is the least-squares optimum of the whole
+//!    set (the capacitances also shape f_T, r_C also shifts the gain); the
+//!    stages before give it its starting values.
 //!
 //! Each stage is a Levenberg–Marquardt minimisation (the
 //! `levenberg-marquardt` crate, MINPACK's algorithm) of the weighted
@@ -136,8 +140,13 @@ pub struct FitResult {
     pub curves: Vec<CurveFit>,
     /// The stages run.
     pub stages: Vec<StageInfo>,
-    /// Singular values of the final Jacobian (largest first).
+    /// Singular values of the final Jacobian in ln p (largest first).
     pub singular_values: Vec<f64>,
+    /// Relative standard error of each fitted parameter (same order as
+    /// `fitted`): the standard error of ln p from the residual scatter,
+    /// s²·(JᵀJ)⁻¹ with s² = Σr²/(m − n) (∞ along a flat direction or when
+    /// there are no more points than parameters).
+    pub std_err: Vec<f64>,
     /// Notes for the reader (points left out and why).
     pub notes: Vec<String>,
 }
@@ -297,7 +306,11 @@ pub fn fit(curves: &[Curve], pnp: bool, fp: &FitParams) -> Result<FitResult, Fit
         ),
     ] {
         let Some(c) = curve(curves, kind) else {
-            not_given(&knobs, "no capacitance curve for this junction (left off)", &mut undetermined);
+            not_given(
+                &knobs,
+                "no capacitance curve for this junction (left off)",
+                &mut undetermined,
+            );
             continue;
         };
         let low = c
@@ -338,7 +351,11 @@ pub fn fit(curves: &[Curve], pnp: bool, fp: &FitParams) -> Result<FitResult, Fit
             dc_knobs.extend([Knob::SatCurrent, Knob::Ideality]);
         } else {
             p.sat_current = 1e-13;
-            not_given(&[Knob::SatCurrent, Knob::Ideality], "no base-voltage curve", &mut undetermined);
+            not_given(
+                &[Knob::SatCurrent, Knob::Ideality],
+                "no base-voltage curve",
+                &mut undetermined,
+            );
         }
         if let (Some(g), Some((_, gpk))) = (gain, peak) {
             p.gain_fwd = gpk * 1.1;
@@ -383,7 +400,11 @@ pub fn fit(curves: &[Curve], pnp: bool, fp: &FitParams) -> Result<FitResult, Fit
             rows: gain
                 .into_iter()
                 .chain(vbe)
-                .flat_map(|c| used_points(c).filter(move |q| q.a <= limit).map(move |q| (c.kind, q)))
+                .flat_map(|c| {
+                    used_points(c)
+                        .filter(move |q| q.a <= limit)
+                        .map(move |q| (c.kind, q))
+                })
                 .collect(),
         };
         if rows.rows.len() > dc_knobs.len() && !dc_knobs.is_empty() {
@@ -446,12 +467,18 @@ pub fn fit(curves: &[Curve], pnp: bool, fp: &FitParams) -> Result<FitResult, Fit
             );
         }
     } else {
-        not_given(&[Knob::Transit], "no f_T curve (left off: 0)", &mut undetermined);
+        not_given(
+            &[Knob::Transit],
+            "no f_T curve (left off: 0)",
+            &mut undetermined,
+        );
     }
     if hi_knobs.len() > dc_knobs.len() {
-        let ft_rows = ft
-            .into_iter()
-            .flat_map(|c| used_points(c).filter(|q| q.a <= ft_limit).map(move |q| (c.kind, q)));
+        let ft_rows = ft.into_iter().flat_map(|c| {
+            used_points(c)
+                .filter(|q| q.a <= ft_limit)
+                .map(move |q| (c.kind, q))
+        });
         let rows = Rows {
             rows: gain
                 .into_iter()
@@ -460,7 +487,13 @@ pub fn fit(curves: &[Curve], pnp: bool, fp: &FitParams) -> Result<FitResult, Fit
                 .chain(ft_rows)
                 .collect(),
         };
-        stages.push(run_stage("high injection and transit time", &mut p, &hi_knobs, &rows, fp));
+        stages.push(run_stage(
+            "high injection and transit time",
+            &mut p,
+            &hi_knobs,
+            &rows,
+            fp,
+        ));
         fitted.extend(hi_knobs[dc_knobs.len()..].iter().copied());
     }
 
@@ -488,10 +521,24 @@ pub fn fit(curves: &[Curve], pnp: bool, fp: &FitParams) -> Result<FitResult, Fit
         );
     }
 
+    // --- stage 5: every fitted parameter on every used point together, so
+    // the result is the least-squares optimum of the whole set (the stages
+    // before only give it its starting values)
+    if stages.len() > 1 {
+        let rows = Rows {
+            rows: all_rows(curves, ft_limit),
+        };
+        stages.push(run_stage("all together", &mut p, &fitted, &rows, fp));
+    }
+
     // --- the curves under the final parameters
     let mut out_curves = Vec::new();
     for c in curves {
-        let limit = if c.kind == CurveKind::Transition { ft_limit } else { f64::INFINITY };
+        let limit = if c.kind == CurveKind::Transition {
+            ft_limit
+        } else {
+            f64::INFINITY
+        };
         let points: Vec<PointFit> = c
             .points
             .iter()
@@ -517,23 +564,35 @@ pub fn fit(curves: &[Curve], pnp: bool, fp: &FitParams) -> Result<FitResult, Fit
     }
 
     // --- flat directions of the final Jacobian (in ln p)
-    let (singular_values, flats) = flat_directions(&p, &fitted, curves, ft_limit, fp.flat_ratio);
+    let (singular_values, std_err, flats) =
+        flat_directions(&p, &fitted, curves, ft_limit, fp.flat_ratio);
     for (ratio, members) in flats {
-        let names: Vec<&str> = members.iter().map(|k| k.symbol()).collect();
         for &k in &members {
+            let others: Vec<&str> = members
+                .iter()
+                .filter(|o| **o != k)
+                .map(|o| o.symbol())
+                .collect();
+            let with = if others.is_empty() {
+                "alone".to_string()
+            } else {
+                format!("with {}", others.join(", "))
+            };
             if !undetermined.iter().any(|u| u.knob == k) {
                 undetermined.push(Undetermined {
                     knob: k,
                     why: format!(
-                        "moves with {} along a flat direction of the fit (singular value {:.1e} of the largest)",
-                        names.join(", "),
-                        ratio
+                        "moves {with} along a flat direction of the fit (singular value {ratio:.1e} of the largest): the curves do not pin it"
                     ),
                 });
             }
         }
     }
-    let at_bound = fitted.iter().copied().filter(|k| k.at_bound(k.get(&p))).collect();
+    let at_bound = fitted
+        .iter()
+        .copied()
+        .filter(|k| k.at_bound(k.get(&p)))
+        .collect();
     Ok(FitResult {
         params: p,
         fitted,
@@ -542,8 +601,26 @@ pub fn fit(curves: &[Curve], pnp: bool, fp: &FitParams) -> Result<FitResult, Fit
         curves: out_curves,
         stages,
         singular_values,
+        std_err,
         notes,
     })
+}
+
+/// Every point that takes part in the fit (f_T only up to `ft_limit`).
+fn all_rows(curves: &[Curve], ft_limit: f64) -> Vec<(CurveKind, &Point)> {
+    curves
+        .iter()
+        .flat_map(|c| {
+            let lim = if c.kind == CurveKind::Transition {
+                ft_limit
+            } else {
+                f64::INFINITY
+            };
+            used_points(c)
+                .filter(move |q| q.a <= lim)
+                .map(move |q| (c.kind, q))
+        })
+        .collect()
 }
 
 fn used_points(c: &Curve) -> impl Iterator<Item = &Point> + Clone {
@@ -595,26 +672,25 @@ fn summarise(c: &Curve, points: Vec<PointFit>) -> Result<CurveFit, FitError> {
     })
 }
 
-/// Singular values of the Jacobian in ln p over every used point, and the
-/// flat directions: (ratio to the largest, knobs with |component| ≥ 0.3).
+/// Flat directions: (ratio of the singular value to the largest, knobs
+/// with |component| ≥ 0.3).
+type Flats = Vec<(f64, Vec<Knob>)>;
+
+/// Singular values of the Jacobian in ln p over every used point, the
+/// relative standard errors and the flat directions.
 fn flat_directions(
     p: &BjtParams,
     knobs: &[Knob],
     curves: &[Curve],
     ft_limit: f64,
     flat_ratio: f64,
-) -> (Vec<f64>, Vec<(f64, Vec<Knob>)>) {
-    let rows: Vec<(CurveKind, &Point)> = curves
-        .iter()
-        .flat_map(|c| {
-            let lim = if c.kind == CurveKind::Transition { ft_limit } else { f64::INFINITY };
-            used_points(c).filter(move |q| q.a <= lim).map(move |q| (c.kind, q))
-        })
-        .collect();
+) -> (Vec<f64>, Vec<f64>, Flats) {
+    let rows = all_rows(curves, ft_limit);
     if knobs.is_empty() || rows.is_empty() {
-        return (Vec::new(), Vec::new());
+        return (Vec::new(), vec![f64::INFINITY; knobs.len()], Vec::new());
     }
-    let res = |p: &BjtParams| -> Vec<f64> { rows.iter().map(|(k, q)| residual(p, *k, q)).collect() };
+    let res =
+        |p: &BjtParams| -> Vec<f64> { rows.iter().map(|(k, q)| residual(p, *k, q)).collect() };
     let mut j = DMatrix::zeros(rows.len(), knobs.len());
     for (c, k) in knobs.iter().enumerate() {
         let v = k.get(p);
@@ -629,16 +705,40 @@ fn flat_directions(
             j[(r, c)] = (ru[r] - rd[r]) / (2.0 * h);
         }
     }
+    let r0 = res(p);
+    let dof = rows.len() as f64 - knobs.len() as f64;
+    let s2 = if dof > 0.0 {
+        r0.iter().map(|r| r * r).sum::<f64>() / dof
+    } else {
+        f64::INFINITY
+    };
     // SVD needs at least as many rows as columns for all directions; pad with zeros
     if j.nrows() < j.ncols() {
         j = j.resize_vertically(knobs.len(), 0.0);
     }
     let svd = j.svd(false, true);
     let Some(vt) = svd.v_t else {
-        return (Vec::new(), Vec::new());
+        return (Vec::new(), vec![f64::INFINITY; knobs.len()], Vec::new());
     };
     let sv: Vec<f64> = svd.singular_values.iter().copied().collect();
     let top = sv.iter().copied().fold(0.0, f64::max);
+    // (JᵀJ)⁻¹ = V Σ⁻² Vᵀ: its diagonal, direction by direction
+    let std_err: Vec<f64> = (0..knobs.len())
+        .map(|c| {
+            let mut v = 0.0;
+            for (i, &si) in sv.iter().enumerate() {
+                let comp = vt[(i, c)];
+                if si <= top * 1e-14 {
+                    if comp.abs() > 1e-8 {
+                        return f64::INFINITY;
+                    }
+                    continue;
+                }
+                v += comp * comp / (si * si);
+            }
+            (s2 * v).sqrt()
+        })
+        .collect();
     let mut order: Vec<usize> = (0..sv.len()).collect();
     order.sort_by(|&a, &b| sv[b].total_cmp(&sv[a]));
     let mut flats = Vec::new();
@@ -654,5 +754,5 @@ fn flat_directions(
             flats.push((ratio, members));
         }
     }
-    (order.iter().map(|&i| sv[i]).collect(), flats)
+    (order.iter().map(|&i| sv[i]).collect(), std_err, flats)
 }

@@ -191,7 +191,11 @@ impl Knob {
         } else {
             (p - lo) / (hi - lo)
         };
-        let s = if s.is_finite() { s.clamp(1e-9, 1.0 - 1e-9) } else { 0.5 };
+        let s = if s.is_finite() {
+            s.clamp(1e-9, 1.0 - 1e-9)
+        } else {
+            0.5
+        };
         (s / (1.0 - s)).ln()
     }
 
@@ -213,11 +217,23 @@ mod tests {
 
     #[test]
     fn transform_round_trips_and_stays_inside() {
-        for k in [Knob::SatCurrent, Knob::PotentialBe, Knob::Beta, Knob::GradingBc] {
+        for k in [
+            Knob::SatCurrent,
+            Knob::PotentialBe,
+            Knob::Beta,
+            Knob::GradingBc,
+        ] {
             let (lo, hi, _) = k.bounds();
-            let mid = if k.bounds().2 { (lo * hi).sqrt() } else { 0.5 * (lo + hi) };
+            let mid = if k.bounds().2 {
+                (lo * hi).sqrt()
+            } else {
+                0.5 * (lo + hi)
+            };
             let back = k.from_u(k.to_u(mid));
-            assert!((back - mid).abs() <= 1e-12 * mid.abs(), "{k:?} {back} {mid}");
+            assert!(
+                (back - mid).abs() <= 1e-12 * mid.abs(),
+                "{k:?} {back} {mid}"
+            );
             for u in [-800.0, -30.0, 0.0, 30.0, 800.0] {
                 let p = k.from_u(u);
                 assert!(p >= lo && p <= hi, "{k:?} {u} {p}");

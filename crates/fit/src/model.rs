@@ -98,7 +98,7 @@ fn vbe_for(k: &BjtConstants, ic: f64, vce: f64) -> Result<(f64, Intrinsic), Stri
     let f = |v: f64| intrinsic(k, v, v - vce, 0.0);
     let (mut lo, mut hi) = (-0.5_f64, 3.0_f64);
     let top = f(hi);
-    if !(top.ic >= ic) {
+    if top.ic.is_nan() || top.ic < ic {
         return Err(format!(
             "I_C reaches only {:.3e} A at V_BE = {hi} V, V_CE = {vce:.3} V",
             top.ic
@@ -172,7 +172,13 @@ mod tests {
         // Ideal transistor (no leakage, knee, Early): gain = β_F exactly
         // (docs/models.md: I_B = I_F/β_F, I_C = I_F).
         let p = BjtParams::default();
-        let pt = Point { a: 1e-3, b: 5.0, y: 1.0, w: 1.0, line: 1 };
+        let pt = Point {
+            a: 1e-3,
+            b: 5.0,
+            y: 1.0,
+            w: 1.0,
+            line: 1,
+        };
         let g = value(&p, CurveKind::Gain, &pt).unwrap();
         assert!((g - p.gain_fwd).abs() < 1e-6 * p.gain_fwd, "{g}");
         let k = BjtConstants::new(&p, 1.0, p.t_measured);
@@ -194,7 +200,13 @@ mod tests {
             ..BjtParams::default()
         };
         let (ic, ib) = (0.1, 0.01);
-        let pt = Point { a: ic, b: ib, y: 1.0, w: 1.0, line: 1 };
+        let pt = Point {
+            a: ic,
+            b: ib,
+            y: 1.0,
+            w: 1.0,
+            line: 1,
+        };
         let v = value(&p, CurveKind::Saturation, &pt).unwrap();
         let vt = BjtConstants::new(&p, 1.0, p.t_measured).vt;
         let f = ic / ib;

@@ -123,9 +123,7 @@ pub fn part_text(name: &str, r: &FitResult) -> String {
         s.push_str("  }\n");
     }
     if p.cj_be > 0.0 || p.cj_bc > 0.0 {
-        s.push_str(
-            "  # linear_from is not set by reverse-bias curves: 0.5 (common practice)\n",
-        );
+        s.push_str("  # linear_from is not set by reverse-bias curves: 0.5 (common practice)\n");
     }
     s.push_str(&format!(
         "  temperature {{ measured_at={}degC }}\n",

@@ -28,24 +28,41 @@ pub fn text(name: &str, r: &FitResult) -> String {
         if let Some(o) = c.left_out_rms_rel {
             s.push_str(&format!(
                 "  {:<8} points left out of the fit: RMS {:.1} %\n",
-                "", o * 100.0
+                "",
+                o * 100.0
             ));
         }
     }
     s.push_str("\nParameters fitted:\n");
-    for k in &r.fitted {
+    s.push_str(&format!(
+        "  {:<6} {:<26} {:>14}  {:>9}\n",
+        "", "stage file", "value", "std. err."
+    ));
+    for (n, k) in r.fitted.iter().enumerate() {
         let (b, w) = k.place();
-        let mark = if r.at_bound.contains(k) { "  (at a bound)" } else { "" };
+        let se = r.std_err.get(n).copied().unwrap_or(f64::INFINITY);
+        let flat = r.undetermined.iter().any(|u| u.knob == *k);
+        let se = if se.is_finite() && !flat {
+            format!("{:.2} %", se * 100.0)
+        } else {
+            "—".to_string()
+        };
+        let mark = if r.at_bound.contains(k) {
+            "  (at a bound)"
+        } else {
+            ""
+        };
         let open = if r.undetermined.iter().any(|u| u.knob == *k) {
             "  (not determined, see below)"
         } else {
             ""
         };
         s.push_str(&format!(
-            "  {:<6} {:<26} {:>14}{mark}{open}\n",
+            "  {:<6} {:<26} {:>14}  {:>9}{mark}{open}\n",
             k.symbol(),
             format!("{b}.{w}"),
-            si_prefixed(k.get(&r.params), k.unit(), 4)
+            si_prefixed(k.get(&r.params), k.unit(), 4),
+            se
         ));
     }
     if !r.undetermined.is_empty() {
