@@ -126,7 +126,7 @@ pub fn part_text(name: &str, r: &FitResult) -> String {
         s.push_str("  # linear_from is not set by reverse-bias curves: 0.5 (common practice)\n");
     }
     s.push_str(&format!(
-        "  temperature {{ measured_at={}degC }}\n",
+        "  temperature {{ measured_at={:.2}degC }}\n",
         p.t_measured - 273.15
     ));
     s.push_str("}\n");

@@ -87,3 +87,33 @@ pub fn text(name: &str, r: &FitResult) -> String {
     }
     s
 }
+
+/// `&`, `<`, `>` and `"` escaped for HTML text and attributes.
+fn escape(s: &str) -> String {
+    s.replace('&', "&amp;")
+        .replace('<', "&lt;")
+        .replace('>', "&gt;")
+        .replace('"', "&quot;")
+}
+
+/// A self-contained HTML page: the text report, then the SVG overlay of
+/// each curve (as [`crate::plot::svg`] draws it) inline.
+pub fn html(name: &str, r: &FitResult, plots: &[String]) -> String {
+    let mut s = String::from("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">");
+    s.push_str(&format!(
+        "<title>Fit of {}</title><style>body{{font-family:sans-serif;max-width:60em;margin:2em auto}}pre{{font-size:0.85em}}</style></head><body>\n",
+        escape(name)
+    ));
+    s.push_str(&format!("<h1>Fit of bipolar model {}</h1>\n", escape(name)));
+    s.push_str(&format!("<pre>{}</pre>\n", escape(&text(name, r))));
+    for (c, svg) in r.curves.iter().zip(plots) {
+        s.push_str(&format!(
+            "<h2>{}: {}</h2>\n{}\n",
+            escape(c.kind.word()),
+            escape(c.kind.title()),
+            svg
+        ));
+    }
+    s.push_str("</body></html>\n");
+    s
+}
