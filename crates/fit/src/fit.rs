@@ -51,6 +51,9 @@ pub struct FitParams {
     pub ft_fall: f64,
     /// Most residual evaluations per stage, per parameter (the solver's patience).
     pub patience: usize,
+    /// Relative standard error above which a fitted parameter is named as
+    /// not determined (1.0: ln p uncertain by more than 1, a factor e).
+    pub max_std_err: f64,
 }
 
 impl Default for FitParams {
@@ -63,6 +66,7 @@ impl Default for FitParams {
             flat_ratio: 1e-4,
             ft_fall: 0.98,
             patience: 200,
+            max_std_err: 1.0,
         }
     }
 }
@@ -586,6 +590,22 @@ pub fn fit(curves: &[Curve], pnp: bool, fp: &FitParams) -> Result<FitResult, Fit
                     ),
                 });
             }
+        }
+    }
+    for (n, &k) in fitted.iter().enumerate() {
+        let se = std_err.get(n).copied().unwrap_or(f64::INFINITY);
+        if se > fp.max_std_err && !undetermined.iter().any(|u| u.knob == k) {
+            undetermined.push(Undetermined {
+                knob: k,
+                why: if se.is_finite() {
+                    format!(
+                        "standard error {:.0} % of its value: the curves barely constrain it",
+                        se * 100.0
+                    )
+                } else {
+                    "no more points than parameters: no error estimate".to_string()
+                },
+            });
         }
     }
     let at_bound = fitted
