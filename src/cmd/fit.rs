@@ -18,22 +18,22 @@ use tankwave_fit::{curve, CurveKind, FitParams};
 pub struct FitArgs {
     /// Name of the part to write (a letter, then letters, digits or `_`).
     pub name: String,
-    /// Static current gain against collector current: columns ic[A], vce[V], gain.
+    /// Static current gain against collector current: columns `ic[A]`, `vce[V]`, gain.
     #[arg(long, value_name = "CSV")]
     pub gain: Option<PathBuf>,
-    /// Base–emitter voltage against collector current: ic[A], vce[V], vbe[V].
+    /// Base–emitter voltage against collector current: `ic[A]`, `vce[V]`, `vbe[V]`.
     #[arg(long, value_name = "CSV")]
     pub vbe: Option<PathBuf>,
-    /// Collector–base capacitance against reverse voltage: reverse[V], cap[F].
+    /// Collector–base capacitance against reverse voltage: `reverse[V]`, `cap[F]`.
     #[arg(long = "cap-bc", value_name = "CSV")]
     pub cap_bc: Option<PathBuf>,
-    /// Emitter–base capacitance against reverse voltage: reverse[V], cap[F].
+    /// Emitter–base capacitance against reverse voltage: `reverse[V]`, `cap[F]`.
     #[arg(long = "cap-be", value_name = "CSV")]
     pub cap_be: Option<PathBuf>,
-    /// Transition frequency against collector current: ic[A], vce[V], ft[Hz].
+    /// Transition frequency against collector current: `ic[A]`, `vce[V]`, `ft[Hz]`.
     #[arg(long, value_name = "CSV")]
     pub ft: Option<PathBuf>,
-    /// Saturation voltage at a forced base current: ic[A], ib[A], vce[V].
+    /// Saturation voltage at a forced base current: `ic[A]`, `ib[A]`, `vce[V]`.
     #[arg(long = "vce-sat", value_name = "CSV")]
     pub vce_sat: Option<PathBuf>,
     /// Write a pnp part (the curves are given as magnitudes).

@@ -7,7 +7,7 @@
 //! - [`model`]: the model's value of each curve, from the equations of
 //!   `tankwave_devices::bjt`;
 //! - [`knob`]: the parameters a fit moves, their bounds and transform;
-//! - [`fit`]: the staged Levenberg–Marquardt fit and the flat directions;
+//! - [`mod@fit`]: the staged Levenberg–Marquardt fit and the flat directions;
 //! - [`part`]: the `part` block written for a stage file;
 //! - [`report`], [`plot`]: the fit report and the data-against-model plots.
 //!
