@@ -49,7 +49,11 @@ fn shows_caution(c: &Command) -> bool {
     match c {
         Command::Check(_) | Command::Study(_) | Command::Tune(_) => true,
         Command::Design(d) => matches!(d.what, DesignCommand::Match(_) | DesignCommand::Lowpass(_)),
-        Command::Lint(_) | Command::Run(_) | Command::Merge(_) | Command::Upgrade(_) => false,
+        Command::Lint(_)
+        | Command::Run(_)
+        | Command::Merge(_)
+        | Command::Upgrade(_)
+        | Command::Fit(_) => false,
     }
 }
 
@@ -79,6 +83,9 @@ enum Command {
     /// Synthesise a load line, matching network, low-pass filter or feed choke.
     #[command(after_help = EXIT_CODES)]
     Design(cmd::design::DesignArgs),
+    /// Fit a bipolar transistor model to curves read off a data sheet; write it as a part.
+    #[command(after_help = EXIT_CODES)]
+    Fit(cmd::fit::FitArgs),
 }
 
 fn main() -> ExitCode {
@@ -105,6 +112,7 @@ fn main() -> ExitCode {
         Command::Tune(a) => cmd::study::tune(&a),
         Command::Design(a) => cmd::design::run(a),
         Command::Upgrade(a) => cmd::upgrade::run(&a),
+        Command::Fit(a) => cmd::fit::run(&a),
     };
     ExitCode::from(code.clamp(0, 255) as u8)
 }

@@ -4,6 +4,7 @@
 pub mod check;
 pub mod common;
 pub mod design;
+pub mod fit;
 pub mod lint;
 pub mod run;
 pub mod study;

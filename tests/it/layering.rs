@@ -25,6 +25,7 @@ const ORDER: &[&str] = &[
     "tankwave-stage",
     "tankwave-report",
     "tankwave-design",
+    "tankwave-fit",
 ];
 
 /// Crates allowed to read the syntax tree: the parser and elaboration.

@@ -15,6 +15,7 @@ mod bad_input;
 mod cli;
 mod convergence;
 mod first_hour;
+mod fit;
 mod floor;
 mod fuzz_smoke;
 mod golden;

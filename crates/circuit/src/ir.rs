@@ -425,6 +425,8 @@ pub struct BjtParams {
     pub max_power: f64,
     /// T_J,max: junction temperature rating (written in degC or K) (K); stage file `ratings { tj_max= }`.
     pub max_tj: f64,
+    /// V_EB,max: reverse base–emitter voltage rating (V); stage file `ratings { vbe_reverse_max= }`.
+    pub max_vbe_reverse: f64,
     /// θ_JA: thermal resistance junction to ambient (K/W); stage file `thermal { junction_ambient= }`.
     pub rth_ja: f64,
     /// θ_JC: thermal resistance junction to case (K/W); stage file `thermal { junction_case= }`.
@@ -470,6 +472,7 @@ impl Default for BjtParams {
             max_ic: f64::INFINITY,
             max_power: f64::INFINITY,
             max_tj: f64::INFINITY,
+            max_vbe_reverse: f64::INFINITY,
             rth_ja: f64::INFINITY,
             rth_jc: f64::INFINITY,
             rth_sink: f64::INFINITY,

@@ -192,6 +192,8 @@ pub static BJT_PARAMS: &[Param<BjtParams>] = table! { BjtParams;
         "P_max" "W" "dissipation rating" => max_power;
     "ratings" "tj_max" "max_tj" Temperature Positive (Off(INF), with &[], old INF)
         "T_J,max" "K" "junction temperature rating (written in degC or K)" => max_tj;
+    "ratings" "vbe_reverse_max" "max_vbe_reverse" Voltage Positive (Off(INF), with &[], old INF)
+        "V_EB,max" "V" "reverse base–emitter voltage rating" => max_vbe_reverse;
 };
 
 /// Junction diode parameters, block by block.

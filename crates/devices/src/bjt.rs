@@ -283,6 +283,7 @@ pub fn check_params(
         ("max_ic", p.max_ic),
         ("max_power", p.max_power),
         ("max_tj", p.max_tj),
+        ("max_vbe_reverse", p.max_vbe_reverse),
         ("rth_ja", p.rth_ja),
         ("rth_jc", p.rth_jc),
         ("rth_sink", p.rth_sink),
@@ -521,6 +522,8 @@ pub struct BjtRatings {
     pub max_power: f64,
     /// Junction temperature rating, K.
     pub max_tj: f64,
+    /// Reverse base–emitter voltage rating (magnitude), V.
+    pub max_vbe_reverse: f64,
     /// Junction-to-ambient thermal resistance, K/W, from
     /// [`BjtParams::thermal_resistance`] (`None` when not given).
     pub rth: Option<f64>,
@@ -542,6 +545,7 @@ pub fn ratings(p: &BjtParams) -> BjtRatings {
         max_ic: p.max_ic,
         max_power: p.max_power,
         max_tj: p.max_tj,
+        max_vbe_reverse: p.max_vbe_reverse,
         rth: p.thermal_resistance(),
     }
 }

@@ -222,6 +222,9 @@ pub enum StressQuantity {
     Dissipation,
     /// Junction temperature, K (`max_tj`).
     JunctionTemp,
+    /// Peak reverse base–emitter voltage, V (`vbe_reverse_max`; a row only
+    /// when the part is rated).
+    VbeReverse,
 }
 
 impl StressQuantity {
@@ -235,6 +238,7 @@ impl StressQuantity {
             StressQuantity::IcPeak => "peak ic",
             StressQuantity::Dissipation => "dissipation",
             StressQuantity::JunctionTemp => "junction temperature",
+            StressQuantity::VbeReverse => "reverse vbe",
         }
     }
 }
@@ -1056,6 +1060,18 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
                     "W",
                     Some(mp),
                 ));
+                // reverse base–emitter voltage: a row only for a rated part
+                // (the demo stages' golden tables keep their rows)
+                if let Some(mr) = bp.map(|b| b.max_vbe_reverse).filter(|r| r.is_finite()) {
+                    stress.push(stress_row(
+                        &el.name,
+                        id,
+                        StressQuantity::VbeReverse,
+                        vbe_reverse,
+                        "V",
+                        Some(mr),
+                    ));
+                }
                 if let Some(tj) = tj {
                     let mut row = stress_row(
                         &el.name,

@@ -102,6 +102,7 @@ fn ideal_class_c_efficiency_and_transistor_figures() {
             max_ic: 6.0,
             max_power: 50.0,
             max_tj: 473.15,
+            max_vbe_reverse: 4.0,
             rth_ja: 5.0,
             ..Default::default()
         };
@@ -146,6 +147,10 @@ fn ideal_class_c_efficiency_and_transistor_figures() {
                 .abs()
                 < 1e-9
         );
+        // the reverse base–emitter peak against its rating (value / rating)
+        let vr = row(StressQuantity::VbeReverse);
+        assert!((vr.value - VB).abs() < 1e-12);
+        assert!((vr.fraction.unwrap() - VB / 4.0).abs() < 1e-12);
         // No drive source: PAE and gain are missing, with reasons.
         assert!(m.pae.is_none() && m.gain_db.is_none());
         assert!(m.note("pae").is_some() && m.note("gain").is_some());

@@ -959,6 +959,7 @@ pub(crate) fn stress_cells(r: &tankwave_measure::StressRow) -> StressCells {
         StressQuantity::IcPeak => ("peak ic", "A"),
         StressQuantity::Dissipation => ("dissipation", "W"),
         StressQuantity::JunctionTemp => ("junction temperature", "K"),
+        StressQuantity::VbeReverse => ("reverse vbe", "V"),
     };
     let show = |v: f64| {
         if unit == "K" {
