@@ -1,4 +1,5 @@
-//! The integration-test binary: the `tankwave` command end to end (`cli`,
+//! The integration-test binary: the default steady state against an
+//! independent reference (`accuracy`), the `tankwave` command end to end (`cli`,
 //! `bad_input`), agreement of the steady-state methods on every demo stage
 //! (`agreement`), the convergence sweep over the class-C demo
 //! (`convergence`), what a new user meets first (`first_hour`), a bounded
@@ -10,6 +11,7 @@
 //! (`readme`). Data lives under
 //! tests/data/.
 
+mod accuracy;
 mod agreement;
 mod bad_input;
 mod cli;
