@@ -13,7 +13,7 @@ use tankwave_stage::{Scope, SolveOptions, StageResults};
 pub enum Format {
     /// A readable report.
     Table,
-    /// Every figure, with units, as one JSON document (schema `tankwave/3`).
+    /// Every figure, with units, as one JSON document (schema `tankwave/4`).
     Json,
     /// The spectrum as CSV on stdout (waveforms go to --out).
     Csv,

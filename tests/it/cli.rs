@@ -165,7 +165,7 @@ fn check_json_is_machine_readable() {
     let o = run(&["check", p(&data("check/pass.tank")), "--format", "json"]);
     assert_eq!(code(&o), 0);
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("valid JSON");
-    assert_eq!(v["schema"], "tankwave/3");
+    assert_eq!(v["schema"], "tankwave/4");
     assert_eq!(v["files"][0]["pass"], true);
     assert_eq!(v["files"][0]["verdicts"].as_array().unwrap().len(), 2);
 }
@@ -183,7 +183,7 @@ fn run_json_and_out_dir() {
     ]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("valid JSON");
-    assert_eq!(v["schema"], "tankwave/3");
+    assert_eq!(v["schema"], "tankwave/4");
     // maximum power transfer: P = amp^2 / (8 Rs) = 400/400 = 1 W (any circuit-analysis text).
     // The stage is solved by shooting (the automatic choice here), which
     // integrates the period with 256 TR-BDF2 steps. Its numerical damping

@@ -51,12 +51,20 @@ pub struct HarmonicRow {
     pub freq_hz: f64,
     /// Power at the output element, W.
     pub power_w: f64,
+    /// The measured level, dBc; `None` when the harmonic is not resolved
+    /// (below the numerical floor: the method cannot tell its level).
+    pub measured_dbc: Option<f64>,
+    /// The numerical floor at the output, dBc ([`OutputMetrics::floor_dbc`]);
+    /// `None` when the solver gave no floor.
+    pub floor_dbc: Option<f64>,
     /// The level judged, dBc: the measured level when `resolved`, else the
-    /// numerical floor (an upper bound on the true level; a limit passes
-    /// only when the floor itself meets it).
-    pub measured_dbc: f64,
+    /// floor (an upper bound on the true level; a limit passes only when
+    /// the floor itself meets it). Not written to JSON, where it would read
+    /// as a measurement: `measured_dbc` and `floor_dbc` say it.
+    #[serde(skip)]
+    pub judged_dbc: f64,
     /// Whether the harmonic is above the numerical floor; when not, the
-    /// method cannot tell its level, only that it is below `measured_dbc`.
+    /// method cannot tell its level, only that it is below `judged_dbc`.
     pub resolved: bool,
     /// Allowed level, dBc; `None` where no rule covers this harmonic.
     pub allowed_dbc: Option<f64>,
@@ -157,7 +165,9 @@ pub fn evaluate_mask(
             n: h.n,
             freq_hz: h.freq_hz,
             power_w: h.power_w,
-            measured_dbc: measured,
+            measured_dbc: h.dbc.filter(|_| h.resolved),
+            floor_dbc: output.floor_dbc,
+            judged_dbc: measured,
             resolved: h.resolved,
             allowed_dbc: allowed,
             margin_db: margin,

@@ -301,7 +301,9 @@ fn harmonics_draft(c: &Circuit, metrics: &Metrics, r: &Requirement, only: Option
                         n: h.n,
                         freq_hz: h.freq_hz,
                         power_w: h.power_w,
-                        measured_dbc: meas,
+                        measured_dbc: h.dbc.filter(|_| h.resolved),
+                        floor_dbc: output.floor_dbc,
+                        judged_dbc: meas,
                         resolved: h.resolved,
                         allowed_dbc: Some(*lim),
                         margin_db: Some(m),
@@ -336,7 +338,7 @@ fn harmonics_draft(c: &Circuit, metrics: &Metrics, r: &Requirement, only: Option
             if mask.is_some() {
                 d.limit = h.allowed_dbc;
             }
-            Ok(((Some(format!("harmonic {}", h.n)), h.measured_dbc), m, pass))
+            Ok(((Some(format!("harmonic {}", h.n)), h.judged_dbc), m, pass))
         }
         None => Err("no rule of the mask covers the computed harmonics".to_string()),
     };

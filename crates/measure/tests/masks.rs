@@ -524,7 +524,10 @@ fn an_unresolved_harmonic_passes_only_a_limit_its_floor_meets() {
     let ev = evaluate_mask(&mask(-45.0), o, 7.1e6).unwrap();
     let row = &ev.rows[1];
     assert!(ev.pass && row.pass && !row.resolved);
-    assert_eq!(row.measured_dbc, -90.0);
+    // the floor is judged, but it is not a measurement: JSON has null
+    assert_eq!(row.judged_dbc, -90.0);
+    assert_eq!(row.measured_dbc, None);
+    assert_eq!(row.floor_dbc, Some(-90.0));
     let ev = evaluate_mask(&mask(-95.0), o, 7.1e6).unwrap();
     // harmonic 2 at −50 dBc fails on its own; harmonic 3 cannot be resolved
     assert!(!ev.rows[1].pass && !ev.rows[1].resolved);

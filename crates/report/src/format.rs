@@ -61,10 +61,9 @@ pub fn harmonic_power(h: &tankwave_measure::HarmonicPower) -> String {
 /// The judged level of a mask row: the measured level, or "below floor
 /// (−N dBc)" for an unresolved harmonic (judged by the floor).
 pub fn row_level(h: &tankwave_measure::HarmonicRow) -> String {
-    if h.resolved {
-        db(h.measured_dbc, "dBc")
-    } else {
-        below_floor(Some(h.measured_dbc))
+    match h.measured_dbc {
+        Some(m) if h.resolved => db(m, "dBc"),
+        _ => below_floor(h.floor_dbc.or(Some(h.judged_dbc))),
     }
 }
 

@@ -51,4 +51,4 @@ pub fn escape_path(p: &std::path::Path) -> String {
 
 /// Version of the JSON documents tankwave writes (`"schema"` field).
 /// Bump the major number on any incompatible change; docs/output.md describes the fields.
-pub const SCHEMA_VERSION: &str = "tankwave/3";
+pub const SCHEMA_VERSION: &str = "tankwave/4";

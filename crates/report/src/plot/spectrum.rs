@@ -227,10 +227,10 @@ pub fn spectrum_plot(
             if let (Some(a), Some(m)) = (
                 w.allowed_dbc.filter(|a| a.is_finite()),
                 w.margin_db
-                    .filter(|m| m.is_finite() && w.measured_dbc.is_finite()),
+                    .filter(|m| m.is_finite() && w.judged_dbc.is_finite()),
             ) {
                 let x = w.n as f64 + 0.36;
-                let (y0, y1) = (w.measured_dbc.clamp(floor, top), a.clamp(floor, top));
+                let (y0, y1) = (w.judged_dbc.clamp(floor, top), a.clamp(floor, top));
                 cv.begin("annotation", Some("worst margin"), None)?;
                 chart
                     .draw_series(std::iter::once(PathElement::new(
