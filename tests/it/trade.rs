@@ -2,7 +2,8 @@
 //! published source): a grounded-emitter stage whose base returns to ground
 //! through a resistor alone conducts for less than half of each cycle, and a
 //! feed choke's reactance at the operating frequency is many times the
-//! collector load resistance.
+//! collector load resistance; a base swung in reverse beyond the part's
+//! reverse base–emitter rating fails the stress requirement.
 
 use std::path::PathBuf;
 use tankwave_circuit::{Circuit, ElementId, ElementKind, Overrides};
@@ -166,4 +167,67 @@ fn conduction_angle_stays_continuous_into_saturation() {
     }
     let fall = old[0] - old.iter().copied().fold(f64::INFINITY, f64::min);
     assert!(fall > 20.0, "lobe-only angles {old:?}");
+}
+
+/// The class-C demo's base swings about 5.2 V in reverse (its base returns
+/// to ground through a resistor and is driven hard). Common practice: the
+/// reverse base–emitter rating of bipolar RF power transistors is a few
+/// volts, so a part that states one must see the stage flagged by `require
+/// stress`, and the same stage without the rating is judged as before.
+#[test]
+fn a_reverse_base_swing_beyond_the_parts_rating_fails_the_stress_requirement() {
+    use crate::harness::{code, p, run, stdout};
+    let root = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("netlists");
+    let stage = std::fs::read_to_string(root.join("ism-13m56-classc.tank")).unwrap();
+    let part = std::fs::read_to_string(root.join("models/tw-hf25.tank")).unwrap();
+    let rated = part.replace("tj_max=150degC }", "tj_max=150degC vbe_reverse_max=4V }");
+    assert_ne!(rated, part, "the demo part's ratings line moved");
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::create_dir(dir.path().join("models")).unwrap();
+    std::fs::write(dir.path().join("models/tw-hf25.tank"), &rated).unwrap();
+    let f = dir.path().join("stage.tank");
+    std::fs::write(&f, &stage).unwrap();
+    // the peak reverse v_be of the stage, as the JSON gives it (`run`
+    // judges the requirements too: exit 1, the JSON is still written)
+    let o = run(&["run", "--format", "json", p(&f)]);
+    assert_eq!(code(&o), 1, "{}", stdout(&o));
+    let j: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let vbe_rev = j["steady"]["metrics"]["transistors"][0]["vbe_reverse_v"]
+        .as_f64()
+        .expect("vbe_reverse_v");
+    assert!(vbe_rev > 4.0, "the demo's reverse swing is {vbe_rev} V");
+    let o = run(&["check", p(&f)]);
+    let out = stdout(&o);
+    // exit 1: a requirement fails (the CLI's exit codes, docs/output.md)
+    assert_eq!(code(&o), 1, "{out}");
+    let lines: Vec<&str> = out.lines().collect();
+    let at = lines
+        .iter()
+        .position(|l| l.starts_with("require stress"))
+        .expect("the stress verdict");
+    assert!(lines[at].ends_with("FAIL"), "{}", lines[at]);
+    assert_eq!(
+        lines.get(at + 1).map(|l| l.trim()),
+        Some("at q1 reverse vbe")
+    );
+    // used = peak reverse v_be / rating (docs/measurements.md, "Stress"),
+    // printed to 0.01 %: "require stress <= 80%  <= 80.00 %  130.59 %  …"
+    let words: Vec<&str> = lines[at].split_whitespace().collect();
+    let second_percent = words
+        .iter()
+        .enumerate()
+        .filter(|(_, w)| **w == "%")
+        .nth(1)
+        .map(|(k, _)| k)
+        .expect("value in %");
+    let used: f64 = words[second_percent - 1].parse().expect("a number");
+    let expected = 100.0 * vbe_rev / 4.0;
+    assert!(
+        (used - expected).abs() <= 0.005 + 1e-9,
+        "used {used} % vs {expected} %"
+    );
+    // without the rating the same stage passes its stress requirement
+    std::fs::write(dir.path().join("models/tw-hf25.tank"), &part).unwrap();
+    let o = run(&["check", p(&f)]);
+    assert_eq!(code(&o), 0, "{}", stdout(&o));
 }
