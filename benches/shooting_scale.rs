@@ -4,11 +4,10 @@
 //! Machines are noisy, so every figure that matters is a ratio of two times
 //! measured in the same run (medians of a few repeats).
 //!
-//! - **Size:** N copies of the class-C demo stage (netlists/) in one file,
-//!   a scenario of our own: they share one supply through 0.1 Ω, feed one
-//!   load of 50/N Ω through 0.5 Ω each (a plain parallel combiner) and differ
-//!   by ±5 % in their part values, so nothing splits them into independent
-//!   pieces. Shooting is timed with the monodromy matrix formed densely and
+//! - **Size:** the N class-C stages of the scale bench
+//!   (benches/support/scale_gen.rs, a scenario of our own: one supply
+//!   through 0.1 Ω, one 50 Ω load, part values spread by ±5 %, so nothing
+//!   splits them into independent pieces). Shooting is timed with the monodromy matrix formed densely and
 //!   matrix-free (Newton–Krylov), N = 1, 2, 4, 8, 16, as a ratio to N = 1.
 //! - **Warm variant:** the class-C demo solved (shooting, verification
 //!   included), then a neighbour (drive +2 %) solved cold and warm-started
@@ -38,55 +37,15 @@ fn time<F: FnMut()>(repeats: usize, mut f: F) -> f64 {
     )
 }
 
-/// ±5 % spread of stage `k` of `n`: −5 % for the first, +5 % for the last.
-fn spread(k: usize, n: usize) -> f64 {
-    if n == 1 {
-        1.0
-    } else {
-        1.0 - 0.05 + 0.1 * k as f64 / (n - 1) as f64
-    }
-}
+// this bench loads the text itself; the file writer is the scale bench's
+#[allow(dead_code)]
+#[path = "support/scale_gen.rs"]
+mod scale_gen;
 
-/// N class-C stages side by side (module overview), with the invented
-/// transistor model of the demos inlined.
-pub fn n_stages(n: usize, model: &str) -> String {
-    let mut s = String::from("title \"N class-C stages into one load\"\n");
-    s.push_str(model);
-    s.push_str(
-        "\nlet f0 = 13.56MHz\nlet vcc = 13.8V\nlet drive = 20V\n\
-         voltage vsup vs gnd dc=vcc\nresistor rsup vs vcc 0.1Ohm\n",
-    );
-    for k in 0..n {
-        let m = spread(k, n);
-        let r = |v: f64| format!("{:.6e}", v * m);
-        s.push_str(&format!(
-            "voltage vdrv{k} src{k} gnd wave=sine(amp=drive, freq=f0, rise=(20/f0)) internal=50Ohm\n\
-             capacitor cmin{k} src{k} gnd {}\n\
-             inductor lmin{k} src{k} bin{k} {} q=150\n\
-             capacitor cin{k} bin{k} base{k} 100nF\n\
-             resistor rbias{k} base{k} gnd {}\n\
-             bjt q{k} c=coll{k} b=base{k} e=gnd part=tw_hf25\n\
-             inductor rfc{k} vcc coll{k} {} r=0.05Ohm\n\
-             capacitor cblk{k} coll{k} p1_{k} 100nF\n\
-             capacitor c1_{k} p1_{k} gnd {}\n\
-             inductor lpi{k} p1_{k} out{k} {} q=200\n\
-             capacitor c2_{k} out{k} gnd {}\n\
-             resistor rcomb{k} out{k} sum 0.5Ohm\n",
-            r(704e-12),
-            r(176e-9),
-            r(10.0),
-            r(4.7e-6),
-            r(7.81e-9),
-            r(73.6e-9),
-            r(2.35e-9),
-        ));
-    }
-    s.push_str(&format!(
-        "resistor rload sum gnd {:.6e}\noutput rload\ninput vdrv0\n\
-         analyze steady freq=f0 harmonics=24\n",
-        50.0 / n as f64
-    ));
-    s
+/// The scale bench's N stages (benches/support/scale_gen.rs), with the
+/// invented transistor model inlined in place of its include.
+fn n_stages(n: usize, model: &str) -> String {
+    scale_gen::scale_stage_text(n).replace("include \"tw-hf25.tank\"", model)
 }
 
 fn load(text: &str, o: &Overrides) -> Circuit {
