@@ -59,7 +59,7 @@ T_IMPORTED = time.perf_counter()
 K_B = 1.380649e-23
 Q_E = 1.602176634e-19
 VT = K_B * 298.15 / Q_E
-GMIN = 1e-12
+JUNCTION_LEAK = 1e-12  # the solver's conductance across each junction (junction_leak), S
 IS, BF, BR, VA = 5e-12, 50.0, 3.0, 100.0
 F0 = 7e6
 PERIOD = 1.0 / F0
@@ -83,12 +83,12 @@ def currents(vb, vc):
     i_f, i_r = IS * (ef - 1.0), IS * (er - 1.0)
     g_f, g_r = IS * ef / VT, IS * er / VT
     early = 1.0 - vbc / VA
-    ib = i_f / BF + i_r / BR + GMIN * (vbe + vbc)
-    ic = (i_f - i_r) * early - i_r / BR - GMIN * vbc
+    ib = i_f / BF + i_r / BR + JUNCTION_LEAK * (vbe + vbc)
+    ic = (i_f - i_r) * early - i_r / BR - JUNCTION_LEAK * vbc
     # d/dVBE and d/dVBC
-    dib_dbe, dib_dbc = g_f / BF + GMIN, g_r / BR + GMIN
+    dib_dbe, dib_dbc = g_f / BF + JUNCTION_LEAK, g_r / BR + JUNCTION_LEAK
     dic_dbe = g_f * early
-    dic_dbc = -g_r * early - (i_f - i_r) / VA - g_r / BR - GMIN
+    dic_dbc = -g_r * early - (i_f - i_r) / VA - g_r / BR - JUNCTION_LEAK
     # v_base enters both junctions, v_coll only VBC (with a minus sign)
     return (ib, ic,
             dib_dbe + dib_dbc, -dib_dbc,
