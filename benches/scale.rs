@@ -19,10 +19,10 @@ use tankwave_solve::SteadyParams;
 #[path = "support/scale_gen.rs"]
 mod scale_gen;
 
-fn median(mut v: Vec<f64>) -> f64 {
-    v.sort_by(|a, b| a.total_cmp(b));
-    v[v.len() / 2]
-}
+#[allow(dead_code)] // not every bench uses both helpers
+#[path = "support/timing.rs"]
+mod timing;
+use timing::median;
 
 fn main() {
     let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));

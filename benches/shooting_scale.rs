@@ -16,26 +16,8 @@
 //!   period).
 
 use std::path::PathBuf;
-use std::time::Instant;
 use tankwave_circuit::{Circuit, Overrides, StageSource, SteadyMethod};
 use tankwave_solve::{ShootingMode, SteadyParams, TransientParams};
-
-fn median(mut v: Vec<f64>) -> f64 {
-    v.sort_by(|a, b| a.total_cmp(b));
-    v[v.len() / 2]
-}
-
-fn time<F: FnMut()>(repeats: usize, mut f: F) -> f64 {
-    median(
-        (0..repeats)
-            .map(|_| {
-                let s = Instant::now();
-                f();
-                s.elapsed().as_secs_f64()
-            })
-            .collect(),
-    )
-}
 
 // this bench loads the text itself; the file writer is the scale bench's
 #[allow(dead_code)]
@@ -44,6 +26,11 @@ mod scale_gen;
 
 /// The scale bench's N stages (benches/support/scale_gen.rs), with the
 /// invented transistor model inlined in place of its include.
+#[allow(dead_code)] // not every bench uses both helpers
+#[path = "support/timing.rs"]
+mod timing;
+use timing::time;
+
 fn n_stages(n: usize, model: &str) -> String {
     scale_gen::scale_stage_text(n).replace("include \"tw-hf25.tank\"", model)
 }

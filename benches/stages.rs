@@ -24,20 +24,10 @@ use tankwave_circuit::{Circuit, Overrides, StageSource, SteadyMethod};
 use tankwave_solve::{SteadyParams, TransientParams};
 use tankwave_stage::{Scope, SolveOptions};
 
-fn median(mut v: Vec<f64>) -> f64 {
-    v.sort_by(|a, b| a.total_cmp(b));
-    v[v.len() / 2]
-}
-
-fn time<F: FnMut()>(repeats: usize, mut f: F) -> f64 {
-    let mut t = Vec::new();
-    for _ in 0..repeats {
-        let s = Instant::now();
-        f();
-        t.push(s.elapsed().as_secs_f64());
-    }
-    median(t)
-}
+#[allow(dead_code)] // not every bench uses both helpers
+#[path = "support/timing.rs"]
+mod timing;
+use timing::time;
 
 fn load(p: &Path) -> Circuit {
     tankwave_stage::load(p, &[], &Overrides::default())

@@ -215,6 +215,37 @@ pub struct Eigen {
     pub change: f64,
 }
 
+/// Eigenvalues of the square matrix `a` by its real Schur form, largest
+/// magnitude first; `None` when the Schur iteration does not converge.
+/// Shared by the Ritz values here and the dense Floquet multipliers
+/// (`periodic::floquet`).
+pub(crate) fn eigenvalues_by_magnitude(a: nalgebra::DMatrix<f64>) -> Option<Vec<Complex64>> {
+    let m = a.nrows();
+    let schur = nalgebra::linalg::Schur::try_new(a, f64::EPSILON, 100 * m.max(10))?;
+    let mut mu: Vec<Complex64> = schur
+        .complex_eigenvalues()
+        .iter()
+        .map(|c| Complex64::new(c.re, c.im))
+        .collect();
+    mu.sort_by(|a, b| b.norm().total_cmp(&a.norm()));
+    Some(mu)
+}
+
+/// The null vector of `a − shift·I` (`a` square): the right singular vector
+/// of its smallest singular value; `None` when the SVD fails. For a real
+/// eigenvalue `shift` of `a` it is the eigenvector. Shared with
+/// `periodic::floquet`, which names the unknowns a mode lives in.
+pub(crate) fn null_vector(a: &nalgebra::DMatrix<f64>, shift: f64) -> Option<Vec<f64>> {
+    let m = a.nrows();
+    let shifted = a - nalgebra::DMatrix::<f64>::identity(m, m) * shift;
+    let svd = nalgebra::linalg::SVD::try_new(shifted, false, true, f64::EPSILON, 200 * m)?;
+    let vt = svd.v_t.as_ref()?;
+    let imin = (0..m)
+        .min_by(|i, j| svd.singular_values[*i].total_cmp(&svd.singular_values[*j]))
+        .unwrap_or(0);
+    Some((0..m).map(|j| vt[(imin, j)]).collect())
+}
+
 /// Eigenvalues of the small square matrix `h` (row-major `m×m`), largest
 /// magnitude first, with the eigenvector of the first when it is real.
 fn small_eigen(h: &[f64], m: usize) -> Option<(Vec<Complex64>, Vec<f64>)> {
@@ -222,28 +253,11 @@ fn small_eigen(h: &[f64], m: usize) -> Option<(Vec<Complex64>, Vec<f64>)> {
         return Some((Vec::new(), Vec::new()));
     }
     let a = nalgebra::DMatrix::<f64>::from_fn(m, m, |r, c| h[r * m + c]);
-    let schur = nalgebra::linalg::Schur::try_new(a.clone(), f64::EPSILON, 100 * m.max(10))?;
-    let mut mu: Vec<Complex64> = schur
-        .complex_eigenvalues()
-        .iter()
-        .map(|c| Complex64::new(c.re, c.im))
-        .collect();
-    mu.sort_by(|a, b| b.norm().total_cmp(&a.norm()));
+    let mu = eigenvalues_by_magnitude(a.clone())?;
     let top = mu[0];
     let mut y = Vec::new();
     if top.im.abs() <= 1e-12 * top.norm().max(1.0) {
-        // null vector of H − μI: the right singular vector of its smallest singular value
-        let shifted = a - nalgebra::DMatrix::<f64>::identity(m, m) * top.re;
-        if let Some(svd) =
-            nalgebra::linalg::SVD::try_new(shifted, false, true, f64::EPSILON, 200 * m)
-        {
-            if let Some(vt) = svd.v_t.as_ref() {
-                let imin = (0..m)
-                    .min_by(|i, j| svd.singular_values[*i].total_cmp(&svd.singular_values[*j]))
-                    .unwrap_or(0);
-                y = (0..m).map(|j| vt[(imin, j)]).collect();
-            }
-        }
+        y = null_vector(&a, top.re).unwrap_or_default();
     }
     Some((mu, y))
 }

@@ -113,15 +113,8 @@ pub fn multipliers(phi: &Mat<f64>) -> Result<Vec<Complex64>, String> {
     if m.iter().any(|v| !v.is_finite()) {
         return Err("the monodromy matrix is not finite".into());
     }
-    let schur = nalgebra::linalg::Schur::try_new(m, f64::EPSILON, 100 * n.max(10))
-        .ok_or_else(|| "the eigenvalues of the monodromy matrix did not converge".to_string())?;
-    let mut mu: Vec<Complex64> = schur
-        .complex_eigenvalues()
-        .iter()
-        .map(|c| Complex64::new(c.re, c.im))
-        .collect();
-    mu.sort_by(|a, b| b.norm().total_cmp(&a.norm()));
-    Ok(mu)
+    crate::krylov::eigenvalues_by_magnitude(m)
+        .ok_or_else(|| "the eigenvalues of the monodromy matrix did not converge".to_string())
 }
 
 /// The unknowns that carry most of the (real) mode of multiplier `m`,
@@ -132,22 +125,14 @@ fn mode_unknowns(phi: &Mat<f64>, m: Complex64) -> Vec<usize> {
     if n == 0 || m.im.abs() > 1e-9 * m.norm().max(1.0) {
         return Vec::new();
     }
-    let a = nalgebra::DMatrix::<f64>::from_fn(n, n, |r, c| {
-        phi[(r, c)] - if r == c { m.re } else { 0.0 }
-    });
-    let Some(svd) = nalgebra::linalg::SVD::try_new(a, false, true, f64::EPSILON, 200 * n) else {
+    let a = nalgebra::DMatrix::<f64>::from_fn(n, n, |r, c| phi[(r, c)]);
+    let Some(v) = crate::krylov::null_vector(&a, m.re) else {
         return Vec::new();
     };
-    let Some(vt) = svd.v_t.as_ref() else {
-        return Vec::new();
-    };
-    let imin = (0..n)
-        .min_by(|i, j| svd.singular_values[*i].total_cmp(&svd.singular_values[*j]))
-        .unwrap_or(0);
     let mut idx: Vec<usize> = (0..n).collect();
-    idx.sort_by(|i, j| vt[(imin, *j)].abs().total_cmp(&vt[(imin, *i)].abs()));
-    let top = vt[(imin, idx[0])].abs();
-    idx.retain(|k| vt[(imin, *k)].abs() >= 0.1 * top);
+    idx.sort_by(|i, j| v[*j].abs().total_cmp(&v[*i].abs()));
+    let top = v[idx[0]].abs();
+    idx.retain(|k| v[*k].abs() >= 0.1 * top);
     idx
 }
 
