@@ -586,6 +586,8 @@ pub enum Analysis {
         method: SteadyMethod,
         /// Time steps per period for shooting/settle (power of two, default 256).
         steps_per_period: usize,
+        /// The accuracy `method=auto` refines to.
+        accuracy: SteadyAccuracy,
     },
     /// `analyze ruggedness vswr=[S, …] [phases=N] [reference=Ω]`: the output
     /// load moved around circles of constant VSWR (docs/analyses.md,
@@ -612,6 +614,32 @@ impl Analysis {
             Analysis::Ruggedness { .. } => 4,
         };
         crate::options::analysis::ALL[k].0
+    }
+}
+
+/// The accuracy target of an automatic steady state (`power_error=`,
+/// `level_error=`; docs/analyses.md, "Accuracy of the steady state").
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SteadyAccuracy {
+    /// Largest relative error of the output power, a fraction.
+    pub power_error: f64,
+    /// Largest error of a harmonic level above −100 dBc, dB.
+    pub level_error_db: f64,
+}
+
+impl Default for SteadyAccuracy {
+    /// The option table's defaults (`options::analysis::POWER_ERROR`,
+    /// `LEVEL_ERROR`): the one place these numbers are written.
+    fn default() -> Self {
+        use crate::options::{analysis, Default as D};
+        let num = |d: D, fallback: f64| match d {
+            D::Number(v) => v,
+            _ => fallback,
+        };
+        Self {
+            power_error: num(analysis::POWER_ERROR.default, f64::NAN),
+            level_error_db: num(analysis::LEVEL_ERROR.default, f64::NAN),
+        }
     }
 }
 

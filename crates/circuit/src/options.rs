@@ -118,6 +118,9 @@ impl OptionSpec {
             (Default::Number(v), Takes::Count(min)) => {
                 Some(format!("{}, ≥ {min}", crate::elaborate::fmt_num(v)))
             }
+            (Default::Number(v), Takes::Value(Slot::Db, _)) => {
+                Some(format!("{} dB", crate::elaborate::fmt_num(v)))
+            }
             (Default::Number(v), _) => Some(crate::elaborate::fmt_num(v)),
             (Default::Word(w) | Default::Derived(w), _) => Some(w.to_string()),
         };
@@ -438,6 +441,20 @@ pub mod analysis {
         Default::Number(256.0),
         "time samples per period, a power of two",
     );
+    /// `power_error=` of a steady state: auto's target on output power.
+    pub const POWER_ERROR: OptionSpec = opt(
+        "power_error",
+        Takes::Value(Slot::Fraction, Range::Positive),
+        Default::Number(1e-5),
+        "the relative error of the output power that method=auto refines to",
+    );
+    /// `level_error=` of a steady state: auto's target on harmonic levels.
+    pub const LEVEL_ERROR: OptionSpec = opt(
+        "level_error",
+        Takes::Value(Slot::Db, Range::Positive),
+        Default::Number(0.05),
+        "the error of every harmonic level above -100 dBc that method=auto refines to",
+    );
 
     /// `vswr=` of a ruggedness sweep: the circles.
     pub const VSWR: OptionSpec = opt(
@@ -472,7 +489,17 @@ pub mod analysis {
             &[STOP, STEP, MAX_STEP, START, INTEGRATION, TOLERANCE],
         ),
         ("ac", &[FROM, TO, POINTS, SCALE, SOURCE, IMPEDANCE]),
-        ("steady", &[FREQ, HARMONICS, STEADY_METHOD, STEPS]),
+        (
+            "steady",
+            &[
+                FREQ,
+                HARMONICS,
+                STEADY_METHOD,
+                STEPS,
+                POWER_ERROR,
+                LEVEL_ERROR,
+            ],
+        ),
         ("ruggedness", &[VSWR, PHASES, REFERENCE]),
     ];
 

@@ -161,7 +161,8 @@ fn parse_once_elaborate_with_overrides() {
         freq: 7e6,
         harmonics: 32,
         method: SteadyMethod::Auto,
-        steps_per_period: 256
+        steps_per_period: 256,
+        accuracy: tankwave_circuit::ir::SteadyAccuracy::default(),
     }));
 
     let mut bad = Overrides::default();

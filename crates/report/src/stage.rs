@@ -390,6 +390,20 @@ pub fn steady_text(
                 .to_string(),
         }
     ));
+    if let Some(a) = &info.accuracy {
+        s.push_str(&format!(
+            "  estimated error {} its target: output power {:.1e} relative (target {:.0e}), \
+             harmonics above {} off by {} (target {}), from {} against {} steps per period\n",
+            if a.met { "within" } else { "NOT within" },
+            a.power_rel,
+            a.target.power_rel,
+            si(a.target.harmonics_above_dbc, "dBc"),
+            si(a.harmonic_db, "dB"),
+            si(a.target.harmonic_db, "dB"),
+            a.steps_per_period,
+            a.compared_with,
+        ));
+    }
     if verbose {
         s.push_str(&format!(
             "  Newton system size {}, {} samples per period\n",
@@ -717,6 +731,19 @@ pub fn steady_json(sol: &PeriodicSolution, m: &Metrics) -> Value {
             "continuation_steps": b.continuation_steps,
             "line_search_cuts": b.line_search_cuts,
             "truncation": clean(b.truncation),
+        })),
+        "accuracy": sol.info.accuracy.as_ref().map(|a| json!({
+            "power_rel": clean(a.power_rel),
+            "harmonic_db": clean(a.harmonic_db),
+            "worst_harmonic": a.worst_harmonic,
+            "harmonics_compared": a.harmonics_compared,
+            "steps_per_period": a.steps_per_period,
+            "compared_with_steps": a.compared_with,
+            "grids": a.grids,
+            "met": a.met,
+            "target_power_rel": clean(a.target.power_rel),
+            "target_harmonic_db": clean(a.target.harmonic_db),
+            "target_harmonics_above_dbc": clean(a.target.harmonics_above_dbc),
         })),
         "metrics": serde_json::to_value(m).unwrap_or(Value::Null),
     })

@@ -353,6 +353,7 @@ fn cap_transient(p: &mut TransientParams, c: &Caps) {
 fn cap_steady(p: &mut SteadyParams, c: &Caps) {
     p.harmonics = p.harmonics.min(c.max_harmonics);
     p.steps_per_period = p.steps_per_period.min(c.max_steps_per_period);
+    p.accuracy.max_steps_per_period = p.accuracy.max_steps_per_period.min(c.max_steps_per_period);
     p.balance.max_harmonics = c.max_harmonics;
     p.balance.max_levels = p.balance.max_levels.min(c.max_balance_levels);
     p.balance.max_iter = p.balance.max_iter.min(c.max_balance_iter);

@@ -142,11 +142,22 @@ impl<'a> Cx<'a> {
             return None;
         }
         let method = self.opt_word(m, &o::STEADY_METHOD, &options::STEADY_WORDS)?;
+        let target = crate::ir::SteadyAccuracy::default();
+        let power_error = self
+            .opt_value(m, &o::POWER_ERROR, "analyze steady power_error")?
+            .unwrap_or(target.power_error);
+        let level_error_db = self
+            .opt_value(m, &o::LEVEL_ERROR, "analyze steady level_error")?
+            .unwrap_or(target.level_error_db);
         Some(Analysis::Steady {
             freq,
             harmonics,
             method,
             steps_per_period: steps as usize,
+            accuracy: crate::ir::SteadyAccuracy {
+                power_error,
+                level_error_db,
+            },
         })
     }
 

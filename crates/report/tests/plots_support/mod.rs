@@ -113,6 +113,7 @@ pub fn class_c_stage(theta_deg: f64) -> (Circuit, PeriodicSolution) {
             shooting: None,
             floquet: None,
             floor: Vec::new(),
+            accuracy: None,
         },
     };
     (circuit(), sol)

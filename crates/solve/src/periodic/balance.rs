@@ -2104,6 +2104,7 @@ fn finish(
             shooting: None,
             floquet: None,
             floor,
+            accuracy: None,
         },
     })
 }

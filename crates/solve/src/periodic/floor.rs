@@ -25,7 +25,7 @@ use realfft::RealFftPlanner;
 
 /// Phasors `2X[k]/N` of harmonics 0..=k_max of one period (zeros when the
 /// period is too short or the FFT fails).
-fn phasors(x: &[f64], k_max: usize) -> Vec<Complex64> {
+pub(crate) fn phasors(x: &[f64], k_max: usize) -> Vec<Complex64> {
     let n = x.len();
     let zero = vec![Complex64::new(0.0, 0.0); k_max + 1];
     if n < 2 {

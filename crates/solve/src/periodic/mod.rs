@@ -13,8 +13,11 @@
 //!   with its monodromy matrix `Φ = ∂x(T)/∂x₀` is `shooting::integrate_period`
 //!   (crate-visible, for checks of the orbit's multipliers; imports `sample`);
 //! - [`mod@settle`]: plain transient until one period repeats the previous one
-//!   (imports `sample`).
+//!   (imports `sample`);
+//! - [`accuracy`]: the accuracy target of `method=auto` and the error
+//!   estimate from two grids that auto refines against (imports `floor`).
 
+pub mod accuracy;
 pub mod balance;
 mod floor;
 pub mod floquet;
@@ -22,6 +25,7 @@ pub mod sample;
 pub mod settle;
 pub mod shooting;
 
+pub use accuracy::{AccuracyEstimate, AccuracyParams};
 pub use balance::{balance, BalanceInfo, BalanceParams};
 pub use sample::{terminal_currents, transport_currents};
 pub use settle::settle;
@@ -128,6 +132,10 @@ pub struct SteadyInfo {
     /// grid for shooting and settle; docs/measurements.md, "Numerical
     /// floor"). Empty when it was not estimated.
     pub floor: Vec<f64>,
+    /// The error `method=auto` estimates its result to have, from its last
+    /// grids ([`accuracy`]); `None` for the other methods, and when auto had
+    /// no output element to compare, or fell back to harmonic balance.
+    pub accuracy: Option<AccuracyEstimate>,
 }
 
 /// How a shooting solve went, grid by grid.
@@ -193,6 +201,11 @@ pub struct ShootingParams {
     pub initial: Option<Vec<f64>>,
     /// Dense monodromy matrix or matrix-free Newton–Krylov (default auto, by size).
     pub mode: ShootingMode,
+    /// Solve the orbit again on half the grid for the numerical floor
+    /// (default true; [`SteadyInfo::floor`] is the spectrum's tail when
+    /// false). `method=auto` turns it off on a grid it refines to, whose
+    /// half it has already solved.
+    pub half_grid: bool,
 }
 
 impl Default for ShootingParams {
@@ -204,6 +217,7 @@ impl Default for ShootingParams {
             rel_tolerance: 1e-7,
             initial: None,
             mode: ShootingMode::Auto,
+            half_grid: true,
         }
     }
 }
@@ -230,6 +244,8 @@ pub struct SteadyParams {
     pub balance: BalanceParams,
     /// Linear solver.
     pub linear_solver: LinearSolver,
+    /// The accuracy `method=auto` refines its result to.
+    pub accuracy: AccuracyParams,
 }
 
 impl Default for SteadyParams {
@@ -244,6 +260,7 @@ impl Default for SteadyParams {
             settle: SettleParams::default(),
             balance: BalanceParams::default(),
             linear_solver: LinearSolver::default(),
+            accuracy: AccuracyParams::default(),
         }
     }
 }
@@ -257,11 +274,17 @@ impl SteadyParams {
                 harmonics,
                 method,
                 steps_per_period,
+                accuracy,
             } => Some(Self {
                 freq: *freq,
                 harmonics: *harmonics,
                 method: *method,
                 steps_per_period: *steps_per_period,
+                accuracy: AccuracyParams {
+                    power_rel: accuracy.power_error,
+                    harmonic_db: accuracy.level_error_db,
+                    ..AccuracyParams::default()
+                },
                 ..Self::default()
             }),
             _ => None,
@@ -301,8 +324,9 @@ impl SteadyParams {
     }
 }
 
-/// Periodic steady state by the method in `params` (auto: harmonic balance
-/// first, shooting as the fallback, recorded in [`SteadyInfo::fell_back_from`]).
+/// Periodic steady state by the method in `params` (auto: shooting refined
+/// to the accuracy target, [`SteadyParams::accuracy`]; harmonic balance as
+/// the fallback, recorded in [`SteadyInfo::fell_back_from`]).
 pub fn steady(
     circuit: &Circuit,
     devices: &DeviceSet,
@@ -330,9 +354,10 @@ pub fn steady(
             // Shooting first: on the demo stages it is several times faster
             // than harmonic balance with its automatic raise of K (measured in
             // benches/stages.rs), and both agree within the acceptance figures
-            // (tests/it/agreement.rs). Balance is the fallback; when both fail
+            // (tests/it/agreement.rs); refined until its estimated error meets
+            // the accuracy target. Balance is the fallback; when both fail
             // the error names both.
-            match verified_shooting(circuit, devices, params) {
+            match refined_shooting(circuit, devices, params) {
                 Ok(s) => Ok(s),
                 Err(first) => match balance(circuit, devices, params).and_then(verify) {
                     Ok(mut s) => {
@@ -358,6 +383,73 @@ fn verified_shooting(
 ) -> Result<PeriodicSolution, SolveError> {
     let (s, last) = shooting::shooting_with_final(circuit, devices, params)?;
     floquet::verify_with(circuit, devices, params, s, Some(last))
+}
+
+/// Shooting refined to [`SteadyParams::accuracy`] and verified
+/// (docs/analyses.md, "Accuracy of the steady state"): solved on `N` steps
+/// per period, whose half grid (solved for the floor) gives the first
+/// estimate ([`accuracy`]); while the estimate misses the target and `2N`
+/// stays within `max_steps_per_period`, solved again on `2N`, warm-started
+/// from the state at the start of the last period, with `N` as its half.
+/// The result carries the estimate ([`SteadyInfo::accuracy`], `met = false`
+/// when the largest grid did not reach the target), the floor from its last
+/// two grids and the periods of every grid in its iteration count. Without
+/// an output element to compare (or a half grid) it is plain verified
+/// shooting with no estimate.
+fn refined_shooting(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    params: &SteadyParams,
+) -> Result<PeriodicSolution, SolveError> {
+    let target = &params.accuracy;
+    let (mut fine, mut last) = shooting::shooting_with_final(circuit, devices, params)?;
+    let mut grid = params.clone();
+    grid.steps_per_period = fine.samples_per_period;
+    let half = last.half.take().and_then(|h| {
+        let mut p = grid.clone();
+        p.steps_per_period = grid.steps_per_period / 2;
+        sample::trbdf2_solution(circuit, devices, &p, h.samples, &h.stage, fine.info.clone()).ok()
+    });
+    let mut est = half
+        .as_ref()
+        .and_then(|c| accuracy::estimate(circuit, devices, &fine, c, target, None));
+    let mut periods = fine.info.iterations;
+    while let Some(e) = &est {
+        let next_n = fine.samples_per_period * 2;
+        if e.met || next_n > target.max_steps_per_period {
+            break;
+        }
+        let mut p = grid.clone();
+        p.steps_per_period = next_n;
+        p.shooting.half_grid = false;
+        p.shooting.initial = Some(
+            fine.x
+                .iter()
+                .map(|w| w.first().copied().unwrap_or(0.0))
+                .collect(),
+        );
+        // a finer grid that does not solve leaves the estimate as it was
+        let Ok((next, next_last)) = shooting::shooting_with_final(circuit, devices, &p) else {
+            break;
+        };
+        periods += next.info.iterations;
+        let next_est = accuracy::estimate(circuit, devices, &next, &fine, target, Some(e));
+        let mut coarse = std::mem::replace(&mut fine, next);
+        fine.info.floor = floor::grid_floor(
+            &fine.x,
+            &coarse.x,
+            params.harmonics,
+            params.shooting.rel_tolerance,
+        );
+        coarse.x.clear();
+        last = next_last;
+        grid = p;
+        est = next_est;
+    }
+    fine.info.iterations = periods;
+    fine.info.accuracy = est;
+    grid.shooting.initial = None;
+    floquet::verify_with(circuit, devices, &grid, fine, Some(last))
 }
 
 /// First whole number of periods after every source's delay, rise and last

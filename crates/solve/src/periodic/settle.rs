@@ -79,6 +79,7 @@ pub fn settle(
                     shooting: None,
                     floquet: None,
                     floor,
+                    accuracy: None,
                 };
                 return trbdf2_solution(circuit, devices, params, cur, &stage, info);
             }

@@ -464,6 +464,18 @@ pub(crate) struct FinalPeriod {
     pub(crate) monodromy: Option<Mat<f64>>,
     /// The matrix-free operator, otherwise.
     pub(crate) lin: Option<PeriodLin>,
+    /// The orbit on half the grid that estimated the floor: its samples
+    /// and TR-BDF2 stage points (`[unknown][step]`), when it was solved.
+    pub(crate) half: Option<HalfGrid>,
+}
+
+/// One period of the orbit on half the grid: samples and stage points.
+#[derive(Debug, Clone)]
+pub(crate) struct HalfGrid {
+    /// Unknowns at the start of every step.
+    pub(crate) samples: Vec<Vec<f64>>,
+    /// Unknowns at every TR-BDF2 intermediate stage.
+    pub(crate) stage: Vec<Vec<f64>>,
 }
 
 /// Per-unknown tolerance: `rel_tolerance · peak over the period + absolute tolerance`.
@@ -734,21 +746,27 @@ pub(crate) fn shooting_with_final(
             if worst.0 <= level.target && update <= level.target {
                 if final_level {
                     // the numerical floor: the orbit again on half the grid
-                    let half = half_grid(
-                        &mut st,
-                        devices,
-                        params,
-                        &x0,
-                        t0,
-                        period,
-                        ns,
-                        f,
-                        &mut report.krylov_products,
-                    );
-                    let floor = match half {
-                        Ok(Some(h)) => super::floor::grid_floor(
+                    let half = if params.shooting.half_grid {
+                        half_grid(
+                            &mut st,
+                            devices,
+                            params,
+                            &x0,
+                            t0,
+                            period,
+                            ns,
+                            f,
+                            &mut report.krylov_products,
+                        )
+                        .ok()
+                        .flatten()
+                    } else {
+                        None
+                    };
+                    let floor = match &half {
+                        Some(h) => super::floor::grid_floor(
                             &run.samples,
-                            &h,
+                            &h.samples,
                             params.harmonics,
                             params.shooting.rel_tolerance,
                         ),
@@ -770,6 +788,7 @@ pub(crate) fn shooting_with_final(
                         t0,
                         monodromy: run.monodromy.take(),
                         lin,
+                        half,
                     };
                     let info = SteadyInfo {
                         method: SteadyMethod::Shooting,
@@ -782,6 +801,7 @@ pub(crate) fn shooting_with_final(
                         shooting: Some(report),
                         floquet: None,
                         floor,
+                        accuracy: None,
                     };
                     let sol =
                         trbdf2_solution(circuit, devices, params, run.samples, &run.stage, info)?;
@@ -824,7 +844,7 @@ fn half_grid(
     ns: usize,
     fine: &Jacobian,
     products: &mut usize,
-) -> Result<Option<Vec<Vec<f64>>>, SolveError> {
+) -> Result<Option<HalfGrid>, SolveError> {
     let half = ns / 2;
     if half < 8 {
         return Ok(None);
@@ -855,7 +875,10 @@ fn half_grid(
         let dx = jac.solve(&r, &scale, devices, t0, products)?;
         let update = worst_ratio(&dx, &scale, devices, st.t)?.0;
         if worst <= 1.0 && update <= 1.0 {
-            return Ok(Some(run.samples));
+            return Ok(Some(HalfGrid {
+                samples: run.samples,
+                stage: run.stage,
+            }));
         }
         need_sens = !need_sens && worst > CHORD_CONTRACTION * prev;
         prev = worst;
