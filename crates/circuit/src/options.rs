@@ -445,7 +445,7 @@ pub mod analysis {
     pub const POWER_ERROR: OptionSpec = opt(
         "power_error",
         Takes::Value(Slot::Fraction, Range::Positive),
-        Default::Number(1e-5),
+        Default::Number(1e-4),
         "the relative error of the output power that method=auto refines to",
     );
     /// `level_error=` of a steady state: auto's target on harmonic levels.

@@ -397,9 +397,9 @@ pub fn steady_text(
             if a.met { "within" } else { "NOT within" },
             a.power_rel,
             a.target.power_rel,
-            si(a.target.harmonics_above_dbc, "dBc"),
-            si(a.harmonic_db, "dB"),
-            si(a.target.harmonic_db, "dB"),
+            db(a.target.harmonics_above_dbc, "dBc"),
+            format!("{:.4} dB", a.harmonic_db),
+            format!("{:.3} dB", a.target.harmonic_db),
             a.steps_per_period,
             a.compared_with,
         ));

@@ -31,7 +31,7 @@ use tankwave_devices::DeviceSet;
 /// The accuracy `method=auto` refines its steady state to.
 #[derive(Debug, Clone, PartialEq)]
 pub struct AccuracyParams {
-    /// Largest relative error of the output power P₁ (default 1e-5,
+    /// Largest relative error of the output power P₁ (default 1e-4,
     /// `power_error=`).
     pub power_rel: f64,
     /// Largest error of a harmonic level, dB (default 0.05 dB, `level_error=`).
