@@ -393,13 +393,13 @@ pub fn steady_text(
     if let Some(a) = &info.accuracy {
         s.push_str(&format!(
             "  estimated error {} its target: output power {:.1e} relative (target {:.0e}), \
-             harmonics above {} off by {} (target {}), from {} against {} steps per period\n",
+             harmonics above {} off by {:.4} dB (target {:.3} dB), from {} against {} steps per period\n",
             if a.met { "within" } else { "NOT within" },
             a.power_rel,
             a.target.power_rel,
             db(a.target.harmonics_above_dbc, "dBc"),
-            format!("{:.4} dB", a.harmonic_db),
-            format!("{:.3} dB", a.target.harmonic_db),
+            a.harmonic_db,
+            a.target.harmonic_db,
             a.steps_per_period,
             a.compared_with,
         ));
