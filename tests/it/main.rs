@@ -16,6 +16,7 @@ mod agreement;
 mod bad_input;
 mod cli;
 mod convergence;
+mod editor;
 mod first_hour;
 mod fit;
 mod floor;

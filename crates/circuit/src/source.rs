@@ -65,6 +65,12 @@ impl StageSource {
         self.parsed.statements.is_empty() && self.parsed.diagnostics.is_empty()
     }
 
+    /// What each statement defines and uses, with places, for tools that
+    /// point into the text ([`crate::outline`]).
+    pub fn outline(&self) -> crate::outline::Outline {
+        crate::outline::outline(&self.parsed)
+    }
+
     /// The diagnostics parsing alone found (errors and warnings).
     pub fn parse_diagnostics(&self) -> &[Diagnostic] {
         &self.parsed.diagnostics

@@ -178,6 +178,10 @@ pub struct SolveOptions<'a> {
     pub keep_going: bool,
     /// Told as each analysis starts and advances (`None`: nobody listens).
     pub observer: Option<&'a dyn Observer>,
+    /// Set by another thread to stop the solve: checked before each
+    /// analysis (and each ruggedness sweep), the solve then returns
+    /// [`StageError::Cancelled`] (`None`: it runs to the end).
+    pub cancel: Option<&'a std::sync::atomic::AtomicBool>,
 }
 
 impl SolveOptions<'_> {
@@ -215,7 +219,14 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
     };
     let count = circuit.analyses.iter().filter(|a| runs(a)).count();
     let mut index = 0;
+    let cancelled = || {
+        opts.cancel
+            .is_some_and(|c| c.load(std::sync::atomic::Ordering::Relaxed))
+    };
     for a in &circuit.analyses {
+        if cancelled() {
+            return Err(StageError::Cancelled);
+        }
         if let (Some(o), true) = (opts.observer, runs(a)) {
             o.started(index, count, a.keyword());
             index += 1;
@@ -313,6 +324,9 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
             else {
                 continue;
             };
+            if cancelled() {
+                return Err(StageError::Cancelled);
+            }
             let mut circles: Vec<Circle> = vswr
                 .iter()
                 .map(|&vswr| Circle {
