@@ -53,7 +53,7 @@ fn editor_save(p: &std::path::Path, text: &str) -> usize {
     let mut hints = 0;
     for job in out.solve {
         let circuit = &job.doc.stage.as_ref().expect("elaborates").circuit;
-        let solved = figures::solve(circuit, &job.doc.outline, &job.cancel);
+        let solved = figures::solve(circuit, &job.doc.outline, None, &job.cancel);
         server.solved(job.uri.clone(), job.generation, solved);
         let doc = server.document(&job.uri).expect("open");
         assert!(doc.solved.is_some(), "the figures are kept");

@@ -13,7 +13,11 @@ pub struct ServeEditorArgs {}
 /// Serve until the editor says `exit`: 0 after `shutdown`, 1 without it (as
 /// the protocol asks) or when writing to the editor failed.
 pub fn run(_: &ServeEditorArgs) -> i32 {
-    match tankwave_editor::serve(std::io::stdin(), std::io::stdout()) {
+    let params = tankwave_editor::ServeParams {
+        include_roots: super::common::include_roots().to_vec(),
+        ..Default::default()
+    };
+    match tankwave_editor::serve(std::io::stdin(), std::io::stdout(), &params) {
         Ok(Ended::Clean) => OK,
         Ok(Ended::Abrupt) => 1,
         Err(e) => {

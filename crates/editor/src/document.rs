@@ -3,7 +3,7 @@
 //! diagnostics, the outline of what each statement defines and uses, and
 //! the figures of the last solve of this very text, if any.
 
-use std::path::Path;
+use std::path::{Path, PathBuf};
 use std::sync::Arc;
 
 use lsp_types::{DiagnosticSeverity, NumberOrString, Range, Url};
@@ -50,10 +50,17 @@ pub fn name_of(uri: &Url) -> String {
 }
 
 impl Document {
-    /// Parse and elaborate `text` as `lint` does.
+    /// Parse and elaborate `text` as `lint` does (includes confined to the
+    /// file's default roots).
     pub fn new(uri: Url, text: String) -> Document {
+        Document::with_roots(uri, text, &[])
+    }
+
+    /// [`Document::new`], with includes also allowed from under
+    /// `include_roots` (the command line's `--include-root`).
+    pub fn with_roots(uri: Url, text: String, include_roots: &[PathBuf]) -> Document {
         let name = name_of(&uri);
-        let source = StageSource::from_text(&name, &text);
+        let source = StageSource::from_text_with_roots(&name, &text, include_roots);
         let outline = source.outline();
         let (stage, diagnostics) =
             match tankwave_stage::load_source(source.clone(), &Default::default()) {

@@ -9,7 +9,7 @@ use std::sync::atomic::AtomicBool;
 use tankwave_circuit::outline::{Outline, SymbolKind};
 use tankwave_circuit::{Circuit, Span};
 use tankwave_report::stage as text;
-use tankwave_stage::{Scope, SolveOptions, StageError, StageResults};
+use tankwave_stage::{Caps, Scope, SolveOptions, StageError, StageResults};
 
 /// A solve of one text, and the figures placed on its lines.
 #[derive(Debug)]
@@ -22,11 +22,18 @@ pub struct Solved {
     pub lines: Vec<(Span, String)>,
 }
 
-/// Solve `circuit` as `run` does (every analysis), stopping early when
-/// `cancel` is set; `None` when it was stopped.
-pub fn solve(circuit: &Circuit, outline: &Outline, cancel: &AtomicBool) -> Option<Solved> {
+/// Solve `circuit` as `run` does (every analysis; with `caps`, each
+/// analysis bounded as for unchecked input), stopping early when `cancel`
+/// is set; `None` when it was stopped.
+pub fn solve(
+    circuit: &Circuit,
+    outline: &Outline,
+    caps: Option<Caps>,
+    cancel: &AtomicBool,
+) -> Option<Solved> {
     let opts = SolveOptions {
         cancel: Some(cancel),
+        caps,
         ..SolveOptions::scope(Scope::All)
     };
     let results = match tankwave_stage::solve(circuit, &opts) {

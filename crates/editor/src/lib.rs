@@ -26,4 +26,4 @@ pub mod position;
 pub mod server;
 
 pub use document::Document;
-pub use server::{serve, Ended, ServeError, Server};
+pub use server::{serve, Ended, ServeError, ServeParams, Server};

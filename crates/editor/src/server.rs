@@ -170,9 +170,21 @@ pub struct SolveJob {
     pub cancel: Arc<AtomicBool>,
 }
 
+/// How the server works.
+#[derive(Debug, Clone, Default)]
+pub struct ServeParams {
+    /// Directories includes may also come from (the command line's
+    /// `--include-root`), besides each file's default roots.
+    pub include_roots: Vec<std::path::PathBuf>,
+    /// Bounds on each solve after a save (`None`: every analysis as the
+    /// file declares it, as `run` solves it; the fuzz target bounds them).
+    pub caps: Option<tankwave_stage::Caps>,
+}
+
 /// The server's state: open documents, solves in flight, the protocol phase.
 #[derive(Default)]
 pub struct Server {
+    params: ServeParams,
     docs: HashMap<Url, Document>,
     generation: HashMap<Url, u64>,
     running: HashMap<Url, Arc<AtomicBool>>,
@@ -206,9 +218,22 @@ fn notify(method: &str, v: impl serde::Serialize) -> Message {
 }
 
 impl Server {
-    /// A server before `initialize`.
+    /// A server before `initialize`, with the default [`ServeParams`].
     pub fn new() -> Server {
         Server::default()
+    }
+
+    /// A server before `initialize` that works as `params` say.
+    pub fn with_params(params: ServeParams) -> Server {
+        Server {
+            params,
+            ..Server::default()
+        }
+    }
+
+    /// How this server works.
+    pub fn params(&self) -> &ServeParams {
+        &self.params
     }
 
     /// How the loop should end, once `exit` was received.
@@ -438,7 +463,7 @@ impl Server {
     /// its diagnostics published.
     fn replace(&mut self, uri: Url, text: String, out: &mut Outcome) {
         self.stop(&uri);
-        let doc = Document::new(uri.clone(), text);
+        let doc = Document::with_roots(uri.clone(), text, &self.params.include_roots);
         out.send
             .push(diagnostics(uri.clone(), doc.lsp_diagnostics()));
         self.docs.insert(uri, doc);
@@ -552,6 +577,7 @@ fn write(w: &mut impl Write, m: Message) -> Result<(), ServeError> {
 pub fn serve(
     input: impl Read + Send + 'static,
     mut output: impl Write,
+    params: &ServeParams,
 ) -> Result<Ended, ServeError> {
     let (tx, rx) = mpsc::channel::<Event>();
     let reader_tx = tx.clone();
@@ -571,7 +597,7 @@ pub fn serve(
             }
         }
     });
-    let mut server = Server::new();
+    let mut server = Server::with_params(params.clone());
     while let Ok(ev) = rx.recv() {
         match ev {
             Event::End => break,
@@ -583,9 +609,10 @@ pub fn serve(
                 }
                 for job in outcome.solve {
                     let tx = tx.clone();
+                    let caps = server.params().caps;
                     std::thread::spawn(move || {
                         let solved = job.doc.stage.as_ref().and_then(|s| {
-                            figures::solve(&s.circuit, &job.doc.outline, &job.cancel)
+                            figures::solve(&s.circuit, &job.doc.outline, caps, &job.cancel)
                         });
                         let solved = solved.map(Box::new);
                         let _ = tx.send(Event::Solved {
@@ -628,4 +655,65 @@ pub fn malformed_response(why: &str) -> Message {
             message: format!("tankwave: ignored a malformed message: {why}"),
         },
     )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use serde_json::json;
+
+    fn note(method: &str, params: Value) -> Message {
+        Message::Notification(Notification::new(method.to_string(), params))
+    }
+
+    const STAGE: &str = "voltage v1 a gnd dc=1V\nresistor r1 a gnd 50Ohm\nanalyze bias\n";
+
+    /// An edit after a save stops that save's solve, and its figures are
+    /// never kept; a solve of the current text is.
+    #[test]
+    fn the_next_edit_cancels_the_solve_of_a_save() {
+        let uri = Url::parse("file:///tmp/c.tank").expect("uri");
+        let mut s = Server::new();
+        s.handle(Message::Request(Request::new(
+            0.into(),
+            "initialize".into(),
+            json!({"capabilities": {}}),
+        )));
+        let doc = json!({"uri": uri, "languageId": "t", "version": 1, "text": STAGE});
+        s.handle(note("textDocument/didOpen", json!({"textDocument": doc})));
+        let saved = s.handle(note(
+            "textDocument/didSave",
+            json!({"textDocument": {"uri": uri}}),
+        ));
+        let job = saved.solve.into_iter().next().expect("a solve starts");
+        assert!(!job.cancel.load(Ordering::Relaxed));
+        let edit = json!({"textDocument": {"uri": uri, "version": 2},
+            "contentChanges": [{"text": format!("{STAGE}# edited\n")}]});
+        s.handle(note("textDocument/didChange", edit));
+        assert!(
+            job.cancel.load(Ordering::Relaxed),
+            "the edit stops the solve"
+        );
+        // had the solve ended anyway, its figures are dropped
+        let c = &job.doc.stage.as_ref().expect("elaborates").circuit;
+        let late = figures::solve(c, &job.doc.outline, None, &AtomicBool::new(false));
+        assert!(s.solved(uri.clone(), job.generation, late).is_empty());
+        assert!(s.document(&uri).expect("open").solved.is_none());
+        // a save of the new text is solved and kept
+        let saved = s.handle(note(
+            "textDocument/didSave",
+            json!({"textDocument": {"uri": uri}}),
+        ));
+        let job = saved.solve.into_iter().next().expect("a solve starts");
+        let c = &job.doc.stage.as_ref().expect("elaborates").circuit;
+        let done = figures::solve(c, &job.doc.outline, None, &job.cancel);
+        s.solved(uri.clone(), job.generation, done);
+        let kept = s
+            .document(&uri)
+            .expect("open")
+            .solved
+            .clone()
+            .expect("kept");
+        assert!(kept.lines.iter().any(|(_, t)| t.contains("bias point")));
+    }
 }

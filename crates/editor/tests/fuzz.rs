@@ -42,7 +42,8 @@ fn messages(out: &[u8]) -> Vec<Value> {
 
 fn run(input: Vec<u8>) -> (Ended, Vec<Value>) {
     let mut out = Vec::new();
-    let ended = serve(Cursor::new(input), &mut out).expect("writing to a Vec never fails");
+    let ended = serve(Cursor::new(input), &mut out, &Default::default())
+        .expect("writing to a Vec never fails");
     (ended, messages(&out))
 }
 

@@ -402,3 +402,39 @@ pub fn collector_loads(
 ) -> Result<Vec<CollectorLoad>, StageError> {
     tankwave_measure::collector_loads(&period_data(circuit, s)).map_err(StageError::Measure)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::sync::atomic::AtomicBool;
+    use tankwave_circuit::{Overrides, StageSource};
+
+    /// A set cancel flag stops the solve before its first analysis; a clear
+    /// one lets it run to the end.
+    #[test]
+    fn a_set_cancel_flag_stops_the_solve() {
+        let src = StageSource::from_text(
+            "t.tank",
+            "voltage v1 a gnd dc=1V\nresistor r1 a gnd 50Ohm\nanalyze bias\n",
+        );
+        let stage = crate::load_source(src, &Overrides::default()).expect("loads");
+        let stop = AtomicBool::new(true);
+        let opts = SolveOptions {
+            cancel: Some(&stop),
+            ..SolveOptions::scope(Scope::All)
+        };
+        assert!(matches!(
+            solve(&stage.circuit, &opts),
+            Err(StageError::Cancelled)
+        ));
+        let go = AtomicBool::new(false);
+        let opts = SolveOptions {
+            cancel: Some(&go),
+            ..SolveOptions::scope(Scope::All)
+        };
+        let r = solve(&stage.circuit, &opts).expect("solves");
+        // 1 V across 50 Ω: the node voltage is the source's 1 V (Ohm's law)
+        let op = r.op.expect("bias point");
+        assert!((op.value("V[a]").expect("V[a]") - 1.0).abs() < 1e-9);
+    }
+}
