@@ -523,11 +523,10 @@ pub fn completion(doc: &Document, pos: Position) -> Vec<CompletionItem> {
         Some((k, v)) => (Some(k), v),
         None => (None, partial),
     };
-    let value = value
-        .rsplit(['(', ',', '*', '/', '+', '-', '^'])
-        .next()
-        .unwrap_or(value);
-    if value.starts_with(|c: char| c.is_ascii_digit() || c == '.') {
+    // the word being written: after the last operator, bracket or `=`
+    let seps = ['=', '(', ',', '*', '/', '+', '-', '^'];
+    let tail = partial.rsplit(seps).next().unwrap_or(partial);
+    if tail.starts_with(|c: char| c.is_ascii_digit() || c == '.') {
         return unit_items();
     }
     let table: &[OptionSpec] = if kw == "analyze" {
@@ -541,6 +540,24 @@ pub fn completion(doc: &Document, pos: Position) -> Vec<CompletionItem> {
     };
     if let Some(key) = key {
         let spec = table.iter().find(|o| o.name == key);
+        // inside a waveform: its argument names where an argument starts
+        if let (Some(Takes::Wave), Some((shape, _))) =
+            (spec.map(|o| o.takes), value.split_once('('))
+        {
+            let before_tail = &partial[..partial.len() - tail.len()];
+            if before_tail.ends_with(['(', ',']) {
+                return vocab::waveform_args(shape)
+                    .unwrap_or(&[])
+                    .iter()
+                    .map(|a| {
+                        let mut i = item(format!("{a}="), CompletionItemKind::PROPERTY, shape);
+                        i.insert_text = Some(format!("{a}="));
+                        i
+                    })
+                    .collect();
+            }
+            return names_of(doc, SymbolKind::Param);
+        }
         return match spec.map(|o| o.takes) {
             Some(Takes::Word(_)) => spec
                 .map(|o| o.words())
@@ -686,6 +703,16 @@ mod tests {
         let d = doc("part q npn { transport { \n");
         let p = labels(completion(&d, Position::new(0, 25)));
         assert!(p.contains(&"beta=".to_string()), "{p:?}");
+        // a waveform's argument names, then units inside it
+        let d = doc("voltage v1 a gnd wave=sine(\n");
+        let w = labels(completion(&d, Position::new(0, 27)));
+        assert!(
+            w.contains(&"amp=".to_string()) && w.contains(&"freq=".to_string()),
+            "{w:?}"
+        );
+        let d = doc("voltage v1 a gnd wave=sine(amp=5\n");
+        let u = labels(completion(&d, Position::new(0, 32)));
+        assert!(u.contains(&"V".to_string()), "{u:?}");
         // units after a number
         let d = doc("capacitor c1 a gnd 10\n");
         let u = labels(completion(&d, Position::new(0, 21)));

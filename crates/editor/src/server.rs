@@ -301,9 +301,7 @@ impl Server {
         Some(match r.method.as_str() {
             req::Shutdown::METHOD => {
                 self.shutting_down = true;
-                for c in self.running.values() {
-                    c.store(true, Ordering::Relaxed);
-                }
+                self.stop_all();
                 ok(id, Value::Null)
             }
             req::HoverRequest::METHOD => self.at::<lsp_types::HoverParams, _>(
@@ -451,6 +449,14 @@ impl Server {
         }
     }
 
+    /// Stop every solve in flight (the loop is ending).
+    fn stop_all(&mut self) {
+        for c in self.running.values() {
+            c.store(true, Ordering::Relaxed);
+        }
+        self.running.clear();
+    }
+
     /// Stop the solve of `uri` in flight, if any, and move its generation on.
     fn stop(&mut self, uri: &Url) {
         if let Some(c) = self.running.remove(uri) {
@@ -473,7 +479,9 @@ impl Server {
         let Some(doc) = self.docs.get(&uri) else {
             return;
         };
-        if doc.stage.is_none() || doc.solved.is_some() {
+        // nothing to solve, already solved, or being solved (an edit would
+        // have stopped that solve and removed it from `running`)
+        if doc.stage.is_none() || doc.solved.is_some() || self.running.contains_key(&uri) {
             return;
         }
         let doc = doc.clone();
@@ -623,6 +631,7 @@ pub fn serve(
                     });
                 }
                 if let Some(e) = server.exit() {
+                    server.stop_all();
                     return Ok(e);
                 }
             }
@@ -637,9 +646,7 @@ pub fn serve(
             }
         }
     }
-    for c in server.running.values() {
-        c.store(true, Ordering::Relaxed);
-    }
+    server.stop_all();
     Ok(Ended::Abrupt)
 }
 
