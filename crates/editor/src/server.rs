@@ -251,8 +251,7 @@ impl Server {
         let mut out = Outcome::default();
         match msg {
             Message::Request(r) => {
-                let m = self.request(r, &mut out);
-                out.send.extend(m);
+                out.send.push(self.request(r));
             }
             Message::Notification(n) => self.notification(n, &mut out),
             Message::Response(_) => {}
@@ -260,19 +259,19 @@ impl Server {
         out
     }
 
-    fn request(&mut self, r: Request, out: &mut Outcome) -> Option<Message> {
+    fn request(&mut self, r: Request) -> Message {
         let id = r.id.clone();
         if r.method == req::Initialize::METHOD {
             if self.initialized {
-                return Some(error(
+                return error(
                     id,
                     ErrorCode::InvalidRequest,
                     "initialize was already received",
-                ));
+                );
             }
             let params: lsp_types::InitializeParams = match serde_json::from_value(r.params) {
                 Ok(p) => p,
-                Err(e) => return Some(error(id, ErrorCode::InvalidParams, e.to_string())),
+                Err(e) => return error(id, ErrorCode::InvalidParams, e.to_string()),
             };
             self.refresh = params
                 .capabilities
@@ -281,24 +280,15 @@ impl Server {
                 .and_then(|i| i.refresh_support)
                 .unwrap_or(false);
             self.initialized = true;
-            return Some(ok(id, initialize_result()));
+            return ok(id, initialize_result());
         }
         if !self.initialized {
-            return Some(error(
-                id,
-                ErrorCode::ServerNotInitialized,
-                "initialize first",
-            ));
+            return error(id, ErrorCode::ServerNotInitialized, "initialize first");
         }
         if self.shutting_down {
-            return Some(error(
-                id,
-                ErrorCode::InvalidRequest,
-                "the server is shutting down",
-            ));
+            return error(id, ErrorCode::InvalidRequest, "the server is shutting down");
         }
-        let _ = out;
-        Some(match r.method.as_str() {
+        match r.method.as_str() {
             req::Shutdown::METHOD => {
                 self.shutting_down = true;
                 self.stop_all();
@@ -351,7 +341,7 @@ impl Server {
                 ErrorCode::MethodNotFound,
                 format!("'{}' is not handled", clip(other)),
             ),
-        })
+        }
     }
 
     /// Answer a request about one document: its parameters read, the
