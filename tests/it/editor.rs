@@ -370,3 +370,70 @@ fn hostile_bytes_are_answered_and_the_server_goes_on() {
     c.notify("exit", Value::Null);
     assert_eq!(c.child.wait().expect("exit").code(), Some(0));
 }
+
+/// Every one-mistake file of tests/data/bad/: the server reports each
+/// problem `check` (and so `lint`) reports in the file itself at the same
+/// line and column (1-based there, 0-based in the protocol; the files'
+/// characters are all in the basic plane, where a character is one UTF-16
+/// unit; a byte-order mark is a character the protocol counts and the
+/// command line does not), with the same code and message.
+#[test]
+fn every_bad_file_gets_the_places_and_codes_lint_gives() {
+    let dir = crate::harness::data("bad");
+    let mut files: Vec<std::path::PathBuf> = std::fs::read_dir(&dir)
+        .expect("tests/data/bad")
+        .filter_map(|e| e.ok().map(|e| e.path()))
+        .filter(|p| p.extension().is_some_and(|x| x == "tank"))
+        .collect();
+    files.sort();
+    assert!(files.len() > 20, "the bad files");
+    let mut args = vec!["--no-caution", "check", "--format", "json"];
+    let names: Vec<String> = files.iter().map(|f| f.display().to_string()).collect();
+    args.extend(names.iter().map(String::as_str));
+    let o = crate::harness::run(&args);
+    let doc: Value = serde_json::from_slice(&o.stdout).expect("check JSON");
+    let mut c = Client::start(&dir);
+    c.request("initialize", json!({"capabilities": {}}));
+    let mut compared = 0;
+    for entry in doc["files"].as_array().expect("files") {
+        let file = entry["file"].as_str().expect("file");
+        // a client sends text: a file that is not UTF-8 is not one it can open
+        let Ok(text) = std::fs::read_to_string(file) else {
+            continue;
+        };
+        let uri = format!("file://{file}");
+        c.notify(
+            "textDocument/didOpen",
+            json!({"textDocument": {"uri": uri, "languageId": "tankwave", "version": 1, "text": text}}),
+        );
+        let got = c.wait_for("its diagnostics", |v| {
+            v["method"] == "textDocument/publishDiagnostics" && v["params"]["uri"] == uri.as_str()
+        });
+        let got = got["params"]["diagnostics"]
+            .as_array()
+            .cloned()
+            .unwrap_or_default();
+        let bom = u64::from(text.starts_with('\u{feff}'));
+        for want in entry["diagnostics"].as_array().into_iter().flatten() {
+            if want["file"] != file || want["line"].as_u64().unwrap_or(0) == 0 {
+                continue;
+            }
+            let line = want["line"].as_u64().expect("line") - 1;
+            let col =
+                want["column"].as_u64().expect("column") - 1 + if line == 0 { bom } else { 0 };
+            let hit = got.iter().any(|g| {
+                g["range"]["start"] == json!({"line": line, "character": col})
+                    && g["code"] == want["code"]
+                    && g["message"]
+                        .as_str()
+                        .is_some_and(|m| m.starts_with(want["message"].as_str().unwrap_or("?")))
+            });
+            assert!(hit, "{file}: {want} not among {got:?}");
+            compared += 1;
+        }
+    }
+    assert!(compared > 20, "only {compared} diagnostics compared");
+    c.request("shutdown", Value::Null);
+    c.notify("exit", Value::Null);
+    assert_eq!(c.child.wait().expect("exit").code(), Some(0));
+}
