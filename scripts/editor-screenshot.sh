@@ -6,7 +6,11 @@
 # its colours, turned into HTML and drawn to a PNG by headless chromium
 # (scripts/render-report.sh).
 #
-#   scripts/editor-screenshot.sh [OUT.png]      (default docs/editor.png)
+#   scripts/editor-screenshot.sh [OUT.png [FIGURES.png]]
+#       (default docs/editor.png and docs/editor-figures.png)
+#
+# The second picture is the unchanged demo after a save: the figures of the
+# solve as code lenses over the `analyze` and `require` lines.
 #
 # Needs tmux, neovim and chromium (Debian: apt-get install -y tmux neovim
 # chromium) and a built binary (cargo build). Not run in CI.
@@ -14,6 +18,7 @@ set -euo pipefail
 
 root="$(cd "$(dirname "$0")/.." && pwd)"
 out="${1:-$root/docs/editor.png}"
+figures="${2:-$root/docs/editor-figures.png}"
 bin="$root/target/debug/tankwave"
 for tool in tmux nvim python3; do
     if ! command -v "$tool" >/dev/null 2>&1; then
@@ -40,6 +45,7 @@ cp "$root/netlists/models/tw-hf25.tank" "$work/models/"
 sed 's/^capacitor c2    out   gnd   2.35nF/capacitor c2    out   gnd   2.35nH/' \
     "$root/netlists/ism-13m56-classc.tank" > "$work/stage.tank"
 grep -q '2.35nH' "$work/stage.tank"
+cp "$root/netlists/ism-13m56-classc.tank" "$work/clean.tank"
 
 cat > "$work/init.lua" <<LUA
 vim.o.number = true
@@ -61,23 +67,48 @@ vim.api.nvim_create_autocmd("FileType", {
   end,
 })
 vim.keymap.set("n", "K", vim.lsp.buf.hover)
+vim.cmd("highlight LspCodeLens ctermfg=114")
 LUA
 
 cd "$work"
-tmux -L "$sock" -f /dev/null new-session -d -s shot -x 104 -y 40 \
-    "TERM=tmux-256color nvim -u $work/init.lua stage.tank"
-tmux -L "$sock" set-option -t shot status off >/dev/null
-sleep 3
-# the netlist from line 16 on (the wrong unit in view), the cursor on a
-# temperature limit written in degC
+
+# Start neovim on FILE in a fresh pane, give the server time to answer.
+start() {
+    tmux -L "$sock" kill-server >/dev/null 2>&1 || true
+    tmux -L "$sock" -f /dev/null new-session -d -s shot -x 150 -y 40 \
+        "TERM=tmux-256color nvim -u $work/init.lua $1"
+    tmux -L "$sock" set-option -t shot status off >/dev/null
+    sleep 3
+}
+
+# Capture the pane to OUT.png.
+shoot() {
+    tmux -L "$sock" capture-pane -e -p -t shot > "$work/pane.ansi"
+    python3 "$root/scripts/ansi-to-html.py" "$work/pane.ansi" "$work/pane.html" \
+        "tankwave serve-editor in neovim"
+    "$root/scripts/render-report.sh" "$work/pane.html" "$1" 1260x720 >/dev/null
+    echo "$1"
+}
+
+# 1. A diagnostic and a hover: the netlist from line 16 on (the wrong unit
+#    in view), the cursor on a temperature limit written in degC.
+start stage.tank
 tmux -L "$sock" send-keys -t shot ":16" Enter "zt"
 sleep 0.5
 tmux -L "$sock" send-keys -t shot "/125degC" Enter
 sleep 0.5
 tmux -L "$sock" send-keys -t shot "K"
 sleep 2
-tmux -L "$sock" capture-pane -e -p -t shot > "$work/pane.ansi"
-python3 "$root/scripts/ansi-to-html.py" "$work/pane.ansi" "$work/pane.html" \
-    "tankwave serve-editor in neovim"
-"$root/scripts/render-report.sh" "$work/pane.html" "$out" 900x720 >/dev/null
-echo "$out"
+shoot "$out"
+
+# 2. The figures after a save, as code lenses over the analyze and require
+#    lines (neovim 0.7 shows lenses, not inlay hints): save, wait for the
+#    solve (a debug build takes several seconds), fetch the lenses.
+start clean.tank
+tmux -L "$sock" send-keys -t shot ":w" Enter
+sleep "${TANKWAVE_SHOT_SOLVE_SECONDS:-15}"
+tmux -L "$sock" send-keys -t shot ":lua vim.lsp.codelens.refresh()" Enter
+sleep 2
+tmux -L "$sock" send-keys -t shot ":16" Enter "zt" ":echo" Enter
+sleep 1
+shoot "$figures"

@@ -302,6 +302,20 @@ fn a_scripted_editor_session() {
         .find(|h| h["position"]["line"] == 12)
         .expect("h");
     assert_eq!(h["position"]["character"], 18);
+    // the same figures as code lenses over the lines
+    let r = c.request("textDocument/codeLens", json!({"textDocument": doc}));
+    let lenses = r["result"].as_array().cloned().unwrap_or_default();
+    let lens = lenses
+        .iter()
+        .find(|l| l["range"]["start"]["line"] == 12)
+        .unwrap_or_else(|| panic!("a lens on the require line: {r}"));
+    assert!(
+        lens["command"]["title"]
+            .as_str()
+            .unwrap_or("")
+            .contains("FAIL"),
+        "{r}"
+    );
     // after the solve, an element's hover has its bias-point figures
     let hv = c.request(
         "textDocument/hover",

@@ -338,6 +338,32 @@ pub fn inlay_hints(doc: &Document) -> Vec<InlayHint> {
         .collect()
 }
 
+/// The same figures as code lenses over each `analyze` and `require` line,
+/// for clients that show lenses but not inlay hints; a lens's command does
+/// nothing but show its title.
+pub fn code_lenses(doc: &Document) -> Vec<lsp_types::CodeLens> {
+    let Some(solved) = &doc.solved else {
+        return Vec::new();
+    };
+    solved
+        .lines
+        .iter()
+        .filter(|(s, _)| s.file == 0)
+        .map(|(s, t)| {
+            let (a, b) = doc.lines.line_of(&doc.text, s.start as usize);
+            lsp_types::CodeLens {
+                range: doc.range(a, b),
+                command: Some(lsp_types::Command {
+                    title: format!("⇒ {t}"),
+                    command: String::new(),
+                    arguments: None,
+                }),
+                data: None,
+            }
+        })
+        .collect()
+}
+
 // ---------------------------------------------------------------- completion
 
 fn item(label: impl Into<String>, kind: CompletionItemKind, detail: &str) -> CompletionItem {

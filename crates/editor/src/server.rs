@@ -11,8 +11,8 @@
 //! Saving a document starts a solve of its text in a thread of its own;
 //! the next edit of that document (or closing it) stops that solve at its
 //! next analysis and its figures are never shown. A finished solve's
-//! figures become inlay hints on the `analyze` and `require` lines, and
-//! the client is asked to fetch them again.
+//! figures become inlay hints (and code lenses) on the `analyze` and
+//! `require` lines, and the client is asked to fetch them again.
 
 use std::collections::HashMap;
 use std::io::{BufRead, BufReader, Read, Write};
@@ -192,6 +192,7 @@ pub struct Server {
     shutting_down: bool,
     exit: Option<Ended>,
     refresh: bool,
+    lens_refresh: bool,
     caution_shown: bool,
     next_id: i32,
 }
@@ -273,10 +274,13 @@ impl Server {
                 Ok(p) => p,
                 Err(e) => return error(id, ErrorCode::InvalidParams, e.to_string()),
             };
-            self.refresh = params
-                .capabilities
-                .workspace
-                .and_then(|w| w.inlay_hint)
+            let workspace = params.capabilities.workspace.unwrap_or_default();
+            self.refresh = workspace
+                .inlay_hint
+                .and_then(|i| i.refresh_support)
+                .unwrap_or(false);
+            self.lens_refresh = workspace
+                .code_lens
                 .and_then(|i| i.refresh_support)
                 .unwrap_or(false);
             self.initialized = true;
@@ -328,6 +332,12 @@ impl Server {
                         features::symbols(d),
                     ))
                 },
+                |p| p.text_document.uri.clone(),
+            ),
+            req::CodeLensRequest::METHOD => self.at::<lsp_types::CodeLensParams, _>(
+                id,
+                r.params,
+                |d, _| Some(features::code_lenses(d)),
                 |p| p.text_document.uri.clone(),
             ),
             req::InlayHintRequest::METHOD => self.at::<lsp_types::InlayHintParams, _>(
@@ -509,11 +519,15 @@ impl Server {
                 },
             ));
         }
-        if self.refresh {
+        let asks = [
+            (self.refresh, req::InlayHintRefreshRequest::METHOD),
+            (self.lens_refresh, req::CodeLensRefresh::METHOD),
+        ];
+        for (_, method) in asks.into_iter().filter(|(wanted, _)| *wanted) {
             self.next_id += 1;
             send.push(Message::Request(Request::new(
                 RequestId::from(format!("refresh-{}", self.next_id)),
-                req::InlayHintRefreshRequest::METHOD.to_string(),
+                method.to_string(),
                 Value::Null,
             )));
         }
@@ -556,6 +570,9 @@ pub fn initialize_result() -> lsp_types::InitializeResult {
             }),
             document_symbol_provider: Some(OneOf::Left(true)),
             inlay_hint_provider: Some(OneOf::Left(true)),
+            code_lens_provider: Some(CodeLensOptions {
+                resolve_provider: Some(false),
+            }),
             ..Default::default()
         },
         server_info: Some(ServerInfo {
