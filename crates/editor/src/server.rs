@@ -596,7 +596,7 @@ pub fn serve(
 ) -> Result<Ended, ServeError> {
     let (tx, rx) = mpsc::channel::<Event>();
     let reader_tx = tx.clone();
-    std::thread::spawn(move || {
+    let reader = std::thread::spawn(move || {
         let mut r = BufReader::new(input);
         loop {
             match read_message(&mut r) {
@@ -613,6 +613,15 @@ pub fn serve(
         }
     });
     let mut server = Server::with_params(params.clone());
+    // the solve threads, joined before the loop returns (each stops at its
+    // next analysis once cancelled)
+    let mut solvers: Vec<std::thread::JoinHandle<()>> = Vec::new();
+    let end = |server: &mut Server, solvers: Vec<std::thread::JoinHandle<()>>| {
+        server.stop_all();
+        for h in solvers {
+            let _ = h.join();
+        }
+    };
     while let Ok(ev) = rx.recv() {
         match ev {
             Event::End => break,
@@ -622,10 +631,11 @@ pub fn serve(
                 for m in outcome.send {
                     write(&mut output, m)?;
                 }
+                solvers.retain(|h| !h.is_finished());
                 for job in outcome.solve {
                     let tx = tx.clone();
                     let caps = server.params().caps;
-                    std::thread::spawn(move || {
+                    solvers.push(std::thread::spawn(move || {
                         let solved = job.doc.stage.as_ref().and_then(|s| {
                             figures::solve(&s.circuit, &job.doc.outline, caps, &job.cancel)
                         });
@@ -635,10 +645,15 @@ pub fn serve(
                             generation: job.generation,
                             solved,
                         });
-                    });
+                    }));
                 }
                 if let Some(e) = server.exit() {
-                    server.stop_all();
+                    end(&mut server, solvers);
+                    // the reader may be blocked on input that never ends
+                    // (a terminal); it is joined only when it has finished
+                    if reader.is_finished() {
+                        let _ = reader.join();
+                    }
                     return Ok(e);
                 }
             }
@@ -653,7 +668,9 @@ pub fn serve(
             }
         }
     }
-    server.stop_all();
+    end(&mut server, solvers);
+    // the input ended: the reader has returned or is about to
+    let _ = reader.join();
     Ok(Ended::Abrupt)
 }
 
