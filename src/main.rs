@@ -53,7 +53,8 @@ fn shows_caution(c: &Command) -> bool {
         | Command::Run(_)
         | Command::Merge(_)
         | Command::Upgrade(_)
-        | Command::Fit(_) => false,
+        | Command::Fit(_)
+        | Command::ServeEditor(_) => false,
     }
 }
 
@@ -86,7 +87,16 @@ enum Command {
     /// Fit a bipolar transistor model to curves read off a data sheet; write it as a part.
     #[command(after_help = EXIT_CODES)]
     Fit(cmd::fit::FitArgs),
+    /// Serve an editor: diagnostics, hover, completion and figures for stage files, over stdin/stdout.
+    #[command(after_help = SERVE_EDITOR_HELP)]
+    ServeEditor(cmd::editor::ServeEditorArgs),
 }
+
+const SERVE_EDITOR_HELP: &str = "\
+The editor starts this command and speaks the Language Server Protocol (LSP
+3.17) with it on stdin and stdout; see docs/editor.md for editor settings.
+The safety caution is shown in the editor with the first figures.
+Exit code: 0 after the editor's shutdown and exit, 1 otherwise.";
 
 fn main() -> ExitCode {
     let cli = match Cli::try_parse() {
@@ -113,6 +123,7 @@ fn main() -> ExitCode {
         Command::Design(a) => cmd::design::run(a),
         Command::Upgrade(a) => cmd::upgrade::run(&a),
         Command::Fit(a) => cmd::fit::run(&a),
+        Command::ServeEditor(a) => cmd::editor::run(&a),
     };
     ExitCode::from(code.clamp(0, 255) as u8)
 }

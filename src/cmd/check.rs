@@ -37,11 +37,23 @@ pub struct CheckArgs {
     /// Override a `let` parameter in every file, e.g. `--set vcc=12V` (repeatable).
     #[arg(long = "set", value_name = "NAME=VALUE")]
     pub sets: Vec<String>,
+    /// Check again whenever a file or a file it includes changes (clearing
+    /// the terminal first), after errors too, until interrupted.
+    #[arg(long)]
+    pub watch: bool,
 }
 
 /// Run the command; returns the exit code (the worst over all files:
 /// 2 bad input, then 3 solver failure, then 1 a requirement failed, else 0).
 pub fn run(a: &CheckArgs) -> i32 {
+    if a.watch {
+        return super::watch::watch(&a.files, || run_once(a));
+    }
+    run_once(a)
+}
+
+/// One run of the command.
+fn run_once(a: &CheckArgs) -> i32 {
     let clock = crate::progress::Clock::start();
     let code = run_timed(a);
     clock.report();

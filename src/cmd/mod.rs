@@ -4,9 +4,11 @@
 pub mod check;
 pub mod common;
 pub mod design;
+pub mod editor;
 pub mod fit;
 pub mod lint;
 pub mod run;
 pub mod study;
 pub mod upgrade;
 pub mod visual;
+pub mod watch;

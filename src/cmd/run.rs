@@ -54,10 +54,22 @@ pub struct RunArgs {
     /// Print solver details (Newton system size, iterations, samples).
     #[arg(long, short)]
     pub verbose: bool,
+    /// Run again whenever the file or a file it includes changes (clearing
+    /// the terminal first), after errors too, until interrupted.
+    #[arg(long)]
+    pub watch: bool,
 }
 
 /// Run the command; returns the exit code.
 pub fn run(a: &RunArgs) -> i32 {
+    if a.watch {
+        return super::watch::watch(std::slice::from_ref(&a.file), || run_once(a));
+    }
+    run_once(a)
+}
+
+/// One run of the command.
+fn run_once(a: &RunArgs) -> i32 {
     let clock = crate::progress::Clock::start();
     let code = run_timed(a);
     // the closing time line only after work was done (not after refused options)

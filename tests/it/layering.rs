@@ -26,6 +26,7 @@ const ORDER: &[&str] = &[
     "tankwave-report",
     "tankwave-design",
     "tankwave-fit",
+    "tankwave-editor",
 ];
 
 /// Crates allowed to read the syntax tree: the parser and elaboration.

@@ -1,6 +1,7 @@
 //! The integration-test binary: the default steady state against an
 //! independent reference (`accuracy`), the `tankwave` command end to end (`cli`,
-//! `bad_input`), agreement of the steady-state methods on every demo stage
+//! `bad_input`), the editor server driven by a scripted client over stdio
+//! (`editor`), `run --watch` and `check --watch` (`watch`), agreement of the steady-state methods on every demo stage
 //! (`agreement`), the convergence sweep over the class-C demo
 //! (`convergence`), what a new user meets first (`first_hour`), a bounded
 //! solve of random small circuits (`fuzz_smoke`), the demo outputs against
@@ -16,6 +17,7 @@ mod agreement;
 mod bad_input;
 mod cli;
 mod convergence;
+mod editor;
 mod first_hour;
 mod fit;
 mod floor;
@@ -28,3 +30,4 @@ mod layering;
 mod readme;
 mod ruggedness;
 mod trade;
+mod watch;

@@ -23,6 +23,7 @@ pub mod handle;
 pub mod ir;
 pub mod models;
 pub mod options;
+pub mod outline;
 pub mod param_units;
 pub mod si;
 pub mod source;
@@ -38,5 +39,16 @@ pub use source::StageSource;
 /// Escaping of text for the terminal (control characters, bidi overrides),
 /// shared with later layers so that they never need the parser crate.
 pub use tankwave_netlist::escape;
+/// The suffixes (unit, or SI prefix and unit) a number may carry, from the
+/// parser's one table; re-exported for completion.
+pub use tankwave_netlist::units::suffix_spellings;
+/// The words of the language (statement keywords, element kinds, waveforms,
+/// part kinds), declared once in the parser; re-exported for completion.
+pub use tankwave_netlist::vocab;
+/// The resource limits on untrusted input (how many diagnostics are shown, …).
+pub use tankwave_netlist::LIMITS;
 pub use tankwave_netlist::{parse_file, parse_str, Diagnostic, Parsed, Severity, SourceMap};
+/// Places in the source (a file and a byte range), for later layers that
+/// point into the text (diagnostics, the editor server's outline).
+pub use tankwave_netlist::{FileId, Span};
 pub use unit::Unit;

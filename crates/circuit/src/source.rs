@@ -37,6 +37,16 @@ impl StageSource {
         }
     }
 
+    /// Parse stage-file text held in memory, as an editor holds a file:
+    /// `name` is the file's path (messages, relative includes), and its
+    /// includes are confined to its default roots and to `include_roots`,
+    /// as [`StageSource::read`] confines them.
+    pub fn from_text_with_roots(name: &str, text: &str, include_roots: &[PathBuf]) -> Self {
+        Self {
+            parsed: tankwave_netlist::parse_bytes_with_roots(name, text.as_bytes(), include_roots),
+        }
+    }
+
     /// Parse stage-file text held in memory (see [`StageSource::from_bytes`]).
     pub fn from_text(name: &str, text: &str) -> Self {
         Self::from_bytes(name, text.as_bytes())
@@ -63,6 +73,12 @@ impl StageSource {
     /// blank or only comments).
     pub fn is_blank(&self) -> bool {
         self.parsed.statements.is_empty() && self.parsed.diagnostics.is_empty()
+    }
+
+    /// What each statement defines and uses, with places, for tools that
+    /// point into the text ([`crate::outline`]).
+    pub fn outline(&self) -> crate::outline::Outline {
+        crate::outline::outline(&self.parsed)
     }
 
     /// The diagnostics parsing alone found (errors and warnings).

@@ -174,8 +174,21 @@ pub fn parse_str(name: &str, text: &str) -> Parsed {
 
 /// Parse bytes given in memory (non-UTF-8 input gives a `not-utf8` diagnostic).
 pub fn parse_bytes(name: &str, bytes: &[u8]) -> Parsed {
+    parse_bytes_with_roots(name, bytes, &[])
+}
+
+/// [`parse_bytes`], with `extra_roots` allowed for includes besides the
+/// default ones of `name` (directories that do not exist are ignored), as
+/// [`parse_file_with_roots`] allows them for a file read from disk.
+pub fn parse_bytes_with_roots(name: &str, bytes: &[u8], extra_roots: &[PathBuf]) -> Parsed {
     let p = Path::new(name);
-    let mut st = State::new(default_include_roots(p));
+    let mut roots = default_include_roots(p);
+    roots.extend(
+        extra_roots
+            .iter()
+            .filter_map(|r| std::fs::canonicalize(r).ok()),
+    );
+    let mut st = State::new(roots);
     let dir = p.parent().map(Path::to_path_buf).unwrap_or_default();
     let mut stack = vec![canonical(p)];
     st.source(name, bytes, None, &dir, &mut stack);

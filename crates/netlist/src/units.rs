@@ -107,6 +107,21 @@ const UNITS: &[(&str, Unit)] = &[
     ("deg", Unit::Deg),
 ];
 
+/// Every suffix a number may carry, in table order: each unit spelling
+/// (`Ohm` and `Ω` both), then each prefix with each unit that takes one
+/// (`pF`, `µH`, `kOhm`, …). Every one is accepted by [`split_suffix`].
+pub fn suffix_spellings() -> Vec<String> {
+    let mut v: Vec<String> = UNITS.iter().map(|(s, _)| s.to_string()).collect();
+    for (p, _) in PREFIXES {
+        for (s, u) in UNITS {
+            if u.takes_prefix() {
+                v.push(format!("{p}{s}"));
+            }
+        }
+    }
+    v
+}
+
 /// The accepted SI prefixes with their decimal exponents (BIPM SI Brochure,
 /// 9th ed. 2019, table 7). `u` is accepted as an ASCII spelling of micro, and
 /// both the micro sign U+00B5 and the Greek mu U+03BC are accepted.
@@ -295,6 +310,19 @@ impl Slot {
 
 #[cfg(test)]
 mod tests {
+    #[test]
+    fn every_suffix_spelling_is_accepted() {
+        let all = super::suffix_spellings();
+        assert!(all.iter().any(|s| s == "nF") && all.iter().any(|s| s == "µH"));
+        assert!(!all.iter().any(|s| s == "mdB"), "dB takes no prefix");
+        for s in &all {
+            assert!(
+                super::split_suffix(s).is_ok_and(|(_, u)| u.is_some()),
+                "{s}"
+            );
+        }
+    }
+
     use super::*;
 
     /// A wrong-case or plural suffix gets the spelling it was meant to be

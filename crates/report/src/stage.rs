@@ -927,7 +927,7 @@ fn csv_field(s: &str) -> String {
 /// the terminal report and the HTML report: output power, supply power,
 /// efficiencies, gain, drive power, input impedance and VSWR, THD (each
 /// only when measured).
-pub(crate) fn headline_rows(m: &Metrics) -> Vec<(String, String)> {
+pub fn headline_rows(m: &Metrics) -> Vec<(String, String)> {
     let mut rows = Vec::new();
     if let Some(o) = &m.output {
         rows.push((

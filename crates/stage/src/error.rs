@@ -50,6 +50,9 @@ pub enum StageError {
     /// resistor, a bad circle).
     #[error("mismatch sweep: {0}")]
     Mismatch(String),
+    /// The caller stopped the solve ([`crate::SolveOptions::cancel`]) before it ended.
+    #[error("the solve was stopped before it ended")]
+    Cancelled,
 }
 
 impl StageError {

@@ -178,6 +178,10 @@ pub struct SolveOptions<'a> {
     pub keep_going: bool,
     /// Told as each analysis starts and advances (`None`: nobody listens).
     pub observer: Option<&'a dyn Observer>,
+    /// Set by another thread to stop the solve: checked before each
+    /// analysis (and each ruggedness sweep), the solve then returns
+    /// [`StageError::Cancelled`] (`None`: it runs to the end).
+    pub cancel: Option<&'a std::sync::atomic::AtomicBool>,
 }
 
 impl SolveOptions<'_> {
@@ -215,7 +219,14 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
     };
     let count = circuit.analyses.iter().filter(|a| runs(a)).count();
     let mut index = 0;
+    let cancelled = || {
+        opts.cancel
+            .is_some_and(|c| c.load(std::sync::atomic::Ordering::Relaxed))
+    };
     for a in &circuit.analyses {
+        if cancelled() {
+            return Err(StageError::Cancelled);
+        }
         if let (Some(o), true) = (opts.observer, runs(a)) {
             o.started(index, count, a.keyword());
             index += 1;
@@ -313,6 +324,9 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
             else {
                 continue;
             };
+            if cancelled() {
+                return Err(StageError::Cancelled);
+            }
             let mut circles: Vec<Circle> = vswr
                 .iter()
                 .map(|&vswr| Circle {
@@ -388,4 +402,40 @@ pub fn collector_loads(
     s: &PeriodicSolution,
 ) -> Result<Vec<CollectorLoad>, StageError> {
     tankwave_measure::collector_loads(&period_data(circuit, s)).map_err(StageError::Measure)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::sync::atomic::AtomicBool;
+    use tankwave_circuit::{Overrides, StageSource};
+
+    /// A set cancel flag stops the solve before its first analysis; a clear
+    /// one lets it run to the end.
+    #[test]
+    fn a_set_cancel_flag_stops_the_solve() {
+        let src = StageSource::from_text(
+            "t.tank",
+            "voltage v1 a gnd dc=1V\nresistor r1 a gnd 50Ohm\nanalyze bias\n",
+        );
+        let stage = crate::load_source(src, &Overrides::default()).expect("loads");
+        let stop = AtomicBool::new(true);
+        let opts = SolveOptions {
+            cancel: Some(&stop),
+            ..SolveOptions::scope(Scope::All)
+        };
+        assert!(matches!(
+            solve(&stage.circuit, &opts),
+            Err(StageError::Cancelled)
+        ));
+        let go = AtomicBool::new(false);
+        let opts = SolveOptions {
+            cancel: Some(&go),
+            ..SolveOptions::scope(Scope::All)
+        };
+        let r = solve(&stage.circuit, &opts).expect("solves");
+        // 1 V across 50 Ω: the node voltage is the source's 1 V (Ohm's law)
+        let op = r.op.expect("bias point");
+        assert!((op.value("V[a]").expect("V[a]") - 1.0).abs() < 1e-9);
+    }
 }
