@@ -275,6 +275,9 @@ pub struct Model {
 }
 
 /// Typed model parameters, by kind.
+// A circuit holds one per part (a handful), read in place by every layer:
+// boxing the bipolar variant would save a few hundred bytes per part.
+#[allow(clippy::large_enum_variant)]
 #[derive(Debug, Clone, PartialEq)]
 pub enum ModelParams {
     /// Diode parameters.
@@ -433,6 +436,12 @@ pub struct BjtParams {
     pub rth_jc: f64,
     /// θ_CA: thermal resistance case to ambient, through the heatsink (K/W); stage file `thermal { case_ambient= }`.
     pub rth_sink: f64,
+    /// C_J: heat capacity of the die, between junction and case (for heating over time) (J/K); stage file `thermal { junction_heat= }`.
+    pub heat_junction: f64,
+    /// C_C: heat capacity of the case (for heating over time) (J/K); stage file `thermal { case_heat= }`.
+    pub heat_case: f64,
+    /// θ_CS: thermal resistance case to a shared heatsink (the mounting) (K/W); stage file `thermal { case_sink= }`.
+    pub rth_cs: f64,
 }
 
 impl Default for BjtParams {
@@ -476,6 +485,9 @@ impl Default for BjtParams {
             rth_ja: f64::INFINITY,
             rth_jc: f64::INFINITY,
             rth_sink: f64::INFINITY,
+            heat_junction: 0.0,
+            heat_case: 0.0,
+            rth_cs: f64::INFINITY,
         }
     }
 }
@@ -598,6 +610,29 @@ pub enum Analysis {
         /// The reference impedance, Ω (`None`: the output resistor's value).
         reference: Option<f64>,
     },
+    /// `analyze heat [sink=[…] sink_ambient=K/W sink_heat=J/K] [transmit=s mark=s space=s] [rounds=N]`:
+    /// the steady state solved together with the junction temperatures,
+    /// and the heating over a keyed transmission (docs/thermal.md).
+    Heat(HeatSpec),
+}
+
+/// What `analyze heat` asks for.
+#[derive(Debug, Clone, PartialEq)]
+pub struct HeatSpec {
+    /// The transistors and diodes on the shared heatsink, in file order.
+    pub sink: Vec<ElementId>,
+    /// Heatsink to ambient, K/W (`Some` whenever `sink` is not empty).
+    pub sink_ambient: Option<f64>,
+    /// Heat capacity of the heatsink, J/K (0: none given).
+    pub sink_heat: f64,
+    /// Length of the transmission followed over time, s.
+    pub transmit: Option<f64>,
+    /// Key-down time of each keying cycle, s (the whole transmission when not keyed).
+    pub mark: f64,
+    /// Key-up time of each keying cycle, s (0: one continuous key-down).
+    pub space: f64,
+    /// Most electrical solves of the electrothermal iteration.
+    pub rounds: usize,
 }
 
 impl Analysis {
@@ -610,6 +645,7 @@ impl Analysis {
             Analysis::Ac { .. } => 2,
             Analysis::Steady { .. } => 3,
             Analysis::Ruggedness { .. } => 4,
+            Analysis::Heat(_) => 5,
         };
         crate::options::analysis::ALL[k].0
     }

@@ -184,6 +184,12 @@ pub static BJT_PARAMS: &[Param<BjtParams>] = table! { BjtParams;
         "θ_JC" "K/W" "thermal resistance junction to case" => rth_jc;
     "thermal" "case_ambient" "rth_sink" Number Positive (Off(INF), with &[], old INF)
         "θ_CA" "K/W" "thermal resistance case to ambient, through the heatsink" => rth_sink;
+    "thermal" "junction_heat" "junction_heat" Number NonNegative (Off(0.0), with &[], old 0.0)
+        "C_J" "J/K" "heat capacity of the die, between junction and case (for heating over time)" => heat_junction;
+    "thermal" "case_heat" "case_heat" Number NonNegative (Off(0.0), with &[], old 0.0)
+        "C_C" "J/K" "heat capacity of the case (for heating over time)" => heat_case;
+    "thermal" "case_sink" "case_sink" Number Positive (Off(INF), with &[], old INF)
+        "θ_CS" "K/W" "thermal resistance case to a shared heatsink (the mounting)" => rth_cs;
     "ratings" "vce_max" "max_vce" Voltage Positive (Off(INF), with &[], old INF)
         "V_CE,max" "V" "collector–emitter voltage rating" => max_vce;
     "ratings" "ic_max" "max_ic" Current Positive (Off(INF), with &[], old INF)

@@ -269,6 +269,8 @@ pub fn check_params(
         ("transit_fwd", p.transit_fwd),
         ("transit_rev", p.transit_rev),
         ("gap", p.gap),
+        ("heat_junction", p.heat_junction),
+        ("heat_case", p.heat_case),
     ] {
         if !nonneg(v) {
             return bad(name, v, "must be finite and ≥ 0");
@@ -287,6 +289,7 @@ pub fn check_params(
         ("rth_ja", p.rth_ja),
         ("rth_jc", p.rth_jc),
         ("rth_sink", p.rth_sink),
+        ("rth_cs", p.rth_cs),
     ] {
         if !pos_or_inf(v) {
             return bad(name, v, "must be > 0 (∞ = not given)");

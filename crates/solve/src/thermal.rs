@@ -544,8 +544,8 @@ pub struct Keying {
     pub length: f64,
 }
 
-/// Most keying cycles a heating run steps through.
-pub const MAX_KEYING_CYCLES: f64 = 1e7;
+/// Most keying cycles a heating run steps through (the stage file's limit).
+pub use tankwave_circuit::bounds::MAX_KEYING_CYCLES;
 
 /// Rises over a keyed transmission: a sample per point of `times`, the
 /// peak rise of every node and when it happened.
@@ -628,7 +628,7 @@ pub fn heat_run(
                 continue;
             }
             let h = dur / per_segment as f64;
-            let keep = seg_count % keep_every == 0;
+            let keep = seg_count.is_multiple_of(keep_every);
             seg_count += 1;
             for _ in 0..per_segment {
                 rise = modes.advance(&rise, p, h);
