@@ -362,20 +362,34 @@ impl Modes {
     /// The rises after `h` seconds with `power` (W) held constant, from
     /// the rises `rise` (K) now.
     pub fn advance(&self, rise: &[f64], power: &[f64], h: f64) -> Vec<f64> {
-        let n = self.rates.len();
+        self.relax(rise, &self.settled(power), &self.decay(h))
+    }
+
+    /// The rises `power` (W) settles to, `G⁻¹P`, K.
+    pub fn settled(&self, power: &[f64]) -> Vec<f64> {
         let p = DVector::from_column_slice(power);
-        let t_inf = match self.g.clone().cholesky() {
-            Some(c) => c.solve(&p),
-            None => DVector::zeros(n),
-        };
+        match self.g.clone().cholesky() {
+            Some(c) => c.solve(&p).iter().copied().collect(),
+            None => vec![0.0; power.len()],
+        }
+    }
+
+    /// The decay of each mode over `h` seconds, `e^{−λ_k h}`.
+    pub fn decay(&self, h: f64) -> Vec<f64> {
+        self.rates.iter().map(|l| (-l * h).exp()).collect()
+    }
+
+    /// One exact step: from `rise` towards `settled` ([`Modes::settled`])
+    /// with the mode decays `decay` ([`Modes::decay`]) of the step.
+    pub fn relax(&self, rise: &[f64], settled: &[f64], decay: &[f64]) -> Vec<f64> {
+        let n = self.rates.len();
         // y = Aᵀ C (T − T∞), decayed, mapped back.
         let d: Vec<f64> = (0..n)
-            .map(|i| self.heat[i] * (rise[i] - t_inf[i]))
+            .map(|i| self.heat[i] * (rise[i] - settled[i]))
             .collect();
-        let mut out: Vec<f64> = t_inf.iter().copied().collect();
+        let mut out = settled.to_vec();
         for k in 0..n {
-            let y: f64 =
-                (0..n).map(|i| self.a[(i, k)] * d[i]).sum::<f64>() * (-self.rates[k] * h).exp();
+            let y: f64 = (0..n).map(|i| self.a[(i, k)] * d[i]).sum::<f64>() * decay[k];
             for i in 0..n {
                 out[i] += self.a[(i, k)] * y;
             }
@@ -617,12 +631,17 @@ pub fn heat_run(
         peak: vec![0.0; n],
         peak_at: vec![0.0; n],
     };
+    let settled_on = modes.settled(on);
+    let settled_off = modes.settled(off);
+    // the decays of the two usual step lengths, kept (a cut-short last
+    // segment computes its own)
+    let mut decays: Vec<(f64, Vec<f64>)> = Vec::new();
     let mut t = 0.0;
     let mut seg_count = 0usize;
     'outer: for cycle in 0..cycles {
         let start = cycle as f64 * period;
         let mark_end = start + mark.min(period);
-        for (end, p) in [(mark_end, on), (start + period, off)] {
+        for (end, p) in [(mark_end, &settled_on), (start + period, &settled_off)] {
             let dur = end.min(length) - t;
             if dur <= 0.0 {
                 continue;
@@ -630,8 +649,18 @@ pub fn heat_run(
             let h = dur / per_segment as f64;
             let keep = seg_count.is_multiple_of(keep_every);
             seg_count += 1;
+            let decay = match decays.iter().find(|(hh, _)| *hh == h) {
+                Some((_, d)) => d.clone(),
+                None => {
+                    let d = modes.decay(h);
+                    if decays.len() < 2 {
+                        decays.push((h, d.clone()));
+                    }
+                    d
+                }
+            };
             for _ in 0..per_segment {
-                rise = modes.advance(&rise, p, h);
+                rise = modes.relax(&rise, p, &decay);
                 t += h;
                 for i in 0..n {
                     if rise[i] > out.peak[i] {

@@ -120,6 +120,12 @@ pub struct Caps {
     pub max_settle_periods: usize,
 }
 
+/// Most rounds of the electrothermal iteration under [`Caps`].
+pub const CAPPED_HEAT_ROUNDS: usize = 4;
+/// Most keying cycles of a heating run under [`Caps`] (the transmission
+/// is cut to fit).
+pub const CAPPED_KEYING_CYCLES: f64 = 1000.0;
+
 /// Most circles, and phases per circle, of a ruggedness sweep under [`Caps`].
 pub const CAPPED_CIRCLES: usize = 2;
 /// See [`CAPPED_CIRCLES`].
@@ -292,8 +298,19 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
                     None => tankwave_solve::steady(circuit, &devices, &p)
                         .map_err(StageError::from)
                         .map(|s| (s, None)),
-                    Some(h) => crate::heat::electrothermal(circuit, &p, h, opts.warm)
-                        .map(|(s, o)| (s, Some(o))),
+                    Some(h) => {
+                        let mut h = h.clone();
+                        if opts.caps.is_some() {
+                            h.rounds = h.rounds.min(CAPPED_HEAT_ROUNDS);
+                            if let Some(t) = &mut h.transmit {
+                                let period = if h.space > 0.0 { h.mark + h.space } else { *t };
+                                *t = t.min(CAPPED_KEYING_CYCLES * period);
+                                h.mark = h.mark.min(*t);
+                            }
+                        }
+                        crate::heat::electrothermal(circuit, &p, &h, opts.warm)
+                            .map(|(s, o)| (s, Some(o)))
+                    }
                 }
                 .and_then(|(solution, heat)| {
                     let mut metrics = measure(circuit, &solution)?;
