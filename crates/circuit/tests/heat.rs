@@ -4,7 +4,7 @@
 use tankwave_circuit::*;
 
 const STAGE: &str = "part qq npn { transport { sat_current=1fA beta=50 beta_reverse=1 } \
-    thermal { junction_case=2 junction_heat=0.05 case_heat=2 case_sink=0.4 } \
+    thermal { junction_case=2 case_ambient=1.5 junction_heat=0.05 case_heat=2 case_sink=0.4 } \
     ratings { tj_max=150degC } }\n\
     part dd diode { junction { sat_current=1pA } }\n\
     voltage vs vcc gnd dc=12V\n\
@@ -93,6 +93,19 @@ fn bad_heat_analyses_are_refused_with_their_code() {
         codes("analyze heat transmit=1000s mark=1us space=1us\n"),
         ["too-large"]
     );
+    // a transistor on the sink needs its junction–case resistance, and some
+    // transistor needs a heat path
+    let text = STAGE.replace("junction_case=2 ", "");
+    for extra in ["analyze heat sink=q1 sink_ambient=1\n", "analyze heat\n"] {
+        let e = load_str("t.tank", &format!("{text}{extra}"), &Overrides::default())
+            .expect_err("refused");
+        let d = e
+            .diagnostics
+            .iter()
+            .find(|d| d.is_error())
+            .expect("an error");
+        assert_eq!(d.code, "missing-part-param", "{extra}: {}", d.message);
+    }
     // an analyze heat needs the steady state it is solved with
     let text = STAGE.replace("analyze steady freq=1MHz harmonics=4\n", "analyze heat\n");
     let e = load_str("t.tank", &text, &Overrides::default()).expect_err("refused");

@@ -253,6 +253,50 @@ impl<'a> Cx<'a> {
         }))
     }
 
+    /// Every transistor on the shared heatsink needs its junction–case
+    /// resistance, and some transistor needs a heat path at all (the
+    /// network itself is built by the stage, docs/thermal.md).
+    fn check_heat_paths(&mut self, c: &Circuit, h: &HeatSpec, span: tankwave_netlist::Span) {
+        let bjt = |id: ElementId| match c.elements.get(id.index()).map(|e| &e.kind) {
+            Some(ElementKind::Bjt { model, .. }) => match c.models.get(model.index()) {
+                Some(Model {
+                    params: ModelParams::Bjt(p),
+                    ..
+                }) => Some(p),
+                _ => None,
+            },
+            _ => None,
+        };
+        let mut any = false;
+        for (id, el) in c.element_ids() {
+            let Some(p) = bjt(id) else { continue };
+            if h.sink.contains(&id) {
+                if !p.rth_jc.is_finite() {
+                    self.error(
+                        "missing-part-param",
+                        span,
+                        format!(
+                            "{} is on the heatsink: its part needs thermal {{ junction_case= }}",
+                            el.name
+                        ),
+                    );
+                    return;
+                }
+                any = true;
+            } else {
+                any |= p.rth_ja.is_finite() || (p.rth_jc.is_finite() && p.rth_sink.is_finite());
+            }
+        }
+        if !any {
+            self.error(
+                "missing-part-param",
+                span,
+                "analyze heat: no transistor has a heat path; give its part thermal { junction_case= } \
+                 and put it on the heatsink, or thermal { junction_ambient= }",
+            );
+        }
+    }
+
     /// A sweep of the output load needs an `output` that is a resistor
     /// (the load it replaces) and an `analyze steady` (what each load is
     /// solved by); checked once the ports are known.
@@ -278,10 +322,13 @@ impl<'a> Cx<'a> {
             .analyses
             .iter()
             .zip(self.analysis_spans.clone())
-            .filter(|(a, _)| matches!(a, Analysis::Heat(_)))
-            .map(|(_, s)| s)
+            .filter_map(|(a, s)| match a {
+                Analysis::Heat(h) => Some((h, s)),
+                _ => None,
+            })
             .collect();
-        for (k, span) in heat_spans.into_iter().enumerate() {
+        for (k, (h, span)) in heat_spans.into_iter().enumerate() {
+            self.check_heat_paths(c, h, span);
             if !has_steady {
                 self.error(
                     "missing-option",
