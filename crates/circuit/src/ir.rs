@@ -442,6 +442,18 @@ pub struct BjtParams {
     pub heat_case: f64,
     /// θ_CS: thermal resistance case to a shared heatsink (the mounting) (K/W); stage file `thermal { case_sink= }`.
     pub rth_cs: f64,
+    /// R_1: junction to case as a Foster ladder from data: resistance of term 1 (K/W); stage file `thermal { foster_r1= }`.
+    pub foster_r1: f64,
+    /// τ_1: junction to case as a Foster ladder from data: time constant of term 1 (s); stage file `thermal { foster_tau1= }`.
+    pub foster_tau1: f64,
+    /// R_2: junction to case as a Foster ladder from data: resistance of term 2 (K/W); stage file `thermal { foster_r2= }`.
+    pub foster_r2: f64,
+    /// τ_2: junction to case as a Foster ladder from data: time constant of term 2 (s); stage file `thermal { foster_tau2= }`.
+    pub foster_tau2: f64,
+    /// R_3: junction to case as a Foster ladder from data: resistance of term 3 (K/W); stage file `thermal { foster_r3= }`.
+    pub foster_r3: f64,
+    /// τ_3: junction to case as a Foster ladder from data: time constant of term 3 (s); stage file `thermal { foster_tau3= }`.
+    pub foster_tau3: f64,
 }
 
 impl Default for BjtParams {
@@ -488,20 +500,52 @@ impl Default for BjtParams {
             heat_junction: 0.0,
             heat_case: 0.0,
             rth_cs: f64::INFINITY,
+            foster_r1: 0.0,
+            foster_tau1: 0.0,
+            foster_r2: 0.0,
+            foster_tau2: 0.0,
+            foster_r3: 0.0,
+            foster_tau3: 0.0,
         }
     }
 }
 
 impl BjtParams {
+    /// The junction–case Foster ladder from data, `(R_i, τ_i)` for each
+    /// term with R_i > 0 (empty when none is given).
+    pub fn foster_terms(&self) -> Vec<(f64, f64)> {
+        [
+            (self.foster_r1, self.foster_tau1),
+            (self.foster_r2, self.foster_tau2),
+            (self.foster_r3, self.foster_tau3),
+        ]
+        .into_iter()
+        .filter(|t| t.0 > 0.0)
+        .collect()
+    }
+
+    /// Junction to case, K/W: `rth_jc` if set, else the sum of the Foster
+    /// terms if any, else `None`.
+    pub fn junction_case(&self) -> Option<f64> {
+        if self.rth_jc.is_finite() {
+            Some(self.rth_jc)
+        } else {
+            let f = self.foster_terms();
+            (!f.is_empty()).then(|| f.iter().map(|t| t.0).sum())
+        }
+    }
+
     /// Junction-to-ambient thermal resistance in K/W: `rth_ja` if set, else
-    /// `rth_jc + rth_sink` if both are set, else `None`.
+    /// junction to case ([`BjtParams::junction_case`]) + `rth_sink` if both
+    /// are set, else `None`.
     pub fn thermal_resistance(&self) -> Option<f64> {
         if self.rth_ja.is_finite() {
             Some(self.rth_ja)
-        } else if self.rth_jc.is_finite() && self.rth_sink.is_finite() {
-            Some(self.rth_jc + self.rth_sink)
         } else {
-            None
+            match self.junction_case() {
+                Some(jc) if self.rth_sink.is_finite() => Some(jc + self.rth_sink),
+                _ => None,
+            }
         }
     }
 }

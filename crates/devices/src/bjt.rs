@@ -271,6 +271,12 @@ pub fn check_params(
         ("gap", p.gap),
         ("heat_junction", p.heat_junction),
         ("heat_case", p.heat_case),
+        ("foster_r1", p.foster_r1),
+        ("foster_tau1", p.foster_tau1),
+        ("foster_r2", p.foster_r2),
+        ("foster_tau2", p.foster_tau2),
+        ("foster_r3", p.foster_r3),
+        ("foster_tau3", p.foster_tau3),
     ] {
         if !nonneg(v) {
             return bad(name, v, "must be finite and ≥ 0");

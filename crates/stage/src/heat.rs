@@ -164,6 +164,64 @@ impl HeatOutcome {
     }
 }
 
+/// Nodes, capacities and links of a network being built.
+struct Builder<'a> {
+    names: &'a mut Vec<String>,
+    heat: &'a mut Vec<f64>,
+    links: &'a mut Vec<ThermalLink>,
+}
+
+impl Builder<'_> {
+    fn node(&mut self, name: String, c: f64) -> usize {
+        self.names.push(name);
+        self.heat.push(c);
+        self.names.len() - 1
+    }
+    fn link(&mut self, a: usize, b: Option<usize>, resistance: f64) {
+        self.links.push(ThermalLink { a, b, resistance });
+    }
+}
+
+/// The junction–case part of a transistor's heat path, its far end tied
+/// to `to`: one junction node (`junction_heat`) behind θ_JC, or the Cauer
+/// ladder of the part's Foster terms (nodes `NAME.junction`, `NAME.die1`, …).
+/// Returns the junction node.
+fn junction_path(
+    nw: &mut Builder<'_>,
+    name: &str,
+    p: &tankwave_circuit::BjtParams,
+    to: Option<usize>,
+) -> Result<usize, StageError> {
+    let terms = p.foster_terms();
+    if p.rth_jc.is_finite() || terms.is_empty() {
+        let j = nw.node(format!("{name}.junction"), p.heat_junction);
+        nw.link(j, to, p.rth_jc);
+        return Ok(j);
+    }
+    let (r, tau): (Vec<f64>, Vec<f64>) = terms.into_iter().unzip();
+    let setup = |e: tankwave_solve::ThermalError| StageError::HeatSetup {
+        what: format!("{name}: its Foster ladder: {e}"),
+    };
+    let cauer = tankwave_solve::FosterLadder::new(r, tau)
+        .and_then(|f| f.to_cauer())
+        .map_err(setup)?;
+    let first = nw.names.len();
+    for (k, c) in cauer.c.iter().enumerate() {
+        let n = if k == 0 {
+            format!("{name}.junction")
+        } else {
+            format!("{name}.die{k}")
+        };
+        nw.node(n, *c);
+    }
+    let n = cauer.r.len();
+    for (k, r) in cauer.r.iter().enumerate() {
+        let b = if k + 1 < n { Some(first + k + 1) } else { to };
+        nw.link(first + k, b, *r);
+    }
+    Ok(first)
+}
+
 /// The thermal network of `c` for `spec`, and the devices in it.
 pub fn network(
     c: &Circuit,
@@ -189,11 +247,6 @@ pub fn network(
         }
         _ => None,
     };
-    let node = |names: &mut Vec<String>, heat: &mut Vec<f64>, name: String, c: f64| {
-        names.push(name);
-        heat.push(c);
-        names.len() - 1
-    };
     for (id, el) in c.element_ids() {
         let on_sink = spec.sink.contains(&id);
         match &el.kind {
@@ -203,84 +256,40 @@ pub fn network(
                     continue;
                 };
                 let rating_k = p.max_tj.is_finite().then_some(p.max_tj);
-                let j;
-                if let (true, Some(s)) = (on_sink, sink) {
-                    if !p.rth_jc.is_finite() {
+                let jc = p.junction_case();
+                let mut nw = Builder {
+                    names: &mut names,
+                    heat: &mut heat,
+                    links: &mut links,
+                };
+                let j = if let (true, Some(s)) = (on_sink, sink) {
+                    if jc.is_none() {
                         return Err(bad(
                             &el.name,
-                            "on the heatsink its part needs thermal { junction_case= }".into(),
+                            "on the heatsink its part needs thermal { junction_case= } or a Foster ladder"
+                                .into(),
                         ));
                     }
-                    j = node(
-                        &mut names,
-                        &mut heat,
-                        format!("{}.junction", el.name),
-                        p.heat_junction,
-                    );
                     if p.rth_cs.is_finite() {
-                        let k = node(
-                            &mut names,
-                            &mut heat,
-                            format!("{}.case", el.name),
-                            p.heat_case,
-                        );
-                        links.push(ThermalLink {
-                            a: j,
-                            b: Some(k),
-                            resistance: p.rth_jc,
-                        });
-                        links.push(ThermalLink {
-                            a: k,
-                            b: Some(s),
-                            resistance: p.rth_cs,
-                        });
+                        let k = nw.node(format!("{}.case", el.name), p.heat_case);
+                        nw.link(k, Some(s), p.rth_cs);
+                        junction_path(&mut nw, &el.name, p, Some(k))?
                     } else {
-                        heat[s] += p.heat_case;
-                        links.push(ThermalLink {
-                            a: j,
-                            b: Some(s),
-                            resistance: p.rth_jc,
-                        });
+                        nw.heat[s] += p.heat_case;
+                        junction_path(&mut nw, &el.name, p, Some(s))?
                     }
-                } else if p.rth_jc.is_finite() && p.rth_sink.is_finite() && !p.rth_ja.is_finite() {
-                    j = node(
-                        &mut names,
-                        &mut heat,
-                        format!("{}.junction", el.name),
-                        p.heat_junction,
-                    );
-                    let k = node(
-                        &mut names,
-                        &mut heat,
-                        format!("{}.case", el.name),
-                        p.heat_case,
-                    );
-                    links.push(ThermalLink {
-                        a: j,
-                        b: Some(k),
-                        resistance: p.rth_jc,
-                    });
-                    links.push(ThermalLink {
-                        a: k,
-                        b: None,
-                        resistance: p.rth_sink,
-                    });
+                } else if jc.is_some() && p.rth_sink.is_finite() && !p.rth_ja.is_finite() {
+                    let k = nw.node(format!("{}.case", el.name), p.heat_case);
+                    nw.link(k, None, p.rth_sink);
+                    junction_path(&mut nw, &el.name, p, Some(k))?
                 } else if p.rth_ja.is_finite() {
-                    j = node(
-                        &mut names,
-                        &mut heat,
-                        format!("{}.junction", el.name),
-                        p.heat_junction,
-                    );
-                    links.push(ThermalLink {
-                        a: j,
-                        b: None,
-                        resistance: p.rth_ja,
-                    });
+                    let j = nw.node(format!("{}.junction", el.name), p.heat_junction);
+                    nw.link(j, None, p.rth_ja);
+                    j
                 } else {
                     // no heat path given: the transistor stays at the ambient
                     continue;
-                }
+                };
                 devices.push(HeatDevice {
                     element: id,
                     name: el.name.clone(),

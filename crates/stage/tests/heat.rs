@@ -119,3 +119,83 @@ fn diode_bias_settles_where_the_network_says() {
     assert_eq!(t.tj_peak_k, Some(peak));
     assert!(r.verdicts.iter().all(|v| v.pass), "{:?}", r.verdicts);
 }
+
+/// The diode-biased demo with its part's junction–case path replaced:
+/// `from` in netlists/heat/tw-hf25-mounted.tank becomes `to`. Written to
+/// a directory of its own and loaded from there.
+fn demo_with_part(tag: &str, from: &str, to: &str) -> Circuit {
+    let src = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../../netlists");
+    let dir = std::env::temp_dir().join(format!("tankwave-heat-{}-{tag}", std::process::id()));
+    std::fs::create_dir_all(dir.join("heat")).unwrap();
+    std::fs::create_dir_all(dir.join("models")).unwrap();
+    let part = std::fs::read_to_string(src.join("heat/tw-hf25-mounted.tank")).unwrap();
+    assert!(part.contains(from), "{from}");
+    std::fs::write(
+        dir.join("heat/tw-hf25-mounted.tank"),
+        part.replace(from, to),
+    )
+    .unwrap();
+    for f in ["heat/heat-7m1-diode-bias.tank", "models/tw-drv.tank"] {
+        std::fs::copy(src.join(f), dir.join(f)).unwrap();
+    }
+    let c = tankwave_stage::load(
+        &dir.join("heat/heat-7m1-diode-bias.tank"),
+        std::slice::from_ref(&dir),
+        &Overrides::default(),
+    )
+    .expect("the changed demo loads")
+    .circuit;
+    std::fs::remove_dir_all(&dir).ok();
+    c
+}
+
+#[test]
+fn a_one_term_foster_ladder_is_the_same_die() {
+    // One Foster term R, τ is one Cauer stage R, C = τ/R (docs/thermal.md):
+    // junction_case=2 junction_heat=0.05 and foster_r1=2 foster_tau1=0.1
+    // describe the same die, so the whole electrothermal result agrees to
+    // rounding (the Cauer conversion of one term is exact; the iteration
+    // takes the same rounds on the same numbers).
+    let a = demo("heat-7m1-diode-bias.tank");
+    let b = demo_with_part(
+        "one",
+        "junction_case=2.0 case_ambient=1.5 junction_heat=0.05",
+        "foster_r1=2.0 foster_tau1=0.1 case_ambient=1.5",
+    );
+    let ha = solve(&a, &SolveOptions::default()).unwrap().heat.unwrap();
+    let hb = solve(&b, &SolveOptions::default()).unwrap().heat.unwrap();
+    let q = |h: &tankwave_stage::heat::HeatOutcome| {
+        h.devices.iter().find(|d| d.name == "q1").cloned().unwrap()
+    };
+    let (qa, qb) = (q(&ha), q(&hb));
+    assert!((qa.temperature_k - qb.temperature_k).abs() < 1e-6);
+    let (pa, pb) = (qa.peak.unwrap().0, qb.peak.unwrap().0);
+    assert!((pa - pb).abs() < 1e-6, "{pa} vs {pb}");
+}
+
+#[test]
+fn a_three_term_foster_ladder_chains_to_the_sink() {
+    // Three Foster terms converted to a Cauer ladder and chained to the
+    // case: the settled junction sits ΣR_i above the case (series
+    // resistances add, docs/check-values.md "Heat flow"), and the die
+    // has three nodes.
+    let c = demo_with_part(
+        "three",
+        "junction_case=2.0 case_ambient=1.5 junction_heat=0.05",
+        "foster_r1=0.3 foster_tau1=1ms foster_r2=0.7 foster_tau2=20ms foster_r3=1.0 foster_tau3=0.5 case_ambient=1.5",
+    );
+    let r = solve(&c, &SolveOptions::default()).unwrap();
+    let h = r.heat.unwrap();
+    let q1 = h.devices.iter().find(|d| d.name == "q1").unwrap();
+    let d1 = h.devices.iter().find(|d| d.name == "dbias").unwrap();
+    assert_eq!(h.nodes.iter().filter(|n| n.starts_with("q1.")).count(), 4);
+    let p = part(&c, "tw_hf25_mounted");
+    let sink = d1.temperature_k;
+    let want = sink + q1.dissipation_w * (2.0 + p.rth_cs);
+    // 0.01 K: the iteration's stopping tolerance (as above)
+    assert!(
+        (q1.temperature_k - want).abs() <= 0.0101,
+        "{} vs {want}",
+        q1.temperature_k
+    );
+}

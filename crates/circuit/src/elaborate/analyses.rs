@@ -271,7 +271,7 @@ impl<'a> Cx<'a> {
         for (id, el) in c.element_ids() {
             let Some(p) = bjt(id) else { continue };
             if h.sink.contains(&id) {
-                if !p.rth_jc.is_finite() {
+                if p.junction_case().is_none() {
                     self.error(
                         "missing-part-param",
                         span,
@@ -284,7 +284,7 @@ impl<'a> Cx<'a> {
                 }
                 any = true;
             } else {
-                any |= p.rth_ja.is_finite() || (p.rth_jc.is_finite() && p.rth_sink.is_finite());
+                any |= p.thermal_resistance().is_some();
             }
         }
         if !any {
