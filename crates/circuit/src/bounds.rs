@@ -326,9 +326,42 @@ pub(crate) fn analysis(
                 ));
             }
         }
+        Analysis::Heat(h) => {
+            if h.rounds as f64 > MAX_HEAT_ROUNDS {
+                out.push(too_many(
+                    map,
+                    at("rounds"),
+                    "electrothermal rounds",
+                    h.rounds as f64,
+                    MAX_HEAT_ROUNDS,
+                ));
+            }
+            if let Some(t) = h.transmit {
+                let cycles = if h.space > 0.0 {
+                    (t / (h.mark + h.space)).ceil()
+                } else {
+                    1.0
+                };
+                if cycles > MAX_KEYING_CYCLES {
+                    out.push(too_many(
+                        map,
+                        at("transmit"),
+                        "keying cycles of a transmission",
+                        cycles,
+                        MAX_KEYING_CYCLES,
+                    ));
+                }
+            }
+        }
     }
     out
 }
+
+/// Most electrical solves one `analyze heat` may spend.
+pub const MAX_HEAT_ROUNDS: f64 = 200.0;
+/// Most keying cycles (mark + space) a heating run steps through (each
+/// cycle costs two exact steps of a small network).
+pub const MAX_KEYING_CYCLES: f64 = 1e6;
 
 /// An upper estimate of the unknowns of `c` and of those a nonlinear device
 /// touches: every node, one branch current per voltage source and inductor,
@@ -366,6 +399,8 @@ pub fn analysis_bytes(c: &Circuit, a: &Analysis) -> f64 {
         Analysis::Ac { points, .. } => 2.0 * dense + 16.0 * u * *points as f64,
         // one load's circuit at a time, plus its figures
         Analysis::Ruggedness { .. } => dense,
+        // one steady state at a time, a small thermal network and its samples
+        Analysis::Heat(_) => dense,
         Analysis::Steady {
             harmonics,
             steps_per_period,

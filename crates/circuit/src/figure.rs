@@ -175,6 +175,13 @@ macro_rules! figure_catalogue {
                 label: "junction temperature",
                 about: Transistor(|t| t.tj_k),
             },
+            TjPeak {
+                word: Some("tj_peak"),
+                record: None,
+                unit: Kelvin,
+                label: "peak junction temperature over a transmission",
+                about: Transistor(|t| t.tj_peak_k),
+            },
             Stress {
                 word: Some("stress"),
                 record: None,

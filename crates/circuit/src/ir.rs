@@ -275,6 +275,9 @@ pub struct Model {
 }
 
 /// Typed model parameters, by kind.
+// A circuit holds one per part (a handful), read in place by every layer:
+// boxing the bipolar variant would save a few hundred bytes per part.
+#[allow(clippy::large_enum_variant)]
 #[derive(Debug, Clone, PartialEq)]
 pub enum ModelParams {
     /// Diode parameters.
@@ -433,6 +436,24 @@ pub struct BjtParams {
     pub rth_jc: f64,
     /// θ_CA: thermal resistance case to ambient, through the heatsink (K/W); stage file `thermal { case_ambient= }`.
     pub rth_sink: f64,
+    /// C_J: heat capacity of the die, between junction and case (for heating over time) (J/K); stage file `thermal { junction_heat= }`.
+    pub heat_junction: f64,
+    /// C_C: heat capacity of the case (for heating over time) (J/K); stage file `thermal { case_heat= }`.
+    pub heat_case: f64,
+    /// θ_CS: thermal resistance case to a shared heatsink (the mounting) (K/W); stage file `thermal { case_sink= }`.
+    pub rth_cs: f64,
+    /// R_1: junction to case as a Foster ladder from data: resistance of term 1 (K/W); stage file `thermal { foster_r1= }`.
+    pub foster_r1: f64,
+    /// τ_1: junction to case as a Foster ladder from data: time constant of term 1 (s); stage file `thermal { foster_tau1= }`.
+    pub foster_tau1: f64,
+    /// R_2: junction to case as a Foster ladder from data: resistance of term 2 (K/W); stage file `thermal { foster_r2= }`.
+    pub foster_r2: f64,
+    /// τ_2: junction to case as a Foster ladder from data: time constant of term 2 (s); stage file `thermal { foster_tau2= }`.
+    pub foster_tau2: f64,
+    /// R_3: junction to case as a Foster ladder from data: resistance of term 3 (K/W); stage file `thermal { foster_r3= }`.
+    pub foster_r3: f64,
+    /// τ_3: junction to case as a Foster ladder from data: time constant of term 3 (s); stage file `thermal { foster_tau3= }`.
+    pub foster_tau3: f64,
 }
 
 impl Default for BjtParams {
@@ -476,20 +497,55 @@ impl Default for BjtParams {
             rth_ja: f64::INFINITY,
             rth_jc: f64::INFINITY,
             rth_sink: f64::INFINITY,
+            heat_junction: 0.0,
+            heat_case: 0.0,
+            rth_cs: f64::INFINITY,
+            foster_r1: 0.0,
+            foster_tau1: 0.0,
+            foster_r2: 0.0,
+            foster_tau2: 0.0,
+            foster_r3: 0.0,
+            foster_tau3: 0.0,
         }
     }
 }
 
 impl BjtParams {
+    /// The junction–case Foster ladder from data, `(R_i, τ_i)` for each
+    /// term with R_i > 0 (empty when none is given).
+    pub fn foster_terms(&self) -> Vec<(f64, f64)> {
+        [
+            (self.foster_r1, self.foster_tau1),
+            (self.foster_r2, self.foster_tau2),
+            (self.foster_r3, self.foster_tau3),
+        ]
+        .into_iter()
+        .filter(|t| t.0 > 0.0)
+        .collect()
+    }
+
+    /// Junction to case, K/W: `rth_jc` if set, else the sum of the Foster
+    /// terms if any, else `None`.
+    pub fn junction_case(&self) -> Option<f64> {
+        if self.rth_jc.is_finite() {
+            Some(self.rth_jc)
+        } else {
+            let f = self.foster_terms();
+            (!f.is_empty()).then(|| f.iter().map(|t| t.0).sum())
+        }
+    }
+
     /// Junction-to-ambient thermal resistance in K/W: `rth_ja` if set, else
-    /// `rth_jc + rth_sink` if both are set, else `None`.
+    /// junction to case ([`BjtParams::junction_case`]) + `rth_sink` if both
+    /// are set, else `None`.
     pub fn thermal_resistance(&self) -> Option<f64> {
         if self.rth_ja.is_finite() {
             Some(self.rth_ja)
-        } else if self.rth_jc.is_finite() && self.rth_sink.is_finite() {
-            Some(self.rth_jc + self.rth_sink)
         } else {
-            None
+            match self.junction_case() {
+                Some(jc) if self.rth_sink.is_finite() => Some(jc + self.rth_sink),
+                _ => None,
+            }
         }
     }
 }
@@ -600,6 +656,29 @@ pub enum Analysis {
         /// The reference impedance, Ω (`None`: the output resistor's value).
         reference: Option<f64>,
     },
+    /// `analyze heat [sink=[…] sink_ambient=K/W sink_heat=J/K] [transmit=s mark=s space=s] [rounds=N]`:
+    /// the steady state solved together with the junction temperatures,
+    /// and the heating over a keyed transmission (docs/thermal.md).
+    Heat(HeatSpec),
+}
+
+/// What `analyze heat` asks for.
+#[derive(Debug, Clone, PartialEq)]
+pub struct HeatSpec {
+    /// The transistors and diodes on the shared heatsink, in file order.
+    pub sink: Vec<ElementId>,
+    /// Heatsink to ambient, K/W (`Some` whenever `sink` is not empty).
+    pub sink_ambient: Option<f64>,
+    /// Heat capacity of the heatsink, J/K (0: none given).
+    pub sink_heat: f64,
+    /// Length of the transmission followed over time, s.
+    pub transmit: Option<f64>,
+    /// Key-down time of each keying cycle, s (the whole transmission when not keyed).
+    pub mark: f64,
+    /// Key-up time of each keying cycle, s (0: one continuous key-down).
+    pub space: f64,
+    /// Most electrical solves of the electrothermal iteration.
+    pub rounds: usize,
 }
 
 impl Analysis {
@@ -612,6 +691,7 @@ impl Analysis {
             Analysis::Ac { .. } => 2,
             Analysis::Steady { .. } => 3,
             Analysis::Ruggedness { .. } => 4,
+            Analysis::Heat(_) => 5,
         };
         crate::options::analysis::ALL[k].0
     }

@@ -184,6 +184,24 @@ pub static BJT_PARAMS: &[Param<BjtParams>] = table! { BjtParams;
         "θ_JC" "K/W" "thermal resistance junction to case" => rth_jc;
     "thermal" "case_ambient" "rth_sink" Number Positive (Off(INF), with &[], old INF)
         "θ_CA" "K/W" "thermal resistance case to ambient, through the heatsink" => rth_sink;
+    "thermal" "junction_heat" "junction_heat" Number NonNegative (Off(0.0), with &[], old 0.0)
+        "C_J" "J/K" "heat capacity of the die, between junction and case (for heating over time)" => heat_junction;
+    "thermal" "case_heat" "case_heat" Number NonNegative (Off(0.0), with &[], old 0.0)
+        "C_C" "J/K" "heat capacity of the case (for heating over time)" => heat_case;
+    "thermal" "case_sink" "case_sink" Number Positive (Off(INF), with &[], old INF)
+        "θ_CS" "K/W" "thermal resistance case to a shared heatsink (the mounting)" => rth_cs;
+    "thermal" "foster_r1" "foster_r1" Number NonNegative (Off(0.0), with &[], old 0.0)
+        "R_1" "K/W" "junction to case as a Foster ladder from data: resistance of term 1" => foster_r1;
+    "thermal" "foster_tau1" "foster_tau1" Time NonNegative (Off(0.0), with &["foster_r1"], old 0.0)
+        "τ_1" "s" "junction to case as a Foster ladder from data: time constant of term 1" => foster_tau1;
+    "thermal" "foster_r2" "foster_r2" Number NonNegative (Off(0.0), with &[], old 0.0)
+        "R_2" "K/W" "junction to case as a Foster ladder from data: resistance of term 2" => foster_r2;
+    "thermal" "foster_tau2" "foster_tau2" Time NonNegative (Off(0.0), with &["foster_r2"], old 0.0)
+        "τ_2" "s" "junction to case as a Foster ladder from data: time constant of term 2" => foster_tau2;
+    "thermal" "foster_r3" "foster_r3" Number NonNegative (Off(0.0), with &[], old 0.0)
+        "R_3" "K/W" "junction to case as a Foster ladder from data: resistance of term 3" => foster_r3;
+    "thermal" "foster_tau3" "foster_tau3" Time NonNegative (Off(0.0), with &["foster_r3"], old 0.0)
+        "τ_3" "s" "junction to case as a Foster ladder from data: time constant of term 3" => foster_tau3;
     "ratings" "vce_max" "max_vce" Voltage Positive (Off(INF), with &[], old INF)
         "V_CE,max" "V" "collector–emitter voltage rating" => max_vce;
     "ratings" "ic_max" "max_ic" Current Positive (Off(INF), with &[], old INF)

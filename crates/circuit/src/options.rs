@@ -44,6 +44,8 @@ pub enum Takes {
     Word(&'static dyn WordSet),
     /// The name of an element.
     Element,
+    /// The names of several elements in brackets (`[q1, d1]`), or one.
+    Elements,
     /// The name of a node.
     Node,
     /// The name of a part.
@@ -106,6 +108,7 @@ impl OptionSpec {
         match self.takes {
             Takes::Word(w) => s.push_str(&w.words().join("\\|")),
             Takes::Element => s.push_str("ELEMENT"),
+            Takes::Elements => s.push_str("[ELEMENT, …]"),
             Takes::Node => s.push_str("NODE"),
             Takes::Part => s.push('P'),
             Takes::List(..) => s.push_str("[…]"),
@@ -481,6 +484,56 @@ pub mod analysis {
         "the impedance the VSWR is counted against",
     );
 
+    /// `sink=` of the heat analysis: the devices on the shared heatsink.
+    pub const SINK: OptionSpec = opt(
+        "sink",
+        Takes::Elements,
+        Default::Absent,
+        "the transistors and diodes mounted on one shared heatsink",
+    );
+    /// `sink_ambient=` of the heat analysis.
+    pub const SINK_AMBIENT: OptionSpec = opt(
+        "sink_ambient",
+        Takes::Value(Slot::Number, Range::Positive),
+        Default::Absent,
+        "thermal resistance of the shared heatsink to the ambient, K/W (required with sink=)",
+    );
+    /// `sink_heat=` of the heat analysis.
+    pub const SINK_HEAT: OptionSpec = opt(
+        "sink_heat",
+        Takes::Value(Slot::Number, Range::NonNegative),
+        Default::Number(0.0),
+        "heat capacity of the shared heatsink, J/K (for heating over time)",
+    );
+    /// `transmit=` of the heat analysis.
+    pub const TRANSMIT: OptionSpec = opt(
+        "transmit",
+        Takes::Value(Slot::Time, Range::Positive),
+        Default::Absent,
+        "length of a transmission whose heating over time is followed from a cold start",
+    );
+    /// `mark=` of the heat analysis.
+    pub const MARK: OptionSpec = opt(
+        "mark",
+        Takes::Value(Slot::Time, Range::Positive),
+        Default::Derived("transmit"),
+        "time key down in each keying cycle",
+    );
+    /// `space=` of the heat analysis.
+    pub const SPACE: OptionSpec = opt(
+        "space",
+        Takes::Value(Slot::Time, Range::NonNegative),
+        Default::Number(0.0),
+        "time key up in each keying cycle (the stage idles at its bias)",
+    );
+    /// `rounds=` of the heat analysis.
+    pub const ROUNDS: OptionSpec = opt(
+        "rounds",
+        Takes::Count(2),
+        Default::Number(30.0),
+        "most electrical solves the electrothermal iteration may spend",
+    );
+
     /// The options of each analysis, by kind.
     pub const ALL: &[(&str, &[OptionSpec])] = &[
         ("bias", &[]),
@@ -501,6 +554,10 @@ pub mod analysis {
             ],
         ),
         ("ruggedness", &[VSWR, PHASES, REFERENCE]),
+        (
+            "heat",
+            &[SINK, SINK_AMBIENT, SINK_HEAT, TRANSMIT, MARK, SPACE, ROUNDS],
+        ),
     ];
 
     /// The options of an analysis, or `None` for an unknown analysis.

@@ -269,6 +269,14 @@ pub fn check_params(
         ("transit_fwd", p.transit_fwd),
         ("transit_rev", p.transit_rev),
         ("gap", p.gap),
+        ("heat_junction", p.heat_junction),
+        ("heat_case", p.heat_case),
+        ("foster_r1", p.foster_r1),
+        ("foster_tau1", p.foster_tau1),
+        ("foster_r2", p.foster_r2),
+        ("foster_tau2", p.foster_tau2),
+        ("foster_r3", p.foster_r3),
+        ("foster_tau3", p.foster_tau3),
     ] {
         if !nonneg(v) {
             return bad(name, v, "must be finite and ≥ 0");
@@ -287,6 +295,7 @@ pub fn check_params(
         ("rth_ja", p.rth_ja),
         ("rth_jc", p.rth_jc),
         ("rth_sink", p.rth_sink),
+        ("rth_cs", p.rth_cs),
     ] {
         if !pos_or_inf(v) {
             return bad(name, v, "must be > 0 (∞ = not given)");

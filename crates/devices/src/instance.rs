@@ -99,7 +99,17 @@ impl Builder<'_> {
 
 /// Build every device of `circuit`, allocating the extra unknowns and naming all of them.
 pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
-    let temp = circuit.temperature_k;
+    instantiate_at(circuit, &[])
+}
+
+/// Like [`instantiate`], with the temperature (K) of each element given
+/// by `temps[element index]` where it is `Some` (a junction heated by its
+/// own dissipation); every other element, and every element past the end
+/// of `temps`, is at the circuit's ambient temperature. The temperature
+/// laws of the models are applied at these temperatures.
+pub fn instantiate_at(circuit: &Circuit, temps: &[Option<f64>]) -> Result<DeviceSet, DeviceError> {
+    let ambient = circuit.temperature_k;
+    let temp_of = |id: ElementId| temps.get(id.index()).copied().flatten().unwrap_or(ambient);
     let mut b = Builder {
         circuit,
         names: circuit
@@ -240,6 +250,7 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                     }
                 };
                 let area = positive(name, "area", *area)?;
+                let temp = temp_of(id);
                 positive(name, "temperature", temp)?;
                 crate::diode::check_params(p, name)?;
                 let (na, nk) = (b.node(name, *a)?, b.node(name, *k)?);
@@ -288,6 +299,7 @@ pub fn instantiate(circuit: &Circuit) -> Result<DeviceSet, DeviceError> {
                     }
                 };
                 let area = positive(name, "area", *area)?;
+                let temp = temp_of(id);
                 positive(name, "temperature", temp)?;
                 crate::bjt::check_params(p, name, area, temp)?;
                 let (nc, nb, ne) = (b.node(name, *c)?, b.node(name, *bb)?, b.node(name, *e)?);

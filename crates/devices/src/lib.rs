@@ -42,4 +42,4 @@ pub mod waveform;
 pub use contract::*;
 pub use error::DeviceError;
 pub use figure::OpFigure;
-pub use instance::instantiate;
+pub use instance::{instantiate, instantiate_at};

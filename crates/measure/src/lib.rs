@@ -52,6 +52,6 @@ pub use metrics::{
     GainBasis, HarmonicPower, Impedance, MeasureParams, Metrics, Note, OutputMetrics,
     StressQuantity, StressRow, SupplyPower, TransistorMetrics,
 };
-pub use period::PeriodData;
+pub use period::{average_absorbed, PeriodData};
 pub use spectrum::{spectrum, Spectrum};
 pub use verdict::{evaluate, evaluate_one, metric_unit, Unit, Verdict};

@@ -202,7 +202,12 @@ pub struct TransistorMetrics {
     /// Thermal resistance junction to ambient, K/W, if the model gives one.
     pub rth_k_per_w: Option<f64>,
     /// Junction temperature T_ambient + Rth·P_diss, K; `None` without Rth.
+    /// With `analyze heat`, the self-consistent junction temperature.
     pub tj_k: Option<f64>,
+    /// Peak junction temperature over the transmission of `analyze heat
+    /// transmit=`, K; `None` (and left out of JSON) otherwise.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub tj_peak_k: Option<f64>,
 }
 
 /// What a stress row measures.
@@ -616,6 +621,45 @@ fn finite(x: f64) -> Option<f64> {
 
 fn rating(r: Option<f64>) -> Option<f64> {
     r.filter(|v| v.is_finite() && *v > 0.0)
+}
+
+/// The fraction of a junction temperature rating used: of the allowed
+/// rise above the ambient when the rating is above it, else of the rating.
+fn junction_fraction(tj: f64, t_amb: f64, rating: f64) -> Option<f64> {
+    if rating > t_amb {
+        finite((tj - t_amb) / (rating - t_amb))
+    } else {
+        finite(tj / rating)
+    }
+}
+
+impl Metrics {
+    /// Replace the junction temperature of transistor `id` (its figure and
+    /// its stress row) by `tj_k`, and set its peak over a transmission:
+    /// what the electrothermal steady state (`analyze heat`) found, in
+    /// place of T_ambient + Rth·P. `ambient_k` is the ambient temperature.
+    pub fn set_junction_temperature(
+        &mut self,
+        id: ElementId,
+        tj_k: f64,
+        tj_peak_k: Option<f64>,
+        ambient_k: f64,
+    ) {
+        for t in self.transistors.iter_mut().filter(|t| t.element_id == id) {
+            t.tj_k = Some(tj_k);
+            t.tj_peak_k = tj_peak_k;
+        }
+        for row in self
+            .stress
+            .iter_mut()
+            .filter(|r| r.element_id == id && r.quantity == StressQuantity::JunctionTemp)
+        {
+            row.value = tj_k;
+            row.fraction = row
+                .rating
+                .and_then(|r| junction_fraction(tj_k, ambient_k, r));
+        }
+    }
 }
 
 fn stress_row(
@@ -1032,6 +1076,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
                     dissipation_w: diss,
                     rth_k_per_w: rth,
                     tj_k: tj,
+                    tj_peak_k: None,
                 };
                 let (mv, mi, mp, mt) = bp
                     .map(|b| (b.max_vce, b.max_ic, b.max_power, b.max_tj))
@@ -1081,13 +1126,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
                         "K",
                         Some(mt),
                     );
-                    if let Some(r) = row.rating {
-                        row.fraction = if r > t_amb {
-                            finite((tj - t_amb) / (r - t_amb))
-                        } else {
-                            finite(tj / r)
-                        };
-                    }
+                    row.fraction = row.rating.and_then(|r| junction_fraction(tj, t_amb, r));
                     stress.push(row);
                 }
                 transistors.push(t);

@@ -37,6 +37,19 @@ pub struct PeriodData<'a> {
     pub node_floors: &'a [f64],
 }
 
+/// The average power each element absorbs over the period, W, indexed as
+/// `circuit.elements` (mean of Σ v_k i_k over its terminals): the heat a
+/// transistor or diode puts into its thermal network.
+pub fn average_absorbed(data: &PeriodData<'_>) -> Result<Vec<f64>, MeasureError> {
+    let p = Period::new(*data)?;
+    let n = p.samples.max(1) as f64;
+    Ok(data
+        .circuit
+        .element_ids()
+        .map(|(id, _)| p.absorbed(id).iter().sum::<f64>() / n)
+        .collect())
+}
+
 /// A validated view of [`PeriodData`] with helpers for element voltages.
 #[derive(Debug)]
 pub(crate) struct Period<'a> {

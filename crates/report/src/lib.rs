@@ -30,6 +30,7 @@ pub mod batch;
 pub mod check;
 pub mod files;
 pub mod format;
+pub mod heat;
 pub mod html;
 pub mod loads;
 pub mod outputs;

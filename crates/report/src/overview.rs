@@ -75,6 +75,14 @@ pub fn stage_overview(file: &str, c: &Circuit, warnings: usize) -> String {
             Analysis::Ruggedness { vswr, phases, .. } => {
                 format!("ruggedness, {} circles of {phases} loads", vswr.len())
             }
+            Analysis::Heat(h) => match h.transmit {
+                Some(t) => format!(
+                    "heat, {} on the shared heatsink, transmission of {}",
+                    h.sink.len(),
+                    crate::format::si(t, "s")
+                ),
+                None => format!("heat, {} on the shared heatsink", h.sink.len()),
+            },
         })
         .collect();
     let _ = writeln!(

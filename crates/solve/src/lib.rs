@@ -50,6 +50,7 @@ pub mod periodic;
 pub use periodic::floquet;
 pub mod singular;
 mod spectral;
+pub mod thermal;
 pub mod transient;
 
 pub use ac::{ac, impedance_without, AcParams, AcResult};
@@ -61,6 +62,10 @@ pub use periodic::{
     balance, settle, shooting, steady, terminal_currents, transport_currents, BalanceInfo,
     BalanceParams, PeriodicSolution, SettleParams, ShootingInfo, ShootingMode, ShootingParams,
     SteadyInfo, SteadyParams,
+};
+pub use thermal::{
+    heat_run, CauerLadder, FosterLadder, Heating, Keying, Modes, ThermalError, ThermalLink,
+    ThermalNetwork,
 };
 pub use transient::{
     default_rel_tolerance, transient, transient_observed, TransientInfo, TransientParams,

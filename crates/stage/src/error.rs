@@ -53,6 +53,38 @@ pub enum StageError {
     /// The caller stopped the solve ([`crate::SolveOptions::cancel`]) before it ended.
     #[error("the solve was stopped before it ended")]
     Cancelled,
+    /// `analyze heat` cannot build its thermal network from what the file
+    /// gives (a missing thermal resistance or heat capacity).
+    #[error("analyze heat: {what}")]
+    HeatSetup {
+        /// What is missing or wrong.
+        what: String,
+    },
+    /// The electrothermal iteration failed without a runaway.
+    #[error("analyze heat: {what}")]
+    Heat {
+        /// What failed.
+        what: String,
+    },
+    /// Thermal runaway: no self-consistent temperature below the junction
+    /// limit, or a heat feedback loop gain of 1 or more.
+    #[error(
+        "thermal runaway at {element}: {why}; there the junction is at {:.1} °C and \
+         dissipates {dissipation_w:.3} W (loop gain {loop_gain:.2})",
+        temperature_k - 273.15
+    )]
+    Runaway {
+        /// The hottest transistor.
+        element: String,
+        /// Its junction temperature where the runaway is found, K.
+        temperature_k: f64,
+        /// Its dissipation there, W.
+        dissipation_w: f64,
+        /// The loop gain of the heat feedback there.
+        loop_gain: f64,
+        /// Why this is a runaway.
+        why: String,
+    },
 }
 
 impl StageError {
@@ -67,6 +99,7 @@ impl StageError {
                 | StageError::NoSteady
                 | StageError::Drive(_)
                 | StageError::Mismatch(_)
+                | StageError::HeatSetup { .. }
         )
     }
 }

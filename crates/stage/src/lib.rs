@@ -45,6 +45,7 @@
 
 pub mod drive;
 pub mod error;
+pub mod heat;
 pub mod load;
 pub mod masks;
 pub mod mismatch;

@@ -51,6 +51,10 @@ pub struct StageResults {
     pub acs: Vec<AcResult>,
     /// The first steady-state analysis, measured.
     pub steady: Option<SteadyOutcome>,
+    /// With `analyze heat`: the junction temperatures solved together with
+    /// the steady state (which is then the one at those temperatures), and
+    /// the heating over a transmission.
+    pub heat: Option<crate::heat::HeatOutcome>,
     /// Requirement verdicts (empty without a steady state or requirements).
     pub verdicts: Vec<Verdict>,
     /// Each `analyze ruggedness` in file order: the output load moved
@@ -70,6 +74,7 @@ impl Clone for StageResults {
             transients: self.transients.clone(),
             acs: self.acs.clone(),
             steady: self.steady.clone(),
+            heat: self.heat.clone(),
             verdicts: self.verdicts.clone(),
             ruggedness: self.ruggedness.clone(),
             failures: Vec::new(),
@@ -114,6 +119,12 @@ pub struct Caps {
     /// Most periods of settling.
     pub max_settle_periods: usize,
 }
+
+/// Most rounds of the electrothermal iteration under [`Caps`].
+pub const CAPPED_HEAT_ROUNDS: usize = 4;
+/// Most keying cycles of a heating run under [`Caps`] (the transmission
+/// is cut to fit).
+pub const CAPPED_KEYING_CYCLES: f64 = 1000.0;
 
 /// Most circles, and phases per circle, of a ruggedness sweep under [`Caps`].
 pub const CAPPED_CIRCLES: usize = 2;
@@ -272,6 +283,8 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
             }
             // run after the loop, from the nominal steady state
             Analysis::Ruggedness { .. } => {}
+            // solved with the steady state
+            Analysis::Heat(_) => {}
             Analysis::Steady { .. } => {
                 if res.steady.is_some() || steady_tried {
                     continue;
@@ -288,17 +301,41 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
                 if let Some(c) = &opts.caps {
                     cap_steady(&mut p, c);
                 }
-                let solved = tankwave_solve::steady(circuit, &devices, &p)
-                    .map_err(StageError::from)
-                    .and_then(|solution| {
-                        let metrics = measure(circuit, &solution)?;
-                        let loads = collector_loads(circuit, &solution)?;
-                        Ok(SteadyOutcome {
-                            solution,
-                            metrics,
-                            loads,
-                        })
-                    });
+                let heat_spec = circuit.analyses.iter().find_map(|a| match a {
+                    Analysis::Heat(h) => Some(h),
+                    _ => None,
+                });
+                let solved = match heat_spec {
+                    None => tankwave_solve::steady(circuit, &devices, &p)
+                        .map_err(StageError::from)
+                        .map(|s| (s, None)),
+                    Some(h) => {
+                        let mut h = h.clone();
+                        if opts.caps.is_some() {
+                            h.rounds = h.rounds.min(CAPPED_HEAT_ROUNDS);
+                            if let Some(t) = &mut h.transmit {
+                                let period = if h.space > 0.0 { h.mark + h.space } else { *t };
+                                *t = t.min(CAPPED_KEYING_CYCLES * period);
+                                h.mark = h.mark.min(*t);
+                            }
+                        }
+                        crate::heat::electrothermal(circuit, &p, &h, opts.warm)
+                            .map(|(s, o)| (s, Some(o)))
+                    }
+                }
+                .and_then(|(solution, heat)| {
+                    let mut metrics = measure(circuit, &solution)?;
+                    if let Some(h) = &heat {
+                        h.apply(&mut metrics);
+                    }
+                    let loads = collector_loads(circuit, &solution)?;
+                    res.heat = heat;
+                    Ok(SteadyOutcome {
+                        solution,
+                        metrics,
+                        loads,
+                    })
+                });
                 match solved {
                     Ok(s) => res.steady = Some(s),
                     Err(e) => {

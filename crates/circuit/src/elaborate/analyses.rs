@@ -1,4 +1,4 @@
-//! `analyze bias|transient|ac|steady|ruggedness`: options read through
+//! `analyze bias|transient|ac|steady|ruggedness|heat`: options read through
 //! [`crate::options::analysis`], checked against each other.
 
 use super::{fmt_num, Cx};
@@ -21,6 +21,7 @@ impl<'a> Cx<'a> {
             "transient" => self.transient(kind, &m),
             "ac" => self.ac(kind, &m),
             "ruggedness" => self.ruggedness(kind, &m),
+            "heat" => self.heat(kind, &m),
             _ => self.steady(kind, &m),
         }
     }
@@ -192,6 +193,121 @@ impl<'a> Cx<'a> {
         })
     }
 
+    fn heat(&mut self, kind: &Ident, m: &super::opts::Given<'a>) -> Option<Analysis> {
+        let mut sink = Vec::new();
+        for e in self.opt_names(m, &o::SINK)? {
+            let id = self.name_of(e, "sink")?;
+            let id = self.element_ref(&id, "analyze heat sink")?;
+            if !matches!(
+                self.elem_kind(id),
+                Some(ElemKeyword::Bjt | ElemKeyword::Diode)
+            ) {
+                self.error(
+                    "element-kind",
+                    e.span,
+                    "a heatsink carries transistors and diodes only",
+                );
+                return None;
+            }
+            if sink.contains(&id) {
+                self.error("bad-value", e.span, "an element is on the heatsink twice");
+                return None;
+            }
+            sink.push(id);
+        }
+        let sink_ambient = self.opt_value(m, &o::SINK_AMBIENT, "sink_ambient")?;
+        if sink.is_empty() != sink_ambient.is_none() {
+            self.error(
+                "missing-option",
+                kind.span,
+                "analyze heat: sink= and sink_ambient= go together (the devices on the heatsink \
+                 and its thermal resistance to the ambient)",
+            );
+            return None;
+        }
+        let sink_heat = self
+            .opt_value(m, &o::SINK_HEAT, "sink_heat")?
+            .unwrap_or(0.0);
+        let transmit = self.opt_value(m, &o::TRANSMIT, "transmit")?;
+        let mark = self.opt_value(m, &o::MARK, "mark")?;
+        let space = self.opt_value(m, &o::SPACE, "space")?.unwrap_or(0.0);
+        let Some(length) = transmit else {
+            if mark.is_some() || space > 0.0 {
+                self.error(
+                    "missing-option",
+                    kind.span,
+                    "analyze heat: mark= and space= describe the keying of a transmission; give its length with transmit=",
+                );
+                return None;
+            }
+            let rounds = self.opt_count(m, &o::ROUNDS)?.unwrap_or(2) as usize;
+            return Some(Analysis::Heat(HeatSpec {
+                sink,
+                sink_ambient,
+                sink_heat,
+                transmit: None,
+                mark: 0.0,
+                space: 0.0,
+                rounds,
+            }));
+        };
+        let mark = mark.unwrap_or(length);
+        let rounds = self.opt_count(m, &o::ROUNDS)?.unwrap_or(2) as usize;
+        Some(Analysis::Heat(HeatSpec {
+            sink,
+            sink_ambient,
+            sink_heat,
+            transmit: Some(length),
+            mark,
+            space,
+            rounds,
+        }))
+    }
+
+    /// Every transistor on the shared heatsink needs its junction–case
+    /// resistance, and some transistor needs a heat path at all (the
+    /// network itself is built by the stage, docs/thermal.md).
+    fn check_heat_paths(&mut self, c: &Circuit, h: &HeatSpec, span: tankwave_netlist::Span) {
+        let bjt = |id: ElementId| match c.elements.get(id.index()).map(|e| &e.kind) {
+            Some(ElementKind::Bjt { model, .. }) => match c.models.get(model.index()) {
+                Some(Model {
+                    params: ModelParams::Bjt(p),
+                    ..
+                }) => Some(p),
+                _ => None,
+            },
+            _ => None,
+        };
+        let mut any = false;
+        for (id, el) in c.element_ids() {
+            let Some(p) = bjt(id) else { continue };
+            if h.sink.contains(&id) {
+                if p.junction_case().is_none() {
+                    self.error(
+                        "missing-part-param",
+                        span,
+                        format!(
+                            "{} is on the heatsink: its part needs thermal {{ junction_case= }}",
+                            el.name
+                        ),
+                    );
+                    return;
+                }
+                any = true;
+            } else {
+                any |= p.thermal_resistance().is_some();
+            }
+        }
+        if !any {
+            self.error(
+                "missing-part-param",
+                span,
+                "analyze heat: no transistor has a heat path; give its part thermal { junction_case= } \
+                 and put it on the heatsink, or thermal { junction_ambient= }",
+            );
+        }
+    }
+
     /// A sweep of the output load needs an `output` that is a resistor
     /// (the load it replaces) and an `analyze steady` (what each load is
     /// solved by); checked once the ports are known.
@@ -213,6 +329,28 @@ impl<'a> Cx<'a> {
             .filter(|(a, _)| matches!(a, Analysis::Ruggedness { .. }))
             .map(|(_, s)| s)
             .collect();
+        let heat_spans: Vec<_> = c
+            .analyses
+            .iter()
+            .zip(self.analysis_spans.clone())
+            .filter_map(|(a, s)| match a {
+                Analysis::Heat(h) => Some((h, s)),
+                _ => None,
+            })
+            .collect();
+        for (k, (h, span)) in heat_spans.into_iter().enumerate() {
+            self.check_heat_paths(c, h, span);
+            if !has_steady {
+                self.error(
+                    "missing-option",
+                    span,
+                    "analyze heat solves the steady state at the junction temperatures: the file needs an analyze steady",
+                );
+            }
+            if k > 0 {
+                self.error("duplicate-statement", span, "a file has one analyze heat");
+            }
+        }
         for span in spans {
             if !has_steady {
                 self.error(

@@ -165,6 +165,27 @@ impl<'a> Cx<'a> {
         ok.then_some(Some(out))
     }
 
+    /// The expressions of an option that takes several names (one, or
+    /// several in brackets); empty when it was not given. `None`: an error
+    /// was reported.
+    pub(super) fn opt_names(&mut self, m: &Given<'a>, spec: &OptionSpec) -> Option<Vec<&'a Expr>> {
+        let Some(o) = m.get(spec.name) else {
+            return Some(Vec::new());
+        };
+        match &o.value {
+            OptValue::Expr(e) => Some(vec![e]),
+            OptValue::List(v, _) => Some(v.iter().collect()),
+            OptValue::Wave(w) => {
+                self.error(
+                    "syntax",
+                    w.span,
+                    format!("option '{}' takes names, not a wave shape", spec.name),
+                );
+                None
+            }
+        }
+    }
+
     /// A required option: missing is a `missing-option` error at `at`.
     pub(super) fn required(
         &mut self,

@@ -58,6 +58,11 @@ pub fn stage_plots(file: &str, c: &Circuit, r: &StageResults) -> Drawn {
             plot::ac_plot(ac, &unknowns, scale, &p),
         );
     }
+    if let Some(h) = &r.heat {
+        for (name, caption, svg) in crate::heat::heat_plots(h, &p) {
+            d.add(name, caption, svg);
+        }
+    }
     for (k, s) in r.ruggedness.iter().enumerate() {
         let name = if k == 0 {
             "smith-ruggedness.svg".to_string()
@@ -123,34 +128,38 @@ pub fn stage_report(
         .map(|s| mask_evaluations(c, &s.metrics, s.solution.freq).evaluated)
         .unwrap_or_default();
     let (unknowns, scale) = ac_view(c);
-    let input = ReportInput {
-        title: c.title.clone().unwrap_or_else(|| file.to_string()),
-        file: file.to_string(),
-        file_sha256,
-        circuit: Some(c),
-        solution: r.steady.as_ref().map(|s| &s.solution),
-        metrics: r.steady.as_ref().map(|s| &s.metrics),
-        loads: r.steady.as_ref().map(|s| s.loads.as_slice()).unwrap_or(&[]),
-        verdicts: &r.verdicts,
-        masks: &masks,
-        transient: r.transients.first(),
-        ac: r.acs.first().map(|result| AcView {
-            result,
-            unknowns: &unknowns,
-            scale,
-        }),
-        studies: &[],
-        load_sweeps: r
-            .ruggedness
-            .iter()
-            .map(|s| crate::ruggedness::ruggedness_section(s, &PlotParams::for_source(file)))
-            .collect(),
-        intro: Vec::new(),
-        stage_label: None,
-        omit_stage: false,
-        provenance,
-        plot: PlotParams::for_source(file),
-    };
+    let input =
+        ReportInput {
+            title: c.title.clone().unwrap_or_else(|| file.to_string()),
+            file: file.to_string(),
+            file_sha256,
+            circuit: Some(c),
+            solution: r.steady.as_ref().map(|s| &s.solution),
+            metrics: r.steady.as_ref().map(|s| &s.metrics),
+            loads: r.steady.as_ref().map(|s| s.loads.as_slice()).unwrap_or(&[]),
+            verdicts: &r.verdicts,
+            masks: &masks,
+            transient: r.transients.first(),
+            ac: r.acs.first().map(|result| AcView {
+                result,
+                unknowns: &unknowns,
+                scale,
+            }),
+            studies: &[],
+            load_sweeps: r
+                .heat
+                .iter()
+                .map(|h| crate::heat::heat_section(h, &PlotParams::for_source(file)))
+                .chain(r.ruggedness.iter().map(|s| {
+                    crate::ruggedness::ruggedness_section(s, &PlotParams::for_source(file))
+                }))
+                .collect(),
+            intro: Vec::new(),
+            stage_label: None,
+            omit_stage: false,
+            provenance,
+            plot: PlotParams::for_source(file),
+        };
     crate::html::stage_report(&input)
 }
 
@@ -209,6 +218,10 @@ pub fn results_text(file: &str, c: &Circuit, r: &StageResults, verbose: bool) ->
         }
         s.push('\n');
     }
+    if let Some(h) = &r.heat {
+        s.push_str(&crate::heat::heat_text(h));
+        s.push('\n');
+    }
     if !r.verdicts.is_empty() {
         s.push_str("Requirements\n");
         s.push_str(&text::verdict_text(&r.verdicts));
@@ -232,7 +245,7 @@ pub fn results_text(file: &str, c: &Circuit, r: &StageResults, verbose: bool) ->
 /// The JSON document of one stage (schema [`crate::SCHEMA_VERSION`], fields
 /// in docs/output.md). `tool` names the program and its version.
 pub fn results_json(tool: &str, file: &str, c: &Circuit, r: &StageResults) -> Value {
-    json!({
+    let mut doc = json!({
         "schema": crate::SCHEMA_VERSION,
         "tool": tool,
         "file": file,
@@ -250,7 +263,12 @@ pub fn results_json(tool: &str, file: &str, c: &Circuit, r: &StageResults) -> Va
         "requirements": crate::format::verdicts_json(&r.verdicts),
         "ruggedness": r.ruggedness.iter().map(crate::ruggedness::ruggedness_json).collect::<Vec<_>>(),
         "caution": text::SAFETY_NOTE,
-    })
+    });
+    // present only with `analyze heat` (documents without it are unchanged)
+    if let (Some(h), Some(o)) = (&r.heat, doc.as_object_mut()) {
+        o.insert("heat".into(), crate::heat::heat_json(h));
+    }
+    doc
 }
 
 #[cfg(test)]

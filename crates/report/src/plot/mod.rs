@@ -19,13 +19,16 @@
 //! - [`sweep_plot`]: a figure against a parameter, one curve per value of a second;
 //! - [`histogram_plot`]: Monte Carlo histogram with the requirement limit;
 //! - [`surface_plot`] / [`tuning_curve_plot`]: the tuning objective around the optimum;
-//! - [`smith_plot`]: loads, contours and an optimum on a Smith chart (hand-written SVG).
+//! - [`smith_plot`]: loads, contours and an optimum on a Smith chart (hand-written SVG);
+//! - [`temperature_plot`]: device temperatures against time or against the
+//!   round of the electrothermal iteration, with the ratings.
 //!
 //! Bad input (empty or non-finite data, an element that is not a transistor,
 //! a solution of the wrong shape) gives a [`PlotError`], never a panic.
 
 mod ac;
 mod canvas;
+mod heat;
 mod period;
 pub mod smith;
 mod spectrum;
@@ -35,6 +38,7 @@ mod surface;
 
 pub use ac::ac_plot;
 pub use canvas::{series_style, Marker, SeriesStyle, DISTINCT_STYLES, PALETTE};
+pub use heat::{temperature_plot, TemperatureSeries};
 pub use period::{conduction_intervals, period_plot, period_plots};
 pub use smith::{smith_plot, Contour, SmithChart, SmithPoint};
 pub use spectrum::{label_box, place_labels, spectrum_plot};

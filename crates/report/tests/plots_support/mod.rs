@@ -183,6 +183,7 @@ pub fn metrics() -> Metrics {
             dissipation_w: 3.5,
             rth_k_per_w: None,
             tj_k: None,
+            tj_peak_k: None,
         }],
         stress: vec![StressRow {
             element: "Q1".into(),
