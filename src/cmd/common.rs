@@ -139,6 +139,10 @@ pub fn report_failure(file: &str, f: &StageError) -> i32 {
             esc(&e.to_string())
         ),
     }
+    // a runaway names a temperature and a power: the caution goes with it
+    if matches!(f, StageError::Runaway { .. }) {
+        eprintln!("{}", tankwave_report::stage::SAFETY_NOTE);
+    }
     exit_code(f)
 }
 

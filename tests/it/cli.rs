@@ -1408,3 +1408,17 @@ fn regex_lite_glued(text: &str) -> Vec<String> {
         .map(str::to_string)
         .collect()
 }
+
+/// A thermal runaway is a solver failure (exit 3) that names the junction's
+/// temperature and dissipation, and the safety caution goes with those
+/// figures (the report that normally carries it is not printed).
+#[test]
+fn a_runaway_says_where_and_carries_the_caution() {
+    use crate::harness::{code, root, run, stderr};
+    let f = root().join("netlists/heat/heat-7m1-fixed-bias.tank");
+    let o = run(&["run", f.to_str().expect("path")]);
+    assert_eq!(code(&o), 3, "{}", stderr(&o));
+    let e = stderr(&o);
+    assert!(e.contains("thermal runaway at q1"), "{e}");
+    assert!(e.contains(tankwave_report::stage::SAFETY_NOTE), "{e}");
+}
