@@ -60,7 +60,7 @@ pub use op::{operating_point, DeviceOp, NewtonInfo, OpParams, OpResult, Strategy
 pub use periodic::{
     balance, multitone, settle, shooting, steady, terminal_currents, transport_currents,
     BalanceInfo, BalanceParams, PeriodicSolution, SettleParams, ShootingInfo, ShootingMode,
-    ShootingParams, SteadyInfo, SteadyParams, ToneInfo, ToneParams, ToneSolution,
+    ShootingParams, SteadyInfo, SteadyParams, ToneDrive, ToneInfo, ToneParams, ToneSolution,
 };
 pub use transient::{
     default_rel_tolerance, transient, transient_observed, TransientInfo, TransientParams,

@@ -381,3 +381,68 @@ fn a_source_off_the_tones_is_refused() {
     let e = multitone(&b.c, &d, &params(&[1e6, 1.1e6, 1.2e6, 1.3e6, 1.4e6], 1)).unwrap_err();
     assert!(e.to_string().contains("tones"), "{e}");
 }
+
+#[test]
+fn tones_given_to_a_source_replace_its_sine() {
+    // The same drive written as the sources' own sines and as replacement
+    // tones gives the same solution (to rounding: one path samples the
+    // source, the other places its phasor through the unit excitation).
+    let (f1, f2) = (10e6, 10.01e6);
+    let amp = 0.02;
+    let b = stage_with_memory(f1, f2, amp);
+    let d = instantiate(&b.c).unwrap();
+    let own = multitone(&b.c, &d, &params(&[f1, f2], 5)).unwrap();
+    let mut other = stage_with_memory(f1, f2, amp);
+    // v1 carries both tones (v2 is left at zero), the second with v2's phase
+    for e in &mut other.c.elements {
+        if let tankwave_circuit::ElementKind::VoltageSource { wave, .. } = &mut e.kind {
+            if e.name == "v2" {
+                wave.shape = None;
+            } else {
+                wave.shape = Some(Shape::Square {
+                    base: 0.0,
+                    top: 1.0,
+                    start: 0.0,
+                    rise: 1e-9,
+                    fall: 1e-9,
+                    hold: 1e-9,
+                    every: 0.0,
+                });
+            }
+        }
+    }
+    let d2 = instantiate(&other.c).unwrap();
+    let v1 = other
+        .c
+        .elements
+        .iter()
+        .position(|e| e.name == "v1")
+        .unwrap();
+    let v1 = ElementId::new(v1);
+    let mut p = params(&[f1, f2], 5);
+    p.drives = vec![
+        ToneDrive {
+            source: v1,
+            tone: 0,
+            amp,
+            phase: 0.0,
+        },
+        ToneDrive {
+            source: v1,
+            tone: 1,
+            amp,
+            phase: 0.7,
+        },
+    ];
+    let split = multitone(&other.c, &d2, &p).unwrap();
+    for name in ["V[a]", "V[k]"] {
+        let (u, u2) = (unknown(&d, name), unknown(&d2, name));
+        for m in [[0, 0], [1, 0], [0, 1], [2, -1], [-1, 2], [1, 1]] {
+            let (a, b) = (
+                own.coefficient(&m, u).unwrap(),
+                split.coefficient(&m, u2).unwrap(),
+            );
+            assert!((a - b).norm() <= 1e-9 * amp, "{name} at {m:?}: {a} vs {b}");
+        }
+    }
+}

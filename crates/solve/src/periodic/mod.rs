@@ -26,7 +26,7 @@ pub mod settle;
 pub mod shooting;
 
 pub use balance::{balance, BalanceInfo, BalanceParams};
-pub use multitone::{multitone, Product, ToneInfo, ToneParams, ToneSolution};
+pub use multitone::{multitone, Product, ToneDrive, ToneInfo, ToneParams, ToneSolution};
 pub use sample::{terminal_currents, transport_currents};
 pub use settle::settle;
 pub use shooting::{shooting, ShootingMode, MATRIX_FREE_FROM};

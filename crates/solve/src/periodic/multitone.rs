@@ -41,7 +41,10 @@
 //! Every time-varying source must be a sine at one of the tones (its offset
 //! goes to DC); its phasor is placed at the slot of that tone. Time is
 //! counted from `t0`, the latest end of any source's start and rise, so all
-//! tones share one time origin.
+//! tones share one time origin. A source given tones in
+//! [`ToneParams::drives`] (a two-tone test splitting the input) takes them
+//! instead of its own sine: each is placed at its tone's slot through the
+//! source's unit excitation (the right-hand side the AC analysis uses).
 
 use super::balance::{
     check_params, check_size, fft_size, nonlinear_ports, reduce, reduce_growing, run_levels,
@@ -56,7 +59,7 @@ use crate::SolveError;
 use num_complex::Complex64 as C64;
 use std::collections::HashMap;
 use tankwave_circuit::ir::{ElementKind, Shape};
-use tankwave_circuit::Circuit;
+use tankwave_circuit::{Circuit, ElementId};
 use tankwave_devices::{
     DenseStamp, DeviceSet, EvalCtx, Filter, Idx, Stamp, UnknownId, UnknownKind,
 };
@@ -84,6 +87,25 @@ pub struct ToneParams {
     /// limiting, GMRES threshold; the harmonic raise is not used: the order
     /// is fixed).
     pub balance: BalanceParams,
+    /// Tones given to sources here instead of their own sine (a two-tone
+    /// test splits the input's drive into two tones): a source named here
+    /// keeps its `dc=` and its sine's offset, and its sine is replaced by
+    /// the tones listed for it.
+    pub drives: Vec<ToneDrive>,
+}
+
+/// One tone given to a source in place of its own sine:
+/// `amp·sin(2π f_tone (t − t0) + phase)`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ToneDrive {
+    /// The voltage or current source.
+    pub source: ElementId,
+    /// Index into [`ToneParams::tones`].
+    pub tone: usize,
+    /// Peak amplitude, V or A.
+    pub amp: f64,
+    /// Phase, rad.
+    pub phase: f64,
 }
 
 impl Default for ToneParams {
@@ -94,6 +116,7 @@ impl Default for ToneParams {
             tol: Tolerances::default(),
             linear_solver: LinearSolver::default(),
             balance: BalanceParams::default(),
+            drives: Vec::new(),
         }
     }
 }
@@ -238,6 +261,17 @@ fn check(tp: &ToneParams) -> Result<(), SolveError> {
             }
         }
     }
+    for dr in &tp.drives {
+        if dr.tone >= d {
+            return bad(format!("a drive names tone {} of {d}", dr.tone + 1));
+        }
+        if !(dr.amp.is_finite() && dr.phase.is_finite()) {
+            return bad(format!(
+                "a drive's amplitude {} or phase {} is not finite",
+                dr.amp, dr.phase
+            ));
+        }
+    }
     if tp.order == 0 || tp.order > 64 {
         return bad(format!("order must be 1..64, got {}", tp.order));
     }
@@ -322,6 +356,41 @@ fn tone_network(
             }
             _ => continue,
         };
+        let replaced: Vec<&ToneDrive> = tp
+            .drives
+            .iter()
+            .filter(|dr| dr.source == dev.element())
+            .collect();
+        if !replaced.is_empty() {
+            // The unit excitation b of the source ((G + jωC)X = b) is the
+            // negative of its term in the residual i(x, t) + dq/dt.
+            let mut b = vec![0.0; n];
+            dev.ac_excitation(&mut |r, v| {
+                if let Some(e) = b.get_mut(r) {
+                    *e += v;
+                }
+            });
+            let offset = match &wave.shape {
+                Some(Shape::Sine { offset, .. }) => *offset,
+                _ => 0.0,
+            };
+            for dr in replaced {
+                let mut m = vec![0i32; d];
+                m[dr.tone] = 1;
+                let Some((slot, _)) = slot_of(&m, tp.order, d) else {
+                    continue;
+                };
+                // amp·sin(ωt + φ) = 2·Re(c e^{jωt}) with c = amp·e^{jφ}/(2j)
+                let c = C64::from_polar(dr.amp, dr.phase) / C64::new(0.0, 2.0);
+                for (r, bv) in b.iter().enumerate() {
+                    src_wave[slot][r] -= c * *bv;
+                }
+            }
+            for (r, bv) in b.iter().enumerate() {
+                src_wave[0][r] -= C64::new(offset * bv, 0.0);
+            }
+            continue;
+        }
         let (freq, amp) = match &wave.shape {
             None => continue,
             Some(Shape::Sine { freq, amp, .. }) => (*freq, *amp),
