@@ -598,6 +598,19 @@ pub enum Analysis {
         /// The reference impedance, Ω (`None`: the output resistor's value).
         reference: Option<f64>,
     },
+    /// `analyze twotone spacing=Hz [order=K] [levels=[dB, …]]`: the `input`
+    /// source's sine split into two tones of half its amplitude at
+    /// `f ∓ spacing/2`, solved by multi-tone harmonic balance
+    /// (docs/analyses.md, "Two-tone test").
+    TwoTone {
+        /// Distance between the two tones, Hz.
+        spacing: f64,
+        /// Box truncation order: every multiple of each tone up to it.
+        order: usize,
+        /// Drive levels of the sweep, dB relative to the input's amplitude
+        /// (empty: the full drive only).
+        levels: Vec<f64>,
+    },
 }
 
 impl Analysis {
@@ -610,6 +623,7 @@ impl Analysis {
             Analysis::Ac { .. } => 2,
             Analysis::Steady { .. } => 3,
             Analysis::Ruggedness { .. } => 4,
+            Analysis::TwoTone { .. } => 5,
         };
         crate::options::analysis::ALL[k].0
     }

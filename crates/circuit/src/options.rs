@@ -464,6 +464,30 @@ pub mod analysis {
         "the impedance the VSWR is counted against",
     );
 
+    /// `spacing=` of a two-tone test.
+    pub const SPACING: OptionSpec = opt(
+        "spacing",
+        Takes::Value(Slot::Frequency, Range::Positive),
+        Default::Required,
+        "the distance between the two tones",
+    );
+    /// `order=` of a two-tone test.
+    pub const ORDER: OptionSpec = opt(
+        "order",
+        Takes::Count(1),
+        Default::Number(7.0),
+        "the highest multiple of each tone kept among the mixing products",
+    );
+    /// The largest `order=` of a two-tone test: (2·20 + 1)² products.
+    pub const ORDER_MAX: u64 = 20;
+    /// `levels=` of a two-tone test.
+    pub const LEVELS: OptionSpec = opt(
+        "levels",
+        Takes::List(Slot::Db, Range::Any),
+        Default::Absent,
+        "drive levels of a sweep, dB relative to the input's amplitude",
+    );
+
     /// The options of each analysis, by kind.
     pub const ALL: &[(&str, &[OptionSpec])] = &[
         ("bias", &[]),
@@ -474,6 +498,7 @@ pub mod analysis {
         ("ac", &[FROM, TO, POINTS, SCALE, SOURCE, IMPEDANCE]),
         ("steady", &[FREQ, HARMONICS, STEADY_METHOD, STEPS]),
         ("ruggedness", &[VSWR, PHASES, REFERENCE]),
+        ("twotone", &[SPACING, ORDER, LEVELS]),
     ];
 
     /// The options of an analysis, or `None` for an unknown analysis.

@@ -75,6 +75,15 @@ pub fn stage_overview(file: &str, c: &Circuit, warnings: usize) -> String {
             Analysis::Ruggedness { vswr, phases, .. } => {
                 format!("ruggedness, {} circles of {phases} loads", vswr.len())
             }
+            Analysis::TwoTone {
+                spacing,
+                order,
+                levels,
+            } => format!(
+                "two-tone, spacing {}, order {order}, {} drive levels",
+                crate::format::si(*spacing, "Hz"),
+                levels.len().max(1)
+            ),
         })
         .collect();
     let _ = writeln!(

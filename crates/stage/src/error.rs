@@ -50,6 +50,9 @@ pub enum StageError {
     /// resistor, a bad circle).
     #[error("mismatch sweep: {0}")]
     Mismatch(String),
+    /// A two-tone test cannot be set up or measured for this stage.
+    #[error("two-tone test: {0}")]
+    TwoTone(String),
 }
 
 impl StageError {
@@ -64,6 +67,7 @@ impl StageError {
                 | StageError::NoSteady
                 | StageError::Drive(_)
                 | StageError::Mismatch(_)
+                | StageError::TwoTone(_)
         )
     }
 }

@@ -13,6 +13,7 @@ use tankwave_solve::{
 };
 
 use crate::mismatch::{sweep_from, Circle, MismatchSweep};
+use crate::twotone::{two_tone, TwoToneSpec, TwoToneTest};
 use crate::StageError;
 
 /// The steady state of a stage and what was measured on it.
@@ -56,6 +57,8 @@ pub struct StageResults {
     /// Each `analyze ruggedness` in file order: the output load moved
     /// around its circles ([`crate::mismatch`]).
     pub ruggedness: Vec<MismatchSweep>,
+    /// Each `analyze twotone` in file order ([`crate::twotone`]).
+    pub two_tone: Vec<TwoToneTest>,
     /// The analyses that failed, when solving with
     /// [`SolveOptions::keep_going`] (always empty otherwise: the first
     /// failure is returned as the error).
@@ -72,6 +75,7 @@ impl Clone for StageResults {
             steady: self.steady.clone(),
             verdicts: self.verdicts.clone(),
             ruggedness: self.ruggedness.clone(),
+            two_tone: self.two_tone.clone(),
             failures: Vec::new(),
         }
     }
@@ -261,6 +265,23 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
             }
             // run after the loop, from the nominal steady state
             Analysis::Ruggedness { .. } => {}
+            Analysis::TwoTone {
+                spacing,
+                order,
+                levels,
+            } => {
+                if opts.scope == Scope::All && beyond_op {
+                    let spec = TwoToneSpec {
+                        spacing: *spacing,
+                        order: *order,
+                        levels: levels.clone(),
+                    };
+                    match two_tone(circuit, &devices, &spec, opts.caps.as_ref()) {
+                        Ok(t) => res.two_tone.push(t),
+                        Err(e) => fail(&mut res, e)?,
+                    }
+                }
+            }
             Analysis::Steady { .. } => {
                 if res.steady.is_some() || steady_tried {
                     continue;

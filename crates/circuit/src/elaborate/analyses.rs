@@ -1,4 +1,4 @@
-//! `analyze bias|transient|ac|steady|ruggedness`: options read through
+//! `analyze bias|transient|ac|steady|ruggedness|twotone`: options read through
 //! [`crate::options::analysis`], checked against each other.
 
 use super::{fmt_num, Cx};
@@ -21,6 +21,7 @@ impl<'a> Cx<'a> {
             "transient" => self.transient(kind, &m),
             "ac" => self.ac(kind, &m),
             "ruggedness" => self.ruggedness(kind, &m),
+            "twotone" => self.two_tone(kind, &m),
             _ => self.steady(kind, &m),
         }
     }
@@ -179,6 +180,109 @@ impl<'a> Cx<'a> {
             phases,
             reference,
         })
+    }
+
+    fn two_tone(&mut self, kind: &Ident, m: &super::opts::Given<'a>) -> Option<Analysis> {
+        let spacing = self.required(m, &o::SPACING, kind.span, "analyze twotone")?;
+        let order = self.opt_count(m, &o::ORDER)?.unwrap_or(7);
+        if order > o::ORDER_MAX {
+            let at = match self.given_expr(m, &o::ORDER) {
+                Some(Some(e)) => e.span,
+                _ => kind.span,
+            };
+            self.error(
+                "bad-value",
+                at,
+                format!(
+                    "order= of a two-tone test is at most {}, got {order}",
+                    o::ORDER_MAX
+                ),
+            );
+            return None;
+        }
+        let levels = self.opt_list(m, &o::LEVELS)?.unwrap_or_default();
+        if let Some((bad, at)) = levels.iter().find(|(v, _)| !(-60.0..=20.0).contains(v)) {
+            self.error(
+                "bad-value",
+                *at,
+                format!(
+                    "a drive level is from -60 dB to +20 dB of the input's amplitude, got {} dB",
+                    fmt_num(*bad)
+                ),
+            );
+            return None;
+        }
+        Some(Analysis::TwoTone {
+            spacing,
+            order: order as usize,
+            levels: levels.into_iter().map(|(v, _)| v).collect(),
+        })
+    }
+
+    /// A two-tone test splits the `input` source's sine and reads the
+    /// `output` resistor: both must be there; checked once the ports are known.
+    pub(super) fn check_two_tone(&mut self, c: &Circuit) {
+        let spans: Vec<_> = c
+            .analyses
+            .iter()
+            .zip(self.analysis_spans.clone())
+            .filter(|(a, _)| matches!(a, Analysis::TwoTone { .. }))
+            .map(|(a, s)| (a.clone(), s))
+            .collect();
+        if spans.is_empty() {
+            return;
+        }
+        let output_is_resistor = matches!(
+            c.output
+                .and_then(|id| c.elements.get(id.index()))
+                .map(|e| &e.kind),
+            Some(ElementKind::Resistor { .. })
+        );
+        let input_sine = c
+            .input
+            .and_then(|id| c.elements.get(id.index()))
+            .and_then(|e| match &e.kind {
+                ElementKind::VoltageSource { wave, .. }
+                | ElementKind::CurrentSource { wave, .. } => match wave.shape {
+                    Some(Shape::Sine { freq, .. }) => Some(freq),
+                    _ => None,
+                },
+                _ => None,
+            });
+        for (a, span) in spans {
+            if !output_is_resistor {
+                self.error(
+                    "element-kind",
+                    span,
+                    "analyze twotone reads the output load: the file needs `output` naming a resistor",
+                );
+            }
+            match input_sine {
+                None => {
+                    self.error(
+                        "element-kind",
+                        span,
+                        "analyze twotone splits the input's sine into two tones: the file needs \
+                         `input` naming a source with a sine wave",
+                    );
+                }
+                Some(f) => {
+                    if let Analysis::TwoTone { spacing, .. } = a {
+                        if spacing >= f {
+                            self.error(
+                                "bad-value",
+                                span,
+                                format!(
+                                    "the tone spacing {} is not below the input's frequency {}",
+                                    crate::si::si_prefixed(spacing, "Hz", 4),
+                                    crate::si::si_prefixed(f, "Hz", 4)
+                                ),
+                            );
+                        }
+                    }
+                }
+            }
+        }
     }
 
     /// A sweep of the output load needs an `output` that is a resistor

@@ -58,6 +58,21 @@ pub fn stage_plots(file: &str, c: &Circuit, r: &StageResults) -> Drawn {
             plot::ac_plot(ac, &unknowns, scale, &p),
         );
     }
+    for (k, t) in r.two_tone.iter().enumerate() {
+        if t.sweep.len() < 2 {
+            continue;
+        }
+        let name = if k == 0 {
+            "twotone.svg".to_string()
+        } else {
+            format!("twotone-{}.svg", k + 1)
+        };
+        d.add(
+            name,
+            crate::twotone::PLOT_CAPTION.into(),
+            crate::twotone::sweep_plot(t, &p),
+        );
+    }
     for (k, s) in r.ruggedness.iter().enumerate() {
         let name = if k == 0 {
             "smith-ruggedness.svg".to_string()
@@ -223,7 +238,11 @@ pub fn results_text(file: &str, c: &Circuit, r: &StageResults, verbose: bool) ->
         s.push('\n');
         s.push_str(&crate::ruggedness::ruggedness_text(sweep));
     }
-    if r.steady.is_some() || !r.ruggedness.is_empty() {
+    for t in &r.two_tone {
+        s.push('\n');
+        s.push_str(&crate::twotone::two_tone_text(t));
+    }
+    if r.steady.is_some() || !r.ruggedness.is_empty() || !r.two_tone.is_empty() {
         s.push_str(&format!("\n{}\n", text::SAFETY_NOTE));
     }
     s
@@ -232,7 +251,7 @@ pub fn results_text(file: &str, c: &Circuit, r: &StageResults, verbose: bool) ->
 /// The JSON document of one stage (schema [`crate::SCHEMA_VERSION`], fields
 /// in docs/output.md). `tool` names the program and its version.
 pub fn results_json(tool: &str, file: &str, c: &Circuit, r: &StageResults) -> Value {
-    json!({
+    let mut j = json!({
         "schema": crate::SCHEMA_VERSION,
         "tool": tool,
         "file": file,
@@ -250,7 +269,20 @@ pub fn results_json(tool: &str, file: &str, c: &Circuit, r: &StageResults) -> Va
         "requirements": crate::format::verdicts_json(&r.verdicts),
         "ruggedness": r.ruggedness.iter().map(crate::ruggedness::ruggedness_json).collect::<Vec<_>>(),
         "caution": text::SAFETY_NOTE,
-    })
+    });
+    // only when the file asks for one: the documents of other stages keep their shape
+    if !r.two_tone.is_empty() {
+        if let Some(o) = j.as_object_mut() {
+            o.insert(
+                "two_tone".into(),
+                r.two_tone
+                    .iter()
+                    .map(crate::twotone::two_tone_json)
+                    .collect(),
+            );
+        }
+    }
+    j
 }
 
 #[cfg(test)]
