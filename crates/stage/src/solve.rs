@@ -270,7 +270,10 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
                 order,
                 levels,
             } => {
-                if opts.scope == Scope::All && beyond_op {
+                // the first one also when a requirement reads its figures
+                let needed = opts.scope == Scope::All
+                    || (res.two_tone.is_empty() && needs_two_tone(circuit));
+                if needed && beyond_op {
                     let spec = TwoToneSpec {
                         spacing: *spacing,
                         order: *order,
@@ -320,6 +323,9 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
             }
         }
     }
+    if let (Some(s), Some(t)) = (res.steady.as_mut(), res.two_tone.first()) {
+        s.metrics.two_tone = Some(t.full.clone());
+    }
     if let Some(s) = &res.steady {
         res.verdicts = tankwave_measure::evaluate(circuit, &s.metrics);
     }
@@ -357,6 +363,17 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
         fail(&mut res, StageError::RequirementsWithoutSteady)?;
     }
     Ok(res)
+}
+
+/// Whether a requirement reads a two-tone figure.
+fn needs_two_tone(circuit: &Circuit) -> bool {
+    use tankwave_circuit::figure::Figure;
+    circuit.requirements.iter().any(|r| {
+        matches!(
+            r.metric.figure,
+            Figure::Imd3 | Figure::Imd5 | Figure::Imd7 | Figure::Pep
+        )
+    })
 }
 
 /// Shrink a transient to the caps (left alone when its step or stop time
