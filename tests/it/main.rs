@@ -28,3 +28,4 @@ mod layering;
 mod readme;
 mod ruggedness;
 mod trade;
+mod twotone;

@@ -102,6 +102,15 @@ impl TwoToneMetrics {
             .reduce(f64::max)
     }
 
+    /// [`TwoToneMetrics::worst_dbc`], or the floor when neither side is
+    /// resolved (the products are at most that): what a requirement reads.
+    pub fn worst_dbc_or_floor(&self, order: u32) -> Option<f64> {
+        if !IMD_ORDERS.contains(&order) {
+            return None;
+        }
+        Some(self.worst_dbc(order).unwrap_or(self.floor_dbc))
+    }
+
     /// The worse side of the products of `order`, dB against PEP.
     pub fn worst_below_pep_db(&self, order: u32) -> Option<f64> {
         self.products
