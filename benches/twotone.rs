@@ -70,7 +70,11 @@ fn main() {
         };
         let mut info = None;
         let t = time(3, || {
-            info = Some(tankwave_solve::multitone(&c, &d, &p).expect("multi-tone").info);
+            info = Some(
+                tankwave_solve::multitone(&c, &d, &p)
+                    .expect("multi-tone")
+                    .info,
+            );
         });
         let info = info.expect("solved");
         println!(

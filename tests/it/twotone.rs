@@ -86,6 +86,28 @@ fn the_linear_demo_passes_its_imd_requirements_and_draws_its_sweep() {
         .collect();
     assert!(im3.windows(2).all(|w| w[1] > w[0]), "{im3:?}");
     assert!(dir.path().join("twotone.svg").exists());
+    // IMD against spacing: the base feed choke (2.2 uH) and the bias bypass
+    // (1 uF) resonate at 1/(2π√(LC)) ≈ 107 kHz, so the envelope's bias
+    // modulation is largest near a 100 kHz spacing; at 1 kHz and 10 kHz,
+    // far below it, the bias network follows the envelope alike.
+    let im3_at = |k: usize| -> f64 {
+        t["by_spacing"][k]["metrics"]["products"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .filter(|r| r["order"] == 3)
+            .filter_map(|r| r["dbc"].as_f64())
+            .fold(f64::MIN, f64::max)
+    };
+    assert_eq!(t["by_spacing"].as_array().unwrap().len(), 3);
+    assert_eq!(t["by_spacing"][2]["spacing_hz"], 100e3);
+    assert!(
+        (im3_at(0) - im3_at(1)).abs() < 0.5,
+        "{} {}",
+        im3_at(0),
+        im3_at(1)
+    );
+    assert!(im3_at(2) > im3_at(0) + 1.0, "{} {}", im3_at(2), im3_at(0));
     let out = run(&["check", p(&f)]);
     assert_eq!(code(&out), 0, "{}", stdout(&out));
 }

@@ -314,13 +314,24 @@ pub(crate) fn analysis(
                 ));
             }
         }
-        Analysis::TwoTone { levels, .. } => {
+        Analysis::TwoTone {
+            levels, spacings, ..
+        } => {
             if levels.len() as f64 > LIMITS.max_loads {
                 out.push(too_many(
                     map,
                     at("levels"),
                     "drive levels of a two-tone sweep",
                     levels.len() as f64,
+                    LIMITS.max_loads,
+                ));
+            }
+            if spacings.len() as f64 > LIMITS.max_loads {
+                out.push(too_many(
+                    map,
+                    at("spacing"),
+                    "tone spacings of a two-tone test",
+                    spacings.len() as f64,
                     LIMITS.max_loads,
                 ));
             }

@@ -598,13 +598,16 @@ pub enum Analysis {
         /// The reference impedance, Ω (`None`: the output resistor's value).
         reference: Option<f64>,
     },
-    /// `analyze twotone spacing=Hz [order=K] [levels=[dB, …]]`: the `input`
+    /// `analyze twotone spacing=Hz|[Hz, …] [order=K] [levels=[dB, …]]`: the `input`
     /// source's sine split into two tones of half its amplitude at
     /// `f ∓ spacing/2`, solved by multi-tone harmonic balance
     /// (docs/analyses.md, "Two-tone test").
     TwoTone {
-        /// Distance between the two tones, Hz.
+        /// Distance between the two tones, Hz (the first of `spacings`).
         spacing: f64,
+        /// Every spacing given, in file order: with more than one, the
+        /// intermodulation at full drive is also reported at each.
+        spacings: Vec<f64>,
         /// Box truncation order: every multiple of each tone up to it.
         order: usize,
         /// Drive levels of the sweep, dB relative to the input's amplitude

@@ -467,9 +467,9 @@ pub mod analysis {
     /// `spacing=` of a two-tone test.
     pub const SPACING: OptionSpec = opt(
         "spacing",
-        Takes::Value(Slot::Frequency, Range::Positive),
+        Takes::List(Slot::Frequency, Range::Positive),
         Default::Required,
-        "the distance between the two tones",
+        "the distance between the two tones; several for IMD against spacing",
     );
     /// `order=` of a two-tone test.
     pub const ORDER: OptionSpec = opt(

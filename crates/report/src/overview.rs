@@ -79,6 +79,7 @@ pub fn stage_overview(file: &str, c: &Circuit, warnings: usize) -> String {
                 spacing,
                 order,
                 levels,
+                ..
             } => format!(
                 "two-tone, spacing {}, order {order}, {} drive levels",
                 crate::format::si(*spacing, "Hz"),

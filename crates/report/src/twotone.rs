@@ -135,6 +135,31 @@ pub fn two_tone_text(t: &TwoToneTest) -> String {
         }
         s.push_str(&tb.render());
     }
+    if !t.by_spacing.is_empty() {
+        s.push_str("  Intermodulation against tone spacing (input's own drive)\n");
+        let mut tb = Table::new(vec![
+            ("spacing", Align::Right),
+            ("tone power", Align::Right),
+            ("IM3", Align::Right),
+            ("IM5", Align::Right),
+            ("IM7", Align::Right),
+        ]);
+        for (sp, m) in &t.by_spacing {
+            let worst = |o: u32| {
+                m.worst_dbc(o)
+                    .map(|d| db(d, "dBc"))
+                    .unwrap_or_else(|| "below floor".into())
+            };
+            tb.row(vec![
+                si(*sp, "Hz"),
+                db(dbm(m.mean_tone_w()), "dBm"),
+                worst(3),
+                worst(5),
+                worst(7),
+            ]);
+        }
+        s.push_str(&tb.render());
+    }
     s
 }
 
@@ -172,6 +197,10 @@ pub fn two_tone_json(t: &TwoToneTest) -> Value {
             "level_db": l.level_db,
             "gain_change_db": l.gain_change_db,
             "metrics": metrics_json(&l.metrics),
+        })).collect::<Vec<_>>(),
+        "by_spacing": t.by_spacing.iter().map(|(sp, m)| json!({
+            "spacing_hz": sp,
+            "metrics": metrics_json(m),
         })).collect::<Vec<_>>(),
     })
 }

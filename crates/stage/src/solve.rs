@@ -267,6 +267,7 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
             Analysis::Ruggedness { .. } => {}
             Analysis::TwoTone {
                 spacing,
+                spacings,
                 order,
                 levels,
             } => {
@@ -274,10 +275,13 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
                 let needed = opts.scope == Scope::All
                     || (res.two_tone.is_empty() && needs_two_tone(circuit));
                 if needed && beyond_op {
+                    // only the test at full drive when only requirements are asked for
+                    let all = opts.scope == Scope::All;
                     let spec = TwoToneSpec {
                         spacing: *spacing,
                         order: *order,
-                        levels: levels.clone(),
+                        levels: if all { levels.clone() } else { Vec::new() },
+                        spacings: if all { spacings.clone() } else { Vec::new() },
                     };
                     match two_tone(circuit, &devices, &spec, opts.caps.as_ref()) {
                         Ok(t) => res.two_tone.push(t),

@@ -28,6 +28,9 @@ pub struct TwoToneSpec {
     pub order: usize,
     /// Drive levels of the sweep, dB relative to the input's amplitude.
     pub levels: Vec<f64>,
+    /// Spacings of the IMD-against-spacing sweep at full drive (ignored
+    /// with fewer than two; the first is normally `spacing`).
+    pub spacings: Vec<f64>,
 }
 
 /// A solved two-tone test.
@@ -52,6 +55,9 @@ pub struct TwoToneTest {
     pub system_size: usize,
     /// The drive sweep, rising (empty without `levels=`).
     pub sweep: Vec<ToneLevel>,
+    /// The figures at full drive at each spacing, in the order given
+    /// (empty with fewer than two spacings).
+    pub by_spacing: Vec<(f64, TwoToneMetrics)>,
 }
 
 fn bad(m: String) -> StageError {
@@ -90,20 +96,29 @@ pub fn two_tone(
     let ElementKind::Resistor { a, b, r, .. } = out.kind else {
         return Err(bad(format!("the output '{}' is not a resistor", out.name)));
     };
-    if !(spec.spacing > 0.0 && spec.spacing < freq) {
-        return Err(bad(format!(
-            "the tone spacing {} Hz is not between 0 and the input's frequency {} Hz",
-            spec.spacing, freq
-        )));
-    }
-    let tones = [freq - 0.5 * spec.spacing, freq + 0.5 * spec.spacing];
     let mut order = spec.order;
     let mut levels = spec.levels.clone();
+    let mut spacings = if spec.spacings.len() >= 2 {
+        spec.spacings.clone()
+    } else {
+        Vec::new()
+    };
     if caps.is_some() {
         order = order.min(CAPPED_ORDER);
         levels.truncate(CAPPED_LEVELS);
+        spacings.truncate(CAPPED_LEVELS);
     }
-    let solve_at = |level_db: f64| -> Result<(ToneSolution, TwoToneMetrics), StageError> {
+    for &s in std::iter::once(&spec.spacing).chain(&spacings) {
+        if !(s > 0.0 && s < freq) {
+            return Err(bad(format!(
+                "the tone spacing {s} Hz is not between 0 and the input's frequency {freq} Hz"
+            )));
+        }
+    }
+    let solve_at = |spacing: f64,
+                    level_db: f64|
+     -> Result<(ToneSolution, TwoToneMetrics), StageError> {
+        let tones = [freq - 0.5 * spacing, freq + 0.5 * spacing];
         let g = 10f64.powf(level_db / 20.0);
         let mut p = ToneParams {
             tones: tones.to_vec(),
@@ -137,14 +152,22 @@ pub fn two_tone(
         let metrics = two_tone_metrics(&view).map_err(|e| bad(e.to_string()))?;
         Ok((s, metrics))
     };
-    let (s, full) = solve_at(0.0)?;
+    let (s, full) = solve_at(spec.spacing, 0.0)?;
     let info: &ToneInfo = &s.info;
     let mut swept = Vec::with_capacity(levels.len());
     for &l in &levels {
         if l == 0.0 {
             swept.push((l, full.clone()));
         } else {
-            swept.push((l, solve_at(l)?.1));
+            swept.push((l, solve_at(spec.spacing, l)?.1));
+        }
+    }
+    let mut by_spacing = Vec::with_capacity(spacings.len());
+    for &sp in &spacings {
+        if sp == spec.spacing {
+            by_spacing.push((sp, full.clone()));
+        } else {
+            by_spacing.push((sp, solve_at(sp, 0.0)?.1));
         }
     }
     Ok(TwoToneTest {
@@ -157,5 +180,6 @@ pub fn two_tone(
         system_size: info.system_size,
         full,
         sweep: sweep_levels(swept),
+        by_spacing,
     })
 }

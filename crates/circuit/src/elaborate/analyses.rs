@@ -183,7 +183,16 @@ impl<'a> Cx<'a> {
     }
 
     fn two_tone(&mut self, kind: &Ident, m: &super::opts::Given<'a>) -> Option<Analysis> {
-        let spacing = self.required(m, &o::SPACING, kind.span, "analyze twotone")?;
+        let Some(spacings) = self.opt_list(m, &o::SPACING)? else {
+            self.error(
+                "missing-option",
+                kind.span,
+                "analyze twotone needs spacing= (one tone spacing, or several in brackets)",
+            );
+            return None;
+        };
+        let spacings: Vec<f64> = spacings.into_iter().map(|(v, _)| v).collect();
+        let spacing = spacings[0];
         let order = self.opt_count(m, &o::ORDER)?.unwrap_or(7);
         if order > o::ORDER_MAX {
             let at = match self.given_expr(m, &o::ORDER) {
@@ -214,6 +223,7 @@ impl<'a> Cx<'a> {
         }
         Some(Analysis::TwoTone {
             spacing,
+            spacings,
             order: order as usize,
             levels: levels.into_iter().map(|(v, _)| v).collect(),
         })
@@ -267,7 +277,8 @@ impl<'a> Cx<'a> {
                     );
                 }
                 Some(f) => {
-                    if let Analysis::TwoTone { spacing, .. } = a {
+                    if let Analysis::TwoTone { spacings, .. } = a {
+                        let spacing = spacings.iter().copied().fold(0.0, f64::max);
                         if spacing >= f {
                             self.error(
                                 "bad-value",
