@@ -108,6 +108,12 @@ fn the_linear_demo_passes_its_imd_requirements_and_draws_its_sweep() {
         im3_at(1)
     );
     assert!(im3_at(2) > im3_at(0) + 1.0, "{} {}", im3_at(2), im3_at(0));
+    let html = dir.path().join("r.html");
+    let out = run(&["run", p(&f), "--report", p(&html)]);
+    assert_eq!(code(&out), 0);
+    let page = std::fs::read_to_string(&html).unwrap();
+    assert!(page.contains("Two-tone test, spacing 1.00 kHz"));
+    assert!(page.contains("Caution"));
     let out = run(&["check", p(&f)]);
     assert_eq!(code(&out), 0, "{}", stdout(&out));
 }

@@ -163,6 +163,65 @@ pub fn two_tone_text(t: &TwoToneTest) -> String {
     s
 }
 
+/// A two-tone test as a section of the HTML report: the headline figures
+/// as lines, the products as a table, the sweep plot.
+pub fn two_tone_section(t: &TwoToneTest, p: &PlotParams) -> crate::html::StudySection {
+    let m = &t.full;
+    let mut lines = vec![
+        (
+            "tones".to_string(),
+            format!(
+                "{} and {} (spacing {}), order {}, {} mixing products",
+                hz(m.tones_hz[0]),
+                hz(m.tones_hz[1]),
+                si(t.spacing_hz, "Hz"),
+                t.order,
+                t.products
+            ),
+        ),
+        (
+            "tone power".to_string(),
+            format!("{} lower, {} upper", power(m.tone_w[0]), power(m.tone_w[1])),
+        ),
+        ("PEP".to_string(), power(m.pep_w)),
+    ];
+    let est = |v: Option<f64>| v.map(power).unwrap_or_else(|| "—".into());
+    lines.push(("third-order intercept (estimate)".into(), est(m.oip3_w)));
+    lines.push(("fifth-order intercept (estimate)".into(), est(m.oip5_w)));
+    let rows = m
+        .products
+        .iter()
+        .map(|r| {
+            vec![
+                format!("IM{}", r.order),
+                side(r.side).into(),
+                hz(r.freq_hz),
+                level(r.dbc, "dBc", m.floor_dbc),
+                level(r.below_pep_db, "dB", m.floor_dbc),
+            ]
+        })
+        .collect();
+    crate::html::StudySection {
+        title: format!("Two-tone test, spacing {}", si(t.spacing_hz, "Hz")),
+        lines,
+        table: Some(crate::html::PlainTable {
+            header: ["product", "side", "frequency", "level", "against PEP"]
+                .iter()
+                .map(|h| h.to_string())
+                .collect(),
+            rows,
+        }),
+        figures: sweep_plot(t, p)
+            .ok()
+            .map(|svg| crate::html::Figure {
+                caption: PLOT_CAPTION.into(),
+                svg,
+            })
+            .into_iter()
+            .collect(),
+    }
+}
+
 fn metrics_json(m: &TwoToneMetrics) -> Value {
     json!({
         "tones_hz": m.tones_hz,

@@ -159,6 +159,11 @@ pub fn stage_report(
             .ruggedness
             .iter()
             .map(|s| crate::ruggedness::ruggedness_section(s, &PlotParams::for_source(file)))
+            .chain(
+                r.two_tone
+                    .iter()
+                    .map(|t| crate::twotone::two_tone_section(t, &PlotParams::for_source(file))),
+            )
             .collect(),
         intro: Vec::new(),
         stage_label: None,
