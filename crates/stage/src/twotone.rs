@@ -2,7 +2,7 @@
 //! sine (amplitude A at f, phase φ) replaced by two tones of amplitude A/2 at
 //! `f − spacing/2` and `f + spacing/2` (the envelope's peak is the single
 //! tone's peak), solved by multi-tone harmonic balance
-//! ([`tankwave_solve::multitone`]) and measured in the `output` resistor
+//! ([`tankwave_solve::multitone()`]) and measured in the `output` resistor
 //! ([`tankwave_measure::twotone`]); with `levels=`, once per drive level.
 
 use tankwave_circuit::ir::Shape;
