@@ -30,4 +30,5 @@ mod layering;
 mod readme;
 mod ruggedness;
 mod trade;
+mod twotone;
 mod watch;

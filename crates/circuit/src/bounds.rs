@@ -314,6 +314,28 @@ pub(crate) fn analysis(
                 ));
             }
         }
+        Analysis::TwoTone {
+            levels, spacings, ..
+        } => {
+            if levels.len() as f64 > LIMITS.max_loads {
+                out.push(too_many(
+                    map,
+                    at("levels"),
+                    "drive levels of a two-tone sweep",
+                    levels.len() as f64,
+                    LIMITS.max_loads,
+                ));
+            }
+            if spacings.len() as f64 > LIMITS.max_loads {
+                out.push(too_many(
+                    map,
+                    at("spacing"),
+                    "tone spacings of a two-tone test",
+                    spacings.len() as f64,
+                    LIMITS.max_loads,
+                ));
+            }
+        }
         Analysis::Ruggedness { vswr, phases, .. } => {
             let loads = vswr.len() as f64 * *phases as f64;
             if loads > LIMITS.max_loads {
@@ -401,6 +423,13 @@ pub fn analysis_bytes(c: &Circuit, a: &Analysis) -> f64 {
         Analysis::Ruggedness { .. } => dense,
         // one steady state at a time, a small thermal network and its samples
         Analysis::Heat(_) => dense,
+        // one drive level at a time: the reduced network per mixing product
+        // (p² complex entries each), a GMRES basis of 64 vectors of the real
+        // system, and the dense matrices of the operating point
+        Analysis::TwoTone { order, .. } => {
+            let slots = (((2 * order + 1) * (2 * order + 1)) / 2 + 1) as f64;
+            16.0 * ports * ports * slots + 8.0 * 64.0 * ports * 2.0 * slots + dense
+        }
         Analysis::Steady {
             harmonics,
             steps_per_period,

@@ -203,6 +203,34 @@ macro_rules! figure_catalogue {
                 label: "conduction angle",
                 about: Transistor(|t| Some(t.conduction_deg)),
             },
+            Imd3 {
+                word: Some("imd3"),
+                record: None,
+                unit: Dbc,
+                label: "third-order intermodulation of a two-tone test, worse side",
+                about: Stage(|m| m.two_tone.as_ref().ok_or("imd3")?.worst_dbc_or_floor(3).ok_or("imd3")),
+            },
+            Imd5 {
+                word: Some("imd5"),
+                record: None,
+                unit: Dbc,
+                label: "fifth-order intermodulation of a two-tone test, worse side",
+                about: Stage(|m| m.two_tone.as_ref().ok_or("imd5")?.worst_dbc_or_floor(5).ok_or("imd5")),
+            },
+            Imd7 {
+                word: Some("imd7"),
+                record: None,
+                unit: Dbc,
+                label: "seventh-order intermodulation of a two-tone test, worse side",
+                about: Stage(|m| m.two_tone.as_ref().ok_or("imd7")?.worst_dbc_or_floor(7).ok_or("imd7")),
+            },
+            Pep {
+                word: Some("pep"),
+                record: None,
+                unit: Watt,
+                label: "peak envelope power of a two-tone test",
+                about: Stage(|m| Ok(m.two_tone.as_ref().ok_or("pep")?.pep_w)),
+            },
         }
     };
 }

@@ -656,6 +656,22 @@ pub enum Analysis {
         /// The reference impedance, Ω (`None`: the output resistor's value).
         reference: Option<f64>,
     },
+    /// `analyze twotone spacing=Hz|[Hz, …] [order=K] [levels=[dB, …]]`: the `input`
+    /// source's sine split into two tones of half its amplitude at
+    /// `f ∓ spacing/2`, solved by multi-tone harmonic balance
+    /// (docs/analyses.md, "Two-tone test").
+    TwoTone {
+        /// Distance between the two tones, Hz (the first of `spacings`).
+        spacing: f64,
+        /// Every spacing given, in file order: with more than one, the
+        /// intermodulation at full drive is also reported at each.
+        spacings: Vec<f64>,
+        /// Box truncation order: every multiple of each tone up to it.
+        order: usize,
+        /// Drive levels of the sweep, dB relative to the input's amplitude
+        /// (empty: the full drive only).
+        levels: Vec<f64>,
+    },
     /// `analyze heat [sink=[…] sink_ambient=K/W sink_heat=J/K] [transmit=s mark=s space=s] [rounds=N]`:
     /// the steady state solved together with the junction temperatures,
     /// and the heating over a keyed transmission (docs/thermal.md).
@@ -692,6 +708,7 @@ impl Analysis {
             Analysis::Steady { .. } => 3,
             Analysis::Ruggedness { .. } => 4,
             Analysis::Heat(_) => 5,
+            Analysis::TwoTone { .. } => 6,
         };
         crate::options::analysis::ALL[k].0
     }

@@ -533,6 +533,29 @@ pub mod analysis {
         Default::Number(30.0),
         "most electrical solves the electrothermal iteration may spend",
     );
+    /// `spacing=` of a two-tone test.
+    pub const SPACING: OptionSpec = opt(
+        "spacing",
+        Takes::List(Slot::Frequency, Range::Positive),
+        Default::Required,
+        "the distance between the two tones; several for IMD against spacing",
+    );
+    /// `order=` of a two-tone test.
+    pub const ORDER: OptionSpec = opt(
+        "order",
+        Takes::Count(1),
+        Default::Number(7.0),
+        "the highest multiple of each tone kept among the mixing products",
+    );
+    /// The largest `order=` of a two-tone test: (2·20 + 1)² products.
+    pub const ORDER_MAX: u64 = 20;
+    /// `levels=` of a two-tone test.
+    pub const LEVELS: OptionSpec = opt(
+        "levels",
+        Takes::List(Slot::Db, Range::Any),
+        Default::Absent,
+        "drive levels of a sweep, dB relative to the input's amplitude",
+    );
 
     /// The options of each analysis, by kind.
     pub const ALL: &[(&str, &[OptionSpec])] = &[
@@ -558,6 +581,7 @@ pub mod analysis {
             "heat",
             &[SINK, SINK_AMBIENT, SINK_HEAT, TRANSMIT, MARK, SPACE, ROUNDS],
         ),
+        ("twotone", &[SPACING, ORDER, LEVELS]),
     ];
 
     /// The options of an analysis, or `None` for an unknown analysis.

@@ -6,6 +6,7 @@
 //! CLI fills; this crate never depends on the solver), turns it into
 //! [`Metrics`] (output power per harmonic, supply power, efficiency, PAE,
 //! gain, drive impedance and VSWR, transistor figures, component stress),
+//! forms the two-tone figures of a multi-tone solve ([`two_tone_metrics`]),
 //! checks harmonics against emission masks ([`evaluate_mask`]) and checks
 //! every `require` statement ([`evaluate`]). It must not solve circuits and
 //! does no formatting: verdicts carry typed values (a number and its
@@ -40,6 +41,7 @@ pub mod mask;
 pub mod metrics;
 pub mod period;
 pub mod spectrum;
+pub mod twotone;
 pub mod units;
 pub mod verdict;
 
@@ -54,4 +56,7 @@ pub use metrics::{
 };
 pub use period::{average_absorbed, PeriodData};
 pub use spectrum::{spectrum, Spectrum};
+pub use twotone::{
+    sweep_levels, two_tone_metrics, ImdRow, Side, ToneError, ToneLevel, ToneView, TwoToneMetrics,
+};
 pub use verdict::{evaluate, evaluate_one, metric_unit, Unit, Verdict};

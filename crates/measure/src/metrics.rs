@@ -299,6 +299,11 @@ pub struct Metrics {
     pub stress: Vec<StressRow>,
     /// Why figures are missing.
     pub notes: Vec<Note>,
+    /// The two-tone figures of the file's first `analyze twotone` at full
+    /// drive ([`crate::twotone`]), set by whoever ran it (`None`: none ran;
+    /// left out of JSON then).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub two_tone: Option<crate::twotone::TwoToneMetrics>,
 }
 
 impl Metrics {
@@ -1150,6 +1155,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
         transistors,
         stress,
         notes,
+        two_tone: None,
     })
 }
 

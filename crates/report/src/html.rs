@@ -115,8 +115,8 @@ pub struct ReportInput<'a> {
     pub ac: Option<AcView<'a>>,
     /// Study summaries.
     pub studies: &'a [StudySection],
-    /// Sweeps of the output load (ruggedness circles), shown after the
-    /// collector load as sections of lines, a table and figures.
+    /// Sweeps of the output load (ruggedness circles) and two-tone tests,
+    /// shown after the collector load as sections of lines, a table and figures.
     pub load_sweeps: Vec<StudySection>,
     /// Paragraphs shown under the file line (e.g. what a study report holds).
     pub intro: Vec<String>,

@@ -40,6 +40,7 @@ pub mod provenance;
 pub mod ruggedness;
 pub mod stage;
 pub mod table;
+pub mod twotone;
 
 pub use files::{write_atomic, ReportError};
 pub use format::{db, fixed, si};

@@ -83,6 +83,16 @@ pub fn stage_overview(file: &str, c: &Circuit, warnings: usize) -> String {
                 ),
                 None => format!("heat, {} on the shared heatsink", h.sink.len()),
             },
+            Analysis::TwoTone {
+                spacing,
+                order,
+                levels,
+                ..
+            } => format!(
+                "two-tone, spacing {}, order {order}, {} drive levels",
+                crate::format::si(*spacing, "Hz"),
+                levels.len().max(1)
+            ),
         })
         .collect();
     let _ = writeln!(

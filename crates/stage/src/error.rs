@@ -85,6 +85,9 @@ pub enum StageError {
         /// Why this is a runaway.
         why: String,
     },
+    /// A two-tone test cannot be set up or measured for this stage.
+    #[error("two-tone test: {0}")]
+    TwoTone(String),
 }
 
 impl StageError {
@@ -100,6 +103,7 @@ impl StageError {
                 | StageError::Drive(_)
                 | StageError::Mismatch(_)
                 | StageError::HeatSetup { .. }
+                | StageError::TwoTone(_)
         )
     }
 }

@@ -51,6 +51,7 @@ pub mod masks;
 pub mod mismatch;
 pub mod record;
 pub mod solve;
+pub mod twotone;
 pub mod variant;
 
 pub use drive::{apply_context, scale_drive, DriveError};

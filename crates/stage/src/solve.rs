@@ -13,6 +13,7 @@ use tankwave_solve::{
 };
 
 use crate::mismatch::{sweep_from, Circle, MismatchSweep};
+use crate::twotone::{two_tone, TwoToneSpec, TwoToneTest};
 use crate::StageError;
 
 /// The steady state of a stage and what was measured on it.
@@ -60,6 +61,8 @@ pub struct StageResults {
     /// Each `analyze ruggedness` in file order: the output load moved
     /// around its circles ([`crate::mismatch`]).
     pub ruggedness: Vec<MismatchSweep>,
+    /// Each `analyze twotone` in file order ([`crate::twotone`]).
+    pub two_tone: Vec<TwoToneTest>,
     /// The analyses that failed, when solving with
     /// [`SolveOptions::keep_going`] (always empty otherwise: the first
     /// failure is returned as the error).
@@ -77,6 +80,7 @@ impl Clone for StageResults {
             heat: self.heat.clone(),
             verdicts: self.verdicts.clone(),
             ruggedness: self.ruggedness.clone(),
+            two_tone: self.two_tone.clone(),
             failures: Vec::new(),
         }
     }
@@ -285,6 +289,30 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
             Analysis::Ruggedness { .. } => {}
             // solved with the steady state
             Analysis::Heat(_) => {}
+            Analysis::TwoTone {
+                spacing,
+                spacings,
+                order,
+                levels,
+            } => {
+                // the first one also when a requirement reads its figures
+                let needed = opts.scope == Scope::All
+                    || (res.two_tone.is_empty() && needs_two_tone(circuit));
+                if needed && beyond_op {
+                    // only the test at full drive when only requirements are asked for
+                    let all = opts.scope == Scope::All;
+                    let spec = TwoToneSpec {
+                        spacing: *spacing,
+                        order: *order,
+                        levels: if all { levels.clone() } else { Vec::new() },
+                        spacings: if all { spacings.clone() } else { Vec::new() },
+                    };
+                    match two_tone(circuit, &devices, &spec, opts.caps.as_ref()) {
+                        Ok(t) => res.two_tone.push(t),
+                        Err(e) => fail(&mut res, e)?,
+                    }
+                }
+            }
             Analysis::Steady { .. } => {
                 if res.steady.is_some() || steady_tried {
                     continue;
@@ -347,6 +375,9 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
             }
         }
     }
+    if let (Some(s), Some(t)) = (res.steady.as_mut(), res.two_tone.first()) {
+        s.metrics.two_tone = Some(t.full.clone());
+    }
     if let Some(s) = &res.steady {
         res.verdicts = tankwave_measure::evaluate(circuit, &s.metrics);
     }
@@ -387,6 +418,17 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
         fail(&mut res, StageError::RequirementsWithoutSteady)?;
     }
     Ok(res)
+}
+
+/// Whether a requirement reads a two-tone figure.
+fn needs_two_tone(circuit: &Circuit) -> bool {
+    use tankwave_circuit::figure::Figure;
+    circuit.requirements.iter().any(|r| {
+        matches!(
+            r.metric.figure,
+            Figure::Imd3 | Figure::Imd5 | Figure::Imd7 | Figure::Pep
+        )
+    })
 }
 
 /// Shrink a transient to the caps (left alone when its step or stop time

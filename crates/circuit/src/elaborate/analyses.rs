@@ -1,4 +1,4 @@
-//! `analyze bias|transient|ac|steady|ruggedness|heat`: options read through
+//! `analyze bias|transient|ac|steady|ruggedness|heat|twotone`: options read through
 //! [`crate::options::analysis`], checked against each other.
 
 use super::{fmt_num, Cx};
@@ -22,6 +22,7 @@ impl<'a> Cx<'a> {
             "ac" => self.ac(kind, &m),
             "ruggedness" => self.ruggedness(kind, &m),
             "heat" => self.heat(kind, &m),
+            "twotone" => self.two_tone(kind, &m),
             _ => self.steady(kind, &m),
         }
     }
@@ -191,6 +192,120 @@ impl<'a> Cx<'a> {
             phases,
             reference,
         })
+    }
+
+    fn two_tone(&mut self, kind: &Ident, m: &super::opts::Given<'a>) -> Option<Analysis> {
+        let Some(spacings) = self.opt_list(m, &o::SPACING)? else {
+            self.error(
+                "missing-option",
+                kind.span,
+                "analyze twotone needs spacing= (one tone spacing, or several in brackets)",
+            );
+            return None;
+        };
+        let spacings: Vec<f64> = spacings.into_iter().map(|(v, _)| v).collect();
+        let spacing = spacings[0];
+        let order = self.opt_count(m, &o::ORDER)?.unwrap_or(7);
+        if order > o::ORDER_MAX {
+            let at = match self.given_expr(m, &o::ORDER) {
+                Some(Some(e)) => e.span,
+                _ => kind.span,
+            };
+            self.error(
+                "bad-value",
+                at,
+                format!(
+                    "order= of a two-tone test is at most {}, got {order}",
+                    o::ORDER_MAX
+                ),
+            );
+            return None;
+        }
+        let levels = self.opt_list(m, &o::LEVELS)?.unwrap_or_default();
+        if let Some((bad, at)) = levels.iter().find(|(v, _)| !(-60.0..=20.0).contains(v)) {
+            self.error(
+                "bad-value",
+                *at,
+                format!(
+                    "a drive level is from -60 dB to +20 dB of the input's amplitude, got {} dB",
+                    fmt_num(*bad)
+                ),
+            );
+            return None;
+        }
+        Some(Analysis::TwoTone {
+            spacing,
+            spacings,
+            order: order as usize,
+            levels: levels.into_iter().map(|(v, _)| v).collect(),
+        })
+    }
+
+    /// A two-tone test splits the `input` source's sine and reads the
+    /// `output` resistor: both must be there; checked once the ports are known.
+    pub(super) fn check_two_tone(&mut self, c: &Circuit) {
+        let spans: Vec<_> = c
+            .analyses
+            .iter()
+            .zip(self.analysis_spans.clone())
+            .filter(|(a, _)| matches!(a, Analysis::TwoTone { .. }))
+            .map(|(a, s)| (a.clone(), s))
+            .collect();
+        if spans.is_empty() {
+            return;
+        }
+        let output_is_resistor = matches!(
+            c.output
+                .and_then(|id| c.elements.get(id.index()))
+                .map(|e| &e.kind),
+            Some(ElementKind::Resistor { .. })
+        );
+        let input_sine = c
+            .input
+            .and_then(|id| c.elements.get(id.index()))
+            .and_then(|e| match &e.kind {
+                ElementKind::VoltageSource { wave, .. }
+                | ElementKind::CurrentSource { wave, .. } => match wave.shape {
+                    Some(Shape::Sine { freq, .. }) => Some(freq),
+                    _ => None,
+                },
+                _ => None,
+            });
+        for (a, span) in spans {
+            if !output_is_resistor {
+                self.error(
+                    "element-kind",
+                    span,
+                    "analyze twotone reads the output load: the file needs `output` naming a resistor",
+                );
+            }
+            match input_sine {
+                None => {
+                    self.error(
+                        "element-kind",
+                        span,
+                        "analyze twotone splits the input's sine into two tones: the file needs \
+                         `input` naming a source with a sine wave",
+                    );
+                }
+                Some(f) => {
+                    if let Analysis::TwoTone { spacings, .. } = a {
+                        let spacing = spacings.iter().copied().fold(0.0, f64::max);
+                        if spacing >= f {
+                            self.error(
+                                "bad-value",
+                                span,
+                                format!(
+                                    "the tone spacing {} is not below the input's frequency {}",
+                                    crate::si::si_prefixed(spacing, "Hz", 4),
+                                    crate::si::si_prefixed(f, "Hz", 4)
+                                ),
+                            );
+                        }
+                    }
+                }
+            }
+        }
     }
 
     fn heat(&mut self, kind: &Ident, m: &super::opts::Given<'a>) -> Option<Analysis> {

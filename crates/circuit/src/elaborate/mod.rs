@@ -225,6 +225,7 @@ impl<'a> Cx<'a> {
         self.ports(stmts, &mut c);
         if !self.has_errors() {
             self.check_load_sweeps(&c);
+            self.check_two_tone(&c);
         }
         let mask_ids = self.masks(stmts, &mut c);
         self.requirements_and_studies(stmts, &mask_ids, &mut c);

@@ -63,6 +63,21 @@ pub fn stage_plots(file: &str, c: &Circuit, r: &StageResults) -> Drawn {
             d.add(name, caption, svg);
         }
     }
+    for (k, t) in r.two_tone.iter().enumerate() {
+        if t.sweep.len() < 2 {
+            continue;
+        }
+        let name = if k == 0 {
+            "twotone.svg".to_string()
+        } else {
+            format!("twotone-{}.svg", k + 1)
+        };
+        d.add(
+            name,
+            crate::twotone::PLOT_CAPTION.into(),
+            crate::twotone::sweep_plot(t, &p),
+        );
+    }
     for (k, s) in r.ruggedness.iter().enumerate() {
         let name = if k == 0 {
             "smith-ruggedness.svg".to_string()
@@ -153,6 +168,11 @@ pub fn stage_report(
                 .chain(r.ruggedness.iter().map(|s| {
                     crate::ruggedness::ruggedness_section(s, &PlotParams::for_source(file))
                 }))
+                .chain(
+                    r.two_tone.iter().map(|t| {
+                        crate::twotone::two_tone_section(t, &PlotParams::for_source(file))
+                    }),
+                )
                 .collect(),
             intro: Vec::new(),
             stage_label: None,
@@ -236,7 +256,11 @@ pub fn results_text(file: &str, c: &Circuit, r: &StageResults, verbose: bool) ->
         s.push('\n');
         s.push_str(&crate::ruggedness::ruggedness_text(sweep));
     }
-    if r.steady.is_some() || !r.ruggedness.is_empty() {
+    for t in &r.two_tone {
+        s.push('\n');
+        s.push_str(&crate::twotone::two_tone_text(t));
+    }
+    if r.steady.is_some() || !r.ruggedness.is_empty() || !r.two_tone.is_empty() {
         s.push_str(&format!("\n{}\n", text::SAFETY_NOTE));
     }
     s
@@ -267,6 +291,18 @@ pub fn results_json(tool: &str, file: &str, c: &Circuit, r: &StageResults) -> Va
     // present only with `analyze heat` (documents without it are unchanged)
     if let (Some(h), Some(o)) = (&r.heat, doc.as_object_mut()) {
         o.insert("heat".into(), crate::heat::heat_json(h));
+    }
+    // only when the file asks for one: the documents of other stages keep their shape
+    if !r.two_tone.is_empty() {
+        if let Some(o) = doc.as_object_mut() {
+            o.insert(
+                "two_tone".into(),
+                r.two_tone
+                    .iter()
+                    .map(crate::twotone::two_tone_json)
+                    .collect(),
+            );
+        }
     }
     doc
 }

@@ -195,6 +195,7 @@ pub fn metrics() -> Metrics {
             fraction: Some(22.5 / 36.0),
         }],
         notes: vec![],
+        two_tone: None,
     }
 }
 

@@ -63,8 +63,8 @@
 //!   `p×p` LU per harmonic of `Ŷ_k + Ĝ₀ + jω_k Ĉ₀` (P. Feldmann,
 //!   R. C. Melville, D. Long, CICC 1996, from memory). The frequency of each
 //!   harmonic slot is data (`Problem::freqs`), so another frequency set
-//!   (several tones) reuses the blocks; only the transform between the
-//!   harmonics and the samples is single-tone. When GMRES does not reach
+//!   reuses the blocks: several tones mapped onto one artificial
+//!   fundamental ([`mod@super::multitone`]). When GMRES does not reach
 //!   its tolerance the step falls back to the dense LU (below its limit).
 //!
 //! # Convergence aids
@@ -354,7 +354,7 @@ pub fn balance(
     }
 }
 
-fn check_params(bp: &BalanceParams) -> Result<(), SolveError> {
+pub(super) fn check_params(bp: &BalanceParams) -> Result<(), SolveError> {
     let bad = |m: String| Err(SolveError::BadParams(format!("harmonic balance: {m}")));
     if bp.oversample < 3 || bp.oversample > 64 {
         return bad(format!("oversample must be 3..64, got {}", bp.oversample));
@@ -424,7 +424,7 @@ impl Stamp for Touched {
 }
 
 /// Unknowns touched by any nonlinear device (structurally, at the operating point).
-fn nonlinear_ports(devices: &DeviceSet, x_op: &[f64], junction_leak: f64) -> Vec<usize> {
+pub(super) fn nonlinear_ports(devices: &DeviceSet, x_op: &[f64], junction_leak: f64) -> Vec<usize> {
     let mut t = Touched {
         hit: vec![false; devices.n_unknowns],
     };
@@ -444,7 +444,7 @@ fn nonlinear_ports(devices: &DeviceSet, x_op: &[f64], junction_leak: f64) -> Vec
 }
 
 /// Real FFT of one size with two-sided coefficient conventions.
-struct Fft {
+pub(super) struct Fft {
     n: usize,
     fwd: Arc<dyn RealToComplex<f64>>,
     inv: Arc<dyn ComplexToReal<f64>>,
@@ -455,7 +455,7 @@ struct Fft {
 }
 
 impl Fft {
-    fn new(n: usize) -> Self {
+    pub(super) fn new(n: usize) -> Self {
         let mut p = RealFftPlanner::<f64>::new();
         let fwd = p.plan_fft_forward(n);
         let inv = p.plan_fft_inverse(n);
@@ -471,7 +471,7 @@ impl Fft {
     }
 
     /// `out[k] = (1/N) Σ_n x_n e^{−j2πkn/N}` for `k < out.len() ≤ N/2 + 1`.
-    fn forward(&mut self, x: &[f64], out: &mut [C64]) {
+    pub(super) fn forward(&mut self, x: &[f64], out: &mut [C64]) {
         self.buf.copy_from_slice(&x[..self.n]);
         // Lengths match by construction; an error leaves zeros (caught as a
         // non-converging residual, never a NaN).
@@ -578,18 +578,18 @@ impl Stamp for PortStamp<'_> {
 }
 
 /// The linear network: constant Jacobians and the source coefficients.
-struct Linear {
-    n: usize,
-    g: Vec<f64>,
-    c: Vec<f64>,
+pub(super) struct Linear {
+    pub(super) n: usize,
+    pub(super) g: Vec<f64>,
+    pub(super) c: Vec<f64>,
     /// Source terms at zero drive (constant), per row.
-    src_dc: Vec<f64>,
+    pub(super) src_dc: Vec<f64>,
     /// `[k][row]`: coefficients of the time-varying source terms at full drive.
-    src_wave: Vec<Vec<C64>>,
+    pub(super) src_wave: Vec<Vec<C64>>,
     /// `[k]`: what the elements defined over frequency (measured networks)
     /// add to `Y_k` at `k·f0` beyond their DC stamp, by (row, column); empty
     /// at `k = 0`, where their stamp is exact.
-    extra: Vec<std::collections::HashMap<(usize, usize), C64>>,
+    pub(super) extra: Vec<std::collections::HashMap<(usize, usize), C64>>,
 }
 
 fn linear_network(
@@ -723,9 +723,9 @@ fn complex_lu(m: Mat<C64>) -> Result<DenseLu<C64>, usize> {
 }
 
 /// The linear network reduced to the ports, per harmonic.
-struct Reduced {
-    ports: Vec<usize>,
-    others: Vec<usize>,
+pub(super) struct Reduced {
+    pub(super) ports: Vec<usize>,
+    pub(super) others: Vec<usize>,
     /// `[k]`: p×p row-major Ŷ_k.
     yhat: Vec<Vec<C64>>,
     /// Ŝ at zero drive (DC only), p.
@@ -743,23 +743,23 @@ struct Reduced {
 /// Why a reduction failed: the harmonic, and the position in `O` of the
 /// column without a pivot (`None` for a non-finite result).
 #[derive(Debug, Clone, Copy)]
-struct ReduceFail {
-    harmonic: usize,
-    column: Option<usize>,
+pub(super) struct ReduceFail {
+    pub(super) harmonic: usize,
+    pub(super) column: Option<usize>,
 }
 
 /// Reduce to `ports`, growing the port set by the unknowns of `O` that leave
 /// `Y_OO` without a pivot (e.g. the branch current of a voltage source
 /// driving a port directly) until the reduction exists.
-fn reduce_growing(
+pub(super) fn reduce_growing(
     lin: &Linear,
     ports: &[usize],
     kmax: usize,
-    omega: f64,
+    freqs: &[f64],
 ) -> Result<Reduced, ReduceFail> {
     let mut ports = ports.to_vec();
     loop {
-        match reduce(lin, &ports, kmax, omega) {
+        match reduce(lin, &ports, kmax, freqs) {
             Ok(r) => return Ok(r),
             Err(f) => {
                 let mut is_port = vec![false; lin.n];
@@ -779,8 +779,14 @@ fn reduce_growing(
     }
 }
 
-/// Reduce to `ports`; fails on a singular `Y_OO`.
-fn reduce(lin: &Linear, ports: &[usize], kmax: usize, omega: f64) -> Result<Reduced, ReduceFail> {
+/// Reduce to `ports`; fails on a singular `Y_OO`. `freqs[k]` is the angular
+/// frequency of slot `k` (`k·ω` for one tone; any sign).
+pub(super) fn reduce(
+    lin: &Linear,
+    ports: &[usize],
+    kmax: usize,
+    freqs: &[f64],
+) -> Result<Reduced, ReduceFail> {
     let n = lin.n;
     let mut is_port = vec![false; n];
     for &p in ports {
@@ -799,7 +805,7 @@ fn reduce(lin: &Linear, ports: &[usize], kmax: usize, omega: f64) -> Result<Redu
         zs_wave: Vec::with_capacity(kmax + 1),
     };
     for k in 0..=kmax {
-        let w = k as f64 * omega;
+        let w = freqs[k];
         let fd = &lin.extra[k];
         let y = |r: usize, c: usize| {
             let base = C64::new(lin.g[r * n + c], w * lin.c[r * n + c]);
@@ -897,9 +903,9 @@ struct NlEval {
 }
 
 /// One harmonic-balance problem at a fixed K.
-struct Problem<'a> {
+pub(super) struct Problem<'a> {
     devices: &'a DeviceSet,
-    red: Reduced,
+    pub(super) red: Reduced,
     port_of: Vec<Option<usize>>,
     kmax: usize,
     /// Angular frequency of each harmonic slot `k = 0..=K` (`k·ω` for one
@@ -925,14 +931,16 @@ struct Problem<'a> {
     index: std::collections::HashMap<(usize, usize), usize>,
     pattern: Vec<(usize, usize)>,
     /// Solve the Newton system by GMRES (see [`BalanceParams::krylov_from`]).
-    krylov: bool,
+    pub(super) krylov: bool,
     /// GMRES products over every Newton step of this problem.
-    krylov_iterations: usize,
+    pub(super) krylov_iterations: usize,
+    /// What a person calls each slot in a message (`harmonic k` when empty).
+    pub(super) slot_names: Vec<String>,
 }
 
 /// Why a Newton solve at one drive level stopped.
 #[derive(Debug, Clone)]
-enum Fail {
+pub(super) enum Fail {
     NoConvergence {
         iterations: usize,
         worst: (usize, usize),
@@ -972,12 +980,13 @@ struct Converged {
 }
 
 impl<'a> Problem<'a> {
-    fn new(
+    /// `freqs[k]`: angular frequency of slot `k = 0..=kmax`.
+    pub(super) fn new(
         devices: &'a DeviceSet,
         red: Reduced,
         kmax: usize,
         nfft: usize,
-        omega: f64,
+        freqs: Vec<f64>,
         t_start: f64,
         params: &SteadyParams,
     ) -> Self {
@@ -1007,7 +1016,7 @@ impl<'a> Problem<'a> {
             red,
             port_of,
             kmax,
-            freqs: (0..=kmax).map(|k| k as f64 * omega).collect(),
+            freqs,
             t_start,
             period: 1.0 / params.freq,
             junction_leak: params.balance.junction_leak,
@@ -1022,15 +1031,16 @@ impl<'a> Problem<'a> {
             pattern: Vec::new(),
             krylov: false,
             krylov_iterations: 0,
+            slot_names: Vec::new(),
         }
     }
 
-    fn p(&self) -> usize {
+    pub(super) fn p(&self) -> usize {
         self.red.ports.len()
     }
 
     /// Order of the real Newton system.
-    fn size(&self) -> usize {
+    pub(super) fn size(&self) -> usize {
         self.p() * (2 * self.kmax + 1)
     }
 
@@ -1600,7 +1610,7 @@ impl<'a> Problem<'a> {
     }
 
     /// Harmonics of every unknown `[k][unknown]` from the port harmonics at full drive.
-    fn full_solution(&self, xp: &[C64]) -> Vec<Vec<C64>> {
+    pub(super) fn full_solution(&self, xp: &[C64]) -> Vec<Vec<C64>> {
         let p = self.p();
         let n = self.devices.n_unknowns;
         let o = self.red.others.len();
@@ -1629,12 +1639,28 @@ impl<'a> Problem<'a> {
         out
     }
 
-    fn fail_to_error(&self, f: Fail, s: f64) -> SolveError {
-        let analysis = format!(
-            "harmonic balance (K = {}, drive {:.2}%)",
-            self.kmax,
-            100.0 * s
-        );
+    /// The name of slot `k` in a message.
+    fn slot_name(&self, k: usize) -> String {
+        self.slot_names
+            .get(k)
+            .cloned()
+            .unwrap_or_else(|| format!("harmonic {k}"))
+    }
+
+    pub(super) fn fail_to_error(&self, f: Fail, s: f64) -> SolveError {
+        let analysis = if self.slot_names.is_empty() {
+            format!(
+                "harmonic balance (K = {}, drive {:.2}%)",
+                self.kmax,
+                100.0 * s
+            )
+        } else {
+            format!(
+                "multi-tone harmonic balance ({} mixing products, drive {:.2}%)",
+                self.kmax + 1,
+                100.0 * s
+            )
+        };
         let name = |a: usize| {
             self.red
                 .ports
@@ -1650,7 +1676,7 @@ impl<'a> Problem<'a> {
                 residual,
             } => SolveError::NoConvergence {
                 analysis,
-                unknown: format!("{} at harmonic {}", name(worst.0), worst.1),
+                unknown: format!("{} at {}", name(worst.0), self.slot_name(worst.1)),
                 iterations,
                 residual,
                 unit: match self
@@ -1677,7 +1703,7 @@ impl<'a> Problem<'a> {
                 };
                 SolveError::Singular {
                     analysis,
-                    unknown: format!("{} at harmonic {k}{part}", name(a)),
+                    unknown: format!("{} at {}{part}", name(a), self.slot_name(k)),
                     cause: cause.unwrap_or_else(|| {
                         self.red
                             .ports
@@ -1736,7 +1762,7 @@ fn fits(p: usize, kmax: usize, bp: &BalanceParams) -> bool {
     size <= max_system(bp) && entries <= MAX_NETWORK_ENTRIES
 }
 
-fn check_size(p: usize, kmax: usize, bp: &BalanceParams) -> Result<(), SolveError> {
+pub(super) fn check_size(p: usize, kmax: usize, bp: &BalanceParams) -> Result<(), SolveError> {
     if fits(p, kmax, bp) {
         return Ok(());
     }
@@ -1752,7 +1778,7 @@ fn check_size(p: usize, kmax: usize, bp: &BalanceParams) -> Result<(), SolveErro
 }
 
 /// FFT size of the nonlinear evaluation for `k` harmonics.
-fn fft_size(k: usize, oversample: usize) -> usize {
+pub(super) fn fft_size(k: usize, oversample: usize) -> usize {
     (oversample * k).max(8).next_power_of_two()
 }
 
@@ -1772,6 +1798,7 @@ fn solve_k(
     let n = devices.n_unknowns;
     let period = 1.0 / params.freq;
     let omega = 2.0 * std::f64::consts::PI * params.freq;
+    let freqs: Vec<f64> = (0..=kmax).map(|k| k as f64 * omega).collect();
     let nfft = fft_size(kmax, bp.oversample);
     let mut fft = Fft::new(nfft);
     let lin = linear_network(devices, kmax, &mut fft, t_start, period, bp.junction_leak)
@@ -1802,16 +1829,16 @@ fn solve_k(
     };
     let reduce_all = || {
         check_size(n, kmax, bp).map_err(|e| (e, 0, 0))?;
-        reduce(&lin, &all, kmax, omega).map_err(singular)
+        reduce(&lin, &all, kmax, &freqs).map_err(singular)
     };
-    let red = match reduce_growing(&lin, ports_structural, kmax, omega) {
+    let red = match reduce_growing(&lin, ports_structural, kmax, &freqs) {
         Ok(r) => r,
         Err(_) => reduce_all()?,
     };
     let reduced = !red.others.is_empty();
     check_size(red.ports.len(), kmax, bp).map_err(|e| (e, 0, 0))?;
     let krylov = red.ports.len() * (2 * kmax + 1) >= bp.krylov_from;
-    let mut prob = Problem::new(devices, red, kmax, nfft, omega, t_start, params);
+    let mut prob = Problem::new(devices, red, kmax, nfft, freqs.clone(), t_start, params);
     prob.krylov = krylov;
     let attempt = run_levels(&mut prob, params, x_op, warm);
     let attempt = match attempt {
@@ -1819,7 +1846,7 @@ fn solve_k(
             // A device stamped outside the structural ports: keep every unknown.
             let red = reduce_all()?;
             let krylov = red.ports.len() * (2 * kmax + 1) >= bp.krylov_from;
-            prob = Problem::new(devices, red, kmax, nfft, omega, t_start, params);
+            prob = Problem::new(devices, red, kmax, nfft, freqs.clone(), t_start, params);
             prob.krylov = krylov;
             run_levels(&mut prob, params, x_op, warm)
         }
@@ -1914,11 +1941,11 @@ fn port_start(prob: &Problem<'_>, full: &[Vec<C64>]) -> Vec<C64> {
     x
 }
 
-type LevelOut = (Vec<C64>, usize, usize, f64, usize);
+pub(super) type LevelOut = (Vec<C64>, usize, usize, f64, usize);
 
 /// Direct solve at full drive, then continuation on the drive. On failure
 /// returns the last failure, the drive level it happened at, and the iterations spent.
-fn run_levels(
+pub(super) fn run_levels(
     prob: &mut Problem<'_>,
     params: &SteadyParams,
     x_op: &[f64],

@@ -9,6 +9,8 @@
 //! - [`sample`]: the one terminal-current sampler, with the derivative rule
 //!   as its parameter, and the transport currents (imports no sibling);
 //! - [`mod@balance`]: harmonic balance (imports `sample`);
+//! - [`mod@multitone`]: harmonic balance under two to four tones, by
+//!   artificial frequency mapping onto the balance machinery (imports `balance`);
 //! - [`mod@shooting`]: Newton on the state at the period start; one period
 //!   with its monodromy matrix `Φ = ∂x(T)/∂x₀` is `shooting::integrate_period`
 //!   (crate-visible, for checks of the orbit's multipliers; imports `sample`);
@@ -21,12 +23,14 @@ pub mod accuracy;
 pub mod balance;
 mod floor;
 pub mod floquet;
+pub mod multitone;
 pub mod sample;
 pub mod settle;
 pub mod shooting;
 
 pub use accuracy::{AccuracyEstimate, AccuracyParams};
 pub use balance::{balance, BalanceInfo, BalanceParams};
+pub use multitone::{multitone, Product, ToneDrive, ToneInfo, ToneParams, ToneSolution};
 pub use sample::{terminal_currents, transport_currents};
 pub use settle::settle;
 pub use shooting::{shooting, ShootingMode, MATRIX_FREE_FROM};
