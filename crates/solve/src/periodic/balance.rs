@@ -265,20 +265,7 @@ pub fn balance(
     let period = 1.0 / params.freq;
     let t_start = start_time(circuit, period);
     // Operating point at zero drive: the exact solution at s = 0.
-    let op = OpParams {
-        tol: params.tol,
-        junction_leak: bp.junction_leak,
-        wave_scale: 0.0,
-        linear_solver: params.linear_solver,
-        ..OpParams::default()
-    };
-    let mut state = devices.initial_state();
-    let (x_op, _) = solve_op(devices, &op, &vec![0.0; n], &mut state)?;
-    let ports_structural = if bp.reduce {
-        nonlinear_ports(devices, &x_op, bp.junction_leak)
-    } else {
-        (0..n).collect()
-    };
+    let (x_op, ports_structural) = zero_drive(devices, params.tol, params.linear_solver, bp)?;
 
     let mut k = params.harmonics.max(1);
     let mut tried = Vec::new();
@@ -421,6 +408,34 @@ impl Stamp for Touched {
         self.mark(row);
         self.mark(col);
     }
+}
+
+/// The operating point at zero drive (every source's wave scaled to 0),
+/// and the unknowns the balance keeps: the nonlinear ports when
+/// `bp.reduce`, every unknown otherwise. Shared by the single- and
+/// multi-tone balance.
+pub(super) fn zero_drive(
+    devices: &DeviceSet,
+    tol: crate::newton::Tolerances,
+    linear_solver: LinearSolver,
+    bp: &BalanceParams,
+) -> Result<(Vec<f64>, Vec<usize>), SolveError> {
+    let n = devices.n_unknowns;
+    let op = OpParams {
+        tol,
+        junction_leak: bp.junction_leak,
+        wave_scale: 0.0,
+        linear_solver,
+        ..OpParams::default()
+    };
+    let mut state = devices.initial_state();
+    let (x_op, _) = solve_op(devices, &op, &vec![0.0; n], &mut state)?;
+    let ports = if bp.reduce {
+        nonlinear_ports(devices, &x_op, bp.junction_leak)
+    } else {
+        (0..n).collect()
+    };
+    Ok((x_op, ports))
 }
 
 /// Unknowns touched by any nonlinear device (structurally, at the operating point).

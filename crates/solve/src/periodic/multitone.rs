@@ -47,14 +47,13 @@
 //! source's unit excitation (the right-hand side the AC analysis uses).
 
 use super::balance::{
-    check_params, check_size, fft_size, nonlinear_ports, reduce, reduce_growing, run_levels,
+    check_params, check_size, fft_size, reduce, reduce_growing, run_levels, zero_drive,
     BalanceParams, Fft, Linear, Problem, ReduceFail,
 };
 use super::SteadyParams;
 use crate::error::When;
 use crate::linalg::LinearSolver;
 use crate::newton::Tolerances;
-use crate::op::{solve_op, OpParams};
 use crate::SolveError;
 use num_complex::Complex64 as C64;
 use std::collections::HashMap;
@@ -521,20 +520,7 @@ pub fn multitone(
         .map(|p| 2.0 * std::f64::consts::PI * p.freq)
         .collect();
     let t0 = origin(circuit);
-    let op = OpParams {
-        tol: tp.tol,
-        junction_leak: bp.junction_leak,
-        wave_scale: 0.0,
-        linear_solver: tp.linear_solver,
-        ..OpParams::default()
-    };
-    let mut state = devices.initial_state();
-    let (x_op, _) = solve_op(devices, &op, &vec![0.0; n], &mut state)?;
-    let structural = if bp.reduce {
-        nonlinear_ports(devices, &x_op, bp.junction_leak)
-    } else {
-        (0..n).collect()
-    };
+    let (x_op, structural) = zero_drive(devices, tp.tol, tp.linear_solver, bp)?;
     check_size(structural.len(), kmax, bp)?;
     let lin = tone_network(circuit, devices, tp, &products, t0)?;
     let singular = |f: ReduceFail| SolveError::Singular {
