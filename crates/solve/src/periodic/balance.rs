@@ -763,6 +763,27 @@ pub(super) struct ReduceFail {
     pub(super) column: Option<usize>,
 }
 
+impl ReduceFail {
+    /// The solver error of a linear network that cannot be reduced at the
+    /// harmonic (or mixing product) `at` names: the unknown without a
+    /// pivot and its likely cause.
+    pub(super) fn into_error(self, devices: &DeviceSet, analysis: &str, at: &str) -> SolveError {
+        SolveError::Singular {
+            analysis: format!("{analysis} (linear network at {at})"),
+            unknown: self
+                .column
+                .and_then(|c| devices.names.get(c))
+                .cloned()
+                .unwrap_or_else(|| "a non-finite entry".into()),
+            cause: self
+                .column
+                .map(|c| crate::singular::guess(devices, c))
+                .unwrap_or_else(|| "a non-finite value in the linear network".into()),
+            when: When(None),
+        }
+    }
+}
+
 /// Reduce to `ports`, growing the port set by the unknowns of `O` that leave
 /// `Y_OO` without a pivot (e.g. the branch current of a voltage source
 /// driving a port directly) until the reduction exists.
@@ -1821,26 +1842,8 @@ fn solve_k(
     let all: Vec<usize> = (0..n).collect();
     check_size(ports_structural.len(), kmax, bp).map_err(|e| (e, 0, 0))?;
     let singular = |f: ReduceFail| {
-        (
-            SolveError::Singular {
-                analysis: format!(
-                    "harmonic balance (linear network at harmonic {})",
-                    f.harmonic
-                ),
-                unknown: f
-                    .column
-                    .and_then(|c| devices.names.get(c))
-                    .cloned()
-                    .unwrap_or_else(|| "a non-finite entry".into()),
-                cause: f
-                    .column
-                    .map(|c| crate::singular::guess(devices, c))
-                    .unwrap_or_else(|| "a non-finite value in the linear network".into()),
-                when: When(None),
-            },
-            0,
-            0,
-        )
+        let at = format!("harmonic {}", f.harmonic);
+        (f.into_error(devices, "harmonic balance", &at), 0, 0)
     };
     let reduce_all = || {
         check_size(n, kmax, bp).map_err(|e| (e, 0, 0))?;

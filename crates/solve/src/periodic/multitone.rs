@@ -523,24 +523,15 @@ pub fn multitone(
     let (x_op, structural) = zero_drive(devices, tp.tol, tp.linear_solver, bp)?;
     check_size(structural.len(), kmax, bp)?;
     let lin = tone_network(circuit, devices, tp, &products, t0)?;
-    let singular = |f: ReduceFail| SolveError::Singular {
-        analysis: format!(
-            "multi-tone balance (linear network at mixing product {})",
+    let singular = |f: ReduceFail| {
+        let at = format!(
+            "mixing product {}",
             products
                 .get(f.harmonic)
                 .map(product_name)
                 .unwrap_or_default()
-        ),
-        unknown: f
-            .column
-            .and_then(|c| devices.names.get(c))
-            .cloned()
-            .unwrap_or_else(|| "a non-finite entry".into()),
-        cause: f
-            .column
-            .map(|c| crate::singular::guess(devices, c))
-            .unwrap_or_else(|| "a non-finite value in the linear network".into()),
-        when: When(None),
+        );
+        f.into_error(devices, "multi-tone balance", &at)
     };
     let all: Vec<usize> = (0..n).collect();
     let red = match reduce_growing(&lin, &structural, kmax, &omega) {
