@@ -149,7 +149,25 @@ fn run_timed(a: &RunArgs) -> i32 {
     shown.finish();
     let res = match solved {
         Ok(r) => r,
-        Err(f) => return common::report_failure(&file, &f),
+        Err(f) => {
+            // a runaway still draws how the iteration got there
+            if let Some(dir) = &a.plots {
+                let drawn = assemble::failure_plots(&file, &f);
+                let figures = visual::drawn_files(Some(dir), &drawn);
+                let paths: Vec<PathBuf> = figures.iter().map(|(p, _)| p.clone()).collect();
+                if !figures.is_empty() && common::check_outputs(&paths, &[], &inputs).is_ok() {
+                    match tankwave_report::files::write_all_atomic(&figures) {
+                        Ok(()) => {
+                            for p in &paths {
+                                eprintln!("wrote {}", common::esc(&p.display().to_string()));
+                            }
+                        }
+                        Err(e) => eprintln!("error: {e}"),
+                    }
+                }
+            }
+            return common::report_failure(&file, &f);
+        }
     };
     let doc = assemble::results_json(&visual::tool(), &file, c, &res);
     match a.format {

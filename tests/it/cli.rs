@@ -1421,4 +1421,23 @@ fn a_runaway_says_where_and_carries_the_caution() {
     let e = stderr(&o);
     assert!(e.contains("thermal runaway at q1"), "{e}");
     assert!(e.contains(tankwave_report::stage::SAFETY_NOTE), "{e}");
+    // it lists the rounds that led there, from the ambient (25 °C) up
+    assert!(e.contains("the rounds solved q1 at 25.0, "), "{e}");
+    // and with --plots it draws them: the plot of the rounds, nothing else
+    let dir = tempfile::tempdir().unwrap();
+    let plots = dir.path().join("plots");
+    let o = run(&[
+        "run",
+        f.to_str().expect("path"),
+        "--plots",
+        plots.to_str().expect("path"),
+    ]);
+    assert_eq!(code(&o), 3, "{}", stderr(&o));
+    let svg = std::fs::read_to_string(plots.join("heat-rounds.svg")).expect("the rounds plot");
+    assert!(svg.contains("thermal runaway after"), "{svg}");
+    let names: Vec<_> = std::fs::read_dir(&plots)
+        .unwrap()
+        .map(|e| e.unwrap().file_name())
+        .collect();
+    assert_eq!(names.len(), 1, "{names:?}");
 }

@@ -66,6 +66,24 @@ pub struct Element {
     pub origin: Origin,
 }
 
+/// The temperature at which a thermistor's resistance is written, K
+/// (25 °C, the reference of thermistor B constants; common practice).
+pub const THERMISTOR_REFERENCE_K: f64 = 298.15;
+
+/// The largest B constant a thermistor may be given, K (real NTC
+/// thermistors have 2,000–6,000 K, common practice; the cap keeps the law
+/// finite at every temperature a stage can reach).
+pub const MAX_THERMISTOR_B_K: f64 = 20_000.0;
+
+/// A thermistor's resistance at `t_k` from its resistance `r_ref` at
+/// [`THERMISTOR_REFERENCE_K`] and its B constant `b_k` (K), by the
+/// B-parameter law R(T) = R_ref·exp(B·(1/T − 1/T_ref)) (the one-term
+/// simplification of J. S. Steinhart, S. R. Hart, Deep-Sea Research 15,
+/// 1968, from memory; docs/check-values.md, "Thermistor").
+pub fn thermistor_resistance(r_ref: f64, b_k: f64, t_k: f64) -> f64 {
+    r_ref * (b_k * (1.0 / t_k - 1.0 / THERMISTOR_REFERENCE_K)).exp()
+}
+
 /// Element kinds with their evaluated values (SI units).
 #[derive(Debug, Clone)]
 pub enum ElementKind {
@@ -79,6 +97,10 @@ pub enum ElementKind {
         r: f64,
         /// Power rating, W.
         rating_w: Option<f64>,
+        /// B constant of a thermistor, K (`ntc_b=`): `r` is then the
+        /// resistance at [`THERMISTOR_REFERENCE_K`] and the element follows
+        /// the B-parameter law at its temperature (docs/thermal.md).
+        ntc_b: Option<f64>,
     },
     /// `capacitor NAME a b VALUE [rating=V]`.
     Capacitor {
@@ -535,6 +557,51 @@ impl BjtParams {
         }
     }
 
+    /// How this transistor's heat leaves it in `analyze heat`, on the
+    /// shared heatsink or not (docs/thermal.md, "The thermal network"; the
+    /// stage builds the network from this, elaboration checks it).
+    pub fn heat_path(&self, on_sink: bool) -> HeatPath {
+        let jc = self.junction_case();
+        if on_sink {
+            match jc {
+                None => HeatPath::SinkWithoutJunctionCase,
+                Some(_) => HeatPath::Sink {
+                    case: self.rth_cs.is_finite(),
+                },
+            }
+        } else if jc.is_some() && self.rth_sink.is_finite() && !self.rth_ja.is_finite() {
+            HeatPath::Case
+        } else if self.rth_ja.is_finite() {
+            HeatPath::Direct
+        } else {
+            HeatPath::Absent
+        }
+    }
+
+    /// Whether the junction is one node of heat capacity `heat_junction`
+    /// (else the Cauer ladder of the part's Foster terms, whose capacities
+    /// come from the terms).
+    pub fn lumped_junction(&self) -> bool {
+        self.rth_jc.is_finite() || self.foster_terms().is_empty()
+    }
+
+    /// The first heat capacity a transient of the thermal network needs
+    /// and this part does not give, by its word (`None`: all given, or the
+    /// path has no nodes of its own). The heatsink's own capacity is the
+    /// analysis's (`sink_heat=`).
+    pub fn missing_heat(&self, path: HeatPath) -> Option<&'static str> {
+        let junction = match path {
+            HeatPath::Direct => true,
+            HeatPath::Sink { .. } | HeatPath::Case => self.lumped_junction(),
+            HeatPath::Absent | HeatPath::SinkWithoutJunctionCase => return None,
+        };
+        if junction && self.heat_junction <= 0.0 {
+            return Some("junction_heat");
+        }
+        let case = matches!(path, HeatPath::Case | HeatPath::Sink { case: true });
+        (case && self.heat_case <= 0.0).then_some("case_heat")
+    }
+
     /// Junction-to-ambient thermal resistance in K/W: `rth_ja` if set, else
     /// junction to case ([`BjtParams::junction_case`]) + `rth_sink` if both
     /// are set, else `None`.
@@ -548,6 +615,28 @@ impl BjtParams {
             }
         }
     }
+}
+
+/// How a transistor's heat leaves it in `analyze heat`
+/// ([`BjtParams::heat_path`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum HeatPath {
+    /// On the shared heatsink: junction –θ_JC– case –θ_CS– sink when
+    /// `case` (the part gives `case_sink`), else junction –θ_JC– sink with
+    /// the case's heat capacity put on the sink.
+    Sink {
+        /// Whether the case is a node of its own.
+        case: bool,
+    },
+    /// Off the heatsink: junction –θ_JC– case –θ_CA– ambient.
+    Case,
+    /// Junction –θ_JA– ambient.
+    Direct,
+    /// No heat path given: the transistor stays at the ambient.
+    Absent,
+    /// On the heatsink, but the part gives no junction–case resistance
+    /// (refused).
+    SinkWithoutJunctionCase,
 }
 
 /// Integration method for transient analysis.

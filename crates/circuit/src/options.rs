@@ -192,6 +192,13 @@ pub mod element {
         Default::Absent,
         "the power the resistor may dissipate (for require stress)",
     );
+    /// `ntc_b=` of a resistor: the B constant that makes it a thermistor.
+    pub const RESISTOR_NTC_B: OptionSpec = opt(
+        "ntc_b",
+        Takes::Value(Slot::Number, Range::Positive),
+        Default::Absent,
+        "B constant in kelvin (a plain number): the resistor is a thermistor whose value is its resistance at 25 degC",
+    );
     /// `rating=` of a capacitor: the voltage it may carry.
     pub const CAPACITOR_RATING: OptionSpec = opt(
         "rating",
@@ -301,7 +308,7 @@ pub mod element {
 
     /// The options of each element kind, by keyword.
     pub const ALL: &[(&str, &[OptionSpec])] = &[
-        ("resistor", &[RESISTOR_RATING]),
+        ("resistor", &[RESISTOR_RATING, RESISTOR_NTC_B]),
         ("capacitor", &[CAPACITOR_RATING]),
         (
             "inductor",

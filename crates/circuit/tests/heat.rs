@@ -111,3 +111,79 @@ fn bad_heat_analyses_are_refused_with_their_code() {
     let e = load_str("t.tank", &text, &Overrides::default()).expect_err("refused");
     assert!(e.diagnostics.iter().any(|d| d.code == "missing-option"));
 }
+
+/// A thermistor (a resistor with `ntc_b=`) may sit on the heatsink; a
+/// plain resistor may not, and a B constant beyond real thermistors is
+/// refused where it is written.
+#[test]
+fn thermistors_on_the_heatsink() {
+    let e =
+        load("resistor rt b gnd 10kOhm ntc_b=3950\nanalyze heat sink=[q1, rt] sink_ambient=2\n")
+            .unwrap_or_else(|e| panic!("{:#?}", e.diagnostics));
+    let h = e
+        .circuit
+        .analyses
+        .iter()
+        .find_map(|a| match a {
+            Analysis::Heat(h) => Some(h.clone()),
+            _ => None,
+        })
+        .expect("analyze heat");
+    assert_eq!(h.sink.len(), 2);
+    assert_eq!(
+        codes("resistor rt b gnd 10kOhm\nanalyze heat sink=[q1, rt] sink_ambient=2\n"),
+        ["element-kind"]
+    );
+    let bad = load("resistor rt b gnd 10kOhm ntc_b=1e6\n").expect_err("refused");
+    let d = bad
+        .diagnostics
+        .iter()
+        .find(|d| d.is_error())
+        .expect("an error");
+    assert_eq!(d.code, "bad-value", "{}", d.message);
+    // the message names the option
+    assert!(d.message.contains("ntc_b"), "{}", d.message);
+    assert_eq!(codes("capacitor cx b gnd 1nF ntc_b=3950\n").len(), 1);
+}
+
+/// A transmission followed over time needs every heat capacity of the
+/// path; a file that lacks one is refused at the statement, not at solve
+/// time.
+#[test]
+fn a_transmission_needs_every_heat_capacity() {
+    // the demo part gives them all, and the sink gets sink_heat=
+    assert!(codes("analyze heat sink=q1 sink_ambient=2 sink_heat=100 transmit=10s\n").is_empty());
+    // without sink_heat= the sink has none (the part's case is its own node)
+    assert_eq!(
+        codes("analyze heat sink=q1 sink_ambient=2 transmit=10s\n"),
+        ["missing-option"]
+    );
+    // without junction_heat= / case_heat= in the part
+    for word in ["junction_heat=0.05 ", "case_heat=2 "] {
+        let text = STAGE.replace(word, "");
+        let e = load_str(
+            "t.tank",
+            &format!("{text}analyze heat sink=q1 sink_ambient=2 sink_heat=100 transmit=10s\n"),
+            &Overrides::default(),
+        )
+        .expect_err("refused");
+        let d = e
+            .diagnostics
+            .iter()
+            .find(|d| d.is_error())
+            .expect("an error");
+        assert_eq!(d.code, "missing-part-param", "{word}: {}", d.message);
+        assert!(
+            d.message.contains(word.split('=').next().unwrap()),
+            "{}",
+            d.message
+        );
+        // with no transmission, the capacities are not needed
+        assert!(load_str(
+            "t.tank",
+            &format!("{text}analyze heat sink=q1 sink_ambient=2\n"),
+            &Overrides::default()
+        )
+        .is_ok());
+    }
+}

@@ -174,6 +174,7 @@ pub fn circuit_for(net: &Network) -> Result<Circuit, DesignError> {
             b: NodeId::GROUND,
             r: net.load_resistance,
             rating_w: None,
+            ntc_b: None,
         },
         origin,
     });

@@ -129,8 +129,19 @@ pub fn instantiate_at(circuit: &Circuit, temps: &[Option<f64>]) -> Result<Device
     for (id, el) in circuit.element_ids() {
         let name = el.name.as_str();
         match &el.kind {
-            ElementKind::Resistor { a, b: bn, r, .. } => {
+            ElementKind::Resistor {
+                a, b: bn, r, ntc_b, ..
+            } => {
                 let r = positive(name, "resistance", *r)?;
+                // a thermistor follows its B-parameter law at its temperature
+                let r = match ntc_b {
+                    Some(b) => positive(
+                        name,
+                        "resistance at its temperature",
+                        tankwave_circuit::thermistor_resistance(r, *b, temp_of(id)),
+                    )?,
+                    None => r,
+                };
                 devices.push(Box::new(Resistor::new(
                     id,
                     b.node(name, *a)?,

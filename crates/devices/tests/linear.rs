@@ -21,6 +21,7 @@ fn res(a: Option<usize>, b: Option<usize>, r: f64) -> ElementKind {
         b: nid(b),
         r,
         rating_w: None,
+        ntc_b: None,
     }
 }
 fn cap(a: Option<usize>, b: Option<usize>, c: f64) -> ElementKind {
@@ -88,6 +89,41 @@ fn resistor_and_capacitor_stamps() {
     assert_mat(&s.c, &[1e-9, 0.0, 0.0, 0.0], "C");
     assert_mat(&s.q, &[3e-9, 0.0], "q");
     assert_mat(&s.g, &[0.0; 4], "G");
+}
+
+/// A thermistor (a resistor with `ntc_b=`) stamps the conductance of its
+/// B-parameter law at its temperature: R25 = 10 kΩ, B = 3950 K is
+/// 3.5882 kΩ at 50 °C and 33.621 kΩ at 0 °C (R(T) = R25·exp(B(1/T − 1/T25)),
+/// Steinhart and Hart 1968, one-term form, from memory; the two values
+/// worked from the law to 5 figures, docs/check-values.md "Thermistor"); at the ambient
+/// unless a temperature is given for it.
+#[test]
+fn thermistor_stamps_its_law_at_its_temperature() {
+    let kind = ElementKind::Resistor {
+        a: nid(Some(0)),
+        b: nid(None),
+        r: 10e3,
+        rating_w: None,
+        ntc_b: Some(3950.0),
+    };
+    let mut c = circuit(&["a"], vec![("rt", kind)]);
+    let conductance = |set: &tankwave_devices::DeviceSet| {
+        stamp(set.devices[0].as_ref(), 1, &[1.0], &EvalCtx::default()).g[0]
+    };
+    c.temperature_k = 323.15;
+    let g = conductance(&instantiate(&c).unwrap());
+    // 5 significant figures
+    assert!((1.0 / g - 3588.2).abs() < 0.05, "{}", 1.0 / g);
+    let set = tankwave_devices::instantiate_at(&c, &[Some(273.15)]).unwrap();
+    assert!(
+        (1.0 / conductance(&set) - 33621.0).abs() < 0.5,
+        "{}",
+        1.0 / conductance(&set)
+    );
+    // at 25 °C exactly its written value
+    c.temperature_k = 298.15;
+    let g = conductance(&instantiate(&c).unwrap());
+    assert!((1.0 / g - 10e3).abs() < 1e-9, "{}", 1.0 / g);
 }
 
 #[test]

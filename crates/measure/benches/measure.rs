@@ -71,6 +71,7 @@ fn stage() -> Circuit {
                     b: NodeId::GROUND,
                     r: 50.0,
                     rating_w: Some(100.0),
+                    ntc_b: None,
                 },
             ),
             el("drive", src(NodeId::node(4), 50.0)),

@@ -275,6 +275,7 @@ fn circuit_with(reqs: Vec<Requirement>) -> Circuit {
                 b: NodeId::GROUND,
                 r: 1.0,
                 rating_w: None,
+                ntc_b: None,
             },
             origin: Origin::default(),
         });

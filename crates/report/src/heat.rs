@@ -5,7 +5,7 @@
 //! against time, temperature against round).
 
 use serde_json::{json, Value};
-use tankwave_stage::heat::HeatOutcome;
+use tankwave_stage::heat::{HeatOutcome, HeatRound, RunawayTrail};
 
 use crate::format::{fixed, si};
 use crate::plot::{temperature_plot, PlotError, PlotParams, TemperatureSeries};
@@ -29,10 +29,10 @@ fn device_rows(h: &HeatOutcome) -> Vec<Vec<String>> {
         .iter()
         .map(|d| {
             vec![
-                if d.transistor {
-                    d.name.clone()
-                } else {
-                    format!("{} (on the sink)", d.name)
+                match (d.transistor, d.resistance_ohm) {
+                    (true, _) => d.name.clone(),
+                    (false, Some(r)) => format!("{} (on the sink, {})", d.name, si(r, "Ohm")),
+                    (false, None) => format!("{} (on the sink)", d.name),
                 },
                 degc(d.temperature_k),
                 si(d.dissipation_w, "W"),
@@ -139,6 +139,7 @@ pub fn heat_json(h: &HeatOutcome) -> Value {
             "rating_k": d.rating_k,
             "peak_k": d.peak.map(|p| p.0),
             "peak_at_s": d.peak.map(|p| p.1),
+            "resistance_ohm": d.resistance_ohm,
         })).collect::<Vec<_>>(),
         "rounds": h.rounds.iter().map(|r| json!({
             "temperatures_k": r.temperatures_k,
@@ -156,6 +157,62 @@ pub fn heat_json(h: &HeatOutcome) -> Value {
     })
 }
 
+/// Temperature against round of the electrothermal iteration, one line per
+/// device (`devices`: name and junction rating, K).
+fn rounds_plot(
+    devices: &[(String, Option<f64>)],
+    rounds: &[HeatRound],
+    subtitle: &str,
+    p: &PlotParams,
+) -> Result<String, PlotError> {
+    let x: Vec<f64> = (1..=rounds.len()).map(|k| k as f64).collect();
+    let series: Vec<TemperatureSeries> = devices
+        .iter()
+        .enumerate()
+        .map(|(i, (name, rating))| TemperatureSeries {
+            label: name.clone(),
+            kelvin: rounds
+                .iter()
+                .map(|r| r.temperatures_k.get(i).copied().unwrap_or(f64::NAN))
+                .collect(),
+            rating_k: *rating,
+        })
+        .collect();
+    temperature_plot(
+        "Electrothermal iteration",
+        subtitle,
+        "round",
+        "",
+        &x,
+        &series,
+        p,
+    )
+}
+
+/// The plot of the rounds of an iteration that ran away,
+/// `heat-rounds.svg`, with its caption: how the temperatures climbed to
+/// where the runaway was found.
+pub fn runaway_plot(
+    trail: &RunawayTrail,
+    p: &PlotParams,
+) -> (String, String, Result<String, PlotError>) {
+    (
+        "heat-rounds.svg".to_string(),
+        "Thermal runaway: the rounds of the electrothermal iteration up to where it was found."
+            .to_string(),
+        rounds_plot(
+            &trail.devices,
+            &trail.rounds,
+            &format!(
+                "thermal runaway after {} rounds at an ambient of {}",
+                trail.rounds.len(),
+                degc(trail.ambient_k)
+            ),
+            p,
+        ),
+    )
+}
+
 /// The plots: `heat-rounds.svg` (temperature against round) and, with a
 /// transmission, `heating.svg` (temperature against time), each with its
 /// caption.
@@ -164,34 +221,16 @@ pub fn heat_plots(
     p: &PlotParams,
 ) -> Vec<(String, String, Result<String, PlotError>)> {
     let mut out = Vec::new();
-    let rounds: Vec<f64> = (1..=h.rounds.len()).map(|k| k as f64).collect();
-    let series: Vec<TemperatureSeries> = h
+    let devices: Vec<(String, Option<f64>)> = h
         .devices
         .iter()
-        .enumerate()
-        .map(|(i, d)| TemperatureSeries {
-            label: d.name.clone(),
-            kelvin: h
-                .rounds
-                .iter()
-                .map(|r| r.temperatures_k.get(i).copied().unwrap_or(f64::NAN))
-                .collect(),
-            rating_k: d.rating_k,
-        })
+        .map(|d| (d.name.clone(), d.rating_k))
         .collect();
     out.push((
         "heat-rounds.svg".to_string(),
         "The electrothermal iteration: each round solves the stage at these temperatures."
             .to_string(),
-        temperature_plot(
-            "Electrothermal iteration",
-            &summary(h),
-            "round",
-            "",
-            &rounds,
-            &series,
-            p,
-        ),
+        rounds_plot(&devices, &h.rounds, &summary(h), p),
     ));
     if let Some(c) = &h.heating {
         let series: Vec<TemperatureSeries> = h

@@ -70,7 +70,7 @@ pub enum StageError {
     /// limit, or a heat feedback loop gain of 1 or more.
     #[error(
         "thermal runaway at {element}: {why}; there the junction is at {:.1} °C and \
-         dissipates {dissipation_w:.3} W (loop gain {loop_gain:.2})",
+         dissipates {dissipation_w:.3} W (loop gain {loop_gain:.2}); {trail}",
         temperature_k - 273.15
     )]
     Runaway {
@@ -84,6 +84,8 @@ pub enum StageError {
         loop_gain: f64,
         /// Why this is a runaway.
         why: String,
+        /// The rounds of the iteration up to the runaway.
+        trail: Box<crate::heat::RunawayTrail>,
     },
     /// A two-tone test cannot be set up or measured for this stage.
     #[error("two-tone test: {0}")]

@@ -6,8 +6,9 @@
 //! –θ_CS– sink (the case node is left out, and its heat capacity put on
 //! the sink, when the part gives no `case_sink`), the sink –`sink_ambient`–
 //! ambient; off the sink it is junction –θ_JC– case –θ_CA– ambient, or
-//! junction –θ_JA– ambient. A diode on the sink is at the sink's
-//! temperature and puts its dissipation into the sink. Elements outside
+//! junction –θ_JA– ambient. A diode or a thermistor (a resistor with
+//! `ntc_b=`) on the sink is at the sink's temperature and puts its
+//! dissipation into the sink. Elements outside
 //! the network stay at the ambient.
 //!
 //! **Coupling.** Thermal time constants (ms to minutes) are far longer
@@ -37,7 +38,7 @@
 //! dissipation is held at its hot values throughout (it is not
 //! re-solved as the stage warms up).
 
-use tankwave_circuit::{Circuit, ElementId, ElementKind, HeatSpec, ModelParams};
+use tankwave_circuit::{Circuit, ElementId, ElementKind, HeatPath, HeatSpec, ModelParams};
 use tankwave_measure::PeriodData;
 use tankwave_solve::{
     heat_run, Keying, PeriodicSolution, SteadyParams, ThermalLink, ThermalNetwork,
@@ -91,7 +92,7 @@ pub struct HeatDevice {
     pub element: ElementId,
     /// Its name.
     pub name: String,
-    /// Whether it is a transistor (else a diode on the sink).
+    /// Whether it is a transistor (else a diode or a thermistor on the sink).
     pub transistor: bool,
     /// The thermal node whose temperature it is at.
     pub node: usize,
@@ -105,6 +106,9 @@ pub struct HeatDevice {
     pub idle_w: Option<f64>,
     /// Peak temperature over the transmission, K, and when, s.
     pub peak: Option<(f64, f64)>,
+    /// A thermistor's resistance at its self-consistent temperature, Ω
+    /// (`None`: not a thermistor).
+    pub resistance_ohm: Option<f64>,
 }
 
 /// One round of the electrothermal iteration.
@@ -118,6 +122,48 @@ pub struct HeatRound {
     pub change_k: f64,
     /// The loop gain estimated along the last step (none in the first round).
     pub gain: Option<f64>,
+}
+
+/// The rounds of an electrothermal iteration that ran away: how it got
+/// there (the error's text lists them; `run --plots` draws them).
+#[derive(Debug, Clone, PartialEq)]
+pub struct RunawayTrail {
+    /// Ambient temperature, K.
+    pub ambient_k: f64,
+    /// Each device of the network: its name and junction rating, K.
+    pub devices: Vec<(String, Option<f64>)>,
+    /// The rounds, in order (temperatures in the order of `devices`).
+    pub rounds: Vec<HeatRound>,
+}
+
+impl std::fmt::Display for RunawayTrail {
+    /// `rounds at q1: 25.0, 61.3, 97.0, 160.0 °C` (the hottest device).
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        let hottest = (0..self.devices.len()).max_by(|&a, &b| {
+            let last = |i: usize| {
+                self.rounds
+                    .last()
+                    .and_then(|r| r.temperatures_k.get(i).copied())
+                    .unwrap_or(0.0)
+            };
+            last(a).total_cmp(&last(b))
+        });
+        let Some(i) = hottest else {
+            return write!(f, "no rounds");
+        };
+        let temps: Vec<String> = self
+            .rounds
+            .iter()
+            .filter_map(|r| r.temperatures_k.get(i))
+            .map(|t| format!("{:.1}", t - 273.15))
+            .collect();
+        write!(
+            f,
+            "the rounds solved {} at {} °C",
+            self.devices[i].0,
+            temps.join(", ")
+        )
+    }
 }
 
 /// Temperatures over a transmission.
@@ -192,13 +238,12 @@ fn junction_path(
     p: &tankwave_circuit::BjtParams,
     to: Option<usize>,
 ) -> Result<usize, StageError> {
-    let terms = p.foster_terms();
-    if p.rth_jc.is_finite() || terms.is_empty() {
+    if p.lumped_junction() {
         let j = nw.node(format!("{name}.junction"), p.heat_junction);
         nw.link(j, to, p.rth_jc);
         return Ok(j);
     }
-    let (r, tau): (Vec<f64>, Vec<f64>) = terms.into_iter().unzip();
+    let (r, tau): (Vec<f64>, Vec<f64>) = p.foster_terms().into_iter().unzip();
     let setup = |e: tankwave_solve::ThermalError| StageError::HeatSetup {
         what: format!("{name}: its Foster ladder: {e}"),
     };
@@ -256,39 +301,40 @@ pub fn network(
                     continue;
                 };
                 let rating_k = p.max_tj.is_finite().then_some(p.max_tj);
-                let jc = p.junction_case();
                 let mut nw = Builder {
                     names: &mut names,
                     heat: &mut heat,
                     links: &mut links,
                 };
-                let j = if let (true, Some(s)) = (on_sink, sink) {
-                    if jc.is_none() {
+                let j = match (p.heat_path(on_sink && sink.is_some()), sink) {
+                    (HeatPath::SinkWithoutJunctionCase, _) => {
                         return Err(bad(
                             &el.name,
                             "on the heatsink its part needs thermal { junction_case= } or a Foster ladder"
                                 .into(),
                         ));
                     }
-                    if p.rth_cs.is_finite() {
+                    (HeatPath::Sink { case: true }, Some(s)) => {
                         let k = nw.node(format!("{}.case", el.name), p.heat_case);
                         nw.link(k, Some(s), p.rth_cs);
                         junction_path(&mut nw, &el.name, p, Some(k))?
-                    } else {
+                    }
+                    (HeatPath::Sink { case: false }, Some(s)) => {
                         nw.heat[s] += p.heat_case;
                         junction_path(&mut nw, &el.name, p, Some(s))?
                     }
-                } else if jc.is_some() && p.rth_sink.is_finite() && !p.rth_ja.is_finite() {
-                    let k = nw.node(format!("{}.case", el.name), p.heat_case);
-                    nw.link(k, None, p.rth_sink);
-                    junction_path(&mut nw, &el.name, p, Some(k))?
-                } else if p.rth_ja.is_finite() {
-                    let j = nw.node(format!("{}.junction", el.name), p.heat_junction);
-                    nw.link(j, None, p.rth_ja);
-                    j
-                } else {
+                    (HeatPath::Case, _) => {
+                        let k = nw.node(format!("{}.case", el.name), p.heat_case);
+                        nw.link(k, None, p.rth_sink);
+                        junction_path(&mut nw, &el.name, p, Some(k))?
+                    }
+                    (HeatPath::Direct, _) => {
+                        let j = nw.node(format!("{}.junction", el.name), p.heat_junction);
+                        nw.link(j, None, p.rth_ja);
+                        j
+                    }
                     // no heat path given: the transistor stays at the ambient
-                    continue;
+                    (HeatPath::Absent | HeatPath::Sink { .. }, _) => continue,
                 };
                 devices.push(HeatDevice {
                     element: id,
@@ -300,9 +346,10 @@ pub fn network(
                     dissipation_w: 0.0,
                     idle_w: None,
                     peak: None,
+                    resistance_ohm: None,
                 });
             }
-            ElementKind::Diode { .. } => {
+            ElementKind::Diode { .. } | ElementKind::Resistor { ntc_b: Some(_), .. } => {
                 if let (true, Some(s)) = (on_sink, sink) {
                     devices.push(HeatDevice {
                         element: id,
@@ -314,6 +361,7 @@ pub fn network(
                         dissipation_w: 0.0,
                         idle_w: None,
                         peak: None,
+                        resistance_ohm: None,
                     });
                 }
             }
@@ -418,7 +466,12 @@ pub fn electrothermal(
     let mut x = vec![0.0; n];
     let mut prev: Option<(Vec<f64>, Vec<f64>)> = None; // (x, F(x)) of the last round
     let mut warm_sol: Option<PeriodicSolution> = None;
-    let runaway = |devices: &[HeatDevice], x: &[f64], diss: &[f64], gain: f64, why: &str| {
+    let runaway = |devices: &[HeatDevice],
+                   rounds: &[HeatRound],
+                   x: &[f64],
+                   diss: &[f64],
+                   gain: f64,
+                   why: &str| {
         // the hottest transistor names where it happens
         let (k, d) = devices
             .iter()
@@ -432,6 +485,14 @@ pub fn electrothermal(
             dissipation_w: diss[k],
             loop_gain: gain,
             why: why.to_string(),
+            trail: Box::new(RunawayTrail {
+                ambient_k: ambient,
+                devices: devices
+                    .iter()
+                    .map(|d| (d.name.clone(), d.rating_k))
+                    .collect(),
+                rounds: rounds.to_vec(),
+            }),
         }
     };
     for round in 0..spec.rounds {
@@ -474,6 +535,7 @@ pub fn electrothermal(
             if g >= 1.0 || !g.is_finite() {
                 return Err(runaway(
                     &devices,
+                    &rounds,
                     &x,
                     &diss,
                     g,
@@ -486,11 +548,21 @@ pub fn electrothermal(
                     ambient + x[dv.node] - 273.15,
                     limit(dv) - 273.15
                 );
-                return Err(runaway(&devices, &x, &diss, g, &why));
+                return Err(runaway(&devices, &rounds, &x, &diss, g, &why));
             }
             for (dv, w) in devices.iter_mut().zip(&diss) {
                 dv.temperature_k = ambient + x[dv.node];
                 dv.dissipation_w = *w;
+                if let Some(ElementKind::Resistor {
+                    r, ntc_b: Some(b), ..
+                }) = c.elements.get(dv.element.index()).map(|e| &e.kind)
+                {
+                    dv.resistance_ohm = Some(tankwave_circuit::thermistor_resistance(
+                        *r,
+                        *b,
+                        dv.temperature_k,
+                    ));
+                }
             }
             let mut out = HeatOutcome {
                 ambient_k: ambient,
@@ -509,6 +581,7 @@ pub fn electrothermal(
         if g >= 1.0 {
             return Err(runaway(
                 &devices,
+                &rounds,
                 &x,
                 &diss,
                 g,
@@ -523,7 +596,7 @@ pub fn electrothermal(
                 "still heating past the junction limit of {:.1} °C",
                 limit(dv) - 273.15
             );
-            return Err(runaway(&devices, &x, &diss, g, &why));
+            return Err(runaway(&devices, &rounds, &x, &diss, g, &why));
         }
         let step = 1.0 / (1.0 - g.max(0.0));
         prev = Some((x.clone(), fx));

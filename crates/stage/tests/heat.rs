@@ -199,3 +199,49 @@ fn a_three_term_foster_ladder_chains_to_the_sink() {
         q1.temperature_k
     );
 }
+
+/// The thermistor-biased demo: the same stage as the fixed-bias one, its
+/// base held by a divider whose lower leg has an NTC thermistor on the
+/// heatsink. It settles (where the fixed-bias stage runs away), at the
+/// network's temperatures, with the thermistor at the sink's temperature
+/// and at the resistance its B-parameter law gives there.
+#[test]
+fn thermistor_bias_settles_with_its_law_at_the_sink_temperature() {
+    let c = demo("heat-7m1-thermistor-bias.tank");
+    let r = solve(&c, &SolveOptions::default()).expect("the stage settles");
+    let h = r.heat.as_ref().expect("a heat outcome");
+    assert!(
+        h.loop_gain < 1.0 && h.loop_gain.is_finite(),
+        "{}",
+        h.loop_gain
+    );
+    let q1 = h.devices.iter().find(|d| d.name == "q1").expect("q1");
+    let nt = h.devices.iter().find(|d| d.name == "rntc").expect("rntc");
+    assert!(!nt.transistor);
+    let rsa = 2.5; // sink_ambient= of the demo, K/W
+                   // Superposition on the shared sink (docs/check-values.md "Heat flow"):
+                   // T_sink = T_a + (P_q1 + P_ntc) θ_SA, within the iteration's 0.01 K.
+    let sink = h.ambient_k + (q1.dissipation_w + nt.dissipation_w) * rsa;
+    assert!(
+        (nt.temperature_k - sink).abs() <= 0.0101,
+        "{} vs {sink}",
+        nt.temperature_k
+    );
+    // The B-parameter law R(T) = R25 exp(B (1/T − 1/298.15 K)) with the
+    // demo's R25 = 22 Ω, B = 3950 K (Steinhart and Hart 1968, one-term form,
+    // from memory; docs/check-values.md "Thermistor"), written out here.
+    let want = 22.0 * (3950.0 * (1.0 / nt.temperature_k - 1.0 / 298.15)).exp();
+    let got = nt
+        .resistance_ohm
+        .expect("a thermistor reports its resistance");
+    assert!((got - want).abs() <= 1e-12 * want, "{got} vs {want}");
+    // It is warmer than the ambient, so below its 25 °C value: the bias
+    // falls as the sink warms, which is what keeps the stage from running away.
+    assert!(
+        got < 22.0 && nt.temperature_k > h.ambient_k + 5.0,
+        "{got} Ω at {} K",
+        nt.temperature_k
+    );
+    assert!(q1.temperature_k > nt.temperature_k);
+    assert!(r.verdicts.iter().all(|v| v.pass), "{:?}", r.verdicts);
+}

@@ -315,12 +315,12 @@ impl<'a> Cx<'a> {
             let id = self.element_ref(&id, "analyze heat sink")?;
             if !matches!(
                 self.elem_kind(id),
-                Some(ElemKeyword::Bjt | ElemKeyword::Diode)
+                Some(ElemKeyword::Bjt | ElemKeyword::Diode | ElemKeyword::Resistor)
             ) {
                 self.error(
                     "element-kind",
                     e.span,
-                    "a heatsink carries transistors and diodes only",
+                    "a heatsink carries transistors, diodes and thermistors (resistors with ntc_b=) only",
                 );
                 return None;
             }
@@ -393,11 +393,33 @@ impl<'a> Cx<'a> {
             },
             _ => None,
         };
+        for &id in &h.sink {
+            if let Some(Element {
+                name,
+                kind: ElementKind::Resistor { ntc_b: None, .. },
+                ..
+            }) = c.elements.get(id.index())
+            {
+                self.error(
+                    "element-kind",
+                    span,
+                    format!(
+                        "{name} is on the heatsink but is a plain resistor: a resistor there must be \
+                         a thermistor (give it ntc_b=)"
+                    ),
+                );
+                return;
+            }
+        }
         let mut any = false;
+        // the case heat of transistors whose case is not a node of its own
+        // goes onto the sink
+        let mut sink_heat = h.sink_heat;
         for (id, el) in c.element_ids() {
             let Some(p) = bjt(id) else { continue };
-            if h.sink.contains(&id) {
-                if p.junction_case().is_none() {
+            let path = p.heat_path(h.sink.contains(&id));
+            match path {
+                HeatPath::SinkWithoutJunctionCase => {
                     self.error(
                         "missing-part-param",
                         span,
@@ -408,10 +430,34 @@ impl<'a> Cx<'a> {
                     );
                     return;
                 }
-                any = true;
-            } else {
-                any |= p.thermal_resistance().is_some();
+                HeatPath::Absent => continue,
+                HeatPath::Sink { case: false } => sink_heat += p.heat_case,
+                _ => {}
             }
+            any = true;
+            if h.transmit.is_some() {
+                if let Some(word) = p.missing_heat(path) {
+                    self.error(
+                        "missing-part-param",
+                        span,
+                        format!(
+                            "analyze heat transmit= follows the heating over time, so every part of \
+                             the heat path needs its heat capacity: the part of {} needs thermal {{ {word}= }}",
+                            el.name
+                        ),
+                    );
+                    return;
+                }
+            }
+        }
+        if any && h.transmit.is_some() && !h.sink.is_empty() && sink_heat <= 0.0 {
+            self.error(
+                "missing-option",
+                span,
+                "analyze heat transmit= follows the heating over time, so the heatsink needs its \
+                 heat capacity: give sink_heat=",
+            );
+            return;
         }
         if !any {
             self.error(

@@ -53,6 +53,7 @@ impl<'a> Cx<'a> {
                     b: NodeId::GROUND,
                     r: 1.0,
                     rating_w: None,
+                    ntc_b: None,
                 }
             });
             c.elements.push(Element {
@@ -326,6 +327,7 @@ impl<'a> Cx<'a> {
                 b,
                 r: v,
                 rating_w: rating,
+                ntc_b: self.thermistor_b(&m, e)?,
             }),
             ElemKeyword::Capacitor => Some(ElementKind::Capacitor {
                 a,
@@ -341,6 +343,34 @@ impl<'a> Cx<'a> {
                 rating_a: rating,
             }),
         }
+    }
+
+    /// A thermistor's B constant from `ntc_b=` (K), within what real
+    /// thermistors have, so that its law cannot overflow or vanish at the
+    /// temperatures a stage reaches. `None` inside: a plain resistor.
+    fn thermistor_b(&mut self, m: &super::opts::Given<'a>, e: &ElementStmt) -> Option<Option<f64>> {
+        let b = self.opt_value(m, &o::RESISTOR_NTC_B, "resistor ntc_b")?;
+        if let Some(v) = b {
+            if v > MAX_THERMISTOR_B_K {
+                let sp = m
+                    .get(o::RESISTOR_NTC_B.name)
+                    .map(|o| o.key.span)
+                    .unwrap_or(e.name.span);
+                self.error(
+                    "bad-value",
+                    sp,
+                    format!(
+                        "resistor {}: ntc_b={} is beyond the B constants of real thermistors \
+                         (a few thousand kelvin; at most {})",
+                        e.name.name,
+                        fmt_num(v),
+                        fmt_num(MAX_THERMISTOR_B_K)
+                    ),
+                );
+                return None;
+            }
+        }
+        Some(b)
     }
 
     /// An inductor's series loss resistance from `r=`, or from `q=` at

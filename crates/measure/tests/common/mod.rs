@@ -75,6 +75,7 @@ pub fn resistor(
             b: nid(b),
             r,
             rating_w,
+            ntc_b: None,
         },
     )
 }

@@ -25,7 +25,7 @@ use std::path::{Path, PathBuf};
 
 use crate::plot::PlotError;
 
-pub use stage::{results_json, results_text, stage_plots, stage_report};
+pub use stage::{failure_plots, results_json, results_text, stage_plots, stage_report};
 pub use study::{study_figures, study_report, NominalStage, StudyReport};
 pub use tune::{goal_axis, tune_figures};
 

@@ -93,6 +93,18 @@ pub fn stage_plots(file: &str, c: &Circuit, r: &StageResults) -> Drawn {
     d
 }
 
+/// The plots a failed solve can still draw: for a thermal runaway, the
+/// rounds of the electrothermal iteration up to it (`heat-rounds.svg`).
+/// Empty for every other failure.
+pub fn failure_plots(file: &str, e: &tankwave_stage::StageError) -> Drawn {
+    let mut d = Drawn::default();
+    if let tankwave_stage::StageError::Runaway { trail, .. } = e {
+        let (name, caption, svg) = crate::heat::runaway_plot(trail, &PlotParams::for_source(file));
+        d.add(name, caption, svg);
+    }
+    d
+}
+
 /// Frequency of the first steady-state analysis, if any.
 fn steady_freq(c: &Circuit) -> Option<f64> {
     c.analyses.iter().find_map(|a| match a {

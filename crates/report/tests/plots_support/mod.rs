@@ -61,6 +61,7 @@ pub fn circuit() -> Circuit {
                     b: NodeId::GROUND,
                     r: 50.0,
                     rating_w: None,
+                    ntc_b: None,
                 },
                 origin: origin(),
             },

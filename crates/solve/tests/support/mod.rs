@@ -106,6 +106,7 @@ impl B {
                 b,
                 r,
                 rating_w: None,
+                ntc_b: None,
             },
         )
     }
