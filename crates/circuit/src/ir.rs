@@ -416,6 +416,12 @@ pub struct BjtParams {
     pub r_collector: f64,
     /// r_E: ohmic emitter resistance (Ω); stage file `resistance { emitter= }`.
     pub r_emitter: f64,
+    /// BV_CBO: collector–base avalanche breakdown voltage of the multiplication law (V); stage file `avalanche { cb_voltage= }`.
+    pub bv_cbo: f64,
+    /// n_av: exponent of the multiplication law (—); stage file `avalanche { exponent= }`.
+    pub avalanche_exp: f64,
+    /// α_BV: relative change of BV_CBO per kelvin (1/K); stage file `avalanche { voltage_tempco= }`.
+    pub bv_tempco: f64,
     /// C_je0: base–emitter depletion capacitance at zero bias (F); stage file `charge { be_capacitance= }`.
     pub cj_be: f64,
     /// φ_E: base–emitter built-in potential (V); stage file `charge { be_potential= }`.
@@ -498,6 +504,9 @@ impl Default for BjtParams {
             r_base: 0.0,
             r_collector: 0.0,
             r_emitter: 0.0,
+            bv_cbo: f64::INFINITY,
+            avalanche_exp: 4.0,
+            bv_tempco: 0.0,
             cj_be: 0.0,
             vj_be: 0.75,
             grading_be: 0.33,

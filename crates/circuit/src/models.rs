@@ -170,6 +170,12 @@ pub static BJT_PARAMS: &[Param<BjtParams>] = table! { BjtParams;
         "r_C" "Ω" "ohmic collector resistance" => r_collector;
     "resistance" "emitter" "r_emitter" Resistance NonNegative (Off(0.0), with &[], old 0.0)
         "r_E" "Ω" "ohmic emitter resistance" => r_emitter;
+    "avalanche" "cb_voltage" "cb_voltage" Voltage Positive (Off(INF), with &[], old INF)
+        "BV_CBO" "V" "collector–base breakdown voltage of the avalanche multiplication law (emitter open)" => bv_cbo;
+    "avalanche" "exponent" "exponent" Number Positive (WithOthers, with &["cb_voltage"], old 4.0)
+        "n_av" "—" "exponent of the multiplication law M = 1/(1 − (V_CB/BV_CBO)^n_av), above 1" => avalanche_exp;
+    "avalanche" "voltage_tempco" "voltage_tempco" Number Any (Off(0.0), with &["cb_voltage"], old 0.0)
+        "α_BV" "1/K" "relative change of BV_CBO per kelvin from measured_at (avalanche breakdown rises with temperature)" => bv_tempco;
     "temperature" "band_gap" "gap" Number Positive (Cited(1.12, SRC_GAP), with &[], old 1.11)
         "E_g" "eV" "band gap, sets how I_S rises with temperature" => gap;
     "temperature" "sat_current_exponent" "sat_temp_exp" Number Any (Cited(3.0, SRC_XTI), with &[], old 3.0)

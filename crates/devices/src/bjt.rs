@@ -48,9 +48,23 @@
 //! scaled. The area factor multiplies IS, ISE, ISC, IKF, IKR, CJE, CJC and
 //! divides the three resistances.
 //!
-//! Not modelled: quasi-saturation of the epitaxial collector, avalanche
-//! multiplication and breakdown, self-heating feedback (the junction
-//! temperature is an input), base push-out, excess phase, noise.
+//! # Avalanche multiplication (effect off unless `avalanche { cb_voltage= }`)
+//!
+//! ```text
+//! M − 1 = u/(1 − u),  u = (V_CB/BV_CBO(T))^n_av  for V_CB = −VBC > 0, else 0
+//! I_AV  = (M − 1) · I_CT,   I_C += I_AV,   I_B −= I_AV
+//! BV_CBO(T) = BV_CBO (1 + α_BV (T − T_0))
+//! ```
+//!
+//! (S. L. Miller, Phys. Rev. 99, 1955, from memory.) Above M =
+//! [`AVALANCHE_M_MAX`] M − 1 continues as its tangent line, so the current
+//! through breakdown is steep but finite. With the base open, I_B = 0 gives
+//! M − 1 = 1/β, so the collector current runs away at
+//! BV_CEO = BV_CBO (1 + β)^(−1/n_av) ≈ BV_CBO/β^(1/n_av).
+//!
+//! Not modelled: quasi-saturation of the epitaxial collector, self-heating
+//! feedback (the junction temperature is an input), base push-out, current
+//! crowding, excess phase, noise.
 
 use crate::contract::{stamp_conductance, val, Device, EvalCtx, EvalInfo, Idx, Stamp};
 use crate::error::DeviceError;
@@ -143,6 +157,10 @@ pub struct BjtConstants {
     pub g_collector: f64,
     /// Emitter conductance area/RE, S (0: no resistor).
     pub g_emitter: f64,
+    /// 1/BV_CBO(T), 1/V (0: no avalanche multiplication).
+    pub inv_bv: f64,
+    /// Exponent n_av of the multiplication law.
+    pub n_av: f64,
 }
 
 fn recip(x: f64) -> f64 {
@@ -214,7 +232,56 @@ impl BjtConstants {
             g_base: cond(p.r_base, area),
             g_collector: cond(p.r_collector, area),
             g_emitter: cond(p.r_emitter, area),
+            inv_bv: recip(breakdown_at(p, temp_k)),
+            n_av: p.avalanche_exp,
         }
+    }
+}
+
+/// BV_CBO at `temp_k`: `BV_CBO (1 + α_BV (T − T_0))` (∞ when not given).
+/// Avalanche breakdown rises with temperature because phonon scattering
+/// shortens the carriers' free path between ionising collisions (S. M. Sze,
+/// K. K. Ng, *Physics of Semiconductor Devices*, 3rd ed., 2007, ch. 2,
+/// from memory); the linear law is common practice.
+pub fn breakdown_at(p: &BjtParams, temp_k: f64) -> f64 {
+    p.bv_cbo * (1.0 + p.bv_tempco * (temp_k - p.t_measured))
+}
+
+/// Largest multiplication M the law is used to as written; beyond it
+/// M − 1 continues as the straight line tangent there (C¹), so the
+/// current rises steeply but stays finite through breakdown.
+pub const AVALANCHE_M_MAX: f64 = 100.0;
+
+/// `M − 1` of the avalanche multiplication at a collector–base reverse
+/// voltage `vcb` (> 0 reverse), with its derivative d(M−1)/dV_CB:
+/// `M = 1/(1 − (V_CB/BV_CBO)^n)` (S. L. Miller, "Avalanche breakdown in
+/// germanium", Phys. Rev. 99, 1955, from memory), 0 for V_CB ≤ 0, the
+/// straight-line continuation above M = [`AVALANCHE_M_MAX`].
+pub fn multiplication(k: &BjtConstants, vcb: f64) -> Branch {
+    if k.inv_bv == 0.0 || vcb <= 0.0 {
+        return Branch { v: 0.0, d: 0.0 };
+    }
+    let n = k.n_av;
+    let x = vcb * k.inv_bv;
+    // u0 where M = M_MAX: 1/(1 − u0) = M_MAX
+    let u0 = 1.0 - 1.0 / AVALANCHE_M_MAX;
+    let x0 = u0.powf(1.0 / n);
+    let at = |x: f64| {
+        let u = x.powf(n);
+        let g = u / (1.0 - u);
+        // dg/dx = n u / (x (1 − u)²)
+        let dg = n * u / (x * (1.0 - u) * (1.0 - u));
+        (g, dg)
+    };
+    let (g, dg) = if x <= x0 {
+        at(x)
+    } else {
+        let (g0, dg0) = at(x0);
+        (g0 + dg0 * (x - x0), dg0)
+    };
+    Branch {
+        v: g,
+        d: dg * k.inv_bv,
     }
 }
 
@@ -296,6 +363,7 @@ pub fn check_params(
         ("rth_jc", p.rth_jc),
         ("rth_sink", p.rth_sink),
         ("rth_cs", p.rth_cs),
+        ("bv_cbo", p.bv_cbo),
     ] {
         if !pos_or_inf(v) {
             return bad(name, v, "must be > 0 (∞ = not given)");
@@ -307,9 +375,28 @@ pub fn check_params(
     for (name, v) in [
         ("sat_temp_exp", p.sat_temp_exp),
         ("gain_temp_exp", p.gain_temp_exp),
+        ("bv_tempco", p.bv_tempco),
     ] {
         if !v.is_finite() {
             return bad(name, v, "must be finite");
+        }
+    }
+    if p.bv_cbo.is_finite() {
+        // n ≤ 1 would give M − 1 a kink (or a pole in its slope) at V_CB = 0
+        if !(p.avalanche_exp.is_finite() && p.avalanche_exp > 1.0 && p.avalanche_exp <= 20.0) {
+            return bad(
+                "avalanche_exp",
+                p.avalanche_exp,
+                "must satisfy 1 < n_av ≤ 20",
+            );
+        }
+        let bv = breakdown_at(p, temp_k);
+        if !pos(bv) {
+            return bad(
+                "bv_cbo",
+                bv,
+                "scales to 0 or below at this temperature (voltage_tempco)",
+            );
         }
     }
     if !pos(area) {
@@ -424,6 +511,9 @@ pub struct Intrinsic {
     /// Transport current `I_CT = (I_F − I_R)/qb`, A: the collector current
     /// without the base–collector recombination and leakage parts.
     pub ict: f64,
+    /// Avalanche current `(M − 1)·I_CT`, A: generated in the
+    /// collector–base junction, part of `ic` and taken out of `ib`.
+    pub iav: f64,
     /// Base current into the internal base, A.
     pub ib: f64,
     /// ∂IC/∂VBE.
@@ -469,15 +559,26 @@ pub fn combine(
         + junction_leak * (vbe + vbc);
     let dib_dvbe = c.fwd.d / k.gain_fwd + c.leak_be.d + junction_leak;
     let dib_dvbc = c.rev.d / k.gain_rev + c.leak_bc.d + junction_leak;
-    let ic = ict - c.rev.v / k.gain_rev - c.leak_bc.v - junction_leak * vbc;
-    let dic_dvbe = dict_dvbe;
-    let dic_dvbc = dict_dvbc - c.rev.d / k.gain_rev - c.leak_bc.d - junction_leak;
+    // Avalanche: M − 1 of the transport current is generated in the
+    // collector–base junction, into the collector and out of the base.
+    // V_CB = −VBC, so d/dVBC = −d/dV_CB.
+    let m = multiplication(k, -vbc);
+    let iav = m.v * ict;
+    let diav_dvbe = m.v * dict_dvbe;
+    let diav_dvbc = m.v * dict_dvbc - m.d * ict;
+    let ib = ib - iav;
+    let dib_dvbe = dib_dvbe - diav_dvbe;
+    let dib_dvbc = dib_dvbc - diav_dvbc;
+    let ic = ict - c.rev.v / k.gain_rev - c.leak_bc.v - junction_leak * vbc + iav;
+    let dic_dvbe = dict_dvbe + diav_dvbe;
+    let dic_dvbc = dict_dvbc - c.rev.d / k.gain_rev - c.leak_bc.d - junction_leak + diav_dvbc;
     let qde = k.tf * c.fwd.v / qb;
     let dqde_dvbe = k.tf * (c.fwd.d / qb - c.fwd.v * bq.dqb_dvbe / (qb * qb));
     let dqde_dvbc = -k.tf * c.fwd.v * bq.dqb_dvbc / (qb * qb);
     Intrinsic {
         ic,
         ict,
+        iav,
         ib,
         dic_dvbe,
         dic_dvbc,

@@ -62,6 +62,10 @@ fn parse_set(line: &str) -> (String, Set) {
         sat_temp_exp: g("sat_temp_exp"),
         gain_temp_exp: g("gain_temp_exp"),
         t_measured: g("t_measured"),
+        // avalanche only in the sets that give it
+        bv_cbo: m.get("bv_cbo").copied().unwrap_or(f64::INFINITY),
+        avalanche_exp: m.get("avalanche_exp").copied().unwrap_or(4.0),
+        bv_tempco: m.get("bv_tempco").copied().unwrap_or(0.0),
         ..BjtParams::default()
     };
     (
@@ -178,9 +182,16 @@ fn matches_numpy_reference_at_every_bias_point() {
         assert!(close(t.base.qb, col("qb"), 0.0), "qb at {at}");
         rows += 1;
     }
-    assert_eq!(sets.len(), 3);
+    assert_eq!(sets.len(), 4);
     assert!(rows >= 150, "only {rows} rows");
-    for r in ["cutoff", "forward", "saturation", "reverse", "high"] {
+    for r in [
+        "cutoff",
+        "forward",
+        "saturation",
+        "reverse",
+        "high",
+        "avalanche",
+    ] {
         assert!(
             regions.get(r).copied().unwrap_or(0) >= 8,
             "region {r} under-covered"

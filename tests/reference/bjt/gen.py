@@ -14,6 +14,12 @@ Sources (forms from memory, as listed in the project's check-values):
   the two low-current recombination components, depletion charge with the
   linear continuation above FC*Vj, diffusion charges, temperature scaling of
   IS, BF, BR, ISE, ISC.
+  S. L. Miller, "Avalanche breakdown in germanium", Phys. Rev. 99, 1955 --
+  multiplication M = 1/(1 - (V_CB/BV_CBO)^n); the generated current
+  (M - 1) I_CT flows into the collector and out of the base; BV_CBO scaled
+  linearly with temperature (common practice); above M = 100 the project
+  continues M - 1 along its tangent in V_CB (tankwave's documented choice,
+  written out again here from that description).
 Physical constants: CODATA 2018 (exact), k = 1.380649e-23 J/K,
 q = 1.602176634e-19 C.
 
@@ -56,7 +62,36 @@ SETS = {
               cj_bc=300e-12, vj_bc=0.55, grading_bc=0.45, linear_from=0.6,
               transit_fwd=0.5e-9, transit_rev=50e-9, gap=1.11, sat_temp_exp=3.0,
               gain_temp_exp=1.5, t_measured=298.15, temp=350.0, area=1.0),
+    # Set B with avalanche multiplication, at 330 K: BV_CBO(330 K) = 61.8 V.
+    "D": dict(sat_current=5e-13, gain_fwd=60.0, gain_rev=3.0, emission_fwd=1.02,
+              emission_rev=1.05, early_fwd=80.0, early_rev=8.0, knee_fwd=3.0,
+              knee_rev=0.5, leak_be=2e-11, leak_be_emission=1.7, leak_bc=1e-11,
+              leak_bc_emission=1.9, cj_be=2e-9, vj_be=0.8, grading_be=0.35,
+              cj_bc=300e-12, vj_bc=0.55, grading_bc=0.45, linear_from=0.6,
+              transit_fwd=0.5e-9, transit_rev=50e-9, gap=1.11, sat_temp_exp=3.0,
+              gain_temp_exp=1.5, t_measured=300.15, temp=330.0, area=2.0,
+              bv_cbo=60.0, avalanche_exp=4.0, bv_tempco=1e-3),
 }
+
+M_MAX = 100.0
+
+
+def multiplication_minus_one(p, vcb):
+    """M - 1 at a collector-base reverse voltage vcb (Miller's law), with the
+    tangent continuation above M = M_MAX; 0 without avalanche."""
+    bv0 = p.get("bv_cbo", float("inf"))
+    if not np.isfinite(bv0) or vcb <= 0.0:
+        return 0.0
+    bv = bv0 * (1.0 + p["bv_tempco"] * (p["temp"] - p["t_measured"]))
+    n = p["avalanche_exp"]
+    g = lambda v: (v / bv) ** n / (1.0 - (v / bv) ** n)
+    v0 = bv * (1.0 - 1.0 / M_MAX) ** (1.0 / n)
+    if vcb <= v0:
+        return g(vcb)
+    # slope of u/(1-u) in V at v0, by the chain rule: n u / (V (1-u)^2)
+    u0 = (v0 / bv) ** n
+    slope = n * u0 / (v0 * (1.0 - u0) ** 2)
+    return g(v0) + slope * (vcb - v0)
 
 
 def depletion_charge(v, cj0, vj, m, fc):
@@ -100,8 +135,9 @@ def evaluate(p, vbe, vbc):
     i_ct = (i_f - i_r) / qb
     i_le = ise * np.expm1(vbe / (p["leak_be_emission"] * vt))
     i_lc = isc * np.expm1(vbc / (p["leak_bc_emission"] * vt))
-    ib = i_f / gain_f + i_le + i_r / gain_r + i_lc
-    ic = i_ct - i_r / gain_r - i_lc
+    i_av = multiplication_minus_one(p, -vbc) * i_ct
+    ib = i_f / gain_f + i_le + i_r / gain_r + i_lc - i_av
+    ic = i_ct - i_r / gain_r - i_lc + i_av
     ie = -(ic + ib)
     q_be = (depletion_charge(vbe, a * p["cj_be"], p["vj_be"], p["grading_be"], p["linear_from"])
             + p["transit_fwd"] * i_f / qb)
@@ -128,6 +164,10 @@ def bias_points():
     for vbe in (0.8, 0.86, 0.92, 0.98, 1.05):
         for vbc in (-10.0, -1.0):
             pts.append(("high", vbe, vbc))
+    # up to and through the breakdown of set D (61.8 V; the tangent from 61.6 V)
+    for vbe in (0.62, 0.72):
+        for vbc in (-30.0, -45.0, -55.0, -60.0, -61.5, -62.0, -65.0):
+            pts.append(("avalanche", vbe, vbc))
     return pts
 
 
