@@ -416,6 +416,14 @@ pub struct BjtParams {
     pub r_collector: f64,
     /// r_E: ohmic emitter resistance (Ω); stage file `resistance { emitter= }`.
     pub r_emitter: f64,
+    /// R_CO: resistance of the epitaxial collector at low current (Ω); stage file `epi { resistance= }`.
+    pub r_epi: f64,
+    /// γ: doping factor of the epitaxial collector, (2 n_i/N_epi)² (—); stage file `epi { doping_factor= }`.
+    pub epi_gamma: f64,
+    /// Q_CO: charge factor of the epitaxial collector (C); stage file `epi { stored_charge= }`.
+    pub epi_charge: f64,
+    /// ξ_RC: exponent of T in R_CO(T) (—); stage file `epi { resistance_exponent= }`.
+    pub epi_temp_exp: f64,
     /// BV_CBO: collector–base avalanche breakdown voltage of the multiplication law (V); stage file `avalanche { cb_voltage= }`.
     pub bv_cbo: f64,
     /// n_av: exponent of the multiplication law (—); stage file `avalanche { exponent= }`.
@@ -504,6 +512,10 @@ impl Default for BjtParams {
             r_base: 0.0,
             r_collector: 0.0,
             r_emitter: 0.0,
+            r_epi: 0.0,
+            epi_gamma: 1e-11,
+            epi_charge: 0.0,
+            epi_temp_exp: 2.42,
             bv_cbo: f64::INFINITY,
             avalanche_exp: 4.0,
             bv_tempco: 0.0,

@@ -93,6 +93,8 @@ pub const SRC_GAP: &str =
     "1.12 eV: silicon at 300 K, S. M. Sze, Physics of Semiconductor Devices, ch. 1 (from memory)";
 /// Source of the saturation-current temperature exponent 3.
 pub const SRC_XTI: &str = "3: a diffusion-limited junction has I_S ∝ n_i² ∝ T³·exp(−E_g/kT), S. M. Sze, Physics of Semiconductor Devices, ch. 1–2 (from memory)";
+/// Source of the default temperature exponent of the epitaxial collector's resistance.
+pub const SRC_MOBILITY: &str = "2.42: the electron mobility of lightly doped silicon falls as T^−2.42 (lattice scattering), S. M. Sze, Physics of Semiconductor Devices, ch. 1 (from memory)";
 /// Source of the measurement temperature 25 °C.
 pub const SRC_T0: &str = "25 °C: device data are commonly given at 25 °C (common practice)";
 
@@ -170,6 +172,14 @@ pub static BJT_PARAMS: &[Param<BjtParams>] = table! { BjtParams;
         "r_C" "Ω" "ohmic collector resistance" => r_collector;
     "resistance" "emitter" "r_emitter" Resistance NonNegative (Off(0.0), with &[], old 0.0)
         "r_E" "Ω" "ohmic emitter resistance" => r_emitter;
+    "epi" "resistance" "resistance" Resistance NonNegative (Off(0.0), with &[], old 0.0)
+        "R_CO" "Ω" "resistance of the lightly doped epitaxial collector at low current (quasi-saturation)" => r_epi;
+    "epi" "doping_factor" "doping_factor" Number Positive (WithOthers, with &["resistance"], old 1e-11)
+        "γ" "—" "doping factor (2 n_i/N_epi)² of the epitaxial collector: how strongly injected carriers modulate its resistance" => epi_gamma;
+    "epi" "stored_charge" "stored_charge" Number NonNegative (Off(0.0), with &["resistance"], old 0.0)
+        "Q_CO" "C" "charge factor of the carriers stored in the epitaxial collector" => epi_charge;
+    "epi" "resistance_exponent" "resistance_exponent" Number Any (Cited(2.42, SRC_MOBILITY), with &["resistance"], old 2.42)
+        "ξ_RC" "—" "exponent of T in R_CO(T)" => epi_temp_exp;
     "avalanche" "cb_voltage" "cb_voltage" Voltage Positive (Off(INF), with &[], old INF)
         "BV_CBO" "V" "collector–base breakdown voltage of the avalanche multiplication law (emitter open)" => bv_cbo;
     "avalanche" "exponent" "exponent" Number Positive (WithOthers, with &["cb_voltage"], old 4.0)

@@ -62,9 +62,34 @@
 //! M − 1 = 1/β, so the collector current runs away at
 //! BV_CEO = BV_CBO (1 + β)^(−1/n_av) ≈ BV_CBO/β^(1/n_av).
 //!
-//! Not modelled: quasi-saturation of the epitaxial collector, self-heating
-//! feedback (the junction temperature is an input), base push-out, current
-//! crowding, excess phase, noise.
+//! # Quasi-saturation (effect off unless `epi { resistance= }`)
+//!
+//! A power transistor's collector is a lightly doped epitaxial layer between
+//! the metallurgical base–collector junction (internal node `cj`) and the
+//! collector contact (`ci`, behind `r_collector`). At high current and low
+//! collector voltage the junction side goes into forward bias, carriers
+//! flood the layer and modulate its resistance. With
+//! `K(V) = √(1 + γ exp(V/V_t))` at V_BCI (junction side) and V_BCX (contact
+//! side) (G. M. Kull, L. W. Nagel, S.-W. Lee, P. Lloyd, E. J. Prendergast,
+//! H. Dirks, IEEE Trans. Electron Devices 32(6), 1985, from memory):
+//!
+//! ```text
+//! I_epi = [V_BCI − V_BCX + V_t (K_i − K_x − ln((1 + K_i)/(1 + K_x)))] / R_CO    (ci → cj)
+//! Q_i = Q_CO (K_i − 1) between bi and cj,   Q_x = Q_CO (K_x − 1) between bi and ci
+//! R_CO(T) = R_CO (T/T_0)^ξ_RC,   γ(T) = γ (T/T_0)³ exp((E_g q/k)(1/T_0 − 1/T))
+//! ```
+//!
+//! (the charge split as in the quasi-saturation part of C. C. McAndrew et
+//! al., IEEE JSSC 31(10), 1996, from memory). With both sides reverse
+//! biased K ≈ 1 and the layer is the plain resistance R_CO; as V_BCI goes
+//! forward the K_i term lowers it. The intrinsic transistor's VBC is the
+//! junction side's. Above V/V_t = [`EPI_EXP_MAX`] K continues along its
+//! tangent. Not modelled: velocity saturation in the layer (Kull's V_O)
+//! and the layer's own temperature rise.
+//!
+//! Not modelled: self-heating feedback inside one solve (the junction
+//! temperature is an input; `analyze heat` iterates it), current crowding,
+//! excess phase, noise.
 
 use crate::contract::{stamp_conductance, val, Device, EvalCtx, EvalInfo, Idx, Stamp};
 use crate::error::DeviceError;
@@ -87,6 +112,9 @@ pub struct BjtNodes {
     pub e: Idx,
     /// Internal collector (behind `r_collector`).
     pub ci: Idx,
+    /// The collector at the metallurgical base–collector junction, behind
+    /// the epitaxial layer (equals `ci` without an `epi` block).
+    pub cj: Idx,
     /// Internal base (behind `r_base`).
     pub bi: Idx,
     /// Internal emitter (behind `r_emitter`).
@@ -157,6 +185,12 @@ pub struct BjtConstants {
     pub g_collector: f64,
     /// Emitter conductance area/RE, S (0: no resistor).
     pub g_emitter: f64,
+    /// Epitaxial collector conductance area/R_CO(T), S (0: no epi layer).
+    pub g_epi: f64,
+    /// Doping factor γ(T) of the epitaxial collector.
+    pub epi_gamma: f64,
+    /// Epi charge factor Q_CO·area, C.
+    pub epi_charge: f64,
     /// 1/BV_CBO(T), 1/V (0: no avalanche multiplication).
     pub inv_bv: f64,
     /// Exponent n_av of the multiplication law.
@@ -232,9 +266,92 @@ impl BjtConstants {
             g_base: cond(p.r_base, area),
             g_collector: cond(p.r_collector, area),
             g_emitter: cond(p.r_emitter, area),
+            g_epi: if p.r_epi > 0.0 && p.r_epi.is_finite() {
+                area / (p.r_epi * ratio.powf(p.epi_temp_exp))
+            } else {
+                0.0
+            },
+            // γ ∝ n_i² ∝ T³ exp(−E_g/kT): the saturation-current law with ξ = 3
+            epi_gamma: junction::sat_current_at(p.epi_gamma, 1.0, 3.0, p.gap, p.t_measured, temp_k),
+            epi_charge: p.epi_charge * area,
             inv_bv: recip(breakdown_at(p, temp_k)),
             n_av: p.avalanche_exp,
         }
+    }
+}
+
+/// Above this V/V_t the epi's K(V) continues along its tangent, so that
+/// exp never overflows (V_t·80 ≈ 2 V of forward bias across the epi's
+/// junction side, far beyond any real operating point).
+pub const EPI_EXP_MAX: f64 = 80.0;
+
+/// `K(V) − 1 = √(1 + γ·exp(V/V_t)) − 1` of the epitaxial collector at a
+/// base–collector voltage `v` (forward positive), with dK/dV. K − 1 rather
+/// than K, written `e/(K + 1)` with `e = γ exp(V/V_t)`, keeps its digits
+/// when the layer is barely injected (K − 1 ~ 1e-15).
+pub fn epi_k(k: &BjtConstants, v: f64) -> Branch {
+    let x = v / k.vt;
+    let at = |x: f64| {
+        let e = k.epi_gamma * x.exp();
+        let kk = (1.0 + e).sqrt();
+        // dK/dx = γ e^x / (2K)
+        (e / (kk + 1.0), e / (2.0 * kk))
+    };
+    let (km1, dk_dx) = if x <= EPI_EXP_MAX {
+        at(x)
+    } else {
+        let (k0, d0) = at(EPI_EXP_MAX);
+        (k0 + d0 * (x - EPI_EXP_MAX), d0)
+    };
+    Branch {
+        v: km1,
+        d: dk_dx / k.vt,
+    }
+}
+
+/// The epitaxial collector at (V_BCI, V_BCX), the base–collector voltages at
+/// the metallurgical junction and at the collector contact (npn sense).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Epi {
+    /// Current through the epi layer from the collector contact to the
+    /// junction, A, with its partials ∂/∂V_BCI and ∂/∂V_BCX.
+    pub i: f64,
+    /// ∂I_epi/∂V_BCI.
+    pub di_dvbci: f64,
+    /// ∂I_epi/∂V_BCX.
+    pub di_dvbcx: f64,
+    /// Charge stored on the junction side, Q_CO (K_i − 1), C.
+    pub qi: f64,
+    /// dQ_i/dV_BCI.
+    pub dqi: f64,
+    /// Charge stored on the contact side, Q_CO (K_x − 1), C.
+    pub qx: f64,
+    /// dQ_x/dV_BCX.
+    pub dqx: f64,
+}
+
+/// The quasi-saturation current and charges of the epitaxial collector
+/// (Kull et al. 1985; the charge split of McAndrew et al. 1996; both from
+/// memory; see the module overview).
+pub fn epi(k: &BjtConstants, vbci: f64, vbcx: f64) -> Epi {
+    // K − 1 on each side
+    let ki = epi_k(k, vbci);
+    let kx = epi_k(k, vbcx);
+    let vt = k.vt;
+    let g = k.g_epi;
+    // ln((1 + K_i)/(1 + K_x)) = ln(1 + (K_i − K_x)/(2 + (K_x − 1)))
+    let log = ((ki.v - kx.v) / (2.0 + kx.v)).ln_1p();
+    let i = g * (vbci - vbcx + vt * (ki.v - kx.v - log));
+    // d/dV [V + V_t (K − ln(1 + K))] = 1 + V_t K' K/(1 + K)
+    let side = |b: Branch| 1.0 + vt * b.d * (1.0 + b.v) / (2.0 + b.v);
+    Epi {
+        i,
+        di_dvbci: g * side(ki),
+        di_dvbcx: -g * side(kx),
+        qi: k.epi_charge * ki.v,
+        dqi: k.epi_charge * ki.d,
+        qx: k.epi_charge * kx.v,
+        dqx: k.epi_charge * kx.d,
     }
 }
 
@@ -329,6 +446,8 @@ pub fn check_params(
         ("r_base", p.r_base),
         ("r_collector", p.r_collector),
         ("r_emitter", p.r_emitter),
+        ("r_epi", p.r_epi),
+        ("epi_charge", p.epi_charge),
         ("cj_be", p.cj_be),
         ("cj_bc", p.cj_bc),
         ("grading_be", p.grading_be),
@@ -376,10 +495,14 @@ pub fn check_params(
         ("sat_temp_exp", p.sat_temp_exp),
         ("gain_temp_exp", p.gain_temp_exp),
         ("bv_tempco", p.bv_tempco),
+        ("epi_temp_exp", p.epi_temp_exp),
     ] {
         if !v.is_finite() {
             return bad(name, v, "must be finite");
         }
+    }
+    if p.r_epi > 0.0 && !pos(p.epi_gamma) {
+        return bad("epi_gamma", p.epi_gamma, "must be finite and > 0");
     }
     if p.bv_cbo.is_finite() {
         // n ≤ 1 would give M − 1 a kink (or a pole in its slope) at V_CB = 0
@@ -417,6 +540,17 @@ pub fn check_params(
                 v,
                 "scales to 0 or overflows at this temperature and area",
             );
+        }
+    }
+    if p.r_epi > 0.0 {
+        for (name, v) in [("r_epi", k.g_epi), ("epi_gamma", k.epi_gamma)] {
+            if !pos(v) {
+                return bad(
+                    name,
+                    v,
+                    "scales to 0 or overflows at this temperature and area",
+                );
+            }
         }
     }
     for (name, v) in [("leak_be", k.ise), ("leak_bc", k.isc)] {
@@ -674,10 +808,16 @@ pub struct Bjt {
 }
 
 impl Bjt {
-    /// Which internal nodes this model needs: (collector, base, emitter), true
-    /// where the corresponding ohmic resistance is positive.
-    pub fn internal_nodes_needed(p: &BjtParams) -> [bool; 3] {
-        [p.r_collector > 0.0, p.r_base > 0.0, p.r_emitter > 0.0]
+    /// Which internal nodes this model needs: (collector, base, emitter,
+    /// epi junction), true where the corresponding ohmic resistance (or the
+    /// epi layer's) is positive.
+    pub fn internal_nodes_needed(p: &BjtParams) -> [bool; 4] {
+        [
+            p.r_collector > 0.0,
+            p.r_base > 0.0,
+            p.r_emitter > 0.0,
+            p.r_epi > 0.0,
+        ]
     }
 
     /// Build from model parameters, an area factor and the device temperature (K).
@@ -699,14 +839,52 @@ impl Bjt {
         &self.k
     }
 
-    /// Junction voltages (VBE, VBC) of the intrinsic transistor in the npn sense.
+    /// Junction voltages (VBE, VBC) of the intrinsic transistor in the npn
+    /// sense (VBC at the metallurgical junction, behind the epi layer).
     fn junction_voltages(&self, x: &[f64]) -> (f64, f64) {
         let n = &self.nodes;
         let vb = val(x, n.bi);
         (
             self.sign * (vb - val(x, n.ei)),
-            self.sign * (vb - val(x, n.ci)),
+            self.sign * (vb - val(x, n.cj)),
         )
+    }
+}
+
+impl Bjt {
+    /// The epitaxial collector between the collector contact `ci` and the
+    /// junction `cj`: its current (ci → cj) and its two charges (base to
+    /// cj, base to ci), at the unlimited voltages.
+    fn stamp_epi(&self, x: &[f64], out: &mut dyn Stamp) {
+        let n = self.nodes;
+        let s = self.sign;
+        let vb = val(x, n.bi);
+        let vbci = s * (vb - val(x, n.cj));
+        let vbcx = s * (vb - val(x, n.ci));
+        let e = epi(&self.k, vbci, vbcx);
+        // f(V_BCI, V_BCX) with partials (a, b) entering `row` with factor r:
+        // V_BCI = s(x_bi − x_cj), V_BCX = s(x_bi − x_ci).
+        let mut put = |row: Idx, r: f64, f: f64, a: f64, b: f64, charge: bool| {
+            let value = r * s * f;
+            let cols = [(n.bi, r * (a + b)), (n.cj, -r * a), (n.ci, -r * b)];
+            if charge {
+                out.add_q(row, value);
+                for (c, d) in cols {
+                    out.add_c(row, c, d);
+                }
+            } else {
+                out.add_i(row, value);
+                for (c, d) in cols {
+                    out.add_g(row, c, d);
+                }
+            }
+        };
+        put(n.ci, 1.0, e.i, e.di_dvbci, e.di_dvbcx, false);
+        put(n.cj, -1.0, e.i, e.di_dvbci, e.di_dvbcx, false);
+        put(n.bi, 1.0, e.qi, e.dqi, 0.0, true);
+        put(n.cj, -1.0, e.qi, e.dqi, 0.0, true);
+        put(n.bi, 1.0, e.qx, 0.0, e.dqx, true);
+        put(n.ci, -1.0, e.qx, 0.0, e.dqx, true);
     }
 }
 
@@ -755,7 +933,7 @@ impl Device for Bjt {
         // A quantity f(VBE, VBC) with partials (a, b) entering `row` with factor r:
         // VBE = s(x_bi − x_ei), VBC = s(x_bi − x_ci), the row gets r·s·f, so
         // its Jacobian row is r·(a + b) at bi, −r·a at ei, −r·b at ci.
-        let (bi, ei, ci) = (n.bi, n.ei, n.ci);
+        let (bi, ei, ci) = (n.bi, n.ei, n.cj);
         let mut put = |row: Idx, r: f64, f: f64, a: f64, b: f64, charge: bool| {
             let value = r * s * (f + a * dbe + b * dbc);
             if charge {
@@ -778,6 +956,9 @@ impl Device for Bjt {
         put(ei, -1.0, t.qbe, t.dqbe_dvbe, t.dqbe_dvbc, true);
         put(bi, 1.0, t.qbc, 0.0, t.dqbc_dvbc, true);
         put(ci, -1.0, t.qbc, 0.0, t.dqbc_dvbc, true);
+        if k.g_epi > 0.0 {
+            self.stamp_epi(x, out);
+        }
         info
     }
 

@@ -325,11 +325,14 @@ pub fn instantiate_at(circuit: &Circuit, temps: &[Option<f64>]) -> Result<Device
                 let ci = internal(need[0], nc, 0, "c");
                 let bi = internal(need[1], nb, 1, "b");
                 let ei = internal(need[2], ne, 2, "e");
+                // the junction side of the epi layer, behind the collector
+                let cj = internal(need[3], ci, 0, "cj");
                 let nodes = BjtNodes {
                     c: nc,
                     b: nb,
                     e: ne,
                     ci,
+                    cj,
                     bi,
                     ei,
                 };

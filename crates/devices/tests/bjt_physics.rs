@@ -24,6 +24,7 @@ fn grounded_emitter(p: &BjtParams, temp_k: f64) -> Bjt {
         b: Some(1),
         e: None,
         ci: Some(0),
+        cj: Some(0),
         bi: Some(1),
         ei: None,
     };
@@ -445,6 +446,7 @@ fn area_factor_is_parallel_devices() {
         b: Some(1),
         e: Some(2),
         ci: Some(3),
+        cj: Some(3),
         bi: Some(4),
         ei: Some(5),
     };

@@ -47,6 +47,7 @@ fn six_node(p: &BjtParams) -> Bjt {
         b: Some(1),
         e: Some(2),
         ci: Some(3),
+        cj: Some(3),
         bi: Some(4),
         ei: Some(5),
     };
@@ -235,6 +236,7 @@ fn limiting_both_junctions_and_linearisation() {
         b: Some(1),
         e: None,
         ci: Some(0),
+        cj: Some(0),
         bi: Some(1),
         ei: None,
     };
@@ -485,5 +487,83 @@ proptest::proptest! {
         proptest::prop_assert!(s.iter().all(|x| x.is_finite()));
         let info = q.op_info(&v, &ctx);
         proptest::prop_assert_eq!(info.len(), 12);
+    }
+}
+
+/// The epitaxial collector (quasi-saturation) in the stamp: G and C
+/// against central differences at biases from plain forward active
+/// (junction side reverse biased: the layer is R_CO) through quasi-
+/// saturation (junction side forward, contact side reverse) into full
+/// saturation, npn and pnp, with the epi charge and avalanche on; KCL.
+/// Seven unknowns: c b e ci bi ei cj. Same step and tolerance as above.
+#[test]
+fn epi_jacobians_match_finite_differences() {
+    for pnp in [false, true] {
+        let p = BjtParams {
+            r_epi: 2.0,
+            epi_gamma: 2e-11,
+            epi_charge: 5e-10,
+            bv_cbo: 60.0,
+            avalanche_exp: 4.0,
+            ..full_params(pnp)
+        };
+        let nodes = BjtNodes {
+            c: Some(0),
+            b: Some(1),
+            e: Some(2),
+            ci: Some(3),
+            bi: Some(4),
+            ei: Some(5),
+            cj: Some(6),
+        };
+        let q = Bjt::new(tankwave_circuit::ElementId::new(0), nodes, &p, 1.0, 320.0);
+        // (VBE, V_BCI, V_BCX): junction-side and contact-side BC voltages
+        for &(vbe, vbci, vbcx) in &[
+            (0.7, -5.0, -5.3),
+            (0.75, 0.3, -0.6),
+            (0.8, 0.6, -0.2),
+            (0.85, 0.72, 0.1),
+            (0.9, 0.8, 0.7),
+            (0.3, -1.0, -1.0),
+        ] {
+            let sgn = if pnp { -1.0 } else { 1.0 };
+            let vei = 0.1;
+            let vbi = vei + vbe;
+            let vcj = vbi - vbci;
+            let vci = vbi - vbcx;
+            let xb = [vci + 0.013, vbi + 0.007, vei - 0.002, vci, vbi, vei, vcj];
+            let x: Vec<f64> = xb.iter().map(|v| sgn * v).collect();
+            let st = stamp(&q, &x, &exact());
+            let h = 1e-7;
+            for col in 0..7 {
+                let mut xp = x.clone();
+                let mut xm = x.clone();
+                xp[col] += h;
+                xm[col] -= h;
+                let (sp, sm) = (stamp(&q, &xp, &exact()), stamp(&q, &xm, &exact()));
+                for row in 0..7 {
+                    let g_scale = (0..7).map(|c| st.g_at(row, c).abs()).fold(1e-12, f64::max);
+                    let c_scale = (0..7).map(|c| st.c_at(row, c).abs()).fold(1e-18, f64::max);
+                    let g_fd = (sp.i[row] - sm.i[row]) / (2.0 * h);
+                    let c_fd = (sp.q[row] - sm.q[row]) / (2.0 * h);
+                    assert!(
+                        (g_fd - st.g_at(row, col)).abs() <= 1e-6 * g_scale,
+                        "pnp {pnp} G[{row}][{col}] {} vs fd {g_fd} at {xb:?}",
+                        st.g_at(row, col)
+                    );
+                    assert!(
+                        (c_fd - st.c_at(row, col)).abs() <= 1e-6 * c_scale,
+                        "pnp {pnp} C[{row}][{col}] {} vs fd {c_fd} at {xb:?}",
+                        st.c_at(row, col)
+                    );
+                }
+            }
+            let isum: f64 = st.i.iter().sum();
+            let iscale = st.i.iter().fold(1e-15f64, |a, v| a.max(v.abs()));
+            assert!(isum.abs() <= 1e-12 * iscale);
+            let qsum: f64 = st.q.iter().sum();
+            let qscale = st.q.iter().fold(1e-21f64, |a, v| a.max(v.abs()));
+            assert!(qsum.abs() <= 1e-12 * qscale);
+        }
     }
 }
