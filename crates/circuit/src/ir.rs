@@ -416,6 +416,10 @@ pub struct BjtParams {
     pub r_collector: f64,
     /// r_E: ohmic emitter resistance (Ω); stage file `resistance { emitter= }`.
     pub r_emitter: f64,
+    /// r_BM: base resistance at high current, with current crowding (Ω); stage file `resistance { base_min= }`.
+    pub r_base_min: f64,
+    /// I_RB: base current at which the base resistance has fallen halfway to r_BM (A); stage file `resistance { base_half_current= }`.
+    pub base_half_current: f64,
     /// R_CO: resistance of the epitaxial collector at low current (Ω); stage file `epi { resistance= }`.
     pub r_epi: f64,
     /// γ: doping factor of the epitaxial collector, (2 n_i/N_epi)² (—); stage file `epi { doping_factor= }`.
@@ -512,6 +516,8 @@ impl Default for BjtParams {
             r_base: 0.0,
             r_collector: 0.0,
             r_emitter: 0.0,
+            r_base_min: 0.0,
+            base_half_current: f64::INFINITY,
             r_epi: 0.0,
             epi_gamma: 1e-11,
             epi_charge: 0.0,

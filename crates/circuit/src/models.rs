@@ -172,6 +172,10 @@ pub static BJT_PARAMS: &[Param<BjtParams>] = table! { BjtParams;
         "r_C" "Ω" "ohmic collector resistance" => r_collector;
     "resistance" "emitter" "r_emitter" Resistance NonNegative (Off(0.0), with &[], old 0.0)
         "r_E" "Ω" "ohmic emitter resistance" => r_emitter;
+    "resistance" "base_half_current" "base_half_current" Current Positive (Off(INF), with &["base"], old INF)
+        "I_RB" "A" "base current at which current crowding has brought the base resistance halfway down to its minimum" => base_half_current;
+    "resistance" "base_min" "base_min" Resistance NonNegative (WithOthers, with &["base_half_current"], old 0.0)
+        "r_BM" "Ω" "base resistance at high current (current crowding)" => r_base_min;
     "epi" "resistance" "resistance" Resistance NonNegative (Off(0.0), with &[], old 0.0)
         "R_CO" "Ω" "resistance of the lightly doped epitaxial collector at low current (quasi-saturation)" => r_epi;
     "epi" "doping_factor" "doping_factor" Number Positive (WithOthers, with &["resistance"], old 1e-11)

@@ -36,8 +36,9 @@
 //! F with unit slope at `d = F` and stays positive for every `d`, so q1 grows
 //! at most linearly instead of changing sign.
 //!
-//! The ohmic base resistance is a fixed `r_base` (no current crowding). All of
-//! the base–collector depletion capacitance sits at the internal base.
+//! The ohmic base resistance is `r_base`, lowered by current crowding when
+//! the part asks for it (below). All of the base–collector depletion
+//! capacitance sits at the internal base.
 //!
 //! # Temperature and area
 //! `IS(T) = IS (T/Tm)^XTI exp(Eg q/k (1/Tm − 1/T))`,
@@ -86,6 +87,18 @@
 //! junction side's. Above V/V_t = [`EPI_EXP_MAX`] K continues along its
 //! tangent. Not modelled: velocity saturation in the layer (Kull's V_O)
 //! and the layer's own temperature rise.
+//!
+//! # Current crowding (effect off unless `resistance { base_half_current= }`)
+//!
+//! ```text
+//! r_bb = r_BM + 3 (r_B − r_BM) (tan z − z)/(z tan² z)
+//! z    = (−1 + √(1 + 144 I_B/(π² I_RB))) / ((24/π²) √(I_B/I_RB))
+//! ```
+//!
+//! (J. R. Hauser, IEEE Trans. Electron Devices 11(5), 1964, in Getreu's
+//! 1976 form, from memory), I_B the intrinsic base current smoothed by
+//! [`CROWDING_SMOOTHING`]; the base resistor's current then depends on the
+//! junction voltages too, and the stamp carries those partials.
 //!
 //! Not modelled: self-heating feedback inside one solve (the junction
 //! temperature is an input; `analyze heat` iterates it), current crowding,
@@ -185,6 +198,10 @@ pub struct BjtConstants {
     pub g_collector: f64,
     /// Emitter conductance area/RE, S (0: no resistor).
     pub g_emitter: f64,
+    /// High-current base resistance r_BM/area, Ω.
+    pub r_base_min: f64,
+    /// Crowding half current I_RB·area, A (∞: no current crowding).
+    pub base_half_current: f64,
     /// Epitaxial collector conductance area/R_CO(T), S (0: no epi layer).
     pub g_epi: f64,
     /// Doping factor γ(T) of the epitaxial collector.
@@ -266,6 +283,12 @@ impl BjtConstants {
             g_base: cond(p.r_base, area),
             g_collector: cond(p.r_collector, area),
             g_emitter: cond(p.r_emitter, area),
+            r_base_min: p.r_base_min / area,
+            base_half_current: if p.r_base > 0.0 {
+                p.base_half_current * area
+            } else {
+                f64::INFINITY
+            },
             g_epi: if p.r_epi > 0.0 && p.r_epi.is_finite() {
                 area / (p.r_epi * ratio.powf(p.epi_temp_exp))
             } else {
@@ -278,6 +301,65 @@ impl BjtConstants {
             n_av: p.avalanche_exp,
         }
     }
+}
+
+/// The base current is smoothed as `√(I_B² + ε²) − ε` with
+/// ε = this × I_RB, so that the base resistance is a smooth function of a
+/// base current that changes sign (a class-C base does every cycle).
+pub const CROWDING_SMOOTHING: f64 = 1e-3;
+
+/// `f(w) = (tan z − z)/(z tan² z)` at `w = z²`, with df/dw. Below z = 0.01
+/// its series `1/3 − 4w/45 − 4w²/315` (worked from the Taylor series of tan,
+/// error O(z⁶) < 1e-12), above it the closed form.
+fn crowding_f(w: f64) -> (f64, f64) {
+    if w < 1e-4 {
+        (
+            1.0 / 3.0 - 4.0 * w / 45.0 - 4.0 * w * w / 315.0,
+            -4.0 / 45.0 - 8.0 * w / 315.0,
+        )
+    } else {
+        let z = w.sqrt();
+        let t = z.tan();
+        let f = (t - z) / (z * t * t);
+        // df/dz = [(t' − 1) z t² − (t − z)(t² + 2 z t t')]/(z t²)², t' = 1 + t²
+        let tp = 1.0 + t * t;
+        let den = z * t * t;
+        let dfdz = ((tp - 1.0) * z * t * t - (t - z) * (t * t + 2.0 * z * t * tp)) / (den * den);
+        (f, dfdz / (2.0 * z))
+    }
+}
+
+/// The base resistance with current crowding at an intrinsic base current
+/// `ib` (npn sense), with dr/dI_B: `r = r_BM + 3 (r_B − r_BM) f(z)`,
+/// `f = (tan z − z)/(z tan² z)`,
+/// `z = (−1 + √(1 + 144 I_B/(π² I_RB))) / ((24/π²) √(I_B/I_RB))`
+/// (J. R. Hauser, IEEE Trans. Electron Devices 11(5), 1964, in the form of
+/// I. Getreu, *Modeling the Bipolar Transistor*, 1976; from memory), with
+/// I_B smoothed by [`CROWDING_SMOOTHING`]. `None` without crowding.
+pub fn base_resistance(k: &BjtConstants, ib: f64) -> Option<Branch> {
+    if !k.base_half_current.is_finite() || k.g_base == 0.0 {
+        return None;
+    }
+    let irb = k.base_half_current;
+    let rb = 1.0 / k.g_base;
+    let eps = CROWDING_SMOOTHING * irb;
+    let root = (ib * ib + eps * eps).sqrt();
+    let ieff = root - eps;
+    let dieff = ib / root;
+    let x = ieff / irb;
+    // z = 6√x/(1 + s), s = √(1 + a x), a = 144/π² (the form without the
+    // cancellation of −1 + s); w = z² and dw/dx, finite at x = 0:
+    // dw/dx = 36/(1 + s)² − 36 a x/(s (1 + s)³)
+    let a = 144.0 / (std::f64::consts::PI * std::f64::consts::PI);
+    let s = (1.0 + a * x).sqrt();
+    let w = 36.0 * x / ((1.0 + s) * (1.0 + s));
+    let dw_dx = 36.0 / ((1.0 + s) * (1.0 + s)) - 36.0 * a * x / (s * (1.0 + s).powi(3));
+    let (f, df_dw) = crowding_f(w);
+    let span = 3.0 * (rb - k.r_base_min);
+    Some(Branch {
+        v: k.r_base_min + span * f,
+        d: span * df_dw * dw_dx * dieff / irb,
+    })
 }
 
 /// Above this V/V_t the epi's K(V) continues along its tangent, so that
@@ -447,6 +529,7 @@ pub fn check_params(
         ("r_collector", p.r_collector),
         ("r_emitter", p.r_emitter),
         ("r_epi", p.r_epi),
+        ("r_base_min", p.r_base_min),
         ("epi_charge", p.epi_charge),
         ("cj_be", p.cj_be),
         ("cj_bc", p.cj_bc),
@@ -483,6 +566,7 @@ pub fn check_params(
         ("rth_sink", p.rth_sink),
         ("rth_cs", p.rth_cs),
         ("bv_cbo", p.bv_cbo),
+        ("base_half_current", p.base_half_current),
     ] {
         if !pos_or_inf(v) {
             return bad(name, v, "must be > 0 (∞ = not given)");
@@ -500,6 +584,20 @@ pub fn check_params(
         if !v.is_finite() {
             return bad(name, v, "must be finite");
         }
+    }
+    if p.base_half_current.is_finite() && p.r_base > 0.0 && !pos(p.r_base_min) {
+        return bad(
+            "r_base_min",
+            p.r_base_min,
+            "must be > 0 with current crowding (the base resistance never vanishes)",
+        );
+    }
+    if p.base_half_current.is_finite() && p.r_base_min > p.r_base {
+        return bad(
+            "r_base_min",
+            p.r_base_min,
+            "must not exceed the base resistance r_B (crowding only lowers it)",
+        );
     }
     if p.r_epi > 0.0 && !pos(p.epi_gamma) {
         return bad("epi_gamma", p.epi_gamma, "must be finite and > 0");
@@ -909,7 +1007,10 @@ impl Device for Bjt {
         let n = self.nodes;
         let k = &self.k;
         stamp_conductance(out, x, n.c, n.ci, k.g_collector);
-        stamp_conductance(out, x, n.b, n.bi, k.g_base);
+        let crowding = k.base_half_current.is_finite() && k.g_base > 0.0;
+        if !crowding {
+            stamp_conductance(out, x, n.b, n.bi, k.g_base);
+        }
         stamp_conductance(out, x, n.e, n.ei, k.g_emitter);
 
         let (vbe, vbc) = self.junction_voltages(x);
@@ -958,6 +1059,27 @@ impl Device for Bjt {
         put(ci, -1.0, t.qbc, 0.0, t.dqbc_dvbc, true);
         if k.g_epi > 0.0 {
             self.stamp_epi(x, out);
+        }
+        if crowding {
+            // the base current the resistance follows: the linearised
+            // intrinsic one (exact when nothing was limited)
+            let ib = t.ib + t.dib_dvbe * dbe + t.dib_dvbc * dbc;
+            if let Some(r) = base_resistance(k, ib) {
+                let vrb = val(x, n.b) - val(x, n.bi);
+                let g = 1.0 / r.v;
+                let i = g * vrb;
+                // ∂i/∂I_B = −vrb r'/r²; I_B = f(VBE, VBC) in the npn sense,
+                // VBE = s(x_bi − x_ei), VBC = s(x_bi − x_cj)
+                let di_dib = -vrb * r.d * g * g;
+                let (a, b) = (t.dib_dvbe * s, t.dib_dvbc * s);
+                for (row, sign) in [(n.b, 1.0), (n.bi, -1.0)] {
+                    out.add_i(row, sign * i);
+                    out.add_g(row, n.b, sign * g);
+                    out.add_g(row, n.bi, sign * (-g + di_dib * (a + b)));
+                    out.add_g(row, n.ei, sign * (-di_dib * a));
+                    out.add_g(row, n.cj, sign * (-di_dib * b));
+                }
+            }
         }
         info
     }

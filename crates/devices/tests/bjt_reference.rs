@@ -270,3 +270,57 @@ fn epi_layer_matches_numpy_reference() {
     }
     assert_eq!(rows, 63);
 }
+
+const CROWDING_CSV: &str = include_str!("../../../tests/reference/bjt/crowding.csv");
+
+/// Current crowding (J. R. Hauser, IEEE Trans. Electron Devices 11(5), 1964,
+/// in Getreu's 1976 form, from memory) against the numpy evaluation in
+/// tests/reference/bjt/gen.py → crowding.csv: the base resistance over base
+/// currents from −1 A to 100 A, area 2; at I_B = I_RB·area it has fallen
+/// halfway (0.506 of the way, from the law). Tolerance 1e-9 relative: the
+/// generator evaluates the closed form directly, tankwave its cancellation-
+/// free rewriting.
+#[test]
+fn crowded_base_resistance_matches_numpy_reference() {
+    let mut k = None;
+    let mut rows = 0;
+    for line in CROWDING_CSV.lines() {
+        if let Some(rest) = line.strip_prefix("# set F: ") {
+            let m: BTreeMap<&str, f64> = rest
+                .split_whitespace()
+                .map(|kv| {
+                    let (a, b) = kv.split_once('=').expect("key=value");
+                    (a, b.parse::<f64>().expect("number"))
+                })
+                .collect();
+            let p = BjtParams {
+                r_base: m["r_base"],
+                r_base_min: m["r_base_min"],
+                base_half_current: m["base_half_current"],
+                ..BjtParams::default()
+            };
+            k = Some(tankwave_devices::bjt::BjtConstants::new(
+                &p, m["area"], 300.15,
+            ));
+            continue;
+        }
+        if line.starts_with('#') || line.starts_with("ib") || line.is_empty() {
+            continue;
+        }
+        let f: Vec<f64> = line
+            .split(',')
+            .map(|v| v.parse().expect("number"))
+            .collect();
+        let k = k.as_ref().expect("the set line comes first");
+        let r = tankwave_devices::bjt::base_resistance(k, f[0]).expect("crowding is on");
+        assert!(
+            (r.v - f[1]).abs() <= 1e-9 * f[1],
+            "{} vs {} at {} A",
+            r.v,
+            f[1],
+            f[0]
+        );
+        rows += 1;
+    }
+    assert_eq!(rows, 12);
+}

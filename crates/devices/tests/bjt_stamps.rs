@@ -567,3 +567,38 @@ fn epi_jacobians_match_finite_differences() {
         }
     }
 }
+
+/// Current crowding (base resistance falling with the base current) in the
+/// stamp: G against central differences at biases where the intrinsic base
+/// current is large, small, zero-crossing and reverse (the smoothing keeps
+/// the law differentiable there), npn and pnp. Same step and tolerance as
+/// above.
+#[test]
+fn crowding_jacobians_match_finite_differences() {
+    for pnp in [false, true] {
+        let p = BjtParams {
+            base_half_current: 0.05,
+            r_base_min: 0.3,
+            ..full_params(pnp)
+        };
+        let q = six_node(&p);
+        for &(vbe, vbc) in &[
+            (0.65, -5.0),
+            (0.78, -2.0),
+            (0.85, -1.0),
+            (0.9, 0.5),
+            (0.3, -1.0),
+            (-1.0, -3.0),
+            (0.0, 0.0),
+        ] {
+            let vei = 0.1;
+            let vbi = vei + vbe;
+            let vci = vbi - vbc;
+            assert_fd(
+                &q,
+                pnp,
+                [vci + 0.013, vbi + 0.02, vei - 0.002, vci, vbi, vei],
+            );
+        }
+    }
+}
