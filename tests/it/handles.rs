@@ -76,6 +76,27 @@ fn handles_and_names_agree_on_every_demo_unknown() {
                     reached.push(u);
                 }
             }
+            // a transistor's epi junction node and excess-phase states
+            for u in d.states_of(id) {
+                let (name, kind) = (d.name(u), d.kind(u));
+                let known = [
+                    (names::internal_node(&el.name, "cj"), UnknownKind::Voltage),
+                    (
+                        names::internal_state(&el.name, "phase1"),
+                        UnknownKind::Current,
+                    ),
+                    (
+                        names::internal_state(&el.name, "phase2"),
+                        UnknownKind::Current,
+                    ),
+                ];
+                assert!(
+                    known.iter().any(|(n, k)| n == name && *k == kind),
+                    "{}: {name}",
+                    f.display()
+                );
+                reached.push(u);
+            }
         }
         reached.sort();
         assert_eq!(

@@ -416,6 +416,8 @@ pub struct BjtParams {
     pub r_collector: f64,
     /// r_E: ohmic emitter resistance (Ω); stage file `resistance { emitter= }`.
     pub r_emitter: f64,
+    /// φ_F: excess phase of the forward transport current at 1/(2π τ_F) (degrees); stage file `charge { excess_phase= }`.
+    pub excess_phase: f64,
     /// r_BM: base resistance at high current, with current crowding (Ω); stage file `resistance { base_min= }`.
     pub r_base_min: f64,
     /// I_RB: base current at which the base resistance has fallen halfway to r_BM (A); stage file `resistance { base_half_current= }`.
@@ -516,6 +518,7 @@ impl Default for BjtParams {
             r_base: 0.0,
             r_collector: 0.0,
             r_emitter: 0.0,
+            excess_phase: 0.0,
             r_base_min: 0.0,
             base_half_current: f64::INFINITY,
             r_epi: 0.0,

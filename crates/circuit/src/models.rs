@@ -166,6 +166,8 @@ pub static BJT_PARAMS: &[Param<BjtParams>] = table! { BjtParams;
         "τ_F" "s" "forward transit time (diffusion charge τ_F·I_CC)" => transit_fwd;
     "charge" "transit_reverse" "transit_rev" Time NonNegative (Off(0.0), with &[], old 0.0)
         "τ_R" "s" "reverse transit time" => transit_rev;
+    "charge" "excess_phase" "excess_phase" Angle NonNegative (Off(0.0), with &["transit"], old 0.0)
+        "φ_F" "deg" "excess phase of the forward transport current at the frequency 1/(2π τ_F)" => excess_phase;
     "resistance" "base" "r_base" Resistance NonNegative (Off(0.0), with &[], old 0.0)
         "r_B" "Ω" "ohmic base resistance" => r_base;
     "resistance" "collector" "r_collector" Resistance NonNegative (Off(0.0), with &[], old 0.0)

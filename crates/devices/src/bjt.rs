@@ -100,9 +100,16 @@
 //! [`CROWDING_SMOOTHING`]; the base resistor's current then depends on the
 //! junction voltages too, and the stamp carries those partials.
 //!
+//! # Excess phase (effect off unless `charge { excess_phase= }`)
+//!
+//! The forward transport current I_CC = I_F/qb reaches the collector through
+//! the second-order Bessel approximation of a delay t_d = φ_F τ_F
+//! (P. B. Weil, L. P. McNamee, IEEE Trans. Circuits and Systems 25(2), 1978,
+//! from memory): `t_d² y₁'' + 3 t_d y₁' + 3 y₁ = 3 I_CC`, two current-valued
+//! internal states; `I_CT = y₁ − I_R/qb`.
+//!
 //! Not modelled: self-heating feedback inside one solve (the junction
-//! temperature is an input; `analyze heat` iterates it), current crowding,
-//! excess phase, noise.
+//! temperature is an input; `analyze heat` iterates it), noise.
 
 use crate::contract::{stamp_conductance, val, Device, EvalCtx, EvalInfo, Idx, Stamp};
 use crate::error::DeviceError;
@@ -132,6 +139,8 @@ pub struct BjtNodes {
     pub bi: Idx,
     /// Internal emitter (behind `r_emitter`).
     pub ei: Idx,
+    /// The two excess-phase states (A; `None` without excess phase).
+    pub phase: [Idx; 2],
 }
 
 /// A current (or charge) and its derivative with respect to its junction voltage.
@@ -190,6 +199,8 @@ pub struct BjtConstants {
     pub fc: f64,
     /// Forward transit time TF, s.
     pub tf: f64,
+    /// Excess-phase delay t_d = φ_F·τ_F (φ_F in radians), s (0: none).
+    pub t_delay: f64,
     /// Reverse transit time TR, s.
     pub tr: f64,
     /// Base conductance area/RB, S (0: no resistor).
@@ -279,6 +290,7 @@ impl BjtConstants {
             m_bc: p.grading_bc,
             fc: p.linear_from,
             tf: p.transit_fwd,
+            t_delay: p.excess_phase.to_radians() * p.transit_fwd,
             tr: p.transit_rev,
             g_base: cond(p.r_base, area),
             g_collector: cond(p.r_collector, area),
@@ -537,6 +549,7 @@ pub fn check_params(
         ("grading_bc", p.grading_bc),
         ("transit_fwd", p.transit_fwd),
         ("transit_rev", p.transit_rev),
+        ("excess_phase", p.excess_phase),
         ("gap", p.gap),
         ("heat_junction", p.heat_junction),
         ("heat_case", p.heat_case),
@@ -584,6 +597,13 @@ pub fn check_params(
         if !v.is_finite() {
             return bad(name, v, "must be finite");
         }
+    }
+    if p.excess_phase > 180.0 {
+        return bad(
+            "excess_phase",
+            p.excess_phase,
+            "must be at most 180 degrees (a second-order delay approximation)",
+        );
     }
     if p.base_half_current.is_finite() && p.r_base > 0.0 && !pos(p.r_base_min) {
         return bad(
@@ -743,6 +763,14 @@ pub struct Intrinsic {
     /// Transport current `I_CT = (I_F − I_R)/qb`, A: the collector current
     /// without the base–collector recombination and leakage parts.
     pub ict: f64,
+    /// Forward part of the transport current `I_F/qb`, A, with its partials.
+    pub icc: f64,
+    /// ∂I_CC/∂VBE.
+    pub dicc_dvbe: f64,
+    /// ∂I_CC/∂VBC.
+    pub dicc_dvbc: f64,
+    /// Avalanche `M − 1` and d(M − 1)/dVBC.
+    pub mult: Branch,
     /// Avalanche current `(M − 1)·I_CT`, A: generated in the
     /// collector–base junction, part of `ic` and taken out of `ib`.
     pub iav: f64,
@@ -810,6 +838,10 @@ pub fn combine(
     Intrinsic {
         ic,
         ict,
+        icc: c.fwd.v / qb,
+        dicc_dvbe: c.fwd.d / qb - c.fwd.v * bq.dqb_dvbe / (qb * qb),
+        dicc_dvbc: -c.fwd.v * bq.dqb_dvbc / (qb * qb),
+        mult: Branch { v: m.v, d: -m.d },
         iav,
         ib,
         dic_dvbe,
@@ -906,15 +938,17 @@ pub struct Bjt {
 }
 
 impl Bjt {
-    /// Which internal nodes this model needs: (collector, base, emitter,
-    /// epi junction), true where the corresponding ohmic resistance (or the
-    /// epi layer's) is positive.
-    pub fn internal_nodes_needed(p: &BjtParams) -> [bool; 4] {
+    /// Which internal unknowns this model needs: (collector, base, emitter,
+    /// epi junction, excess-phase states), true where the corresponding
+    /// ohmic resistance (or the epi layer's) is positive, and where the
+    /// excess phase and the transit time are.
+    pub fn internal_nodes_needed(p: &BjtParams) -> [bool; 5] {
         [
             p.r_collector > 0.0,
             p.r_base > 0.0,
             p.r_emitter > 0.0,
             p.r_epi > 0.0,
+            p.excess_phase > 0.0 && p.transit_fwd > 0.0,
         ]
     }
 
@@ -950,6 +984,71 @@ impl Bjt {
 }
 
 impl Bjt {
+    /// Excess phase (Weil and McNamee 1978): the collector takes the
+    /// delayed forward transport current y₁ in place of I_CC,
+    /// `t_d² y₁'' + 3 t_d y₁' + 3 y₁ = 3 I_CC`, written as two first-order
+    /// rows over y₁ and y₂ = t_d y₁': `t_d y₁' − y₂ = 0`,
+    /// `t_d y₂' + 3 y₂ + 3 y₁ − 3 I_CC = 0`. The terminal currents change by
+    /// Δ = y₁ − I_CC: the collector by M·Δ, the base by −(M − 1)·Δ (the
+    /// avalanche of the delayed current), the emitter by −Δ.
+    #[allow(clippy::too_many_arguments)]
+    fn stamp_phase(
+        &self,
+        x: &[f64],
+        t: &Intrinsic,
+        dbe: f64,
+        dbc: f64,
+        y1: usize,
+        y2: usize,
+        out: &mut dyn Stamp,
+    ) {
+        let n = self.nodes;
+        let s = self.sign;
+        let td = self.k.t_delay;
+        let (v1, v2) = (x[y1], x[y2]);
+        // the linearised I_CC (exact when nothing was limited)
+        let icc = t.icc + t.dicc_dvbe * dbe + t.dicc_dvbc * dbc;
+        let (a, b) = (t.dicc_dvbe, t.dicc_dvbc);
+        let d = v1 - icc;
+        let m = 1.0 + t.mult.v;
+        // f(VBE, VBC, y1) entering `row` with factor r; partials (fa, fb)
+        // in the junction voltages (npn sense) and fy in y1.
+        let mut put = |row: Idx, r: f64, f: f64, fa: f64, fb: f64, fy: f64| {
+            out.add_i(row, r * s * f);
+            out.add_g(row, n.bi, r * (fa + fb));
+            out.add_g(row, n.ei, -r * fa);
+            out.add_g(row, n.cj, -r * fb);
+            out.add_g(row, Some(y1), r * s * fy);
+        };
+        // collector: M·Δ, ∂/∂VBE = −M a, ∂/∂VBC = −M b + M'·Δ
+        put(n.cj, 1.0, m * d, -m * a, -m * b + t.mult.d * d, m);
+        // base: −(M − 1)·Δ
+        put(
+            n.bi,
+            1.0,
+            -(m - 1.0) * d,
+            (m - 1.0) * a,
+            (m - 1.0) * b - t.mult.d * d,
+            -(m - 1.0),
+        );
+        // emitter: −Δ
+        put(n.ei, 1.0, -d, a, b, -1.0);
+        // the two state rows (npn sense, no sign)
+        out.add_q(Some(y1), td * v1);
+        out.add_c(Some(y1), Some(y1), td);
+        out.add_i(Some(y1), -v2);
+        out.add_g(Some(y1), Some(y2), -1.0);
+        out.add_q(Some(y2), td * v2);
+        out.add_c(Some(y2), Some(y2), td);
+        out.add_i(Some(y2), 3.0 * v2 + 3.0 * v1 - 3.0 * icc);
+        out.add_g(Some(y2), Some(y2), 3.0);
+        out.add_g(Some(y2), Some(y1), 3.0);
+        // −3 I_CC(VBE, VBC), VBE = s(x_bi − x_ei), VBC = s(x_bi − x_cj)
+        out.add_g(Some(y2), n.bi, -3.0 * s * (a + b));
+        out.add_g(Some(y2), n.ei, 3.0 * s * a);
+        out.add_g(Some(y2), n.cj, 3.0 * s * b);
+    }
+
     /// The epitaxial collector between the collector contact `ci` and the
     /// junction `cj`: its current (ci → cj) and its two charges (base to
     /// cj, base to ci), at the unlimited voltages.
@@ -1060,6 +1159,9 @@ impl Device for Bjt {
         if k.g_epi > 0.0 {
             self.stamp_epi(x, out);
         }
+        if let [Some(y1), Some(y2)] = n.phase {
+            self.stamp_phase(x, &t, dbe, dbc, y1, y2, out);
+        }
         if crowding {
             // the base current the resistance follows: the linearised
             // intrinsic one (exact when nothing was limited)
@@ -1089,7 +1191,12 @@ impl Device for Bjt {
     fn transport_current(&self, x: &[f64], ctx: &EvalCtx) -> Option<f64> {
         let (vbe, vbc) = self.junction_voltages(x);
         let t = intrinsic(&self.k, vbe, vbc, ctx.junction_leak);
-        Some(self.sign * t.ict).filter(|v| v.is_finite())
+        // with excess phase, the delayed forward part
+        let ict = match self.nodes.phase {
+            [Some(y1), _] => t.ict - t.icc + x[y1],
+            _ => t.ict,
+        };
+        Some(self.sign * ict).filter(|v| v.is_finite())
     }
 
     /// Terminal voltages V_BE, V_BC, V_CE (external, physical sign), intrinsic

@@ -282,6 +282,9 @@ pub struct DeviceSet {
     pub(crate) branches: Vec<Option<UnknownId>>,
     /// The internal nodes: the terminal each sits behind and its unknown.
     pub(crate) internals: Vec<(Terminal, UnknownId)>,
+    /// Internal unknowns of an element that sit behind no one terminal
+    /// (a transistor's epi junction node, its excess-phase states).
+    pub(crate) states: Vec<(ElementId, UnknownId)>,
     /// Offset of each device's state slice in the state vector.
     pub state_offsets: Vec<usize>,
     /// Length of the state vector.
@@ -297,6 +300,15 @@ impl DeviceSet {
     /// inductors have one; `None` for every other element).
     pub fn branch_of(&self, e: ElementId) -> Option<UnknownId> {
         self.branches.get(e.index()).copied().flatten()
+    }
+    /// The internal unknowns of element `e` that sit behind no one terminal
+    /// (a transistor's epi junction node `cj'`, its excess-phase states), in
+    /// the order they were made.
+    pub fn states_of(&self, e: ElementId) -> impl Iterator<Item = UnknownId> + '_ {
+        self.states
+            .iter()
+            .filter(move |(at, _)| *at == e)
+            .map(|&(_, u)| u)
     }
     /// The internal node behind terminal `t` of a device (a transistor's
     /// `b'` behind its base), when its ohmic resistance made one.

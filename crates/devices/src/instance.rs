@@ -63,6 +63,7 @@ struct Builder<'c> {
     kinds: Vec<UnknownKind>,
     branches: Vec<Option<UnknownId>>,
     internals: Vec<(Terminal, UnknownId)>,
+    states: Vec<(ElementId, UnknownId)>,
 }
 
 impl Builder<'_> {
@@ -87,6 +88,12 @@ impl Builder<'_> {
     fn branch(&mut self, id: ElementId, name: &str) -> usize {
         let j = self.alloc(names::branch_current(name), UnknownKind::Current);
         self.branches[id.index()] = Some(UnknownId::new(j));
+        j
+    }
+    /// Allocate an internal unknown of element `id` behind no one terminal.
+    fn state(&mut self, id: ElementId, name: String, kind: UnknownKind) -> usize {
+        let j = self.alloc(name, kind);
+        self.states.push((id, UnknownId::new(j)));
         j
     }
     /// Allocate the internal node behind terminal `t`, named `tag'`.
@@ -120,6 +127,7 @@ pub fn instantiate_at(circuit: &Circuit, temps: &[Option<f64>]) -> Result<Device
         kinds: vec![UnknownKind::Voltage; circuit.nodes.len()],
         branches: vec![None; circuit.elements.len()],
         internals: Vec::new(),
+        states: Vec::new(),
     };
     let mut devices: Vec<Box<dyn Device>> = Vec::with_capacity(circuit.elements.len());
     // (branch, inductance) of each inductor element, for couplings.
@@ -325,8 +333,29 @@ pub fn instantiate_at(circuit: &Circuit, temps: &[Option<f64>]) -> Result<Device
                 let ci = internal(need[0], nc, 0, "c");
                 let bi = internal(need[1], nb, 1, "b");
                 let ei = internal(need[2], ne, 2, "e");
-                // the junction side of the epi layer, behind the collector
-                let cj = internal(need[3], ci, 0, "cj");
+                // the junction side of the epi layer, behind the collector's
+                // own internal node
+                let cj = if need[3] {
+                    Some(b.state(id, names::internal_node(name, "cj"), UnknownKind::Voltage))
+                } else {
+                    ci
+                };
+                let phase = if need[4] {
+                    [
+                        Some(b.state(
+                            id,
+                            names::internal_state(name, "phase1"),
+                            UnknownKind::Current,
+                        )),
+                        Some(b.state(
+                            id,
+                            names::internal_state(name, "phase2"),
+                            UnknownKind::Current,
+                        )),
+                    ]
+                } else {
+                    [None, None]
+                };
                 let nodes = BjtNodes {
                     c: nc,
                     b: nb,
@@ -335,6 +364,7 @@ pub fn instantiate_at(circuit: &Circuit, temps: &[Option<f64>]) -> Result<Device
                     cj,
                     bi,
                     ei,
+                    phase,
                 };
                 devices.push(Box::new(Bjt::new(id, nodes, p, area, temp)));
             }
@@ -395,6 +425,7 @@ pub fn instantiate_at(circuit: &Circuit, temps: &[Option<f64>]) -> Result<Device
         kinds: b.kinds,
         branches: b.branches,
         internals: b.internals,
+        states: b.states,
         state_offsets,
         state_len,
     })

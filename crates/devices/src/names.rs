@@ -30,6 +30,12 @@ pub fn branch_current(element: &str) -> String {
     format!("I[{element}]")
 }
 
+/// Name of an internal current-valued state `tag` of `element` (a
+/// transistor's excess-phase states): `I[element:tag]`.
+pub fn internal_state(element: &str, tag: &str) -> String {
+    format!("I[{element}:{tag}]")
+}
+
 /// Name of the internal node `terminal'` of `element`: `V[element:terminal']`.
 pub fn internal_node(element: &str, terminal: &str) -> String {
     format!("V[{element}:{terminal}']")

@@ -27,6 +27,7 @@ fn grounded_emitter(p: &BjtParams, temp_k: f64) -> Bjt {
         cj: Some(0),
         bi: Some(1),
         ei: None,
+        phase: [None, None],
     };
     Bjt::new(tankwave_circuit::ElementId::new(0), nodes, p, 1.0, temp_k)
 }
@@ -449,6 +450,7 @@ fn area_factor_is_parallel_devices() {
         cj: Some(3),
         bi: Some(4),
         ei: Some(5),
+        phase: [None, None],
     };
     let one = Bjt::new(tankwave_circuit::ElementId::new(0), nodes, &p, 1.0, 300.0);
     let three = Bjt::new(tankwave_circuit::ElementId::new(0), nodes, &p, 3.0, 300.0);

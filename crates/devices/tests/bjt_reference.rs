@@ -118,6 +118,7 @@ fn matches_numpy_reference_at_every_bias_point() {
             cj: Some(0),
             bi: Some(1),
             ei: Some(2),
+            phase: [None, None],
         };
         let q = Bjt::new(
             tankwave_circuit::ElementId::new(0),
