@@ -36,6 +36,10 @@ pub struct FitArgs {
     /// Saturation voltage at a forced base current: `ic[A]`, `ib[A]`, `vce[V]`.
     #[arg(long = "vce-sat", value_name = "CSV")]
     pub vce_sat: Option<PathBuf>,
+    /// Output characteristics, collector current against collector–emitter
+    /// voltage at fixed base currents: `vce[V]`, `ib[A]`, `ic[A]`.
+    #[arg(long = "ic-vce", value_name = "CSV")]
+    pub ic_vce: Option<PathBuf>,
     /// Write a pnp part (the curves are given as magnitudes).
     #[arg(long)]
     pub pnp: bool,
@@ -86,12 +90,13 @@ pub fn run(a: &FitArgs) -> i32 {
         (CurveKind::BaseVoltage, &a.vbe),
         (CurveKind::Transition, &a.ft),
         (CurveKind::Saturation, &a.vce_sat),
+        (CurveKind::Output, &a.ic_vce),
     ]
     .into_iter()
     .filter_map(|(k, p)| p.as_ref().map(|p| (k, p)))
     .collect();
     if given.is_empty() {
-        eprintln!("error: no curves given: name at least one of --gain, --vbe, --cap-bc, --cap-be, --ft, --vce-sat");
+        eprintln!("error: no curves given: name at least one of --gain, --vbe, --cap-bc, --cap-be, --ft, --vce-sat, --ic-vce");
         return BAD_INPUT;
     }
     let mut curves = Vec::new();

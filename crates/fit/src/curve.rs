@@ -78,6 +78,10 @@ pub enum CurveKind {
     /// Collector–emitter saturation voltage at a forced base current:
     /// `ic[A]`, `ib[A]`, `vce[V]`.
     Saturation,
+    /// Output characteristics, collector current against collector–emitter
+    /// voltage at fixed base currents: `vce[V]`, `ib[A]`, `ic[A]` (the
+    /// quasi-saturation knee and the avalanche rise).
+    Output,
 }
 
 /// One column a curve kind needs: its name and what it measures.
@@ -95,13 +99,14 @@ const fn col(name: &'static str, quantity: Quantity) -> Column {
 
 impl CurveKind {
     /// Every kind, in the order the fit uses them.
-    pub const ALL: [CurveKind; 6] = [
+    pub const ALL: [CurveKind; 7] = [
         CurveKind::OutputCap,
         CurveKind::InputCap,
         CurveKind::Gain,
         CurveKind::BaseVoltage,
         CurveKind::Transition,
         CurveKind::Saturation,
+        CurveKind::Output,
     ];
 
     /// Short name used in reports and plot file names.
@@ -113,6 +118,7 @@ impl CurveKind {
             CurveKind::InputCap => "cap-be",
             CurveKind::Transition => "ft",
             CurveKind::Saturation => "vce-sat",
+            CurveKind::Output => "ic-vce",
         }
     }
 
@@ -125,6 +131,7 @@ impl CurveKind {
             CurveKind::InputCap => "emitter–base capacitance against reverse voltage",
             CurveKind::Transition => "transition frequency against collector current",
             CurveKind::Saturation => "saturation voltage against collector current",
+            CurveKind::Output => "collector current against collector–emitter voltage",
         }
     }
 
@@ -155,6 +162,11 @@ impl CurveKind {
                 col("ic", Current),
                 Some(col("ib", Current)),
                 col("vce", Voltage),
+            ),
+            CurveKind::Output => (
+                col("vce", Voltage),
+                Some(col("ib", Current)),
+                col("ic", Current),
             ),
         }
     }

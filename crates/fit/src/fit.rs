@@ -13,7 +13,12 @@
 //!    falling at high current: those points are left out, and their misfit
 //!    is reported);
 //! 4. **saturation**: β_R and r_C from the saturation-voltage curve;
-//! 5. **all together**: every parameter fitted above, on every point used
+//! 5. **epi layer, then breakdown**: R_CO and γ of the epitaxial collector
+//!    (and V_A, when the gain curves are all at one V_CE) from the output
+//!    characteristics up to half their top V_CE and the saturation curve;
+//!    then BV_CBO and n_av from all of the output characteristics, when
+//!    they rise toward breakdown;
+//! 6. **all together**: every parameter fitted above, on every point used
 //!    above, so that the result is the least-squares optimum of the whole
 //!    set (the capacitances also shape f_T, r_C also shifts the gain); the
 //!    stages before give it its starting values.
@@ -525,7 +530,64 @@ pub fn fit(curves: &[Curve], pnp: bool, fp: &FitParams) -> Result<FitResult, Fit
         );
     }
 
-    // --- stage 5: every fitted parameter on every used point together, so
+    // --- stage 5: the epitaxial collector from the output characteristics
+    // below the avalanche rise (with the saturation curve when there is
+    // one), then the breakdown from the whole of them
+    if let Some(o) = curve(curves, CurveKind::Output) {
+        let mut knobs = vec![Knob::REpi, Knob::EpiGamma];
+        // the output curves span V_CE: they set the Early voltage when the
+        // gain and base-voltage curves could not
+        if !fitted.contains(&Knob::Early) {
+            // β_F took the Early factor of the one V_CE; they part here
+            knobs.extend([Knob::Early, Knob::Beta]);
+            p.early_fwd = 100.0;
+            undetermined.retain(|u: &Undetermined| u.knob != Knob::Early);
+        }
+        // the saturation stage's r_C holds the layer's drop too: start the
+        // layer with most of it
+        p.r_epi = (0.8 * p.r_collector).max(0.01);
+        p.r_collector *= 0.2;
+        p.epi_gamma = 1e-11;
+        let top = used_points(o).map(|q| q.a).fold(0.0, f64::max);
+        let mut rows: Vec<(CurveKind, &Point)> = used_points(o)
+            .filter(|q| q.a <= 0.5 * top)
+            .map(|q| (o.kind, q))
+            .collect();
+        if let Some(s) = curve(curves, CurveKind::Saturation) {
+            rows.extend(used_points(s).map(|q| (s.kind, q)));
+        }
+        stages.push(run_stage("epi layer", &mut p, &knobs, &Rows { rows }, fp));
+        for k in knobs {
+            if !fitted.contains(&k) {
+                fitted.push(k);
+            }
+        }
+        if output_rises(o) {
+            let knobs = [Knob::Breakdown, Knob::AvalancheExponent];
+            p.bv_cbo = 2.0 * top;
+            p.avalanche_exp = 4.0;
+            let rows = Rows {
+                rows: used_points(o).map(|q| (o.kind, q)).collect(),
+            };
+            stages.push(run_stage("breakdown", &mut p, &knobs, &rows, fp));
+            fitted.extend(knobs);
+        } else {
+            not_given(
+                &[Knob::Breakdown, Knob::AvalancheExponent],
+                "the output curves show no avalanche rise (avalanche left off)",
+                &mut undetermined,
+            );
+        }
+    } else {
+        // effects that are off unless data show them: a note, not a gap
+        notes.push(
+            "no output characteristics (--ic-vce): the epitaxial collector and avalanche \
+             multiplication are left off"
+                .to_string(),
+        );
+    }
+
+    // --- stage 6: every fitted parameter on every used point together, so
     // the result is the least-squares optimum of the whole set (the stages
     // before only give it its starting values)
     if stages.len() > 1 {
@@ -641,6 +703,33 @@ fn all_rows(curves: &[Curve], ft_limit: f64) -> Vec<(CurveKind, &Point)> {
                 .map(move |q| (c.kind, q))
         })
         .collect()
+}
+
+/// Whether the output curves rise toward breakdown: at some base current,
+/// the current at the highest V_CE is more than 5 % above the straight line
+/// through the points at the middle and at three quarters of that curve's
+/// V_CE range (the Early effect is such a line; multiplication bends it
+/// upward).
+fn output_rises(o: &Curve) -> bool {
+    let mut ibs: Vec<f64> = used_points(o).map(|q| q.b).collect();
+    ibs.sort_by(f64::total_cmp);
+    ibs.dedup_by(|a, b| (*a - *b).abs() <= 1e-6 * b.abs());
+    ibs.iter().any(|&ib| {
+        let mut pts: Vec<&Point> = used_points(o)
+            .filter(|q| (q.b - ib).abs() <= 1e-6 * ib)
+            .collect();
+        pts.sort_by(|a, b| a.a.total_cmp(&b.a));
+        let n = pts.len();
+        if n < 4 {
+            return false;
+        }
+        let (m, q, t) = (pts[n / 2], pts[3 * n / 4], pts[n - 1]);
+        if !(q.a > m.a && t.a > q.a) {
+            return false;
+        }
+        let line = q.y + (q.y - m.y) / (q.a - m.a) * (t.a - q.a);
+        t.y > 1.05 * line
+    })
 }
 
 fn used_points(c: &Curve) -> impl Iterator<Item = &Point> + Clone {

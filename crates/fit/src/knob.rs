@@ -47,6 +47,14 @@ pub enum Knob {
     BetaReverse,
     /// r_C (Ω).
     RCollector,
+    /// R_CO, the epitaxial collector's low-current resistance (Ω).
+    REpi,
+    /// γ, the epitaxial collector's doping factor.
+    EpiGamma,
+    /// BV_CBO of the avalanche multiplication law (V).
+    Breakdown,
+    /// n_av, the exponent of the multiplication law.
+    AvalancheExponent,
 }
 
 impl Knob {
@@ -69,6 +77,10 @@ impl Knob {
             Knob::Transit => ("charge", "transit"),
             Knob::BetaReverse => ("transport", "beta_reverse"),
             Knob::RCollector => ("resistance", "collector"),
+            Knob::REpi => ("epi", "resistance"),
+            Knob::EpiGamma => ("epi", "doping_factor"),
+            Knob::Breakdown => ("avalanche", "cb_voltage"),
+            Knob::AvalancheExponent => ("avalanche", "exponent"),
         }
     }
 
@@ -91,6 +103,10 @@ impl Knob {
             Knob::Transit => "τ_F",
             Knob::BetaReverse => "β_R",
             Knob::RCollector => "r_C",
+            Knob::REpi => "R_CO",
+            Knob::EpiGamma => "γ",
+            Knob::Breakdown => "BV_CBO",
+            Knob::AvalancheExponent => "n_av",
         }
     }
 
@@ -98,10 +114,10 @@ impl Knob {
     pub fn unit(self) -> &'static str {
         match self {
             Knob::CapBc | Knob::CapBe => "F",
-            Knob::PotentialBc | Knob::PotentialBe | Knob::Early => "V",
+            Knob::PotentialBc | Knob::PotentialBe | Knob::Early | Knob::Breakdown => "V",
             Knob::SatCurrent | Knob::LeakBe | Knob::Knee => "A",
             Knob::Transit => "s",
-            Knob::RCollector => "Ω",
+            Knob::RCollector | Knob::REpi => "Ω",
             _ => "",
         }
     }
@@ -122,6 +138,10 @@ impl Knob {
             Knob::Transit => (1e-13, 1e-6, true),
             Knob::BetaReverse => (0.01, 500.0, true),
             Knob::RCollector => (1e-5, 1e3, true),
+            Knob::REpi => (1e-4, 1e3, true),
+            Knob::EpiGamma => (1e-18, 1e-3, true),
+            Knob::Breakdown => (2.0, 5000.0, true),
+            Knob::AvalancheExponent => (1.5, 12.0, false),
         }
     }
 
@@ -144,6 +164,10 @@ impl Knob {
             Knob::Transit => p.transit_fwd,
             Knob::BetaReverse => p.gain_rev,
             Knob::RCollector => p.r_collector,
+            Knob::REpi => p.r_epi,
+            Knob::EpiGamma => p.epi_gamma,
+            Knob::Breakdown => p.bv_cbo,
+            Knob::AvalancheExponent => p.avalanche_exp,
         }
     }
 
@@ -166,6 +190,10 @@ impl Knob {
             Knob::Transit => &mut p.transit_fwd,
             Knob::BetaReverse => &mut p.gain_rev,
             Knob::RCollector => &mut p.r_collector,
+            Knob::REpi => &mut p.r_epi,
+            Knob::EpiGamma => &mut p.epi_gamma,
+            Knob::Breakdown => &mut p.bv_cbo,
+            Knob::AvalancheExponent => &mut p.avalanche_exp,
         };
         *f = v;
     }

@@ -21,11 +21,24 @@
 //! - capacitances: C_j0 (1 + V_R/φ)^(−m) at the reverse voltage V_R (the
 //!   depletion capacitance of docs/models.md at V = −V_R);
 //! - saturation voltage: the intrinsic (V_BE, V_BC) that carry `ic` and `ib`
-//!   together, by Newton on the two currents with steps limited to 50 mV.
+//!   together, by Newton on the two currents with steps limited to 50 mV;
+//!   with an epitaxial collector, V_BC is the junction side's and the
+//!   layer's drop at `ic` (the contact-side V_BC its current needs, by
+//!   bisection: the layer's current falls as that voltage rises) is added;
+//! - output characteristics (I_C at V_CE and a fixed I_B): the junction
+//!   voltages (V_BE, junction-side V_BC) that carry `ib` into the base and
+//!   pass the collector current through the epitaxial layer at the given
+//!   V_CE, by Newton on the two equations; avalanche multiplication is in
+//!   the currents. Beyond the open-base breakdown no base current of that
+//!   size exists and the point has no value;
+//! - with an epitaxial collector, the gain, V_BE and f_T curves count the
+//!   layer as its low-current resistance R_CO in the ohmic drop (exact
+//!   while its junction side is reverse biased, where those curves are
+//!   taken).
 
 use crate::curve::{CurveKind, Point};
 use tankwave_circuit::BjtParams;
-use tankwave_devices::bjt::{intrinsic, BjtConstants, Intrinsic};
+use tankwave_devices::bjt::{epi, intrinsic, BjtConstants, Intrinsic};
 
 /// Model value at one point, or why there is none.
 pub fn value(p: &BjtParams, kind: CurveKind, pt: &Point) -> Result<f64, String> {
@@ -47,8 +60,9 @@ pub fn value(p: &BjtParams, kind: CurveKind, pt: &Point) -> Result<f64, String> 
         }
         CurveKind::Saturation => {
             let (vbe, vbc) = saturation_bias(&k, pt.a, pt.b)?;
-            vbe - vbc + pt.a * p.r_collector + (pt.a + pt.b) * p.r_emitter
+            vbe - contact_side(&k, vbc, pt.a)? + pt.a * p.r_collector + (pt.a + pt.b) * p.r_emitter
         }
+        CurveKind::Output => output_current(&k, p, pt.a, pt.b)?,
     };
     if v.is_finite() {
         Ok(v)
@@ -80,7 +94,7 @@ pub fn forward_bias(
     let mut ib = 0.0;
     let mut out = None;
     for _ in 0..3 {
-        let vce_i = vce - ic * p.r_collector - (ic + ib) * p.r_emitter;
+        let vce_i = vce - ic * (p.r_collector + p.r_epi) - (ic + ib) * p.r_emitter;
         if vce_i <= 0.0 {
             return Err(format!(
                 "the ohmic drops take all of V_CE = {vce} V at I_C = {ic} A"
@@ -120,6 +134,91 @@ fn vbe_for(k: &BjtConstants, ic: f64, vce: f64) -> Result<(f64, Intrinsic), Stri
         return Err(format!("no positive base current at V_BE = {hi:.4} V"));
     }
     Ok((hi, i))
+}
+
+/// The contact-side V_BC at which the epitaxial layer carries `ic` with its
+/// junction side at `vbci` (`vbci` itself without a layer): bisection, the
+/// layer's current falling as the contact-side voltage rises.
+pub fn contact_side(k: &BjtConstants, vbci: f64, ic: f64) -> Result<f64, String> {
+    if k.g_epi == 0.0 {
+        return Ok(vbci);
+    }
+    let f = |v: f64| epi(k, vbci, v).i - ic;
+    // the ohmic bound: the drop is at most ic·R_CO, and it is positive
+    let (mut lo, mut hi) = (vbci - ic / k.g_epi - 1.0, vbci);
+    if !(f(lo) > 0.0 && f(hi) < 0.0) {
+        return Err(format!(
+            "the epitaxial layer cannot carry I_C = {ic:.3e} A at V_BC = {vbci:.3} V"
+        ));
+    }
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        if mid <= lo || mid >= hi {
+            break;
+        }
+        if f(mid) > 0.0 {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    Ok(0.5 * (lo + hi))
+}
+
+/// The collector current at the external `vce` with `ib` into the base:
+/// Newton on (V_BE, junction-side V_BC) for I_B = `ib` and, with an
+/// epitaxial layer, I_epi(V_BCI, V_BCX) = I_C, without one V_BCI = V_BCX,
+/// where the contact side V_BCX = V_BE − V_CE + I_C r_C + (I_C + I_B) r_E
+/// carries the ohmic drops of the current being solved for.
+pub fn output_current(k: &BjtConstants, p: &BjtParams, vce: f64, ib: f64) -> Result<f64, String> {
+    let (rc, re) = (p.r_collector, p.r_emitter);
+    // start: the forward-active V_BE of the base current alone
+    let mut vbe = k.nf * k.vt * (ib * k.gain_fwd / k.is).max(1.0).ln();
+    let mut vbj = vbe - vce;
+    let beyond = || format!("beyond breakdown: no base current of {ib:.3e} A at V_CE = {vce} V");
+    for _ in 0..400 {
+        let t = intrinsic(k, vbe, vbj, 0.0);
+        let vbx = vbe - vce + t.ic * (rc + re) + t.ib * re;
+        let dx_dvbe = 1.0 + (rc + re) * t.dic_dvbe + re * t.dib_dvbe;
+        let dx_dvbj = (rc + re) * t.dic_dvbc + re * t.dib_dvbc;
+        let f1 = (t.ib - ib) / ib;
+        let (a, b) = (t.dib_dvbe / ib, t.dib_dvbc / ib);
+        let (f2, c, d) = if k.g_epi == 0.0 {
+            (vbj - vbx, -dx_dvbe, 1.0 - dx_dvbj)
+        } else {
+            let e = epi(k, vbj, vbx);
+            let scale = t.ic.abs().max(ib);
+            (
+                (e.i - t.ic) / scale,
+                (e.di_dvbcx * dx_dvbe - t.dic_dvbe) / scale,
+                (e.di_dvbci + e.di_dvbcx * dx_dvbj - t.dic_dvbc) / scale,
+            )
+        };
+        let det = a * d - b * c;
+        if !(det.is_finite() && det != 0.0) {
+            return Err(beyond());
+        }
+        let dx = -(d * f1 - b * f2) / det;
+        let dy = -(-c * f1 + a * f2) / det;
+        let big = dx.abs().max(dy.abs());
+        let s = if big > 0.05 { 0.05 / big } else { 1.0 };
+        vbe += s * dx;
+        vbj += s * dy;
+        if !(vbe.is_finite() && vbj.is_finite()) || vbe > 3.0 {
+            return Err(beyond());
+        }
+        if big < 1e-13 {
+            let ic = intrinsic(k, vbe, vbj, 0.0).ic;
+            return if ic > 0.0 {
+                Ok(ic)
+            } else {
+                Err(format!("no forward collector current at V_CE = {vce} V"))
+            };
+        }
+    }
+    Err(format!(
+        "no junction voltages carry I_B = {ib:.3e} A at V_CE = {vce} V"
+    ))
 }
 
 /// Intrinsic (V_BE, V_BC) carrying `ic` into the collector and `ib` into

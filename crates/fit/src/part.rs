@@ -72,11 +72,14 @@ pub fn part_text(name: &str, r: &FitResult) -> String {
             Knob::LeakBe | Knob::LeakBeIdeality => p.leak_be > 0.0,
             Knob::CapBc | Knob::PotentialBc | Knob::GradingBc => p.cj_bc > 0.0,
             Knob::CapBe | Knob::PotentialBe | Knob::GradingBe => p.cj_be > 0.0,
-            Knob::Transit | Knob::RCollector => k.get(p) > 0.0,
+            Knob::Transit | Knob::RCollector | Knob::REpi => k.get(p) > 0.0,
+            Knob::EpiGamma => p.r_epi > 0.0,
+            Knob::Breakdown => p.bv_cbo.is_finite(),
+            Knob::AvalancheExponent => p.bv_cbo.is_finite(),
             _ => true,
         }
     };
-    let blocks: [(&str, &[Knob]); 4] = [
+    let blocks: [(&str, &[Knob]); 6] = [
         (
             "transport",
             &[
@@ -102,6 +105,8 @@ pub fn part_text(name: &str, r: &FitResult) -> String {
             ],
         ),
         ("resistance", &[Knob::RCollector]),
+        ("epi", &[Knob::REpi, Knob::EpiGamma]),
+        ("avalanche", &[Knob::Breakdown, Knob::AvalancheExponent]),
     ];
     for (block, knobs) in blocks {
         let mut words: Vec<String> = knobs
