@@ -422,6 +422,8 @@ pub struct BjtParams {
     pub r_base_min: f64,
     /// I_RB: base current at which the base resistance has fallen halfway to r_BM (A); stage file `resistance { base_half_current= }`.
     pub base_half_current: f64,
+    /// ξ_RB: exponent of T in r_B(T) and r_BM(T) (—); stage file `resistance { base_exponent= }`.
+    pub base_temp_exp: f64,
     /// R_CO: resistance of the epitaxial collector at low current (Ω); stage file `epi { resistance= }`.
     pub r_epi: f64,
     /// γ: doping factor of the epitaxial collector, (2 n_i/N_epi)² (—); stage file `epi { doping_factor= }`.
@@ -520,6 +522,7 @@ impl Default for BjtParams {
             r_emitter: 0.0,
             excess_phase: 0.0,
             r_base_min: 0.0,
+            base_temp_exp: 0.0,
             base_half_current: f64::INFINITY,
             r_epi: 0.0,
             epi_gamma: 1e-11,

@@ -178,6 +178,8 @@ pub static BJT_PARAMS: &[Param<BjtParams>] = table! { BjtParams;
         "I_RB" "A" "base current at which current crowding has brought the base resistance halfway down to its minimum" => base_half_current;
     "resistance" "base_min" "base_min" Resistance NonNegative (WithOthers, with &["base_half_current"], old 0.0)
         "r_BM" "Ω" "base resistance at high current (current crowding)" => r_base_min;
+    "resistance" "base_exponent" "base_exponent" Number Any (Off(0.0), with &["base"], old 0.0)
+        "ξ_RB" "—" "exponent of T in the base resistances r_B(T) and r_BM(T) (majority-carrier mobility in the base)" => base_temp_exp;
     "epi" "resistance" "resistance" Resistance NonNegative (Off(0.0), with &[], old 0.0)
         "R_CO" "Ω" "resistance of the lightly doped epitaxial collector at low current (quasi-saturation)" => r_epi;
     "epi" "doping_factor" "doping_factor" Number Positive (WithOthers, with &["resistance"], old 1e-11)

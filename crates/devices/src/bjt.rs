@@ -292,10 +292,10 @@ impl BjtConstants {
             tf: p.transit_fwd,
             t_delay: p.excess_phase.to_radians() * p.transit_fwd,
             tr: p.transit_rev,
-            g_base: cond(p.r_base, area),
+            g_base: cond(p.r_base * ratio.powf(p.base_temp_exp), area),
             g_collector: cond(p.r_collector, area),
             g_emitter: cond(p.r_emitter, area),
-            r_base_min: p.r_base_min / area,
+            r_base_min: p.r_base_min * ratio.powf(p.base_temp_exp) / area,
             base_half_current: if p.r_base > 0.0 {
                 p.base_half_current * area
             } else {
@@ -593,6 +593,7 @@ pub fn check_params(
         ("gain_temp_exp", p.gain_temp_exp),
         ("bv_tempco", p.bv_tempco),
         ("epi_temp_exp", p.epi_temp_exp),
+        ("base_temp_exp", p.base_temp_exp),
     ] {
         if !v.is_finite() {
             return bad(name, v, "must be finite");

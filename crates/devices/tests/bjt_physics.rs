@@ -698,3 +698,43 @@ fn open_base_breakdown_follows_the_multiplication_law() {
     // ((1+β)/β)^(1/n) = 1.004 here
     assert!((bv_ceo / (bv / beta.powf(1.0 / n)) - 1.0).abs() < 0.005);
 }
+
+/// The temperature laws of the power-device parameters (docs/models.md):
+/// R_CO(T) = R_CO (T/T_0)^ξ_RC, γ(T) = γ (T/T_0)³ exp((E_g q/k)(1/T_0 − 1/T))
+/// (γ ∝ n_i², S. M. Sze, *Physics of Semiconductor Devices*, ch. 1, from
+/// memory), BV_CBO(T) = BV_CBO (1 + α_BV (T − T_0)) and
+/// r_B(T) = r_B (T/T_0)^ξ_RB, r_BM likewise, each written out here and
+/// compared with the scaled constants at 350 K for parameters taken at
+/// 300 K (1e-12 relative: the same closed forms).
+#[test]
+fn power_device_parameters_follow_their_temperature_laws() {
+    let (t0, t) = (300.0, 350.0);
+    let p = BjtParams {
+        t_measured: t0,
+        gap: 1.12,
+        r_base: 2.0,
+        r_base_min: 0.5,
+        base_half_current: 0.1,
+        base_temp_exp: 1.5,
+        r_epi: 0.8,
+        epi_gamma: 1e-11,
+        epi_temp_exp: 2.42,
+        bv_cbo: 60.0,
+        avalanche_exp: 4.0,
+        bv_tempco: 1e-3,
+        ..BjtParams::default()
+    };
+    let k = BjtConstants::new(&p, 1.0, t);
+    let close = |a: f64, b: f64| (a / b - 1.0).abs() < 1e-12;
+    let r = t / t0;
+    assert!(close(1.0 / k.g_epi, 0.8 * r.powf(2.42)));
+    // E_g q/k in kelvin, with q and k exact (CODATA 2018)
+    let eg_k = 1.12 * 1.602_176_634e-19 / 1.380_649e-23;
+    assert!(close(
+        k.epi_gamma,
+        1e-11 * r.powi(3) * (eg_k * (1.0 / t0 - 1.0 / t)).exp()
+    ));
+    assert!(close(1.0 / k.inv_bv, 60.0 * (1.0 + 1e-3 * 50.0)));
+    assert!(close(1.0 / k.g_base, 2.0 * r.powf(1.5)));
+    assert!(close(k.r_base_min, 0.5 * r.powf(1.5)));
+}
