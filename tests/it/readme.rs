@@ -63,6 +63,9 @@ fn every_readme_command_runs_as_written() {
     assert!(lines.len() >= 10, "README commands found: {lines:?}");
     let dir = tempfile::tempdir().unwrap();
     copy_dir(&root().join("netlists"), &dir.path().join("netlists"));
+    // the power-device curves of the fit tour line
+    let power = "tests/reference/fit/power";
+    copy_dir(&root().join(power), &dir.path().join(power));
     let bin = env!("CARGO_BIN_EXE_tankwave");
     for (line, expected) in &lines {
         // Through the shell, so that globs such as netlists/*.tank expand
