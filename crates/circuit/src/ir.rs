@@ -112,6 +112,8 @@ pub enum ElementKind {
         c: f64,
         /// Voltage rating, V.
         rating_v: Option<f64>,
+        /// RMS current rating, A (`current_rating=`).
+        rating_a: Option<f64>,
     },
     /// `inductor NAME a b VALUE [r=Ω | q=Q [q_at=Hz]] [rating=A]`.
     Inductor {
@@ -474,6 +476,14 @@ pub struct BjtParams {
     pub max_tj: f64,
     /// V_EB,max: reverse base–emitter voltage rating (V); stage file `ratings { vbe_reverse_max= }`.
     pub max_vbe_reverse: f64,
+    /// V_CER,max: collector–emitter rating with a resistor of at most `vce_resistor_ohm` from base to emitter (V); stage file `ratings { vce_resistor_max= }`.
+    pub max_vce_resistor: f64,
+    /// R_BE: the base–emitter resistance `max_vce_resistor` is rated at (Ω); stage file `ratings { vce_resistor_at= }`.
+    pub vce_resistor_ohm: f64,
+    /// V_CES,max: collector–emitter rating with the base shorted to the emitter (V); stage file `ratings { vce_short_max= }`.
+    pub max_vce_short: f64,
+    /// V_CB,max: collector–base voltage rating (V); stage file `ratings { vcb_max= }`.
+    pub max_vcb: f64,
     /// θ_JA: thermal resistance junction to ambient (K/W); stage file `thermal { junction_ambient= }`.
     pub rth_ja: f64,
     /// θ_JC: thermal resistance junction to case (K/W); stage file `thermal { junction_case= }`.
@@ -549,6 +559,10 @@ impl Default for BjtParams {
             max_power: f64::INFINITY,
             max_tj: f64::INFINITY,
             max_vbe_reverse: f64::INFINITY,
+            max_vce_resistor: f64::INFINITY,
+            vce_resistor_ohm: f64::INFINITY,
+            max_vce_short: f64::INFINITY,
+            max_vcb: f64::INFINITY,
             rth_ja: f64::INFINITY,
             rth_jc: f64::INFINITY,
             rth_sink: f64::INFINITY,

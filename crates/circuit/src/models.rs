@@ -236,6 +236,14 @@ pub static BJT_PARAMS: &[Param<BjtParams>] = table! { BjtParams;
         "T_J,max" "K" "junction temperature rating (written in degC or K)" => max_tj;
     "ratings" "vbe_reverse_max" "max_vbe_reverse" Voltage Positive (Off(INF), with &[], old INF)
         "V_EB,max" "V" "reverse base–emitter voltage rating" => max_vbe_reverse;
+    "ratings" "vce_resistor_max" "vce_resistor_max" Voltage Positive (Off(INF), with &[], old INF)
+        "V_CER,max" "V" "collector–emitter voltage rating with a resistor from base to emitter" => max_vce_resistor;
+    "ratings" "vce_resistor_at" "vce_resistor_at" Resistance Positive (WithOthers, with &["vce_resistor_max"], old INF)
+        "R_BE" "Ω" "the base–emitter resistance the resistor rating is given at" => vce_resistor_ohm;
+    "ratings" "vce_short_max" "vce_short_max" Voltage Positive (Off(INF), with &[], old INF)
+        "V_CES,max" "V" "collector–emitter voltage rating with the base shorted to the emitter" => max_vce_short;
+    "ratings" "vcb_max" "vcb_max" Voltage Positive (Off(INF), with &[], old INF)
+        "V_CB,max" "V" "collector–base voltage rating" => max_vcb;
 };
 
 /// Junction diode parameters, block by block.

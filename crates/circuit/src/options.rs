@@ -206,6 +206,13 @@ pub mod element {
         Default::Absent,
         "the peak voltage the capacitor may carry (for require stress)",
     );
+    /// `current_rating=` of a capacitor: the RMS current it may carry.
+    pub const CAPACITOR_CURRENT_RATING: OptionSpec = opt(
+        "current_rating",
+        Takes::Value(Slot::Current, Range::Positive),
+        Default::Absent,
+        "the RMS current the capacitor may carry (for require stress)",
+    );
     /// `rating=` of an inductor: the current it may carry.
     pub const INDUCTOR_RATING: OptionSpec = opt(
         "rating",
@@ -309,7 +316,7 @@ pub mod element {
     /// The options of each element kind, by keyword.
     pub const ALL: &[(&str, &[OptionSpec])] = &[
         ("resistor", &[RESISTOR_RATING, RESISTOR_NTC_B]),
-        ("capacitor", &[CAPACITOR_RATING]),
+        ("capacitor", &[CAPACITOR_RATING, CAPACITOR_CURRENT_RATING]),
         (
             "inductor",
             &[INDUCTOR_RATING, INDUCTOR_R, INDUCTOR_Q, INDUCTOR_Q_AT],

@@ -159,6 +159,7 @@ pub fn circuit_for(net: &Network) -> Result<Circuit, DesignError> {
                 b,
                 c: e.value,
                 rating_v: None,
+                rating_a: None,
             },
         };
         c.elements.push(Element {

@@ -30,6 +30,7 @@ fn cap(a: Option<usize>, b: Option<usize>, c: f64) -> ElementKind {
         b: nid(b),
         c,
         rating_v: None,
+        rating_a: None,
     }
 }
 fn ind(a: Option<usize>, b: Option<usize>, l: f64, r: f64) -> ElementKind {

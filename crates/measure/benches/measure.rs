@@ -62,6 +62,7 @@ fn stage() -> Circuit {
                     b: NodeId::GROUND,
                     c: 1e-9,
                     rating_v: Some(500.0),
+                    rating_a: None,
                 },
             ),
             el(

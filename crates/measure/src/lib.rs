@@ -34,6 +34,7 @@
 //! ```
 #![deny(missing_docs)]
 
+pub mod base_return;
 pub mod error;
 pub mod figure;
 pub mod load;

@@ -230,6 +230,9 @@ pub enum StressQuantity {
     /// Peak reverse base–emitter voltage, V (`vbe_reverse_max`; a row only
     /// when the part is rated).
     VbeReverse,
+    /// Peak collector–base voltage of a transistor, V (`vcb_max`; a row only
+    /// when the part is rated).
+    VcbPeak,
 }
 
 impl StressQuantity {
@@ -244,6 +247,7 @@ impl StressQuantity {
             StressQuantity::Dissipation => "dissipation",
             StressQuantity::JunctionTemp => "junction temperature",
             StressQuantity::VbeReverse => "reverse vbe",
+            StressQuantity::VcbPeak => "peak vcb",
         }
     }
 }
@@ -266,6 +270,10 @@ pub struct StressRow {
     /// Fraction of the rating used (value / rating; for junction temperature
     /// the fraction of the allowed rise above ambient), if rated.
     pub fraction: Option<f64>,
+    /// For a transistor's peak v_ce, which collector–emitter rating its
+    /// base return selects and why (`None`: the part gives only one).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub basis: Option<crate::base_return::VceBasis>,
 }
 
 /// Every figure measured from one period.
@@ -684,6 +692,7 @@ fn stress_row(
         unit: unit.to_string(),
         rating: rated,
         fraction: rated.and_then(|r| finite(value / r)),
+        basis: None,
     }
 }
 
@@ -967,7 +976,13 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
     let t_amb = c.temperature_k;
     for (id, el) in c.element_ids() {
         match &el.kind {
-            ElementKind::Capacitor { a, b, rating_v, .. } => {
+            ElementKind::Capacitor {
+                a,
+                b,
+                rating_v,
+                rating_a,
+                ..
+            } => {
                 let v = p.across(*a, *b);
                 let vpk = v.iter().fold(0.0f64, |m, x| m.max(x.abs()));
                 stress.push(stress_row(
@@ -984,7 +999,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
                     StressQuantity::RmsCurrent,
                     rms(p.current(id, 0)),
                     "A",
-                    None,
+                    *rating_a,
                 ));
             }
             ElementKind::Inductor { rating_a, .. } => {
@@ -1086,14 +1101,24 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
                 let (mv, mi, mp, mt) = bp
                     .map(|b| (b.max_vce, b.max_ic, b.max_power, b.max_tj))
                     .unwrap_or((f64::INFINITY, f64::INFINITY, f64::INFINITY, f64::INFINITY));
-                stress.push(stress_row(
+                // the collector–emitter rating the base return selects
+                let (mv, basis) = match bp {
+                    Some(b) => crate::base_return::vce_rating(
+                        b,
+                        crate::base_return::base_return(c, *nb, *ne),
+                    ),
+                    None => (mv, None),
+                };
+                let mut row = stress_row(
                     &el.name,
                     id,
                     StressQuantity::VcePeak,
                     vce_peak,
                     "V",
                     Some(mv),
-                ));
+                );
+                row.basis = basis;
+                stress.push(row);
                 stress.push(stress_row(
                     &el.name,
                     id,
@@ -1120,6 +1145,21 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
                         vbe_reverse,
                         "V",
                         Some(mr),
+                    ));
+                }
+                // collector–base voltage: a row only for a rated part
+                if let Some(mcb) = bp.map(|b| b.max_vcb).filter(|r| r.is_finite()) {
+                    let vcb_peak = p
+                        .across(*nc, *nb)
+                        .iter()
+                        .fold(f64::NEG_INFINITY, |m, x| m.max(s * x));
+                    stress.push(stress_row(
+                        &el.name,
+                        id,
+                        StressQuantity::VcbPeak,
+                        vcb_peak,
+                        "V",
+                        Some(mcb),
                     ));
                 }
                 if let Some(tj) = tj {

@@ -242,6 +242,7 @@ fn metrics(p1: f64, dbcs: &[f64], f0: f64) -> Metrics {
             unit: "V".into(),
             rating: Some(100.0),
             fraction: Some(0.8),
+            basis: None,
         }],
         notes: vec![tankwave_measure::Note {
             figure: "tj q2".into(),

@@ -448,6 +448,15 @@ fn stress_section(out: &mut String, m: &Metrics, label: Option<&str>) {
             );
         }
         table_close(out);
+        for r in &m.stress {
+            if let Some(b) = &r.basis {
+                out.push_str(&format!(
+                    "<p class=\"note\">{} peak vce rating: {}</p>\n",
+                    escape(&r.element),
+                    escape(&crate::stage::vce_basis_text(b))
+                ));
+            }
+        }
     }
     for n in &m.notes {
         out.push_str(&format!(

@@ -546,6 +546,15 @@ pub fn steady_text(
             ]);
         }
         s.push_str(&t.render());
+        for r in &m.stress {
+            if let Some(b) = &r.basis {
+                s.push_str(&format!(
+                    "{} peak vce rating: {}\n",
+                    r.element,
+                    vce_basis_text(b)
+                ));
+            }
+        }
     }
     for n in &m.notes {
         s.push_str(&format!("note: {} not measured: {}\n", n.figure, n.reason));
@@ -976,6 +985,27 @@ pub(crate) struct StressCells {
     pub used: Option<String>,
 }
 
+/// Why a transistor's peak v_ce is checked against the rating it is: its
+/// d.c. base return and the rating that selects (docs/measurements.md).
+pub fn vce_basis_text(b: &tankwave_measure::base_return::VceBasis) -> String {
+    use tankwave_measure::base_return::{BaseReturn, VceRating};
+    let ret = match b.base_return {
+        BaseReturn::Open => "no d.c. path from base to emitter".to_string(),
+        BaseReturn::Resistor(r) => format!("base returned to the emitter through {}", si(r, "Ohm")),
+        BaseReturn::Short(r) => format!("base shorted to the emitter at d.c. ({})", si(r, "Ohm")),
+    };
+    match b.rating {
+        VceRating::ShortedBase => format!("{ret}: the shorted-base rating (V_CES) applies"),
+        VceRating::Resistor => format!(
+            "{ret}, within the {} the resistor rating (V_CER) is given at: it applies",
+            si(b.resistor_at_ohm, "Ohm")
+        ),
+        VceRating::OpenBase => format!(
+            "{ret}: no resistor or shorted-base rating covers it, the open-base rating (V_CEO) applies"
+        ),
+    }
+}
+
 /// The text of one stress row.
 pub(crate) fn stress_cells(r: &tankwave_measure::StressRow) -> StressCells {
     let (quantity, unit) = match r.quantity {
@@ -987,6 +1017,7 @@ pub(crate) fn stress_cells(r: &tankwave_measure::StressRow) -> StressCells {
         StressQuantity::Dissipation => ("dissipation", "W"),
         StressQuantity::JunctionTemp => ("junction temperature", "K"),
         StressQuantity::VbeReverse => ("reverse vbe", "V"),
+        StressQuantity::VcbPeak => ("peak vcb", "V"),
     };
     let show = |v: f64| {
         if unit == "K" {

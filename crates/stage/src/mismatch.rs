@@ -160,6 +160,7 @@ pub fn with_load(circuit: &Circuit, z: Complex64, freq: f64) -> Result<Circuit, 
                 b,
                 c: y.im / w,
                 rating_v: None,
+                rating_a: None,
             },
             origin,
         });

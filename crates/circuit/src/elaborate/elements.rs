@@ -334,6 +334,11 @@ impl<'a> Cx<'a> {
                 b,
                 c: v,
                 rating_v: rating,
+                rating_a: self.opt_value(
+                    &m,
+                    &o::CAPACITOR_CURRENT_RATING,
+                    "capacitor current_rating",
+                )?,
             }),
             _ => Some(ElementKind::Inductor {
                 a,

@@ -194,6 +194,7 @@ pub fn metrics() -> Metrics {
             unit: "V".into(),
             rating: Some(36.0),
             fraction: Some(22.5 / 36.0),
+            basis: None,
         }],
         notes: vec![],
         two_tone: None,

@@ -119,6 +119,7 @@ impl B {
                 b,
                 c,
                 rating_v: None,
+                rating_a: None,
             },
         )
     }
