@@ -182,6 +182,13 @@ macro_rules! figure_catalogue {
                 label: "peak junction temperature over a transmission",
                 about: Transistor(|t| t.tj_peak_k),
             },
+            Avalanche {
+                word: Some("avalanche"),
+                record: None,
+                unit: Fraction,
+                label: "peak avalanche multiplication M − 1 of the collector–base junction",
+                about: Transistor(|t| t.multiplication_peak),
+            },
             Stress {
                 word: Some("stress"),
                 record: None,

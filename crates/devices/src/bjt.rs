@@ -1234,6 +1234,10 @@ impl Device for Bjt {
             (OpFigure::BaseCollectorCapacitance, t.dqbc_dvbc),
             (OpFigure::Dissipation, power),
         ];
+        let mut out = out;
+        if self.k.inv_bv > 0.0 {
+            out.push((OpFigure::Multiplication, t.mult.v));
+        }
         // A non-finite figure (only possible with absurd parameters) is left out
         // rather than reported.
         out.into_iter().filter(|(_, v)| v.is_finite()).collect()

@@ -62,11 +62,14 @@ pub enum OpFigure {
     BaseCollectorCapacitance,
     /// Power dissipated in a transistor, V_CE·I_C + V_BE·I_B, W.
     Dissipation,
+    /// Avalanche multiplication M − 1 of a transistor's collector–base
+    /// junction (a part with `avalanche { cb_voltage= }` only).
+    Multiplication,
 }
 
 impl OpFigure {
     /// Every figure, in the order reports list them.
-    pub const ALL: [OpFigure; 24] = [
+    pub const ALL: [OpFigure; 25] = [
         OpFigure::Voltage,
         OpFigure::Current,
         OpFigure::Power,
@@ -91,6 +94,7 @@ impl OpFigure {
         OpFigure::BaseEmitterCapacitance,
         OpFigure::BaseCollectorCapacitance,
         OpFigure::Dissipation,
+        OpFigure::Multiplication,
     ];
 
     /// The ASCII key of the figure in JSON and CSV (`g_m`, `g_pi`, `c_pi`, …).
@@ -120,6 +124,7 @@ impl OpFigure {
             OpFigure::BaseEmitterCapacitance => "c_pi",
             OpFigure::BaseCollectorCapacitance => "c_mu",
             OpFigure::Dissipation => "dissipation",
+            OpFigure::Multiplication => "multiplication",
         }
     }
 
@@ -140,6 +145,7 @@ impl OpFigure {
             | OpFigure::EmitterCurrent => "A",
             OpFigure::Power | OpFigure::DeliveredPower | OpFigure::Dissipation => "W",
             OpFigure::Charge => "C",
+            OpFigure::Multiplication => "",
             OpFigure::Flux => "Wb",
             OpFigure::JunctionConductance
             | OpFigure::Transconductance

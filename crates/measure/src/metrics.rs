@@ -208,6 +208,12 @@ pub struct TransistorMetrics {
     /// transmit=`, K; `None` (and left out of JSON) otherwise.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub tj_peak_k: Option<f64>,
+    /// Peak avalanche multiplication M − 1 of the collector–base junction
+    /// over the period (a part with `avalanche { cb_voltage= }`; set by the
+    /// stage from the device, [`Metrics::set_multiplication`]); `None` (and
+    /// left out of JSON) otherwise.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub multiplication_peak: Option<f64>,
 }
 
 /// What a stress row measures.
@@ -647,6 +653,15 @@ fn junction_fraction(tj: f64, t_amb: f64, rating: f64) -> Option<f64> {
 }
 
 impl Metrics {
+    /// Set the peak avalanche multiplication M − 1 of transistor `id` over
+    /// the period (the device's own law, evaluated by the stage at every
+    /// sample of the solved period).
+    pub fn set_multiplication(&mut self, id: ElementId, peak: f64) {
+        for t in self.transistors.iter_mut().filter(|t| t.element_id == id) {
+            t.multiplication_peak = Some(peak);
+        }
+    }
+
     /// Replace the junction temperature of transistor `id` (its figure and
     /// its stress row) by `tj_k`, and set its peak over a transmission:
     /// what the electrothermal steady state (`analyze heat`) found, in
@@ -1097,6 +1112,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
                     rth_k_per_w: rth,
                     tj_k: tj,
                     tj_peak_k: None,
+                    multiplication_peak: None,
                 };
                 let (mv, mi, mp, mt) = bp
                     .map(|b| (b.max_vce, b.max_ic, b.max_power, b.max_tj))

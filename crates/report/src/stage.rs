@@ -154,6 +154,7 @@ pub fn figure_label(f: OpFigure) -> &'static str {
         OpFigure::BaseEmitterCapacitance => "C_π",
         OpFigure::BaseCollectorCapacitance => "C_μ",
         OpFigure::Dissipation => "dissipation",
+        OpFigure::Multiplication => "M − 1",
     }
 }
 

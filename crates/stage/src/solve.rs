@@ -471,8 +471,53 @@ fn period_data<'a>(circuit: &'a Circuit, s: &'a PeriodicSolution) -> PeriodData<
 
 /// Measure a periodic solution of `circuit`.
 pub fn measure(circuit: &Circuit, s: &PeriodicSolution) -> Result<Metrics, StageError> {
-    tankwave_measure::measure(&period_data(circuit, s), &MeasureParams::default())
-        .map_err(StageError::Measure)
+    let mut m = tankwave_measure::measure(&period_data(circuit, s), &MeasureParams::default())
+        .map_err(StageError::Measure)?;
+    multiplication(circuit, s, &mut m)?;
+    Ok(m)
+}
+
+/// The peak avalanche multiplication of every transistor whose part has
+/// it, from the device's own law at every sample of the period (at the
+/// circuit's temperature: avalanche breakdown rises with temperature, so
+/// a heated junction multiplies less than this says).
+fn multiplication(
+    circuit: &Circuit,
+    s: &PeriodicSolution,
+    m: &mut Metrics,
+) -> Result<(), StageError> {
+    let has = circuit.models.iter().any(
+        |md| matches!(&md.params, tankwave_circuit::ModelParams::Bjt(p) if p.bv_cbo.is_finite()),
+    );
+    if !has {
+        return Ok(());
+    }
+    let set = tankwave_devices::instantiate(circuit).map_err(StageError::Devices)?;
+    if set.n_unknowns != s.x.len() {
+        return Ok(());
+    }
+    let ctx = tankwave_devices::EvalCtx::default();
+    let samples = s.x.first().map(|v| v.len()).unwrap_or(0);
+    let mut x = vec![0.0; set.n_unknowns];
+    for d in &set.devices {
+        let mut peak: Option<f64> = None;
+        for n in 0..samples {
+            for (u, v) in x.iter_mut().zip(&s.x) {
+                *u = v[n];
+            }
+            if let Some((_, mv)) = d
+                .op_info(&x, &ctx)
+                .into_iter()
+                .find(|(f, _)| *f == tankwave_devices::OpFigure::Multiplication)
+            {
+                peak = Some(peak.map_or(mv, |p: f64| p.max(mv)));
+            }
+        }
+        if let Some(p) = peak {
+            m.set_multiplication(d.element(), p);
+        }
+    }
+    Ok(())
 }
 
 /// The collector load of every transistor of a periodic solution of `circuit`.
