@@ -214,6 +214,7 @@ fn transistor(name: &str, id: usize, vce: f64, tj: Option<f64>) -> TransistorMet
         rth_k_per_w: tj.map(|_| 5.0),
         tj_k: tj,
         tj_peak_k: None,
+        multiplication_peak: None,
     }
 }
 

@@ -185,6 +185,7 @@ pub fn metrics() -> Metrics {
             rth_k_per_w: None,
             tj_k: None,
             tj_peak_k: None,
+            multiplication_peak: None,
         }],
         stress: vec![StressRow {
             element: "Q1".into(),
