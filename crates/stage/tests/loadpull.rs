@@ -1,0 +1,116 @@
+//! Load-pull (`tankwave_stage::loadpull`) against the analytic load-pull
+//! contours of an ideal current-source device (S. C. Cripps, "A theory for
+//! the prediction of GaAs FET load-pull power contours", IEEE MTT-S 1983,
+//! from memory; docs/check-values.md, "Load-pull").
+
+use num_complex::Complex64;
+use tankwave_circuit::{Analysis, Circuit, Overrides, StageSource};
+use tankwave_stage::loadpull::{load_pull, LoadPull};
+
+/// Supply, V.
+const VDC: f64 = 50.0;
+/// Fundamental of the collector current, peak A: β · (base current's sine
+/// amplitude) = 100 · 2.5 mA.
+const I1: f64 = 0.25;
+
+/// An ideal current-source device: a bipolar transistor with no
+/// capacitance, no Early effect and no high-injection knee, driven by a
+/// current source at its base (class A: dc = sine amplitude = 2.5 mA, so
+/// i_c = β·i_b swings 0 to I_max = 0.5 A), with a clamp diode (10 mA
+/// saturation current) across it so that v_ce cannot swing below about
+/// −0.2 V: its voltage limit is v_ce ≈ 0, its current limit I_max. The
+/// load power is what the load takes (`pout_w`), since the device is the
+/// transistor and its clamp together. Harmonics are shorted at the collector by
+/// 1 µF (0.08 Ω at 2 MHz against loads of tens of ohms), the supply comes
+/// through 10 mH (63 kΩ at 1 MHz). 1 MΩ from base to ground (0.75 µA of
+/// 2.5 mA, 0.03 %) gives the base a DC path at zero drive; the nominal load
+/// is 200 Ω through 10 µF.
+fn cripps_stage(grid: &str) -> Circuit {
+    let text = format!(
+        "title \"ideal current-source device\"\n\
+         part ideal npn {{ transport {{ sat_current=1e-14A beta=100 beta_reverse=1 }} }}\n\
+         part clamp diode {{ junction {{ sat_current=10mA }} }}\n\
+         let f0 = 1MHz\n\
+         voltage   vcc  vcc  gnd dc={VDC}V\n\
+         current   ib   gnd  base dc=2.5mA wave=sine(amp=2.5mA, freq=f0)\n\
+         resistor  rbb  base gnd 1MOhm\n\
+         bjt       q1   c=coll b=base e=gnd part=ideal\n\
+         diode     dcl  gnd  coll part=clamp\n\
+         inductor  lrfc vcc  coll 10mH\n\
+         capacitor csh  coll gnd  1uF\n\
+         capacitor cb   coll out 10uF\n\
+         resistor  rl   out  gnd 200Ohm\n\
+         analyze steady freq=f0 harmonics=16 method=balance\n\
+         analyze loadpull {grid}\n"
+    );
+    tankwave_stage::load_source(
+        StageSource::from_text("cripps.tank", &text),
+        &Overrides::default(),
+    )
+    .expect("the check stage loads")
+    .circuit
+}
+
+fn run(c: &Circuit) -> LoadPull {
+    let spec = c
+        .analyses
+        .iter()
+        .find_map(|a| match a {
+            Analysis::LoadPull(s) => Some(s.clone()),
+            _ => None,
+        })
+        .expect("an analyze loadpull");
+    load_pull(c, &spec).expect("the load-pull runs")
+}
+
+/// Cripps's power at load Z: current-limited P = ½ I1² R for |Z| ≤ R_opt,
+/// voltage-limited P = ½ V1² R / |Z|² for |Z| ≥ R_opt, with R_opt = V1/I1.
+fn cripps_power(z: Complex64, v1: f64) -> f64 {
+    let r_opt = v1 / I1;
+    if z.norm() <= r_opt {
+        0.5 * I1 * I1 * z.re
+    } else {
+        0.5 * v1 * v1 * z.re / z.norm_sqr()
+    }
+}
+
+#[test]
+fn load_pull_of_an_ideal_device_follows_the_cripps_contours() {
+    // Z0 = R_opt = V_dc / I1 = 200 Ω: the boundary |Z| = R_opt is the
+    // imaginary axis of Γ, current-limited to its left, voltage-limited to
+    // its right.
+    let c = cripps_stage("reference=200Ohm radius=0.6 points=9");
+    let pull = run(&c);
+    assert_eq!(pull.unsolved, 0, "every load solves");
+    assert_eq!(pull.points.len(), 49, "the 9×9 grid cut to the disc");
+    let r_opt = VDC / I1;
+    // Tolerance 1.5 %: the clamp and the transistor's saturation hold
+    // v_ce within 0.2 V of zero instead of at zero (the knee), which moves
+    // the voltage swing by at most 0.2 V of 50 V, 0.4 %, and the
+    // voltage-limited power by 0.8 %, and rounds the corner where the two
+    // limits meet (|Z| = R_opt) by as much; the 1 µF harmonic short leaves
+    // harmonic voltages below 0.1 % of the fundamental; the truncation at 16
+    // harmonics and the Newton tolerance are far smaller.
+    for p in &pull.points {
+        let f = p.figures.expect("solved");
+        let want = cripps_power(p.z, VDC);
+        assert!(
+            (f.pout_w / want - 1.0).abs() <= 0.015,
+            "Γ = {} (|Z| = {:.1} Ω): {} W against Cripps's {} W",
+            p.gamma,
+            p.z.norm(),
+            f.pout_w,
+            want
+        );
+    }
+    // The optimum is R_opt itself (Γ = 0) with P_opt = ½ I1² R_opt = 6.25 W,
+    // found within one grid step (0.15 in Γ) and 1.5 % (as above).
+    let best = pull.best_power.expect("an optimum");
+    assert!(best.gamma.norm() <= 0.15, "optimum at Γ = {}", best.gamma);
+    let p_opt = 0.5 * I1 * I1 * r_opt;
+    assert!(
+        (best.value / p_opt - 1.0).abs() <= 0.015,
+        "optimum {} W against {p_opt} W",
+        best.value
+    );
+}
