@@ -40,8 +40,10 @@
 //! least-squares quadratic `f = a + b x + c y + d x² + e xy + g y²` over it
 //! and its eight neighbours (all solved): the stationary point of the
 //! quadratic, accepted when the quadratic has a maximum there (negative
-//! definite) inside the 3 × 3 box and within the grid's disc, else the grid
-//! point itself (`refined = false`).
+//! definite) inside the 3 × 3 box and within the grid's disc and its value
+//! there is not below the best grid point's (a least-squares quadratic
+//! passes under a sharp peak, such as the corner where the current and
+//! voltage limits meet), else the grid point itself (`refined = false`).
 
 use num_complex::Complex64;
 use std::sync::Arc;
@@ -359,8 +361,12 @@ pub fn load_pull_from(
     Ok(out)
 }
 
-/// Solve one load and measure it; the state at the start of its period is
-/// returned for the next load's warm start.
+/// Solve one load by harmonic balance and measure it at the collector;
+/// the state at the start of its period is returned for the next load's
+/// warm start. The stage's own output figures are not measured here: with
+/// the fundamental-only admittance in place (which may take back the
+/// network's loss), the output resistor's power is not what the load at
+/// the collector takes.
 fn solve_point(
     c: &Circuit,
     z: Complex64,
@@ -369,59 +375,88 @@ fn solve_point(
     warm: Option<&[f64]>,
     caps: Option<Caps>,
 ) -> Result<(PullFigures, Vec<f64>), StageError> {
-    let r = solve(
-        c,
-        &SolveOptions {
-            scope: Scope::Requirements,
-            warm,
-            caps,
-            ..SolveOptions::default()
-        },
-    )?;
-    let s = r.steady.ok_or(StageError::RequirementsWithoutSteady)?;
-    let sol = &s.solution;
+    let devices = tankwave_devices::instantiate(c).map_err(StageError::Devices)?;
+    let mut p = c
+        .analyses
+        .iter()
+        .find_map(tankwave_solve::SteadyParams::from_analysis)
+        .ok_or(StageError::RequirementsWithoutSteady)?;
+    p.method = SteadyMethod::Balance;
+    p.balance.initial = warm.map(<[f64]>::to_vec);
+    if let Some(caps) = &caps {
+        crate::solve::cap_steady(&mut p, caps);
+    }
+    let sol = tankwave_solve::steady(c, &devices, &p)?;
     let k = sol.harmonics;
-    let node = |n: NodeId| -> Vec<f64> {
-        tankwave_devices::UnknownId::voltage(n)
+    let n = sol.samples_per_period;
+    let node = |v: NodeId| -> Vec<f64> {
+        tankwave_devices::UnknownId::voltage(v)
             .and_then(|u| sol.x.get(u.index()).cloned())
-            .unwrap_or_else(|| vec![0.0; sol.samples_per_period])
+            .unwrap_or_else(|| vec![0.0; n])
     };
     let (a, b) = (node(port.0), node(port.1));
     let vce: Vec<f64> = a.iter().zip(&b).map(|(a, b)| a - b).collect();
-    let ic = sol
+    let currents = sol
         .terminal_currents
         .get(transistor.index())
-        .and_then(|t| t.first())
+        .ok_or_else(|| setup("the transistor's terminal currents are missing".into()))?;
+    let ic = currents
+        .first()
         .ok_or_else(|| setup("the transistor's collector current is missing".into()))?;
     let sv = tankwave_measure::spectrum(&vce, k).map_err(StageError::Measure)?;
     let si = tankwave_measure::spectrum(ic, k).map_err(StageError::Measure)?;
     let pout_w = 0.5 * sv.phasor(1).norm_sqr() * (1.0 / z).re;
     let collector_w = -0.5 * (sv.phasor(1) * si.phasor(1).conj()).re;
     let pdc_w = sv.dc() * si.dc();
-    let t = s
-        .metrics
-        .transistors
-        .iter()
-        .find(|t| t.element_id == transistor)
-        .ok_or_else(|| setup("the transistor was not measured".into()))?;
     let efficiency = if pdc_w > 0.0 { pout_w / pdc_w } else { 0.0 };
+    // a pnp works with v_ce and i_c negative: its figures are read with the
+    // signs flipped so that normal operation reads positive
+    let sign = if sv.dc() < 0.0 { -1.0 } else { 1.0 };
+    let fold =
+        |v: &[f64], f: fn(f64, f64) -> f64, init: f64| v.iter().map(|x| sign * x).fold(init, f);
+    // dissipation: the mean over the period of Σ v_k i_k over the terminals
+    let terminals = c
+        .elements
+        .get(transistor.index())
+        .map(|e| e.kind.terminals())
+        .unwrap_or_default();
+    let mut dissipation_w = 0.0;
+    for (t, i) in terminals.iter().zip(currents) {
+        let v = node(*t);
+        dissipation_w += v.iter().zip(i).map(|(v, i)| v * i).sum::<f64>() / n.max(1) as f64;
+    }
     let f = PullFigures {
         pout_w,
         collector_w,
         pdc_w,
         efficiency,
-        vce_peak_v: t.vce_peak_v,
-        vce_min_v: t.vce_min_v,
-        ic_peak_a: t.ic_peak_a,
-        dissipation_w: t.dissipation_w,
+        vce_peak_v: fold(&vce, f64::max, f64::NEG_INFINITY),
+        vce_min_v: fold(&vce, f64::min, f64::INFINITY),
+        ic_peak_a: fold(ic, f64::max, f64::NEG_INFINITY),
+        dissipation_w,
         iterations: sol.info.iterations,
     };
-    if ![pout_w, pdc_w, efficiency].iter().all(|v| v.is_finite()) {
+    let all = [
+        f.pout_w,
+        f.collector_w,
+        f.pdc_w,
+        f.efficiency,
+        f.vce_peak_v,
+        f.vce_min_v,
+        f.ic_peak_a,
+        f.dissipation_w,
+    ];
+    if !all.iter().all(|v| v.is_finite()) {
         return Err(setup(format!(
             "the figures at this load are not finite (P = {pout_w} W, P_dc = {pdc_w} W)"
         )));
     }
-    Ok((f, s.warm_start()))
+    let warm = sol
+        .x
+        .iter()
+        .map(|u| u.first().copied().unwrap_or(0.0))
+        .collect();
+    Ok((f, warm))
 }
 
 /// The optimum of `figure` over the grid (module documentation).
@@ -477,6 +512,12 @@ pub fn optimum(pull: &LoadPull, figure: impl Fn(&PullFigures) -> f64) -> Option<
         return Some(grid_only);
     }
     let value = coef[0] + b * x + c * y + d * x * x + e * x * y + g * y * y;
+    // a quadratic whose top lies below the best grid point does not
+    // describe the peak (a least-squares fit passes under a sharp one, as
+    // at the corner of the current and voltage limits)
+    if value < v {
+        return Some(grid_only);
+    }
     Some(Optimum {
         gamma,
         z: load_impedance(pull.grid.reference, gamma),

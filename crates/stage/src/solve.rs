@@ -469,7 +469,7 @@ fn cap_transient(p: &mut TransientParams, c: &Caps) {
 }
 
 /// Shrink a steady state to the caps.
-fn cap_steady(p: &mut SteadyParams, c: &Caps) {
+pub(crate) fn cap_steady(p: &mut SteadyParams, c: &Caps) {
     p.harmonics = p.harmonics.min(c.max_harmonics);
     p.steps_per_period = p.steps_per_period.min(c.max_steps_per_period);
     p.accuracy.max_steps_per_period = p.accuracy.max_steps_per_period.min(c.max_steps_per_period);

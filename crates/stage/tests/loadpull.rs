@@ -26,13 +26,22 @@ const I1: f64 = 0.25;
 /// 2.5 mA, 0.03 %) gives the base a DC path at zero drive; the nominal load
 /// is 200 Ω through 10 µF.
 fn cripps_stage(grid: &str) -> Circuit {
+    ideal_stage(
+        "current   ib   gnd  base dc=2.5mA wave=sine(amp=2.5mA, freq=f0)\n",
+        grid,
+    )
+}
+
+/// The ideal device of [`cripps_stage`] with the base drive `drive` (one
+/// or more statements).
+fn ideal_stage(drive: &str, grid: &str) -> Circuit {
     let text = format!(
         "title \"ideal current-source device\"\n\
          part ideal npn {{ transport {{ sat_current=1e-14A beta=100 beta_reverse=1 }} }}\n\
          part clamp diode {{ junction {{ sat_current=10mA }} }}\n\
          let f0 = 1MHz\n\
          voltage   vcc  vcc  gnd dc={VDC}V\n\
-         current   ib   gnd  base dc=2.5mA wave=sine(amp=2.5mA, freq=f0)\n\
+         {drive}\
          resistor  rbb  base gnd 1MOhm\n\
          bjt       q1   c=coll b=base e=gnd part=ideal\n\
          diode     dcl  gnd  coll part=clamp\n\
@@ -112,5 +121,73 @@ fn load_pull_of_an_ideal_device_follows_the_cripps_contours() {
         (best.value / p_opt - 1.0).abs() <= 0.015,
         "optimum {} W against {p_opt} W",
         best.value
+    );
+}
+
+/// Class B: the base driven by a sine of 5 mA peak with its negative half
+/// taken by a clamp diode, so i_c = β·max(i_b, 0) is a half sine of peak
+/// I_max = 0.5 A: fundamental I1 = I_max/2 = 0.25 A, DC I_max/π. With the
+/// harmonics shorted, into Z = R + jX the fundamental voltage is I1·|Z|
+/// until it reaches V_dc (S. C. Cripps, RF Power Amplifiers for Wireless
+/// Communications, 2nd ed., 2006, ch. 3, from memory; docs/check-values.md,
+/// "Class B into a complex load"):
+/// - current-limited, |Z| ≤ R_opt = V_dc/I1 = 200 Ω: P = ½ I1² R, and the
+///   collector efficiency P/(V_dc I_max/π) = (π/4)·I1 R/V_dc, π/4 at R_opt;
+/// - voltage-limited, |Z| ≥ R_opt: P = ½ V_dc² R/|Z|².
+#[test]
+fn class_b_into_a_complex_load_follows_the_load_line() {
+    let c = ideal_stage(
+        "part bclamp diode { junction { sat_current=1nA } }\n\
+         diode     dbc  gnd  base part=bclamp\n\
+         current   ib   gnd  base wave=sine(amp=5mA, freq=f0)\n",
+        "reference=200Ohm radius=0.6 points=7",
+    );
+    let pull = run(&c);
+    assert_eq!(pull.unsolved, 0, "every load solves");
+    let r_opt = VDC / I1;
+    let i_max = 2.0 * I1;
+    // Tolerance 1.5 % on power, as for class A (the clamp at v_ce ≈ 0,
+    // within 0.2 V of 50 V); the efficiency in the current-limited region
+    // to 1 %: the DC current I_max/π is exact for a half sine, and the
+    // base clamp's reverse current (its saturation current, 1 nA) is 2e-7 of
+    // the 5 mA drive.
+    let mut in_current_region = 0;
+    for p in &pull.points {
+        let f = p.figures.expect("solved");
+        let want = cripps_power(p.z, VDC);
+        assert!(
+            (f.pout_w / want - 1.0).abs() <= 0.015,
+            "Γ = {} (Z = {:.1} Ω): {} W against the load line's {} W",
+            p.gamma,
+            p.z,
+            f.pout_w,
+            want
+        );
+        if p.z.norm() <= 0.9 * r_opt {
+            let eta = want / (VDC * i_max / std::f64::consts::PI);
+            assert!(
+                (f.efficiency / eta - 1.0).abs() <= 0.01,
+                "Γ = {}: efficiency {} against {eta}",
+                p.gamma,
+                f.efficiency
+            );
+            in_current_region += 1;
+        }
+    }
+    assert!(
+        in_current_region >= 5,
+        "{in_current_region} loads checked for efficiency"
+    );
+    // at R_opt (Γ = 0): π/4
+    let o = pull
+        .points
+        .iter()
+        .find(|p| p.gamma.norm() < 1e-12)
+        .and_then(|p| p.figures)
+        .expect("Γ = 0 on the grid");
+    assert!(
+        (o.efficiency / (std::f64::consts::PI / 4.0) - 1.0).abs() <= 0.015,
+        "efficiency at R_opt {}",
+        o.efficiency
     );
 }
