@@ -27,6 +27,7 @@ mod handles;
 mod harness;
 mod hostile;
 mod layering;
+mod loadpull;
 mod readme;
 mod ruggedness;
 mod trade;

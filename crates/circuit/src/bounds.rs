@@ -348,6 +348,18 @@ pub(crate) fn analysis(
                 ));
             }
         }
+        Analysis::LoadPull(p) => {
+            let loads = p.points as f64 * p.points as f64;
+            if loads > LIMITS.max_loads {
+                out.push(too_many(
+                    map,
+                    at("points"),
+                    "loads of a sweep (the load-pull grid, points × points)",
+                    loads,
+                    LIMITS.max_loads,
+                ));
+            }
+        }
         Analysis::Heat(h) => {
             if h.rounds as f64 > MAX_HEAT_ROUNDS {
                 out.push(too_many(
@@ -421,6 +433,9 @@ pub fn analysis_bytes(c: &Circuit, a: &Analysis) -> f64 {
         Analysis::Ac { points, .. } => 2.0 * dense + 16.0 * u * *points as f64,
         // one load's circuit at a time, plus its figures
         Analysis::Ruggedness { .. } => dense,
+        // one load's harmonic balance at a time (as a steady state), plus
+        // the figures of each grid point
+        Analysis::LoadPull(p) => dense + 64.0 * (p.points * p.points) as f64,
         // one steady state at a time, a small thermal network and its samples
         Analysis::Heat(_) => dense,
         // one drive level at a time: the reduced network per mixing product

@@ -812,6 +812,28 @@ pub enum Analysis {
     /// the steady state solved together with the junction temperatures,
     /// and the heating over a keyed transmission (docs/thermal.md).
     Heat(HeatSpec),
+    /// `analyze loadpull reference=Ω [center=[x, y]] [radius=ρ] [points=N]
+    /// [transistor=NAME]`: the load the collector sees at the fundamental
+    /// moved over a grid of reflection coefficients, its harmonic
+    /// terminations held at those of its own network (docs/analyses.md,
+    /// "Load-pull").
+    LoadPull(LoadPullSpec),
+}
+
+/// What `analyze loadpull` asks for.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LoadPullSpec {
+    /// The reference impedance of Γ, Ω (> 0).
+    pub reference: f64,
+    /// The middle of the region, Γ = re + j·im.
+    pub center: (f64, f64),
+    /// The radius of the disc of Γ around `center` (|center| + radius ≤
+    /// [`crate::options::analysis::GAMMA_MAX`]).
+    pub radius: f64,
+    /// Grid points across the disc in each direction (≥ 3).
+    pub points: usize,
+    /// The transistor whose collector is pulled.
+    pub transistor: ElementId,
 }
 
 /// What `analyze heat` asks for.
@@ -845,6 +867,7 @@ impl Analysis {
             Analysis::Ruggedness { .. } => 4,
             Analysis::Heat(_) => 5,
             Analysis::TwoTone { .. } => 6,
+            Analysis::LoadPull(_) => 7,
         };
         crate::options::analysis::ALL[k].0
     }

@@ -571,6 +571,45 @@ pub mod analysis {
         "drive levels of a sweep, dB relative to the input's amplitude",
     );
 
+    /// `reference=` of a load-pull: the impedance Γ is counted against.
+    pub const PULL_REFERENCE: OptionSpec = opt(
+        "reference",
+        Takes::Value(Slot::Resistance, Range::Positive),
+        Default::Required,
+        "the impedance the reflection coefficients of the load grid are counted against",
+    );
+    /// `center=` of a load-pull: the middle of the region of loads.
+    pub const CENTER: OptionSpec = opt(
+        "center",
+        Takes::List(Slot::Number, Range::Any),
+        Default::Derived("[0, 0], the reference impedance"),
+        "the reflection coefficient in the middle of the region, as [real, imaginary]",
+    );
+    /// `radius=` of a load-pull: the size of the region of loads.
+    pub const RADIUS: OptionSpec = opt(
+        "radius",
+        Takes::Value(Slot::Number, Range::Positive),
+        Default::Number(0.5),
+        "the radius of the disc of reflection coefficients around center=",
+    );
+    /// `points=` of a load-pull: the fineness of the grid.
+    pub const ACROSS: OptionSpec = opt(
+        "points",
+        Takes::Count(3),
+        Default::Number(11.0),
+        "grid points across the disc in each direction (the grid is points × points, cut to the disc)",
+    );
+    /// `transistor=` of a load-pull: whose collector is pulled.
+    pub const TRANSISTOR: OptionSpec = opt(
+        "transistor",
+        Takes::Element,
+        Default::Derived("the stage's only transistor"),
+        "the transistor whose collector sees the loads of the grid",
+    );
+    /// The largest |Γ| a load-pull region may reach: that of
+    /// [`VSWR_MAX`] (an open or a short circuit to within 2 % in |Γ|).
+    pub const GAMMA_MAX: f64 = (VSWR_MAX - 1.0) / (VSWR_MAX + 1.0);
+
     /// The options of each analysis, by kind.
     pub const ALL: &[(&str, &[OptionSpec])] = &[
         ("bias", &[]),
@@ -596,6 +635,10 @@ pub mod analysis {
             &[SINK, SINK_AMBIENT, SINK_HEAT, TRANSMIT, MARK, SPACE, ROUNDS],
         ),
         ("twotone", &[SPACING, ORDER, LEVELS]),
+        (
+            "loadpull",
+            &[PULL_REFERENCE, CENTER, RADIUS, ACROSS, TRANSISTOR],
+        ),
     ];
 
     /// The options of an analysis, or `None` for an unknown analysis.

@@ -489,3 +489,57 @@ fn defaults_are_the_declared_ones() {
         a => panic!("{a:?}"),
     }
 }
+
+/// `analyze loadpull`: its defaults, the transistor found when there is
+/// one, and a region reaching outside |Γ| ≤ 0.98, a malformed center or a
+/// missing transistor refused at the place written.
+#[test]
+fn load_pull_region_and_transistor() {
+    let base = "part p npn { transport { sat_current=1e-14A beta=100 beta_reverse=1 } }\n\
+                voltage v1 c gnd dc=10V\n\
+                resistor rb b gnd 1kOhm\n\
+                bjt q1 c=c b=b e=gnd part=p\n\
+                analyze steady freq=1MHz\n";
+    let e = load(&format!("{base}analyze loadpull reference=10Ohm\n"));
+    let spec = e
+        .circuit
+        .analyses
+        .iter()
+        .find_map(|a| match a {
+            Analysis::LoadPull(s) => Some(s.clone()),
+            _ => None,
+        })
+        .expect("a load-pull");
+    assert_eq!(spec.center, (0.0, 0.0));
+    assert_eq!(spec.radius, 0.5);
+    assert_eq!(spec.points, 11);
+    assert_eq!(spec.reference, 10.0);
+    assert_eq!(spec.transistor, e.circuit.element("q1").expect("q1"));
+    let refused = |line: &str, code: &str, column: u32| {
+        let err = load_str("t.tank", &format!("{base}{line}\n"), &Overrides::default())
+            .expect_err("refused");
+        let d = &err.diagnostics[0];
+        assert_eq!(
+            (d.code, d.line, d.column),
+            (code, 6, column),
+            "{line}: {d:#?}"
+        );
+    };
+    // |center| + radius = 0.5 + 0.6 > 0.98: at the radius
+    refused(
+        "analyze loadpull reference=10Ohm center=[0.3, 0.4] radius=0.6",
+        "bad-value",
+        59,
+    );
+    refused(
+        "analyze loadpull reference=10Ohm center=[0.3]",
+        "bad-value",
+        42,
+    );
+    refused("analyze loadpull radius=0.2", "missing-option", 9);
+    refused(
+        "analyze loadpull reference=10Ohm transistor=rb",
+        "element-kind",
+        45,
+    );
+}

@@ -32,6 +32,7 @@ pub mod files;
 pub mod format;
 pub mod heat;
 pub mod html;
+pub mod loadpull;
 pub mod loads;
 pub mod outputs;
 pub mod overview;

@@ -93,6 +93,14 @@ pub fn stage_overview(file: &str, c: &Circuit, warnings: usize) -> String {
                 crate::format::si(*spacing, "Hz"),
                 levels.len().max(1)
             ),
+            Analysis::LoadPull(p) => format!(
+                "load-pull, {}×{} grid around Γ = {:.3}{:+.3}j against {}",
+                p.points,
+                p.points,
+                p.center.0,
+                p.center.1,
+                crate::format::si(p.reference, "Ω")
+            ),
         })
         .collect();
     let _ = writeln!(

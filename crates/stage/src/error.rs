@@ -50,6 +50,10 @@ pub enum StageError {
     /// resistor, a bad circle).
     #[error("mismatch sweep: {0}")]
     Mismatch(String),
+    /// A load-pull cannot be set up for this stage (the transistor named
+    /// is not a bjt, a grid point with no load to realise).
+    #[error("load-pull: {0}")]
+    LoadPull(String),
     /// The caller stopped the solve ([`crate::SolveOptions::cancel`]) before it ended.
     #[error("the solve was stopped before it ended")]
     Cancelled,
@@ -104,6 +108,7 @@ impl StageError {
                 | StageError::NoSteady
                 | StageError::Drive(_)
                 | StageError::Mismatch(_)
+                | StageError::LoadPull(_)
                 | StageError::HeatSetup { .. }
                 | StageError::TwoTone(_)
         )

@@ -47,6 +47,7 @@ pub mod drive;
 pub mod error;
 pub mod heat;
 pub mod load;
+pub mod loadpull;
 pub mod masks;
 pub mod mismatch;
 pub mod record;

@@ -63,6 +63,8 @@ pub struct StageResults {
     pub ruggedness: Vec<MismatchSweep>,
     /// Each `analyze twotone` in file order ([`crate::twotone`]).
     pub two_tone: Vec<TwoToneTest>,
+    /// Each `analyze loadpull` in file order ([`crate::loadpull`]).
+    pub load_pulls: Vec<crate::loadpull::LoadPull>,
     /// The analyses that failed, when solving with
     /// [`SolveOptions::keep_going`] (always empty otherwise: the first
     /// failure is returned as the error).
@@ -81,6 +83,7 @@ impl Clone for StageResults {
             verdicts: self.verdicts.clone(),
             ruggedness: self.ruggedness.clone(),
             two_tone: self.two_tone.clone(),
+            load_pulls: self.load_pulls.clone(),
             failures: Vec::new(),
         }
     }
@@ -134,6 +137,8 @@ pub const CAPPED_KEYING_CYCLES: f64 = 1000.0;
 pub const CAPPED_CIRCLES: usize = 2;
 /// See [`CAPPED_CIRCLES`].
 pub const CAPPED_PHASES: usize = 4;
+/// Most grid points across a load-pull under [`Caps`] (the smallest grid).
+pub const CAPPED_PULL_POINTS: usize = 3;
 
 impl Default for Caps {
     /// Small enough for a fuzzer's time budget; 128 steps per period keep
@@ -289,6 +294,8 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
             Analysis::Ruggedness { .. } => {}
             // solved with the steady state
             Analysis::Heat(_) => {}
+            // run after the loop, from the nominal steady state
+            Analysis::LoadPull(_) => {}
             Analysis::TwoTone {
                 spacing,
                 spacings,
@@ -414,6 +421,25 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
             }
         }
     }
+    if opts.scope == Scope::All && beyond_op {
+        let nominal = res.steady.as_ref().map(|s| s.warm_start());
+        for a in &circuit.analyses {
+            let Analysis::LoadPull(spec) = a else {
+                continue;
+            };
+            if cancelled() {
+                return Err(StageError::Cancelled);
+            }
+            let mut spec = spec.clone();
+            if opts.caps.is_some() {
+                spec.points = spec.points.min(CAPPED_PULL_POINTS);
+            }
+            match crate::loadpull::load_pull_from(circuit, &spec, nominal.as_deref(), opts.caps) {
+                Ok(p) => res.load_pulls.push(p),
+                Err(e) => fail(&mut res, e)?,
+            }
+        }
+    }
     if res.steady.is_none() && !circuit.requirements.is_empty() && !steady_tried {
         fail(&mut res, StageError::RequirementsWithoutSteady)?;
     }
@@ -443,7 +469,7 @@ fn cap_transient(p: &mut TransientParams, c: &Caps) {
 }
 
 /// Shrink a steady state to the caps.
-fn cap_steady(p: &mut SteadyParams, c: &Caps) {
+pub(crate) fn cap_steady(p: &mut SteadyParams, c: &Caps) {
     p.harmonics = p.harmonics.min(c.max_harmonics);
     p.steps_per_period = p.steps_per_period.min(c.max_steps_per_period);
     p.accuracy.max_steps_per_period = p.accuracy.max_steps_per_period.min(c.max_steps_per_period);

@@ -1,4 +1,4 @@
-//! `analyze bias|transient|ac|steady|ruggedness|heat|twotone`: options read through
+//! `analyze bias|transient|ac|steady|ruggedness|heat|twotone|loadpull`: options read through
 //! [`crate::options::analysis`], checked against each other.
 
 use super::{fmt_num, Cx};
@@ -23,6 +23,7 @@ impl<'a> Cx<'a> {
             "ruggedness" => self.ruggedness(kind, &m),
             "heat" => self.heat(kind, &m),
             "twotone" => self.two_tone(kind, &m),
+            "loadpull" => self.load_pull(kind, &m),
             _ => self.steady(kind, &m),
         }
     }
@@ -239,6 +240,87 @@ impl<'a> Cx<'a> {
             order: order as usize,
             levels: levels.into_iter().map(|(v, _)| v).collect(),
         })
+    }
+
+    fn load_pull(&mut self, kind: &Ident, m: &super::opts::Given<'a>) -> Option<Analysis> {
+        let reference = self.required(m, &o::PULL_REFERENCE, kind.span, "analyze loadpull")?;
+        let center = match self.opt_list(m, &o::CENTER)? {
+            None => (0.0, 0.0),
+            Some(v) if v.len() == 2 => (v[0].0, v[1].0),
+            Some(v) => {
+                let at = v.first().map_or(kind.span, |(_, s)| *s);
+                self.error(
+                    "bad-value",
+                    at,
+                    format!(
+                        "center= is a reflection coefficient [real, imaginary]: two numbers, got {}",
+                        v.len()
+                    ),
+                );
+                return None;
+            }
+        };
+        let radius = self.opt_value(m, &o::RADIUS, "radius")?.unwrap_or(0.5);
+        let points = self.opt_count(m, &o::ACROSS)?.unwrap_or(11) as usize;
+        let reach = center.0.hypot(center.1) + radius;
+        if reach.is_nan() || reach > o::GAMMA_MAX {
+            let at = match (self.given_expr(m, &o::RADIUS), m.get(o::CENTER.name)) {
+                (Some(Some(e)), _) => e.span,
+                (_, Some(c)) => c.key.span,
+                _ => kind.span,
+            };
+            self.error(
+                "bad-value",
+                at,
+                format!(
+                    "the region of loads reaches |Γ| = {} (|center| + radius); a passive load \
+                     lies inside the unit circle, and the grid stops at |Γ| = {}",
+                    fmt_num(reach),
+                    fmt_num(o::GAMMA_MAX)
+                ),
+            );
+            return None;
+        }
+        let transistor = match self.given_expr(m, &o::TRANSISTOR)? {
+            Some(e) => {
+                let id = self.name_of(e, "transistor")?;
+                let id = self.element_ref(&id, "analyze loadpull transistor")?;
+                if !matches!(self.elem_kind(id), Some(ElemKeyword::Bjt)) {
+                    self.error(
+                        "element-kind",
+                        e.span,
+                        "analyze loadpull transistor= names a bjt",
+                    );
+                    return None;
+                }
+                id
+            }
+            None => {
+                let bjts: Vec<ElementId> = (0..self.elems.len())
+                    .map(ElementId::new)
+                    .filter(|id| matches!(self.elem_kind(*id), Some(ElemKeyword::Bjt)))
+                    .collect();
+                if bjts.len() != 1 {
+                    self.error(
+                        "missing-option",
+                        kind.span,
+                        format!(
+                            "analyze loadpull needs transistor= when the stage has {} transistors",
+                            bjts.len()
+                        ),
+                    );
+                    return None;
+                }
+                bjts[0]
+            }
+        };
+        Some(Analysis::LoadPull(LoadPullSpec {
+            reference,
+            center,
+            radius,
+            points,
+            transistor,
+        }))
     }
 
     /// A two-tone test splits the `input` source's sine and reads the
@@ -510,6 +592,22 @@ impl<'a> Cx<'a> {
             }
             if k > 0 {
                 self.error("duplicate-statement", span, "a file has one analyze heat");
+            }
+        }
+        let pull_spans: Vec<_> = c
+            .analyses
+            .iter()
+            .zip(self.analysis_spans.clone())
+            .filter(|(a, _)| matches!(a, Analysis::LoadPull(_)))
+            .map(|(_, s)| s)
+            .collect();
+        for span in pull_spans {
+            if !has_steady {
+                self.error(
+                    "missing-option",
+                    span,
+                    "analyze loadpull solves each load in steady state: the file needs an analyze steady",
+                );
             }
         }
         for span in spans {

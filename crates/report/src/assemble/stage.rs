@@ -16,7 +16,8 @@ use crate::stage as text;
 /// (`period-Q.svg`), the spectrum against the first mask (`spectrum.svg`),
 /// the start-up envelope of the first transient (`startup.svg`) and the
 /// first AC sweep (`ac.svg`) and the loads of each ruggedness sweep on a
-/// Smith chart (`smith-ruggedness.svg`, then `smith-ruggedness-2.svg`, …). `file` names the stage in the titles. A plot
+/// Smith chart (`smith-ruggedness.svg`, then `smith-ruggedness-2.svg`, …),
+/// and each load-pull's contours on one (`smith-loadpull.svg`, …). `file` names the stage in the titles. A plot
 /// that cannot be drawn is noted instead.
 pub fn stage_plots(file: &str, c: &Circuit, r: &StageResults) -> Drawn {
     let p = PlotParams::for_source(file);
@@ -88,6 +89,18 @@ pub fn stage_plots(file: &str, c: &Circuit, r: &StageResults) -> Drawn {
             name,
             crate::ruggedness::CHART_CAPTION.into(),
             plot::smith_plot(&crate::ruggedness::ruggedness_chart(s), &p),
+        );
+    }
+    for (k, s) in r.load_pulls.iter().enumerate() {
+        let name = if k == 0 {
+            "smith-loadpull.svg".to_string()
+        } else {
+            format!("smith-loadpull-{}.svg", k + 1)
+        };
+        d.add(
+            name,
+            crate::loadpull::CHART_CAPTION.into(),
+            plot::smith_plot(&crate::loadpull::load_pull_chart(s), &p),
         );
     }
     d
@@ -185,6 +198,11 @@ pub fn stage_report(
                         crate::twotone::two_tone_section(t, &PlotParams::for_source(file))
                     }),
                 )
+                .chain(
+                    r.load_pulls.iter().map(|s| {
+                        crate::loadpull::load_pull_section(s, &PlotParams::for_source(file))
+                    }),
+                )
                 .collect(),
             intro: Vec::new(),
             stage_label: None,
@@ -272,7 +290,15 @@ pub fn results_text(file: &str, c: &Circuit, r: &StageResults, verbose: bool) ->
         s.push('\n');
         s.push_str(&crate::twotone::two_tone_text(t));
     }
-    if r.steady.is_some() || !r.ruggedness.is_empty() || !r.two_tone.is_empty() {
+    for p in &r.load_pulls {
+        s.push('\n');
+        s.push_str(&crate::loadpull::load_pull_text(p));
+    }
+    if r.steady.is_some()
+        || !r.ruggedness.is_empty()
+        || !r.two_tone.is_empty()
+        || !r.load_pulls.is_empty()
+    {
         s.push_str(&format!("\n{}\n", text::SAFETY_NOTE));
     }
     s
@@ -300,6 +326,18 @@ pub fn results_json(tool: &str, file: &str, c: &Circuit, r: &StageResults) -> Va
         "ruggedness": r.ruggedness.iter().map(crate::ruggedness::ruggedness_json).collect::<Vec<_>>(),
         "caution": text::SAFETY_NOTE,
     });
+    // only when the file asks for one: the documents of other stages keep their shape
+    if !r.load_pulls.is_empty() {
+        if let Some(o) = doc.as_object_mut() {
+            o.insert(
+                "load_pull".into(),
+                r.load_pulls
+                    .iter()
+                    .map(crate::loadpull::load_pull_json)
+                    .collect(),
+            );
+        }
+    }
     // present only with `analyze heat` (documents without it are unchanged)
     if let (Some(h), Some(o)) = (&r.heat, doc.as_object_mut()) {
         o.insert("heat".into(), crate::heat::heat_json(h));
