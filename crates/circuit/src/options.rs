@@ -218,7 +218,7 @@ pub mod element {
         "rating",
         Takes::Value(Slot::Current, Range::Positive),
         Default::Absent,
-        "the peak current the inductor may carry (for require stress)",
+        "the RMS current the inductor may carry (for require stress)",
     );
     /// `r=` of an inductor.
     pub const INDUCTOR_R: OptionSpec = opt(

@@ -152,38 +152,48 @@ fn avalanche_jacobians_match_finite_differences() {
 fn assert_fd(q: &Bjt, pnp: bool, xb: [f64; 6]) {
     let sgn = if pnp { -1.0 } else { 1.0 };
     let x: Vec<f64> = xb.iter().map(|v| sgn * v).collect();
-    let st = stamp(q, &x, &exact());
+    assert_fd_at(q, &x, 6, &format!("pnp {pnp} at {xb:?}"));
+}
+
+/// G and C of `q` at the unknowns `x` (any number of them) against central
+/// differences, and KCL over the first `terminal_rows` rows (the node rows;
+/// state rows of internal quantities balance among themselves).
+fn assert_fd_at(q: &Bjt, x: &[f64], terminal_rows: usize, at: &str) {
+    let n = x.len();
+    let st = stamp(q, x, &exact());
     let h = 1e-7;
-    for col in 0..6 {
-        let mut xp = x.clone();
-        let mut xm = x.clone();
+    for col in 0..n {
+        let mut xp = x.to_vec();
+        let mut xm = x.to_vec();
         xp[col] += h;
         xm[col] -= h;
         let (sp, sm) = (stamp(q, &xp, &exact()), stamp(q, &xm, &exact()));
-        for row in 0..6 {
-            let g_scale = (0..6).map(|c| st.g_at(row, c).abs()).fold(1e-12, f64::max);
-            let c_scale = (0..6).map(|c| st.c_at(row, c).abs()).fold(1e-18, f64::max);
+        for row in 0..n {
+            let g_scale = (0..n).map(|c| st.g_at(row, c).abs()).fold(1e-12, f64::max);
+            let c_scale = (0..n).map(|c| st.c_at(row, c).abs()).fold(1e-18, f64::max);
             let g_fd = (sp.i[row] - sm.i[row]) / (2.0 * h);
             let c_fd = (sp.q[row] - sm.q[row]) / (2.0 * h);
             assert!(
                 (g_fd - st.g_at(row, col)).abs() <= 1e-6 * g_scale,
-                "pnp {pnp} G[{row}][{col}] {} vs fd {g_fd} at {xb:?}",
+                "G[{row}][{col}] {} vs fd {g_fd}, {at}",
                 st.g_at(row, col)
             );
             assert!(
                 (c_fd - st.c_at(row, col)).abs() <= 1e-6 * c_scale,
-                "pnp {pnp} C[{row}][{col}] {} vs fd {c_fd} at {xb:?}",
+                "C[{row}][{col}] {} vs fd {c_fd}, {at}",
                 st.c_at(row, col)
             );
         }
     }
     // KCL: the device neither creates nor destroys current or charge.
-    let isum: f64 = st.i.iter().sum();
-    let iscale = st.i.iter().fold(1e-15f64, |a, v| a.max(v.abs()));
-    assert!(isum.abs() <= 1e-12 * iscale);
-    let qsum: f64 = st.q.iter().sum();
-    let qscale = st.q.iter().fold(1e-21f64, |a, v| a.max(v.abs()));
-    assert!(qsum.abs() <= 1e-12 * qscale);
+    let rows = &st.i[..terminal_rows];
+    let isum: f64 = rows.iter().sum();
+    let iscale = rows.iter().fold(1e-15f64, |a, v| a.max(v.abs()));
+    assert!(isum.abs() <= 1e-12 * iscale, "{at}");
+    let qrows = &st.q[..terminal_rows];
+    let qsum: f64 = qrows.iter().sum();
+    let qscale = qrows.iter().fold(1e-21f64, |a, v| a.max(v.abs()));
+    assert!(qsum.abs() <= 1e-12 * qscale, "{at}");
 }
 
 /// A pnp is the mirror of the npn (common practice; Getreu 1976): at negated
@@ -536,37 +546,7 @@ fn epi_jacobians_match_finite_differences() {
             let vci = vbi - vbcx;
             let xb = [vci + 0.013, vbi + 0.007, vei - 0.002, vci, vbi, vei, vcj];
             let x: Vec<f64> = xb.iter().map(|v| sgn * v).collect();
-            let st = stamp(&q, &x, &exact());
-            let h = 1e-7;
-            for col in 0..7 {
-                let mut xp = x.clone();
-                let mut xm = x.clone();
-                xp[col] += h;
-                xm[col] -= h;
-                let (sp, sm) = (stamp(&q, &xp, &exact()), stamp(&q, &xm, &exact()));
-                for row in 0..7 {
-                    let g_scale = (0..7).map(|c| st.g_at(row, c).abs()).fold(1e-12, f64::max);
-                    let c_scale = (0..7).map(|c| st.c_at(row, c).abs()).fold(1e-18, f64::max);
-                    let g_fd = (sp.i[row] - sm.i[row]) / (2.0 * h);
-                    let c_fd = (sp.q[row] - sm.q[row]) / (2.0 * h);
-                    assert!(
-                        (g_fd - st.g_at(row, col)).abs() <= 1e-6 * g_scale,
-                        "pnp {pnp} G[{row}][{col}] {} vs fd {g_fd} at {xb:?}",
-                        st.g_at(row, col)
-                    );
-                    assert!(
-                        (c_fd - st.c_at(row, col)).abs() <= 1e-6 * c_scale,
-                        "pnp {pnp} C[{row}][{col}] {} vs fd {c_fd} at {xb:?}",
-                        st.c_at(row, col)
-                    );
-                }
-            }
-            let isum: f64 = st.i.iter().sum();
-            let iscale = st.i.iter().fold(1e-15f64, |a, v| a.max(v.abs()));
-            assert!(isum.abs() <= 1e-12 * iscale);
-            let qsum: f64 = st.q.iter().sum();
-            let qscale = st.q.iter().fold(1e-21f64, |a, v| a.max(v.abs()));
-            assert!(qsum.abs() <= 1e-12 * qscale);
+            assert_fd_at(&q, &x, 7, &format!("epi, pnp {pnp} at {xb:?}"));
         }
     }
 }
@@ -650,35 +630,8 @@ fn excess_phase_jacobians_match_finite_differences() {
                 .map(|v| sgn * v)
                 .collect();
             x.extend([y1, y2]);
-            let st = stamp(&q, &x, &exact());
-            let h = 1e-7;
-            for col in 0..8 {
-                let mut xp = x.clone();
-                let mut xm = x.clone();
-                xp[col] += h;
-                xm[col] -= h;
-                let (sp, sm) = (stamp(&q, &xp, &exact()), stamp(&q, &xm, &exact()));
-                for row in 0..8 {
-                    let g_scale = (0..8).map(|c| st.g_at(row, c).abs()).fold(1e-12, f64::max);
-                    let c_scale = (0..8).map(|c| st.c_at(row, c).abs()).fold(1e-18, f64::max);
-                    let g_fd = (sp.i[row] - sm.i[row]) / (2.0 * h);
-                    let c_fd = (sp.q[row] - sm.q[row]) / (2.0 * h);
-                    assert!(
-                        (g_fd - st.g_at(row, col)).abs() <= 1e-6 * g_scale,
-                        "pnp {pnp} G[{row}][{col}] {} vs fd {g_fd} at {x:?}",
-                        st.g_at(row, col)
-                    );
-                    assert!(
-                        (c_fd - st.c_at(row, col)).abs() <= 1e-6 * c_scale,
-                        "pnp {pnp} C[{row}][{col}] {} vs fd {c_fd} at {x:?}",
-                        st.c_at(row, col)
-                    );
-                }
-            }
-            // the terminal rows neither create nor destroy current
-            let isum: f64 = st.i[..6].iter().sum();
-            let iscale = st.i[..6].iter().fold(1e-15f64, |a, v| a.max(v.abs()));
-            assert!(isum.abs() <= 1e-12 * iscale);
+            // the terminal rows (c b e ci bi ei) keep KCL, the state rows balance alone
+            assert_fd_at(&q, &x, 6, &format!("excess phase, pnp {pnp} at {x:?}"));
         }
     }
 }

@@ -8,33 +8,26 @@
 //! more than at its nominal load: it is going toward breakdown, which a
 //! rating number alone does not show.
 
-use std::path::PathBuf;
+mod common;
 
-use tankwave_circuit::Overrides;
 use tankwave_stage::{solve, SolveOptions};
-
-fn root() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../../netlists")
-}
 
 #[test]
 fn a_mismatch_sweep_shows_the_multiplication_rise() {
-    let read = |p: &str| std::fs::read_to_string(root().join(p)).expect("a demo file");
-    let part = read("models/tw-hf25.tank").replace(
-        "ratings     {",
-        "avalanche   { cb_voltage=60V exponent=4 }\n  ratings     {",
+    let text = common::inline(
+        "ism-13m56-classc.tank",
+        |part| {
+            common::edit(
+                part,
+                "ratings     {",
+                "avalanche   { cb_voltage=60V exponent=4 }\n  ratings     {",
+            )
+        },
+        &[],
+        false,
+        "analyze ruggedness vswr=3 phases=8\nrequire avalanche q1 <= 10%\n",
     );
-    let demo: String = read("ism-13m56-classc.tank")
-        .lines()
-        .filter(|l| !l.starts_with("include") && !l.starts_with("require"))
-        .map(|l| format!("{l}\n"))
-        .collect();
-    let text = format!(
-        "{part}\n{demo}\nanalyze ruggedness vswr=3 phases=8\nrequire avalanche q1 <= 10%\n"
-    );
-    let c = tankwave_circuit::load_str("ism.tank", &text, &Overrides::default())
-        .unwrap_or_else(|e| panic!("{:#?}", e.diagnostics))
-        .circuit;
+    let c = common::circuit(&text);
     let r = solve(&c, &SolveOptions::default()).expect("the stage solves");
     let s = r.steady.as_ref().expect("a steady state");
     let nominal = s.metrics.transistors[0]

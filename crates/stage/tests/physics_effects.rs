@@ -6,32 +6,28 @@
 //! prints them (`cargo test -p tankwave-stage --test physics_effects --
 //! --nocapture`) and checks what the physics says about their direction.
 
-use std::path::PathBuf;
+mod common;
 
-use tankwave_circuit::Overrides;
 use tankwave_stage::{solve, SolveOptions};
 
-fn root() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../../netlists")
-}
-
 /// The demo with its included files written inline and `extra` added to
-/// the transistor's part (inside its braces).
+/// the transistor's part (inside its braces), after `replace` in it.
 fn stage(extra: &str, replace: Option<(&str, &str)>) -> String {
-    let read = |p: &str| std::fs::read_to_string(root().join(p)).expect("a demo file");
-    let mut part = read("models/tw-hf25.tank");
-    if let Some((from, to)) = replace {
-        assert!(part.contains(from), "{from}");
-        part = part.replace(from, to);
-    }
-    let end = part.rfind('}').expect("the part's closing brace");
-    part.insert_str(end, &format!("  {extra}\n"));
-    let demo: String = read("cw-7m1-classb.tank")
-        .lines()
-        .filter(|l| !l.starts_with("include"))
-        .map(|l| format!("{l}\n"))
-        .collect();
-    format!("{part}\n{}\n{demo}", read("models/tw-drv.tank"))
+    common::inline(
+        "cw-7m1-classb.tank",
+        |part| {
+            let mut part = match replace {
+                Some((from, to)) => common::edit(part, from, to),
+                None => part,
+            };
+            let end = part.rfind('}').expect("the part's closing brace");
+            part.insert_str(end, &format!("  {extra}\n"));
+            part
+        },
+        &["models/tw-drv.tank"],
+        true,
+        "",
+    )
 }
 
 #[derive(Debug, Clone, Copy)]
@@ -44,9 +40,7 @@ struct Figures {
 }
 
 fn figures(text: &str) -> Figures {
-    let c = tankwave_circuit::load_str("cw.tank", text, &Overrides::default())
-        .unwrap_or_else(|e| panic!("{:#?}", e.diagnostics))
-        .circuit;
+    let c = common::circuit(text);
     let r = solve(&c, &SolveOptions::default()).expect("the stage solves");
     let m = &r.steady.as_ref().expect("a steady state").metrics;
     let q = &m.transistors[0];

@@ -5,32 +5,28 @@
 //! as a stress row with the fraction used, and `require stress` failing on
 //! the one that is exceeded.
 
-use std::path::PathBuf;
+mod common;
 
-use tankwave_circuit::Overrides;
 use tankwave_measure::base_return::{BaseReturn, VceRating};
 use tankwave_measure::{StressQuantity, StressRow};
 use tankwave_stage::{solve, SolveOptions};
 
-fn root() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../../netlists")
-}
-
 /// The demo inline, its part's ratings extended by `ratings`, `extra`
 /// statements added.
 fn stage(ratings: &str, extra: &str) -> String {
-    let read = |p: &str| std::fs::read_to_string(root().join(p)).expect("a demo file");
-    let part = read("models/tw-hf25.tank").replace(
-        "ratings     { vce_max=36V",
-        &format!("ratings     {{ {ratings} vce_max=36V"),
-    );
-    assert!(part.contains(ratings));
-    let demo: String = read("ism-13m56-classc.tank")
-        .lines()
-        .filter(|l| !l.starts_with("include") && !l.starts_with("require"))
-        .map(|l| format!("{l}\n"))
-        .collect();
-    format!("{part}\n{demo}\n{extra}")
+    common::inline(
+        "ism-13m56-classc.tank",
+        |part| {
+            common::edit(
+                part,
+                "ratings     { vce_max=36V",
+                &format!("ratings     {{ {ratings} vce_max=36V"),
+            )
+        },
+        &[],
+        false,
+        extra,
+    )
 }
 
 fn row<'a>(rows: &'a [StressRow], element: &str, q: StressQuantity) -> &'a StressRow {
@@ -45,9 +41,7 @@ fn every_rating_is_a_stress_row_against_the_right_limit() {
         "vce_resistor_max=60V vce_resistor_at=100Ohm vce_short_max=65V vcb_max=50V vbe_reverse_max=5V",
         "capacitor ctest p1 gnd 1pF current_rating=1mA\nrequire stress <= 100%\n",
     );
-    let c = tankwave_circuit::load_str("ism.tank", &text, &Overrides::default())
-        .unwrap_or_else(|e| panic!("{:#?}", e.diagnostics))
-        .circuit;
+    let c = common::circuit(&text);
     let r = solve(&c, &SolveOptions::default()).expect("the stage solves");
     let s = r.steady.as_ref().expect("a steady state");
     let m = &s.metrics;
@@ -117,9 +111,7 @@ fn the_base_return_picks_the_collector_emitter_rating() {
         } else {
             text = text.replace("resistor  rbias base  gnd   rb", rb);
         }
-        let c = tankwave_circuit::load_str("ism.tank", &text, &Overrides::default())
-            .unwrap_or_else(|e| panic!("{:#?}", e.diagnostics))
-            .circuit;
+        let c = common::circuit(&text);
         let r = solve(&c, &SolveOptions::default()).expect("the stage solves");
         let m = &r.steady.as_ref().expect("a steady state").metrics;
         let vce = row(&m.stress, "q1", StressQuantity::VcePeak);
