@@ -640,10 +640,12 @@ fn excess_phase_jacobians_match_finite_differences() {
 /// second-order Bessel form 3/(3 + 3 jωt_d − (ωt_d)²) of e^{−jωt_d}
 /// (P. B. Weil, L. P. McNamee, "Simulation of excess phase in bipolar
 /// transistors", IEEE Trans. Circuits and Systems 25(2), 1978, from memory),
-/// so at ω = 1/τ_F its phase is −φ_F to the approximation's error
-/// (1.1e-4 rad at φ_F = 20°, worked from the form; exact to 1e-12 against the
-/// form itself). Solved from the stamp's own G and C at a bias with the
-/// junction voltages held: the states' rows give y = −(G_yy + jωC_yy)⁻¹ G_yv v.
+/// evaluated by numpy over frequencies from 1 MHz to 3 GHz
+/// (tests/reference/bjt/gen.py → phase.csv; 1e-12, the same closed form), so
+/// at ω = 1/τ_F its phase is −φ_F to the approximation's error (1.1e-4 rad
+/// at φ_F = 20°, worked from the form). Solved from the stamp's own G and C
+/// at a bias with the junction voltages held: the states' rows give
+/// y = −(G_yy + jωC_yy)⁻¹ G_yv v.
 #[test]
 fn excess_phase_is_a_second_order_bessel_delay() {
     let tf = 0.5e-9;
@@ -658,42 +660,55 @@ fn excess_phase_is_a_second_order_bessel_delay() {
     let vbi = vei + vbe;
     let vci = vbi - vbc;
     let k = q.constants();
-    let icc = tankwave_devices::bjt::intrinsic(k, vbe, vbc, 0.0).icc;
-    let x = vec![vci, vbi, vei, vci, vbi, vei, icc, 0.0];
+    let t = tankwave_devices::bjt::intrinsic(k, vbe, vbc, 0.0);
+    let x = vec![vci, vbi, vei, vci, vbi, vei, t.icc, 0.0];
     let st = stamp(&q, &x, &exact());
     // the static point: the state rows balance
     assert!(
-        st.i[6].abs() < 1e-15 && st.i[7].abs() < 1e-12 * icc,
+        st.i[6].abs() < 1e-15 && st.i[7].abs() < 1e-12 * t.icc,
         "{:?}",
         &st.i[6..]
     );
-    let w = 1.0 / tf;
-    // a unit wiggle of x_bi: drive = −G_{y,bi}
     let (g, c) = (|r, cc| st.g_at(r, cc), |r, cc| st.c_at(r, cc));
-    // 2×2 complex system A y = rhs, A = G_yy + jω C_yy
-    let a = [
-        [(g(6, 6), w * c(6, 6)), (g(6, 7), w * c(6, 7))],
-        [(g(7, 6), w * c(7, 6)), (g(7, 7), w * c(7, 7))],
-    ];
-    let rhs = [(-g(6, 4), 0.0), (-g(7, 4), 0.0)];
     let mul = |p: (f64, f64), q: (f64, f64)| (p.0 * q.0 - p.1 * q.1, p.0 * q.1 + p.1 * q.0);
     let sub = |p: (f64, f64), q: (f64, f64)| (p.0 - q.0, p.1 - q.1);
     let div = |p: (f64, f64), q: (f64, f64)| {
         let d = q.0 * q.0 + q.1 * q.1;
         ((p.0 * q.0 + p.1 * q.1) / d, (p.1 * q.0 - p.0 * q.1) / d)
     };
-    let det = sub(mul(a[0][0], a[1][1]), mul(a[0][1], a[1][0]));
-    let y1 = div(sub(mul(rhs[0], a[1][1]), mul(a[0][1], rhs[1])), det);
-    // against ∂I_CC/∂v_bi, the undelayed response
-    let dicc = tankwave_devices::bjt::intrinsic(k, vbe, vbc, 0.0);
-    let undelayed = dicc.dicc_dvbe + dicc.dicc_dvbc;
-    let h = div(y1, (undelayed, 0.0));
-    let wt = w * k.t_delay;
-    let want = div((3.0, 0.0), (3.0 - wt * wt, 3.0 * wt));
-    assert!(
-        (h.0 - want.0).abs() < 1e-12 && (h.1 - want.1).abs() < 1e-12,
-        "{h:?} vs {want:?}"
-    );
+    // y1 for a unit wiggle of x_bi, over the undelayed ∂I_CC/∂v_bi
+    let h_at = |w: f64| {
+        let a = [
+            [(g(6, 6), w * c(6, 6)), (g(6, 7), w * c(6, 7))],
+            [(g(7, 6), w * c(7, 6)), (g(7, 7), w * c(7, 7))],
+        ];
+        let rhs = [(-g(6, 4), 0.0), (-g(7, 4), 0.0)];
+        let det = sub(mul(a[0][0], a[1][1]), mul(a[0][1], a[1][0]));
+        let y1 = div(sub(mul(rhs[0], a[1][1]), mul(a[0][1], rhs[1])), det);
+        div(y1, (t.dicc_dvbe + t.dicc_dvbc, 0.0))
+    };
+    let csv = include_str!("../../../tests/reference/bjt/phase.csv");
+    let mut rows = 0;
+    for line in csv
+        .lines()
+        .filter(|l| !l.starts_with('#') && !l.starts_with("freq"))
+    {
+        let f: Vec<f64> = line
+            .split(',')
+            .map(|v| v.parse().expect("number"))
+            .collect();
+        let h = h_at(2.0 * std::f64::consts::PI * f[0]);
+        assert!(
+            (h.0 - f[1]).abs() < 1e-12 && (h.1 - f[2]).abs() < 1e-12,
+            "{h:?} vs ({}, {}) at {} Hz",
+            f[1],
+            f[2],
+            f[0]
+        );
+        rows += 1;
+    }
+    assert_eq!(rows, 6);
+    let h = h_at(1.0 / tf);
     let phase = h.1.atan2(h.0);
     assert!((phase + phi).abs() < 1.2e-4, "{phase} vs {}", -phi);
 }
