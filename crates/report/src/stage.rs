@@ -95,6 +95,12 @@ const OP_SECTIONS: &[OpSection] = &[
         ],
     },
     OpSection {
+        title: "Transistors, avalanche multiplication of the collector–base junction",
+        head: "transistor",
+        marker: OpFigure::Multiplication,
+        columns: &[OpFigure::Multiplication],
+    },
+    OpSection {
         title: "Diodes (junction, anode to cathode)",
         head: "diode",
         marker: OpFigure::ForwardVoltage,
