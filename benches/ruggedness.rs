@@ -30,7 +30,7 @@ use tankwave_stage::{solve, Scope, SolveOptions};
 #[allow(dead_code)] // not every bench uses both helpers
 #[path = "support/timing.rs"]
 mod timing;
-use timing::time;
+use timing::time_both;
 
 /// The warm-started sweep and the 72 cold solves of `c`, timed once each
 /// (a sweep takes tens of seconds; the two arms run back to back).
@@ -40,7 +40,7 @@ fn arms(c: &Circuit, circles: &[Circle], label: &str) {
     let warm0 = nominal.steady.as_ref().map(|s| s.warm_start());
     let mut warm_iters = 0;
     let mut warm_unsolved = 0;
-    let t_warm = time(1, || {
+    let (t_warm, c_warm) = time_both(|| {
         let s = sweep_from(c, circles, None, warm0.as_deref(), None).expect("sweep");
         warm_iters = s.points.iter().map(|p| p.iterations).sum::<usize>();
         warm_unsolved = s.unsolved;
@@ -48,7 +48,7 @@ fn arms(c: &Circuit, circles: &[Circle], label: &str) {
     let z0 = 50.0;
     let mut cold_iters = 0;
     let mut cold_unsolved = 0;
-    let t_cold = time(1, || {
+    let (t_cold, c_cold) = time_both(|| {
         for circle in circles {
             let g = gamma_magnitude(circle.vswr);
             for k in 0..circle.phases {
@@ -63,14 +63,20 @@ fn arms(c: &Circuit, circles: &[Circle], label: &str) {
     });
     println!("  {label}:");
     println!(
-        "    warm-started sweep:          {:>8.1} ms ({warm_iters} periods/iterations in all, {warm_unsolved} unsolved)",
-        t_warm * 1e3
+        "    warm-started sweep:          {:>8.1} ms wall, {:>8.1} ms CPU ({warm_iters} periods/iterations in all, {warm_unsolved} unsolved)",
+        t_warm * 1e3,
+        c_warm * 1e3
     );
     println!(
-        "    72 independent cold solves:  {:>8.1} ms ({cold_iters} periods/iterations in all, {cold_unsolved} unsolved)",
-        t_cold * 1e3
+        "    72 independent cold solves:  {:>8.1} ms wall, {:>8.1} ms CPU ({cold_iters} periods/iterations in all, {cold_unsolved} unsolved)",
+        t_cold * 1e3,
+        c_cold * 1e3
     );
-    println!("    cold / warm: {:.2}x", t_cold / t_warm);
+    println!(
+        "    cold / warm: {:.2}x wall, {:.2}x CPU",
+        t_cold / t_warm,
+        c_cold / c_warm
+    );
 }
 
 fn main() {
