@@ -7,6 +7,14 @@
 //! data against model per curve, `--report FILE` an HTML page with the
 //! report and the plots. Bad curve files, a bad name or a curve that cannot
 //! be fitted: the message with file:line, exit 2, nothing written.
+//!
+//! `--power CSV --power-stage STAGE` checks the fitted model against
+//! large-signal output power and efficiency (`tankwave_fit::power`): the
+//! test stage is read with the fitted part added at its end (the stage uses
+//! `part=NAME` and does not define NAME), solved at each point's input
+//! power, and the comparison printed after the fit report. The check does
+//! not change the fit; a test stage that does not load is exit 2, one that
+//! does not solve exit 3, and nothing is written then either.
 
 use super::common::{BAD_INPUT, OK};
 use clap::Args;
@@ -40,6 +48,14 @@ pub struct FitArgs {
     /// voltage at fixed base currents: `vce[V]`, `ib[A]`, `ic[A]`.
     #[arg(long = "ic-vce", value_name = "CSV")]
     pub ic_vce: Option<PathBuf>,
+    /// Large-signal data to check the fitted model against: `pin[W]`,
+    /// `pout[W]`, `efficiency` (a fraction), measured in the --power-stage.
+    #[arg(long, value_name = "CSV", requires = "power_stage")]
+    pub power: Option<PathBuf>,
+    /// The test stage the --power data was measured in: a stage file that
+    /// uses `part=NAME` (the fitted part is added to it).
+    #[arg(long = "power-stage", value_name = "STAGE", requires = "power")]
+    pub power_stage: Option<PathBuf>,
     /// Write a pnp part (the curves are given as magnitudes).
     #[arg(long)]
     pub pnp: bool,
@@ -109,7 +125,24 @@ pub fn run(a: &FitArgs) -> i32 {
             }
         }
     }
-    let paths: Vec<&PathBuf> = given.iter().map(|(_, p)| *p).collect();
+    let power_curve = match &a.power {
+        Some(p) => match read_curve(CurveKind::Power, p) {
+            Ok(c) => Some(c),
+            Err(m) => {
+                eprintln!("error: {m}");
+                return BAD_INPUT;
+            }
+        },
+        None => None,
+    };
+    let mut paths: Vec<&PathBuf> = given.iter().map(|(_, p)| *p).collect();
+    paths.extend(a.power.iter());
+    let stage_inputs: Vec<PathBuf> = a
+        .power_stage
+        .iter()
+        .flat_map(|s| super::common::input_files(s))
+        .collect();
+    paths.extend(stage_inputs.iter());
     let inputs = tankwave_report::outputs::Inputs::new(&paths);
     if !a.replace && std::fs::symlink_metadata(&a.out).is_ok() {
         eprintln!(
@@ -142,10 +175,18 @@ pub fn run(a: &FitArgs) -> i32 {
             }
         }
     }
-    let mut files = vec![(
-        a.out.clone(),
-        tankwave_fit::part::part_text(&a.name, &r).into_bytes(),
-    )];
+    let part = tankwave_fit::part::part_text(&a.name, &r);
+    let power_text = match (&power_curve, &a.power_stage) {
+        (Some(curve), Some(stage)) => match check_power(stage, &part, curve) {
+            Ok(t) => Some(t),
+            Err(code) => {
+                eprintln!("nothing written");
+                return code;
+            }
+        },
+        _ => None,
+    };
+    let mut files = vec![(a.out.clone(), part.clone().into_bytes())];
     if let Some(rep) = &a.report {
         files.push((
             rep.clone(),
@@ -173,6 +214,11 @@ pub fn run(a: &FitArgs) -> i32 {
         );
     }
     print!("{}", tankwave_fit::report::text(&a.name, &r));
+    if let Some(t) = &power_text {
+        print!("{t}");
+        // the check printed output powers: the caution goes with them
+        println!("\n{}", tankwave_report::stage::SAFETY_NOTE);
+    }
     if let Err(e) = tankwave_report::files::write_all_atomic(&files) {
         eprintln!("error: {e}");
         return BAD_INPUT;
@@ -181,4 +227,53 @@ pub fn run(a: &FitArgs) -> i32 {
         eprintln!("wrote {}", tankwave_report::escape_path(p));
     }
     OK
+}
+
+/// The large-signal check: the test stage at `stage` with the fitted `part`
+/// added, solved at each point of `curve`. The report text, or the exit
+/// code after the error was printed.
+fn check_power(stage: &Path, part: &str, curve: &tankwave_fit::Curve) -> Result<String, i32> {
+    let name = stage.display().to_string();
+    let limit = tankwave_netlist::limits::LIMITS.max_file_bytes;
+    let text = match std::fs::metadata(stage) {
+        Ok(md) if !md.is_file() => Err(format!("cannot read {name}: not a regular file")),
+        Ok(md) if md.len() > limit => Err(format!(
+            "{name}: more than the {limit} byte limit of a stage file"
+        )),
+        Ok(_) => std::fs::read(stage)
+            .map_err(|e| format!("cannot read {name}: {e}"))
+            .and_then(|b| String::from_utf8(b).map_err(|_| format!("{name} is not UTF-8 text"))),
+        Err(e) => Err(format!("cannot read {name}: {e}")),
+    };
+    let text = text.map_err(|m| {
+        eprintln!("error: {}", super::common::esc(&m));
+        BAD_INPUT
+    })?;
+    // the fitted part after the stage's own text, so the stage's lines keep
+    // their numbers in messages
+    let joined = format!("{text}\n{part}");
+    let source = tankwave_stage::StageSource::from_text_with_roots(
+        &name,
+        &joined,
+        super::common::include_roots(),
+    );
+    let loaded = tankwave_stage::load_source(source, &tankwave_circuit::Overrides::default())
+        .map_err(|e| super::common::report_failure(&name, &e))?;
+    let params = tankwave_fit::power::PowerCheckParams::default();
+    match tankwave_fit::power::check(&loaded.circuit, curve, &params) {
+        Ok(c) => Ok(tankwave_fit::power::text(&c)),
+        Err(e) => {
+            if let tankwave_fit::power::PowerCheckError::Solve { source, .. } = &e {
+                if let tankwave_stage::StageError::Input { .. } = **source {
+                    return Err(super::common::report_failure(&name, source));
+                }
+            }
+            eprintln!("error: {}", super::common::esc(&e.to_string()));
+            Err(if e.is_input() {
+                BAD_INPUT
+            } else {
+                super::common::SOLVER
+            })
+        }
+    }
 }

@@ -194,3 +194,152 @@ fn outputs_never_replace_a_curve_and_an_existing_part_needs_replace() {
         .unwrap();
     assert_eq!(code(&o), 2, "{}", stderr(&o));
 }
+
+/// The test stage of the generic 20 W device with `part` added at its end.
+fn test_stage(part: &str) -> tankwave_circuit::Circuit {
+    let dir = root().join("netlists/models/fitted/tw-gen20");
+    let stage = std::fs::read_to_string(dir.join("test-stage.tank")).unwrap();
+    let name = dir.join("test-stage.tank").display().to_string();
+    let src =
+        tankwave_stage::StageSource::from_text_with_roots(&name, &format!("{stage}\n{part}"), &[]);
+    tankwave_stage::load_source(src, &tankwave_circuit::Overrides::default())
+        .expect("the test stage loads")
+        .circuit
+}
+
+/// A power curve of `circuit` at the drive scales `ks`: the available input
+/// power, output power and collector efficiency each solve gives, written
+/// with every digit.
+fn power_curve_of(circuit: &tankwave_circuit::Circuit, ks: &[f64]) -> tankwave_fit::Curve {
+    let mut text = String::from("pin[W],pout[W],efficiency\n");
+    for &k in ks {
+        let mut c = circuit.clone();
+        tankwave_stage::scale_drive(&mut c, k).unwrap();
+        let r = tankwave_stage::solve(
+            &c,
+            &tankwave_stage::SolveOptions::scope(tankwave_stage::Scope::Requirements),
+        )
+        .unwrap();
+        let m = r.steady.unwrap().metrics;
+        let pavs = m.drive.as_ref().and_then(|d| d.pavs_w).unwrap();
+        let p1 = m.output.as_ref().unwrap().p1_w;
+        text.push_str(&format!("{pavs:e},{p1:e},{:e}\n", m.efficiency.unwrap()));
+    }
+    tankwave_fit::curve::parse(tankwave_fit::CurveKind::Power, "made.csv", &text).unwrap()
+}
+
+#[test]
+fn the_large_signal_check_finds_agreement_with_its_own_model_and_a_difference_with_another() {
+    let dir = root().join("netlists/models/fitted/tw-gen20");
+    let part = std::fs::read_to_string(dir.join("tw-gen20.tank")).unwrap();
+    let ks = [0.9, 1.0, 1.2, 1.5];
+    let params = tankwave_fit::power::PowerCheckParams::default();
+    // data made by the same model in the same stage: the available power is
+    // exactly proportional to the drive squared, so the check lands on the
+    // same drive and the same circuit; what is left is the steady state's
+    // own accuracy target (power_error = 1e-4, docs/analyses.md), which
+    // bounds any difference in the grids the two solves refined to
+    let own = test_stage(&part);
+    let c = tankwave_fit::power::check(&own, &power_curve_of(&own, &ks), &params).unwrap();
+    assert_eq!(c.basis, tankwave_fit::power::InputBasis::Available);
+    assert_eq!(c.points.len(), ks.len());
+    for p in &c.points {
+        assert_eq!(
+            p.solves, 1,
+            "one solve per point on the available-power basis"
+        );
+    }
+    assert!(c.pout_worst_rel.abs() <= 1e-4, "{c:?}");
+    assert!(c.efficiency_worst.abs() <= 1e-4, "{c:?}");
+    // data made by a device with half the current gain: the check must see
+    // it (the stage's gain falls; at a fixed input power the output and
+    // efficiency drop by far more than the accuracy target)
+    let weaker = part.replace("beta=5.988163e1", "beta=2.994082e1");
+    assert_ne!(weaker, part, "the part's gain is where the test expects it");
+    let other = test_stage(&weaker);
+    let c = tankwave_fit::power::check(&own, &power_curve_of(&other, &ks), &params).unwrap();
+    assert!(
+        c.pout_rms_rel > 0.02,
+        "a device with half the gain gives output powers within {:.3} % of this one",
+        c.pout_rms_rel * 100.0
+    );
+}
+
+#[test]
+fn fit_checks_the_model_against_the_bundled_large_signal_data() {
+    let tmp = tempfile::tempdir().unwrap();
+    let out = tmp.path().join("dev.tank");
+    let dir = "netlists/models/fitted/tw-gen20";
+    let o = fit_dir(
+        "tw_gen20",
+        dir,
+        &out,
+        &[
+            "--power",
+            &format!("{dir}/power.csv"),
+            "--power-stage",
+            &format!("{dir}/test-stage.tank"),
+        ],
+    );
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let text = String::from_utf8_lossy(&o.stdout).into_owned();
+    assert!(
+        text.contains("Large-signal check in the test stage"),
+        "{text}"
+    );
+    assert!(text.contains("available power"), "{text}");
+    // one row per data point (6), every power with its unit
+    let rows = text
+        .lines()
+        .filter(|l| l.trim_end().ends_with(" pt"))
+        .count();
+    assert_eq!(rows, 6, "{text}");
+    assert!(text.contains("Caution:"), "{text}");
+    // the part written is the same as without the check: it changes nothing
+    let plain = tmp.path().join("plain.tank");
+    let o2 = fit_dir("tw_gen20", dir, &plain, &[]);
+    assert_eq!(code(&o2), 0, "{}", stderr(&o2));
+    assert_eq!(
+        std::fs::read_to_string(&out).unwrap(),
+        std::fs::read_to_string(&plain).unwrap()
+    );
+}
+
+#[test]
+fn a_test_stage_that_does_not_load_is_refused_with_its_line_and_nothing_written() {
+    let tmp = tempfile::tempdir().unwrap();
+    let out = tmp.path().join("dev.tank");
+    let stage = tmp.path().join("bad-stage.tank");
+    std::fs::write(
+        &stage,
+        "voltage vsup vcc gnd dc=12V\nbjt q1 c=vcc b=b e=gnd part=tw_gen20\nresistor rl vcc gnd 50Ohm frob=1\n",
+    )
+    .unwrap();
+    let dir = "netlists/models/fitted/tw-gen20";
+    let o = fit_dir(
+        "tw_gen20",
+        dir,
+        &out,
+        &[
+            "--power",
+            &format!("{dir}/power.csv"),
+            "--power-stage",
+            p(&stage),
+        ],
+    );
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    assert!(stderr(&o).contains("bad-stage.tank:3:"), "{}", stderr(&o));
+    assert!(
+        !out.exists(),
+        "nothing is written when the check cannot run"
+    );
+    // --power without its stage is a usage error (exit 2)
+    let o = fit_dir(
+        "tw_gen20",
+        dir,
+        &out,
+        &["--power", &format!("{dir}/power.csv")],
+    );
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    assert!(!out.exists());
+}

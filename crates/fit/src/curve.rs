@@ -32,6 +32,8 @@ pub enum Quantity {
     Capacitance,
     /// A frequency, in Hz.
     Frequency,
+    /// A power, in W.
+    Power,
     /// A plain ratio (no unit).
     Ratio,
 }
@@ -44,6 +46,7 @@ impl Quantity {
             Quantity::Voltage => "V",
             Quantity::Capacitance => "F",
             Quantity::Frequency => "Hz",
+            Quantity::Power => "W",
             Quantity::Ratio => "",
         }
     }
@@ -54,6 +57,7 @@ impl Quantity {
             Quantity::Voltage => "a voltage (V, mV, kV)",
             Quantity::Capacitance => "a capacitance (F, nF, pF, …)",
             Quantity::Frequency => "a frequency (Hz, kHz, MHz, GHz)",
+            Quantity::Power => "a power (W, mW, kW)",
             Quantity::Ratio => "a ratio, written without a unit",
         }
     }
@@ -82,6 +86,10 @@ pub enum CurveKind {
     /// voltage at fixed base currents: `vce[V]`, `ib[A]`, `ic[A]` (the
     /// quasi-saturation knee and the avalanche rise).
     Output,
+    /// Large-signal output power and collector efficiency against input
+    /// power in a test stage: `pin[W]`, `pout[W]`, `efficiency`. Not
+    /// fitted: the fitted model is checked against it ([`crate::power`]).
+    Power,
 }
 
 /// One column a curve kind needs: its name and what it measures.
@@ -119,6 +127,7 @@ impl CurveKind {
             CurveKind::Transition => "ft",
             CurveKind::Saturation => "vce-sat",
             CurveKind::Output => "ic-vce",
+            CurveKind::Power => "power",
         }
     }
 
@@ -132,6 +141,7 @@ impl CurveKind {
             CurveKind::Transition => "transition frequency against collector current",
             CurveKind::Saturation => "saturation voltage against collector current",
             CurveKind::Output => "collector current against collector–emitter voltage",
+            CurveKind::Power => "output power and collector efficiency against input power",
         }
     }
 
@@ -167,6 +177,11 @@ impl CurveKind {
                 col("vce", Voltage),
                 Some(col("ib", Current)),
                 col("ic", Current),
+            ),
+            CurveKind::Power => (
+                col("pin", Power),
+                Some(col("pout", Power)),
+                col("efficiency", Ratio),
             ),
         }
     }
@@ -485,6 +500,11 @@ fn check_point(kind: CurveKind, a: f64, b: f64, y: f64) -> Result<(), String> {
     if y <= 0.0 {
         return Err(format!("{} must be > 0 (give magnitudes)", cy.name));
     }
+    if kind == CurveKind::Power && y > 1.0 {
+        return Err(format!(
+            "efficiency {y} is above 1; give it as a fraction (0.6 for 60 %)"
+        ));
+    }
     if kind == CurveKind::Saturation && b >= a {
         return Err(format!(
             "ib {b} A is not below ic {a} A; a saturation curve forces a base current well below the collector current"
@@ -507,6 +527,24 @@ mod tests {
         assert_eq!(c.points[1].w, 1.0);
         assert_eq!(c.points[0].line, 3);
         assert_eq!(c.points[1].line, 5);
+    }
+
+    #[test]
+    fn a_power_curve_takes_watts_and_an_efficiency_as_a_fraction() {
+        let t = "pin[mW],pout[W],efficiency\n50,2,0.3\n100,8,0.5\n150,12,0.55\n200,14,0.57\n";
+        let c = parse(CurveKind::Power, "p.csv", t).unwrap();
+        assert!((c.points[0].a - 0.05).abs() < 1e-15);
+        assert_eq!(c.points[3].y, 0.57);
+        let e = parse(
+            CurveKind::Power,
+            "p.csv",
+            "pin[W],pout[W],efficiency\n1,2,55\n",
+        )
+        .unwrap_err();
+        assert!(e.to_string().starts_with("p.csv:2:"), "{e}");
+        assert!(e.to_string().contains("as a fraction"), "{e}");
+        let e = parse(CurveKind::Power, "p.csv", "pin[V],pout[W],efficiency\n").unwrap_err();
+        assert!(e.to_string().contains("'pin' has the unit 'V'"), "{e}");
     }
 
     #[test]

@@ -283,6 +283,13 @@ fn distinct(mut v: Vec<f64>) -> usize {
 
 /// Fit the model to `curves` (at most one of each kind).
 pub fn fit(curves: &[Curve], pnp: bool, fp: &FitParams) -> Result<FitResult, FitError> {
+    // a power curve checks the fitted model in a stage; it is not fitted
+    let kept: Vec<Curve> = curves
+        .iter()
+        .filter(|c| c.kind != CurveKind::Power)
+        .cloned()
+        .collect();
+    let curves = &kept[..];
     if curves.is_empty() {
         return Err(FitError::NoCurves);
     }

@@ -9,7 +9,9 @@
 //! - [`knob`]: the parameters a fit moves, their bounds and transform;
 //! - [`mod@fit`]: the staged Levenberg–Marquardt fit and the flat directions;
 //! - [`part`]: the `part` block written for a stage file;
-//! - [`report`], [`plot`]: the fit report and the data-against-model plots.
+//! - [`report`], [`plot`]: the fit report and the data-against-model plots;
+//! - [`power`]: the fitted model checked against large-signal output power
+//!   and efficiency in a test stage.
 //!
 //! Nothing here reads or writes files: the caller hands in the text of
 //! each curve file and writes what comes back.
@@ -22,6 +24,7 @@ pub mod knob;
 pub mod model;
 pub mod part;
 pub mod plot;
+pub mod power;
 pub mod report;
 
 pub use curve::{Curve, CurveKind};

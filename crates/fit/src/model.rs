@@ -63,6 +63,11 @@ pub fn value(p: &BjtParams, kind: CurveKind, pt: &Point) -> Result<f64, String> 
             vbe - contact_side(&k, vbc, pt.a)? + pt.a * p.r_collector + (pt.a + pt.b) * p.r_emitter
         }
         CurveKind::Output => output_current(&k, p, pt.a, pt.b)?,
+        CurveKind::Power => {
+            return Err(
+                "a power curve is a check of a whole stage, not of the transistor alone".into(),
+            )
+        }
     };
     if v.is_finite() {
         Ok(v)

@@ -23,6 +23,7 @@ fn axes(kind: CurveKind) -> (&'static str, &'static str) {
         CurveKind::Transition => ("collector current I_C", "transition frequency f_T"),
         CurveKind::Saturation => ("collector current I_C", "saturation voltage V_CE(sat)"),
         CurveKind::Output => ("collector–emitter voltage V_CE", "collector current I_C"),
+        CurveKind::Power => ("input power P_in", "collector efficiency η"),
     }
 }
 

@@ -100,6 +100,28 @@ fn clean_curves_give_back_the_parameters_they_were_made_from() {
     }
 }
 
+/// A pnp's curves are given as magnitudes (docs/fit.md), and the model is
+/// the npn's with every sign flipped (`pnp_mirrors_npn` in
+/// crates/devices/tests/bjt_stamps.rs): the same curves fitted as a pnp
+/// give the same parameters, and the part differs only in its kind.
+#[test]
+fn a_pnp_fit_of_the_same_magnitudes_gives_the_same_parameters() {
+    let curves = load("clean");
+    let n = fit(&curves, false, &FitParams::default()).expect("npn fit");
+    let p = fit(&curves, true, &FitParams::default()).expect("pnp fit");
+    assert!(p.params.pnp && !n.params.pnp);
+    assert_eq!(n.fitted, p.fitted);
+    for k in &n.fitted {
+        assert_eq!(k.get(&n.params), k.get(&p.params), "{k:?}");
+    }
+    let (tn, tp) = (
+        tankwave_fit::part::part_text("dev", &n),
+        tankwave_fit::part::part_text("dev", &p),
+    );
+    assert!(tp.contains("part dev pnp {"), "{tp}");
+    assert_eq!(tn.replace("part dev npn {", "part dev pnp {"), tp);
+}
+
 #[test]
 fn noisy_curves_fit_as_scipy_fits_them() {
     let r = fit(&load("noisy"), false, &FitParams::default()).expect("fit");

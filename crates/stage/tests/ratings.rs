@@ -119,3 +119,64 @@ fn the_base_return_picks_the_collector_emitter_rating() {
         assert_eq!(vce.basis.map(|b| b.rating), Some(kind), "{rb}");
     }
 }
+
+/// The stage mirrored for a pnp transistor (the same part as pnp, the
+/// supply and the drive negated) is the npn stage with every voltage and
+/// current negated: each stress row (the table gives magnitudes in the
+/// device's own sense) must come out the same, against the same rating.
+/// Tolerance: the two solves follow the same equations with every sign
+/// flipped (checked stamp by stamp in crates/devices/tests/bjt_stamps.rs,
+/// `pnp_mirrors_npn`), so they differ only by rounding and by where the
+/// solver's iterations stop: within the steady state's accuracy target
+/// (power_error = 1e-4 relative, docs/analyses.md) on powers, and well
+/// within 1e-3 of the value on peaks (the peaks of two orbits that agree to
+/// shooting's 1e-7 tolerance).
+#[test]
+fn a_pnp_mirror_of_the_stage_has_the_same_stresses() {
+    let ratings = "vce_resistor_max=60V vce_resistor_at=100Ohm vce_short_max=65V vcb_max=50V vbe_reverse_max=5V";
+    let npn = stage(ratings, "");
+    let pnp = common::edit(
+        common::edit(
+            common::edit(npn.clone(), "part tw_hf25 npn", "part tw_hf25 pnp"),
+            "let vcc  = 13.8V",
+            "let vcc  = -13.8V",
+        ),
+        "wave=sine(amp=drive, freq=f0,",
+        "wave=sine(amp=drive, freq=f0, phase=180deg,",
+    );
+    let solved = |text: &str| {
+        let c = common::circuit(text);
+        solve(&c, &SolveOptions::default())
+            .expect("the stage solves")
+            .steady
+            .expect("a steady state")
+            .metrics
+    };
+    let (a, b) = (solved(&npn), solved(&pnp));
+    let (pa, pb) = (
+        a.output.as_ref().unwrap().p1_w,
+        b.output.as_ref().unwrap().p1_w,
+    );
+    assert!(
+        (pa - pb).abs() <= 1e-4 * pa,
+        "output power {pa} W vs {pb} W"
+    );
+    let (ea, eb) = (a.efficiency.unwrap(), b.efficiency.unwrap());
+    assert!((ea - eb).abs() <= 1e-4 * ea, "efficiency {ea} vs {eb}");
+    assert!(b.transistors[0].pnp && !a.transistors[0].pnp);
+    assert_eq!(a.stress.len(), b.stress.len());
+    for (x, y) in a.stress.iter().zip(&b.stress) {
+        assert_eq!((&x.element, x.quantity), (&y.element, y.quantity));
+        assert!(x.value > 0.0, "{x:?}");
+        assert!(
+            (x.value - y.value).abs() <= 1e-3 * x.value,
+            "{} {:?}: npn {} vs pnp {}",
+            x.element,
+            x.quantity,
+            x.value,
+            y.value
+        );
+        assert_eq!(x.rating, y.rating, "{x:?}");
+        assert_eq!(x.basis, y.basis, "{x:?}");
+    }
+}
