@@ -43,7 +43,9 @@ Its own error is estimated by solving again at rtol 1e-10 (atol 1e-12)
 with 4096 samples, and written to the data file (err_* columns are the
 absolute differences of the two). Run: python3 sharp_pulse.py (writes
 sharp_pulse.txt beside this file; requirements.txt pins numpy and scipy).
-With --time it instead times the solve (scripts/scipy-speed.sh).
+With --time [RTOL] it instead times one solve at RTOL (default 1e-10,
+atol RTOL/100) and prints P1, the harmonic levels and the times; the speed
+comparison with tankwave (speed_vs_scipy.py) runs it that way.
 """
 import os
 import sys
@@ -184,10 +186,13 @@ def steady(rtol, atol, periodicity=1e-12, samples=8192):
 
 def main():
     if "--time" in sys.argv:
+        i = sys.argv.index("--time")
+        rtol = float(sys.argv[i + 1]) if len(sys.argv) > i + 1 else 1e-10
         t1 = time.perf_counter()
-        ref = steady(1e-10, 1e-12, samples=4096)
+        ref = steady(rtol, rtol / 100.0, samples=4096)
         t2 = time.perf_counter()
         print(f"p1_W {ref['p1']:.12e}")
+        print("dbc " + " ".join(f"{d:.9f}" for d in ref["dbc"]))
         print(f"import_s {T_IMPORTED - T_START:.6f}")
         print(f"solve_s {t2 - t1:.6f}")
         return
