@@ -326,32 +326,9 @@ fn plain(
     (time, xs.iter().map(|x| x[u.index()]).collect())
 }
 
-/// The waveform of unknown `u` rebuilt from the envelope's phasors at the
-/// times `t`: `X₀ + Σ_k 2·Re(X_k e^{jkω₀t})`, each phasor interpolated
-/// linearly between the kept slow samples.
+/// The waveform of unknown `u` rebuilt from the envelope's phasors at the times `t`.
 fn rebuild(s: &EnvelopeSolution, u: UnknownId, t: &[f64]) -> Vec<f64> {
-    let w = 2.0 * PI * s.freq;
-    t.iter()
-        .map(|&at| {
-            let i = s
-                .times
-                .partition_point(|v| *v < at)
-                .clamp(1, s.times.len() - 1);
-            let f = ((at - s.times[i - 1]) / (s.times[i] - s.times[i - 1])).clamp(0.0, 1.0);
-            (0..=s.harmonics)
-                .map(|k| {
-                    let x0 = s.phasor(i - 1, k, u).unwrap();
-                    let x1 = s.phasor(i, k, u).unwrap();
-                    let x = x0 + (x1 - x0) * f;
-                    if k == 0 {
-                        x.re
-                    } else {
-                        2.0 * (x * C64::from_polar(1.0, k as f64 * w * at)).re
-                    }
-                })
-                .sum()
-        })
-        .collect()
+    s.waveform(u, t)
 }
 
 /// The fundamental amplitude `2|c₁|` of `x` by the one-period DFT, period by period.

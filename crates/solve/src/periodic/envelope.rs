@@ -207,6 +207,46 @@ impl EnvelopeSolution {
         self.phasors.get(sample)?.get(k)?.get(u.index()).copied()
     }
 
+    /// The waveform of unknown `u` at the times `t` (s, within `0..=stop`;
+    /// clamped to it): `X₀ + Σ_k 2·Re(X_k e^{jkω₀t})`, each phasor
+    /// interpolated linearly between the kept samples (an error of
+    /// `Δτ²/8·|X''|` for kept samples `Δτ` apart). Empty when `u` is not an
+    /// unknown of the solution.
+    pub fn waveform(&self, u: UnknownId, t: &[f64]) -> Vec<f64> {
+        let w = 2.0 * std::f64::consts::PI * self.freq;
+        let n = self.phasors.first().map_or(0, |s| s[0].len());
+        if u.index() >= n || self.times.is_empty() {
+            return Vec::new();
+        }
+        let last = self.times.len() - 1;
+        t.iter()
+            .map(|&at| {
+                let i = self
+                    .times
+                    .partition_point(|v| *v < at)
+                    .clamp(1.min(last), last);
+                let i0 = i.saturating_sub(1);
+                let span = self.times[i] - self.times[i0];
+                let f = if span > 0.0 {
+                    ((at - self.times[i0]) / span).clamp(0.0, 1.0)
+                } else {
+                    0.0
+                };
+                let (a, b) = (&self.phasors[i0], &self.phasors[i]);
+                (0..=self.harmonics)
+                    .map(|k| {
+                        let x = a[k][u.index()] + (b[k][u.index()] - a[k][u.index()]) * f;
+                        if k == 0 {
+                            x.re
+                        } else {
+                            2.0 * (x * C64::from_polar(1.0, k as f64 * w * at)).re
+                        }
+                    })
+                    .sum()
+            })
+            .collect()
+    }
+
     /// The envelope of harmonic `k` of unknown `u` at every kept sample: the
     /// peak amplitude `2|X_k|` for `k ≥ 1`, the slowly varying mean `X₀` for
     /// `k = 0` (empty when `u` or `k` is out of range).
