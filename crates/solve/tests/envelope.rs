@@ -2,7 +2,9 @@
 //! is keyed (the exact envelope equations, integrated finely here, and a
 //! plain transient demodulated period by period), the keyed class-C demo
 //! stage against a plain transient, and a self-biased stage where the
-//! quasi-static envelope and the dynamic one differ.
+//! quasi-static envelope and the dynamic one differ. Sources:
+//! docs/check-values.md, "Periodic steady state" (envelope following, the
+//! orders of the slow-time formulas).
 
 mod support;
 use num_complex::Complex64 as C64;
@@ -411,4 +413,170 @@ fn keyed_class_c_envelope_matches_the_plain_transient() {
     assert!(e_fine < budget, "{e_fine} against {budget}");
     // the key-down level is the steady state at full drive
     assert!(peak > 10.0, "{peak}");
+}
+
+// ---------------------------------------------------------------------------
+// Options and drives from outside: refused with the numbers, never a panic.
+
+#[test]
+fn bad_options_and_drives_are_refused_with_their_numbers() {
+    let b = tank(0.0);
+    let d = instantiate(&b.c).unwrap();
+    let base = EnvelopeParams {
+        freq: F_TANK,
+        harmonics: 2,
+        stop: 10e-6,
+        step: 1e-6,
+        ..EnvelopeParams::default()
+    };
+    let refused =
+        |p: &EnvelopeParams, a: &dyn Fn(f64) -> f64, says: &str| match envelope(&b.c, &d, p, a) {
+            Err(SolveError::BadParams(m)) => assert!(m.contains(says), "{m}"),
+            other => panic!(
+                "expected a refusal naming {says}, got {:?}",
+                other.map(|s| s.info)
+            ),
+        };
+    let one = |_: f64| 1.0;
+    refused(
+        &EnvelopeParams {
+            stop: f64::NAN,
+            ..base.clone()
+        },
+        &one,
+        "NaN",
+    );
+    refused(
+        &EnvelopeParams {
+            step: 0.0,
+            ..base.clone()
+        },
+        &one,
+        "0 s",
+    );
+    refused(
+        &EnvelopeParams {
+            step: -1e-6,
+            ..base.clone()
+        },
+        &one,
+        "-0.000001",
+    );
+    refused(
+        &EnvelopeParams {
+            stop: 1.0,
+            step: 1e-9,
+            ..base.clone()
+        },
+        &one,
+        "1000000000 slow steps",
+    );
+    refused(
+        &EnvelopeParams {
+            keep_every: 0,
+            ..base.clone()
+        },
+        &one,
+        "keep_every",
+    );
+    refused(
+        &EnvelopeParams {
+            harmonics: 0,
+            ..base.clone()
+        },
+        &one,
+        "harmonics",
+    );
+    refused(
+        &EnvelopeParams {
+            freq: -1.0,
+            ..base.clone()
+        },
+        &one,
+        "-1",
+    );
+    refused(
+        &EnvelopeParams {
+            harmonics: 4096,
+            stop: 2e-3,
+            ..base.clone()
+        },
+        &one,
+        "phasors",
+    );
+    // a drive that goes non-finite part way names the slow time
+    refused(
+        &base,
+        &|t: f64| if t > 4.5e-6 { f64::INFINITY } else { 0.5 },
+        "τ = 5.0",
+    );
+    refused(&base, &|_: f64| f64::NAN, "NaN");
+}
+
+#[test]
+fn only_the_keyed_source_follows_the_drive_envelope() {
+    // a second source at the carrier into the same tank, not keyed: by
+    // superposition (a linear circuit; common practice) the keyed run is
+    // the run without it plus its own steady state, phasor by phasor
+    let (rise, off, stop) = (20e-6, 60e-6, 100e-6);
+    let a = |t: f64| keyed(t, rise, off);
+    let alone = tank(0.0);
+    let mut both = tank(0.0);
+    let keyed_source = both.c.element("idrv").expect("idrv");
+    both.isrc(
+        "ihold",
+        "gnd",
+        "tank",
+        Waveform {
+            dc: 0.0,
+            shape: Some(sine(0.5 * I_DRIVE, F_TANK)),
+        },
+    );
+    let p = EnvelopeParams {
+        freq: F_TANK,
+        harmonics: 2,
+        stop,
+        step: 1e-6,
+        ..EnvelopeParams::default()
+    };
+    let d1 = instantiate(&alone.c).unwrap();
+    let d2 = instantiate(&both.c).unwrap();
+    let u = node(&d1, &alone, "tank");
+    assert_eq!(u, node(&d2, &both, "tank"));
+    let s1 = envelope(&alone.c, &d1, &p, &a).unwrap();
+    let pk = EnvelopeParams {
+        keyed: Some(keyed_source),
+        ..p.clone()
+    };
+    let s2 = envelope(&both.c, &d2, &pk, &a).unwrap();
+    let hold = s2.phasor(0, 1, u).unwrap();
+    // the held source's steady state: half the drive, I·R/2 (common practice)
+    let peak = I_DRIVE * r_tank();
+    assert!((2.0 * hold.norm() - 0.5 * peak).abs() < 1e-6 * peak);
+    // Each step is solved to the Newton tolerance (rel_tolerance 1e-6 of
+    // the terms of each row): the two runs agree to a few times that.
+    let mut dev = 0.0f64;
+    for i in 0..s1.times.len() {
+        let x1 = s1.phasor(i, 1, u).unwrap();
+        let x2 = s2.phasor(i, 1, u).unwrap() - hold;
+        dev = dev.max((x1 - x2).norm());
+    }
+    assert!(dev < 1e-5 * peak, "{dev}");
+    // with no keyed source named, the drive scales both
+    let s3 = envelope(&both.c, &d2, &p, &a).unwrap();
+    assert!(s3.phasor(0, 1, u).unwrap().norm() < 1e-9 * peak);
+    // a keyed element that is not a time-varying source is refused by name
+    let r = both.c.element("r").expect("r");
+    match envelope(
+        &both.c,
+        &d2,
+        &EnvelopeParams {
+            keyed: Some(r),
+            ..p
+        },
+        &a,
+    ) {
+        Err(SolveError::BadParams(m)) => assert!(m.contains("'r'"), "{m}"),
+        other => panic!("{:?}", other.map(|s| s.info)),
+    }
 }

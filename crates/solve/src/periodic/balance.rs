@@ -485,6 +485,11 @@ impl Fft {
         }
     }
 
+    /// The transform's size N.
+    pub(super) fn len(&self) -> usize {
+        self.n
+    }
+
     /// `out[k] = (1/N) Σ_n x_n e^{−j2πkn/N}` for `k < out.len() ≤ N/2 + 1`.
     pub(super) fn forward(&mut self, x: &[f64], out: &mut [C64]) {
         self.buf.copy_from_slice(&x[..self.n]);

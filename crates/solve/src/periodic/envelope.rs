@@ -28,8 +28,9 @@
 //! [`mod@super::balance`]), `S_k` the harmonics of the time-varying part of
 //! the sources, and `a(τ)` the drive envelope the caller gives: it scales
 //! the time-varying part of every source (exactly as
-//! [`tankwave_devices::EvalCtx::wave_scale`] does), while the DC part stays
-//! constant. Bias networks with long time constants (a base-leak RC, a feed
+//! [`tankwave_devices::EvalCtx::wave_scale`] does), or of the one source
+//! [`EnvelopeParams::keyed`] names (the others' harmonics are then a constant
+//! term of every step), while the DC part stays constant. Bias networks with long time constants (a base-leak RC, a feed
 //! choke) thus keep their memory through `dQ₀/dτ`, and the tank's ringing
 //! through `dQ₁/dτ`; when `a` is constant the derivative vanishes and the
 //! equation is harmonic balance.
@@ -83,8 +84,8 @@ use crate::linalg::LinearSolver;
 use crate::newton::Tolerances;
 use crate::SolveError;
 use num_complex::Complex64 as C64;
-use tankwave_circuit::Circuit;
-use tankwave_devices::{DeviceSet, UnknownId};
+use tankwave_circuit::{Circuit, ElementId};
+use tankwave_devices::{DenseStamp, DeviceSet, EvalCtx, UnknownId};
 
 const ZERO: C64 = C64 { re: 0.0, im: 0.0 };
 
@@ -134,6 +135,10 @@ pub struct EnvelopeParams {
     pub balance: BalanceParams,
     /// Linear solver of the operating point.
     pub linear_solver: LinearSolver,
+    /// The one source whose time-varying part the drive envelope scales
+    /// (the keyed source); the other sources keep their full time-varying
+    /// part. `None` (the default): every source's time-varying part is scaled.
+    pub keyed: Option<ElementId>,
 }
 
 impl Default for EnvelopeParams {
@@ -150,6 +155,7 @@ impl Default for EnvelopeParams {
             tol: Tolerances::default(),
             balance: BalanceParams::default(),
             linear_solver: LinearSolver::default(),
+            keyed: None,
         }
     }
 }
@@ -309,7 +315,13 @@ pub fn envelope(
     let freqs: Vec<f64> = (0..=kmax).map(|k| k as f64 * omega).collect();
     let nfft = fft_size(kmax, bp.oversample);
     let mut fft = Fft::new(nfft);
-    let lin = linear_network(devices, kmax, &mut fft, t_start, period, bp.junction_leak)?;
+    let mut lin = linear_network(devices, kmax, &mut fft, t_start, period, bp.junction_leak)?;
+    // the sources the envelope leaves alone: their harmonics come out of
+    // the scaled part and into a constant term of every step
+    let fixed = match params.keyed {
+        Some(e) => unscaled_sources(circuit, devices, e, &mut lin, &mut fft, t_start, period)?,
+        None => Vec::new(),
+    };
     let all: Vec<usize> = (0..n).collect();
     let red = reduce(&lin, &all, kmax, &freqs).map_err(|f| {
         f.into_error(
@@ -325,6 +337,7 @@ pub fn envelope(
         lin: &lin,
         bp,
         rel_tolerance: params.tol.rel_tolerance,
+        fixed,
         info: EnvelopeInfo {
             step: h,
             system_size: (2 * kmax + 1) * n,
@@ -488,12 +501,99 @@ impl EnvelopeSolution {
     }
 }
 
+/// With a keyed source `keyed`: the harmonics `[k·n + u]` of the
+/// time-varying part of every other source, taken out of `lin.src_wave`
+/// (which the drive scales) and returned (added unscaled to every step).
+/// Refused when `keyed` is not a source with a time-varying part.
+fn unscaled_sources(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    keyed: ElementId,
+    lin: &mut Linear,
+    fft: &mut Fft,
+    t_start: f64,
+    period: f64,
+) -> Result<Vec<C64>, SolveError> {
+    let n = devices.n_unknowns;
+    let ns = fft.len();
+    let kmax = lin.src_wave.len().saturating_sub(1);
+    let name = circuit
+        .elements
+        .get(keyed.index())
+        .map(|e| e.name.clone())
+        .unwrap_or_else(|| format!("element #{}", keyed.index()));
+    let x0 = vec![0.0; n];
+    let mut state = devices.initial_state();
+    // samples of the time-varying part of the keyed source and of the others
+    let mut mine = vec![vec![0.0; ns]; n];
+    let mut rest = vec![vec![0.0; ns]; n];
+    let mut found = false;
+    for (d, &off) in devices.devices.iter().zip(&devices.state_offsets) {
+        if !d.is_linear() {
+            continue;
+        }
+        let is_keyed = d.element() == keyed;
+        found |= is_keyed;
+        let st = &mut state[off..off + d.state_len()];
+        for sample in 0..ns {
+            let t = t_start + sample as f64 * period / ns as f64;
+            let at = |wave: f64, st: &mut [f64]| {
+                let mut stamp = DenseStamp::new(n);
+                let ctx = EvalCtx {
+                    time: t,
+                    dc_scale: 1.0,
+                    wave_scale: wave,
+                    junction_leak: 0.0,
+                    limit: false,
+                };
+                d.eval(&x0, &ctx, st, &mut stamp);
+                stamp.i
+            };
+            let (full, none) = (at(1.0, st), at(0.0, st));
+            let dst = if is_keyed { &mut mine } else { &mut rest };
+            for (r, (a, b)) in full.iter().zip(&none).enumerate() {
+                dst[r][sample] += a - b;
+            }
+        }
+    }
+    if !found || mine.iter().flatten().all(|v| *v == 0.0) {
+        return Err(SolveError::BadParams(format!(
+            "envelope following: the keyed element '{name}' is not a source with a \
+             time-varying part at {:.6e} Hz",
+            1.0 / period
+        )));
+    }
+    let mut out = vec![ZERO; (kmax + 1) * n];
+    let mut coef = vec![ZERO; kmax + 1];
+    for (r, w) in rest.iter().enumerate() {
+        if w.iter().all(|v| *v == 0.0) {
+            continue;
+        }
+        fft.forward(w, &mut coef);
+        for (k, c) in coef.iter().enumerate() {
+            out[k * n + r] = *c;
+            lin.src_wave[k][r] -= *c;
+        }
+    }
+    if out.iter().any(|v| !v.is_finite()) {
+        return Err(SolveError::NonFinite {
+            analysis: "envelope following (the sources that are not keyed)".into(),
+            unknown: name,
+            when: When(None),
+        });
+    }
+    Ok(out)
+}
+
 /// The state of a run: the balance problem and the counters.
 struct Run<'a> {
     prob: Problem<'a>,
     lin: &'a Linear,
     bp: &'a BalanceParams,
     rel_tolerance: f64,
+    /// Harmonics `[k·n + u]` of the sources the drive does not scale
+    /// (empty when it scales every source).
+    fixed: Vec<C64>,
     info: EnvelopeInfo,
 }
 
@@ -530,6 +630,7 @@ impl Run<'_> {
         self.prob.label = Some(format!(
             "envelope following (steady state at the start, drive {a0:.4})"
         ));
+        self.prob.history = self.fixed.clone();
         let x0 = x.to_vec();
         let first = match self.prob.newton(x, a0, self.bp.max_iter) {
             Ok(c) => {
@@ -570,10 +671,11 @@ impl Run<'_> {
     }
 
     /// One step of shift `alpha` and history `hist` at drive `a`, from `x`.
-    fn step(&mut self, x: &mut [C64], a: f64, alpha: f64, hist: Vec<C64>) -> Result<(), Fail> {
+    fn step(&mut self, x: &mut [C64], a: f64, alpha: f64, mut hist: Vec<C64>) -> Result<(), Fail> {
         if self.prob.shift != alpha && !self.prob.set_shift(alpha, self.lin) {
             return Err(Fail::Escaped { iterations: 0 });
         }
+        hist.iter_mut().zip(&self.fixed).for_each(|(h, f)| *h += f);
         self.prob.history = hist;
         let c = self.prob.newton(x, a, self.bp.max_iter)?;
         self.info.newton_iterations += c.iterations;
