@@ -55,8 +55,10 @@
 //! line search, dense LU or GMRES by system size). Each step starts from the
 //! previous step's phasors. A step whose Newton iteration fails is done
 //! again as 2, 4, … backward-Euler sub-steps (at most
-//! `2^`[`EnvelopeParams::max_substeps`]); BDF2 then goes on from the ends
-//! of that step, which lie `h` apart as before.
+//! `2^`[`EnvelopeParams::max_substeps`]), the drive taken linear between
+//! the step's ends (the slow grid sees the drive only at its samples, so a
+//! jump between two samples is a ramp over the step); BDF2 then goes on
+//! from the ends of that step, which lie `h` apart as before.
 //!
 //! # Start
 //! The slow time starts from the steady state at drive `a(0)`: the operating
@@ -365,6 +367,7 @@ pub fn envelope(
     // q1: total charges at the last step, q2: at the one before
     let mut q1 = run.charges(&x);
     let mut q2: Option<Vec<C64>> = None;
+    let mut a_prev = a0;
     for step in 1..=steps {
         let tau = step as f64 * h;
         let a = level(drive, tau)?;
@@ -386,7 +389,7 @@ pub fn envelope(
         };
         if let Err(first) = tried {
             x.copy_from_slice(&x_prev);
-            run.split(&mut x, &q1, tau - h, h, drive, params.max_substeps)
+            run.split(&mut x, &q1, h, (a_prev, a), params.max_substeps)
                 .map_err(|f| {
                     let f = if matches!(f, Fail::NoConvergence { .. }) {
                         f
@@ -398,6 +401,7 @@ pub fn envelope(
         }
         let q = run.charges(&x);
         q2 = Some(std::mem::replace(&mut q1, q));
+        a_prev = a;
         if step % params.keep_every == 0 || step == steps {
             out.keep(tau, a, &x, n, kmax)?;
         }
@@ -684,16 +688,17 @@ impl Run<'_> {
         Ok(())
     }
 
-    /// The step from `tau0` to `tau0 + h` again as 2, 4, … backward-Euler
-    /// sub-steps from `x` (with the charges `q0` there), until one split
-    /// succeeds or `2^max` sub-steps fail.
+    /// The step of length `h` again as 2, 4, … backward-Euler sub-steps
+    /// from `x` (with the charges `q0` there), the drive taken linear between
+    /// its values `ends` at the step's ends (the slow grid sees the drive
+    /// only at its samples, so a jump between two samples becomes a ramp
+    /// over the step), until one split succeeds or `2^max` sub-steps fail.
     fn split(
         &mut self,
         x: &mut [C64],
         q0: &[C64],
-        tau0: f64,
         h: f64,
-        drive: &dyn Fn(f64) -> f64,
+        ends: (f64, f64),
         max: u32,
     ) -> Result<(), Fail> {
         let x0 = x.to_vec();
@@ -711,14 +716,7 @@ impl Run<'_> {
             let mut q = q0.to_vec();
             let mut ok = true;
             for j in 1..=m {
-                let tau = tau0 + j as f64 * hs;
-                let a = drive(tau);
-                if !a.is_finite() {
-                    return Err(Fail::NonFinite {
-                        iterations: 0,
-                        port: 0,
-                    });
-                }
+                let a = ends.0 + (ends.1 - ends.0) * j as f64 / m as f64;
                 let hist = q.iter().map(|v| -v / hs).collect();
                 self.info.substeps += 1;
                 if let Err(f) = self.step(x, a, 1.0 / hs, hist) {
