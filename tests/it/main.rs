@@ -18,6 +18,7 @@ mod bad_input;
 mod cli;
 mod convergence;
 mod editor;
+mod envelope;
 mod first_hour;
 mod fit;
 mod floor;

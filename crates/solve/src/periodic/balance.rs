@@ -485,6 +485,11 @@ impl Fft {
         }
     }
 
+    /// The transform's size N.
+    pub(super) fn len(&self) -> usize {
+        self.n
+    }
+
     /// `out[k] = (1/N) Σ_n x_n e^{−j2πkn/N}` for `k < out.len() ≤ N/2 + 1`.
     pub(super) fn forward(&mut self, x: &[f64], out: &mut [C64]) {
         self.buf.copy_from_slice(&x[..self.n]);
@@ -607,7 +612,7 @@ pub(super) struct Linear {
     pub(super) extra: Vec<std::collections::HashMap<(usize, usize), C64>>,
 }
 
-fn linear_network(
+pub(super) fn linear_network(
     devices: &DeviceSet,
     kmax: usize,
     fft: &mut Fft,
@@ -972,6 +977,20 @@ pub(super) struct Problem<'a> {
     pub(super) krylov_iterations: usize,
     /// What a person calls each slot in a message (`harmonic k` when empty).
     pub(super) slot_names: Vec<String>,
+    /// A real shift `α` added to the frequency of every slot, `s_k = α + jω_k`,
+    /// on the devices' charges (applied in [`Problem::eval_nl`] as `i + αq`,
+    /// `G + αC`, and on the linear network by [`Problem::set_shift`]): the
+    /// slow-time derivative of an envelope step ([`mod@super::envelope`]).
+    /// 0 for a steady state.
+    pub(super) shift: f64,
+    /// A constant term of the residual per `[k·p + r]` (an envelope step's
+    /// history of charges); empty for a steady state.
+    pub(super) history: Vec<C64>,
+    /// The nonlinear devices' charge harmonics `[k][r]` at the last
+    /// converged iterate.
+    pub(super) last_q: Vec<Vec<C64>>,
+    /// The analysis named in errors (harmonic balance when `None`).
+    pub(super) label: Option<String>,
 }
 
 /// Why a Newton solve at one drive level stopped.
@@ -1009,10 +1028,10 @@ impl Fail {
 }
 
 /// A converged Newton solve.
-struct Converged {
-    iterations: usize,
-    ratio: f64,
-    cuts: usize,
+pub(super) struct Converged {
+    pub(super) iterations: usize,
+    pub(super) ratio: f64,
+    pub(super) cuts: usize,
 }
 
 impl<'a> Problem<'a> {
@@ -1068,6 +1087,47 @@ impl<'a> Problem<'a> {
             krylov: false,
             krylov_iterations: 0,
             slot_names: Vec::new(),
+            shift: 0.0,
+            history: Vec::new(),
+            last_q: Vec::new(),
+            label: None,
+        }
+    }
+
+    /// Set the shift `α` ([`Problem::shift`]) and rebuild the linear network
+    /// per slot as `G + αC + jω_k C` from `lin`. Only for a problem that
+    /// keeps every unknown as a port (no reduction: the Schur complement
+    /// would change with `α`) and has no element defined over frequency;
+    /// returns false (and changes nothing) otherwise.
+    pub(super) fn set_shift(&mut self, alpha: f64, lin: &Linear) -> bool {
+        let (p, n) = (self.p(), lin.n);
+        let whole = self.red.others.is_empty()
+            && p == n
+            && self.red.ports.iter().enumerate().all(|(a, &u)| a == u)
+            && lin.extra.iter().all(|e| e.is_empty())
+            && self.red.yhat.len() == self.freqs.len();
+        if !whole {
+            return false;
+        }
+        for (y, &w) in self.red.yhat.iter_mut().zip(&self.freqs) {
+            for (e, v) in y.iter_mut().enumerate() {
+                let (g, c) = (lin.g[e], lin.c[e]);
+                *v = C64::new(g + alpha * c, w * c);
+            }
+        }
+        self.shift = alpha;
+        true
+    }
+
+    /// The per-sample limiting states committed by the last converged solve.
+    pub(super) fn states_snapshot(&self) -> Vec<f64> {
+        self.states.clone()
+    }
+
+    /// Put back states from [`Problem::states_snapshot`].
+    pub(super) fn restore_states(&mut self, s: &[f64]) {
+        if s.len() == self.states.len() {
+            self.states.copy_from_slice(s);
         }
     }
 
@@ -1162,6 +1222,18 @@ impl<'a> Problem<'a> {
                 port: self.pattern.get(e).map_or(0, |rc| rc.0),
             });
         }
+        if self.shift != 0.0 {
+            // s_k = α + jω_k on the charges: α q joins the currents and α C
+            // the conductances, so every later step (residual, conversion
+            // matrices, matrix-free product, preconditioner) carries it
+            let a = self.shift;
+            for (iw, qw) in it.iter_mut().zip(&qt) {
+                iw.iter_mut().zip(qw).for_each(|(i, q)| *i += a * q);
+            }
+            for (gw, cw) in gt.iter_mut().zip(&ct) {
+                gw.iter_mut().zip(cw).for_each(|(g, c)| *g += a * c);
+            }
+        }
         let mut ev = NlEval {
             i: vec![vec![ZERO; p]; kmax + 1],
             q: vec![vec![ZERO; p]; kmax + 1],
@@ -1218,6 +1290,9 @@ impl<'a> Problem<'a> {
                 let mut src = self.red.shat_wave[k][r] * s;
                 if k == 0 {
                     src += self.red.shat_dc[r];
+                }
+                if let Some(h) = self.history.get(k * p + r) {
+                    src += *h;
                 }
                 let iq = ev.i[k][r];
                 let qq = J * w * ev.q[k][r];
@@ -1492,7 +1567,12 @@ impl<'a> Problem<'a> {
     }
 
     /// Newton with line search at drive `s` from `x` (updated in place).
-    fn newton(&mut self, x: &mut [C64], s: f64, max_iter: usize) -> Result<Converged, Fail> {
+    pub(super) fn newton(
+        &mut self,
+        x: &mut [C64],
+        s: f64,
+        max_iter: usize,
+    ) -> Result<Converged, Fail> {
         let p = self.p();
         let m = self.size();
         let kmax = self.kmax;
@@ -1524,6 +1604,7 @@ impl<'a> Problem<'a> {
             last = worst;
             if update_ok && !limited && worst.0 <= 1.0 {
                 self.states = states;
+                self.last_q = std::mem::take(&mut ev.q);
                 return Ok(Converged {
                     iterations: it,
                     ratio: worst.0,
@@ -1684,7 +1765,9 @@ impl<'a> Problem<'a> {
     }
 
     pub(super) fn fail_to_error(&self, f: Fail, s: f64) -> SolveError {
-        let analysis = if self.slot_names.is_empty() {
+        let analysis = if let Some(l) = &self.label {
+            l.clone()
+        } else if self.slot_names.is_empty() {
             format!(
                 "harmonic balance (K = {}, drive {:.2}%)",
                 self.kmax,

@@ -9,6 +9,8 @@
 //! - [`sample`]: the one terminal-current sampler, with the derivative rule
 //!   as its parameter, and the transport currents (imports no sibling);
 //! - [`mod@balance`]: harmonic balance (imports `sample`);
+//! - [`mod@envelope`]: envelope following, harmonic balance at every step of
+//!   a slow time (imports `balance`);
 //! - [`mod@multitone`]: harmonic balance under two to four tones, by
 //!   artificial frequency mapping onto the balance machinery (imports `balance`);
 //! - [`mod@shooting`]: Newton on the state at the period start; one period
@@ -21,6 +23,7 @@
 
 pub mod accuracy;
 pub mod balance;
+pub mod envelope;
 mod floor;
 pub mod floquet;
 pub mod multitone;
@@ -30,6 +33,7 @@ pub mod shooting;
 
 pub use accuracy::{AccuracyEstimate, AccuracyParams};
 pub use balance::{balance, BalanceInfo, BalanceParams};
+pub use envelope::{envelope, EnvelopeInfo, EnvelopeParams, EnvelopeSolution, SlowMethod};
 pub use multitone::{multitone, Product, ToneDrive, ToneInfo, ToneParams, ToneSolution};
 pub use sample::{terminal_currents, transport_currents};
 pub use settle::settle;
