@@ -43,6 +43,9 @@
 
 use num_complex::Complex64;
 
+pub mod passive;
+pub use passive::{enforce as enforce_passivity, PassivityInfo};
+
 /// The most poles a fit may have (untrusted input: each pole is a state of
 /// the time-domain model and a column of every least-squares problem).
 pub const MAX_ORDER: usize = 40;
@@ -129,6 +132,16 @@ pub enum FitError {
     /// The data holds a non-finite value or a non-positive frequency.
     #[error("the data cannot be fitted: {0}")]
     BadData(String),
+    /// Passivity could not be enforced.
+    #[error("the fitted model stays non-passive after {passes} correction passes (smallest eigenvalue of its conductance {eigenvalue:.3e} S at {at:.6e} Hz)")]
+    NotPassive {
+        /// Passes run.
+        passes: usize,
+        /// The smallest eigenvalue of the Hermitian part left, S.
+        eigenvalue: f64,
+        /// Where, Hz.
+        at: f64,
+    },
     /// A least-squares problem or eigenvalue computation did not give finite numbers.
     #[error("vector fitting failed at order {order}, iteration {iteration}: {what}")]
     Numerical {
