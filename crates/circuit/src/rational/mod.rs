@@ -79,8 +79,22 @@ pub struct FitParams {
     pub target: f64,
     /// Point weights.
     pub weighting: Weighting,
-    /// Fit a term `s E` (a capacitance-like rise) besides `D`.
-    pub proportional: bool,
+    /// Whether a term `s E` (a capacitance-like rise) is fitted besides `D`.
+    pub proportional: Proportional,
+}
+
+/// Whether the model has a term `s E`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Proportional {
+    /// Never.
+    Never,
+    /// Always.
+    Always,
+    /// Only if the orders without it miss the target (default): a network
+    /// whose admittance keeps rising with frequency (a shunt capacitance
+    /// across a port) needs it.
+    #[default]
+    IfNeeded,
 }
 
 impl Default for FitParams {
@@ -91,7 +105,7 @@ impl Default for FitParams {
             iterations: 10,
             target: 0.01,
             weighting: Weighting::Relative,
-            proportional: false,
+            proportional: Proportional::IfNeeded,
         }
     }
 }
@@ -228,6 +242,90 @@ impl RationalModel {
     }
 }
 
+/// The time-domain model of a measured network: its rational fit, made
+/// passive, with what the fit cost.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Fitted {
+    /// The model (S, rad/s), stable and passive.
+    pub model: RationalModel,
+    /// How the fit went; its errors are those of the final (passive)
+    /// model at the file's points.
+    pub info: FitInfo,
+    /// How the passivity check and correction went.
+    pub passivity: PassivityInfo,
+    /// The model's admittance at 0 Hz, S, row order (real).
+    pub dc: Vec<f64>,
+    /// What the network's out-of-band rule says at 0 Hz, S, row order.
+    pub dc_rule: Vec<f64>,
+    /// `‖Y_fit(0) − Y_rule(0)‖` over the largest norm of the file's
+    /// matrices (the DC deviation in the band's terms).
+    pub dc_error: f64,
+}
+
+/// Fit a network's file for the time domain: the file's points and, when
+/// the file does not start at 0 Hz, the out-of-band rule's value at 0 Hz
+/// (`dc_rule`, so the model's bias point follows that rule), fitted by
+/// [`fit`]; then passivity is enforced ([`enforce_passivity`]). The info's
+/// errors are measured at the file's points only; the DC deviation is
+/// [`Fitted::dc_error`].
+pub fn fit_network(
+    ports: usize,
+    freqs: &[f64],
+    y: &[Complex64],
+    dc_rule: &[f64],
+    params: &FitParams,
+) -> Result<Fitted, FitError> {
+    let n2 = ports * ports;
+    if dc_rule.len() != n2 || dc_rule.iter().any(|v| !v.is_finite()) {
+        return Err(FitError::BadData("no finite admittance at 0 Hz".into()));
+    }
+    let (mut fs, mut ys) = (Vec::with_capacity(freqs.len() + 1), Vec::new());
+    if freqs.first().is_some_and(|f| *f > 0.0) {
+        fs.push(0.0);
+        ys.extend(dc_rule.iter().map(|v| Complex64::new(*v, 0.0)));
+    }
+    fs.extend_from_slice(freqs);
+    ys.extend_from_slice(y);
+    let (model, mut info) = fit(ports, &fs, &ys, params)?;
+    let (pos_f, pos_y) = (&fs[fs.len() - freqs.len()..], &ys[ys.len() - y.len()..]);
+    let (model, passivity) = enforce_passivity(&model, pos_f, pos_y)?;
+    let (rms, worst, at) = fit_error(&model, pos_f, pos_y);
+    info.rms_error = rms;
+    info.worst_error = worst;
+    info.worst_at = pos_f[at];
+    let dc: Vec<f64> = model
+        .eval_s(Complex64::new(0.0, 0.0))
+        .iter()
+        .map(|v| v.re)
+        .collect();
+    let scale = pos_y
+        .chunks(n2)
+        .map(frobenius)
+        .fold(0.0, f64::max)
+        .max(f64::MIN_POSITIVE);
+    let dev: Vec<Complex64> = dc
+        .iter()
+        .zip(dc_rule)
+        .map(|(a, b)| Complex64::new(a - b, 0.0))
+        .collect();
+    let dc_error = frobenius(&dev) / scale;
+    if !(dc.iter().all(|v| v.is_finite()) && dc_error.is_finite()) {
+        return Err(FitError::Numerical {
+            order: info.order,
+            iteration: 0,
+            what: "the fitted model at 0 Hz",
+        });
+    }
+    Ok(Fitted {
+        model,
+        info,
+        passivity,
+        dc,
+        dc_rule: dc_rule.to_vec(),
+        dc_error,
+    })
+}
+
 /// The relative fit error of a model against samples: (rms, worst, index of worst).
 pub fn fit_error(model: &RationalModel, freqs: &[f64], y: &[Complex64]) -> (f64, f64, usize) {
     let n2 = model.ports * model.ports;
@@ -252,7 +350,7 @@ fn frobenius(m: &[Complex64]) -> f64 {
 }
 
 /// Fit a rational model to admittance samples: `freqs` (Hz, increasing,
-/// positive) and `ports²` entries per point in `y` (S, row order). Orders
+/// the first may be 0) and `ports²` entries per point in `y` (S, row order). Orders
 /// from `min_order` up grow by two until the target is met; the best fit
 /// tried is returned with its [`FitInfo`].
 pub fn fit(
@@ -264,34 +362,39 @@ pub fn fit(
     check(ports, freqs, y, params)?;
     let mut best: Option<(RationalModel, FitInfo)> = None;
     let mut tried = 0;
-    let mut order = params.min_order;
-    while order <= params.max_order {
-        let need = needed_points(order, params.proportional);
-        if freqs.len() < need {
-            break;
+    let tries: &[bool] = match params.proportional {
+        Proportional::Never => &[false],
+        Proportional::Always => &[true],
+        Proportional::IfNeeded => &[false, true],
+    };
+    'outer: for &prop in tries {
+        let mut order = params.min_order;
+        while order <= params.max_order {
+            if freqs.len() < needed_points(order, prop) {
+                break;
+            }
+            tried += 1;
+            let (model, iterations) = fit_order(ports, freqs, y, order, prop, params)?;
+            let (rms, worst, at) = fit_error(&model, freqs, y);
+            let info = FitInfo {
+                order,
+                iterations,
+                rms_error: rms,
+                worst_error: worst,
+                worst_at: freqs[at],
+                orders_tried: tried,
+            };
+            let better = best
+                .as_ref()
+                .is_none_or(|(_, b)| worst.is_finite() && worst < b.worst_error);
+            if better {
+                best = Some((model, info));
+            }
+            if worst <= params.target {
+                break 'outer;
+            }
+            order += 2;
         }
-        tried += 1;
-        let (model, iterations) = fit_order(ports, freqs, y, order, params)?;
-        let (rms, worst, at) = fit_error(&model, freqs, y);
-        let info = FitInfo {
-            order,
-            iterations,
-            rms_error: rms,
-            worst_error: worst,
-            worst_at: freqs[at],
-            orders_tried: tried,
-        };
-        let better = best
-            .as_ref()
-            .is_none_or(|(_, b)| worst.is_finite() && worst < b.worst_error);
-        let done = worst <= params.target;
-        if better {
-            best = Some((model, info));
-        }
-        if done {
-            break;
-        }
-        order += 2;
     }
     match best {
         Some((m, mut info)) => {
@@ -308,7 +411,7 @@ pub fn fit(
         None => Err(FitError::TooFewPoints {
             points: freqs.len(),
             order: params.min_order,
-            needed: needed_points(params.min_order, params.proportional),
+            needed: needed_points(params.min_order, false),
         }),
     }
 }
@@ -333,10 +436,13 @@ fn check(ports: usize, freqs: &[f64], y: &[Complex64], p: &FitParams) -> Result<
             freqs.len()
         )));
     }
-    if let Some(f) = freqs.iter().find(|f| !(f.is_finite() && **f > 0.0)) {
+    if let Some(f) = freqs.iter().find(|f| !(f.is_finite() && **f >= 0.0)) {
         return Err(FitError::BadData(format!(
-            "frequency {f} Hz (points must be above 0 Hz)"
+            "frequency {f} Hz (points must be at or above 0 Hz)"
         )));
+    }
+    if freqs.last().is_some_and(|f| *f <= 0.0) {
+        return Err(FitError::BadData("no point above 0 Hz".into()));
     }
     if freqs.windows(2).any(|w| w[1] <= w[0]) {
         return Err(FitError::BadData("frequencies not increasing".into()));
@@ -444,6 +550,7 @@ fn fit_order(
     freqs: &[f64],
     y: &[Complex64],
     order: usize,
+    proportional: bool,
     params: &FitParams,
 ) -> Result<(RationalModel, usize), FitError> {
     let n2 = ports * ports;
@@ -453,9 +560,11 @@ fn fit_order(
         .map(|f| Complex64::new(0.0, 2.0 * std::f64::consts::PI * f / top))
         .collect();
     let w = weights(ports, y, params.weighting);
-    let mut poles = starting_poles(order, s[0].im, 1.0);
+    // spread over the band of the points above 0 Hz
+    let lo = s.iter().map(|v| v.im).find(|w| *w > 0.0).unwrap_or(1.0);
+    let mut poles = starting_poles(order, lo, 1.0);
     let k = s.len();
-    let extra = 1 + usize::from(params.proportional);
+    let extra = 1 + usize::from(proportional);
     let mut phi = Vec::new();
     let mut iterations = 0;
     for it in 1..=params.iterations {
@@ -480,7 +589,7 @@ fn fit_order(
                     put(m + extra + c, -f * p);
                 }
                 put(m, Complex64::new(1.0, 0.0));
-                if params.proportional {
+                if proportional {
                     put(m + 1, *si);
                 }
                 b[2 * i] = wi * f.re;
@@ -553,13 +662,12 @@ fn fit_order(
             break;
         }
     }
-    let model = residues(ports, &s, y, &w, &poles, params.proportional, top).ok_or(
-        FitError::Numerical {
+    let model =
+        residues_psd(ports, &s, y, &w, &poles, proportional, top).ok_or(FitError::Numerical {
             order,
             iteration: 0,
             what: "the residues' least-squares problem",
-        },
-    )?;
+        })?;
     Ok((model, iterations))
 }
 
@@ -599,6 +707,76 @@ fn relocated(eig: impl Iterator<Item = Complex64>, m: usize) -> Vec<Pole> {
     }
     out.sort_by(|a, b| a.0.im.total_cmp(&b.0.im).then(a.0.re.total_cmp(&b.0.re)));
     out
+}
+
+/// [`residues`], with `E` made a capacitance matrix: symmetric and with no
+/// negative eigenvalue (a negative capacitance would make the time-domain
+/// model ill-posed, and an unsymmetric one is not passive at high
+/// frequency). If the least-squares `E` is not, it is replaced by its
+/// nearest such matrix and the residues and `D` are fitted again to the
+/// data less `s E`.
+fn residues_psd(
+    ports: usize,
+    s: &[Complex64],
+    y: &[Complex64],
+    w: &[f64],
+    poles: &[Pole],
+    proportional: bool,
+    top: f64,
+) -> Option<RationalModel> {
+    let m = residues(ports, s, y, w, poles, proportional, top)?;
+    if !proportional {
+        return Some(m);
+    }
+    let e = psd(&m.e);
+    let scale = m.e.iter().map(|v| v.abs()).fold(0.0, f64::max);
+    if e.iter()
+        .zip(&m.e)
+        .all(|(a, b)| (a - b).abs() <= 1e-12 * scale)
+    {
+        return Some(m);
+    }
+    let n2 = ports * ports;
+    // s is scaled (s / top) and E in farads: s·top·E.
+    let rest: Vec<Complex64> = y
+        .iter()
+        .enumerate()
+        .map(|(k, v)| v - s[k / n2] * top * e[k % n2])
+        .collect();
+    let mut m = residues(ports, s, &rest, w, poles, false, top)?;
+    m.e = e;
+    Some(m)
+}
+
+/// The nearest symmetric matrix with no negative eigenvalue to a 1×1 or
+/// 2×2 real matrix (row order).
+fn psd(e: &[f64]) -> Vec<f64> {
+    if e.len() == 1 {
+        return vec![e[0].max(0.0)];
+    }
+    let (a, b, c) = (e[0], 0.5 * (e[1] + e[2]), e[3]);
+    let h = 0.5 * (a - c);
+    let r = (h * h + b * b).sqrt();
+    let (l1, l2) = (0.5 * (a + c) + r, 0.5 * (a + c) - r);
+    if l2 >= 0.0 {
+        return vec![a, b, b, c];
+    }
+    if l1 <= 0.0 {
+        return vec![0.0; 4];
+    }
+    // keep the non-negative eigenvalue's part: l1 v vᵀ
+    let (vx, vy) = if r > 0.0 {
+        let (x, y) = (b, l1 - a);
+        let n = (x * x + y * y).sqrt();
+        if n > 0.0 {
+            (x / n, y / n)
+        } else {
+            (1.0, 0.0)
+        }
+    } else {
+        (1.0, 0.0)
+    };
+    vec![l1 * vx * vx, l1 * vx * vy, l1 * vx * vy, l1 * vy * vy]
 }
 
 /// The residues, `D` (and `E`) on fixed poles, by least squares per entry;
@@ -727,6 +905,65 @@ mod tests {
     }
 
     #[test]
+    fn an_antenna_with_feed_capacitance_needs_and_gets_s_e() {
+        // The invented antenna of netlists/measured/make_antenna.py: series
+        // R-L-C with a shunt capacitance Cf, Y = sCf + 1/(R + sL + 1/(sC)),
+        // exactly one pole pair, D = 0, E = Cf.
+        let (r, l, c, cf): (f64, f64, f64, f64) = (42.0, 3.1e-6, 162e-12, 10e-12);
+        let f: Vec<f64> = (0..399).map(|i| 1e6 + 0.5e6 * i as f64).collect();
+        let y: Vec<Complex64> = f
+            .iter()
+            .map(|&f| {
+                let s = Complex64::new(0.0, 2.0 * PI * f);
+                s * cf + (s * l + r + (s * c).inv()).inv()
+            })
+            .collect();
+        let (m, info) = fit(1, &f, &y, &FitParams::default()).unwrap();
+        let a = -r / (2.0 * l);
+        let exact = Complex64::new(a, (1.0 / (l * c) - a * a).sqrt());
+        // Exact data: the only error is rounding (1e-6 is the bound).
+        assert_eq!(m.order(), 2, "{info:?}");
+        assert!((m.terms[0].pole - exact).norm() / exact.norm() < 1e-6);
+        assert!((m.e[0] - cf).abs() < 1e-6 * cf);
+        assert!(m.d[0].abs() < 1e-9);
+        // Without the proportional term no order up to the maximum fits it.
+        let never = FitParams {
+            proportional: Proportional::Never,
+            ..FitParams::default()
+        };
+        assert!(fit(1, &f, &y, &never).unwrap().1.worst_error > 0.1);
+    }
+
+    #[test]
+    fn a_negative_capacitance_is_not_kept() {
+        // Data with a falling susceptance term −sC0 (not a passive
+        // capacitance): E is clamped to zero and the rest refitted.
+        let f: Vec<f64> = (0..100).map(|i| 1e6 + 1e5 * i as f64).collect();
+        let y: Vec<Complex64> = f
+            .iter()
+            .map(|&f| {
+                let s = Complex64::new(0.0, 2.0 * PI * f);
+                0.02 - s * 1e-12
+            })
+            .collect();
+        let p = FitParams {
+            proportional: Proportional::Always,
+            min_order: 2,
+            max_order: 2,
+            ..FitParams::default()
+        };
+        let (m, _) = fit(1, &f, &y, &p).unwrap();
+        assert!(m.e[0] >= 0.0);
+        assert_eq!(psd(&[1.0, 2.0, 2.0, 1.0]).len(), 4);
+        // [[1, 2],[2, 1]] has eigenvalues 3 and −1; its nearest PSD matrix
+        // is 3·vvᵀ with v = (1, 1)/√2.
+        let q = psd(&[1.0, 2.0, 2.0, 1.0]);
+        for v in q {
+            assert!((v - 1.5).abs() < 1e-12);
+        }
+    }
+
+    #[test]
     fn a_two_port_with_shared_poles_is_recovered() {
         // Y = Σ R_m/(s − p_m) + D, three pairs and one real pole, symmetric
         // residues (a reciprocal network), invented values.
@@ -763,6 +1000,7 @@ mod tests {
         let p = FitParams {
             min_order: 7,
             max_order: 7,
+            proportional: Proportional::Never,
             ..FitParams::default()
         };
         let (m, info) = fit(2, &f, &y, &p).unwrap();
@@ -840,7 +1078,11 @@ mod tests {
         };
         assert!(matches!(fit(1, &f, &y, &big), Err(FitError::BadParams(_))));
         assert!(matches!(
-            fit(1, &[0.0, 1.0, 2.0], &y, &p),
+            fit(1, &[-1.0, 1.0, 2.0], &y, &p),
+            Err(FitError::BadData(_))
+        ));
+        assert!(matches!(
+            fit(1, &[1.0, 1.0, 2.0], &y, &p),
             Err(FitError::BadData(_))
         ));
         // Constant data, enough points: fitted exactly by D.
