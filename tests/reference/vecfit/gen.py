@@ -23,6 +23,16 @@ circuit theory (transmission-line and lumped formulas; common practice):
           each S entry: a rational network (two pole pairs, the 20 pF as
           the proportional term) whose poles the fits must find.
 
+And one file for a stage test (crates/solve/tests/measured_stage.rs), not
+fitted here:
+
+  lp5     the 5-pole low-pass ladder of netlists/measured/antenna-7m1.tank
+          (shunt 365 pF, series 1.091 uH, shunt 629 pF, series 1.091 uH,
+          shunt 365 pF) with each inductor's loss as a series resistance
+          2 pi 7 MHz L / 200 (its q=200 at the stage's 7.0 MHz), as a
+          two-port from 0 Hz to 200 MHz in 0.5 MHz steps; from ABCD
+          matrices (cascade of shunt and series elements, textbook).
+
 Each network is written as a Touchstone 1.1 file by scikit-rf (S, RI,
 50 ohm), read back, and fitted by scikit-rf's VectorFitting on its
 admittance (parameter_type='y') with the stated number of complex pole
@@ -83,6 +93,34 @@ def bp2n():
     return f, skrf.network.s2y(s * (1 + noise), z0=Z0)
 
 
+def lp5():
+    f = np.arange(401) * 0.5e6
+    s_ = 2j * np.pi * f
+    r = 2 * np.pi * 7e6 * 1.091e-6 / 200
+    one = np.ones_like(s_)
+    zero = np.zeros_like(s_)
+
+    def shunt(c):
+        return np.array([[one, zero], [s_ * c, one]])
+
+    def series(l):
+        return np.array([[one, r + s_ * l], [zero, one]])
+
+    m = None
+    for e in [shunt(365e-12), series(1.091e-6), shunt(629e-12), series(1.091e-6), shunt(365e-12)]:
+        e = np.moveaxis(e, -1, 0)
+        m = e if m is None else m @ e
+    a, b, c, d = m[:, 0, 0], m[:, 0, 1], m[:, 1, 0], m[:, 1, 1]
+    # Y from ABCD (textbook): Y11 = D/B, Y12 = (BC - AD)/B, Y21 = -1/B, Y22 = A/B
+    y = np.stack([np.stack([d / b, (b * c - a * d) / b], -1), np.stack([-1 / b, a / b], -1)], -2)
+    sp = skrf.network.y2s(y, z0=Z0)
+    n = skrf.Network(frequency=skrf.Frequency.from_f(f, unit="hz"), s=sp, z0=Z0)
+    n.frequency.unit = "mhz"
+    n.write_touchstone(filename="lp5", dir=HERE, form="ri", r_ref=Z0, skrf_comment=False, write_noise=False)
+    back = skrf.Network(os.path.join(HERE, "lp5.s2p"))
+    assert np.allclose(back.s, sp, rtol=1e-12, atol=1e-14)
+
+
 def write(name, f, y, pairs, proportional=False):
     s = skrf.network.y2s(y, z0=Z0)
     n = skrf.Network(frequency=skrf.Frequency.from_f(f, unit="hz"), s=s, z0=Z0)
@@ -138,3 +176,4 @@ if __name__ == "__main__":
     write("feed1", *feed1(), pairs=5)
     write("line2", *line2(), pairs=6)
     write("bp2n", *bp2n(), pairs=2, proportional=True)
+    lp5()
