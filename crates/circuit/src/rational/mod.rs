@@ -51,6 +51,35 @@ pub use passive::{enforce as enforce_passivity, PassivityInfo};
 pub const MAX_ORDER: usize = 40;
 /// The most relocation iterations a fit may run.
 pub const MAX_ITERATIONS: usize = 50;
+/// The most points the least-squares problems use (untrusted input: a
+/// file may hold 100 000 points). A longer file is thinned to this many,
+/// evenly by index with both ends kept; the fit error is still measured
+/// at every point of the file.
+pub const MAX_FIT_POINTS: usize = 1000;
+
+/// Every point, or `max` of them evenly by index (both ends kept).
+pub(crate) fn thin(
+    ports: usize,
+    freqs: &[f64],
+    y: &[Complex64],
+    max: usize,
+) -> (Vec<f64>, Vec<Complex64>) {
+    let n2 = ports * ports;
+    let k = freqs.len();
+    if k <= max || max < 2 {
+        return (freqs.to_vec(), y.to_vec());
+    }
+    let mut idx: Vec<usize> = (0..max)
+        .map(|i| ((i as f64) * (k - 1) as f64 / (max - 1) as f64).round() as usize)
+        .collect();
+    idx.dedup();
+    let f = idx.iter().map(|&i| freqs[i]).collect();
+    let v = idx
+        .iter()
+        .flat_map(|&i| y[i * n2..(i + 1) * n2].iter().copied())
+        .collect();
+    (f, v)
+}
 
 /// How the points are weighted in the least-squares problems.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -360,6 +389,7 @@ pub fn fit(
     params: &FitParams,
 ) -> Result<(RationalModel, FitInfo), FitError> {
     check(ports, freqs, y, params)?;
+    let (tf, ty) = thin(ports, freqs, y, MAX_FIT_POINTS);
     let mut best: Option<(RationalModel, FitInfo)> = None;
     let mut tried = 0;
     let tries: &[bool] = match params.proportional {
@@ -374,7 +404,7 @@ pub fn fit(
                 break;
             }
             tried += 1;
-            let (model, iterations) = fit_order(ports, freqs, y, order, prop, params)?;
+            let (model, iterations) = fit_order(ports, &tf, &ty, order, prop, params)?;
             let (rms, worst, at) = fit_error(&model, freqs, y);
             let info = FitInfo {
                 order,

@@ -8,7 +8,8 @@
 //! points, and a non-passive model can make a time-domain solution grow
 //! without bound, so the fit is checked and, where needed, corrected.
 //!
-//! **Check.** `G` is evaluated on a dense grid: 0 Hz, a logarithmic sweep
+//! **Check.** (With at most [`super::MAX_FIT_POINTS`] of the file's points,
+//! thinned evenly.) `G` is evaluated on a dense grid: 0 Hz, a logarithmic sweep
 //! from a thousandth of the file's first frequency to a thousand times its
 //! last, the file's points and the midpoints between them, and points
 //! around every pole's resonance (`|Im p| / 2π` ± its bandwidth); each grid
@@ -239,6 +240,11 @@ pub fn enforce(
     let tol = -ROUNDING * scale;
     let margin = 1e-7 * scale;
     let error_before = fit_error(model, freqs, y).1;
+    // the check grid and the correction use at most MAX_FIT_POINTS of the
+    // file's points (the errors are measured at all of them)
+    let (all_f, all_y) = (freqs, y);
+    let (freqs, y) = super::thin(model.ports, freqs, y, super::MAX_FIT_POINTS);
+    let (freqs, y) = (&freqs[..], &y[..]);
     let first = violations(model, freqs, tol);
     let (worst_before, worst_before_at) = first
         .iter()
@@ -270,7 +276,7 @@ pub fn enforce(
         .chain(&[f64::INFINITY])
         .map(|f| lambda_at(&m, *f))
         .fold(f64::INFINITY, f64::min);
-    let error_after = fit_error(&m, freqs, y).1;
+    let error_after = fit_error(&m, all_f, all_y).1;
     let worst_before = if worst_before.is_finite() {
         worst_before
     } else {
