@@ -25,6 +25,7 @@ pub mod models;
 pub mod options;
 pub mod outline;
 pub mod param_units;
+pub mod rational;
 pub mod si;
 pub mod source;
 mod topology;

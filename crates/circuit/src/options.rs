@@ -312,6 +312,20 @@ pub mod element {
         Default::Absent,
         "terminate every port in this resistance at a frequency the file does not cover",
     );
+    /// `fit_error=` of a measured network: the bound on its time-domain fit.
+    pub const FIT_ERROR: OptionSpec = opt(
+        "fit_error",
+        Takes::Value(Slot::Fraction, Range::Positive),
+        Default::Number(0.01),
+        "the worst relative error the time-domain model may have at the file's points (an error at lint otherwise)",
+    );
+    /// `fit_poles=` of a measured network: the most poles of its time-domain fit.
+    pub const FIT_POLES: OptionSpec = opt(
+        "fit_poles",
+        Takes::Count(1),
+        Default::Number(20.0),
+        "the most poles the time-domain model may use (at most 40)",
+    );
 
     /// The options of each element kind, by keyword.
     pub const ALL: &[(&str, &[OptionSpec])] = &[
@@ -326,7 +340,7 @@ pub mod element {
         ("current", &[CURRENT_DC, WAVE]),
         ("diode", &[PART, AREA]),
         ("bjt", &[COLLECTOR, BASE, EMITTER, PART, AREA]),
-        ("measured", &[OUTSIDE, OUTSIDE_R]),
+        ("measured", &[OUTSIDE, OUTSIDE_R, FIT_ERROR, FIT_POLES]),
     ];
 
     /// The options of an element kind (empty for an unknown kind).

@@ -730,6 +730,9 @@ pub struct MeasuredNetwork {
     pub y: Vec<Complex64>,
     /// What holds outside `freqs`.
     pub outside: Outside,
+    /// The fitted rational model the time-domain analyses use (made at
+    /// elaboration when the file asks for one; `None` otherwise).
+    pub fit: Option<std::sync::Arc<crate::rational::Fitted>>,
 }
 
 impl MeasuredNetwork {
@@ -745,7 +748,19 @@ impl MeasuredNetwork {
             freqs: net.freqs.clone(),
             y,
             outside,
+            fit: None,
         })
+    }
+
+    /// The admittance the element has at 0 Hz (its bias point), S, row
+    /// order: the fitted model's when it has one (the time-domain model
+    /// is used at every frequency its analyses reach, DC included), else
+    /// the real part of the out-of-band rule's (or the file's) value.
+    pub fn dc_admittance(&self) -> Option<Vec<f64>> {
+        if let Some(f) = &self.fit {
+            return Some(f.dc.clone());
+        }
+        Some(self.admittance(0.0)?.iter().map(|v| v.re).collect())
     }
 
     /// True if `f` lies within the file's band (first to last point).

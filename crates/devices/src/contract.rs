@@ -180,9 +180,16 @@ pub trait Device: Send + Sync + std::fmt::Debug {
     fn frequency_admittance(&self, _f: f64) -> Option<Vec<(usize, usize, num_complex::Complex64)>> {
         Some(Vec::new())
     }
-    /// True for an element known only over frequency (a measured network):
-    /// time-domain analyses (transient, shooting, settle) refuse it.
+    /// True for an element known exactly only over frequency (a measured
+    /// network): time-domain analyses (transient, shooting, settle) refuse
+    /// it unless it has a [`Device::time_model`].
     fn frequency_domain(&self) -> bool {
+        false
+    }
+    /// True for an element known over frequency that also carries a
+    /// time-domain model (a measured network's fitted rational model),
+    /// which time-domain analyses use in its place.
+    fn time_model(&self) -> bool {
         false
     }
 }

@@ -29,6 +29,7 @@ pub mod assemble;
 pub mod batch;
 pub mod check;
 pub mod files;
+pub mod fitted;
 pub mod format;
 pub mod heat;
 pub mod html;

@@ -703,8 +703,8 @@ pub fn time_domain_refused(circuit: &Circuit, e: tankwave_circuit::ElementId) ->
         .map(|x| x.name.as_str())
         .unwrap_or("?");
     SolveError::BadParams(format!(
-        "measured network '{name}' needs its fitted model; not yet supported in time-domain \
-         analyses (use AC or harmonic balance)"
+        "measured network '{name}' has no fitted time-domain model (it is made when the \
+         stage file asks for a transient, shooting or settle; use AC or harmonic balance)"
     ))
 }
 
@@ -727,7 +727,11 @@ pub fn transient_observed(
     params: &TransientParams,
     progress: &(dyn Fn(f64) + Sync),
 ) -> Result<TransientResult, SolveError> {
-    if let Some(d) = devices.devices.iter().find(|d| d.frequency_domain()) {
+    if let Some(d) = devices
+        .devices
+        .iter()
+        .find(|d| d.frequency_domain() && !d.time_model())
+    {
         return Err(time_domain_refused(circuit, d.element()));
     }
     let p = params;

@@ -2,7 +2,8 @@
 //! by scikit-rf: tests/reference/touchstone/gen.py, docs/check-values.md
 //! "Touchstone files") against the same network built from a resistor, an
 //! inductor and a capacitor: the same AC response and the same
-//! harmonic-balance steady state.
+//! harmonic-balance steady state; with its fitted model, the same shooting
+//! steady state.
 //!
 //! The network: R = 20 Ω in series with L = 1.2 µH, that in parallel with
 //! C = 150 pF. Its DC resistance is R, so `outside_r=20Ohm` makes the
@@ -158,7 +159,9 @@ fn harmonic_balance_equals_the_rlc() {
 }
 
 #[test]
-fn time_domain_analyses_refuse_a_measured_network() {
+fn time_domain_analyses_refuse_a_measured_network_without_its_fit() {
+    // The file asks for no time-domain analysis, so elaboration made no
+    // fitted model: the solver refuses the time-domain methods.
     let (c, d) = stage(&measured("rlc1g_ri_v1.s1p"), "resistor rin in load 1Ohm\n");
     let p = SteadyParams {
         freq: 2e6,
@@ -167,9 +170,80 @@ fn time_domain_analyses_refuse_a_measured_network() {
         ..SteadyParams::default()
     };
     let e = steady(&c, &d, &p).unwrap_err().to_string();
-    assert!(e.contains("not yet supported in time-domain"), "{e}");
+    assert!(e.contains("has no fitted time-domain model"), "{e}");
     let e = transient(&c, &d, &TransientParams::default())
         .unwrap_err()
         .to_string();
-    assert!(e.contains("not yet supported in time-domain"), "{e}");
+    assert!(e.contains("has no fitted time-domain model"), "{e}");
+}
+
+#[test]
+fn shooting_with_the_fitted_model_equals_the_rlc() {
+    // The same diode clipper, solved by shooting. The file's network is
+    // exactly rational (Y = sC + 1/(R + sL): one real pole −R/L, E = C)
+    // and its DC rule (outside_r=20Ohm) is its exact DC value, so vector
+    // fitting recovers it to rounding and the measured element's states
+    // are a linear change of variables of the R–L–C's own unknowns; the
+    // integration rule is invariant under such a change, so both circuits
+    // follow the same discrete equations. Both are solved to shooting's
+    // tolerance (1e-7 of each unknown's scale); 1e-5 of the peak voltage
+    // leaves room for that and the file's 17 digits.
+    let sh = "analyze steady freq=2MHz harmonics=16 method=shooting\n";
+    let diode = "diode d1 in load part=dm\n";
+    let (cm, dm) = stage(&measured("rlc1g_ri_v1.s1p"), &format!("{sh}{diode}"));
+    let (cr, dr) = stage(RLC, &format!("{sh}{diode}"));
+    let fit = cm
+        .elements
+        .iter()
+        .find_map(|e| match &e.kind {
+            tankwave_circuit::ElementKind::Measured { network, .. } => network.fit.clone(),
+            _ => None,
+        })
+        .expect("a fitted model for the time-domain analysis");
+    // The data are exact: the fit's error is rounding (far below 1e-9).
+    assert!(fit.info.worst_error < 1e-9, "{:?}", fit.info);
+    assert!(fit.dc_error < 1e-9, "{}", fit.dc_error);
+    let p = SteadyParams {
+        freq: 2e6,
+        harmonics: 16,
+        method: SteadyMethod::Shooting,
+        ..SteadyParams::default()
+    };
+    let sm = steady(&cm, &dm, &p).unwrap();
+    let sr = steady(&cr, &dr, &p).unwrap();
+    let (km, kr) = (node(&cm, "load"), node(&cr, "load"));
+    let peak = sr.x[kr].iter().fold(0.0f64, |a, v| a.max(v.abs()));
+    assert!(peak > 1.0, "the clipper drives the load: {peak} V");
+    for (s, (a, b)) in sm.x[km].iter().zip(&sr.x[kr]).enumerate() {
+        assert!((a - b).abs() <= 1e-5 * peak, "sample {s}: {a} V vs {b} V");
+    }
+    // Verified like any orbit: the Floquet check ran on the fitted model.
+    assert!(sm.info.floquet.is_some());
+}
+
+#[test]
+fn harmonic_balance_with_a_fitted_element_still_uses_the_file() {
+    // With a time-domain analysis in the file the element carries its
+    // fitted model, yet harmonic balance adds Y(f) − Y_fit(f) at every
+    // harmonic: it solves the same equations as without the fit, so both
+    // agree to the balance's tolerance (1e-6 of the peak, as above).
+    let hb = "analyze steady freq=2MHz harmonics=16 method=balance\n";
+    let tr = "analyze transient stop=1us step=10ns\n";
+    let diode = "diode d1 in load part=dm\n";
+    let (ca, da) = stage(&measured("rlc1_ri_v1.s1p"), &format!("{hb}{diode}"));
+    let (cb, db) = stage(&measured("rlc1_ri_v1.s1p"), &format!("{hb}{tr}{diode}"));
+    let mut p = SteadyParams {
+        freq: 2e6,
+        harmonics: 16,
+        method: SteadyMethod::Balance,
+        ..SteadyParams::default()
+    };
+    p.balance.raise_harmonics = false;
+    let sa = steady(&ca, &da, &p).unwrap();
+    let sb = steady(&cb, &db, &p).unwrap();
+    let k = node(&ca, "load");
+    let peak = sa.x[k].iter().fold(0.0f64, |a, v| a.max(v.abs()));
+    for (a, b) in sa.x[k].iter().zip(&sb.x[k]) {
+        assert!((a - b).abs() <= 1e-6 * peak, "{a} V vs {b} V");
+    }
 }

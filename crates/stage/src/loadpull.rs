@@ -263,6 +263,7 @@ pub fn with_fundamental_admittance(
                 freqs: vec![freq],
                 y: vec![y_add],
                 outside: Outside::Open,
+                fit: None,
             }),
         },
         origin,

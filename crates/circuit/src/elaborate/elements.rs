@@ -241,29 +241,90 @@ impl<'a> Cx<'a> {
                 return None;
             }
         }
-        for a in analyses {
-            let time_domain = match a {
-                Analysis::Transient { .. } => Some("a transient"),
-                Analysis::Steady {
-                    method: SteadyMethod::Shooting,
-                    ..
-                } => Some("shooting"),
-                Analysis::Steady {
-                    method: SteadyMethod::Settle,
-                    ..
-                } => Some("settle"),
-                _ => None,
-            };
-            if let Some(what) = time_domain {
+        let time_domain = analyses.iter().any(|a| {
+            matches!(
+                a,
+                Analysis::Transient { .. }
+                    | Analysis::Steady {
+                        method: SteadyMethod::Shooting | SteadyMethod::Settle,
+                        ..
+                    }
+            )
+        });
+        let mut network = network;
+        if time_domain {
+            let bound = self.opt_value(&m, &o::FIT_ERROR, "fit_error")?;
+            let poles = self.opt_count(&m, &o::FIT_POLES)?;
+            let bound = bound.unwrap_or(0.01);
+            let poles = poles.unwrap_or(20) as usize;
+            let max = crate::rational::MAX_ORDER;
+            if poles > max {
+                let sp = m
+                    .get(o::FIT_POLES.name)
+                    .map(|o| o.key.span)
+                    .unwrap_or(e.name.span);
                 self.error(
-                    "time-domain",
-                    e.name.span,
-                    format!(
-                        "{ctx}: {what} needs the fitted time-domain model of a measured network; not yet supported in time-domain analyses"
-                    ),
-                )
-                .help = Some("use AC and 'analyze steady method=balance' (harmonic balance)".into());
+                    "bad-value",
+                    sp,
+                    format!("{ctx}: fit_poles={poles} is more than {max}"),
+                );
                 return None;
+            }
+            let params = crate::rational::FitParams {
+                min_order: 2.min(poles),
+                max_order: poles,
+                target: bound,
+                ..Default::default()
+            };
+            let dc = network
+                .admittance(0.0)
+                .map(|v| v.iter().map(|y| y.re).collect::<Vec<_>>());
+            let fitted = dc
+                .ok_or_else(|| crate::rational::FitError::BadData("no value at 0 Hz".into()))
+                .and_then(|dc| {
+                    crate::rational::fit_network(
+                        network.ports,
+                        &network.freqs,
+                        &network.y,
+                        &dc,
+                        &params,
+                    )
+                });
+            match fitted {
+                Ok(f) => {
+                    let worst = f.info.worst_error.max(f.dc_error);
+                    if worst > bound {
+                        let at = if f.dc_error > f.info.worst_error {
+                            "at 0 Hz (against its out-of-band rule)".to_string()
+                        } else {
+                            format!("at {}", crate::si::si_prefixed(f.info.worst_at, "Hz", 6))
+                        };
+                        self.error(
+                            "fit",
+                            file.span,
+                            format!(
+                                "{ctx}: its time-domain model ({} poles) is off by {} {at}, more than fit_error={}",
+                                f.info.order,
+                                crate::si::percent(worst),
+                                crate::si::percent(bound)
+                            ),
+                        )
+                        .help = Some(
+                            "allow more poles (fit_poles=, at most 40), a larger fit_error=, or use harmonic balance, which uses the file exactly".into(),
+                        );
+                        return None;
+                    }
+                    network.fit = Some(std::sync::Arc::new(f));
+                }
+                Err(err) => {
+                    self.error(
+                        "fit",
+                        file.span,
+                        format!("{ctx}: no time-domain model could be fitted: {err}"),
+                    )
+                    .help = Some("use harmonic balance, which uses the file exactly".into());
+                    return None;
+                }
             }
         }
         let mut t = e.nodes.iter().map(|n| self.node(&n.name));

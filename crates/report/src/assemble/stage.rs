@@ -227,6 +227,11 @@ pub fn results_text(file: &str, c: &Circuit, r: &StageResults, verbose: bool) ->
         s.push_str(&text::op_text(c, op));
         s.push('\n');
     }
+    let fits = crate::fitted::fits_text(c);
+    if !fits.is_empty() {
+        s.push_str(&fits);
+        s.push('\n');
+    }
     for t in &r.transients {
         s.push_str(&text::transient_text(t));
     }
@@ -337,6 +342,10 @@ pub fn results_json(tool: &str, file: &str, c: &Circuit, r: &StageResults) -> Va
                     .collect(),
             );
         }
+    }
+    // only with a fitted measured network: other documents keep their shape
+    if let (Some(f), Some(o)) = (crate::fitted::fits_json(c), doc.as_object_mut()) {
+        o.insert("measured_fits".into(), f);
     }
     // present only with `analyze heat` (documents without it are unchanged)
     if let (Some(h), Some(o)) = (&r.heat, doc.as_object_mut()) {

@@ -2287,7 +2287,8 @@ fn currents(
 /// The terminal currents of every measured network, from its admittance at
 /// each harmonic: `I_i,k = Σ_j Y_ij(k·f0) V_j,k` into the positive terminal
 /// of port `i` (and out of its negative one), `V_j,k` the harmonic `k` of
-/// port `j`'s voltage; `Re Y(0)` at `k = 0`, as the element's DC stamp.
+/// port `j`'s voltage; at `k = 0` the element's DC stamp
+/// ([`tankwave_circuit::touchstone::MeasuredNetwork::dc_admittance`]).
 fn measured_currents(
     circuit: &Circuit,
     freq: f64,
@@ -2308,15 +2309,20 @@ fn measured_currents(
         let mut coef = vec![vec![ZERO; sol.kmax + 1]; np];
         for (k, row) in sol.x_full.iter().enumerate().take(sol.kmax + 1) {
             let f = k as f64 * freq;
-            let Some(mut y) = network.admittance(f) else {
+            // at 0 Hz the element's own DC stamp (its fitted model's, if any)
+            let y = if k == 0 {
+                network
+                    .dc_admittance()
+                    .map(|v| v.into_iter().map(|g| C64::new(g, 0.0)).collect::<Vec<_>>())
+            } else {
+                network.admittance(f)
+            };
+            let Some(y) = y else {
                 return Err(SolveError::BadParams(format!(
                     "harmonic balance: measured network '{}' is not defined at {f:.6e} Hz",
                     el.name
                 )));
             };
-            if k == 0 {
-                y.iter_mut().for_each(|v| v.im = 0.0);
-            }
             let v: Vec<C64> = ports
                 .iter()
                 .map(|(p, n)| volt(row, *p) - volt(row, *n))

@@ -341,16 +341,24 @@ pub fn steady(
     params: &SteadyParams,
 ) -> Result<PeriodicSolution, SolveError> {
     params.check()?;
-    // A measured network is known only over frequency: harmonic balance
-    // uses it exactly; the time-domain methods, and the Floquet check,
-    // which integrates in time, would need its fitted model.
-    if let Some(d) = devices.devices.iter().find(|d| d.frequency_domain()) {
-        return match params.method {
-            SteadyMethod::Balance | SteadyMethod::Auto => balance(circuit, devices, params),
+    // A measured network is known exactly only over frequency: harmonic
+    // balance (and auto, which picks it) uses it exactly, without the
+    // Floquet check, which integrates in time; shooting and settle use its
+    // fitted model (made at elaboration when the file asks for them) and
+    // are verified as usual.
+    if devices.devices.iter().any(|d| d.frequency_domain()) {
+        match params.method {
+            SteadyMethod::Balance | SteadyMethod::Auto => return balance(circuit, devices, params),
             SteadyMethod::Shooting | SteadyMethod::Settle => {
-                Err(crate::transient::time_domain_refused(circuit, d.element()))
+                if let Some(d) = devices
+                    .devices
+                    .iter()
+                    .find(|d| d.frequency_domain() && !d.time_model())
+                {
+                    return Err(crate::transient::time_domain_refused(circuit, d.element()));
+                }
             }
-        };
+        }
     }
     // Every orbit is verified before it is accepted (floquet).
     let verify = |s| floquet::verify(circuit, devices, params, s);

@@ -19,7 +19,11 @@ pub fn settle(
     params: &SteadyParams,
 ) -> Result<PeriodicSolution, SolveError> {
     params.check()?;
-    if let Some(d) = devices.devices.iter().find(|d| d.frequency_domain()) {
+    if let Some(d) = devices
+        .devices
+        .iter()
+        .find(|d| d.frequency_domain() && !d.time_model())
+    {
         return Err(crate::transient::time_domain_refused(circuit, d.element()));
     }
     let n = devices.n_unknowns;

@@ -585,7 +585,11 @@ pub(crate) fn shooting_with_final(
     params: &SteadyParams,
 ) -> Result<(PeriodicSolution, FinalPeriod), SolveError> {
     params.check()?;
-    if let Some(d) = devices.devices.iter().find(|d| d.frequency_domain()) {
+    if let Some(d) = devices
+        .devices
+        .iter()
+        .find(|d| d.frequency_domain() && !d.time_model())
+    {
         return Err(crate::transient::time_domain_refused(circuit, d.element()));
     }
     let n = devices.n_unknowns;
