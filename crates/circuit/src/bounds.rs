@@ -314,6 +314,19 @@ pub(crate) fn analysis(
                 ));
             }
         }
+        Analysis::Keying(k) => {
+            let period = k.pattern.units().len() as f64 * k.unit;
+            let steps = k.cycles as f64 * period / k.slow_step();
+            if steps > LIMITS.max_slow_steps {
+                out.push(too_many(
+                    map,
+                    at("step"),
+                    "slow-time steps of a keying (cycles × pattern period / step)",
+                    steps,
+                    LIMITS.max_slow_steps,
+                ));
+            }
+        }
         Analysis::TwoTone {
             levels, spacings, ..
         } => {
@@ -438,6 +451,16 @@ pub fn analysis_bytes(c: &Circuit, a: &Analysis) -> f64 {
         Analysis::LoadPull(p) => dense + 64.0 * (p.points * p.points) as f64,
         // one steady state at a time, a small thermal network and its samples
         Analysis::Heat(_) => dense,
+        // one slow step's balance at a time (as a steady state of
+        // KEYING_HARMONICS), and the kept samples of the output phasor
+        Analysis::Keying(k) => {
+            let kk = crate::keying::KEYING_HARMONICS as f64;
+            let balance = 2.0 * 8.0 * (ports * (2.0 * kk + 1.0)).powi(2) + 2.0 * dense * (kk + 1.0);
+            let period = k.pattern.units().len() as f64 * k.unit;
+            balance
+                + 16.0 * u * (kk + 1.0) * crate::keying::KEPT_SAMPLES as f64
+                + 32.0 * k.cycles as f64 * period / k.slow_step()
+        }
         // one drive level at a time: the reduced network per mixing product
         // (p² complex entries each), a GMRES basis of 64 vectors of the real
         // system, and the dense matrices of the operating point

@@ -238,6 +238,41 @@ macro_rules! figure_catalogue {
                 label: "peak envelope power of a two-tone test",
                 about: Stage(|m| Ok(m.two_tone.as_ref().ok_or("pep")?.pep_w)),
             },
+            KeyRise {
+                word: Some("key_rise"),
+                record: None,
+                unit: Second,
+                label: "10–90 % rise time of the keyed output envelope",
+                about: Stage(|m| m.keying.as_ref().ok_or("key_rise")?.rise_s.ok_or("key_rise")),
+            },
+            KeyFall {
+                word: Some("key_fall"),
+                record: None,
+                unit: Second,
+                label: "90–10 % fall time of the keyed output envelope",
+                about: Stage(|m| m.keying.as_ref().ok_or("key_fall")?.fall_s.ok_or("key_fall")),
+            },
+            KeyOvershoot {
+                word: Some("key_overshoot"),
+                record: None,
+                unit: Fraction,
+                label: "overshoot of the keyed output envelope over key-down",
+                about: Stage(|m| m.keying.as_ref().ok_or("key_overshoot")?.overshoot.ok_or("key_overshoot")),
+            },
+            OccupiedBw {
+                word: Some("occupied_bw"),
+                record: None,
+                unit: Hertz,
+                label: "occupied bandwidth (99 % of the power) of the keyed output",
+                about: Stage(|m| m.keying.as_ref().ok_or("occupied_bw")?.occupied_bw_hz.ok_or("occupied_bw")),
+            },
+            Sidebands {
+                word: Some("sidebands"),
+                record: None,
+                unit: Dbc,
+                label: "every keying sideband against a mask",
+                about: SidebandMask,
+            },
         }
     };
 }
@@ -253,6 +288,8 @@ pub enum About {
     Harmonic,
     /// Every harmonic against a mask.
     Mask,
+    /// Every keying sideband against a mask's `offset` rules.
+    SidebandMask,
     /// The fraction of a rating used, per rated resistor, capacitor or inductor.
     RatedPart,
 }
@@ -332,6 +369,18 @@ macro_rules! declare_figures {
 figure_catalogue!(declare_figures);
 
 impl Figure {
+    /// Whether the figure is measured on an `analyze keying`.
+    pub fn is_keying(self) -> bool {
+        matches!(
+            self,
+            Figure::KeyRise
+                | Figure::KeyFall
+                | Figure::KeyOvershoot
+                | Figure::OccupiedBw
+                | Figure::Sidebands
+        )
+    }
+
     /// The figure a `require` names by `word`.
     pub fn from_word(word: &str) -> Option<Figure> {
         Figure::ALL.iter().copied().find(|f| f.word() == Some(word))

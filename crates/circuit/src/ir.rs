@@ -818,6 +818,12 @@ pub enum Analysis {
     /// terminations held at those of its own network (docs/analyses.md,
     /// "Load-pull").
     LoadPull(LoadPullSpec),
+    /// `analyze keying wpm=N|baud=B [pattern=dots|paris] [shape=…] [rise=s]
+    /// [fall=s] [source=NAME] [cycles=N] [step=s] [rbw=Hz] [span=Hz]
+    /// [k_factor=K]`: a source's sine keyed on and off, the envelope
+    /// followed through the stage, key-click sidebands measured
+    /// (docs/analyses.md, "Keying").
+    Keying(crate::keying::KeyingSpec),
 }
 
 /// What `analyze loadpull` asks for.
@@ -868,6 +874,7 @@ impl Analysis {
             Analysis::Heat(_) => 5,
             Analysis::TwoTone { .. } => 6,
             Analysis::LoadPull(_) => 7,
+            Analysis::Keying(_) => 8,
         };
         crate::options::analysis::ALL[k].0
     }
@@ -927,8 +934,17 @@ pub enum MaskRange {
         /// Upper edge, Hz.
         to: f64,
     },
-    /// Fundamental-frequency condition: the rule applies only when the carrier is in range.
-    /// Combined with another range through [`MaskRule::carrier`].
+    /// Keying sidebands whose distance from the carrier is from `from` to
+    /// `to`, Hz, inclusive, on either side (`offset A to B`); judged by
+    /// `require sidebands`, never by `require harmonics`.
+    Offset {
+        /// Nearer edge, Hz.
+        from: f64,
+        /// Farther edge, Hz.
+        to: f64,
+    },
+    /// Every spurious emission. A carrier-frequency condition combines with
+    /// any range through [`MaskRule::carrier`].
     Any,
 }
 

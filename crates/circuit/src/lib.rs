@@ -21,6 +21,7 @@ pub mod elaborate;
 pub mod figure;
 pub mod handle;
 pub mod ir;
+pub mod keying;
 pub mod models;
 pub mod options;
 pub mod outline;

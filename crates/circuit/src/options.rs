@@ -171,6 +171,17 @@ pub static STEADY_WORDS: Words<SteadyMethod, 4> = Words([
     ("shooting", SteadyMethod::Shooting),
     ("settle", SteadyMethod::Settle),
 ]);
+/// `pattern=` of a keying.
+pub static PATTERN_WORDS: Words<crate::keying::Pattern, 2> = Words([
+    ("dots", crate::keying::Pattern::Dots),
+    ("paris", crate::keying::Pattern::Paris),
+]);
+/// `shape=` of a keying.
+pub static SHAPE_WORDS: Words<crate::keying::EdgeShape, 3> = Words([
+    ("raised_cosine", crate::keying::EdgeShape::RaisedCosine),
+    ("gaussian", crate::keying::EdgeShape::Gaussian),
+    ("linear", crate::keying::EdgeShape::Linear),
+]);
 /// The distribution word of `tolerance` (written after the fraction, not as an option).
 pub static DISTRIBUTION_WORDS: Words<Distribution, 2> = Words([
     ("uniform", Distribution::Uniform),
@@ -624,6 +635,97 @@ pub mod analysis {
     /// [`VSWR_MAX`] (an open or a short circuit to within 2 % in |Γ|).
     pub const GAMMA_MAX: f64 = (VSWR_MAX - 1.0) / (VSWR_MAX + 1.0);
 
+    /// `wpm=` of a keying: the speed in words per minute.
+    pub const WPM: OptionSpec = opt(
+        "wpm",
+        Takes::Value(Slot::Number, Range::Positive),
+        Default::Absent,
+        "telegraph speed in words per minute of the 50-unit reference word PARIS (one unit = 1.2 s / wpm); this or baud=",
+    );
+    /// `baud=` of a keying: the speed in units per second.
+    pub const BAUD: OptionSpec = opt(
+        "baud",
+        Takes::Value(Slot::Number, Range::Positive),
+        Default::Absent,
+        "telegraph speed in baud (units per second); this or wpm=",
+    );
+    /// The slowest and fastest keying speed, baud (0.5 to 100 wpm).
+    pub const BAUD_RANGE: (f64, f64) = (0.5 / 1.2, 100.0 / 1.2);
+    /// `pattern=` of a keying.
+    pub const PATTERN: OptionSpec = opt(
+        "pattern",
+        Takes::Word(&PATTERN_WORDS),
+        Default::Word("dots"),
+        "what is keyed, repeated: a dot train, or the reference word PARIS with its word space",
+    );
+    /// `shape=` of a keying.
+    pub const SHAPE: OptionSpec = opt(
+        "shape",
+        Takes::Word(&SHAPE_WORDS),
+        Default::Word("raised_cosine"),
+        "the shape of the drive's keying edges",
+    );
+    /// `rise=` of a keying.
+    pub const RISE: OptionSpec = opt(
+        "rise",
+        Takes::Value(Slot::Time, Range::Positive),
+        Default::Derived("a tenth of a unit"),
+        "10-90 % time of the drive envelope's rising edge (at most half a unit)",
+    );
+    /// The default rise of a keying, as a fraction of a unit.
+    pub const RISE_PER_UNIT: f64 = 0.1;
+    /// `fall=` of a keying.
+    pub const FALL: OptionSpec = opt(
+        "fall",
+        Takes::Value(Slot::Time, Range::Positive),
+        Default::Derived("rise"),
+        "10-90 % time of the drive envelope's falling edge (at most half a unit)",
+    );
+    /// `source=` of a keying: the keyed source.
+    pub const KEYED: OptionSpec = opt(
+        "source",
+        Takes::Element,
+        Default::Derived("the `input`"),
+        "the source whose sine is keyed",
+    );
+    /// `cycles=` of a keying.
+    pub const CYCLES: OptionSpec = opt(
+        "cycles",
+        Takes::Count(1),
+        Default::Number(2.0),
+        "periods of the pattern followed in time; the figures come from the last",
+    );
+    /// The most `cycles=` of a keying.
+    pub const CYCLES_MAX: u64 = 20;
+    /// `step=` of a keying: the slow-time step.
+    pub const SLOW_STEP: OptionSpec = opt(
+        "step",
+        Takes::Value(Slot::Time, Range::Positive),
+        Default::Derived("a twentieth of the shorter edge, at most a twentieth of a unit"),
+        "the slow-time step of envelope following",
+    );
+    /// `rbw=` of a keying: the resolution bandwidth of the sideband spectrum.
+    pub const RBW: OptionSpec = opt(
+        "rbw",
+        Takes::Value(Slot::Frequency, Range::Positive),
+        Default::Derived("the line spacing"),
+        "resolution bandwidth of the sideband spectrum",
+    );
+    /// `span=` of a keying: the widest offset shown.
+    pub const SPAN: OptionSpec = opt(
+        "span",
+        Takes::Value(Slot::Frequency, Range::Positive),
+        Default::Derived("ten times the necessary bandwidth"),
+        "the widest offset from the carrier in the sideband spectrum",
+    );
+    /// `k_factor=` of a keying.
+    pub const K_FACTOR: OptionSpec = opt(
+        "k_factor",
+        Takes::Value(Slot::Number, Range::Positive),
+        Default::Number(5.0),
+        "K of the necessary bandwidth B*K of telegraphy (5 for fading circuits, 3 without fading)",
+    );
+
     /// The options of each analysis, by kind.
     pub const ALL: &[(&str, &[OptionSpec])] = &[
         ("bias", &[]),
@@ -649,6 +751,13 @@ pub mod analysis {
             &[SINK, SINK_AMBIENT, SINK_HEAT, TRANSMIT, MARK, SPACE, ROUNDS],
         ),
         ("twotone", &[SPACING, ORDER, LEVELS]),
+        (
+            "keying",
+            &[
+                WPM, BAUD, PATTERN, SHAPE, RISE, FALL, KEYED, CYCLES, SLOW_STEP, RBW, SPAN,
+                K_FACTOR,
+            ],
+        ),
         (
             "loadpull",
             &[PULL_REFERENCE, CENTER, RADIUS, ACROSS, TRANSISTOR],

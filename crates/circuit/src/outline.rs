@@ -169,7 +169,9 @@ pub fn outline(parsed: &Parsed) -> Outline {
                             exprs.push(from);
                             exprs.extend(to.iter());
                         }
-                        RangeAst::Frequency { from, to } => exprs.extend([from, to]),
+                        RangeAst::Frequency { from, to } | RangeAst::Offset { from, to } => {
+                            exprs.extend([from, to])
+                        }
                         RangeAst::All => {}
                     }
                     limit_exprs(&r.limit, &mut exprs);
@@ -211,7 +213,10 @@ pub fn outline(parsed: &Parsed) -> Outline {
                 match r.bound.as_name() {
                     Some(n)
                         if crate::figure::Figure::from_word(&r.metric.name).is_some_and(|f| {
-                            matches!(f.about(), About::Mask | About::Harmonic)
+                            matches!(
+                                f.about(),
+                                About::Mask | About::SidebandMask | About::Harmonic
+                            )
                         }) =>
                     {
                         o.references.push(Reference {

@@ -40,6 +40,10 @@ pub enum Unit {
     Degree,
     /// A plain ratio (VSWR).
     Ratio,
+    /// Seconds.
+    Second,
+    /// Hertz.
+    Hertz,
 }
 
 impl Unit {
@@ -57,12 +61,17 @@ impl Unit {
             Unit::Kelvin => "K",
             Unit::DegC => "degC",
             Unit::Degree => "deg",
+            Unit::Second => "s",
+            Unit::Hertz => "Hz",
         }
     }
 
     /// Whether an SI prefix goes in front of this unit's symbol.
     pub fn takes_prefix(self) -> bool {
-        matches!(self, Unit::Watt | Unit::Volt | Unit::Ampere | Unit::Ohm)
+        matches!(
+            self,
+            Unit::Watt | Unit::Volt | Unit::Ampere | Unit::Ohm | Unit::Second | Unit::Hertz
+        )
     }
 
     /// The unit a study record keeps a value of this unit in: SI, except
@@ -88,7 +97,9 @@ impl Unit {
     /// three decimals for a ratio.
     pub fn show(self, v: f64) -> String {
         match self {
-            Unit::Watt | Unit::Volt | Unit::Ampere | Unit::Ohm => si_prefixed(v, self.symbol(), 4),
+            Unit::Watt | Unit::Volt | Unit::Ampere | Unit::Ohm | Unit::Second | Unit::Hertz => {
+                si_prefixed(v, self.symbol(), 4)
+            }
             Unit::Fraction => format!("{:.2} %", v * 100.0),
             Unit::Db | Unit::Dbc | Unit::Dbm => format!("{v:.2} {}", self.symbol()),
             Unit::Kelvin => format!("{:.1} degC", v - 273.15),
@@ -105,7 +116,7 @@ impl Unit {
             Unit::Fraction => format!("{:+.2} % points", m * 100.0),
             Unit::Kelvin | Unit::DegC => format!("{m:+.1} K"),
             Unit::Db | Unit::Dbc | Unit::Dbm => format!("{m:+.2} dB"),
-            Unit::Watt | Unit::Volt | Unit::Ampere | Unit::Ohm => {
+            Unit::Watt | Unit::Volt | Unit::Ampere | Unit::Ohm | Unit::Second | Unit::Hertz => {
                 let s = si_prefixed(m.abs(), self.symbol(), 4);
                 if m < 0.0 {
                     format!("-{s}")
@@ -132,7 +143,9 @@ impl Unit {
     pub fn brief(self, v: f64) -> String {
         match self {
             Unit::Fraction => percent(v),
-            Unit::Watt | Unit::Volt | Unit::Ampere | Unit::Ohm => si_prefixed(v, self.symbol(), 3),
+            Unit::Watt | Unit::Volt | Unit::Ampere | Unit::Ohm | Unit::Second | Unit::Hertz => {
+                si_prefixed(v, self.symbol(), 3)
+            }
             Unit::Db | Unit::Dbc | Unit::Dbm => fixed(v, 2, self.symbol()),
             Unit::Degree | Unit::DegC => fixed(v, 1, self.symbol()),
             Unit::Kelvin => fixed(v - 273.15, 1, "degC"),

@@ -620,9 +620,11 @@ pub fn completion(doc: &Document, pos: Position) -> Vec<CompletionItem> {
                 .any(|w| matches!(*w, "<=" | ">=" | "<" | ">"));
             if compared {
                 match figure.map(|f| f.about()) {
-                    Some(tankwave_circuit::About::Mask | tankwave_circuit::About::Harmonic) => {
-                        mask_names(doc)
-                    }
+                    Some(
+                        tankwave_circuit::About::Mask
+                        | tankwave_circuit::About::SidebandMask
+                        | tankwave_circuit::About::Harmonic,
+                    ) => mask_names(doc),
                     _ => names_of(doc, SymbolKind::Param),
                 }
             } else if figure.is_some_and(|f| f.about().takes_element()) {

@@ -27,6 +27,8 @@ pub enum Value {
     Harmonic,
     /// Every harmonic against a mask.
     Mask,
+    /// Every keying sideband against a mask's `offset` rules.
+    SidebandMask,
     /// The largest fraction of a rating used ([`Metrics::stress`]).
     RatedPart,
 }
@@ -93,7 +95,7 @@ pub fn recorded(m: &Metrics) -> Vec<(String, f64)> {
                     }
                 }
             }
-            Value::Mask | Value::RatedPart => {}
+            Value::Mask | Value::SidebandMask | Value::RatedPart => {}
         }
     }
     out
@@ -117,7 +119,7 @@ pub fn docs_table() -> String {
             About::Stage => "stage",
             About::Transistor => "bjt",
             About::Harmonic => "harmonic N",
-            About::Mask => "mask",
+            About::Mask | About::SidebandMask => "mask",
             About::RatedPart => "rated part",
         };
         s.push_str(&format!(

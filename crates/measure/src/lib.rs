@@ -52,8 +52,8 @@ pub use load::{collector_loads, CollectorLoad, HarmonicLoad, LOAD_HARMONICS};
 pub use mask::{evaluate_mask, HarmonicRow, MaskError, MaskEvaluation};
 pub use metrics::{
     conduction, conduction_angle_deg, conduction_intervals, measure, Conduction, DriveMetrics,
-    GainBasis, HarmonicPower, Impedance, MeasureParams, Metrics, Note, OutputMetrics,
-    StressQuantity, StressRow, SupplyPower, TransistorMetrics,
+    GainBasis, HarmonicPower, Impedance, KeyingFigures, MeasureParams, Metrics, Note,
+    OutputMetrics, StressQuantity, StressRow, SupplyPower, TransistorMetrics,
 };
 pub use period::{average_absorbed, PeriodData};
 pub use spectrum::{spectrum, Spectrum};

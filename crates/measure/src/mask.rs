@@ -30,6 +30,12 @@ pub enum MaskError {
         /// Fundamental frequency, Hz.
         f0_hz: f64,
     },
+    /// No `offset` rule of the mask covers any keying sideband computed.
+    #[error("mask {mask} has no offset rule covering the keying sidebands computed")]
+    NoSideband {
+        /// Mask name.
+        mask: String,
+    },
     /// A rule gives an allowed level that is NaN or −∞.
     #[error("mask {mask} gives an unusable allowed level {value} dBc at harmonic {n}")]
     BadLimit {
@@ -113,6 +119,8 @@ pub fn rule_applies(rule: &MaskRule, n: usize, f0_hz: f64) -> bool {
             let f = n as f64 * f0_hz;
             f >= *from && f <= *to
         }
+        // keying sidebands are judged by `require sidebands`
+        MaskRange::Offset { .. } => false,
         MaskRange::Any => true,
     }
 }
@@ -140,6 +148,73 @@ pub fn allowed_dbc(
         allowed = Some(allowed.map_or(a, |x: f64| x.min(a)));
     }
     Ok(allowed)
+}
+
+/// One keying sideband judged against a mask's `offset` rules.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct SidebandRow {
+    /// Offset from the carrier, Hz (negative below it).
+    pub offset_hz: f64,
+    /// Level, dBc against the key-down carrier.
+    pub dbc: f64,
+    /// The allowed level, dBc (the most stringent rule covering |offset|).
+    pub allowed_dbc: f64,
+    /// allowed − level, dB; positive passes.
+    pub margin_db: f64,
+}
+
+/// The keying sidebands (`offsets_hz`, `dbc`, dBc against a key-down carrier
+/// of `carrier_w`) against the `offset` rules of `mask` (a rule covers
+/// `|offset|` within its range; every covering rule must hold). Returns
+/// the judged rows (sidebands no rule covers are left out) in offset order;
+/// an error when no rule covers any sideband, or without a carrier.
+pub fn evaluate_sidebands(
+    mask: &Mask,
+    offsets_hz: &[f64],
+    dbc: &[f64],
+    carrier_w: f64,
+) -> Result<Vec<SidebandRow>, MaskError> {
+    if !(carrier_w.is_finite() && carrier_w > 0.0) {
+        return Err(MaskError::NoCarrier { p1_w: carrier_w });
+    }
+    let mut rows = Vec::new();
+    for (&off, &level) in offsets_hz.iter().zip(dbc) {
+        let d = off.abs();
+        let mut allowed: Option<f64> = None;
+        for rule in &mask.rules {
+            let MaskRange::Offset { from, to } = rule.range else {
+                continue;
+            };
+            if !(d >= from && d <= to) {
+                continue;
+            }
+            let a = rule.limit.allowed_dbc(carrier_w);
+            if a.is_nan() || a == f64::NEG_INFINITY {
+                return Err(MaskError::BadLimit {
+                    mask: mask.name.clone(),
+                    n: 1,
+                    value: a,
+                });
+            }
+            if a.is_finite() {
+                allowed = Some(allowed.map_or(a, |x: f64| x.min(a)));
+            }
+        }
+        if let (Some(a), true) = (allowed, level.is_finite()) {
+            rows.push(SidebandRow {
+                offset_hz: off,
+                dbc: level,
+                allowed_dbc: a,
+                margin_db: a - level,
+            });
+        }
+    }
+    if rows.is_empty() {
+        return Err(MaskError::NoSideband {
+            mask: mask.name.clone(),
+        });
+    }
+    Ok(rows)
 }
 
 /// Check the harmonics 2..=K of `output` against `mask` for a fundamental at `f0_hz`.

@@ -318,6 +318,47 @@ pub struct Metrics {
     /// left out of JSON then).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub two_tone: Option<crate::twotone::TwoToneMetrics>,
+    /// The figures of the first `analyze keying`, set by whoever ran it
+    /// (`None`: none ran; left out of JSON then).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub keying: Option<KeyingFigures>,
+}
+
+/// The figures of a keying (docs/measurements.md, "Keying"), measured on
+/// the output envelope of envelope following over the last period of the
+/// pattern.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct KeyingFigures {
+    /// 10–90 % rise time of the output envelope, s (`None`: no full edge).
+    pub rise_s: Option<f64>,
+    /// 90–10 % fall time of the output envelope, s.
+    pub fall_s: Option<f64>,
+    /// Overshoot of the output envelope over its settled key-down level, a
+    /// fraction.
+    pub overshoot: Option<f64>,
+    /// The band holding 99 % of the mean power, Hz (ITU Radio Regulations
+    /// No. 1.153).
+    pub occupied_bw_hz: Option<f64>,
+    /// The occupied band's lower and upper edge, as offsets from the
+    /// carrier, Hz.
+    pub occupied_band_hz: Option<[f64; 2]>,
+    /// The necessary bandwidth of telegraphy B·K, Hz (ITU Radio Regulations
+    /// Appendix 1).
+    pub necessary_bw_hz: f64,
+    /// Key-down output power at the fundamental, W (the 0 dBc reference).
+    pub key_down_w: f64,
+    /// Offsets from the carrier of the sideband spectrum, Hz, ascending
+    /// (negative below the carrier).
+    pub sideband_offsets_hz: Vec<f64>,
+    /// The sideband levels at those offsets, dBc against the key-down
+    /// carrier, at the resolution bandwidth and window below.
+    pub sideband_dbc: Vec<f64>,
+    /// Resolution bandwidth of the levels, Hz.
+    pub rbw_hz: f64,
+    /// Spacing of the spectral lines of the periodic pattern, Hz.
+    pub line_spacing_hz: f64,
+    /// The window the levels were taken with.
+    pub window: String,
 }
 
 impl Metrics {
@@ -1212,6 +1253,7 @@ pub fn measure(data: &PeriodData<'_>, params: &MeasureParams) -> Result<Metrics,
         stress,
         notes,
         two_tone: None,
+        keying: None,
     })
 }
 

@@ -242,7 +242,9 @@ fn scalar(c: &Circuit, metrics: &Metrics, r: &Requirement) -> Result<Vec<Candida
                 .map(|x| vec![(None, x)])
                 .ok_or_else(|| why(metrics, "harmonics", "not measured"))
         }
-        Value::Mask => Err("internal: harmonics handled elsewhere".to_string()),
+        Value::Mask | Value::SidebandMask => {
+            Err("internal: masks are handled elsewhere".to_string())
+        }
     }
 }
 
@@ -346,6 +348,64 @@ fn harmonics_draft(c: &Circuit, metrics: &Metrics, r: &Requirement, only: Option
     d
 }
 
+/// `require sidebands <= MASK`: the keying sidebands against the mask's
+/// `offset` rules, the worst margin judged.
+fn sidebands_draft(c: &Circuit, metrics: &Metrics, r: &Requirement) -> Draft {
+    let mut d = Draft {
+        limit: None,
+        mask: mask_name(c, &r.bound),
+        outcome: Err(String::new()),
+        harmonics: Vec::new(),
+    };
+    let mask = match resolve_mask(c, &r.bound) {
+        Ok(Some(m)) => m,
+        Ok(None) => {
+            d.outcome = Err("sidebands are required <= a mask with offset rules".to_string());
+            return d;
+        }
+        Err(e) => {
+            d.outcome = Err(e);
+            return d;
+        }
+    };
+    let Some(k) = metrics.keying.as_ref() else {
+        d.outcome = Err(why(metrics, "sidebands", "no analyze keying ran"));
+        return d;
+    };
+    d.outcome = match crate::mask::evaluate_sidebands(
+        &mask,
+        &k.sideband_offsets_hz,
+        &k.sideband_dbc,
+        k.key_down_w,
+    ) {
+        Ok(rows) => {
+            let pass = rows.iter().all(|r| r.margin_db >= 0.0);
+            match rows
+                .iter()
+                .min_by(|a, b| a.margin_db.total_cmp(&b.margin_db))
+            {
+                Some(w) => {
+                    d.limit = Some(w.allowed_dbc);
+                    Ok((
+                        (
+                            Some(format!(
+                                "offset {}",
+                                crate::units::si_prefixed(w.offset_hz, "Hz", 4)
+                            )),
+                            w.dbc,
+                        ),
+                        w.margin_db,
+                        pass,
+                    ))
+                }
+                None => Err("no sideband to judge".to_string()),
+            }
+        }
+        Err(e) => Err(e.to_string()),
+    };
+    d
+}
+
 /// Check every requirement of `circuit` against `metrics`, in file order.
 pub fn evaluate(circuit: &Circuit, metrics: &Metrics) -> Vec<Verdict> {
     circuit
@@ -361,6 +421,7 @@ pub fn evaluate_one(circuit: &Circuit, metrics: &Metrics, r: &Requirement) -> Ve
     let about = r.metric.figure.about();
     let draft = match (about, &r.bound) {
         (About::Mask, _) => harmonics_draft(circuit, metrics, r, None),
+        (About::SidebandMask, _) => sidebands_draft(circuit, metrics, r),
         (About::Harmonic, Bound::Mask(_) | Bound::BuiltinMask(_)) => harmonics_draft(
             circuit,
             metrics,

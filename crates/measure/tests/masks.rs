@@ -250,6 +250,7 @@ fn metrics(p1: f64, dbcs: &[f64], f0: f64) -> Metrics {
             reason: "model of q2 gives no thermal resistance".into(),
         }],
         two_tone: None,
+        keying: None,
     }
 }
 

@@ -303,6 +303,14 @@ pub enum RangeAst {
         /// Upper edge.
         to: Expr,
     },
+    /// `offset A to B`: keying sidebands from A to B away from the carrier
+    /// (either side).
+    Offset {
+        /// Nearer edge.
+        from: Expr,
+        /// Farther edge.
+        to: Expr,
+    },
     /// `all`: every spurious emission.
     All,
 }

@@ -47,6 +47,9 @@ pub struct Limits {
     pub max_network_points: usize,
     /// Most output steps (stop / step) of one transient analysis.
     pub max_transient_steps: f64,
+    /// Most slow-time steps (cycles × period / step) of one keying analysis
+    /// (each is one harmonic-balance solve).
+    pub max_slow_steps: f64,
     /// Most harmonics of a steady-state analysis.
     pub max_harmonics: f64,
     /// Most time steps per period of a steady-state analysis.
@@ -83,6 +86,7 @@ pub const LIMITS: Limits = Limits {
     max_ac_points: 100_000.0,
     max_network_points: 100_000,
     max_transient_steps: 10_000_000.0,
+    max_slow_steps: 50_000.0,
     max_harmonics: 256.0,
     max_steps_per_period: 65_536.0,
     max_loads: 10_000.0,

@@ -889,6 +889,7 @@ impl<'a> Parser<'a> {
                         TokKind::RBrace | TokKind::Eof | TokKind::Newline
                     ) || self.is_word("harmonics")
                         || self.is_word("frequency")
+                        || self.is_word("offset")
                         || self.is_word("all"))
                     {
                         self.pos += 1;
@@ -925,19 +926,26 @@ impl<'a> Parser<'a> {
             self.expect_word("to")?;
             let to = self.value()?;
             RangeAst::Frequency { from, to }
+        } else if self.eat_word("offset") {
+            let from = self.value()?;
+            self.expect_word("to")?;
+            let to = self.value()?;
+            RangeAst::Offset { from, to }
         } else if self.eat_word("all") {
             RangeAst::All
         } else {
             let t = self.tok().clone();
             let help = match &t.kind {
-                TokKind::Ident(s) => did_you_mean(s, ["harmonics", "frequency", "all"].iter()),
+                TokKind::Ident(s) => {
+                    did_you_mean(s, ["harmonics", "frequency", "offset", "all"].iter())
+                }
                 _ => None,
             };
             self.err_help(
                 "syntax",
                 t.span,
                 format!(
-                    "expected a mask rule (harmonics, frequency or all), got {}",
+                    "expected a mask rule (harmonics, frequency, offset or all), got {}",
                     t.kind.describe()
                 ),
                 help,

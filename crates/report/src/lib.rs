@@ -33,6 +33,7 @@ pub mod fitted;
 pub mod format;
 pub mod heat;
 pub mod html;
+pub mod keying;
 pub mod loadpull;
 pub mod loads;
 pub mod outputs;

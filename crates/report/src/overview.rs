@@ -101,6 +101,15 @@ pub fn stage_overview(file: &str, c: &Circuit, warnings: usize) -> String {
                 p.center.1,
                 crate::format::si(p.reference, "Ω")
             ),
+            Analysis::Keying(k) => format!(
+                "keying, {:.4} baud ({:.4} wpm), pattern {}, {} edges {} / {}",
+                k.baud(),
+                k.wpm(),
+                k.pattern.word(),
+                k.shape.word(),
+                crate::format::si(k.rise, "s"),
+                crate::format::si(k.fall, "s")
+            ),
         })
         .collect();
     let _ = writeln!(

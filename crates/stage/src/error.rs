@@ -94,6 +94,9 @@ pub enum StageError {
     /// A two-tone test cannot be set up or measured for this stage.
     #[error("two-tone test: {0}")]
     TwoTone(String),
+    /// A keying cannot be set up or measured for this stage.
+    #[error("keying: {0}")]
+    Keying(String),
 }
 
 impl StageError {
@@ -111,6 +114,7 @@ impl StageError {
                 | StageError::LoadPull(_)
                 | StageError::HeatSetup { .. }
                 | StageError::TwoTone(_)
+                | StageError::Keying(_)
         )
     }
 }

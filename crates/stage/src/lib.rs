@@ -46,6 +46,7 @@
 pub mod drive;
 pub mod error;
 pub mod heat;
+pub mod keying;
 pub mod load;
 pub mod loadpull;
 pub mod masks;

@@ -65,6 +65,8 @@ pub struct StageResults {
     pub two_tone: Vec<TwoToneTest>,
     /// Each `analyze loadpull` in file order ([`crate::loadpull`]).
     pub load_pulls: Vec<crate::loadpull::LoadPull>,
+    /// Each `analyze keying` in file order ([`crate::keying`]).
+    pub keyings: Vec<crate::keying::KeyingRun>,
     /// The analyses that failed, when solving with
     /// [`SolveOptions::keep_going`] (always empty otherwise: the first
     /// failure is returned as the error).
@@ -84,6 +86,7 @@ impl Clone for StageResults {
             ruggedness: self.ruggedness.clone(),
             two_tone: self.two_tone.clone(),
             load_pulls: self.load_pulls.clone(),
+            keyings: self.keyings.clone(),
             failures: Vec::new(),
         }
     }
@@ -296,6 +299,17 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
             Analysis::Heat(_) => {}
             // run after the loop, from the nominal steady state
             Analysis::LoadPull(_) => {}
+            Analysis::Keying(spec) => {
+                // the first one also when a requirement reads its figures
+                let needed =
+                    opts.scope == Scope::All || (res.keyings.is_empty() && needs_keying(circuit));
+                if needed && beyond_op {
+                    match crate::keying::keying(circuit, &devices, spec, opts.caps.as_ref()) {
+                        Ok(k) => res.keyings.push(k),
+                        Err(e) => fail(&mut res, e)?,
+                    }
+                }
+            }
             Analysis::TwoTone {
                 spacing,
                 spacings,
@@ -385,6 +399,9 @@ pub fn solve(circuit: &Circuit, opts: &SolveOptions<'_>) -> Result<StageResults,
     if let (Some(s), Some(t)) = (res.steady.as_mut(), res.two_tone.first()) {
         s.metrics.two_tone = Some(t.full.clone());
     }
+    if let (Some(s), Some(k)) = (res.steady.as_mut(), res.keyings.first()) {
+        s.metrics.keying = Some(k.figures.clone());
+    }
     if let Some(s) = &res.steady {
         res.verdicts = tankwave_measure::evaluate(circuit, &s.metrics);
     }
@@ -455,6 +472,15 @@ fn needs_two_tone(circuit: &Circuit) -> bool {
             Figure::Imd3 | Figure::Imd5 | Figure::Imd7 | Figure::Pep
         )
     })
+}
+
+/// Whether a requirement reads a keying figure (the first keying then runs
+/// also when only the requirements are asked for).
+fn needs_keying(circuit: &Circuit) -> bool {
+    circuit
+        .requirements
+        .iter()
+        .any(|r| r.metric.figure.is_keying())
 }
 
 /// Shrink a transient to the caps (left alone when its step or stop time

@@ -1,4 +1,4 @@
-//! `analyze bias|transient|ac|steady|ruggedness|heat|twotone|loadpull`: options read through
+//! `analyze bias|transient|ac|steady|ruggedness|heat|twotone|loadpull|keying`: options read through
 //! [`crate::options::analysis`], checked against each other.
 
 use super::{fmt_num, Cx};
@@ -24,6 +24,7 @@ impl<'a> Cx<'a> {
             "heat" => self.heat(kind, &m),
             "twotone" => self.two_tone(kind, &m),
             "loadpull" => self.load_pull(kind, &m),
+            "keying" => self.keying(kind, &m),
             _ => self.steady(kind, &m),
         }
     }
@@ -321,6 +322,193 @@ impl<'a> Cx<'a> {
             points,
             transistor,
         }))
+    }
+
+    fn keying(&mut self, kind: &Ident, m: &super::opts::Given<'a>) -> Option<Analysis> {
+        use crate::keying::{KeyingSpec, PARIS_UNITS};
+        let wpm = self.opt_value(m, &o::WPM, "wpm")?;
+        let baud = self.opt_value(m, &o::BAUD, "baud")?;
+        let baud = match (wpm, baud) {
+            (Some(w), None) => crate::keying::baud_from_wpm(w),
+            (None, Some(b)) => b,
+            _ => {
+                self.error(
+                    "missing-option",
+                    kind.span,
+                    "analyze keying needs the speed: wpm= or baud=, one of them",
+                );
+                return None;
+            }
+        };
+        let (lo, hi) = o::BAUD_RANGE;
+        if !(lo..=hi).contains(&baud) {
+            self.error(
+                "bad-value",
+                kind.span,
+                format!(
+                    "a keying speed is from {} to {} baud ({} to {} wpm), got {} baud",
+                    fmt_num(lo),
+                    fmt_num(hi),
+                    fmt_num(lo * 1.2),
+                    fmt_num(hi * 1.2),
+                    fmt_num(baud)
+                ),
+            );
+            return None;
+        }
+        debug_assert!(PARIS_UNITS > 0.0);
+        let unit = 1.0 / baud;
+        let pattern = self.opt_word(m, &o::PATTERN, &options::PATTERN_WORDS)?;
+        let shape = self.opt_word(m, &o::SHAPE, &options::SHAPE_WORDS)?;
+        let rise = self
+            .opt_value(m, &o::RISE, "rise")?
+            .unwrap_or(unit * o::RISE_PER_UNIT);
+        let fall = self.opt_value(m, &o::FALL, "fall")?.unwrap_or(rise);
+        for (what, v, spec) in [("rise", rise, &o::RISE), ("fall", fall, &o::FALL)] {
+            if v > unit / 2.0 {
+                let at = match self.given_expr(m, spec) {
+                    Some(Some(e)) => e.span,
+                    _ => kind.span,
+                };
+                self.error(
+                    "bad-value",
+                    at,
+                    format!(
+                        "the {what} time {} is longer than half a unit ({}): a dot would not reach full carrier",
+                        crate::si::si_prefixed(v, "s", 4),
+                        crate::si::si_prefixed(unit / 2.0, "s", 4)
+                    ),
+                );
+                return None;
+            }
+        }
+        let source = match self.given_expr(m, &o::KEYED)? {
+            None => None,
+            Some(e) => {
+                let id = self.name_of(e, "source")?;
+                let id = self.element_ref(&id, "analyze keying source")?;
+                if !matches!(
+                    self.elem_kind(id),
+                    Some(ElemKeyword::Voltage | ElemKeyword::Current)
+                ) {
+                    self.error(
+                        "element-kind",
+                        e.span,
+                        "analyze keying source must be a voltage or current source",
+                    );
+                    return None;
+                }
+                Some(id)
+            }
+        };
+        let cycles = self.opt_count(m, &o::CYCLES)?.unwrap_or(2);
+        if cycles > o::CYCLES_MAX {
+            let at = match self.given_expr(m, &o::CYCLES) {
+                Some(Some(e)) => e.span,
+                _ => kind.span,
+            };
+            self.error(
+                "bad-value",
+                at,
+                format!("cycles= is at most {}, got {cycles}", o::CYCLES_MAX),
+            );
+            return None;
+        }
+        let step = self.opt_value(m, &o::SLOW_STEP, "step")?;
+        if let Some(h) = step {
+            if h > unit / 4.0 {
+                let at = match self.given_expr(m, &o::SLOW_STEP) {
+                    Some(Some(e)) => e.span,
+                    _ => kind.span,
+                };
+                self.error(
+                    "bad-value",
+                    at,
+                    format!(
+                        "the slow step {} is longer than a quarter unit ({}): the edges would not be followed",
+                        crate::si::si_prefixed(h, "s", 4),
+                        crate::si::si_prefixed(unit / 4.0, "s", 4)
+                    ),
+                );
+                return None;
+            }
+        }
+        let rbw = self.opt_value(m, &o::RBW, "rbw")?;
+        let span = self.opt_value(m, &o::SPAN, "span")?;
+        let k_factor = self.opt_value(m, &o::K_FACTOR, "k_factor")?.unwrap_or(5.0);
+        let mut spec = KeyingSpec::new(unit, pattern, shape, rise, fall);
+        spec.source = source;
+        spec.cycles = cycles as usize;
+        spec.step = step;
+        spec.rbw = rbw;
+        spec.span = span;
+        spec.k_factor = k_factor;
+        Some(Analysis::Keying(spec))
+    }
+
+    /// A keying keys a source's sine (`source=`, else the `input`) and reads
+    /// the `output` resistor: both must be there; checked once the ports
+    /// are known.
+    pub(super) fn check_keying(&mut self, c: &Circuit) {
+        let keyings: Vec<_> = c
+            .analyses
+            .iter()
+            .zip(self.analysis_spans.clone())
+            .filter_map(|(a, s)| match a {
+                Analysis::Keying(k) => Some((k.clone(), s)),
+                _ => None,
+            })
+            .collect();
+        let output_is_resistor = matches!(
+            c.output
+                .and_then(|id| c.elements.get(id.index()))
+                .map(|e| &e.kind),
+            Some(ElementKind::Resistor { .. })
+        );
+        for (k, span) in keyings {
+            if !output_is_resistor {
+                self.error(
+                    "element-kind",
+                    span,
+                    "analyze keying reads the output load: the file needs `output` naming a resistor",
+                );
+            }
+            let keyed = k.source.or(c.input);
+            let sine = keyed
+                .and_then(|id| c.elements.get(id.index()))
+                .and_then(|e| match &e.kind {
+                    ElementKind::VoltageSource { wave, .. }
+                    | ElementKind::CurrentSource { wave, .. } => match wave.shape {
+                        Some(Shape::Sine { freq, .. }) => Some(freq),
+                        _ => None,
+                    },
+                    _ => None,
+                });
+            match sine {
+                None => {
+                    self.error(
+                        "element-kind",
+                        span,
+                        "analyze keying keys a sine: source= (or the file's `input`) must name a \
+                         source with a sine wave",
+                    );
+                }
+                Some(f) if f * k.rise.min(k.fall) < crate::keying::MIN_EDGE_PERIODS => {
+                    self.error(
+                        "bad-value",
+                        span,
+                        format!(
+                            "the keying edges ({}) are shorter than {} periods of the carrier ({}): \
+                             an envelope that fast is not slow against the carrier",
+                            crate::si::si_prefixed(k.rise.min(k.fall), "s", 4),
+                            fmt_num(crate::keying::MIN_EDGE_PERIODS),
+                            crate::si::si_prefixed(f, "Hz", 4)
+                        ),
+                    );
+                }
+                Some(_) => {}
+            }
+        }
     }
 
     /// A two-tone test splits the `input` source's sine and reads the

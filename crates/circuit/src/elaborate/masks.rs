@@ -155,6 +155,9 @@ impl<'a> Cx<'a> {
             RangeAst::Frequency { from, to } => self
                 .freq_range(from, to, r.span)
                 .map(|(a, b)| MaskRange::Frequency { from: a, to: b }),
+            RangeAst::Offset { from, to } => self
+                .freq_range(from, to, r.span)
+                .map(|(a, b)| MaskRange::Offset { from: a, to: b }),
         };
         let limit = self.limit(&r.limit);
         let carrier = match &r.carrier {

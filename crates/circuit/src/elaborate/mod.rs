@@ -226,6 +226,7 @@ impl<'a> Cx<'a> {
         if !self.has_errors() {
             self.check_load_sweeps(&c);
             self.check_two_tone(&c);
+            self.check_keying(&c);
         }
         let mask_ids = self.masks(stmts, &mut c);
         self.requirements_and_studies(stmts, &mask_ids, &mut c);

@@ -24,6 +24,8 @@ fn bound_slot(unit: Unit) -> Slot {
         Unit::Kelvin | Unit::DegC => Slot::Temperature,
         Unit::Degree => Slot::Angle,
         Unit::Ratio => Slot::Number,
+        Unit::Second => Slot::Time,
+        Unit::Hertz => Slot::Frequency,
     }
 }
 
@@ -67,9 +69,18 @@ impl<'a> Cx<'a> {
             .collect::<Vec<_>>()
             .join(" ");
         let origin = self.origin(span);
-        if figure.about() == About::Mask {
+        if matches!(figure.about(), About::Mask | About::SidebandMask) {
             if cmp != Cmp::Le {
-                self.error("syntax", r.cmp_span, "harmonics are required <= a mask");
+                let what = if figure.about() == About::Mask {
+                    "harmonics"
+                } else {
+                    "sidebands"
+                };
+                self.error(
+                    "syntax",
+                    r.cmp_span,
+                    format!("{what} are required <= a mask"),
+                );
                 return None;
             }
             let bound = self.mask_bound(r, masks)?;

@@ -79,6 +79,16 @@ pub fn stage_plots(file: &str, c: &Circuit, r: &StageResults) -> Drawn {
             crate::twotone::sweep_plot(t, &p),
         );
     }
+    for (k, run) in r.keyings.iter().enumerate() {
+        for (stem, caption, svg) in crate::keying::keying_plots(c, run, &p) {
+            let name = if k == 0 {
+                format!("{stem}.svg")
+            } else {
+                format!("{stem}-{}.svg", k + 1)
+            };
+            d.add(name, caption.into(), svg);
+        }
+    }
     for (k, s) in r.ruggedness.iter().enumerate() {
         let name = if k == 0 {
             "smith-ruggedness.svg".to_string()
@@ -203,6 +213,11 @@ pub fn stage_report(
                         crate::loadpull::load_pull_section(s, &PlotParams::for_source(file))
                     }),
                 )
+                .chain(
+                    r.keyings.iter().map(|k| {
+                        crate::keying::keying_section(c, k, &PlotParams::for_source(file))
+                    }),
+                )
                 .collect(),
             intro: Vec::new(),
             stage_label: None,
@@ -299,10 +314,15 @@ pub fn results_text(file: &str, c: &Circuit, r: &StageResults, verbose: bool) ->
         s.push('\n');
         s.push_str(&crate::loadpull::load_pull_text(p));
     }
+    for k in &r.keyings {
+        s.push('\n');
+        s.push_str(&crate::keying::keying_text(k));
+    }
     if r.steady.is_some()
         || !r.ruggedness.is_empty()
         || !r.two_tone.is_empty()
         || !r.load_pulls.is_empty()
+        || !r.keyings.is_empty()
     {
         s.push_str(&format!("\n{}\n", text::SAFETY_NOTE));
     }
@@ -360,6 +380,15 @@ pub fn results_json(tool: &str, file: &str, c: &Circuit, r: &StageResults) -> Va
                     .iter()
                     .map(crate::twotone::two_tone_json)
                     .collect(),
+            );
+        }
+    }
+    // only when the file asks for one: the documents of other stages keep their shape
+    if !r.keyings.is_empty() {
+        if let Some(o) = doc.as_object_mut() {
+            o.insert(
+                "keying".into(),
+                r.keyings.iter().map(crate::keying::keying_json).collect(),
             );
         }
     }

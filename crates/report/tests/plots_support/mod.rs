@@ -199,6 +199,7 @@ pub fn metrics() -> Metrics {
         }],
         notes: vec![],
         two_tone: None,
+        keying: None,
     }
 }
 

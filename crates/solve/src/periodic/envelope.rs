@@ -141,6 +141,11 @@ pub struct EnvelopeParams {
     /// (the keyed source); the other sources keep their full time-varying
     /// part. `None` (the default): every source's time-varying part is scaled.
     pub keyed: Option<ElementId>,
+    /// Unknowns whose fundamental phasor `X₁` is kept at every slow step,
+    /// whatever `keep_every` says ([`EnvelopeSolution::watched`]): the
+    /// output's envelope at full resolution for a spectrum, without the
+    /// memory of every phasor (default none).
+    pub watch: Vec<UnknownId>,
 }
 
 impl Default for EnvelopeParams {
@@ -158,6 +163,7 @@ impl Default for EnvelopeParams {
             balance: BalanceParams::default(),
             linear_solver: LinearSolver::default(),
             keyed: None,
+            watch: Vec::new(),
         }
     }
 }
@@ -205,6 +211,10 @@ pub struct EnvelopeSolution {
     /// so that `x(t) ≈ X₀ + Σ_k 2·Re(X_k e^{jkω₀t})` near `t = τ` (volts or
     /// amperes by the unknown's kind; `X₀` real).
     pub phasors: Vec<Vec<Vec<C64>>>,
+    /// `[watched][step]`: the fundamental phasor `X₁` of each unknown of
+    /// [`EnvelopeParams::watch`] at every slow step `0..=steps` (slow time
+    /// `step · info.step`).
+    pub watched: Vec<Vec<C64>>,
     /// How it was obtained.
     pub info: EnvelopeInfo,
 }
@@ -360,9 +370,16 @@ pub fn envelope(
         times: Vec::with_capacity(kept),
         drive: Vec::with_capacity(kept),
         phasors: Vec::with_capacity(kept),
+        watched: vec![Vec::with_capacity(steps + 1); params.watch.len()],
         info: EnvelopeInfo::default(),
     };
+    let watch = |out: &mut EnvelopeSolution, x: &[C64]| {
+        for (w, u) in out.watched.iter_mut().zip(&params.watch) {
+            w.push(x.get(n + u.index()).copied().unwrap_or(ZERO));
+        }
+    };
     out.keep(0.0, a0, &x, n, kmax)?;
+    watch(&mut out, &x);
 
     // q1: total charges at the last step, q2: at the one before
     let mut q1 = run.charges(&x);
@@ -402,6 +419,7 @@ pub fn envelope(
         let q = run.charges(&x);
         q2 = Some(std::mem::replace(&mut q1, q));
         a_prev = a;
+        watch(&mut out, &x);
         if step % params.keep_every == 0 || step == steps {
             out.keep(tau, a, &x, n, kmax)?;
         }
