@@ -56,7 +56,7 @@ fn the_mask_and_study_examples_parse() {
     }
     let e = load_str("examples.tank", &text, &Overrides::default())
         .unwrap_or_else(|e| panic!("{:#?}", e.diagnostics));
-    assert_eq!(e.circuit.masks[0].rules.len(), 7);
+    assert_eq!(e.circuit.masks[0].rules.len(), 8);
     assert_eq!(e.circuit.study.vary.len(), 4);
 }
 
