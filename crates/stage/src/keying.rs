@@ -43,6 +43,10 @@ pub const QUASI_ENOUGH: f64 = 0.01;
 /// The quasi-static drive sweep's levels under [`Caps`].
 pub const CAPPED_QUASI_LEVELS: usize = 4;
 
+/// The slow steps per period of the pattern under [`Caps`] (coarser than
+/// asked: the caps bound the work on unchecked input, not its accuracy).
+pub const CAPPED_SLOW_STEPS: usize = 64;
+
 /// One point of the quasi-static transfer curve.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct TransferPoint {
@@ -260,7 +264,10 @@ pub fn keying(
     let transfer = transfer_curve(circuit, spec, levels)?;
 
     // a whole number of slow steps in each period of the pattern
-    let per_cycle = (period / spec.slow_step()).ceil().max(1.0) as usize;
+    let mut per_cycle = (period / spec.slow_step()).ceil().max(1.0) as usize;
+    if caps.is_some() {
+        per_cycle = per_cycle.min(CAPPED_SLOW_STEPS);
+    }
     let h = period / per_cycle as f64;
     let steps = per_cycle * cycles;
     let watch: Vec<_> = [a, b]
