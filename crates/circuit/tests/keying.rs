@@ -122,9 +122,11 @@ fn offset_rules_belong_to_sidebands() {
     assert_eq!(e.circuit.requirements[0].metric.figure, Figure::Sidebands);
     assert_eq!(e.circuit.requirements[1].bound, Bound::Value(0.003));
     // a sideband mask takes only <=
-    assert!(codes("mask clicks { offset 1Hz to 2Hz below 3dB }\nrequire sidebands >= clicks\n")
-        .iter()
-        .any(|c| c == "syntax"));
+    assert!(
+        codes("mask clicks { offset 1Hz to 2Hz below 3dB }\nrequire sidebands >= clicks\n")
+            .iter()
+            .any(|c| c == "syntax")
+    );
     // an offset range goes upward
     assert!(!codes("mask clicks { offset 2kHz to 1kHz below 3dB }\n").is_empty());
 }
@@ -133,7 +135,13 @@ fn offset_rules_belong_to_sidebands() {
 fn the_envelope_is_the_rectangle_smoothed_by_the_edge() {
     // a dot train at 25 wpm with 5 ms raised-cosine edges: period 96 ms,
     // key-down from 24 ms to 72 ms at half amplitude
-    let k = KeyingSpec::new(1.2 / 25.0, Pattern::Dots, EdgeShape::RaisedCosine, 5e-3, 5e-3);
+    let k = KeyingSpec::new(
+        1.2 / 25.0,
+        Pattern::Dots,
+        EdgeShape::RaisedCosine,
+        5e-3,
+        5e-3,
+    );
     let env = KeyingEnvelope::new(&k);
     assert_eq!(env.intervals().len(), 1);
     let (s, e) = env.intervals()[0];
@@ -151,7 +159,9 @@ fn the_envelope_is_the_rectangle_smoothed_by_the_edge() {
                 let x = -t_full / 2.0 + (j as f64 + 0.5) * h;
                 let inside = (t - x) >= s && (t - x) <= e;
                 if inside {
-                    std::f64::consts::PI / (2.0 * t_full) * (std::f64::consts::PI * x / t_full).cos() * h
+                    std::f64::consts::PI / (2.0 * t_full)
+                        * (std::f64::consts::PI * x / t_full).cos()
+                        * h
                 } else {
                     0.0
                 }
@@ -159,7 +169,11 @@ fn the_envelope_is_the_rectangle_smoothed_by_the_edge() {
             .sum();
         // midpoint rule: error O(h) at the rectangle's jumps, h = 11.8 ns ->
         // below 1e-3 of full amplitude
-        assert!((env.at(t) - conv).abs() < 1e-3, "t = {t}: {} vs {conv}", env.at(t));
+        assert!(
+            (env.at(t) - conv).abs() < 1e-3,
+            "t = {t}: {} vs {conv}",
+            env.at(t)
+        );
     }
     // periodic
     assert!((env.at(0.03) - env.at(0.03 + 0.096 * 3.0)).abs() < 1e-12);
@@ -167,7 +181,10 @@ fn the_envelope_is_the_rectangle_smoothed_by_the_edge() {
     let k = KeyingSpec::new(0.06, Pattern::Paris, EdgeShape::Gaussian, 5e-3, 5e-3);
     let env = KeyingEnvelope::new(&k);
     let n = 50_000;
-    let mean: f64 = (0..n).map(|i| env.at(i as f64 * 3.0 / n as f64)).sum::<f64>() / n as f64;
+    let mean: f64 = (0..n)
+        .map(|i| env.at(i as f64 * 3.0 / n as f64))
+        .sum::<f64>()
+        / n as f64;
     // each edge pair integrates to the rectangle exactly (symmetric step
     // responses), so only the sampling error of 60 us steps remains
     assert!((mean - 22.0 / 50.0).abs() < 1e-4, "{mean}");
