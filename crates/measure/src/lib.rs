@@ -7,8 +7,10 @@
 //! [`Metrics`] (output power per harmonic, supply power, efficiency, PAE,
 //! gain, drive impedance and VSWR, transistor figures, component stress),
 //! forms the two-tone figures of a multi-tone solve ([`two_tone_metrics`]),
-//! checks harmonics against emission masks ([`evaluate_mask`]) and checks
-//! every `require` statement ([`evaluate`]). It must not solve circuits and
+//! checks harmonics against emission masks ([`evaluate_mask`]), measures a
+//! keyed carrier's edges, sideband spectrum and occupied bandwidth from its
+//! sampled complex envelope ([`keying`]) and checks every `require`
+//! statement ([`evaluate`]). It must not solve circuits and
 //! does no formatting: verdicts carry typed values (a number and its
 //! [`Unit`]) that the report writes. Every figure is declared once, in the
 //! catalogue (`tankwave_circuit::figure_catalogue!`, computed here in
@@ -37,6 +39,7 @@
 pub mod base_return;
 pub mod error;
 pub mod figure;
+pub mod keying;
 pub mod load;
 pub mod mask;
 pub mod metrics;
@@ -48,6 +51,11 @@ pub mod verdict;
 
 pub use error::MeasureError;
 pub use figure::{About, Figure};
+pub use keying::{
+    necessary_bandwidth_hz, sideband_margin, try_keying_edges, try_sideband_spectrum, KeyingEdges,
+    KeyingError, OccupiedBand, SidebandMargin, SidebandMask, SidebandParams, SidebandSpectrum,
+    SpectrumWindow,
+};
 pub use load::{collector_loads, CollectorLoad, HarmonicLoad, LOAD_HARMONICS};
 pub use mask::{evaluate_mask, HarmonicRow, MaskError, MaskEvaluation};
 pub use metrics::{
