@@ -27,6 +27,7 @@ mod golden;
 mod handles;
 mod harness;
 mod hostile;
+mod keying;
 mod layering;
 mod loadpull;
 mod readme;

@@ -43,6 +43,10 @@ pub const QUASI_ENOUGH: f64 = 0.01;
 /// The quasi-static drive sweep's levels under [`Caps`].
 pub const CAPPED_QUASI_LEVELS: usize = 4;
 
+/// The default span of the sideband spectrum, in necessary bandwidths
+/// (the option table's "ten times the necessary bandwidth").
+pub const SPAN_PER_NECESSARY: f64 = 10.0;
+
 /// The slow steps per period of the pattern under [`Caps`] (coarser than
 /// asked: the caps bound the work on unchecked input, not its accuracy).
 pub const CAPPED_SLOW_STEPS: usize = 64;
@@ -312,8 +316,8 @@ pub fn keying(
     if dynamic.iter().any(|v| !v.is_finite()) {
         return Err(bad("envelope following gave a non-finite output".into()));
     }
-    let figures = envelope_figures(spec, &dynamic, h, key_down)?;
-    let quasi_figures = envelope_figures(spec, &quasi, h, key_down)?;
+    let figures = envelope_figures(spec, &dynamic, h, key_down, r)?;
+    let quasi_figures = envelope_figures(spec, &quasi, h, key_down, r)?;
     Ok(KeyingRun {
         spec: spec.clone(),
         carrier_hz: freq,
@@ -334,26 +338,45 @@ pub fn keying(
 
 /// The keying figures of one output envelope (fundamental phasors, V, at
 /// steps of `dt` over one period of the pattern), against the key-down
-/// amplitude `key_down` (|X₁| at full drive).
+/// phasor magnitude `key_down` (|X₁| at full drive, the quasi-static
+/// curve's end) and the load `r_ohm`. Rise, fall and overshoot are taken
+/// on the envelope's own settled key-down level; the sideband levels and
+/// the occupied band on the key-down carrier (so that the two envelopes
+/// are read against the same 0 dBc).
 fn envelope_figures(
     spec: &KeyingSpec,
     env: &[C64],
     dt: f64,
     key_down: f64,
+    r_ohm: f64,
 ) -> Result<KeyingFigures, StageError> {
-    let _ = (env, dt, key_down);
+    use tankwave_measure::keying::{
+        necessary_bandwidth_hz, try_keying_edges, try_sideband_spectrum, SidebandParams,
+    };
+    let magnitude: Vec<f64> = env.iter().map(|v| v.norm()).collect();
+    let edges = try_keying_edges(&magnitude, dt).ok();
+    let necessary =
+        necessary_bandwidth_hz(spec.baud(), spec.k_factor).map_err(|e| bad(e.to_string()))?;
+    let span = spec.span.unwrap_or(SPAN_PER_NECESSARY * necessary);
+    let params = SidebandParams {
+        rbw_hz: spec.rbw,
+        max_offset_hz: Some(span),
+        key_down_amplitude: Some(key_down),
+        ..SidebandParams::default()
+    };
+    let sp = try_sideband_spectrum(env, dt, &params).map_err(|e| bad(e.to_string()))?;
     Ok(KeyingFigures {
-        rise_s: None,
-        fall_s: None,
-        overshoot: None,
-        occupied_bw_hz: None,
-        occupied_band_hz: None,
-        necessary_bw_hz: spec.necessary_bandwidth(),
-        key_down_w: 0.0,
-        sideband_offsets_hz: Vec::new(),
-        sideband_dbc: Vec::new(),
-        rbw_hz: 0.0,
-        line_spacing_hz: 0.0,
-        window: String::new(),
+        rise_s: edges.as_ref().map(|e| e.rise_s),
+        fall_s: edges.as_ref().map(|e| e.fall_s),
+        overshoot: edges.as_ref().map(|e| e.overshoot_pct / 100.0),
+        occupied_bw_hz: Some(sp.occupied.width_hz),
+        occupied_band_hz: Some([sp.occupied.lower_hz, sp.occupied.upper_hz]),
+        necessary_bw_hz: necessary,
+        key_down_w: 2.0 * key_down * key_down / r_ohm,
+        sideband_offsets_hz: sp.offsets_hz,
+        sideband_dbc: sp.dbc,
+        rbw_hz: sp.rbw_hz,
+        line_spacing_hz: sp.line_spacing_hz,
+        window: format!("{:?}", sp.window).to_lowercase(),
     })
 }
