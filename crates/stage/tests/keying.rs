@@ -111,3 +111,65 @@ fn base_leak_memory_decides_whether_quasi_static_is_enough() {
         k.departure
     );
 }
+
+/// A raised-cosine-keyed linear stage against the analytic spectrum of a
+/// pulse with raised-cosine edges, |E(f)| = W·|sinc(fW)|·|cos(πfT)/(1 −
+/// 4f²T²)| (W the width at half amplitude, T the full edge; the source and
+/// its numerical check: docs/check-values.md, "Keying"). The divider's
+/// output envelope is the drive envelope times the key-down phasor, so the
+/// dot train's lines are |E(m/P)|/P (P the period, Fourier series of a
+/// periodic pulse — common practice) in amplitude relative to the key-down
+/// carrier. Lines read from N = P/h samples differ from these by the
+/// aliased lines m + qN, q ≠ 0 (the sum of |E((m+qN)/P)|/P over
+/// |q| ≤ 50 is the bound, the rest smaller still as |E| falls like f⁻³),
+/// plus 1e-9 for rounding; the divider is linear, so each slow step's
+/// Newton iteration is exact to rounding.
+#[test]
+fn a_raised_cosine_keyed_linear_stage_has_the_analytic_sidebands() {
+    let text = "voltage vdrv src gnd wave=sine(amp=10V, freq=7MHz) internal=50Ohm\n\
+        resistor rload src gnd 50Ohm\noutput rload\ninput vdrv\n\
+        analyze steady freq=7MHz harmonics=4\n\
+        analyze keying wpm=40 rise=3ms cycles=1 span=2kHz\n";
+    let c = common::circuit(text);
+    let s = spec(&c);
+    let devices = tankwave_devices::instantiate(&c).unwrap();
+    let k = keying(&c, &devices, &s, None).expect("keying");
+    let f = &k.figures;
+    let period = 2.0 * s.unit;
+    let w = s.unit;
+    let t = tankwave_circuit::keying::EdgeShape::RaisedCosine.full_edge(s.rise);
+    let e = |freq: f64| -> f64 {
+        let x = std::f64::consts::PI * freq * w;
+        let sinc = if x == 0.0 { 1.0 } else { x.sin() / x };
+        let d = 1.0 - 4.0 * freq * freq * t * t;
+        let edge = if d.abs() < 1e-12 {
+            std::f64::consts::FRAC_PI_4
+        } else {
+            (std::f64::consts::PI * freq * t).cos() / d
+        };
+        (w * sinc * edge).abs()
+    };
+    let n = k.dynamic.len() as f64;
+    let mut checked = 0;
+    for (off, dbc) in f.sideband_offsets_hz.iter().zip(&f.sideband_dbc) {
+        let want = e(*off) / period;
+        let alias: f64 = (1..=50)
+            .flat_map(|q| [q as f64, -(q as f64)])
+            .map(|q| e(off + q * n / period) / period)
+            .sum();
+        let got = 10f64.powf(dbc / 20.0);
+        assert!(
+            (got - want).abs() <= alias + 1e-9,
+            "offset {off} Hz: {got} against {want} (aliasing bound {alias})"
+        );
+        checked += 1;
+    }
+    assert!(checked > 100, "{checked} lines checked");
+    // the carrier line of a 50 % dot train: half the amplitude, −6.02 dBc
+    let zero = f
+        .sideband_offsets_hz
+        .iter()
+        .position(|o| o.abs() < 1e-9)
+        .unwrap();
+    assert!((f.sideband_dbc[zero] + 6.0206).abs() < 1e-3);
+}
