@@ -7,7 +7,8 @@
 //! solve of random small circuits (`fuzz_smoke`), the demo outputs against
 //! golden files (`golden`), the typed handles against the displayed names on
 //! every demo (`handles`),
-//! hostile input from strangers (`hostile`), the crate layering and
+//! hostile input from strangers (`hostile`), CW keying end to end
+//! (`keying`), a fitted measured network in the reports (`measured`), the crate layering and
 //! syntax-tree boundary (`layering`), and the README commands as written
 //! (`readme`). Data lives under
 //! tests/data/.
@@ -30,6 +31,7 @@ mod hostile;
 mod keying;
 mod layering;
 mod loadpull;
+mod measured;
 mod readme;
 mod ruggedness;
 mod trade;

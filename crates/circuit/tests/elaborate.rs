@@ -421,15 +421,21 @@ fn a_broken_declaration_is_not_reported_again_where_used() {
 #[test]
 fn every_option_word_is_read_and_a_misspelt_one_is_an_error() {
     use tankwave_circuit::options::analysis;
-    let base = "voltage v1 a gnd dc=1V\nresistor r1 a gnd 50Ohm\n";
+    let plain = "voltage v1 a gnd dc=1V\nresistor r1 a gnd 50Ohm\n";
+    // a keying keys the input's sine into the output resistor
+    let keyed = "voltage v1 a gnd wave=sine(amp=1V, freq=7MHz)\nresistor r1 a gnd 50Ohm\n\
+                 output r1\ninput v1\n";
     let required = |kind: &str| match kind {
         "transient" => "stop=1us",
         "ac" => "from=1MHz to=2MHz",
         "steady" => "freq=1MHz",
+        "keying" => "wpm=20",
         _ => "",
     };
     let mut checked = 0;
     for (kind, table) in analysis::ALL {
+        let base = if *kind == "keying" { keyed } else { plain };
+        let at_line = base.lines().count() as u32 + 1;
         for o in table.iter() {
             for w in o.words() {
                 let line = format!("analyze {kind} {} {}={w}", required(kind), o.name);
@@ -442,7 +448,7 @@ fn every_option_word_is_read_and_a_misspelt_one_is_an_error() {
                 assert_eq!(d.code, "unknown-keyword", "{line}");
                 assert_eq!(
                     (d.line, d.column as usize),
-                    (3, line.rfind('=').unwrap() + 2),
+                    (at_line, line.rfind('=').unwrap() + 2),
                     "{line}"
                 );
                 assert_eq!(
@@ -454,8 +460,9 @@ fn every_option_word_is_read_and_a_misspelt_one_is_an_error() {
             }
         }
     }
-    // start (2), transient method (3), scale (2), steady method (4).
-    assert_eq!(checked, 11);
+    // start (2), transient method (3), scale (2), steady method (4),
+    // keying pattern (2) and shape (3).
+    assert_eq!(checked, 16);
 }
 
 /// Defaults come from the declaration: an analysis with only its required

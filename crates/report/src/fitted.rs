@@ -71,6 +71,74 @@ pub fn fits_text(c: &Circuit) -> String {
     s
 }
 
+/// The fits as a section of the HTML report (the text's figures as a
+/// table); `None` without any.
+pub fn fits_section(c: &Circuit) -> Option<crate::html::StudySection> {
+    let all = fits(c);
+    if all.is_empty() {
+        return None;
+    }
+    let rows = all
+        .iter()
+        .map(|(name, (lo, hi), f)| {
+            vec![
+                name.to_string(),
+                poles_text(f),
+                format!(
+                    "{} to {}",
+                    si_prefixed(*lo, "Hz", 3),
+                    si_prefixed(*hi, "Hz", 3)
+                ),
+                format!(
+                    "{} at {}",
+                    percent(f.info.worst_error),
+                    si_prefixed(f.info.worst_at, "Hz", 3)
+                ),
+                percent(f.info.rms_error),
+                if f.passivity.passes == 0 {
+                    "passive as fitted".to_string()
+                } else {
+                    format!(
+                        "{} pass(es), worst error before {}",
+                        f.passivity.passes,
+                        percent(f.passivity.error_before)
+                    )
+                },
+                format!(
+                    "{} against {}",
+                    si_prefixed(f.dc[0], "S", 3),
+                    si_prefixed(f.dc_rule[0], "S", 3)
+                ),
+            ]
+        })
+        .collect();
+    Some(crate::html::StudySection {
+        title: "Measured networks in the time domain".into(),
+        lines: vec![(
+            "use".into(),
+            "transient, shooting and settle use the fitted rational model; harmonic balance and \
+             AC use the file itself"
+                .into(),
+        )],
+        table: Some(crate::html::PlainTable {
+            header: [
+                "element",
+                "model",
+                "file's band",
+                "worst error",
+                "RMS error",
+                "passivity",
+                "at 0 Hz (rule)",
+            ]
+            .iter()
+            .map(|h| h.to_string())
+            .collect(),
+            rows,
+        }),
+        figures: Vec::new(),
+    })
+}
+
 /// The fits as JSON (`measured_fits`, docs/output.md); `None` without any.
 pub fn fits_json(c: &Circuit) -> Option<Value> {
     let all = fits(c);

@@ -218,6 +218,7 @@ pub fn stage_report(
                         crate::keying::keying_section(c, k, &PlotParams::for_source(file))
                     }),
                 )
+                .chain(crate::fitted::fits_section(c))
                 .collect(),
             intro: Vec::new(),
             stage_label: None,
