@@ -265,6 +265,16 @@ fn the_large_signal_check_finds_agreement_with_its_own_model_and_a_difference_wi
     );
 }
 
+/// The large-signal check's arguments: the data of `dir` in `stage`.
+fn power_args(dir: &str, stage: &str) -> [String; 4] {
+    [
+        "--power".into(),
+        format!("{dir}/power.csv"),
+        "--power-stage".into(),
+        stage.into(),
+    ]
+}
+
 #[test]
 fn fit_checks_the_model_against_the_bundled_large_signal_data() {
     let tmp = tempfile::tempdir().unwrap();
@@ -274,12 +284,9 @@ fn fit_checks_the_model_against_the_bundled_large_signal_data() {
         "tw_gen20",
         dir,
         &out,
-        &[
-            "--power",
-            &format!("{dir}/power.csv"),
-            "--power-stage",
-            &format!("{dir}/test-stage.tank"),
-        ],
+        &power_args(dir, &format!("{dir}/test-stage.tank"))
+            .each_ref()
+            .map(String::as_str),
     );
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let text = String::from_utf8_lossy(&o.stdout).into_owned();
@@ -320,12 +327,7 @@ fn a_test_stage_that_does_not_load_is_refused_with_its_line_and_nothing_written(
         "tw_gen20",
         dir,
         &out,
-        &[
-            "--power",
-            &format!("{dir}/power.csv"),
-            "--power-stage",
-            p(&stage),
-        ],
+        &power_args(dir, p(&stage)).each_ref().map(String::as_str),
     );
     assert_eq!(code(&o), 2, "{}", stderr(&o));
     assert!(stderr(&o).contains("bad-stage.tank:3:"), "{}", stderr(&o));

@@ -233,9 +233,18 @@ fn linear_tank_envelope_matches_a_demodulated_plain_transient() {
         harmonics: 2,
         stop,
         step: 0.5e-6,
+        keep_every: 3,
+        watch: vec![u],
         ..EnvelopeParams::default()
     };
     let s = envelope(&b.c, &d, &p, &|t| edge(t, rise)).unwrap();
+    // the watched fundamental is kept at every step (0..=120), and equals
+    // the kept phasor at each kept sample (every third step and the last)
+    assert_eq!(s.watched[0].len(), 121);
+    for (i, t) in s.times.iter().enumerate() {
+        let step = (t / s.info.step).round() as usize;
+        assert_eq!(Some(s.watched[0][step]), s.phasor(i, 1, u), "step {step}");
+    }
     let per = 64;
     let tp = TransientParams {
         stop,

@@ -54,22 +54,6 @@ def reference():
     return p1, dbc
 
 
-def find(o, key):
-    if isinstance(o, dict):
-        for k, v in o.items():
-            if k == key:
-                return v
-            r = find(v, key)
-            if r is not None:
-                return r
-    elif isinstance(o, list):
-        for v in o:
-            r = find(v, key)
-            if r is not None:
-                return r
-    return None
-
-
 def run_tankwave():
     t0 = time.perf_counter()
     p = subprocess.run([BIN, "run", STAGE, "--format", "json"],
