@@ -504,8 +504,9 @@ fn crossing(m: &[f64], k: usize, level: f64) -> f64 {
 /// Rise and fall times, half-level width and overshoot of the first
 /// key-down pulse in `magnitude` (|a| sampled every `dt_s` seconds).
 ///
-/// The record must start below 10 % of the settled key-down level, rise
-/// to key-down and fall back below 10 % before it ends; otherwise
+/// The pulse must rise through 10 % of the settled key-down level inside
+/// the record (so the record starts below it), reach key-down and fall back
+/// below 10 % before the record ends; otherwise
 /// [`KeyingError::NoRisingEdge`] or [`KeyingError::NoFallingEdge`]. Edge
 /// times are read between samples by linear interpolation; the crossings
 /// used are the last rise through a threshold before the pulse reaches
