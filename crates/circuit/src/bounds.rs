@@ -213,6 +213,7 @@ fn option_span(options: &[Opt], key: &str) -> Option<Span> {
             OptValue::Expr(e) => e.span,
             OptValue::List(_, span) => *span,
             OptValue::Wave(_) => o.key.span,
+            OptValue::Text(_, span) => *span,
         })
 }
 
@@ -315,7 +316,7 @@ pub(crate) fn analysis(
             }
         }
         Analysis::Keying(k) => {
-            let period = k.pattern.units().len() as f64 * k.unit;
+            let period = k.units().len() as f64 * k.unit;
             let steps = k.cycles as f64 * period / k.slow_step();
             if steps > LIMITS.max_slow_steps {
                 out.push(too_many(
@@ -456,7 +457,7 @@ pub fn analysis_bytes(c: &Circuit, a: &Analysis) -> f64 {
         Analysis::Keying(k) => {
             let kk = crate::keying::KEYING_HARMONICS as f64;
             let balance = 2.0 * 8.0 * (ports * (2.0 * kk + 1.0)).powi(2) + 2.0 * dense * (kk + 1.0);
-            let period = k.pattern.units().len() as f64 * k.unit;
+            let period = k.units().len() as f64 * k.unit;
             balance
                 + 16.0 * u * (kk + 1.0) * crate::keying::KEPT_SAMPLES as f64
                 + 32.0 * k.cycles as f64 * period / k.slow_step()

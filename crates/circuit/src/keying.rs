@@ -37,11 +37,12 @@
 //! use tankwave_circuit::keying::{EdgeShape, KeyingEnvelope, KeyingSpec, Pattern};
 //! let spec = KeyingSpec::new(1.2 / 25.0, Pattern::Dots, EdgeShape::RaisedCosine, 5e-3, 5e-3);
 //! let env = KeyingEnvelope::new(&spec);
-//! // a dot train: one unit key-up, one unit key-down, period 2 units = 96 ms
+//! // a dot train: one unit key-up, one unit key-down, period 2 units = 96 ms;
+//! // time 0 is the middle of a key-up unit
 //! assert!((env.period() - 0.096).abs() < 1e-12);
-//! assert!(env.at(0.024).abs() < 1e-12); // key up
-//! assert!((env.at(0.072) - 1.0).abs() < 1e-12); // key down
-//! assert!((env.at(0.048) - 0.5).abs() < 1e-12); // half amplitude at the element's start
+//! assert!(env.at(0.0).abs() < 1e-12); // key up
+//! assert!((env.at(0.048) - 1.0).abs() < 1e-12); // key down
+//! assert!((env.at(0.024) - 0.5).abs() < 1e-12); // half amplitude at the element's start
 //! ```
 
 use crate::ir::ElementId;
@@ -78,6 +79,62 @@ pub fn unit_from_wpm(wpm: f64) -> f64 {
 /// minute.
 pub fn baud_from_wpm(wpm: f64) -> f64 {
     1.0 / unit_from_wpm(wpm)
+}
+
+/// The International Morse code of the characters a `message=` may hold
+/// (ITU-R M.1677-1, part I, from memory): `.` a dot, `-` a dash.
+#[rustfmt::skip]
+pub const MORSE: &[(char, &str)] = &[
+    ('A', ".-"), ('B', "-..."), ('C', "-.-."), ('D', "-.."), ('E', "."), ('F', "..-."),
+    ('G', "--."), ('H', "...."), ('I', ".."), ('J', ".---"), ('K', "-.-"), ('L', ".-.."),
+    ('M', "--"), ('N', "-."), ('O', "---"), ('P', ".--."), ('Q', "--.-"), ('R', ".-."),
+    ('S', "..."), ('T', "-"), ('U', "..-"), ('V', "...-"), ('W', ".--"), ('X', "-..-"),
+    ('Y', "-.--"), ('Z', "--.."),
+    ('0', "-----"), ('1', ".----"), ('2', "..---"), ('3', "...--"), ('4', "....-"),
+    ('5', "....."), ('6', "-...."), ('7', "--..."), ('8', "---.."), ('9', "----."),
+    ('.', ".-.-.-"), (',', "--..--"), ('?', "..--.."), ('\'', ".----."), ('/', "-..-."),
+    ('(', "-.--."), (')', "-.--.-"), (':', "---..."), ('=', "-...-"), ('+', ".-.-."),
+    ('-', "-....-"), ('"', ".-..-."), ('@', ".--.-."),
+];
+
+/// The units of a message keyed in Morse code, one period, starting with
+/// the word space (7 units key-up) so that the period starts key-up and
+/// repeats with a word space between repetitions: a dot 1 unit, a dash 3,
+/// 1 unit between the elements of a character, 3 between characters, 7
+/// between words (ITU-R M.1677-1, from memory). Letters are read without
+/// case; runs of spaces are one word space. `Err` names the first
+/// character that has no code; a message with no character is `Err(' ')`.
+pub fn message_units(message: &str) -> Result<Vec<bool>, char> {
+    let mut u = vec![false; 7];
+    let mut any = false;
+    for (w, word) in message.split_whitespace().enumerate() {
+        if w > 0 {
+            u.extend([false; 7]);
+        }
+        for (i, c) in word.chars().enumerate() {
+            let up = c.to_ascii_uppercase();
+            let code = MORSE
+                .iter()
+                .find(|(k, _)| *k == up)
+                .map(|(_, v)| *v)
+                .ok_or(c)?;
+            if i > 0 {
+                u.extend([false; 3]);
+            }
+            for (j, e) in code.chars().enumerate() {
+                if j > 0 {
+                    u.push(false);
+                }
+                u.extend(std::iter::repeat_n(true, if e == '-' { 3 } else { 1 }));
+            }
+            any = true;
+        }
+    }
+    if any {
+        Ok(u)
+    } else {
+        Err(' ')
+    }
 }
 
 /// The shape of the keying edges.
@@ -168,24 +225,7 @@ impl Pattern {
     pub fn units(self) -> Vec<bool> {
         match self {
             Pattern::Dots => vec![false, true],
-            Pattern::Paris => {
-                // P .--.  A .-  R .-.  I ..  S ...
-                let letters: [&str; 5] = [".--.", ".-", ".-.", "..", "..."];
-                let mut u = vec![false; 7];
-                for (i, l) in letters.iter().enumerate() {
-                    if i > 0 {
-                        u.extend([false; 3]);
-                    }
-                    for (j, c) in l.chars().enumerate() {
-                        if j > 0 {
-                            u.push(false);
-                        }
-                        let n = if c == '-' { 3 } else { 1 };
-                        u.extend(std::iter::repeat_n(true, n));
-                    }
-                }
-                u
-            }
+            Pattern::Paris => message_units("PARIS").unwrap_or_default(),
         }
     }
 }
@@ -219,6 +259,8 @@ pub struct KeyingSpec {
     /// The `K` of the necessary bandwidth `B·K` (ITU Radio Regulations
     /// Appendix 1: 5 for fading circuits, 3 for non-fading).
     pub k_factor: f64,
+    /// A text keyed in Morse code instead of `pattern` (`message=`).
+    pub message: Option<String>,
 }
 
 impl KeyingSpec {
@@ -236,6 +278,24 @@ impl KeyingSpec {
             rbw: None,
             span: None,
             k_factor: 5.0,
+            message: None,
+        }
+    }
+
+    /// One period of what is keyed, unit by unit (`true` key-down),
+    /// starting key-up: the message when there is one, else the pattern.
+    pub fn units(&self) -> Vec<bool> {
+        match &self.message {
+            Some(m) => message_units(m).unwrap_or_default(),
+            None => self.pattern.units(),
+        }
+    }
+
+    /// What is keyed, for people: `message "…"` or `pattern WORD`.
+    pub fn keyed_text(&self) -> String {
+        match &self.message {
+            Some(m) => format!("message \"{}\"", crate::escape::escape(m)),
+            None => format!("pattern {}", self.pattern.word()),
         }
     }
 
@@ -278,7 +338,7 @@ pub struct KeyingEnvelope {
 impl KeyingEnvelope {
     /// The envelope of `spec`.
     pub fn new(spec: &KeyingSpec) -> Self {
-        let units = spec.pattern.units();
+        let units = spec.units();
         let mut intervals = Vec::new();
         let mut i = 0;
         while i < units.len() {

@@ -52,6 +52,8 @@ pub enum Takes {
     Part,
     /// A waveform (`sine(…)`, `square(…)`, `table(…)`).
     Wave,
+    /// A double-quoted text (`"CQ TEST"`).
+    Text,
 }
 
 /// What holds when an option is left out.
@@ -112,6 +114,7 @@ impl OptionSpec {
             Takes::Node => s.push_str("NODE"),
             Takes::Part => s.push('P'),
             Takes::List(..) => s.push_str("[…]"),
+            Takes::Text => s.push_str("\"…\""),
             Takes::Value(..) | Takes::Count(_) | Takes::Wave => {}
         }
         s.push('`');
@@ -658,6 +661,15 @@ pub mod analysis {
         Default::Word("dots"),
         "what is keyed, repeated: a dot train, or the reference word PARIS with its word space",
     );
+    /// `message=` of a keying.
+    pub const MESSAGE: OptionSpec = opt(
+        "message",
+        Takes::Text,
+        Default::Absent,
+        "a text keyed in Morse code instead of the pattern: letters, digits, spaces and . , ? ' / ( ) : = + - \" @",
+    );
+    /// The longest `message=` of a keying, characters.
+    pub const MESSAGE_MAX: usize = 200;
     /// `shape=` of a keying.
     pub const SHAPE: OptionSpec = opt(
         "shape",
@@ -754,8 +766,8 @@ pub mod analysis {
         (
             "keying",
             &[
-                WPM, BAUD, PATTERN, SHAPE, RISE, FALL, KEYED, CYCLES, SLOW_STEP, RBW, SPAN,
-                K_FACTOR,
+                WPM, BAUD, PATTERN, MESSAGE, SHAPE, RISE, FALL, KEYED, CYCLES, SLOW_STEP, RBW,
+                SPAN, K_FACTOR,
             ],
         ),
         (

@@ -286,6 +286,7 @@ fn option_exprs<'a>(v: &'a OptValue, out: &mut Vec<&'a Expr>) {
     match v {
         OptValue::Expr(x) => out.push(x),
         OptValue::List(xs, _) => out.extend(xs.iter()),
+        OptValue::Text(..) => {}
         OptValue::Wave(w) => {
             out.extend(w.args.iter().map(|a| &a.value));
             for (t, v) in &w.points {

@@ -189,3 +189,42 @@ fn the_envelope_is_the_rectangle_smoothed_by_the_edge() {
     // responses), so only the sampling error of 60 us steps remains
     assert!((mean - 22.0 / 50.0).abs() < 1e-4, "{mean}");
 }
+
+#[test]
+fn a_message_is_keyed_in_morse_code() {
+    use tankwave_circuit::keying::message_units;
+    // ITU-R M.1677-1 (from memory): E is one dot, T one dash; 7 units of
+    // word space open the period
+    assert_eq!(
+        message_units("E").unwrap(),
+        [vec![false; 7], vec![true]].concat()
+    );
+    let t = message_units("t").unwrap();
+    assert_eq!(t, [vec![false; 7], vec![true; 3]].concat());
+    // the reference word by the message path is the PARIS pattern: 50 units
+    assert_eq!(message_units("PARIS").unwrap(), Pattern::Paris.units());
+    // two words: 7 units between them; "E E" = 7 + 1 + 7 + 1
+    assert_eq!(message_units("E  E").unwrap().len(), 16);
+    assert_eq!(message_units("E#"), Err('#'));
+    assert_eq!(message_units("   "), Err(' '));
+    let k = spec("analyze keying wpm=20 message=\"cq de tw1\"\n");
+    assert_eq!(k.message.as_deref(), Some("cq de tw1"));
+    let env = KeyingEnvelope::new(&k);
+    assert!((env.period() - k.units().len() as f64 * k.unit).abs() < 1e-12);
+    // C -.-. Q --.- : 4 + 4 elements; D -.. E . : 3 + 1; T - W .-- 1 .----: 1 + 3 + 5
+    assert_eq!(env.intervals().len(), 21);
+    let has = |extra: &str, code: &str| {
+        let c = codes(extra);
+        assert!(c.iter().any(|x| x == code), "{extra}: {c:?}");
+    };
+    has("analyze keying wpm=20 message=\"CQ #1\"\n", "bad-value");
+    has("analyze keying wpm=20 message=\"  \"\n", "bad-value");
+    has(
+        "analyze keying wpm=20 message=\"E\" pattern=paris\n",
+        "syntax",
+    );
+    has("analyze keying wpm=20 message=5\n", "syntax");
+    has("analyze keying wpm=20 rise=3ms pattern=\"E\"\n", "syntax");
+    let long = format!("analyze keying wpm=20 message=\"{}\"\n", "E".repeat(201));
+    has(&long, "too-large");
+}

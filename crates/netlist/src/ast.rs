@@ -165,6 +165,8 @@ pub enum OptValue {
     /// A list of values in brackets (`vswr=[1.5, 2, 3]`), with the place
     /// of the whole list.
     List(Vec<Expr>, Span),
+    /// A double-quoted text (`message="CQ TEST"`), with its place.
+    Text(String, Span),
 }
 
 /// A `name=value` option.

@@ -440,6 +440,11 @@ impl<'a> Parser<'a> {
                         OptValue::Wave(self.wave()?)
                     } else if matches!(self.peek(), TokKind::LBrack) {
                         self.option_list()?
+                    } else if let TokKind::Str(text) = self.peek() {
+                        let text = text.clone();
+                        let span = self.tok().span;
+                        self.pos += 1;
+                        OptValue::Text(text, span)
                     } else {
                         OptValue::Expr(self.value()?)
                     };

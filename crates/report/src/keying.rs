@@ -55,11 +55,11 @@ fn strongest_beyond(f: &KeyingFigures, offset: f64) -> Option<f64> {
 /// The speed and edges, as one line.
 fn heading(k: &KeyingRun) -> String {
     format!(
-        "{} keyed at {:.4} wpm ({:.4} baud), pattern {}, {} edges {} rise / {} fall of the drive",
+        "{} keyed at {:.4} wpm ({:.4} baud), {}, {} edges {} rise / {} fall of the drive",
         k.source,
         k.spec.wpm(),
         k.spec.baud(),
-        k.spec.pattern.word(),
+        k.spec.keyed_text(),
         k.spec.shape.word(),
         si(k.spec.rise, "s"),
         si(k.spec.fall, "s")
@@ -456,6 +456,7 @@ pub fn keying_json(k: &KeyingRun) -> Value {
         "wpm": k.spec.wpm(),
         "baud": k.spec.baud(),
         "pattern": k.spec.pattern.word(),
+        "message": k.spec.message,
         "shape": k.spec.shape.word(),
         "rise_s": k.spec.rise,
         "fall_s": k.spec.fall,

@@ -102,10 +102,10 @@ pub fn stage_overview(file: &str, c: &Circuit, warnings: usize) -> String {
                 crate::format::si(p.reference, "Ω")
             ),
             Analysis::Keying(k) => format!(
-                "keying, {:.4} baud ({:.4} wpm), pattern {}, {} edges {} / {}",
+                "keying, {:.4} baud ({:.4} wpm), {}, {} edges {} / {}",
                 k.baud(),
                 k.wpm(),
-                k.pattern.word(),
+                k.keyed_text(),
                 k.shape.word(),
                 crate::format::si(k.rise, "s"),
                 crate::format::si(k.fall, "s")

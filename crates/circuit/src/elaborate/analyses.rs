@@ -359,6 +359,44 @@ impl<'a> Cx<'a> {
         debug_assert!(PARIS_UNITS > 0.0);
         let unit = 1.0 / baud;
         let pattern = self.opt_word(m, &o::PATTERN, &options::PATTERN_WORDS)?;
+        let message = match self.opt_text(m, &o::MESSAGE)? {
+            None => None,
+            Some((text, span)) => {
+                if m.contains_key(o::PATTERN.name) {
+                    self.error(
+                        "syntax",
+                        span,
+                        "analyze keying: give pattern= or message=, not both",
+                    );
+                    return None;
+                }
+                if text.chars().count() > o::MESSAGE_MAX {
+                    self.error(
+                        "too-large",
+                        span,
+                        format!(
+                            "a keying message is at most {} characters, got {}",
+                            o::MESSAGE_MAX,
+                            text.chars().count()
+                        ),
+                    );
+                    return None;
+                }
+                if let Err(c) = crate::keying::message_units(text) {
+                    let what = if c == ' ' {
+                        "the message has no character to key".to_string()
+                    } else {
+                        format!(
+                            "'{}' has no Morse code (letters, digits, spaces and . , ? ' / ( ) : = + - \" @)",
+                            c.escape_debug()
+                        )
+                    };
+                    self.error("bad-value", span, what);
+                    return None;
+                }
+                Some(text.to_string())
+            }
+        };
         let shape = self.opt_word(m, &o::SHAPE, &options::SHAPE_WORDS)?;
         let rise = self
             .opt_value(m, &o::RISE, "rise")?
@@ -443,6 +481,7 @@ impl<'a> Cx<'a> {
         spec.rbw = rbw;
         spec.span = span;
         spec.k_factor = k_factor;
+        spec.message = message;
         Some(Analysis::Keying(spec))
     }
 

@@ -583,7 +583,7 @@ impl<'a> Cx<'a> {
             None => Some(None),
             Some(opt) => match &opt.value {
                 OptValue::Wave(w) => self.wave(w, slot).map(Some),
-                OptValue::List(_, span) => {
+                OptValue::List(_, span) | OptValue::Text(_, span) => {
                     self.error(
                         "syntax",
                         *span,

@@ -74,6 +74,14 @@ impl<'a> Cx<'a> {
                 );
                 None
             }
+            OptValue::Text(_, span) => {
+                self.error(
+                    "syntax",
+                    *span,
+                    format!("option '{}' takes a value, not a quoted text", o.key.name),
+                );
+                None
+            }
             OptValue::List(_, span) => {
                 self.error(
                     "syntax",
@@ -153,6 +161,14 @@ impl<'a> Cx<'a> {
                 );
                 return None;
             }
+            OptValue::Text(_, span) => {
+                self.error(
+                    "syntax",
+                    *span,
+                    format!("option '{}' takes values, not a quoted text", spec.name),
+                );
+                return None;
+            }
         };
         let mut out = Vec::with_capacity(exprs.len());
         let mut ok = true;
@@ -180,6 +196,40 @@ impl<'a> Cx<'a> {
                     "syntax",
                     w.span,
                     format!("option '{}' takes names, not a wave shape", spec.name),
+                );
+                None
+            }
+            OptValue::Text(_, span) => {
+                self.error(
+                    "syntax",
+                    *span,
+                    format!("option '{}' takes names, not a quoted text", spec.name),
+                );
+                None
+            }
+        }
+    }
+
+    /// A text option (`message="…"`): the text and its place, `None` inside
+    /// when it was not given. `None`: an error was reported.
+    pub(super) fn opt_text(
+        &mut self,
+        m: &Given<'a>,
+        spec: &OptionSpec,
+    ) -> Option<Option<(&'a str, Span)>> {
+        let Some(o) = m.get(spec.name) else {
+            return Some(None);
+        };
+        match &o.value {
+            OptValue::Text(t, span) => Some(Some((t.as_str(), *span))),
+            _ => {
+                self.error(
+                    "syntax",
+                    o.key.span,
+                    format!(
+                        "option '{}' takes a quoted text, e.g. {}=\"CQ TEST\"",
+                        spec.name, spec.name
+                    ),
                 );
                 None
             }
