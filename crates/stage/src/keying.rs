@@ -120,20 +120,14 @@ fn bad(m: String) -> StageError {
     StageError::Keying(m)
 }
 
-/// The keyed source, its sine's frequency and the output resistor's nodes
-/// and resistance.
+/// The output resistor: its two nodes and its resistance, Ω.
+type OutputPort = (tankwave_circuit::NodeId, tankwave_circuit::NodeId, f64);
+
+/// The keyed source, its name, its sine's frequency and the output resistor.
 fn ports(
     circuit: &Circuit,
     spec: &KeyingSpec,
-) -> Result<
-    (
-        ElementId,
-        String,
-        f64,
-        (tankwave_circuit::NodeId, tankwave_circuit::NodeId, f64),
-    ),
-    StageError,
-> {
+) -> Result<(ElementId, String, f64, OutputPort), StageError> {
     let id = spec
         .source
         .or(circuit.input)
@@ -303,7 +297,7 @@ pub fn keying(
     let drive_s: Vec<f64> = range.clone().map(|i| env.at(i as f64 * h)).collect();
     let quasi: Vec<C64> = drive_s.iter().map(|&d| transfer_at(&transfer, d)).collect();
     let key_down = transfer.last().map_or(0.0, |p| p.output.norm());
-    if !(key_down > 0.0) {
+    if key_down.is_nan() || key_down <= 0.0 {
         return Err(bad(
             "the stage gives no output at full drive: nothing to key".into(),
         ));

@@ -325,7 +325,7 @@ impl<'a> Cx<'a> {
     }
 
     fn keying(&mut self, kind: &Ident, m: &super::opts::Given<'a>) -> Option<Analysis> {
-        use crate::keying::{KeyingSpec, PARIS_UNITS};
+        use crate::keying::KeyingSpec;
         let wpm = self.opt_value(m, &o::WPM, "wpm")?;
         let baud = self.opt_value(m, &o::BAUD, "baud")?;
         let baud = match (wpm, baud) {
@@ -356,7 +356,6 @@ impl<'a> Cx<'a> {
             );
             return None;
         }
-        debug_assert!(PARIS_UNITS > 0.0);
         let unit = 1.0 / baud;
         let pattern = self.opt_word(m, &o::PATTERN, &options::PATTERN_WORDS)?;
         let message = match self.opt_text(m, &o::MESSAGE)? {
