@@ -257,7 +257,7 @@ pub struct KeyingEdges {
 /// (the default) gives the exact lines. The others, for a record whose
 /// period is not exact, are the periodic (DFT-even) forms of F. J. Harris,
 /// "On the use of windows for harmonic analysis with the discrete Fourier
-/// transform", Proc. IEEE 66(1), 1978: w[n] = Σ_k (−1)^k a_k cos(2πkn/N).
+/// transform", Proc. IEEE 66(1), 1978: w\[n\] = Σ_k (−1)^k a_k cos(2πkn/N).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum SpectrumWindow {
@@ -289,7 +289,7 @@ impl SpectrumWindow {
         }
     }
 
-    /// The N window samples w[n], n = 0..N.
+    /// The N window samples w\[n\], n = 0..N.
     pub fn samples(self, n: usize) -> Vec<f64> {
         let a = self.coefficients();
         (0..n)
@@ -740,7 +740,7 @@ fn occupied_band(p: &[f64], half: usize, spacing: f64) -> OccupiedBand {
 ///
 /// Each offset shown is a line offset m/T. The level there is
 /// Σ_j H(j)·|ĉ_{m+j}|² / (G·|A|²) in dB, where ĉ are the windowed line
-/// coefficients Σ w[n] a[n] e^{−j2πmn/N} / Σ w[n] (Harris's coherent-gain
+/// coefficients Σ w\[n\] a\[n\] e^{−j2πmn/N} / Σ w\[n\] (Harris's coherent-gain
 /// correction), H the rectangular RBW filter's power response (1 inside
 /// ±RBW/2, ½ for a line exactly on an edge, 0 beyond), and G the same sum
 /// for a pure carrier at its own offset, so that a lone line reads its own

@@ -8,7 +8,7 @@
 //!   keying envelope: right when every memory of the stage (tank, bias
 //!   network) is short against the keying edges;
 //! - **dynamic**: envelope following
-//!   ([`tankwave_solve::periodic::envelope`]), harmonic balance at every
+//!   ([`mod@tankwave_solve::periodic::envelope`]), harmonic balance at every
 //!   slow step, which keeps the tank's and the bias network's memory.
 //!
 //! Both use [`KEYING_HARMONICS`] harmonics of the carrier. The figures
