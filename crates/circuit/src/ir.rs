@@ -1277,7 +1277,39 @@ pub struct Overrides {
     pub param_units: BTreeMap<String, String>,
 }
 
+/// The `output` element when it is a resistor: the load a two-tone test
+/// or a keying reads its powers in.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct OutputResistor<'a> {
+    /// The element's name.
+    pub name: &'a str,
+    /// Its first node.
+    pub a: NodeId,
+    /// Its second node.
+    pub b: NodeId,
+    /// Its resistance, Ω.
+    pub r: f64,
+}
+
 impl Circuit {
+    /// The `output` element as a resistor; `Err` says why it is not one
+    /// ("the file has no `output`", "the output 'x' is not a resistor").
+    pub fn output_resistor(&self) -> Result<OutputResistor<'_>, String> {
+        let out = self
+            .output
+            .and_then(|o| self.elements.get(o.index()))
+            .ok_or_else(|| "the file has no `output`".to_string())?;
+        match out.kind {
+            ElementKind::Resistor { a, b, r, .. } => Ok(OutputResistor {
+                name: &out.name,
+                a,
+                b,
+                r,
+            }),
+            _ => Err(format!("the output '{}' is not a resistor", out.name)),
+        }
+    }
+
     /// Look up a node by the name a person wrote (`gnd` gives [`NodeId::GROUND`]).
     pub fn node(&self, name: &str) -> Option<NodeId> {
         if name == "gnd" {

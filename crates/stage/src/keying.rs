@@ -145,14 +145,8 @@ fn ports(
         }
         _ => return Err(bad(format!("'{}' is not a source", el.name))),
     };
-    let out = circuit
-        .output
-        .and_then(|o| circuit.elements.get(o.index()))
-        .ok_or_else(|| bad("the file has no `output`".into()))?;
-    let ElementKind::Resistor { a, b, r, .. } = out.kind else {
-        return Err(bad(format!("the output '{}' is not a resistor", out.name)));
-    };
-    Ok((id, el.name.clone(), freq, (a, b, r)))
+    let out = circuit.output_resistor().map_err(bad)?;
+    Ok((id, el.name.clone(), freq, (out.a, out.b, out.r)))
 }
 
 /// The circuit with the sine of source `id` scaled by `k`.

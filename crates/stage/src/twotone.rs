@@ -89,13 +89,8 @@ pub fn two_tone(
         }
         _ => return Err(bad(format!("the input '{}' is not a source", el.name))),
     };
-    let out = circuit
-        .output
-        .and_then(|o| circuit.elements.get(o.index()))
-        .ok_or_else(|| bad("the file has no `output`".into()))?;
-    let ElementKind::Resistor { a, b, r, .. } = out.kind else {
-        return Err(bad(format!("the output '{}' is not a resistor", out.name)));
-    };
+    let out = circuit.output_resistor().map_err(bad)?;
+    let (a, b, r) = (out.a, out.b, out.r);
     let mut order = spec.order;
     let mut levels = spec.levels.clone();
     let mut spacings = if spec.spacings.len() >= 2 {

@@ -29,6 +29,34 @@ impl<'a> Cx<'a> {
         }
     }
 
+    /// A `source=` option (of `analyze KIND`): `None` inside when not
+    /// given; it must name a voltage or current source. `None`: an error
+    /// was reported.
+    fn source_option(
+        &mut self,
+        m: &super::opts::Given<'a>,
+        spec: &crate::options::OptionSpec,
+        kind: &str,
+    ) -> Option<Option<ElementId>> {
+        let Some(e) = self.given_expr(m, spec)? else {
+            return Some(None);
+        };
+        let id = self.name_of(e, "source")?;
+        let id = self.element_ref(&id, &format!("analyze {kind} source"))?;
+        if !matches!(
+            self.elem_kind(id),
+            Some(ElemKeyword::Voltage | ElemKeyword::Current)
+        ) {
+            self.error(
+                "element-kind",
+                e.span,
+                format!("analyze {kind} source must be a voltage or current source"),
+            );
+            return None;
+        }
+        Some(Some(id))
+    }
+
     fn unknown_analysis(&mut self, kind: &Ident) {
         let other = kind.name.as_str();
         if let Some(r) = vocab::retired(other, Place::Analysis) {
@@ -93,25 +121,7 @@ impl<'a> Cx<'a> {
             );
             return None;
         }
-        let source = match self.given_expr(m, &o::SOURCE)? {
-            None => None,
-            Some(e) => {
-                let id = self.name_of(e, "source")?;
-                let id = self.element_ref(&id, "analyze ac source")?;
-                if !matches!(
-                    self.elem_kind(id),
-                    Some(ElemKeyword::Voltage | ElemKeyword::Current)
-                ) {
-                    self.error(
-                        "element-kind",
-                        e.span,
-                        "analyze ac source must be a voltage or current source",
-                    );
-                    return None;
-                }
-                Some(id)
-            }
-        };
+        let source = self.source_option(m, &o::SOURCE, "ac")?;
         let impedance_at = match self.given_expr(m, &o::IMPEDANCE)? {
             None => None,
             Some(e) => {
@@ -419,25 +429,7 @@ impl<'a> Cx<'a> {
                 return None;
             }
         }
-        let source = match self.given_expr(m, &o::KEYED)? {
-            None => None,
-            Some(e) => {
-                let id = self.name_of(e, "source")?;
-                let id = self.element_ref(&id, "analyze keying source")?;
-                if !matches!(
-                    self.elem_kind(id),
-                    Some(ElemKeyword::Voltage | ElemKeyword::Current)
-                ) {
-                    self.error(
-                        "element-kind",
-                        e.span,
-                        "analyze keying source must be a voltage or current source",
-                    );
-                    return None;
-                }
-                Some(id)
-            }
-        };
+        let source = self.source_option(m, &o::KEYED, "keying")?;
         let cycles = self.opt_count(m, &o::CYCLES)?.unwrap_or(2);
         if cycles > o::CYCLES_MAX {
             let at = match self.given_expr(m, &o::CYCLES) {
@@ -497,12 +489,7 @@ impl<'a> Cx<'a> {
                 _ => None,
             })
             .collect();
-        let output_is_resistor = matches!(
-            c.output
-                .and_then(|id| c.elements.get(id.index()))
-                .map(|e| &e.kind),
-            Some(ElementKind::Resistor { .. })
-        );
+        let output_is_resistor = c.output_resistor().is_ok();
         for (k, span) in keyings {
             if !output_is_resistor {
                 self.error(
@@ -562,12 +549,7 @@ impl<'a> Cx<'a> {
         if spans.is_empty() {
             return;
         }
-        let output_is_resistor = matches!(
-            c.output
-                .and_then(|id| c.elements.get(id.index()))
-                .map(|e| &e.kind),
-            Some(ElementKind::Resistor { .. })
-        );
+        let output_is_resistor = c.output_resistor().is_ok();
         let input_sine = c
             .input
             .and_then(|id| c.elements.get(id.index()))
@@ -785,12 +767,7 @@ impl<'a> Cx<'a> {
             .analyses
             .iter()
             .any(|a| matches!(a, Analysis::Steady { .. }));
-        let output_is_resistor = matches!(
-            c.output
-                .and_then(|id| c.elements.get(id.index()))
-                .map(|e| &e.kind),
-            Some(ElementKind::Resistor { .. })
-        );
+        let output_is_resistor = c.output_resistor().is_ok();
         let spans: Vec<_> = c
             .analyses
             .iter()
