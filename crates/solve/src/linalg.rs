@@ -325,7 +325,18 @@ impl Factors {
     /// Solve `A x = b` in place.
     pub(crate) fn solve_in_place(&self, b: &mut [f64]) {
         let n = b.len();
-        let m = MatMut::from_column_major_slice_mut(b, n, 1);
+        self.solve_columns(b, n);
+    }
+
+    /// Solve `A X = B` in place for the `b.len() / n` columns of `B`,
+    /// stored one after the other (column-major, `n` rows): one pass of
+    /// the factors for the whole block.
+    pub(crate) fn solve_columns(&self, b: &mut [f64], n: usize) {
+        if n == 0 {
+            return;
+        }
+        let cols = b.len() / n;
+        let m = MatMut::from_column_major_slice_mut(&mut b[..n * cols], n, cols);
         match self {
             Factors::Dense(lu) => lu.solve_in_place(m),
             Factors::Sparse(lu) => lu.solve_in_place(m),

@@ -308,3 +308,63 @@ fn every_method_reports_a_relative_residual_within_its_tolerance() {
     assert_eq!(defaults.settle.rel_tolerance, 1e-6);
     assert_eq!(defaults.tol.rel_tolerance, 1e-6);
 }
+
+/// The half-wave rectifier of `support::rectifier` with its load resistor
+/// set to `r` Ω.
+fn rectifier_loaded(r: f64) -> B {
+    let mut b = rectifier(F);
+    for el in &mut b.c.elements {
+        if el.name == "rl" {
+            if let tankwave_circuit::ir::ElementKind::Resistor { r: v, .. } = &mut el.kind {
+                *v = r;
+            }
+        }
+    }
+    b
+}
+
+#[test]
+fn a_neighbours_warm_start_iterates_on_the_coarse_grid_and_a_refinements_does_not() {
+    // The rectifier with a 2 kΩ load, started from the orbit of the 1 kΩ
+    // one: a neighbour's state, far from this orbit (its mean output moves
+    // by tens of millivolts, hundreds of thousands of tolerance units).
+    // Taken as a neighbour, Newton iterates on the coarse grid first; only
+    // a start on the circuit's own orbit (auto's refinement,
+    // `initial_near_orbit`) may skip that and take just one coarse Φ.
+    let near = rectifier_loaded(1e3);
+    let dn = instantiate(&near.c).unwrap();
+    let mut params = SteadyParams {
+        freq: F,
+        harmonics: 16,
+        method: SteadyMethod::Shooting,
+        ..SteadyParams::default()
+    };
+    let from = steady(&near.c, &dn, &params).unwrap();
+    let b = rectifier_loaded(2e3);
+    let d = instantiate(&b.c).unwrap();
+    params.shooting.initial = Some(from.x.iter().map(|w| w[0]).collect());
+    let as_neighbour = steady(&b.c, &d, &params).unwrap();
+    params.shooting.initial_near_orbit = true;
+    let as_orbit = steady(&b.c, &d, &params).unwrap();
+    let (sn, so) = (
+        as_neighbour.info.shooting.expect("shooting"),
+        as_orbit.info.shooting.expect("shooting"),
+    );
+    eprintln!("as a neighbour's state: {sn:?}\nas the orbit's: {so:?}");
+    assert_eq!(sn.warmup_periods, 0, "{sn:?}");
+    assert!(
+        sn.coarse_periods >= 2,
+        "a neighbour's start iterates: {sn:?}"
+    );
+    assert_eq!(so.coarse_periods, 1, "an orbit's start takes one Φ: {so:?}");
+    // Both end within one tolerance unit (1e-7 of the peak + 1e-9 V) of the
+    // fixed point of the same period map; over the period the output's
+    // deviation is carried by its RC decay (multiplier e^(−T/RC) < 1): two
+    // units apart at most, four allowed for the floor of the other unknowns.
+    let k = d.names.iter().position(|s| s == "V[out]").unwrap();
+    let peak = as_orbit.x[k].iter().fold(0.0f64, |m, v| m.max(v.abs()));
+    let unit = as_orbit.info.tolerance * peak + 1e-9;
+    let dev = max_diff(&as_neighbour.x[k], &as_orbit.x[k]);
+    eprintln!("V[out] apart by {dev:.3e} V, a unit {unit:.3e} V");
+    assert!(dev <= 4.0 * unit, "{dev} V against a unit of {unit} V");
+}

@@ -17,6 +17,7 @@
 use num_complex::Complex64;
 use tankwave_circuit::{Analysis, Circuit, Element, ElementKind};
 use tankwave_measure::{Metrics, Verdict};
+use tankwave_solve::periodic::AccuracyEstimate;
 
 use crate::solve::{solve, Caps, Scope, SolveOptions};
 use crate::StageError;
@@ -79,6 +80,10 @@ pub struct LoadPoint {
     /// Newton iterations (harmonic balance), or periods integrated
     /// (shooting, settling), this load's steady state took.
     pub iterations: usize,
+    /// The error `method=auto` estimated for this load's steady state
+    /// and the target it was held to (`None` when it did not solve or the
+    /// method gave no estimate).
+    pub accuracy: Option<AccuracyEstimate>,
     /// Why it did not solve.
     pub failure: Option<String>,
 }
@@ -255,6 +260,7 @@ pub fn sweep_from(
                 verdicts: Vec::new(),
                 floquet_largest: None,
                 iterations: 0,
+                accuracy: None,
                 failure: None,
             };
             match solve_load(circuit, z, freq, warm.as_deref(), caps) {
@@ -263,6 +269,7 @@ pub fn sweep_from(
                     point.verdicts = s.verdicts;
                     point.floquet_largest = s.floquet_largest;
                     point.iterations = s.iterations;
+                    point.accuracy = s.accuracy;
                     warm = Some(s.warm);
                 }
                 Err(e) => point.failure = Some(e.to_string()),
@@ -303,6 +310,8 @@ pub struct Solved {
     pub floquet_largest: Option<f64>,
     /// Iterations (or periods) the steady state took.
     pub iterations: usize,
+    /// The error estimate of the steady state (`method=auto`).
+    pub accuracy: Option<AccuracyEstimate>,
     /// The state at the start of the period: the next load's warm start.
     pub warm: Vec<f64>,
 }
@@ -339,6 +348,7 @@ pub fn solve_load(
         warm: s.warm_start(),
         floquet_largest: s.solution.info.floquet.as_ref().map(|f| f.largest),
         iterations: s.solution.info.iterations,
+        accuracy: s.solution.info.accuracy.clone(),
         metrics: s.metrics,
         verdicts: r.verdicts,
     })

@@ -7,7 +7,8 @@ use std::path::PathBuf;
 use num_complex::Complex64;
 use tankwave_circuit::{Overrides, StageSource};
 use tankwave_stage::mismatch::{
-    delivered_fraction, gamma_magnitude, load_impedance, sweep, vswr_of, Circle,
+    delivered_fraction, gamma_magnitude, load_impedance, solve_load, steady_freq, sweep, vswr_of,
+    Circle,
 };
 
 #[test]
@@ -150,4 +151,86 @@ fn a_stage_without_an_output_resistor_is_refused() {
     )
     .unwrap_err();
     assert!(e.is_input(), "{e}");
+}
+
+/// The class-C demo's stage file.
+fn class_c_demo() -> tankwave_circuit::Circuit {
+    let f = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../../netlists/ism-13m56-classc.tank");
+    tankwave_stage::load(&f, &[], &Overrides::default())
+        .expect("loads")
+        .circuit
+}
+
+#[test]
+fn warm_sweep_gives_the_cold_solves_figures_within_the_accuracy_target() {
+    // Every load of a warm-started sweep (each load from its neighbour's
+    // solved state) against the same load solved cold. Both are refined by
+    // method=auto until their estimated error meets the file's target
+    // (docs/analyses.md, "Accuracy of the steady state"): each is within the
+    // target of the exact orbit, so the two differ by at most twice it. The
+    // VSWR 3 circle at 8 phases: the loads farthest apart the sweep meets.
+    let c = class_c_demo();
+    let freq = steady_freq(&c).expect("steady");
+    let circles = [Circle {
+        vswr: 3.0,
+        phases: 8,
+    }];
+    let s = sweep(&c, &circles, None).expect("runs");
+    assert_eq!(s.points.len(), 8, "every load is reported");
+    assert_eq!(s.unsolved, 0, "every load solves warm");
+    let mut compared = 0;
+    let mut worst = (0.0f64, 0.0f64);
+    for p in &s.points {
+        let warm = p.metrics.as_ref().expect("solved");
+        let ew = p.accuracy.as_ref().expect("auto's estimate");
+        assert!(ew.met, "warm at {}°: {ew:?}", p.phase_deg);
+        // stability is reported per load
+        let mu = p.floquet_largest.expect("verified");
+        assert!(mu < 1.0, "{mu}");
+        let Ok(cold) = solve_load(&c, p.z, freq, None, None) else {
+            // a load that does not solve cold is reported by the cold arm;
+            // the warm figures have nothing to be compared with there
+            continue;
+        };
+        compared += 1;
+        let ec = cold.accuracy.as_ref().expect("auto's estimate");
+        assert!(ec.met, "cold at {}°: {ec:?}", p.phase_deg);
+        let (pw, pc) = (
+            warm.output.as_ref().expect("output").p1_w,
+            cold.metrics.output.as_ref().expect("output").p1_w,
+        );
+        let dp = (pw - pc).abs() / pc;
+        worst.0 = worst.0.max(dp);
+        assert!(
+            dp <= 2.0 * ew.target.power_rel,
+            "P1 at {}°: warm {pw} W, cold {pc} W ({dp:.2e} relative)",
+            p.phase_deg
+        );
+        // the harmonic levels the estimate holds to level_error= (above
+        // −100 dBc, resolved in both)
+        let hw = &warm.output.as_ref().expect("output").harmonics;
+        let hc = &cold.metrics.output.as_ref().expect("output").harmonics;
+        for (a, b) in hw.iter().zip(hc).skip(1) {
+            let (Some(la), Some(lb)) = (a.dbc, b.dbc) else {
+                continue;
+            };
+            if la.min(lb) < ew.target.harmonics_above_dbc {
+                continue;
+            }
+            worst.1 = worst.1.max((la - lb).abs());
+            assert!(
+                (la - lb).abs() <= 2.0 * ew.target.harmonic_db,
+                "harmonic {} at {}°: warm {la} dBc, cold {lb} dBc",
+                a.n,
+                p.phase_deg
+            );
+        }
+        // the same stability verdict
+        assert!(cold.floquet_largest.expect("verified") < 1.0);
+    }
+    eprintln!(
+        "{compared} loads compared: P1 apart by {:.1e} at most, harmonic levels by {:.3} dB",
+        worst.0, worst.1
+    );
+    assert!(compared >= 6, "only {compared} loads solved cold");
 }

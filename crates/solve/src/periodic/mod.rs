@@ -207,6 +207,14 @@ pub struct ShootingParams {
     /// neighbouring variant (same unknowns). When given (and of the right
     /// length) the warm-up periods are skipped and Newton starts from it.
     pub initial: Option<Vec<f64>>,
+    /// `initial` is this circuit's own orbit solved on another grid
+    /// (`method=auto`'s refinement): nearer the fine orbit than the coarse
+    /// grid's orbit is, so the coarse level only takes its `Φ − I` there
+    /// for the fine grid's chord steps. When false (default: a neighbouring
+    /// variant's state, e.g. the next load of a mismatch sweep) the coarse
+    /// level iterates from it to within 10³ tolerance units first, as it
+    /// does after the warm-up.
+    pub initial_near_orbit: bool,
     /// Dense monodromy matrix or matrix-free Newton–Krylov (default auto, by size).
     pub mode: ShootingMode,
     /// Solve the orbit again on half the grid for the numerical floor
@@ -224,6 +232,7 @@ impl Default for ShootingParams {
             coarse_grid: true,
             rel_tolerance: 1e-7,
             initial: None,
+            initial_near_orbit: false,
             mode: ShootingMode::Auto,
             half_grid: true,
         }
@@ -438,6 +447,7 @@ fn refined_shooting(
         let mut p = grid.clone();
         p.steps_per_period = next_n;
         p.shooting.half_grid = false;
+        p.shooting.initial_near_orbit = true;
         p.shooting.initial = Some(
             fine.x
                 .iter()

@@ -27,7 +27,9 @@
 //! about a hundredfold without the cost of carrying `Φ` through the period;
 //! `Φ` is recomputed on the fine grid only when a chord step shrinks the error
 //! less than tenfold. A warm start from a solved neighbour skips the warm-up
-//! and only takes the coarse `Φ` at its point. Converged on the fine grid when
+//! and iterates on the coarse grid from its point; a start on this
+//! circuit's own orbit from another grid (auto's refinement,
+//! `initial_near_orbit`) only takes the coarse `Φ` there. Converged on the fine grid when
 //! every `|x_k(T) − x_k(0)|` AND every component of the update is within
 //! `rel_tolerance·max_n |x_k| + (voltage_floor | current_floor)`
 //! (the update test catches slow modes, whose periodicity error is tiny
@@ -170,21 +172,42 @@ impl PeriodLin {
         out.copy_from_slice(&s0);
     }
 
-    /// The dense `Φ`, one column per application (for small systems).
+    /// The dense `Φ` (for small systems): the identity carried through
+    /// every stored step as one block of `n` columns, each step's two
+    /// solves taken for the whole block (the same recursion as
+    /// [`PeriodLin::apply`], column by column).
     pub(crate) fn monodromy(&self) -> Mat<f64> {
         let n = self.n;
-        let mut phi = Mat::<f64>::zeros(n, n);
-        let mut e = vec![0.0; n];
-        let mut col = vec![0.0; n];
-        for j in 0..n {
-            e.fill(0.0);
-            e[j] = 1.0;
-            self.apply(&e, &mut col);
-            for i in 0..n {
-                phi[(i, j)] = col[i];
-            }
+        if n == 0 {
+            return Mat::<f64>::zeros(0, 0);
         }
-        phi
+        // column-major n×n blocks
+        let mut s0 = vec![0.0; n * n];
+        for j in 0..n {
+            s0[j * n + j] = 1.0;
+        }
+        let mut sg = vec![0.0; n * n];
+        let mut s1 = vec![0.0; n * n];
+        for st in &self.steps {
+            sg.fill(0.0);
+            for (src, dst) in s0.chunks_exact(n).zip(sg.chunks_exact_mut(n)) {
+                st.c0.mul_add(st.alpha1, src, dst);
+                st.g0.mul_add(-1.0, src, dst);
+            }
+            st.lu_g.solve_columns(&mut sg, n);
+            s1.fill(0.0);
+            for ((g, src), dst) in sg
+                .chunks_exact(n)
+                .zip(s0.chunks_exact(n))
+                .zip(s1.chunks_exact_mut(n))
+            {
+                st.cg.mul_add(-st.a1, g, dst);
+                st.c0.mul_add(-st.a2, src, dst);
+            }
+            st.lu_1.solve_columns(&mut s1, n);
+            std::mem::swap(&mut s0, &mut s1);
+        }
+        Mat::<f64>::from_fn(n, n, |i, j| s0[j * n + i])
     }
 }
 
@@ -547,8 +570,9 @@ struct Level {
     /// (1 on the final level: the requested tolerance).
     target: f64,
     /// Only compute `Φ − I` at the starting point, for the next level's chord
-    /// iteration, and leave the point where it is (a warm start, already
-    /// closer to the fine orbit than the coarse orbit is).
+    /// iteration, and leave the point where it is (a start on the circuit's
+    /// own orbit from another grid, already closer to the fine orbit than
+    /// the coarse orbit is: [`super::ShootingParams::initial_near_orbit`]).
     jacobian_only: bool,
 }
 
@@ -558,6 +582,8 @@ const CHORD_CONTRACTION: f64 = 0.1;
 
 /// Scaled periodicity error of the previous period below which a chord
 /// period on the final level keeps its factors for the Floquet check.
+/// (1,000 was measured too, docs/performance.md, "Mismatch sweep": on the
+/// class-C demo it saved nothing.)
 const LIKELY_LAST: f64 = 100.0;
 
 /// Periodic steady state by shooting-Newton.
@@ -623,7 +649,7 @@ pub(crate) fn shooting_with_final(
             Level {
                 ns: ns / 4,
                 target: 1e3,
-                jacobian_only: warm_start.is_some(),
+                jacobian_only: warm_start.is_some() && params.shooting.initial_near_orbit,
             },
             Level {
                 ns,
@@ -905,9 +931,68 @@ fn factor(st: &mut Stepper<'_>, devices: &DeviceSet, t: f64) -> Result<(), Solve
     })
 }
 
+// the circuit builder of the crate's integration tests
+#[cfg(test)]
+#[path = "../../tests/support/mod.rs"]
+mod test_support;
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    use super::test_support as support;
+
+    #[test]
+    fn the_blocked_monodromy_matrix_is_the_carried_one() {
+        // One period of the half-wave rectifier (support::rectifier, a
+        // diode that switches within the period) from the same state,
+        // carried three ways: the dense Φ through every step, the stored
+        // factors applied to the identity as one block, and the same applied
+        // column by column. The three evaluate the same recursion in a
+        // different order of sums, so they agree to rounding: 1e-10 of the
+        // largest entry (64 steps of a 4-unknown system; common practice).
+        let b = support::rectifier(1e6);
+        let d = tankwave_devices::instantiate(&b.c).expect("devices");
+        let n = d.n_unknowns;
+        let (t0, ns) = (0.0, 64);
+        let h = 1e-6 / ns as f64;
+        let x0 = vec![0.0; n];
+        let tol = crate::newton::Tolerances::default();
+        let lin = crate::linalg::LinearSolver::default();
+        let mut st = Stepper::from_zero(&d, tol, lin, t0);
+        let dense = integrate_period(&mut st, &d, &x0, t0, h, ns, Sens::Dense)
+            .expect("period")
+            .monodromy
+            .expect("Φ");
+        let mut st = Stepper::from_zero(&d, tol, lin, t0);
+        let rec = integrate_period(&mut st, &d, &x0, t0, h, ns, Sens::Record)
+            .expect("period")
+            .lin
+            .expect("factors");
+        let blocked = rec.monodromy();
+        let top = (0..n)
+            .flat_map(|i| (0..n).map(move |j| (i, j)))
+            .fold(0.0f64, |m, (i, j)| m.max(dense[(i, j)].abs()));
+        assert!(top > 0.0);
+        let mut col = vec![0.0; n];
+        let mut e = vec![0.0; n];
+        for j in 0..n {
+            e.fill(0.0);
+            e[j] = 1.0;
+            rec.apply(&e, &mut col);
+            for i in 0..n {
+                let (a, b, c) = (dense[(i, j)], blocked[(i, j)], col[i]);
+                assert!(
+                    (a - b).abs() <= 1e-10 * top,
+                    "Φ[{i},{j}]: {a} carried, {b} blocked"
+                );
+                assert!(
+                    (c - b).abs() <= 1e-10 * top,
+                    "Φ[{i},{j}]: {c} by column, {b} blocked"
+                );
+            }
+        }
+    }
 
     #[test]
     fn stored_factors_are_bounded_in_memory() {
