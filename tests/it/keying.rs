@@ -142,3 +142,19 @@ fn keying_input_errors_point_at_the_file() {
     let out = run(&["check", p(&f)]);
     assert_eq!(code(&out), 1, "{}", stdout(&out));
 }
+
+#[test]
+fn a_silent_keyed_source_is_an_input_error() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join("silent.tank");
+    std::fs::write(
+        &f,
+        "voltage vdrv src gnd wave=sine(amp=0V, freq=7MHz) internal=50Ohm\n\
+         resistor rload src gnd 50Ohm\noutput rload\ninput vdrv\n\
+         analyze keying wpm=25 rise=5ms message=\"sos\"\n",
+    )
+    .unwrap();
+    let out = run(&["run", p(&f)]);
+    assert_eq!(code(&out), 2, "{}", stderr(&out));
+    assert!(stderr(&out).contains("zero amplitude"), "{}", stderr(&out));
+}

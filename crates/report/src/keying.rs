@@ -182,7 +182,13 @@ fn relative_phase_deg(x: num_complex::Complex64, reference: num_complex::Complex
     if x.norm() == 0.0 || reference.norm() == 0.0 {
         return 0.0;
     }
-    (x / reference).arg().to_degrees()
+    let d = (x / reference).arg().to_degrees();
+    // below the 0.01 deg the tables show, a sign is noise: no "-0.00 deg"
+    if d.abs() < 5e-3 {
+        0.0
+    } else {
+        d
+    }
 }
 
 /// The sideband masks the requirements name (`require sidebands <= M`),

@@ -139,7 +139,13 @@ fn ports(
     let freq = match &el.kind {
         ElementKind::VoltageSource { wave, .. } | ElementKind::CurrentSource { wave, .. } => {
             match wave.shape {
-                Some(Shape::Sine { freq, .. }) => freq,
+                Some(Shape::Sine { freq, amp, .. }) if amp != 0.0 => freq,
+                Some(Shape::Sine { .. }) => {
+                    return Err(bad(format!(
+                        "the keyed source '{}' has a sine of zero amplitude: nothing to key",
+                        el.name
+                    )))
+                }
                 _ => return Err(bad(format!("the keyed source '{}' has no sine", el.name))),
             }
         }
