@@ -47,15 +47,11 @@ fn stage(set: &[(&str, f64)]) -> Circuit {
         .circuit
 }
 
-/// Raised-cosine edge from 0 to 1 over `rise`.
+/// The drive's raised-cosine edge over `rise`: the sine source's own
+/// `rise=` ramp, so that envelope following and a plain transient see the
+/// same drive.
 fn edge(t: f64, rise: f64) -> f64 {
-    if t <= 0.0 {
-        0.0
-    } else if t >= rise {
-        1.0
-    } else {
-        0.5 * (1.0 - (std::f64::consts::PI * t / rise).cos())
-    }
+    tankwave_devices::waveform::rise_ramp(t, rise)
 }
 
 /// One dot: key-down 48 ms between the 50 % points, 5 ms edges.

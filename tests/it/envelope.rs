@@ -33,16 +33,11 @@ fn out(c: &Circuit, d: &DeviceSet) -> UnknownId {
         .expect("an unknown")
 }
 
-/// Raised-cosine edge from 0 to 1 over `rise`: the `rise=` ramp of a sine
-/// source (crates/devices/src/waveform.rs).
+/// The drive's raised-cosine edge over `rise`: the sine source's own
+/// `rise=` ramp, so that envelope following and a plain transient see the
+/// same drive.
 fn edge(t: f64, rise: f64) -> f64 {
-    if t <= 0.0 {
-        0.0
-    } else if t >= rise {
-        1.0
-    } else {
-        0.5 * (1.0 - (PI * t / rise).cos())
-    }
+    tankwave_devices::waveform::rise_ramp(t, rise)
 }
 
 /// The one-period DFT of `x` (sampled `per` times a period from 0), period

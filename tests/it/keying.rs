@@ -4,6 +4,12 @@
 
 use crate::harness::{code, p, root, run, stderr, stdout};
 
+/// A 10 V sine behind 50 Ω into a 50 Ω load, with its steady state: the
+/// smallest stage a keying can key.
+const DIVIDER: &str = "voltage vdrv src gnd wave=sine(amp=10V, freq=7MHz) internal=50Ohm\n\
+    resistor rload src gnd 50Ohm\noutput rload\ninput vdrv\n\
+    analyze steady freq=7MHz harmonics=4\n";
+
 fn demo() -> std::path::PathBuf {
     root().join("netlists/keying/cw-7m1-keyed.tank")
 }
@@ -117,14 +123,7 @@ fn a_long_base_leak_breaks_a_strict_mask_and_the_quasi_static_path() {
 fn keying_input_errors_point_at_the_file() {
     let dir = tempfile::tempdir().unwrap();
     let f = dir.path().join("bad.tank");
-    std::fs::write(
-        &f,
-        "voltage vdrv src gnd wave=sine(amp=10V, freq=7MHz) internal=50Ohm\n\
-         resistor rload src gnd 50Ohm\noutput rload\ninput vdrv\n\
-         analyze steady freq=7MHz harmonics=4\n\
-         analyze keying wpm=25 rise=40ms\n",
-    )
-    .unwrap();
+    std::fs::write(&f, format!("{DIVIDER}analyze keying wpm=25 rise=40ms\n")).unwrap();
     let out = run(&["lint", p(&f)]);
     assert_eq!(code(&out), 2);
     let err = stderr(&out);
@@ -133,10 +132,7 @@ fn keying_input_errors_point_at_the_file() {
     // a sideband requirement without a keying is not measured, so it fails
     std::fs::write(
         &f,
-        "voltage vdrv src gnd wave=sine(amp=10V, freq=7MHz) internal=50Ohm\n\
-         resistor rload src gnd 50Ohm\noutput rload\ninput vdrv\n\
-         analyze steady freq=7MHz harmonics=4\n\
-         mask m { offset 1Hz to 1kHz below 20dB }\nrequire sidebands <= m\n",
+        format!("{DIVIDER}mask m {{ offset 1Hz to 1kHz below 20dB }}\nrequire sidebands <= m\n"),
     )
     .unwrap();
     let out = run(&["check", p(&f)]);

@@ -459,7 +459,7 @@ pub fn analysis_bytes(c: &Circuit, a: &Analysis) -> f64 {
             let balance = 2.0 * 8.0 * (ports * (2.0 * kk + 1.0)).powi(2) + 2.0 * dense * (kk + 1.0);
             let period = k.units().len() as f64 * k.unit;
             balance
-                + 16.0 * u * (kk + 1.0) * crate::keying::KEPT_SAMPLES as f64
+                + 16.0 * u * (kk + 1.0) * (crate::keying::KEPT_SAMPLES + 2) as f64
                 + 32.0 * k.cycles as f64 * period / k.slow_step()
         }
         // one drive level at a time: the reduced network per mixing product

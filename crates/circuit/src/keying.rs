@@ -66,9 +66,11 @@ pub const MIN_EDGE_PERIODS: f64 = 10.0;
 /// keying demo (crates/stage/tests/keying.rs; 16 were 6.7e-4 low).
 pub const KEYING_HARMONICS: usize = 32;
 
-/// Most samples of the slow time kept with all their phasors by envelope
-/// following (the output's fundamental is kept at every step).
-pub const KEPT_SAMPLES: usize = 4096;
+/// About how many slow-time samples envelope following keeps with all
+/// their phasors in a keying (every `steps / KEPT_SAMPLES`-th, and the
+/// last: at most `KEPT_SAMPLES + 2`); the output's fundamental, which the
+/// figures read, is kept at every step.
+pub const KEPT_SAMPLES: usize = 64;
 
 /// The length of one unit (a dot), s, at a speed in words per minute.
 pub fn unit_from_wpm(wpm: f64) -> f64 {
@@ -273,11 +275,11 @@ impl KeyingSpec {
             rise,
             fall,
             source: None,
-            cycles: 2,
+            cycles: table_default(&crate::options::analysis::CYCLES) as usize,
             step: None,
             rbw: None,
             span: None,
-            k_factor: 5.0,
+            k_factor: table_default(&crate::options::analysis::K_FACTOR),
             message: None,
         }
     }
@@ -321,6 +323,15 @@ impl KeyingSpec {
     pub fn slow_step(&self) -> f64 {
         self.step
             .unwrap_or_else(|| (self.rise.min(self.fall) / 20.0).min(self.unit / 20.0))
+    }
+}
+
+/// The number an option of `analyze keying` defaults to, from its one
+/// declaration in [`crate::options`].
+fn table_default(spec: &crate::options::OptionSpec) -> f64 {
+    match spec.default {
+        crate::options::Default::Number(v) => v,
+        _ => f64::NAN,
     }
 }
 

@@ -43,6 +43,24 @@ impl Waveform for ir::Waveform {
     }
 }
 
+/// The amplitude ramp of a sine's `rise=`, `tau` after its delay: a raised
+/// cosine from 0 at `tau = 0` to 1 at `tau = rise` (0 before, 1 after;
+/// a step when `rise` is 0). Envelope following drives a keyed stage with
+/// it to reproduce what a plain transient of such a source sees.
+pub fn rise_ramp(tau: f64, rise: f64) -> f64 {
+    if tau <= 0.0 {
+        if rise > 0.0 {
+            0.0
+        } else {
+            1.0
+        }
+    } else if rise > 0.0 && tau < rise {
+        0.5 * (1.0 - (std::f64::consts::PI * tau / rise).cos())
+    } else {
+        1.0
+    }
+}
+
 /// The value of a shape at time `t` (s).
 pub fn shape_value(shape: &Shape, t: f64) -> f64 {
     let t = if t.is_nan() {
@@ -63,11 +81,7 @@ pub fn shape_value(shape: &Shape, t: f64) -> f64 {
                 return *offset;
             }
             let tau = t - delay;
-            let env = if *rise > 0.0 && tau < *rise {
-                0.5 * (1.0 - (std::f64::consts::PI * tau / rise).cos())
-            } else {
-                1.0
-            };
+            let env = rise_ramp(tau, *rise);
             // Reduce to the fraction of a cycle first: exact for long runs, and
             // finite even when freq·tau overflows.
             let cycles = freq * tau;

@@ -14,16 +14,11 @@ use tankwave_circuit::ir::{Shape, Waveform};
 use tankwave_devices::{instantiate, DeviceSet, UnknownId};
 use tankwave_solve::*;
 
-/// Raised-cosine edge from 0 to 1 over `rise` (0 before, 1 after): the
-/// amplitude ramp of a `sine(…, rise=…)` source (crates/devices/src/waveform.rs).
+/// The drive's raised-cosine edge over `rise`: the sine source's own
+/// `rise=` ramp, so that envelope following and a plain transient see the
+/// same drive.
 fn edge(t: f64, rise: f64) -> f64 {
-    if t <= 0.0 {
-        0.0
-    } else if t >= rise {
-        1.0
-    } else {
-        0.5 * (1.0 - (PI * t / rise).cos())
-    }
+    tankwave_devices::waveform::rise_ramp(t, rise)
 }
 
 /// A keyed pulse: raised-cosine rise from `t = 0` over `rise`, held, and a

@@ -277,7 +277,7 @@ pub fn keying(
         harmonics: KEYING_HARMONICS,
         stop: period * cycles as f64,
         step: h,
-        keep_every: (steps / KEPT_SAMPLES.min(64)).max(1),
+        keep_every: (steps / KEPT_SAMPLES).max(1),
         keyed: Some(id),
         watch: watch.clone(),
         ..EnvelopeParams::default()

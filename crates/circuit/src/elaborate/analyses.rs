@@ -144,10 +144,7 @@ impl<'a> Cx<'a> {
         let harmonics = self.opt_count(m, &o::HARMONICS)?.unwrap_or(1) as usize;
         let steps = self.opt_count(m, &o::STEPS)?.unwrap_or(8);
         if !steps.is_power_of_two() {
-            let at = match self.given_expr(m, &o::STEPS) {
-                Some(Some(e)) => e.span,
-                _ => kind.span,
-            };
+            let at = self.value_place(m, &o::STEPS, kind.span);
             self.error(
                 "bad-value",
                 at,
@@ -219,10 +216,7 @@ impl<'a> Cx<'a> {
         let spacing = spacings[0];
         let order = self.opt_count(m, &o::ORDER)?.unwrap_or(7);
         if order > o::ORDER_MAX {
-            let at = match self.given_expr(m, &o::ORDER) {
-                Some(Some(e)) => e.span,
-                _ => kind.span,
-            };
+            let at = self.value_place(m, &o::ORDER, kind.span);
             self.error(
                 "bad-value",
                 at,
@@ -413,10 +407,7 @@ impl<'a> Cx<'a> {
         let fall = self.opt_value(m, &o::FALL, "fall")?.unwrap_or(rise);
         for (what, v, spec) in [("rise", rise, &o::RISE), ("fall", fall, &o::FALL)] {
             if v > unit / 2.0 {
-                let at = match self.given_expr(m, spec) {
-                    Some(Some(e)) => e.span,
-                    _ => kind.span,
-                };
+                let at = self.value_place(m, spec, kind.span);
                 self.error(
                     "bad-value",
                     at,
@@ -430,12 +421,9 @@ impl<'a> Cx<'a> {
             }
         }
         let source = self.source_option(m, &o::KEYED, "keying")?;
-        let cycles = self.opt_count(m, &o::CYCLES)?.unwrap_or(2);
-        if cycles > o::CYCLES_MAX {
-            let at = match self.given_expr(m, &o::CYCLES) {
-                Some(Some(e)) => e.span,
-                _ => kind.span,
-            };
+        let cycles = self.opt_count(m, &o::CYCLES)?;
+        if let Some(cycles) = cycles.filter(|c| *c > o::CYCLES_MAX) {
+            let at = self.value_place(m, &o::CYCLES, kind.span);
             self.error(
                 "bad-value",
                 at,
@@ -446,10 +434,7 @@ impl<'a> Cx<'a> {
         let step = self.opt_value(m, &o::SLOW_STEP, "step")?;
         if let Some(h) = step {
             if h > unit / 4.0 {
-                let at = match self.given_expr(m, &o::SLOW_STEP) {
-                    Some(Some(e)) => e.span,
-                    _ => kind.span,
-                };
+                let at = self.value_place(m, &o::SLOW_STEP, kind.span);
                 self.error(
                     "bad-value",
                     at,
@@ -464,14 +449,18 @@ impl<'a> Cx<'a> {
         }
         let rbw = self.opt_value(m, &o::RBW, "rbw")?;
         let span = self.opt_value(m, &o::SPAN, "span")?;
-        let k_factor = self.opt_value(m, &o::K_FACTOR, "k_factor")?.unwrap_or(5.0);
+        let k_factor = self.opt_value(m, &o::K_FACTOR, "k_factor")?;
         let mut spec = KeyingSpec::new(unit, pattern, shape, rise, fall);
         spec.source = source;
-        spec.cycles = cycles as usize;
+        if let Some(c) = cycles {
+            spec.cycles = c as usize;
+        }
         spec.step = step;
         spec.rbw = rbw;
         spec.span = span;
-        spec.k_factor = k_factor;
+        if let Some(k) = k_factor {
+            spec.k_factor = k;
+        }
         spec.message = message;
         Some(Analysis::Keying(spec))
     }

@@ -93,6 +93,17 @@ impl<'a> Cx<'a> {
         }
     }
 
+    /// Where the value of option `spec` was written, or `fallback` (the
+    /// statement) when it was left out or could not be read: the place a
+    /// `bad-value` error on the option points at.
+    pub(super) fn value_place(&self, m: &Given<'a>, spec: &OptionSpec, fallback: Span) -> Span {
+        match m.get(spec.name).map(|o| &o.value) {
+            Some(OptValue::Expr(e)) => e.span,
+            Some(OptValue::List(_, span) | OptValue::Text(_, span)) => *span,
+            _ => fallback,
+        }
+    }
+
     /// The expression given for `spec`, if it was given (`None` inside: an error was reported).
     pub(super) fn given_expr(
         &mut self,
