@@ -431,6 +431,13 @@ pub fn steady_text(
                  chord steps\n",
                 sh.warmup_periods, sh.fine_periods, sh.monodromy_periods
             ));
+            if sh.restarts > 0 {
+                s.push_str(&format!(
+                    "  shooting: the coarse level restarted {} time(s) from its best period                      after a Newton step that overshot
+",
+                    sh.restarts
+                ));
+            }
         }
         if let Some(b) = &info.balance {
             let tried: Vec<String> = b.harmonics_tried.iter().map(|k| k.to_string()).collect();
@@ -737,6 +744,7 @@ pub fn steady_json(sol: &PeriodicSolution, m: &Metrics) -> Value {
             "fine_periods": sh.fine_periods,
             "monodromy_periods": sh.monodromy_periods,
             "warmup_periods": sh.warmup_periods,
+            "restarts": sh.restarts,
         })),
         "balance": sol.info.balance.as_ref().map(|b| json!({
             "harmonics": b.harmonics,

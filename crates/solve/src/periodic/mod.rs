@@ -164,6 +164,9 @@ pub struct ShootingInfo {
     pub matrix_free: bool,
     /// Products with the monodromy operator taken by GMRES (matrix-free only).
     pub krylov_products: usize,
+    /// Restarts of the coarse level from the end of its best period, after
+    /// a Newton step that overshot to a state no period integrates from.
+    pub restarts: usize,
 }
 
 /// Options of the plain-transient method.

@@ -580,6 +580,13 @@ struct Level {
 /// least this much, or the next period recomputes the monodromy matrix.
 const CHORD_CONTRACTION: f64 = 0.1;
 
+/// Restarts of the coarse level from the end of its best period, after a
+/// Newton iterate from which a period could not be integrated. Measured
+/// need: a class-C stage into 130 Ω ∥ 1.62 µH, whose full coarse Newton
+/// steps reached 345 V on a 50 V swing and then a state no step could
+/// integrate from.
+const MAX_RESTARTS: usize = 8;
+
 /// Scaled periodicity error of the previous period below which a chord
 /// period on the final level keeps its factors for the Floquet check.
 /// (1,000 was measured too, docs/performance.md, "Mismatch sweep": on the
@@ -701,6 +708,10 @@ pub(crate) fn shooting_with_final(
         let final_level = li + 1 == levels.len();
         let mut need_sens = jac.is_none();
         let mut prev_resid = f64::INFINITY;
+        // the coarse level's best period so far (its periodicity error and
+        // end state), and the restarts from it
+        let mut best: Option<(f64, Vec<f64>)> = None;
+        let mut restarts = 0usize;
         let mut level_iter = 0usize;
         loop {
             if level_iter >= params.shooting.max_iter {
@@ -741,10 +752,42 @@ pub(crate) fn shooting_with_final(
             } else {
                 Sens::None
             };
-            let mut run = integrate_period(&mut st, devices, &x0, t0, h, level.ns, sens)?;
+            // A full Newton step from far away can overshoot to a state no
+            // step integrates from, or whose monodromy matrix is singular (a
+            // strongly nonlinear period map): on the coarse level the
+            // iteration then starts again from the end of its best period
+            // so far, a plain period further along, as a longer warm-up
+            // would have.
+            let may_restart = !final_level && restarts < MAX_RESTARTS && best.is_some();
+            let mut restart = |x0: &mut Vec<f64>, report: &mut ShootingInfo| {
+                if let Some((_, end)) = best.take() {
+                    *x0 = end;
+                }
+                restarts += 1;
+                report.restarts += 1;
+            };
+            let mut run = match integrate_period(&mut st, devices, &x0, t0, h, level.ns, sens) {
+                Ok(run) => run,
+                Err(_) if may_restart => {
+                    restart(&mut x0, &mut report);
+                    need_sens = true;
+                    continue;
+                }
+                Err(e) => return Err(e),
+            };
+            if let (Some(phi), true) = (&run.monodromy, may_restart) {
+                if factor_monodromy(phi, devices, t0).is_err() {
+                    restart(&mut x0, &mut report);
+                    need_sens = true;
+                    continue;
+                }
+            }
             let r: Vec<f64> = run.end.iter().zip(&x0).map(|(a, b)| a - b).collect();
             let scale = scales(devices, params, &run);
             let worst = worst_ratio(&r, &scale, devices, st.t)?;
+            if !final_level && best.as_ref().is_none_or(|b| worst.0 < b.0) {
+                best = Some((worst.0, run.end.clone()));
+            }
             last = (r[worst.1].abs(), worst.1);
             let mut from_this_run = false;
             if let Some(phi) = &run.monodromy {
