@@ -67,8 +67,8 @@ fn lint_with(stage: &str, files: &[(&str, &str)]) -> (i32, String) {
 /// error (exit 2) at the second one's file:line:column.
 #[test]
 fn outside_short_with_outside_r_is_an_input_error() {
-    let choke = std::fs::read_to_string(root().join("tests/reference/touchstone/rls1_ri_v1.s1p"))
-        .unwrap();
+    let choke =
+        std::fs::read_to_string(root().join("tests/reference/touchstone/rls1_ri_v1.s1p")).unwrap();
     let stage = "voltage vs in gnd dc=1V internal=10Ohm\n\
                  measured ant in gnd \"rls1_ri_v1.s1p\" outside=short outside_r=5Ohm\n\
                  input vs\n";
@@ -84,7 +84,8 @@ fn outside_short_with_outside_r_is_an_input_error() {
 /// error naming that point (exit 2, at the file's name).
 #[test]
 fn an_open_point_in_band_with_outside_short_is_an_input_error() {
-    let open = "! hand-written: an open circuit at 2 MHz\n# MHz S RI R 50\n1 0.2 0\n2 1 0\n3 0.2 0\n";
+    let open =
+        "! hand-written: an open circuit at 2 MHz\n# MHz S RI R 50\n1 0.2 0\n2 1 0\n3 0.2 0\n";
     let stage = "voltage vs in gnd dc=1V internal=10Ohm\n\
                  measured ant in gnd \"open.s1p\" outside=short\n\
                  input vs\n";

@@ -773,7 +773,7 @@ impl Form {
     pub fn unit(self) -> &'static str {
         match self {
             Form::Admittance => "S",
-            Form::Impedance => "Ohm",
+            Form::Impedance => crate::unit::Unit::Ohm.symbol(),
         }
     }
 
