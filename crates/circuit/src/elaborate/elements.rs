@@ -280,6 +280,8 @@ impl<'a> Cx<'a> {
                 min_order: 2.min(poles),
                 max_order: poles,
                 target: bound,
+                // the impedance form's short at 0 Hz holds exactly
+                hold_dc: network.form() == crate::touchstone::Form::Impedance,
                 ..Default::default()
             };
             let dc = network

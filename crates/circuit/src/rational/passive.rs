@@ -201,6 +201,20 @@ fn basis(m: &RationalModel, f: f64, out: &mut Vec<Complex64>) {
     out.push(Complex64::new(1.0, 0.0));
 }
 
+/// [`basis`], or with `hold` the basis of the pole terms less their values
+/// at 0 Hz, without D's (D then follows from the held value at 0 Hz).
+fn held_basis(m: &RationalModel, f: f64, hold: bool, out: &mut Vec<Complex64>) {
+    basis(m, f, out);
+    if hold {
+        let mut at0 = Vec::new();
+        basis(m, 0.0, &mut at0);
+        out.pop();
+        for (v, z) in out.iter_mut().zip(&at0) {
+            *v -= z;
+        }
+    }
+}
+
 /// Add a parameter change (per entry: the basis coefficients) to the model.
 fn apply(m: &mut RationalModel, dx: &[f64], per: usize) {
     let n2 = m.ports * m.ports;
@@ -227,6 +241,22 @@ pub fn enforce(
     freqs: &[f64],
     y: &[Complex64],
 ) -> Result<(RationalModel, PassivityInfo), FitError> {
+    enforce_with(model, freqs, y, false)
+}
+
+/// [`enforce`]; with `hold_dc` every correction also keeps the model's
+/// value at 0 Hz: D is then no free parameter but changes by minus the
+/// pole terms' change at 0 Hz, and 0 Hz itself is not lifted to the
+/// margin (a model held to a short there has its smallest eigenvalue at
+/// 0 Hz exactly zero, the edge of passivity, which the rounding tolerance
+/// accepts). A correction that cannot make such a model passive within
+/// [`MAX_PASSES`] is the usual [`FitError::NotPassive`].
+pub fn enforce_with(
+    model: &RationalModel,
+    freqs: &[f64],
+    y: &[Complex64],
+    hold_dc: bool,
+) -> Result<(RationalModel, PassivityInfo), FitError> {
     let n2 = model.ports * model.ports;
     let scale = y
         .chunks(n2)
@@ -252,6 +282,11 @@ pub fn enforce(
         .map(|(f, l)| (l, f))
         .fold((f64::INFINITY, 0.0), |a, b| if b.0 < a.0 { b } else { a });
     let mut m = model.clone();
+    let dc0: Vec<f64> = model
+        .eval_s(Complex64::new(0.0, 0.0))
+        .iter()
+        .map(|v| v.re)
+        .collect();
     let mut passes = 0;
     let mut viol = first;
     while !viol.is_empty() {
@@ -267,8 +302,19 @@ pub fn enforce(
             });
         }
         passes += 1;
-        let viol_m = violations(&m, freqs, margin);
-        correct(&mut m, freqs, y, &viol_m, margin, passes)?;
+        let mut viol_m = violations(&m, freqs, margin);
+        if hold_dc {
+            viol_m.retain(|(f, _)| *f != 0.0);
+        }
+        correct(&mut m, freqs, y, &viol_m, margin, passes, hold_dc)?;
+        if hold_dc {
+            // The correction kept the value at 0 Hz by construction; D
+            // takes up the rounding of the sums.
+            let now = m.eval_s(Complex64::new(0.0, 0.0));
+            for ((d, v), v0) in m.d.iter_mut().zip(&now).zip(&dc0) {
+                *d -= v.re - v0;
+            }
+        }
         viol = violations(&m, freqs, tol);
     }
     let worst_after = grid(&m, freqs)
@@ -304,9 +350,11 @@ fn correct(
     viol: &[(f64, f64)],
     margin: f64,
     pass: usize,
+    hold_dc: bool,
 ) -> Result<(), FitError> {
     let n2 = m.ports * m.ports;
-    let per = m.order() + 1;
+    // with the value at 0 Hz held, D is no parameter (it follows)
+    let per = m.order() + usize::from(!hold_dc);
     let nx = n2 * per;
     let w = super::weights(m.ports, y, super::Weighting::Relative);
     // Objective: Σ_k w_k² ‖ΔY(f_k)‖², the same basis for every entry.
@@ -314,7 +362,7 @@ fn correct(
     let mut a = nalgebra::DMatrix::<f64>::zeros(2 * k, per);
     let mut phi = Vec::new();
     for (i, f) in freqs.iter().enumerate() {
-        basis(m, *f, &mut phi);
+        held_basis(m, *f, hold_dc, &mut phi);
         for (c, p) in phi.iter().enumerate() {
             a[(2 * i, c)] = w[i] * p.re;
             a[(2 * i + 1, c)] = w[i] * p.im;
@@ -339,7 +387,7 @@ fn correct(
             m.admittance(*f)
         };
         let (lam, v) = smallest(&ym);
-        basis(m, *f, &mut phi);
+        held_basis(m, *f, hold_dc, &mut phi);
         let ports = m.ports;
         for r in 0..ports {
             for c in 0..ports {
@@ -367,7 +415,20 @@ fn correct(
         });
     };
     let dx: Vec<f64> = (0..nx).map(|i| sol[i] / col[i % per]).collect();
-    apply(m, &dx, per);
+    if hold_dc {
+        // D changes by minus the pole terms' change at 0 Hz
+        let mut phi0 = Vec::new();
+        basis(m, 0.0, &mut phi0);
+        let mut full = Vec::with_capacity(n2 * (per + 1));
+        for e in 0..n2 {
+            let x = &dx[e * per..(e + 1) * per];
+            full.extend_from_slice(x);
+            full.push(-x.iter().zip(&phi0).map(|(x, p)| x * p.re).sum::<f64>());
+        }
+        apply(m, &full, per + 1);
+    } else {
+        apply(m, &dx, per);
+    }
     Ok(())
 }
 
