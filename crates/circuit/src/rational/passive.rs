@@ -401,6 +401,23 @@ fn correct(
             }
         }
         rhs[nx + j] = margin - lam;
+        if hold_dc {
+            // With 0 Hz held, a violation near it has a row of the size of
+            // the basis' change from 0 Hz, far below the objective's: the
+            // row (and its multiplier's column) scaled to unit norm, so
+            // that the solver's cut-off does not drop it.
+            let rn = (0..nx)
+                .map(|c| kkt[(nx + j, c)].powi(2))
+                .sum::<f64>()
+                .sqrt();
+            if rn > 0.0 && rn.is_finite() {
+                for c in 0..nx {
+                    kkt[(nx + j, c)] /= rn;
+                    kkt[(c, nx + j)] /= rn;
+                }
+                rhs[nx + j] /= rn;
+            }
+        }
     }
     let svd = nalgebra::linalg::SVD::try_new(kkt, true, true, f64::EPSILON, 0);
     let sol = svd.and_then(|s| {
@@ -496,6 +513,41 @@ mod tests {
         // The data themselves were not passive: the correction costs some
         // fit error, reported.
         assert!(info.error_after > info.error_before);
+    }
+
+    #[test]
+    fn a_held_value_at_dc_survives_the_correction() {
+        // The model of the test above with D chosen so that its value at
+        // 0 Hz is zero (D = 2·Re(R/p), since a pair gives R/(s − p) +
+        // R̄/(s − p̄)): held, the correction keeps that zero to rounding
+        // and still makes the model passive; not held, it moves it.
+        let p = Complex64::new(-2e5, 2.0 * PI * 5e6);
+        let r = Complex64::new(1e3, 3e3);
+        let bad = RationalModel {
+            ports: 1,
+            terms: vec![PoleTerm {
+                pole: p,
+                residues: vec![r],
+            }],
+            d: vec![2.0 * (r / p).re],
+            e: vec![0.0],
+        };
+        assert!(bad.eval_s(Complex64::new(0.0, 0.0))[0].norm() < 1e-15);
+        let f: Vec<f64> = (0..120).map(|i| 3e6 + 4e6 * i as f64 / 119.0).collect();
+        let y: Vec<Complex64> = f.iter().flat_map(|&f| bad.admittance(f)).collect();
+        let scale = y.iter().map(|v| v.norm()).fold(0.0, f64::max);
+        let (m, info) = enforce_with(&bad, &f, &y, true).unwrap();
+        assert!(info.worst_before < 0.0 && info.passes > 0, "{info:?}");
+        let dc = m.eval_s(Complex64::new(0.0, 0.0))[0];
+        assert!(dc.norm() <= 1e-12 * scale, "Y(0) = {dc} S");
+        for i in 0..=20000 {
+            let f = 2e7 * i as f64 / 20000.0;
+            let v = m.admittance(f)[0].re;
+            assert!(v >= -ROUNDING * scale, "Re Y = {v} S at {f} Hz");
+        }
+        let (loose, _) = enforce(&bad, &f, &y).unwrap();
+        let moved = loose.eval_s(Complex64::new(0.0, 0.0))[0];
+        assert!(moved.norm() > 1e-9 * scale, "Y(0) = {moved} S");
     }
 
     #[test]
