@@ -113,7 +113,7 @@ fn the_bias_point_is_a_short_that_carries_the_dc_current() {
 }
 
 #[test]
-fn harmonic_balance_with_the_choke_equals_the_elements_in_band() {
+fn harmonic_balance_with_the_choke_is_a_short_at_dc_and_z_at_each_harmonic() {
     // A half-wave diode clipper into the choke at 2 MHz, 16 harmonics
     // (2..32 MHz, every one a point of the file), DC the short. What must
     // hold: the load's DC voltage is zero while a DC current flows, its
