@@ -149,10 +149,11 @@ const fn opt(name: &'static str, takes: Takes, default: Default, doc: &'static s
 // ------------------------------------------------------------------ words
 
 /// `outside=` of a measured network: what it is beyond its file's band.
-pub static OUTSIDE_WORDS: Words<crate::touchstone::Outside, 3> = Words([
+pub static OUTSIDE_WORDS: Words<crate::touchstone::Outside, 4> = Words([
     ("refuse", crate::touchstone::Outside::Refuse),
     ("open", crate::touchstone::Outside::Open),
     ("hold", crate::touchstone::Outside::Hold),
+    ("short", crate::touchstone::Outside::Short),
 ]);
 /// `start=` of a transient.
 pub static START_WORDS: Words<StartFrom, 2> = Words([
@@ -317,7 +318,7 @@ pub mod element {
         "outside",
         Takes::Word(&OUTSIDE_WORDS),
         Default::Word("refuse"),
-        "what the network is at a frequency its file does not cover: refuse (an error), open, or hold the nearest point",
+        "what the network is at a frequency its file does not cover: refuse (an error), open, hold the nearest point, or short (every port short-circuited)",
     );
     /// `outside_r=` of a measured network.
     pub const OUTSIDE_R: OptionSpec = opt(

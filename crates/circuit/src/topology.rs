@@ -10,6 +10,7 @@
 
 use crate::elaborate::Cx;
 use crate::ir::{Circuit, ElementKind, NodeId};
+use crate::touchstone::Form;
 use std::collections::{BTreeMap, VecDeque};
 
 /// Union–find over node indices (0 = ground).
@@ -56,6 +57,11 @@ fn dc_edges(k: &ElementKind) -> Vec<(usize, usize)> {
         ElementKind::Bjt { c, b, e, .. } => vec![(idx(*b), idx(*c)), (idx(*b), idx(*e))],
         // A measured network conducts at DC between the ports its DC
         // conductance matrix (Re Y(0)) couples.
+        // Held as an impedance matrix, every port carries its current as an
+        // unknown: a DC path between its terminals.
+        ElementKind::Measured { ports, network } if network.form() == Form::Impedance => {
+            ports.iter().map(|(p, n)| (idx(*p), idx(*n))).collect()
+        }
         ElementKind::Measured { ports, network } => {
             let np = ports.len();
             let y = network.admittance(0.0).unwrap_or_default();
@@ -70,6 +76,30 @@ fn dc_edges(k: &ElementKind) -> Vec<(usize, usize)> {
                 }
             }
             out
+        }
+        _ => vec![],
+    }
+}
+
+/// The branches of an element that fix a voltage with no resistance at DC
+/// (their current is an unknown): an ideal voltage source, an inductor
+/// without loss, and a port of a measured network held as an impedance
+/// matrix whose DC impedance is zero (a short).
+fn ideal_branches(k: &ElementKind) -> Vec<(usize, usize)> {
+    match k {
+        ElementKind::VoltageSource { p, n, rs, .. } if *rs == 0.0 => vec![(idx(*p), idx(*n))],
+        ElementKind::Inductor { a, b, series_r, .. } if *series_r == 0.0 => {
+            vec![(idx(*a), idx(*b))]
+        }
+        ElementKind::Measured { ports, network } if network.form() == Form::Impedance => {
+            let np = ports.len();
+            let z = network.dc_value().unwrap_or_default();
+            ports
+                .iter()
+                .enumerate()
+                .filter(|(i, _)| z.get(i * np + i).is_none_or(|v| *v == 0.0))
+                .map(|(_, (p, n))| (idx(*p), idx(*n)))
+                .collect()
         }
         _ => vec![],
     }
@@ -168,64 +198,61 @@ pub(crate) fn check(cx: &mut Cx<'_>, c: &Circuit) {
     let mut dsu = Dsu::new(n);
     let mut adj: Vec<Vec<(usize, usize)>> = vec![Vec::new(); n];
     for (ei, e) in c.elements.iter().enumerate() {
-        let (a, b) = match &e.kind {
-            ElementKind::VoltageSource { p, n, rs, .. } if *rs == 0.0 => (idx(*p), idx(*n)),
-            ElementKind::Inductor { a, b, series_r, .. } if *series_r == 0.0 => (idx(*a), idx(*b)),
-            _ => continue,
-        };
-        if a == b {
-            let sp = span_of(cx, ei);
-            cx.error(
-                "source-loop",
-                sp,
-                format!(
-                    "{} {} has both terminals on node '{}'",
-                    e.kind.keyword(),
-                    e.name,
-                    name(a)
-                ),
-            );
-            continue;
-        }
-        if !dsu.union(a, b) {
-            // Find the existing path b -> a to name the loop.
-            let mut prev: Vec<Option<(usize, usize)>> = vec![None; n];
-            let mut seen = vec![false; n];
-            let mut q = VecDeque::from([b]);
-            seen[b] = true;
-            while let Some(x) = q.pop_front() {
-                if x == a {
-                    break;
-                }
-                for &(y, via) in &adj[x] {
-                    if !seen[y] {
-                        seen[y] = true;
-                        prev[y] = Some((x, via));
-                        q.push_back(y);
+        for (a, b) in ideal_branches(&e.kind) {
+            if a == b {
+                let sp = span_of(cx, ei);
+                cx.error(
+                    "source-loop",
+                    sp,
+                    format!(
+                        "{} {} has both terminals on node '{}'",
+                        e.kind.keyword(),
+                        e.name,
+                        name(a)
+                    ),
+                );
+                continue;
+            }
+            if !dsu.union(a, b) {
+                // Find the existing path b -> a to name the loop.
+                let mut prev: Vec<Option<(usize, usize)>> = vec![None; n];
+                let mut seen = vec![false; n];
+                let mut q = VecDeque::from([b]);
+                seen[b] = true;
+                while let Some(x) = q.pop_front() {
+                    if x == a {
+                        break;
+                    }
+                    for &(y, via) in &adj[x] {
+                        if !seen[y] {
+                            seen[y] = true;
+                            prev[y] = Some((x, via));
+                            q.push_back(y);
+                        }
                     }
                 }
-            }
-            let mut names = vec![e.name.clone()];
-            let mut x = a;
-            let mut guard = 0;
-            while let Some((p, via)) = prev[x] {
-                names.push(c.elements[via].name.clone());
-                x = p;
-                guard += 1;
-                if guard > n {
-                    break;
+                let mut names = vec![e.name.clone()];
+                let mut x = a;
+                let mut guard = 0;
+                while let Some((p, via)) = prev[x] {
+                    names.push(c.elements[via].name.clone());
+                    x = p;
+                    guard += 1;
+                    if guard > n {
+                        break;
+                    }
                 }
-            }
-            let sp = span_of(cx, ei);
-            cx.error(
+                let sp = span_of(cx, ei);
+                cx.error(
                 "source-loop",
                 sp,
                 format!("{} {} closes a loop of ideal voltage sources and/or inductors: {}", e.kind.keyword(), e.name, names.join(" -> ")),
             )
             .help = Some("the loop current is undefined at DC; add source resistance internal= or inductor loss r=".into());
-        } else {
-            adj[a].push((b, ei));
-            adj[b].push((a, ei));
+            } else {
+                adj[a].push((b, ei));
+                adj[b].push((a, ei));
+            }
         }
     }
 

@@ -666,6 +666,15 @@ impl Network {
         self.admittance_of(p)
     }
 
+    /// The impedance matrix (ohms, row order, `ports²` values) at the
+    /// file's point `k`, or `None` where it does not exist (an open circuit
+    /// has no impedance).
+    pub fn impedance_at(&self, k: usize) -> Option<Vec<Complex64>> {
+        let n = self.ports;
+        let p = self.data.get(k * n * n..(k + 1) * n * n)?;
+        self.impedance_of(p)
+    }
+
     /// The admittance matrix of one point of data in this file's parameter.
     pub fn admittance_of(&self, p: &[Complex64]) -> Option<Vec<Complex64>> {
         let one = Complex64::new(1.0, 0.0);
@@ -679,25 +688,58 @@ impl Network {
             (Parameter::S, _) => {
                 let a = [one - p[0], -p[1], -p[2], one - p[3]];
                 let b = inv2(&[one + p[0], p[1], p[2], one + p[3]])?;
-                let m = [
-                    a[0] * b[0] + a[1] * b[2],
-                    a[0] * b[1] + a[1] * b[3],
-                    a[2] * b[0] + a[3] * b[2],
-                    a[2] * b[1] + a[3] * b[3],
-                ];
                 let g: Vec<f64> = self.reference.iter().map(|r| 1.0 / r.sqrt()).collect();
-                vec![
-                    m[0] * g[0] * g[0],
-                    m[1] * g[0] * g[1],
-                    m[2] * g[1] * g[0],
-                    m[3] * g[1] * g[1],
-                ]
+                scaled(&product(&a, &b), &g)
             }
         };
-        out.iter()
-            .all(|v| v.re.is_finite() && v.im.is_finite())
-            .then_some(out)
+        finite(out)
     }
+
+    /// The impedance matrix of one point of data in this file's parameter.
+    pub fn impedance_of(&self, p: &[Complex64]) -> Option<Vec<Complex64>> {
+        let one = Complex64::new(1.0, 0.0);
+        let out = match (self.parameter, self.ports) {
+            (Parameter::Z, _) => p.to_vec(),
+            (Parameter::Y, 1) => vec![inv1(p[0])?],
+            (Parameter::Y, _) => inv2(p)?.to_vec(),
+            // Z = diag(√R) (I + S)(I − S)⁻¹ diag(√R), the inverse of the
+            // admittance above (common practice).
+            (Parameter::S, 1) => vec![(one + p[0]) * inv1(one - p[0])? * self.reference[0]],
+            (Parameter::S, _) => {
+                let a = [one + p[0], p[1], p[2], one + p[3]];
+                let b = inv2(&[one - p[0], -p[1], -p[2], one - p[3]])?;
+                let g: Vec<f64> = self.reference.iter().map(|r| r.sqrt()).collect();
+                scaled(&product(&a, &b), &g)
+            }
+        };
+        finite(out)
+    }
+}
+
+/// The product of two 2×2 matrices (row order).
+fn product(a: &[Complex64; 4], b: &[Complex64; 4]) -> [Complex64; 4] {
+    [
+        a[0] * b[0] + a[1] * b[2],
+        a[0] * b[1] + a[1] * b[3],
+        a[2] * b[0] + a[3] * b[2],
+        a[2] * b[1] + a[3] * b[3],
+    ]
+}
+
+/// `diag(g) m diag(g)` of a 2×2 matrix (row order).
+fn scaled(m: &[Complex64; 4], g: &[f64]) -> Vec<Complex64> {
+    vec![
+        m[0] * g[0] * g[0],
+        m[1] * g[0] * g[1],
+        m[2] * g[1] * g[0],
+        m[3] * g[1] * g[1],
+    ]
+}
+
+fn finite(v: Vec<Complex64>) -> Option<Vec<Complex64>> {
+    v.iter()
+        .all(|v| v.re.is_finite() && v.im.is_finite())
+        .then_some(v)
 }
 
 /// What a measured network is at a frequency its file does not cover.
@@ -708,16 +750,47 @@ pub enum Outside {
     /// Every port open (zero admittance).
     Open,
     /// The nearest point of the file (at 0 Hz, the real part of its
-    /// admittance, since a DC admittance is real).
+    /// value, since a DC admittance or impedance is real).
     Hold,
     /// Every port terminated in this resistance, Ω (> 0), the ports uncoupled.
     Resistance(f64),
+    /// Every port short-circuited (zero impedance): the network is then held
+    /// in [`Form::Impedance`], since a short has no admittance.
+    Short,
 }
 
-/// A measured network as the circuit uses it: the admittance matrix at each
-/// point of its file and what holds outside the file's band.
+/// Which matrix a measured network is held as.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Form {
+    /// The admittance matrix Y (S): every out-of-band rule but a short.
+    Admittance,
+    /// The impedance matrix Z (Ω): with [`Outside::Short`].
+    Impedance,
+}
+
+impl Form {
+    /// The unit of the matrix's entries.
+    pub fn unit(self) -> &'static str {
+        match self {
+            Form::Admittance => "S",
+            Form::Impedance => crate::unit::Unit::Ohm.symbol(),
+        }
+    }
+
+    /// The matrix's name in words.
+    pub fn word(self) -> &'static str {
+        match self {
+            Form::Admittance => "admittance",
+            Form::Impedance => "impedance",
+        }
+    }
+}
+
+/// A measured network as the circuit uses it: its admittance matrix (or,
+/// with a short out of band, its impedance matrix: [`Form`]) at each point
+/// of its file and what holds outside the file's band.
 ///
-/// Between points the admittance is interpolated linearly in its real and
+/// Between points the matrix is interpolated linearly in its real and
 /// imaginary parts, entry by entry (documented in docs/analyses.md); the
 /// error of that is second order in the point spacing.
 #[derive(Debug, Clone, PartialEq)]
@@ -726,41 +799,74 @@ pub struct MeasuredNetwork {
     pub ports: usize,
     /// Frequencies of the file, Hz, strictly increasing.
     pub freqs: Vec<f64>,
-    /// `ports²` admittances per point, S, row order.
-    pub y: Vec<Complex64>,
+    /// `ports²` values per point, row order: admittances in S, or
+    /// impedances in Ω in [`Form::Impedance`] ([`MeasuredNetwork::form`]).
+    pub values: Vec<Complex64>,
     /// What holds outside `freqs`.
     pub outside: Outside,
     /// The fitted rational model the time-domain analyses use (made at
-    /// elaboration when the file asks for one; `None` otherwise).
+    /// elaboration when the file asks for one; `None` otherwise), of the
+    /// same matrix as `values`.
     pub fit: Option<std::sync::Arc<crate::rational::Fitted>>,
 }
 
 impl MeasuredNetwork {
-    /// The network of a file read by [`read`]: every point converted to an
-    /// admittance matrix, or the index of the first point that has none.
+    /// The network of a file read by [`read`]: every point converted to the
+    /// matrix of the form `outside` implies, or the index of the first
+    /// point that has none (a short has no admittance, an open no
+    /// impedance).
     pub fn from_network(net: &Network, outside: Outside) -> Result<MeasuredNetwork, usize> {
-        let mut y = Vec::with_capacity(net.data.len());
+        let impedance = Self::form_of(outside) == Form::Impedance;
+        let mut values = Vec::with_capacity(net.data.len());
         for k in 0..net.freqs.len() {
-            y.extend(net.admittance_at(k).ok_or(k)?);
+            let v = if impedance {
+                net.impedance_at(k)
+            } else {
+                net.admittance_at(k)
+            };
+            values.extend(v.ok_or(k)?);
         }
         Ok(MeasuredNetwork {
             ports: net.ports,
             freqs: net.freqs.clone(),
-            y,
+            values,
             outside,
             fit: None,
         })
     }
 
-    /// The admittance the element has at 0 Hz (its bias point), S, row
-    /// order: the fitted model's when it has one (the time-domain model
-    /// is used at every frequency its analyses reach, DC included), else
-    /// the real part of the out-of-band rule's (or the file's) value.
-    pub fn dc_admittance(&self) -> Option<Vec<f64>> {
+    /// The form a network with this out-of-band rule is held in.
+    pub fn form_of(outside: Outside) -> Form {
+        match outside {
+            Outside::Short => Form::Impedance,
+            _ => Form::Admittance,
+        }
+    }
+
+    /// The form this network is held in.
+    pub fn form(&self) -> Form {
+        Self::form_of(self.outside)
+    }
+
+    /// The matrix the element has at 0 Hz (its bias point), in its
+    /// [`Form`], row order: the fitted model's when it has one (the
+    /// time-domain model is used at every frequency its analyses reach, DC
+    /// included), else the real part of the out-of-band rule's (or the
+    /// file's) value.
+    pub fn dc_value(&self) -> Option<Vec<f64>> {
         if let Some(f) = &self.fit {
             return Some(f.dc.clone());
         }
-        Some(self.admittance(0.0)?.iter().map(|v| v.re).collect())
+        Some(self.value(0.0)?.iter().map(|v| v.re).collect())
+    }
+
+    /// The admittance at 0 Hz, S, as [`MeasuredNetwork::dc_value`];
+    /// `None` in [`Form::Impedance`].
+    pub fn dc_admittance(&self) -> Option<Vec<f64>> {
+        match self.form() {
+            Form::Admittance => self.dc_value(),
+            Form::Impedance => None,
+        }
     }
 
     /// True if `f` lies within the file's band (first to last point).
@@ -781,16 +887,42 @@ impl MeasuredNetwork {
 
     /// The admittance matrix at `f` (Hz), S, row order: interpolated
     /// within the band, by the [`Outside`] rule beyond it; `None` outside the
-    /// band when the rule is [`Outside::Refuse`].
+    /// band when the rule is [`Outside::Refuse`], and always `None` in
+    /// [`Form::Impedance`].
     pub fn admittance(&self, f: f64) -> Option<Vec<Complex64>> {
+        match self.form() {
+            Form::Admittance => self.value(f),
+            Form::Impedance => None,
+        }
+    }
+
+    /// The impedance matrix at `f` (Hz), Ω, row order, in
+    /// [`Form::Impedance`] (`None` in the admittance form): interpolated
+    /// within the band, zero (every port short) beyond it.
+    pub fn impedance(&self, f: f64) -> Option<Vec<Complex64>> {
+        match self.form() {
+            Form::Impedance => self.value(f),
+            Form::Admittance => None,
+        }
+    }
+
+    /// The matrix of the network's [`Form`] at `f` (Hz), row order:
+    /// interpolated within the band, by the [`Outside`] rule beyond it;
+    /// `None` outside the band when the rule is [`Outside::Refuse`].
+    pub fn value(&self, f: f64) -> Option<Vec<Complex64>> {
         let n2 = self.ports * self.ports;
-        let at = |k: usize| self.y.get(k * n2..(k + 1) * n2).map(<[Complex64]>::to_vec);
+        let at = |k: usize| {
+            self.values
+                .get(k * n2..(k + 1) * n2)
+                .map(<[Complex64]>::to_vec)
+        };
         let last = self.freqs.len().checked_sub(1)?;
         if !self.covers(f) {
             let zero = Complex64::new(0.0, 0.0);
             return match self.outside {
                 Outside::Refuse => None,
-                Outside::Open => Some(vec![zero; n2]),
+                // zero admittance (open) or zero impedance (short)
+                Outside::Open | Outside::Short => Some(vec![zero; n2]),
                 Outside::Resistance(r) => Some(
                     (0..n2)
                         .map(|i| {

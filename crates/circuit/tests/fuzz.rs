@@ -115,7 +115,7 @@ fn assert_finite(c: &Circuit) {
             ElementKind::Measured { network, .. } => {
                 assert!(network.freqs.iter().all(|f| f.is_finite()));
                 assert!(network
-                    .y
+                    .values
                     .iter()
                     .all(|y| y.re.is_finite() && y.im.is_finite()));
             }

@@ -5,6 +5,7 @@
 //! resistances of 25, 50 and 75 ohms, must give back the admittance matrix
 //! the generator computed from circuit theory and handed to the library.
 
+use num_complex::Complex64;
 use std::path::PathBuf;
 use tankwave_circuit::touchstone::{read, Parameter, Version};
 
@@ -70,9 +71,36 @@ fn every_file_written_by_the_reference_library_reads_back() {
                 );
             }
         }
+        // The impedance matrix (read with outside=short) is the inverse of
+        // the same admittance: ‖Z·Y − I‖ ≤ δ‖Z‖‖Y‖ for a relative error δ
+        // in Z, held to the same 1e-9 (definition of Z and Y; common
+        // practice).
+        for (k, row) in rows.iter().enumerate() {
+            let z = net
+                .impedance_at(k)
+                .unwrap_or_else(|| panic!("{name} point {k} has no impedance"));
+            let n = net.ports;
+            let y: Vec<Complex64> = (0..n * n)
+                .map(|i| Complex64::new(row[1 + 2 * i], row[2 + 2 * i]))
+                .collect();
+            let norm = |m: &[Complex64]| m.iter().map(|v| v.norm_sqr()).sum::<f64>().sqrt();
+            let mut res = 0.0f64;
+            for i in 0..n {
+                for j in 0..n {
+                    let p: Complex64 = (0..n).map(|m| z[i * n + m] * y[m * n + j]).sum();
+                    let id = if i == j { 1.0 } else { 0.0 };
+                    res = res.max((p - id).norm());
+                }
+            }
+            let bound = 1e-9 * norm(&z) * norm(&y);
+            assert!(
+                res <= bound,
+                "{name} point {k}: ‖ZY − I‖ = {res:.3e} > {bound:.3e}"
+            );
+        }
         seen += 1;
     }
-    assert_eq!(seen, 13, "every file the generator writes is checked");
+    assert_eq!(seen, 16, "every file the generator writes is checked");
     // Both versions, S, Y and Z, one- and two-port are among them.
     assert!(kinds.contains(&(false, 'Y', 1)) && kinds.contains(&(true, 'Z', 2)));
     assert!(kinds.contains(&(true, 'S', 1)) && kinds.contains(&(false, 'S', 2)));

@@ -67,15 +67,15 @@ fn rms_relative(ports: usize, model: &[Complex64], data: &[Complex64]) -> f64 {
 fn compare(name: &str, file: &str, poles: usize, prop: Proportional) -> (f64, f64, Vec<Complex64>) {
     let n = network(file);
     let reference = reference_response(name, &n);
-    let ref_rms = rms_relative(n.ports, &reference, &n.y);
+    let ref_rms = rms_relative(n.ports, &reference, &n.values);
     let p = FitParams {
         min_order: poles,
         max_order: poles,
         proportional: prop,
         ..FitParams::default()
     };
-    let (m, info) = fit(n.ports, &n.freqs, &n.y, &p).unwrap();
-    let (rms, worst, _) = fit_error(&m, &n.freqs, &n.y);
+    let (m, info) = fit(n.ports, &n.freqs, &n.values, &p).unwrap();
+    let (rms, worst, _) = fit_error(&m, &n.freqs, &n.values);
     assert_eq!((rms, worst), (info.rms_error, info.worst_error));
     assert!(m.is_stable());
     assert!(

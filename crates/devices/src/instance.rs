@@ -245,16 +245,17 @@ pub fn instantiate_at(circuit: &Circuit, temps: &[Option<f64>]) -> Result<Device
                         reason: "the measured network has no value at 0 Hz (the bias point): its file does not cover it and it names no out-of-band rule".into(),
                     }
                 })?;
-                let rows: Vec<usize> = (0..crate::measured::Measured::state_count(network))
-                    .map(|k| {
-                        b.state(
-                            id,
-                            names::internal_state(name, &format!("fit{}", k + 1)),
-                            UnknownKind::Current,
-                        )
+                let rows: Vec<usize> = crate::measured::Measured::unknowns(network)
+                    .into_iter()
+                    .map(|(tag, kind)| {
+                        let full = match kind {
+                            UnknownKind::Voltage => names::internal_voltage_state(name, &tag),
+                            _ => names::internal_state(name, &tag),
+                        };
+                        b.state(id, full, kind)
                     })
                     .collect();
-                devices.push(Box::new(d.with_time_model(&rows)));
+                devices.push(Box::new(d.with_unknowns(&rows)));
             }
             ElementKind::Diode { a, k, model, area } => {
                 let p = match circuit.models.get(model.index()).map(|m| &m.params) {

@@ -44,12 +44,30 @@
 //! harmonic balance still use the file exactly. Without it the element
 //! reports [`Device::frequency_domain`] and no [`Device::time_model`], and
 //! the time-domain analyses refuse it.
+//!
+//! # Impedance form (`outside=short`)
+//!
+//! A short has no admittance, so a network whose ports are short-circuited
+//! out of band is held as its impedance matrix `Z(f)` (Ω,
+//! [`tankwave_circuit::touchstone::Form::Impedance`]) and stamped as the
+//! dual of the above: each port `i` has its current `i_i` (A, into `p_i`
+//! and out of `n_i`) as an internal unknown, the KCL rows of `p_i` and
+//! `n_i` get `±i_i`, and the unknown's own row is the port equation
+//! `v_i − Σ_j Z_ij i_j = 0` (V). [`Device::eval`] stamps `Z₀ = Re Z(0)` (zero,
+//! the short, when the file does not reach 0 Hz) and
+//! [`Device::frequency_admittance`] gives `−(Z(f) − Z₀)` on the port rows
+//! and current columns. The fitted model of `Z(s)` is realised the same
+//! way as that of `Y(s)` with the roles swapped: each state is driven by a
+//! port current (the states are then voltages) and its output `(1/g)·c·w`
+//! enters the port equations, as do `D_ij i_j` (a resistance) and the flux
+//! `E_ij i_j` (an inductance). Every row keeps its unit (V), so the
+//! equations are those above with current and voltage exchanged.
 
-use crate::contract::{val, Device, EvalCtx, EvalInfo, Idx, Stamp};
+use crate::contract::{val, Device, EvalCtx, EvalInfo, Idx, Stamp, UnknownKind};
 use num_complex::Complex64;
 use std::sync::Arc;
 use tankwave_circuit::rational::Fitted;
-use tankwave_circuit::touchstone::MeasuredNetwork;
+use tankwave_circuit::touchstone::{Form, MeasuredNetwork};
 use tankwave_circuit::ElementId;
 
 /// The states of one pole driven by one port.
@@ -61,7 +79,7 @@ struct PoleStates {
     pole: Complex64,
     /// Its unknowns: one for a real pole, two for a pair.
     rows: [usize; 2],
-    /// The state scale `g`, S·rad/s.
+    /// The state scale `g`, S·rad/s (Ω·rad/s in impedance form).
     g: f64,
     /// Per output port `i`: `(c₁, c₂)` (`c₂` unused for a real pole).
     out: Vec<(f64, f64)>,
@@ -81,44 +99,67 @@ pub struct Measured {
     /// `p_1, n_1, p_2, n_2, …`.
     terms: Vec<Idx>,
     network: Arc<MeasuredNetwork>,
-    /// `Re Y(0)`, row order (without a time-domain model).
+    /// The real part of the matrix at 0 Hz, row order (without a
+    /// time-domain model): `Re Y(0)`, or `Re Z(0)` in impedance form.
     g0: Vec<f64>,
+    /// In impedance form, each port's current unknown (empty otherwise).
+    currents: Vec<usize>,
     /// The time-domain model, when the network has one.
     time: Option<TimeModel>,
 }
 
+/// One unknown or row of the element with its sign.
+type Signed = (Idx, f64);
+
 impl Measured {
-    /// The device; `None` if the network has no admittance at 0 Hz (its
-    /// file does not cover DC and it names no out-of-band rule).
+    /// The device; `None` if the network has no value at 0 Hz (its file
+    /// does not cover DC and it names no out-of-band rule).
     pub fn new(element: ElementId, terms: Vec<Idx>, network: Arc<MeasuredNetwork>) -> Option<Self> {
-        let g0 = network.admittance(0.0)?.iter().map(|y| y.re).collect();
+        let g0 = network.value(0.0)?.iter().map(|y| y.re).collect();
         Some(Self {
             element,
             terms,
             network,
             g0,
+            currents: Vec::new(),
             time: None,
         })
     }
 
-    /// The number of internal unknowns the network's fitted model needs
-    /// (0 without one): one per real pole and two per pair, per port.
-    pub fn state_count(network: &MeasuredNetwork) -> usize {
-        network
+    /// The internal unknowns the element needs, in order, as (name tag,
+    /// kind): in impedance form each port's current (`i1`, `i2`), then the
+    /// states of the fitted model (`fit1`, …; one per real pole and two
+    /// per pair, per port: currents in the admittance form, voltages in the
+    /// impedance form). Empty for the admittance form without a model.
+    pub fn unknowns(network: &MeasuredNetwork) -> Vec<(String, UnknownKind)> {
+        let (port_kind, state_kind) = match network.form() {
+            Form::Admittance => (None, UnknownKind::Current),
+            Form::Impedance => (Some(UnknownKind::Current), UnknownKind::Voltage),
+        };
+        let mut out: Vec<(String, UnknownKind)> = port_kind
+            .map(|k| (1..=network.ports).map(|i| (format!("i{i}"), k)).collect())
+            .unwrap_or_default();
+        let states = network
             .fit
             .as_ref()
-            .map_or(0, |f| f.model.order() * network.ports)
+            .map_or(0, |f| f.model.order() * network.ports);
+        out.extend((1..=states).map(|k| (format!("fit{k}"), state_kind)));
+        out
     }
 
-    /// Realise the network's fitted model on the internal unknowns `rows`
-    /// ([`Measured::state_count`] of them, in port-then-pole order).
-    pub fn with_time_model(mut self, rows: &[usize]) -> Self {
+    /// Place the element's internal unknowns on `rows` ([`Measured::unknowns`]
+    /// of them, in that order), realising the network's fitted model if it
+    /// has one.
+    pub fn with_unknowns(mut self, rows: &[usize]) -> Self {
+        let n = self.ports();
+        let mut next = rows.iter().copied();
+        if self.network.form() == Form::Impedance {
+            self.currents = (0..n).map(|_| next.next().unwrap_or(0)).collect();
+        }
         let Some(fit) = self.network.fit.clone() else {
             return self;
         };
-        let n = self.ports();
         let mut states = Vec::new();
-        let mut next = rows.iter().copied();
         for j in 0..n {
             for t in &fit.model.terms {
                 let pair = t.is_pair();
@@ -152,11 +193,93 @@ impl Measured {
         self.network.ports
     }
 
-    /// Every (row, column, sign) of port entry (i, j).
-    fn entries(&self, i: usize, j: usize) -> [(Idx, Idx, f64); 4] {
-        let (pi, ni) = (self.terms[2 * i], self.terms[2 * i + 1]);
-        let (pj, nj) = (self.terms[2 * j], self.terms[2 * j + 1]);
-        [(pi, pj, 1.0), (pi, nj, -1.0), (ni, pj, -1.0), (ni, nj, 1.0)]
+    /// What drives the matrix's column `j`: port `j`'s voltage (admittance
+    /// form) or its current unknown (impedance form).
+    fn input(&self, j: usize) -> [Signed; 2] {
+        match self.currents.get(j) {
+            Some(c) => [(Some(*c), 1.0), (None, 0.0)],
+            None => [(self.terms[2 * j], 1.0), (self.terms[2 * j + 1], -1.0)],
+        }
+    }
+
+    /// Where the matrix's row `i` goes: into `p_i` and out of `n_i`
+    /// (admittance form), or subtracted in port `i`'s equation
+    /// (impedance form).
+    fn output(&self, i: usize) -> [Signed; 2] {
+        match self.currents.get(i) {
+            Some(c) => [(Some(*c), -1.0), (None, 0.0)],
+            None => [(self.terms[2 * i], 1.0), (self.terms[2 * i + 1], -1.0)],
+        }
+    }
+
+    /// The value of input `j` in `x`.
+    fn input_value(&self, x: &[f64], j: usize) -> f64 {
+        match self.currents.get(j) {
+            Some(c) => x[*c],
+            None => val(x, self.terms[2 * j]) - val(x, self.terms[2 * j + 1]),
+        }
+    }
+
+    /// Every (row, column, sign) of matrix entry (i, j).
+    fn entries(&self, i: usize, j: usize) -> impl Iterator<Item = (Idx, Idx, f64)> + '_ {
+        let (out, inp) = (self.output(i), self.input(j));
+        out.into_iter()
+            .filter(|(_, s)| *s != 0.0)
+            .flat_map(move |(r, sr)| {
+                inp.into_iter()
+                    .filter(|(_, s)| *s != 0.0)
+                    .map(move |(c, sc)| (r, c, sr * sc))
+            })
+    }
+
+    /// Impedance form: the port currents in the KCL rows and the port
+    /// voltages in the port equations (the part of the stamp that does not
+    /// depend on the network's values).
+    fn stamp_ports(&self, x: &[f64], out: &mut dyn Stamp) {
+        for (i, c) in self.currents.iter().enumerate() {
+            let (p, n) = (self.terms[2 * i], self.terms[2 * i + 1]);
+            let (c, cur) = (Some(*c), x[*c]);
+            out.add_i(p, cur);
+            out.add_i(n, -cur);
+            out.add_g(p, c, 1.0);
+            out.add_g(n, c, -1.0);
+            out.add_i(c, val(x, p) - val(x, n));
+            out.add_g(c, p, 1.0);
+            out.add_g(c, n, -1.0);
+        }
+    }
+
+    /// Add `m_ij · input_j` to output `i` (`m` row order) as a resistive
+    /// term, and `e_ij · input_j` as a charge (flux) term.
+    fn stamp_matrix(&self, m: &[f64], e: Option<&[f64]>, x: &[f64], out: &mut dyn Stamp) {
+        let n = self.ports();
+        for i in 0..n {
+            for j in 0..n {
+                let g = m[i * n + j];
+                let ev = e.map_or(0.0, |e| e[i * n + j]);
+                let v = self.input_value(x, j);
+                for (r, sr) in self.output(i) {
+                    if sr == 0.0 {
+                        continue;
+                    }
+                    out.add_i(r, sr * (g * v));
+                }
+                if ev != 0.0 {
+                    for (r, sr) in self.output(i) {
+                        if sr == 0.0 {
+                            continue;
+                        }
+                        out.add_q(r, sr * (ev * v));
+                    }
+                }
+                for (r, c, s) in self.entries(i, j) {
+                    out.add_g(r, c, s * g);
+                    if ev != 0.0 {
+                        out.add_c(r, c, s * ev);
+                    }
+                }
+            }
+        }
     }
 }
 
@@ -171,27 +294,17 @@ impl Device for Measured {
         true
     }
     fn eval(&self, x: &[f64], _ctx: &EvalCtx, _s: &mut [f64], out: &mut dyn Stamp) -> EvalInfo {
+        self.stamp_ports(x, out);
         if let Some(tm) = &self.time {
             self.eval_model(tm, x, out);
             return EvalInfo::default();
         }
-        let n = self.ports();
-        for i in 0..n {
-            for j in 0..n {
-                let g = self.g0[i * n + j];
-                let v = val(x, self.terms[2 * j]) - val(x, self.terms[2 * j + 1]);
-                out.add_i(self.terms[2 * i], g * v);
-                out.add_i(self.terms[2 * i + 1], -g * v);
-                for (r, c, s) in self.entries(i, j) {
-                    out.add_g(r, c, s * g);
-                }
-            }
-        }
+        self.stamp_matrix(&self.g0, None, x, out);
         EvalInfo::default()
     }
     fn frequency_admittance(&self, f: f64) -> Option<Vec<(usize, usize, Complex64)>> {
         let n = self.ports();
-        let y = self.network.admittance(f)?;
+        let y = self.network.value(f)?;
         // what eval's stamp already gives at f
         let base: Vec<Complex64> = match &self.time {
             Some(tm) => tm.fit.model.admittance(f),
@@ -221,30 +334,11 @@ impl Device for Measured {
 impl Measured {
     /// Stamp the fitted model (module docs).
     fn eval_model(&self, tm: &TimeModel, x: &[f64], out: &mut dyn Stamp) {
-        let n = self.ports();
         let m = &tm.fit.model;
-        let port_v = |j: usize| val(x, self.terms[2 * j]) - val(x, self.terms[2 * j + 1]);
-        for i in 0..n {
-            for j in 0..n {
-                let (d, e) = (m.d[i * n + j], m.e[i * n + j]);
-                let v = port_v(j);
-                out.add_i(self.terms[2 * i], d * v);
-                out.add_i(self.terms[2 * i + 1], -d * v);
-                if e != 0.0 {
-                    out.add_q(self.terms[2 * i], e * v);
-                    out.add_q(self.terms[2 * i + 1], -e * v);
-                }
-                for (r, c, s) in self.entries(i, j) {
-                    out.add_g(r, c, s * d);
-                    if e != 0.0 {
-                        out.add_c(r, c, s * e);
-                    }
-                }
-            }
-        }
+        let e = m.e.iter().any(|v| *v != 0.0).then_some(&m.e[..]);
+        self.stamp_matrix(&m.d, e, x, out);
         for st in &tm.states {
-            let (pj, nj) = (self.terms[2 * st.port], self.terms[2 * st.port + 1]);
-            let v = port_v(st.port);
+            let v = self.input_value(x, st.port);
             let k = st.pole.norm();
             let (a, b) = (st.pole.re, st.pole.im);
             let pair = b > 0.0;
@@ -268,20 +362,24 @@ impl Measured {
             }
             out.add_q(r0, w0 / k);
             out.add_c(r0, r0, 1.0 / k);
-            out.add_g(r0, pj, -drive);
-            out.add_g(r0, nj, drive);
-            // port currents: (1/g) Σ c·w
+            for (c, sc) in self.input(st.port) {
+                if sc != 0.0 {
+                    out.add_g(r0, c, -drive * sc);
+                }
+            }
+            // outputs: (1/g) Σ c·w
             for (i, (c1, c2)) in st.out.iter().enumerate() {
-                let (pi, ni) = (self.terms[2 * i], self.terms[2 * i + 1]);
                 let (c1, c2) = (c1 / st.g, c2 / st.g);
                 let cur = c1 * w0 + if pair { c2 * w1 } else { 0.0 };
-                out.add_i(pi, cur);
-                out.add_i(ni, -cur);
-                out.add_g(pi, r0, c1);
-                out.add_g(ni, r0, -c1);
-                if pair {
-                    out.add_g(pi, r1, c2);
-                    out.add_g(ni, r1, -c2);
+                for (r, sr) in self.output(i) {
+                    if sr == 0.0 {
+                        continue;
+                    }
+                    out.add_i(r, sr * cur);
+                    out.add_g(r, r0, sr * c1);
+                    if pair {
+                        out.add_g(r, r1, sr * c2);
+                    }
                 }
             }
         }

@@ -36,6 +36,12 @@ pub fn internal_state(element: &str, tag: &str) -> String {
     format!("I[{element}:{tag}]")
 }
 
+/// Name of an internal voltage-valued state `tag` of `element` (a
+/// measured network's fitted states in impedance form): `V[element:tag]`.
+pub fn internal_voltage_state(element: &str, tag: &str) -> String {
+    format!("V[{element}:{tag}]")
+}
+
 /// Name of the internal node `terminal'` of `element`: `V[element:terminal']`.
 pub fn internal_node(element: &str, terminal: &str) -> String {
     format!("V[{element}:{terminal}']")

@@ -7,29 +7,44 @@
 use serde_json::{json, Value};
 use tankwave_circuit::rational::Fitted;
 use tankwave_circuit::si::{percent, si_prefixed};
+use tankwave_circuit::touchstone::Form;
 use tankwave_circuit::{Circuit, ElementKind};
 
-/// Every fitted measured network of `c`: (element name, band in Hz, fit).
-fn fits(c: &Circuit) -> Vec<(&str, (f64, f64), &Fitted)> {
+/// Every fitted measured network of `c`: (element name, band in Hz, the
+/// matrix it is held as, fit).
+fn fits(c: &Circuit) -> Vec<(&str, (f64, f64), Form, &Fitted)> {
     c.elements
         .iter()
         .filter_map(|e| match &e.kind {
             ElementKind::Measured { network, .. } => network
                 .fit
                 .as_deref()
-                .map(|f| (e.name.as_str(), network.band(), f)),
+                .map(|f| (e.name.as_str(), network.band(), network.form(), f)),
             _ => None,
         })
         .collect()
 }
 
-fn poles_text(f: &Fitted) -> String {
+/// Said before a fit in impedance form (the admittance form is the usual
+/// one and says nothing).
+fn held_as(form: Form) -> &'static str {
+    match form {
+        Form::Admittance => "",
+        Form::Impedance => "impedance ",
+    }
+}
+
+fn poles_text(f: &Fitted, form: Form) -> String {
     let n = f.model.order();
-    let cap = f.model.e.iter().any(|v| *v != 0.0);
+    let term = f.model.e.iter().any(|v| *v != 0.0);
+    let term_name = match form {
+        Form::Admittance => " and a capacitance term",
+        Form::Impedance => " and an inductance term",
+    };
     format!(
         "{n} pole{}{}",
         if n == 1 { "" } else { "s" },
-        if cap { " and a capacitance term" } else { "" }
+        if term { term_name } else { "" }
     )
 }
 
@@ -40,10 +55,11 @@ pub fn fits_text(c: &Circuit) -> String {
         return String::new();
     }
     let mut s = String::from("Measured networks in the time domain (fitted rational models)\n");
-    for (name, (lo, hi), f) in all {
+    for (name, (lo, hi), form, f) in all {
         s.push_str(&format!(
-            "{name}: fitted with {}, worst error {} at {} over the file's band {} to {} (RMS {})\n",
-            poles_text(f),
+            "{name}: {}fitted with {}, worst error {} at {} over the file's band {} to {} (RMS {})\n",
+            held_as(form),
+            poles_text(f, form),
             percent(f.info.worst_error),
             si_prefixed(f.info.worst_at, "Hz", 3),
             si_prefixed(lo, "Hz", 3),
@@ -61,10 +77,11 @@ pub fn fits_text(c: &Circuit) -> String {
             ));
         }
         s.push_str(&format!(
-            "  at 0 Hz: {} against the out-of-band rule's {} (off by {} of the band's largest admittance)\n",
-            si_prefixed(f.dc[0], "S", 3),
-            si_prefixed(f.dc_rule[0], "S", 3),
+            "  at 0 Hz: {} against the out-of-band rule's {} (off by {} of the band's largest {})\n",
+            si_prefixed(f.dc[0], form.unit(), 3),
+            si_prefixed(f.dc_rule[0], form.unit(), 3),
             percent(f.dc_error),
+            form.word(),
         ));
     }
     s.push_str("  (harmonic balance and AC use the file itself)\n");
@@ -80,10 +97,10 @@ pub fn fits_section(c: &Circuit) -> Option<crate::html::StudySection> {
     }
     let rows = all
         .iter()
-        .map(|(name, (lo, hi), f)| {
+        .map(|(name, (lo, hi), form, f)| {
             vec![
                 name.to_string(),
-                poles_text(f),
+                format!("{}{}", held_as(*form), poles_text(f, *form)),
                 format!(
                     "{} to {}",
                     si_prefixed(*lo, "Hz", 3),
@@ -106,8 +123,8 @@ pub fn fits_section(c: &Circuit) -> Option<crate::html::StudySection> {
                 },
                 format!(
                     "{} against {}",
-                    si_prefixed(f.dc[0], "S", 3),
-                    si_prefixed(f.dc_rule[0], "S", 3)
+                    si_prefixed(f.dc[0], form.unit(), 3),
+                    si_prefixed(f.dc_rule[0], form.unit(), 3)
                 ),
             ]
         })
@@ -147,8 +164,8 @@ pub fn fits_json(c: &Circuit) -> Option<Value> {
     }
     Some(
         all.iter()
-            .map(|(name, (lo, hi), f)| {
-                json!({
+            .map(|(name, (lo, hi), form, f)| {
+                let mut v = json!({
                     "element": name,
                     "poles": f.model.order(),
                     "capacitance_term": f.model.e.iter().any(|v| *v != 0.0),
@@ -158,10 +175,16 @@ pub fn fits_json(c: &Circuit) -> Option<Value> {
                     "rms_error": f.info.rms_error,
                     "passivity_passes": f.passivity.passes,
                     "worst_error_before_passivity": f.passivity.error_before,
-                    "dc_s": f.dc,
-                    "dc_rule_s": f.dc_rule,
                     "dc_error": f.dc_error,
-                })
+                });
+                // the DC values under a key that carries their unit
+                let (dc, rule) = match form {
+                    Form::Admittance => ("dc_s", "dc_rule_s"),
+                    Form::Impedance => ("dc_ohm", "dc_rule_ohm"),
+                };
+                v[dc] = json!(f.dc);
+                v[rule] = json!(f.dc_rule);
+                v
             })
             .collect(),
     )
@@ -201,6 +224,28 @@ mod tests {
         assert!(j[0]["worst_error"].as_f64().unwrap() < 1e-9);
         // its DC rule is the network's own DC conductance, 1/20 S
         assert!((j[0]["dc_rule_s"][0].as_f64().unwrap() - 0.05).abs() < 1e-15);
+    }
+
+    #[test]
+    fn a_fit_in_impedance_form_is_reported_in_ohms() {
+        // outside=short holds the network as Z: its DC values are ohms
+        // under keys that say so, the short's 0 Ω the rule.
+        let dir = concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/../../tests/reference/touchstone"
+        );
+        let text = "voltage vs in gnd wave=sine(amp=1V, freq=2MHz) internal=50Ohm\n\
+             measured ant in gnd \"tank1_ri_v1.s1p\" outside=short\ninput vs\n\
+             analyze transient stop=1us step=10ns\n";
+        let c = load_str(&format!("{dir}/check.tank"), text, &Overrides::default())
+            .unwrap_or_else(|e| panic!("{:?}", e.diagnostics))
+            .circuit;
+        let t = fits_text(&c);
+        assert!(t.contains("ant: impedance fitted with 2 poles"), "{t}");
+        assert!(t.contains("the out-of-band rule's 0 Ohm"), "{t}");
+        let j = fits_json(&c).unwrap();
+        assert_eq!(j[0]["dc_rule_ohm"][0].as_f64(), Some(0.0));
+        assert!(j[0]["dc_s"].is_null());
     }
 
     #[test]

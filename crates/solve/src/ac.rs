@@ -279,7 +279,7 @@ pub(crate) fn add_frequency_admittance(
         let Some(entries) = d.frequency_admittance(f) else {
             return Err(SolveError::BadParams(format!(
                 "measured network #{} is not defined at {f:.6e} Hz, outside its file's band \
-                 (give it outside=open, outside=hold or outside_r=)",
+                 (give it outside=open, outside=short, outside=hold or outside_r=)",
                 d.element().index()
             )));
         };

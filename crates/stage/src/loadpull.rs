@@ -261,7 +261,7 @@ pub fn with_fundamental_admittance(
             network: Arc::new(MeasuredNetwork {
                 ports: 1,
                 freqs: vec![freq],
-                y: vec![y_add],
+                values: vec![y_add],
                 outside: Outside::Open,
                 fit: None,
             }),

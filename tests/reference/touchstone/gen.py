@@ -9,6 +9,12 @@ theory (common practice):
         Z = 1 / (j w C + 1 / (R + j w L)).
   rlc1g the same one-port on a grid of 0.25 MHz steps, 0.25..60 MHz (240
         points), on which every harmonic of 2 MHz falls.
+  rls1  a one-port: R = 8 ohm in series with L = 2.2 uH (a lossy choke),
+        0.25..60 MHz in 0.25 MHz steps (240 points); Z = R + j w L. Read
+        with outside=short it is a short below and above its band.
+  tank1 a one-port whose DC path is shorted: L = 1 uH, C = 470 pF and
+        R = 500 ohm in parallel, on the same grid as rls1;
+        Y = 1/R + j w C + 1/(j w L), so Z(0) = 0 and Z is exactly rational.
   pi2   a two-port low-pass pi: shunt C1 = 330 pF, series L = 0.68 uH,
         shunt C2 = 330 pF, over 0.5..50 MHz (100 points); its admittance
         matrix is Y11 = j w C1 + 1/(j w L), Y22 = j w C2 + 1/(j w L),
@@ -52,6 +58,24 @@ def rlc1g():
     return f, (1 / z).reshape(-1, 1, 1)
 
 
+def rls1():
+    # A lossy choke: R in series with L, on the 0.25 MHz grid.
+    f = 0.25e6 * np.arange(1, 241)
+    w = 2 * np.pi * f
+    r, l = 8.0, 2.2e-6
+    z = r + 1j * w * l
+    return f, (1 / z).reshape(-1, 1, 1)
+
+
+def tank1():
+    # A parallel R-L-C tank (its inductor shorts DC), on the same grid.
+    f = 0.25e6 * np.arange(1, 241)
+    w = 2 * np.pi * f
+    r, l, c = 500.0, 1e-6, 470e-12
+    y = 1 / r + 1j * w * c + 1 / (1j * w * l)
+    return f, y.reshape(-1, 1, 1)
+
+
 def pi2():
     f = np.linspace(0.5e6, 50e6, 100)
     w = 2 * np.pi * f
@@ -82,6 +106,9 @@ CASES = [
     ("rlc1_ri_v2", rlc1, 50.0, "mhz", "S", "ri", "2.0"),
     ("rlc1_z_db_v2", rlc1, 50.0, "mhz", "Z", "db", "2.0"),
     ("rlc1g_ri_v1", rlc1g, 50.0, "mhz", "S", "ri", "1.0"),
+    ("rls1_ri_v1", rls1, 50.0, "mhz", "S", "ri", "1.0"),
+    ("tank1_ri_v1", tank1, 50.0, "mhz", "S", "ri", "1.0"),
+    ("tank1_z_ri_v2", tank1, 50.0, "mhz", "Z", "ri", "2.0"),
     ("pi2_ri_v1", pi2, 50.0, "mhz", "S", "ri", "1.0"),
     ("pi2_db_v1_z25", pi2, 25.0, "ghz", "S", "db", "1.0"),
     ("pi2_y_ri_v1", pi2, 50.0, "mhz", "Y", "ri", "1.0"),

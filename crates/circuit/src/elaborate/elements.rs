@@ -195,10 +195,16 @@ impl<'a> Cx<'a> {
                 self.error(
                     "touchstone",
                     file.span,
-                    format!(
-                        "{ctx}: the point at {} has no admittance (a short circuit)",
-                        crate::si::si_prefixed(net.freqs[k], "Hz", 6)
-                    ),
+                    match MeasuredNetwork::form_of(outside) {
+                        crate::touchstone::Form::Admittance => format!(
+                            "{ctx}: the point at {} has no admittance (a short circuit)",
+                            crate::si::si_prefixed(net.freqs[k], "Hz", 6)
+                        ),
+                        crate::touchstone::Form::Impedance => format!(
+                            "{ctx}: the point at {} has no impedance (an open circuit), which outside=short needs (the network is then held as its impedance matrix)",
+                            crate::si::si_prefixed(net.freqs[k], "Hz", 6)
+                        ),
+                    },
                 );
                 return None;
             }
@@ -235,7 +241,7 @@ impl<'a> Cx<'a> {
                     ),
                 )
                 .help = Some(
-                    "say what the network is there: outside=open, outside=hold (the nearest point) or outside_r=RES"
+                    "say what the network is there: outside=open, outside=short, outside=hold (the nearest point) or outside_r=RES"
                         .into(),
                 );
                 return None;
@@ -274,10 +280,12 @@ impl<'a> Cx<'a> {
                 min_order: 2.min(poles),
                 max_order: poles,
                 target: bound,
+                // the impedance form's short at 0 Hz holds exactly
+                hold_dc: network.form() == crate::touchstone::Form::Impedance,
                 ..Default::default()
             };
             let dc = network
-                .admittance(0.0)
+                .value(0.0)
                 .map(|v| v.iter().map(|y| y.re).collect::<Vec<_>>());
             let fitted = dc
                 .ok_or_else(|| crate::rational::FitError::BadData("no value at 0 Hz".into()))
@@ -285,7 +293,7 @@ impl<'a> Cx<'a> {
                     crate::rational::fit_network(
                         network.ports,
                         &network.freqs,
-                        &network.y,
+                        &network.values,
                         &dc,
                         &params,
                     )

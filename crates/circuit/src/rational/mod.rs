@@ -110,6 +110,12 @@ pub struct FitParams {
     pub weighting: Weighting,
     /// Whether a term `s E` (a capacitance-like rise) is fitted besides `D`.
     pub proportional: Proportional,
+    /// Hold the model's value at 0 Hz to the first point's exactly (that
+    /// point must then be at 0 Hz): `D` is not fitted but follows from the
+    /// residues, `D = Y(0) + Σ R_m/p_m`, and the passivity correction keeps
+    /// it so. Used for a network held as its impedance matrix, whose
+    /// out-of-band short must hold at 0 Hz to rounding.
+    pub hold_dc: bool,
 }
 
 /// Whether the model has a term `s E`.
@@ -135,6 +141,7 @@ impl Default for FitParams {
             target: 0.01,
             weighting: Weighting::Relative,
             proportional: Proportional::IfNeeded,
+            hold_dc: false,
         }
     }
 }
@@ -317,7 +324,7 @@ pub fn fit_network(
     ys.extend_from_slice(y);
     let (model, mut info) = fit(ports, &fs, &ys, params)?;
     let (pos_f, pos_y) = (&fs[fs.len() - freqs.len()..], &ys[ys.len() - y.len()..]);
-    let (model, passivity) = enforce_passivity(&model, pos_f, pos_y)?;
+    let (model, passivity) = passive::enforce_with(&model, pos_f, pos_y, params.hold_dc)?;
     let (rms, worst, at) = fit_error(&model, pos_f, pos_y);
     info.rms_error = rms;
     info.worst_error = worst;
@@ -389,6 +396,17 @@ pub fn fit(
     params: &FitParams,
 ) -> Result<(RationalModel, FitInfo), FitError> {
     check(ports, freqs, y, params)?;
+    let n2 = ports * ports;
+    let dc: Option<Vec<f64>> = if params.hold_dc {
+        if freqs.first() != Some(&0.0) {
+            return Err(FitError::BadData(
+                "the value to hold at 0 Hz is not the first point".into(),
+            ));
+        }
+        Some(y[..n2].iter().map(|v| v.re).collect())
+    } else {
+        None
+    };
     let (tf, ty) = thin(ports, freqs, y, MAX_FIT_POINTS);
     let mut best: Option<(RationalModel, FitInfo)> = None;
     let mut tried = 0;
@@ -404,7 +422,8 @@ pub fn fit(
                 break;
             }
             tried += 1;
-            let (model, iterations) = fit_order(ports, &tf, &ty, order, prop, params)?;
+            let (model, iterations) =
+                fit_order(ports, &tf, &ty, order, prop, params, dc.as_deref())?;
             let (rms, worst, at) = fit_error(&model, freqs, y);
             let info = FitInfo {
                 order,
@@ -582,6 +601,7 @@ fn fit_order(
     order: usize,
     proportional: bool,
     params: &FitParams,
+    dc: Option<&[f64]>,
 ) -> Result<(RationalModel, usize), FitError> {
     let n2 = ports * ports;
     let top = 2.0 * std::f64::consts::PI * freqs[freqs.len() - 1];
@@ -692,12 +712,13 @@ fn fit_order(
             break;
         }
     }
-    let model =
-        residues_psd(ports, &s, y, &w, &poles, proportional, top).ok_or(FitError::Numerical {
+    let model = residues_psd(ports, &s, y, &w, &poles, proportional, top, dc).ok_or(
+        FitError::Numerical {
             order,
             iteration: 0,
             what: "the residues' least-squares problem",
-        })?;
+        },
+    )?;
     Ok((model, iterations))
 }
 
@@ -744,7 +765,8 @@ fn relocated(eig: impl Iterator<Item = Complex64>, m: usize) -> Vec<Pole> {
 /// model ill-posed, and an unsymmetric one is not passive at high
 /// frequency). If the least-squares `E` is not, it is replaced by its
 /// nearest such matrix and the residues and `D` are fitted again to the
-/// data less `s E`.
+/// data less `s E`. With `dc`, the value at 0 Hz is held ([`residues`]).
+#[allow(clippy::too_many_arguments)]
 fn residues_psd(
     ports: usize,
     s: &[Complex64],
@@ -753,8 +775,9 @@ fn residues_psd(
     poles: &[Pole],
     proportional: bool,
     top: f64,
+    dc: Option<&[f64]>,
 ) -> Option<RationalModel> {
-    let m = residues(ports, s, y, w, poles, proportional, top)?;
+    let m = residues(ports, s, y, w, poles, proportional, top, dc)?;
     if !proportional {
         return Some(m);
     }
@@ -773,7 +796,7 @@ fn residues_psd(
         .enumerate()
         .map(|(k, v)| v - s[k / n2] * top * e[k % n2])
         .collect();
-    let mut m = residues(ports, s, &rest, w, poles, false, top)?;
+    let mut m = residues(ports, s, &rest, w, poles, false, top, dc)?;
     m.e = e;
     Some(m)
 }
@@ -810,7 +833,11 @@ fn psd(e: &[f64]) -> Vec<f64> {
 }
 
 /// The residues, `D` (and `E`) on fixed poles, by least squares per entry;
-/// converted from scaled units to rad/s.
+/// converted from scaled units to rad/s. With `dc` (the value at 0 Hz,
+/// row order) `D` is not a free column: each basis function is taken less
+/// its value at 0 Hz, the data less `dc`, and `D = dc − Σ x_c φ_c(0)`, so
+/// the model's value at 0 Hz is `dc` to rounding.
+#[allow(clippy::too_many_arguments)]
 fn residues(
     ports: usize,
     s: &[Complex64],
@@ -819,13 +846,18 @@ fn residues(
     poles: &[Pole],
     proportional: bool,
     top: f64,
+    dc: Option<&[f64]>,
 ) -> Option<RationalModel> {
     let n2 = ports * ports;
     let m: usize = poles.iter().map(|p| p.cols()).sum();
-    let extra = 1 + usize::from(proportional);
+    // the column of D (none when it follows from the held value at 0 Hz)
+    let d_col = usize::from(dc.is_none());
+    let extra = d_col + usize::from(proportional);
     let k = s.len();
     let mut a = DMat::zeros(2 * k, m + extra);
     let mut phi = Vec::new();
+    let mut phi0 = Vec::new();
+    basis(poles, Complex64::new(0.0, 0.0), &mut phi0);
     for (i, si) in s.iter().enumerate() {
         basis(poles, *si, &mut phi);
         let mut put = |c: usize, v: Complex64| {
@@ -833,17 +865,23 @@ fn residues(
             a[(2 * i + 1, c)] = w[i] * v.im;
         };
         for (c, p) in phi.iter().enumerate() {
-            put(c, *p);
+            if dc.is_some() {
+                put(c, *p - phi0[c]);
+            } else {
+                put(c, *p);
+            }
         }
-        put(m, Complex64::new(1.0, 0.0));
+        if dc.is_none() {
+            put(m, Complex64::new(1.0, 0.0));
+        }
         if proportional {
-            put(m + 1, *si);
+            put(m + d_col, *si);
         }
     }
     let mut bs = DMat::zeros(2 * k, n2);
     for i in 0..k {
         for e in 0..n2 {
-            let f = y[i * n2 + e];
+            let f = y[i * n2 + e] - dc.map_or(0.0, |d| d[e]);
             bs[(2 * i, e)] = w[i] * f.re;
             bs[(2 * i + 1, e)] = w[i] * f.im;
         }
@@ -874,11 +912,16 @@ fn residues(
             residues,
         });
     }
-    let d = (0..n2).map(|e| x[(m, e)]).collect();
+    let d = (0..n2)
+        .map(|e| match dc {
+            None => x[(m, e)],
+            Some(dc) => dc[e] - (0..m).map(|c| x[(c, e)] * phi0[c].re).sum::<f64>(),
+        })
+        .collect();
     let e = (0..n2)
         .map(|e| {
             if proportional {
-                x[(m + 1, e)] / top
+                x[(m + d_col, e)] / top
             } else {
                 0.0
             }
@@ -1123,5 +1166,47 @@ mod tests {
             info.worst_error < 1e-9 && (m.d[0] - 0.02).abs() < 1e-9,
             "{info:?}"
         );
+    }
+
+    #[test]
+    fn a_held_short_at_dc_holds_to_rounding() {
+        // A shorted stub of lossy line (invented values): Z = Z0·tanh(γl)
+        // with γl = a·√(f/f1) (1 + j) + j·2πfτ (skin-effect loss and the
+        // line's delay; textbook line equations), so Z(0) = 0 but Z is not
+        // rational and the fit is approximate. Held (the impedance form's
+        // rule), the fitted Z(0) is zero to rounding of the band's largest
+        // |Z|; fitted as one weighted point only, it is not.
+        let (z0, a, f1, tau) = (50.0, 0.05, 10e6, 1.0 / (4.0 * 40e6));
+        let f = band(1e6, 30e6, 120);
+        let z: Vec<Complex64> = f
+            .iter()
+            .map(|&f| {
+                let g = Complex64::new(1.0, 1.0) * (a * (f / f1).sqrt())
+                    + Complex64::new(0.0, 2.0 * PI * f * tau);
+                g.tanh() * z0
+            })
+            .collect();
+        let scale = z.iter().map(|v| v.norm()).fold(0.0, f64::max);
+        let held = FitParams {
+            hold_dc: true,
+            ..FitParams::default()
+        };
+        let fitted = fit_network(1, &f, &z, &[0.0], &held).unwrap();
+        assert!(
+            fitted.dc[0].abs() <= 1e-12 * scale,
+            "Z_fit(0) = {} Ω",
+            fitted.dc[0]
+        );
+        assert!(fitted.info.worst_error < 0.01, "{:?}", fitted.info);
+        // passive: Re Z_fit ≥ 0 to the rounding tolerance on a grid of our own
+        for k in 0..=400 {
+            let fk = 10f64.powf(k as f64 / 40.0);
+            let v = fitted.model.admittance(fk)[0];
+            assert!(
+                v.re >= -passive::ROUNDING * scale,
+                "Re Z_fit({fk} Hz) = {} Ω",
+                v.re
+            );
+        }
     }
 }

@@ -201,6 +201,20 @@ fn basis(m: &RationalModel, f: f64, out: &mut Vec<Complex64>) {
     out.push(Complex64::new(1.0, 0.0));
 }
 
+/// [`basis`], or with `hold` the basis of the pole terms less their values
+/// at 0 Hz, without D's (D then follows from the held value at 0 Hz).
+fn held_basis(m: &RationalModel, f: f64, hold: bool, out: &mut Vec<Complex64>) {
+    basis(m, f, out);
+    if hold {
+        let mut at0 = Vec::new();
+        basis(m, 0.0, &mut at0);
+        out.pop();
+        for (v, z) in out.iter_mut().zip(&at0) {
+            *v -= z;
+        }
+    }
+}
+
 /// Add a parameter change (per entry: the basis coefficients) to the model.
 fn apply(m: &mut RationalModel, dx: &[f64], per: usize) {
     let n2 = m.ports * m.ports;
@@ -227,6 +241,22 @@ pub fn enforce(
     freqs: &[f64],
     y: &[Complex64],
 ) -> Result<(RationalModel, PassivityInfo), FitError> {
+    enforce_with(model, freqs, y, false)
+}
+
+/// [`enforce`]; with `hold_dc` every correction also keeps the model's
+/// value at 0 Hz: D is then no free parameter but changes by minus the
+/// pole terms' change at 0 Hz, and 0 Hz itself is not lifted to the
+/// margin (a model held to a short there has its smallest eigenvalue at
+/// 0 Hz exactly zero, the edge of passivity, which the rounding tolerance
+/// accepts). A correction that cannot make such a model passive within
+/// [`MAX_PASSES`] is the usual [`FitError::NotPassive`].
+pub fn enforce_with(
+    model: &RationalModel,
+    freqs: &[f64],
+    y: &[Complex64],
+    hold_dc: bool,
+) -> Result<(RationalModel, PassivityInfo), FitError> {
     let n2 = model.ports * model.ports;
     let scale = y
         .chunks(n2)
@@ -252,6 +282,11 @@ pub fn enforce(
         .map(|(f, l)| (l, f))
         .fold((f64::INFINITY, 0.0), |a, b| if b.0 < a.0 { b } else { a });
     let mut m = model.clone();
+    let dc0: Vec<f64> = model
+        .eval_s(Complex64::new(0.0, 0.0))
+        .iter()
+        .map(|v| v.re)
+        .collect();
     let mut passes = 0;
     let mut viol = first;
     while !viol.is_empty() {
@@ -267,8 +302,19 @@ pub fn enforce(
             });
         }
         passes += 1;
-        let viol_m = violations(&m, freqs, margin);
-        correct(&mut m, freqs, y, &viol_m, margin, passes)?;
+        let mut viol_m = violations(&m, freqs, margin);
+        if hold_dc {
+            viol_m.retain(|(f, _)| *f != 0.0);
+        }
+        correct(&mut m, freqs, y, &viol_m, margin, passes, hold_dc)?;
+        if hold_dc {
+            // The correction kept the value at 0 Hz by construction; D
+            // takes up the rounding of the sums.
+            let now = m.eval_s(Complex64::new(0.0, 0.0));
+            for ((d, v), v0) in m.d.iter_mut().zip(&now).zip(&dc0) {
+                *d -= v.re - v0;
+            }
+        }
         viol = violations(&m, freqs, tol);
     }
     let worst_after = grid(&m, freqs)
@@ -304,9 +350,11 @@ fn correct(
     viol: &[(f64, f64)],
     margin: f64,
     pass: usize,
+    hold_dc: bool,
 ) -> Result<(), FitError> {
     let n2 = m.ports * m.ports;
-    let per = m.order() + 1;
+    // with the value at 0 Hz held, D is no parameter (it follows)
+    let per = m.order() + usize::from(!hold_dc);
     let nx = n2 * per;
     let w = super::weights(m.ports, y, super::Weighting::Relative);
     // Objective: Σ_k w_k² ‖ΔY(f_k)‖², the same basis for every entry.
@@ -314,7 +362,7 @@ fn correct(
     let mut a = nalgebra::DMatrix::<f64>::zeros(2 * k, per);
     let mut phi = Vec::new();
     for (i, f) in freqs.iter().enumerate() {
-        basis(m, *f, &mut phi);
+        held_basis(m, *f, hold_dc, &mut phi);
         for (c, p) in phi.iter().enumerate() {
             a[(2 * i, c)] = w[i] * p.re;
             a[(2 * i + 1, c)] = w[i] * p.im;
@@ -339,7 +387,7 @@ fn correct(
             m.admittance(*f)
         };
         let (lam, v) = smallest(&ym);
-        basis(m, *f, &mut phi);
+        held_basis(m, *f, hold_dc, &mut phi);
         let ports = m.ports;
         for r in 0..ports {
             for c in 0..ports {
@@ -353,6 +401,23 @@ fn correct(
             }
         }
         rhs[nx + j] = margin - lam;
+        if hold_dc {
+            // With 0 Hz held, a violation near it has a row of the size of
+            // the basis' change from 0 Hz, far below the objective's: the
+            // row (and its multiplier's column) scaled to unit norm, so
+            // that the solver's cut-off does not drop it.
+            let rn = (0..nx)
+                .map(|c| kkt[(nx + j, c)].powi(2))
+                .sum::<f64>()
+                .sqrt();
+            if rn > 0.0 && rn.is_finite() {
+                for c in 0..nx {
+                    kkt[(nx + j, c)] /= rn;
+                    kkt[(c, nx + j)] /= rn;
+                }
+                rhs[nx + j] /= rn;
+            }
+        }
     }
     let svd = nalgebra::linalg::SVD::try_new(kkt, true, true, f64::EPSILON, 0);
     let sol = svd.and_then(|s| {
@@ -367,7 +432,20 @@ fn correct(
         });
     };
     let dx: Vec<f64> = (0..nx).map(|i| sol[i] / col[i % per]).collect();
-    apply(m, &dx, per);
+    if hold_dc {
+        // D changes by minus the pole terms' change at 0 Hz
+        let mut phi0 = Vec::new();
+        basis(m, 0.0, &mut phi0);
+        let mut full = Vec::with_capacity(n2 * (per + 1));
+        for e in 0..n2 {
+            let x = &dx[e * per..(e + 1) * per];
+            full.extend_from_slice(x);
+            full.push(-x.iter().zip(&phi0).map(|(x, p)| x * p.re).sum::<f64>());
+        }
+        apply(m, &full, per + 1);
+    } else {
+        apply(m, &dx, per);
+    }
     Ok(())
 }
 
@@ -435,6 +513,41 @@ mod tests {
         // The data themselves were not passive: the correction costs some
         // fit error, reported.
         assert!(info.error_after > info.error_before);
+    }
+
+    #[test]
+    fn a_held_value_at_dc_survives_the_correction() {
+        // The model of the test above with D chosen so that its value at
+        // 0 Hz is zero (D = 2·Re(R/p), since a pair gives R/(s − p) +
+        // R̄/(s − p̄)): held, the correction keeps that zero to rounding
+        // and still makes the model passive; not held, it moves it.
+        let p = Complex64::new(-2e5, 2.0 * PI * 5e6);
+        let r = Complex64::new(1e3, 3e3);
+        let bad = RationalModel {
+            ports: 1,
+            terms: vec![PoleTerm {
+                pole: p,
+                residues: vec![r],
+            }],
+            d: vec![2.0 * (r / p).re],
+            e: vec![0.0],
+        };
+        assert!(bad.eval_s(Complex64::new(0.0, 0.0))[0].norm() < 1e-15);
+        let f: Vec<f64> = (0..120).map(|i| 3e6 + 4e6 * i as f64 / 119.0).collect();
+        let y: Vec<Complex64> = f.iter().flat_map(|&f| bad.admittance(f)).collect();
+        let scale = y.iter().map(|v| v.norm()).fold(0.0, f64::max);
+        let (m, info) = enforce_with(&bad, &f, &y, true).unwrap();
+        assert!(info.worst_before < 0.0 && info.passes > 0, "{info:?}");
+        let dc = m.eval_s(Complex64::new(0.0, 0.0))[0];
+        assert!(dc.norm() <= 1e-12 * scale, "Y(0) = {dc} S");
+        for i in 0..=20000 {
+            let f = 2e7 * i as f64 / 20000.0;
+            let v = m.admittance(f)[0].re;
+            assert!(v >= -ROUNDING * scale, "Re Y = {v} S at {f} Hz");
+        }
+        let (loose, _) = enforce(&bad, &f, &y).unwrap();
+        let moved = loose.eval_s(Complex64::new(0.0, 0.0))[0];
+        assert!(moved.norm() > 1e-9 * scale, "Y(0) = {moved} S");
     }
 
     #[test]

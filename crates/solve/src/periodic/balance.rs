@@ -699,8 +699,8 @@ pub(super) fn linear_network(
             let Some(entries) = d.frequency_admittance(f) else {
                 return Err(SolveError::BadParams(format!(
                     "harmonic balance: measured network #{} is not defined at harmonic {k} \
-                     ({f:.6e} Hz), outside its file's band (give it outside=open, outside=hold \
-                     or outside_r=, or fewer harmonics)",
+                     ({f:.6e} Hz), outside its file's band (give it outside=open, outside=short, \
+                     outside=hold or outside_r=, or fewer harmonics)",
                     d.element().index()
                 )));
             };
@@ -2288,7 +2288,8 @@ fn currents(
 /// each harmonic: `I_i,k = Σ_j Y_ij(k·f0) V_j,k` into the positive terminal
 /// of port `i` (and out of its negative one), `V_j,k` the harmonic `k` of
 /// port `j`'s voltage; at `k = 0` the element's DC stamp
-/// ([`tankwave_circuit::touchstone::MeasuredNetwork::dc_admittance`]).
+/// ([`tankwave_circuit::touchstone::MeasuredNetwork::dc_admittance`]). A
+/// network held as an impedance matrix is left as sampled.
 fn measured_currents(
     circuit: &Circuit,
     freq: f64,
@@ -2305,6 +2306,12 @@ fn measured_currents(
         let tankwave_circuit::ElementKind::Measured { ports, network } = &el.kind else {
             continue;
         };
+        // Held as an impedance matrix, the element's terminal currents are
+        // its port-current unknowns, which the device's own stamp already
+        // gave exactly at every harmonic.
+        if network.form() == tankwave_circuit::touchstone::Form::Impedance {
+            continue;
+        }
         let np = ports.len();
         let mut coef = vec![vec![ZERO; sol.kmax + 1]; np];
         for (k, row) in sol.x_full.iter().enumerate().take(sol.kmax + 1) {
