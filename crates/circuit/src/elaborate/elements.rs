@@ -10,6 +10,11 @@ use tankwave_netlist::ast::*;
 use tankwave_netlist::suggest::did_you_mean;
 use tankwave_netlist::Slot;
 
+/// Largest fit error (a fraction, 1000 %) a `fit` error shows as a figure;
+/// beyond it the model does not follow the data at all and the message
+/// says "more than" this.
+const FIT_OFF_SHOWN: f64 = 10.0;
+
 /// What the element pass knows about the parts.
 pub(super) struct PartsSeen<'m> {
     models: &'m [Model],
@@ -313,7 +318,13 @@ impl<'a> Cx<'a> {
                             format!(
                                 "{ctx}: its time-domain model ({} poles) is off by {} {at}, more than fit_error={}",
                                 f.info.order,
-                                crate::si::percent(worst),
+                                // a fit that does not follow the data at all
+                                // is not worth a figure of its own
+                                if worst > FIT_OFF_SHOWN {
+                                    format!("more than {}", crate::si::percent(FIT_OFF_SHOWN))
+                                } else {
+                                    crate::si::percent(worst)
+                                },
                                 crate::si::percent(bound)
                             ),
                         )
