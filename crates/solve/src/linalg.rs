@@ -1,18 +1,24 @@
 //! Linear solvers for the Newton and small-signal systems.
 //!
-//! The matrices are assembled densely (a stage has 10–60 unknowns). Two
-//! factorisations are offered, both from faer:
+//! The Newton systems of the time-domain analyses are assembled on a sparse
+//! pattern ([`crate::assemble`]) and factored from it
+//! ([`RealLu::factor_pattern`]); other callers hand a dense row-major matrix
+//! ([`RealLu::factor`]). Two factorisations are offered, both from faer:
 //! - [`LinearSolver::Dense`]: LU with partial pivoting of the dense matrix;
 //! - [`LinearSolver::Sparse`]: sparse LU whose symbolic analysis (ordering and
 //!   fill pattern) is computed once per sparsity pattern and reused for every
-//!   later factorisation with the same pattern (Newton iterations, time steps).
+//!   later factorisation with the same pattern (Newton iterations, time
+//!   steps), its numeric factors refactored in place, on the calling thread.
 //!
 //! docs/analyses.md records the measured comparison that picked the default.
 
+use crate::assemble::Pattern;
+use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::linalg::solvers::Solve;
-use faer::sparse::linalg::solvers::{Lu, SymbolicLu};
-use faer::sparse::{Pair, SparseColMat, SymbolicSparseColMat};
+use faer::sparse::linalg::lu::{factorize_symbolic_lu, LuRef, NumericLu, SymbolicLu};
+use faer::sparse::{SparseColMatRef, SymbolicSparseColMatRef};
 use faer::{Mat, MatMut};
+use std::sync::Arc;
 
 /// Which LU factorisation the real-valued Newton systems use.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -153,7 +159,8 @@ impl<T: faer::traits::ComplexField> DenseLu<T> {
     }
 }
 
-/// A factorisation of a square real matrix given row-major.
+/// A factorisation of a square real matrix, given row-major
+/// ([`RealLu::factor`]) or on a sparse pattern ([`RealLu::factor_pattern`]).
 #[derive(Debug)]
 pub struct RealLu {
     kind: LinearSolver,
@@ -162,17 +169,55 @@ pub struct RealLu {
     sparse: Option<SparseState>,
 }
 
+/// The sparse LU of one pattern: its symbolic analysis (fill-reducing
+/// ordering and structure), made once per pattern, and the numeric factors
+/// of the last matrix, refactored in place. Factorisation and solves run on
+/// the calling thread ([`par_for`]: the systems of a stage are far below
+/// [`PARALLEL_FROM`]; faer's own `Lu` takes the global setting).
 #[derive(Debug)]
 struct SparseState {
-    /// Structural pattern as (col, row) sorted by column then row.
-    pattern: Vec<(usize, usize)>,
-    /// Row-major map from (row, col) to the position in `pattern` (usize::MAX: outside).
-    pos: Vec<usize>,
-    symbolic_mat: SymbolicSparseColMat<usize>,
-    argsort: faer::sparse::Argsort<usize>,
-    symbolic: SymbolicLu<usize>,
-    lu: Option<Lu<usize, f64>>,
+    /// The pattern factored (compressed columns).
+    pattern: Pattern,
+    symbolic: Arc<SymbolicLu<usize>>,
+    numeric: NumericLu<usize, f64>,
+    /// `numeric` holds the factors of the last matrix.
+    factored: bool,
+    /// Scratch of the numeric factorisation, kept between factorisations.
+    scratch: Scratch,
+    /// Values on `pattern` of the last row-major matrix ([`RealLu::factor`]).
     vals: Vec<f64>,
+}
+
+/// A scratch buffer (faer's has no `Debug`).
+struct Scratch(MemBuffer);
+
+impl std::fmt::Debug for Scratch {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str("Scratch")
+    }
+}
+
+impl SparseState {
+    fn new(pattern: Pattern) -> Result<Self, usize> {
+        let n = pattern.order();
+        let sym =
+            SymbolicSparseColMatRef::new_checked(n, n, pattern.col_ptr(), None, pattern.row_idx());
+        let symbolic = factorize_symbolic_lu(sym, Default::default()).map_err(|_| 0usize)?;
+        let scratch = Scratch(
+            MemBuffer::try_new(
+                symbolic.factorize_numeric_lu_scratch::<f64>(faer::Par::Seq, Default::default()),
+            )
+            .map_err(|_| 0usize)?,
+        );
+        Ok(Self {
+            vals: vec![0.0; pattern.len()],
+            pattern,
+            symbolic: Arc::new(symbolic),
+            numeric: NumericLu::new(),
+            factored: false,
+            scratch,
+        })
+    }
 }
 
 impl RealLu {
@@ -187,7 +232,8 @@ impl RealLu {
     }
 
     /// Factor the row-major `n×n` matrix `a`. On a zero pivot returns the
-    /// column (unknown) that has none.
+    /// column (unknown) that has none. The sparse LU keeps its pattern
+    /// (and symbolic analysis) while it covers every nonzero of `a`.
     pub fn factor(&mut self, a: &[f64]) -> Result<(), usize> {
         let n = self.n;
         if a.len() != n * n {
@@ -201,95 +247,130 @@ impl RealLu {
             return Err(0);
         }
         match self.kind {
-            LinearSolver::Dense => {
-                let m = Mat::<f64>::from_fn(n, n, |i, j| a[i * n + j]);
-                let lu = DenseLu::new(m);
-                let u = lu.U();
-                for k in 0..n {
-                    let p = u[(k, k)];
-                    if !(p.abs() > PIVOT_FLOOR * amax) {
-                        return Err(k);
-                    }
+            LinearSolver::Dense => self.factor_dense(a, amax),
+            _ => {
+                // Does the current pattern cover every nonzero (and the diagonal)?
+                let covered = self.sparse.as_ref().is_some_and(|s| {
+                    (0..n).all(|r| {
+                        (0..n).all(|c| a[r * n + c] == 0.0 || s.pattern.find(r, c).is_some())
+                    })
+                });
+                if !covered {
+                    self.sparse = Some(SparseState::new(Pattern::of_dense(a, n))?);
                 }
-                self.dense = Some(lu);
-                Ok(())
+                let s = self.sparse.as_mut().ok_or(0usize)?;
+                let mut vals = std::mem::take(&mut s.vals);
+                for (p, r, c) in s.pattern.entries() {
+                    vals[p] = a[r * n + c];
+                }
+                let res = Self::factor_sparse(s, &vals, amax);
+                s.vals = vals;
+                res
             }
-            _ => self.factor_sparse(a, amax),
         }
     }
 
-    fn factor_sparse(&mut self, a: &[f64], amax: f64) -> Result<(), usize> {
+    /// Factor the matrix with the values `vals` at the positions of
+    /// `pattern` (an assembled Jacobian, [`crate::assemble`]): no `n×n`
+    /// pass for the sparse LU, whose symbolic analysis is redone only when
+    /// the pattern changes. On a zero pivot returns the column (unknown)
+    /// that has none.
+    pub(crate) fn factor_pattern(&mut self, pattern: &Pattern, vals: &[f64]) -> Result<(), usize> {
         let n = self.n;
-        // Does the current pattern cover every nonzero (and the diagonal)?
-        let covered = match &self.sparse {
-            Some(s) => a
-                .iter()
-                .zip(&s.pos)
-                .all(|(v, p)| *v == 0.0 || *p != usize::MAX),
-            None => false,
-        };
-        if !covered {
-            let mut pattern: Vec<(usize, usize)> = Vec::new();
-            for c in 0..n {
-                for r in 0..n {
-                    if a[r * n + c] != 0.0 || r == c {
-                        pattern.push((c, r));
-                    }
-                }
-            }
-            let idx: Vec<Pair<usize, usize>> =
-                pattern.iter().map(|&(c, r)| Pair::new(r, c)).collect();
-            let (symbolic_mat, argsort) =
-                SymbolicSparseColMat::try_new_from_indices(n, n, &idx).map_err(|_| 0usize)?;
-            let symbolic = SymbolicLu::try_new(symbolic_mat.as_ref()).map_err(|_| 0usize)?;
-            let len = pattern.len();
-            let mut pos = vec![usize::MAX; n * n];
-            for (k, &(c, r)) in pattern.iter().enumerate() {
-                pos[r * n + c] = k;
-            }
-            self.sparse = Some(SparseState {
-                pattern,
-                pos,
-                symbolic_mat,
-                argsort,
-                symbolic,
-                lu: None,
-                vals: vec![0.0; len],
-            });
+        if pattern.order() != n || vals.len() != pattern.len() {
+            return Err(0);
         }
-        let s = self.sparse.as_mut().ok_or(0usize)?;
-        for (v, &(c, r)) in s.vals.iter_mut().zip(&s.pattern) {
-            *v = a[r * n + c];
+        let amax = vals.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        if !amax.is_finite() {
+            return Err(pattern
+                .entries()
+                .find(|&(p, _, _)| !vals[p].is_finite())
+                .map_or(0, |(_, _, c)| c));
         }
-        let mat = SparseColMat::new_from_argsort(s.symbolic_mat.clone(), &s.argsort, &s.vals)
-            .map_err(|_| 0usize)?;
-        match Lu::try_new_with_symbolic(s.symbolic.clone(), mat.as_ref()) {
-            Ok(lu) => {
-                // A numerically zero pivot does not fail the sparse factorisation:
-                // probe with one solve and report the first unknown that blows up.
-                let mut probe = Mat::<f64>::from_fn(n, 1, |_, _| 1.0);
-                lu.solve_in_place(probe.as_mut());
-                let limit = 1e15 * (n as f64) / (amax * PIVOT_FLOOR.sqrt());
-                if let Some(k) = (0..n).find(|&k| !(probe[(k, 0)].abs() <= limit)) {
-                    return Err(k);
+        if amax == 0.0 {
+            return Err(0);
+        }
+        match self.kind {
+            LinearSolver::Dense => self.factor_dense(&pattern.to_dense(vals), amax),
+            _ => {
+                if self.sparse.as_ref().is_none_or(|s| s.pattern != *pattern) {
+                    self.sparse = Some(SparseState::new(pattern.clone())?);
                 }
-                s.lu = Some(lu);
+                let s = self.sparse.as_mut().ok_or(0usize)?;
+                Self::factor_sparse(s, vals, amax)
             }
+        }
+    }
+
+    fn factor_dense(&mut self, a: &[f64], amax: f64) -> Result<(), usize> {
+        let n = self.n;
+        let m = Mat::<f64>::from_fn(n, n, |i, j| a[i * n + j]);
+        let lu = DenseLu::new(m);
+        let u = lu.U();
+        for k in 0..n {
+            let p = u[(k, k)];
+            if !(p.abs() > PIVOT_FLOOR * amax) {
+                return Err(k);
+            }
+        }
+        self.dense = Some(lu);
+        Ok(())
+    }
+
+    fn factor_sparse(s: &mut SparseState, vals: &[f64], amax: f64) -> Result<(), usize> {
+        let n = s.pattern.order();
+        s.factored = false;
+        let sym = SymbolicSparseColMatRef::new_checked(
+            n,
+            n,
+            s.pattern.col_ptr(),
+            None,
+            s.pattern.row_idx(),
+        );
+        let mat = SparseColMatRef::new(sym, vals);
+        let symbolic = Arc::clone(&s.symbolic);
+        match symbolic.factorize_numeric_lu(
+            &mut s.numeric,
+            mat,
+            faer::Par::Seq,
+            MemStack::new(&mut s.scratch.0),
+            Default::default(),
+        ) {
+            Ok(_) => {}
             Err(faer::sparse::linalg::LuError::SymbolicSingular { index }) => {
                 return Err(index.min(n.saturating_sub(1)))
             }
             Err(_) => return Err(0),
         }
+        // A numerically zero pivot does not fail the sparse factorisation:
+        // probe with one solve and report the first unknown that blows up.
+        let mut probe = vec![1.0; n];
+        sparse_solve(&symbolic, &s.numeric, &mut probe, n);
+        let limit = 1e15 * (n as f64) / (amax * PIVOT_FLOOR.sqrt());
+        if let Some(k) = (0..n).find(|&k| !(probe[k].abs() <= limit)) {
+            return Err(k);
+        }
+        s.factored = true;
         Ok(())
     }
 
     /// Solve `A x = b` in place with the last factorisation.
     pub fn solve(&self, b: &mut [f64]) {
         let n = self.n;
-        let mut col = Mat::<f64>::from_fn(n, 1, |i, _| b.get(i).copied().unwrap_or(0.0));
-        self.solve_mat(col.as_mut());
-        for (i, v) in b.iter_mut().enumerate().take(n) {
-            *v = col[(i, 0)];
+        if b.len() < n {
+            return;
+        }
+        match self.kind {
+            LinearSolver::Dense => {
+                if let Some(lu) = &self.dense {
+                    lu.solve_in_place(MatMut::from_column_major_slice_mut(&mut b[..n], n, 1));
+                }
+            }
+            _ => {
+                if let Some(s) = self.sparse.as_ref().filter(|s| s.factored) {
+                    sparse_solve(&s.symbolic, &s.numeric, &mut b[..n], n);
+                }
+            }
         }
     }
 
@@ -302,11 +383,56 @@ impl RealLu {
                 }
             }
             _ => {
-                if let Some(lu) = self.sparse.as_ref().and_then(|s| s.lu.as_ref()) {
-                    lu.solve_in_place(rhs);
+                if let Some(s) = self.sparse.as_ref().filter(|s| s.factored) {
+                    sparse_solve_mat(&s.symbolic, &s.numeric, rhs);
                 }
             }
         }
+    }
+}
+
+/// Solve with sparse factors on the calling thread, `b` holding
+/// `b.len() / n` columns one after the other.
+fn sparse_solve(
+    symbolic: &SymbolicLu<usize>,
+    numeric: &NumericLu<usize, f64>,
+    b: &mut [f64],
+    n: usize,
+) {
+    if n == 0 {
+        return;
+    }
+    let cols = b.len() / n;
+    let m = MatMut::from_column_major_slice_mut(&mut b[..n * cols], n, cols);
+    sparse_solve_mat(symbolic, numeric, m);
+}
+
+fn sparse_solve_mat(
+    symbolic: &SymbolicLu<usize>,
+    numeric: &NumericLu<usize, f64>,
+    rhs: MatMut<'_, f64>,
+) {
+    let par = faer::Par::Seq;
+    let mut mem = MemBuffer::new(symbolic.solve_in_place_scratch::<f64>(rhs.ncols(), par));
+    LuRef::new_unchecked(symbolic, numeric).solve_in_place_with_conj(
+        faer::Conj::No,
+        rhs,
+        par,
+        MemStack::new(&mut mem),
+    );
+}
+
+/// Sparse LU factors kept after the solver has moved on: the shared
+/// symbolic analysis and a copy of the numeric factors.
+#[derive(Debug, Clone)]
+pub(crate) struct SparseFactors {
+    symbolic: Arc<SymbolicLu<usize>>,
+    numeric: NumericLu<usize, f64>,
+}
+
+impl SparseFactors {
+    fn solve_columns(&self, b: &mut [f64], n: usize) {
+        sparse_solve(&self.symbolic, &self.numeric, b, n);
     }
 }
 
@@ -318,7 +444,7 @@ pub(crate) enum Factors {
     /// Dense LU with partial pivoting.
     Dense(DenseLu<f64>),
     /// Sparse LU.
-    Sparse(Lu<usize, f64>),
+    Sparse(SparseFactors),
 }
 
 impl Factors {
@@ -335,11 +461,16 @@ impl Factors {
         if n == 0 {
             return;
         }
-        let cols = b.len() / n;
-        let m = MatMut::from_column_major_slice_mut(&mut b[..n * cols], n, cols);
         match self {
-            Factors::Dense(lu) => lu.solve_in_place(m),
-            Factors::Sparse(lu) => lu.solve_in_place(m),
+            Factors::Dense(lu) => {
+                let cols = b.len() / n;
+                lu.solve_in_place(MatMut::from_column_major_slice_mut(
+                    &mut b[..n * cols],
+                    n,
+                    cols,
+                ))
+            }
+            Factors::Sparse(lu) => lu.solve_columns(b, n),
         }
     }
 }
@@ -349,11 +480,12 @@ impl RealLu {
     pub(crate) fn snapshot(&self) -> Option<Factors> {
         match self.kind {
             LinearSolver::Dense => self.dense.clone().map(Factors::Dense),
-            _ => self
-                .sparse
-                .as_ref()
-                .and_then(|s| s.lu.clone())
-                .map(Factors::Sparse),
+            _ => self.sparse.as_ref().filter(|s| s.factored).map(|s| {
+                Factors::Sparse(SparseFactors {
+                    symbolic: Arc::clone(&s.symbolic),
+                    numeric: s.numeric.clone(),
+                })
+            }),
         }
     }
 }
@@ -368,26 +500,27 @@ pub(crate) struct Csr {
 }
 
 impl Csr {
-    /// The nonzeros of the row-major `n×n` matrix `a`, rows where `keep`
-    /// is false left empty.
-    pub(crate) fn from_rows(a: &[f64], n: usize, keep: impl Fn(usize) -> bool) -> Self {
-        let mut m = Csr {
-            ptr: Vec::with_capacity(n + 1),
+    /// An empty matrix to be filled row by row ([`Csr::push`], [`Csr::end_row`]).
+    pub(crate) fn with_rows(n: usize) -> Self {
+        let mut ptr = Vec::with_capacity(n + 1);
+        ptr.push(0);
+        Csr {
+            ptr,
             ..Csr::default()
-        };
-        m.ptr.push(0);
-        for r in 0..n {
-            if keep(r) {
-                for (c, &v) in a[r * n..(r + 1) * n].iter().enumerate() {
-                    if v != 0.0 {
-                        m.col.push(c);
-                        m.val.push(v);
-                    }
-                }
-            }
-            m.ptr.push(m.col.len());
         }
-        m
+    }
+
+    /// Add `v` at column `c` of the current row, if nonzero.
+    pub(crate) fn push(&mut self, c: usize, v: f64) {
+        if v != 0.0 {
+            self.col.push(c);
+            self.val.push(v);
+        }
+    }
+
+    /// Close the current row.
+    pub(crate) fn end_row(&mut self) {
+        self.ptr.push(self.col.len());
     }
 
     /// `out += alpha · A x`.

@@ -54,7 +54,7 @@ use super::{start_time, PeriodicSolution, ShootingInfo, SteadyInfo, SteadyParams
 use crate::krylov::{gmres, GmresParams};
 use crate::linalg::{Csr, Factors};
 use crate::newton::unknown_floor;
-use crate::transient::{bdf2_coefficients, charged_rows, Method, Stepper, GAMMA};
+use crate::transient::{bdf2_coefficients, Method, Stepper, GAMMA};
 use crate::SolveError;
 use faer::Mat;
 use tankwave_circuit::{Circuit, SteadyMethod};
@@ -229,29 +229,40 @@ pub(crate) struct PeriodRun {
 
 /// The charged-row part of `G` and the whole of `C` at the stepper's last evaluation.
 fn g_hat_and_c(st: &Stepper<'_>, n: usize) -> (Mat<f64>, Mat<f64>) {
-    let ch = charged_rows(&st.ws.stamp);
-    let g = Mat::<f64>::from_fn(
-        n,
-        n,
-        |r, c| {
-            if ch[r] {
-                st.ws.stamp.g_at(r, c)
-            } else {
-                0.0
-            }
-        },
-    );
-    let c = Mat::<f64>::from_fn(n, n, |r, c| st.ws.stamp.c_at(r, c));
+    let stamp = &st.ws.stamp;
+    let ch = stamp.charged_rows();
+    let mut g = Mat::<f64>::zeros(n, n);
+    let mut c = Mat::<f64>::zeros(n, n);
+    for (p, r, col) in stamp.pattern().entries() {
+        if ch[r] {
+            g[(r, col)] = stamp.g[p];
+        }
+        c[(r, col)] = stamp.c[p];
+    }
     (g, c)
 }
 
+/// `C` at the stepper's last evaluation, dense.
+fn c_dense(st: &Stepper<'_>, n: usize) -> Mat<f64> {
+    let stamp = &st.ws.stamp;
+    let mut c = Mat::<f64>::zeros(n, n);
+    for (p, r, col) in stamp.pattern().entries() {
+        c[(r, col)] = stamp.c[p];
+    }
+    c
+}
+
 /// [`g_hat_and_c`], sparse.
-fn g_hat_and_c_sparse(st: &Stepper<'_>, n: usize) -> (Csr, Csr) {
-    let ch = charged_rows(&st.ws.stamp);
-    (
-        Csr::from_rows(&st.ws.stamp.g, n, |r| ch[r]),
-        Csr::from_rows(&st.ws.stamp.c, n, |_| true),
-    )
+fn g_hat_and_c_sparse(st: &Stepper<'_>) -> (Csr, Csr) {
+    let stamp = &st.ws.stamp;
+    let ch = stamp.charged_rows();
+    (stamp.pattern().to_csr(&stamp.g, |r| ch[r]), c_sparse(st))
+}
+
+/// `C` at the stepper's last evaluation, sparse.
+fn c_sparse(st: &Stepper<'_>) -> Csr {
+    let stamp = &st.ws.stamp;
+    stamp.pattern().to_csr(&stamp.c, |_| true)
 }
 
 /// The factors just computed in the stepper's workspace.
@@ -297,7 +308,7 @@ pub(crate) fn integrate_period(
             })
         }
         Sens::Record => {
-            let (mut g0, mut c0) = g_hat_and_c_sparse(st, n);
+            let (mut g0, mut c0) = g_hat_and_c_sparse(st);
             let mut steps = Vec::with_capacity(ns);
             for s in 0..ns {
                 for (k, row) in samples.iter_mut().enumerate() {
@@ -309,7 +320,7 @@ pub(crate) fn integrate_period(
                 let a = st.attempt(tg, Method::Trapezoidal).map_err(err)?;
                 factor(st, devices, tg)?;
                 let lu_g = snapshot(st, tg)?;
-                let cg = Csr::from_rows(&st.ws.stamp.c, n, |_| true);
+                let cg = c_sparse(st);
                 let h0 = tg - st.t;
                 st.commit(a);
                 for (k, row) in stage.iter_mut().enumerate() {
@@ -319,7 +330,7 @@ pub(crate) fn integrate_period(
                 let b = st.attempt(t1, Method::Bdf2).map_err(err)?;
                 factor(st, devices, t1)?;
                 let lu_1 = snapshot(st, t1)?;
-                let (g1, c1) = g_hat_and_c_sparse(st, n);
+                let (g1, c1) = g_hat_and_c_sparse(st);
                 steps.push(StepLin {
                     g0: std::mem::replace(&mut g0, g1),
                     c0: std::mem::replace(&mut c0, c1),
@@ -357,7 +368,7 @@ pub(crate) fn integrate_period(
                 let m = Mat::<f64>::from_fn(n, n, |r, c| alpha1 * c0[(r, c)] - g0[(r, c)]);
                 let mut sg = &m * &sens;
                 st.ws.lu.solve_mat(sg.as_mut());
-                let cg = Mat::<f64>::from_fn(n, n, |r, c| st.ws.stamp.c_at(r, c));
+                let cg = c_dense(st, n);
                 let h0 = tg - st.t;
                 st.commit(a);
                 for (k, row) in stage.iter_mut().enumerate() {
@@ -923,10 +934,10 @@ fn half_grid(
 fn factor(st: &mut Stepper<'_>, devices: &DeviceSet, t: f64) -> Result<(), SolveError> {
     let Stepper { ws, .. } = st;
     let n = devices.n_unknowns;
-    ws.lu.factor(&ws.jac).map_err(|k| SolveError::Singular {
+    ws.factor().map_err(|k| SolveError::Singular {
         analysis: "shooting".into(),
         unknown: devices.names.get(k).cloned().unwrap_or_default(),
-        cause: crate::singular::cause(&ws.jac, n, k, devices),
+        cause: crate::singular::cause(&ws.dense_jac(), n, k, devices),
         when: crate::error::When(Some(t)),
     })
 }
