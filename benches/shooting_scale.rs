@@ -9,6 +9,11 @@
 //!   through 0.1 Ω, one 50 Ω load, part values spread by ±5 %, so nothing
 //!   splits them into independent pieces). Shooting is timed with the monodromy matrix formed densely and
 //!   matrix-free (Newton–Krylov), N = 1, 2, 4, 8, 16, as a ratio to N = 1.
+//!   The matrix-free solve's periods and GMRES products (operator
+//!   applications) per size follow, to show how the Krylov work grows.
+//!   `TANKWAVE_BENCH_SIZES=1,16` picks the sizes, `TANKWAVE_BENCH_MODES=free`
+//!   (or `dense`) one mode (for profiling), `TANKWAVE_BENCH_WARM=0` skips
+//!   the warm variant.
 //! - **Warm variant:** the class-C demo solved (shooting, verification
 //!   included), then a neighbour (drive +2 %) solved cold and warm-started
 //!   from the demo's periodic state, against one plain transient period
@@ -50,6 +55,13 @@ fn main() {
         .ok()
         .map(|s| s.split(',').filter_map(|v| v.trim().parse().ok()).collect())
         .unwrap_or_else(|| vec![1, 2, 4, 8, 16]);
+    let modes = std::env::var("TANKWAVE_BENCH_MODES").unwrap_or_default();
+    let run_mode = |m: ShootingMode| match modes.as_str() {
+        "dense" => m == ShootingMode::Dense,
+        "free" => m == ShootingMode::MatrixFree,
+        _ => true,
+    };
+    let mut krylov = Vec::new();
     println!("shooting against circuit size (median of 3 runs; ratio to N = 1 per mode)");
     println!(
         "{:>4} {:>9} {:>12} {:>8} {:>14} {:>8} {:>8}",
@@ -72,10 +84,20 @@ fn main() {
             let mut p = sp.clone();
             p.method = SteadyMethod::Shooting;
             p.shooting.mode = mode;
-            if let Err(e) = tankwave_solve::shooting(&c, &d, &p) {
-                eprintln!("N = {n}, {mode:?}: {e}");
+            if !run_mode(mode) {
                 t[i] = f64::NAN;
                 continue;
+            }
+            match tankwave_solve::shooting(&c, &d, &p) {
+                Err(e) => {
+                    eprintln!("N = {n}, {mode:?}: {e}");
+                    t[i] = f64::NAN;
+                    continue;
+                }
+                Ok(sol) if mode == ShootingMode::MatrixFree => {
+                    krylov.push((n, sol.info.shooting));
+                }
+                Ok(_) => {}
             }
             t[i] = time(3, || {
                 std::hint::black_box(tankwave_solve::shooting(&c, &d, &p).expect("shooting"));
@@ -93,6 +115,31 @@ fn main() {
             t[1] / base[1],
             ShootingMode::Auto.resolve(d.n_unknowns)
         );
+    }
+
+    // the Krylov work of the matrix-free solves
+    println!(
+        "\nmatrix-free: Newton periods (coarse, fine; with stored factors) and GMRES \
+         products (with the half-grid floor's), per Newton period"
+    );
+    println!(
+        "{:>4} {:>8} {:>8} {:>10} {:>9} {:>11}",
+        "N", "coarse", "fine", "factored", "products", "per period"
+    );
+    for (n, info) in &krylov {
+        if let Some(i) = info {
+            println!(
+                "{n:>4} {:>8} {:>8} {:>10} {:>9} {:>11.1}",
+                i.coarse_periods,
+                i.fine_periods,
+                i.monodromy_periods,
+                i.krylov_products,
+                i.krylov_products as f64 / (i.coarse_periods + i.fine_periods).max(1) as f64
+            );
+        }
+    }
+    if std::env::var("TANKWAVE_BENCH_WARM").is_ok_and(|v| v == "0") {
+        return;
     }
 
     // warm-started variant against a cold solve and one plain period

@@ -56,7 +56,7 @@ use crate::linalg::{Csr, Factors};
 use crate::newton::unknown_floor;
 use crate::transient::{bdf2_coefficients, Method, Stepper, GAMMA};
 use crate::SolveError;
-use faer::Mat;
+use faer::{Mat, MatMut};
 use tankwave_circuit::{Circuit, SteadyMethod};
 use tankwave_devices::DeviceSet;
 
@@ -227,32 +227,8 @@ pub(crate) struct PeriodRun {
     pub(crate) lin: Option<PeriodLin>,
 }
 
-/// The charged-row part of `G` and the whole of `C` at the stepper's last evaluation.
-fn g_hat_and_c(st: &Stepper<'_>, n: usize) -> (Mat<f64>, Mat<f64>) {
-    let stamp = &st.ws.stamp;
-    let ch = stamp.charged_rows();
-    let mut g = Mat::<f64>::zeros(n, n);
-    let mut c = Mat::<f64>::zeros(n, n);
-    for (p, r, col) in stamp.pattern().entries() {
-        if ch[r] {
-            g[(r, col)] = stamp.g[p];
-        }
-        c[(r, col)] = stamp.c[p];
-    }
-    (g, c)
-}
-
-/// `C` at the stepper's last evaluation, dense.
-fn c_dense(st: &Stepper<'_>, n: usize) -> Mat<f64> {
-    let stamp = &st.ws.stamp;
-    let mut c = Mat::<f64>::zeros(n, n);
-    for (p, r, col) in stamp.pattern().entries() {
-        c[(r, col)] = stamp.c[p];
-    }
-    c
-}
-
-/// [`g_hat_and_c`], sparse.
+/// The charged-row part of `G` and the whole of `C` at the stepper's last
+/// evaluation, in compressed rows.
 fn g_hat_and_c_sparse(st: &Stepper<'_>) -> (Csr, Csr) {
     let stamp = &st.ws.stamp;
     let ch = stamp.charged_rows();
@@ -353,8 +329,16 @@ pub(crate) fn integrate_period(
         }
         Sens::Dense => {
             // Sensitivity of q̇ is −G in rows that carry charge and 0 elsewhere.
-            let (mut g0, mut c0) = g_hat_and_c(st, n);
-            let mut sens = Mat::<f64>::identity(n, n);
+            // Φ is carried as n columns (column-major blocks) through the
+            // sparse C and Ĝ and both factorizations of every step: the
+            // products cost the stored entries times n, not n³.
+            let (mut g0, mut c0) = g_hat_and_c_sparse(st);
+            let mut s0 = vec![0.0; n * n];
+            for j in 0..n {
+                s0[j * n + j] = 1.0;
+            }
+            let mut sg = vec![0.0; n * n];
+            let mut s1 = vec![0.0; n * n];
             for s in 0..ns {
                 for (k, row) in samples.iter_mut().enumerate() {
                     row[s] = st.x[k];
@@ -365,10 +349,15 @@ pub(crate) fn integrate_period(
                 let alpha1 = 2.0 / (tg - st.t);
                 let a = st.attempt(tg, Method::Trapezoidal).map_err(err)?;
                 factor(st, devices, tg)?;
-                let m = Mat::<f64>::from_fn(n, n, |r, c| alpha1 * c0[(r, c)] - g0[(r, c)]);
-                let mut sg = &m * &sens;
-                st.ws.lu.solve_mat(sg.as_mut());
-                let cg = c_dense(st, n);
+                sg.fill(0.0);
+                for (src, dst) in s0.chunks_exact(n).zip(sg.chunks_exact_mut(n)) {
+                    c0.mul_add(alpha1, src, dst);
+                    g0.mul_add(-1.0, src, dst);
+                }
+                st.ws
+                    .lu
+                    .solve_mat(MatMut::from_column_major_slice_mut(&mut sg, n, n));
+                let cg = c_sparse(st);
                 let h0 = tg - st.t;
                 st.commit(a);
                 for (k, row) in stage.iter_mut().enumerate() {
@@ -379,17 +368,27 @@ pub(crate) fn integrate_period(
                 let (_, a1, a2) = bdf2_coefficients(t1 - st.t, h0);
                 let b = st.attempt(t1, Method::Bdf2).map_err(err)?;
                 factor(st, devices, t1)?;
-                let mut s1 = &cg * &sg * (-a1) + &c0 * &sens * (-a2);
-                st.ws.lu.solve_mat(s1.as_mut());
-                sens = s1;
-                (g0, c0) = g_hat_and_c(st, n);
+                s1.fill(0.0);
+                for ((g, src), dst) in sg
+                    .chunks_exact(n)
+                    .zip(s0.chunks_exact(n))
+                    .zip(s1.chunks_exact_mut(n))
+                {
+                    cg.mul_add(-a1, g, dst);
+                    c0.mul_add(-a2, src, dst);
+                }
+                st.ws
+                    .lu
+                    .solve_mat(MatMut::from_column_major_slice_mut(&mut s1, n, n));
+                std::mem::swap(&mut s0, &mut s1);
+                (g0, c0) = g_hat_and_c_sparse(st);
                 st.commit(b);
             }
             Ok(PeriodRun {
                 samples,
                 stage,
                 end: st.x.clone(),
-                monodromy: Some(sens),
+                monodromy: Some(Mat::<f64>::from_fn(n, n, |i, j| s0[j * n + i])),
                 lin: None,
             })
         }
@@ -411,9 +410,13 @@ enum Jacobian {
 /// slow mode with multiplier 0.99 (error amplified 100×) the step still
 /// removes nine tenths of the error, so the outer iteration keeps
 /// converging, and its own tests (periodicity error and update within one
-/// unit) decide when to stop. Restarted every 40 vectors.
+/// unit) decide when to stop. Restarted every 200 vectors: on the 16-stage
+/// bench circuit (212 unknowns) a solve needs 20 to 65 vectors, and a
+/// restart at 40 lost the basis and took up to 146 products
+/// (docs/performance.md, "Shooting against circuit size"); the basis costs
+/// 200 · n values.
 const NEWTON_GMRES: GmresParams = GmresParams {
-    restart: 40,
+    restart: 200,
     max_iter: 400,
     rel_tolerance: 1e-3,
 };
