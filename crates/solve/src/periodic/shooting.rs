@@ -36,13 +36,14 @@
 //! while the state is still far from the fixed point).
 //!
 //! **Matrix-free Newton (large circuits).** Carrying `Φ` costs `n` sensitivity
-//! columns through every step, dense products of order `n³` per step. From
+//! columns through every step (products with the sparse `C`, `Ĝ` and both
+//! factorizations for each of the `n` columns). From
 //! [`MATRIX_FREE_FROM`] unknowns ([`ShootingMode::Auto`]) the period instead
 //! keeps, per step, the factorizations of its two stage Jacobians and the
 //! sparse `C` and `Ĝ` it used (`PeriodLin`); `v ↦ Φv` is then one pass of
 //! the vector through those stored factors (the two stage formulas above with
-//! one column), and `(Φ − I) Δx₀ = −r` is solved by restarted GMRES
-//! ([`crate::krylov::gmres`]) in tolerance units (each unknown divided by its
+//! one column), and `(Φ − I) Δx₀ = −r` is solved by GCR with the directions
+//! of earlier solves with the same operator kept ([`crate::krylov::gcr`]) in tolerance units (each unknown divided by its
 //! scale, so the norm weighs volts and amperes alike) — a Newton–Krylov
 //! shooting method (R. Telichevesky, K. S. Kundert, J. K. White, "Efficient
 //! steady-state analysis based on matrix-free Krylov-subspace methods",
@@ -51,7 +52,7 @@
 
 use super::sample::trbdf2_solution;
 use super::{start_time, PeriodicSolution, ShootingInfo, SteadyInfo, SteadyParams};
-use crate::krylov::{gmres, GmresParams};
+use crate::krylov::{gcr, Directions, GcrParams};
 use crate::linalg::{Csr, Factors};
 use crate::newton::unknown_floor;
 use crate::transient::{bdf2_coefficients, Method, Stepper, GAMMA};
@@ -399,24 +400,27 @@ pub(crate) fn integrate_period(
 enum Jacobian {
     /// `Φ − I` factored densely.
     Dense(Box<crate::linalg::RealLu>),
-    /// The matrix-free operator of a stored period.
-    Free(PeriodLin),
+    /// The matrix-free operator of a stored period, with the GCR directions
+    /// its solves found (in physical units: `p` and `(Φ − I) p`), kept for
+    /// the next solve with it (a chord step, the half-grid floor).
+    Free(PeriodLin, std::cell::RefCell<Directions>),
 }
 
-/// GMRES options of a matrix-free Newton step: an inexact Newton step
+/// Krylov options of a matrix-free Newton step: an inexact Newton step
 /// (R. S. Dembo, S. C. Eisenstat, T. Steihaug, "Inexact Newton methods",
 /// SIAM J. Numer. Anal. 19(2), 1982, from memory) whose linear residual, in
 /// tolerance units, is held to 1e-3 of the right-hand side: even along a
 /// slow mode with multiplier 0.99 (error amplified 100×) the step still
 /// removes nine tenths of the error, so the outer iteration keeps
 /// converging, and its own tests (periodicity error and update within one
-/// unit) decide when to stop. Restarted every 200 vectors: on the 16-stage
-/// bench circuit (212 unknowns) a solve needs 20 to 65 vectors, and a
-/// restart at 40 lost the basis and took up to 146 products
-/// (docs/performance.md, "Shooting against circuit size"); the basis costs
-/// 200 · n values.
-const NEWTON_GMRES: GmresParams = GmresParams {
-    restart: 200,
+/// unit) decide when to stop. Solved by GCR ([`crate::krylov::gcr`]) with
+/// the directions of the earlier solves with the same operator, up to 400
+/// of them (`2 · 400 · n` values; not restarted: on the 16-stage bench
+/// circuit, 212 unknowns, a solve from nothing needs 20 to 65 directions,
+/// and GMRES restarted at 40 lost its basis and took up to 146 products,
+/// docs/performance.md, "Shooting against circuit size").
+const NEWTON_KRYLOV: GcrParams = GcrParams {
+    keep: 400,
     max_iter: 400,
     rel_tolerance: 1e-3,
 };
@@ -439,12 +443,20 @@ impl Jacobian {
                 lu.solve(&mut dx);
                 Ok(dx)
             }
-            Jacobian::Free(lin) => {
+            Jacobian::Free(lin, kept) => {
                 let n = lin.order();
                 let b: Vec<f64> = r.iter().zip(scale).map(|(v, s)| -v / s).collect();
                 let mut y = vec![0.0; n];
                 let mut tmp = vec![0.0; n];
-                let info = gmres(
+                // the kept directions in this solve's units, and back after
+                let mut kept = kept.borrow_mut();
+                for (p, v) in kept.pairs.iter_mut() {
+                    for k in 0..n {
+                        p[k] /= scale[k];
+                        v[k] /= scale[k];
+                    }
+                }
+                let info = gcr(
                     |v, out| {
                         for k in 0..n {
                             tmp[k] = v[k] * scale[k];
@@ -456,8 +468,15 @@ impl Jacobian {
                     },
                     &b,
                     &mut y,
-                    &NEWTON_GMRES,
+                    &mut kept,
+                    &NEWTON_KRYLOV,
                 );
+                for (p, v) in kept.pairs.iter_mut() {
+                    for k in 0..n {
+                        p[k] *= scale[k];
+                        v[k] *= scale[k];
+                    }
+                }
                 *applications += info.applications;
                 // a stagnating solve: Φ − I (nearly) singular, as the dense
                 // factorization would report
@@ -477,7 +496,7 @@ impl Jacobian {
                         analysis: "shooting (monodromy − I, matrix-free)".into(),
                         unknown: devices.names.get(worst).cloned().unwrap_or_default(),
                         cause: format!(
-                            "GMRES left {:.1e} of the periodicity error after {} products                              with the monodromy operator: a Floquet multiplier at or near 1                              (a level nothing fixes over a period)",
+                            "GCR left {:.1e} of the periodicity error after {} products                              with the monodromy operator: a Floquet multiplier at or near 1                              (a level nothing fixes over a period)",
                             info.residual, info.applications
                         ),
                         when: crate::error::When(Some(t0)),
@@ -767,7 +786,7 @@ pub(crate) fn shooting_with_final(
                 )?)));
             } else if need_sens {
                 if let Some(lin) = run.lin.take() {
-                    jac = Some(Jacobian::Free(lin));
+                    jac = Some(Jacobian::Free(lin, Default::default()));
                     from_this_run = true;
                 }
             }
@@ -824,7 +843,7 @@ pub(crate) fn shooting_with_final(
                     };
                     let lin = match (run.lin.take(), from_this_run, jac) {
                         (Some(l), _, _) => Some(l),
-                        (None, true, Some(Jacobian::Free(l))) => Some(l),
+                        (None, true, Some(Jacobian::Free(l, _))) => Some(l),
                         _ => None,
                     };
                     let last_period = FinalPeriod {
@@ -896,7 +915,7 @@ fn half_grid(
     let h = period / half as f64;
     let own_sens = match fine {
         Jacobian::Dense(_) => Sens::Dense,
-        Jacobian::Free(_) => Sens::Record,
+        Jacobian::Free(..) => Sens::Record,
     };
     let mut x = x0.to_vec();
     let mut own: Option<Jacobian> = None;
@@ -913,7 +932,7 @@ fn half_grid(
                 phi, devices, t0,
             )?)));
         } else if let Some(lin) = run.lin {
-            own = Some(Jacobian::Free(lin));
+            own = Some(Jacobian::Free(lin, Default::default()));
         }
         let jac = own.as_ref().unwrap_or(fine);
         let dx = jac.solve(&r, &scale, devices, t0, products)?;
