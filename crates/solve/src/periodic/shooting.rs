@@ -57,7 +57,7 @@ use crate::linalg::{Csr, Factors};
 use crate::newton::unknown_floor;
 use crate::transient::{bdf2_coefficients, Method, Stepper, GAMMA};
 use crate::SolveError;
-use faer::{Mat, MatMut};
+use faer::Mat;
 use tankwave_circuit::{Circuit, SteadyMethod};
 use tankwave_devices::DeviceSet;
 
@@ -355,9 +355,7 @@ pub(crate) fn integrate_period(
                     c0.mul_add(alpha1, src, dst);
                     g0.mul_add(-1.0, src, dst);
                 }
-                st.ws
-                    .lu
-                    .solve_mat(MatMut::from_column_major_slice_mut(&mut sg, n, n));
+                st.ws.lu.solve_columns(&mut sg);
                 let cg = c_sparse(st);
                 let h0 = tg - st.t;
                 st.commit(a);
@@ -378,9 +376,7 @@ pub(crate) fn integrate_period(
                     cg.mul_add(-a1, g, dst);
                     c0.mul_add(-a2, src, dst);
                 }
-                st.ws
-                    .lu
-                    .solve_mat(MatMut::from_column_major_slice_mut(&mut s1, n, n));
+                st.ws.lu.solve_columns(&mut s1);
                 std::mem::swap(&mut s0, &mut s1);
                 (g0, c0) = g_hat_and_c_sparse(st);
                 st.commit(b);
