@@ -78,8 +78,9 @@ pub enum ShootingMode {
 }
 
 /// Order from which [`ShootingMode::Auto`] goes matrix-free: between the
-/// 56 unknowns where the dense `Φ` was still faster and the 82 where the
-/// matrix-free step was (docs/performance.md, "Shooting against circuit size").
+/// 56 unknowns where the dense `Φ` was as fast or faster and the 108 where
+/// the matrix-free step was faster (docs/performance.md, "Shooting against
+/// circuit size").
 pub const MATRIX_FREE_FROM: usize = 70;
 
 impl ShootingMode {
