@@ -9,6 +9,11 @@
 //!   through 0.1 Ω, one 50 Ω load, part values spread by ±5 %, so nothing
 //!   splits them into independent pieces). Shooting is timed with the monodromy matrix formed densely and
 //!   matrix-free (Newton–Krylov), N = 1, 2, 4, 8, 16, as a ratio to N = 1.
+//!   The matrix-free solve's periods and Krylov (GCR) products (operator
+//!   applications) per size follow, to show how the Krylov work grows.
+//!   `TANKWAVE_BENCH_SIZES=1,16` picks the sizes, `TANKWAVE_BENCH_MODES=free`
+//!   (or `dense`) one mode (for profiling), `TANKWAVE_BENCH_WARM=0` skips
+//!   the warm variant.
 //! - **Warm variant:** the class-C demo solved (shooting, verification
 //!   included), then a neighbour (drive +2 %) solved cold and warm-started
 //!   from the demo's periodic state, against one plain transient period
@@ -29,7 +34,7 @@ mod scale_gen;
 #[allow(dead_code)] // not every bench uses both helpers
 #[path = "support/timing.rs"]
 mod timing;
-use timing::time;
+use timing::{cpu_seconds, time};
 
 fn n_stages(n: usize, model: &str) -> String {
     scale_gen::scale_stage_text(n).replace("include \"tw-hf25.tank\"", model)
@@ -50,12 +55,31 @@ fn main() {
         .ok()
         .map(|s| s.split(',').filter_map(|v| v.trim().parse().ok()).collect())
         .unwrap_or_else(|| vec![1, 2, 4, 8, 16]);
-    println!("shooting against circuit size (median of 3 runs; ratio to N = 1 per mode)");
+    let modes = std::env::var("TANKWAVE_BENCH_MODES").unwrap_or_default();
+    let run_mode = |m: ShootingMode| match modes.as_str() {
+        "dense" => m == ShootingMode::Dense,
+        "free" => m == ShootingMode::MatrixFree,
+        _ => true,
+    };
+    let mut krylov = Vec::new();
     println!(
-        "{:>4} {:>9} {:>12} {:>8} {:>14} {:>8} {:>8}",
-        "N", "unknowns", "dense Φ s", "ratio", "matrix-free s", "ratio", "auto"
+        "shooting against circuit size (wall: median of 3 to 30 runs, at least 1 s in all; \
+         CPU: their mean, the solves being single-threaded; ratio to N = 1 per mode)"
+    );
+    println!(
+        "{:>4} {:>9} {:>12} {:>8} {:>9} {:>14} {:>8} {:>9} {:>11}",
+        "N",
+        "unknowns",
+        "dense Φ s",
+        "ratio",
+        "CPU ratio",
+        "matrix-free s",
+        "ratio",
+        "CPU ratio",
+        "auto"
     );
     let mut base = [0.0f64; 2];
+    let mut base_cpu = [0.0f64; 2];
     for &n in &sizes {
         let c = load(&n_stages(n, &model), &Overrides::default());
         let d = tankwave_devices::instantiate(&c).expect("devices");
@@ -65,6 +89,7 @@ fn main() {
             .find_map(SteadyParams::from_analysis)
             .expect("analyze steady");
         let mut t = [0.0f64; 2];
+        let mut cpu = [0.0f64; 2];
         for (i, mode) in [ShootingMode::Dense, ShootingMode::MatrixFree]
             .into_iter()
             .enumerate()
@@ -72,27 +97,74 @@ fn main() {
             let mut p = sp.clone();
             p.method = SteadyMethod::Shooting;
             p.shooting.mode = mode;
-            if let Err(e) = tankwave_solve::shooting(&c, &d, &p) {
-                eprintln!("N = {n}, {mode:?}: {e}");
+            if !run_mode(mode) {
                 t[i] = f64::NAN;
+                cpu[i] = f64::NAN;
                 continue;
             }
-            t[i] = time(3, || {
+            let first = std::time::Instant::now();
+            match tankwave_solve::shooting(&c, &d, &p) {
+                Err(e) => {
+                    eprintln!("N = {n}, {mode:?}: {e}");
+                    t[i] = f64::NAN;
+                    cpu[i] = f64::NAN;
+                    continue;
+                }
+                Ok(sol) if mode == ShootingMode::MatrixFree => {
+                    krylov.push((n, sol.info.shooting));
+                }
+                Ok(_) => {}
+            }
+            let repeats = ((1.0 / first.elapsed().as_secs_f64()).ceil() as usize).clamp(3, 30);
+            let c0 = cpu_seconds();
+            t[i] = time(repeats, || {
                 std::hint::black_box(tankwave_solve::shooting(&c, &d, &p).expect("shooting"));
             });
+            cpu[i] = match (c0, cpu_seconds()) {
+                (Some(a), Some(b)) => (b - a) / repeats as f64,
+                _ => f64::NAN,
+            };
         }
         if n == sizes[0] {
             base = t;
+            base_cpu = cpu;
         }
         println!(
-            "{n:>4} {:>9} {:>12.4} {:>8.2} {:>14.4} {:>8.2} {:>8?}",
+            "{n:>4} {:>9} {:>12.4} {:>8.2} {:>9.2} {:>14.4} {:>8.2} {:>9.2} {:>11?}",
             d.n_unknowns,
             t[0],
             t[0] / base[0],
+            cpu[0] / base_cpu[0],
             t[1],
             t[1] / base[1],
+            cpu[1] / base_cpu[1],
             ShootingMode::Auto.resolve(d.n_unknowns)
         );
+    }
+
+    // the Krylov work of the matrix-free solves
+    println!(
+        "\nmatrix-free: Newton periods (coarse, fine; with stored factors) and Krylov (GCR) \
+         products (with the half-grid floor's), per Newton period"
+    );
+    println!(
+        "{:>4} {:>8} {:>8} {:>10} {:>9} {:>11}",
+        "N", "coarse", "fine", "factored", "products", "per period"
+    );
+    for (n, info) in &krylov {
+        if let Some(i) = info {
+            println!(
+                "{n:>4} {:>8} {:>8} {:>10} {:>9} {:>11.1}",
+                i.coarse_periods,
+                i.fine_periods,
+                i.monodromy_periods,
+                i.krylov_products,
+                i.krylov_products as f64 / (i.coarse_periods + i.fine_periods).max(1) as f64
+            );
+        }
+    }
+    if std::env::var("TANKWAVE_BENCH_WARM").is_ok_and(|v| v == "0") {
+        return;
     }
 
     // warm-started variant against a cold solve and one plain period

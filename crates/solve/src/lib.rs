@@ -41,6 +41,7 @@
 #![allow(clippy::neg_cmp_op_on_partial_ord, clippy::needless_range_loop)]
 
 pub mod ac;
+mod assemble;
 pub mod error;
 pub mod krylov;
 pub mod linalg;

@@ -12,8 +12,9 @@
 //! terms in that equation (a node equation is in amperes, a branch equation
 //! in volts).
 
+use crate::assemble::SparseStamp;
 use crate::linalg::{LinearSolver, RealLu};
-use tankwave_devices::{DenseStamp, DeviceSet, EvalCtx, Filter, UnknownKind};
+use tankwave_devices::{DeviceSet, EvalCtx, Filter, UnknownKind};
 
 /// Newton convergence tolerances.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -36,25 +37,42 @@ impl Default for Tolerances {
     }
 }
 
-/// Work arrays reused across Newton iterations and time steps.
+/// Work arrays reused across Newton iterations and time steps. The
+/// Jacobian is held on the stamp's sparse pattern ([`crate::assemble`]), so
+/// an iteration costs the stored entries, not `n²`.
 #[derive(Debug)]
 pub(crate) struct Workspace {
-    pub stamp: DenseStamp,
+    pub stamp: SparseStamp,
+    /// `G + αC (+ g_s I_v)` at the positions of `stamp.pattern()`.
     pub jac: Vec<f64>,
     pub f: Vec<f64>,
     pub lu: RealLu,
     pub dx: Vec<f64>,
+    /// Size of the terms of every equation (the residual test).
+    size: Vec<f64>,
 }
 
 impl Workspace {
     pub fn new(n: usize, kind: LinearSolver) -> Self {
         Self {
-            stamp: DenseStamp::new(n),
-            jac: vec![0.0; n * n],
+            stamp: SparseStamp::new(n),
+            jac: Vec::new(),
             f: vec![0.0; n],
             lu: RealLu::new(kind, n),
             dx: vec![0.0; n],
+            size: vec![0.0; n],
         }
+    }
+
+    /// Factor the Jacobian held in `jac`.
+    pub fn factor(&mut self) -> Result<(), usize> {
+        self.lu.factor_pattern(self.stamp.pattern(), &self.jac)
+    }
+
+    /// The Jacobian as a row-major dense matrix (for the diagnosis of a
+    /// singular one, [`crate::singular::cause`]).
+    pub fn dense_jac(&self) -> Vec<f64> {
+        self.stamp.pattern().to_dense(&self.jac)
     }
 }
 
@@ -114,10 +132,7 @@ pub(crate) struct Converged {
 /// whether a device limited.
 pub(crate) fn load(sys: &System<'_>, ws: &mut Workspace, x: &[f64], state: &mut [f64]) -> bool {
     let n = sys.devices.n_unknowns;
-    ws.stamp.clear();
-    let info = sys
-        .devices
-        .eval_all(x, &sys.ctx, state, &mut ws.stamp, Filter::All);
+    let info = ws.stamp.eval(sys.devices, x, &sys.ctx, state, Filter::All);
     for r in 0..n {
         let mut f = ws.stamp.i[r] + sys.alpha * ws.stamp.q[r];
         if let Some(h) = sys.hist {
@@ -125,28 +140,35 @@ pub(crate) fn load(sys: &System<'_>, ws: &mut Workspace, x: &[f64], state: &mut 
         }
         ws.f[r] = f;
     }
-    for k in 0..n * n {
-        ws.jac[k] = ws.stamp.g[k] + sys.alpha * ws.stamp.c[k];
-    }
+    ws.jac.clear();
+    ws.jac.extend(
+        ws.stamp
+            .g
+            .iter()
+            .zip(&ws.stamp.c)
+            .map(|(g, c)| g + sys.alpha * c),
+    );
     if sys.gshunt != 0.0 {
         for k in 0..sys.devices.n_nodes.min(n) {
             ws.f[k] += sys.gshunt * x[k];
-            ws.jac[k * n + k] += sys.gshunt;
+            ws.jac[ws.stamp.pattern().diag(k)] += sys.gshunt;
         }
     }
     info.limited
 }
 
 /// Scaled residual check; returns (all within tolerance, worst row, worst |f|, worst ratio).
-fn residual_ok(sys: &System<'_>, ws: &Workspace, x: &[f64]) -> (bool, usize, f64, f64) {
+fn residual_ok(sys: &System<'_>, ws: &mut Workspace, x: &[f64]) -> (bool, usize, f64, f64) {
     let n = sys.devices.n_unknowns;
     let mut ok = true;
     let (mut worst, mut worst_ratio, mut worst_f) = (0usize, -1.0f64, 0.0f64);
+    // Σ_c |J_rc x_c| of every row, summed in column order as a dense pass would
+    ws.size.fill(0.0);
+    for (p, r, c) in ws.stamp.pattern().entries() {
+        ws.size[r] += (ws.jac[p] * x[c]).abs();
+    }
     for r in 0..n {
-        let mut s = 0.0;
-        for c in 0..n {
-            s += (ws.jac[r * n + c] * x[c]).abs();
-        }
+        let mut s = ws.size[r];
         s += (sys.alpha * ws.stamp.q[r]).abs() + ws.stamp.i[r].abs();
         if let Some(h) = sys.hist {
             s += h[r].abs();
@@ -215,8 +237,11 @@ pub(crate) fn solve(
         if it == sys.max_iter {
             break;
         }
-        ws.lu.factor(&ws.jac).map_err(|k| {
-            Failure::Singular(k, Some(crate::singular::cause(&ws.jac, n, k, sys.devices)))
+        ws.factor().map_err(|k| {
+            Failure::Singular(
+                k,
+                Some(crate::singular::cause(&ws.dense_jac(), n, k, sys.devices)),
+            )
         })?;
         for r in 0..n {
             ws.dx[r] = -ws.f[r];

@@ -408,17 +408,17 @@ impl<'a> Stepper<'a> {
     /// Set the point `(x, t)` with a consistent `q̇ = −i(x, t)`; forget history.
     pub fn init_at(&mut self, x: &[f64], t: f64) {
         let ctx = self.ctx(t, false);
-        self.ws.stamp.clear();
         let mut st = self.state.clone();
-        self.devices
-            .eval_all(x, &ctx, &mut st, &mut self.ws.stamp, Filter::All);
+        self.ws
+            .stamp
+            .eval(self.devices, x, &ctx, &mut st, Filter::All);
         self.t = t;
         self.x.copy_from_slice(x);
         self.q.copy_from_slice(&self.ws.stamp.q);
         // q̇ = −i in rows that carry charge; rows without any (algebraic
         // equations: source branches, resistive nodes) have q̇ = 0 exactly, so
         // an inconsistency in them is not carried from step to step.
-        let charged = charged_rows(&self.ws.stamp);
+        let charged = self.ws.stamp.charged_rows();
         for r in 0..self.qdot.len() {
             self.qdot[r] = if charged[r] { -self.ws.stamp.i[r] } else { 0.0 };
         }
@@ -683,14 +683,6 @@ fn stage_guess(known: &[(f64, Vec<f64>)], c: f64) -> Vec<f64> {
                 .collect()
         }
     }
-}
-
-/// Rows of `stamp` whose charge depends on some unknown (a nonzero entry in that row of C).
-pub(crate) fn charged_rows(stamp: &tankwave_devices::DenseStamp) -> Vec<bool> {
-    let n = stamp.n;
-    (0..n)
-        .map(|r| stamp.c[r * n..(r + 1) * n].iter().any(|v| *v != 0.0))
-        .collect()
 }
 
 /// The error of a time-domain analysis (transient, shooting, settle) asked

@@ -162,7 +162,7 @@ pub struct ShootingInfo {
     pub warmup_periods: usize,
     /// Newton steps were matrix-free ([`ShootingMode`]).
     pub matrix_free: bool,
-    /// Products with the monodromy operator taken by GMRES (matrix-free only).
+    /// Products with the monodromy operator taken by the Krylov solver (matrix-free only).
     pub krylov_products: usize,
     /// Restarts of the coarse level from the end of its best period, after
     /// a Newton step that overshot to a state no period integrates from.

@@ -36,13 +36,14 @@
 //! while the state is still far from the fixed point).
 //!
 //! **Matrix-free Newton (large circuits).** Carrying `Φ` costs `n` sensitivity
-//! columns through every step, dense products of order `n³` per step. From
+//! columns through every step (products with the sparse `C`, `Ĝ` and both
+//! factorizations for each of the `n` columns). From
 //! [`MATRIX_FREE_FROM`] unknowns ([`ShootingMode::Auto`]) the period instead
 //! keeps, per step, the factorizations of its two stage Jacobians and the
 //! sparse `C` and `Ĝ` it used (`PeriodLin`); `v ↦ Φv` is then one pass of
 //! the vector through those stored factors (the two stage formulas above with
-//! one column), and `(Φ − I) Δx₀ = −r` is solved by restarted GMRES
-//! ([`crate::krylov::gmres`]) in tolerance units (each unknown divided by its
+//! one column), and `(Φ − I) Δx₀ = −r` is solved by GCR with the directions
+//! of earlier solves with the same operator kept ([`crate::krylov::gcr`]) in tolerance units (each unknown divided by its
 //! scale, so the norm weighs volts and amperes alike) — a Newton–Krylov
 //! shooting method (R. Telichevesky, K. S. Kundert, J. K. White, "Efficient
 //! steady-state analysis based on matrix-free Krylov-subspace methods",
@@ -51,10 +52,10 @@
 
 use super::sample::trbdf2_solution;
 use super::{start_time, PeriodicSolution, ShootingInfo, SteadyInfo, SteadyParams};
-use crate::krylov::{gmres, GmresParams};
+use crate::krylov::{gcr, Directions, GcrParams};
 use crate::linalg::{Csr, Factors};
 use crate::newton::unknown_floor;
-use crate::transient::{bdf2_coefficients, charged_rows, Method, Stepper, GAMMA};
+use crate::transient::{bdf2_coefficients, Method, Stepper, GAMMA};
 use crate::SolveError;
 use faer::Mat;
 use tankwave_circuit::{Circuit, SteadyMethod};
@@ -77,8 +78,9 @@ pub enum ShootingMode {
 }
 
 /// Order from which [`ShootingMode::Auto`] goes matrix-free: between the
-/// 56 unknowns where the dense `Φ` was still faster and the 82 where the
-/// matrix-free step was (docs/performance.md, "Shooting against circuit size").
+/// 56 unknowns where the dense `Φ` was as fast or faster and the 108 where
+/// the matrix-free step was faster (docs/performance.md, "Shooting against
+/// circuit size").
 pub const MATRIX_FREE_FROM: usize = 70;
 
 impl ShootingMode {
@@ -227,31 +229,18 @@ pub(crate) struct PeriodRun {
     pub(crate) lin: Option<PeriodLin>,
 }
 
-/// The charged-row part of `G` and the whole of `C` at the stepper's last evaluation.
-fn g_hat_and_c(st: &Stepper<'_>, n: usize) -> (Mat<f64>, Mat<f64>) {
-    let ch = charged_rows(&st.ws.stamp);
-    let g = Mat::<f64>::from_fn(
-        n,
-        n,
-        |r, c| {
-            if ch[r] {
-                st.ws.stamp.g_at(r, c)
-            } else {
-                0.0
-            }
-        },
-    );
-    let c = Mat::<f64>::from_fn(n, n, |r, c| st.ws.stamp.c_at(r, c));
-    (g, c)
+/// The charged-row part of `G` and the whole of `C` at the stepper's last
+/// evaluation, in compressed rows.
+fn g_hat_and_c_sparse(st: &Stepper<'_>) -> (Csr, Csr) {
+    let stamp = &st.ws.stamp;
+    let ch = stamp.charged_rows();
+    (stamp.pattern().to_csr(&stamp.g, |r| ch[r]), c_sparse(st))
 }
 
-/// [`g_hat_and_c`], sparse.
-fn g_hat_and_c_sparse(st: &Stepper<'_>, n: usize) -> (Csr, Csr) {
-    let ch = charged_rows(&st.ws.stamp);
-    (
-        Csr::from_rows(&st.ws.stamp.g, n, |r| ch[r]),
-        Csr::from_rows(&st.ws.stamp.c, n, |_| true),
-    )
+/// `C` at the stepper's last evaluation, sparse.
+fn c_sparse(st: &Stepper<'_>) -> Csr {
+    let stamp = &st.ws.stamp;
+    stamp.pattern().to_csr(&stamp.c, |_| true)
 }
 
 /// The factors just computed in the stepper's workspace.
@@ -297,7 +286,7 @@ pub(crate) fn integrate_period(
             })
         }
         Sens::Record => {
-            let (mut g0, mut c0) = g_hat_and_c_sparse(st, n);
+            let (mut g0, mut c0) = g_hat_and_c_sparse(st);
             let mut steps = Vec::with_capacity(ns);
             for s in 0..ns {
                 for (k, row) in samples.iter_mut().enumerate() {
@@ -309,7 +298,7 @@ pub(crate) fn integrate_period(
                 let a = st.attempt(tg, Method::Trapezoidal).map_err(err)?;
                 factor(st, devices, tg)?;
                 let lu_g = snapshot(st, tg)?;
-                let cg = Csr::from_rows(&st.ws.stamp.c, n, |_| true);
+                let cg = c_sparse(st);
                 let h0 = tg - st.t;
                 st.commit(a);
                 for (k, row) in stage.iter_mut().enumerate() {
@@ -319,7 +308,7 @@ pub(crate) fn integrate_period(
                 let b = st.attempt(t1, Method::Bdf2).map_err(err)?;
                 factor(st, devices, t1)?;
                 let lu_1 = snapshot(st, t1)?;
-                let (g1, c1) = g_hat_and_c_sparse(st, n);
+                let (g1, c1) = g_hat_and_c_sparse(st);
                 steps.push(StepLin {
                     g0: std::mem::replace(&mut g0, g1),
                     c0: std::mem::replace(&mut c0, c1),
@@ -342,8 +331,16 @@ pub(crate) fn integrate_period(
         }
         Sens::Dense => {
             // Sensitivity of q̇ is −G in rows that carry charge and 0 elsewhere.
-            let (mut g0, mut c0) = g_hat_and_c(st, n);
-            let mut sens = Mat::<f64>::identity(n, n);
+            // Φ is carried as n columns (column-major blocks) through the
+            // sparse C and Ĝ and both factorizations of every step: the
+            // products cost the stored entries times n, not n³.
+            let (mut g0, mut c0) = g_hat_and_c_sparse(st);
+            let mut s0 = vec![0.0; n * n];
+            for j in 0..n {
+                s0[j * n + j] = 1.0;
+            }
+            let mut sg = vec![0.0; n * n];
+            let mut s1 = vec![0.0; n * n];
             for s in 0..ns {
                 for (k, row) in samples.iter_mut().enumerate() {
                     row[s] = st.x[k];
@@ -354,10 +351,13 @@ pub(crate) fn integrate_period(
                 let alpha1 = 2.0 / (tg - st.t);
                 let a = st.attempt(tg, Method::Trapezoidal).map_err(err)?;
                 factor(st, devices, tg)?;
-                let m = Mat::<f64>::from_fn(n, n, |r, c| alpha1 * c0[(r, c)] - g0[(r, c)]);
-                let mut sg = &m * &sens;
-                st.ws.lu.solve_mat(sg.as_mut());
-                let cg = Mat::<f64>::from_fn(n, n, |r, c| st.ws.stamp.c_at(r, c));
+                sg.fill(0.0);
+                for (src, dst) in s0.chunks_exact(n).zip(sg.chunks_exact_mut(n)) {
+                    c0.mul_add(alpha1, src, dst);
+                    g0.mul_add(-1.0, src, dst);
+                }
+                st.ws.lu.solve_columns(&mut sg);
+                let cg = c_sparse(st);
                 let h0 = tg - st.t;
                 st.commit(a);
                 for (k, row) in stage.iter_mut().enumerate() {
@@ -368,17 +368,25 @@ pub(crate) fn integrate_period(
                 let (_, a1, a2) = bdf2_coefficients(t1 - st.t, h0);
                 let b = st.attempt(t1, Method::Bdf2).map_err(err)?;
                 factor(st, devices, t1)?;
-                let mut s1 = &cg * &sg * (-a1) + &c0 * &sens * (-a2);
-                st.ws.lu.solve_mat(s1.as_mut());
-                sens = s1;
-                (g0, c0) = g_hat_and_c(st, n);
+                s1.fill(0.0);
+                for ((g, src), dst) in sg
+                    .chunks_exact(n)
+                    .zip(s0.chunks_exact(n))
+                    .zip(s1.chunks_exact_mut(n))
+                {
+                    cg.mul_add(-a1, g, dst);
+                    c0.mul_add(-a2, src, dst);
+                }
+                st.ws.lu.solve_columns(&mut s1);
+                std::mem::swap(&mut s0, &mut s1);
+                (g0, c0) = g_hat_and_c_sparse(st);
                 st.commit(b);
             }
             Ok(PeriodRun {
                 samples,
                 stage,
                 end: st.x.clone(),
-                monodromy: Some(sens),
+                monodromy: Some(Mat::<f64>::from_fn(n, n, |i, j| s0[j * n + i])),
                 lin: None,
             })
         }
@@ -389,20 +397,27 @@ pub(crate) fn integrate_period(
 enum Jacobian {
     /// `Φ − I` factored densely.
     Dense(Box<crate::linalg::RealLu>),
-    /// The matrix-free operator of a stored period.
-    Free(PeriodLin),
+    /// The matrix-free operator of a stored period, with the GCR directions
+    /// its solves found (in physical units: `p` and `(Φ − I) p`), kept for
+    /// the next solve with it (a chord step, the half-grid floor).
+    Free(PeriodLin, std::cell::RefCell<Directions>),
 }
 
-/// GMRES options of a matrix-free Newton step: an inexact Newton step
+/// Krylov options of a matrix-free Newton step: an inexact Newton step
 /// (R. S. Dembo, S. C. Eisenstat, T. Steihaug, "Inexact Newton methods",
 /// SIAM J. Numer. Anal. 19(2), 1982, from memory) whose linear residual, in
 /// tolerance units, is held to 1e-3 of the right-hand side: even along a
 /// slow mode with multiplier 0.99 (error amplified 100×) the step still
 /// removes nine tenths of the error, so the outer iteration keeps
 /// converging, and its own tests (periodicity error and update within one
-/// unit) decide when to stop. Restarted every 40 vectors.
-const NEWTON_GMRES: GmresParams = GmresParams {
-    restart: 40,
+/// unit) decide when to stop. Solved by GCR ([`crate::krylov::gcr`]) with
+/// the directions of the earlier solves with the same operator, up to 400
+/// of them (`2 · 400 · n` values; not restarted: on the 16-stage bench
+/// circuit, 212 unknowns, a solve from nothing needs 20 to 65 directions,
+/// and GMRES restarted at 40 lost its basis and took up to 146 products,
+/// docs/performance.md, "Shooting against circuit size").
+const NEWTON_KRYLOV: GcrParams = GcrParams {
+    keep: 400,
     max_iter: 400,
     rel_tolerance: 1e-3,
 };
@@ -425,12 +440,20 @@ impl Jacobian {
                 lu.solve(&mut dx);
                 Ok(dx)
             }
-            Jacobian::Free(lin) => {
+            Jacobian::Free(lin, kept) => {
                 let n = lin.order();
                 let b: Vec<f64> = r.iter().zip(scale).map(|(v, s)| -v / s).collect();
                 let mut y = vec![0.0; n];
                 let mut tmp = vec![0.0; n];
-                let info = gmres(
+                // the kept directions in this solve's units, and back after
+                let mut kept = kept.borrow_mut();
+                for (p, v) in kept.pairs.iter_mut() {
+                    for k in 0..n {
+                        p[k] /= scale[k];
+                        v[k] /= scale[k];
+                    }
+                }
+                let info = gcr(
                     |v, out| {
                         for k in 0..n {
                             tmp[k] = v[k] * scale[k];
@@ -442,8 +465,15 @@ impl Jacobian {
                     },
                     &b,
                     &mut y,
-                    &NEWTON_GMRES,
+                    &mut kept,
+                    &NEWTON_KRYLOV,
                 );
+                for (p, v) in kept.pairs.iter_mut() {
+                    for k in 0..n {
+                        p[k] *= scale[k];
+                        v[k] *= scale[k];
+                    }
+                }
                 *applications += info.applications;
                 // a stagnating solve: Φ − I (nearly) singular, as the dense
                 // factorization would report
@@ -463,7 +493,7 @@ impl Jacobian {
                         analysis: "shooting (monodromy − I, matrix-free)".into(),
                         unknown: devices.names.get(worst).cloned().unwrap_or_default(),
                         cause: format!(
-                            "GMRES left {:.1e} of the periodicity error after {} products                              with the monodromy operator: a Floquet multiplier at or near 1                              (a level nothing fixes over a period)",
+                            "GCR left {:.1e} of the periodicity error after {} products                              with the monodromy operator: a Floquet multiplier at or near 1                              (a level nothing fixes over a period)",
                             info.residual, info.applications
                         ),
                         when: crate::error::When(Some(t0)),
@@ -796,7 +826,7 @@ pub(crate) fn shooting_with_final(
                 )?)));
             } else if need_sens {
                 if let Some(lin) = run.lin.take() {
-                    jac = Some(Jacobian::Free(lin));
+                    jac = Some(Jacobian::Free(lin, Default::default()));
                     from_this_run = true;
                 }
             }
@@ -853,7 +883,7 @@ pub(crate) fn shooting_with_final(
                     };
                     let lin = match (run.lin.take(), from_this_run, jac) {
                         (Some(l), _, _) => Some(l),
-                        (None, true, Some(Jacobian::Free(l))) => Some(l),
+                        (None, true, Some(Jacobian::Free(l, _))) => Some(l),
                         _ => None,
                     };
                     let last_period = FinalPeriod {
@@ -925,7 +955,7 @@ fn half_grid(
     let h = period / half as f64;
     let own_sens = match fine {
         Jacobian::Dense(_) => Sens::Dense,
-        Jacobian::Free(_) => Sens::Record,
+        Jacobian::Free(..) => Sens::Record,
     };
     let mut x = x0.to_vec();
     let mut own: Option<Jacobian> = None;
@@ -942,7 +972,7 @@ fn half_grid(
                 phi, devices, t0,
             )?)));
         } else if let Some(lin) = run.lin {
-            own = Some(Jacobian::Free(lin));
+            own = Some(Jacobian::Free(lin, Default::default()));
         }
         let jac = own.as_ref().unwrap_or(fine);
         let dx = jac.solve(&r, &scale, devices, t0, products)?;
@@ -966,10 +996,10 @@ fn half_grid(
 fn factor(st: &mut Stepper<'_>, devices: &DeviceSet, t: f64) -> Result<(), SolveError> {
     let Stepper { ws, .. } = st;
     let n = devices.n_unknowns;
-    ws.lu.factor(&ws.jac).map_err(|k| SolveError::Singular {
+    ws.factor().map_err(|k| SolveError::Singular {
         analysis: "shooting".into(),
         unknown: devices.names.get(k).cloned().unwrap_or_default(),
-        cause: crate::singular::cause(&ws.jac, n, k, devices),
+        cause: crate::singular::cause(&ws.dense_jac(), n, k, devices),
         when: crate::error::When(Some(t)),
     })
 }
