@@ -167,7 +167,7 @@ fn shooting_recovers_from_a_coarse_newton_step_that_overshoots() {
         tankwave_solve::steady(&c, &d, &p).unwrap_or_else(|e| panic!("{m:?} failed: {e}"))
     };
     let sh = solve(SteadyMethod::Shooting);
-    let info = sh.info.shooting.clone().unwrap();
+    let info = sh.info.shooting.unwrap();
     assert!(
         info.restarts >= 1,
         "the stage no longer makes the coarse Newton step overshoot ({info:?}): \

@@ -548,12 +548,10 @@ mod tests {
         }
     }
 
-    #[test]
-    fn gmres_solves_a_seeded_nonsymmetric_system() {
-        // I − Φ with Φ a random contraction plus two slow modes: the shape
-        // of a shooting system.
-        let n = 60;
-        let mut r = rng(18);
+    /// `I − Φ` (row-major, `n×n`) with `Φ` a seeded random contraction plus
+    /// a multiplier near 0.9 in unknown 0 (a slow mode): the shape of a
+    /// shooting system.
+    fn shooting_like(n: usize, r: &mut impl FnMut() -> f64) -> Vec<f64> {
         let mut a = vec![0.0; n * n];
         for v in a.iter_mut() {
             *v = -0.3 * r() / (n as f64).sqrt();
@@ -561,7 +559,17 @@ mod tests {
         for i in 0..n {
             a[i * n + i] += 1.0;
         }
-        a[0] -= 0.9; // a multiplier near 0.9 in unknown 0 (a slow mode)
+        a[0] -= 0.9;
+        a
+    }
+
+    #[test]
+    fn gmres_solves_a_seeded_nonsymmetric_system() {
+        // I − Φ with Φ a random contraction plus two slow modes: the shape
+        // of a shooting system.
+        let n = 60;
+        let mut r = rng(18);
+        let a = shooting_like(n, &mut r);
         let x_true: Vec<f64> = (0..n).map(|_| r()).collect();
         let mut b = vec![0.0; n];
         matvec(&a, n)(&x_true, &mut b);
@@ -612,14 +620,7 @@ mod tests {
         // the recurrence residual of GCR is exact up to rounding).
         let n = 60;
         let mut r = rng(18);
-        let mut a = vec![0.0; n * n];
-        for v in a.iter_mut() {
-            *v = -0.3 * r() / (n as f64).sqrt();
-        }
-        for i in 0..n {
-            a[i * n + i] += 1.0;
-        }
-        a[0] -= 0.9;
+        let a = shooting_like(n, &mut r);
         let true_residual = |a: &[f64], x: &[f64], b: &[f64]| {
             let mut ax = vec![0.0; n];
             matvec(a, n)(x, &mut ax);

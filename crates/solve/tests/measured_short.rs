@@ -123,13 +123,7 @@ fn harmonic_balance_with_the_choke_is_a_short_at_dc_and_z_at_each_harmonic() {
     let hb = "analyze steady freq=2MHz harmonics=16 method=balance\n";
     let diode = "diode d1 in load part=dm\n";
     let (c, d) = stage(&shorted("rls1_ri_v1.s1p"), &format!("{hb}{diode}"));
-    let mut p = SteadyParams {
-        freq: 2e6,
-        harmonics: 16,
-        method: SteadyMethod::Balance,
-        ..SteadyParams::default()
-    };
-    p.balance.raise_harmonics = false;
+    let p = balance_2mhz();
     let s = steady(&c, &d, &p).unwrap();
     let k = node(&c, "load");
     let v = &s.x[k];
@@ -251,13 +245,7 @@ fn harmonic_balance_and_shooting_agree_through_the_fit() {
     );
     let fit = fit_of(&c);
     let eps = fit.info.worst_error.max(fit.dc_error);
-    let mut p = SteadyParams {
-        freq: 2e6,
-        harmonics: 16,
-        method: SteadyMethod::Balance,
-        ..SteadyParams::default()
-    };
-    p.balance.raise_harmonics = false;
+    let mut p = balance_2mhz();
     let hb = steady(&c, &d, &p).unwrap();
     p.method = SteadyMethod::Shooting;
     let sh = steady(&c, &d, &p).unwrap();
@@ -296,4 +284,17 @@ fn levels(v: &[f64], n: usize) -> Vec<f64> {
             }
         })
         .collect()
+}
+
+/// Harmonic balance at the clipper's 2 MHz with its 16 harmonics held (no
+/// automatic raise), as the file's `analyze steady` line asks.
+fn balance_2mhz() -> SteadyParams {
+    let mut p = SteadyParams {
+        freq: 2e6,
+        harmonics: 16,
+        method: SteadyMethod::Balance,
+        ..SteadyParams::default()
+    };
+    p.balance.raise_harmonics = false;
+    p
 }
