@@ -1,8 +1,8 @@
 //! Linear solvers for the Newton and small-signal systems.
 //!
 //! The Newton systems of the time-domain analyses are assembled on a sparse
-//! pattern ([`crate::assemble`]) and factored from it
-//! ([`RealLu::factor_pattern`]); other callers hand a dense row-major matrix
+//! pattern (the `assemble` module) and factored from it
+//! (`RealLu::factor_pattern`); other callers hand a dense row-major matrix
 //! ([`RealLu::factor`]). Two factorisations are offered, both from faer:
 //! - [`LinearSolver::Dense`]: LU with partial pivoting of the dense matrix;
 //! - [`LinearSolver::Sparse`]: sparse LU whose symbolic analysis (ordering and
@@ -163,7 +163,7 @@ impl<T: faer::traits::ComplexField> DenseLu<T> {
 }
 
 /// A factorisation of a square real matrix, given row-major
-/// ([`RealLu::factor`]) or on a sparse pattern ([`RealLu::factor_pattern`]).
+/// ([`RealLu::factor`]) or on a sparse pattern (`RealLu::factor_pattern`).
 #[derive(Debug)]
 pub struct RealLu {
     kind: LinearSolver,
