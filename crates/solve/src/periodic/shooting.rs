@@ -805,12 +805,15 @@ pub(crate) fn shooting_with_final(
                 }
                 Err(e) => return Err(e),
             };
-            if let (Some(phi), true) = (&run.monodromy, may_restart) {
-                if factor_monodromy(phi, devices, t0).is_err() {
-                    restart(&mut x0, &mut report);
-                    need_sens = true;
-                    continue;
-                }
+            // `Φ − I` factored once, here, for the restart test and the update
+            let factored = run
+                .monodromy
+                .as_ref()
+                .map(|phi| factor_monodromy(phi, devices, t0));
+            if may_restart && matches!(factored, Some(Err(_))) {
+                restart(&mut x0, &mut report);
+                need_sens = true;
+                continue;
             }
             let r: Vec<f64> = run.end.iter().zip(&x0).map(|(a, b)| a - b).collect();
             let scale = scales(devices, params, &run);
@@ -820,10 +823,8 @@ pub(crate) fn shooting_with_final(
             }
             last = (r[worst.1].abs(), worst.1);
             let mut from_this_run = false;
-            if let Some(phi) = &run.monodromy {
-                jac = Some(Jacobian::Dense(Box::new(factor_monodromy(
-                    phi, devices, t0,
-                )?)));
+            if let Some(lu) = factored {
+                jac = Some(Jacobian::Dense(Box::new(lu?)));
             } else if need_sens {
                 if let Some(lin) = run.lin.take() {
                     jac = Some(Jacobian::Free(lin, Default::default()));
