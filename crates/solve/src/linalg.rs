@@ -3,8 +3,10 @@
 //! The Newton systems of the time-domain analyses are assembled on a sparse
 //! pattern (the `assemble` module) and factored from it
 //! (`RealLu::factor_pattern`); other callers hand a dense row-major matrix
-//! ([`RealLu::factor`]). Two factorisations are offered, both from faer:
-//! - [`LinearSolver::Dense`]: LU with partial pivoting of the dense matrix;
+//! ([`RealLu::factor`]). Two factorisations are offered:
+//! - [`LinearSolver::Dense`]: LU with partial pivoting of the dense matrix,
+//!   by nalgebra's unblocked LU below [`SMALL_DENSE_BELOW`] unknowns and by
+//!   faer's blocked LU from there on (measured crossover);
 //! - [`LinearSolver::Sparse`]: sparse LU whose symbolic analysis (ordering and
 //!   fill pattern) is computed once per sparsity pattern and reused for every
 //!   later factorisation with the same pattern (Newton iterations, time
@@ -68,6 +70,75 @@ pub fn par_for(n: usize) -> faer::Par {
         faer::Par::Seq
     } else {
         faer::get_global_parallelism()
+    }
+}
+
+/// Order below which a real dense system is factored by nalgebra's
+/// unblocked LU instead of faer's blocked, recursive one: on the systems of
+/// a single stage (13 to 20 unknowns) faer's set-up (scratch buffers, the
+/// split into `L` and `U`, its dispatch to vector kernels) costs more than
+/// the arithmetic. Measured, factor and one solve on one thread
+/// (`cargo bench -p tankwave-solve --bench threads`, docs/performance.md):
+/// faer takes 7× as long at 14 unknowns, 1.9× at 20, the same at 32, and
+/// 0.85× at 64.
+pub const SMALL_DENSE_BELOW: usize = 32;
+
+/// A small real dense LU (nalgebra's, partial pivoting), below
+/// [`SMALL_DENSE_BELOW`] unknowns.
+#[derive(Debug, Clone)]
+pub(crate) struct SmallLu(nalgebra::linalg::LU<f64, nalgebra::Dyn, nalgebra::Dyn>);
+
+impl SmallLu {
+    /// Factor the row-major `n×n` matrix `a`; on a pivot at or below
+    /// `floor`, the column that has it.
+    fn factor(a: &[f64], n: usize, floor: f64) -> Result<Self, usize> {
+        let lu = nalgebra::DMatrix::from_row_slice(n, n, a).lu();
+        let u = lu.u();
+        for k in 0..n {
+            if !(u[(k, k)].abs() > floor) {
+                return Err(k);
+            }
+        }
+        Ok(SmallLu(lu))
+    }
+
+    /// Solve `A X = B` in place for the columns of `b` (column-major, `n` rows).
+    fn solve_columns(&self, b: &mut [f64], n: usize) {
+        if n == 0 {
+            return;
+        }
+        let cols = b.len() / n;
+        let mut m = nalgebra::DMatrixViewMut::from_slice(&mut b[..n * cols], n, cols);
+        self.0.solve_mut(&mut m);
+    }
+}
+
+/// The dense factors of a real system, by its order ([`SMALL_DENSE_BELOW`]).
+#[derive(Debug, Clone)]
+pub(crate) enum RealDense {
+    /// nalgebra's unblocked LU (small systems).
+    Small(SmallLu),
+    /// faer's blocked LU.
+    Large(DenseLu<f64>),
+}
+
+impl RealDense {
+    /// Solve `A X = B` in place for the columns of `b` (column-major, `n` rows).
+    fn solve_columns(&self, b: &mut [f64], n: usize) {
+        if n == 0 {
+            return;
+        }
+        match self {
+            RealDense::Small(lu) => lu.solve_columns(b, n),
+            RealDense::Large(lu) => {
+                let cols = b.len() / n;
+                lu.solve_in_place(MatMut::from_column_major_slice_mut(
+                    &mut b[..n * cols],
+                    n,
+                    cols,
+                ))
+            }
+        }
     }
 }
 
@@ -168,7 +239,7 @@ impl<T: faer::traits::ComplexField> DenseLu<T> {
 pub struct RealLu {
     kind: LinearSolver,
     n: usize,
-    dense: Option<DenseLu<f64>>,
+    dense: Option<RealDense>,
     sparse: Option<SparseState>,
 }
 
@@ -391,6 +462,11 @@ impl RealLu {
 
     fn factor_dense(&mut self, a: &[f64], amax: f64) -> Result<(), usize> {
         let n = self.n;
+        self.dense = None;
+        if n < SMALL_DENSE_BELOW {
+            self.dense = Some(RealDense::Small(SmallLu::factor(a, n, PIVOT_FLOOR * amax)?));
+            return Ok(());
+        }
         let m = Mat::<f64>::from_fn(n, n, |i, j| a[i * n + j]);
         let lu = DenseLu::new(m);
         let u = lu.U();
@@ -400,7 +476,7 @@ impl RealLu {
                 return Err(k);
             }
         }
-        self.dense = Some(lu);
+        self.dense = Some(RealDense::Large(lu));
         Ok(())
     }
 
@@ -451,7 +527,7 @@ impl RealLu {
         match self.kind {
             LinearSolver::Dense => {
                 if let Some(lu) = &self.dense {
-                    lu.solve_in_place(MatMut::from_column_major_slice_mut(&mut b[..n], n, 1));
+                    lu.solve_columns(&mut b[..n], n);
                 }
             }
             _ => {
@@ -474,7 +550,7 @@ impl RealLu {
         match self.kind {
             LinearSolver::Dense => {
                 if let Some(lu) = &self.dense {
-                    lu.solve_in_place(MatMut::from_column_major_slice_mut(b, n, cols));
+                    lu.solve_columns(b, n);
                 }
             }
             _ => {
@@ -488,11 +564,14 @@ impl RealLu {
     /// Solve `A X = B` in place for a block of columns.
     pub fn solve_mat(&self, rhs: MatMut<'_, f64>) {
         match self.kind {
-            LinearSolver::Dense => {
-                if let Some(lu) = &self.dense {
-                    lu.solve_in_place(rhs);
+            LinearSolver::Dense => match &self.dense {
+                Some(RealDense::Large(lu)) => lu.solve_in_place(rhs),
+                Some(RealDense::Small(lu)) => {
+                    let n = self.n;
+                    solve_mat_with(rhs, |b| lu.solve_columns(b, n))
                 }
-            }
+                None => {}
+            },
             _ => {
                 if let Some(s) = self.sparse.as_ref().filter(|s| s.factored) {
                     solve_mat_with(rhs, |b| s.view().solve_columns(b));
@@ -573,7 +652,7 @@ impl SparseFactors {
 #[derive(Debug, Clone)]
 pub(crate) enum Factors {
     /// Dense LU with partial pivoting.
-    Dense(DenseLu<f64>),
+    Dense(RealDense),
     /// Sparse LU.
     Sparse(SparseFactors),
 }
@@ -593,14 +672,7 @@ impl Factors {
             return;
         }
         match self {
-            Factors::Dense(lu) => {
-                let cols = b.len() / n;
-                lu.solve_in_place(MatMut::from_column_major_slice_mut(
-                    &mut b[..n * cols],
-                    n,
-                    cols,
-                ))
-            }
+            Factors::Dense(lu) => lu.solve_columns(b, n),
             Factors::Sparse(lu) => lu.solve_columns(b),
         }
     }
@@ -812,5 +884,57 @@ mod tests {
             LinearSolver::Auto.resolve(SPARSE_FROM),
             LinearSolver::Sparse
         );
+    }
+
+    #[test]
+    fn small_and_blocked_dense_factors_solve_seeded_systems() {
+        // Orders either side of SMALL_DENSE_BELOW (nalgebra's LU below it,
+        // faer's from it), fixed-seed nonsymmetric matrices, three
+        // right-hand sides through `solve_columns` and the kept factors.
+        // Partial pivoting is backward stable: the residual is bounded by a
+        // small multiple of n·ε·‖A‖·‖x‖ (Golub & Van Loan, ch. 3.4, from
+        // memory); 1e-12 relative covers n ≤ 40 with a wide margin.
+        let mut seed = 0x5eed_u64;
+        let mut next = move || {
+            seed = seed
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            ((seed >> 11) as f64 / (1u64 << 53) as f64) * 2.0 - 1.0
+        };
+        for n in [3usize, 17, SMALL_DENSE_BELOW - 1, SMALL_DENSE_BELOW, 40] {
+            let a: Vec<f64> = (0..n * n).map(|_| next()).collect();
+            let xs: Vec<Vec<f64>> = (0..3).map(|_| (0..n).map(|_| next()).collect()).collect();
+            let mut block: Vec<f64> = xs
+                .iter()
+                .flat_map(|x| (0..n).map(|r| (0..n).map(|c| a[r * n + c] * x[c]).sum::<f64>()))
+                .collect();
+            let mut lu = RealLu::new(LinearSolver::Dense, n);
+            lu.factor(&a).expect("a random matrix is regular");
+            let kept = lu.snapshot().expect("kept factors");
+            let mut again = block.clone();
+            lu.solve_columns(&mut block);
+            kept.solve_columns(&mut again, n);
+            let amax = a.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+            for (k, x) in xs.iter().enumerate() {
+                let xmax = x.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+                for r in 0..n {
+                    let ax: f64 = (0..n).map(|c| a[r * n + c] * block[k * n + c]).sum();
+                    let b: f64 = (0..n).map(|c| a[r * n + c] * x[c]).sum();
+                    assert!(
+                        (ax - b).abs() <= 1e-12 * amax * xmax * n as f64,
+                        "n = {n}, column {k}, row {r}: residual {}",
+                        (ax - b).abs()
+                    );
+                    assert_eq!(block[k * n + r], again[k * n + r], "n = {n}: kept factors");
+                }
+            }
+            // a column of zeros has no pivot: reported by its index
+            let mut z = a.clone();
+            let dead = n / 2;
+            for r in 0..n {
+                z[r * n + dead] = 0.0;
+            }
+            assert_eq!(lu.factor(&z), Err(dead), "n = {n}");
+        }
     }
 }

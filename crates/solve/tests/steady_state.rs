@@ -368,3 +368,35 @@ fn a_neighbours_warm_start_iterates_on_the_coarse_grid_and_a_refinements_does_no
     eprintln!("V[out] apart by {dev:.3e} V, a unit {unit:.3e} V");
     assert!(dev <= 4.0 * unit, "{dev} V against a unit of {unit} V");
 }
+
+#[test]
+fn a_warm_start_that_does_not_solve_is_retried_cold() {
+    // A neighbour's state of a different circuit can be so far off that
+    // no period integrates from it (here every unknown at 1e300 V or A: the
+    // first step overflows). That is not the circuit's
+    // failure: shooting starts again cold (operating point, warm-up) and
+    // must land on the cold solution, for plain shooting and for auto's
+    // refinement alike (common practice: a warm start may only save work).
+    let b = rectifier_loaded(1e3);
+    let d = instantiate(&b.c).unwrap();
+    for method in [SteadyMethod::Shooting, SteadyMethod::Auto] {
+        let mut params = SteadyParams {
+            freq: F,
+            harmonics: 16,
+            method,
+            ..SteadyParams::default()
+        };
+        let cold = steady(&b.c, &d, &params).unwrap();
+        params.shooting.initial = Some(vec![1e300; d.n_unknowns]);
+        let warm = steady(&b.c, &d, &params)
+            .unwrap_or_else(|e| panic!("{method:?}: the cold retry did not solve: {e}"));
+        let sh = warm.info.shooting.expect("shooting");
+        assert_eq!(
+            sh.warmup_periods,
+            SteadyParams::default().shooting.warmup_periods,
+            "{method:?}: the retry warms up as a cold start does: {sh:?}"
+        );
+        // the same computation as the cold solve: identical samples
+        assert_eq!(warm.x, cold.x, "{method:?}");
+    }
+}

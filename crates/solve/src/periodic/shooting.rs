@@ -662,7 +662,16 @@ pub(crate) fn shooting_with_final(
     let free = params.shooting.mode.resolve(n) == ShootingMode::MatrixFree && keep;
     let newton_sens = if free { Sens::Record } else { Sens::Dense };
     let err = |e: crate::transient::StepFail| e.into_error(devices, "shooting");
-    let mut st = Stepper::from_op(devices, params.tol, params.linear_solver, 0.0)?;
+    let warm_start = params
+        .shooting
+        .initial
+        .as_ref()
+        .filter(|x| x.len() == n && x.iter().all(|v| v.is_finite()));
+    // the operating point only starts the warm-up, which a warm start skips
+    let mut st = match warm_start {
+        Some(_) => Stepper::from_zero(devices, params.tol, params.linear_solver, 0.0),
+        None => Stepper::from_op(devices, params.tol, params.linear_solver, 0.0)?,
+    };
     // Warm up past the end of every source's start-up (delay and amplitude
     // rise), then a few periods more: the period that is shot must see the
     // sources in their periodic form.
@@ -676,11 +685,6 @@ pub(crate) fn shooting_with_final(
     }
     let warm = params.shooting.warmup_periods + startup as usize;
     let t0 = warm as f64 * period;
-    let warm_start = params
-        .shooting
-        .initial
-        .as_ref()
-        .filter(|x| x.len() == n && x.iter().all(|v| v.is_finite()));
     let levels: Vec<Level> = if params.shooting.coarse_grid && ns >= 128 {
         vec![
             Level {
