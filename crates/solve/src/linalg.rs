@@ -38,8 +38,13 @@ pub enum LinearSolver {
     Sparse,
 }
 
-/// Order from which [`LinearSolver::Auto`] picks the sparse LU.
-pub const SPARSE_FROM: usize = 16;
+/// Order from which [`LinearSolver::Auto`] picks the sparse LU: since it
+/// refactors in place on its kept ordering it is faster than the dense LU
+/// from 12 unknowns on (`cargo bench -p tankwave-solve --bench solve`), and
+/// whole stages of 13 to 17 unknowns ran a fifth to a third faster on it;
+/// a 7-unknown stage showed no difference (docs/performance.md, "Linear
+/// algebra").
+pub const SPARSE_FROM: usize = 8;
 
 impl LinearSolver {
     /// The concrete solver for a system of order `n`.

@@ -104,7 +104,7 @@ pub const RECORD_BYTES: f64 = 256.0 * 1024.0 * 1024.0;
 /// system fit in [`RECORD_BYTES`]: two factorizations and three sparse
 /// matrices a step, each factor counted as at most 32 stored entries a row
 /// (8 bytes, 16 with its index; a pessimistic bound for the fill of these
-/// circuits' sparse LU, exact for the dense LU below 16 unknowns).
+/// circuits' sparse LU, exact for the dense LU below `SPARSE_FROM` unknowns).
 pub(crate) fn record_fits(n: usize, ns: usize) -> bool {
     let per_step = 2.0 * 16.0 * n as f64 * n.min(32) as f64 + 3.0 * 16.0 * 8.0 * n as f64;
     ns as f64 * per_step <= RECORD_BYTES
