@@ -305,8 +305,10 @@ pub struct GcrParams {
     pub keep: usize,
     /// Operator applications in one solve before giving up (default 400).
     pub max_iter: usize,
-    /// Stop when `‖b − A x‖ ≤ rel_tolerance · ‖b‖` (default 1e-8).
+    /// Stop when `‖b − A x‖ ≤ rel_tolerance · ‖b‖` (default 1e-8) …
     pub rel_tolerance: f64,
+    /// … or when `‖b − A x‖ ≤ abs_tolerance` (default 0: never).
+    pub abs_tolerance: f64,
 }
 
 impl Default for GcrParams {
@@ -315,6 +317,7 @@ impl Default for GcrParams {
             keep: 400,
             max_iter: 400,
             rel_tolerance: 1e-8,
+            abs_tolerance: 0.0,
         }
     }
 }
@@ -384,7 +387,7 @@ where
     if n == 0 || bnorm == 0.0 {
         return info;
     }
-    let target = params.rel_tolerance * bnorm;
+    let target = (params.rel_tolerance * bnorm).max(params.abs_tolerance);
     let mut r = b.to_vec();
     // the kept directions, orthonormal again in these units
     let old = std::mem::take(&mut kept.pairs);
@@ -761,9 +764,8 @@ mod tests {
         };
         let tol = 1e-10;
         let p = GcrParams {
-            keep: 400,
-            max_iter: 400,
             rel_tolerance: tol,
+            ..GcrParams::default()
         };
         let b1: Vec<f64> = (0..n).map(|_| r()).collect();
         let mut kept = Directions::default();
@@ -846,9 +848,8 @@ mod tests {
             .collect();
         let tol = 1e-8;
         let p = GcrParams {
-            keep: 400,
-            max_iter: 400,
             rel_tolerance: tol,
+            ..GcrParams::default()
         };
         let true_residual = |a: &[f64], x: &[f64], b: &[f64]| {
             let mut ax = vec![0.0; n];
