@@ -922,6 +922,42 @@ mod tests {
     }
 
     #[test]
+    fn gcr_stops_at_its_absolute_floor() {
+        // The seeded system of the GCR test with a right-hand side of norm
+        // 1e-2: with a floor of 1e-3 on ‖b − A x‖ GCR stops there (true
+        // residual recomputed, at most the floor) in fewer products than
+        // the relative 1e-8 alone asks for; a zero floor changes nothing.
+        let n = 60;
+        let mut r = rng(18);
+        let a = shooting_like(n, &mut r);
+        let mut b: Vec<f64> = (0..n).map(|_| r()).collect();
+        let bn = norm(&b);
+        b.iter_mut().for_each(|v| *v *= 1e-2 / bn);
+        let run = |abs: f64| {
+            let mut x = vec![0.0; n];
+            let info = gcr(
+                matvec(&a, n),
+                &b,
+                &mut x,
+                &mut Directions::default(),
+                &GcrParams {
+                    abs_tolerance: abs,
+                    ..GcrParams::default()
+                },
+            );
+            let mut ax = vec![0.0; n];
+            matvec(&a, n)(&x, &mut ax);
+            let res: f64 = ax.iter().zip(&b).map(|(u, v)| (u - v).powi(2)).sum();
+            (info, res.sqrt())
+        };
+        let (floored, res) = run(1e-3);
+        assert!(floored.converged && res <= 1.01e-3, "{floored:?} {res}");
+        let (plain, res) = run(0.0);
+        assert!(plain.converged && res <= 1.01e-8 * 1e-2, "{plain:?} {res}");
+        assert!(floored.applications < plain.applications);
+    }
+
+    #[test]
     fn gmres_reports_an_unreached_tolerance() {
         // a rotation: GMRES makes no progress with a one-vector basis
         let a = [0.0, -1.0, 1.0, 0.0];
