@@ -7,8 +7,10 @@
 //! of two times measured in this one run (N = 16 over N = 1, per method);
 //! each time is the median of a few repeats (fewer for the large N).
 //!
-//! Set TANKWAVE_SCALE_MAX to stop at a smaller N (default 16) and
-//! TANKWAVE_SCALE_METHODS to a comma list of `balance`, `shooting`
+//! Set TANKWAVE_SCALE_MAX to stop at a smaller N (default 16),
+//! TANKWAVE_BENCH_SIZES to a comma list of the N to run (e.g. `1,16`, as
+//! the shooting_scale bench reads it; the first is the base of the ratios)
+//! and TANKWAVE_SCALE_METHODS to a comma list of `balance`, `shooting`
 //! (default both).
 
 use std::path::PathBuf;
@@ -49,7 +51,14 @@ fn main() {
     );
     let mut first: Vec<Option<f64>> = vec![None; methods.len()];
     let mut last: Vec<(usize, f64)> = vec![(0, 0.0); methods.len()];
-    for n in scale_gen::SCALE_COUNTS.into_iter().filter(|&n| n <= max) {
+    let sizes: Option<Vec<usize>> = std::env::var("TANKWAVE_BENCH_SIZES")
+        .ok()
+        .map(|s| s.split(',').filter_map(|v| v.trim().parse().ok()).collect());
+    let counts: Vec<usize> = match sizes {
+        Some(s) => s,
+        None => scale_gen::SCALE_COUNTS.to_vec(),
+    };
+    for n in counts.into_iter().filter(|&n| n <= max && n >= 1) {
         let path = scale_gen::write_scale_stage(dir.path(), &root, n).expect("write stage");
         let c = tankwave_stage::load(&path, &[], &Overrides::default())
             .unwrap_or_else(|e| panic!("{}: {e}", path.display()))
@@ -76,8 +85,15 @@ fn main() {
                         its = r.info.iterations;
                         if let Some(b) = &r.info.balance {
                             detail = format!(
-                                "K {:?}, {} ports, {} GMRES products",
-                                b.harmonics_tried, b.ports, b.krylov_iterations
+                                "K {:?}, {} ports, {} GMRES products{}",
+                                b.harmonics_tried,
+                                b.ports,
+                                b.krylov_iterations,
+                                if b.sparse_network {
+                                    ", sparse network"
+                                } else {
+                                    ""
+                                }
                             );
                         }
                     }

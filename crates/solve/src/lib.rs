@@ -61,9 +61,9 @@ pub use newton::Tolerances;
 pub use op::{operating_point, DeviceOp, NewtonInfo, OpParams, OpResult, Strategy};
 pub use periodic::{
     balance, envelope, multitone, settle, shooting, steady, terminal_currents, transport_currents,
-    BalanceInfo, BalanceParams, EnvelopeInfo, EnvelopeParams, EnvelopeSolution, PeriodicSolution,
-    SettleParams, ShootingInfo, ShootingMode, ShootingParams, SlowMethod, SteadyInfo, SteadyParams,
-    ToneDrive, ToneInfo, ToneParams, ToneSolution,
+    BalanceInfo, BalanceParams, EnvelopeInfo, EnvelopeParams, EnvelopeSolution, NetworkForm,
+    PeriodicSolution, SettleParams, ShootingInfo, ShootingMode, ShootingParams, SlowMethod,
+    SteadyInfo, SteadyParams, ToneDrive, ToneInfo, ToneParams, ToneSolution,
 };
 pub use thermal::{
     heat_run, CauerLadder, FosterLadder, Heating, Keying, Modes, ThermalError, ThermalLink,

@@ -1,7 +1,8 @@
 //! Harmonic balance with the Newton step solved by GMRES (block-diagonal
-//! preconditioner, matrix-free Jacobian product) against the same solve by
-//! dense LU, on the class-C demo stage of tests/support (invented values) and
-//! the rectifier. Both paths solve the same discrete equations to the same
+//! preconditioner, matrix-free Jacobian product; the linear network held
+//! as its dense reduction to the ports and as its sparse blocks) against the
+//! same solve by dense LU, on the class-C demo stage of tests/support
+//! (invented values) and the rectifier. Both paths solve the same discrete equations to the same
 //! Newton tolerance (rel_tolerance 1e-6 of each row's terms), and GMRES
 //! leaves a linear residual of 1e-7 of the Newton residual per step, so the
 //! harmonics agree to the Newton tolerance: within 1e-5 of the largest
@@ -35,28 +36,39 @@ fn compare(b: &B, f: f64, k: usize) {
     p.balance.krylov_from = usize::MAX;
     let dense = steady(&b.c, &d, &p).expect("dense solve");
     p.balance.krylov_from = 0;
+    p.balance.network = NetworkForm::Dense;
     let krylov = steady(&b.c, &d, &p).expect("GMRES solve");
     let info = krylov.info.balance.as_ref().expect("balance info");
     assert!(info.krylov_iterations > 0, "GMRES was not used: {info:?}");
+    assert!(!info.sparse_network);
     assert_eq!(
         dense.info.balance.as_ref().map(|i| i.krylov_iterations),
         Some(0)
     );
     assert!(krylov.info.residual <= krylov.info.tolerance);
+    // the same GMRES step with the network held sparse: the same
+    // preconditioner and product up to rounding, so the same solution
+    p.balance.network = NetworkForm::Sparse;
+    let sparse = steady(&b.c, &d, &p).expect("GMRES solve, sparse network");
+    let info = sparse.info.balance.as_ref().expect("balance info");
+    assert!(info.sparse_network, "{info:?}");
+    assert!(sparse.info.residual <= sparse.info.tolerance);
     let scale = dense
         .x
         .iter()
         .map(|u| fundamental(u).norm())
         .fold(0.0f64, f64::max);
     assert!(scale > 0.1, "a driven stage: {scale}");
-    for (u, (a, b)) in dense.x.iter().zip(&krylov.x).enumerate() {
-        assert_eq!(a.len(), b.len());
-        for (s, (va, vb)) in a.iter().zip(b).enumerate() {
-            assert!(
-                (va - vb).abs() <= 1e-5 * scale,
-                "{}: sample {s}: dense {va} vs GMRES {vb}",
-                d.names[u]
-            );
+    for (label, other) in [("GMRES", &krylov), ("GMRES, sparse network", &sparse)] {
+        for (u, (a, b)) in dense.x.iter().zip(&other.x).enumerate() {
+            assert_eq!(a.len(), b.len());
+            for (s, (va, vb)) in a.iter().zip(b).enumerate() {
+                assert!(
+                    (va - vb).abs() <= 1e-5 * scale,
+                    "{}: sample {s}: dense {va} vs {label} {vb}",
+                    d.names[u]
+                );
+            }
         }
     }
 }

@@ -66,6 +66,13 @@
 //!   reuses the blocks: several tones mapped onto one artificial
 //!   fundamental ([`mod@super::multitone`]). When GMRES does not reach
 //!   its tolerance the step falls back to the dense LU (below its limit).
+//!   In the product and the blocks the linear network is the dense `Ŷ_k`
+//!   (`p²` per harmonic) or, for a steady state whose count of operations
+//!   says so, sparse: its blocks with one sparse LU of `Y_OO` per harmonic
+//!   for the product, and one sparse LU per harmonic of the whole network
+//!   with the devices' averages on the ports for the preconditioner (the
+//!   same block, by the Schur complement), linear in the circuit's size
+//!   ([`BalanceParams::network`]).
 //!
 //! # Convergence aids
 //! 1. Start from the operating point at zero drive (the exact solution at
@@ -107,6 +114,9 @@
 //! terminal currents of every element are computed from the converged
 //! harmonics (`I_k + jkωQ_k` of the element's devices, `k ≤ K`), so they obey
 //! KCL at every node and every sample to within the harmonic residual.
+
+#[path = "balance_sparse.rs"]
+mod sparse;
 
 use super::sample::{sample_currents, transport_currents, Derivative, Grid};
 use super::{start_time, PeriodicSolution, SteadyInfo, SteadyParams};
@@ -187,6 +197,11 @@ pub struct BalanceParams {
     /// block-diagonal preconditioner instead of a dense LU of the Jacobian
     /// (default [`KRYLOV_FROM`], measured: docs/performance.md).
     pub krylov_from: usize,
+    /// The form of the linear network in the GMRES Newton step: its dense
+    /// reduction to the ports, or its sparse blocks and LU per harmonic
+    /// (module docs); [`NetworkForm::Auto`] (default) takes the one with
+    /// fewer operations per product.
+    pub network: NetworkForm,
     /// A warm start: the state at the start of a period from a solved
     /// neighbouring variant (same unknowns, as [`ShootingParams::initial`]).
     /// When given (and of the right length and finite) one period is
@@ -196,6 +211,19 @@ pub struct BalanceParams {
     ///
     /// [`ShootingParams::initial`]: super::ShootingParams::initial
     pub initial: Option<Vec<f64>>,
+}
+
+/// How the GMRES Newton step of harmonic balance holds the linear network
+/// ([`BalanceParams::network`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum NetworkForm {
+    /// The form with fewer operations per product, from the counts of both.
+    #[default]
+    Auto,
+    /// The reduced network `Ŷ_k`, dense over the port pairs.
+    Dense,
+    /// The network's nonzeros and a sparse LU per harmonic.
+    Sparse,
 }
 
 /// Default of [`BalanceParams::krylov_from`].
@@ -219,6 +247,7 @@ impl Default for BalanceParams {
             max_halvings: 12,
             limit: true,
             krylov_from: KRYLOV_FROM,
+            network: NetworkForm::Auto,
             initial: None,
         }
     }
@@ -246,6 +275,9 @@ pub struct BalanceInfo {
     pub truncation: f64,
     /// GMRES products over every Newton step (0: every step by dense LU).
     pub krylov_iterations: usize,
+    /// Whether the GMRES steps of the returned K held the linear network
+    /// sparse ([`BalanceParams::network`]).
+    pub sparse_network: bool,
 }
 
 /// Periodic steady state by harmonic balance.
@@ -975,6 +1007,12 @@ pub(super) struct Problem<'a> {
     pub(super) krylov: bool,
     /// GMRES products over every Newton step of this problem.
     pub(super) krylov_iterations: usize,
+    /// The linear network held sparse for the GMRES step
+    /// ([`Problem::hold_sparse`]); `None`: the dense `Ŷ_k`.
+    net: Option<sparse::SparseNet>,
+    /// Whether `net` still has to be weighed against the dense form (on
+    /// the first GMRES step, when the preconditioner's fill is known).
+    net_auto: bool,
     /// What a person calls each slot in a message (`harmonic k` when empty).
     pub(super) slot_names: Vec<String>,
     /// A real shift `α` added to the frequency of every slot, `s_k = α + jω_k`,
@@ -1086,6 +1124,8 @@ impl<'a> Problem<'a> {
             pattern: Vec::new(),
             krylov: false,
             krylov_iterations: 0,
+            net: None,
+            net_auto: false,
             slot_names: Vec::new(),
             shift: 0.0,
             history: Vec::new(),
@@ -1116,7 +1156,28 @@ impl<'a> Problem<'a> {
             }
         }
         self.shift = alpha;
+        // the sparse network holds the unshifted blocks
+        self.net = None;
         true
+    }
+
+    /// Hold the linear network `lin` sparse for the GMRES step (module
+    /// [`sparse`]) as `form` asks: always for [`NetworkForm::Sparse`],
+    /// never for [`NetworkForm::Dense`], and for [`NetworkForm::Auto`]
+    /// while its operation count per product is below the dense blocks'
+    /// (weighed on the first GMRES step). Nothing without GMRES or when a
+    /// sparse LU of `Y_OO` fails.
+    pub(super) fn hold_sparse(&mut self, lin: &Linear, form: NetworkForm) {
+        if !self.krylov || form == NetworkForm::Dense || self.shift != 0.0 {
+            return;
+        }
+        self.net = sparse::SparseNet::new(lin, &self.red.ports, &self.red.others, &self.freqs);
+        self.net_auto = form == NetworkForm::Auto;
+    }
+
+    /// Whether the GMRES steps hold the network sparse.
+    pub(super) fn holds_sparse(&self) -> bool {
+        self.net.is_some()
     }
 
     /// The per-sample limiting states committed by the last converged solve.
@@ -1415,26 +1476,57 @@ impl<'a> Problem<'a> {
     /// tolerance: the caller then factors the full Jacobian.
     fn krylov_step(&mut self, ev: &NlEval, b: &mut [f64]) -> bool {
         let p = self.p();
-        let Some(blocks) = self.preconditioner(ev) else {
-            return false;
+        if let Some(net) = self.net.as_mut() {
+            let g0: Vec<C64> = ev.g.first().cloned().unwrap_or_default();
+            let c0: Vec<C64> = ev.c.first().cloned().unwrap_or_default();
+            let ok = g0.len() == ev.pattern.len()
+                && c0.len() == ev.pattern.len()
+                && net.factor_preconditioner(&ev.pattern, &g0, &c0, &self.freqs);
+            if !ok || (self.net_auto && !net.cheaper_than_dense()) {
+                // the dense blocks from here on
+                self.net = None;
+            }
+            self.net_auto = false;
+        }
+        let blocks = match self.net {
+            Some(_) => Vec::new(),
+            None => match self.preconditioner(ev) {
+                Some(b) => b,
+                None => return false,
+            },
         };
+        let net = self.net.as_ref();
         let precond = |v: &[f64], out: &mut [f64]| {
             let mut z = Mat::<C64>::zeros(p, 1);
-            for (k, lu) in blocks.iter().enumerate() {
+            let mut zs = vec![ZERO; p];
+            let mut buf: Vec<C64> = Vec::new();
+            for k in 0..=self.kmax {
                 for r in 0..p {
-                    z[(r, 0)] = if k == 0 {
+                    zs[r] = if k == 0 {
                         C64::new(v[r], 0.0)
                     } else {
                         C64::new(v[(2 * k - 1) * p + r], v[2 * k * p + r])
                     };
                 }
-                lu.solve_in_place(z.as_mut());
+                match (net, blocks.get(k)) {
+                    (Some(net), _) => net.precondition(k, &mut zs, &mut buf),
+                    (None, Some(lu)) => {
+                        for r in 0..p {
+                            z[(r, 0)] = zs[r];
+                        }
+                        lu.solve_in_place(z.as_mut());
+                        for r in 0..p {
+                            zs[r] = z[(r, 0)];
+                        }
+                    }
+                    (None, None) => {}
+                }
                 for r in 0..p {
                     if k == 0 {
-                        out[r] = z[(r, 0)].re;
+                        out[r] = zs[r].re;
                     } else {
-                        out[(2 * k - 1) * p + r] = z[(r, 0)].re;
-                        out[2 * k * p + r] = z[(r, 0)].im;
+                        out[(2 * k - 1) * p + r] = zs[r].re;
+                        out[2 * k * p + r] = zs[r].im;
                     }
                 }
             }
@@ -1510,7 +1602,18 @@ impl<'a> Problem<'a> {
             }
         }
         let mut acc = vec![ZERO; (kmax + 1) * p];
+        if let Some(net) = &self.net {
+            // Ŷ_k V_k from the sparse blocks (module `sparse`)
+            let mut buf: Vec<C64> = Vec::new();
+            for k in 0..=kmax {
+                let r = k * p..(k + 1) * p;
+                net.apply(k, &xc[r.clone()], &mut acc[r], &mut buf);
+            }
+        }
         for k in 0..=kmax {
+            if self.net.is_some() {
+                break;
+            }
             let xk = &xc[k * p..(k + 1) * p];
             for (a, yrow) in acc[k * p..(k + 1) * p]
                 .iter_mut()
@@ -1860,6 +1963,8 @@ struct Solved {
     truncation: f64,
     system_size: usize,
     krylov_iterations: usize,
+    /// The GMRES steps held the network sparse.
+    sparse_network: bool,
     t_start: f64,
 }
 
@@ -1941,6 +2046,7 @@ fn solve_k(
     let krylov = red.ports.len() * (2 * kmax + 1) >= bp.krylov_from;
     let mut prob = Problem::new(devices, red, kmax, nfft, freqs.clone(), t_start, params);
     prob.krylov = krylov;
+    prob.hold_sparse(&lin, bp.network);
     let attempt = run_levels(&mut prob, params, x_op, warm);
     let attempt = match attempt {
         Err((Fail::Escaped { .. }, _, _)) if reduced => {
@@ -1949,6 +2055,7 @@ fn solve_k(
             let krylov = red.ports.len() * (2 * kmax + 1) >= bp.krylov_from;
             prob = Problem::new(devices, red, kmax, nfft, freqs.clone(), t_start, params);
             prob.krylov = krylov;
+            prob.hold_sparse(&lin, bp.network);
             run_levels(&mut prob, params, x_op, warm)
         }
         other => other,
@@ -1985,6 +2092,7 @@ fn solve_k(
         reduced,
         system_size: prob.size(),
         krylov_iterations: prob.krylov_iterations,
+        sparse_network: prob.holds_sparse(),
         x_full,
         iterations,
         cuts,
@@ -2228,6 +2336,7 @@ fn finish(
                 line_search_cuts: totals.cuts,
                 truncation: sol.truncation,
                 krylov_iterations: totals.krylov,
+                sparse_network: sol.sparse_network,
             }),
             shooting: None,
             floquet: None,

@@ -32,7 +32,7 @@ pub mod settle;
 pub mod shooting;
 
 pub use accuracy::{AccuracyEstimate, AccuracyParams};
-pub use balance::{balance, BalanceInfo, BalanceParams};
+pub use balance::{balance, BalanceInfo, BalanceParams, NetworkForm};
 pub use envelope::{envelope, EnvelopeInfo, EnvelopeParams, EnvelopeSolution, SlowMethod};
 pub use multitone::{multitone, Product, ToneDrive, ToneInfo, ToneParams, ToneSolution};
 pub use sample::{terminal_currents, transport_currents};
