@@ -195,6 +195,43 @@ pub(crate) struct SparseStamp {
     pub(crate) c: Vec<f64>,
     pat: Pattern,
     extra: Vec<Extra>,
+    /// The positions found by the last evaluation of each [`Filter`]
+    /// ([`Trace`]), for `G` and for `C`.
+    traces: [[Trace; 2]; 3],
+    /// The traces the current evaluation reads and records.
+    active: usize,
+}
+
+/// The positions one evaluation's stamp calls found, in call order. The
+/// devices stamp in the same order at every evaluation, so the next
+/// evaluation compares each call's (row, column) with the one recorded at
+/// its cursor and, when they agree, takes the recorded position without a
+/// search; from the first call that differs it searches and records anew.
+/// A recorded position is only used for the very (row, column) it was
+/// found for, on the same pattern (the traces are emptied when the pattern
+/// grows), so it is always the position [`Pattern::find`] would give.
+#[derive(Debug, Clone, Default)]
+struct Trace {
+    calls: Vec<(usize, usize, usize)>,
+    cursor: usize,
+}
+
+impl Trace {
+    /// The position of `(r, c)` in `pat`, from the trace where it agrees.
+    #[inline]
+    fn position(&mut self, pat: &Pattern, r: usize, c: usize) -> Option<usize> {
+        if let Some(&(tr, tc, p)) = self.calls.get(self.cursor) {
+            if tr == r && tc == c {
+                self.cursor += 1;
+                return Some(p);
+            }
+        }
+        let p = pat.find(r, c)?;
+        self.calls.truncate(self.cursor);
+        self.calls.push((r, c, p));
+        self.cursor += 1;
+        Some(p)
+    }
 }
 
 impl SparseStamp {
@@ -208,6 +245,8 @@ impl SparseStamp {
             c: vec![0.0; n],
             pat: Pattern::from_positions(n, Vec::new()),
             extra: Vec::new(),
+            traces: Default::default(),
+            active: 0,
         }
     }
 
@@ -223,6 +262,9 @@ impl SparseStamp {
         self.g.fill(0.0);
         self.c.fill(0.0);
         self.extra.clear();
+        for t in self.traces.iter_mut().flatten() {
+            t.cursor = 0;
+        }
     }
 
     /// Evaluate the devices of `devices` (as [`DeviceSet::eval_all`]) into
@@ -236,6 +278,11 @@ impl SparseStamp {
         filter: Filter,
     ) -> EvalInfo {
         self.clear();
+        self.active = match filter {
+            Filter::All => 0,
+            Filter::Linear => 1,
+            Filter::Nonlinear => 2,
+        };
         let info = devices.eval_all(x, ctx, state, self, filter);
         self.grow();
         info
@@ -247,6 +294,8 @@ impl SparseStamp {
             return;
         }
         let extra = std::mem::take(&mut self.extra);
+        // positions move with the pattern: every trace is searched anew
+        self.traces = Default::default();
         let mut rc: Vec<(usize, usize)> = self.pat.entries().map(|(_, r, c)| (r, c)).collect();
         rc.extend(extra.iter().map(|&(r, c, _, _)| (r, c)));
         let pat = Pattern::from_positions(self.n, rc);
@@ -311,7 +360,7 @@ impl Stamp for SparseStamp {
     }
     fn add_g(&mut self, row: Idx, col: Idx, v: f64) {
         if let (Some(r), Some(c)) = (row, col) {
-            match self.pat.find(r, c) {
+            match self.traces[self.active][0].position(&self.pat, r, c) {
                 Some(p) => self.g[p] += v,
                 None => self.extra.push((r, c, v, false)),
             }
@@ -319,7 +368,7 @@ impl Stamp for SparseStamp {
     }
     fn add_c(&mut self, row: Idx, col: Idx, v: f64) {
         if let (Some(r), Some(c)) = (row, col) {
-            match self.pat.find(r, c) {
+            match self.traces[self.active][1].position(&self.pat, r, c) {
                 Some(p) => self.c[p] += v,
                 None => self.extra.push((r, c, v, true)),
             }
@@ -356,7 +405,8 @@ mod tests {
         // The sparse stamp must hold, at every position, exactly the sum the
         // dense stamp of the device contract holds (the same additions in the
         // same order, so equal to the last bit), whether the position was in
-        // the pattern before the evaluation or added after it.
+        // the pattern before the evaluation or added after it, and whether
+        // it came from the trace of the evaluation before or a search.
         let n = 4;
         let first = [
             (Some(0), Some(0), 1.5, false),
@@ -376,7 +426,22 @@ mod tests {
             (Some(3), Some(1), 1e-12, true),
             (Some(2), Some(3), -1.0, false),
         ];
-        for calls in [&first[..], &second[..], &first[..]] {
+        // the first calls again in another order: the recorded positions
+        // (Trace) are taken only where the call matches
+        let mut shuffled = first;
+        shuffled.swap(0, 3);
+        shuffled.swap(1, 6);
+        let order = [
+            &first[..],
+            &first[..],
+            &shuffled[..],
+            &first[..],
+            &second[..],
+            &second[..],
+            &shuffled[..],
+            &first[..],
+        ];
+        for calls in order {
             stamp_both(calls, &mut d, &mut s);
             for r in 0..n {
                 assert_eq!(s.i[r], d.i[r]);
