@@ -255,14 +255,16 @@ pub struct RealLu {
 /// thread ([`par_for`]: the systems of a stage are far below
 /// [`PARALLEL_FROM`]; faer's own `Lu` takes the global setting), and the
 /// solves are our own loops over the factors ([`LuView`]).
+/// Real (the time-domain Newton systems) or complex (harmonic balance's
+/// linear network, [`ComplexSparseLu`]): one code for both.
 #[derive(Debug)]
-struct SparseState {
+struct SparseState<T: SparseScalar = f64> {
     /// The pattern factored (compressed columns).
     pattern: Pattern,
     /// The column ordering: `inv` (shared with the kept factors).
     col_inv: Arc<Vec<usize>>,
     symbolic: SymbolicLu<usize>,
-    lu: SimplicialLu<usize, f64>,
+    lu: SimplicialLu<usize, T>,
     row_fwd: Vec<usize>,
     row_inv: Vec<usize>,
     /// `lu` holds the factors of the last matrix.
@@ -270,7 +272,40 @@ struct SparseState {
     /// Scratch of the numeric factorisation, kept between factorisations.
     scratch: Scratch,
     /// Values on `pattern` of the last row-major matrix ([`RealLu::factor`]).
-    vals: Vec<f64>,
+    vals: Vec<T>,
+}
+
+/// The scalars the sparse LU factors and solves with.
+pub(crate) trait SparseScalar:
+    faer::traits::ComplexField
+    + Copy
+    + PartialEq
+    + std::ops::SubAssign
+    + std::ops::Mul<Output = Self>
+    + std::ops::Div<Output = Self>
+{
+    /// 0.
+    const ZERO: Self;
+    /// 1.
+    const ONE: Self;
+    /// `|self|`.
+    fn modulus(self) -> f64;
+}
+
+impl SparseScalar for f64 {
+    const ZERO: Self = 0.0;
+    const ONE: Self = 1.0;
+    fn modulus(self) -> f64 {
+        self.abs()
+    }
+}
+
+impl SparseScalar for faer::c64 {
+    const ZERO: Self = faer::c64::new(0.0, 0.0);
+    const ONE: Self = faer::c64::new(1.0, 0.0);
+    fn modulus(self) -> f64 {
+        self.norm()
+    }
 }
 
 /// A scratch buffer (faer's has no `Debug`).
@@ -282,18 +317,18 @@ impl std::fmt::Debug for Scratch {
     }
 }
 
-impl SparseState {
+impl<T: SparseScalar> SparseState<T> {
     fn new(pattern: Pattern) -> Result<Self, usize> {
         let n = pattern.order();
         let sym =
             SymbolicSparseColMatRef::new_checked(n, n, pattern.col_ptr(), None, pattern.row_idx());
         let symbolic = factorize_symbolic_lu(sym, Default::default()).map_err(|_| 0usize)?;
         let scratch = Scratch(
-            MemBuffer::try_new(factorize_simplicial_numeric_lu_scratch::<usize, f64>(n, n))
+            MemBuffer::try_new(factorize_simplicial_numeric_lu_scratch::<usize, T>(n, n))
                 .map_err(|_| 0usize)?,
         );
         Ok(Self {
-            vals: vec![0.0; pattern.len()],
+            vals: vec![T::ZERO; pattern.len()],
             pattern,
             col_inv: Arc::new(symbolic.col_perm().arrays().1.to_vec()),
             symbolic,
@@ -305,8 +340,49 @@ impl SparseState {
         })
     }
 
+    /// Factor the matrix with `vals` (largest modulus `amax`) at the
+    /// pattern's positions. On a zero pivot (structural, or numerical: a
+    /// probe solve that blows up) returns the column that has none.
+    fn factor(&mut self, vals: &[T], amax: f64) -> Result<(), usize> {
+        let n = self.pattern.order();
+        self.factored = false;
+        let sym = SymbolicSparseColMatRef::new_checked(
+            n,
+            n,
+            self.pattern.col_ptr(),
+            None,
+            self.pattern.row_idx(),
+        );
+        let mat = SparseColMatRef::new(sym, vals);
+        let res = factorize_simplicial_numeric_lu(
+            &mut self.row_fwd,
+            &mut self.row_inv,
+            &mut self.lu,
+            mat,
+            self.symbolic.col_perm(),
+            MemStack::new(&mut self.scratch.0),
+        );
+        match res {
+            Ok(()) => {}
+            Err(faer::sparse::linalg::LuError::SymbolicSingular { index }) => {
+                return Err(index.min(n.saturating_sub(1)))
+            }
+            Err(_) => return Err(0),
+        }
+        // A numerically zero pivot does not fail the sparse factorisation:
+        // probe with one solve and report the first unknown that blows up.
+        let mut probe = vec![T::ONE; n];
+        self.view().solve_columns(&mut probe);
+        let limit = 1e15 * (n as f64) / (amax * PIVOT_FLOOR.sqrt());
+        if let Some(k) = (0..n).find(|&k| !(probe[k].modulus() <= limit)) {
+            return Err(k);
+        }
+        self.factored = true;
+        Ok(())
+    }
+
     /// The factors of the last matrix.
-    fn view(&self) -> LuView<'_> {
+    fn view(&self) -> LuView<'_, T> {
         let l = self.lu.l_factor_unsorted();
         let u = self.lu.u_factor_unsorted();
         LuView {
@@ -328,27 +404,27 @@ impl SparseState {
 /// last, as faer's simplicial LU stores them), `P` given by `row_fwd`
 /// (`(P b)[i] = b[row_fwd[i]]`) and `Q` by its inverse `col_inv`.
 #[derive(Debug, Clone, Copy)]
-struct LuView<'a> {
+struct LuView<'a, T = f64> {
     n: usize,
     row_fwd: &'a [usize],
     col_inv: &'a [usize],
     l_ptr: &'a [usize],
     l_idx: &'a [usize],
-    l_val: &'a [f64],
+    l_val: &'a [T],
     u_ptr: &'a [usize],
     u_idx: &'a [usize],
-    u_val: &'a [f64],
+    u_val: &'a [T],
 }
 
-impl LuView<'_> {
+impl<T: SparseScalar> LuView<'_, T> {
     /// Solve `A X = B` in place for the `b.len() / n` columns of `B`,
     /// stored one after the other.
-    fn solve_columns(&self, b: &mut [f64]) {
+    fn solve_columns(&self, b: &mut [T]) {
         let n = self.n;
         if n == 0 {
             return;
         }
-        let mut y = vec![0.0; n];
+        let mut y = vec![T::ZERO; n];
         for col in b.chunks_exact_mut(n) {
             for (yi, &k) in y.iter_mut().zip(self.row_fwd) {
                 *yi = col[k];
@@ -356,7 +432,7 @@ impl LuView<'_> {
             // L y' = y (unit diagonal, first in each column)
             for j in 0..n {
                 let yj = y[j];
-                if yj != 0.0 {
+                if yj != T::ZERO {
                     for k in self.l_ptr[j] + 1..self.l_ptr[j + 1] {
                         y[self.l_idx[k]] -= self.l_val[k] * yj;
                     }
@@ -370,7 +446,7 @@ impl LuView<'_> {
                 }
                 let yj = y[j] / self.u_val[e - 1];
                 y[j] = yj;
-                if yj != 0.0 {
+                if yj != T::ZERO {
                     for k in a..e - 1 {
                         y[self.u_idx[k]] -= self.u_val[k] * yj;
                     }
@@ -426,7 +502,7 @@ impl RealLu {
                 for (p, r, c) in s.pattern.entries() {
                     vals[p] = a[r * n + c];
                 }
-                let res = Self::factor_sparse(s, &vals, amax);
+                let res = s.factor(&vals, amax);
                 s.vals = vals;
                 res
             }
@@ -460,7 +536,7 @@ impl RealLu {
                     self.sparse = Some(SparseState::new(pattern.clone())?);
                 }
                 let s = self.sparse.as_mut().ok_or(0usize)?;
-                Self::factor_sparse(s, vals, amax)
+                s.factor(vals, amax)
             }
         }
     }
@@ -482,44 +558,6 @@ impl RealLu {
             }
         }
         self.dense = Some(RealDense::Large(lu));
-        Ok(())
-    }
-
-    fn factor_sparse(s: &mut SparseState, vals: &[f64], amax: f64) -> Result<(), usize> {
-        let n = s.pattern.order();
-        s.factored = false;
-        let sym = SymbolicSparseColMatRef::new_checked(
-            n,
-            n,
-            s.pattern.col_ptr(),
-            None,
-            s.pattern.row_idx(),
-        );
-        let mat = SparseColMatRef::new(sym, vals);
-        let res = factorize_simplicial_numeric_lu(
-            &mut s.row_fwd,
-            &mut s.row_inv,
-            &mut s.lu,
-            mat,
-            s.symbolic.col_perm(),
-            MemStack::new(&mut s.scratch.0),
-        );
-        match res {
-            Ok(()) => {}
-            Err(faer::sparse::linalg::LuError::SymbolicSingular { index }) => {
-                return Err(index.min(n.saturating_sub(1)))
-            }
-            Err(_) => return Err(0),
-        }
-        // A numerically zero pivot does not fail the sparse factorisation:
-        // probe with one solve and report the first unknown that blows up.
-        let mut probe = vec![1.0; n];
-        s.view().solve_columns(&mut probe);
-        let limit = 1e15 * (n as f64) / (amax * PIVOT_FLOOR.sqrt());
-        if let Some(k) = (0..n).find(|&k| !(probe[k].abs() <= limit)) {
-            return Err(k);
-        }
-        s.factored = true;
         Ok(())
     }
 
@@ -698,141 +736,48 @@ impl RealLu {
 }
 
 /// The sparse LU of a complex matrix on a fixed pattern (harmonic balance's
-/// linear network per harmonic): faer's symbolic analysis once, its
-/// left-looking LU with partial pivoting refactored in place on the calling
-/// thread, and our own solve over the factors (as [`RealLu`]'s sparse one,
-/// with complex values).
-pub(crate) struct ComplexSparseLu {
-    pattern: Pattern,
-    col_inv: Vec<usize>,
-    symbolic: SymbolicLu<usize>,
-    lu: SimplicialLu<usize, faer::c64>,
-    row_fwd: Vec<usize>,
-    row_inv: Vec<usize>,
-    factored: bool,
-    scratch: Scratch,
-}
+/// linear network per harmonic): the same factorisation and solves as
+/// [`RealLu`]'s sparse one, with complex values.
+pub(crate) struct ComplexSparseLu(SparseState<faer::c64>);
 
 impl ComplexSparseLu {
     /// The symbolic analysis of `pattern` (`None` when faer refuses it).
     pub(crate) fn new(pattern: Pattern) -> Option<Self> {
-        let n = pattern.order();
-        let sym =
-            SymbolicSparseColMatRef::new_checked(n, n, pattern.col_ptr(), None, pattern.row_idx());
-        let symbolic = factorize_symbolic_lu(sym, Default::default()).ok()?;
-        let scratch = Scratch(
-            MemBuffer::try_new(factorize_simplicial_numeric_lu_scratch::<usize, faer::c64>(
-                n, n,
-            ))
-            .ok()?,
-        );
-        Some(Self {
-            col_inv: symbolic.col_perm().arrays().1.to_vec(),
-            symbolic,
-            lu: SimplicialLu::new(),
-            row_fwd: vec![0; n],
-            row_inv: vec![0; n],
-            factored: false,
-            scratch,
-            pattern,
-        })
+        SparseState::new(pattern).ok().map(ComplexSparseLu)
     }
 
     /// The pattern it factors.
     pub(crate) fn pattern(&self) -> &Pattern {
-        &self.pattern
+        &self.0.pattern
     }
 
     /// Factor the matrix with `vals` at the pattern's positions. On a zero
     /// pivot (structural, or numerical: a probe solve that blows up, as in
     /// [`RealLu`]) returns the column that has none.
     pub(crate) fn factor(&mut self, vals: &[faer::c64]) -> Result<(), usize> {
-        let n = self.pattern.order();
-        self.factored = false;
-        if vals.len() != self.pattern.len() {
+        self.0.factored = false;
+        if vals.len() != self.0.pattern.len() {
             return Err(0);
         }
         let amax = vals.iter().fold(0.0f64, |m, v| m.max(v.norm()));
         if !(amax > 0.0 && amax.is_finite()) {
             return Err(0);
         }
-        let sym = SymbolicSparseColMatRef::new_checked(
-            n,
-            n,
-            self.pattern.col_ptr(),
-            None,
-            self.pattern.row_idx(),
-        );
-        let mat = SparseColMatRef::new(sym, vals);
-        match factorize_simplicial_numeric_lu(
-            &mut self.row_fwd,
-            &mut self.row_inv,
-            &mut self.lu,
-            mat,
-            self.symbolic.col_perm(),
-            MemStack::new(&mut self.scratch.0),
-        ) {
-            Ok(()) => {}
-            Err(faer::sparse::linalg::LuError::SymbolicSingular { index }) => {
-                return Err(index.min(n.saturating_sub(1)))
-            }
-            Err(_) => return Err(0),
-        }
-        self.factored = true;
-        let mut probe = vec![faer::c64::new(1.0, 0.0); n];
-        self.solve(&mut probe);
-        let limit = 1e15 * (n as f64) / (amax * PIVOT_FLOOR.sqrt());
-        if let Some(k) = (0..n).find(|&k| !(probe[k].norm() <= limit)) {
-            self.factored = false;
-            return Err(k);
-        }
-        Ok(())
+        self.0.factor(vals, amax)
     }
 
     /// Stored entries of the factors (one complex multiply-add each per solve).
     pub(crate) fn factor_len(&self) -> usize {
-        if !self.factored {
+        if !self.0.factored {
             return 0;
         }
-        self.lu.l_factor_unsorted().val().len() + self.lu.u_factor_unsorted().val().len()
+        self.0.lu.l_factor_unsorted().val().len() + self.0.lu.u_factor_unsorted().val().len()
     }
 
     /// Solve `A x = b` in place with the last factors (nothing before them).
     pub(crate) fn solve(&self, b: &mut [faer::c64]) {
-        let n = self.pattern.order();
-        if !self.factored || b.len() != n || n == 0 {
-            return;
-        }
-        let l = self.lu.l_factor_unsorted();
-        let u = self.lu.u_factor_unsorted();
-        let (l_ptr, l_idx, l_val) = (l.symbolic().col_ptr(), l.symbolic().row_idx(), l.val());
-        let (u_ptr, u_idx, u_val) = (u.symbolic().col_ptr(), u.symbolic().row_idx(), u.val());
-        let mut y: Vec<faer::c64> = self.row_fwd.iter().map(|&k| b[k]).collect();
-        // L y' = y (unit diagonal, first in each column)
-        for j in 0..n {
-            let yj = y[j];
-            if yj.re != 0.0 || yj.im != 0.0 {
-                for k in l_ptr[j] + 1..l_ptr[j + 1] {
-                    y[l_idx[k]] -= l_val[k] * yj;
-                }
-            }
-        }
-        // U z = y' (diagonal last in each column)
-        for j in (0..n).rev() {
-            let (a, e) = (u_ptr[j], u_ptr[j + 1]);
-            if e == a {
-                continue;
-            }
-            let yj = y[j] / u_val[e - 1];
-            y[j] = yj;
-            if yj.re != 0.0 || yj.im != 0.0 {
-                for k in a..e - 1 {
-                    y[u_idx[k]] -= u_val[k] * yj;
-                }
-            }
-        }
-        for (c, &k) in b.iter_mut().zip(&self.col_inv) {
-            *c = y[k];
+        if self.0.factored && b.len() == self.0.pattern.order() {
+            self.0.view().solve_columns(b);
         }
     }
 }
