@@ -409,16 +409,7 @@ fn verified_shooting(
     devices: &DeviceSet,
     params: &SteadyParams,
 ) -> Result<PeriodicSolution, SolveError> {
-    let (s, last) = match shooting::shooting_with_final(circuit, devices, params) {
-        Ok(solved) => solved,
-        // as in `refined_shooting`: a warm start that fails is retried cold
-        Err(_) if params.shooting.initial.is_some() => {
-            let mut cold = params.clone();
-            cold.shooting.initial = None;
-            shooting::shooting_with_final(circuit, devices, &cold)?
-        }
-        Err(e) => return Err(e),
-    };
+    let (s, last) = shooting::shooting_with_final(circuit, devices, params)?;
     floquet::verify_with(circuit, devices, params, s, Some(last))
 }
 
@@ -439,18 +430,7 @@ fn refined_shooting(
     params: &SteadyParams,
 ) -> Result<PeriodicSolution, SolveError> {
     let target = &params.accuracy;
-    let (mut fine, mut last) = match shooting::shooting_with_final(circuit, devices, params) {
-        Ok(solved) => solved,
-        // a neighbour's warm start that does not solve is not the last
-        // word: the cold start's warm-up and Newton periods may still reach
-        // the orbit
-        Err(_) if params.shooting.initial.is_some() => {
-            let mut cold = params.clone();
-            cold.shooting.initial = None;
-            return refined_shooting(circuit, devices, &cold);
-        }
-        Err(e) => return Err(e),
-    };
+    let (mut fine, mut last) = shooting::shooting_with_final(circuit, devices, params)?;
     let mut grid = params.clone();
     grid.steps_per_period = fine.samples_per_period;
     let half = last.half.take().and_then(|h| {

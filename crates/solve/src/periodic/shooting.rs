@@ -731,8 +731,28 @@ pub fn shooting(
 }
 
 /// [`shooting`], with the last period it integrated at the solution (for
-/// the Floquet check).
+/// the Floquet check). A neighbour's warm start that does not solve is not
+/// the last word: shooting then starts again cold (operating point,
+/// warm-up), which may still reach the orbit. A start on the circuit's own
+/// orbit from another grid (`initial_near_orbit`, auto's refinement) is
+/// not retried: its caller keeps the grid it had.
 pub(crate) fn shooting_with_final(
+    circuit: &Circuit,
+    devices: &DeviceSet,
+    params: &SteadyParams,
+) -> Result<(PeriodicSolution, FinalPeriod), SolveError> {
+    match shoot(circuit, devices, params) {
+        Err(_) if params.shooting.initial.is_some() && !params.shooting.initial_near_orbit => {
+            let mut cold = params.clone();
+            cold.shooting.initial = None;
+            shoot(circuit, devices, &cold)
+        }
+        solved => solved,
+    }
+}
+
+/// [`shooting_with_final`] from the start `params` gives, without a retry.
+fn shoot(
     circuit: &Circuit,
     devices: &DeviceSet,
     params: &SteadyParams,
