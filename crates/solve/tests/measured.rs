@@ -11,39 +11,28 @@
 
 use num_complex::Complex64;
 use std::f64::consts::PI;
-use tankwave_circuit::{load_str, Circuit, NodeId, Overrides, SteadyMethod};
-use tankwave_devices::{instantiate, DeviceSet, UnknownId};
+use tankwave_circuit::{Circuit, SteadyMethod};
+use tankwave_devices::DeviceSet;
 use tankwave_solve::*;
+
+mod measured_support;
+use measured_support::node;
 
 const R: f64 = 20.0;
 const L: f64 = 1.2e-6;
 const C: f64 = 150e-12;
 
+/// The drive of the clipper.
+const SOURCE: &str = "voltage vs in gnd wave=sine(amp=3V, freq=2MHz) internal=10Ohm";
+
 fn stage(load: &str, extra: &str) -> (Circuit, DeviceSet) {
-    let dir = concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/../../tests/reference/touchstone"
-    );
-    let text = format!(
-        "voltage vs in gnd wave=sine(amp=3V, freq=2MHz) internal=10Ohm\n\
-         part dm diode {{\n  junction {{ sat_current=1e-14A ideality=1 }}\n  resistance {{ series=2Ohm }}\n}}\n\
-         {extra}{load}input vs\n"
-    );
-    let e = load_str(&format!("{dir}/check.tank"), &text, &Overrides::default())
-        .unwrap_or_else(|e| panic!("{:?}", e.diagnostics));
-    let d = instantiate(&e.circuit).unwrap();
-    (e.circuit, d)
+    measured_support::stage(SOURCE, load, extra)
 }
 
 const RLC: &str = "resistor r load m 20Ohm\ninductor l m gnd 1.2uH\ncapacitor c load gnd 150pF\n";
 
 fn measured(file: &str) -> String {
     format!("measured ant load gnd \"{file}\" outside_r=20Ohm\n")
-}
-
-fn node(c: &Circuit, name: &str) -> usize {
-    let i = c.nodes.iter().position(|n| n == name).unwrap();
-    UnknownId::voltage(NodeId::node(i)).unwrap().index()
 }
 
 /// The load's admittance, S (circuit theory).
@@ -53,20 +42,7 @@ fn y_load(f: f64) -> Complex64 {
 }
 
 fn ac_at(load: &str, freqs: &[f64]) -> Vec<Complex64> {
-    let (c, d) = stage(load, "resistor rin in load 1Ohm\n");
-    let k = node(&c, "load");
-    freqs
-        .iter()
-        .map(|&f| {
-            let p = AcParams {
-                from: f,
-                to: f,
-                points: 1,
-                ..AcParams::default()
-            };
-            ac(&c, &d, &p).unwrap().x[0][k]
-        })
-        .collect()
+    measured_support::ac_at(SOURCE, load, freqs)
 }
 
 #[test]

@@ -14,24 +14,18 @@
 
 use num_complex::Complex64;
 use std::f64::consts::PI;
-use tankwave_circuit::{load_str, Circuit, ElementKind, NodeId, Overrides, SteadyMethod};
-use tankwave_devices::{instantiate, DeviceSet, UnknownId};
+use tankwave_circuit::{Circuit, ElementKind, SteadyMethod};
+use tankwave_devices::DeviceSet;
 use tankwave_solve::*;
 
+mod measured_support;
+use measured_support::node;
+
+/// The drive of the clipper.
+const SOURCE: &str = "voltage vs in gnd dc=1V wave=sine(amp=3V, freq=2MHz) internal=10Ohm";
+
 fn stage(load: &str, extra: &str) -> (Circuit, DeviceSet) {
-    let dir = concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/../../tests/reference/touchstone"
-    );
-    let text = format!(
-        "voltage vs in gnd dc=1V wave=sine(amp=3V, freq=2MHz) internal=10Ohm\n\
-         part dm diode {{\n  junction {{ sat_current=1e-14A ideality=1 }}\n  resistance {{ series=2Ohm }}\n}}\n\
-         {extra}{load}input vs\n"
-    );
-    let e = load_str(&format!("{dir}/check.tank"), &text, &Overrides::default())
-        .unwrap_or_else(|e| panic!("{:?}", e.diagnostics));
-    let d = instantiate(&e.circuit).unwrap();
-    (e.circuit, d)
+    measured_support::stage(SOURCE, load, extra)
 }
 
 fn shorted(file: &str) -> String {
@@ -41,26 +35,8 @@ fn shorted(file: &str) -> String {
 /// The same choke from elements.
 const RL: &str = "resistor r load m 8Ohm\ninductor l m gnd 2.2uH\n";
 
-fn node(c: &Circuit, name: &str) -> usize {
-    let i = c.nodes.iter().position(|n| n == name).unwrap();
-    UnknownId::voltage(NodeId::node(i)).unwrap().index()
-}
-
 fn ac_at(load: &str, freqs: &[f64]) -> Vec<Complex64> {
-    let (c, d) = stage(load, "resistor rin in load 1Ohm\n");
-    let k = node(&c, "load");
-    freqs
-        .iter()
-        .map(|&f| {
-            let p = AcParams {
-                from: f,
-                to: f,
-                points: 1,
-                ..AcParams::default()
-            };
-            ac(&c, &d, &p).unwrap().x[0][k]
-        })
-        .collect()
+    measured_support::ac_at(SOURCE, load, freqs)
 }
 
 fn fit_of(c: &Circuit) -> std::sync::Arc<tankwave_circuit::rational::Fitted> {
