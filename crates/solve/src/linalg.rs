@@ -869,6 +869,17 @@ pub fn solve_complex(
 mod tests {
     use super::*;
 
+    /// Fixed-seed uniform numbers in [0, 1) (64-bit LCG, Knuth's MMIX
+    /// constants, from memory).
+    fn uniform(mut seed: u64) -> impl FnMut() -> f64 {
+        move || {
+            seed = seed
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (seed >> 11) as f64 / (1u64 << 53) as f64
+        }
+    }
+
     fn check(kind: LinearSolver) {
         // A small nonsymmetric system with a known solution.
         let a = [4.0, 1.0, 0.0, 1.0, 3.0, 1.0, 0.0, 2.0, 5.0];
@@ -913,13 +924,7 @@ mod tests {
         // conditioned, so rounding leaves about 1e-14; common practice).
         let n = 40;
         let mut a = vec![0.0; n * n];
-        let mut seed = 7u64;
-        let mut next = || {
-            seed = seed
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
-            ((seed >> 33) as f64) / (1u64 << 31) as f64
-        };
+        let mut next = uniform(7);
         for i in 0..n {
             a[i * n + i] = if i % 7 == 3 { 1e-3 } else { 4.0 + next() };
             a[i * n + (i + 1) % n] = 5.0 * (next() - 0.5);
@@ -971,13 +976,8 @@ mod tests {
         // new values on the same pattern too; a matrix with an empty
         // column is refused at that column.
         let n = 30;
-        let mut seed = 11u64;
-        let mut next = || {
-            seed = seed
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
-            ((seed >> 33) as f64) / (1u64 << 31) as f64 - 0.5
-        };
+        let mut unit = uniform(11);
+        let mut next = move || unit() - 0.5;
         let mut entries: Vec<(usize, usize, faer::c64)> = Vec::new();
         for i in 0..n {
             let d = if i % 5 == 2 { 1e-3 } else { 4.0 + next() };
@@ -1040,13 +1040,8 @@ mod tests {
         // Partial pivoting is backward stable: the residual is bounded by a
         // small multiple of n·ε·‖A‖·‖x‖ (Golub & Van Loan, ch. 3.4, from
         // memory); 1e-12 relative covers n ≤ 40 with a wide margin.
-        let mut seed = 0x5eed_u64;
-        let mut next = move || {
-            seed = seed
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
-            ((seed >> 11) as f64 / (1u64 << 53) as f64) * 2.0 - 1.0
-        };
+        let mut unit = uniform(0x5eed);
+        let mut next = move || 2.0 * unit() - 1.0;
         for n in [3usize, 17, SMALL_DENSE_BELOW - 1, SMALL_DENSE_BELOW, 40] {
             let a: Vec<f64> = (0..n * n).map(|_| next()).collect();
             let xs: Vec<Vec<f64>> = (0..3).map(|_| (0..n).map(|_| next()).collect()).collect();
