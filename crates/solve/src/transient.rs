@@ -443,6 +443,19 @@ impl<'a> Stepper<'a> {
 
     /// Solve one step to `t1` with method `m` (adjusted by [`Self::effective`]) without accepting it.
     pub fn attempt(&mut self, t1: f64, m: Method) -> Result<Attempt, StepFail> {
+        self.attempt_from(t1, m, None)
+    }
+
+    /// [`Stepper::attempt`] with Newton started from `guess` (when given,
+    /// of the right length) instead of the linear extrapolation of the last
+    /// two points: e.g. the same point of the period before, on a periodic
+    /// orbit (`periodic::shooting`).
+    pub(crate) fn attempt_from(
+        &mut self,
+        t1: f64,
+        m: Method,
+        guess: Option<Vec<f64>>,
+    ) -> Result<Attempt, StepFail> {
         let n = self.devices.n_unknowns;
         let h = t1 - self.t;
         let method = self.effective(m);
@@ -479,16 +492,22 @@ impl<'a> Stepper<'a> {
             }
             Method::Sdirk4 => 0.0,
         };
-        // Predictor: linear extrapolation.
-        let mut x1 = self.x.clone();
-        if let Some((_, xp, hp)) = &self.prev {
-            if *hp > 0.0 {
-                let r = h / hp;
-                for k in 0..n {
-                    x1[k] += (self.x[k] - xp[k]) * r;
+        // Predictor: the guess, or linear extrapolation.
+        let x1 = match guess.filter(|g| g.len() == n) {
+            Some(g) => g,
+            None => {
+                let mut x1 = self.x.clone();
+                if let Some((_, xp, hp)) = &self.prev {
+                    if *hp > 0.0 {
+                        let r = h / hp;
+                        for k in 0..n {
+                            x1[k] += (self.x[k] - xp[k]) * r;
+                        }
+                    }
                 }
+                x1
             }
-        }
+        };
         let hist = std::mem::take(&mut self.hist);
         let solved = self.solve_stage(t1, alpha, &hist, x1);
         self.hist = hist;

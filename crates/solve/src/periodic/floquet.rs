@@ -48,10 +48,10 @@
 //! A failure of either test is [`crate::SolveError::NotPeriodic`] (a solver
 //! failure, exit 3) with the reason and the numbers, never a figure.
 
-use super::shooting::{FinalPeriod, PeriodLin, Sens, ShootingMode};
+use super::shooting::{FinalPeriod, Guide, PeriodLin, Sens, ShootingMode};
 use super::{PeriodicSolution, SteadyParams};
 use crate::krylov::{dominant_eigenvalues, ArnoldiParams};
-use crate::transient::{bdf2_coefficients, Stepper, GAMMA};
+use crate::transient::{bdf2_coefficients, Method, Stepper, GAMMA};
 use crate::SolveError;
 use faer::Mat;
 use num_complex::Complex64;
@@ -242,6 +242,7 @@ pub(crate) fn verify_with(
         .collect();
     let dense_small = params.shooting.mode.resolve(n) == ShootingMode::Dense
         || !super::shooting::record_fits(n, ns);
+    let mut guide = last.as_ref().map(|l| l.guide.clone());
     let reuse = last.and_then(|l| {
         let mono = match (l.monodromy, l.lin) {
             (Some(phi), _) => Monodromy::Dense(phi),
@@ -264,7 +265,8 @@ pub(crate) fn verify_with(
             } else {
                 Sens::Record
             };
-            let run = super::shooting::integrate_period(&mut st, devices, &x0, t0, h, ns, sens)?;
+            let run =
+                super::shooting::integrate_period(&mut st, devices, &x0, t0, h, ns, sens, None)?;
             let mono = match (run.monodromy, run.lin) {
                 (Some(phi), _) => Monodromy::Dense(phi),
                 (None, Some(l)) => Monodromy::Free(l),
@@ -330,10 +332,38 @@ pub(crate) fn verify_with(
     for p in 1..=EXTRA_PERIODS {
         let tp = t0 + p as f64 * period;
         st.init_at(&prev, tp);
+        // each period's Newton starts from the period before (Guide)
+        let g = guide.take().filter(|g| g.fits(n, ns));
+        let mut samples = vec![vec![0.0; ns]; n];
+        let mut stage = vec![vec![0.0; ns]; n];
+        let err = |e: crate::transient::StepFail| e.into_error(devices, "Floquet check");
         for s in 0..ns {
-            st.step_trbdf2(tp + (s + 1) as f64 * h)
-                .map_err(|e| e.into_error(devices, "Floquet check"))?;
+            let t1 = tp + (s + 1) as f64 * h;
+            let tg = st.t + GAMMA * (t1 - st.t);
+            for (k, row) in samples.iter_mut().enumerate() {
+                row[s] = st.x[k];
+            }
+            let a = st
+                .attempt_from(
+                    tg,
+                    Method::Trapezoidal,
+                    g.as_ref().map(|g| g.guess(s, &st.x, true)),
+                )
+                .map_err(err)?;
+            st.commit(a);
+            for (k, row) in stage.iter_mut().enumerate() {
+                row[s] = st.x[k];
+            }
+            let b = st
+                .attempt_from(
+                    t1,
+                    Method::Bdf2,
+                    g.as_ref().map(|g| g.guess(s, &st.x, false)),
+                )
+                .map_err(err)?;
+            st.commit(b);
         }
+        guide = Some(Guide::from_parts(samples, stage, st.x.clone()));
         for k in 0..n {
             let c = (st.x[k] - prev[k]).abs() / scale[k];
             if !c.is_finite() {

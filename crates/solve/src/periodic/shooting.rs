@@ -240,6 +240,69 @@ pub(crate) struct PeriodRun {
     pub(crate) lin: Option<PeriodLin>,
 }
 
+/// An earlier period on the same grid, whose points start the Newton
+/// iteration of each TR-BDF2 stage of the next period: near the orbit a
+/// period repeats the one before up to the deviation it starts with, so
+/// the point of the guide plus the deviation the step starts from (at the
+/// stage point for the step's end) is nearer the solution than the linear
+/// extrapolation of the last two points, and most stages converge in one
+/// Newton iteration instead of two (docs/performance.md, "Linear algebra",
+/// measured on the class-C demo).
+#[derive(Debug, Clone)]
+pub(crate) struct Guide {
+    /// Unknowns at the start of every step, `[unknown][step]`.
+    samples: Vec<Vec<f64>>,
+    /// Unknowns at every intermediate stage, `[unknown][step]`.
+    stage: Vec<Vec<f64>>,
+    /// The state at the end of the period.
+    end: Vec<f64>,
+}
+
+impl Guide {
+    /// The guide of a period just integrated.
+    pub(crate) fn of(run: &PeriodRun) -> Guide {
+        Guide::from_parts(run.samples.clone(), run.stage.clone(), run.end.clone())
+    }
+
+    /// A period's samples, stage points (`[unknown][step]`) and end.
+    pub(crate) fn from_parts(samples: Vec<Vec<f64>>, stage: Vec<Vec<f64>>, end: Vec<f64>) -> Guide {
+        Guide {
+            samples,
+            stage,
+            end,
+        }
+    }
+
+    /// Whether it is a period of `ns` steps of `n` unknowns.
+    pub(crate) fn fits(&self, n: usize, ns: usize) -> bool {
+        self.end.len() == n
+            && self.samples.len() == n
+            && self.stage.len() == n
+            && self
+                .samples
+                .iter()
+                .chain(&self.stage)
+                .all(|r| r.len() == ns)
+    }
+
+    /// Newton's start for step `s`: its stage point (`at_stage`, `x` the
+    /// state at the step's start) or its end (`x` the stage point), each
+    /// the guide's point plus the deviation of `x` from the guide.
+    pub(crate) fn guess(&self, s: usize, x: &[f64], at_stage: bool) -> Vec<f64> {
+        (0..self.end.len())
+            .map(|k| {
+                let (from, to) = if at_stage {
+                    (self.samples[k][s], self.stage[k][s])
+                } else {
+                    let next = self.samples[k].get(s + 1).copied().unwrap_or(self.end[k]);
+                    (self.stage[k][s], next)
+                };
+                to + (x[k] - from)
+            })
+            .collect()
+    }
+}
+
 /// The charged-row part of `G` and the whole of `C` at the stepper's last
 /// evaluation, in compressed rows.
 fn g_hat_and_c_sparse(st: &Stepper<'_>) -> (Csr, Csr) {
@@ -263,6 +326,7 @@ fn snapshot(st: &Stepper<'_>, t: f64) -> Result<Factors, SolveError> {
 
 /// Integrate one period of `ns` uniform TR-BDF2 steps from `x0` at `t0`,
 /// carrying what `sens` asks for.
+#[allow(clippy::too_many_arguments)]
 pub(crate) fn integrate_period(
     st: &mut Stepper<'_>,
     devices: &DeviceSet,
@@ -271,10 +335,15 @@ pub(crate) fn integrate_period(
     h: f64,
     ns: usize,
     sens: Sens,
+    guide: Option<&Guide>,
 ) -> Result<PeriodRun, SolveError> {
     let n = devices.n_unknowns;
     let err = |e: crate::transient::StepFail| e.into_error(devices, "shooting");
     st.init_at(x0, t0);
+    let guide = guide.filter(|g| g.fits(n, ns));
+    // Newton's start at step `s`'s stage point (`stage`) or end, from the
+    // guide and the deviation `x` shows from it now
+    let guess = |s: usize, x: &[f64], at_stage: bool| guide.map(|g| g.guess(s, x, at_stage));
     let mut samples = vec![vec![0.0; ns]; n];
     let mut stage = vec![vec![0.0; ns]; n];
     match sens {
@@ -283,10 +352,19 @@ pub(crate) fn integrate_period(
                 for (k, row) in samples.iter_mut().enumerate() {
                     row[s] = st.x[k];
                 }
-                let xg = st.step_trbdf2(t0 + (s + 1) as f64 * h).map_err(err)?;
+                let t1 = t0 + (s + 1) as f64 * h;
+                let tg = st.t + GAMMA * (t1 - st.t);
+                let a = st
+                    .attempt_from(tg, Method::Trapezoidal, guess(s, &st.x, true))
+                    .map_err(err)?;
+                st.commit(a);
                 for (k, row) in stage.iter_mut().enumerate() {
-                    row[s] = xg[k];
+                    row[s] = st.x[k];
                 }
+                let b = st
+                    .attempt_from(t1, Method::Bdf2, guess(s, &st.x, false))
+                    .map_err(err)?;
+                st.commit(b);
             }
             Ok(PeriodRun {
                 samples,
@@ -306,7 +384,9 @@ pub(crate) fn integrate_period(
                 let t1 = t0 + (s + 1) as f64 * h;
                 let tg = st.t + GAMMA * (t1 - st.t);
                 let alpha1 = 2.0 / (tg - st.t);
-                let a = st.attempt(tg, Method::Trapezoidal).map_err(err)?;
+                let a = st
+                    .attempt_from(tg, Method::Trapezoidal, guess(s, &st.x, true))
+                    .map_err(err)?;
                 factor(st, devices, tg)?;
                 let lu_g = snapshot(st, tg)?;
                 let cg = c_sparse(st);
@@ -316,7 +396,9 @@ pub(crate) fn integrate_period(
                     row[s] = st.x[k];
                 }
                 let (_, a1, a2) = bdf2_coefficients(t1 - st.t, h0);
-                let b = st.attempt(t1, Method::Bdf2).map_err(err)?;
+                let b = st
+                    .attempt_from(t1, Method::Bdf2, guess(s, &st.x, false))
+                    .map_err(err)?;
                 factor(st, devices, t1)?;
                 let lu_1 = snapshot(st, t1)?;
                 let (g1, c1) = g_hat_and_c_sparse(st);
@@ -360,7 +442,9 @@ pub(crate) fn integrate_period(
                 let tg = st.t + GAMMA * (t1 - st.t);
                 // Stage 1, trapezoidal to t + γh: (G_γ + α₁C_γ) S_γ = (α₁C₀ − Ĝ₀) S₀.
                 let alpha1 = 2.0 / (tg - st.t);
-                let a = st.attempt(tg, Method::Trapezoidal).map_err(err)?;
+                let a = st
+                    .attempt_from(tg, Method::Trapezoidal, guess(s, &st.x, true))
+                    .map_err(err)?;
                 factor(st, devices, tg)?;
                 sg.fill(0.0);
                 for (src, dst) in s0.chunks_exact(n).zip(sg.chunks_exact_mut(n)) {
@@ -377,7 +461,9 @@ pub(crate) fn integrate_period(
                 // Stage 2, BDF2 through t, t + γh, t1:
                 // (G₁ + a0·C₁) S₁ = −(a1·C_γ S_γ + a2·C₀ S₀).
                 let (_, a1, a2) = bdf2_coefficients(t1 - st.t, h0);
-                let b = st.attempt(t1, Method::Bdf2).map_err(err)?;
+                let b = st
+                    .attempt_from(t1, Method::Bdf2, guess(s, &st.x, false))
+                    .map_err(err)?;
                 factor(st, devices, t1)?;
                 s1.fill(0.0);
                 for ((g, src), dst) in sg
@@ -607,6 +693,8 @@ pub(crate) struct FinalPeriod {
     pub(crate) monodromy: Option<Mat<f64>>,
     /// The matrix-free operator, otherwise.
     pub(crate) lin: Option<PeriodLin>,
+    /// The period itself, to guide the check's next periods ([`Guide`]).
+    pub(crate) guide: Guide,
     /// The orbit on half the grid that estimated the floor: its samples
     /// and TR-BDF2 stage points (`[unknown][step]`), when it was solved.
     pub(crate) half: Option<HalfGrid>,
@@ -699,6 +787,12 @@ struct Level {
 /// A chord step (old `Φ − I`) must shrink the scaled periodicity error at
 /// least this much, or the next period recomputes the monodromy matrix.
 const CHORD_CONTRACTION: f64 = 0.1;
+
+/// Periodicity error, in tolerance units, within which a period guides
+/// the Newton starts of the next one on its grid ([`Guide`]); farther
+/// from the orbit the next period starts from a point a Newton update
+/// away, and linear extrapolation predicts as well.
+const GUIDE_WITHIN: f64 = 1e4;
 
 /// Restarts of the coarse level from the end of its best period, after a
 /// Newton iterate from which a period could not be integrated. Measured
@@ -857,6 +951,8 @@ fn shoot(
         let mut best: Option<(f64, Vec<f64>)> = None;
         let mut restarts = 0usize;
         let mut level_iter = 0usize;
+        // the last period of this level, once near the orbit
+        let mut guide: Option<Guide> = None;
         loop {
             if level_iter >= params.shooting.max_iter {
                 return Err(SolveError::NoConvergence {
@@ -910,7 +1006,16 @@ fn shoot(
                 restarts += 1;
                 report.restarts += 1;
             };
-            let mut run = match integrate_period(&mut st, devices, &x0, t0, h, level.ns, sens) {
+            let mut run = match integrate_period(
+                &mut st,
+                devices,
+                &x0,
+                t0,
+                h,
+                level.ns,
+                sens,
+                guide.as_ref(),
+            ) {
                 Ok(run) => run,
                 Err(_) if may_restart => {
                     restart(&mut x0, &mut report);
@@ -936,6 +1041,7 @@ fn shoot(
                 best = Some((worst.0, run.end.clone()));
             }
             last = (r[worst.1].abs(), worst.1);
+            guide = (worst.0 <= GUIDE_WITHIN).then(|| Guide::of(&run));
             let mut from_this_run = false;
             if let Some(lu) = factored {
                 jac = Some(Jacobian::Dense(Box::new(lu?)));
@@ -1006,6 +1112,7 @@ fn shoot(
                         t0,
                         monodromy: run.monodromy.take(),
                         lin,
+                        guide: Guide::of(&run),
                         half,
                     };
                     let info = SteadyInfo {
@@ -1076,12 +1183,14 @@ fn half_grid(
     let mut own: Option<Jacobian> = None;
     let mut need_sens = false;
     let mut prev = f64::INFINITY;
+    let mut guide: Option<Guide> = None;
     for _ in 0..params.shooting.max_iter {
         let sens = if need_sens { own_sens } else { Sens::None };
-        let run = integrate_period(st, devices, &x, t0, h, half, sens)?;
+        let run = integrate_period(st, devices, &x, t0, h, half, sens, guide.as_ref())?;
         let r: Vec<f64> = run.end.iter().zip(&x).map(|(a, b)| a - b).collect();
         let scale = scales(devices, params, &run);
         let worst = worst_ratio(&r, &scale, devices, st.t)?.0;
+        guide = (worst <= GUIDE_WITHIN).then(|| Guide::of(&run));
         if let Some(phi) = &run.monodromy {
             own = Some(Jacobian::Dense(Box::new(factor_monodromy(
                 phi, devices, t0,
@@ -1151,12 +1260,12 @@ mod tests {
         let tol = crate::newton::Tolerances::default();
         let lin = crate::linalg::LinearSolver::default();
         let mut st = Stepper::from_zero(&d, tol, lin, t0);
-        let dense = integrate_period(&mut st, &d, &x0, t0, h, ns, Sens::Dense)
+        let dense = integrate_period(&mut st, &d, &x0, t0, h, ns, Sens::Dense, None)
             .expect("period")
             .monodromy
             .expect("Φ");
         let mut st = Stepper::from_zero(&d, tol, lin, t0);
-        let rec = integrate_period(&mut st, &d, &x0, t0, h, ns, Sens::Record)
+        let rec = integrate_period(&mut st, &d, &x0, t0, h, ns, Sens::Record, None)
             .expect("period")
             .lin
             .expect("factors");
@@ -1183,6 +1292,59 @@ mod tests {
                 );
             }
         }
+    }
+
+    #[test]
+    fn a_guided_period_is_the_same_period_in_fewer_newton_iterations() {
+        // The half-wave rectifier (a diode that switches within the period)
+        // brought near its orbit by plain periods; then one more period from
+        // the same state twice: Newton started by linear extrapolation, and
+        // started from the period before (Guide). Both solve the same stage
+        // equations to the same Newton tolerance, so their end states agree
+        // within a few tolerances (common practice: two converged Newton
+        // solutions of one system differ by about their tolerance, and the
+        // step-to-step differences are damped over the period by this
+        // dissipative circuit); the guided one takes fewer iterations.
+        let b = support::rectifier(1e6);
+        let d = tankwave_devices::instantiate(&b.c).expect("devices");
+        let n = d.n_unknowns;
+        let ns = 64;
+        let period = 1e-6;
+        let h = period / ns as f64;
+        let tol = crate::newton::Tolerances::default();
+        let lin = crate::linalg::LinearSolver::default();
+        let mut st = Stepper::from_zero(&d, tol, lin, 0.0);
+        let mut x = vec![0.0; n];
+        let mut last = None;
+        for p in 0..40 {
+            let run = integrate_period(&mut st, &d, &x, p as f64 * period, h, ns, Sens::None, None)
+                .expect("period");
+            x = run.end.clone();
+            last = Some(run);
+        }
+        let guide = Guide::of(&last.expect("a period"));
+        let t0 = 40.0 * period;
+        let count = |g: Option<&Guide>| {
+            let mut st = Stepper::from_zero(&d, tol, lin, t0);
+            let run = integrate_period(&mut st, &d, &x, t0, h, ns, Sens::None, g).expect("period");
+            (run.end, st.newton_iterations)
+        };
+        let (plain, plain_its) = count(None);
+        let (guided, guided_its) = count(Some(&guide));
+        for k in 0..n {
+            let scale = tol.rel_tolerance * plain[k].abs().max(guided[k].abs())
+                + crate::newton::unknown_floor(&d, &tol, k);
+            assert!(
+                (plain[k] - guided[k]).abs() <= 10.0 * scale,
+                "unknown {k}: {} plain, {} guided",
+                plain[k],
+                guided[k]
+            );
+        }
+        assert!(
+            (guided_its as f64) < 0.8 * plain_its as f64,
+            "{guided_its} Newton iterations guided against {plain_its} plain"
+        );
     }
 
     #[test]
