@@ -61,8 +61,18 @@ impl Watched {
         self.status.recv_timeout(WAIT).expect("a run in time")
     }
 
-    fn stdout(&self) -> String {
-        self.out.lock().expect("lock").clone()
+    /// The standard output read so far, once it contains `needle` (or
+    /// after `WAIT`): the status line on standard error can arrive before
+    /// the reader of standard output has taken the report the run printed.
+    fn stdout_with(&self, needle: &str) -> String {
+        let started = Instant::now();
+        loop {
+            let out = self.out.lock().expect("lock").clone();
+            if out.contains(needle) || started.elapsed() > WAIT {
+                return out;
+            }
+            std::thread::sleep(Duration::from_millis(10));
+        }
     }
 }
 
@@ -92,7 +102,8 @@ fn run_watch_runs_again_on_change_and_after_errors() {
     assert!(first.contains("last exit code 0"), "{first}");
     // 5 V open circuit into 50 Ω + 50 Ω: 2.5 V peak across rl, P = V²/(2R)
     // = 62.5 mW (Ohm's law and the mean power of a sinusoid)
-    assert!(w.stdout().contains("62.5 mW"), "{}", w.stdout());
+    let out = w.stdout_with("62.5 mW");
+    assert!(out.contains("62.5 mW"), "{out}");
     rewrite(&f, &format!("{STAGE}resistor broken a gnd 5F\n"));
     let second = w.next_run();
     assert!(second.contains("last exit code 2"), "{second}");
@@ -100,7 +111,7 @@ fn run_watch_runs_again_on_change_and_after_errors() {
     let third = w.next_run();
     assert!(third.contains("last exit code 0"), "{third}");
     // twice the amplitude, four times the power: 250 mW
-    let out = w.stdout();
+    let out = w.stdout_with("250 mW");
     assert!(out.contains("250 mW"), "{out}");
     assert_eq!(out.matches("Steady state at").count(), 2, "{out}");
     let started = Instant::now();
