@@ -1074,6 +1074,21 @@ mod tests {
         assert!(lu.factor(&s).is_err());
     }
 
+    /// A seeded `n×n` nonsymmetric sparse matrix, row-major: a diagonal, a
+    /// coupling to the next unknown and a far entry per row, every seventh
+    /// diagonal small (so partial pivoting swaps rows).
+    fn seeded_sparse(n: usize, next: &mut impl FnMut() -> f64) -> Vec<f64> {
+        let mut a = vec![0.0; n * n];
+        for i in 0..n {
+            a[i * n + i] = if i % 7 == 3 { 1e-3 } else { 4.0 + next() };
+            a[i * n + (i + 1) % n] = 5.0 * (next() - 0.5);
+            a[((i + 1) % n) * n + i] = 3.0 + next();
+            let j = (i * 13 + 5) % n;
+            a[i * n + j] += next() - 0.5;
+        }
+        a
+    }
+
     #[test]
     fn sparse_factors_solve_a_seeded_system_on_its_pattern() {
         // A 40×40 nonsymmetric sparse matrix (a diagonal, a coupling to the
@@ -1083,15 +1098,7 @@ mod tests {
         // of three columns all give it back to 1e-12 (the matrix is well
         // conditioned, so rounding leaves about 1e-14; common practice).
         let n = 40;
-        let mut a = vec![0.0; n * n];
-        let mut next = uniform(7);
-        for i in 0..n {
-            a[i * n + i] = if i % 7 == 3 { 1e-3 } else { 4.0 + next() };
-            a[i * n + (i + 1) % n] = 5.0 * (next() - 0.5);
-            a[((i + 1) % n) * n + i] = 3.0 + next();
-            let j = (i * 13 + 5) % n;
-            a[i * n + j] += next() - 0.5;
-        }
+        let a = seeded_sparse(n, &mut uniform(7));
         let pattern = Pattern::of_dense(&a, n);
         let vals: Vec<f64> = pattern.entries().map(|(_, r, c)| a[r * n + c]).collect();
         let mut lu = RealLu::new(LinearSolver::Sparse, n);
@@ -1138,14 +1145,7 @@ mod tests {
         // with partial pivoting solves it.
         let n = 40;
         let mut next = uniform(11);
-        let mut a = vec![0.0; n * n];
-        for i in 0..n {
-            a[i * n + i] = if i % 7 == 3 { 1e-3 } else { 4.0 + next() };
-            a[i * n + (i + 1) % n] = 5.0 * (next() - 0.5);
-            a[((i + 1) % n) * n + i] = 3.0 + next();
-            let j = (i * 13 + 5) % n;
-            a[i * n + j] += next() - 0.5;
-        }
+        let a = seeded_sparse(n, &mut next);
         let pattern = Pattern::of_dense(&a, n);
         let x: Vec<f64> = (0..n).map(|i| (i % 5) as f64 - 2.0).collect();
         let mut lu = RealLu::new(LinearSolver::Sparse, n);

@@ -51,7 +51,7 @@
 use super::shooting::{FinalPeriod, Guide, PeriodLin, Sens, ShootingMode};
 use super::{PeriodicSolution, SteadyParams};
 use crate::krylov::{dominant_eigenvalues, ArnoldiParams};
-use crate::transient::{bdf2_coefficients, Method, Stepper, GAMMA};
+use crate::transient::{bdf2_coefficients, Stepper, GAMMA};
 use crate::SolveError;
 use faer::Mat;
 use num_complex::Complex64;
@@ -331,39 +331,18 @@ pub(crate) fn verify_with(
     let mut worst = (0.0f64, 0usize, 0usize);
     for p in 1..=EXTRA_PERIODS {
         let tp = t0 + p as f64 * period;
-        st.init_at(&prev, tp);
         // each period's Newton starts from the period before (Guide)
-        let g = guide.take().filter(|g| g.fits(n, ns));
-        let mut samples = vec![vec![0.0; ns]; n];
-        let mut stage = vec![vec![0.0; ns]; n];
-        let err = |e: crate::transient::StepFail| e.into_error(devices, "Floquet check");
-        for s in 0..ns {
-            let t1 = tp + (s + 1) as f64 * h;
-            let tg = st.t + GAMMA * (t1 - st.t);
-            for (k, row) in samples.iter_mut().enumerate() {
-                row[s] = st.x[k];
-            }
-            let a = st
-                .attempt_from(
-                    tg,
-                    Method::Trapezoidal,
-                    g.as_ref().map(|g| g.guess(s, &st.x, true)),
-                )
-                .map_err(err)?;
-            st.commit(a);
-            for (k, row) in stage.iter_mut().enumerate() {
-                row[s] = st.x[k];
-            }
-            let b = st
-                .attempt_from(
-                    t1,
-                    Method::Bdf2,
-                    g.as_ref().map(|g| g.guess(s, &st.x, false)),
-                )
-                .map_err(err)?;
-            st.commit(b);
-        }
-        guide = Some(Guide::from_parts(samples, stage, st.x.clone()));
+        let run = super::shooting::plain_period(
+            &mut st,
+            devices,
+            &prev,
+            tp,
+            h,
+            ns,
+            guide.as_ref(),
+            "Floquet check",
+        )?;
+        guide = Some(Guide::from_parts(run.samples, run.stage, run.end));
         for k in 0..n {
             let c = (st.x[k] - prev[k]).abs() / scale[k];
             if !c.is_finite() {

@@ -324,6 +324,54 @@ fn snapshot(st: &Stepper<'_>, t: f64) -> Result<Factors, SolveError> {
     })
 }
 
+/// One period of `ns` uniform TR-BDF2 steps from `x0` at `t0` without
+/// sensitivities, each stage's Newton started from `guide` where it fits
+/// ([`Guide`]); `what` names the analysis in a step's failure.
+#[allow(clippy::too_many_arguments)]
+pub(crate) fn plain_period(
+    st: &mut Stepper<'_>,
+    devices: &DeviceSet,
+    x0: &[f64],
+    t0: f64,
+    h: f64,
+    ns: usize,
+    guide: Option<&Guide>,
+    what: &str,
+) -> Result<PeriodRun, SolveError> {
+    let n = devices.n_unknowns;
+    let err = |e: crate::transient::StepFail| e.into_error(devices, what);
+    st.init_at(x0, t0);
+    let guide = guide.filter(|g| g.fits(n, ns));
+    let guess = |s: usize, x: &[f64], at_stage: bool| guide.map(|g| g.guess(s, x, at_stage));
+    let mut samples = vec![vec![0.0; ns]; n];
+    let mut stage = vec![vec![0.0; ns]; n];
+    for s in 0..ns {
+        for (k, row) in samples.iter_mut().enumerate() {
+            row[s] = st.x[k];
+        }
+        let t1 = t0 + (s + 1) as f64 * h;
+        let tg = st.t + GAMMA * (t1 - st.t);
+        let a = st
+            .attempt_from(tg, Method::Trapezoidal, guess(s, &st.x, true))
+            .map_err(err)?;
+        st.commit(a);
+        for (k, row) in stage.iter_mut().enumerate() {
+            row[s] = st.x[k];
+        }
+        let b = st
+            .attempt_from(t1, Method::Bdf2, guess(s, &st.x, false))
+            .map_err(err)?;
+        st.commit(b);
+    }
+    Ok(PeriodRun {
+        samples,
+        stage,
+        end: st.x.clone(),
+        monodromy: None,
+        lin: None,
+    })
+}
+
 /// Integrate one period of `ns` uniform TR-BDF2 steps from `x0` at `t0`,
 /// carrying what `sens` asks for.
 #[allow(clippy::too_many_arguments)]
@@ -347,33 +395,7 @@ pub(crate) fn integrate_period(
     let mut samples = vec![vec![0.0; ns]; n];
     let mut stage = vec![vec![0.0; ns]; n];
     match sens {
-        Sens::None => {
-            for s in 0..ns {
-                for (k, row) in samples.iter_mut().enumerate() {
-                    row[s] = st.x[k];
-                }
-                let t1 = t0 + (s + 1) as f64 * h;
-                let tg = st.t + GAMMA * (t1 - st.t);
-                let a = st
-                    .attempt_from(tg, Method::Trapezoidal, guess(s, &st.x, true))
-                    .map_err(err)?;
-                st.commit(a);
-                for (k, row) in stage.iter_mut().enumerate() {
-                    row[s] = st.x[k];
-                }
-                let b = st
-                    .attempt_from(t1, Method::Bdf2, guess(s, &st.x, false))
-                    .map_err(err)?;
-                st.commit(b);
-            }
-            Ok(PeriodRun {
-                samples,
-                stage,
-                end: st.x.clone(),
-                monodromy: None,
-                lin: None,
-            })
-        }
+        Sens::None => plain_period(st, devices, x0, t0, h, ns, guide, "shooting"),
         Sens::Record => {
             let (mut g0, mut c0) = g_hat_and_c_sparse(st);
             let mut steps = Vec::with_capacity(ns);
