@@ -495,14 +495,10 @@ impl DeviceBlocks {
 mod tests {
     use super::*;
 
+    /// Seeded uniform numbers in [−0.5, 0.5) (the crate's test generator).
     fn lcg(seed: u64) -> impl FnMut() -> f64 {
-        let mut s = seed;
-        move || {
-            s = s
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
-            ((s >> 11) as f64) / (1u64 << 53) as f64 - 0.5
-        }
+        let mut u = crate::linalg::tests::uniform(seed);
+        move || u() - 0.5
     }
 
     /// A seeded problem: `p` ports, `kmax` harmonics, a dense complex
