@@ -354,18 +354,19 @@ impl DeviceBlocks {
     /// Build and factor the blocks of `conv` for `p` ports and `kmax`
     /// harmonics. `solve(k, z, scratch)` applies the block-diagonal
     /// preconditioner's harmonic `k` to the complex port vector `z` in
-    /// place. `None` when the band is 0, no group gets a block, or one of
-    /// them has no LU (the caller keeps the block-diagonal preconditioner).
+    /// place. `None` when the band is 0 (or `kmax` is), no group gets a
+    /// block, or one of them has no LU (the caller keeps the block-diagonal
+    /// preconditioner).
     pub(super) fn new(
         conv: &Conversion<'_>,
         p: usize,
         kmax: usize,
         solve: impl Fn(usize, &mut [C64], &mut Vec<C64>),
     ) -> Option<Self> {
-        if conv.band == 0 {
+        let b = conv.band.min(2 * kmax);
+        if b == 0 {
             return None;
         }
-        let b = conv.band.min(2 * kmax);
         let mut local = vec![usize::MAX; p];
         let mut groups = Vec::new();
         let mut scratch = Vec::new();
@@ -375,8 +376,10 @@ impl DeviceBlocks {
             let pg = ports.len();
             let m = pg * (2 * kmax + 1);
             // harmonics k and l ≤ k + b lie within (2b + 2)·p_g of each other
-            let hw = ((2 * b + 2) * pg).min(m.saturating_sub(1));
-            let cost = m.saturating_mul(4 * hw + 2);
+            let hw = (2 * b + 2).saturating_mul(pg).min(m.saturating_sub(1));
+            // E_g (2hw + 1 a row), I + E_g W_g with the room of the row
+            // interchanges (3hw + 1), the multipliers (hw)
+            let cost = m.saturating_mul(hw.saturating_mul(6).saturating_add(3));
             if stored.saturating_add(cost) > MAX_STORED {
                 continue;
             }
@@ -750,6 +753,8 @@ mod tests {
         let d = max_diff(&s.m_inv(&blocks, &s.apply(&x, 3)), &x);
         assert!(d < 1e-9, "M⁻¹ A x − x: {d:e}");
         assert!(s.blocks(0).is_none(), "band 0: no blocks");
+        let dc_only = DeviceBlocks::new(&s.conv(3), s.p, 0, |k, z, _| s.solve_k(k, z));
+        assert!(dc_only.is_none(), "K = 0: no coupling between harmonics");
     }
 
     /// Two devices on separate ports, each its own group. With `P` block
@@ -805,7 +810,7 @@ mod tests {
             freqs: &freqs,
             band: 10,
         };
-        assert!(p * (2 * kmax + 1) * (4 * 22 * p + 2) > MAX_STORED);
+        assert!(p * (2 * kmax + 1) * (6 * 22 * p + 3) > MAX_STORED);
         let called = std::cell::Cell::new(false);
         let blocks = DeviceBlocks::new(&conv, p, kmax, |_, _, _| called.set(true));
         assert!(blocks.is_none());
