@@ -11,7 +11,14 @@
 //! TANKWAVE_BENCH_SIZES to a comma list of the N to run (e.g. `1,16`, as
 //! the shooting_scale bench reads it; the first is the base of the ratios)
 //! and TANKWAVE_SCALE_METHODS to a comma list of `balance`, `shooting`
-//! (default both).
+//! (default both). TANKWAVE_BENCH_DEVICE_BAND sets
+//! `BalanceParams::device_band` (0: the block-diagonal preconditioner
+//! alone), to compare preconditioners in one run.
+//! TANKWAVE_BENCH_SAME_K=96 raises K on every N up to 96 and no further
+//! (`max_harmonics` 96, truncation limits 0): the automatic raise stops
+//! where the top harmonics are small enough, which on these stages is
+//! K = 96 for N ≤ 4 and K = 48 for N ≥ 8, so without it N = 1 and N = 16
+//! are solved at different K.
 
 use std::path::PathBuf;
 use std::time::Instant;
@@ -70,11 +77,25 @@ fn main() {
             .find_map(SteadyParams::from_analysis)
             .expect("an analyze steady");
         let repeats = if n <= 4 { 3 } else { 1 };
+        let device_band: Option<usize> = std::env::var("TANKWAVE_BENCH_DEVICE_BAND")
+            .ok()
+            .and_then(|s| s.trim().parse().ok());
+        let same_k: Option<usize> = std::env::var("TANKWAVE_BENCH_SAME_K")
+            .ok()
+            .and_then(|s| s.trim().parse().ok());
         for (m, (name, method)) in methods.iter().enumerate() {
-            let p = SteadyParams {
+            let mut p = SteadyParams {
                 method: *method,
                 ..sp.clone()
             };
+            if let Some(h) = device_band {
+                p.balance.device_band = h;
+            }
+            if let Some(k) = same_k {
+                p.balance.max_harmonics = k;
+                p.balance.truncation_rel = 0.0;
+                p.balance.truncation_abs = 0.0;
+            }
             let mut times = Vec::new();
             let mut its = 0;
             let mut detail = String::new();
@@ -85,10 +106,12 @@ fn main() {
                         its = r.info.iterations;
                         if let Some(b) = &r.info.balance {
                             detail = format!(
-                                "K {:?}, {} ports, {} GMRES products{}",
+                                "K {:?}, {} ports, {} GMRES products in {} steps ({:.0} per step){}",
                                 b.harmonics_tried,
                                 b.ports,
                                 b.krylov_iterations,
+                                b.krylov_steps,
+                                b.krylov_iterations as f64 / b.krylov_steps.max(1) as f64,
                                 if b.sparse_network {
                                     ", sparse network"
                                 } else {

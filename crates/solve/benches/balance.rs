@@ -5,8 +5,10 @@
 //! top tenth of the harmonics is below 1e-6 of the fundamental, capped at 128)
 //! and at a fixed K = 32. The automatic raise runs twice: with the Newton
 //! step by GMRES from 400 real unknowns (the default) and by dense LU only
-//! (`krylov_from` off), so the two are compared in one run. Shooting and the
-//! transient use 256 steps per period.
+//! (`krylov_from` off), so the two are compared in one run, and a third
+//! time by GMRES with the block-diagonal preconditioner alone
+//! (`device_band` 0, no device blocks). Shooting and the transient use 256
+//! steps per period.
 
 use criterion::{criterion_group, criterion_main, Criterion};
 use std::hint::black_box;
@@ -48,18 +50,35 @@ fn bench_stage(c: &mut Criterion, name: &str, (b, f): (B, f64)) {
     let mut g = c.benchmark_group(name);
     g.sample_size(10)
         .measurement_time(std::time::Duration::from_secs(4));
-    for (label, method, raise, krylov) in [
-        ("balance auto-K", SteadyMethod::Balance, true, true),
+    for (label, method, raise, krylov, blocks) in [
+        ("balance auto-K", SteadyMethod::Balance, true, true, true),
+        (
+            "balance auto-K, no device blocks",
+            SteadyMethod::Balance,
+            true,
+            true,
+            false,
+        ),
         (
             "balance auto-K, dense LU only",
             SteadyMethod::Balance,
             true,
             false,
+            true,
         ),
-        ("balance K=32", SteadyMethod::Balance, false, true),
-        ("shooting 256 steps", SteadyMethod::Shooting, false, true),
+        ("balance K=32", SteadyMethod::Balance, false, true, true),
+        (
+            "shooting 256 steps",
+            SteadyMethod::Shooting,
+            false,
+            true,
+            true,
+        ),
     ] {
-        let p = steady_params(f, method, raise, krylov);
+        let mut p = steady_params(f, method, raise, krylov);
+        if !blocks {
+            p.balance.device_band = 0;
+        }
         let s = steady(&b.c, &d, &p).expect("steady");
         eprintln!("{name} / {label}: {:?}", s.info);
         g.bench_function(label, |bch| {

@@ -1026,12 +1026,13 @@ pub fn solve_complex(
 }
 
 #[cfg(test)]
-mod tests {
+pub(crate) mod tests {
     use super::*;
 
     /// Fixed-seed uniform numbers in [0, 1) (64-bit LCG, Knuth's MMIX
-    /// constants, from memory).
-    fn uniform(mut seed: u64) -> impl FnMut() -> f64 {
+    /// constants, from memory); the one seeded generator of the crate's
+    /// unit tests.
+    pub(crate) fn uniform(mut seed: u64) -> impl FnMut() -> f64 {
         move || {
             seed = seed
                 .wrapping_mul(6364136223846793005)

@@ -122,3 +122,52 @@ fn warm_start_is_honoured() {
     let ignored = steady(&b.c, &d, &p).expect("bad warm start ignored");
     assert_eq!(ignored.info.iterations, cold.info.iterations);
 }
+
+/// The devices' blocks of the GMRES preconditioner
+/// (`BalanceParams::device_band`, on by default) on the class-C demo stage
+/// at K = 64, every Newton step by GMRES: the same periodic state as the
+/// block-diagonal preconditioner alone (to the Newton tolerance, as
+/// above), in fewer GMRES products per Newton step.
+#[test]
+fn device_blocks_cut_gmres_products_on_class_c() {
+    let b = class_c(20.0);
+    let d = instantiate(&b.c).expect("devices");
+    let mut p = SteadyParams {
+        freq: CLASS_C_F0,
+        harmonics: 64,
+        method: SteadyMethod::Balance,
+        ..SteadyParams::default()
+    };
+    p.balance.raise_harmonics = false;
+    p.balance.krylov_from = 0;
+    assert!(p.balance.device_band > 0, "the blocks are on by default");
+    let with = steady(&b.c, &d, &p).expect("GMRES with the device blocks");
+    p.balance.device_band = 0;
+    let without = steady(&b.c, &d, &p).expect("GMRES, block-diagonal alone");
+    let per_step = |s: &PeriodicSolution| {
+        let i = s.info.balance.as_ref().expect("balance info");
+        assert!(i.krylov_steps > 0, "GMRES was not used: {i:?}");
+        i.krylov_iterations as f64 / i.krylov_steps as f64
+    };
+    let (a, b0) = (per_step(&with), per_step(&without));
+    eprintln!("GMRES products per Newton step: {a:.1} with the blocks, {b0:.1} without");
+    assert!(
+        a < b0,
+        "{a} products per step with the blocks, {b0} without"
+    );
+    assert!(with.info.residual <= with.info.tolerance);
+    let scale = without
+        .x
+        .iter()
+        .map(|u| fundamental(u).norm())
+        .fold(0.0f64, f64::max);
+    for (u, (x, y)) in without.x.iter().zip(&with.x).enumerate() {
+        for (s, (va, vb)) in x.iter().zip(y).enumerate() {
+            assert!(
+                (va - vb).abs() <= 1e-5 * scale,
+                "{}: sample {s}: {va} without the blocks vs {vb} with",
+                d.names[u]
+            );
+        }
+    }
+}

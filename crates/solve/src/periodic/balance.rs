@@ -61,7 +61,13 @@
 //!   `C(t) v(t)` sample by sample on the evaluation grid (the same numbers as
 //!   the conversion matrices), and a block-diagonal preconditioner, one
 //!   `p×p` LU per harmonic of `Ŷ_k + Ĝ₀ + jω_k Ĉ₀` (P. Feldmann,
-//!   R. C. Melville, D. Long, CICC 1996, from memory). The frequency of each
+//!   R. C. Melville, D. Long, CICC 1996, from memory), to which each group
+//!   of ports the nonlinear devices join adds its own conversion matrix
+//!   within a band of harmonics, by the Woodbury identity with one band LU
+//!   per group (`balance_devices.rs`, [`BalanceParams::device_band`]): a
+//!   transistor conducting for a third of the cycle is far from its period
+//!   average, and that preconditioner alone took 100 to 450 GMRES
+//!   products per Newton step on the scale bench's stages. The frequency of each
 //!   harmonic slot is data (`Problem::freqs`), so another frequency set
 //!   reuses the blocks: several tones mapped onto one artificial
 //!   fundamental ([`mod@super::multitone`]). When GMRES does not reach
@@ -115,6 +121,8 @@
 //! harmonics (`I_k + jkωQ_k` of the element's devices, `k ≤ K`), so they obey
 //! KCL at every node and every sample to within the harmonic residual.
 
+#[path = "balance_devices.rs"]
+mod devices;
 #[path = "balance_sparse.rs"]
 mod sparse;
 
@@ -202,6 +210,14 @@ pub struct BalanceParams {
     /// (module docs); [`NetworkForm::Auto`] (default) takes the one with
     /// fewer operations per product.
     pub network: NetworkForm,
+    /// The band of each nonlinear device's own conversion matrix that the
+    /// GMRES preconditioner couples between harmonics: the coefficients
+    /// `Ĝ_m`, `Ĉ_m` with `|m| ≤ device_band`, weighted by
+    /// `1 − |m|/(device_band + 1)`, per group of ports the devices join, on
+    /// top of the block-diagonal preconditioner (module
+    /// `balance_devices`); 0 leaves the block-diagonal preconditioner
+    /// alone (default [`DEVICE_BAND`], measured: docs/performance.md).
+    pub device_band: usize,
     /// A warm start: the state at the start of a period from a solved
     /// neighbouring variant (same unknowns, as [`ShootingParams::initial`]).
     /// When given (and of the right length and finite) one period is
@@ -229,6 +245,9 @@ pub enum NetworkForm {
 /// Default of [`BalanceParams::krylov_from`].
 pub const KRYLOV_FROM: usize = 400;
 
+/// Default of [`BalanceParams::device_band`].
+pub const DEVICE_BAND: usize = 3;
+
 impl Default for BalanceParams {
     fn default() -> Self {
         Self {
@@ -248,6 +267,7 @@ impl Default for BalanceParams {
             limit: true,
             krylov_from: KRYLOV_FROM,
             network: NetworkForm::Auto,
+            device_band: DEVICE_BAND,
             initial: None,
         }
     }
@@ -275,6 +295,9 @@ pub struct BalanceInfo {
     pub truncation: f64,
     /// GMRES products over every Newton step (0: every step by dense LU).
     pub krylov_iterations: usize,
+    /// Newton steps solved by GMRES (every K tried), with those whose
+    /// GMRES did not converge (and fell back to dense LU, or failed).
+    pub krylov_steps: usize,
     /// Whether the GMRES steps of the returned K held the linear network
     /// sparse ([`BalanceParams::network`]).
     pub sparse_network: bool,
@@ -305,6 +328,7 @@ pub fn balance(
     let mut cuts = 0usize;
     let mut levels = 0usize;
     let mut krylov = 0usize;
+    let mut krylov_steps = 0usize;
     let mut best: Option<Solved> = None;
     let mut warm: Option<Vec<Vec<C64>>> = bp
         .initial
@@ -336,6 +360,7 @@ pub fn balance(
                             cuts,
                             levels,
                             krylov,
+                            krylov_steps,
                         };
                         return finish(circuit, devices, params, b, tried, t);
                     }
@@ -347,6 +372,7 @@ pub fn balance(
         cuts += solved.cuts;
         levels += solved.continuation_steps;
         krylov += solved.krylov_iterations;
+        krylov_steps += solved.krylov_steps;
         let next = (2 * k).min(bp.max_harmonics);
         let fits = fits(solved.ports, next, bp);
         let more = solved.truncation > 1.0 && bp.raise_harmonics && k < bp.max_harmonics && fits;
@@ -364,6 +390,7 @@ pub fn balance(
                 cuts,
                 levels,
                 krylov,
+                krylov_steps,
             };
             finish(circuit, devices, params, b, tried, t)
         }
@@ -1007,6 +1034,11 @@ pub(super) struct Problem<'a> {
     pub(super) krylov: bool,
     /// GMRES products over every Newton step of this problem.
     pub(super) krylov_iterations: usize,
+    /// Newton steps of this problem given to GMRES.
+    pub(super) krylov_steps: usize,
+    /// The band of the devices' blocks of the preconditioner
+    /// ([`BalanceParams::device_band`]).
+    device_band: usize,
     /// The linear network held sparse for the GMRES step
     /// ([`Problem::hold_sparse`]); `None`: the dense `Ŷ_k`.
     net: Option<sparse::SparseNet>,
@@ -1124,6 +1156,8 @@ impl<'a> Problem<'a> {
             pattern: Vec::new(),
             krylov: false,
             krylov_iterations: 0,
+            krylov_steps: 0,
+            device_band: params.balance.device_band,
             net: None,
             net_auto: false,
             slot_names: Vec::new(),
@@ -1471,7 +1505,9 @@ impl<'a> Problem<'a> {
     /// preconditioner is block-diagonal over the harmonics (each block the
     /// linear network plus the period average of G and C, P. Feldmann,
     /// R. C. Melville, D. Long, "Efficient frequency domain analysis of large
-    /// nonlinear analog circuits", CICC 1996, from memory). Returns false
+    /// nonlinear analog circuits", CICC 1996, from memory), with each
+    /// device's own coupling between harmonics added back by the blocks of
+    /// module `devices` ([`BalanceParams::device_band`]). Returns false
     /// (and leaves `b`) when a block is singular or GMRES does not reach its
     /// tolerance: the caller then factors the full Jacobian.
     fn krylov_step(&mut self, ev: &NlEval, b: &mut [f64]) -> bool {
@@ -1496,8 +1532,20 @@ impl<'a> Problem<'a> {
             },
         };
         let net = self.net.as_ref();
-        let precond = |v: &[f64], out: &mut [f64]| {
-            let mut z = Mat::<C64>::zeros(p, 1);
+        // harmonic k of the block-diagonal preconditioner P, in place
+        let solve_k = |k: usize, zs: &mut [C64], buf: &mut Vec<C64>| match (net, blocks.get(k)) {
+            (Some(net), _) => net.precondition(k, zs, buf),
+            (None, Some(lu)) => {
+                let mut z = Mat::<C64>::from_fn(p, 1, |r, _| zs[r]);
+                lu.solve_in_place(z.as_mut());
+                for (r, v) in zs.iter_mut().enumerate() {
+                    *v = z[(r, 0)];
+                }
+            }
+            (None, None) => {}
+        };
+        // `out = P⁻¹ v` (real layout)
+        let p_inv = |v: &[f64], out: &mut [f64]| {
             let mut zs = vec![ZERO; p];
             let mut buf: Vec<C64> = Vec::new();
             for k in 0..=self.kmax {
@@ -1508,19 +1556,7 @@ impl<'a> Problem<'a> {
                         C64::new(v[(2 * k - 1) * p + r], v[2 * k * p + r])
                     };
                 }
-                match (net, blocks.get(k)) {
-                    (Some(net), _) => net.precondition(k, &mut zs, &mut buf),
-                    (None, Some(lu)) => {
-                        for r in 0..p {
-                            z[(r, 0)] = zs[r];
-                        }
-                        lu.solve_in_place(z.as_mut());
-                        for r in 0..p {
-                            zs[r] = z[(r, 0)];
-                        }
-                    }
-                    (None, None) => {}
-                }
+                solve_k(k, &mut zs, &mut buf);
                 for r in 0..p {
                     if k == 0 {
                         out[r] = zs[r].re;
@@ -1528,6 +1564,31 @@ impl<'a> Problem<'a> {
                         out[(2 * k - 1) * p + r] = zs[r].re;
                         out[2 * k * p + r] = zs[r].im;
                     }
+                }
+            }
+        };
+        // each device's coupling between harmonics (module `devices`)
+        let conv = devices::Conversion {
+            pattern: &ev.pattern,
+            g: &ev.g,
+            c: &ev.c,
+            freqs: &self.freqs,
+            band: self.device_band,
+        };
+        let dev = devices::DeviceBlocks::new(&conv, p, self.kmax, solve_k);
+        let scratch = std::cell::RefCell::new((Vec::new(), Vec::new(), Vec::new()));
+        let precond = |v: &[f64], out: &mut [f64]| {
+            p_inv(v, out);
+            if let Some(dev) = &dev {
+                // M⁻¹ v = y − P⁻¹ t, y = P⁻¹ v, t = Σ_g R_gᵀ u_g
+                let mut s = scratch.borrow_mut();
+                let (t, pt, buf) = &mut *s;
+                t.resize(out.len(), 0.0);
+                pt.resize(out.len(), 0.0);
+                dev.correction(out, t, buf);
+                p_inv(t, pt);
+                for (o, d) in out.iter_mut().zip(pt.iter()) {
+                    *o -= d;
                 }
             }
         };
@@ -1552,6 +1613,7 @@ impl<'a> Problem<'a> {
         let mut x = vec![0.0; b.len()];
         precond(&y, &mut x);
         self.krylov_iterations += info.applications;
+        self.krylov_steps += 1;
         // Above the dense limit there is nothing to fall back to: a step that
         // halves the linear residual still descends (the line search guards).
         let take = info.converged || (self.size() > MAX_SYSTEM && info.residual < 0.5);
@@ -1963,6 +2025,7 @@ struct Solved {
     truncation: f64,
     system_size: usize,
     krylov_iterations: usize,
+    krylov_steps: usize,
     /// The GMRES steps held the network sparse.
     sparse_network: bool,
     t_start: f64,
@@ -2092,6 +2155,7 @@ fn solve_k(
         reduced,
         system_size: prob.size(),
         krylov_iterations: prob.krylov_iterations,
+        krylov_steps: prob.krylov_steps,
         sparse_network: prob.holds_sparse(),
         x_full,
         iterations,
@@ -2275,6 +2339,7 @@ struct Totals {
     cuts: usize,
     levels: usize,
     krylov: usize,
+    krylov_steps: usize,
 }
 
 /// Build the [`PeriodicSolution`] from a converged solve.
@@ -2336,6 +2401,7 @@ fn finish(
                 line_search_cuts: totals.cuts,
                 truncation: sol.truncation,
                 krylov_iterations: totals.krylov,
+                krylov_steps: totals.krylov_steps,
                 sparse_network: sol.sparse_network,
             }),
             shooting: None,
