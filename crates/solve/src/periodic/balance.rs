@@ -215,8 +215,10 @@ pub struct BalanceParams {
     /// `Ĝ_m`, `Ĉ_m` with `|m| ≤ device_band`, weighted by
     /// `1 − |m|/(device_band + 1)`, per group of ports the devices join, on
     /// top of the block-diagonal preconditioner (module
-    /// `balance_devices`); 0 leaves the block-diagonal preconditioner
-    /// alone (default [`DEVICE_BAND`], measured: docs/performance.md).
+    /// `balance_devices`), where the network is held sparse (a stage of a
+    /// few ports, dense, gets none: there they cost more than they save);
+    /// 0 leaves the block-diagonal preconditioner alone (default
+    /// [`DEVICE_BAND`], measured: docs/performance.md).
     pub device_band: usize,
     /// A warm start: the state at the start of a period from a solved
     /// neighbouring variant (same unknowns, as [`ShootingParams::initial`]).
@@ -1573,7 +1575,14 @@ impl<'a> Problem<'a> {
             g: &ev.g,
             c: &ev.c,
             freqs: &self.freqs,
-            band: self.device_band,
+            // only with the network held sparse (many ports): on a stage
+            // of a few ports the blocks cost more than the products they
+            // save (docs/performance.md, "The devices' blocks")
+            band: if self.net.is_some() {
+                self.device_band
+            } else {
+                0
+            },
         };
         let dev = devices::DeviceBlocks::new(&conv, p, self.kmax, solve_k);
         let scratch = std::cell::RefCell::new((Vec::new(), Vec::new(), Vec::new()));
