@@ -108,7 +108,7 @@ fn bench(c: &mut Criterion) {
         .x;
     let jd = jac(&dd, &xop, 0.0);
     let mut cases = vec![("20-diode".to_string(), dd.n_unknowns, jd)];
-    for sections in [5usize, 10, 20, 30, 50] {
+    for sections in [1usize, 2, 3, 5, 10, 20, 30, 50] {
         let l = ladder(sections);
         let d = instantiate(&l.c).unwrap();
         let j = jac(&d, &vec![0.0; d.n_unknowns], 2.0 / 1e-10);

@@ -39,12 +39,13 @@ pub enum LinearSolver {
 }
 
 /// Order from which [`LinearSolver::Auto`] picks the sparse LU: since it
-/// refactors in place on its kept ordering it is faster than the dense LU
-/// from 12 unknowns on (`cargo bench -p tankwave-solve --bench solve`), and
-/// whole stages of 13 to 17 unknowns ran a fifth to a third faster on it;
-/// a 7-unknown stage showed no difference (docs/performance.md, "Linear
-/// algebra").
-pub const SPARSE_FROM: usize = 8;
+/// refactors on its kept pivot order it is faster than the
+/// dense LU from 8 unknowns on in `cargo bench -p tankwave-solve --bench
+/// solve` (which also pays a scan of the dense input; dense faster at 4,
+/// about level at 6), and the 7-unknown sharp-pulse stage, which factors
+/// on its assembled pattern without that scan, ran its whole process in
+/// 0.75 of the time on it (docs/performance.md, "Linear algebra").
+pub const SPARSE_FROM: usize = 7;
 
 impl LinearSolver {
     /// The concrete solver for a system of order `n`.
