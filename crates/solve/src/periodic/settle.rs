@@ -2,9 +2,10 @@
 //! discretisation shooting uses, until one period repeats the previous one.
 
 use super::sample::trbdf2_solution;
+use super::shooting::{Guide, GUIDE_WITHIN};
 use super::{PeriodicSolution, SteadyInfo, SteadyParams};
 use crate::newton::unknown_floor;
-use crate::transient::Stepper;
+use crate::transient::{Method, Stepper, GAMMA};
 use crate::SolveError;
 use tankwave_circuit::{Circuit, SteadyMethod};
 use tankwave_devices::DeviceSet;
@@ -35,25 +36,48 @@ pub fn settle(
     let mut history: std::collections::VecDeque<Vec<Vec<f64>>> =
         std::collections::VecDeque::with_capacity(MAX_REPEAT + 1);
     let mut last_change = (f64::INFINITY, 0.0, 0usize, 0.0);
+    // the period before, once within GUIDE_WITHIN units of repeating: the
+    // Newton start of each stage (shooting's Guide; the steps themselves
+    // are the same TR-BDF2 steps)
+    let mut guide: Option<Guide> = None;
+    let err = |e: crate::transient::StepFail| e.into_error(devices, "settle");
     for p in 0..params.settle.max_periods {
         let mut cur = vec![vec![0.0; ns]; n];
         let mut stage = vec![vec![0.0; ns]; n];
+        let g = guide.take().filter(|g| g.fits(n, ns));
         for s in 0..ns {
             for (k, row) in cur.iter_mut().enumerate() {
                 row[s] = st.x[k];
             }
             // Land exactly on the period grid to avoid drift of t.
             let t1 = (p * ns + s + 1) as f64 * h;
-            let xg = st
-                .step_trbdf2(t1)
-                .map_err(|e| e.into_error(devices, "settle"))?;
+            let tg = st.t + GAMMA * (t1 - st.t);
+            let a = st
+                .attempt_from(
+                    tg,
+                    Method::Trapezoidal,
+                    g.as_ref().map(|g| g.guess(s, &st.x, true)),
+                )
+                .map_err(err)?;
+            st.commit(a);
             for (k, row) in stage.iter_mut().enumerate() {
-                row[s] = xg[k];
+                row[s] = st.x[k];
             }
+            let b = st
+                .attempt_from(
+                    t1,
+                    Method::Bdf2,
+                    g.as_ref().map(|g| g.guess(s, &st.x, false)),
+                )
+                .map_err(err)?;
+            st.commit(b);
         }
         if let Some(pv) = history.back() {
             let worst = period_change(devices, params, &cur, pv);
             last_change = (worst.1, worst.3, worst.2, worst.4);
+            if worst.0 <= GUIDE_WITHIN {
+                guide = Some(Guide::from_parts(cur.clone(), stage.clone(), st.x.clone()));
+            }
             if worst.0 <= 1.0 {
                 // the numerical floor: keep going on half the grid until
                 // that repeats too (from here, at the same phase)

@@ -814,7 +814,7 @@ const CHORD_CONTRACTION: f64 = 0.1;
 /// the Newton starts of the next one on its grid ([`Guide`]); farther
 /// from the orbit the next period starts from a point a Newton update
 /// away, and linear extrapolation predicts as well.
-const GUIDE_WITHIN: f64 = 1e4;
+pub(crate) const GUIDE_WITHIN: f64 = 1e4;
 
 /// Restarts of the coarse level from the end of its best period, after a
 /// Newton iterate from which a period could not be integrated. Measured
