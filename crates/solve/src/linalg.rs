@@ -298,14 +298,26 @@ struct SparseState<T: SparseScalar = f64> {
 /// 37(3), 2010, from memory). A pivot smaller than [`REFACTOR_PIVOT`]
 /// times the largest entry of its column of `L` refuses the old order, and
 /// the matrix is factored afresh with partial pivoting.
+/// The orders and patterns are shared ([`FactorShape`]): a copy of the
+/// factors (a shooting period keeps two a step) copies only their values.
 #[derive(Debug, Clone)]
 struct Kept<T> {
+    shape: Arc<FactorShape>,
+    l_val: Vec<T>,
+    u_val: Vec<T>,
+}
+
+/// What a fresh factorisation fixes and its refactorisations keep: the row
+/// order (`(P b)[i] = b[row_fwd[i]]`), the column order (`col_inv`) and the
+/// compressed-column patterns of `L` and `U`.
+#[derive(Debug)]
+struct FactorShape {
+    row_fwd: Vec<usize>,
+    col_inv: Arc<Vec<usize>>,
     l_ptr: Vec<usize>,
     l_idx: Vec<usize>,
-    l_val: Vec<T>,
     u_ptr: Vec<usize>,
     u_idx: Vec<usize>,
-    u_val: Vec<T>,
     /// Positions of each `U` column's off-diagonal entries, by increasing row.
     u_order: Vec<usize>,
 }
@@ -318,8 +330,9 @@ struct Kept<T> {
 const REFACTOR_PIVOT: f64 = 0.1;
 
 impl<T: SparseScalar> Kept<T> {
-    /// A copy of faer's factors.
-    fn of(lu: &SimplicialLu<usize, T>) -> Self {
+    /// A copy of faer's factors with their row order `row_fwd` and column
+    /// order `col_inv`.
+    fn of(lu: &SimplicialLu<usize, T>, row_fwd: &[usize], col_inv: &Arc<Vec<usize>>) -> Self {
         let l = lu.l_factor_unsorted();
         let u = lu.u_factor_unsorted();
         let u_ptr = u.symbolic().col_ptr().to_vec();
@@ -332,13 +345,33 @@ impl<T: SparseScalar> Kept<T> {
             }
         }
         Kept {
-            l_ptr: l.symbolic().col_ptr().to_vec(),
-            l_idx: l.symbolic().row_idx().to_vec(),
+            shape: Arc::new(FactorShape {
+                row_fwd: row_fwd.to_vec(),
+                col_inv: Arc::clone(col_inv),
+                l_ptr: l.symbolic().col_ptr().to_vec(),
+                l_idx: l.symbolic().row_idx().to_vec(),
+                u_ptr,
+                u_idx,
+                u_order,
+            }),
             l_val: l.val().to_vec(),
-            u_ptr,
-            u_idx,
             u_val: u.val().to_vec(),
-            u_order,
+        }
+    }
+
+    /// The factors to solve with.
+    fn view(&self) -> LuView<'_, T> {
+        let k = &*self.shape;
+        LuView {
+            n: k.row_fwd.len(),
+            row_fwd: &k.row_fwd,
+            col_inv: &k.col_inv,
+            l_ptr: &k.l_ptr,
+            l_idx: &k.l_idx,
+            l_val: &self.l_val,
+            u_ptr: &k.u_ptr,
+            u_idx: &k.u_idx,
+            u_val: &self.u_val,
         }
     }
 }
@@ -418,9 +451,11 @@ impl<T: SparseScalar> SparseState<T> {
     /// then no longer valid, and the work column is zeroed again).
     fn refactor(&mut self, vals: &[T]) -> bool {
         let n = self.pattern.order();
-        let Some(k) = self.kept.as_mut() else {
+        let Some(kept) = self.kept.as_mut() else {
             return false;
         };
+        let k = &*kept.shape;
+        let (l_val, u_val) = (&mut kept.l_val, &mut kept.u_val);
         let x = &mut self.work;
         let (cp, ri) = (self.pattern.col_ptr(), self.pattern.row_idx());
         for j in 0..n {
@@ -435,10 +470,10 @@ impl<T: SparseScalar> SparseState<T> {
                 let r = k.u_idx[pos];
                 let xr = x[r];
                 x[r] = T::ZERO;
-                k.u_val[pos] = xr;
+                u_val[pos] = xr;
                 if xr != T::ZERO {
                     for q in k.l_ptr[r] + 1..k.l_ptr[r + 1] {
-                        x[k.l_idx[q]] -= k.l_val[q] * xr;
+                        x[k.l_idx[q]] -= l_val[q] * xr;
                     }
                 }
             }
@@ -455,10 +490,10 @@ impl<T: SparseScalar> SparseState<T> {
                 self.kept = None;
                 return false;
             }
-            k.u_val[ue - 1] = piv;
+            u_val[ue - 1] = piv;
             for q in la + 1..le {
                 let i = k.l_idx[q];
-                k.l_val[q] = x[i] / piv;
+                l_val[q] = x[i] / piv;
                 x[i] = T::ZERO;
             }
         }
@@ -476,7 +511,10 @@ impl<T: SparseScalar> SparseState<T> {
         let limit = 1e15 * (n as f64) / (amax * PIVOT_FLOOR.sqrt());
         let blows_up = |s: &Self| {
             let mut probe = vec![T::ONE; n];
-            s.view().solve_columns(&mut probe);
+            match &s.kept {
+                Some(k) => k.view().solve_columns(&mut probe),
+                None => return Some(0),
+            }
             (0..n).find(|&k| !(probe[k].modulus() <= limit))
         };
         // on the kept orders first; a probe that blows up there is tried
@@ -524,36 +562,13 @@ impl<T: SparseScalar> SparseState<T> {
             }
             Err(_) => return Err(0),
         }
-        self.kept = Some(Kept::of(&self.lu));
+        self.kept = Some(Kept::of(&self.lu, &self.row_fwd, &self.col_inv));
         Ok(())
     }
 
-    /// The factors of the last matrix (empty before the first).
-    fn view(&self) -> LuView<'_, T> {
-        match &self.kept {
-            Some(k) => LuView {
-                n: self.pattern.order(),
-                row_fwd: &self.row_fwd,
-                col_inv: &self.col_inv,
-                l_ptr: &k.l_ptr,
-                l_idx: &k.l_idx,
-                l_val: &k.l_val,
-                u_ptr: &k.u_ptr,
-                u_idx: &k.u_idx,
-                u_val: &k.u_val,
-            },
-            None => LuView {
-                n: 0,
-                row_fwd: &[],
-                col_inv: &[],
-                l_ptr: &[],
-                l_idx: &[],
-                l_val: &[],
-                u_ptr: &[],
-                u_idx: &[],
-                u_val: &[],
-            },
-        }
+    /// The factors of the last matrix, once factored.
+    fn view(&self) -> Option<LuView<'_, T>> {
+        self.kept.as_ref().filter(|_| self.factored).map(Kept::view)
     }
 }
 
@@ -732,8 +747,8 @@ impl RealLu {
                 }
             }
             _ => {
-                if let Some(s) = self.sparse.as_ref().filter(|s| s.factored) {
-                    s.view().solve_columns(&mut b[..n]);
+                if let Some(v) = self.sparse.as_ref().and_then(SparseState::view) {
+                    v.solve_columns(&mut b[..n]);
                 }
             }
         }
@@ -755,8 +770,8 @@ impl RealLu {
                 }
             }
             _ => {
-                if let Some(s) = self.sparse.as_ref().filter(|s| s.factored) {
-                    s.view().solve_columns(b);
+                if let Some(v) = self.sparse.as_ref().and_then(SparseState::view) {
+                    v.solve_columns(b);
                 }
             }
         }
@@ -774,8 +789,8 @@ impl RealLu {
                 None => {}
             },
             _ => {
-                if let Some(s) = self.sparse.as_ref().filter(|s| s.factored) {
-                    solve_mat_with(rhs, |b| s.view().solve_columns(b));
+                if let Some(v) = self.sparse.as_ref().and_then(SparseState::view) {
+                    solve_mat_with(rhs, |b| v.solve_columns(b));
                 }
             }
         }
@@ -801,49 +816,13 @@ fn solve_mat_with(mut rhs: MatMut<'_, f64>, solve: impl Fn(&mut [f64])) {
 }
 
 /// Sparse LU factors kept after the solver has moved on: a copy of the
-/// compressed factors and the row order, the column order shared.
+/// factors' values, their orders and patterns shared ([`Kept`]).
 #[derive(Debug, Clone)]
-pub(crate) struct SparseFactors {
-    n: usize,
-    row_fwd: Vec<usize>,
-    col_inv: Arc<Vec<usize>>,
-    l_ptr: Vec<usize>,
-    l_idx: Vec<usize>,
-    l_val: Vec<f64>,
-    u_ptr: Vec<usize>,
-    u_idx: Vec<usize>,
-    u_val: Vec<f64>,
-}
+pub(crate) struct SparseFactors(Kept<f64>);
 
 impl SparseFactors {
-    fn of(s: &SparseState) -> Self {
-        let v = s.view();
-        Self {
-            n: v.n,
-            row_fwd: v.row_fwd.to_vec(),
-            col_inv: Arc::clone(&s.col_inv),
-            l_ptr: v.l_ptr.to_vec(),
-            l_idx: v.l_idx.to_vec(),
-            l_val: v.l_val.to_vec(),
-            u_ptr: v.u_ptr.to_vec(),
-            u_idx: v.u_idx.to_vec(),
-            u_val: v.u_val.to_vec(),
-        }
-    }
-
     fn solve_columns(&self, b: &mut [f64]) {
-        LuView {
-            n: self.n,
-            row_fwd: &self.row_fwd,
-            col_inv: &self.col_inv,
-            l_ptr: &self.l_ptr,
-            l_idx: &self.l_idx,
-            l_val: &self.l_val,
-            u_ptr: &self.u_ptr,
-            u_idx: &self.u_idx,
-            u_val: &self.u_val,
-        }
-        .solve_columns(b)
+        self.0.view().solve_columns(b)
     }
 }
 
@@ -888,7 +867,8 @@ impl RealLu {
                 .sparse
                 .as_ref()
                 .filter(|s| s.factored)
-                .map(|s| Factors::Sparse(SparseFactors::of(s))),
+                .and_then(|s| s.kept.clone())
+                .map(|k| Factors::Sparse(SparseFactors(k))),
         }
     }
 }
@@ -926,19 +906,13 @@ impl ComplexSparseLu {
 
     /// Stored entries of the factors (one complex multiply-add each per solve).
     pub(crate) fn factor_len(&self) -> usize {
-        if !self.0.factored {
-            return 0;
-        }
-        self.0
-            .kept
-            .as_ref()
-            .map_or(0, |k| k.l_val.len() + k.u_val.len())
+        self.0.view().map_or(0, |v| v.l_val.len() + v.u_val.len())
     }
 
     /// Solve `A x = b` in place with the last factors (nothing before them).
     pub(crate) fn solve(&self, b: &mut [faer::c64]) {
-        if self.0.factored && b.len() == self.0.pattern.order() {
-            self.0.view().solve_columns(b);
+        if let Some(v) = self.0.view().filter(|v| v.n == b.len()) {
+            v.solve_columns(b);
         }
     }
 }
