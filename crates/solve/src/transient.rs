@@ -650,13 +650,6 @@ impl<'a> Stepper<'a> {
         self.t = a.t;
     }
 
-    /// Attempt and accept one step to `t1`.
-    pub fn step_to(&mut self, t1: f64, m: Method) -> Result<(), StepFail> {
-        let a = self.attempt(t1, m)?;
-        self.commit(a);
-        Ok(())
-    }
-
     /// One TR-BDF2 step to `t1` (R. E. Bank, W. M. Coughran, W. Fichtner,
     /// E. H. Grosse, D. J. Rose, R. K. Smith, "Transient simulation of silicon
     /// devices and circuits", IEEE Trans. CAD 4(4), 1985): a trapezoidal stage
@@ -666,10 +659,24 @@ impl<'a> Stepper<'a> {
     /// of the discrete equations is unique.
     /// Returns the unknowns at the intermediate point `t + γh`.
     pub fn step_trbdf2(&mut self, t1: f64) -> Result<Vec<f64>, StepFail> {
+        self.step_trbdf2_from(t1, |_, _| None)
+    }
+
+    /// [`Stepper::step_trbdf2`] with each stage's Newton started from
+    /// `guess(x, at_stage)` where it gives a point (`x` the state the stage
+    /// starts from, `at_stage` true for the intermediate point) instead of
+    /// the linear extrapolation ([`Stepper::attempt_from`]).
+    pub(crate) fn step_trbdf2_from(
+        &mut self,
+        t1: f64,
+        guess: impl Fn(&[f64], bool) -> Option<Vec<f64>>,
+    ) -> Result<Vec<f64>, StepFail> {
         let tg = self.t + GAMMA * (t1 - self.t);
-        self.step_to(tg, Method::Trapezoidal)?;
+        let a = self.attempt_from(tg, Method::Trapezoidal, guess(&self.x, true))?;
+        self.commit(a);
         let xg = self.x.clone();
-        self.step_to(t1, Method::Bdf2)?;
+        let b = self.attempt_from(t1, Method::Bdf2, guess(&self.x, false))?;
+        self.commit(b);
         Ok(xg)
     }
 

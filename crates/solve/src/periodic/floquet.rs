@@ -242,8 +242,9 @@ pub(crate) fn verify_with(
         .collect();
     let dense_small = params.shooting.mode.resolve(n) == ShootingMode::Dense
         || !super::shooting::record_fits(n, ns);
-    let mut guide = last.as_ref().map(|l| l.guide.clone());
+    let mut guide = None;
     let reuse = last.and_then(|l| {
+        guide = Some(l.guide);
         let mono = match (l.monodromy, l.lin) {
             (Some(phi), _) => Monodromy::Dense(phi),
             (None, Some(lin)) if dense_small => Monodromy::Dense(lin.monodromy()),

@@ -5,7 +5,7 @@ use super::sample::trbdf2_solution;
 use super::shooting::{Guide, GUIDE_WITHIN};
 use super::{PeriodicSolution, SteadyInfo, SteadyParams};
 use crate::newton::unknown_floor;
-use crate::transient::{Method, Stepper, GAMMA};
+use crate::transient::Stepper;
 use crate::SolveError;
 use tankwave_circuit::{Circuit, SteadyMethod};
 use tankwave_devices::DeviceSet;
@@ -51,26 +51,14 @@ pub fn settle(
             }
             // Land exactly on the period grid to avoid drift of t.
             let t1 = (p * ns + s + 1) as f64 * h;
-            let tg = st.t + GAMMA * (t1 - st.t);
-            let a = st
-                .attempt_from(
-                    tg,
-                    Method::Trapezoidal,
-                    g.as_ref().map(|g| g.guess(s, &st.x, true)),
-                )
+            let xg = st
+                .step_trbdf2_from(t1, |x, at_stage| {
+                    g.as_ref().map(|g| g.guess(s, x, at_stage))
+                })
                 .map_err(err)?;
-            st.commit(a);
             for (k, row) in stage.iter_mut().enumerate() {
-                row[s] = st.x[k];
+                row[s] = xg[k];
             }
-            let b = st
-                .attempt_from(
-                    t1,
-                    Method::Bdf2,
-                    g.as_ref().map(|g| g.guess(s, &st.x, false)),
-                )
-                .map_err(err)?;
-            st.commit(b);
         }
         if let Some(pv) = history.back() {
             let worst = period_change(devices, params, &cur, pv);

@@ -342,7 +342,6 @@ pub(crate) fn plain_period(
     let err = |e: crate::transient::StepFail| e.into_error(devices, what);
     st.init_at(x0, t0);
     let guide = guide.filter(|g| g.fits(n, ns));
-    let guess = |s: usize, x: &[f64], at_stage: bool| guide.map(|g| g.guess(s, x, at_stage));
     let mut samples = vec![vec![0.0; ns]; n];
     let mut stage = vec![vec![0.0; ns]; n];
     for s in 0..ns {
@@ -350,18 +349,12 @@ pub(crate) fn plain_period(
             row[s] = st.x[k];
         }
         let t1 = t0 + (s + 1) as f64 * h;
-        let tg = st.t + GAMMA * (t1 - st.t);
-        let a = st
-            .attempt_from(tg, Method::Trapezoidal, guess(s, &st.x, true))
+        let xg = st
+            .step_trbdf2_from(t1, |x, at_stage| guide.map(|g| g.guess(s, x, at_stage)))
             .map_err(err)?;
-        st.commit(a);
         for (k, row) in stage.iter_mut().enumerate() {
-            row[s] = st.x[k];
+            row[s] = xg[k];
         }
-        let b = st
-            .attempt_from(t1, Method::Bdf2, guess(s, &st.x, false))
-            .map_err(err)?;
-        st.commit(b);
     }
     Ok(PeriodRun {
         samples,
